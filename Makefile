@@ -1,0 +1,129 @@
+# SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
+# bandgap: the one build entry.  make | make test | make demo | make bench | make sanitize
+# | make install | make clean.  See DEVELOPERS.md.
+
+# ---- settings -------------------------------------------------------------------------------
+VERSION  = 0.1.0
+CC      ?= cc
+PYTHON   = /usr/bin/python3
+BUILD   ?= build
+PREFIX  ?= /usr/local
+prefix  ?= $(PREFIX)
+WARN     = -Wall -Wextra -Werror -Wshadow -Wconversion -Wstrict-prototypes \
+           -Wmissing-prototypes -Werror=implicit-function-declaration
+STD      = -std=c11 -D_POSIX_C_SOURCE=200809L
+OPT     ?= -O2 -g
+SANFLAGS = -fsanitize=address,undefined,float-cast-overflow -fno-sanitize-recover=all \
+           -fno-omit-frame-pointer
+ifeq ($(SAN),1)
+OPT      = -O1 -g $(SANFLAGS)
+endif
+# Expanded when a recipe runs, i.e. after 'deps' has installed what was missing.
+PKG_CFLAGS = $(shell pkg-config --cflags gsl sqlite3 2>/dev/null)
+PKG_LIBS   = $(shell pkg-config --libs gsl sqlite3 2>/dev/null) -lm
+CMOCKA     = $(shell pkg-config --cflags --libs cmocka 2>/dev/null)
+CFLAGS_ALL = $(STD) $(WARN) $(OPT) -fvisibility=hidden -Iinclude -DBG_VERSION='"$(VERSION)"' \
+             $(PKG_CFLAGS)
+DEBIAN_PKGS = libgsl-dev libsqlite3-dev libcmocka-dev pkg-config python3-numpy python3-scipy \
+              mandoc
+
+LIB_SRC = $(wildcard src/lib/*.c)
+CLI_SRC = $(wildcard src/cli/*.c)
+LIB_OBJ = $(LIB_SRC:src/lib/%.c=$(BUILD)/obj/lib/%.o)
+CLI_OBJ = $(CLI_SRC:src/cli/%.c=$(BUILD)/obj/cli/%.o) $(BUILD)/obj/cli/demo_data.o
+TESTS   = $(patsubst tests/%.c,$(BUILD)/tests/%,$(wildcard tests/test_*.c))
+HEADERS = $(wildcard include/bandgap/*.h)
+DEMO_CSV = $(sort $(wildcard db/demo/*.csv))
+
+.PHONY: all deps test check sanitize demo bench install uninstall clean headers fmt
+
+all: deps $(BUILD)/libbandgap.a $(BUILD)/bandgap
+
+# ---- dependencies: install the Debian packages that are missing, or say how -----------------
+deps:
+	@missing=""; \
+	for p in gsl sqlite3 cmocka; do pkg-config --exists $$p 2>/dev/null || missing=yes; done; \
+	$(PYTHON) -c 'import numpy, scipy' 2>/dev/null || missing=yes; \
+	command -v mandoc >/dev/null 2>&1 || missing=yes; \
+	if [ -n "$$missing" ]; then \
+	  if [ "$$(id -u)" = 0 ]; then SUDO=""; \
+	  elif command -v sudo >/dev/null 2>&1 && sudo -n true 2>/dev/null; then SUDO="sudo"; \
+	  else echo "bandgap: missing build or test packages; run:" >&2; \
+	       echo "  sudo apt-get update && sudo apt-get install -y $(DEBIAN_PKGS)" >&2; exit 1; fi; \
+	  echo "installing: $(DEBIAN_PKGS)"; \
+	  $$SUDO apt-get update -qq && \
+	  DEBIAN_FRONTEND=noninteractive $$SUDO apt-get install -y -qq $(DEBIAN_PKGS) >/dev/null; \
+	fi
+
+# ---- library and program --------------------------------------------------------------------
+$(BUILD)/obj/lib/%.o: src/lib/%.c $(HEADERS) $(wildcard src/lib/*_int.h) | deps
+	@mkdir -p $(@D)
+	$(CC) $(CFLAGS_ALL) -c $< -o $@
+
+$(BUILD)/obj/cli/%.o: src/cli/%.c $(HEADERS) src/cli/cli.h | deps
+	@mkdir -p $(@D)
+	$(CC) $(CFLAGS_ALL) -c $< -o $@
+
+# The invented demo data, embedded in the program as C strings.
+$(BUILD)/demo_data.c: $(DEMO_CSV) tests/embed.awk
+	@mkdir -p $(@D)
+	awk -f tests/embed.awk $(DEMO_CSV) > $@
+
+$(BUILD)/obj/cli/demo_data.o: $(BUILD)/demo_data.c | deps
+	@mkdir -p $(@D)
+	$(CC) $(CFLAGS_ALL) -Isrc/cli -c $< -o $@
+
+$(BUILD)/libbandgap.a: $(LIB_OBJ)
+	rm -f $@
+	ar rcs $@ $^
+
+$(BUILD)/bandgap: $(CLI_OBJ) $(BUILD)/libbandgap.a
+	$(CC) $(OPT) -o $@ $(CLI_OBJ) $(BUILD)/libbandgap.a $(PKG_LIBS)
+
+# ---- tests ----------------------------------------------------------------------------------
+$(BUILD)/tests/%: tests/%.c tests/testutil.h $(BUILD)/libbandgap.a
+	@mkdir -p $(@D)
+	$(CC) $(CFLAGS_ALL) -Wno-conversion -Itests -DREF_DIR='"tests/ref"' $< -o $@ \
+	    $(BUILD)/libbandgap.a $(CMOCKA) $(PKG_LIBS)
+
+# Each public header compiles on its own.
+headers: | deps
+	@mkdir -p $(BUILD)/hdr
+	@for h in $(HEADERS); do \
+	  echo "#include \"bandgap/$$(basename $$h)\"" > $(BUILD)/hdr/one.c; \
+	  $(CC) $(STD) $(WARN) -Iinclude -c $(BUILD)/hdr/one.c -o $(BUILD)/hdr/one.o || exit 1; \
+	done
+
+check: all headers $(TESTS)
+	@BUILD=$(BUILD) PYTHON=$(PYTHON) sh tests/run.sh
+
+sanitize: deps
+	@$(MAKE) --no-print-directory BUILD=build-san SAN=1 check
+
+test: deps
+	@$(MAKE) --no-print-directory check
+	@$(MAKE) --no-print-directory sanitize
+
+# ---- demo and benchmarks --------------------------------------------------------------------
+demo: all
+	$(BUILD)/bandgap demo --dir demo-out
+
+bench: all
+	@sh tests/bench/run.sh $(BUILD) $(PYTHON) $(CC) "$(CFLAGS_ALL)" "$(PKG_LIBS)"
+
+# ---- install --------------------------------------------------------------------------------
+install: all
+	install -d $(DESTDIR)$(prefix)/bin $(DESTDIR)$(prefix)/lib $(DESTDIR)$(prefix)/include/bandgap
+	install -m 755 $(BUILD)/bandgap $(DESTDIR)$(prefix)/bin/bandgap
+	install -m 644 $(BUILD)/libbandgap.a $(DESTDIR)$(prefix)/lib/libbandgap.a
+	install -m 644 $(HEADERS) $(DESTDIR)$(prefix)/include/bandgap/
+
+uninstall:
+	rm -f $(DESTDIR)$(prefix)/bin/bandgap $(DESTDIR)$(prefix)/lib/libbandgap.a
+	rm -rf $(DESTDIR)$(prefix)/include/bandgap
+
+fmt:
+	clang-format -i $(LIB_SRC) $(CLI_SRC) $(HEADERS) src/lib/*_int.h src/cli/cli.h
+
+clean:
+	rm -rf build build-san demo-out

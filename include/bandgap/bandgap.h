@@ -1,0 +1,19 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* libbandgap: calibration of NTC thermistors.  Include this one header for the whole API.
+**
+** GSL's default error handler aborts the process.  The library checks every GSL status itself
+** and never changes the handler behind your back: a program using libbandgap should call
+** gsl_set_error_handler_off() once at start-up (the bandgap program and the tests do). */
+#ifndef BANDGAP_BANDGAP_H
+#define BANDGAP_BANDGAP_H
+
+#include "bandgap/error.h"
+#include "bandgap/units.h"
+#include "bandgap/model.h"
+#include "bandgap/fit.h"
+#include "bandgap/csv.h"
+
+/* The library's version, "MAJOR.MINOR.PATCH". */
+BG_API const char *bg_version(void);
+
+#endif

@@ -1,0 +1,151 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Calibration fits: weighted linear least squares in 1/T, nonlinear refinement in T, full
+** covariance, residuals, curve uncertainty and model comparison. */
+#ifndef BANDGAP_FIT_H
+#define BANDGAP_FIT_H
+
+#include <stddef.h>
+
+#include "bandgap/error.h"
+#include "bandgap/model.h"
+
+/* One calibration point.  'u_t_k' and 'u_r_ohm' are standard uncertainties (0 = not given);
+** 'line' is the reading's line in its file (0 = unknown), used in messages. */
+typedef struct bg_point {
+    double t_k, r_ohm, u_t_k, u_r_ohm;
+    size_t line;
+} bg_point;
+
+/* ---- The linear least-squares core ------------------------------------------------------ */
+
+#define BG_LIN_MAXP 12
+
+typedef struct bg_linfit {
+    size_t n, p, rank;
+    double c[BG_LIN_MAXP];                  /* coefficients */
+    double cov[BG_LIN_MAXP * BG_LIN_MAXP];  /* (X^T W X)^-1, row-major, NOT scaled by chi2/dof */
+    double chisq;                           /* sum w_i (y_i - x_i c)^2 */
+    double rcond;                           /* estimate of 1/cond of the column-scaled design */
+} bg_linfit;
+
+/* Minimise sum w_i (y_i - sum_j X_ij c_j)^2 over 'c' for the n x p row-major design 'X'
+** (p <= BG_LIN_MAXP, n >= p), weights 'w' (NULL = all 1; each > 0).  Householder QR with column
+** equilibration and column pivoting.  A design whose estimated reciprocal condition number is
+** below 'min_rcond' (rank-deficient or ill-conditioned) is refused with BG_ENUM; pass 0 to
+** accept any full-rank design.  Returns BG_OK, BG_EINVAL, BG_ENUM or BG_ENOMEM. */
+BG_API int bg_linfit_solve(const double *X, const double *y, const double *w, size_t n, size_t p,
+                           double min_rcond, bg_linfit *out, bg_error *err);
+
+/* ---- Calibration fits -------------------------------------------------------------------- */
+
+typedef struct bg_fit_opts {
+    bg_model model;        /* kind, degree and (beta) T0 of the model; coefficients ignored */
+    int refine;            /* 1 (default): minimise temperature residuals; 0: linear in 1/T only */
+    int inflate;           /* 1 (default): with stated uncertainties, scale the covariance by
+                           ** max(1, chi2/dof) (Birge ratio squared) */
+    double min_rcond;      /* refuse designs worse than this (default 1e-13) */
+    double student_limit;  /* warn above this |studentized residual| (default 3) */
+    double mono_gap_k;     /* NTC check: two readings further apart than this must have R
+                           ** falling with T (default 0.05 K) */
+    unsigned max_iter;     /* refinement iterations (default 50) */
+    double xtol;           /* refinement stops at a relative step below this (default 1e-12) */
+    double coverage;       /* coverage probability for the Student-t factor (default 0.9545) */
+    const char *source;    /* file name used in messages (not kept); NULL = "point" */
+} bg_fit_opts;
+
+/* The defaults above for 'model' (sh3 when NULL). */
+BG_API bg_fit_opts bg_fit_default_opts(const bg_model *model);
+
+typedef enum bg_note_kind {
+    BG_NOTE_OUTLIER = 1, BG_NOTE_NODOF, BG_NOTE_CHI2, BG_NOTE_MONOTONIC, BG_NOTE_EXTRAPOLATION
+} bg_note_kind;
+
+typedef struct bg_note {
+    bg_note_kind kind;
+    size_t line;       /* the reading concerned, 0 for the whole fit */
+    char msg[240];     /* a complete message, starting with "FILE:LINE: " where known */
+} bg_note;
+
+typedef struct bg_fit {
+    bg_model model;                 /* fitted model */
+    size_t n, npar, dof;
+    int weighted;                   /* 1 when the points carried uncertainties */
+    double cov[BG_MODEL_MAXPAR * BG_MODEL_MAXPAR]; /* of model->coef, row-major; NaN if dof = 0 */
+    double pcov[BG_MODEL_MAXPAR * BG_MODEL_MAXPAR]; /* of bg_model_inv_poly's a[0..5] */
+    double chi2;                    /* weighted sum of squared temperature residuals */
+    double reduced_chi2;            /* chi2 / dof (NaN when dof = 0) */
+    double p_value;                 /* P(chi2' > chi2) for dof when weighted, else NaN */
+    double cov_scale;               /* factor applied to (J^T W J)^-1 */
+    double rms_mk, max_abs_mk;      /* of the residuals, over n */
+    double aic, bic;                /* see docs/methods.md */
+    double rcond;                   /* of the final design */
+    double t_min_k, t_max_k;        /* calibrated range */
+    unsigned iterations;
+    double *resid_mk;               /* n: measured minus fitted temperature, mK (input order) */
+    double *student;                /* n: internally studentized residuals (NaN if undefined) */
+    double *u_k;                    /* n: standard uncertainty used as the weight, K */
+    size_t *line;                   /* n: the points' lines */
+    bg_note *notes;                 /* warnings, 'nnotes' of them */
+    size_t nnotes, cap, notecap;
+} bg_fit;
+
+#define BG_FIT_INIT { 0 }
+BG_API void bg_fit_init(bg_fit *f);
+BG_API void bg_fit_release(bg_fit *f);
+
+/* A reusable fitter: workspaces kept between fits (one fitter for every probe of a lot). */
+typedef struct bg_fitter bg_fitter;
+BG_API bg_fitter *bg_fitter_new(void);
+BG_API void bg_fitter_free(bg_fitter *fitter);
+
+/* Fit 'o->model' to 'n' points.  Guard rails: BG_EINVAL for fewer points than coefficients,
+** a non-finite or non-positive value, a duplicate point, two points with one resistance, or
+** resistance rising with temperature; BG_ENUM for an ill-conditioned design.  Warnings
+** (outliers, no degrees of freedom, chi2, non-monotonic curve) go to 'out->notes'.  'out' is
+** initialised or reused; release it with bg_fit_release().  Keeps no pointer to 'pts'. */
+BG_API int bg_fitter_run(bg_fitter *fitter, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                         bg_fit *out, bg_error *err);
+
+/* The same with a fitter made and freed inside. */
+BG_API int bg_fit_points(const bg_point *pts, size_t n, const bg_fit_opts *o, bg_fit *out,
+                         bg_error *err);
+
+/* Standard uncertainty u(T) in K of the fitted curve at 't_k', from the full covariance:
+** u^2(T) = T^4 g^T V g, g = (L^i).  NaN when dof = 0.  '*extrapolated' (may be NULL) is set
+** to 1 when 't_k' lies outside the calibrated range. */
+BG_API int bg_fit_u_t(const bg_fit *fit, double t_k, double *u_k, int *extrapolated,
+                      bg_error *err);
+
+/* Coverage factor from Student's t for the fit's degrees of freedom and 'coverage' (e.g.
+** 0.9545 gives 4.53 for 2 dof, about 2 for many).  NaN when dof = 0. */
+BG_API double bg_fit_coverage_k(const bg_fit *fit, double coverage);
+
+/* ---- Model comparison ----------------------------------------------------------------------- */
+
+#define BG_CMP_MAX 6
+
+typedef struct bg_cmp_row {
+    bg_model model;
+    int ok;                 /* 0: not fitted (too few points or failed), see 'why' */
+    size_t npar;
+    double rms_mk, max_abs_mk, chi2, aic, bic;
+    double loo_rms_mk;      /* leave-one-out RMS: each point predicted by a fit without it */
+    char why[160];
+} bg_cmp_row;
+
+typedef struct bg_cmp {
+    bg_cmp_row row[BG_CMP_MAX];
+    size_t nrows;
+    int chosen;             /* index into row, -1 if none */
+    char reason[240];
+} bg_cmp;
+
+/* Fit the candidates beta, sh3, poly:2, sh4, poly:4, poly:5 with the options 'o' (its model is
+** ignored) and choose one: among the models whose BIC is within 2 of the lowest, the one with
+** fewest coefficients (Kass & Raftery 1995).  A model needs at least npar + 2 points to be
+** compared (one degree of freedom after leaving a point out).  BG_EINVAL when no candidate can
+** be fitted. */
+BG_API int bg_fit_compare(bg_fitter *fitter, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                          bg_cmp *out, bg_error *err);
+
+#endif

@@ -1,0 +1,76 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Resistance-temperature models of NTC thermistors, evaluated both ways.  L = ln(R / 1 ohm),
+** T in kelvin.  Every model is, or reduces to, 1/T = sum a_i L^i (i = 0..5), which is how
+** they are evaluated; the coefficients keep the published names and order. */
+#ifndef BANDGAP_MODEL_H
+#define BANDGAP_MODEL_H
+
+#include <stddef.h>
+
+#include "bandgap/error.h"
+
+#define BG_MODEL_MAXPAR 6
+#define BG_T0_DEFAULT_K 298.15 /* 25 degC, the usual reference of R25 and B25/xx */
+
+typedef enum bg_model_kind {
+    BG_MODEL_SH3 = 0, /* 1/T = A + B L + C L^3                  coef: A, B, C      */
+    BG_MODEL_SH4,     /* 1/T = A + B L + C L^2 + D L^3          coef: A, B, C, D   */
+    BG_MODEL_BETA,    /* R = R0 exp(beta (1/T - 1/T0))          coef: R0, beta     */
+    BG_MODEL_POLY     /* 1/T = sum a_i L^i, i = 0..N, N = 1..5  coef: a0 .. aN     */
+} bg_model_kind;
+
+typedef struct bg_model {
+    bg_model_kind kind;
+    unsigned degree;               /* poly:N: N; 0 for the others */
+    double coef[BG_MODEL_MAXPAR];  /* in the order above; R0 in ohm, beta in K */
+    double t0_k;                   /* beta: temperature at which R = R0 */
+    double pair_t1_k, pair_t2_k;   /* beta: the pair that names B (B25/85: 298.15, 358.15); 0 = none */
+} bg_model;
+
+/* Set '*m' to the model named 'name' ("sh3", "sh4", "beta", "poly:N") with zero coefficients,
+** T0 = 298.15 K and no B-pair.  BG_EINVAL for an unknown name. */
+BG_API int bg_model_parse(const char *name, bg_model *m, bg_error *err);
+
+/* Number of coefficients of 'm' (3, 4, 2 or N + 1). */
+BG_API size_t bg_model_npar(const bg_model *m);
+
+/* The model's name ("sh3", "poly:4") into 'buf'; returns 'buf'. */
+BG_API char *bg_model_name(const bg_model *m, char *buf, size_t size);
+
+/* The name of coefficient 'i' ("A", "R0", "beta", "a2"); "?" when out of range. */
+BG_API const char *bg_model_coef_name(const bg_model *m, size_t i);
+
+/* Copy 'n' coefficients into 'm' after checking that 'n' matches the model, every value is
+** finite, and for beta that R0 > 0 and beta > 0.  BG_EINVAL otherwise. */
+BG_API int bg_model_set_coef(bg_model *m, const double *coef, size_t n, bg_error *err);
+
+/* The coefficients a[0..5] of 1/T = sum a_i L^i equivalent to 'm' (unused ones are 0).
+** For beta: a0 = 1/T0 - ln(R0)/beta, a1 = 1/beta. */
+BG_API void bg_model_inv_poly(const bg_model *m, double a[BG_MODEL_MAXPAR]);
+
+/* Temperature (K) at resistance 'r_ohm' > 0.  BG_EINVAL when the model gives 1/T <= 0 there
+** (outside any physical range). */
+BG_API int bg_model_t_from_r(const bg_model *m, double r_ohm, double *t_k, bg_error *err);
+
+/* Resistance (ohm) at temperature 't_k' > 0: closed form for sh3 (C >= 0) and beta, safeguarded
+** Newton on L otherwise, converged to 1e-12 relative in R.  BG_EINVAL when no resistance in
+** 1e-9 .. 1e26 ohm gives that temperature, BG_ENUM if the iteration fails. */
+BG_API int bg_model_r_from_t(const bg_model *m, double t_k, double *r_ohm, bg_error *err);
+
+/* Slope dT/dR in K/ohm at resistance 'r_ohm'. */
+BG_API int bg_model_dtdr(const bg_model *m, double r_ohm, double *dtdr_k_per_ohm, bg_error *err);
+
+/* Temperature coefficient alpha = (1/R) dR/dT in 1/K at 't_k' (negative for an NTC). */
+BG_API int bg_model_alpha(const bg_model *m, double t_k, double *alpha_per_k, bg_error *err);
+
+/* Local beta = -T^2 alpha = 1 / (d(1/T)/dL) in K at 't_k'. */
+BG_API int bg_model_beta_local(const bg_model *m, double t_k, double *beta_k, bg_error *err);
+
+/* Two-point B value B_{T1/T2} = ln(R1/R2) / (1/T1 - 1/T2) in K.  BG_EINVAL if T1 == T2. */
+BG_API int bg_model_b_pair(const bg_model *m, double t1_k, double t2_k, double *b_k,
+                           bg_error *err);
+
+/* Parse a B-pair "25/85" (degC) or "298.15K/358.15K" into kelvin. */
+BG_API int bg_model_parse_pair(const char *s, double *t1_k, double *t2_k, bg_error *err);
+
+#endif

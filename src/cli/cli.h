@@ -1,0 +1,79 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* The bandgap program's shared declarations: commands, context, output helpers. */
+#ifndef BANDGAP_CLI_H
+#define BANDGAP_CLI_H
+
+#include <stdio.h>
+
+#include "bandgap/bandgap.h"
+
+/* Results of a command beyond bg_status; main() maps all of them to exit statuses. */
+enum { CLI_EUSAGE = 100, CLI_ECANTCREAT = 101 };
+
+struct cli_ctx {
+    const char *db_path; /* --db, BANDGAP_DB or "bandgap.db" */
+    int json;            /* --json */
+};
+
+typedef int (*cmd_fn)(int argc, char **argv, struct cli_ctx *ctx);
+
+/* Print "bandgap: MESSAGE" to stderr. */
+void cli_error(const char *fmt, ...) BG_PRINTF(1, 2);
+/* Print "bandgap: warning: MESSAGE" to stderr. */
+void cli_warn(const char *fmt, ...) BG_PRINTF(1, 2);
+/* Print a usage error and the hint "Try 'bandgap CMD --help'"; returns CLI_EUSAGE. */
+int cli_usage_error(const char *cmd, const char *fmt, ...) BG_PRINTF(2, 3);
+/* Report 'err' as "bandgap: WHAT: MESSAGE" and return its code. */
+int cli_fail(const char *what, const bg_error *err);
+
+/* A list of numbers "1.4e-3,2.37e-4" into 'v' (at most 'max'); BG_EINVAL on bad text. */
+int cli_parse_list(const char *s, double *v, size_t max, size_t *n, bg_error *err);
+
+/* ---- JSON output: numbers round-trip (%.17g); NaN and infinities become null ---- */
+typedef struct json_out {
+    FILE *f;
+    int depth;
+    int need_comma[32];
+} json_out;
+
+void json_begin(json_out *j, FILE *f);
+void json_end(json_out *j); /* newline after the top-level value */
+void json_obj(json_out *j, const char *key); /* key may be NULL inside arrays / at top */
+void json_obj_end(json_out *j);
+void json_arr(json_out *j, const char *key);
+void json_arr_end(json_out *j);
+void json_num(json_out *j, const char *key, double v);
+void json_int(json_out *j, const char *key, long long v);
+void json_str(json_out *j, const char *key, const char *s);
+void json_bool(json_out *j, const char *key, int v);
+void json_null(json_out *j, const char *key);
+void json_nums(json_out *j, const char *key, const double *v, size_t n);
+
+/* ---- the fit report, shared by 'fit' and 'demo' ---- */
+struct fit_request {
+    const char *model;        /* "sh3" ... or "auto" */
+    double t0_k;              /* beta reference temperature */
+    double pair_t1_k, pair_t2_k;
+    double u_temp_k;          /* given to readings without u_temp_k; 0 = none */
+    int linear_only;
+    int no_inflate;
+    bg_temp_unit unit;
+    double at_k[32];
+    size_t nat;
+};
+void fit_request_init(struct fit_request *rq);
+int fit_report_file(const char *path, const struct fit_request *rq, struct cli_ctx *ctx);
+
+/* ---- commands (one file each) ---- */
+int cmd_eval(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_fit(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_demo(int argc, char **argv, struct cli_ctx *ctx);
+
+/* The invented demo data, embedded at build time from db/demo/. */
+struct demo_file {
+    const char *name;
+    const char *text;
+};
+extern const struct demo_file demo_files[];
+
+#endif

@@ -1,0 +1,426 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* bandgap fit: fit a model to a readings CSV file and print the calibration report. */
+#include <getopt.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+
+static const char fit_usage[] =
+    "Usage: bandgap fit FILE [--model MODEL] [--unit C|K|F] [--at TEMP]... [--json]\n"
+    "Fit an R-T model to the readings in FILE (a CSV; '-' reads standard input) and print\n"
+    "the coefficients with standard uncertainties, the residuals, the curve's expanded\n"
+    "uncertainty across the calibrated range, and a comparison of models.\n\n"
+    "  --model M        sh3, sh4, beta, poly:N (N = 1..5) or auto (default: auto, which\n"
+    "                   picks by BIC and says why)\n"
+    "  --t0 TEMP        beta model: reference temperature of R0 (default 25C)\n"
+    "  --pair T1/T2     B value reported for this pair (default 25/85, degC)\n"
+    "  --u-temp DT      standard uncertainty for readings without a u_temp_k column\n"
+    "                   (e.g. 5mK); without it and without the column, equal weights are\n"
+    "                   used and the covariance comes from the scatter of the residuals\n"
+    "  --at TEMP        also evaluate the fitted curve here (repeatable); outside the\n"
+    "                   calibrated range this is an extrapolation and is flagged\n"
+    "  --linear         linear fit in 1/T only, no refinement in temperature\n"
+    "  --no-inflate     keep the covariance from the stated uncertainties even when the\n"
+    "                   residuals are larger than they allow\n"
+    "  --unit U         unit for printed temperatures: C (default), K or F\n"
+    "  --json           one JSON object\n"
+    "Readings CSV: a header naming columns temp_c|temp_k|temp_f, ohms, and optionally\n"
+    "u_temp_k, u_ohms, time, note (docs/readings-csv.md).\n"
+    "Results hold only inside the calibrated range and the stated uncertainty; for medical,\n"
+    "food-safety or process-safety use follow local regulations and accredited practice.\n";
+
+void fit_request_init(struct fit_request *rq)
+{
+    memset(rq, 0, sizeof *rq);
+    rq->model = "auto";
+    rq->t0_k = BG_T0_DEFAULT_K;
+    rq->pair_t1_k = 298.15, rq->pair_t2_k = 358.15;
+    rq->unit = BG_UNIT_C;
+}
+
+int cmd_fit(int argc, char **argv, struct cli_ctx *ctx)
+{
+    enum { O_MODEL = 1, O_T0, O_PAIR, O_UTEMP, O_AT, O_LINEAR, O_NOINFL, O_UNIT, O_JSON };
+    static const struct option opts[] = {
+        { "model", required_argument, NULL, O_MODEL }, { "t0", required_argument, NULL, O_T0 },
+        { "pair", required_argument, NULL, O_PAIR },   { "u-temp", required_argument, NULL, O_UTEMP },
+        { "at", required_argument, NULL, O_AT },       { "linear", no_argument, NULL, O_LINEAR },
+        { "no-inflate", no_argument, NULL, O_NOINFL }, { "unit", required_argument, NULL, O_UNIT },
+        { "json", no_argument, NULL, O_JSON },         { "help", no_argument, NULL, 'h' },
+        { NULL, 0, NULL, 0 },
+    };
+    struct fit_request rq;
+    bg_error err = BG_ERROR_INIT;
+    bg_model probe;
+    int c;
+
+    fit_request_init(&rq);
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, ":h", opts, NULL)) != -1) {
+        switch (c) {
+        case 'h': fputs(fit_usage, stdout); return BG_OK;
+        case O_MODEL:
+            if (strcmp(optarg, "auto") != 0 && bg_model_parse(optarg, &probe, &err) != BG_OK)
+                return cli_usage_error("fit", "--model: %s", err.msg);
+            rq.model = optarg;
+            break;
+        case O_T0:
+            if (bg_units_parse_temp(optarg, BG_UNIT_NONE, &rq.t0_k, &err) != BG_OK)
+                return cli_usage_error("fit", "--t0: %s", err.msg);
+            break;
+        case O_PAIR:
+            if (bg_model_parse_pair(optarg, &rq.pair_t1_k, &rq.pair_t2_k, &err) != BG_OK)
+                return cli_usage_error("fit", "--pair: %s", err.msg);
+            break;
+        case O_UTEMP:
+            if (bg_units_parse_tdiff(optarg, &rq.u_temp_k, &err) != BG_OK)
+                return cli_usage_error("fit", "--u-temp: %s", err.msg);
+            break;
+        case O_AT:
+            if (rq.nat == sizeof rq.at_k / sizeof rq.at_k[0])
+                return cli_usage_error("fit", "too many --at values");
+            if (bg_units_parse_temp(optarg, BG_UNIT_NONE, &rq.at_k[rq.nat], &err) != BG_OK)
+                return cli_usage_error("fit", "--at: %s", err.msg);
+            rq.nat++;
+            break;
+        case O_LINEAR: rq.linear_only = 1; break;
+        case O_NOINFL: rq.no_inflate = 1; break;
+        case O_UNIT:
+            if (bg_units_parse_unit(optarg, &rq.unit, &err) != BG_OK)
+                return cli_usage_error("fit", "--unit: %s", err.msg);
+            break;
+        case O_JSON: ctx->json = 1; break;
+        case ':': return cli_usage_error("fit", "option '%s' needs a value", argv[optind - 1]);
+        default: return cli_usage_error("fit", "unknown option '%s'", argv[optind - 1]);
+        }
+    }
+    if (optind + 1 != argc)
+        return cli_usage_error("fit", optind >= argc ? "no readings file given"
+                                                     : "more than one readings file given");
+    return fit_report_file(argv[optind], &rq, ctx);
+}
+
+static const char *model_formula(const bg_model *m)
+{
+    switch (m->kind) {
+    case BG_MODEL_SH3: return "1/T = A + B L + C L^3";
+    case BG_MODEL_SH4: return "1/T = A + B L + C L^2 + D L^3";
+    case BG_MODEL_BETA: return "R = R0 exp(beta (1/T - 1/T0))";
+    default: return "1/T = sum a_i L^i";
+    }
+}
+
+#define NU 9 /* points of the uncertainty table across the range */
+
+struct report {
+    const bg_readings *rs;
+    const bg_fit *fit;
+    const bg_cmp *cmp;
+    int cmp_ok;
+    const char *cmp_msg;
+    double k_t, b_pair;
+    double ut_t[NU], ut_u[NU];
+    double at_r[32], at_u[32];
+    int at_extra[32], at_ok[32];
+};
+
+static void print_json(const struct report *r, const struct fit_request *rq, const char *path)
+{
+    const bg_fit *f = r->fit;
+    char name[16];
+    json_out j;
+
+    json_begin(&j, stdout);
+    json_obj(&j, NULL);
+    json_str(&j, "source", path);
+    json_str(&j, "model", bg_model_name(&f->model, name, sizeof name));
+    json_str(&j, "requested_model", rq->model);
+    json_arr(&j, "coefficient_names");
+    for (size_t i = 0; i < f->npar; i++)
+        json_str(&j, NULL, bg_model_coef_name(&f->model, i));
+    json_arr_end(&j);
+    json_nums(&j, "coefficients", f->model.coef, f->npar);
+    json_arr(&j, "u_coefficients");
+    for (size_t i = 0; i < f->npar; i++)
+        json_num(&j, NULL, sqrt(f->cov[i * f->npar + i]));
+    json_arr_end(&j);
+    if (f->dof > 0) {
+        json_arr(&j, "covariance");
+        for (size_t i = 0; i < f->npar; i++)
+            json_nums(&j, NULL, &f->cov[i * f->npar], f->npar);
+        json_arr_end(&j);
+    } else
+        json_null(&j, "covariance");
+    if (f->model.kind == BG_MODEL_BETA)
+        json_num(&j, "t0_k", f->model.t0_k);
+    json_int(&j, "n", (long long)f->n);
+    json_int(&j, "dof", (long long)f->dof);
+    json_bool(&j, "weighted", f->weighted);
+    json_num(&j, "chi2", f->chi2);
+    json_num(&j, "reduced_chi2", f->reduced_chi2);
+    json_num(&j, "p_value", f->p_value);
+    json_num(&j, "cov_scale", f->cov_scale);
+    json_num(&j, "rms_mk", f->rms_mk);
+    json_num(&j, "max_abs_mk", f->max_abs_mk);
+    json_num(&j, "aic", f->aic);
+    json_num(&j, "bic", f->bic);
+    json_num(&j, "rcond", f->rcond);
+    json_int(&j, "iterations", f->iterations);
+    json_nums(&j, "residuals_mk", f->resid_mk, f->n);
+    json_nums(&j, "studentized", f->student, f->n);
+    json_nums(&j, "u_k", f->u_k, f->n);
+    json_arr(&j, "lines");
+    for (size_t i = 0; i < f->n; i++)
+        json_int(&j, NULL, (long long)f->line[i]);
+    json_arr_end(&j);
+    json_obj(&j, "range");
+    json_num(&j, "t_min_k", f->t_min_k);
+    json_num(&j, "t_max_k", f->t_max_k);
+    json_num(&j, "t_min_c", bg_units_from_k(f->t_min_k, BG_UNIT_C));
+    json_num(&j, "t_max_c", bg_units_from_k(f->t_max_k, BG_UNIT_C));
+    json_obj_end(&j);
+    json_num(&j, "coverage_probability", 0.9545);
+    json_num(&j, "k_student", r->k_t);
+    json_arr(&j, "uncertainty");
+    for (size_t i = 0; i < NU; i++) {
+        json_obj(&j, NULL);
+        json_num(&j, "t_k", r->ut_t[i]);
+        json_num(&j, "u_k", r->ut_u[i]);
+        json_num(&j, "U_k2", 2.0 * r->ut_u[i]);
+        json_num(&j, "U_student", r->k_t * r->ut_u[i]);
+        json_obj_end(&j);
+    }
+    json_arr_end(&j);
+    json_obj(&j, "b_pair");
+    json_num(&j, "t1_k", rq->pair_t1_k);
+    json_num(&j, "t2_k", rq->pair_t2_k);
+    json_num(&j, "b_k", r->b_pair);
+    json_obj_end(&j);
+    if (rq->nat) {
+        json_arr(&j, "at");
+        for (size_t i = 0; i < rq->nat; i++) {
+            json_obj(&j, NULL);
+            json_num(&j, "t_k", rq->at_k[i]);
+            json_num(&j, "ohms", r->at_ok[i] ? r->at_r[i] : NAN);
+            json_num(&j, "u_k", r->at_ok[i] ? r->at_u[i] : NAN);
+            json_bool(&j, "extrapolated", r->at_extra[i]);
+            json_obj_end(&j);
+        }
+        json_arr_end(&j);
+    }
+    if (r->cmp_ok) {
+        json_obj(&j, "comparison");
+        json_arr(&j, "models");
+        for (size_t i = 0; i < r->cmp->nrows; i++) {
+            const bg_cmp_row *row = &r->cmp->row[i];
+            json_obj(&j, NULL);
+            json_str(&j, "model", bg_model_name(&row->model, name, sizeof name));
+            json_int(&j, "npar", (long long)row->npar);
+            json_bool(&j, "fitted", row->ok);
+            if (row->ok) {
+                json_num(&j, "rms_mk", row->rms_mk);
+                json_num(&j, "max_abs_mk", row->max_abs_mk);
+                json_num(&j, "loo_rms_mk", row->loo_rms_mk);
+                json_num(&j, "aic", row->aic);
+                json_num(&j, "bic", row->bic);
+            } else
+                json_str(&j, "why", row->why);
+            json_obj_end(&j);
+        }
+        json_arr_end(&j);
+        json_str(&j, "chosen", bg_model_name(&r->cmp->row[r->cmp->chosen].model, name,
+                                             sizeof name));
+        json_str(&j, "reason", r->cmp->reason);
+        json_obj_end(&j);
+    } else
+        json_null(&j, "comparison");
+    json_arr(&j, "warnings");
+    for (size_t i = 0; i < f->nnotes; i++)
+        json_str(&j, NULL, f->notes[i].msg);
+    json_arr_end(&j);
+    json_obj_end(&j);
+    json_end(&j);
+}
+
+static void print_text(const struct report *r, const struct fit_request *rq, const char *path)
+{
+    const bg_fit *f = r->fit;
+    bg_temp_unit un = rq->unit;
+    const char *us = bg_units_symbol(un, 1);
+    char name[16], b1[64], b2[64];
+
+    printf("readings: %s, %zu points, %s .. %s\n", path, f->n,
+           bg_units_format_temp(f->t_min_k, un, 3, b1, sizeof b1),
+           bg_units_format_temp(f->t_max_k, un, 3, b2, sizeof b2));
+    printf("model: %s   %s,  L = ln(R / 1 ohm), T in K\n",
+           bg_model_name(&f->model, name, sizeof name), model_formula(&f->model));
+    if (f->model.kind == BG_MODEL_BETA)
+        printf("  T0 = %s\n", bg_units_format_temp(f->model.t0_k, un, 3, b1, sizeof b1));
+    for (size_t i = 0; i < f->npar; i++) {
+        double u = sqrt(f->cov[i * f->npar + i]);
+        if (isfinite(u))
+            printf("  %-5s = %18.10e   u = %.2e\n", bg_model_coef_name(&f->model, i),
+                   f->model.coef[i], u);
+        else
+            printf("  %-5s = %18.10e   u = n/a\n", bg_model_coef_name(&f->model, i),
+                   f->model.coef[i]);
+    }
+    if (f->weighted)
+        printf("weights: stated uncertainties; chi2 = %.4g for %zu dof (reduced %.4g, p = %.3g)"
+               "%s\n", f->chi2, f->dof, f->reduced_chi2, f->p_value,
+               f->cov_scale > 1.0 ? "; covariance scaled by reduced chi2" : "");
+    else
+        printf("weights: equal (no uncertainties given); covariance from the residual "
+               "scatter, %zu dof\n", f->dof);
+    printf("\nresiduals (measured - fitted):\n");
+    printf("  %6s  %12s  %12s  %11s  %8s\n", "line", us[0] == 'K' ? "T/K" :
+           un == BG_UNIT_F ? "T/degF" : "T/degC", "R/ohm", "resid/mK", "student");
+    for (size_t i = 0; i < f->n; i++) {
+        const bg_point *p = &r->rs->v[i].pt;
+        printf("  %6zu  %12.4f  %12s  %11.4f  %8.2f\n", p->line, bg_units_from_k(p->t_k, un),
+               bg_units_format_ohms(p->r_ohm, 7, b1, sizeof b1), f->resid_mk[i], f->student[i]);
+    }
+    printf("  RMS %.4f mK, max |residual| %.4f mK\n", f->rms_mk, f->max_abs_mk);
+    if (isfinite(r->b_pair)) {
+        bg_units_format_temp(rq->pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1);
+        bg_units_format_temp(rq->pair_t2_k, BG_UNIT_C, 2, b2, sizeof b2);
+        printf("B(%s / %s) = %.2f K\n", b1, b2, r->b_pair);
+    }
+    if (f->dof > 0) {
+        printf("\ncurve uncertainty (coverage 95.45 %%: k = 2, Student-t k = %.2f for %zu dof):\n",
+               r->k_t, f->dof);
+        printf("  %12s  %10s  %12s  %12s\n", us[0] == 'K' ? "T/K" : un == BG_UNIT_F ?
+               "T/degF" : "T/degC", "u/mK", "U(k=2)/mK", "U(t)/mK");
+        for (size_t i = 0; i < NU; i++)
+            printf("  %12.3f  %10.4f  %12.4f  %12.4f\n", bg_units_from_k(r->ut_t[i], un),
+                   1e3 * r->ut_u[i], 2e3 * r->ut_u[i], 1e3 * r->k_t * r->ut_u[i]);
+    } else
+        printf("\ncurve uncertainty: n/a (no degrees of freedom left)\n");
+    for (size_t i = 0; i < rq->nat; i++) {
+        if (!r->at_ok[i])
+            continue;
+        printf("at %s: R = %s ohm, U(k=2) = %s%s\n",
+               bg_units_format_temp(rq->at_k[i], un, 3, b1, sizeof b1),
+               bg_units_format_ohms(r->at_r[i], 7, b2, sizeof b2),
+               isfinite(r->at_u[i]) ? "" : "n/a",
+               r->at_extra[i] ? "   EXTRAPOLATED: outside the calibrated range" : "");
+        if (isfinite(r->at_u[i]))
+            printf("  (%.4f mK)\n", 2e3 * r->at_u[i]);
+    }
+    printf("\nmodel comparison:\n");
+    if (r->cmp_ok) {
+        printf("  %-7s %4s  %10s  %10s  %10s  %10s  %10s\n", "model", "npar", "RMS/mK",
+               "max/mK", "LOO/mK", "AIC", "BIC");
+        for (size_t i = 0; i < r->cmp->nrows; i++) {
+            const bg_cmp_row *row = &r->cmp->row[i];
+            bg_model_name(&row->model, name, sizeof name);
+            if (row->ok)
+                printf("  %-7s %4zu  %10.4f  %10.4f  %10.4f  %10.2f  %10.2f%s\n", name,
+                       row->npar, row->rms_mk, row->max_abs_mk, row->loo_rms_mk, row->aic,
+                       row->bic, (int)i == r->cmp->chosen ? "  <- chosen" : "");
+            else
+                printf("  %-7s %4zu  not compared: %s\n", name, row->npar, row->why);
+        }
+        printf("  choice: %s\n", r->cmp->reason);
+    } else
+        printf("  not available: %s\n", r->cmp_msg);
+    printf("\nValid only inside the calibrated range (%s .. %s) and within the stated\n"
+           "uncertainty.  Not an accredited certificate; for medical, food-safety or\n"
+           "process-safety use follow local regulations and accredited practice.\n",
+           bg_units_format_temp(f->t_min_k, un, 3, b1, sizeof b1),
+           bg_units_format_temp(f->t_max_k, un, 3, b2, sizeof b2));
+}
+
+int fit_report_file(const char *path, const struct fit_request *rq, struct cli_ctx *ctx)
+{
+    bg_readings rs = BG_READINGS_INIT;
+    bg_error err = BG_ERROR_INIT, cerr = BG_ERROR_INIT;
+    bg_fitter *fr = NULL;
+    bg_point *pts = NULL;
+    bg_fit fit = BG_FIT_INIT;
+    bg_cmp cmp;
+    bg_fit_opts o;
+    struct report r;
+    int rc;
+
+    memset(&r, 0, sizeof r);
+    if ((rc = bg_csv_read_file(path, &rs, &err)) != BG_OK)
+        return cli_fail(NULL, &err);
+    pts = malloc((rs.n ? rs.n : 1) * sizeof *pts);
+    fr = bg_fitter_new();
+    if (!pts || !fr) {
+        rc = bg_error_set(&err, BG_ENOMEM, "out of memory");
+        goto fail;
+    }
+    bg_readings_points(&rs, pts);
+    if (rq->u_temp_k > 0.0 && !rs.has_u_t)
+        for (size_t i = 0; i < rs.n; i++)
+            pts[i].u_t_k = rq->u_temp_k;
+    o = bg_fit_default_opts(NULL);
+    o.model.t0_k = rq->t0_k;
+    o.refine = !rq->linear_only;
+    o.inflate = !rq->no_inflate;
+    o.source = strcmp(path, "-") == 0 ? "<stdin>" : path;
+
+    r.cmp_ok = bg_fit_compare(fr, pts, rs.n, &o, &cmp, &cerr) == BG_OK;
+    r.cmp_msg = cerr.msg;
+    if (!r.cmp_ok && cerr.code != BG_EINVAL) {
+        err = cerr;
+        rc = cerr.code;
+        goto fail;
+    }
+    if (strcmp(rq->model, "auto") == 0) {
+        if (!r.cmp_ok) {
+            /* Data errors surface here with their line; otherwise say why auto cannot work. */
+            err = cerr;
+            rc = BG_EINVAL;
+            goto fail;
+        }
+        o.model = cmp.row[cmp.chosen].model;
+    } else {
+        bg_model_parse(rq->model, &o.model, NULL);
+        o.model.t0_k = rq->t0_k;
+    }
+    if ((rc = bg_fitter_run(fr, pts, rs.n, &o, &fit, &err)) != BG_OK)
+        goto fail;
+
+    r.rs = &rs, r.fit = &fit, r.cmp = &cmp;
+    r.k_t = bg_fit_coverage_k(&fit, 0.9545);
+    if (bg_model_b_pair(&fit.model, rq->pair_t1_k, rq->pair_t2_k, &r.b_pair, NULL) != BG_OK)
+        r.b_pair = NAN;
+    for (size_t i = 0; i < NU; i++) {
+        r.ut_t[i] = fit.t_min_k + (fit.t_max_k - fit.t_min_k) * (double)i / (NU - 1);
+        if (bg_fit_u_t(&fit, r.ut_t[i], &r.ut_u[i], NULL, NULL) != BG_OK)
+            r.ut_u[i] = NAN;
+    }
+    for (size_t i = 0; i < fit.nnotes; i++)
+        cli_warn("%s", fit.notes[i].msg);
+    for (size_t i = 0; i < rq->nat; i++) {
+        char b1[64];
+        r.at_ok[i] = bg_model_r_from_t(&fit.model, rq->at_k[i], &r.at_r[i], &err) == BG_OK &&
+                     bg_fit_u_t(&fit, rq->at_k[i], &r.at_u[i], &r.at_extra[i], &err) == BG_OK;
+        if (!r.at_ok[i])
+            cli_warn("--at %s: %s", bg_units_format_temp(rq->at_k[i], rq->unit, 3, b1,
+                                                          sizeof b1), err.msg);
+        else if (r.at_extra[i])
+            cli_warn("--at %s: outside the calibrated range: extrapolated, not calibrated",
+                     bg_units_format_temp(rq->at_k[i], rq->unit, 3, b1, sizeof b1));
+    }
+    if (ctx->json)
+        print_json(&r, rq, o.source);
+    else
+        print_text(&r, rq, o.source);
+    rc = BG_OK;
+    goto done;
+fail:
+    cli_fail(NULL, &err);
+done:
+    bg_fit_release(&fit);
+    bg_fitter_free(fr);
+    free(pts);
+    bg_readings_release(&rs);
+    return rc;
+}

@@ -1,0 +1,121 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* The bandgap program: global options, the command table, and the one mapping from results
+** to sysexits(3) exit statuses. */
+#include <getopt.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sysexits.h>
+
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_version.h>
+#include <sqlite3.h>
+
+#include "cli.h"
+
+struct command {
+    const char *name;
+    cmd_fn fn;
+    const char *summary;
+};
+
+/* The only list of commands; 'bandgap --help' prints from it and the tests walk it. */
+static const struct command commands[] = {
+    { "eval", cmd_eval, "evaluate a model given inline: resistance to temperature and back" },
+    { "fit",  cmd_fit,  "fit a model to a readings CSV file and report coefficients, "
+                        "residuals and uncertainty" },
+    { "demo", cmd_demo, "run the whole job on built-in invented data" },
+};
+#define NCOMMANDS (sizeof commands / sizeof commands[0])
+
+static void usage(FILE *f)
+{
+    fprintf(f, "Usage: bandgap [--db PATH] [--json] COMMAND [ARGS]\n"
+               "Calibrate NTC thermistors: fit R-T models to bath readings, with residuals\n"
+               "and uncertainty.\n\nCommands:\n");
+    for (size_t i = 0; i < NCOMMANDS; i++)
+        fprintf(f, "  %-8s %s\n", commands[i].name, commands[i].summary);
+    fprintf(f, "\nGlobal options:\n"
+               "  --db PATH    calibration database (default $BANDGAP_DB or ./bandgap.db)\n"
+               "  --json       machine-readable output\n"
+               "  --help       this help;  bandgap COMMAND --help for a command\n"
+               "  --version    program and library versions\n"
+               "\nExit status: 0 success, 64 usage, 65 bad data, 66 missing input, 70 internal,\n"
+               "73 cannot create output, 74 i/o error (sysexits.h).\n"
+               "Results hold only inside the calibrated range and the stated uncertainty.\n");
+}
+
+static void version(void)
+{
+    printf("bandgap %s\n", bg_version());
+    printf("GSL %s\nSQLite %s\n", gsl_version, sqlite3_libversion());
+    printf("Copyright (C) 2026 the bandgap developers.\n"
+           "License GPLv3+: GNU GPL version 3 or later <https://gnu.org/licenses/gpl.html>.\n"
+           "This is free software: you are free to change and redistribute it.\n"
+           "There is NO WARRANTY, to the extent permitted by law.\n");
+}
+
+/* The one place where results become exit statuses. */
+static int exit_status(int rc)
+{
+    switch (rc) {
+    case BG_OK: return EX_OK;
+    case BG_EINVAL: return EX_DATAERR;
+    case BG_ENOENT: return EX_NOINPUT;
+    case BG_EIO: return EX_IOERR;
+    case CLI_EUSAGE: return EX_USAGE;
+    case CLI_ECANTCREAT: return EX_CANTCREAT;
+    default: return EX_SOFTWARE;
+    }
+}
+
+static int finish(int status)
+{
+    if (fflush(stdout) != 0 || ferror(stdout)) {
+        perror("bandgap: cannot write the output");
+        return status == EX_OK ? EX_IOERR : status;
+    }
+    return status;
+}
+
+int main(int argc, char **argv)
+{
+    static const struct option opts[] = {
+        { "db", required_argument, NULL, 'd' }, { "json", no_argument, NULL, 'j' },
+        { "help", no_argument, NULL, 'h' },     { "version", no_argument, NULL, 'V' },
+        { NULL, 0, NULL, 0 },
+    };
+    struct cli_ctx ctx = { NULL, 0 };
+    int c;
+
+    gsl_set_error_handler_off();
+    ctx.db_path = getenv("BANDGAP_DB");
+    if (!ctx.db_path || !*ctx.db_path)
+        ctx.db_path = "bandgap.db";
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, "+:h", opts, NULL)) != -1) {
+        switch (c) {
+        case 'd': ctx.db_path = optarg; break;
+        case 'j': ctx.json = 1; break;
+        case 'h': usage(stdout); return finish(EX_OK);
+        case 'V': version(); return finish(EX_OK);
+        case ':': return exit_status(cli_usage_error(NULL, "option '%s' needs a value",
+                                                     argv[optind - 1]));
+        default: return exit_status(cli_usage_error(NULL, "unknown option '%s'",
+                                                    argv[optind - 1]));
+        }
+    }
+    if (optind >= argc) {
+        usage(stderr);
+        return EX_USAGE;
+    }
+    for (size_t i = 0; i < NCOMMANDS; i++) {
+        if (strcmp(argv[optind], commands[i].name) == 0) {
+            int sub_argc = argc - optind;
+            char **sub_argv = argv + optind;
+            optind = 0; /* glibc: 0 re-initialises getopt for the command's own options */
+            return finish(exit_status(commands[i].fn(sub_argc, sub_argv, &ctx)));
+        }
+    }
+    return exit_status(cli_usage_error(NULL, "unknown command '%s'", argv[optind]));
+}

@@ -1,0 +1,196 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Messages and JSON output for the bandgap program. */
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+
+void cli_error(const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    fputs("bandgap: ", stderr);
+    vfprintf(stderr, fmt, ap);
+    fputc('\n', stderr);
+    va_end(ap);
+}
+
+void cli_warn(const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    fputs("bandgap: warning: ", stderr);
+    vfprintf(stderr, fmt, ap);
+    fputc('\n', stderr);
+    va_end(ap);
+}
+
+int cli_usage_error(const char *cmd, const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    fputs("bandgap: ", stderr);
+    if (cmd)
+        fprintf(stderr, "%s: ", cmd);
+    vfprintf(stderr, fmt, ap);
+    fputc('\n', stderr);
+    va_end(ap);
+    fprintf(stderr, "Try 'bandgap %s%s--help' for more information.\n", cmd ? cmd : "",
+            cmd ? " " : "");
+    return CLI_EUSAGE;
+}
+
+int cli_fail(const char *what, const bg_error *err)
+{
+    if (what)
+        cli_error("%s: %s", what, err->msg);
+    else
+        cli_error("%s", err->msg);
+    return err->code ? (int)err->code : BG_EINTERNAL;
+}
+
+int cli_parse_list(const char *s, double *v, size_t max, size_t *n, bg_error *err)
+{
+    char buf[64];
+    size_t k = 0;
+    const char *p = s;
+    for (;;) {
+        const char *c = strchr(p, ',');
+        size_t len = c ? (size_t)(c - p) : strlen(p);
+        char *end;
+        if (len == 0 || len >= sizeof buf)
+            return bg_error_set(err, BG_EINVAL, "'%s': expected numbers separated by commas", s);
+        if (k == max)
+            return bg_error_set(err, BG_EINVAL, "'%s': more than %zu numbers", s, max);
+        memcpy(buf, p, len);
+        buf[len] = '\0';
+        v[k] = strtod(buf, &end);
+        if (*end != '\0' || end == buf || !isfinite(v[k]))
+            return bg_error_set(err, BG_EINVAL, "'%s': not a number", buf);
+        k++;
+        if (!c)
+            break;
+        p = c + 1;
+    }
+    *n = k;
+    return BG_OK;
+}
+
+/* ---- JSON ---- */
+
+static void put_string(FILE *f, const char *s)
+{
+    fputc('"', f);
+    for (const unsigned char *p = (const unsigned char *)s; *p; p++) {
+        switch (*p) {
+        case '"': fputs("\\\"", f); break;
+        case '\\': fputs("\\\\", f); break;
+        case '\n': fputs("\\n", f); break;
+        case '\r': fputs("\\r", f); break;
+        case '\t': fputs("\\t", f); break;
+        default:
+            if (*p < 0x20)
+                fprintf(f, "\\u%04x", *p);
+            else
+                fputc(*p, f);
+        }
+    }
+    fputc('"', f);
+}
+
+static void sep(json_out *j, const char *key)
+{
+    if (j->depth > 0) {
+        if (j->need_comma[j->depth])
+            fputc(',', j->f);
+        j->need_comma[j->depth] = 1;
+    }
+    if (key) {
+        put_string(j->f, key);
+        fputc(':', j->f);
+    }
+}
+
+void json_begin(json_out *j, FILE *f)
+{
+    memset(j, 0, sizeof *j);
+    j->f = f;
+}
+
+void json_end(json_out *j)
+{
+    fputc('\n', j->f);
+}
+
+void json_obj(json_out *j, const char *key)
+{
+    sep(j, key);
+    fputc('{', j->f);
+    j->need_comma[++j->depth] = 0;
+}
+
+void json_obj_end(json_out *j)
+{
+    j->depth--;
+    fputc('}', j->f);
+}
+
+void json_arr(json_out *j, const char *key)
+{
+    sep(j, key);
+    fputc('[', j->f);
+    j->need_comma[++j->depth] = 0;
+}
+
+void json_arr_end(json_out *j)
+{
+    j->depth--;
+    fputc(']', j->f);
+}
+
+void json_num(json_out *j, const char *key, double v)
+{
+    sep(j, key);
+    if (isfinite(v))
+        fprintf(j->f, "%.17g", v);
+    else
+        fputs("null", j->f);
+}
+
+void json_int(json_out *j, const char *key, long long v)
+{
+    sep(j, key);
+    fprintf(j->f, "%lld", v);
+}
+
+void json_str(json_out *j, const char *key, const char *s)
+{
+    sep(j, key);
+    if (s)
+        put_string(j->f, s);
+    else
+        fputs("null", j->f);
+}
+
+void json_bool(json_out *j, const char *key, int v)
+{
+    sep(j, key);
+    fputs(v ? "true" : "false", j->f);
+}
+
+void json_null(json_out *j, const char *key)
+{
+    sep(j, key);
+    fputs("null", j->f);
+}
+
+void json_nums(json_out *j, const char *key, const double *v, size_t n)
+{
+    json_arr(j, key);
+    for (size_t i = 0; i < n; i++)
+        json_num(j, NULL, v[i]);
+    json_arr_end(j);
+}

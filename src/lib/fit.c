@@ -1,0 +1,645 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Calibration fits of R-T models.  Method (docs/methods.md):
+** 1. weighted linear least squares in y = 1/T on the basis L^k of the model, weights
+**    1/u^2(1/T) with u(1/T) = u(T)/T^2 (JCGM 100:2008, 5.1.2);
+** 2. resistance uncertainty folded in by effective variance u^2 = u_T^2 + (dT/dR u_R)^2 with the
+**    slope of step 1 (Orear, Am. J. Phys. 50 (1982) 912);
+** 3. Gauss-Newton refinement of sum ((T_model(R_i) - T_i)/u_i)^2 from the linear solution, with
+**    step halving, and covariance (J^T J)^-1 of the weighted Jacobian (Bates & Watts,
+**    Nonlinear Regression Analysis, 1988, ch. 2).  The problem is nearly linear, so it converges
+**    in two or three steps; GSL's trust-region solver is used in the tests as a cross-check. */
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <gsl/gsl_cdf.h>
+
+#include "bandgap/fit.h"
+#include "fit_int.h"
+
+#define MAXB BG_MODEL_MAXPAR
+
+struct bg_fitter {
+    size_t cap;
+    double *L, *u, *A, *b, *tm;
+    struct tsort { double t, r; size_t i; } *sorted;
+    bg_point *sub;      /* scratch for leave-one-out */
+    size_t subcap;
+};
+
+bg_fit_opts bg_fit_default_opts(const bg_model *model)
+{
+    bg_fit_opts o;
+    memset(&o, 0, sizeof o);
+    if (model)
+        o.model = *model;
+    else
+        bg_model_parse("sh3", &o.model, NULL);
+    o.refine = 1;
+    o.inflate = 1;
+    o.min_rcond = 1e-13;
+    o.student_limit = 3.0;
+    o.mono_gap_k = 0.05;
+    o.max_iter = 50;
+    o.xtol = 1e-12;
+    o.coverage = 0.9545;
+    return o;
+}
+
+void bg_fit_init(bg_fit *f)
+{
+    memset(f, 0, sizeof *f);
+}
+
+void bg_fit_release(bg_fit *f)
+{
+    if (!f)
+        return;
+    free(f->resid_mk);
+    free(f->student);
+    free(f->u_k);
+    free(f->line);
+    free(f->notes);
+    memset(f, 0, sizeof *f);
+}
+
+bg_fitter *bg_fitter_new(void)
+{
+    return calloc(1, sizeof(bg_fitter));
+}
+
+void bg_fitter_free(bg_fitter *fr)
+{
+    if (!fr)
+        return;
+    free(fr->L), free(fr->u), free(fr->A), free(fr->b), free(fr->tm);
+    free(fr->sorted), free(fr->sub);
+    free(fr);
+}
+
+static int fitter_reserve(bg_fitter *fr, size_t n)
+{
+    if (n <= fr->cap)
+        return BG_OK;
+    size_t cap = n < 64 ? 64 : n;
+    double *L = realloc(fr->L, cap * sizeof *L);
+    if (L) fr->L = L;
+    double *u = realloc(fr->u, cap * sizeof *u);
+    if (u) fr->u = u;
+    double *A = realloc(fr->A, cap * MAXB * sizeof *A);
+    if (A) fr->A = A;
+    double *b = realloc(fr->b, cap * sizeof *b);
+    if (b) fr->b = b;
+    double *tm = realloc(fr->tm, cap * sizeof *tm);
+    if (tm) fr->tm = tm;
+    struct tsort *s = realloc(fr->sorted, cap * sizeof *s);
+    if (s) fr->sorted = s;
+    if (!L || !u || !A || !b || !tm || !s)
+        return BG_ENOMEM;
+    fr->cap = cap;
+    return BG_OK;
+}
+
+static int fit_reserve(bg_fit *f, size_t n)
+{
+    if (n <= f->cap)
+        return BG_OK;
+    double *r = realloc(f->resid_mk, n * sizeof *r);
+    if (r) f->resid_mk = r;
+    double *s = realloc(f->student, n * sizeof *s);
+    if (s) f->student = s;
+    double *u = realloc(f->u_k, n * sizeof *u);
+    if (u) f->u_k = u;
+    size_t *l = realloc(f->line, n * sizeof *l);
+    if (l) f->line = l;
+    if (!r || !s || !u || !l)
+        return BG_ENOMEM;
+    f->cap = n;
+    return BG_OK;
+}
+
+/* "FILE:LINE", "line LINE" or "point I" for messages. */
+static const char *where(const bg_fit_opts *o, const bg_point *p, size_t idx, char *buf,
+                         size_t size)
+{
+    if (p->line && o->source)
+        snprintf(buf, size, "%s:%zu", o->source, p->line);
+    else if (p->line)
+        snprintf(buf, size, "line %zu", p->line);
+    else
+        snprintf(buf, size, "point %zu", idx + 1);
+    return buf;
+}
+
+static void add_note(bg_fit *f, bg_note_kind kind, size_t line, const char *fmt, ...)
+    BG_PRINTF(4, 5);
+
+static void add_note(bg_fit *f, bg_note_kind kind, size_t line, const char *fmt, ...)
+{
+    va_list ap;
+    if (f->nnotes == f->notecap) {
+        size_t cap = f->notecap ? 2 * f->notecap : 8;
+        bg_note *nn = realloc(f->notes, cap * sizeof *nn);
+        if (!nn)
+            return; /* a lost warning is better than a lost fit; the count stays honest */
+        f->notes = nn, f->notecap = cap;
+    }
+    bg_note *nt = &f->notes[f->nnotes++];
+    nt->kind = kind, nt->line = line;
+    va_start(ap, fmt);
+    vsnprintf(nt->msg, sizeof nt->msg, fmt, ap);
+    va_end(ap);
+}
+
+/* The powers k of L in the model's basis 1/T = sum c_j L^k_j. */
+static size_t model_basis(const bg_model *m, unsigned pw[MAXB])
+{
+    switch (m->kind) {
+    case BG_MODEL_SH3: pw[0] = 0, pw[1] = 1, pw[2] = 3; return 3;
+    case BG_MODEL_SH4: pw[0] = 0, pw[1] = 1, pw[2] = 2, pw[3] = 3; return 4;
+    case BG_MODEL_BETA: pw[0] = 0, pw[1] = 1; return 2;
+    default:
+        for (unsigned k = 0; k <= m->degree; k++)
+            pw[k] = k;
+        return m->degree + 1;
+    }
+}
+
+static void basis_row(double L, const unsigned *pw, size_t nb, double *g)
+{
+    double pows[MAXB];
+    pows[0] = 1.0;
+    for (size_t k = 1; k < MAXB; k++)
+        pows[k] = pows[k - 1] * L;
+    for (size_t j = 0; j < nb; j++)
+        g[j] = pows[pw[j]];
+}
+
+static int cmp_t(const void *a, const void *b)
+{
+    const struct tsort *x = a, *y = b;
+    return (x->t > y->t) - (x->t < y->t);
+}
+
+/* Guard rails on the data: values, duplicates and the NTC direction. */
+static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                        int *weighted, bg_error *err)
+{
+    char w1[300], w2[300];
+    int any_u = 0;
+
+    for (size_t i = 0; i < n; i++) {
+        const bg_point *p = &pts[i];
+        if (!isfinite(p->t_k) || !isfinite(p->r_ohm) || !isfinite(p->u_t_k) ||
+            !isfinite(p->u_r_ohm))
+            return bg_error_set(err, BG_EINVAL, "%s: value is not a finite number",
+                                where(o, p, i, w1, sizeof w1));
+        if (!(p->r_ohm > 0.0))
+            return bg_error_set(err, BG_EINVAL, "%s: resistance must be greater than 0 ohm",
+                                where(o, p, i, w1, sizeof w1));
+        if (!(p->t_k > 0.0))
+            return bg_error_set(err, BG_EINVAL, "%s: temperature must be above 0 K",
+                                where(o, p, i, w1, sizeof w1));
+        if (p->u_t_k < 0.0 || p->u_r_ohm < 0.0)
+            return bg_error_set(err, BG_EINVAL, "%s: uncertainty must not be negative",
+                                where(o, p, i, w1, sizeof w1));
+        if (p->u_t_k > 0.0 || p->u_r_ohm > 0.0)
+            any_u = 1;
+    }
+    if (any_u)
+        for (size_t i = 0; i < n; i++)
+            if (!(pts[i].u_t_k > 0.0 || pts[i].u_r_ohm > 0.0))
+                return bg_error_set(err, BG_EINVAL, "%s: no uncertainty, while other points "
+                                    "have one", where(o, &pts[i], i, w1, sizeof w1));
+    *weighted = any_u;
+
+    for (size_t i = 0; i < n; i++)
+        fr->sorted[i].t = pts[i].t_k, fr->sorted[i].r = pts[i].r_ohm, fr->sorted[i].i = i;
+    qsort(fr->sorted, n, sizeof fr->sorted[0], cmp_t);
+    for (size_t j = 1; j < n; j++) {
+        const struct tsort *a = &fr->sorted[j - 1], *b = &fr->sorted[j];
+        if (a->t == b->t && a->r == b->r) {
+            size_t first = a->i < b->i ? a->i : b->i, second = a->i < b->i ? b->i : a->i;
+            return bg_error_set(err, BG_EINVAL, "%s: duplicate of %s (same temperature and "
+                                "resistance)", where(o, &pts[second], second, w1, sizeof w1),
+                                where(o, &pts[first], first, w2, sizeof w2));
+        }
+    }
+    /* An NTC's resistance falls as it warms: each point is compared with the nearest point
+    ** that is colder by more than 'mono_gap_k' (closer pairs may cross within noise). */
+    for (size_t j = 1, i = 0; j < n; j++) {
+        const struct tsort *b = &fr->sorted[j];
+        while (i + 1 < j && b->t - fr->sorted[i + 1].t > o->mono_gap_k)
+            i++;
+        const struct tsort *a = &fr->sorted[i];
+        if (b->t - a->t > o->mono_gap_k && !(b->r < a->r))
+            return bg_error_set(err, BG_EINVAL, "%s: resistance rises with temperature "
+                                "(%.6g ohm at %.3f K, %s has %.6g ohm at %.3f K): not an NTC, "
+                                "or columns swapped", where(o, &pts[b->i], b->i, w1, sizeof w1),
+                                b->r, b->t, where(o, &pts[a->i], a->i, w2, sizeof w2), a->r,
+                                a->t);
+    }
+    return BG_OK;
+}
+
+/* Weighted linear fit in 1/T with the current u[]. */
+static int linear_step(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *pw,
+                       size_t nb, double min_rcond, bg_linfit *lf)
+{
+    double scale[MAXB], work[MAXB];
+    for (size_t i = 0; i < n; i++) {
+        double t = pts[i].t_k, sw = t * t / fr->u[i]; /* 1/u(1/T) */
+        basis_row(fr->L[i], pw, nb, &fr->A[i * nb]);
+        for (size_t j = 0; j < nb; j++)
+            fr->A[i * nb + j] *= sw;
+        fr->b[i] = sw / t;
+    }
+    return bgi_lin_qr(fr->A, fr->b, n, nb, min_rcond, scale, work, lf);
+}
+
+/* Weighted sum of squared temperature residuals at 'c'; +inf if the model leaves 1/T > 0. */
+static double t_chi2(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *pw, size_t nb,
+                     const double *c)
+{
+    double s = 0.0, g[MAXB];
+    for (size_t i = 0; i < n; i++) {
+        double f = 0.0;
+        basis_row(fr->L[i], pw, nb, g);
+        for (size_t j = 0; j < nb; j++)
+            f += c[j] * g[j];
+        if (!(f > 0.0))
+            return INFINITY;
+        fr->tm[i] = 1.0 / f;
+        double r = (fr->tm[i] - pts[i].t_k) / fr->u[i];
+        s += r * r;
+    }
+    return s;
+}
+
+/* Build the weighted Jacobian of T_model into A and -r into b at 'c' (tm[] must be current). */
+static void jacobian(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *pw, size_t nb)
+{
+    for (size_t i = 0; i < n; i++) {
+        double t2 = fr->tm[i] * fr->tm[i] / fr->u[i];
+        basis_row(fr->L[i], pw, nb, &fr->A[i * nb]);
+        for (size_t j = 0; j < nb; j++)
+            fr->A[i * nb + j] *= -t2;
+        fr->b[i] = -(fr->tm[i] - pts[i].t_k) / fr->u[i];
+    }
+}
+
+/* Gauss-Newton with step halving from 'lf->c'; leaves the solution in 'lf->c' and the
+** covariance (J^T J)^-1 of the last Jacobian in 'lf->cov'. */
+static int refine(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *pw, size_t nb,
+                  const bg_fit_opts *o, bg_linfit *lf, unsigned *iters)
+{
+    double c[MAXB], scale[MAXB], work[MAXB], s = t_chi2(fr, pts, n, pw, nb, lf->c);
+    bg_linfit step;
+
+    memcpy(c, lf->c, nb * sizeof c[0]);
+    if (!isfinite(s))
+        return BG_ENUM;
+    for (unsigned it = 1; it <= o->max_iter; it++) {
+        double cmax = 0.0, dmax = 0.0, trial[MAXB], st = INFINITY, lambda = 1.0;
+        jacobian(fr, pts, n, pw, nb);
+        if (bgi_lin_qr(fr->A, fr->b, n, nb, o->min_rcond, scale, work, &step) != BG_OK)
+            return BG_ENUM;
+        memcpy(lf->cov, step.cov, sizeof lf->cov);
+        lf->rcond = step.rcond, lf->rank = step.rank;
+        /* Compare the step with the size of each term's contribution, in the scaled space. */
+        for (size_t j = 0; j < nb; j++) {
+            cmax = fmax(cmax, fabs(c[j]) * scale[j]);
+            dmax = fmax(dmax, fabs(step.c[j]) * scale[j]);
+        }
+        for (int half = 0; half < 40; half++, lambda *= 0.5) {
+            for (size_t j = 0; j < nb; j++)
+                trial[j] = c[j] + lambda * step.c[j];
+            st = t_chi2(fr, pts, n, pw, nb, trial);
+            if (st <= s)
+                break;
+        }
+        *iters = it;
+        if (st <= s) {
+            memcpy(c, trial, nb * sizeof c[0]);
+            s = st;
+        }
+        if (!(st <= s) || lambda * dmax <= o->xtol * cmax) {
+            memcpy(lf->c, c, nb * sizeof c[0]);
+            t_chi2(fr, pts, n, pw, nb, c); /* leave tm[] at the solution */
+            return BG_OK;
+        }
+    }
+    return BG_ENUM;
+}
+
+int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                  bg_fit *out, bg_error *err)
+{
+    char name[16], w1[300];
+    unsigned pw[MAXB];
+    size_t nb = model_basis(&o->model, pw), npar = bg_model_npar(&o->model);
+    bg_linfit lf;
+    int weighted = 0, any_ur = 0, rc;
+    unsigned iters = 0;
+
+    bg_model_name(&o->model, name, sizeof name);
+    if (n < npar)
+        return bg_error_set(err, BG_EINVAL, "model '%s' needs at least %zu points, got %zu",
+                            name, npar, n);
+    if (fitter_reserve(fr, n) != BG_OK || fit_reserve(out, n) != BG_OK)
+        return bg_error_set(err, BG_ENOMEM, "out of memory fitting %zu points", n);
+    if ((rc = check_points(fr, pts, n, o, &weighted, err)) != BG_OK)
+        return rc;
+
+    for (size_t i = 0; i < n; i++) {
+        fr->L[i] = log(pts[i].r_ohm);
+        if (pts[i].u_r_ohm > 0.0)
+            any_ur = 1;
+        /* First pass: temperature uncertainty only (1 K when none is given). */
+        fr->u[i] = weighted ? (pts[i].u_t_k > 0.0 ? pts[i].u_t_k : 1.0) : 1.0;
+    }
+    memset(&lf, 0, sizeof lf);
+    if (linear_step(fr, pts, n, pw, nb, o->min_rcond, &lf) != BG_OK)
+        return bg_error_set(err, BG_ENUM, "model '%s': the design is rank-deficient or "
+                            "ill-conditioned for these points (reciprocal condition %.2g, "
+                            "limit %.2g): too many coefficients for the range?", name, lf.rcond,
+                            o->min_rcond);
+    if (weighted && any_ur) {
+        double g[MAXB], d;
+        for (size_t i = 0; i < n; i++) {
+            double f = 0.0;
+            d = 0.0;
+            basis_row(fr->L[i], pw, nb, g);
+            for (size_t j = 0; j < nb; j++) {
+                f += lf.c[j] * g[j];
+                if (pw[j] > 0)
+                    d += lf.c[j] * pw[j] * g[j] / fr->L[i];
+            }
+            double t = 1.0 / f, slope = -t * t * d / pts[i].r_ohm; /* dT/dR, K/ohm */
+            double ur = slope * pts[i].u_r_ohm;
+            fr->u[i] = sqrt(pts[i].u_t_k * pts[i].u_t_k + ur * ur);
+        }
+        if (linear_step(fr, pts, n, pw, nb, o->min_rcond, &lf) != BG_OK)
+            return bg_error_set(err, BG_ENUM, "model '%s': ill-conditioned design", name);
+    }
+    if (o->refine) {
+        if (refine(fr, pts, n, pw, nb, o, &lf, &iters) != BG_OK)
+            return bg_error_set(err, BG_ENUM, "model '%s': refinement did not converge in %u "
+                                "iterations", name, o->max_iter);
+    } else if (!isfinite(t_chi2(fr, pts, n, pw, nb, lf.c)))
+        return bg_error_set(err, BG_ENUM, "model '%s': fitted curve gives 1/T <= 0 at a point",
+                            name);
+
+    /* Results.  tm[] holds the fitted temperatures; lf.cov the unscaled covariance. */
+    out->nnotes = 0;
+    out->model = o->model;
+    out->n = n, out->npar = npar, out->dof = n - npar, out->weighted = weighted;
+    out->iterations = iters, out->rcond = lf.rcond;
+    out->chi2 = 0.0;
+    double ss = 0.0, mx = 0.0;
+    out->t_min_k = INFINITY, out->t_max_k = -INFINITY;
+    for (size_t i = 0; i < n; i++) {
+        double r = pts[i].t_k - fr->tm[i];
+        out->resid_mk[i] = 1e3 * r;
+        out->u_k[i] = fr->u[i];
+        out->line[i] = pts[i].line;
+        out->chi2 += (r / fr->u[i]) * (r / fr->u[i]);
+        ss += r * r;
+        mx = fmax(mx, fabs(r));
+        out->t_min_k = fmin(out->t_min_k, pts[i].t_k);
+        out->t_max_k = fmax(out->t_max_k, pts[i].t_k);
+    }
+    out->rms_mk = 1e3 * sqrt(ss / (double)n);
+    out->max_abs_mk = 1e3 * mx;
+    if (out->dof > 0) {
+        out->reduced_chi2 = out->chi2 / (double)out->dof;
+        out->p_value = weighted ? gsl_cdf_chisq_Q(out->chi2, (double)out->dof) : NAN;
+        out->cov_scale = weighted ? (o->inflate ? fmax(1.0, out->reduced_chi2) : 1.0)
+                                  : out->reduced_chi2;
+    } else {
+        out->reduced_chi2 = NAN, out->p_value = NAN, out->cov_scale = NAN;
+    }
+    {
+        /* Information criteria: with stated uncertainties -2 ln L = chi2 + const; otherwise
+        ** the Gaussian profile likelihood n ln(RSS/n), RSS floored at n (1 nK)^2. */
+        double dn = (double)n, k = (double)npar;
+        double m2ll = weighted ? out->chi2 : dn * log(fmax(ss, dn * 1e-18) / dn);
+        out->aic = m2ll + 2.0 * k;
+        out->bic = m2ll + k * log(dn);
+    }
+
+    /* Coefficients and covariance: in the basis first, then in the model's own terms. */
+    double a[MAXB];
+    memset(a, 0, sizeof a);
+    for (size_t j = 0; j < nb; j++)
+        a[pw[j]] = lf.c[j];
+    for (size_t i = 0; i < MAXB * MAXB; i++)
+        out->pcov[i] = 0.0;
+    for (size_t i = 0; i < nb; i++)
+        for (size_t j = 0; j < nb; j++)
+            out->pcov[pw[i] * MAXB + pw[j]] = lf.cov[i * nb + j] * out->cov_scale;
+    for (size_t i = 0; i < MAXB * MAXB; i++)
+        out->cov[i] = 0.0;
+    if (o->model.kind == BG_MODEL_BETA) {
+        double beta = 1.0 / a[1], lnr0 = (1.0 / o->model.t0_k - a[0]) * beta;
+        double r0 = exp(lnr0), jm[2][2];
+        out->model.coef[0] = r0, out->model.coef[1] = beta;
+        /* d(R0, beta)/d(a0, a1) */
+        jm[0][0] = -r0 * beta, jm[0][1] = -r0 * lnr0 * beta;
+        jm[1][0] = 0.0, jm[1][1] = -beta * beta;
+        for (size_t i = 0; i < 2; i++)
+            for (size_t j = 0; j < 2; j++) {
+                double s = 0.0;
+                for (size_t k = 0; k < 2; k++)
+                    for (size_t l = 0; l < 2; l++)
+                        s += jm[i][k] * lf.cov[k * 2 + l] * jm[j][l];
+                out->cov[i * npar + j] = s * out->cov_scale;
+            }
+    } else {
+        for (size_t j = 0; j < nb; j++)
+            out->model.coef[j] = lf.c[j];
+        for (size_t i = 0; i < nb * nb; i++)
+            out->cov[i] = lf.cov[i] * out->cov_scale;
+    }
+    for (size_t j = npar; j < MAXB; j++)
+        out->model.coef[j] = 0.0;
+
+    /* Studentized residuals from the leverages h_i = j_i (J^T J)^-1 j_i^T. */
+    double sigma = out->dof > 0 ? sqrt(out->chi2 / (double)out->dof) : NAN;
+    for (size_t i = 0; i < n; i++) {
+        double g[MAXB], h = 0.0, t2 = fr->tm[i] * fr->tm[i] / fr->u[i];
+        basis_row(fr->L[i], pw, nb, g);
+        for (size_t j = 0; j < nb; j++)
+            for (size_t k = 0; k < nb; k++)
+                h += g[j] * t2 * lf.cov[j * nb + k] * g[k] * t2;
+        double r = (pts[i].t_k - fr->tm[i]) / fr->u[i];
+        out->student[i] = (out->dof > 0 && 1.0 - h > 1e-10 && sigma > 0.0)
+                              ? r / (sigma * sqrt(1.0 - h)) : NAN;
+        if (fabs(out->student[i]) > o->student_limit)
+            add_note(out, BG_NOTE_OUTLIER, pts[i].line, "%s: studentized residual %.2f "
+                     "exceeds %g (residual %.2f mK): check this reading",
+                     where(o, &pts[i], i, w1, sizeof w1), out->student[i], o->student_limit,
+                     out->resid_mk[i]);
+    }
+    if (out->dof == 0) {
+        for (size_t i = 0; i < MAXB * MAXB; i++)
+            out->cov[i] = NAN, out->pcov[i] = NAN;
+        add_note(out, BG_NOTE_NODOF, 0, "%s: %zu points for %zu coefficients: no degrees of "
+                 "freedom left: uncertainty cannot be estimated",
+                 o->source ? o->source : "fit", n, npar);
+    } else if (weighted && out->p_value < 0.01) {
+        add_note(out, BG_NOTE_CHI2, 0, "%s: residuals exceed the stated uncertainties "
+                 "(reduced chi2 = %.3g, p = %.2g)%s", o->source ? o->source : "fit",
+                 out->reduced_chi2, out->p_value,
+                 o->inflate ? "; the covariance is scaled up by reduced chi2" : "");
+    }
+    /* The curve must stay monotonic over the calibrated range. */
+    {
+        double lmin = INFINITY, lmax = -INFINITY;
+        for (size_t i = 0; i < n; i++)
+            lmin = fmin(lmin, fr->L[i]), lmax = fmax(lmax, fr->L[i]);
+        for (int s = 0; s <= 64; s++) {
+            double L = lmin + (lmax - lmin) * s / 64.0, d = 0.0, pwr = 1.0;
+            for (size_t k = 1; k < MAXB; k++, pwr *= L)
+                d += (double)k * a[k] * pwr;
+            if (!(d > 0.0)) {
+                add_note(out, BG_NOTE_MONOTONIC, 0, "%s: the fitted '%s' curve is not "
+                         "monotonic inside the calibrated range (near %.6g ohm): too many "
+                         "coefficients for these points?", o->source ? o->source : "fit",
+                         name, exp(L));
+                break;
+            }
+        }
+    }
+    return BG_OK;
+}
+
+int bg_fit_points(const bg_point *pts, size_t n, const bg_fit_opts *o, bg_fit *out,
+                  bg_error *err)
+{
+    bg_fitter *fr = bg_fitter_new();
+    int rc;
+    if (!fr)
+        return bg_error_set(err, BG_ENOMEM, "out of memory");
+    rc = bg_fitter_run(fr, pts, n, o, out, err);
+    bg_fitter_free(fr);
+    return rc;
+}
+
+int bg_fit_u_t(const bg_fit *fit, double t_k, double *u_k, int *extrapolated, bg_error *err)
+{
+    double r, L, g[MAXB], s = 0.0;
+    int rc = bg_model_r_from_t(&fit->model, t_k, &r, err);
+    if (rc != BG_OK)
+        return rc;
+    if (extrapolated)
+        *extrapolated = t_k < fit->t_min_k || t_k > fit->t_max_k;
+    L = log(r);
+    g[0] = 1.0;
+    for (size_t k = 1; k < MAXB; k++)
+        g[k] = g[k - 1] * L;
+    for (size_t i = 0; i < MAXB; i++)
+        for (size_t j = 0; j < MAXB; j++)
+            if (fit->pcov[i * MAXB + j] != 0.0 || isnan(fit->pcov[i * MAXB + j]))
+                s += g[i] * fit->pcov[i * MAXB + j] * g[j];
+    *u_k = (s >= 0.0) ? t_k * t_k * sqrt(s) : NAN;
+    return BG_OK;
+}
+
+double bg_fit_coverage_k(const bg_fit *fit, double coverage)
+{
+    if (fit->dof == 0)
+        return NAN;
+    return gsl_cdf_tdist_Pinv(0.5 + 0.5 * coverage, (double)fit->dof);
+}
+
+int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                   bg_cmp *out, bg_error *err)
+{
+    static const char *names[BG_CMP_MAX] = { "beta", "sh3", "poly:2", "sh4", "poly:4", "poly:5" };
+    bg_fit f = BG_FIT_INIT, g = BG_FIT_INIT;
+    bg_error e2 = BG_ERROR_INIT;
+    int rc = BG_OK;
+    double best = INFINITY;
+
+    memset(out, 0, sizeof *out);
+    out->chosen = -1;
+    if (n > fr->subcap) {
+        bg_point *s = realloc(fr->sub, n * sizeof *s);
+        if (!s)
+            return bg_error_set(err, BG_ENOMEM, "out of memory comparing models");
+        fr->sub = s, fr->subcap = n;
+    }
+    for (size_t m = 0; m < BG_CMP_MAX; m++) {
+        bg_cmp_row *row = &out->row[out->nrows++];
+        bg_fit_opts oo = *o;
+        bg_model_parse(names[m], &row->model, NULL);
+        row->model.t0_k = o->model.t0_k > 0.0 ? o->model.t0_k : BG_T0_DEFAULT_K;
+        oo.model = row->model;
+        row->npar = bg_model_npar(&row->model);
+        if (n < row->npar + 2) {
+            snprintf(row->why, sizeof row->why, "needs at least %zu points", row->npar + 2);
+            continue;
+        }
+        if (bg_fitter_run(fr, pts, n, &oo, &f, &e2) != BG_OK) {
+            if (e2.code == BG_EINVAL) { /* bad data fails every model alike */
+                rc = bg_error_set(err, e2.code, "%s", e2.msg);
+                goto done;
+            }
+            snprintf(row->why, sizeof row->why, "%.150s", e2.msg);
+            continue;
+        }
+        row->model = f.model;
+        row->rms_mk = f.rms_mk, row->max_abs_mk = f.max_abs_mk, row->chi2 = f.chi2;
+        row->aic = f.aic, row->bic = f.bic;
+        double ss = 0.0;
+        int loo_ok = 1;
+        for (size_t i = 0; i < n && loo_ok; i++) {
+            double t;
+            memcpy(fr->sub, pts, i * sizeof *pts);
+            memcpy(fr->sub + i, pts + i + 1, (n - i - 1) * sizeof *pts);
+            if (bg_fitter_run(fr, fr->sub, n - 1, &oo, &g, &e2) != BG_OK ||
+                bg_model_t_from_r(&g.model, pts[i].r_ohm, &t, &e2) != BG_OK) {
+                loo_ok = 0;
+                break;
+            }
+            ss += (pts[i].t_k - t) * (pts[i].t_k - t);
+        }
+        if (!loo_ok) {
+            snprintf(row->why, sizeof row->why, "leave-one-out fit failed: %.120s", e2.msg);
+            continue;
+        }
+        row->loo_rms_mk = 1e3 * sqrt(ss / (double)n);
+        row->ok = 1;
+        best = fmin(best, row->bic);
+    }
+    for (size_t m = 0; m < out->nrows; m++) {
+        const bg_cmp_row *row = &out->row[m];
+        if (row->ok && row->bic <= best + 2.0 &&
+            (out->chosen < 0 || row->npar < out->row[out->chosen].npar))
+            out->chosen = (int)m;
+    }
+    if (out->chosen < 0) {
+        rc = bg_error_set(err, BG_EINVAL, "no model could be compared on %zu points "
+                          "(at least 4 are needed)", n);
+        goto done;
+    }
+    {
+        const bg_cmp_row *c = &out->row[out->chosen];
+        char nm[16];
+        bg_model_name(&c->model, nm, sizeof nm);
+        if (c->bic == best)
+            snprintf(out->reason, sizeof out->reason, "'%s' has the lowest BIC (%.2f); "
+                     "leave-one-out RMS %.3g mK", nm, c->bic, c->loo_rms_mk);
+        else
+            snprintf(out->reason, sizeof out->reason, "'%s' is within 2 of the lowest BIC "
+                     "(%.2f against %.2f) with fewer coefficients; leave-one-out RMS %.3g mK",
+                     nm, c->bic, best, c->loo_rms_mk);
+    }
+done:
+    bg_fit_release(&f);
+    bg_fit_release(&g);
+    return rc;
+}

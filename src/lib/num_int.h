@@ -1,0 +1,14 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Internal: strict decimal number scanning shared by 'units' and 'csv'. */
+#ifndef BANDGAP_NUM_INT_H
+#define BANDGAP_NUM_INT_H
+
+#include <stddef.h>
+
+/* Scan a decimal number at 's' (optional sign, digits, optional '.' or 'dec_mark' and digits,
+** optional exponent) and store it in '*v'.  Refuses hex, "inf", "nan" and numbers that
+** overflow to infinity.  Returns the number of characters used, or 0 when 's' does not start
+** with a number.  'dec_mark' is '.' or ','. */
+size_t bgi_num_scan(const char *s, size_t len, char dec_mark, double *v);
+
+#endif

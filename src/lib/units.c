@@ -1,0 +1,240 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Temperatures and resistances at the edges of bandgap.  t/degC = T/K - 273.15 and
+** t/degF = 1.8 t/degC + 32 exactly (ITS-90, Preston-Thomas 1990; common practice for degF). */
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "bandgap/units.h"
+#include "num_int.h"
+
+static const char *skip_space(const char *s)
+{
+    while (*s == ' ' || *s == '\t')
+        s++;
+    return s;
+}
+
+static int match_word(const char *s, const char *word)
+{
+    size_t n = strlen(word);
+    return strncmp(s, word, n) == 0 && *skip_space(s + n) == '\0';
+}
+
+/* Recognise a temperature unit word that fills the rest of 's'. */
+static bg_temp_unit unit_word(const char *s)
+{
+    static const struct { const char *w; bg_temp_unit u; } words[] = {
+        { "K", BG_UNIT_K },     { "C", BG_UNIT_C },       { "F", BG_UNIT_F },
+        { "c", BG_UNIT_C },     { "f", BG_UNIT_F },       { "\xC2\xB0" "C", BG_UNIT_C },
+        { "\xC2\xB0" "F", BG_UNIT_F }, { "degC", BG_UNIT_C }, { "degF", BG_UNIT_F },
+        { "\xE2\x84\x83", BG_UNIT_C }, /* U+2103 DEGREE CELSIUS */
+    };
+    for (size_t i = 0; i < sizeof words / sizeof words[0]; i++)
+        if (match_word(s, words[i].w))
+            return words[i].u;
+    return BG_UNIT_NONE;
+}
+
+double bg_units_to_k(double t, bg_temp_unit unit)
+{
+    switch (unit) {
+    case BG_UNIT_C: return t + BG_ZERO_C_K;
+    case BG_UNIT_F: return (t - 32.0) / 1.8 + BG_ZERO_C_K;
+    default: return t;
+    }
+}
+
+double bg_units_from_k(double t_k, bg_temp_unit unit)
+{
+    switch (unit) {
+    case BG_UNIT_C: return t_k - BG_ZERO_C_K;
+    case BG_UNIT_F: return (t_k - BG_ZERO_C_K) * 1.8 + 32.0;
+    default: return t_k;
+    }
+}
+
+const char *bg_units_symbol(bg_temp_unit unit, int ascii)
+{
+    switch (unit) {
+    case BG_UNIT_C: return ascii ? "C" : "\xC2\xB0" "C";
+    case BG_UNIT_F: return ascii ? "F" : "\xC2\xB0" "F";
+    default: return "K";
+    }
+}
+
+int bg_units_parse_unit(const char *s, bg_temp_unit *unit, bg_error *err)
+{
+    bg_temp_unit u = unit_word(skip_space(s));
+    if (u == BG_UNIT_NONE && match_word(skip_space(s), "k"))
+        u = BG_UNIT_K; /* as an output unit name alone, 'k' cannot mean kilo */
+    if (u == BG_UNIT_NONE)
+        return bg_error_set(err, BG_EINVAL, "'%s': not a temperature unit (use C, K or F)", s);
+    *unit = u;
+    return BG_OK;
+}
+
+int bg_units_parse_temp(const char *s, bg_temp_unit default_unit, double *t_k, bg_error *err)
+{
+    const char *p = skip_space(s);
+    double v, k;
+    size_t n = bgi_num_scan(p, strlen(p), '.', &v);
+    bg_temp_unit u;
+
+    if (n == 0)
+        return bg_error_set(err, BG_EINVAL, "'%s': not a temperature", s);
+    p = skip_space(p + n);
+    if (*p == '\0') {
+        if (default_unit == BG_UNIT_NONE)
+            return bg_error_set(err, BG_EINVAL,
+                                "'%s': temperature needs a unit (K, C or F), e.g. '%sC'", s,
+                                skip_space(s));
+        u = default_unit;
+    } else if ((u = unit_word(p)) == BG_UNIT_NONE) {
+        if (match_word(p, "k"))
+            return bg_error_set(err, BG_EINVAL,
+                                "'%s': ambiguous unit 'k' (kelvin is 'K')", s);
+        return bg_error_set(err, BG_EINVAL, "'%s': unknown temperature unit '%s'", s, p);
+    }
+    k = bg_units_to_k(v, u);
+    if (!(k > 0.0) || !isfinite(k))
+        return bg_error_set(err, BG_EINVAL, "'%s': at or below absolute zero", s);
+    *t_k = k;
+    return BG_OK;
+}
+
+int bg_units_parse_tdiff(const char *s, double *dt_k, bg_error *err)
+{
+    const char *p = skip_space(s);
+    double v, scale;
+    size_t n = bgi_num_scan(p, strlen(p), '.', &v);
+
+    if (n == 0)
+        return bg_error_set(err, BG_EINVAL, "'%s': not a temperature difference", s);
+    p = skip_space(p + n);
+    if (match_word(p, "mK"))
+        scale = 1e-3;
+    else if (match_word(p, "uK") || match_word(p, "\xC2\xB5K"))
+        scale = 1e-6;
+    else if (match_word(p, "F") || match_word(p, "\xC2\xB0" "F") || match_word(p, "degF"))
+        scale = 1.0 / 1.8;
+    else if (*p == '\0')
+        return bg_error_set(err, BG_EINVAL,
+                            "'%s': temperature difference needs a unit (K, mK, C or F)", s);
+    else if (unit_word(p) == BG_UNIT_K || unit_word(p) == BG_UNIT_C)
+        scale = 1.0;
+    else
+        return bg_error_set(err, BG_EINVAL, "'%s': unknown unit '%s'", s, p);
+    if (!(v > 0.0))
+        return bg_error_set(err, BG_EINVAL, "'%s': must be greater than zero", s);
+    *dt_k = v * scale;
+    return BG_OK;
+}
+
+static double prefix_scale(char c)
+{
+    switch (c) {
+    case 'R': case 'r': return 1.0;
+    case 'k': case 'K': return 1e3;
+    case 'M': return 1e6;
+    case 'G': return 1e9;
+    default: return 0.0;
+    }
+}
+
+/* Strip an optional trailing "ohm", "ohms", "Ω" (U+03A9) or "Ω" (U+2126), then spaces. */
+static size_t strip_ohm_word(const char *s, size_t len)
+{
+    static const char *words[] = { "ohms", "ohm", "\xCE\xA9", "\xE2\x84\xA6" };
+    for (size_t i = 0; i < sizeof words / sizeof words[0]; i++) {
+        size_t n = strlen(words[i]);
+        if (len >= n && memcmp(s + len - n, words[i], n) == 0) {
+            len -= n;
+            break;
+        }
+    }
+    while (len > 0 && (s[len - 1] == ' ' || s[len - 1] == '\t'))
+        len--;
+    return len;
+}
+
+int bg_units_parse_ohms(const char *s, double *r_ohm, bg_error *err)
+{
+    const char *p = skip_space(s);
+    size_t len = strip_ohm_word(p, strlen(p)), n;
+    double v = 0.0, scale = 1.0;
+
+    n = bgi_num_scan(p, len, '.', &v);
+    if (n == 0)
+        return bg_error_set(err, BG_EINVAL, "'%s': not a resistance", s);
+    if (n < len) {
+        char c = p[n];
+        if (c == 'm')
+            return bg_error_set(err, BG_EINVAL,
+                                "'%s': ambiguous prefix 'm' (use M for megaohm)", s);
+        scale = prefix_scale(c);
+        if (scale == 0.0)
+            return bg_error_set(err, BG_EINVAL, "'%s': unknown resistance unit '%.*s'", s,
+                                (int)(len - n), p + n);
+        if (n + 1 < len) {
+            /* Infix form "4k7": the prefix is the decimal mark, digits follow. */
+            double frac;
+            size_t m;
+            if (memchr(p, '.', n) || memchr(p, 'e', n) || memchr(p, 'E', n))
+                return bg_error_set(err, BG_EINVAL,
+                                    "'%s': ambiguous: decimal point and '%c' both used", s, c);
+            if (p[n + 1] < '0' || p[n + 1] > '9')
+                return bg_error_set(err, BG_EINVAL, "'%s': not a resistance", s);
+            for (m = n + 1; m < len; m++)
+                if (p[m] < '0' || p[m] > '9')
+                    return bg_error_set(err, BG_EINVAL, "'%s': not a resistance", s);
+            frac = 0.0;
+            for (m = len; m > n + 1; m--)
+                frac = (frac + (p[m - 1] - '0')) / 10.0;
+            v = (v < 0 ? v - frac : v + frac);
+        }
+    }
+    v *= scale;
+    if (!(v > 0.0) || !isfinite(v))
+        return bg_error_set(err, BG_EINVAL, "'%s': resistance must be greater than zero", s);
+    *r_ohm = v;
+    return BG_OK;
+}
+
+int bg_units_parse_fraction(const char *s, double *frac, bg_error *err)
+{
+    const char *p = skip_space(s);
+    double v;
+    size_t n = bgi_num_scan(p, strlen(p), '.', &v);
+
+    if (n == 0)
+        return bg_error_set(err, BG_EINVAL, "'%s': not a number or percentage", s);
+    p = skip_space(p + n);
+    if (*p == '%' && *skip_space(p + 1) == '\0')
+        v /= 100.0;
+    else if (*p != '\0')
+        return bg_error_set(err, BG_EINVAL, "'%s': not a number or percentage", s);
+    if (!(v >= 0.0))
+        return bg_error_set(err, BG_EINVAL, "'%s': must not be negative", s);
+    *frac = v;
+    return BG_OK;
+}
+
+char *bg_units_format_temp(double t_k, bg_temp_unit unit, int decimals, char *buf, size_t size)
+{
+    double v = bg_units_from_k(t_k, unit);
+    if (fabs(v) < 0.5 * pow(10.0, -decimals))
+        v = 0.0; /* never print "-0.000" */
+    snprintf(buf, size, "%.*f %s", decimals, v, bg_units_symbol(unit, 0));
+    return buf;
+}
+
+char *bg_units_format_ohms(double r_ohm, int sig, char *buf, size_t size)
+{
+    int mag = r_ohm > 0.0 ? (int)floor(log10(r_ohm)) : 0;
+    int dec = sig - 1 - mag;
+    if (dec < 0)
+        dec = 0;
+    snprintf(buf, size, "%.*f", dec, r_ohm);
+    return buf;
+}
