@@ -161,8 +161,10 @@ static int solve_l(const double a[BG_MODEL_MAXPAR], double y, double guess, doub
     x = (guess > lo && guess < hi) ? guess : 0.5 * (lo + hi);
     for (int it = 0; it < 200; it++) {
         double d, fx = poly_eval(a, x, &d) - y, nx;
-        if (fx == 0.0)
-            break;
+        if (fx == 0.0) {
+            *l_out = x;
+            return BG_OK;
+        }
         if ((fx < 0.0) == (flo < 0.0))
             lo = x, flo = fx;
         else

@@ -1,0 +1,202 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Model evaluation checked against published and derived values (../shared/refdata, copied
+** in REFERENCES comments): the encyclopedia Steinhart-Hart example and the beta tables. */
+#include "testutil.h"
+
+/* Wikipedia "Thermistor", Steinhart-Hart section (published): A, B, C for a ~3 kOhm part. */
+static const double SH_A = 1.40e-3, SH_B = 2.37e-4, SH_C = 9.90e-8;
+/* R at t (derived in 40-digit arithmetic from those coefficients; refdata section 1). */
+static const double SH_T[] = { -20, 0, 10, 20, 25, 30, 40, 50, 60, 70, 80, 90, 100 };
+static const double SH_R[] = { 29837.6817,  10030.2176,  6110.382219, 3833.327593, 3067.500051,
+                               2470.600113, 1632.375100, 1103.547411, 762.005731,  536.581242,
+                               384.768785,  280.598155,  207.861671 };
+
+static bg_model sh3_ref(void)
+{
+    bg_model m;
+    double c[3] = { SH_A, SH_B, SH_C };
+    assert_int_equal(bg_model_parse("sh3", &m, NULL), BG_OK);
+    assert_int_equal(bg_model_set_coef(&m, c, 3, NULL), BG_OK);
+    return m;
+}
+
+static bg_model beta_ref(double b)
+{
+    bg_model m;
+    double c[2] = { 10000.0, b };
+    assert_int_equal(bg_model_parse("beta", &m, NULL), BG_OK);
+    assert_int_equal(bg_model_set_coef(&m, c, 2, NULL), BG_OK);
+    return m;
+}
+
+static void sh3_table_both_ways(void **state)
+{
+    (void)state;
+    bg_model m = sh3_ref();
+    for (size_t i = 0; i < sizeof SH_T / sizeof SH_T[0]; i++) {
+        double r, t;
+        assert_int_equal(bg_model_r_from_t(&m, SH_T[i] + 273.15, &r, NULL), BG_OK);
+        assert_close(r, SH_R[i], 1e-6, 0); /* refdata 1, derived */
+        assert_int_equal(bg_model_t_from_r(&m, SH_R[i], &t, NULL), BG_OK);
+        assert_close(t, SH_T[i] + 273.15, 1e-6, 0);
+    }
+}
+
+static void sh3_point_values(void **state)
+{
+    (void)state;
+    bg_model m = sh3_ref();
+    double t, d, beta, b;
+    assert_int_equal(bg_model_t_from_r(&m, 3000.0, &t, NULL), BG_OK);
+    assert_close(t, 298.6573936, 1e-9, 0);           /* refdata 1: T(3000 ohm), derived */
+    assert_int_equal(bg_model_dtdr(&m, 3067.500051, &d, NULL), BG_OK);
+    assert_close(d, -0.00742283, 1e-6, 0);           /* refdata 1: dT/dR at 25 degC */
+    assert_int_equal(bg_model_beta_local(&m, 298.15, &beta, NULL), BG_OK);
+    assert_close(beta, 3904.05, 0, 0.005);           /* refdata 1: local beta at 25 degC */
+    /* refdata 1: two-point B values, derived */
+    assert_int_equal(bg_model_b_pair(&m, 298.15, 323.15, &b, NULL), BG_OK);
+    assert_close(b, 3939.9558, 0, 1e-4);
+    assert_int_equal(bg_model_b_pair(&m, 298.15, 358.15, &b, NULL), BG_OK);
+    assert_close(b, 3979.1852, 0, 1e-4);
+    assert_int_equal(bg_model_b_pair(&m, 298.15, 373.15, &b, NULL), BG_OK);
+    assert_close(b, 3992.9233, 0, 1e-4);
+    assert_int_equal(bg_model_b_pair(&m, 273.15, 323.15, &b, NULL), BG_OK);
+    assert_close(b, 3896.2960, 0, 1e-4);
+}
+
+static void sh4_kilohm_unit_trap(void **state)
+{
+    (void)state;
+    /* refdata 1 (derived): with R in kOhm the same curve is sh4 with these coefficients. */
+    double c[4] = { 3.06977017638e-3, 2.51171973649e-4, 2.05160331786e-6, 9.90e-8 };
+    bg_model m;
+    assert_int_equal(bg_model_parse("sh4", &m, NULL), BG_OK);
+    assert_int_equal(bg_model_set_coef(&m, c, 4, NULL), BG_OK);
+    for (size_t i = 0; i < sizeof SH_T / sizeof SH_T[0]; i++) {
+        double t, r;
+        assert_int_equal(bg_model_t_from_r(&m, SH_R[i] / 1000.0, &t, NULL), BG_OK);
+        assert_close(t, SH_T[i] + 273.15, 1e-6, 0);
+        /* sh4 has no closed-form inverse: this is the safeguarded Newton path */
+        assert_int_equal(bg_model_r_from_t(&m, SH_T[i] + 273.15, &r, NULL), BG_OK);
+        assert_close(r * 1000.0, SH_R[i], 1e-6, 0);
+    }
+}
+
+static void beta_tables_both_ways(void **state)
+{
+    (void)state;
+    /* refdata 2: R = R25 exp(B (1/T - 1/T0)), derived; B values common practice. */
+    static const double t[] = { -40, -20, 0, 10, 25, 37, 50, 85, 100 };
+    static const double r3435[] = { 248276.5246, 77522.54979, 28704.29039, 18410.43765, 10000,
+                                    6403.372417, 4101.189901, 1451.347087, 987.0367685 };
+    static const double r3950[] = { 401859.7246, 105384.6902, 33620.60372, 20174.57702, 10000,
+                                    5989.411673, 3588.182582, 1086.670769, 697.519773 };
+    bg_model m1 = beta_ref(3435.0), m2 = beta_ref(3950.0);
+    for (size_t i = 0; i < sizeof t / sizeof t[0]; i++) {
+        double r, tk;
+        assert_int_equal(bg_model_r_from_t(&m1, t[i] + 273.15, &r, NULL), BG_OK);
+        assert_close(r, r3435[i], 1e-9, 0);
+        assert_int_equal(bg_model_r_from_t(&m2, t[i] + 273.15, &r, NULL), BG_OK);
+        assert_close(r, r3950[i], 1e-9, 0);
+        assert_int_equal(bg_model_t_from_r(&m1, r3435[i], &tk, NULL), BG_OK);
+        assert_close(tk, t[i] + 273.15, 1e-9, 0);
+        assert_int_equal(bg_model_t_from_r(&m2, r3950[i], &tk, NULL), BG_OK);
+        assert_close(tk, t[i] + 273.15, 1e-9, 0);
+    }
+}
+
+static void beta_point_values(void **state)
+{
+    (void)state;
+    bg_model m1 = beta_ref(3435.0), m2 = beta_ref(3950.0);
+    double t, a[BG_MODEL_MAXPAR], alpha, b;
+    /* refdata 2: T(5000 ohm) */
+    assert_int_equal(bg_model_t_from_r(&m1, 5000.0, &t, NULL), BG_OK);
+    assert_close(t - 273.15, 44.08605046, 0, 1e-7);
+    assert_int_equal(bg_model_t_from_r(&m2, 5000.0, &t, NULL), BG_OK);
+    assert_close(t - 273.15, 41.4602348, 0, 1e-6);
+    /* refdata 2: alpha at 25 degC = -B/T^2 */
+    assert_int_equal(bg_model_alpha(&m1, 298.15, &alpha, NULL), BG_OK);
+    assert_close(100.0 * alpha, -3.86418, 0, 1e-5);
+    assert_int_equal(bg_model_alpha(&m2, 298.15, &alpha, NULL), BG_OK);
+    assert_close(100.0 * alpha, -4.44352, 0, 1e-5);
+    /* refdata 2: published identity a = 1/T0 - ln(R0)/B, b = 1/B */
+    bg_model_inv_poly(&m1, a);
+    assert_close(a[0], 6.7269463789e-4, 1e-10, 0);
+    assert_close(a[1], 2.91120815138e-4, 1e-11, 0);
+    bg_model_inv_poly(&m2, a);
+    assert_close(a[0], 1.02228469494e-3, 1e-10, 0);
+    assert_close(a[1], 2.53164556962e-4, 1e-11, 0);
+    /* refdata 2: +1 % of R25 is about -0.2575 K (3435) and -0.2239 K (3950) at 25 degC.
+    ** Those are first-order values, ln(1.01) T^2 / B; the exact shift differs by the
+    ** second-order term (2e-4 K here), so "about" is taken as 0.5 mK. */
+    assert_int_equal(bg_model_t_from_r(&m1, 10100.0, &t, NULL), BG_OK);
+    assert_close(t - 298.15, -0.2575, 0, 5e-4);
+    assert_int_equal(bg_model_t_from_r(&m2, 10100.0, &t, NULL), BG_OK);
+    assert_close(t - 298.15, -0.2239, 0, 5e-4);
+    /* the B value of a pure beta curve is beta for any pair (definition) */
+    assert_int_equal(bg_model_b_pair(&m2, 273.15, 373.15, &b, NULL), BG_OK);
+    assert_close(b, 3950.0, 1e-12, 0);
+}
+
+static void poly_newton_round_trip(void **state)
+{
+    (void)state;
+    /* Invented poly:5 coefficients close to a 10 kOhm part; round trip T -> R -> T to 1e-12. */
+    double c[6] = { 1.1384e-3, 2.3245e-4, 1.7012e-7, 9.4871e-8, -1.3e-10, 2.1e-12 };
+    bg_model m;
+    assert_int_equal(bg_model_parse("poly:5", &m, NULL), BG_OK);
+    assert_int_equal(bg_model_set_coef(&m, c, 6, NULL), BG_OK);
+    for (double tc = -55.0; tc <= 150.0; tc += 7.3) {
+        double r, t, tk = tc + 273.15, a[6];
+        assert_int_equal(bg_model_r_from_t(&m, tk, &r, NULL), BG_OK);
+        assert_int_equal(bg_model_t_from_r(&m, r, &t, NULL), BG_OK);
+        assert_close(t, tk, 1e-12, 0);
+        /* independent: 1/T evaluated term by term at the returned R */
+        bg_model_inv_poly(&m, a);
+        double L = log(r), y = 0.0;
+        for (int k = 5; k >= 0; k--)
+            y = y * L + a[k];
+        assert_close(1.0 / y, tk, 1e-12, 0);
+    }
+}
+
+static void model_errors(void **state)
+{
+    (void)state;
+    bg_model m;
+    bg_error err = BG_ERROR_INIT;
+    double c[3] = { 1.4e-3, 2.37e-4, NAN }, r;
+    assert_int_equal(bg_model_parse("sh5", &m, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "unknown model 'sh5' (known: sh3, sh4, beta, poly:1 .. poly:5)");
+    assert_int_equal(bg_model_parse("poly:6", &m, &err), BG_EINVAL);
+    assert_int_equal(bg_model_parse("sh3", &m, &err), BG_OK);
+    assert_int_equal(bg_model_set_coef(&m, c, 2, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "model 'sh3' takes 3 coefficients, got 2");
+    assert_int_equal(bg_model_set_coef(&m, c, 3, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "coefficient 'C' is not a finite number");
+    m = sh3_ref();
+    assert_int_equal(bg_model_t_from_r(&m, -5.0, &r, &err), BG_EINVAL);
+    assert_int_equal(bg_model_r_from_t(&m, 0.0, &r, &err), BG_EINVAL);
+    m = beta_ref(3950.0);
+    /* far below any physical resistance: refused, not a silent number */
+    assert_int_equal(bg_model_r_from_t(&m, 1e-3, &r, &err), BG_EINVAL);
+    double p1, p2;
+    assert_int_equal(bg_model_parse_pair("25/85", &p1, &p2, NULL), BG_OK);
+    assert_close(p1, 298.15, 1e-15, 0);
+    assert_close(p2, 358.15, 1e-15, 0);
+    assert_int_equal(bg_model_parse_pair("25", &p1, &p2, &err), BG_EINVAL);
+    assert_int_equal(bg_model_parse_pair("25/25", &p1, &p2, &err), BG_EINVAL);
+}
+
+int main(void)
+{
+    gsl_set_error_handler(test_gsl_handler);
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(sh3_table_both_ways),   cmocka_unit_test(sh3_point_values),
+        cmocka_unit_test(sh4_kilohm_unit_trap),  cmocka_unit_test(beta_tables_both_ways),
+        cmocka_unit_test(beta_point_values),     cmocka_unit_test(poly_newton_round_trip),
+        cmocka_unit_test(model_errors),
+    };
+    return cmocka_run_group_tests_name("model", tests, NULL, NULL);
+}
