@@ -302,13 +302,13 @@ static void print_text(const struct report *r, const struct fit_request *rq, con
     for (size_t i = 0; i < rq->nat; i++) {
         if (!r->at_ok[i])
             continue;
+        char b3[32] = "n/a";
+        if (isfinite(r->at_u[i]))
+            snprintf(b3, sizeof b3, "%.4f mK", 2e3 * r->at_u[i]);
         printf("at %s: R = %s ohm, U(k=2) = %s%s\n",
                bg_units_format_temp(rq->at_k[i], un, 3, b1, sizeof b1),
-               bg_units_format_ohms(r->at_r[i], 7, b2, sizeof b2),
-               isfinite(r->at_u[i]) ? "" : "n/a",
+               bg_units_format_ohms(r->at_r[i], 7, b2, sizeof b2), b3,
                r->at_extra[i] ? "   EXTRAPOLATED: outside the calibrated range" : "");
-        if (isfinite(r->at_u[i]))
-            printf("  (%.4f mK)\n", 2e3 * r->at_u[i]);
     }
     printf("\nmodel comparison:\n");
     if (r->cmp_ok) {

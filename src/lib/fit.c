@@ -296,6 +296,7 @@ static int refine(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *
                   const bg_fit_opts *o, bg_linfit *lf, unsigned *iters)
 {
     double c[MAXB], scale[MAXB], work[MAXB], s = t_chi2(fr, pts, n, pw, nb, lf->c);
+    double prev_dmax = INFINITY;
     bg_linfit step;
 
     memcpy(c, lf->c, nb * sizeof c[0]);
@@ -313,19 +314,29 @@ static int refine(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *
             cmax = fmax(cmax, fabs(c[j]) * scale[j]);
             dmax = fmax(dmax, fabs(step.c[j]) * scale[j]);
         }
+        /* A small step is inside the region where the model is linear: take it whole, since
+        ** the change of chi2 it brings can be below the rounding noise of chi2 itself.  A
+        ** large step must lower chi2, halving it until it does. */
+        int small = dmax <= 1e-6 * cmax;
         for (int half = 0; half < 40; half++, lambda *= 0.5) {
             for (size_t j = 0; j < nb; j++)
                 trial[j] = c[j] + lambda * step.c[j];
             st = t_chi2(fr, pts, n, pw, nb, trial);
-            if (st <= s)
+            if (st <= s || (small && isfinite(st)))
                 break;
         }
         *iters = it;
-        if (st <= s) {
+        int taken = st <= s || (small && isfinite(st));
+        if (taken) {
             memcpy(c, trial, nb * sizeof c[0]);
             s = st;
         }
-        if (!(st <= s) || lambda * dmax <= o->xtol * cmax) {
+        /* Converged: the step is below 'xtol', or small steps stopped shrinking, which means
+        ** they are rounding noise of an ill-conditioned design (Gauss-Newton steps shrink
+        ** at least linearly while they carry information). */
+        int stalled = small && dmax > 0.5 * prev_dmax;
+        prev_dmax = dmax;
+        if (!taken || lambda * dmax <= o->xtol * cmax || stalled) {
             memcpy(lf->c, c, nb * sizeof c[0]);
             t_chi2(fr, pts, n, pw, nb, c); /* leave tm[] at the solution */
             return BG_OK;
@@ -466,17 +477,21 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
     for (size_t j = npar; j < MAXB; j++)
         out->model.coef[j] = 0.0;
 
-    /* Studentized residuals from the leverages h_i = j_i (J^T J)^-1 j_i^T. */
-    double sigma = out->dof > 0 ? sqrt(out->chi2 / (double)out->dof) : NAN;
+    /* Externally studentized residuals t_i = r_i / (s_(i) sqrt(1 - h_i)), leverages
+    ** h_i = j_i (J^T J)^-1 j_i^T, s_(i)^2 = (chi2 - r_i^2/(1 - h_i)) / (dof - 1): the scatter
+    ** without point i (Belsley, Kuh & Welsch, Regression Diagnostics, 1980, 2.1).  Unlike the
+    ** internally studentized form, which cannot exceed sqrt(dof), this one can flag a blunder
+    ** in a small calibration. */
     for (size_t i = 0; i < n; i++) {
         double g[MAXB], h = 0.0, t2 = fr->tm[i] * fr->tm[i] / fr->u[i];
         basis_row(fr->L[i], pw, nb, g);
         for (size_t j = 0; j < nb; j++)
             for (size_t k = 0; k < nb; k++)
                 h += g[j] * t2 * lf.cov[j * nb + k] * g[k] * t2;
-        double r = (pts[i].t_k - fr->tm[i]) / fr->u[i];
-        out->student[i] = (out->dof > 0 && 1.0 - h > 1e-10 && sigma > 0.0)
-                              ? r / (sigma * sqrt(1.0 - h)) : NAN;
+        double r = (pts[i].t_k - fr->tm[i]) / fr->u[i], s2 = NAN;
+        if (out->dof > 1 && 1.0 - h > 1e-10)
+            s2 = (out->chi2 - r * r / (1.0 - h)) / (double)(out->dof - 1);
+        out->student[i] = (s2 > 0.0) ? r / sqrt(s2 * (1.0 - h)) : NAN;
         if (fabs(out->student[i]) > o->student_limit)
             add_note(out, BG_NOTE_OUTLIER, pts[i].line, "%s: studentized residual %.2f "
                      "exceeds %g (residual %.2f mK): check this reading",

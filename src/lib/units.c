@@ -167,7 +167,20 @@ int bg_units_parse_ohms(const char *s, double *r_ohm, bg_error *err)
     n = bgi_num_scan(p, len, '.', &v);
     if (n == 0)
         return bg_error_set(err, BG_EINVAL, "'%s': not a resistance", s);
-    if (n < len) {
+    if (n < len && (p[n] == ' ' || p[n] == '\t')) {
+        /* "10 k": a space may separate the number from a prefix, which must then end it. */
+        size_t k = n;
+        while (k < len && (p[k] == ' ' || p[k] == '\t'))
+            k++;
+        if (k + 1 != len)
+            return bg_error_set(err, BG_EINVAL, "'%s': not a resistance", s);
+        if (p[k] == 'm')
+            return bg_error_set(err, BG_EINVAL,
+                                "'%s': ambiguous prefix 'm' (use M for megaohm)", s);
+        scale = prefix_scale(p[k]);
+        if (scale == 0.0)
+            return bg_error_set(err, BG_EINVAL, "'%s': unknown resistance unit '%c'", s, p[k]);
+    } else if (n < len) {
         char c = p[n];
         if (c == 'm')
             return bg_error_set(err, BG_EINVAL,

@@ -1,0 +1,46 @@
+#!/bin/sh
+# SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
+# Run the whole test suite against the build in $BUILD: unit tests (cmocka), CLI golden
+# tests, the numpy cross-check and the meta checks.  Ends with "N passed, N failed".
+BUILD=${BUILD:-build}
+PYTHON=${PYTHON:-/usr/bin/python3}
+pass=0
+fail=0
+failed=""
+
+count() { # $1 = 0 for pass, $2 = name
+    if [ "$1" -eq 0 ]; then pass=$((pass + 1)); else fail=$((fail + 1)); failed="$failed $2"; fi
+}
+
+for t in "$BUILD"/tests/test_*; do
+    [ -x "$t" ] || continue
+    out=$("$t" 2>&1)
+    rc=$?
+    printf '%s\n' "$out" | grep -E '^\[ *(FAILED|ERROR|LINE) *\]|^\[==========\] [0-9]+ test' \
+        | sed "s|^|$(basename "$t"): |"
+    n_ok=$(printf '%s\n' "$out" | grep -c '^\[       OK \]')
+    n_bad=$(printf '%s\n' "$out" | grep -c '^\[  FAILED  \] [a-z_]*$')
+    pass=$((pass + n_ok))
+    fail=$((fail + n_bad))
+    if [ "$rc" -ne 0 ] && [ "$n_bad" -eq 0 ]; then fail=$((fail + 1)); fi
+    [ "$rc" -ne 0 ] && failed="$failed $(basename "$t")"
+done
+
+sh tests/cli/run.sh "$BUILD/bandgap" > "$BUILD/cli-tests.log" 2>&1
+cli_rc=$?
+cat "$BUILD/cli-tests.log"
+cli_pass=$(grep -c '^ok ' "$BUILD/cli-tests.log")
+cli_fail=$(grep -c '^not ok ' "$BUILD/cli-tests.log")
+pass=$((pass + cli_pass))
+fail=$((fail + cli_fail))
+[ "$cli_rc" -ne 0 ] && [ "$cli_fail" -eq 0 ] && count 1 cli-runner
+[ "$cli_fail" -gt 0 ] && failed="$failed cli"
+
+sh tests/meta.sh "$BUILD/bandgap"
+count $? meta
+"$PYTHON" tests/xcheck_numpy.py "$BUILD/bandgap"
+count $? xcheck_numpy
+
+echo "tests: $pass passed, $fail failed"
+[ -n "$failed" ] && echo "failing:$failed"
+[ "$fail" -eq 0 ]
