@@ -24,6 +24,7 @@
 struct bg_fitter {
     size_t cap;
     double *L, *u, *A, *b, *tm;
+    double *G;          /* basis rows L_i^k, n x nb, computed once per fit */
     struct tsort { double t, r; size_t i; } *sorted;
     bg_point *sub;      /* scratch for leave-one-out */
     size_t subcap;
@@ -74,7 +75,7 @@ void bg_fitter_free(bg_fitter *fr)
 {
     if (!fr)
         return;
-    free(fr->L), free(fr->u), free(fr->A), free(fr->b), free(fr->tm);
+    free(fr->L), free(fr->u), free(fr->A), free(fr->b), free(fr->tm), free(fr->G);
     free(fr->sorted), free(fr->sub);
     free(fr);
 }
@@ -94,9 +95,11 @@ static int fitter_reserve(bg_fitter *fr, size_t n)
     if (b) fr->b = b;
     double *tm = realloc(fr->tm, cap * sizeof *tm);
     if (tm) fr->tm = tm;
+    double *G = realloc(fr->G, cap * MAXB * sizeof *G);
+    if (G) fr->G = G;
     struct tsort *s = realloc(fr->sorted, cap * sizeof *s);
     if (s) fr->sorted = s;
-    if (!L || !u || !A || !b || !tm || !s)
+    if (!L || !u || !A || !b || !tm || !G || !s)
         return BG_ENOMEM;
     fr->cap = cap;
     return BG_OK;
@@ -217,7 +220,18 @@ static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
 
     for (size_t i = 0; i < n; i++)
         fr->sorted[i].t = pts[i].t_k, fr->sorted[i].r = pts[i].r_ohm, fr->sorted[i].i = i;
-    qsort(fr->sorted, n, sizeof fr->sorted[0], cmp_t);
+    if (n <= 32) { /* insertion sort: the usual calibration has a dozen points */
+        for (size_t i = 1; i < n; i++) {
+            struct tsort v = fr->sorted[i];
+            size_t j = i;
+            while (j > 0 && fr->sorted[j - 1].t > v.t) {
+                fr->sorted[j] = fr->sorted[j - 1];
+                j--;
+            }
+            fr->sorted[j] = v;
+        }
+    } else
+        qsort(fr->sorted, n, sizeof fr->sorted[0], cmp_t);
     for (size_t j = 1; j < n; j++) {
         const struct tsort *a = &fr->sorted[j - 1], *b = &fr->sorted[j];
         if (a->t == b->t && a->r == b->r) {
@@ -245,28 +259,27 @@ static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
 }
 
 /* Weighted linear fit in 1/T with the current u[]. */
-static int linear_step(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *pw,
-                       size_t nb, double min_rcond, bg_linfit *lf)
+static int linear_step(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb,
+                       double min_rcond, bg_linfit *lf)
 {
     double scale[MAXB], work[MAXB];
     for (size_t i = 0; i < n; i++) {
         double t = pts[i].t_k, sw = t * t / fr->u[i]; /* 1/u(1/T) */
-        basis_row(fr->L[i], pw, nb, &fr->A[i * nb]);
+        const double *g = &fr->G[i * nb];
         for (size_t j = 0; j < nb; j++)
-            fr->A[i * nb + j] *= sw;
+            fr->A[j * n + i] = g[j] * sw;
         fr->b[i] = sw / t;
     }
     return bgi_lin_qr(fr->A, fr->b, n, nb, min_rcond, scale, work, lf);
 }
 
 /* Weighted sum of squared temperature residuals at 'c'; +inf if the model leaves 1/T > 0. */
-static double t_chi2(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *pw, size_t nb,
-                     const double *c)
+static double t_chi2(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, const double *c)
 {
-    double s = 0.0, g[MAXB];
+    double s = 0.0;
     for (size_t i = 0; i < n; i++) {
         double f = 0.0;
-        basis_row(fr->L[i], pw, nb, g);
+        const double *g = &fr->G[i * nb];
         for (size_t j = 0; j < nb; j++)
             f += c[j] * g[j];
         if (!(f > 0.0))
@@ -279,23 +292,23 @@ static double t_chi2(bg_fitter *fr, const bg_point *pts, size_t n, const unsigne
 }
 
 /* Build the weighted Jacobian of T_model into A and -r into b at 'c' (tm[] must be current). */
-static void jacobian(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *pw, size_t nb)
+static void jacobian(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb)
 {
     for (size_t i = 0; i < n; i++) {
         double t2 = fr->tm[i] * fr->tm[i] / fr->u[i];
-        basis_row(fr->L[i], pw, nb, &fr->A[i * nb]);
+        const double *g = &fr->G[i * nb];
         for (size_t j = 0; j < nb; j++)
-            fr->A[i * nb + j] *= -t2;
+            fr->A[j * n + i] = -t2 * g[j];
         fr->b[i] = -(fr->tm[i] - pts[i].t_k) / fr->u[i];
     }
 }
 
 /* Gauss-Newton with step halving from 'lf->c'; leaves the solution in 'lf->c' and the
 ** covariance (J^T J)^-1 of the last Jacobian in 'lf->cov'. */
-static int refine(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *pw, size_t nb,
-                  const bg_fit_opts *o, bg_linfit *lf, unsigned *iters)
+static int refine(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, const bg_fit_opts *o,
+                  bg_linfit *lf, unsigned *iters)
 {
-    double c[MAXB], scale[MAXB], work[MAXB], s = t_chi2(fr, pts, n, pw, nb, lf->c);
+    double c[MAXB], scale[MAXB], work[MAXB], s = t_chi2(fr, pts, n, nb, lf->c);
     double prev_dmax = INFINITY;
     bg_linfit step;
 
@@ -304,15 +317,16 @@ static int refine(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *
         return BG_ENUM;
     for (unsigned it = 1; it <= o->max_iter; it++) {
         double cmax = 0.0, dmax = 0.0, trial[MAXB], st = INFINITY, lambda = 1.0;
-        jacobian(fr, pts, n, pw, nb);
+        jacobian(fr, pts, n, nb);
         if (bgi_lin_qr(fr->A, fr->b, n, nb, o->min_rcond, scale, work, &step) != BG_OK)
             return BG_ENUM;
         memcpy(lf->cov, step.cov, sizeof lf->cov);
         lf->rcond = step.rcond, lf->rank = step.rank;
         /* Compare the step with the size of each term's contribution, in the scaled space. */
         for (size_t j = 0; j < nb; j++) {
-            cmax = fmax(cmax, fabs(c[j]) * scale[j]);
-            dmax = fmax(dmax, fabs(step.c[j]) * scale[j]);
+            double cj = fabs(c[j]) * scale[j], dj = fabs(step.c[j]) * scale[j];
+            cmax = cj > cmax ? cj : cmax;
+            dmax = dj > dmax ? dj : dmax;
         }
         /* A small step is inside the region where the model is linear: take it whole, since
         ** the change of chi2 it brings can be below the rounding noise of chi2 itself.  A
@@ -321,7 +335,7 @@ static int refine(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *
         for (int half = 0; half < 40; half++, lambda *= 0.5) {
             for (size_t j = 0; j < nb; j++)
                 trial[j] = c[j] + lambda * step.c[j];
-            st = t_chi2(fr, pts, n, pw, nb, trial);
+            st = t_chi2(fr, pts, n, nb, trial);
             if (st <= s || (small && isfinite(st)))
                 break;
         }
@@ -338,7 +352,7 @@ static int refine(bg_fitter *fr, const bg_point *pts, size_t n, const unsigned *
         prev_dmax = dmax;
         if (!taken || lambda * dmax <= o->xtol * cmax || stalled) {
             memcpy(lf->c, c, nb * sizeof c[0]);
-            t_chi2(fr, pts, n, pw, nb, c); /* leave tm[] at the solution */
+            t_chi2(fr, pts, n, nb, c); /* leave tm[] at the solution */
             return BG_OK;
         }
     }
@@ -366,23 +380,24 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
 
     for (size_t i = 0; i < n; i++) {
         fr->L[i] = log(pts[i].r_ohm);
+        basis_row(fr->L[i], pw, nb, &fr->G[i * nb]);
         if (pts[i].u_r_ohm > 0.0)
             any_ur = 1;
         /* First pass: temperature uncertainty only (1 K when none is given). */
         fr->u[i] = weighted ? (pts[i].u_t_k > 0.0 ? pts[i].u_t_k : 1.0) : 1.0;
     }
     memset(&lf, 0, sizeof lf);
-    if (linear_step(fr, pts, n, pw, nb, o->min_rcond, &lf) != BG_OK)
+    if (linear_step(fr, pts, n, nb, o->min_rcond, &lf) != BG_OK)
         return bg_error_set(err, BG_ENUM, "model '%s': the design is rank-deficient or "
                             "ill-conditioned for these points (reciprocal condition %.2g, "
                             "limit %.2g): too many coefficients for the range?", name, lf.rcond,
                             o->min_rcond);
     if (weighted && any_ur) {
-        double g[MAXB], d;
+        double d;
         for (size_t i = 0; i < n; i++) {
             double f = 0.0;
+            const double *g = &fr->G[i * nb];
             d = 0.0;
-            basis_row(fr->L[i], pw, nb, g);
             for (size_t j = 0; j < nb; j++) {
                 f += lf.c[j] * g[j];
                 if (pw[j] > 0)
@@ -392,14 +407,14 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
             double ur = slope * pts[i].u_r_ohm;
             fr->u[i] = sqrt(pts[i].u_t_k * pts[i].u_t_k + ur * ur);
         }
-        if (linear_step(fr, pts, n, pw, nb, o->min_rcond, &lf) != BG_OK)
+        if (linear_step(fr, pts, n, nb, o->min_rcond, &lf) != BG_OK)
             return bg_error_set(err, BG_ENUM, "model '%s': ill-conditioned design", name);
     }
     if (o->refine) {
-        if (refine(fr, pts, n, pw, nb, o, &lf, &iters) != BG_OK)
+        if (refine(fr, pts, n, nb, o, &lf, &iters) != BG_OK)
             return bg_error_set(err, BG_ENUM, "model '%s': refinement did not converge in %u "
                                 "iterations", name, o->max_iter);
-    } else if (!isfinite(t_chi2(fr, pts, n, pw, nb, lf.c)))
+    } else if (!isfinite(t_chi2(fr, pts, n, nb, lf.c)))
         return bg_error_set(err, BG_ENUM, "model '%s': fitted curve gives 1/T <= 0 at a point",
                             name);
 
@@ -418,9 +433,12 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
         out->line[i] = pts[i].line;
         out->chi2 += (r / fr->u[i]) * (r / fr->u[i]);
         ss += r * r;
-        mx = fmax(mx, fabs(r));
-        out->t_min_k = fmin(out->t_min_k, pts[i].t_k);
-        out->t_max_k = fmax(out->t_max_k, pts[i].t_k);
+        if (fabs(r) > mx)
+            mx = fabs(r);
+        if (pts[i].t_k < out->t_min_k)
+            out->t_min_k = pts[i].t_k;
+        if (pts[i].t_k > out->t_max_k)
+            out->t_max_k = pts[i].t_k;
     }
     out->rms_mk = 1e3 * sqrt(ss / (double)n);
     out->max_abs_mk = 1e3 * mx;
@@ -483,11 +501,15 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
     ** internally studentized form, which cannot exceed sqrt(dof), this one can flag a blunder
     ** in a small calibration. */
     for (size_t i = 0; i < n; i++) {
-        double g[MAXB], h = 0.0, t2 = fr->tm[i] * fr->tm[i] / fr->u[i];
-        basis_row(fr->L[i], pw, nb, g);
-        for (size_t j = 0; j < nb; j++)
+        double h = 0.0, t2 = fr->tm[i] * fr->tm[i] / fr->u[i];
+        const double *g = &fr->G[i * nb];
+        for (size_t j = 0; j < nb; j++) {
+            double row = 0.0;
             for (size_t k = 0; k < nb; k++)
-                h += g[j] * t2 * lf.cov[j * nb + k] * g[k] * t2;
+                row += lf.cov[j * nb + k] * g[k];
+            h += g[j] * row;
+        }
+        h *= t2 * t2;
         double r = (pts[i].t_k - fr->tm[i]) / fr->u[i], s2 = NAN;
         if (out->dof > 1 && 1.0 - h > 1e-10)
             s2 = (out->chi2 - r * r / (1.0 - h)) / (double)(out->dof - 1);
@@ -514,9 +536,12 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
     {
         double lmin = INFINITY, lmax = -INFINITY;
         for (size_t i = 0; i < n; i++)
-            lmin = fmin(lmin, fr->L[i]), lmax = fmax(lmax, fr->L[i]);
-        for (int s = 0; s <= 64; s++) {
-            double L = lmin + (lmax - lmin) * s / 64.0, d = 0.0, pwr = 1.0;
+            lmin = fr->L[i] < lmin ? fr->L[i] : lmin, lmax = fr->L[i] > lmax ? fr->L[i] : lmax;
+        /* f' is constant (beta) or B + 3 C L^2, monotonic in L > 0 (sh3): the ends decide.
+        ** Higher polynomials are sampled on 65 points. */
+        int steps = (o->model.kind == BG_MODEL_BETA || o->model.kind == BG_MODEL_SH3) ? 1 : 64;
+        for (int s = 0; s <= steps; s++) {
+            double L = lmin + (lmax - lmin) * s / (double)steps, d = 0.0, pwr = 1.0;
             for (size_t k = 1; k < MAXB; k++, pwr *= L)
                 d += (double)k * a[k] * pwr;
             if (!(d > 0.0)) {

@@ -7,7 +7,8 @@
 
 #include "bandgap/fit.h"
 
-/* Solve min ||A c - b|| for the row-major n x p matrix 'A' (already row-weighted); 'A' and 'b'
+/* Solve min ||A c - b|| for the column-major n x p matrix 'A' (already row-weighted; column j
+** is A[j n .. j n + n - 1]); 'A' and 'b'
 ** are overwritten.  'colscale' (p) and 'work' (p) are scratch.  Fills out->c, out->cov =
 ** (A^T A)^-1, out->rcond, out->rank; not out->chisq.  Returns BG_OK, or BG_ENUM when the
 ** estimated reciprocal condition is below 'min_rcond' or a column is zero. */

@@ -17,68 +17,78 @@ int bgi_lin_qr(double *A, double *b, size_t n, size_t p, double min_rcond, doubl
     size_t perm[BG_LIN_MAXP];
     double R[BG_LIN_MAXP * BG_LIN_MAXP], Ri[BG_LIN_MAXP * BG_LIN_MAXP], z[BG_LIN_MAXP];
 
+    /* 'A' is column-major: column j is A[j*n .. j*n+n-1]. */
+    if (p == 0 || n < p)
+        return BG_ENUM;
     out->n = n, out->p = p, out->rank = 0, out->rcond = 0.0;
     for (size_t j = 0; j < p; j++) {
-        double s = 0.0;
+        double *col = A + j * n, s = 0.0;
         for (size_t i = 0; i < n; i++)
-            s += A[i * p + j] * A[i * p + j];
+            s += col[i] * col[i];
         s = sqrt(s);
         if (!(s > 0.0) || !isfinite(s))
             return BG_ENUM;
         colscale[j] = s;
+        double inv = 1.0 / s;
         for (size_t i = 0; i < n; i++)
-            A[i * p + j] /= s;
+            col[i] *= inv;
         perm[j] = j;
+        work[j] = 1.0; /* squared norm of the remaining part of column j */
     }
     for (size_t k = 0; k < p; k++) {
-        /* Pivot: the remaining column with the largest norm below row k. */
+        /* Pivot: the remaining column with the largest norm below row k (norms downdated,
+        ** and recomputed when cancellation makes the downdate unreliable). */
         size_t best = k;
-        double bestn = -1.0;
-        for (size_t j = k; j < p; j++) {
-            double s = 0.0;
-            for (size_t i = k; i < n; i++)
-                s += A[i * p + j] * A[i * p + j];
-            work[j] = s;
-            if (s > bestn)
-                bestn = s, best = j;
-        }
+        for (size_t j = k + 1; j < p; j++)
+            if (work[j] > work[best])
+                best = j;
         if (best != k) {
             size_t t = perm[k];
             perm[k] = perm[best], perm[best] = t;
+            double w = work[k];
+            work[k] = work[best], work[best] = w;
+            double *ck = A + k * n, *cb = A + best * n;
             for (size_t i = 0; i < n; i++) {
-                double v = A[i * p + k];
-                A[i * p + k] = A[i * p + best], A[i * p + best] = v;
+                double v = ck[i];
+                ck[i] = cb[i], cb[i] = v;
             }
         }
-        double norm = sqrt(bestn);
+        double *v = A + k * n, norm2 = 0.0;
+        for (size_t i = k; i < n; i++)
+            norm2 += v[i] * v[i];
+        double norm = sqrt(norm2);
         if (!(norm > 0.0))
             return BG_ENUM;
-        double alpha = A[k * p + k] > 0.0 ? -norm : norm;
-        /* v = x - alpha e1, stored in column k below the diagonal; vtv = 2 norm (norm + |x0|) */
-        A[k * p + k] -= alpha;
-        double vtv = 0.0;
-        for (size_t i = k; i < n; i++)
-            vtv += A[i * p + k] * A[i * p + k];
+        double alpha = v[k] > 0.0 ? -norm : norm;
+        /* v = x - alpha e1 in place; v^T v = 2 norm (norm + |x_k|) */
+        v[k] -= alpha;
+        double vtv = 2.0 * norm * (norm + fabs(v[k] + alpha));
         for (size_t j = k + 1; j < p; j++) {
-            double d = 0.0;
+            double *c = A + j * n, d = 0.0;
             for (size_t i = k; i < n; i++)
-                d += A[i * p + k] * A[i * p + j];
+                d += v[i] * c[i];
             d = 2.0 * d / vtv;
             for (size_t i = k; i < n; i++)
-                A[i * p + j] -= d * A[i * p + k];
+                c[i] -= d * v[i];
+            work[j] -= c[k] * c[k];
+            if (work[j] < 1e-4) { /* recompute after heavy cancellation */
+                double s2 = 0.0;
+                for (size_t i = k + 1; i < n; i++)
+                    s2 += c[i] * c[i];
+                work[j] = s2;
+            }
         }
         double d = 0.0;
         for (size_t i = k; i < n; i++)
-            d += A[i * p + k] * b[i];
+            d += v[i] * b[i];
         d = 2.0 * d / vtv;
         for (size_t i = k; i < n; i++)
-            b[i] -= d * A[i * p + k];
-        A[k * p + k] = alpha;
+            b[i] -= d * v[i];
+        v[k] = alpha;
     }
-    memset(R, 0, sizeof R);
     for (size_t i = 0; i < p; i++)
-        for (size_t j = i; j < p; j++)
-            R[i * p + j] = A[i * p + j];
+        for (size_t j = 0; j < p; j++)
+            R[i * p + j] = j >= i ? A[j * n + i] : 0.0;
     out->rcond = fabs(R[(p - 1) * p + (p - 1)]) / fabs(R[0]);
     for (size_t k = 0; k < p; k++)
         if (R[k * p + k] != 0.0 && fabs(R[k * p + k]) >= 1e-15 * fabs(R[0]))
@@ -93,8 +103,9 @@ int bgi_lin_qr(double *A, double *b, size_t n, size_t p, double min_rcond, doubl
         z[ii] = s / R[ii * p + ii];
     }
     /* Ri = R^-1 (upper triangular), column by column. */
-    memset(Ri, 0, sizeof Ri);
     for (size_t j = 0; j < p; j++) {
+        for (size_t ii = j + 1; ii < p; ii++)
+            Ri[ii * p + j] = 0.0;
         Ri[j * p + j] = 1.0 / R[j * p + j];
         for (size_t ii = j; ii-- > 0;) {
             double s = 0.0;
@@ -105,11 +116,13 @@ int bgi_lin_qr(double *A, double *b, size_t n, size_t p, double min_rcond, doubl
     }
     for (size_t i = 0; i < p; i++) {
         out->c[perm[i]] = z[i] / colscale[perm[i]];
-        for (size_t j = 0; j < p; j++) {
+        for (size_t j = i; j < p; j++) {
             double s = 0.0;
-            for (size_t k = (i > j ? i : j); k < p; k++)
+            for (size_t k = j; k < p; k++)
                 s += Ri[i * p + k] * Ri[j * p + k];
-            out->cov[perm[i] * p + perm[j]] = s / (colscale[perm[i]] * colscale[perm[j]]);
+            s /= colscale[perm[i]] * colscale[perm[j]];
+            out->cov[perm[i] * p + perm[j]] = s;
+            out->cov[perm[j] * p + perm[i]] = s;
         }
     }
     return BG_OK;
@@ -147,7 +160,7 @@ int bg_linfit_solve(const double *X, const double *y, const double *w, size_t n,
                                   "finite", i + 1);
                 goto done;
             }
-            A[i * p + j] = sw * X[i * p + j];
+            A[j * n + i] = sw * X[i * p + j]; /* column-major for the solver */
         }
         b[i] = sw * y[i];
     }
