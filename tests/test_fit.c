@@ -490,7 +490,7 @@ static void guard_rails(void **state)
         p[i].line = (size_t)i + 2;
     }
     o.mono_gap_k = 1.0;
-    assert_int_equal(bg_fit_points(p, 6, &o, &f, &err), BG_ENUM);
+    assert_int_equal(bg_fit_points(p, 6, &o, &f, &err), BG_EINVAL);
     assert_non_null(strstr(err.msg, "rank-deficient or ill-conditioned"));
     bg_fit_release(&f);
 }

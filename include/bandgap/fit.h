@@ -99,8 +99,9 @@ BG_API bg_fitter *bg_fitter_new(void);
 BG_API void bg_fitter_free(bg_fitter *fitter);
 
 /* Fit 'o->model' to 'n' points.  Guard rails: BG_EINVAL for fewer points than coefficients,
-** a non-finite or non-positive value, a duplicate point, two points with one resistance, or
-** resistance rising with temperature; BG_ENUM for an ill-conditioned design.  Warnings
+** a non-finite or non-positive value, a duplicate point, resistance rising with temperature,
+** or a design too ill-conditioned for the model (reciprocal condition below 'min_rcond');
+** BG_ENUM when the refinement does not converge.  Warnings
 ** (outliers, no degrees of freedom, chi2, non-monotonic curve) go to 'out->notes'.  'out' is
 ** initialised or reused; release it with bg_fit_release().  Keeps no pointer to 'pts'. */
 BG_API int bg_fitter_run(bg_fitter *fitter, const bg_point *pts, size_t n, const bg_fit_opts *o,

@@ -387,8 +387,10 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
         fr->u[i] = weighted ? (pts[i].u_t_k > 0.0 ? pts[i].u_t_k : 1.0) : 1.0;
     }
     memset(&lf, 0, sizeof lf);
+    /* An ill-conditioned design comes from the data and the model chosen for them, so it is
+    ** reported as bad input (BG_EINVAL), not as a numerical failure of bandgap. */
     if (linear_step(fr, pts, n, nb, o->min_rcond, &lf) != BG_OK)
-        return bg_error_set(err, BG_ENUM, "model '%s': the design is rank-deficient or "
+        return bg_error_set(err, BG_EINVAL, "model '%s': the design is rank-deficient or "
                             "ill-conditioned for these points (reciprocal condition %.2g, "
                             "limit %.2g): too many coefficients for the range?", name, lf.rcond,
                             o->min_rcond);
@@ -408,7 +410,8 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
             fr->u[i] = sqrt(pts[i].u_t_k * pts[i].u_t_k + ur * ur);
         }
         if (linear_step(fr, pts, n, nb, o->min_rcond, &lf) != BG_OK)
-            return bg_error_set(err, BG_ENUM, "model '%s': ill-conditioned design", name);
+            return bg_error_set(err, BG_EINVAL, "model '%s': the design is rank-deficient or "
+                                "ill-conditioned for these points", name);
     }
     if (o->refine) {
         if (refine(fr, pts, n, nb, o, &lf, &iters) != BG_OK)
