@@ -138,6 +138,8 @@ def check_fit(tmp, name, model, T, R, uT, uR, t0=298.15):
     h = np.diag(H)
     rw = resid / u
     s2 = (chi2 - rw ** 2 / (1 - h)) / (dof - 1)
+    if weighted:
+        s2 = np.maximum(s2, 1.0)  # scale never below the stated uncertainties
     check(name + " studentized", js["studentized"], rw / np.sqrt(s2 * (1 - h)), 1e-5, 1e-9)
     # curve uncertainty u(T) = T^2 sqrt(g' V g) at the reported temperatures
     for row in js["uncertainty"] + js["at"]:

@@ -516,6 +516,10 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
         double r = (pts[i].t_k - fr->tm[i]) / fr->u[i], s2 = NAN;
         if (out->dof > 1 && 1.0 - h > 1e-10)
             s2 = (out->chi2 - r * r / (1.0 - h)) / (double)(out->dof - 1);
+        /* With stated uncertainties the scale never counts as smaller than they are, as for
+        ** the covariance: a reading far inside its own uncertainty is no outlier. */
+        if (weighted && s2 < 1.0)
+            s2 = 1.0;
         out->student[i] = (s2 > 0.0) ? r / sqrt(s2 * (1.0 - h)) : NAN;
         if (fabs(out->student[i]) > o->student_limit)
             add_note(out, BG_NOTE_OUTLIER, pts[i].line, "%s: studentized residual %.2f "
