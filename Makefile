@@ -29,11 +29,12 @@ DEBIAN_PKGS = libgsl-dev libsqlite3-dev libcmocka-dev pkg-config python3-numpy p
 
 LIB_SRC = $(wildcard src/lib/*.c)
 CLI_SRC = $(wildcard src/cli/*.c)
-LIB_OBJ = $(LIB_SRC:src/lib/%.c=$(BUILD)/obj/lib/%.o)
+LIB_OBJ = $(LIB_SRC:src/lib/%.c=$(BUILD)/obj/lib/%.o) $(BUILD)/obj/lib/migrations.o
 CLI_OBJ = $(CLI_SRC:src/cli/%.c=$(BUILD)/obj/cli/%.o) $(BUILD)/obj/cli/demo_data.o
 TESTS   = $(patsubst tests/%.c,$(BUILD)/tests/%,$(wildcard tests/test_*.c))
 HEADERS = $(wildcard include/bandgap/*.h)
 DEMO_CSV = $(sort $(wildcard db/demo/*.csv))
+MIGRATIONS = $(sort $(wildcard db/[0-9][0-9][0-9]-*.sql))
 
 .PHONY: all deps test check sanitize demo bench install uninstall clean headers fmt
 
@@ -67,7 +68,18 @@ $(BUILD)/obj/cli/%.o: src/cli/%.c $(HEADERS) src/cli/cli.h | deps
 # The invented demo data, embedded in the program as C strings.
 $(BUILD)/demo_data.c: $(DEMO_CSV) tests/embed.awk
 	@mkdir -p $(@D)
-	awk -f tests/embed.awk $(DEMO_CSV) > $@
+	awk -v type='struct demo_file' -v var=demo_files -v hdr=cli.h -f tests/embed.awk \
+	    $(DEMO_CSV) > $@
+
+# The schema migrations, embedded in the library.
+$(BUILD)/migrations.c: $(MIGRATIONS) tests/embed.awk
+	@mkdir -p $(@D)
+	awk -v type='struct bgi_sql_file' -v var=bgi_migrations -v hdr=store_int.h \
+	    -f tests/embed.awk $(MIGRATIONS) > $@
+
+$(BUILD)/obj/lib/migrations.o: $(BUILD)/migrations.c src/lib/store_int.h | deps
+	@mkdir -p $(@D)
+	$(CC) $(CFLAGS_ALL) -Isrc/lib -c $< -o $@
 
 $(BUILD)/obj/cli/demo_data.o: $(BUILD)/demo_data.c | deps
 	@mkdir -p $(@D)

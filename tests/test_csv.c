@@ -65,11 +65,11 @@ static void rejections(void **state)
     (void)state;
     expect_error("temp,ohms\n25,10000\n",
                  "bath.csv:1: unknown column 'temp' (known columns: temp_c, temp_k, temp_f, "
-                 "ohms, u_temp_k, u_ohms, time, note)");
-    expect_error("ohms,note\n1,x\n", "bath.csv:1: no temperature column (temp_c, temp_k or "
-                                     "temp_f)");
+                 "ref_ohms, ohms, u_temp_k, u_ohms, time, note)");
+    expect_error("ohms,note\n1,x\n", "bath.csv:1: no temperature column (temp_c, temp_k, "
+                                     "temp_f or ref_ohms)");
     expect_error("temp_c,temp_k,ohms\n", "bath.csv:1: more than one temperature column "
-                                         "(temp_c, temp_k or temp_f)");
+                                         "(temp_c, temp_k, temp_f or ref_ohms)");
     expect_error("temp_c,note\n", "bath.csv:1: no resistance column 'ohms'");
     expect_error("temp_c,ohms,ohms\n", "bath.csv:1: column 'ohms' appears twice");
     expect_error("temp_c,ohms\n25,10000\n# c\n30,abc\n",

@@ -551,6 +551,31 @@ static void comparison_chooses(void **state)
     bg_fitter_free(fr);
 }
 
+/* u(T) from the basis covariance (bg_fit_u_t) and from the model-coefficient covariance
+** (bg_model_u_t, as for stored fits) are two routes to one number, also for beta's
+** transformed coefficients. */
+static void curve_uncertainty_two_routes(void **state)
+{
+    (void)state;
+    static const char *names[] = { "sh3", "sh4", "beta", "poly:2" };
+    bg_point p[15];
+    noisy_data(p, 15, 31337, 0.002);
+    for (size_t k = 0; k < 4; k++) {
+        bg_model m;
+        bg_fit f = BG_FIT_INIT;
+        bg_model_parse(names[k], &m, NULL);
+        bg_fit_opts o = bg_fit_default_opts(&m);
+        assert_int_equal(bg_fit_points(p, 15, &o, &f, NULL), BG_OK);
+        for (double tc = -20.0; tc <= 80.0; tc += 25.0) {
+            double u1, u2;
+            assert_int_equal(bg_fit_u_t(&f, tc + 273.15, &u1, NULL, NULL), BG_OK);
+            assert_int_equal(bg_model_u_t(&f.model, f.cov, tc + 273.15, &u2, NULL), BG_OK);
+            assert_close(u2, u1, 1e-6, 0);
+        }
+        bg_fit_release(&f);
+    }
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -570,6 +595,7 @@ int main(void)
         cmocka_unit_test(guard_rails),
         cmocka_unit_test(outlier_and_extrapolation),
         cmocka_unit_test(comparison_chooses),
+        cmocka_unit_test(curve_uncertainty_two_routes),
     };
     return cmocka_run_group_tests_name("fit", tests, NULL, NULL);
 }

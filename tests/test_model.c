@@ -189,6 +189,30 @@ static void model_errors(void **state)
     assert_int_equal(bg_model_parse_pair("25/25", &p1, &p2, &err), BG_EINVAL);
 }
 
+static void platinum_reference_iec60751(void **state)
+{
+    (void)state;
+    /* IEC 60751 constants and table values (refdata section 3: published; the values to more
+    ** digits are exact from the equation) */
+    const double A = 3.9083e-3, B = -5.775e-7, C = -4.183e-12, R0 = 100.0;
+    static const double t[] = { -200, -100, -40, 0, 50, 100, 200, 400, 850 };
+    static const double r[] = { 18.52008, 60.25584, 84.27065203, 100.0, 119.397125, 138.5055,
+                                175.856, 247.092, 390.481125 };
+    for (size_t i = 0; i < sizeof t / sizeof t[0]; i++) {
+        double tk;
+        assert_close(bg_cvd_r_from_t(R0, A, B, C, t[i] + 273.15), r[i], 1e-7, 0);
+        assert_int_equal(bg_cvd_t_from_r(R0, A, B, C, r[i], &tk, NULL), BG_OK);
+        assert_close(tk - 273.15, t[i], 0, 2e-5);
+    }
+    /* alpha = (R100 - R0) / (100 R0) = 0.00385055 (refdata 3) */
+    assert_close((bg_cvd_r_from_t(R0, A, B, C, 373.15) - R0) / (100.0 * R0), 0.00385055, 0,
+                 5e-9);
+    double tk;
+    bg_error err = BG_ERROR_INIT;
+    assert_int_equal(bg_cvd_t_from_r(R0, A, B, C, 5.0, &tk, &err), BG_EINVAL);
+    assert_int_equal(bg_cvd_t_from_r(R0, A, B, C, -1.0, &tk, &err), BG_EINVAL);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -196,7 +220,7 @@ int main(void)
         cmocka_unit_test(sh3_table_both_ways),   cmocka_unit_test(sh3_point_values),
         cmocka_unit_test(sh4_kilohm_unit_trap),  cmocka_unit_test(beta_tables_both_ways),
         cmocka_unit_test(beta_point_values),     cmocka_unit_test(poly_newton_round_trip),
-        cmocka_unit_test(model_errors),
+        cmocka_unit_test(model_errors),          cmocka_unit_test(platinum_reference_iec60751),
     };
     return cmocka_run_group_tests_name("model", tests, NULL, NULL);
 }

@@ -12,6 +12,7 @@
 #include "bandgap/model.h"
 #include "bandgap/fit.h"
 #include "bandgap/csv.h"
+#include "bandgap/store.h"
 
 /* The library's version, "MAJOR.MINOR.PATCH". */
 BG_API const char *bg_version(void);

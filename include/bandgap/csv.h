@@ -9,7 +9,9 @@
 #include "bandgap/units.h"
 
 typedef struct bg_reading {
-    bg_point pt;        /* t_k, r_ohm, u_t_k (0 = none), u_r_ohm (0 = none), line */
+    bg_point pt;        /* t_k, r_ohm, u_t_k (0 = none), u_r_ohm (0 = none), line; t_k is NaN
+                        ** for a 'ref_ohms' file until the reference's coefficients apply */
+    double t_raw;       /* the reference as written: temperature in 't_unit', or ohm */
     char time[40];      /* ISO 8601 as written, "" if none */
     char *note;         /* NULL if none; owned by the bg_readings */
 } bg_reading;
@@ -18,11 +20,12 @@ typedef struct bg_readings {
     bg_reading *v;
     size_t n, cap;
     char delim;              /* ',', ';' or '\t' */
-    bg_temp_unit t_unit;     /* unit of the temperature column */
+    bg_temp_unit t_unit;     /* unit of the temperature column; BG_UNIT_NONE with ref_ohms */
+    int ref_ohms;            /* 1: the reference is given as a platinum resistance (ref_ohms) */
     int has_u_t, has_u_r, has_time, has_note;
 } bg_readings;
 
-#define BG_READINGS_INIT { NULL, 0, 0, ',', BG_UNIT_NONE, 0, 0, 0, 0 }
+#define BG_READINGS_INIT { NULL, 0, 0, ',', BG_UNIT_NONE, 0, 0, 0, 0, 0 }
 BG_API void bg_readings_init(bg_readings *rs);
 BG_API void bg_readings_release(bg_readings *rs);
 

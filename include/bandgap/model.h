@@ -73,4 +73,27 @@ BG_API int bg_model_b_pair(const bg_model *m, double t1_k, double t2_k, double *
 /* Parse a B-pair "25/85" (degC) or "298.15K/358.15K" into kelvin. */
 BG_API int bg_model_parse_pair(const char *s, double *t1_k, double *t2_k, bg_error *err);
 
+/* Gradient of 1/T with respect to the model's coefficients (in coef order) at resistance
+** 'r_ohm', into 'g' (bg_model_npar entries). */
+BG_API int bg_model_grad_inv_t(const bg_model *m, double r_ohm, double *g, bg_error *err);
+
+/* Standard uncertainty of the curve at 't_k' from the covariance 'cov' (npar x npar,
+** row-major) of the model's coefficients: u(T) = T^2 sqrt(g^T cov g), g from
+** bg_model_grad_inv_t at R(T). */
+BG_API int bg_model_u_t(const bg_model *m, const double *cov, double t_k, double *u_k,
+                        bg_error *err);
+
+/* ---- Reference thermometers ---------------------------------------------------------- */
+
+/* Platinum resistance thermometer, IEC 60751 (Callendar-Van Dusen):
+** R(t) = R0 (1 + A t + B t^2 + C (t - 100) t^3) for t < 0 degC, R0 (1 + A t + B t^2) above.
+** Resistance (ohm) at 't_k'. */
+BG_API double bg_cvd_r_from_t(double r0_ohm, double a, double b, double c, double t_k);
+
+/* Temperature (K) of a platinum thermometer reading 'r_ohm': the quadratic's root for
+** R >= R0, Newton's method from it below, to 1e-9 K.  BG_EINVAL when 'r_ohm' is not
+** positive or outside -200 .. 850 degC (the range of IEC 60751). */
+BG_API int bg_cvd_t_from_r(double r0_ohm, double a, double b, double c, double r_ohm,
+                           double *t_k, bg_error *err);
+
 #endif

@@ -355,6 +355,12 @@ int fit_report_file(const char *path, const struct fit_request *rq, struct cli_c
         rc = bg_error_set(&err, BG_ENOMEM, "out of memory");
         goto fail;
     }
+    if (rs.ref_ohms) {
+        rc = bg_error_set(&err, BG_EINVAL, "%s: column 'ref_ohms' needs the reference "
+                          "thermometer's Callendar-Van Dusen coefficients: import the file with "
+                          "'bandgap import FILE --probe SERIAL --ref ID'", path);
+        goto fail;
+    }
     bg_readings_points(&rs, pts);
     if (rq->u_temp_k > 0.0 && !rs.has_u_t)
         for (size_t i = 0; i < rs.n; i++)

@@ -2,16 +2,18 @@
 /* The readings CSV reader: header-named columns in any order, delimiter detected from the
 ** header, RFC 4180 quoting, '#' comment lines, decimal comma with ';' or tab delimiters. */
 #include <errno.h>
+#include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "bandgap/csv.h"
 #include "num_int.h"
 
-enum col { C_TEMP_C, C_TEMP_K, C_TEMP_F, C_OHMS, C_U_T, C_U_R, C_TIME, C_NOTE, C_COUNT };
-static const char *col_names[C_COUNT] = { "temp_c", "temp_k", "temp_f", "ohms",
+enum col { C_TEMP_C, C_TEMP_K, C_TEMP_F, C_REF_OHMS, C_OHMS, C_U_T, C_U_R, C_TIME, C_NOTE,
+           C_COUNT };
+static const char *col_names[C_COUNT] = { "temp_c", "temp_k", "temp_f", "ref_ohms", "ohms",
                                           "u_temp_k", "u_ohms", "time", "note" };
-#define KNOWN_COLUMNS "temp_c, temp_k, temp_f, ohms, u_temp_k, u_ohms, time, note"
+#define KNOWN_COLUMNS "temp_c, temp_k, temp_f, ref_ohms, ohms, u_temp_k, u_ohms, time, note"
 #define MAX_COLS 64
 
 void bg_readings_init(bg_readings *rs)
@@ -196,11 +198,12 @@ static int parse_header(parser *ps, const field *f, int nf, int *map, int *where
                                 ps->name, ps->line, col_names[c]);
         where_col[c] = i;
         map[i] = c;
-        if (c <= C_TEMP_F)
+        if (c <= C_REF_OHMS)
             ntemp++;
     }
     if (ntemp != 1)
-        return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: %s (temp_c, temp_k or temp_f)",
+        return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: %s (temp_c, temp_k, temp_f or "
+                            "ref_ohms)",
                             ps->name, ps->line,
                             ntemp ? "more than one temperature column"
                                   : "no temperature column");
@@ -241,6 +244,7 @@ static int parse_row(parser *ps, const field *f, int nf, int nh, const int *map,
                            : map[i] == C_TEMP_K ? BG_UNIT_K : BG_UNIT_F;
             if (number(ps, &f[i], col, &v) != BG_OK)
                 return BG_EINVAL;
+            r.t_raw = v;
             r.pt.t_k = bg_units_to_k(v, u);
             if (!(r.pt.t_k > 0.0))
                 return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field '%s': %.*s is at or "
@@ -248,6 +252,15 @@ static int parse_row(parser *ps, const field *f, int nf, int nh, const int *map,
                                     (int)f[i].len, f[i].s);
             break;
         }
+        case C_REF_OHMS:
+            if (number(ps, &f[i], col, &v) != BG_OK)
+                return BG_EINVAL;
+            if (!(v > 0.0))
+                return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'ref_ohms': must be "
+                                    "greater than 0", ps->name, ps->line);
+            r.t_raw = v;
+            r.pt.t_k = NAN; /* known only once the reference's coefficients are applied */
+            break;
         case C_OHMS:
             if (number(ps, &f[i], col, &v) != BG_OK)
                 return BG_EINVAL;
@@ -349,7 +362,9 @@ int bg_csv_parse(const char *text, size_t len, const char *name, bg_readings *ou
             }
             out->delim = ps.delim;
             out->t_unit = where_col[C_TEMP_C] >= 0 ? BG_UNIT_C
-                        : where_col[C_TEMP_K] >= 0 ? BG_UNIT_K : BG_UNIT_F;
+                        : where_col[C_TEMP_K] >= 0 ? BG_UNIT_K
+                        : where_col[C_TEMP_F] >= 0 ? BG_UNIT_F : BG_UNIT_NONE;
+            out->ref_ohms = where_col[C_REF_OHMS] >= 0;
             out->has_u_t = where_col[C_U_T] >= 0, out->has_u_r = where_col[C_U_R] >= 0;
             out->has_time = where_col[C_TIME] >= 0, out->has_note = where_col[C_NOTE] >= 0;
             continue;

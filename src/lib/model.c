@@ -316,3 +316,90 @@ int bg_model_parse_pair(const char *s, double *t1_k, double *t2_k, bg_error *err
         return bg_error_set(err, BG_EINVAL, "'%s': the two temperatures must differ", s);
     return BG_OK;
 }
+
+/* IEC 60751 Callendar-Van Dusen equation; t in degC inside. */
+double bg_cvd_r_from_t(double r0_ohm, double a, double b, double c, double t_k)
+{
+    double t = t_k - BG_ZERO_C_K;
+    double f = 1.0 + a * t + b * t * t;
+    if (t < 0.0)
+        f += c * (t - 100.0) * t * t * t;
+    return r0_ohm * f;
+}
+
+int bg_cvd_t_from_r(double r0_ohm, double a, double b, double c, double r_ohm, double *t_k,
+                    bg_error *err)
+{
+    double w, t, disc;
+
+    if (!(r0_ohm > 0.0) || !(r_ohm > 0.0) || !isfinite(r_ohm))
+        return bg_error_set(err, BG_EINVAL, "platinum reference: resistance %g ohm (R0 %g ohm) "
+                            "is not usable", r_ohm, r0_ohm);
+    w = r_ohm / r0_ohm;
+    /* Above 0 degC the equation is quadratic; its root is also the first guess below. */
+    disc = a * a - 4.0 * b * (1.0 - w);
+    if (b != 0.0 && disc >= 0.0)
+        t = (-a + sqrt(disc)) / (2.0 * b);
+    else
+        t = (w - 1.0) / a;
+    if (t < 0.0) {
+        for (int it = 0; it < 50; it++) {
+            double f = 1.0 + a * t + b * t * t + c * (t - 100.0) * t * t * t - w;
+            double d = a + 2.0 * b * t + c * (4.0 * t * t * t - 300.0 * t * t);
+            double dt = f / d;
+            t -= dt;
+            if (fabs(dt) < 1e-10)
+                break;
+        }
+    }
+    if (!isfinite(t) || t < -200.0 - 1e-6 || t > 850.0 + 1e-6)
+        return bg_error_set(err, BG_EINVAL, "platinum reference: %g ohm is outside -200 .. "
+                            "850 degC for R0 = %g ohm", r_ohm, r0_ohm);
+    *t_k = t + BG_ZERO_C_K;
+    return BG_OK;
+}
+
+int bg_model_grad_inv_t(const bg_model *m, double r_ohm, double *g, bg_error *err)
+{
+    double L;
+    size_t np = bg_model_npar(m);
+    if (!(r_ohm > 0.0) || !isfinite(r_ohm))
+        return bg_error_set(err, BG_EINVAL, "resistance %g ohm: must be a finite number > 0",
+                            r_ohm);
+    L = log(r_ohm);
+    switch (m->kind) {
+    case BG_MODEL_SH3:
+        g[0] = 1.0, g[1] = L, g[2] = L * L * L;
+        break;
+    case BG_MODEL_BETA: {
+        /* 1/T = 1/T0 + (L - ln R0) / beta */
+        double r0 = m->coef[0], beta = m->coef[1];
+        g[0] = -1.0 / (beta * r0);
+        g[1] = -(L - log(r0)) / (beta * beta);
+        break;
+    }
+    default: {
+        double p = 1.0;
+        for (size_t i = 0; i < np; i++, p *= L)
+            g[i] = p;
+        break;
+    }
+    }
+    return BG_OK;
+}
+
+int bg_model_u_t(const bg_model *m, const double *cov, double t_k, double *u_k, bg_error *err)
+{
+    double r, g[BG_MODEL_MAXPAR], s = 0.0;
+    size_t np = bg_model_npar(m);
+    int rc = bg_model_r_from_t(m, t_k, &r, err);
+    if (rc == BG_OK)
+        rc = bg_model_grad_inv_t(m, r, g, err);
+    if (rc != BG_OK)
+        return rc;
+    for (size_t i = 0; i < np; i++)
+        for (size_t j = 0; j < np; j++)
+            s += g[i] * cov[i * np + j] * g[j];
+    *u_k = s >= 0.0 ? t_k * t_k * sqrt(s) : NAN;
+    return BG_OK;
+}

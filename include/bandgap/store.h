@@ -1,0 +1,180 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* The calibration database: one SQLite file holding lots, probes, reference thermometers,
+** runs, readings, exclusions, fits and generated artifacts.  History is append-only.
+** Every write is one transaction (BEGIN IMMEDIATE); any error leaves the file unchanged. */
+#ifndef BANDGAP_STORE_H
+#define BANDGAP_STORE_H
+
+#include <stddef.h>
+
+#include "bandgap/csv.h"
+#include "bandgap/error.h"
+#include "bandgap/fit.h"
+#include "bandgap/model.h"
+
+#define BG_STORE_APP_ID 0x42476170 /* "BGap" in PRAGMA application_id */
+#define BG_TEXT 201                /* serials, codes, names: at most 200 bytes */
+#define BG_NOTE 1024               /* notes: at most 1023 bytes */
+#define BG_TIME 40
+
+typedef struct bg_store bg_store;
+
+enum { BG_STORE_CREATE = 1 << 0 };
+
+/* Open the database at 'path'.  Without BG_STORE_CREATE a missing file is BG_ENOENT (with a
+** hint to run init); with it a new file is created.  A file that is not a bandgap database
+** (other application id, or tables of its own) is BG_EINVAL; a newer schema than this program
+** knows is BG_EINVAL; an older one is copied to PATH.vN.bak with SQLite's backup API and then
+** upgraded, each migration in its own transaction.  BG_EIO when the file cannot be opened or
+** created.  Free with bg_store_close(). */
+BG_API int bg_store_open(const char *path, int flags, bg_store **out, bg_error *err);
+BG_API void bg_store_close(bg_store *st);
+
+/* The schema version of the open file, and the newest this program knows. */
+BG_API int bg_store_schema_version(bg_store *st);
+BG_API int bg_store_schema_known(void);
+/* Path of the backup made by the last upgrade on open, "" if none. */
+BG_API const char *bg_store_backup_path(const bg_store *st);
+
+/* Explicit transactions around several writes (bg_fit of a whole lot).  The write calls below
+** join an open transaction instead of starting their own. */
+BG_API int bg_store_begin(bg_store *st, bg_error *err);
+BG_API int bg_store_commit(bg_store *st, bg_error *err);
+BG_API void bg_store_rollback(bg_store *st);
+
+/* ---- lots, probes, references ---- */
+
+typedef struct bg_lot {
+    long long id;
+    char code[BG_TEXT], part[BG_TEXT];
+    double r25_ohm, beta_k, pair_t1_k, pair_t2_k, tol_r25, tol_beta; /* tolerances: fractions */
+    char note[BG_NOTE], created_at[BG_TIME];
+    long long nprobes;
+} bg_lot;
+
+typedef struct bg_probe {
+    long long id, lot_id;
+    char serial[BG_TEXT], lot_code[BG_TEXT], note[BG_NOTE], created_at[BG_TIME];
+    long long nruns, nfits;
+} bg_probe;
+
+typedef enum bg_ref_kind { BG_REF_NONE = 0, BG_REF_LINEAR, BG_REF_CVD } bg_ref_kind;
+
+typedef struct bg_ref {
+    long long id;
+    char ident[BG_TEXT], certificate[BG_TEXT], due_date[BG_TIME];
+    bg_ref_kind kind;
+    double lin_c0_k, lin_c1, lin_t0_k;       /* t = t_read + c0 + c1 (t_read - t0) */
+    double cvd_r0_ohm, cvd_a, cvd_b, cvd_c;  /* IEC 60751 */
+    char note[BG_NOTE], created_at[BG_TIME];
+} bg_ref;
+
+/* Add a row; fills '*id'.  BG_EINVAL for a duplicate code/serial/ident, an unknown lot, an
+** empty or too long text, or values that fail the physical checks. */
+BG_API int bg_store_lot_add(bg_store *st, const bg_lot *lot, long long *id, bg_error *err);
+BG_API int bg_store_probe_add(bg_store *st, const char *serial, const char *lot_code,
+                              const char *note, long long *id, bg_error *err);
+BG_API int bg_store_ref_add(bg_store *st, const bg_ref *ref, long long *id, bg_error *err);
+
+/* Look up by code / serial / ident: BG_EINVAL "unknown ..." when absent. */
+BG_API int bg_store_lot_get(bg_store *st, const char *code, bg_lot *out, bg_error *err);
+BG_API int bg_store_probe_get(bg_store *st, const char *serial, bg_probe *out, bg_error *err);
+BG_API int bg_store_ref_get(bg_store *st, const char *ident, bg_ref *out, bg_error *err);
+
+/* Call 'cb' for each row (stop early by returning non-zero).  'lot_code' may be NULL. */
+typedef int (*bg_lot_cb)(const bg_lot *lot, void *ctx);
+typedef int (*bg_probe_cb)(const bg_probe *probe, void *ctx);
+typedef int (*bg_ref_cb)(const bg_ref *ref, void *ctx);
+BG_API int bg_store_lot_each(bg_store *st, bg_lot_cb cb, void *ctx, bg_error *err);
+BG_API int bg_store_probe_each(bg_store *st, const char *lot_code, bg_probe_cb cb, void *ctx,
+                               bg_error *err);
+BG_API int bg_store_ref_each(bg_store *st, bg_ref_cb cb, void *ctx, bg_error *err);
+
+/* ---- runs and readings ---- */
+
+typedef struct bg_run {
+    long long id, probe_id, reference_id; /* reference_id 0: none */
+    char serial[BG_TEXT], ref_ident[BG_TEXT];
+    char operator_name[BG_TEXT], medium[BG_TEXT], ambient[BG_TEXT], excitation[BG_TEXT];
+    char started_at[BG_TIME], source[BG_NOTE], note[BG_NOTE], imported_at[BG_TIME];
+    long long nreadings, nexcluded, nfits;
+} bg_run;
+
+/* Create a run of probe 'meta->serial' from the readings 'rs' in one transaction.  Uses
+** serial, ref_ident ("" for none), operator_name, medium, ambient, excitation, started_at (""
+** takes the first reading's time, else now), source and note from 'meta'.  With a reference
+** correction, each reading's temperature is corrected and the raw value kept.  Any problem
+** (unknown probe or reference, a 'ref_ohms' file without a platinum reference, a reading the
+** correction makes impossible) is BG_EINVAL naming the file and line; nothing is written. */
+BG_API int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta,
+                           long long *run_id, bg_error *err);
+
+BG_API int bg_store_run_get(bg_store *st, long long run_id, bg_run *out, bg_error *err);
+/* The newest run of a probe: BG_EINVAL when it has none. */
+BG_API int bg_store_run_latest(bg_store *st, long long probe_id, long long *run_id,
+                               bg_error *err);
+typedef int (*bg_run_cb)(const bg_run *run, void *ctx);
+/* Runs of one probe, of one lot's probes, or all (both NULL). */
+BG_API int bg_store_run_each(bg_store *st, const char *serial, const char *lot_code,
+                             bg_run_cb cb, void *ctx, bg_error *err);
+
+typedef struct bg_reading_row {
+    long long id, run_id;
+    size_t line;
+    double t_raw;
+    char t_raw_unit[4];            /* "K", "C", "F" or "ohm" */
+    double t_k, r_ohm, u_t_k, u_r_ohm;
+    char time[BG_TIME], note[BG_NOTE];
+    int excluded;
+    char excl_reason[BG_NOTE], excl_by[BG_TEXT], excl_at[BG_TIME];
+} bg_reading_row;
+typedef int (*bg_reading_cb)(const bg_reading_row *row, void *ctx);
+BG_API int bg_store_reading_each(bg_store *st, long long run_id, bg_reading_cb cb, void *ctx,
+                                 bg_error *err);
+
+/* The points of a run that are not excluded, in file order, with their reading ids, into a
+** reusable buffer (release with bg_store_points_release). */
+typedef struct bg_store_points {
+    bg_point *pts;
+    long long *ids;
+    size_t n, cap;
+} bg_store_points;
+#define BG_STORE_POINTS_INIT { NULL, NULL, 0, 0 }
+BG_API int bg_store_run_points(bg_store *st, long long run_id, bg_store_points *out,
+                               bg_error *err);
+BG_API void bg_store_points_release(bg_store_points *p);
+
+/* Exclude a reading from future fits: who, when (now) and why are recorded; the reading row
+** stays.  BG_EINVAL for an unknown or already excluded reading or an empty reason. */
+BG_API int bg_store_exclude(bg_store *st, long long reading_id, const char *why,
+                            const char *by, bg_error *err);
+
+/* ---- fits ---- */
+
+typedef struct bg_fit_row {
+    long long id, run_id, probe_id;
+    char serial[BG_TEXT];
+    bg_model model;
+    size_t npar, n, dof;
+    int weighted, has_cov;
+    double cov[BG_MODEL_MAXPAR * BG_MODEL_MAXPAR]; /* npar x npar, row-major */
+    double chi2, cov_scale, rms_mk, max_abs_mk, t_min_k, t_max_k;
+    char program_version[BG_TIME], created_at[BG_TIME];
+} bg_fit_row;
+
+/* Store 'fit' of run 'run_id' made from the readings 'reading_ids' (fit->n of them). */
+BG_API int bg_store_fit_save(bg_store *st, long long run_id, const bg_fit *fit,
+                             const long long *reading_ids, long long *fit_id, bg_error *err);
+BG_API int bg_store_fit_get(bg_store *st, long long fit_id, bg_fit_row *out, bg_error *err);
+typedef int (*bg_fit_cb)(const bg_fit_row *fit, void *ctx);
+BG_API int bg_store_fit_each(bg_store *st, const char *serial, const char *lot_code,
+                             bg_fit_cb cb, void *ctx, bg_error *err);
+/* The reading ids a fit used, ascending, into 'ids' (room for fit->n). */
+BG_API int bg_store_fit_readings(bg_store *st, long long fit_id, long long *ids, size_t max,
+                                 size_t *n, bg_error *err);
+
+/* The current time as ISO 8601 UTC ("2026-12-01T10:00:00Z"); SOURCE_DATE_EPOCH, when set,
+** replaces the clock (reproducible records and tests). */
+BG_API char *bg_store_now(char *buf, size_t size);
+
+#endif

@@ -1,0 +1,594 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Runs, readings, exclusions and fits in the calibration database.  An import is one
+** transaction; readings carry both the raw reference value and the corrected temperature. */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "bandgap/units.h"
+#include "bandgap/bandgap.h"
+#include "store_priv.h"
+
+static int cached(bg_store *st, int which, const char *sql, sqlite3_stmt **q, bg_error *err)
+{
+    if (!st->cache[which] && sqlite3_prepare_v3(st->db, sql, -1, SQLITE_PREPARE_PERSISTENT,
+                                                &st->cache[which], NULL) != SQLITE_OK)
+        return bgi_db_fail(st, err, "cannot prepare a query");
+    *q = st->cache[which];
+    sqlite3_reset(*q);
+    sqlite3_clear_bindings(*q);
+    return BG_OK;
+}
+
+/* Apply the reference's correction to one reading: GUM H.3 style linear correction, or
+** IEC 60751 for a platinum reference read in ohm. */
+static int correct(const bg_ref *ref, const bg_readings *rs, const bg_reading *r, double *t_k,
+                   bg_error *err)
+{
+    if (rs->ref_ohms)
+        return bg_cvd_t_from_r(ref->cvd_r0_ohm, ref->cvd_a, ref->cvd_b, ref->cvd_c, r->t_raw,
+                               t_k, err);
+    *t_k = r->pt.t_k;
+    if (ref && ref->kind == BG_REF_LINEAR)
+        *t_k += ref->lin_c0_k + ref->lin_c1 * (r->pt.t_k - ref->lin_t0_k);
+    if (!(*t_k > 0.0))
+        return bg_error_set(err, BG_EINVAL, "the corrected temperature is at or below 0 K");
+    return BG_OK;
+}
+
+int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, long long *run_id,
+                    bg_error *err)
+{
+    sqlite3_stmt *q = NULL, *ins = NULL;
+    bg_probe probe;
+    bg_ref ref;
+    int have_ref = meta->ref_ident[0] != '\0', rc, own;
+    char now[BG_TIME];
+    const char *src = meta->source[0] ? meta->source : "-";
+    const char *unit = rs->ref_ohms ? "ohm" : bg_units_symbol(rs->t_unit, 1);
+
+    if (rs->n == 0)
+        return bg_error_set(err, BG_EINVAL, "%s: no readings to import", src);
+    if ((rc = bgi_check_text("operator", meta->operator_name, BG_TEXT, 0, err)) != BG_OK ||
+        (rc = bgi_check_text("medium", meta->medium, BG_TEXT, 0, err)) != BG_OK ||
+        (rc = bgi_check_text("note", meta->note, BG_NOTE, 0, err)) != BG_OK)
+        return rc;
+    if (meta->started_at[0] && !bg_csv_valid_time(meta->started_at))
+        return bg_error_set(err, BG_EINVAL, "start time '%s': not an ISO 8601 date-time",
+                            meta->started_at);
+    if ((rc = bgi_tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    if ((rc = bg_store_probe_get(st, meta->serial, &probe, err)) != BG_OK)
+        goto done;
+    if (have_ref && (rc = bg_store_ref_get(st, meta->ref_ident, &ref, err)) != BG_OK)
+        goto done;
+    if (rs->ref_ohms && !(have_ref && ref.kind == BG_REF_CVD)) {
+        rc = bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs a reference thermometer "
+                          "with Callendar-Van Dusen coefficients (--ref)", src);
+        goto done;
+    }
+    if (!rs->ref_ohms && have_ref && ref.kind == BG_REF_CVD) {
+        rc = bg_error_set(err, BG_EINVAL, "%s: reference '%s' is read as a platinum resistance: "
+                          "the file needs a 'ref_ohms' column", src, ref.ident);
+        goto done;
+    }
+    if ((rc = bgi_prepare(st, "INSERT INTO run(probe_id, reference_id, operator, medium, "
+                          "ambient, excitation, started_at, source, note, imported_at) "
+                          "VALUES (?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
+        goto done;
+    sqlite3_bind_int64(q, 1, probe.id);
+    if (have_ref)
+        sqlite3_bind_int64(q, 2, ref.id);
+    else
+        sqlite3_bind_null(q, 2);
+    bgi_bind_text_or_null(q, 3, meta->operator_name);
+    bgi_bind_text_or_null(q, 4, meta->medium);
+    bgi_bind_text_or_null(q, 5, meta->ambient);
+    bgi_bind_text_or_null(q, 6, meta->excitation);
+    bg_store_now(now, sizeof now);
+    sqlite3_bind_text(q, 7, meta->started_at[0] ? meta->started_at
+                            : rs->v[0].time[0] ? rs->v[0].time : now, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 8, src, -1, SQLITE_TRANSIENT);
+    bgi_bind_text_or_null(q, 9, meta->note);
+    sqlite3_bind_text(q, 10, now, -1, SQLITE_TRANSIENT);
+    if (sqlite3_step(q) != SQLITE_DONE) {
+        rc = bgi_db_fail(st, err, "cannot create the run");
+        goto done;
+    }
+    long long rid = sqlite3_last_insert_rowid(st->db);
+    if ((rc = cached(st, STMT_INSERT_READING, "INSERT INTO reading(run_id, line, t_raw, "
+                     "t_raw_unit, t_k, r_ohm, u_t_k, u_r_ohm, time, note) "
+                     "VALUES (?,?,?,?,?,?,?,?,?,?)", &ins, err)) != BG_OK)
+        goto done;
+    for (size_t i = 0; i < rs->n; i++) {
+        const bg_reading *r = &rs->v[i];
+        double t_k;
+        if (correct(have_ref ? &ref : NULL, rs, r, &t_k, err) != BG_OK) {
+            bg_error_prefix(err, "%s:%zu: field '%s'", src, r->pt.line,
+                            rs->ref_ohms ? "ref_ohms" : "temperature");
+            rc = BG_EINVAL;
+            goto done;
+        }
+        sqlite3_reset(ins);
+        sqlite3_bind_int64(ins, 1, rid);
+        sqlite3_bind_int64(ins, 2, (sqlite3_int64)r->pt.line);
+        sqlite3_bind_double(ins, 3, r->t_raw);
+        sqlite3_bind_text(ins, 4, unit, -1, SQLITE_STATIC);
+        sqlite3_bind_double(ins, 5, t_k);
+        sqlite3_bind_double(ins, 6, r->pt.r_ohm);
+        sqlite3_bind_double(ins, 7, r->pt.u_t_k);
+        sqlite3_bind_double(ins, 8, r->pt.u_r_ohm);
+        if (r->time[0])
+            sqlite3_bind_text(ins, 9, r->time, -1, SQLITE_STATIC);
+        else
+            sqlite3_bind_null(ins, 9);
+        if (r->note)
+            sqlite3_bind_text(ins, 10, r->note, -1, SQLITE_STATIC);
+        else
+            sqlite3_bind_null(ins, 10);
+        if (sqlite3_step(ins) != SQLITE_DONE) {
+            rc = bg_error_set(err, BG_EINVAL, "%s:%zu: cannot store the reading: %s", src,
+                              r->pt.line, sqlite3_errmsg(st->db));
+            goto done;
+        }
+    }
+    sqlite3_reset(ins);
+    if (run_id)
+        *run_id = rid;
+done:
+    if (ins)
+        sqlite3_reset(ins);
+    sqlite3_finalize(q);
+    return bgi_tx_end(st, own, rc, err);
+}
+
+#define RUN_COLS "r.id, r.probe_id, coalesce(r.reference_id, 0), p.serial, " \
+    "coalesce(x.ident, ''), r.operator, r.medium, r.ambient, r.excitation, r.started_at, " \
+    "r.source, r.note, r.imported_at, " \
+    "(SELECT count(*) FROM reading g WHERE g.run_id = r.id), " \
+    "(SELECT count(*) FROM reading g JOIN exclusion e ON e.reading_id = g.id " \
+    "  WHERE g.run_id = r.id), " \
+    "(SELECT count(*) FROM fit f WHERE f.run_id = r.id)"
+#define RUN_FROM " FROM run r JOIN probe p ON r.probe_id = p.id " \
+    "LEFT JOIN reference x ON r.reference_id = x.id "
+
+static void run_row(sqlite3_stmt *q, bg_run *r)
+{
+    r->id = sqlite3_column_int64(q, 0);
+    r->probe_id = sqlite3_column_int64(q, 1);
+    r->reference_id = sqlite3_column_int64(q, 2);
+    bgi_copy_text(r->serial, sizeof r->serial, q, 3);
+    bgi_copy_text(r->ref_ident, sizeof r->ref_ident, q, 4);
+    bgi_copy_text(r->operator_name, sizeof r->operator_name, q, 5);
+    bgi_copy_text(r->medium, sizeof r->medium, q, 6);
+    bgi_copy_text(r->ambient, sizeof r->ambient, q, 7);
+    bgi_copy_text(r->excitation, sizeof r->excitation, q, 8);
+    bgi_copy_text(r->started_at, sizeof r->started_at, q, 9);
+    bgi_copy_text(r->source, sizeof r->source, q, 10);
+    bgi_copy_text(r->note, sizeof r->note, q, 11);
+    bgi_copy_text(r->imported_at, sizeof r->imported_at, q, 12);
+    r->nreadings = sqlite3_column_int64(q, 13);
+    r->nexcluded = sqlite3_column_int64(q, 14);
+    r->nfits = sqlite3_column_int64(q, 15);
+}
+
+int bg_store_run_get(bg_store *st, long long run_id, bg_run *out, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(st, "SELECT " RUN_COLS RUN_FROM "WHERE r.id = ?", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, run_id);
+    int s = sqlite3_step(q);
+    if (s == SQLITE_ROW)
+        run_row(q, out);
+    else if (s == SQLITE_DONE)
+        rc = bg_error_set(err, BG_EINVAL, "no run %lld", run_id);
+    else
+        rc = bgi_db_fail(st, err, "cannot read runs");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bg_store_run_latest(bg_store *st, long long probe_id, long long *run_id, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(st, "SELECT run_id FROM probe_latest_run WHERE probe_id = ?", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, probe_id);
+    int s = sqlite3_step(q);
+    if (s == SQLITE_ROW && sqlite3_column_type(q, 0) != SQLITE_NULL)
+        *run_id = sqlite3_column_int64(q, 0);
+    else if (s == SQLITE_ROW || s == SQLITE_DONE)
+        rc = bg_error_set(err, BG_EINVAL, "the probe has no calibration runs (import one with "
+                          "'bandgap import FILE --probe SERIAL')");
+    else
+        rc = bgi_db_fail(st, err, "cannot read runs");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bg_store_run_each(bg_store *st, const char *serial, const char *lot_code, bg_run_cb cb,
+                      void *ctx, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    bg_run r;
+    int rc, s;
+    if (serial) {
+        bg_probe p;
+        if ((rc = bg_store_probe_get(st, serial, &p, err)) != BG_OK)
+            return rc;
+    }
+    if (lot_code) {
+        bg_lot l;
+        if ((rc = bg_store_lot_get(st, lot_code, &l, err)) != BG_OK)
+            return rc;
+    }
+    rc = bgi_prepare(st, "SELECT " RUN_COLS RUN_FROM "JOIN lot l ON p.lot_id = l.id "
+                     "WHERE (?1 IS NULL OR p.serial = ?1) AND (?2 IS NULL OR l.code = ?2) "
+                     "ORDER BY r.id", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    bgi_bind_text_or_null(q, 1, serial);
+    bgi_bind_text_or_null(q, 2, lot_code);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        run_row(q, &r);
+        if (cb(&r, ctx))
+            break;
+    }
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(st, err, "cannot read runs");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bg_store_reading_each(bg_store *st, long long run_id, bg_reading_cb cb, void *ctx,
+                          bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    bg_reading_row row;
+    int rc = bgi_prepare(st, "SELECT g.id, g.run_id, g.line, g.t_raw, g.t_raw_unit, g.t_k, "
+                         "g.r_ohm, g.u_t_k, g.u_r_ohm, g.time, g.note, e.reading_id IS NOT NULL, "
+                         "e.reason, e.by_whom, e.at FROM reading g LEFT JOIN exclusion e "
+                         "ON e.reading_id = g.id WHERE g.run_id = ? ORDER BY g.id", &q, err), s;
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, run_id);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        row.id = sqlite3_column_int64(q, 0);
+        row.run_id = sqlite3_column_int64(q, 1);
+        row.line = (size_t)sqlite3_column_int64(q, 2);
+        row.t_raw = sqlite3_column_double(q, 3);
+        bgi_copy_text(row.t_raw_unit, sizeof row.t_raw_unit, q, 4);
+        row.t_k = sqlite3_column_double(q, 5);
+        row.r_ohm = sqlite3_column_double(q, 6);
+        row.u_t_k = sqlite3_column_double(q, 7);
+        row.u_r_ohm = sqlite3_column_double(q, 8);
+        bgi_copy_text(row.time, sizeof row.time, q, 9);
+        bgi_copy_text(row.note, sizeof row.note, q, 10);
+        row.excluded = sqlite3_column_int(q, 11);
+        bgi_copy_text(row.excl_reason, sizeof row.excl_reason, q, 12);
+        bgi_copy_text(row.excl_by, sizeof row.excl_by, q, 13);
+        bgi_copy_text(row.excl_at, sizeof row.excl_at, q, 14);
+        if (cb(&row, ctx))
+            break;
+    }
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(st, err, "cannot read readings");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+void bg_store_points_release(bg_store_points *p)
+{
+    if (!p)
+        return;
+    free(p->pts);
+    free(p->ids);
+    memset(p, 0, sizeof *p);
+}
+
+int bg_store_run_points(bg_store *st, long long run_id, bg_store_points *out, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = cached(st, STMT_RUN_POINTS, "SELECT g.id, g.t_k, g.r_ohm, g.u_t_k, g.u_r_ohm, "
+                    "g.line FROM reading g WHERE g.run_id = ? AND NOT EXISTS (SELECT 1 FROM "
+                    "exclusion e WHERE e.reading_id = g.id) ORDER BY g.id", &q, err), s;
+    if (rc != BG_OK)
+        return rc;
+    out->n = 0;
+    sqlite3_bind_int64(q, 1, run_id);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        if (out->n == out->cap) {
+            size_t cap = out->cap ? 2 * out->cap : 64;
+            bg_point *p = realloc(out->pts, cap * sizeof *p);
+            if (p)
+                out->pts = p;
+            long long *ids = realloc(out->ids, cap * sizeof *ids);
+            if (ids)
+                out->ids = ids;
+            if (!p || !ids) {
+                sqlite3_reset(q);
+                return bg_error_set(err, BG_ENOMEM, "out of memory reading run %lld", run_id);
+            }
+            out->cap = cap;
+        }
+        bg_point *pt = &out->pts[out->n];
+        out->ids[out->n] = sqlite3_column_int64(q, 0);
+        pt->t_k = sqlite3_column_double(q, 1);
+        pt->r_ohm = sqlite3_column_double(q, 2);
+        pt->u_t_k = sqlite3_column_double(q, 3);
+        pt->u_r_ohm = sqlite3_column_double(q, 4);
+        pt->line = (size_t)sqlite3_column_int64(q, 5);
+        out->n++;
+    }
+    if (s != SQLITE_DONE)
+        rc = bgi_db_fail(st, err, "cannot read readings");
+    sqlite3_reset(q);
+    return rc;
+}
+
+int bg_store_exclude(bg_store *st, long long reading_id, const char *why, const char *by,
+                     bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    char now[BG_TIME];
+    int rc, own;
+
+    if ((rc = bgi_check_text("reason", why, BG_NOTE, 1, err)) != BG_OK ||
+        (rc = bgi_check_text("name", by, BG_TEXT, 0, err)) != BG_OK)
+        return rc;
+    if ((rc = bgi_tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    rc = bgi_prepare(st, "SELECT (SELECT count(*) FROM reading WHERE id = ?1), "
+                     "(SELECT count(*) FROM exclusion WHERE reading_id = ?1)", &q, err);
+    if (rc == BG_OK) {
+        sqlite3_bind_int64(q, 1, reading_id);
+        if (sqlite3_step(q) != SQLITE_ROW)
+            rc = bgi_db_fail(st, err, "cannot read readings");
+        else if (sqlite3_column_int(q, 0) == 0)
+            rc = bg_error_set(err, BG_EINVAL, "no reading %lld", reading_id);
+        else if (sqlite3_column_int(q, 1) != 0)
+            rc = bg_error_set(err, BG_EINVAL, "reading %lld is already excluded", reading_id);
+        sqlite3_finalize(q);
+        q = NULL;
+    }
+    if (rc == BG_OK)
+        rc = bgi_prepare(st, "INSERT INTO exclusion(reading_id, reason, by_whom, at) "
+                         "VALUES (?,?,?,?)", &q, err);
+    if (rc == BG_OK) {
+        sqlite3_bind_int64(q, 1, reading_id);
+        sqlite3_bind_text(q, 2, why, -1, SQLITE_TRANSIENT);
+        sqlite3_bind_text(q, 3, by && *by ? by : "unknown", -1, SQLITE_TRANSIENT);
+        sqlite3_bind_text(q, 4, bg_store_now(now, sizeof now), -1, SQLITE_TRANSIENT);
+        if (sqlite3_step(q) != SQLITE_DONE)
+            rc = bgi_db_fail(st, err, "cannot record the exclusion");
+    }
+    sqlite3_finalize(q);
+    return bgi_tx_end(st, own, rc, err);
+}
+
+/* ---- fits ---- */
+
+/* The covariance as a JSON array with round-trip digits; NULL text when not available. */
+static char *cov_json(const bg_fit *f)
+{
+    size_t np = f->npar, cap = np * np * 26 + 4, k = 0;
+    char *s;
+    if (f->dof == 0)
+        return NULL;
+    s = malloc(cap);
+    if (!s)
+        return NULL;
+    s[k++] = '[';
+    for (size_t i = 0; i < np * np; i++)
+        k += (size_t)snprintf(s + k, cap - k, "%s%.17g", i ? "," : "", f->cov[i]);
+    s[k++] = ']';
+    s[k] = '\0';
+    return s;
+}
+
+int bg_store_fit_save(bg_store *st, long long run_id, const bg_fit *fit,
+                      const long long *reading_ids, long long *fit_id, bg_error *err)
+{
+    sqlite3_stmt *q = NULL, *qr = NULL;
+    char name[16], now[BG_TIME], *cov = NULL;
+    int rc, own;
+
+    if ((rc = bgi_tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    if ((rc = cached(st, STMT_INSERT_FIT, "INSERT INTO fit(run_id, model, t0_k, npar, c0, c1, "
+                     "c2, c3, c4, c5, cov, n, dof, weighted, chi2, cov_scale, rms_mk, "
+                     "max_abs_mk, t_min_k, t_max_k, program_version, created_at) VALUES "
+                     "(?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
+        goto done;
+    sqlite3_bind_int64(q, 1, run_id);
+    sqlite3_bind_text(q, 2, bg_model_name(&fit->model, name, sizeof name), -1, SQLITE_TRANSIENT);
+    if (fit->model.kind == BG_MODEL_BETA)
+        sqlite3_bind_double(q, 3, fit->model.t0_k);
+    else
+        sqlite3_bind_null(q, 3);
+    sqlite3_bind_int64(q, 4, (sqlite3_int64)fit->npar);
+    for (size_t i = 0; i < BG_MODEL_MAXPAR; i++) {
+        if (i < fit->npar)
+            sqlite3_bind_double(q, (int)(5 + i), fit->model.coef[i]);
+        else
+            sqlite3_bind_null(q, (int)(5 + i));
+    }
+    cov = cov_json(fit);
+    if (cov)
+        sqlite3_bind_text(q, 11, cov, -1, SQLITE_TRANSIENT);
+    else
+        sqlite3_bind_null(q, 11);
+    sqlite3_bind_int64(q, 12, (sqlite3_int64)fit->n);
+    sqlite3_bind_int64(q, 13, (sqlite3_int64)fit->dof);
+    sqlite3_bind_int(q, 14, fit->weighted);
+    sqlite3_bind_double(q, 15, fit->chi2);
+    if (isfinite(fit->cov_scale))
+        sqlite3_bind_double(q, 16, fit->cov_scale);
+    else
+        sqlite3_bind_null(q, 16);
+    sqlite3_bind_double(q, 17, fit->rms_mk);
+    sqlite3_bind_double(q, 18, fit->max_abs_mk);
+    sqlite3_bind_double(q, 19, fit->t_min_k);
+    sqlite3_bind_double(q, 20, fit->t_max_k);
+    sqlite3_bind_text(q, 21, bg_version(), -1, SQLITE_STATIC);
+    sqlite3_bind_text(q, 22, bg_store_now(now, sizeof now), -1, SQLITE_TRANSIENT);
+    if (sqlite3_step(q) != SQLITE_DONE) {
+        rc = bgi_db_fail(st, err, "cannot store the fit");
+        goto done;
+    }
+    sqlite3_reset(q);
+    long long fid = sqlite3_last_insert_rowid(st->db);
+    if ((rc = cached(st, STMT_INSERT_FIT_READING, "INSERT INTO fit_reading(fit_id, reading_id) "
+                     "VALUES (?,?)", &qr, err)) != BG_OK)
+        goto done;
+    for (size_t i = 0; i < fit->n; i++) {
+        sqlite3_reset(qr);
+        sqlite3_bind_int64(qr, 1, fid);
+        sqlite3_bind_int64(qr, 2, reading_ids[i]);
+        if (sqlite3_step(qr) != SQLITE_DONE) {
+            rc = bgi_db_fail(st, err, "cannot store the fit's readings");
+            goto done;
+        }
+    }
+    sqlite3_reset(qr);
+    if (fit_id)
+        *fit_id = fid;
+done:
+    if (q)
+        sqlite3_reset(q);
+    if (qr)
+        sqlite3_reset(qr);
+    free(cov);
+    return bgi_tx_end(st, own, rc, err);
+}
+
+#define FIT_COLS "f.id, f.run_id, r.probe_id, p.serial, f.model, f.t0_k, f.npar, f.c0, f.c1, " \
+    "f.c2, f.c3, f.c4, f.c5, f.cov, f.n, f.dof, f.weighted, f.chi2, f.cov_scale, f.rms_mk, " \
+    "f.max_abs_mk, f.t_min_k, f.t_max_k, f.program_version, f.created_at"
+#define FIT_FROM " FROM fit f JOIN run r ON f.run_id = r.id JOIN probe p ON r.probe_id = p.id "
+
+static int fit_row(sqlite3_stmt *q, bg_fit_row *f, bg_error *err)
+{
+    char name[16];
+    memset(f, 0, sizeof *f);
+    f->id = sqlite3_column_int64(q, 0);
+    f->run_id = sqlite3_column_int64(q, 1);
+    f->probe_id = sqlite3_column_int64(q, 2);
+    bgi_copy_text(f->serial, sizeof f->serial, q, 3);
+    bgi_copy_text(name, sizeof name, q, 4);
+    if (bg_model_parse(name, &f->model, err) != BG_OK)
+        return BG_EINVAL;
+    if (sqlite3_column_type(q, 5) != SQLITE_NULL)
+        f->model.t0_k = sqlite3_column_double(q, 5);
+    f->npar = (size_t)sqlite3_column_int64(q, 6);
+    if (f->npar != bg_model_npar(&f->model))
+        return bg_error_set(err, BG_EDB, "fit %lld: %zu coefficients for model '%s'", f->id,
+                            f->npar, name);
+    for (size_t i = 0; i < f->npar; i++)
+        f->model.coef[i] = sqlite3_column_double(q, (int)(7 + i));
+    const char *cov = (const char *)sqlite3_column_text(q, 13);
+    if (cov) {
+        const char *p = cov;
+        size_t k = 0;
+        if (*p == '[')
+            p++;
+        while (k < f->npar * f->npar) {
+            char *end;
+            f->cov[k++] = strtod(p, &end);
+            if (end == p)
+                return bg_error_set(err, BG_EDB, "fit %lld: unreadable covariance", f->id);
+            p = end;
+            if (*p == ',')
+                p++;
+        }
+        f->has_cov = 1;
+    } else {
+        for (size_t i = 0; i < f->npar * f->npar; i++)
+            f->cov[i] = NAN;
+    }
+    f->n = (size_t)sqlite3_column_int64(q, 14);
+    f->dof = (size_t)sqlite3_column_int64(q, 15);
+    f->weighted = sqlite3_column_int(q, 16);
+    f->chi2 = sqlite3_column_double(q, 17);
+    f->cov_scale = sqlite3_column_type(q, 18) == SQLITE_NULL ? NAN : sqlite3_column_double(q, 18);
+    f->rms_mk = sqlite3_column_double(q, 19);
+    f->max_abs_mk = sqlite3_column_double(q, 20);
+    f->t_min_k = sqlite3_column_double(q, 21);
+    f->t_max_k = sqlite3_column_double(q, 22);
+    bgi_copy_text(f->program_version, sizeof f->program_version, q, 23);
+    bgi_copy_text(f->created_at, sizeof f->created_at, q, 24);
+    return BG_OK;
+}
+
+int bg_store_fit_get(bg_store *st, long long fit_id, bg_fit_row *out, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(st, "SELECT " FIT_COLS FIT_FROM "WHERE f.id = ?", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, fit_id);
+    int s = sqlite3_step(q);
+    if (s == SQLITE_ROW)
+        rc = fit_row(q, out, err);
+    else if (s == SQLITE_DONE)
+        rc = bg_error_set(err, BG_EINVAL, "no fit %lld", fit_id);
+    else
+        rc = bgi_db_fail(st, err, "cannot read fits");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bg_store_fit_each(bg_store *st, const char *serial, const char *lot_code, bg_fit_cb cb,
+                      void *ctx, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    bg_fit_row f;
+    int rc, s;
+    if (serial) {
+        bg_probe p;
+        if ((rc = bg_store_probe_get(st, serial, &p, err)) != BG_OK)
+            return rc;
+    }
+    if (lot_code) {
+        bg_lot l;
+        if ((rc = bg_store_lot_get(st, lot_code, &l, err)) != BG_OK)
+            return rc;
+    }
+    rc = bgi_prepare(st, "SELECT " FIT_COLS FIT_FROM "JOIN lot l ON p.lot_id = l.id "
+                     "WHERE (?1 IS NULL OR p.serial = ?1) AND (?2 IS NULL OR l.code = ?2) "
+                     "ORDER BY f.id", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    bgi_bind_text_or_null(q, 1, serial);
+    bgi_bind_text_or_null(q, 2, lot_code);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        if ((rc = fit_row(q, &f, err)) != BG_OK || cb(&f, ctx))
+            break;
+    }
+    if (rc == BG_OK && s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(st, err, "cannot read fits");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bg_store_fit_readings(bg_store *st, long long fit_id, long long *ids, size_t max, size_t *n,
+                          bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(st, "SELECT reading_id FROM fit_reading WHERE fit_id = ? "
+                         "ORDER BY reading_id", &q, err), s;
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, fit_id);
+    *n = 0;
+    while ((s = sqlite3_step(q)) == SQLITE_ROW && *n < max)
+        ids[(*n)++] = sqlite3_column_int64(q, 0);
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(st, err, "cannot read the fit's readings");
+    sqlite3_finalize(q);
+    return rc;
+}
