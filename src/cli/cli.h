@@ -49,6 +49,16 @@ void json_bool(json_out *j, const char *key, int v);
 void json_null(json_out *j, const char *key);
 void json_nums(json_out *j, const char *key, const double *v, size_t n);
 
+/* Open the database of 'ctx' (create it with 'create'); reports errors itself and returns the
+** code for main(), or BG_OK.  Says on stderr when an older schema was upgraded. */
+int cli_open_store(struct cli_ctx *ctx, int create, bg_store **st);
+/* Parse a positive integer id ("12"); BG_EINVAL otherwise. */
+int cli_parse_id(const char *s, long long *id);
+/* Print a text field for a table, "-" when empty. */
+const char *cli_or_dash(const char *s);
+/* Show progress "what i/n" on stderr when it is a terminal (not TERM=dumb); i == n ends it. */
+void cli_progress(const char *what, size_t i, size_t n);
+
 /* ---- the fit report, shared by 'fit' and 'demo' ---- */
 struct fit_request {
     const char *model;        /* "sh3" ... or "auto" */
@@ -63,11 +73,25 @@ struct fit_request {
 };
 void fit_request_init(struct fit_request *rq);
 int fit_report_file(const char *path, const struct fit_request *rq, struct cli_ctx *ctx);
+/* Fit the latest (or given) run of a stored probe, or the latest run of every probe of a lot,
+** store the fits and print them. */
+int fit_stored_probe(const char *serial, long long run_id, const struct fit_request *rq,
+                     struct cli_ctx *ctx);
+int fit_stored_lot(const char *lot_code, const struct fit_request *rq, struct cli_ctx *ctx);
 
 /* ---- commands (one file each) ---- */
 int cmd_eval(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_fit(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_demo(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_init(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_lot(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_probe(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_ref(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_import(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_list(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_show(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_exclude(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_export(int argc, char **argv, struct cli_ctx *ctx);
 
 /* The invented demo data, embedded at build time from db/demo/. */
 struct demo_file {

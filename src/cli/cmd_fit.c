@@ -10,6 +10,8 @@
 
 static const char fit_usage[] =
     "Usage: bandgap fit FILE [--model MODEL] [--unit C|K|F] [--at TEMP]... [--json]\n"
+    "       bandgap [--db PATH] fit --probe SERIAL [--run N] [OPTIONS]\n"
+    "       bandgap [--db PATH] fit --lot CODE [OPTIONS]\n"
     "Fit an R-T model to the readings in FILE (a CSV; '-' reads standard input) and print\n"
     "the coefficients with standard uncertainties, the residuals, the curve's expanded\n"
     "uncertainty across the calibrated range, and a comparison of models.\n\n"
@@ -27,6 +29,10 @@ static const char fit_usage[] =
     "                   residuals are larger than they allow\n"
     "  --unit U         unit for printed temperatures: C (default), K or F\n"
     "  --json           one JSON object\n"
+    "  --probe SERIAL   fit the probe's latest run (or --run N) in the database and store\n"
+    "                   the fit; the readings excluded with 'bandgap exclude' are left out\n"
+    "  --lot CODE       fit the latest run of every probe of the lot in one transaction:\n"
+    "                   all fits are stored, or none when any probe fails\n"
     "Readings CSV: a header naming columns temp_c|temp_k|temp_f, ohms, and optionally\n"
     "u_temp_k, u_ohms, time, note (docs/readings-csv.md).\n"
     "Results hold only inside the calibrated range and the stated uncertainty; for medical,\n"
@@ -43,16 +49,20 @@ void fit_request_init(struct fit_request *rq)
 
 int cmd_fit(int argc, char **argv, struct cli_ctx *ctx)
 {
-    enum { O_MODEL = 1, O_T0, O_PAIR, O_UTEMP, O_AT, O_LINEAR, O_NOINFL, O_UNIT, O_JSON };
+    enum { O_MODEL = 1, O_T0, O_PAIR, O_UTEMP, O_AT, O_LINEAR, O_NOINFL, O_UNIT, O_JSON,
+           O_PROBE, O_RUN, O_LOT };
     static const struct option opts[] = {
         { "model", required_argument, NULL, O_MODEL }, { "t0", required_argument, NULL, O_T0 },
         { "pair", required_argument, NULL, O_PAIR },   { "u-temp", required_argument, NULL, O_UTEMP },
         { "at", required_argument, NULL, O_AT },       { "linear", no_argument, NULL, O_LINEAR },
         { "no-inflate", no_argument, NULL, O_NOINFL }, { "unit", required_argument, NULL, O_UNIT },
         { "json", no_argument, NULL, O_JSON },         { "help", no_argument, NULL, 'h' },
-        { NULL, 0, NULL, 0 },
+        { "probe", required_argument, NULL, O_PROBE }, { "run", required_argument, NULL, O_RUN },
+        { "lot", required_argument, NULL, O_LOT },     { NULL, 0, NULL, 0 },
     };
     struct fit_request rq;
+    const char *serial = NULL, *lot = NULL;
+    long long run_id = 0;
     bg_error err = BG_ERROR_INIT;
     bg_model probe;
     int c;
@@ -93,13 +103,31 @@ int cmd_fit(int argc, char **argv, struct cli_ctx *ctx)
                 return cli_usage_error("fit", "--unit: %s", err.msg);
             break;
         case O_JSON: ctx->json = 1; break;
+        case O_PROBE: serial = optarg; break;
+        case O_LOT: lot = optarg; break;
+        case O_RUN:
+            if (cli_parse_id(optarg, &run_id) != BG_OK)
+                return cli_usage_error("fit", "--run: '%s': not a run id", optarg);
+            break;
         case ':': return cli_usage_error("fit", "option '%s' needs a value", argv[optind - 1]);
         default: return cli_usage_error("fit", "unknown option '%s'", argv[optind - 1]);
         }
     }
+    if (serial || lot) {
+        if (serial && lot)
+            return cli_usage_error("fit", "give --probe or --lot, not both");
+        if (run_id && !serial)
+            return cli_usage_error("fit", "--run goes with --probe");
+        if (optind < argc)
+            return cli_usage_error("fit", "a readings file and --probe/--lot exclude each other");
+        return serial ? fit_stored_probe(serial, run_id, &rq, ctx)
+                      : fit_stored_lot(lot, &rq, ctx);
+    }
+    if (run_id)
+        return cli_usage_error("fit", "--run goes with --probe");
     if (optind + 1 != argc)
-        return cli_usage_error("fit", optind >= argc ? "no readings file given"
-                                                     : "more than one readings file given");
+        return cli_usage_error("fit", optind >= argc ? "no readings file given (or --probe, "
+                               "--lot)" : "more than one readings file given");
     return fit_report_file(argv[optind], &rq, ctx);
 }
 
@@ -116,11 +144,13 @@ static const char *model_formula(const bg_model *m)
 #define NU 9 /* points of the uncertainty table across the range */
 
 struct report {
-    const bg_readings *rs;
+    const bg_point *pts;
+    long long fit_id, run_id;   /* 0 when not stored */
+    const char *serial;
     const bg_fit *fit;
     const bg_cmp *cmp;
     int cmp_ok;
-    const char *cmp_msg;
+    char cmp_msg[512];
     double k_t, b_pair;
     double ut_t[NU], ut_u[NU];
     double at_r[32], at_u[32];
@@ -136,6 +166,11 @@ static void print_json(const struct report *r, const struct fit_request *rq, con
     json_begin(&j, stdout);
     json_obj(&j, NULL);
     json_str(&j, "source", path);
+    if (r->fit_id) {
+        json_int(&j, "fit_id", r->fit_id);
+        json_int(&j, "run_id", r->run_id);
+        json_str(&j, "probe", r->serial);
+    }
     json_str(&j, "model", bg_model_name(&f->model, name, sizeof name));
     json_str(&j, "requested_model", rq->model);
     json_arr(&j, "coefficient_names");
@@ -279,7 +314,7 @@ static void print_text(const struct report *r, const struct fit_request *rq, con
     printf("  %6s  %12s  %12s  %11s  %8s\n", "line", us[0] == 'K' ? "T/K" :
            un == BG_UNIT_F ? "T/degF" : "T/degC", "R/ohm", "resid/mK", "student");
     for (size_t i = 0; i < f->n; i++) {
-        const bg_point *p = &r->rs->v[i].pt;
+        const bg_point *p = &r->pts[i];
         printf("  %6zu  %12.4f  %12s  %11.4f  %8.2f\n", p->line, bg_units_from_k(p->t_k, un),
                bg_units_format_ohms(p->r_ohm, 7, b1, sizeof b1), f->resid_mk[i], f->student[i]);
     }
@@ -334,19 +369,82 @@ static void print_text(const struct report *r, const struct fit_request *rq, con
            bg_units_format_temp(f->t_max_k, un, 3, b2, sizeof b2));
 }
 
+/* Compare models, fit the requested one and work out everything the report prints.  'fit' and
+** 'cmp' belong to the caller; warnings are printed unless 'quiet'. */
+static int compute(bg_fitter *fr, const bg_point *pts, size_t n, const char *source,
+                   const struct fit_request *rq, int quiet, bg_fit *fit, bg_cmp *cmp,
+                   struct report *r, bg_error *err)
+{
+    bg_error cerr = BG_ERROR_INIT;
+    bg_fit_opts o = bg_fit_default_opts(NULL);
+    int rc;
+
+    memset(r, 0, sizeof *r);
+    o.model.t0_k = rq->t0_k;
+    o.refine = !rq->linear_only;
+    o.inflate = !rq->no_inflate;
+    o.source = source;
+    if (strcmp(rq->model, "auto") == 0 || !quiet) {
+        r->cmp_ok = bg_fit_compare(fr, pts, n, &o, cmp, &cerr) == BG_OK;
+        snprintf(r->cmp_msg, sizeof r->cmp_msg, "%s", cerr.msg);
+        if (!r->cmp_ok && cerr.code != BG_EINVAL) {
+            *err = cerr;
+            return cerr.code;
+        }
+    }
+    if (strcmp(rq->model, "auto") == 0) {
+        if (!r->cmp_ok) {
+            /* Data errors surface here with their line; otherwise say why auto cannot work. */
+            *err = cerr;
+            return BG_EINVAL;
+        }
+        o.model = cmp->row[cmp->chosen].model;
+    } else {
+        bg_model_parse(rq->model, &o.model, NULL);
+        o.model.t0_k = rq->t0_k;
+    }
+    if ((rc = bg_fitter_run(fr, pts, n, &o, fit, err)) != BG_OK)
+        return rc;
+    r->pts = pts, r->fit = fit, r->cmp = cmp;
+    r->k_t = bg_fit_coverage_k(fit, 0.9545);
+    if (bg_model_b_pair(&fit->model, rq->pair_t1_k, rq->pair_t2_k, &r->b_pair, NULL) != BG_OK)
+        r->b_pair = NAN;
+    for (size_t i = 0; i < NU; i++) {
+        r->ut_t[i] = fit->t_min_k + (fit->t_max_k - fit->t_min_k) * (double)i / (NU - 1);
+        if (bg_fit_u_t(fit, r->ut_t[i], &r->ut_u[i], NULL, NULL) != BG_OK)
+            r->ut_u[i] = NAN;
+    }
+    for (size_t i = 0; i < fit->nnotes && !quiet; i++)
+        cli_warn("%s", fit->notes[i].msg);
+    for (size_t i = 0; i < rq->nat; i++) {
+        char b1[64];
+        bg_error e2 = BG_ERROR_INIT;
+        r->at_ok[i] = bg_model_r_from_t(&fit->model, rq->at_k[i], &r->at_r[i], &e2) == BG_OK &&
+                      bg_fit_u_t(fit, rq->at_k[i], &r->at_u[i], &r->at_extra[i], &e2) == BG_OK;
+        if (quiet)
+            continue;
+        if (!r->at_ok[i])
+            cli_warn("--at %s: %s", bg_units_format_temp(rq->at_k[i], rq->unit, 3, b1,
+                                                          sizeof b1), e2.msg);
+        else if (r->at_extra[i])
+            cli_warn("--at %s: outside the calibrated range: extrapolated, not calibrated",
+                     bg_units_format_temp(rq->at_k[i], rq->unit, 3, b1, sizeof b1));
+    }
+    return BG_OK;
+}
+
 int fit_report_file(const char *path, const struct fit_request *rq, struct cli_ctx *ctx)
 {
     bg_readings rs = BG_READINGS_INIT;
-    bg_error err = BG_ERROR_INIT, cerr = BG_ERROR_INIT;
+    bg_error err = BG_ERROR_INIT;
     bg_fitter *fr = NULL;
     bg_point *pts = NULL;
     bg_fit fit = BG_FIT_INIT;
     bg_cmp cmp;
-    bg_fit_opts o;
     struct report r;
+    const char *source = strcmp(path, "-") == 0 ? "<stdin>" : path;
     int rc;
 
-    memset(&r, 0, sizeof r);
     if ((rc = bg_csv_read_file(path, &rs, &err)) != BG_OK)
         return cli_fail(NULL, &err);
     pts = malloc((rs.n ? rs.n : 1) * sizeof *pts);
@@ -365,61 +463,12 @@ int fit_report_file(const char *path, const struct fit_request *rq, struct cli_c
     if (rq->u_temp_k > 0.0 && !rs.has_u_t)
         for (size_t i = 0; i < rs.n; i++)
             pts[i].u_t_k = rq->u_temp_k;
-    o = bg_fit_default_opts(NULL);
-    o.model.t0_k = rq->t0_k;
-    o.refine = !rq->linear_only;
-    o.inflate = !rq->no_inflate;
-    o.source = strcmp(path, "-") == 0 ? "<stdin>" : path;
-
-    r.cmp_ok = bg_fit_compare(fr, pts, rs.n, &o, &cmp, &cerr) == BG_OK;
-    r.cmp_msg = cerr.msg;
-    if (!r.cmp_ok && cerr.code != BG_EINVAL) {
-        err = cerr;
-        rc = cerr.code;
+    if ((rc = compute(fr, pts, rs.n, source, rq, 0, &fit, &cmp, &r, &err)) != BG_OK)
         goto fail;
-    }
-    if (strcmp(rq->model, "auto") == 0) {
-        if (!r.cmp_ok) {
-            /* Data errors surface here with their line; otherwise say why auto cannot work. */
-            err = cerr;
-            rc = BG_EINVAL;
-            goto fail;
-        }
-        o.model = cmp.row[cmp.chosen].model;
-    } else {
-        bg_model_parse(rq->model, &o.model, NULL);
-        o.model.t0_k = rq->t0_k;
-    }
-    if ((rc = bg_fitter_run(fr, pts, rs.n, &o, &fit, &err)) != BG_OK)
-        goto fail;
-
-    r.rs = &rs, r.fit = &fit, r.cmp = &cmp;
-    r.k_t = bg_fit_coverage_k(&fit, 0.9545);
-    if (bg_model_b_pair(&fit.model, rq->pair_t1_k, rq->pair_t2_k, &r.b_pair, NULL) != BG_OK)
-        r.b_pair = NAN;
-    for (size_t i = 0; i < NU; i++) {
-        r.ut_t[i] = fit.t_min_k + (fit.t_max_k - fit.t_min_k) * (double)i / (NU - 1);
-        if (bg_fit_u_t(&fit, r.ut_t[i], &r.ut_u[i], NULL, NULL) != BG_OK)
-            r.ut_u[i] = NAN;
-    }
-    for (size_t i = 0; i < fit.nnotes; i++)
-        cli_warn("%s", fit.notes[i].msg);
-    for (size_t i = 0; i < rq->nat; i++) {
-        char b1[64];
-        r.at_ok[i] = bg_model_r_from_t(&fit.model, rq->at_k[i], &r.at_r[i], &err) == BG_OK &&
-                     bg_fit_u_t(&fit, rq->at_k[i], &r.at_u[i], &r.at_extra[i], &err) == BG_OK;
-        if (!r.at_ok[i])
-            cli_warn("--at %s: %s", bg_units_format_temp(rq->at_k[i], rq->unit, 3, b1,
-                                                          sizeof b1), err.msg);
-        else if (r.at_extra[i])
-            cli_warn("--at %s: outside the calibrated range: extrapolated, not calibrated",
-                     bg_units_format_temp(rq->at_k[i], rq->unit, 3, b1, sizeof b1));
-    }
     if (ctx->json)
-        print_json(&r, rq, o.source);
+        print_json(&r, rq, source);
     else
-        print_text(&r, rq, o.source);
-    rc = BG_OK;
+        print_text(&r, rq, source);
     goto done;
 fail:
     cli_fail(NULL, &err);
@@ -428,5 +477,250 @@ done:
     bg_fitter_free(fr);
     free(pts);
     bg_readings_release(&rs);
+    return rc;
+}
+
+/* Points of a stored run, with the request's default uncertainty where none was recorded. */
+static int load_points(bg_store *st, long long run_id, const struct fit_request *rq,
+                       bg_store_points *sp, bg_error *err)
+{
+    int rc = bg_store_run_points(st, run_id, sp, err), any_u = 0;
+    if (rc != BG_OK)
+        return rc;
+    for (size_t i = 0; i < sp->n; i++)
+        any_u |= sp->pts[i].u_t_k > 0.0 || sp->pts[i].u_r_ohm > 0.0;
+    if (!any_u && rq->u_temp_k > 0.0)
+        for (size_t i = 0; i < sp->n; i++)
+            sp->pts[i].u_t_k = rq->u_temp_k;
+    return BG_OK;
+}
+
+int fit_stored_probe(const char *serial, long long run_id, const struct fit_request *rq,
+                     struct cli_ctx *ctx)
+{
+    bg_error err = BG_ERROR_INIT;
+    bg_store *st = NULL;
+    bg_store_points sp = BG_STORE_POINTS_INIT;
+    bg_fitter *fr = bg_fitter_new();
+    bg_fit fit = BG_FIT_INIT;
+    bg_probe probe;
+    bg_run run;
+    bg_cmp cmp;
+    struct report r;
+    char source[BG_TEXT + 32];
+    long long fit_id = 0;
+    int rc;
+
+    if (!fr)
+        return cli_fail(NULL, &(bg_error){ BG_ENOMEM, "out of memory" });
+    if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
+        goto done;
+    if ((rc = bg_store_probe_get(st, serial, &probe, &err)) != BG_OK)
+        goto fail;
+    if (run_id == 0 && (rc = bg_store_run_latest(st, probe.id, &run_id, &err)) != BG_OK) {
+        bg_error_prefix(&err, "probe '%s'", serial);
+        goto fail;
+    }
+    if ((rc = bg_store_run_get(st, run_id, &run, &err)) != BG_OK)
+        goto fail;
+    if (run.probe_id != probe.id) {
+        rc = bg_error_set(&err, BG_EINVAL, "run %lld belongs to probe '%s', not '%s'", run_id,
+                          run.serial, serial);
+        goto fail;
+    }
+    if ((rc = load_points(st, run_id, rq, &sp, &err)) != BG_OK)
+        goto fail;
+    snprintf(source, sizeof source, "run %lld", run_id);
+    if ((rc = compute(fr, sp.pts, sp.n, source, rq, 0, &fit, &cmp, &r, &err)) != BG_OK ||
+        (rc = bg_store_fit_save(st, run_id, &fit, sp.ids, &fit_id, &err)) != BG_OK)
+        goto fail;
+    r.fit_id = fit_id, r.run_id = run_id, r.serial = serial;
+    if (ctx->json)
+        print_json(&r, rq, source);
+    else {
+        printf("probe %s, %s (%s)\n", serial, source, run.started_at);
+        print_text(&r, rq, source);
+        printf("stored as fit %lld\n", fit_id);
+    }
+    goto done;
+fail:
+    cli_fail(NULL, &err);
+done:
+    bg_fit_release(&fit);
+    bg_fitter_free(fr);
+    bg_store_points_release(&sp);
+    bg_store_close(st);
+    return rc;
+}
+
+struct serials {
+    char (*v)[BG_TEXT];
+    long long *ids;
+    size_t n, cap;
+};
+
+static int collect_probe(const bg_probe *p, void *ctx)
+{
+    struct serials *s = ctx;
+    if (s->n == s->cap) {
+        size_t cap = s->cap ? 2 * s->cap : 256;
+        char (*v)[BG_TEXT] = realloc(s->v, cap * sizeof *v);
+        if (v)
+            s->v = v;
+        long long *ids = realloc(s->ids, cap * sizeof *ids);
+        if (ids)
+            s->ids = ids;
+        if (!v || !ids)
+            return 1;
+        s->cap = cap;
+    }
+    memcpy(s->v[s->n], p->serial, BG_TEXT);
+    s->ids[s->n++] = p->id;
+    return 0;
+}
+
+int fit_stored_lot(const char *lot_code, const struct fit_request *rq, struct cli_ctx *ctx)
+{
+    bg_error err = BG_ERROR_INIT;
+    bg_store *st = NULL;
+    bg_store_points sp = BG_STORE_POINTS_INIT;
+    bg_fitter *fr = bg_fitter_new();
+    bg_fit fit = BG_FIT_INIT;
+    bg_cmp cmp;
+    bg_lot lot;
+    struct serials ps = { NULL, NULL, 0, 0 };
+    struct report r;
+    json_out j;
+    size_t nfit = 0, nskip = 0, nfail = 0, outlen = 0;
+    int rc, in_tx = 0;
+    char *outbuf = NULL;
+    /* The table is printed only when the whole lot succeeded. */
+    FILE *out = open_memstream(&outbuf, &outlen);
+
+    if (!fr || !out) {
+        rc = bg_error_set(&err, BG_ENOMEM, "out of memory");
+        goto fail;
+    }
+    if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
+        goto done;
+    if ((rc = bg_store_lot_get(st, lot_code, &lot, &err)) != BG_OK ||
+        (rc = bg_store_probe_each(st, lot_code, collect_probe, &ps, &err)) != BG_OK)
+        goto fail;
+    if (ps.n == 0) {
+        rc = bg_error_set(&err, BG_EINVAL, "lot '%s' has no probes (add them with 'bandgap "
+                          "probe add SERIAL --lot %s')", lot_code, lot_code);
+        goto fail;
+    }
+    /* One transaction for the whole lot: all fits are stored, or none. */
+    if ((rc = bg_store_begin(st, &err)) != BG_OK)
+        goto fail;
+    in_tx = 1;
+    if (ctx->json) {
+        json_begin(&j, out);
+        json_obj(&j, NULL);
+        json_str(&j, "lot", lot_code);
+        json_arr(&j, "probes");
+    } else
+        fprintf(out, "%-20s %6s %6s %-7s %4s %10s %10s %11s %12s %10s\n", "probe", "run", "fit",
+               "model", "n", "RMS/mK", "max/mK", "U(k=2)/mK", "R25/ohm", "B/K");
+    for (size_t i = 0; i < ps.n; i++) {
+        long long run_id, fit_id;
+        char source[64];
+        bg_error e2 = BG_ERROR_INIT;
+        cli_progress("fitting", i, ps.n);
+        if (bg_store_run_latest(st, ps.ids[i], &run_id, &e2) != BG_OK) {
+            nskip++;
+            if (ctx->json) {
+                json_obj(&j, NULL);
+                json_str(&j, "probe", ps.v[i]);
+                json_str(&j, "status", "no runs");
+                json_obj_end(&j);
+            } else
+                fprintf(out, "%-20s   no calibration runs: not fitted\n", ps.v[i]);
+            continue;
+        }
+        snprintf(source, sizeof source, "run %lld", run_id);
+        if ((rc = load_points(st, run_id, rq, &sp, &err)) != BG_OK)
+            goto fail;
+        if (compute(fr, sp.pts, sp.n, source, rq, 1, &fit, &cmp, &r, &e2) != BG_OK) {
+            nfail++;
+            cli_error("probe '%s': %s", ps.v[i], e2.msg);
+            continue;
+        }
+        for (size_t k = 0; k < fit.nnotes; k++)
+            cli_warn("probe '%s': %s", ps.v[i], fit.notes[k].msg);
+        if ((rc = bg_store_fit_save(st, run_id, &fit, sp.ids, &fit_id, &err)) != BG_OK)
+            goto fail;
+        nfit++;
+        double r25 = NAN, b = NAN, umax = 0.0;
+        bg_model_r_from_t(&fit.model, BG_T0_DEFAULT_K, &r25, NULL);
+        bg_model_b_pair(&fit.model, lot.pair_t1_k, lot.pair_t2_k, &b, NULL);
+        for (size_t k = 0; k < NU; k++)
+            umax = r.ut_u[k] > umax ? r.ut_u[k] : umax;
+        char name[16], rb[32];
+        bg_model_name(&fit.model, name, sizeof name);
+        if (ctx->json) {
+            json_obj(&j, NULL);
+            json_str(&j, "probe", ps.v[i]);
+            json_str(&j, "status", "fitted");
+            json_int(&j, "run_id", run_id);
+            json_int(&j, "fit_id", fit_id);
+            json_str(&j, "model", name);
+            json_nums(&j, "coefficients", fit.model.coef, fit.npar);
+            json_int(&j, "n", (long long)fit.n);
+            json_num(&j, "rms_mk", fit.rms_mk);
+            json_num(&j, "max_abs_mk", fit.max_abs_mk);
+            json_num(&j, "max_U_k2_mk", fit.dof ? 2e3 * umax : NAN);
+            json_num(&j, "r25_ohm", r25);
+            json_num(&j, "b_k", b);
+            json_obj_end(&j);
+        } else
+            fprintf(out, "%-20s %6lld %6lld %-7s %4zu %10.4f %10.4f %11.4f %12s %10.2f\n",
+                    ps.v[i],
+                   run_id, fit_id, name, fit.n, fit.rms_mk, fit.max_abs_mk,
+                   fit.dof ? 2e3 * umax : NAN, bg_units_format_ohms(r25, 7, rb, sizeof rb), b);
+    }
+    cli_progress("fitting", ps.n, ps.n);
+    if (nfail) {
+        rc = bg_error_set(&err, BG_EINVAL, "lot '%s': %zu of %zu probes could not be fitted; "
+                          "nothing was stored", lot_code, nfail, ps.n);
+        goto fail;
+    }
+    if ((rc = bg_store_commit(st, &err)) != BG_OK) {
+        in_tx = 0;
+        goto fail;
+    }
+    in_tx = 0;
+    if (ctx->json) {
+        json_arr_end(&j);
+        json_int(&j, "fitted", (long long)nfit);
+        json_int(&j, "without_runs", (long long)nskip);
+        json_obj_end(&j);
+        json_end(&j);
+    } else {
+        char b1[64], b2[64];
+        fprintf(out, "lot %s: %zu probes fitted, %zu without runs; B for %s / %s\n", lot_code,
+               nfit,
+               nskip, bg_units_format_temp(lot.pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1),
+               bg_units_format_temp(lot.pair_t2_k, BG_UNIT_C, 2, b2, sizeof b2));
+    }
+    fclose(out);
+    out = NULL;
+    fwrite(outbuf, 1, outlen, stdout);
+    goto done;
+fail:
+    if (in_tx)
+        bg_store_rollback(st);
+    cli_fail(NULL, &err);
+done:
+    if (out)
+        fclose(out);
+    free(outbuf);
+    bg_fit_release(&fit);
+    bg_fitter_free(fr);
+    bg_store_points_release(&sp);
+    bg_store_close(st);
+    free(ps.v);
+    free(ps.ids);
     return rc;
 }

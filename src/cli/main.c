@@ -21,10 +21,18 @@ struct command {
 
 /* The only list of commands; 'bandgap --help' prints from it and the tests walk it. */
 static const struct command commands[] = {
-    { "eval", cmd_eval, "evaluate a model given inline: resistance to temperature and back" },
-    { "fit",  cmd_fit,  "fit a model to a readings CSV file and report coefficients, "
-                        "residuals and uncertainty" },
-    { "demo", cmd_demo, "run the whole job on built-in invented data" },
+    { "init",    cmd_init,    "create the calibration database" },
+    { "lot",     cmd_lot,     "add, list and show production lots" },
+    { "probe",   cmd_probe,   "add, list and show probes" },
+    { "ref",     cmd_ref,     "add and list reference thermometers" },
+    { "import",  cmd_import,  "create a calibration run from a readings CSV file" },
+    { "fit",     cmd_fit,     "fit a model to a readings file, a stored probe or a whole lot" },
+    { "list",    cmd_list,    "list calibration runs or stored fits" },
+    { "show",    cmd_show,    "show one run with its readings, or one stored fit" },
+    { "exclude", cmd_exclude, "keep a reading out of future fits, with the reason" },
+    { "export",  cmd_export,  "export readings and fits as CSV or JSON, losslessly" },
+    { "eval",    cmd_eval,    "evaluate a model given inline: resistance to temperature and back" },
+    { "demo",    cmd_demo,    "run the whole job on built-in invented data" },
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
 

@@ -5,6 +5,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "cli.h"
 
@@ -193,4 +194,51 @@ void json_nums(json_out *j, const char *key, const double *v, size_t n)
     for (size_t i = 0; i < n; i++)
         json_num(j, NULL, v[i]);
     json_arr_end(j);
+}
+
+int cli_open_store(struct cli_ctx *ctx, int create, bg_store **st)
+{
+    bg_error err = BG_ERROR_INIT;
+    int rc = bg_store_open(ctx->db_path, create ? BG_STORE_CREATE : 0, st, &err);
+    if (rc != BG_OK) {
+        cli_error("%s", err.msg);
+        return rc == BG_EIO && create ? CLI_ECANTCREAT : rc;
+    }
+    if (bg_store_backup_path(*st)[0])
+        cli_warn("upgraded '%s' to schema version %d; the old file is kept as '%s'",
+                 ctx->db_path, bg_store_schema_version(*st), bg_store_backup_path(*st));
+    return BG_OK;
+}
+
+int cli_parse_id(const char *s, long long *id)
+{
+    char *end;
+    long long v;
+    if (!s || !*s || *s == '-' || *s == '+')
+        return BG_EINVAL;
+    v = strtoll(s, &end, 10);
+    if (*end != '\0' || v <= 0)
+        return BG_EINVAL;
+    *id = v;
+    return BG_OK;
+}
+
+const char *cli_or_dash(const char *s)
+{
+    return s && *s ? s : "-";
+}
+
+void cli_progress(const char *what, size_t i, size_t n)
+{
+    static int tty = -1;
+    if (tty < 0) {
+        const char *term = getenv("TERM");
+        tty = isatty(STDERR_FILENO) && !(term && strcmp(term, "dumb") == 0);
+    }
+    if (!tty)
+        return;
+    fprintf(stderr, "\r%s %zu/%zu", what, i, n);
+    if (i == n)
+        fputc('\n', stderr);
+    fflush(stderr);
 }

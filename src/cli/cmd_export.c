@@ -1,0 +1,275 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* bandgap export: readings and fits of a probe or a lot, lossless (17 significant digits),
+** as one CSV table or one JSON object. */
+#include <errno.h>
+#include <getopt.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+
+static const char export_usage[] =
+    "Usage: bandgap export (--probe SERIAL | --lot CODE) (--csv | --json) [-o FILE]\n"
+    "Export every run, reading (with exclusions) and stored fit of a probe or of all probes\n"
+    "of a lot.  Numbers have 17 significant digits, so they read back exactly.\n"
+    "--csv writes one table whose first column 'kind' is 'reading' or 'fit' (the columns\n"
+    "that do not apply are empty); --json writes {\"probes\": [...]}.  Missing values are\n"
+    "empty in CSV and null in JSON; NaN and infinities are never written.\n";
+
+static const char csv_header[] =
+    "kind,probe,lot,run,reading,line,t_raw,t_raw_unit,t_k,ohms,u_temp_k,u_ohms,time,note,"
+    "excluded_reason,fit,model,t0_k,c0,c1,c2,c3,c4,c5,n,dof,chi2,rms_mk,max_abs_mk,"
+    "t_min_k,t_max_k,created_at\n";
+
+struct ex {
+    bg_store *st;
+    FILE *out;
+    json_out j;
+    int json;
+    const char *serial, *lot;
+};
+
+static void csv_text(FILE *f, const char *s)
+{
+    if (s && strpbrk(s, ",\"\n\r")) {
+        fputc('"', f);
+        for (; *s; s++) {
+            if (*s == '"')
+                fputc('"', f);
+            fputc(*s, f);
+        }
+        fputc('"', f);
+    } else if (s)
+        fputs(s, f);
+    fputc(',', f);
+}
+
+static void csv_num(FILE *f, double v)
+{
+    if (isfinite(v))
+        fprintf(f, "%.17g", v);
+    fputc(',', f);
+}
+
+static int reading_cb(const bg_reading_row *g, void *p)
+{
+    struct ex *e = p;
+    if (e->json) {
+        json_out *j = &e->j;
+        json_obj(j, NULL);
+        json_int(j, "id", g->id);
+        json_int(j, "line", (long long)g->line);
+        json_num(j, "t_raw", g->t_raw);
+        json_str(j, "t_raw_unit", g->t_raw_unit);
+        json_num(j, "t_k", g->t_k);
+        json_num(j, "ohms", g->r_ohm);
+        json_num(j, "u_temp_k", g->u_t_k);
+        json_num(j, "u_ohms", g->u_r_ohm);
+        json_str(j, "time", g->time[0] ? g->time : NULL);
+        json_str(j, "note", g->note[0] ? g->note : NULL);
+        json_str(j, "excluded_reason", g->excluded ? g->excl_reason : NULL);
+        json_obj_end(j);
+        return 0;
+    }
+    FILE *f = e->out;
+    csv_text(f, "reading");
+    csv_text(f, e->serial);
+    csv_text(f, e->lot);
+    fprintf(f, "%lld,%lld,%zu,", g->run_id, g->id, g->line);
+    csv_num(f, g->t_raw);
+    csv_text(f, g->t_raw_unit);
+    csv_num(f, g->t_k);
+    csv_num(f, g->r_ohm);
+    csv_num(f, g->u_t_k);
+    csv_num(f, g->u_r_ohm);
+    csv_text(f, g->time);
+    csv_text(f, g->note);
+    csv_text(f, g->excluded ? g->excl_reason : "");
+    fputs(",,,,,,,,,,,,,,,,\n", f); /* the 17 fit columns */
+    return 0;
+}
+
+static int run_cb(const bg_run *r, void *p)
+{
+    struct ex *e = p;
+    bg_error err = BG_ERROR_INIT;
+    if (e->json) {
+        json_out *j = &e->j;
+        json_obj(j, NULL);
+        json_int(j, "run", r->id);
+        json_str(j, "reference", r->ref_ident[0] ? r->ref_ident : NULL);
+        json_str(j, "operator", r->operator_name[0] ? r->operator_name : NULL);
+        json_str(j, "medium", r->medium[0] ? r->medium : NULL);
+        json_str(j, "started_at", r->started_at);
+        json_str(j, "source", r->source);
+        json_arr(j, "readings");
+    }
+    int rc = bg_store_reading_each(e->st, r->id, reading_cb, e, &err);
+    if (e->json) {
+        json_arr_end(&e->j);
+        json_obj_end(&e->j);
+    }
+    return rc != BG_OK;
+}
+
+static int fit_cb(const bg_fit_row *f, void *p)
+{
+    struct ex *e = p;
+    char name[16];
+    bg_model_name(&f->model, name, sizeof name);
+    if (e->json) {
+        json_out *j = &e->j;
+        json_obj(j, NULL);
+        json_int(j, "fit", f->id);
+        json_int(j, "run", f->run_id);
+        json_str(j, "model", name);
+        if (f->model.kind == BG_MODEL_BETA)
+            json_num(j, "t0_k", f->model.t0_k);
+        json_nums(j, "coefficients", f->model.coef, f->npar);
+        if (f->has_cov) {
+            json_arr(j, "covariance");
+            for (size_t i = 0; i < f->npar; i++)
+                json_nums(j, NULL, &f->cov[i * f->npar], f->npar);
+            json_arr_end(j);
+        } else
+            json_null(j, "covariance");
+        json_int(j, "n", (long long)f->n);
+        json_int(j, "dof", (long long)f->dof);
+        json_num(j, "chi2", f->chi2);
+        json_num(j, "rms_mk", f->rms_mk);
+        json_num(j, "max_abs_mk", f->max_abs_mk);
+        json_num(j, "t_min_k", f->t_min_k);
+        json_num(j, "t_max_k", f->t_max_k);
+        json_str(j, "created_at", f->created_at);
+        json_obj_end(j);
+        return 0;
+    }
+    FILE *o = e->out;
+    csv_text(o, "fit");
+    csv_text(o, e->serial);
+    csv_text(o, e->lot);
+    fprintf(o, "%lld,,,,,,,,,,,,%lld,", f->run_id, f->id);
+    csv_text(o, name);
+    csv_num(o, f->model.kind == BG_MODEL_BETA ? f->model.t0_k : NAN);
+    for (size_t i = 0; i < BG_MODEL_MAXPAR; i++)
+        csv_num(o, i < f->npar ? f->model.coef[i] : NAN);
+    fprintf(o, "%zu,%zu,", f->n, f->dof);
+    csv_num(o, f->chi2);
+    csv_num(o, f->rms_mk);
+    csv_num(o, f->max_abs_mk);
+    csv_num(o, f->t_min_k);
+    csv_num(o, f->t_max_k);
+    fprintf(o, "%s\n", f->created_at);
+    return 0;
+}
+
+static int probe_cb(const bg_probe *p, void *ctx)
+{
+    struct ex *e = ctx;
+    bg_error err = BG_ERROR_INIT;
+    e->serial = p->serial, e->lot = p->lot_code;
+    if (e->json) {
+        json_obj(&e->j, NULL);
+        json_str(&e->j, "serial", p->serial);
+        json_str(&e->j, "lot", p->lot_code);
+        json_arr(&e->j, "runs");
+    }
+    int rc = bg_store_run_each(e->st, p->serial, NULL, run_cb, e, &err);
+    if (e->json) {
+        json_arr_end(&e->j);
+        json_arr(&e->j, "fits");
+    }
+    if (rc == BG_OK)
+        rc = bg_store_fit_each(e->st, p->serial, NULL, fit_cb, e, &err);
+    if (e->json) {
+        json_arr_end(&e->j);
+        json_obj_end(&e->j);
+    }
+    if (rc != BG_OK)
+        cli_fail("export", &err);
+    return rc != BG_OK;
+}
+
+int cmd_export(int argc, char **argv, struct cli_ctx *ctx)
+{
+    static const struct option opts[] = {
+        { "probe", required_argument, NULL, 'p' }, { "lot", required_argument, NULL, 'l' },
+        { "csv", no_argument, NULL, 'c' },         { "json", no_argument, NULL, 'j' },
+        { "output", required_argument, NULL, 'o' }, { "help", no_argument, NULL, 'h' },
+        { NULL, 0, NULL, 0 },
+    };
+    bg_error err = BG_ERROR_INIT;
+    struct ex xs;
+    const char *serial = NULL, *lot = NULL, *path = NULL;
+    int c, rc, csv = 0, json = 0;
+
+    memset(&xs, 0, sizeof xs);
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, ":ho:", opts, NULL)) != -1) {
+        switch (c) {
+        case 'h': fputs(export_usage, stdout); return BG_OK;
+        case 'p': serial = optarg; break;
+        case 'l': lot = optarg; break;
+        case 'c': csv = 1; break;
+        case 'j': json = 1; break;
+        case 'o': path = optarg; break;
+        case ':': return cli_usage_error("export", "option '%s' needs a value", argv[optind - 1]);
+        default: return cli_usage_error("export", "unknown option '%s'", argv[optind - 1]);
+        }
+    }
+    if (optind < argc)
+        return cli_usage_error("export", "unexpected argument '%s'", argv[optind]);
+    if (!serial == !lot)
+        return cli_usage_error("export", "give --probe SERIAL or --lot CODE");
+    json |= ctx->json && !csv;
+    if (csv == json)
+        return cli_usage_error("export", "give --csv or --json");
+    if ((rc = cli_open_store(ctx, 0, &xs.st)) != BG_OK)
+        return rc;
+    if (serial) {
+        bg_probe p;
+        if ((rc = bg_store_probe_get(xs.st, serial, &p, &err)) != BG_OK) {
+            cli_fail("export", &err);
+            goto done;
+        }
+    } else {
+        bg_lot l;
+        if ((rc = bg_store_lot_get(xs.st, lot, &l, &err)) != BG_OK) {
+            cli_fail("export", &err);
+            goto done;
+        }
+    }
+    xs.out = path ? fopen(path, "w") : stdout;
+    if (!xs.out) {
+        cli_error("export: cannot create '%s': %s", path, strerror(errno));
+        rc = CLI_ECANTCREAT;
+        goto done;
+    }
+    xs.json = json;
+    if (json) {
+        json_begin(&xs.j, xs.out);
+        json_obj(&xs.j, NULL);
+        json_arr(&xs.j, "probes");
+    } else
+        fputs(csv_header, xs.out);
+    if (serial) {
+        bg_probe p;
+        bg_store_probe_get(xs.st, serial, &p, &err);
+        rc = probe_cb(&p, &xs) ? BG_EDB : BG_OK;
+    } else
+        rc = bg_store_probe_each(xs.st, lot, probe_cb, &xs, &err);
+    if (json) {
+        json_arr_end(&xs.j);
+        json_obj_end(&xs.j);
+        json_end(&xs.j);
+    }
+    if (path && (fclose(xs.out) != 0)) {
+        cli_error("export: cannot write '%s': %s", path, strerror(errno));
+        rc = BG_EIO;
+    }
+done:
+    bg_store_close(xs.st);
+    return rc;
+}
