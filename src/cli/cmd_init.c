@@ -7,7 +7,7 @@
 #include "cli.h"
 
 static const char init_usage[] =
-    "Usage: bandgap [--db PATH] init\n"
+    "Usage: bandgap init   (bandgap [--db PATH] init)\n"
     "Create the calibration database PATH (default $BANDGAP_DB or ./bandgap.db), a single\n"
     "SQLite file with a rollback journal, so that it stays one file and works on network\n"
     "shares.  On an existing bandgap database it upgrades an older schema (keeping a copy)\n"

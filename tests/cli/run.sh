@@ -2,6 +2,8 @@
 # SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
 # Golden CLI tests.  Each case is a folder tests/cli/<command>/<case>/ with
 #   args          the arguments, one line, shell words (files named relative to the case)
+#   setup         optional shell commands run first in the same folder, with $BANDGAP
+#                 the program (e.g. to build a database); their output is discarded
 #   stdin         optional standard input
 #   expected.out  expected.err  expected.rc
 # The case's files are copied to a fresh temporary folder, which is the working directory,
@@ -19,6 +21,11 @@ for dir in "$HERE"/*/*/; do
     cp -R "$dir"/. "$tmp"/
     (
         cd "$tmp" || exit 99
+        export SOURCE_DATE_EPOCH=1764547200 # 2025-12-01T00:00:00Z: stored times are stable
+        if [ -f setup ]; then
+            CLI_DIR="$HERE" BANDGAP="$BIN" sh -e setup > setup.log 2>&1 || { echo "setup failed:"; cat setup.log; }
+        fi
+        rm -f setup.log
         stdin=/dev/null
         [ -f stdin ] && stdin=stdin
         eval "set -- $(cat args)"
