@@ -62,19 +62,19 @@ CREATE TABLE run (
     excitation   TEXT,
     started_at   TEXT NOT NULL,
     source       TEXT NOT NULL,
+    t_raw_unit   TEXT NOT NULL CHECK (t_raw_unit IN ('K', 'C', 'F', 'ohm')),
     note         TEXT,
     imported_at  TEXT NOT NULL
 ) STRICT;
 CREATE INDEX run_probe ON run(probe_id);
 
--- t_raw is the reference as read (the file's temperature in its own unit, or the platinum
--- reference's resistance in ohm for a 'cvd' reference); t_k is the corrected temperature.
+-- t_raw is the reference as read, in the run's t_raw_unit (the file's temperature unit, or
+-- ohm for a platinum reference read as a resistance); t_k is the corrected temperature.
 CREATE TABLE reading (
     id          INTEGER PRIMARY KEY,
     run_id      INTEGER NOT NULL REFERENCES run(id),
     line        INTEGER NOT NULL CHECK (line > 0),
     t_raw       REAL NOT NULL,
-    t_raw_unit  TEXT NOT NULL CHECK (t_raw_unit IN ('K', 'C', 'F', 'ohm')),
     t_k         REAL NOT NULL CHECK (t_k > 0),
     r_ohm       REAL NOT NULL CHECK (r_ohm > 0),
     u_t_k       REAL NOT NULL CHECK (u_t_k >= 0),

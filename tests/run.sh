@@ -36,6 +36,8 @@ fail=$((fail + cli_fail))
 [ "$cli_rc" -ne 0 ] && [ "$cli_fail" -eq 0 ] && count 1 cli-runner
 [ "$cli_fail" -gt 0 ] && failed="$failed cli"
 
+sh tests/faults.sh "$BUILD/bandgap"
+count $? faults
 sh tests/meta.sh "$BUILD/bandgap"
 count $? meta
 "$PYTHON" tests/xcheck_numpy.py "$BUILD/bandgap"

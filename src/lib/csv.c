@@ -5,6 +5,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include "bandgap/csv.h"
 #include "num_int.h"
@@ -331,6 +332,16 @@ int bg_csv_parse(const char *text, size_t len, const char *name, bg_readings *ou
     bg_readings_init(out);
     if (len >= 3 && memcmp(text, "\xEF\xBB\xBF", 3) == 0)
         pos = 3;
+    {
+        /* Size the array once: at most one reading per line. */
+        size_t lines = 1;
+        for (const char *p = text; (p = memchr(p, '\n', len - (size_t)(p - text))); p++)
+            lines++;
+        out->v = malloc(lines * sizeof *out->v);
+        if (!out->v)
+            return bg_error_set(err, BG_ENOMEM, "out of memory reading '%s'", ps.name);
+        out->cap = lines;
+    }
     while (pos < len) {
         const char *line = text + pos, *nl = memchr(line, '\n', len - pos);
         size_t ll = nl ? (size_t)(nl - line) : len - pos, k = 0;
@@ -378,8 +389,10 @@ int bg_csv_parse(const char *text, size_t len, const char *name, bg_readings *ou
             goto fail;
     }
     free(ps.qbuf);
-    if (nh == 0)
+    if (nh == 0) {
+        bg_readings_release(out);
         return bg_error_set(err, BG_EINVAL, "%s: no header line (an empty file?)", ps.name);
+    }
     return BG_OK;
 fail:
     free(ps.qbuf);
@@ -397,6 +410,18 @@ int bg_csv_read_file(const char *path, bg_readings *out, bg_error *err)
     bg_readings_init(out);
     if (!fp)
         return bg_error_set(err, BG_ENOENT, "cannot open '%s': %s", path, strerror(errno));
+    {
+        /* A regular file is read into one buffer of its size; pipes grow as they come. */
+        struct stat sb;
+        if (fstat(fileno(fp), &sb) == 0 && S_ISREG(sb.st_mode) && sb.st_size > 0) {
+            cap = (size_t)sb.st_size + 65536 + 1;
+            buf = malloc(cap);
+            if (!buf) {
+                rc = bg_error_set(err, BG_ENOMEM, "out of memory reading '%s'", path);
+                goto done;
+            }
+        }
+    }
     for (;;) {
         if (cap - len < 65536) {
             size_t nc = cap ? 2 * cap : 131072;

@@ -38,6 +38,42 @@ size_t bgi_num_scan(const char *s, size_t len, char dec_mark, double *v)
     }
     if (i >= sizeof buf)
         return 0;
+    {
+        /* Exact fast path (Clinger, "How to read floating point numbers accurately", PLDI
+        ** 1990): a decimal with at most 15 significant digits and a power of ten up to 22 is
+        ** one correctly rounded multiplication or division of two exact doubles. */
+        static const double p10[23] = { 1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,
+                                        1e8,  1e9,  1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
+                                        1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22 };
+        unsigned long long m = 0;
+        int sig = 0, e10 = 0, neg = 0, ok = 1;
+        size_t k = 0;
+        if (s[k] == '+' || s[k] == '-')
+            neg = s[k++] == '-';
+        for (; k < i && is_digit(s[k]); k++)
+            if (m || s[k] != '0') {
+                if (++sig > 15)
+                    ok = 0;
+                m = m * 10 + (unsigned)(s[k] - '0');
+            }
+        if (k < i && s[k] == dec_mark)
+            for (k++; k < i && is_digit(s[k]); k++) {
+                if (m || s[k] != '0') {
+                    if (++sig > 15)
+                        ok = 0;
+                    m = m * 10 + (unsigned)(s[k] - '0');
+                }
+                e10--;
+            }
+        if (k < i)
+            ok = 0; /* an exponent: leave it to strtod */
+        if (ok && e10 >= -22) {
+            double d = (double)m;
+            d = e10 < 0 ? d / p10[-e10] : d;
+            *v = neg ? -d : d;
+            return i;
+        }
+    }
     memcpy(buf, s, i);
     buf[i] = '\0';
     if (dec_mark != '.') {

@@ -236,7 +236,8 @@ int bg_store_open(const char *path, int flags, bg_store **out, bg_error *err)
         return bg_error_set(err, BG_ENOMEM, "out of memory");
     snprintf(st->path, sizeof st->path, "%s", path);
     if (sqlite3_open_v2(path, &st->db,
-                        SQLITE_OPEN_READWRITE | SQLITE_OPEN_EXRESCODE |
+                        /* NOMUTEX: a handle is never shared between threads */
+                        SQLITE_OPEN_READWRITE | SQLITE_OPEN_EXRESCODE | SQLITE_OPEN_NOMUTEX |
                             ((flags & BG_STORE_CREATE) ? SQLITE_OPEN_CREATE : 0),
                         NULL) != SQLITE_OK) {
         rc = bg_error_set(err, BG_EIO, "cannot %s database '%s': %s",

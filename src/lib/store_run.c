@@ -74,8 +74,8 @@ int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, lon
         goto done;
     }
     if ((rc = bgi_prepare(st, "INSERT INTO run(probe_id, reference_id, operator, medium, "
-                          "ambient, excitation, started_at, source, note, imported_at) "
-                          "VALUES (?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
+                          "ambient, excitation, started_at, source, note, imported_at, "
+                          "t_raw_unit) VALUES (?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
         goto done;
     sqlite3_bind_int64(q, 1, probe.id);
     if (have_ref)
@@ -92,14 +92,15 @@ int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, lon
     sqlite3_bind_text(q, 8, src, -1, SQLITE_TRANSIENT);
     bgi_bind_text_or_null(q, 9, meta->note);
     sqlite3_bind_text(q, 10, now, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 11, unit, -1, SQLITE_STATIC);
     if (sqlite3_step(q) != SQLITE_DONE) {
         rc = bgi_db_fail(st, err, "cannot create the run");
         goto done;
     }
     long long rid = sqlite3_last_insert_rowid(st->db);
     if ((rc = cached(st, STMT_INSERT_READING, "INSERT INTO reading(run_id, line, t_raw, "
-                     "t_raw_unit, t_k, r_ohm, u_t_k, u_r_ohm, time, note) "
-                     "VALUES (?,?,?,?,?,?,?,?,?,?)", &ins, err)) != BG_OK)
+                     "t_k, r_ohm, u_t_k, u_r_ohm, time, note) VALUES (?,?,?,?,?,?,?,?,?)", &ins,
+                     err)) != BG_OK)
         goto done;
     for (size_t i = 0; i < rs->n; i++) {
         const bg_reading *r = &rs->v[i];
@@ -114,19 +115,18 @@ int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, lon
         sqlite3_bind_int64(ins, 1, rid);
         sqlite3_bind_int64(ins, 2, (sqlite3_int64)r->pt.line);
         sqlite3_bind_double(ins, 3, r->t_raw);
-        sqlite3_bind_text(ins, 4, unit, -1, SQLITE_STATIC);
-        sqlite3_bind_double(ins, 5, t_k);
-        sqlite3_bind_double(ins, 6, r->pt.r_ohm);
-        sqlite3_bind_double(ins, 7, r->pt.u_t_k);
-        sqlite3_bind_double(ins, 8, r->pt.u_r_ohm);
+        sqlite3_bind_double(ins, 4, t_k);
+        sqlite3_bind_double(ins, 5, r->pt.r_ohm);
+        sqlite3_bind_double(ins, 6, r->pt.u_t_k);
+        sqlite3_bind_double(ins, 7, r->pt.u_r_ohm);
         if (r->time[0])
-            sqlite3_bind_text(ins, 9, r->time, -1, SQLITE_STATIC);
+            sqlite3_bind_text(ins, 8, r->time, -1, SQLITE_STATIC);
+        else
+            sqlite3_bind_null(ins, 8);
+        if (r->note)
+            sqlite3_bind_text(ins, 9, r->note, -1, SQLITE_STATIC);
         else
             sqlite3_bind_null(ins, 9);
-        if (r->note)
-            sqlite3_bind_text(ins, 10, r->note, -1, SQLITE_STATIC);
-        else
-            sqlite3_bind_null(ins, 10);
         if (sqlite3_step(ins) != SQLITE_DONE) {
             rc = bg_error_set(err, BG_EINVAL, "%s:%zu: cannot store the reading: %s", src,
                               r->pt.line, sqlite3_errmsg(st->db));
@@ -249,10 +249,11 @@ int bg_store_reading_each(bg_store *st, long long run_id, bg_reading_cb cb, void
 {
     sqlite3_stmt *q = NULL;
     bg_reading_row row;
-    int rc = bgi_prepare(st, "SELECT g.id, g.run_id, g.line, g.t_raw, g.t_raw_unit, g.t_k, "
+    int rc = bgi_prepare(st, "SELECT g.id, g.run_id, g.line, g.t_raw, r.t_raw_unit, g.t_k, "
                          "g.r_ohm, g.u_t_k, g.u_r_ohm, g.time, g.note, e.reading_id IS NOT NULL, "
-                         "e.reason, e.by_whom, e.at FROM reading g LEFT JOIN exclusion e "
-                         "ON e.reading_id = g.id WHERE g.run_id = ? ORDER BY g.id", &q, err), s;
+                         "e.reason, e.by_whom, e.at FROM reading g JOIN run r ON r.id = g.run_id "
+                         "LEFT JOIN exclusion e ON e.reading_id = g.id WHERE g.run_id = ? "
+                         "ORDER BY g.id", &q, err), s;
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, run_id);

@@ -1,0 +1,82 @@
+#!/bin/sh
+# SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
+# Faults: a failed import leaves the database byte for byte unchanged; an import killed with
+# SIGKILL at random moments leaves all of a run or none of it, and integrity_check says ok;
+# two importers and a reader at once lose no rows and see no busy error.
+# Usage: faults.sh BANDGAP
+BIN=$1
+T=$(mktemp -d)
+trap 'rm -rf "$T"' EXIT
+status=0
+bad() { echo "faults: $*"; status=1; }
+B() { "$BIN" --db "$T/f.db" "$@"; }
+Q() { sqlite3 -cmd '.timeout 30000' "$T/f.db" "$1"; }
+
+B init > /dev/null
+B lot add L --part P --r25 10k --beta 3950 --tol-r25 1% --tol-beta 1% > /dev/null
+B probe add K --lot L > /dev/null
+B probe add C1 --lot L > /dev/null
+B probe add C2 --lot L > /dev/null
+
+# An invented big readings file: NROWS readings of a falling resistance.
+NROWS=${FAULT_ROWS:-100000}
+awk -v n="$NROWS" 'BEGIN { print "# INVENTED fault-test readings"; print "temp_k,ohms,u_temp_k";
+    for (i = 0; i < n; i++) printf "%.6f,%.6f,0.002\n", 250 + 100 * i / n, 100000 * exp(-4 * i / n) }' \
+    > "$T/big.csv"
+
+# 1. A bad last row: exit 65, the file unchanged.
+cp "$T/big.csv" "$T/bad.csv"
+echo "300,abc,0.002" >> "$T/bad.csv"
+before=$(sha256sum < "$T/f.db")
+B import "$T/bad.csv" --probe K 2> "$T/err"
+rc=$?
+[ "$rc" -eq 65 ] || bad "bad import exited $rc, expected 65"
+grep -q "bad.csv:$((NROWS + 3)): field 'ohms': not a number: 'abc'" "$T/err" ||
+    bad "bad import message: $(cat "$T/err")"
+[ "$(sha256sum < "$T/f.db")" = "$before" ] || bad "a failed import changed the database"
+echo "faults: failed import left the database unchanged"
+
+# 2. SIGKILL at random moments.
+t0=$(date +%s%N)
+B import "$T/big.csv" --probe K > /dev/null || bad "timing import failed"
+t1=$(date +%s%N)
+full_ms=$(( (t1 - t0) / 1000000 ))
+[ "$full_ms" -gt 0 ] || full_ms=1
+kills=0
+for i in $(seq 1 20); do
+    delay_ms=$(awk -v s="$i" -v m="$full_ms" 'BEGIN { srand(s * 7919); printf "%d", rand() * m * 1.1 }')
+    "$BIN" --db "$T/f.db" import "$T/big.csv" --probe K > /dev/null 2>&1 &
+    pid=$! # the program itself, not a subshell, so that the kill reaches it
+    sleep "$(awk -v d="$delay_ms" 'BEGIN { printf "%.3f", d / 1000 }')"
+    kill -9 "$pid" 2>/dev/null && kills=$((kills + 1))
+    wait "$pid" 2>/dev/null
+    ok=$(Q 'PRAGMA integrity_check')
+    [ "$ok" = ok ] || bad "integrity_check after kill $i: $ok"
+    partial=$(Q "SELECT count(*) FROM run r WHERE (SELECT count(*) FROM reading g WHERE g.run_id = r.id) <> $NROWS")
+    [ "$partial" = 0 ] || bad "after kill $i: $partial runs without all their readings"
+done
+runs=$(Q "SELECT count(*) FROM run")
+rows=$(Q "SELECT count(*) FROM reading")
+[ "$rows" -eq $((runs * NROWS)) ] || bad "$rows readings for $runs runs of $NROWS"
+echo "faults: 20 imports killed at random moments ($kills while running, full import ${full_ms} ms): integrity ok, $runs whole runs, no partial run"
+
+# 3. Two importers and a reader at once.
+awk 'NR <= 3002' "$T/big.csv" > "$T/small.csv"
+before_runs=$(Q "SELECT count(*) FROM run")
+( for i in 1 2 3 4 5; do B import "$T/small.csv" --probe C1 > /dev/null || echo fail; done ) > "$T/w1" 2>&1 &
+p1=$!
+( for i in 1 2 3 4 5; do B import "$T/small.csv" --probe C2 > /dev/null || echo fail; done ) > "$T/w2" 2>&1 &
+p2=$!
+( for i in $(seq 1 30); do B list runs > /dev/null || echo fail; done ) > "$T/r" 2>&1 &
+p3=$!
+wait $p1 $p2 $p3
+for f in w1 w2 r; do
+    [ -s "$T/$f" ] && bad "concurrent $f reported: $(head -c 300 "$T/$f")"
+done
+n1=$(Q "SELECT count(*) FROM reading g JOIN run r ON g.run_id = r.id JOIN probe p ON r.probe_id = p.id WHERE p.serial = 'C1'")
+n2=$(Q "SELECT count(*) FROM reading g JOIN run r ON g.run_id = r.id JOIN probe p ON r.probe_id = p.id WHERE p.serial = 'C2'")
+[ "$n1" -eq 15000 ] && [ "$n2" -eq 15000 ] || bad "concurrent imports stored $n1 and $n2 readings, expected 15000 each"
+[ "$(Q 'PRAGMA integrity_check')" = ok ] || bad "integrity after concurrency"
+[ -e "$T/f.db-wal" ] && bad "a WAL file appeared: the database must stay one file"
+echo "faults: two importers (5 x 3000 readings each) and a reader: no busy error, no lost row"
+exit $status

@@ -1,0 +1,364 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* The calibration database: schema identity and versions, append-only history, atomic
+** imports, exact round trips of readings and fits, exclusions, and hostile text. */
+#include <sqlite3.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "testutil.h"
+
+static char dir[256];
+
+static int setup(void **state)
+{
+    (void)state;
+    snprintf(dir, sizeof dir, "/tmp/bandgap-test-store-XXXXXX");
+    return mkdtemp(dir) ? 0 : -1;
+}
+
+static int teardown(void **state)
+{
+    char cmd[300];
+    (void)state;
+    snprintf(cmd, sizeof cmd, "rm -rf '%s'", dir);
+    return system(cmd) == 0 ? 0 : -1;
+}
+
+static const char *path_of(const char *name)
+{
+    static char p[400];
+    snprintf(p, sizeof p, "%s/%s", dir, name);
+    return p;
+}
+
+static bg_store *fresh(const char *name)
+{
+    bg_store *st = NULL;
+    bg_lot lot;
+    unlink(path_of(name));
+    assert_int_equal(bg_store_open(path_of(name), BG_STORE_CREATE, &st, NULL), BG_OK);
+    memset(&lot, 0, sizeof lot);
+    strcpy(lot.code, "L1");
+    strcpy(lot.part, "NTC");
+    lot.r25_ohm = 10000, lot.beta_k = 3950, lot.pair_t1_k = 298.15, lot.pair_t2_k = 358.15;
+    lot.tol_r25 = 0.01, lot.tol_beta = 0.01;
+    assert_int_equal(bg_store_lot_add(st, &lot, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "P1", "L1", NULL, NULL, NULL), BG_OK);
+    return st;
+}
+
+static void sql(const char *name, const char *q)
+{
+    sqlite3 *db;
+    assert_int_equal(sqlite3_open(path_of(name), &db), SQLITE_OK);
+    int rc = sqlite3_exec(db, q, NULL, NULL, NULL);
+    sqlite3_close(db);
+    assert_int_equal(rc, SQLITE_OK);
+}
+
+static void schema_identity(void **state)
+{
+    (void)state;
+    bg_store *st = NULL;
+    bg_error err = BG_ERROR_INIT;
+    /* missing file without create */
+    assert_int_equal(bg_store_open(path_of("none.db"), 0, &st, &err), BG_ENOENT);
+    assert_null(st);
+    /* new file: newest schema, our application id */
+    st = fresh("a.db");
+    assert_int_equal(bg_store_schema_version(st), bg_store_schema_known());
+    bg_store_close(st);
+    /* a foreign SQLite file is refused and left alone */
+    sql("foreign.db", "CREATE TABLE t(x); INSERT INTO t VALUES (1);");
+    assert_int_equal(bg_store_open(path_of("foreign.db"), BG_STORE_CREATE, &st, &err),
+                     BG_EINVAL);
+    assert_non_null(strstr(err.msg, "is not a bandgap database"));
+    /* a newer schema is refused */
+    sql("a.db", "PRAGMA user_version = 77;");
+    assert_int_equal(bg_store_open(path_of("a.db"), 0, &st, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "schema version 77, newer than"));
+}
+
+static void old_schema_upgraded_with_backup(void **state)
+{
+    (void)state;
+    bg_store *st = NULL;
+    char q[256];
+    struct stat sb;
+    /* a version-1 file: the first migration only (db/001-initial.sql) */
+    FILE *f = fopen("db/001-initial.sql", "r");
+    assert_non_null(f);
+    static char text[65536];
+    size_t n = fread(text, 1, sizeof text - 1, f);
+    fclose(f);
+    text[n] = '\0';
+    unlink(path_of("old.db"));
+    sql("old.db", text);
+    snprintf(q, sizeof q, "PRAGMA application_id = %d; PRAGMA user_version = 1;",
+             BG_STORE_APP_ID);
+    sql("old.db", q);
+    assert_int_equal(bg_store_open(path_of("old.db"), 0, &st, NULL), BG_OK);
+    assert_int_equal(bg_store_schema_version(st), bg_store_schema_known());
+    assert_string_equal(bg_store_backup_path(st), path_of("old.db.v1.bak"));
+    bg_store_close(st);
+    assert_int_equal(stat(path_of("old.db.v1.bak"), &sb), 0);
+    /* the backup is the old file: version 1 */
+    sqlite3 *db;
+    sqlite3_stmt *s;
+    assert_int_equal(sqlite3_open(path_of("old.db.v1.bak"), &db), SQLITE_OK);
+    sqlite3_prepare_v2(db, "PRAGMA user_version", -1, &s, NULL);
+    assert_int_equal(sqlite3_step(s), SQLITE_ROW);
+    assert_int_equal(sqlite3_column_int(s, 0), 1);
+    sqlite3_finalize(s);
+    sqlite3_close(db);
+}
+
+static bg_readings make_readings(void)
+{
+    bg_readings rs;
+    const char *text = "time,temp_c,ohms,u_temp_k,u_ohms,note\n"
+                       "2026-11-24T08:00:00Z,0.0123456789012345,32659.888123456789,0.002,0.3,a\n"
+                       "2026-11-24T08:20:00Z,25.0001,10234.5,0.002,0.1,\n"
+                       "2026-11-24T08:40:00Z,50.0002,3608.378,0.002,0.04,\"b, c\"\n"
+                       "2026-11-24T09:00:00Z,75.0003,1456.25,0.002,0.02,\n"
+                       "2026-11-24T09:20:00Z,100.0004,677.52,0.002,0.01,\n";
+    assert_int_equal(bg_csv_parse(text, strlen(text), "r.csv", &rs, NULL), BG_OK);
+    return rs;
+}
+
+static int count_rows(bg_store *st, long long run, size_t *n)
+{
+    bg_store_points sp = BG_STORE_POINTS_INIT;
+    int rc = bg_store_run_points(st, run, &sp, NULL);
+    *n = sp.n;
+    bg_store_points_release(&sp);
+    return rc;
+}
+
+static void import_round_trip_and_exclusion(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("b.db");
+    bg_readings rs = make_readings();
+    bg_run meta;
+    long long run;
+    bg_error err = BG_ERROR_INIT;
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.serial, "P1");
+    strcpy(meta.source, "r.csv");
+    assert_int_equal(bg_store_import(st, &rs, &meta, &run, NULL), BG_OK);
+    bg_store_points sp = BG_STORE_POINTS_INIT;
+    assert_int_equal(bg_store_run_points(st, run, &sp, NULL), BG_OK);
+    assert_int_equal(sp.n, 5);
+    for (size_t i = 0; i < 5; i++) { /* stored doubles are the parsed doubles exactly */
+        assert_true(sp.pts[i].t_k == rs.v[i].pt.t_k);
+        assert_true(sp.pts[i].r_ohm == rs.v[i].pt.r_ohm);
+        assert_true(sp.pts[i].u_r_ohm == rs.v[i].pt.u_r_ohm);
+        assert_int_equal(sp.pts[i].line, rs.v[i].pt.line);
+    }
+    /* the run's start is the first reading's time */
+    bg_run r;
+    assert_int_equal(bg_store_run_get(st, run, &r, NULL), BG_OK);
+    assert_string_equal(r.started_at, "2026-11-24T08:00:00Z");
+    /* exclusion keeps the row, records the reason, and drops it from the points */
+    assert_int_equal(bg_store_exclude(st, sp.ids[2], "bath not settled", "A. Tester", NULL),
+                     BG_OK);
+    assert_int_equal(bg_store_exclude(st, sp.ids[2], "again", "x", &err), BG_EINVAL);
+    assert_int_equal(bg_store_exclude(st, 999999, "x", "x", &err), BG_EINVAL);
+    assert_int_equal(bg_store_exclude(st, sp.ids[1], "", "x", &err), BG_EINVAL);
+    size_t n;
+    assert_int_equal(count_rows(st, run, &n), BG_OK);
+    assert_int_equal(n, 4);
+    assert_int_equal(bg_store_run_get(st, run, &r, NULL), BG_OK);
+    assert_int_equal(r.nreadings, 5);
+    assert_int_equal(r.nexcluded, 1);
+    bg_store_points_release(&sp);
+    bg_readings_release(&rs);
+    bg_store_close(st);
+}
+
+static unsigned long file_sum(const char *p)
+{
+    FILE *f = fopen(p, "rb");
+    unsigned long h = 5381;
+    int c;
+    assert_non_null(f);
+    while ((c = fgetc(f)) != EOF)
+        h = h * 33u + (unsigned char)c;
+    fclose(f);
+    return h;
+}
+
+static void failed_import_changes_nothing(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("c.db");
+    bg_readings rs = make_readings();
+    bg_run meta;
+    bg_ref ref;
+    bg_error err = BG_ERROR_INIT;
+    long long run;
+    bg_store_close(st);
+    unsigned long before = file_sum(path_of("c.db"));
+    assert_int_equal(bg_store_open(path_of("c.db"), 0, &st, NULL), BG_OK);
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.serial, "nobody");
+    assert_int_equal(bg_store_import(st, &rs, &meta, &run, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "unknown probe 'nobody'"));
+    /* a correction that makes a reading impossible fails at that line, after the run row
+    ** and earlier readings were inserted: all of it is rolled back */
+    memset(&ref, 0, sizeof ref);
+    strcpy(ref.ident, "R1");
+    strcpy(ref.certificate, "C1");
+    ref.kind = BG_REF_LINEAR, ref.lin_c0_k = -320.0, ref.lin_c1 = 0.0, ref.lin_t0_k = 293.15;
+    bg_store_close(st);
+    assert_int_equal(bg_store_open(path_of("c.db"), 0, &st, NULL), BG_OK);
+    assert_int_equal(bg_store_ref_add(st, &ref, NULL, NULL), BG_OK);
+    bg_store_close(st);
+    before = file_sum(path_of("c.db"));
+    assert_int_equal(bg_store_open(path_of("c.db"), 0, &st, NULL), BG_OK);
+    strcpy(meta.serial, "P1");
+    strcpy(meta.ref_ident, "R1");
+    strcpy(meta.source, "r.csv");
+    assert_int_equal(bg_store_import(st, &rs, &meta, &run, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "r.csv:2: field 'temperature': the corrected temperature is "
+                                 "at or below 0 K");
+    bg_store_close(st);
+    assert_true(file_sum(path_of("c.db")) == before);
+    bg_readings_release(&rs);
+}
+
+static void history_is_append_only(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("d.db");
+    bg_readings rs = make_readings();
+    bg_run meta;
+    long long run;
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.serial, "P1");
+    assert_int_equal(bg_store_import(st, &rs, &meta, &run, NULL), BG_OK);
+    bg_store_close(st);
+    static const char *edits[] = {
+        "UPDATE reading SET r_ohm = 1", "DELETE FROM reading", "DELETE FROM run",
+        "UPDATE run SET note = 'x'",
+    };
+    for (size_t i = 0; i < sizeof edits / sizeof edits[0]; i++) {
+        sqlite3 *db;
+        char *msg = NULL;
+        assert_int_equal(sqlite3_open(path_of("d.db"), &db), SQLITE_OK);
+        assert_int_not_equal(sqlite3_exec(db, edits[i], NULL, NULL, &msg), SQLITE_OK);
+        assert_non_null(strstr(msg, "never"));
+        sqlite3_free(msg);
+        sqlite3_close(db);
+    }
+    bg_readings_release(&rs);
+}
+
+static void fit_round_trip_is_exact(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("e.db");
+    bg_readings rs = make_readings();
+    bg_run meta;
+    bg_fit f = BG_FIT_INIT;
+    bg_fit_row row;
+    bg_model m;
+    long long run, fid, ids[8];
+    size_t n;
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.serial, "P1");
+    assert_int_equal(bg_store_import(st, &rs, &meta, &run, NULL), BG_OK);
+    bg_store_points sp = BG_STORE_POINTS_INIT;
+    assert_int_equal(bg_store_run_points(st, run, &sp, NULL), BG_OK);
+    for (int k = 0; k < 2; k++) {
+        bg_model_parse(k ? "beta" : "sh4", &m, NULL);
+        bg_fit_opts o = bg_fit_default_opts(&m);
+        assert_int_equal(bg_fit_points(sp.pts, sp.n, &o, &f, NULL), BG_OK);
+        assert_int_equal(bg_store_fit_save(st, run, &f, sp.ids, &fid, NULL), BG_OK);
+        assert_int_equal(bg_store_fit_get(st, fid, &row, NULL), BG_OK);
+        assert_int_equal(row.model.kind, m.kind);
+        for (size_t i = 0; i < f.npar; i++)
+            assert_true(row.model.coef[i] == f.model.coef[i]); /* %.17g / REAL: exact */
+        for (size_t i = 0; i < f.npar * f.npar; i++)
+            assert_true(row.cov[i] == f.cov[i]);
+        assert_true(row.t_min_k == f.t_min_k && row.t_max_k == f.t_max_k);
+        assert_int_equal(bg_store_fit_readings(st, fid, ids, 8, &n, NULL), BG_OK);
+        assert_int_equal(n, sp.n);
+        for (size_t i = 0; i < n; i++)
+            assert_true(ids[i] == sp.ids[i]);
+    }
+    bg_fit_release(&f);
+    bg_store_points_release(&sp);
+    bg_readings_release(&rs);
+    bg_store_close(st);
+}
+
+static void hostile_text_is_just_text(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("f.db");
+    bg_probe p;
+    bg_error err = BG_ERROR_INIT;
+    const char *evil = "'; DROP TABLE probe; --";
+    assert_int_equal(bg_store_probe_add(st, evil, "L1", "\"quoted\"\nnote", NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_get(st, evil, &p, NULL), BG_OK);
+    assert_string_equal(p.serial, evil);
+    assert_string_equal(p.note, "\"quoted\"\nnote");
+    assert_int_equal(bg_store_probe_get(st, "P1", &p, NULL), BG_OK); /* the table is there */
+    assert_int_equal(bg_store_probe_add(st, evil, "L1", NULL, NULL, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "probe ''; DROP TABLE probe; --' already exists");
+    char longs[300];
+    memset(longs, 'x', sizeof longs - 1);
+    longs[sizeof longs - 1] = '\0';
+    assert_int_equal(bg_store_probe_add(st, longs, "L1", NULL, NULL, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "serial is longer than 200 bytes");
+    bg_store_close(st);
+}
+
+static void platinum_reference_import(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("g.db");
+    bg_ref ref;
+    bg_run meta;
+    bg_readings rs;
+    long long run;
+    /* IEC 60751 coefficients (refdata 3, published); 138.5055 ohm is 100 degC there */
+    const char *text = "ref_ohms,ohms\n100.0,32654.1\n119.397125,3608.4\n138.5055,677.5\n";
+    memset(&ref, 0, sizeof ref);
+    strcpy(ref.ident, "PRT");
+    strcpy(ref.certificate, "C");
+    ref.kind = BG_REF_CVD, ref.cvd_r0_ohm = 100, ref.cvd_a = 3.9083e-3, ref.cvd_b = -5.775e-7;
+    ref.cvd_c = -4.183e-12;
+    assert_int_equal(bg_store_ref_add(st, &ref, NULL, NULL), BG_OK);
+    assert_int_equal(bg_csv_parse(text, strlen(text), "prt.csv", &rs, NULL), BG_OK);
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.serial, "P1");
+    strcpy(meta.ref_ident, "PRT");
+    assert_int_equal(bg_store_import(st, &rs, &meta, &run, NULL), BG_OK);
+    bg_store_points sp = BG_STORE_POINTS_INIT;
+    assert_int_equal(bg_store_run_points(st, run, &sp, NULL), BG_OK);
+    assert_close(sp.pts[0].t_k, 273.15, 0, 1e-9);
+    assert_close(sp.pts[1].t_k, 323.15, 0, 1e-7);
+    assert_close(sp.pts[2].t_k, 373.15, 0, 1e-7);
+    bg_store_points_release(&sp);
+    bg_readings_release(&rs);
+    bg_store_close(st);
+}
+
+int main(void)
+{
+    gsl_set_error_handler(test_gsl_handler);
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(schema_identity),
+        cmocka_unit_test(old_schema_upgraded_with_backup),
+        cmocka_unit_test(import_round_trip_and_exclusion),
+        cmocka_unit_test(failed_import_changes_nothing),
+        cmocka_unit_test(history_is_append_only),
+        cmocka_unit_test(fit_round_trip_is_exact),
+        cmocka_unit_test(hostile_text_is_just_text),
+        cmocka_unit_test(platinum_reference_import),
+    };
+    return cmocka_run_group_tests_name("store", tests, setup, teardown);
+}
