@@ -25,7 +25,7 @@ CMOCKA     = $(shell pkg-config --cflags --libs cmocka 2>/dev/null)
 CFLAGS_ALL = $(STD) $(WARN) $(OPT) -fvisibility=hidden -Iinclude -DBG_VERSION='"$(VERSION)"' \
              $(PKG_CFLAGS)
 DEBIAN_PKGS = libgsl-dev libsqlite3-dev libcmocka-dev pkg-config python3-numpy python3-scipy \
-              mandoc
+              mandoc sqlite3 clang libclang-rt-14-dev
 
 LIB_SRC = $(wildcard src/lib/*.c)
 CLI_SRC = $(wildcard src/cli/*.c)
@@ -36,7 +36,8 @@ HEADERS = $(wildcard include/bandgap/*.h)
 DEMO_CSV = $(sort $(wildcard db/demo/*.csv))
 MIGRATIONS = $(sort $(wildcard db/[0-9][0-9][0-9]-*.sql))
 
-.PHONY: all deps test check sanitize demo bench install uninstall clean headers fmt
+.PHONY: all deps test check sanitize demo bench install uninstall clean headers fmt fuzz \
+        fuzz-replay
 
 all: deps $(BUILD)/libbandgap.a $(BUILD)/bandgap
 
@@ -45,7 +46,7 @@ deps:
 	@missing=""; \
 	for p in gsl sqlite3 cmocka; do pkg-config --exists $$p 2>/dev/null || missing=yes; done; \
 	$(PYTHON) -c 'import numpy, scipy' 2>/dev/null || missing=yes; \
-	command -v mandoc >/dev/null 2>&1 || missing=yes; \
+	for c in mandoc sqlite3 clang; do command -v $$c >/dev/null 2>&1 || missing=yes; done; \
 	if [ -n "$$missing" ]; then \
 	  if [ "$$(id -u)" = 0 ]; then SUDO=""; \
 	  elif command -v sudo >/dev/null 2>&1 && sudo -n true 2>/dev/null; then SUDO="sudo"; \
@@ -111,10 +112,46 @@ check: all headers $(TESTS)
 
 sanitize: deps
 	@$(MAKE) --no-print-directory BUILD=build-san SAN=1 check
+	@$(MAKE) --no-print-directory BUILD=build-san SAN=1 fuzz-replay
 
+# ---- fuzzing: libFuzzer with clang; the committed corpus is replayed by the sanitizer suite --
+FUZZ_TIME ?= 60
+FUZZ_LIB = src/lib/csv.c src/lib/num.c src/lib/units.c src/lib/error.c src/lib/model.c
+FUZZ_TARGETS = csv units
+CLANG ?= $(shell command -v clang-14 || command -v clang)
+
+fuzz-replay: $(BUILD)/libbandgap.a
+	@mkdir -p $(BUILD)/fuzz
+	@for t in $(FUZZ_TARGETS); do \
+	  $(CC) $(CFLAGS_ALL) tests/fuzz/fuzz_$$t.c tests/fuzz/replay.c -o $(BUILD)/fuzz/replay_$$t \
+	      $(BUILD)/libbandgap.a $(PKG_LIBS) || exit 1; \
+	  $(BUILD)/fuzz/replay_$$t tests/fuzz/corpus/$$t/* || exit 1; \
+	done
+
+# Each target runs FUZZ_TIME seconds (default 60) on a copy of its corpus; any crash, leak or
+# sanitizer report fails.  New inputs found are left in build/fuzz/corpus-* to look at.
+fuzz: | deps
+	@test -n "$(CLANG)" || { echo "make fuzz needs clang (apt-get install clang)"; exit 1; }
+	@mkdir -p $(BUILD)/fuzz
+	@for t in $(FUZZ_TARGETS); do \
+	  $(CLANG) -std=c11 -D_POSIX_C_SOURCE=200809L -g -O1 -Iinclude \
+	      -fsanitize=fuzzer,address,undefined -fno-sanitize-recover=all \
+	      tests/fuzz/fuzz_$$t.c $(FUZZ_LIB) -o $(BUILD)/fuzz/fuzz_$$t -lm || exit 1; \
+	  rm -rf $(BUILD)/fuzz/corpus-$$t; cp -R tests/fuzz/corpus/$$t $(BUILD)/fuzz/corpus-$$t; \
+	  echo "fuzzing $$t for $(FUZZ_TIME) s"; \
+	  $(BUILD)/fuzz/fuzz_$$t -max_total_time=$(FUZZ_TIME) -max_len=4096 \
+	      -artifact_prefix=$(BUILD)/fuzz/ $(BUILD)/fuzz/corpus-$$t > $(BUILD)/fuzz/$$t.log 2>&1 \
+	      || { tail -40 $(BUILD)/fuzz/$$t.log; exit 1; }; \
+	  tail -1 $(BUILD)/fuzz/$$t.log; \
+	done
+
+# make test: the plain suite, the sanitizer suite, and each fuzz target for TEST_FUZZ_TIME
+# seconds (60 in CI, where CI=true, as the project requires; 10 elsewhere).
+TEST_FUZZ_TIME = $(if $(CI),60,10)
 test: deps
 	@$(MAKE) --no-print-directory check
 	@$(MAKE) --no-print-directory sanitize
+	@$(MAKE) --no-print-directory fuzz FUZZ_TIME=$(TEST_FUZZ_TIME)
 
 # ---- demo and benchmarks --------------------------------------------------------------------
 demo: all

@@ -1,36 +1,56 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* bandgap demo: write the built-in invented readings to a folder, fit them, print the report. */
+/* bandgap demo: the whole job on built-in invented data: write a lot's readings, build a
+** calibration database, import, fit one probe with the full report and the whole lot. */
 #include <errno.h>
 #include <getopt.h>
 #include <stdio.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <unistd.h>
 
 #include "cli.h"
 
 static const char demo_usage[] =
-    "Usage: bandgap demo [--dir DIR] [--json]\n"
-    "Run the whole job on built-in invented data: write the readings of one invented probe\n"
-    "to DIR (default: bandgap-demo), fit them with the automatic model choice and print the\n"
-    "calibration report.  The scenario and every number in it are invented.\n";
+    "Usage: bandgap demo [--dir DIR]\n"
+    "Run the whole job on built-in invented data: write the readings of an invented lot of\n"
+    "12 soil probes to DIR (default: bandgap-demo), create the calibration database\n"
+    "DIR/demo.db (replacing an earlier one), add the lot, the probes and the reference\n"
+    "thermometer, import one calibration round, fit one probe with the full report and\n"
+    "then the whole lot.  The scenario and every number in it are invented.\n";
+
+#define DEMO_LOT "GH-LOT-2611"
+#define DEMO_PROBE "GH-0417"
+
+/* Run one command of the program in this process, as a user would type it. */
+static int run(struct cli_ctx *ctx, cmd_fn fn, const char *const *args)
+{
+    char *argv[32];
+    int argc = 0;
+    while (args[argc] && argc < 31) {
+        argv[argc] = (char *)args[argc];
+        argc++;
+    }
+    argv[argc] = NULL;
+    optind = 0;
+    return fn(argc, argv, ctx);
+}
 
 int cmd_demo(int argc, char **argv, struct cli_ctx *ctx)
 {
     static const struct option opts[] = {
-        { "dir", required_argument, NULL, 'd' }, { "json", no_argument, NULL, 'j' },
-        { "help", no_argument, NULL, 'h' },      { NULL, 0, NULL, 0 },
+        { "dir", required_argument, NULL, 'd' }, { "help", no_argument, NULL, 'h' },
+        { NULL, 0, NULL, 0 },
     };
     const char *dir = "bandgap-demo";
-    char path[4096];
-    struct fit_request rq;
-    int c;
+    char path[4096], db[4096];
+    struct cli_ctx dctx = *ctx;
+    int c, rc;
 
     opterr = 0;
     while ((c = getopt_long(argc, argv, ":h", opts, NULL)) != -1) {
         switch (c) {
         case 'h': fputs(demo_usage, stdout); return BG_OK;
         case 'd': dir = optarg; break;
-        case 'j': ctx->json = 1; break;
         case ':': return cli_usage_error("demo", "option '%s' needs a value", argv[optind - 1]);
         default: return cli_usage_error("demo", "unknown option '%s'", argv[optind - 1]);
         }
@@ -41,7 +61,11 @@ int cmd_demo(int argc, char **argv, struct cli_ctx *ctx)
         cli_error("demo: cannot create '%s': %s", dir, strerror(errno));
         return CLI_ECANTCREAT;
     }
-    for (const struct demo_file *df = demo_files; df->name; df++) {
+    printf("INVENTED DEMO DATA: the (invented) Lindqvist glasshouse cooperative recalibrates\n"
+           "lot %s of its soil probes: 12 probes in a stirred bath beside reference\n"
+           "thermometer REF-7, 18 readings each from -20 to 60 degC.\n\n", DEMO_LOT);
+    size_t nfiles = 0;
+    for (const struct demo_file *df = demo_files; df->name; df++, nfiles++) {
         FILE *f;
         snprintf(path, sizeof path, "%s/%s", dir, df->name);
         if (!(f = fopen(path, "w"))) {
@@ -52,14 +76,53 @@ int cmd_demo(int argc, char **argv, struct cli_ctx *ctx)
             cli_error("demo: cannot write '%s': %s", path, strerror(errno));
             return BG_EIO;
         }
-        if (!ctx->json)
-            printf("wrote %s\n", path);
     }
-    snprintf(path, sizeof path, "%s/%s", dir, "probe-GH-0417.csv");
-    if (!ctx->json)
-        printf("\nINVENTED DEMO DATA: calibration of soil probe GH-0417 of the (invented)\n"
-               "Lindqvist glasshouse cooperative, stirred-bath comparison against a\n"
-               "reference thermometer.  Fitting %s:\n\n", path);
-    fit_request_init(&rq);
-    return fit_report_file(path, &rq, ctx);
+    printf("wrote %zu readings files to %s/\n", nfiles, dir);
+    snprintf(db, sizeof db, "%s/demo.db", dir);
+    if (unlink(db) != 0 && errno != ENOENT) {
+        cli_error("demo: cannot replace '%s': %s", db, strerror(errno));
+        return CLI_ECANTCREAT;
+    }
+    dctx.db_path = db;
+    dctx.json = 0;
+    {
+        const char *a_init[] = { "init", NULL };
+        const char *a_lot[] = { "lot", "add", DEMO_LOT, "--part", "SOIL-NTC-10K", "--r25", "10k",
+                                "--beta", "3950", "--pair", "25/85", "--tol-r25", "1%",
+                                "--tol-beta", "0.5%", "--note", "invented demo lot", NULL };
+        const char *a_ref[] = { "ref", "add", "REF-7", "--cert", "INVENTED-CAL-2026-0117",
+                                "--due", "2027-09-30", "--linear", "0.0042,-0.00011,20", NULL };
+        if ((rc = run(&dctx, cmd_init, a_init)) != BG_OK ||
+            (rc = run(&dctx, cmd_lot, a_lot)) != BG_OK ||
+            (rc = run(&dctx, cmd_ref, a_ref)) != BG_OK)
+            return rc;
+    }
+    for (const struct demo_file *df = demo_files; df->name; df++) {
+        char serial[64];
+        /* probe-GH-0417.csv -> GH-0417 */
+        snprintf(serial, sizeof serial, "%.*s", (int)(strlen(df->name) - 10), df->name + 6);
+        snprintf(path, sizeof path, "%s/%s", dir, df->name);
+        const char *a_probe[] = { "probe", "add", serial, "--lot", DEMO_LOT, NULL };
+        const char *a_imp[] = { "import", path, "--probe", serial, "--ref", "REF-7",
+                                "--operator", "I. Nventa", "--medium", "stirred water-glycol",
+                                "--ambient", "21 degC", "--excitation", "10 uA", NULL };
+        if ((rc = run(&dctx, cmd_probe, a_probe)) != BG_OK ||
+            (rc = run(&dctx, cmd_import, a_imp)) != BG_OK)
+            return rc;
+    }
+    printf("\n== calibration report of probe %s (model chosen automatically) ==\n\n",
+           DEMO_PROBE);
+    {
+        const char *a_fit[] = { "fit", "--probe", DEMO_PROBE, NULL };
+        if ((rc = run(&dctx, cmd_fit, a_fit)) != BG_OK)
+            return rc;
+    }
+    printf("\n== the whole lot %s, Steinhart-Hart (sh3) for every probe ==\n\n", DEMO_LOT);
+    {
+        const char *a_lot[] = { "fit", "--lot", DEMO_LOT, "--model", "sh3", NULL };
+        if ((rc = run(&dctx, cmd_fit, a_lot)) != BG_OK)
+            return rc;
+    }
+    printf("\ndatabase: %s  (try: bandgap --db %s list fits)\n", db, db);
+    return BG_OK;
 }
