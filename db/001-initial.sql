@@ -2,7 +2,8 @@
 -- bandgap calibration database, schema version 1.
 -- Units are in the column names (t_k: kelvin, r_ohm: ohm).  Times are ISO 8601 text.
 -- History is append-only: triggers refuse to edit or delete readings, runs, fits and
--- exclusions; a new fit is a new row that records exactly the readings it used.
+-- exclusions; a new fit is a new row that records exactly the readings it used (as a list
+-- of reading ids in the row itself: one row per fit keeps fitting a large lot fast).
 
 CREATE TABLE lot (
     id          INTEGER PRIMARY KEY,
@@ -98,7 +99,9 @@ CREATE TABLE fit (
     t0_k            REAL,
     npar            INTEGER NOT NULL CHECK (npar BETWEEN 2 AND 6),
     c0 REAL NOT NULL, c1 REAL NOT NULL, c2 REAL, c3 REAL, c4 REAL, c5 REAL,
-    cov             TEXT,            -- JSON array, row-major npar x npar, %.17g; NULL if dof = 0
+    cov             BLOB CHECK (cov IS NULL OR length(cov) = 8 * npar * npar),
+                                     -- row-major npar x npar IEEE doubles, little-endian;
+                                     -- NULL when dof = 0
     n               INTEGER NOT NULL CHECK (n > 0),
     dof             INTEGER NOT NULL CHECK (dof >= 0),
     weighted        INTEGER NOT NULL CHECK (weighted IN (0, 1)),
@@ -108,16 +111,13 @@ CREATE TABLE fit (
     max_abs_mk      REAL NOT NULL,
     t_min_k         REAL NOT NULL,
     t_max_k         REAL NOT NULL,
+    -- exactly the readings the fit used: a JSON array of reading ids, ascending
+    reading_ids     TEXT NOT NULL CHECK (reading_ids LIKE '[%]'),
     program_version TEXT NOT NULL,
     created_at      TEXT NOT NULL
 ) STRICT;
 CREATE INDEX fit_run ON fit(run_id);
 
-CREATE TABLE fit_reading (
-    fit_id      INTEGER NOT NULL REFERENCES fit(id),
-    reading_id  INTEGER NOT NULL REFERENCES reading(id),
-    PRIMARY KEY (fit_id, reading_id)
-) STRICT, WITHOUT ROWID;
 
 -- Generated tables and issued reports, with the spec that made them and their error.
 CREATE TABLE artifact (
@@ -144,10 +144,6 @@ CREATE TRIGGER fit_keep BEFORE UPDATE ON fit
     BEGIN SELECT RAISE(ABORT, 'fits are never edited'); END;
 CREATE TRIGGER fit_stay BEFORE DELETE ON fit
     BEGIN SELECT RAISE(ABORT, 'fits are never deleted'); END;
-CREATE TRIGGER fit_reading_keep BEFORE UPDATE ON fit_reading
-    BEGIN SELECT RAISE(ABORT, 'a fit''s readings are never edited'); END;
-CREATE TRIGGER fit_reading_stay BEFORE DELETE ON fit_reading
-    BEGIN SELECT RAISE(ABORT, 'a fit''s readings are never deleted'); END;
 CREATE TRIGGER exclusion_keep BEFORE UPDATE ON exclusion
     BEGIN SELECT RAISE(ABORT, 'exclusions are never edited'); END;
 CREATE TRIGGER exclusion_stay BEFORE DELETE ON exclusion

@@ -144,6 +144,14 @@ BG_API int bg_store_run_points(bg_store *st, long long run_id, bg_store_points *
                                bg_error *err);
 BG_API void bg_store_points_release(bg_store_points *p);
 
+/* For each probe of lot 'lot_code', in the order the probes were added: its newest run (0 if none) and that run's
+** points that are not excluded, read in one pass.  'cb' may store fits on the same handle;
+** it stops the pass by returning non-zero.  The points are valid during the call only. */
+typedef int (*bg_lot_points_cb)(const char *serial, long long probe_id, long long run_id,
+                                bg_store_points *points, void *ctx);
+BG_API int bg_store_lot_points_each(bg_store *st, const char *lot_code, bg_lot_points_cb cb,
+                                    void *ctx, bg_error *err);
+
 /* Exclude a reading from future fits: who, when (now) and why are recorded; the reading row
 ** stays.  BG_EINVAL for an unknown or already excluded reading or an empty reason. */
 BG_API int bg_store_exclude(bg_store *st, long long reading_id, const char *why,

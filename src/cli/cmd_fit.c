@@ -406,7 +406,7 @@ static int compute(bg_fitter *fr, const bg_point *pts, size_t n, const char *sou
     if ((rc = bg_fitter_run(fr, pts, n, &o, fit, err)) != BG_OK)
         return rc;
     r->pts = pts, r->fit = fit, r->cmp = cmp;
-    r->k_t = bg_fit_coverage_k(fit, 0.9545);
+    r->k_t = quiet ? NAN : bg_fit_coverage_k(fit, 0.9545); /* the lot table does not show it */
     if (bg_model_b_pair(&fit->model, rq->pair_t1_k, rq->pair_t2_k, &r->b_pair, NULL) != BG_OK)
         r->b_pair = NAN;
     for (size_t i = 0; i < NU; i++) {
@@ -553,174 +553,177 @@ done:
     return rc;
 }
 
-struct serials {
-    char (*v)[BG_TEXT];
-    long long *ids;
-    size_t n, cap;
+struct lot_pass {
+    bg_store *st;
+    const struct fit_request *rq;
+    struct cli_ctx *ctx;
+    const bg_lot *lot;
+    bg_fitter *fr;
+    bg_fit fit;
+    bg_cmp cmp;
+    struct report r;
+    FILE *out;
+    json_out j;
+    size_t nprobes, nfit, nskip, nfail;
+    int rc;
+    bg_error err;
 };
 
-static int collect_probe(const bg_probe *p, void *ctx)
+/* One probe of the lot: fit its points and store the fit, or note why not. */
+static int lot_probe(const char *serial, long long probe_id, long long run_id,
+                     bg_store_points *sp, void *p)
 {
-    struct serials *s = ctx;
-    if (s->n == s->cap) {
-        size_t cap = s->cap ? 2 * s->cap : 256;
-        char (*v)[BG_TEXT] = realloc(s->v, cap * sizeof *v);
-        if (v)
-            s->v = v;
-        long long *ids = realloc(s->ids, cap * sizeof *ids);
-        if (ids)
-            s->ids = ids;
-        if (!v || !ids)
-            return 1;
-        s->cap = cap;
+    struct lot_pass *lp = p;
+    bg_error e2 = BG_ERROR_INIT;
+    long long fit_id;
+    char source[64], name[16], rb[32];
+    (void)probe_id;
+
+    lp->nprobes++;
+    cli_progress("fitting", lp->nprobes, (size_t)lp->lot->nprobes);
+    if (run_id == 0) {
+        lp->nskip++;
+        if (lp->ctx->json) {
+            json_obj(&lp->j, NULL);
+            json_str(&lp->j, "probe", serial);
+            json_str(&lp->j, "status", "no runs");
+            json_obj_end(&lp->j);
+        } else
+            fprintf(lp->out, "%-20s   no calibration runs: not fitted\n", serial);
+        return 0;
     }
-    memcpy(s->v[s->n], p->serial, BG_TEXT);
-    s->ids[s->n++] = p->id;
+    snprintf(source, sizeof source, "run %lld", run_id);
+    if (lp->rq->u_temp_k > 0.0) {
+        int any_u = 0;
+        for (size_t i = 0; i < sp->n; i++)
+            any_u |= sp->pts[i].u_t_k > 0.0 || sp->pts[i].u_r_ohm > 0.0;
+        for (size_t i = 0; i < sp->n && !any_u; i++)
+            sp->pts[i].u_t_k = lp->rq->u_temp_k;
+    }
+    if (compute(lp->fr, sp->pts, sp->n, source, lp->rq, 1, &lp->fit, &lp->cmp, &lp->r,
+                &e2) != BG_OK) {
+        if (++lp->nfail <= 20)
+            cli_error("probe '%s': %s", serial, e2.msg);
+        else if (lp->nfail == 21)
+            cli_error("... (further failures not shown)");
+        return 0;
+    }
+    for (size_t k = 0; k < lp->fit.nnotes; k++)
+        cli_warn("probe '%s': %s", serial, lp->fit.notes[k].msg);
+    if ((lp->rc = bg_store_fit_save(lp->st, run_id, &lp->fit, sp->ids, &fit_id, &lp->err)) !=
+        BG_OK)
+        return 1;
+    lp->nfit++;
+    double r25 = NAN, b = NAN, umax = 0.0;
+    bg_model_r_from_t(&lp->fit.model, BG_T0_DEFAULT_K, &r25, NULL);
+    bg_model_b_pair(&lp->fit.model, lp->lot->pair_t1_k, lp->lot->pair_t2_k, &b, NULL);
+    for (size_t k = 0; k < NU; k++)
+        umax = lp->r.ut_u[k] > umax ? lp->r.ut_u[k] : umax;
+    bg_model_name(&lp->fit.model, name, sizeof name);
+    if (lp->ctx->json) {
+        json_out *j = &lp->j;
+        json_obj(j, NULL);
+        json_str(j, "probe", serial);
+        json_str(j, "status", "fitted");
+        json_int(j, "run_id", run_id);
+        json_int(j, "fit_id", fit_id);
+        json_str(j, "model", name);
+        json_nums(j, "coefficients", lp->fit.model.coef, lp->fit.npar);
+        json_int(j, "n", (long long)lp->fit.n);
+        json_num(j, "rms_mk", lp->fit.rms_mk);
+        json_num(j, "max_abs_mk", lp->fit.max_abs_mk);
+        json_num(j, "max_U_k2_mk", lp->fit.dof ? 2e3 * umax : NAN);
+        json_num(j, "r25_ohm", r25);
+        json_num(j, "b_k", b);
+        json_obj_end(j);
+    } else
+        fprintf(lp->out, "%-20s %6lld %6lld %-7s %4zu %10.4f %10.4f %11.4f %12s %10.2f\n",
+                serial, run_id, fit_id, name, lp->fit.n, lp->fit.rms_mk, lp->fit.max_abs_mk,
+                lp->fit.dof ? 2e3 * umax : NAN, bg_units_format_ohms(r25, 7, rb, sizeof rb), b);
     return 0;
 }
 
 int fit_stored_lot(const char *lot_code, const struct fit_request *rq, struct cli_ctx *ctx)
 {
-    bg_error err = BG_ERROR_INIT;
-    bg_store *st = NULL;
-    bg_store_points sp = BG_STORE_POINTS_INIT;
-    bg_fitter *fr = bg_fitter_new();
-    bg_fit fit = BG_FIT_INIT;
-    bg_cmp cmp;
+    struct lot_pass lp;
     bg_lot lot;
-    struct serials ps = { NULL, NULL, 0, 0 };
-    struct report r;
-    json_out j;
-    size_t nfit = 0, nskip = 0, nfail = 0, outlen = 0;
-    int rc, in_tx = 0;
     char *outbuf = NULL;
-    /* The table is printed only when the whole lot succeeded. */
-    FILE *out = open_memstream(&outbuf, &outlen);
+    size_t outlen = 0;
+    int rc, in_tx = 0;
 
-    if (!fr || !out) {
-        rc = bg_error_set(&err, BG_ENOMEM, "out of memory");
+    memset(&lp, 0, sizeof lp);
+    lp.rq = rq, lp.ctx = ctx, lp.lot = &lot;
+    bg_fit_init(&lp.fit);
+    lp.fr = bg_fitter_new();
+    /* The table is printed only when the whole lot succeeded. */
+    lp.out = open_memstream(&outbuf, &outlen);
+    if (!lp.fr || !lp.out) {
+        rc = bg_error_set(&lp.err, BG_ENOMEM, "out of memory");
         goto fail;
     }
-    if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
+    if ((rc = cli_open_store(ctx, 0, &lp.st)) != BG_OK)
         goto done;
-    if ((rc = bg_store_lot_get(st, lot_code, &lot, &err)) != BG_OK ||
-        (rc = bg_store_probe_each(st, lot_code, collect_probe, &ps, &err)) != BG_OK)
+    if ((rc = bg_store_lot_get(lp.st, lot_code, &lot, &lp.err)) != BG_OK)
         goto fail;
-    if (ps.n == 0) {
-        rc = bg_error_set(&err, BG_EINVAL, "lot '%s' has no probes (add them with 'bandgap "
+    if (lot.nprobes == 0) {
+        rc = bg_error_set(&lp.err, BG_EINVAL, "lot '%s' has no probes (add them with 'bandgap "
                           "probe add SERIAL --lot %s')", lot_code, lot_code);
         goto fail;
     }
     /* One transaction for the whole lot: all fits are stored, or none. */
-    if ((rc = bg_store_begin(st, &err)) != BG_OK)
+    if ((rc = bg_store_begin(lp.st, &lp.err)) != BG_OK)
         goto fail;
     in_tx = 1;
     if (ctx->json) {
-        json_begin(&j, out);
-        json_obj(&j, NULL);
-        json_str(&j, "lot", lot_code);
-        json_arr(&j, "probes");
+        json_begin(&lp.j, lp.out);
+        json_obj(&lp.j, NULL);
+        json_str(&lp.j, "lot", lot_code);
+        json_arr(&lp.j, "probes");
     } else
-        fprintf(out, "%-20s %6s %6s %-7s %4s %10s %10s %11s %12s %10s\n", "probe", "run", "fit",
-               "model", "n", "RMS/mK", "max/mK", "U(k=2)/mK", "R25/ohm", "B/K");
-    for (size_t i = 0; i < ps.n; i++) {
-        long long run_id, fit_id;
-        char source[64];
-        bg_error e2 = BG_ERROR_INIT;
-        cli_progress("fitting", i, ps.n);
-        if (bg_store_run_latest(st, ps.ids[i], &run_id, &e2) != BG_OK) {
-            nskip++;
-            if (ctx->json) {
-                json_obj(&j, NULL);
-                json_str(&j, "probe", ps.v[i]);
-                json_str(&j, "status", "no runs");
-                json_obj_end(&j);
-            } else
-                fprintf(out, "%-20s   no calibration runs: not fitted\n", ps.v[i]);
-            continue;
-        }
-        snprintf(source, sizeof source, "run %lld", run_id);
-        if ((rc = load_points(st, run_id, rq, &sp, &err)) != BG_OK)
-            goto fail;
-        if (compute(fr, sp.pts, sp.n, source, rq, 1, &fit, &cmp, &r, &e2) != BG_OK) {
-            nfail++;
-            cli_error("probe '%s': %s", ps.v[i], e2.msg);
-            continue;
-        }
-        for (size_t k = 0; k < fit.nnotes; k++)
-            cli_warn("probe '%s': %s", ps.v[i], fit.notes[k].msg);
-        if ((rc = bg_store_fit_save(st, run_id, &fit, sp.ids, &fit_id, &err)) != BG_OK)
-            goto fail;
-        nfit++;
-        double r25 = NAN, b = NAN, umax = 0.0;
-        bg_model_r_from_t(&fit.model, BG_T0_DEFAULT_K, &r25, NULL);
-        bg_model_b_pair(&fit.model, lot.pair_t1_k, lot.pair_t2_k, &b, NULL);
-        for (size_t k = 0; k < NU; k++)
-            umax = r.ut_u[k] > umax ? r.ut_u[k] : umax;
-        char name[16], rb[32];
-        bg_model_name(&fit.model, name, sizeof name);
-        if (ctx->json) {
-            json_obj(&j, NULL);
-            json_str(&j, "probe", ps.v[i]);
-            json_str(&j, "status", "fitted");
-            json_int(&j, "run_id", run_id);
-            json_int(&j, "fit_id", fit_id);
-            json_str(&j, "model", name);
-            json_nums(&j, "coefficients", fit.model.coef, fit.npar);
-            json_int(&j, "n", (long long)fit.n);
-            json_num(&j, "rms_mk", fit.rms_mk);
-            json_num(&j, "max_abs_mk", fit.max_abs_mk);
-            json_num(&j, "max_U_k2_mk", fit.dof ? 2e3 * umax : NAN);
-            json_num(&j, "r25_ohm", r25);
-            json_num(&j, "b_k", b);
-            json_obj_end(&j);
-        } else
-            fprintf(out, "%-20s %6lld %6lld %-7s %4zu %10.4f %10.4f %11.4f %12s %10.2f\n",
-                    ps.v[i],
-                   run_id, fit_id, name, fit.n, fit.rms_mk, fit.max_abs_mk,
-                   fit.dof ? 2e3 * umax : NAN, bg_units_format_ohms(r25, 7, rb, sizeof rb), b);
-    }
-    cli_progress("fitting", ps.n, ps.n);
-    if (nfail) {
-        rc = bg_error_set(&err, BG_EINVAL, "lot '%s': %zu of %zu probes could not be fitted; "
-                          "nothing was stored", lot_code, nfail, ps.n);
+        fprintf(lp.out, "%-20s %6s %6s %-7s %4s %10s %10s %11s %12s %10s\n", "probe", "run",
+                "fit", "model", "n", "RMS/mK", "max/mK", "U(k=2)/mK", "R25/ohm", "B/K");
+    rc = bg_store_lot_points_each(lp.st, lot_code, lot_probe, &lp, &lp.err);
+    if (rc == BG_OK && lp.rc != BG_OK)
+        rc = lp.rc;
+    if (rc != BG_OK)
+        goto fail;
+    if (lp.nfail) {
+        rc = bg_error_set(&lp.err, BG_EINVAL, "lot '%s': %zu of %zu probes could not be "
+                          "fitted; nothing was stored", lot_code, lp.nfail, lp.nprobes);
         goto fail;
     }
-    if ((rc = bg_store_commit(st, &err)) != BG_OK) {
+    if ((rc = bg_store_commit(lp.st, &lp.err)) != BG_OK) {
         in_tx = 0;
         goto fail;
     }
     in_tx = 0;
     if (ctx->json) {
-        json_arr_end(&j);
-        json_int(&j, "fitted", (long long)nfit);
-        json_int(&j, "without_runs", (long long)nskip);
-        json_obj_end(&j);
-        json_end(&j);
+        json_arr_end(&lp.j);
+        json_int(&lp.j, "fitted", (long long)lp.nfit);
+        json_int(&lp.j, "without_runs", (long long)lp.nskip);
+        json_obj_end(&lp.j);
+        json_end(&lp.j);
     } else {
         char b1[64], b2[64];
-        fprintf(out, "lot %s: %zu probes fitted, %zu without runs; B for %s / %s\n", lot_code,
-               nfit,
-               nskip, bg_units_format_temp(lot.pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1),
-               bg_units_format_temp(lot.pair_t2_k, BG_UNIT_C, 2, b2, sizeof b2));
+        fprintf(lp.out, "lot %s: %zu probes fitted, %zu without runs; B for %s / %s\n",
+                lot_code, lp.nfit, lp.nskip,
+                bg_units_format_temp(lot.pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1),
+                bg_units_format_temp(lot.pair_t2_k, BG_UNIT_C, 2, b2, sizeof b2));
     }
-    fclose(out);
-    out = NULL;
+    fclose(lp.out);
+    lp.out = NULL;
     fwrite(outbuf, 1, outlen, stdout);
     goto done;
 fail:
     if (in_tx)
-        bg_store_rollback(st);
-    cli_fail(NULL, &err);
+        bg_store_rollback(lp.st);
+    cli_fail(NULL, &lp.err);
 done:
-    if (out)
-        fclose(out);
+    if (lp.out)
+        fclose(lp.out);
     free(outbuf);
-    bg_fit_release(&fit);
-    bg_fitter_free(fr);
-    bg_store_points_release(&sp);
-    bg_store_close(st);
-    free(ps.v);
-    free(ps.ids);
+    bg_fit_release(&lp.fit);
+    bg_fitter_free(lp.fr);
+    bg_store_close(lp.st);
     return rc;
 }

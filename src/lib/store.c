@@ -318,6 +318,32 @@ void bg_store_close(bg_store *st)
     free(st);
 }
 
+/* Row id of a lot or probe by its code or serial, for writes (no counts); 0 when absent. */
+static long long id_of(bg_store *st, const char *sql, const char *key, bg_error *err, int *rc)
+{
+    sqlite3_stmt *q = NULL;
+    long long id = 0;
+    if ((*rc = bgi_prepare(st, sql, &q, err)) != BG_OK)
+        return 0;
+    sqlite3_bind_text(q, 1, key, -1, SQLITE_TRANSIENT);
+    int s = sqlite3_step(q);
+    if (s == SQLITE_ROW)
+        id = sqlite3_column_int64(q, 0);
+    else if (s != SQLITE_DONE)
+        *rc = bgi_db_fail(st, err, "cannot read the database");
+    sqlite3_finalize(q);
+    return id;
+}
+
+long long bgi_probe_id(bg_store *st, const char *serial, bg_error *err, int *rc)
+{
+    long long id = id_of(st, "SELECT id FROM probe WHERE serial = ?", serial, err, rc);
+    if (*rc == BG_OK && id == 0)
+        *rc = bg_error_set(err, BG_EINVAL, "unknown probe '%s' (add it with 'bandgap probe add "
+                           "SERIAL --lot CODE')", serial);
+    return id;
+}
+
 /* ---- lots ---- */
 
 int bg_store_lot_add(bg_store *st, const bg_lot *lot, long long *id, bg_error *err)
@@ -440,7 +466,11 @@ int bg_store_probe_add(bg_store *st, const char *serial, const char *lot_code, c
         return rc;
     if ((rc = bgi_tx_begin(st, &own, err)) != BG_OK)
         return rc;
-    if ((rc = bg_store_lot_get(st, lot_code, &lot, err)) != BG_OK)
+    lot.id = id_of(st, "SELECT id FROM lot WHERE code = ?", lot_code, err, &rc);
+    if (rc == BG_OK && lot.id == 0)
+        rc = bg_error_set(err, BG_EINVAL, "unknown lot '%s' (add it with 'bandgap lot add')",
+                          lot_code);
+    if (rc != BG_OK)
         return bgi_tx_end(st, own, rc, err);
     rc = bgi_prepare(st, "INSERT INTO probe(serial, lot_id, note, created_at) VALUES (?,?,?,?)",
                      &q, err);

@@ -8,8 +8,7 @@
 
 #include "bandgap/store.h"
 
-enum { STMT_INSERT_READING, STMT_RUN_POINTS, STMT_INSERT_FIT, STMT_INSERT_FIT_READING,
-       STMT_COUNT };
+enum { STMT_INSERT_READING, STMT_RUN_POINTS, STMT_INSERT_FIT, STMT_COUNT };
 
 struct bg_store {
     sqlite3 *db;
@@ -26,5 +25,7 @@ void bgi_bind_text_or_null(sqlite3_stmt *stmt, int i, const char *s);
 /* Start a write transaction unless one is open ('*own' says which); end it with 'rc'. */
 int bgi_tx_begin(bg_store *st, int *own, bg_error *err);
 int bgi_tx_end(bg_store *st, int own, int rc, bg_error *err);
+/* The probe's row id without the counts of bg_store_probe_get; BG_EINVAL in '*rc' if absent. */
+long long bgi_probe_id(bg_store *st, const char *serial, bg_error *err, int *rc);
 
 #endif

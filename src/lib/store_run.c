@@ -59,7 +59,8 @@ int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, lon
                             meta->started_at);
     if ((rc = bgi_tx_begin(st, &own, err)) != BG_OK)
         return rc;
-    if ((rc = bg_store_probe_get(st, meta->serial, &probe, err)) != BG_OK)
+    probe.id = bgi_probe_id(st, meta->serial, err, &rc);
+    if (rc != BG_OK)
         goto done;
     if (have_ref && (rc = bg_store_ref_get(st, meta->ref_ident, &ref, err)) != BG_OK)
         goto done;
@@ -373,19 +374,35 @@ int bg_store_exclude(bg_store *st, long long reading_id, const char *why, const 
 
 /* ---- fits ---- */
 
-/* The covariance as a JSON array with round-trip digits; NULL text when not available. */
-static char *cov_json(const bg_fit *f)
+/* The covariance as little-endian IEEE doubles: exact, and cheap to write for a whole lot. */
+static void put_le_double(unsigned char *p, double v)
 {
-    size_t np = f->npar, cap = np * np * 26 + 4, k = 0;
-    char *s;
-    if (f->dof == 0)
-        return NULL;
-    s = malloc(cap);
+    unsigned long long u;
+    memcpy(&u, &v, sizeof u);
+    for (int i = 0; i < 8; i++)
+        p[i] = (unsigned char)(u >> (8 * i));
+}
+
+static double get_le_double(const unsigned char *p)
+{
+    unsigned long long u = 0;
+    double v;
+    for (int i = 7; i >= 0; i--)
+        u = (u << 8) | p[i];
+    memcpy(&v, &u, sizeof v);
+    return v;
+}
+
+/* The reading ids as a JSON array. */
+static char *ids_json(const long long *ids, size_t n)
+{
+    size_t cap = n * 21 + 3, k = 0;
+    char *s = malloc(cap);
     if (!s)
         return NULL;
     s[k++] = '[';
-    for (size_t i = 0; i < np * np; i++)
-        k += (size_t)snprintf(s + k, cap - k, "%s%.17g", i ? "," : "", f->cov[i]);
+    for (size_t i = 0; i < n; i++)
+        k += (size_t)snprintf(s + k, cap - k, "%s%lld", i ? "," : "", ids[i]);
     s[k++] = ']';
     s[k] = '\0';
     return s;
@@ -394,17 +411,23 @@ static char *cov_json(const bg_fit *f)
 int bg_store_fit_save(bg_store *st, long long run_id, const bg_fit *fit,
                       const long long *reading_ids, long long *fit_id, bg_error *err)
 {
-    sqlite3_stmt *q = NULL, *qr = NULL;
-    char name[16], now[BG_TIME], *cov = NULL;
+    sqlite3_stmt *q = NULL;
+    char name[16], now[BG_TIME], *ids = NULL;
+    unsigned char cov[8 * BG_MODEL_MAXPAR * BG_MODEL_MAXPAR];
     int rc, own;
 
     if ((rc = bgi_tx_begin(st, &own, err)) != BG_OK)
         return rc;
     if ((rc = cached(st, STMT_INSERT_FIT, "INSERT INTO fit(run_id, model, t0_k, npar, c0, c1, "
                      "c2, c3, c4, c5, cov, n, dof, weighted, chi2, cov_scale, rms_mk, "
-                     "max_abs_mk, t_min_k, t_max_k, program_version, created_at) VALUES "
-                     "(?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
+                     "max_abs_mk, t_min_k, t_max_k, reading_ids, program_version, created_at) "
+                     "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
         goto done;
+    ids = ids_json(reading_ids, fit->n);
+    if (!ids) {
+        rc = bg_error_set(err, BG_ENOMEM, "out of memory storing a fit");
+        goto done;
+    }
     sqlite3_bind_int64(q, 1, run_id);
     sqlite3_bind_text(q, 2, bg_model_name(&fit->model, name, sizeof name), -1, SQLITE_TRANSIENT);
     if (fit->model.kind == BG_MODEL_BETA)
@@ -418,10 +441,11 @@ int bg_store_fit_save(bg_store *st, long long run_id, const bg_fit *fit,
         else
             sqlite3_bind_null(q, (int)(5 + i));
     }
-    cov = cov_json(fit);
-    if (cov)
-        sqlite3_bind_text(q, 11, cov, -1, SQLITE_TRANSIENT);
-    else
+    if (fit->dof > 0) {
+        for (size_t i = 0; i < fit->npar * fit->npar; i++)
+            put_le_double(cov + 8 * i, fit->cov[i]);
+        sqlite3_bind_blob(q, 11, cov, (int)(8 * fit->npar * fit->npar), SQLITE_TRANSIENT);
+    } else
         sqlite3_bind_null(q, 11);
     sqlite3_bind_int64(q, 12, (sqlite3_int64)fit->n);
     sqlite3_bind_int64(q, 13, (sqlite3_int64)fit->dof);
@@ -435,35 +459,19 @@ int bg_store_fit_save(bg_store *st, long long run_id, const bg_fit *fit,
     sqlite3_bind_double(q, 18, fit->max_abs_mk);
     sqlite3_bind_double(q, 19, fit->t_min_k);
     sqlite3_bind_double(q, 20, fit->t_max_k);
-    sqlite3_bind_text(q, 21, bg_version(), -1, SQLITE_STATIC);
-    sqlite3_bind_text(q, 22, bg_store_now(now, sizeof now), -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 21, ids, -1, SQLITE_STATIC);
+    sqlite3_bind_text(q, 22, bg_version(), -1, SQLITE_STATIC);
+    sqlite3_bind_text(q, 23, bg_store_now(now, sizeof now), -1, SQLITE_TRANSIENT);
     if (sqlite3_step(q) != SQLITE_DONE) {
         rc = bgi_db_fail(st, err, "cannot store the fit");
         goto done;
     }
-    sqlite3_reset(q);
-    long long fid = sqlite3_last_insert_rowid(st->db);
-    if ((rc = cached(st, STMT_INSERT_FIT_READING, "INSERT INTO fit_reading(fit_id, reading_id) "
-                     "VALUES (?,?)", &qr, err)) != BG_OK)
-        goto done;
-    for (size_t i = 0; i < fit->n; i++) {
-        sqlite3_reset(qr);
-        sqlite3_bind_int64(qr, 1, fid);
-        sqlite3_bind_int64(qr, 2, reading_ids[i]);
-        if (sqlite3_step(qr) != SQLITE_DONE) {
-            rc = bgi_db_fail(st, err, "cannot store the fit's readings");
-            goto done;
-        }
-    }
-    sqlite3_reset(qr);
     if (fit_id)
-        *fit_id = fid;
+        *fit_id = sqlite3_last_insert_rowid(st->db);
 done:
     if (q)
         sqlite3_reset(q);
-    if (qr)
-        sqlite3_reset(qr);
-    free(cov);
+    free(ids);
     return bgi_tx_end(st, own, rc, err);
 }
 
@@ -491,21 +499,10 @@ static int fit_row(sqlite3_stmt *q, bg_fit_row *f, bg_error *err)
                             f->npar, name);
     for (size_t i = 0; i < f->npar; i++)
         f->model.coef[i] = sqlite3_column_double(q, (int)(7 + i));
-    const char *cov = (const char *)sqlite3_column_text(q, 13);
-    if (cov) {
-        const char *p = cov;
-        size_t k = 0;
-        if (*p == '[')
-            p++;
-        while (k < f->npar * f->npar) {
-            char *end;
-            f->cov[k++] = strtod(p, &end);
-            if (end == p)
-                return bg_error_set(err, BG_EDB, "fit %lld: unreadable covariance", f->id);
-            p = end;
-            if (*p == ',')
-                p++;
-        }
+    const unsigned char *cov = sqlite3_column_blob(q, 13);
+    if (cov && (size_t)sqlite3_column_bytes(q, 13) == 8 * f->npar * f->npar) {
+        for (size_t k = 0; k < f->npar * f->npar; k++)
+            f->cov[k] = get_le_double(cov + 8 * k);
         f->has_cov = 1;
     } else {
         for (size_t i = 0; i < f->npar * f->npar; i++)
@@ -580,16 +577,102 @@ int bg_store_fit_readings(bg_store *st, long long fit_id, long long *ids, size_t
                           bg_error *err)
 {
     sqlite3_stmt *q = NULL;
-    int rc = bgi_prepare(st, "SELECT reading_id FROM fit_reading WHERE fit_id = ? "
-                         "ORDER BY reading_id", &q, err), s;
+    int rc = bgi_prepare(st, "SELECT reading_ids FROM fit WHERE id = ?", &q, err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, fit_id);
     *n = 0;
-    while ((s = sqlite3_step(q)) == SQLITE_ROW && *n < max)
-        ids[(*n)++] = sqlite3_column_int64(q, 0);
-    if (s != SQLITE_ROW && s != SQLITE_DONE)
+    int s = sqlite3_step(q);
+    if (s == SQLITE_ROW) {
+        const char *p = (const char *)sqlite3_column_text(q, 0);
+        while (p && *p && *n < max) {
+            char *end;
+            if (*p == '[' || *p == ',' || *p == ' ') {
+                p++;
+                continue;
+            }
+            if (*p == ']')
+                break;
+            long long v = strtoll(p, &end, 10);
+            if (end == p) {
+                rc = bg_error_set(err, BG_EDB, "fit %lld: unreadable list of readings", fit_id);
+                break;
+            }
+            ids[(*n)++] = v;
+            p = end;
+        }
+    } else if (s == SQLITE_DONE)
+        rc = bg_error_set(err, BG_EINVAL, "no fit %lld", fit_id);
+    else
         rc = bgi_db_fail(st, err, "cannot read the fit's readings");
     sqlite3_finalize(q);
+    return rc;
+}
+
+int bg_store_lot_points_each(bg_store *st, const char *lot_code, bg_lot_points_cb cb, void *ctx,
+                             bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    bg_store_points sp = BG_STORE_POINTS_INIT;
+    char serial[BG_TEXT] = "";
+    long long probe = -1, run = 0;
+    int rc, s, stop = 0;
+    bg_lot lot;
+
+    if ((rc = bg_store_lot_get(st, lot_code, &lot, err)) != BG_OK)
+        return rc;
+    /* One pass over the lot, probes in the order they were added, each probe's newest run's
+    ** readings in file order; probes without runs come with run 0 and no points.  This order
+    ** follows the indexes, so the pass needs no sorting. */
+    rc = bgi_prepare(st, "SELECT p.id, p.serial, coalesce(l.run_id, 0), g.id, g.t_k, g.r_ohm, "
+                     "g.u_t_k, g.u_r_ohm, g.line FROM probe p "
+                     "JOIN probe_latest_run l ON l.probe_id = p.id "
+                     "LEFT JOIN reading g ON g.run_id = l.run_id AND NOT EXISTS "
+                     "(SELECT 1 FROM exclusion e WHERE e.reading_id = g.id) "
+                     "WHERE p.lot_id = ? ORDER BY p.id, g.id", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, lot.id);
+    while (!stop && (s = sqlite3_step(q)) == SQLITE_ROW) {
+        long long pid = sqlite3_column_int64(q, 0);
+        if (pid != probe) {
+            if (probe >= 0 && cb(serial, probe, run, &sp, ctx))
+                stop = 1;
+            probe = pid;
+            bgi_copy_text(serial, sizeof serial, q, 1);
+            run = sqlite3_column_int64(q, 2);
+            sp.n = 0;
+        }
+        if (stop || sqlite3_column_type(q, 3) == SQLITE_NULL)
+            continue;
+        if (sp.n == sp.cap) {
+            size_t cap = sp.cap ? 2 * sp.cap : 64;
+            bg_point *pp = realloc(sp.pts, cap * sizeof *pp);
+            if (pp)
+                sp.pts = pp;
+            long long *ids = realloc(sp.ids, cap * sizeof *ids);
+            if (ids)
+                sp.ids = ids;
+            if (!pp || !ids) {
+                rc = bg_error_set(err, BG_ENOMEM, "out of memory reading lot '%s'", lot_code);
+                break;
+            }
+            sp.cap = cap;
+        }
+        bg_point *pt = &sp.pts[sp.n];
+        sp.ids[sp.n] = sqlite3_column_int64(q, 3);
+        pt->t_k = sqlite3_column_double(q, 4);
+        pt->r_ohm = sqlite3_column_double(q, 5);
+        pt->u_t_k = sqlite3_column_double(q, 6);
+        pt->u_r_ohm = sqlite3_column_double(q, 7);
+        pt->line = (size_t)sqlite3_column_int64(q, 8);
+        sp.n++;
+    }
+    if (rc == BG_OK && !stop && s != SQLITE_DONE)
+        rc = bgi_db_fail(st, err, "cannot read the lot's readings");
+    if (rc == BG_OK && !stop && probe >= 0)
+        cb(serial, probe, run, &sp, ctx);
+    sqlite3_finalize(q);
+    bg_store_points_release(&sp);
     return rc;
 }

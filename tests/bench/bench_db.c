@@ -1,0 +1,134 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Benchmark helper for the database: build a lot of invented probes with one run each, or
+** scan the readings back with a plain SQL query (the baseline for 'bandgap fit --lot').
+** Usage: bench_db setup DB NPROBES NREADINGS | bench_db scan DB | bench_db read DB */
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+#include <gsl/gsl_errno.h>
+#include <sqlite3.h>
+
+#include "bandgap/bandgap.h"
+
+static double now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+static int setup(const char *path, size_t np, size_t nr)
+{
+    bg_store *st = NULL;
+    bg_error err = BG_ERROR_INIT;
+    bg_lot lot;
+    bg_model m;
+    double c[3] = { 1.1384e-3, 2.3245e-4, 9.4871e-8 }; /* invented */
+    bg_readings rs = BG_READINGS_INIT;
+    bg_run meta;
+
+    if (bg_store_open(path, BG_STORE_CREATE, &st, &err) != BG_OK)
+        goto fail;
+    memset(&lot, 0, sizeof lot);
+    strcpy(lot.code, "BENCH"), strcpy(lot.part, "P");
+    lot.r25_ohm = 10000, lot.beta_k = 3950, lot.pair_t1_k = 298.15, lot.pair_t2_k = 358.15;
+    lot.tol_r25 = lot.tol_beta = 0.01;
+    bg_model_parse("sh3", &m, NULL);
+    bg_model_set_coef(&m, c, 3, NULL);
+    rs.v = calloc(nr, sizeof *rs.v);
+    rs.n = rs.cap = nr;
+    rs.t_unit = BG_UNIT_K, rs.has_u_t = 1;
+    for (size_t i = 0; i < nr; i++) {
+        rs.v[i].pt.t_k = rs.v[i].t_raw = 253.15 + 100.0 * (double)i / (double)(nr - 1);
+        bg_model_r_from_t(&m, rs.v[i].pt.t_k, &rs.v[i].pt.r_ohm, NULL);
+        rs.v[i].pt.u_t_k = 0.002;
+        rs.v[i].pt.line = i + 2;
+    }
+    if (bg_store_begin(st, &err) != BG_OK || bg_store_lot_add(st, &lot, NULL, &err) != BG_OK)
+        goto fail;
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.source, "bench");
+    for (size_t p = 0; p < np; p++) {
+        snprintf(meta.serial, sizeof meta.serial, "B%07zu", p);
+        /* a little noise so that every probe's fit differs */
+        for (size_t i = 0; i < nr; i++)
+            rs.v[i].pt.t_k = rs.v[i].t_raw + 0.001 * ((double)((p * 7 + i * 13) % 5) - 2.0);
+        if (bg_store_probe_add(st, meta.serial, "BENCH", NULL, NULL, &err) != BG_OK ||
+            bg_store_import(st, &rs, &meta, NULL, &err) != BG_OK)
+            goto fail;
+    }
+    if (bg_store_commit(st, &err) != BG_OK)
+        goto fail;
+    free(rs.v);
+    bg_store_close(st);
+    return 0;
+fail:
+    fprintf(stderr, "bench_db: %s\n", err.msg);
+    return 1;
+}
+
+static int scan(const char *path)
+{
+    sqlite3 *db;
+    sqlite3_stmt *q;
+    double t0 = now(), s = 0.0;
+    long long n = 0;
+    if (sqlite3_open_v2(path, &db, SQLITE_OPEN_READONLY, NULL) != SQLITE_OK ||
+        sqlite3_prepare_v2(db, "SELECT g.run_id, g.t_k, g.r_ohm, g.u_t_k, g.u_r_ohm FROM reading g "
+                           "ORDER BY g.run_id, g.id", -1, &q, NULL) != SQLITE_OK) {
+        fprintf(stderr, "bench_db: %s\n", sqlite3_errmsg(db));
+        return 1;
+    }
+    while (sqlite3_step(q) == SQLITE_ROW) {
+        s += sqlite3_column_double(q, 1) + sqlite3_column_double(q, 2) +
+             sqlite3_column_double(q, 3) + sqlite3_column_double(q, 4);
+        n++;
+    }
+    sqlite3_finalize(q);
+    sqlite3_close(db);
+    printf("SCAN_S %.6f\nscanned %lld readings (checksum %.6g) in %.3f s\n", now() - t0, n, s,
+           now() - t0);
+    return 0;
+}
+
+static int count_cb(const char *serial, long long probe_id, long long run_id,
+                    bg_store_points *pts, void *ctx)
+{
+    double *acc = ctx;
+    (void)serial, (void)probe_id, (void)run_id;
+    for (size_t i = 0; i < pts->n; i++)
+        acc[0] += pts->pts[i].t_k + pts->pts[i].r_ohm, acc[1] += 1.0;
+    return 0;
+}
+
+/* The rows read back the way 'fit --lot' reads them, with nothing done to them. */
+static int readback(const char *path)
+{
+    bg_store *st = NULL;
+    bg_error err = BG_ERROR_INIT;
+    double acc[2] = { 0, 0 }, t0 = now();
+    if (bg_store_open(path, 0, &st, &err) != BG_OK ||
+        bg_store_lot_points_each(st, "BENCH", count_cb, acc, &err) != BG_OK) {
+        fprintf(stderr, "bench_db: %s\n", err.msg);
+        return 1;
+    }
+    bg_store_close(st);
+    printf("READ_S %.6f\nread back %.0f readings of the lot (checksum %.6g) in %.3f s\n",
+           now() - t0, acc[1], acc[0], now() - t0);
+    return 0;
+}
+
+int main(int argc, char **argv)
+{
+    gsl_set_error_handler_off();
+    if (argc == 5 && strcmp(argv[1], "setup") == 0)
+        return setup(argv[2], strtoul(argv[3], NULL, 10), strtoul(argv[4], NULL, 10));
+    if (argc == 3 && strcmp(argv[1], "scan") == 0)
+        return scan(argv[2]);
+    if (argc == 3 && strcmp(argv[1], "read") == 0)
+        return readback(argv[2]);
+    fprintf(stderr, "usage: bench_db setup DB NPROBES NREADINGS | bench_db scan DB\n");
+    return 64;
+}
