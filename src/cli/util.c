@@ -237,7 +237,9 @@ void cli_progress(const char *what, size_t i, size_t n)
     }
     if (!tty)
         return;
-    fprintf(stderr, "\r%s %zu/%zu", what, i, n);
+    int width = 30, done = n ? (int)((double)width * (double)i / (double)n) : width;
+    fprintf(stderr, "\r%s [%.*s%*s] %zu/%zu", what, done, "##############################",
+            width - done, "", i, n);
     if (i == n)
         fputc('\n', stderr);
     fflush(stderr);
