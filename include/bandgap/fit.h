@@ -74,7 +74,7 @@ typedef struct bg_fit {
     double pcov[BG_MODEL_MAXPAR * BG_MODEL_MAXPAR]; /* of bg_model_inv_poly's a[0..5] */
     double chi2;                    /* weighted sum of squared temperature residuals */
     double reduced_chi2;            /* chi2 / dof (NaN when dof = 0) */
-    double p_value;                 /* P(chi2' > chi2) for dof when weighted, else NaN */
+    double p_value;                 /* set only with a BG_NOTE_CHI2 note; use bg_fit_p_value() */
     double cov_scale;               /* factor applied to (J^T W J)^-1 */
     double rms_mk, max_abs_mk;      /* of the residuals, over n */
     double aic, bic;                /* see docs/methods.md */
@@ -116,6 +116,10 @@ BG_API int bg_fit_points(const bg_point *pts, size_t n, const bg_fit_opts *o, bg
 ** to 1 when 't_k' lies outside the calibrated range. */
 BG_API int bg_fit_u_t(const bg_fit *fit, double t_k, double *u_k, int *extrapolated,
                       bg_error *err);
+
+/* The p-value P(chi2' > chi2) for the fit's degrees of freedom when the points carried
+** uncertainties (NaN otherwise or when dof = 0). */
+BG_API double bg_fit_p_value(const bg_fit *fit);
 
 /* Coverage factor from Student's t for the fit's degrees of freedom and 'coverage' (e.g.
 ** 0.9545 gives 4.53 for 2 dof, about 2 for many).  NaN when dof = 0. */

@@ -196,7 +196,7 @@ static void print_json(const struct report *r, const struct fit_request *rq, con
     json_bool(&j, "weighted", f->weighted);
     json_num(&j, "chi2", f->chi2);
     json_num(&j, "reduced_chi2", f->reduced_chi2);
-    json_num(&j, "p_value", f->p_value);
+    json_num(&j, "p_value", bg_fit_p_value(f));
     json_num(&j, "cov_scale", f->cov_scale);
     json_num(&j, "rms_mk", f->rms_mk);
     json_num(&j, "max_abs_mk", f->max_abs_mk);
@@ -305,7 +305,7 @@ static void print_text(const struct report *r, const struct fit_request *rq, con
     }
     if (f->weighted)
         printf("weights: stated uncertainties; chi2 = %.4g for %zu dof (reduced %.4g, p = %.3g)"
-               "%s\n", f->chi2, f->dof, f->reduced_chi2, f->p_value,
+               "%s\n", f->chi2, f->dof, f->reduced_chi2, bg_fit_p_value(f),
                f->cov_scale > 1.0 ? "; covariance scaled by reduced chi2" : "");
     else
         printf("weights: equal (no uncertainties given); covariance from the residual "

@@ -21,8 +21,11 @@
 
 #define MAXB BG_MODEL_MAXPAR
 
+#define NCRIT 64
+
 struct bg_fitter {
     size_t cap;
+    double crit[NCRIT];  /* chi2 above which p < 0.01, by degrees of freedom (0: not known) */
     double *L, *u, *A, *b, *tm;
     double *G;          /* basis rows L_i^k, n x nb, computed once per fit */
     struct tsort { double t, r; size_t i; } *sorted;
@@ -121,6 +124,25 @@ static int fit_reserve(bg_fit *f, size_t n)
         return BG_ENOMEM;
     f->cap = n;
     return BG_OK;
+}
+
+/* The chi2 whose upper tail probability is 0.01, cached per degrees of freedom: the p-value
+** itself (an incomplete gamma function) is computed only for a fit that exceeds it. */
+static double chi2_limit(bg_fitter *fr, size_t dof)
+{
+    if (dof < NCRIT) {
+        if (fr->crit[dof] == 0.0)
+            fr->crit[dof] = gsl_cdf_chisq_Qinv(0.01, (double)dof);
+        return fr->crit[dof];
+    }
+    return gsl_cdf_chisq_Qinv(0.01, (double)dof);
+}
+
+double bg_fit_p_value(const bg_fit *fit)
+{
+    if (!fit->weighted || fit->dof == 0)
+        return NAN;
+    return gsl_cdf_chisq_Q(fit->chi2, (double)fit->dof);
 }
 
 /* "FILE:LINE", "line LINE" or "point I" for messages. */
@@ -447,7 +469,7 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
     out->max_abs_mk = 1e3 * mx;
     if (out->dof > 0) {
         out->reduced_chi2 = out->chi2 / (double)out->dof;
-        out->p_value = weighted ? gsl_cdf_chisq_Q(out->chi2, (double)out->dof) : NAN;
+        out->p_value = NAN; /* computed by bg_fit_p_value() when asked for */
         out->cov_scale = weighted ? (o->inflate ? fmax(1.0, out->reduced_chi2) : 1.0)
                                   : out->reduced_chi2;
     } else {
@@ -533,7 +555,8 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
         add_note(out, BG_NOTE_NODOF, 0, "%s: %zu points for %zu coefficients: no degrees of "
                  "freedom left: uncertainty cannot be estimated",
                  o->source ? o->source : "fit", n, npar);
-    } else if (weighted && out->p_value < 0.01) {
+    } else if (weighted && out->chi2 > chi2_limit(fr, out->dof)) {
+        out->p_value = bg_fit_p_value(out);
         add_note(out, BG_NOTE_CHI2, 0, "%s: residuals exceed the stated uncertainties "
                  "(reduced chi2 = %.3g, p = %.2g)%s", o->source ? o->source : "fit",
                  out->reduced_chi2, out->p_value,
