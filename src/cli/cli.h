@@ -59,6 +59,12 @@ const char *cli_or_dash(const char *s);
 /* Show progress "what i/n" on stderr when it is a terminal (not TERM=dumb); i == n ends it. */
 void cli_progress(const char *what, size_t i, size_t n);
 
+/* JSON of stored records (rows.c): a reading object, a run's fields (inside an object the
+** caller opens), a fit object without its covariance. */
+void cli_json_reading(json_out *j, const bg_reading_row *g);
+void cli_json_run_fields(json_out *j, const bg_run *r);
+void cli_json_fit_brief(json_out *j, const bg_fit_row *f);
+
 /* ---- the fit report, shared by 'fit' and 'demo' ---- */
 struct fit_request {
     const char *model;        /* "sh3" ... or "auto" */

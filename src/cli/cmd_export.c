@@ -57,20 +57,7 @@ static int reading_cb(const bg_reading_row *g, void *p)
 {
     struct ex *e = p;
     if (e->json) {
-        json_out *j = &e->j;
-        json_obj(j, NULL);
-        json_int(j, "id", g->id);
-        json_int(j, "line", (long long)g->line);
-        json_num(j, "t_raw", g->t_raw);
-        json_str(j, "t_raw_unit", g->t_raw_unit);
-        json_num(j, "t_k", g->t_k);
-        json_num(j, "ohms", g->r_ohm);
-        json_num(j, "u_temp_k", g->u_t_k);
-        json_num(j, "u_ohms", g->u_r_ohm);
-        json_str(j, "time", g->time[0] ? g->time : NULL);
-        json_str(j, "note", g->note[0] ? g->note : NULL);
-        json_str(j, "excluded_reason", g->excluded ? g->excl_reason : NULL);
-        json_obj_end(j);
+        cli_json_reading(&e->j, g);
         return 0;
     }
     FILE *f = e->out;
@@ -98,12 +85,7 @@ static int run_cb(const bg_run *r, void *p)
     if (e->json) {
         json_out *j = &e->j;
         json_obj(j, NULL);
-        json_int(j, "run", r->id);
-        json_str(j, "reference", r->ref_ident[0] ? r->ref_ident : NULL);
-        json_str(j, "operator", r->operator_name[0] ? r->operator_name : NULL);
-        json_str(j, "medium", r->medium[0] ? r->medium : NULL);
-        json_str(j, "started_at", r->started_at);
-        json_str(j, "source", r->source);
+        cli_json_run_fields(j, r);
         json_arr(j, "readings");
     }
     int rc = bg_store_reading_each(e->st, r->id, reading_cb, e, &err);

@@ -15,16 +15,7 @@ static int run_line(const bg_run *r, void *ctx)
     json_out *j = ctx;
     if (j) {
         json_obj(j, NULL);
-        json_int(j, "run", r->id);
-        json_str(j, "probe", r->serial);
-        json_str(j, "reference", r->ref_ident[0] ? r->ref_ident : NULL);
-        json_str(j, "started_at", r->started_at);
-        json_str(j, "operator", r->operator_name[0] ? r->operator_name : NULL);
-        json_str(j, "medium", r->medium[0] ? r->medium : NULL);
-        json_int(j, "readings", r->nreadings);
-        json_int(j, "excluded", r->nexcluded);
-        json_int(j, "fits", r->nfits);
-        json_str(j, "source", r->source);
+        cli_json_run_fields(j, r);
         json_obj_end(j);
     } else
         printf("%6lld  %-20s %-20s %5lld readings %3lld excluded %3lld fits  ref %s\n", r->id,
@@ -38,19 +29,9 @@ static int fit_line(const bg_fit_row *f, void *ctx)
     json_out *j = ctx;
     char name[16];
     bg_model_name(&f->model, name, sizeof name);
-    if (j) {
-        json_obj(j, NULL);
-        json_int(j, "fit", f->id);
-        json_int(j, "run", f->run_id);
-        json_str(j, "probe", f->serial);
-        json_str(j, "model", name);
-        json_nums(j, "coefficients", f->model.coef, f->npar);
-        json_int(j, "n", (long long)f->n);
-        json_num(j, "rms_mk", f->rms_mk);
-        json_num(j, "max_abs_mk", f->max_abs_mk);
-        json_str(j, "created_at", f->created_at);
-        json_obj_end(j);
-    } else
+    if (j)
+        cli_json_fit_brief(j, f);
+    else
         printf("%6lld  run %-6lld %-20s %-7s n %-3zu RMS %9.4f mK  max %9.4f mK  %s\n", f->id,
                f->run_id, f->serial, name, f->n, f->rms_mk, f->max_abs_mk, f->created_at);
     return 0;

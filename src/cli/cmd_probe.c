@@ -36,11 +36,7 @@ static int run_out(const bg_run *r, void *ctx)
     json_out *j = ctx;
     if (j) {
         json_obj(j, NULL);
-        json_int(j, "run", r->id);
-        json_str(j, "started_at", r->started_at);
-        json_int(j, "readings", r->nreadings);
-        json_int(j, "excluded", r->nexcluded);
-        json_int(j, "fits", r->nfits);
+        cli_json_run_fields(j, r);
         json_obj_end(j);
     } else
         printf("  run %-6lld %s  %lld readings (%lld excluded), %lld fits\n", r->id,
@@ -53,16 +49,9 @@ static int fit_out(const bg_fit_row *f, void *ctx)
     json_out *j = ctx;
     char name[16];
     bg_model_name(&f->model, name, sizeof name);
-    if (j) {
-        json_obj(j, NULL);
-        json_int(j, "fit", f->id);
-        json_int(j, "run", f->run_id);
-        json_str(j, "model", name);
-        json_num(j, "rms_mk", f->rms_mk);
-        json_num(j, "max_abs_mk", f->max_abs_mk);
-        json_str(j, "created_at", f->created_at);
-        json_obj_end(j);
-    } else
+    if (j)
+        cli_json_fit_brief(j, f);
+    else
         printf("  fit %-6lld run %-6lld %-7s RMS %.4f mK, max %.4f mK, %s\n", f->id, f->run_id,
                name, f->rms_mk, f->max_abs_mk, f->created_at);
     return 0;

@@ -19,26 +19,7 @@ static int reading_out(const bg_reading_row *g, void *ctx)
 {
     json_out *j = ctx;
     if (j) {
-        json_obj(j, NULL);
-        json_int(j, "id", g->id);
-        json_int(j, "line", (long long)g->line);
-        json_num(j, "t_raw", g->t_raw);
-        json_str(j, "t_raw_unit", g->t_raw_unit);
-        json_num(j, "t_k", g->t_k);
-        json_num(j, "ohms", g->r_ohm);
-        json_num(j, "u_temp_k", g->u_t_k);
-        json_num(j, "u_ohms", g->u_r_ohm);
-        json_str(j, "time", g->time[0] ? g->time : NULL);
-        json_str(j, "note", g->note[0] ? g->note : NULL);
-        if (g->excluded) {
-            json_obj(j, "excluded");
-            json_str(j, "reason", g->excl_reason);
-            json_str(j, "by", g->excl_by);
-            json_str(j, "at", g->excl_at);
-            json_obj_end(j);
-        } else
-            json_null(j, "excluded");
-        json_obj_end(j);
+        cli_json_reading(j, g);
     } else {
         char rb[32];
         printf("  %8lld %6zu %14.6f %-3s %12.4f %14s %9.4g %9.4g%s%s\n", g->id, g->line,
@@ -59,17 +40,7 @@ static int show_run(bg_store *st, long long id, struct cli_ctx *ctx, bg_error *e
     if (ctx->json) {
         json_begin(&j, stdout);
         json_obj(&j, NULL);
-        json_int(&j, "run", r.id);
-        json_str(&j, "probe", r.serial);
-        json_str(&j, "reference", r.ref_ident[0] ? r.ref_ident : NULL);
-        json_str(&j, "operator", r.operator_name[0] ? r.operator_name : NULL);
-        json_str(&j, "medium", r.medium[0] ? r.medium : NULL);
-        json_str(&j, "ambient", r.ambient[0] ? r.ambient : NULL);
-        json_str(&j, "excitation", r.excitation[0] ? r.excitation : NULL);
-        json_str(&j, "started_at", r.started_at);
-        json_str(&j, "source", r.source);
-        json_str(&j, "note", r.note[0] ? r.note : NULL);
-        json_str(&j, "imported_at", r.imported_at);
+        cli_json_run_fields(&j, &r);
         json_arr(&j, "readings");
         rc = bg_store_reading_each(st, id, reading_out, &j, err);
         json_arr_end(&j);

@@ -211,22 +211,29 @@ int bg_store_run_latest(bg_store *st, long long probe_id, long long *run_id, bg_
     return rc;
 }
 
+/* A listing filtered by probe or lot names one that exists, or says so. */
+static int check_filter(bg_store *st, const char *serial, const char *lot_code, bg_error *err)
+{
+    int rc = BG_OK;
+    if (serial) {
+        bg_probe p;
+        rc = bg_store_probe_get(st, serial, &p, err);
+    }
+    if (rc == BG_OK && lot_code) {
+        bg_lot l;
+        rc = bg_store_lot_get(st, lot_code, &l, err);
+    }
+    return rc;
+}
+
 int bg_store_run_each(bg_store *st, const char *serial, const char *lot_code, bg_run_cb cb,
                       void *ctx, bg_error *err)
 {
     sqlite3_stmt *q = NULL;
     bg_run r;
-    int rc, s;
-    if (serial) {
-        bg_probe p;
-        if ((rc = bg_store_probe_get(st, serial, &p, err)) != BG_OK)
-            return rc;
-    }
-    if (lot_code) {
-        bg_lot l;
-        if ((rc = bg_store_lot_get(st, lot_code, &l, err)) != BG_OK)
-            return rc;
-    }
+    int rc = check_filter(st, serial, lot_code, err), s;
+    if (rc != BG_OK)
+        return rc;
     rc = bgi_prepare(st, "SELECT " RUN_COLS RUN_FROM "JOIN lot l ON p.lot_id = l.id "
                      "WHERE (?1 IS NULL OR p.serial = ?1) AND (?2 IS NULL OR l.code = ?2) "
                      "ORDER BY r.id", &q, err);
@@ -292,6 +299,32 @@ void bg_store_points_release(bg_store_points *p)
     memset(p, 0, sizeof *p);
 }
 
+/* Append the point in columns col .. col+5 (id, t_k, r_ohm, u_t_k, u_r_ohm, line) of 'q'. */
+static int points_push(bg_store_points *sp, sqlite3_stmt *q, int col)
+{
+    if (sp->n == sp->cap) {
+        size_t cap = sp->cap ? 2 * sp->cap : 64;
+        bg_point *p = realloc(sp->pts, cap * sizeof *p);
+        if (p)
+            sp->pts = p;
+        long long *ids = realloc(sp->ids, cap * sizeof *ids);
+        if (ids)
+            sp->ids = ids;
+        if (!p || !ids)
+            return BG_ENOMEM;
+        sp->cap = cap;
+    }
+    bg_point *pt = &sp->pts[sp->n];
+    sp->ids[sp->n] = sqlite3_column_int64(q, col);
+    pt->t_k = sqlite3_column_double(q, col + 1);
+    pt->r_ohm = sqlite3_column_double(q, col + 2);
+    pt->u_t_k = sqlite3_column_double(q, col + 3);
+    pt->u_r_ohm = sqlite3_column_double(q, col + 4);
+    pt->line = (size_t)sqlite3_column_int64(q, col + 5);
+    sp->n++;
+    return BG_OK;
+}
+
 int bg_store_run_points(bg_store *st, long long run_id, bg_store_points *out, bg_error *err)
 {
     sqlite3_stmt *q = NULL;
@@ -302,30 +335,11 @@ int bg_store_run_points(bg_store *st, long long run_id, bg_store_points *out, bg
         return rc;
     out->n = 0;
     sqlite3_bind_int64(q, 1, run_id);
-    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
-        if (out->n == out->cap) {
-            size_t cap = out->cap ? 2 * out->cap : 64;
-            bg_point *p = realloc(out->pts, cap * sizeof *p);
-            if (p)
-                out->pts = p;
-            long long *ids = realloc(out->ids, cap * sizeof *ids);
-            if (ids)
-                out->ids = ids;
-            if (!p || !ids) {
-                sqlite3_reset(q);
-                return bg_error_set(err, BG_ENOMEM, "out of memory reading run %lld", run_id);
-            }
-            out->cap = cap;
+    while ((s = sqlite3_step(q)) == SQLITE_ROW)
+        if (points_push(out, q, 0) != BG_OK) {
+            sqlite3_reset(q);
+            return bg_error_set(err, BG_ENOMEM, "out of memory reading run %lld", run_id);
         }
-        bg_point *pt = &out->pts[out->n];
-        out->ids[out->n] = sqlite3_column_int64(q, 0);
-        pt->t_k = sqlite3_column_double(q, 1);
-        pt->r_ohm = sqlite3_column_double(q, 2);
-        pt->u_t_k = sqlite3_column_double(q, 3);
-        pt->u_r_ohm = sqlite3_column_double(q, 4);
-        pt->line = (size_t)sqlite3_column_int64(q, 5);
-        out->n++;
-    }
     if (s != SQLITE_DONE)
         rc = bgi_db_fail(st, err, "cannot read readings");
     sqlite3_reset(q);
@@ -545,17 +559,9 @@ int bg_store_fit_each(bg_store *st, const char *serial, const char *lot_code, bg
 {
     sqlite3_stmt *q = NULL;
     bg_fit_row f;
-    int rc, s;
-    if (serial) {
-        bg_probe p;
-        if ((rc = bg_store_probe_get(st, serial, &p, err)) != BG_OK)
-            return rc;
-    }
-    if (lot_code) {
-        bg_lot l;
-        if ((rc = bg_store_lot_get(st, lot_code, &l, err)) != BG_OK)
-            return rc;
-    }
+    int rc = check_filter(st, serial, lot_code, err), s;
+    if (rc != BG_OK)
+        return rc;
     rc = bgi_prepare(st, "SELECT " FIT_COLS FIT_FROM "JOIN lot l ON p.lot_id = l.id "
                      "WHERE (?1 IS NULL OR p.serial = ?1) AND (?2 IS NULL OR l.code = ?2) "
                      "ORDER BY f.id", &q, err);
@@ -645,28 +651,10 @@ int bg_store_lot_points_each(bg_store *st, const char *lot_code, bg_lot_points_c
         }
         if (stop || sqlite3_column_type(q, 3) == SQLITE_NULL)
             continue;
-        if (sp.n == sp.cap) {
-            size_t cap = sp.cap ? 2 * sp.cap : 64;
-            bg_point *pp = realloc(sp.pts, cap * sizeof *pp);
-            if (pp)
-                sp.pts = pp;
-            long long *ids = realloc(sp.ids, cap * sizeof *ids);
-            if (ids)
-                sp.ids = ids;
-            if (!pp || !ids) {
-                rc = bg_error_set(err, BG_ENOMEM, "out of memory reading lot '%s'", lot_code);
-                break;
-            }
-            sp.cap = cap;
+        if (points_push(&sp, q, 3) != BG_OK) {
+            rc = bg_error_set(err, BG_ENOMEM, "out of memory reading lot '%s'", lot_code);
+            break;
         }
-        bg_point *pt = &sp.pts[sp.n];
-        sp.ids[sp.n] = sqlite3_column_int64(q, 3);
-        pt->t_k = sqlite3_column_double(q, 4);
-        pt->r_ohm = sqlite3_column_double(q, 5);
-        pt->u_t_k = sqlite3_column_double(q, 6);
-        pt->u_r_ohm = sqlite3_column_double(q, 7);
-        pt->line = (size_t)sqlite3_column_int64(q, 8);
-        sp.n++;
     }
     if (rc == BG_OK && !stop && s != SQLITE_DONE)
         rc = bgi_db_fail(st, err, "cannot read the lot's readings");
