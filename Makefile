@@ -152,6 +152,9 @@ test: deps
 	@$(MAKE) --no-print-directory check
 	@$(MAKE) --no-print-directory sanitize
 	@$(MAKE) --no-print-directory fuzz FUZZ_TIME=$(TEST_FUZZ_TIME)
+	@cat build/summary build-san/summary | awk '{ p += $$1; f += $$2 } \
+	    END { print "plain and sanitizer suites together; fuzz targets clean"; \
+	          printf "total: %d passed, %d failed\n", p, f }'
 
 # ---- demo and benchmarks --------------------------------------------------------------------
 demo: all

@@ -44,5 +44,6 @@ count $? meta
 count $? xcheck_numpy
 
 echo "tests: $pass passed, $fail failed"
+echo "$pass $fail" > "$BUILD/summary"
 [ -n "$failed" ] && echo "failing:$failed"
 [ "$fail" -eq 0 ]
