@@ -64,6 +64,11 @@ CREATE TABLE run (
     started_at   TEXT NOT NULL,
     source       TEXT NOT NULL,
     t_raw_unit   TEXT NOT NULL CHECK (t_raw_unit IN ('K', 'C', 'F', 'ohm')),
+    -- the run's readings are the contiguous ids first_reading .. first_reading + nreadings - 1
+    -- (assigned inside the import's write transaction): queries read them as one range of
+    -- the reading table, so no index on reading.run_id is needed
+    first_reading INTEGER NOT NULL CHECK (first_reading > 0),
+    nreadings    INTEGER NOT NULL CHECK (nreadings > 0),
     note         TEXT,
     imported_at  TEXT NOT NULL
 ) STRICT;
@@ -83,7 +88,6 @@ CREATE TABLE reading (
     time        TEXT,
     note        TEXT
 ) STRICT;
-CREATE INDEX reading_run ON reading(run_id);
 
 CREATE TABLE exclusion (
     reading_id  INTEGER PRIMARY KEY REFERENCES reading(id),

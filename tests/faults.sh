@@ -52,12 +52,14 @@ for i in $(seq 1 20); do
     wait "$pid" 2>/dev/null
     ok=$(Q 'PRAGMA integrity_check')
     [ "$ok" = ok ] || bad "integrity_check after kill $i: $ok"
-    partial=$(Q "SELECT count(*) FROM run r WHERE (SELECT count(*) FROM reading g WHERE g.run_id = r.id) <> $NROWS")
+    partial=$(Q "SELECT count(*) FROM run r WHERE r.nreadings <> $NROWS OR (SELECT count(*) FROM reading g WHERE g.id BETWEEN r.first_reading AND r.first_reading + r.nreadings - 1 AND g.run_id = r.id) <> $NROWS")
     [ "$partial" = 0 ] || bad "after kill $i: $partial runs without all their readings"
 done
 runs=$(Q "SELECT count(*) FROM run")
 rows=$(Q "SELECT count(*) FROM reading")
 [ "$rows" -eq $((runs * NROWS)) ] || bad "$rows readings for $runs runs of $NROWS"
+stray=$(Q "SELECT count(*) FROM reading g JOIN run r ON r.id = g.run_id WHERE g.id NOT BETWEEN r.first_reading AND r.first_reading + r.nreadings - 1")
+[ "$stray" = 0 ] || bad "$stray readings outside their run's range of ids"
 echo "faults: 20 imports killed at random moments ($kills while running, full import ${full_ms} ms): integrity ok, $runs whole runs, no partial run"
 
 # 3. Two importers and a reader at once.

@@ -74,9 +74,22 @@ int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, lon
                           "the file needs a 'ref_ohms' column", src, ref.ident);
         goto done;
     }
+    /* The readings get the ids after the largest one: contiguous, since this transaction
+    ** holds the write lock. */
+    long long first = 1;
+    if ((rc = bgi_prepare(st, "SELECT coalesce(max(id), 0) + 1 FROM reading", &q, err)) != BG_OK)
+        goto done;
+    if (sqlite3_step(q) != SQLITE_ROW) {
+        rc = bgi_db_fail(st, err, "cannot read the readings");
+        goto done;
+    }
+    first = sqlite3_column_int64(q, 0);
+    sqlite3_finalize(q);
+    q = NULL;
     if ((rc = bgi_prepare(st, "INSERT INTO run(probe_id, reference_id, operator, medium, "
                           "ambient, excitation, started_at, source, note, imported_at, "
-                          "t_raw_unit) VALUES (?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
+                          "t_raw_unit, first_reading, nreadings) "
+                          "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
         goto done;
     sqlite3_bind_int64(q, 1, probe.id);
     if (have_ref)
@@ -94,14 +107,18 @@ int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, lon
     bgi_bind_text_or_null(q, 9, meta->note);
     sqlite3_bind_text(q, 10, now, -1, SQLITE_TRANSIENT);
     sqlite3_bind_text(q, 11, unit, -1, SQLITE_STATIC);
+    sqlite3_bind_int64(q, 12, first);
+    sqlite3_bind_int64(q, 13, (sqlite3_int64)rs->n);
     if (sqlite3_step(q) != SQLITE_DONE) {
         rc = bgi_db_fail(st, err, "cannot create the run");
         goto done;
     }
     long long rid = sqlite3_last_insert_rowid(st->db);
-    if ((rc = cached(st, STMT_INSERT_READING, "INSERT INTO reading(run_id, line, t_raw, "
-                     "t_k, r_ohm, u_t_k, u_r_ohm, time, note) VALUES (?,?,?,?,?,?,?,?,?)", &ins,
-                     err)) != BG_OK)
+    /* Ids are assigned by SQLite as the largest plus one (cheaper than explicit ids), which
+    ** under the write lock gives exactly first, first + 1, ...; checked below. */
+    if ((rc = cached(st, STMT_INSERT_READING, "INSERT INTO reading(id, run_id, line, t_raw, "
+                     "t_k, r_ohm, u_t_k, u_r_ohm, time, note) VALUES (NULL,?,?,?,?,?,?,?,?,?)",
+                     &ins, err)) != BG_OK)
         goto done;
     for (size_t i = 0; i < rs->n; i++) {
         const bg_reading *r = &rs->v[i];
@@ -135,6 +152,10 @@ int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, lon
         }
     }
     sqlite3_reset(ins);
+    if (sqlite3_last_insert_rowid(st->db) != first + (long long)rs->n - 1) {
+        rc = bg_error_set(err, BG_EDB, "%s: the readings did not get contiguous ids", src);
+        goto done;
+    }
     if (run_id)
         *run_id = rid;
 done:
@@ -147,9 +168,9 @@ done:
 #define RUN_COLS "r.id, r.probe_id, coalesce(r.reference_id, 0), p.serial, " \
     "coalesce(x.ident, ''), r.operator, r.medium, r.ambient, r.excitation, r.started_at, " \
     "r.source, r.note, r.imported_at, " \
-    "(SELECT count(*) FROM reading g WHERE g.run_id = r.id), " \
-    "(SELECT count(*) FROM reading g JOIN exclusion e ON e.reading_id = g.id " \
-    "  WHERE g.run_id = r.id), " \
+    "r.nreadings, " \
+    "(SELECT count(*) FROM exclusion e WHERE e.reading_id BETWEEN r.first_reading " \
+    "  AND r.first_reading + r.nreadings - 1), " \
     "(SELECT count(*) FROM fit f WHERE f.run_id = r.id)"
 #define RUN_FROM " FROM run r JOIN probe p ON r.probe_id = p.id " \
     "LEFT JOIN reference x ON r.reference_id = x.id "
@@ -259,8 +280,9 @@ int bg_store_reading_each(bg_store *st, long long run_id, bg_reading_cb cb, void
     bg_reading_row row;
     int rc = bgi_prepare(st, "SELECT g.id, g.run_id, g.line, g.t_raw, r.t_raw_unit, g.t_k, "
                          "g.r_ohm, g.u_t_k, g.u_r_ohm, g.time, g.note, e.reading_id IS NOT NULL, "
-                         "e.reason, e.by_whom, e.at FROM reading g JOIN run r ON r.id = g.run_id "
-                         "LEFT JOIN exclusion e ON e.reading_id = g.id WHERE g.run_id = ? "
+                         "e.reason, e.by_whom, e.at FROM run r JOIN reading g ON g.id BETWEEN "
+                         "r.first_reading AND r.first_reading + r.nreadings - 1 AND g.run_id = "
+                         "r.id LEFT JOIN exclusion e ON e.reading_id = g.id WHERE r.id = ? "
                          "ORDER BY g.id", &q, err), s;
     if (rc != BG_OK)
         return rc;
@@ -329,8 +351,10 @@ int bg_store_run_points(bg_store *st, long long run_id, bg_store_points *out, bg
 {
     sqlite3_stmt *q = NULL;
     int rc = cached(st, STMT_RUN_POINTS, "SELECT g.id, g.t_k, g.r_ohm, g.u_t_k, g.u_r_ohm, "
-                    "g.line FROM reading g WHERE g.run_id = ? AND NOT EXISTS (SELECT 1 FROM "
-                    "exclusion e WHERE e.reading_id = g.id) ORDER BY g.id", &q, err), s;
+                    "g.line FROM run r JOIN reading g ON g.id BETWEEN r.first_reading AND "
+                    "r.first_reading + r.nreadings - 1 AND g.run_id = r.id WHERE r.id = ? AND "
+                    "NOT EXISTS (SELECT 1 FROM exclusion e WHERE e.reading_id = g.id) "
+                    "ORDER BY g.id", &q, err), s;
     if (rc != BG_OK)
         return rc;
     out->n = 0;
@@ -633,7 +657,9 @@ int bg_store_lot_points_each(bg_store *st, const char *lot_code, bg_lot_points_c
     rc = bgi_prepare(st, "SELECT p.id, p.serial, coalesce(l.run_id, 0), g.id, g.t_k, g.r_ohm, "
                      "g.u_t_k, g.u_r_ohm, g.line FROM probe p "
                      "JOIN probe_latest_run l ON l.probe_id = p.id "
-                     "LEFT JOIN reading g ON g.run_id = l.run_id AND NOT EXISTS "
+                     "LEFT JOIN run r ON r.id = l.run_id "
+                     "LEFT JOIN reading g ON g.id BETWEEN r.first_reading AND "
+                     "r.first_reading + r.nreadings - 1 AND g.run_id = r.id AND NOT EXISTS "
                      "(SELECT 1 FROM exclusion e WHERE e.reading_id = g.id) "
                      "WHERE p.lot_id = ? ORDER BY p.id, g.id", &q, err);
     if (rc != BG_OK)
