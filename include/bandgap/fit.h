@@ -121,6 +121,9 @@ BG_API int bg_fit_u_t(const bg_fit *fit, double t_k, double *u_k, int *extrapola
 ** uncertainties (NaN otherwise or when dof = 0). */
 BG_API double bg_fit_p_value(const bg_fit *fit);
 
+/* The same at resistance 'r_ohm' (no inversion of the model): u(T(R)) in K. */
+BG_API int bg_fit_u_at_r(const bg_fit *fit, double r_ohm, double *u_k, bg_error *err);
+
 /* Coverage factor from Student's t for the fit's degrees of freedom and 'coverage' (e.g.
 ** 0.9545 gives 4.53 for 2 dof, about 2 for many).  NaN when dof = 0. */
 BG_API double bg_fit_coverage_k(const bg_fit *fit, double coverage);

@@ -409,7 +409,7 @@ static int compute(bg_fitter *fr, const bg_point *pts, size_t n, const char *sou
     r->k_t = quiet ? NAN : bg_fit_coverage_k(fit, 0.9545); /* the lot table does not show it */
     if (bg_model_b_pair(&fit->model, rq->pair_t1_k, rq->pair_t2_k, &r->b_pair, NULL) != BG_OK)
         r->b_pair = NAN;
-    for (size_t i = 0; i < NU; i++) {
+    for (size_t i = 0; i < NU && !quiet; i++) { /* the lot table needs only the largest */
         r->ut_t[i] = fit->t_min_k + (fit->t_max_k - fit->t_min_k) * (double)i / (NU - 1);
         if (bg_fit_u_t(fit, r->ut_t[i], &r->ut_u[i], NULL, NULL) != BG_OK)
             r->ut_u[i] = NAN;
@@ -617,8 +617,13 @@ static int lot_probe(const char *serial, long long probe_id, long long run_id,
     double r25 = NAN, b = NAN, umax = 0.0;
     bg_model_r_from_t(&lp->fit.model, BG_T0_DEFAULT_K, &r25, NULL);
     bg_model_b_pair(&lp->fit.model, lp->lot->pair_t1_k, lp->lot->pair_t2_k, &b, NULL);
-    for (size_t k = 0; k < NU; k++)
-        umax = lp->r.ut_u[k] > umax ? lp->r.ut_u[k] : umax;
+    /* The largest U over the calibrated range, taken at the readings (which include both
+    ** ends, where it is largest for these curves). */
+    for (size_t k = 0; k < sp->n; k++) {
+        double u;
+        if (bg_fit_u_at_r(&lp->fit, sp->pts[k].r_ohm, &u, NULL) == BG_OK && u > umax)
+            umax = u;
+    }
     bg_model_name(&lp->fit.model, name, sizeof name);
     if (lp->ctx->json) {
         json_out *j = &lp->j;

@@ -598,23 +598,42 @@ int bg_fit_points(const bg_point *pts, size_t n, const bg_fit_opts *o, bg_fit *o
     return rc;
 }
 
+/* T^2 sqrt(g^T V g) with g = (L^k), V the covariance of the a_k. */
+static double u_of_l(const bg_fit *fit, double L, double t_k)
+{
+    double g[MAXB], s = 0.0;
+    size_t top = 0;
+    g[0] = 1.0;
+    for (size_t k = 1; k < MAXB; k++)
+        g[k] = g[k - 1] * L;
+    for (size_t k = 0; k < MAXB; k++) /* highest power in use */
+        if (fit->pcov[k * MAXB + k] != 0.0)
+            top = k;
+    for (size_t i = 0; i <= top; i++)
+        for (size_t j = 0; j <= top; j++)
+            s += g[i] * fit->pcov[i * MAXB + j] * g[j];
+    return (s >= 0.0) ? t_k * t_k * sqrt(s) : NAN;
+}
+
 int bg_fit_u_t(const bg_fit *fit, double t_k, double *u_k, int *extrapolated, bg_error *err)
 {
-    double r, L, g[MAXB], s = 0.0;
+    double r;
     int rc = bg_model_r_from_t(&fit->model, t_k, &r, err);
     if (rc != BG_OK)
         return rc;
     if (extrapolated)
         *extrapolated = t_k < fit->t_min_k || t_k > fit->t_max_k;
-    L = log(r);
-    g[0] = 1.0;
-    for (size_t k = 1; k < MAXB; k++)
-        g[k] = g[k - 1] * L;
-    for (size_t i = 0; i < MAXB; i++)
-        for (size_t j = 0; j < MAXB; j++)
-            if (fit->pcov[i * MAXB + j] != 0.0 || isnan(fit->pcov[i * MAXB + j]))
-                s += g[i] * fit->pcov[i * MAXB + j] * g[j];
-    *u_k = (s >= 0.0) ? t_k * t_k * sqrt(s) : NAN;
+    *u_k = u_of_l(fit, log(r), t_k);
+    return BG_OK;
+}
+
+int bg_fit_u_at_r(const bg_fit *fit, double r_ohm, double *u_k, bg_error *err)
+{
+    double t_k;
+    int rc = bg_model_t_from_r(&fit->model, r_ohm, &t_k, err);
+    if (rc != BG_OK)
+        return rc;
+    *u_k = u_of_l(fit, log(r_ohm), t_k);
     return BG_OK;
 }
 

@@ -77,7 +77,7 @@ static int scan(const char *path)
     long long n = 0;
     if (sqlite3_open_v2(path, &db, SQLITE_OPEN_READONLY, NULL) != SQLITE_OK ||
         sqlite3_prepare_v2(db, "SELECT g.run_id, g.t_k, g.r_ohm, g.u_t_k, g.u_r_ohm FROM reading g "
-                           "ORDER BY g.run_id, g.id", -1, &q, NULL) != SQLITE_OK) {
+                           "ORDER BY g.id", -1, &q, NULL) != SQLITE_OK) {
         fprintf(stderr, "bench_db: %s\n", sqlite3_errmsg(db));
         return 1;
     }
