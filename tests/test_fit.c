@@ -571,6 +571,10 @@ static void curve_uncertainty_two_routes(void **state)
             assert_int_equal(bg_fit_u_t(&f, tc + 273.15, &u1, NULL, NULL), BG_OK);
             assert_int_equal(bg_model_u_t(&f.model, f.cov, tc + 273.15, &u2, NULL), BG_OK);
             assert_close(u2, u1, 1e-6, 0);
+            double r, u3;
+            assert_int_equal(bg_model_r_from_t(&f.model, tc + 273.15, &r, NULL), BG_OK);
+            assert_int_equal(bg_fit_u_at_r(&f, r, &u3, NULL), BG_OK);
+            assert_close(u3, u1, 1e-9, 0);
         }
         bg_fit_release(&f);
     }
