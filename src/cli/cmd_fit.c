@@ -407,8 +407,9 @@ static int compute(bg_fitter *fr, const bg_point *pts, size_t n, const char *sou
         return rc;
     r->pts = pts, r->fit = fit, r->cmp = cmp;
     r->k_t = quiet ? NAN : bg_fit_coverage_k(fit, 0.9545); /* the lot table does not show it */
-    if (bg_model_b_pair(&fit->model, rq->pair_t1_k, rq->pair_t2_k, &r->b_pair, NULL) != BG_OK)
-        r->b_pair = NAN;
+    if (quiet || bg_model_b_pair(&fit->model, rq->pair_t1_k, rq->pair_t2_k, &r->b_pair,
+                                 NULL) != BG_OK)
+        r->b_pair = NAN; /* the lot table prints B for the lot's own pair */
     for (size_t i = 0; i < NU && !quiet; i++) { /* the lot table needs only the largest */
         r->ut_t[i] = fit->t_min_k + (fit->t_max_k - fit->t_min_k) * (double)i / (NU - 1);
         if (bg_fit_u_t(fit, r->ut_t[i], &r->ut_u[i], NULL, NULL) != BG_OK)

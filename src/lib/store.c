@@ -65,14 +65,21 @@ char *bg_store_now(char *buf, size_t size)
     const char *sde = getenv("SOURCE_DATE_EPOCH");
     time_t t = time(NULL);
     struct tm tm;
+    /* The same second again (a lot of fits in one pass): reuse the text. */
+    static _Thread_local time_t last = (time_t)-1;
+    static _Thread_local char last_text[BG_TIME];
     if (sde && *sde) {
         char *end;
         long long v = strtoll(sde, &end, 10);
         if (*end == '\0' && v >= 0)
             t = (time_t)v;
     }
-    gmtime_r(&t, &tm);
-    strftime(buf, size, "%Y-%m-%dT%H:%M:%SZ", &tm);
+    if (t != last) {
+        gmtime_r(&t, &tm);
+        strftime(last_text, sizeof last_text, "%Y-%m-%dT%H:%M:%SZ", &tm);
+        last = t;
+    }
+    snprintf(buf, size, "%s", last_text);
     return buf;
 }
 

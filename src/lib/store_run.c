@@ -431,16 +431,25 @@ static double get_le_double(const unsigned char *p)
     return v;
 }
 
-/* The reading ids as a JSON array. */
+/* The reading ids as a JSON array (ids are positive). */
 static char *ids_json(const long long *ids, size_t n)
 {
     size_t cap = n * 21 + 3, k = 0;
-    char *s = malloc(cap);
+    char *s = malloc(cap), digits[24];
     if (!s)
         return NULL;
     s[k++] = '[';
-    for (size_t i = 0; i < n; i++)
-        k += (size_t)snprintf(s + k, cap - k, "%s%lld", i ? "," : "", ids[i]);
+    for (size_t i = 0; i < n; i++) {
+        unsigned long long v = (unsigned long long)ids[i];
+        size_t d = 0;
+        if (i)
+            s[k++] = ',';
+        do
+            digits[d++] = (char)('0' + v % 10);
+        while ((v /= 10) != 0);
+        while (d)
+            s[k++] = digits[--d];
+    }
     s[k++] = ']';
     s[k] = '\0';
     return s;
@@ -642,51 +651,56 @@ int bg_store_fit_readings(bg_store *st, long long fit_id, long long *ids, size_t
 int bg_store_lot_points_each(bg_store *st, const char *lot_code, bg_lot_points_cb cb, void *ctx,
                              bg_error *err)
 {
+    struct lp { long long probe, run; char serial[BG_TEXT]; } *list = NULL;
     sqlite3_stmt *q = NULL;
     bg_store_points sp = BG_STORE_POINTS_INIT;
-    char serial[BG_TEXT] = "";
-    long long probe = -1, run = 0;
-    int rc, s, stop = 0;
+    size_t n = 0, cap = 0;
+    int rc, s;
     bg_lot lot;
 
+    /* One read transaction: a consistent view of the lot, and no file locking per query. */
+    int own = sqlite3_get_autocommit(st->db);
+    if (own && sqlite3_exec(st->db, "BEGIN", NULL, NULL, NULL) != SQLITE_OK)
+        return bgi_db_fail(st, err, "cannot start a read transaction");
     if ((rc = bg_store_lot_get(st, lot_code, &lot, err)) != BG_OK)
-        return rc;
-    /* One pass over the lot, probes in the order they were added, each probe's newest run's
-    ** readings in file order; probes without runs come with run 0 and no points.  This order
-    ** follows the indexes, so the pass needs no sorting. */
-    rc = bgi_prepare(st, "SELECT p.id, p.serial, coalesce(l.run_id, 0), g.id, g.t_k, g.r_ohm, "
-                     "g.u_t_k, g.u_r_ohm, g.line FROM probe p "
-                     "JOIN probe_latest_run l ON l.probe_id = p.id "
-                     "LEFT JOIN run r ON r.id = l.run_id "
-                     "LEFT JOIN reading g ON g.id BETWEEN r.first_reading AND "
-                     "r.first_reading + r.nreadings - 1 AND g.run_id = r.id AND NOT EXISTS "
-                     "(SELECT 1 FROM exclusion e WHERE e.reading_id = g.id) "
-                     "WHERE p.lot_id = ? ORDER BY p.id, g.id", &q, err);
+        goto end;
+    /* First the lot's probes with their newest runs, in the order the probes were added;
+    ** then each run's points by the range of its reading ids. */
+    rc = bgi_prepare(st, "SELECT p.id, p.serial, coalesce((SELECT r.id FROM run r WHERE "
+                     "r.probe_id = p.id ORDER BY r.started_at DESC, r.id DESC LIMIT 1), 0) "
+                     "FROM probe p WHERE p.lot_id = ? ORDER BY p.id", &q, err);
     if (rc != BG_OK)
-        return rc;
+        goto end;
     sqlite3_bind_int64(q, 1, lot.id);
-    while (!stop && (s = sqlite3_step(q)) == SQLITE_ROW) {
-        long long pid = sqlite3_column_int64(q, 0);
-        if (pid != probe) {
-            if (probe >= 0 && cb(serial, probe, run, &sp, ctx))
-                stop = 1;
-            probe = pid;
-            bgi_copy_text(serial, sizeof serial, q, 1);
-            run = sqlite3_column_int64(q, 2);
-            sp.n = 0;
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        if (n == cap) {
+            size_t nc = cap ? 2 * cap : 256;
+            struct lp *nl = realloc(list, nc * sizeof *nl);
+            if (!nl) {
+                rc = bg_error_set(err, BG_ENOMEM, "out of memory reading lot '%s'", lot_code);
+                break;
+            }
+            list = nl, cap = nc;
         }
-        if (stop || sqlite3_column_type(q, 3) == SQLITE_NULL)
-            continue;
-        if (points_push(&sp, q, 3) != BG_OK) {
-            rc = bg_error_set(err, BG_ENOMEM, "out of memory reading lot '%s'", lot_code);
-            break;
-        }
+        list[n].probe = sqlite3_column_int64(q, 0);
+        bgi_copy_text(list[n].serial, sizeof list[n].serial, q, 1);
+        list[n].run = sqlite3_column_int64(q, 2);
+        n++;
     }
-    if (rc == BG_OK && !stop && s != SQLITE_DONE)
-        rc = bgi_db_fail(st, err, "cannot read the lot's readings");
-    if (rc == BG_OK && !stop && probe >= 0)
-        cb(serial, probe, run, &sp, ctx);
+    if (rc == BG_OK && s != SQLITE_DONE)
+        rc = bgi_db_fail(st, err, "cannot read the lot's probes");
     sqlite3_finalize(q);
+    for (size_t i = 0; rc == BG_OK && i < n; i++) {
+        sp.n = 0;
+        if (list[i].run && (rc = bg_store_run_points(st, list[i].run, &sp, err)) != BG_OK)
+            break;
+        if (cb(list[i].serial, list[i].probe, list[i].run, &sp, ctx))
+            break;
+    }
+    free(list);
     bg_store_points_release(&sp);
+end:
+    if (own && !sqlite3_get_autocommit(st->db))
+        sqlite3_exec(st->db, rc == BG_OK ? "COMMIT" : "ROLLBACK", NULL, NULL, NULL);
     return rc;
 }

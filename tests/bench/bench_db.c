@@ -1,7 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* Benchmark helper for the database: build a lot of invented probes with one run each, or
 ** scan the readings back with a plain SQL query (the baseline for 'bandgap fit --lot').
-** Usage: bench_db setup DB NPROBES NREADINGS | bench_db scan DB | bench_db read DB */
+** Usage: bench_db setup DB NPROBES NREADINGS | bench_db scan|read|fit DB */
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -120,6 +120,50 @@ static int readback(const char *path)
     return 0;
 }
 
+struct fitctx { bg_store *st; bg_fitter *fr; bg_fit fit; bg_fit_opts o; size_t n; int rc; };
+
+static int fit_cb(const char *serial, long long probe_id, long long run_id, bg_store_points *pts,
+                  void *ctx)
+{
+    struct fitctx *fc = ctx;
+    bg_error err = BG_ERROR_INIT;
+    (void)serial, (void)probe_id;
+    if (bg_fitter_run(fc->fr, pts->pts, pts->n, &fc->o, &fc->fit, &err) != BG_OK ||
+        bg_store_fit_save(fc->st, run_id, &fc->fit, pts->ids, NULL, &err) != BG_OK) {
+        fprintf(stderr, "bench_db: %s\n", err.msg);
+        fc->rc = 1;
+        return 1;
+    }
+    fc->n++;
+    return 0;
+}
+
+/* Fitting the lot through the library: read, fit and store every probe in one transaction,
+** as 'bandgap fit --lot' does, without printing the table. */
+static int fitlot(const char *path)
+{
+    struct fitctx fc;
+    bg_error err = BG_ERROR_INIT;
+    bg_model m;
+    double t0 = now();
+    memset(&fc, 0, sizeof fc);
+    bg_model_parse("sh3", &m, NULL);
+    fc.o = bg_fit_default_opts(&m);
+    fc.fr = bg_fitter_new();
+    bg_fit_init(&fc.fit);
+    if (bg_store_open(path, 0, &fc.st, &err) != BG_OK || bg_store_begin(fc.st, &err) != BG_OK ||
+        bg_store_lot_points_each(fc.st, "BENCH", fit_cb, &fc, &err) != BG_OK || fc.rc ||
+        bg_store_commit(fc.st, &err) != BG_OK) {
+        fprintf(stderr, "bench_db: %s\n", err.msg);
+        return 1;
+    }
+    bg_store_close(fc.st);
+    bg_fit_release(&fc.fit);
+    bg_fitter_free(fc.fr);
+    printf("FIT_S %.6f\nfitted and stored %zu probes in %.3f s\n", now() - t0, fc.n, now() - t0);
+    return 0;
+}
+
 int main(int argc, char **argv)
 {
     gsl_set_error_handler_off();
@@ -129,6 +173,8 @@ int main(int argc, char **argv)
         return scan(argv[2]);
     if (argc == 3 && strcmp(argv[1], "read") == 0)
         return readback(argv[2]);
+    if (argc == 3 && strcmp(argv[1], "fit") == 0)
+        return fitlot(argv[2]);
     fprintf(stderr, "usage: bench_db setup DB NPROBES NREADINGS | bench_db scan DB\n");
     return 64;
 }
