@@ -13,6 +13,7 @@
 #include "bandgap/fit.h"
 #include "bandgap/csv.h"
 #include "bandgap/store.h"
+#include "bandgap/drift.h"
 
 /* The library's version, "MAJOR.MINOR.PATCH". */
 BG_API const char *bg_version(void);
