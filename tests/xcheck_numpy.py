@@ -184,6 +184,80 @@ def check_eval():
     print("xcheck ok eval")
 
 
+def run_rc(args, ok=(0,)):
+    out = subprocess.run([BIN] + args, capture_output=True, text=True, check=False)
+    if out.returncode not in ok:
+        print(out.stderr)
+        raise SystemExit("xcheck: bandgap %s failed with %d" % (args, out.returncode))
+    return json.loads(out.stdout)
+
+
+def sh3_L(c, T):
+    return solve_L(c, [0, 1, 3], T)
+
+
+def check_drift(tmp):
+    """drift --probe/--lot/--part JSON against numpy/scipy on the demo database's fits."""
+    d = os.path.join(tmp, "demo")
+    subprocess.run([BIN, "demo", "--dir", d], capture_output=True, check=True)
+    db = ["--db", os.path.join(d, "demo.db")]
+    T1, T2, R0, B0 = 298.15, 358.15, 10000.0, 3950.0  # the demo lots' nominal values
+    # --lot
+    js = run_rc(db + ["drift", "--lot", "GH-LOT-2705", "--json"], ok=(0, 1))
+    at = np.array(js["at_k"])
+    r25, b = [], []
+    for p in js["probes"]:
+        f = run(db + ["show", "fit", str(p["fit"]), "--json"])
+        c = f["coefficients"]
+        r25.append(100 * (math.exp(sh3_L(c, T1)) - R0) / R0)
+        b.append((sh3_L(c, T1) - sh3_L(c, T2)) / (1 / T1 - 1 / T2))
+        dev = [1e3 * (1 / (1 / T1 + (sh3_L(c, T) - math.log(R0)) / B0) - T) for T in at]
+        check("drift lot deviation " + p["probe"], p["deviation_mk"], dev, 1e-7, 1e-9)
+    r25, b = np.array(r25), np.array(b)
+    check("drift lot r25", [p["r25_dev_pct"] for p in js["probes"]], r25, 1e-9, 1e-12)
+    check("drift lot b", [p["b_k"] for p in js["probes"]], b, 1e-12)
+    for key, x, tol_lo, tol_hi in (("r25_dev_pct", r25, -1.0, 1.0),
+                                   ("b_k", b, B0 * 0.995, B0 * 1.005)):
+        st = js[key]
+        check("drift lot %s mean" % key, st["mean"], x.mean(), 1e-12, 1e-14)
+        check("drift lot %s sd" % key, st["sd"], x.std(ddof=1), 1e-10)
+        check("drift lot %s min/max" % key, [st["min"], st["max"]], [x.min(), x.max()], 1e-9)
+        cpk = min(tol_hi - x.mean(), x.mean() - tol_lo) / (3 * x.std(ddof=1))
+        check("drift lot %s cpk" % key, st["cpk"], cpk, 1e-9)
+    n = len(r25)
+    t = stats.t.isf(0.05 / (2 * n), n - 2)
+    check("drift grubbs crit", js["grubbs"]["g_crit"], (n - 1) / math.sqrt(n) * math.sqrt(t * t / (n - 2 + t * t)), 1e-8)
+    check("drift grubbs r25", js["grubbs"]["g_r25"], np.max(np.abs(r25 - r25.mean())) / r25.std(ddof=1), 1e-10)
+    check("drift activation energy", js["activation_energy_ev"], 8.617333262e-5 * b.mean(), 1e-12)
+    # --probe
+    js = run_rc(db + ["drift", "--probe", "GH-0417", "--limit", "50mK", "--json"], ok=(1,))
+    cmp_ = js["since_previous"][0]
+    fa = run(db + ["show", "fit", str(cmp_["from_fit"]), "--json"])["coefficients"]
+    fb = run(db + ["show", "fit", str(cmp_["to_fit"]), "--json"])["coefficients"]
+    af = []
+    for T in cmp_["at_k"]:
+        L = sh3_L(fb, T)  # resistance the later calibration gives at T
+        af.append(1e3 * (1 / (fa[0] + fa[1] * L + fa[2] * L ** 3) - T))
+    check("drift probe as-found", cmp_["as_found_mk"], af, 1e-7, 1e-9)
+    check("drift probe dR25", cmp_["d_r25_pct"], 100 * (math.exp(sh3_L(fb, T1)) / math.exp(sh3_L(fa, T1)) - 1), 1e-8)
+    bb = lambda c: (sh3_L(c, T1) - sh3_L(c, T2)) / (1 / T1 - 1 / T2)
+    check("drift probe dB", cmp_["d_b_k"], bb(fb) - bb(fa), 1e-7, 1e-9)
+    t0 = np.datetime64(cmp_["from_time"].rstrip("Z")); t1 = np.datetime64(cmp_["to_time"].rstrip("Z"))
+    years = (t1 - t0) / np.timedelta64(1, "s") / (365.2425 * 86400)
+    check("drift probe years", cmp_["years"], years, 1e-12)
+    check("drift probe rate", cmp_["rate_mk_per_year"], max(abs(x) for x in af) / years, 1e-7)
+    # --part: X-bar/s limits from the baseline lot
+    js = run_rc(db + ["drift", "--part", "SOIL-NTC-10K", "--baseline", "1", "--json"], ok=(0, 1))
+    m = js["subgroup_size"]
+    c4 = math.sqrt(2 / (m - 1)) * math.exp(math.lgamma(m / 2) - math.lgamma((m - 1) / 2))
+    lot0 = js["lots"][0]
+    a3 = 3 / (c4 * math.sqrt(m))
+    check("drift part xbar ucl", js["xbar_r25_dev_pct"]["ucl"], lot0["r25_dev_mean_pct"] + a3 * lot0["r25_dev_sd_pct"], 1e-9)
+    b4 = 1 + 3 * math.sqrt(1 - c4 * c4) / c4
+    check("drift part s ucl", js["s_b_k"]["ucl"], b4 * lot0["b_sd_k"], 1e-9)
+    print("xcheck ok drift (probe, lot, part)")
+
+
 def main():
     rng = np.random.default_rng(20261201)
     coef = {"sh3": [1.1384e-3, 2.3245e-4, 9.4871e-8]}  # invented
@@ -200,6 +274,7 @@ def main():
             for model in ("sh3", "sh4", "beta"):
                 check_fit(tmp, "weighted-%s-%d" % (model, trial), model, T, R, uT, uR)
             check_fit(tmp, "unweighted-sh3-%d" % trial, "sh3", T, R, uT * 0, uR * 0)
+        check_drift(tmp)
     check_eval()
     if failures:
         print("xcheck: %d mismatches" % failures)

@@ -181,6 +181,25 @@ BG_API int bg_store_fit_each(bg_store *st, const char *serial, const char *lot_c
 BG_API int bg_store_fit_readings(bg_store *st, long long fit_id, long long *ids, size_t max,
                                  size_t *n, bg_error *err);
 
+/* ---- calibration history for QA ---- */
+
+/* For each run of probe 'serial' started at or after 'since' (NULL or "" for all), oldest
+** first: its newest fit, or NULL when the run has not been fitted; 'started_at' is the run's. */
+typedef int (*bg_history_cb)(const char *started_at, long long run_id, const bg_fit_row *fit,
+                             void *ctx);
+BG_API int bg_store_probe_history(bg_store *st, const char *serial, const char *since,
+                                  bg_history_cb cb, void *ctx, bg_error *err);
+
+/* For each probe of a lot, in the order they were added: its newest fit (of its newest fitted
+** run started at or after 'since'), or NULL when it has none. */
+typedef int (*bg_latest_cb)(const char *serial, const bg_fit_row *fit, void *ctx);
+BG_API int bg_store_lot_latest_fits(bg_store *st, const char *lot_code, const char *since,
+                                    bg_latest_cb cb, void *ctx, bg_error *err);
+
+/* The lots of part 'part', oldest first. */
+BG_API int bg_store_part_lots(bg_store *st, const char *part, bg_lot_cb cb, void *ctx,
+                              bg_error *err);
+
 /* The current time as ISO 8601 UTC ("2026-12-01T10:00:00Z"); SOURCE_DATE_EPOCH, when set,
 ** replaces the clock (reproducible records and tests). */
 BG_API char *bg_store_now(char *buf, size_t size);

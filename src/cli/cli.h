@@ -8,7 +8,7 @@
 #include "bandgap/bandgap.h"
 
 /* Results of a command beyond bg_status; main() maps all of them to exit statuses. */
-enum { CLI_EUSAGE = 100, CLI_ECANTCREAT = 101 };
+enum { CLI_EUSAGE = 100, CLI_ECANTCREAT = 101, CLI_FLAGGED = 102 };
 
 struct cli_ctx {
     const char *db_path; /* --db, BANDGAP_DB or "bandgap.db" */
@@ -98,6 +98,7 @@ int cmd_list(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_show(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_exclude(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_export(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_drift(int argc, char **argv, struct cli_ctx *ctx);
 
 /* The invented demo data, embedded at build time from db/demo/. */
 struct demo_file {

@@ -12,14 +12,17 @@
 
 static const char demo_usage[] =
     "Usage: bandgap demo [--dir DIR]\n"
-    "Run the whole job on built-in invented data: write the readings of an invented lot of\n"
-    "12 soil probes to DIR (default: bandgap-demo), create the calibration database\n"
-    "DIR/demo.db (replacing an earlier one), add the lot, the probes and the reference\n"
-    "thermometer, import one calibration round, fit one probe with the full report and\n"
-    "then the whole lot.  The scenario and every number in it are invented.\n";
+    "Run the whole job on built-in invented data: write the readings of two invented lots\n"
+    "of 12 soil probes to DIR (default: bandgap-demo), create the calibration database\n"
+    "DIR/demo.db (replacing an earlier one), add the lots, probes and reference thermometer,\n"
+    "import and fit a calibration round, print one probe's full report and the lots, then\n"
+    "import a second round of the first lot six months later (one probe has drifted; the\n"
+    "second lot is off its nominal curve) and print the drift, lot and part reports.\n"
+    "The scenario and every number in it are invented.\n";
 
 #define DEMO_LOT "GH-LOT-2611"
 #define DEMO_PROBE "GH-0417"
+#define DEMO_LOT2 "GH-LOT-2705"
 
 /* Run one command of the program in this process, as a user would type it. */
 static int run(struct cli_ctx *ctx, cmd_fn fn, const char *const *args)
@@ -61,9 +64,10 @@ int cmd_demo(int argc, char **argv, struct cli_ctx *ctx)
         cli_error("demo: cannot create '%s': %s", dir, strerror(errno));
         return CLI_ECANTCREAT;
     }
-    printf("INVENTED DEMO DATA: the (invented) Lindqvist glasshouse cooperative recalibrates\n"
-           "lot %s of its soil probes: 12 probes in a stirred bath beside reference\n"
-           "thermometer REF-7, 18 readings each from -20 to 60 degC.\n\n", DEMO_LOT);
+    printf("INVENTED DEMO DATA: the (invented) Lindqvist glasshouse cooperative calibrates\n"
+           "two deliveries of its soil probes, lots %s and %s (12 probes each, in a stirred\n"
+           "bath beside reference thermometer REF-7, 18 readings from -20 to 60 degC), and\n"
+           "recalibrates the first lot six months later.\n\n", DEMO_LOT, DEMO_LOT2);
     size_t nfiles = 0;
     for (const struct demo_file *df = demo_files; df->name; df++, nfiles++) {
         FILE *f;
@@ -90,37 +94,70 @@ int cmd_demo(int argc, char **argv, struct cli_ctx *ctx)
         const char *a_lot[] = { "lot", "add", DEMO_LOT, "--part", "SOIL-NTC-10K", "--r25", "10k",
                                 "--beta", "3950", "--pair", "25/85", "--tol-r25", "1%",
                                 "--tol-beta", "0.5%", "--note", "invented demo lot", NULL };
+        const char *a_lot2[] = { "lot", "add", DEMO_LOT2, "--part", "SOIL-NTC-10K", "--r25",
+                                 "10k", "--beta", "3950", "--pair", "25/85", "--tol-r25", "1%",
+                                 "--tol-beta", "0.5%", "--note", "invented demo lot", NULL };
         const char *a_ref[] = { "ref", "add", "REF-7", "--cert", "INVENTED-CAL-2026-0117",
                                 "--due", "2027-09-30", "--linear", "0.0042,-0.00011,20", NULL };
         if ((rc = run(&dctx, cmd_init, a_init)) != BG_OK ||
             (rc = run(&dctx, cmd_lot, a_lot)) != BG_OK ||
+            (rc = run(&dctx, cmd_lot, a_lot2)) != BG_OK ||
             (rc = run(&dctx, cmd_ref, a_ref)) != BG_OK)
             return rc;
     }
-    for (const struct demo_file *df = demo_files; df->name; df++) {
-        char serial[64];
-        /* probe-GH-0417.csv -> GH-0417 */
-        snprintf(serial, sizeof serial, "%.*s", (int)(strlen(df->name) - 10), df->name + 6);
-        snprintf(path, sizeof path, "%s/%s", dir, df->name);
-        const char *a_probe[] = { "probe", "add", serial, "--lot", DEMO_LOT, NULL };
-        const char *a_imp[] = { "import", path, "--probe", serial, "--ref", "REF-7",
-                                "--operator", "I. Nventa", "--medium", "stirred water-glycol",
-                                "--ambient", "21 degC", "--excitation", "10 uA", NULL };
-        if ((rc = run(&dctx, cmd_probe, a_probe)) != BG_OK ||
-            (rc = run(&dctx, cmd_import, a_imp)) != BG_OK)
-            return rc;
+    /* First rounds: probe-SERIAL.csv; the second lot's serials start GH-05. */
+    for (int round = 1; round <= 2; round++) {
+        if (round == 2) {
+            printf("\n== calibration report of probe %s (model chosen automatically) ==\n\n",
+                   DEMO_PROBE);
+            const char *a_fit[] = { "fit", "--probe", DEMO_PROBE, NULL };
+            const char *a_l1[] = { "fit", "--lot", DEMO_LOT, "--model", "sh3", NULL };
+            const char *a_l2[] = { "fit", "--lot", DEMO_LOT2, "--model", "sh3", NULL };
+            if ((rc = run(&dctx, cmd_fit, a_fit)) != BG_OK)
+                return rc;
+            printf("\n== lots %s and %s, Steinhart-Hart (sh3) for every probe ==\n\n",
+                   DEMO_LOT, DEMO_LOT2);
+            if ((rc = run(&dctx, cmd_fit, a_l1)) != BG_OK ||
+                (rc = run(&dctx, cmd_fit, a_l2)) != BG_OK)
+                return rc;
+            printf("\n== six months later: the second round of lot %s ==\n\n", DEMO_LOT);
+        }
+        const char *prefix = round == 1 ? "probe-" : "recal-";
+        for (const struct demo_file *df = demo_files; df->name; df++) {
+            char serial[64];
+            size_t pl = strlen(prefix);
+            if (strncmp(df->name, prefix, pl) != 0)
+                continue;
+            /* probe-GH-0417.csv -> GH-0417 */
+            snprintf(serial, sizeof serial, "%.*s", (int)(strlen(df->name) - pl - 4),
+                     df->name + pl);
+            snprintf(path, sizeof path, "%s/%s", dir, df->name);
+            const char *lot = strncmp(serial, "GH-05", 5) == 0 ? DEMO_LOT2 : DEMO_LOT;
+            const char *a_probe[] = { "probe", "add", serial, "--lot", lot, NULL };
+            const char *a_imp[] = { "import", path, "--probe", serial, "--ref", "REF-7",
+                                    "--operator", "I. Nventa", "--medium", "stirred water-glycol",
+                                    "--ambient", "21 degC", "--excitation", "10 uA", NULL };
+            if ((round == 1 && (rc = run(&dctx, cmd_probe, a_probe)) != BG_OK) ||
+                (rc = run(&dctx, cmd_import, a_imp)) != BG_OK)
+                return rc;
+        }
     }
-    printf("\n== calibration report of probe %s (model chosen automatically) ==\n\n",
-           DEMO_PROBE);
     {
-        const char *a_fit[] = { "fit", "--probe", DEMO_PROBE, NULL };
-        if ((rc = run(&dctx, cmd_fit, a_fit)) != BG_OK)
+        const char *a_l1[] = { "fit", "--lot", DEMO_LOT, "--model", "sh3", NULL };
+        const char *a_dp[] = { "drift", "--probe", DEMO_PROBE, "--limit", "50mK", NULL };
+        const char *a_dl[] = { "drift", "--lot", DEMO_LOT2, NULL };
+        const char *a_dpart[] = { "drift", "--part", "SOIL-NTC-10K", "--baseline", "1", NULL };
+        if ((rc = run(&dctx, cmd_fit, a_l1)) != BG_OK)
             return rc;
-    }
-    printf("\n== the whole lot %s, Steinhart-Hart (sh3) for every probe ==\n\n", DEMO_LOT);
-    {
-        const char *a_lot[] = { "fit", "--lot", DEMO_LOT, "--model", "sh3", NULL };
-        if ((rc = run(&dctx, cmd_fit, a_lot)) != BG_OK)
+        /* The drift reports flag what the invented data hold; that is the demo, not a failure. */
+        printf("\n== drift of probe %s between the rounds ==\n\n", DEMO_PROBE);
+        if ((rc = run(&dctx, cmd_drift, a_dp)) != BG_OK && rc != CLI_FLAGGED)
+            return rc;
+        printf("\n== lot %s against its nominal curve ==\n\n", DEMO_LOT2);
+        if ((rc = run(&dctx, cmd_drift, a_dl)) != BG_OK && rc != CLI_FLAGGED)
+            return rc;
+        printf("\n== the part across its lots ==\n\n");
+        if ((rc = run(&dctx, cmd_drift, a_dpart)) != BG_OK && rc != CLI_FLAGGED)
             return rc;
     }
     printf("\ndatabase: %s  (try: bandgap --db %s list fits)\n", db, db);

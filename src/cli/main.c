@@ -31,6 +31,7 @@ static const struct command commands[] = {
     { "show",    cmd_show,    "show one run with its readings, or one stored fit" },
     { "exclude", cmd_exclude, "keep a reading out of future fits, with the reason" },
     { "export",  cmd_export,  "export readings and fits as CSV or JSON, losslessly" },
+    { "drift",   cmd_drift,   "as-found drift of a probe, lot statistics, control charts" },
     { "eval",    cmd_eval,    "evaluate a model given inline: resistance to temperature and back" },
     { "demo",    cmd_demo,    "run the whole job on built-in invented data" },
 };
@@ -49,7 +50,7 @@ static void usage(FILE *f)
                "  --help       this help;  bandgap COMMAND --help for a command\n"
                "  --version    program and library versions\n"
                "\nExit status: 0 success, 64 usage, 65 bad data, 66 missing input, 70 internal,\n"
-               "73 cannot create output, 74 i/o error (sysexits.h).\n"
+               "73 cannot create output, 74 i/o error (sysexits.h); drift: 1 when it flags.\n"
                "Results hold only inside the calibrated range and the stated uncertainty.\n");
 }
 
@@ -73,6 +74,7 @@ static int exit_status(int rc)
     case BG_EIO: return EX_IOERR;
     case CLI_EUSAGE: return EX_USAGE;
     case CLI_ECANTCREAT: return EX_CANTCREAT;
+    case CLI_FLAGGED: return 1; /* drift: something was flagged */
     default: return EX_SOFTWARE;
     }
 }

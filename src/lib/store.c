@@ -688,3 +688,27 @@ int bg_store_ref_each(bg_store *st, bg_ref_cb cb, void *ctx, bg_error *err)
     sqlite3_finalize(q);
     return rc;
 }
+
+int bg_store_part_lots(bg_store *st, const char *part, bg_lot_cb cb, void *ctx, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    bg_lot l;
+    size_t n = 0;
+    int rc = bgi_prepare(st, "SELECT " LOT_COLS " FROM lot l WHERE l.part = ? "
+                         "ORDER BY l.created_at, l.id", &q, err), s;
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_text(q, 1, part, -1, SQLITE_TRANSIENT);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        lot_row(q, &l);
+        n++;
+        if (cb(&l, ctx))
+            break;
+    }
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(st, err, "cannot read lots");
+    else if (n == 0)
+        rc = bg_error_set(err, BG_EINVAL, "no lots of part '%s'", part);
+    sqlite3_finalize(q);
+    return rc;
+}

@@ -704,3 +704,111 @@ end:
         sqlite3_exec(st->db, rc == BG_OK ? "COMMIT" : "ROLLBACK", NULL, NULL, NULL);
     return rc;
 }
+
+/* Ids of fits found by a first query, then read one by one (a fit read is a join). */
+struct idlist { long long *id; long long *aux; char (*text)[BG_TEXT]; size_t n, cap; };
+
+static int idlist_push(struct idlist *l, long long id, long long aux, const char *text)
+{
+    if (l->n == l->cap) {
+        size_t cap = l->cap ? 2 * l->cap : 64;
+        long long *a = realloc(l->id, cap * sizeof *a);
+        if (a)
+            l->id = a;
+        long long *b = realloc(l->aux, cap * sizeof *b);
+        if (b)
+            l->aux = b;
+        char (*t)[BG_TEXT] = realloc(l->text, cap * sizeof *t);
+        if (t)
+            l->text = t;
+        if (!a || !b || !t)
+            return BG_ENOMEM;
+        l->cap = cap;
+    }
+    l->id[l->n] = id, l->aux[l->n] = aux;
+    snprintf(l->text[l->n], BG_TEXT, "%s", text ? text : "");
+    l->n++;
+    return BG_OK;
+}
+
+static void idlist_free(struct idlist *l)
+{
+    free(l->id), free(l->aux), free(l->text);
+}
+
+int bg_store_probe_history(bg_store *st, const char *serial, const char *since,
+                           bg_history_cb cb, void *ctx, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    struct idlist l = { NULL, NULL, NULL, 0, 0 };
+    long long pid;
+    int rc = BG_OK, s;
+
+    pid = bgi_probe_id(st, serial, err, &rc);
+    if (rc != BG_OK)
+        return rc;
+    rc = bgi_prepare(st, "SELECT r.id, r.started_at, coalesce((SELECT f.id FROM fit f WHERE "
+                     "f.run_id = r.id ORDER BY f.id DESC LIMIT 1), 0) FROM run r WHERE "
+                     "r.probe_id = ?1 AND (?2 IS NULL OR r.started_at >= ?2) "
+                     "ORDER BY r.started_at, r.id", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, pid);
+    bgi_bind_text_or_null(q, 2, since);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW)
+        if (idlist_push(&l, sqlite3_column_int64(q, 2), sqlite3_column_int64(q, 0),
+                        (const char *)sqlite3_column_text(q, 1)) != BG_OK) {
+            rc = bg_error_set(err, BG_ENOMEM, "out of memory");
+            break;
+        }
+    if (rc == BG_OK && s != SQLITE_DONE)
+        rc = bgi_db_fail(st, err, "cannot read runs");
+    sqlite3_finalize(q);
+    for (size_t i = 0; rc == BG_OK && i < l.n; i++) {
+        bg_fit_row f;
+        if (l.id[i] && (rc = bg_store_fit_get(st, l.id[i], &f, err)) != BG_OK)
+            break;
+        if (cb(l.text[i], l.aux[i], l.id[i] ? &f : NULL, ctx))
+            break;
+    }
+    idlist_free(&l);
+    return rc;
+}
+
+int bg_store_lot_latest_fits(bg_store *st, const char *lot_code, const char *since,
+                             bg_latest_cb cb, void *ctx, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    struct idlist l = { NULL, NULL, NULL, 0, 0 };
+    bg_lot lot;
+    int rc, s;
+
+    if ((rc = bg_store_lot_get(st, lot_code, &lot, err)) != BG_OK)
+        return rc;
+    rc = bgi_prepare(st, "SELECT p.serial, coalesce((SELECT f.id FROM run r JOIN fit f ON "
+                     "f.run_id = r.id WHERE r.probe_id = p.id AND (?2 IS NULL OR "
+                     "r.started_at >= ?2) ORDER BY r.started_at DESC, f.id DESC LIMIT 1), 0) "
+                     "FROM probe p WHERE p.lot_id = ?1 ORDER BY p.id", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, lot.id);
+    bgi_bind_text_or_null(q, 2, since);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW)
+        if (idlist_push(&l, sqlite3_column_int64(q, 1), 0,
+                        (const char *)sqlite3_column_text(q, 0)) != BG_OK) {
+            rc = bg_error_set(err, BG_ENOMEM, "out of memory");
+            break;
+        }
+    if (rc == BG_OK && s != SQLITE_DONE)
+        rc = bgi_db_fail(st, err, "cannot read the lot's fits");
+    sqlite3_finalize(q);
+    for (size_t i = 0; rc == BG_OK && i < l.n; i++) {
+        bg_fit_row f;
+        if (l.id[i] && (rc = bg_store_fit_get(st, l.id[i], &f, err)) != BG_OK)
+            break;
+        if (cb(l.text[i], l.id[i] ? &f : NULL, ctx))
+            break;
+    }
+    idlist_free(&l);
+    return rc;
+}
