@@ -40,6 +40,20 @@ BG_API int bg_drift_compare(const bg_model *old, const bg_model *cur, const doub
                             size_t nat, double pair_t1_k, double pair_t2_k, double years,
                             bg_drift *out, bg_error *err);
 
+/* One calibration made ready for many comparisons: its R25, its B for the pair and its time,
+** worked out once. */
+typedef struct bg_drift_cal {
+    bg_model model;
+    double r25_ohm, b_k, t_unix_s;
+} bg_drift_cal;
+
+BG_API int bg_drift_prepare(const bg_model *m, double pair_t1_k, double pair_t2_k,
+                            double t_unix_s, bg_drift_cal *out, bg_error *err);
+
+/* bg_drift_compare for prepared calibrations; the years come from their times. */
+BG_API int bg_drift_compare_cal(const bg_drift_cal *old, const bg_drift_cal *cur,
+                                const double *at_k, size_t nat, bg_drift *out, bg_error *err);
+
 typedef struct bg_stats {
     size_t n;
     double mean, sd, min, max; /* sd with n - 1; NaN for n < 2 */

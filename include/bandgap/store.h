@@ -196,6 +196,13 @@ typedef int (*bg_latest_cb)(const char *serial, const bg_fit_row *fit, void *ctx
 BG_API int bg_store_lot_latest_fits(bg_store *st, const char *lot_code, const char *since,
                                     bg_latest_cb cb, void *ctx, bg_error *err);
 
+/* In one pass over a lot: for each probe (in the order added) the newest fit of each of its
+** fitted runs started at or after 'since', oldest run first, with the runs' start times. */
+typedef int (*bg_lot_history_cb)(const char *serial, const bg_fit_row *fits,
+                                 char (*started_at)[BG_TIME], size_t n, void *ctx);
+BG_API int bg_store_lot_history(bg_store *st, const char *lot_code, const char *since,
+                                bg_lot_history_cb cb, void *ctx, bg_error *err);
+
 /* The lots of part 'part', oldest first. */
 BG_API int bg_store_part_lots(bg_store *st, const char *part, bg_lot_cb cb, void *ctx,
                               bg_error *err);

@@ -78,13 +78,21 @@ int bg_drift_check_points(double lo1, double hi1, double lo2, double hi2, size_t
     return BG_OK;
 }
 
-int bg_drift_compare(const bg_model *old, const bg_model *cur, const double *at_k, size_t nat,
-                     double pair_t1_k, double pair_t2_k, double years, bg_drift *out,
-                     bg_error *err)
+int bg_drift_prepare(const bg_model *m, double pair_t1_k, double pair_t2_k, double t_unix_s,
+                     bg_drift_cal *out, bg_error *err)
 {
-    double r_old, r_cur, b_old, b_cur;
     int rc;
+    out->model = *m;
+    out->t_unix_s = t_unix_s;
+    if ((rc = bg_model_r_from_t(m, BG_T0_DEFAULT_K, &out->r25_ohm, err)) != BG_OK)
+        return rc;
+    return bg_model_b_pair(m, pair_t1_k, pair_t2_k, &out->b_k, err);
+}
 
+static int as_found(const bg_model *old, const bg_model *cur, const double *at_k, size_t nat,
+                    bg_drift *out, bg_error *err)
+{
+    int rc;
     memset(out, 0, sizeof *out);
     if (nat > BG_DRIFT_MAXAT)
         return bg_error_set(err, BG_EINVAL, "too many check temperatures (%zu)", nat);
@@ -99,15 +107,37 @@ int bg_drift_compare(const bg_model *old, const bg_model *cur, const double *at_
             out->max_abs_err_mk = fabs(out->err_mk[i]);
     }
     out->nat = nat;
-    if ((rc = bg_model_r_from_t(old, BG_T0_DEFAULT_K, &r_old, err)) != BG_OK ||
-        (rc = bg_model_r_from_t(cur, BG_T0_DEFAULT_K, &r_cur, err)) != BG_OK ||
-        (rc = bg_model_b_pair(old, pair_t1_k, pair_t2_k, &b_old, err)) != BG_OK ||
-        (rc = bg_model_b_pair(cur, pair_t1_k, pair_t2_k, &b_cur, err)) != BG_OK)
-        return rc;
-    out->d_r25_pct = 100.0 * (r_cur - r_old) / r_old;
-    out->d_b_k = b_cur - b_old;
+    return BG_OK;
+}
+
+static void finish(const bg_drift_cal *old, const bg_drift_cal *cur, double years, bg_drift *out)
+{
+    out->d_r25_pct = 100.0 * (cur->r25_ohm - old->r25_ohm) / old->r25_ohm;
+    out->d_b_k = cur->b_k - old->b_k;
     out->years = years;
     out->rate_mk_per_year = years > 0.0 ? out->max_abs_err_mk / years : NAN;
+}
+
+int bg_drift_compare_cal(const bg_drift_cal *old, const bg_drift_cal *cur, const double *at_k,
+                         size_t nat, bg_drift *out, bg_error *err)
+{
+    int rc = as_found(&old->model, &cur->model, at_k, nat, out, err);
+    if (rc == BG_OK)
+        finish(old, cur, (cur->t_unix_s - old->t_unix_s) / (365.2425 * 86400.0), out);
+    return rc;
+}
+
+int bg_drift_compare(const bg_model *old, const bg_model *cur, const double *at_k, size_t nat,
+                     double pair_t1_k, double pair_t2_k, double years, bg_drift *out,
+                     bg_error *err)
+{
+    bg_drift_cal a, b;
+    int rc;
+    if ((rc = as_found(old, cur, at_k, nat, out, err)) != BG_OK ||
+        (rc = bg_drift_prepare(old, pair_t1_k, pair_t2_k, 0.0, &a, err)) != BG_OK ||
+        (rc = bg_drift_prepare(cur, pair_t1_k, pair_t2_k, 0.0, &b, err)) != BG_OK)
+        return rc;
+    finish(&a, &b, years, out);
     return BG_OK;
 }
 

@@ -812,3 +812,65 @@ int bg_store_lot_latest_fits(bg_store *st, const char *lot_code, const char *sin
     idlist_free(&l);
     return rc;
 }
+
+int bg_store_lot_history(bg_store *st, const char *lot_code, const char *since,
+                         bg_lot_history_cb cb, void *ctx, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    bg_fit_row *fits = NULL;
+    char (*when)[BG_TIME] = NULL;
+    size_t n = 0, cap = 0;
+    long long probe = -1;
+    char serial[BG_TEXT] = "";
+    bg_lot lot;
+    int rc, s, stop = 0;
+
+    if ((rc = bg_store_lot_get(st, lot_code, &lot, err)) != BG_OK)
+        return rc;
+    /* the newest fit of every run: no later fit with the same run */
+    rc = bgi_prepare(st, "SELECT " FIT_COLS ", r.started_at" FIT_FROM
+                     "WHERE p.lot_id = ?1 AND (?2 IS NULL OR r.started_at >= ?2) AND NOT EXISTS "
+                     "(SELECT 1 FROM fit g WHERE g.run_id = f.run_id AND g.id > f.id) "
+                     "ORDER BY p.id, r.started_at, r.id", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, lot.id);
+    bgi_bind_text_or_null(q, 2, since);
+    while (!stop && (s = sqlite3_step(q)) == SQLITE_ROW) {
+        long long pid = sqlite3_column_int64(q, 2);
+        if (pid != probe) {
+            if (probe >= 0 && cb(serial, fits, when, n, ctx))
+                stop = 1;
+            probe = pid, n = 0;
+            bgi_copy_text(serial, sizeof serial, q, 3);
+        }
+        if (stop)
+            break;
+        if (n == cap) {
+            size_t nc = cap ? 2 * cap : 8;
+            bg_fit_row *nf = realloc(fits, nc * sizeof *nf);
+            if (nf)
+                fits = nf;
+            char (*nw)[BG_TIME] = realloc(when, nc * sizeof *nw);
+            if (nw)
+                when = nw;
+            if (!nf || !nw) {
+                rc = bg_error_set(err, BG_ENOMEM, "out of memory");
+                break;
+            }
+            cap = nc;
+        }
+        if ((rc = fit_row(q, &fits[n], err)) != BG_OK)
+            break;
+        bgi_copy_text(when[n], BG_TIME, q, 25);
+        n++;
+    }
+    if (rc == BG_OK && !stop && s != SQLITE_DONE)
+        rc = bgi_db_fail(st, err, "cannot read the lot's fits");
+    if (rc == BG_OK && !stop && probe >= 0)
+        cb(serial, fits, when, n, ctx);
+    sqlite3_finalize(q);
+    free(fits);
+    free(when);
+    return rc;
+}

@@ -51,3 +51,16 @@ awk -v s="$scan" -v r="$read" -v l="$lib" -v c="$cli" -v n="$NLOT" 'BEGIN {
     printf "lot of %d probes x 10 readings: reading it back %.2f s (plain SQL scan of the rows %.2f s)\n", n, r, s
     printf "  fitting and storing every probe (library, one transaction): %.2f s: ratio %.2f to reading back (target <= 2), %.1f to the plain scan\n", l, l / r, l / s
     printf "  bandgap fit --lot, also printing a line per probe: %.2f s: ratio %.2f\n", c, c / r }'
+
+# ---- QA: drift and lot statistics over 10,000 probes x 3 calibrations ----
+NDRIFT=${NDRIFT:-10000}
+rm -f "$out/drift.db"
+"$out/bench_db" setup3 "$out/drift.db" "$NDRIFT"
+scanf=$(for i in 1 2 3; do "$out/bench_db" scanfits "$out/drift.db" | awk '/^SCANFITS_S/ {print $2}'; done | best)
+drift=$(for i in 1 2 3; do "$out/bench_db" drift "$out/drift.db" "$NDRIFT" | awk '/^DRIFT_S/ {print $2}'; done | best)
+cli=$(for i in 1 2 3; do t0=$(now)
+      "$BUILD/bandgap" --db "$out/drift.db" drift --lot BENCH > /dev/null; t1=$(now)
+      awk -v a="$t0" -v b="$t1" 'BEGIN { print b - a }'; done | best)
+awk -v s="$scanf" -v d="$drift" -v c="$cli" -v n="$NDRIFT" 'BEGIN {
+    printf "drift of %d probes x 3 calibrations (against previous and first) with the lot statistics: %.3f s; plain SQL scan of the same fit rows %.3f s: ratio %.1f (target <= 3)\n", n, d, s, d / s
+    printf "  bandgap drift --lot (the lot statistics of the newest fits, printed): %.3f s\n", c }'
