@@ -476,6 +476,39 @@ done:
 
 /* ---------------- a part ---------------- */
 
+/* The as-found drift of each probe of a lot between its two newest calibrations, at the middle
+** of their common range (mK, signed), for the control chart of drift across lots. */
+struct asf { double *v; size_t n, cap; };
+
+static int asf_cb(const char *serial, const bg_fit_row *f, char (*when)[BG_TIME], size_t n,
+                  void *ctx)
+{
+    struct asf *a = ctx;
+    bg_drift_cal c0, c1;
+    bg_drift d;
+    double t0, t1, at;
+    (void)serial;
+    if (n < 2)
+        return 0;
+    if (bg_time_parse(when[n - 2], &t0, NULL) != BG_OK ||
+        bg_time_parse(when[n - 1], &t1, NULL) != BG_OK ||
+        bg_drift_prepare(&f[n - 2].model, 298.15, 358.15, t0, &c0, NULL) != BG_OK ||
+        bg_drift_prepare(&f[n - 1].model, 298.15, 358.15, t1, &c1, NULL) != BG_OK ||
+        bg_drift_check_points(f[n - 2].t_min_k, f[n - 2].t_max_k, f[n - 1].t_min_k,
+                              f[n - 1].t_max_k, 1, &at, NULL) != BG_OK ||
+        bg_drift_compare_cal(&c0, &c1, &at, 1, &d, NULL) != BG_OK)
+        return 0;
+    if (a->n == a->cap) {
+        size_t cap = a->cap ? 2 * a->cap : 64;
+        double *v = realloc(a->v, cap * sizeof *v);
+        if (!v)
+            return 1;
+        a->v = v, a->cap = cap;
+    }
+    a->v[a->n++] = d.err_mk[0];
+    return 0;
+}
+
 struct partdata {
     char code[256][BG_TEXT];
     size_t n;
@@ -495,7 +528,8 @@ static int drift_part(bg_store *st, const char *part, struct dopt *o, int *flagg
 {
     static struct partdata pd;
     static struct lotsum sum[256];
-    double mr[256], sr[256], mb[256], sb[256];
+    double mr[256], sr[256], mb[256], sb[256], ma[256], sa_[256];
+    size_t na[256];
     size_t k = 0, msum = 0;
     char used[256][BG_TEXT];
     int rc;
@@ -512,6 +546,14 @@ static int drift_part(bg_store *st, const char *part, struct dopt *o, int *flagg
                        e2.msg[0] ? e2.msg : "fewer than 2 fitted probes");
             continue;
         }
+        {
+            struct asf a = { NULL, 0, 0 };
+            bg_stats sa;
+            bg_store_lot_history(st, pd.code[i], o->since, asf_cb, &a, NULL);
+            bg_stats_of(a.v, a.n, &sa);
+            ma[k] = sa.mean, sa_[k] = sa.sd, na[k] = a.n;
+            free(a.v);
+        }
         mr[k] = sum[k].r25_dev.mean, sr[k] = sum[k].r25_dev.sd;
         mb[k] = sum[k].b.mean, sb[k] = sum[k].b.sd;
         snprintf(used[k], BG_TEXT, "%s", pd.code[i]);
@@ -527,6 +569,25 @@ static int drift_part(bg_store *st, const char *part, struct dopt *o, int *flagg
     if ((rc = bg_chart_xbar_s(mr, sr, nb, m, &cxr, &csr, err)) != BG_OK ||
         (rc = bg_chart_xbar_s(mb, sb, nb, m, &cxb, &csb, err)) != BG_OK)
         return rc;
+    /* As-found drift: charted over the lots where at least two probes were recalibrated. */
+    double am[256], as[256];
+    size_t ka = 0, asum = 0, aidx[256];
+    for (size_t i = 0; i < k; i++)
+        if (na[i] >= 2)
+            am[ka] = ma[i], as[ka] = sa_[i], aidx[ka] = i, asum += na[i], ka++;
+    bg_chart cxa, csa;
+    unsigned fxa[256], fsa[256];
+    int have_a = 0;
+    if (ka >= 2) {
+        size_t nba = o->baseline && o->baseline < ka ? o->baseline : ka;
+        have_a = bg_chart_xbar_s(am, as, nba, (asum + ka / 2) / ka, &cxa, &csa, NULL) == BG_OK;
+        if (have_a) {
+            bg_chart_rules(&cxa, am, ka, fxa);
+            bg_chart_rules(&csa, as, ka, fsa);
+            for (size_t i = 0; i < ka; i++)
+                *flagged |= (fxa[i] | fsa[i]) != 0;
+        }
+    }
     unsigned fxr[256], fsr[256], fxb[256], fsb[256];
     bg_chart_rules(&cxr, mr, k, fxr);
     bg_chart_rules(&csr, sr, k, fsr);
@@ -563,6 +624,25 @@ static int drift_part(bg_store *st, const char *part, struct dopt *o, int *flagg
             json_obj_end(&j);
         }
         json_arr_end(&j);
+        if (have_a) {
+            json_obj(&j, "xbar_as_found_mk");
+            json_num(&j, "center", cxa.center);
+            json_num(&j, "lcl", cxa.lcl);
+            json_num(&j, "ucl", cxa.ucl);
+            json_obj_end(&j);
+            json_arr(&j, "as_found_lots");
+            for (size_t i = 0; i < ka; i++) {
+                json_obj(&j, NULL);
+                json_str(&j, "lot", used[aidx[i]]);
+                json_int(&j, "n", (long long)na[aidx[i]]);
+                json_num(&j, "mean_mk", am[i]);
+                json_num(&j, "sd_mk", as[i]);
+                json_int(&j, "rules", (long long)(fxa[i] | fsa[i] << 4));
+                json_obj_end(&j);
+            }
+            json_arr_end(&j);
+        } else
+            json_null(&j, "xbar_as_found_mk");
         json_bool(&j, "flagged", *flagged);
         json_obj_end(&j);
         json_end(&j);
@@ -587,6 +667,22 @@ static int drift_part(bg_store *st, const char *part, struct dopt *o, int *flagg
                     printf("  FLAG: %s %s", cn[c], rule[r]);
         printf("\n");
     }
+    if (have_a) {
+        printf("  as-found drift (mK, newest two calibrations, middle of the range): X-bar centre "
+               "%+.3f, limits %+.3f .. %+.3f\n", cxa.center, cxa.lcl, cxa.ucl);
+        for (size_t i = 0; i < ka; i++) {
+            printf("  %-16s n %3zu  as-found %+.3f mK (s %.3f)", used[aidx[i]], na[aidx[i]],
+                   am[i], as[i]);
+            for (int r = 0; r < 4; r++) {
+                if (fxa[i] & (1u << r))
+                    printf("  FLAG: X-bar as-found %s", rule[r]);
+                if (fsa[i] & (1u << r))
+                    printf("  FLAG: s as-found %s", rule[r]);
+            }
+            printf("\n");
+        }
+    } else
+        printf("  as-found drift: not charted (fewer than two lots with recalibrated probes)\n");
     return BG_OK;
 }
 

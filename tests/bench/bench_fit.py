@@ -25,19 +25,20 @@ def model(L, a, b, c):
 
 
 p0 = [1.1e-3, 2.3e-4, 9e-8]  # one generic start for every probe (a 10 kOhm class part)
-t0 = time.perf_counter()
 cf = np.empty((npr, 3))
-for p in range(npr):
-    cf[p], _ = curve_fit(model, L[p], T[p], p0=p0, sigma=U[p], absolute_sigma=True)
-t_cf = (time.perf_counter() - t0) / npr
-
-t0 = time.perf_counter()
 ls = np.empty((npr, 3))
-for p in range(npr):
-    X = np.vstack([np.ones(L.shape[1]), L[p], L[p] ** 3]).T
-    sw = T[p] ** 2 / U[p]
-    ls[p], *_ = np.linalg.lstsq(X * sw[:, None], sw / T[p], rcond=None)
-t_ls = (time.perf_counter() - t0) / npr
+t_cf = t_ls = float("inf")
+for rep in range(3):  # best of three, as the C side takes the best of five
+    t0 = time.perf_counter()
+    for p in range(npr):
+        cf[p], _ = curve_fit(model, L[p], T[p], p0=p0, sigma=U[p], absolute_sigma=True)
+    t_cf = min(t_cf, (time.perf_counter() - t0) / npr)
+    t0 = time.perf_counter()
+    for p in range(npr):
+        X = np.vstack([np.ones(L.shape[1]), L[p], L[p] ** 3]).T
+        sw = T[p] ** 2 / U[p]
+        ls[p], *_ = np.linalg.lstsq(X * sw[:, None], sw / T[p], rcond=None)
+    t_ls = min(t_ls, (time.perf_counter() - t0) / npr)
 
 d_full = np.max(np.abs(cf / full - 1))
 d_lin = np.max(np.abs(ls / lin - 1))
