@@ -11,8 +11,16 @@
 
 #include "fit_int.h"
 
-int bgi_lin_qr(double *A, double *b, size_t n, size_t p, double min_rcond, double *colscale,
-               double *work, bg_linfit *out)
+/* The solver, inlined into specialisations for the small column counts of the models (the
+** loops over columns then unroll); see bgi_lin_qr. */
+#if defined(__GNUC__)
+#define BG_INLINE static inline __attribute__((always_inline))
+#else
+#define BG_INLINE static inline
+#endif
+
+BG_INLINE int qr_core(double *A, double *b, size_t n, size_t p, double min_rcond,
+                      double *colscale, double *work, bg_linfit *out)
 {
     size_t perm[BG_LIN_MAXP];
     double R[BG_LIN_MAXP * BG_LIN_MAXP], Ri[BG_LIN_MAXP * BG_LIN_MAXP], z[BG_LIN_MAXP];
@@ -126,6 +134,19 @@ int bgi_lin_qr(double *A, double *b, size_t n, size_t p, double min_rcond, doubl
         }
     }
     return BG_OK;
+}
+
+int bgi_lin_qr(double *A, double *b, size_t n, size_t p, double min_rcond, double *colscale,
+               double *work, bg_linfit *out)
+{
+    switch (p) {
+    case 2: return qr_core(A, b, n, 2, min_rcond, colscale, work, out);
+    case 3: return qr_core(A, b, n, 3, min_rcond, colscale, work, out);
+    case 4: return qr_core(A, b, n, 4, min_rcond, colscale, work, out);
+    case 5: return qr_core(A, b, n, 5, min_rcond, colscale, work, out);
+    case 6: return qr_core(A, b, n, 6, min_rcond, colscale, work, out);
+    default: return qr_core(A, b, n, p, min_rcond, colscale, work, out);
+    }
 }
 
 int bg_linfit_solve(const double *X, const double *y, const double *w, size_t n, size_t p,
