@@ -14,6 +14,7 @@
 #include "bandgap/csv.h"
 #include "bandgap/store.h"
 #include "bandgap/drift.h"
+#include "bandgap/circuit.h"
 
 /* The library's version, "MAJOR.MINOR.PATCH". */
 BG_API const char *bg_version(void);
