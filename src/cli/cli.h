@@ -59,6 +59,29 @@ const char *cli_or_dash(const char *s);
 /* Show progress "what i/n" on stderr when it is a terminal (not TERM=dumb); i == n ends it. */
 void cli_progress(const char *what, size_t i, size_t n);
 
+/* A model given on the command line (eval, curve): --model, --coef, --r25/--r0, --beta, --t0. */
+struct cli_inline {
+    const char *model;
+    double coef[BG_MODEL_MAXPAR];
+    size_t ncoef;
+    int have_coef;
+    double r25, beta, t0_k;
+};
+enum { CLI_IN_MODEL = 200, CLI_IN_COEF, CLI_IN_R25, CLI_IN_BETA, CLI_IN_T0 };
+#define CLI_INLINE_OPTIONS                                                                     \
+    { "model", required_argument, NULL, CLI_IN_MODEL },                                        \
+    { "coef", required_argument, NULL, CLI_IN_COEF },                                          \
+    { "r25", required_argument, NULL, CLI_IN_R25 },                                            \
+    { "r0", required_argument, NULL, CLI_IN_R25 },                                             \
+    { "beta", required_argument, NULL, CLI_IN_BETA },                                          \
+    { "t0", required_argument, NULL, CLI_IN_T0 }
+void cli_inline_init(struct cli_inline *in);
+/* Take option 'opt' (one of CLI_IN_*); returns BG_OK or the usage error's code. */
+int cli_inline_option(struct cli_inline *in, int opt, const char *arg, const char *cmd);
+int cli_inline_given(const struct cli_inline *in);
+/* Build the model; a usage error (CLI_EUSAGE) when something is missing or does not fit. */
+int cli_inline_model(const struct cli_inline *in, const char *cmd, bg_model *m);
+
 /* JSON of stored records (rows.c): a reading object, a run's fields (inside an object the
 ** caller opens), a fit object without its covariance. */
 void cli_json_reading(json_out *j, const bg_reading_row *g);

@@ -32,11 +32,9 @@ struct query { int is_temp; double in; double t_k, r_ohm, dtdr, alpha, beta; };
 
 int cmd_eval(int argc, char **argv, struct cli_ctx *ctx)
 {
-    enum { O_MODEL = 1, O_COEF, O_R25, O_BETA, O_T0, O_PAIR, O_OHMS, O_TEMP, O_UNIT, O_JSON };
+    enum { O_PAIR = 1, O_OHMS, O_TEMP, O_UNIT, O_JSON };
     static const struct option opts[] = {
-        { "model", required_argument, NULL, O_MODEL }, { "coef", required_argument, NULL, O_COEF },
-        { "r25", required_argument, NULL, O_R25 },     { "r0", required_argument, NULL, O_R25 },
-        { "beta", required_argument, NULL, O_BETA },   { "t0", required_argument, NULL, O_T0 },
+        CLI_INLINE_OPTIONS,
         { "pair", required_argument, NULL, O_PAIR },   { "ohms", required_argument, NULL, O_OHMS },
         { "temp", required_argument, NULL, O_TEMP },   { "unit", required_argument, NULL, O_UNIT },
         { "json", no_argument, NULL, O_JSON },         { "help", no_argument, NULL, 'h' },
@@ -44,38 +42,22 @@ int cmd_eval(int argc, char **argv, struct cli_ctx *ctx)
     };
     bg_error err = BG_ERROR_INIT;
     bg_model m;
-    const char *model_name = NULL;
-    double coef[BG_MODEL_MAXPAR], r25 = NAN, beta = NAN, t0 = BG_T0_DEFAULT_K;
+    struct cli_inline in;
     double p1 = 298.15, p2 = 358.15, b_pair = NAN;
-    size_t ncoef = 0, nq = 0;
-    int have_coef = 0, c;
+    size_t nq = 0, ncoef;
+    int c, rc;
     bg_temp_unit unit = BG_UNIT_C;
     struct query q[MAXQ];
     char name[16], b1[64], b2[64];
 
+    cli_inline_init(&in);
     opterr = 0;
     while ((c = getopt_long(argc, argv, ":h", opts, NULL)) != -1) {
         switch (c) {
         case 'h': fputs(eval_usage, stdout); return BG_OK;
-        case O_MODEL: model_name = optarg; break;
-        case O_COEF:
-            if (cli_parse_list(optarg, coef, BG_MODEL_MAXPAR, &ncoef, &err) != BG_OK)
-                return cli_usage_error("eval", "--coef %s", err.msg);
-            have_coef = 1;
-            break;
-        case O_R25:
-            if (bg_units_parse_ohms(optarg, &r25, &err) != BG_OK)
-                return cli_usage_error("eval", "--r25: %s", err.msg);
-            break;
-        case O_BETA:
-            if (cli_parse_list(optarg, &beta, 1, &ncoef, &err) != BG_OK || !(beta > 0.0))
-                return cli_usage_error("eval", "--beta: '%s': expected a B constant in K > 0",
-                                       optarg);
-            ncoef = 0;
-            break;
-        case O_T0:
-            if (bg_units_parse_temp(optarg, BG_UNIT_NONE, &t0, &err) != BG_OK)
-                return cli_usage_error("eval", "--t0: %s", err.msg);
+        case CLI_IN_MODEL: case CLI_IN_COEF: case CLI_IN_R25: case CLI_IN_BETA: case CLI_IN_T0:
+            if ((rc = cli_inline_option(&in, c, optarg, "eval")) != BG_OK)
+                return rc;
             break;
         case O_PAIR:
             if (bg_model_parse_pair(optarg, &p1, &p2, &err) != BG_OK)
@@ -102,32 +84,15 @@ int cmd_eval(int argc, char **argv, struct cli_ctx *ctx)
     }
     if (optind < argc)
         return cli_usage_error("eval", "unexpected argument '%s'", argv[optind]);
-    if (!model_name)
-        model_name = (!have_coef && (isfinite(r25) || isfinite(beta))) ? "beta" : NULL;
-    if (!model_name)
-        return cli_usage_error("eval", "--model is required");
-    if (bg_model_parse(model_name, &m, &err) != BG_OK)
-        return cli_usage_error("eval", "--model: %s", err.msg);
-    m.t0_k = t0;
-    if (m.kind == BG_MODEL_BETA && !have_coef) {
-        if (!isfinite(r25) || !isfinite(beta))
-            return cli_usage_error("eval", "the beta model needs --r25 and --beta (or --coef "
-                                   "R0,beta)");
-        coef[0] = r25, coef[1] = beta, ncoef = 2;
+    if ((rc = cli_inline_model(&in, "eval", &m)) != BG_OK)
+        return rc;
+    if (m.kind == BG_MODEL_BETA)
         m.pair_t1_k = p1, m.pair_t2_k = p2;
-    } else if (!have_coef) {
-        return cli_usage_error("eval", "model '%s' needs --coef", model_name);
-    } else if (isfinite(r25) || isfinite(beta)) {
-        return cli_usage_error("eval", "--r25 and --beta go with the beta model instead of "
-                               "--coef");
-    }
-    if (bg_model_set_coef(&m, coef, ncoef, &err) != BG_OK)
-        return cli_usage_error("eval", "%s", err.msg);
+    ncoef = bg_model_npar(&m);
     if (nq == 0)
         return cli_usage_error("eval", "give at least one --ohms or --temp");
 
     for (size_t i = 0; i < nq; i++) {
-        int rc;
         if (q[i].is_temp) {
             q[i].t_k = q[i].in;
             rc = bg_model_r_from_t(&m, q[i].t_k, &q[i].r_ohm, &err);

@@ -1,6 +1,81 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* JSON fields of stored records, shared by list, probe, show and export. */
+/* JSON fields of stored records, shared by list, probe, show and export; and the model given
+** inline on the command line, shared by eval and curve. */
+#include <math.h>
+#include <stdlib.h>
+
 #include "cli.h"
+
+void cli_inline_init(struct cli_inline *in)
+{
+    in->model = NULL;
+    in->ncoef = 0;
+    in->have_coef = 0;
+    in->r25 = NAN, in->beta = NAN, in->t0_k = BG_T0_DEFAULT_K;
+}
+
+int cli_inline_given(const struct cli_inline *in)
+{
+    return in->model || in->have_coef || isfinite(in->r25) || isfinite(in->beta);
+}
+
+int cli_inline_option(struct cli_inline *in, int opt, const char *arg, const char *cmd)
+{
+    bg_error err = BG_ERROR_INIT;
+    char *end;
+    switch (opt) {
+    case CLI_IN_MODEL: in->model = arg; return BG_OK;
+    case CLI_IN_COEF:
+        if (cli_parse_list(arg, in->coef, BG_MODEL_MAXPAR, &in->ncoef, &err) != BG_OK)
+            return cli_usage_error(cmd, "--coef %s", err.msg);
+        in->have_coef = 1;
+        return BG_OK;
+    case CLI_IN_R25:
+        if (bg_units_parse_ohms(arg, &in->r25, &err) != BG_OK)
+            return cli_usage_error(cmd, "--r25: %s", err.msg);
+        return BG_OK;
+    case CLI_IN_BETA:
+        in->beta = strtod(arg, &end);
+        if (*end || !(in->beta > 0.0) || !isfinite(in->beta))
+            return cli_usage_error(cmd, "--beta: '%s': expected a B constant in K > 0", arg);
+        return BG_OK;
+    default:
+        if (bg_units_parse_temp(arg, BG_UNIT_NONE, &in->t0_k, &err) != BG_OK)
+            return cli_usage_error(cmd, "--t0: %s", err.msg);
+        return BG_OK;
+    }
+}
+
+int cli_inline_model(const struct cli_inline *in, const char *cmd, bg_model *m)
+{
+    bg_error err = BG_ERROR_INIT;
+    double coef[BG_MODEL_MAXPAR];
+    size_t n = in->ncoef;
+    const char *name = in->model;
+    int beta_given = isfinite(in->r25) || isfinite(in->beta);
+
+    if (!name)
+        name = (!in->have_coef && beta_given) ? "beta" : NULL;
+    if (!name)
+        return cli_usage_error(cmd, "--model is required");
+    if (bg_model_parse(name, m, &err) != BG_OK)
+        return cli_usage_error(cmd, "--model: %s", err.msg);
+    m->t0_k = in->t0_k;
+    for (size_t i = 0; i < n; i++)
+        coef[i] = in->coef[i];
+    if (m->kind == BG_MODEL_BETA && !in->have_coef) {
+        if (!isfinite(in->r25) || !isfinite(in->beta))
+            return cli_usage_error(cmd, "the beta model needs --r25 and --beta (or --coef "
+                                   "R0,beta)");
+        coef[0] = in->r25, coef[1] = in->beta, n = 2;
+    } else if (!in->have_coef)
+        return cli_usage_error(cmd, "model '%s' needs --coef", name);
+    else if (beta_given)
+        return cli_usage_error(cmd, "--r25 and --beta go with the beta model instead of --coef");
+    if (bg_model_set_coef(m, coef, n, &err) != BG_OK)
+        return cli_usage_error(cmd, "%s", err.msg);
+    return BG_OK;
+}
 
 void cli_json_reading(json_out *j, const bg_reading_row *g)
 {
