@@ -33,6 +33,7 @@ static const struct command commands[] = {
     { "export",  cmd_export,  "export readings and fits as CSV or JSON, losslessly" },
     { "drift",   cmd_drift,   "as-found drift of a probe, lot statistics, control charts" },
     { "eval",    cmd_eval,    "evaluate a model given inline: resistance to temperature and back" },
+    { "curve",   cmd_curve,   "the R-T table of a stored fit or an inline model, with U(k=2)" },
     { "demo",    cmd_demo,    "run the whole job on built-in invented data" },
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
