@@ -116,7 +116,7 @@ CREATE TABLE fit (
     t_min_k         REAL NOT NULL,
     t_max_k         REAL NOT NULL,
     -- exactly the readings the fit used: a JSON array of reading ids, ascending
-    reading_ids     TEXT NOT NULL CHECK (reading_ids LIKE '[%]'),
+    reading_ids     TEXT NOT NULL CHECK (substr(reading_ids, 1, 1) = '['),
     program_version TEXT NOT NULL,
     created_at      TEXT NOT NULL
 ) STRICT;
