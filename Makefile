@@ -37,7 +37,7 @@ DEMO_CSV = $(sort $(wildcard db/demo/*.csv))
 MIGRATIONS = $(sort $(wildcard db/[0-9][0-9][0-9]-*.sql))
 
 .PHONY: all deps test check sanitize demo bench install uninstall clean headers fmt fuzz \
-        fuzz-replay
+        fuzz-replay install-check
 
 all: deps $(BUILD)/libbandgap.a $(BUILD)/bandgap
 
@@ -107,8 +107,19 @@ headers: | deps
 	  $(CC) $(STD) $(WARN) -Iinclude -c $(BUILD)/hdr/one.c -o $(BUILD)/hdr/one.o || exit 1; \
 	done
 
-check: all headers $(TESTS)
+check: all headers $(if $(filter 1,$(SAN)),,install-check) $(TESTS)
 	@BUILD=$(BUILD) PYTHON=$(PYTHON) sh tests/run.sh
+
+# Install into a scratch folder and build a program from the installed headers, library and
+# pkg-config file alone; it must print T(3000 ohm) = 25.507 degC (refdata section 1).
+install-check: all
+	@rm -rf $(BUILD)/stage
+	@$(MAKE) --no-print-directory install PREFIX=/usr DESTDIR=$(abspath $(BUILD))/stage >/dev/null
+	@$(CC) $(STD) $(WARN) tests/install_check.c -o $(BUILD)/stage/install_check \
+	    $$(PKG_CONFIG_SYSROOT_DIR=$(abspath $(BUILD))/stage \
+	       PKG_CONFIG_PATH=$(abspath $(BUILD))/stage/usr/lib/pkgconfig \
+	       pkg-config --cflags --libs --static bandgap)
+	@test "$$($(BUILD)/stage/install_check)" = 25.507 && echo "install-check: ok"
 
 sanitize: deps
 	@$(MAKE) --no-print-directory BUILD=build-san SAN=1 check
@@ -164,15 +175,32 @@ bench: all
 	@sh tests/bench/run.sh $(BUILD) $(PYTHON) $(CC) "$(CFLAGS_ALL)" "$(PKG_LIBS)"
 
 # ---- install --------------------------------------------------------------------------------
-install: all
-	install -d $(DESTDIR)$(prefix)/bin $(DESTDIR)$(prefix)/lib $(DESTDIR)$(prefix)/include/bandgap
-	install -m 755 $(BUILD)/bandgap $(DESTDIR)$(prefix)/bin/bandgap
-	install -m 644 $(BUILD)/libbandgap.a $(DESTDIR)$(prefix)/lib/libbandgap.a
-	install -m 644 $(HEADERS) $(DESTDIR)$(prefix)/include/bandgap/
+# GNU directory variables; DESTDIR only prefixes the installed paths, never their contents.
+bindir     ?= $(prefix)/bin
+libdir     ?= $(prefix)/lib
+includedir ?= $(prefix)/include
+mandir     ?= $(prefix)/share/man
+
+$(BUILD)/bandgap.pc: Makefile
+	@mkdir -p $(@D)
+	printf '%s\n' 'prefix=$(prefix)' 'libdir=$(libdir)' 'includedir=$(includedir)' '' \
+	    'Name: bandgap' 'Description: calibration of NTC thermistors' 'Version: $(VERSION)' \
+	    'Requires.private: gsl sqlite3' 'Libs: -L$${libdir} -lbandgap' 'Libs.private: -lm' \
+	    'Cflags: -I$${includedir}' > $@
+
+install: all $(BUILD)/bandgap.pc
+	install -d $(DESTDIR)$(bindir) $(DESTDIR)$(libdir)/pkgconfig \
+	    $(DESTDIR)$(includedir)/bandgap $(DESTDIR)$(mandir)/man1
+	install -m 755 $(BUILD)/bandgap $(DESTDIR)$(bindir)/bandgap
+	install -m 644 $(BUILD)/libbandgap.a $(DESTDIR)$(libdir)/libbandgap.a
+	install -m 644 $(HEADERS) $(DESTDIR)$(includedir)/bandgap/
+	install -m 644 $(BUILD)/bandgap.pc $(DESTDIR)$(libdir)/pkgconfig/bandgap.pc
+	install -m 644 docs/bandgap.1 $(DESTDIR)$(mandir)/man1/bandgap.1
 
 uninstall:
-	rm -f $(DESTDIR)$(prefix)/bin/bandgap $(DESTDIR)$(prefix)/lib/libbandgap.a
-	rm -rf $(DESTDIR)$(prefix)/include/bandgap
+	rm -f $(DESTDIR)$(bindir)/bandgap $(DESTDIR)$(libdir)/libbandgap.a
+	rm -f $(DESTDIR)$(libdir)/pkgconfig/bandgap.pc $(DESTDIR)$(mandir)/man1/bandgap.1
+	rm -rf $(DESTDIR)$(includedir)/bandgap
 
 fmt:
 	clang-format -i $(LIB_SRC) $(CLI_SRC) $(HEADERS) src/lib/*_int.h src/cli/cli.h
