@@ -15,6 +15,7 @@
 #include "bandgap/store.h"
 #include "bandgap/drift.h"
 #include "bandgap/circuit.h"
+#include "bandgap/lut.h"
 
 /* The library's version, "MAJOR.MINOR.PATCH". */
 BG_API const char *bg_version(void);
