@@ -123,6 +123,7 @@ int cmd_exclude(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_export(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_drift(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_curve(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_lut(int argc, char **argv, struct cli_ctx *ctx);
 
 /* The invented demo data, embedded at build time from db/demo/. */
 struct demo_file {

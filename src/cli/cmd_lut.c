@@ -1,0 +1,307 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* bandgap lut: a firmware lookup table (ADC code -> temperature) for a circuit, from a stored
+** fit or an inline model, as C99, CSV or JSON, with its error measured over every code. */
+#include <errno.h>
+#include <getopt.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+
+static const char lut_usage[] =
+    "Usage: bandgap lut (--fit N | --probe SERIAL | MODEL OPTIONS) CIRCUIT --range T1:T2\n"
+    "                   (--step CODES | --max-error DT) [--resolution 0.1|0.01|0.001] [--kelvin]\n"
+    "                   [--format c|csv|json] [--symbol PREFIX] [-o FILE] [--allow-extrapolation]\n"
+    "A table of temperatures at breakpoints every CODES codes (a power of two), read with\n"
+    "integer linear interpolation; --max-error picks the largest power-of-two step whose\n"
+    "error, measured over every code of the range, stays within DT.  Circuit:\n"
+    "  --fixed OHMS --sensor-side low|high   divider (low: thermistor between the ADC input\n"
+    "                                        and ground), with --parallel OHMS, --series OHMS\n"
+    "  --current AMPS --vref VOLTS           constant current, absolute reference\n"
+    "  --ohms-input [--ohms-per-code R]      resistance input (default 1 ohm per code)\n"
+    "  --adc-bits N (8..24, default 12)  --full-scale pow2|pow2-1 (default pow2)\n"
+    "Values are signed integers in --resolution degC (default 0.01), or K with --kelvin;\n"
+    "codes outside the range return named sentinels, never a clamped temperature.\n"
+    "The reported error is that of the table and its rounding; it does not include the\n"
+    "ADC, the fit's uncertainty or the components.  With a stored fit the range must lie\n"
+    "inside the calibrated range unless --allow-extrapolation.\n";
+
+static int parse_range(const char *s, double *lo, double *hi, bg_error *err)
+{
+    const char *c = strchr(s, ':');
+    char a[64];
+    if (!c || (size_t)(c - s) >= sizeof a)
+        return bg_error_set(err, BG_EINVAL, "'%s': a range is T1:T2, e.g. -40C:125C", s);
+    memcpy(a, s, (size_t)(c - s));
+    a[c - s] = '\0';
+    if (bg_units_parse_temp(a, BG_UNIT_NONE, lo, err) != BG_OK ||
+        bg_units_parse_temp(c + 1, BG_UNIT_NONE, hi, err) != BG_OK)
+        return BG_EINVAL;
+    return *hi > *lo ? BG_OK : bg_error_set(err, BG_EINVAL, "'%s': T2 must be above T1", s);
+}
+
+struct newest { long long id; };
+static int newest_fit(const bg_fit_row *f, void *ctx)
+{
+    ((struct newest *)ctx)->id = f->id;
+    return 0;
+}
+
+int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
+{
+    enum { O_FIT = 1, O_PROBE, O_FIXED, O_SIDE, O_PAR, O_SER, O_BITS, O_FS, O_CUR, O_VREF,
+           O_OHMSIN, O_OPC, O_RANGE, O_STEP, O_MAXERR, O_RES, O_KELVIN, O_FORMAT, O_SYMBOL,
+           O_OUT, O_EXTRA, O_JSON };
+    static const struct option opts[] = {
+        CLI_INLINE_OPTIONS,
+        { "fit", required_argument, NULL, O_FIT },       { "probe", required_argument, NULL, O_PROBE },
+        { "fixed", required_argument, NULL, O_FIXED },   { "sensor-side", required_argument, NULL, O_SIDE },
+        { "parallel", required_argument, NULL, O_PAR },  { "series", required_argument, NULL, O_SER },
+        { "adc-bits", required_argument, NULL, O_BITS }, { "full-scale", required_argument, NULL, O_FS },
+        { "current", required_argument, NULL, O_CUR },   { "vref", required_argument, NULL, O_VREF },
+        { "ohms-input", no_argument, NULL, O_OHMSIN },   { "ohms-per-code", required_argument, NULL, O_OPC },
+        { "range", required_argument, NULL, O_RANGE },   { "step", required_argument, NULL, O_STEP },
+        { "max-error", required_argument, NULL, O_MAXERR },
+        { "resolution", required_argument, NULL, O_RES }, { "kelvin", no_argument, NULL, O_KELVIN },
+        { "format", required_argument, NULL, O_FORMAT }, { "symbol", required_argument, NULL, O_SYMBOL },
+        { "output", required_argument, NULL, O_OUT },
+        { "allow-extrapolation", no_argument, NULL, O_EXTRA },
+        { "json", no_argument, NULL, O_JSON },           { "help", no_argument, NULL, 'h' },
+        { NULL, 0, NULL, 0 },
+    };
+    bg_error err = BG_ERROR_INIT;
+    struct cli_inline in;
+    bg_lut_spec s;
+    bg_lut t = BG_LUT_INIT;
+    const char *probe = NULL, *format = "c", *symbol = "ntc", *out_path = NULL;
+    long long fit_id = 0;
+    double max_err = NAN, cal_lo = -INFINITY, cal_hi = INFINITY, v;
+    long step = -1;
+    int c, rc, have_range = 0, allow = 0, side_set = 0, current = 0, ohms_in = 0;
+    char *end;
+
+    cli_inline_init(&in);
+    memset(&s, 0, sizeof s);
+    s.circuit.kind = BG_CIRCUIT_DIVIDER_LOW, s.circuit.adc_bits = 12;
+    s.circuit.full_scale_pow2 = 1, s.circuit.ohms_per_code = 1.0;
+    s.format = BG_LUT_CENTI;
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, ":ho:", opts, NULL)) != -1) {
+        switch (c) {
+        case 'h': fputs(lut_usage, stdout); return BG_OK;
+        case CLI_IN_MODEL: case CLI_IN_COEF: case CLI_IN_R25: case CLI_IN_BETA: case CLI_IN_T0:
+            if ((rc = cli_inline_option(&in, c, optarg, "lut")) != BG_OK)
+                return rc;
+            break;
+        case O_FIT:
+            if (cli_parse_id(optarg, &fit_id) != BG_OK)
+                return cli_usage_error("lut", "--fit: '%s': not a fit id", optarg);
+            break;
+        case O_PROBE: probe = optarg; break;
+        case O_FIXED: case O_PAR: case O_SER:
+            if (bg_units_parse_ohms(optarg, &v, &err) != BG_OK)
+                return cli_usage_error("lut", "--%s: %s", c == O_FIXED ? "fixed" :
+                                       c == O_PAR ? "parallel" : "series", err.msg);
+            *(c == O_FIXED ? &s.circuit.fixed_ohm : c == O_PAR ? &s.circuit.parallel_ohm
+                                                               : &s.circuit.series_ohm) = v;
+            break;
+        case O_SIDE:
+            if (strcmp(optarg, "low") && strcmp(optarg, "high"))
+                return cli_usage_error("lut", "--sensor-side: say low or high");
+            s.circuit.kind = optarg[0] == 'l' ? BG_CIRCUIT_DIVIDER_LOW : BG_CIRCUIT_DIVIDER_HIGH;
+            side_set = 1;
+            break;
+        case O_BITS:
+            s.circuit.adc_bits = (unsigned)strtoul(optarg, &end, 10);
+            if (*end || s.circuit.adc_bits < 8 || s.circuit.adc_bits > 24)
+                return cli_usage_error("lut", "--adc-bits: '%s': 8 .. 24", optarg);
+            break;
+        case O_FS:
+            if (strcmp(optarg, "pow2") && strcmp(optarg, "pow2-1"))
+                return cli_usage_error("lut", "--full-scale: say pow2 or pow2-1");
+            s.circuit.full_scale_pow2 = strcmp(optarg, "pow2") == 0;
+            break;
+        case O_CUR: case O_VREF: case O_OPC:
+            v = strtod(optarg, &end);
+            if (*end || !(v > 0.0) || !isfinite(v))
+                return cli_usage_error("lut", "'%s': expected a number > 0", optarg);
+            *(c == O_CUR ? &s.circuit.current_a : c == O_VREF ? &s.circuit.vref_v
+                                                              : &s.circuit.ohms_per_code) = v;
+            current |= c != O_OPC;
+            break;
+        case O_OHMSIN: ohms_in = 1; break;
+        case O_RANGE:
+            if (parse_range(optarg, &s.t_lo_k, &s.t_hi_k, &err) != BG_OK)
+                return cli_usage_error("lut", "--range: %s", err.msg);
+            have_range = 1;
+            break;
+        case O_STEP:
+            step = strtol(optarg, &end, 10);
+            if (*end || step < 1 || step > 4096 || (step & (step - 1)))
+                return cli_usage_error("lut", "--step: '%s': a power of two from 1 to 4096 "
+                                       "codes", optarg);
+            break;
+        case O_MAXERR:
+            if (bg_units_parse_tdiff(optarg, &max_err, &err) != BG_OK)
+                return cli_usage_error("lut", "--max-error: %s", err.msg);
+            break;
+        case O_RES:
+            if (strcmp(optarg, "0.1") == 0) s.format = BG_LUT_DECI;
+            else if (strcmp(optarg, "0.01") == 0) s.format = BG_LUT_CENTI;
+            else if (strcmp(optarg, "0.001") == 0) s.format = BG_LUT_MILLI;
+            else return cli_usage_error("lut", "--resolution: say 0.1, 0.01 or 0.001");
+            break;
+        case O_KELVIN: s.kelvin = 1; break;
+        case O_FORMAT:
+            if (strcmp(optarg, "c") && strcmp(optarg, "csv") && strcmp(optarg, "json"))
+                return cli_usage_error("lut", "--format: say c, csv or json");
+            format = optarg;
+            break;
+        case O_JSON: format = "json"; break;
+        case O_SYMBOL: symbol = optarg; break;
+        case 'o': case O_OUT: out_path = optarg; break;
+        case O_EXTRA: allow = 1; break;
+        case ':': return cli_usage_error("lut", "option '%s' needs a value", argv[optind - 1]);
+        default: return cli_usage_error("lut", "unknown option '%s'", argv[optind - 1]);
+        }
+    }
+    if (optind < argc)
+        return cli_usage_error("lut", "unexpected argument '%s'", argv[optind]);
+    if ((fit_id != 0) + (probe != NULL) + cli_inline_given(&in) != 1)
+        return cli_usage_error("lut", "give one of --fit, --probe or a model (--model ...)");
+    if (!have_range)
+        return cli_usage_error("lut", "--range T1:T2 is required");
+    if ((step > 0) == isfinite(max_err))
+        return cli_usage_error("lut", "give --step or --max-error");
+    if (current + ohms_in + (s.circuit.fixed_ohm > 0.0 || side_set) != 1)
+        return cli_usage_error("lut", "give one circuit: --fixed (divider), --current and "
+                               "--vref, or --ohms-input");
+    if (current) {
+        if (!(s.circuit.current_a > 0.0 && s.circuit.vref_v > 0.0))
+            return cli_usage_error("lut", "a current source needs --current and --vref");
+        s.circuit.kind = BG_CIRCUIT_CURRENT;
+    } else if (ohms_in)
+        s.circuit.kind = BG_CIRCUIT_OHMS;
+    if (bg_circuit_check(&s.circuit, &err) != BG_OK)
+        return cli_usage_error("lut", "%s", err.msg);
+    if (fit_id || probe) {
+        bg_store *st = NULL;
+        bg_fit_row fr;
+        if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
+            return rc;
+        if (probe) {
+            struct newest nw = { 0 };
+            rc = bg_store_fit_each(st, probe, NULL, newest_fit, &nw, &err);
+            if (rc == BG_OK && !nw.id)
+                rc = bg_error_set(&err, BG_EINVAL, "probe '%s' has no stored fit", probe);
+            fit_id = nw.id;
+        }
+        if (rc == BG_OK)
+            rc = bg_store_fit_get(st, fit_id, &fr, &err);
+        bg_store_close(st);
+        if (rc != BG_OK)
+            return cli_fail("lut", &err);
+        s.model = fr.model;
+        cal_lo = fr.t_min_k, cal_hi = fr.t_max_k;
+        if (!allow && (s.t_lo_k < cal_lo - 1e-9 || s.t_hi_k > cal_hi + 1e-9)) {
+            cli_error("lut: the range %.3f .. %.3f degC is outside fit %lld's calibrated range "
+                      "%.3f .. %.3f degC (--allow-extrapolation to build it anyway)",
+                      s.t_lo_k - BG_ZERO_C_K, s.t_hi_k - BG_ZERO_C_K, fit_id,
+                      cal_lo - BG_ZERO_C_K, cal_hi - BG_ZERO_C_K);
+            return BG_EINVAL;
+        }
+    } else if ((rc = cli_inline_model(&in, "lut", &s.model)) != BG_OK)
+        return rc;
+
+    if (step > 0) {
+        s.shift = 0;
+        while ((1L << s.shift) < step)
+            s.shift++;
+        if ((rc = bg_lut_build(&s, &t, &err)) != BG_OK)
+            return cli_fail("lut", &err);
+    } else {
+        /* the largest power-of-two step within the bound: the error grows with the step */
+        double rounding = 0.5 / (s.format == BG_LUT_DECI ? 10.0 : s.format == BG_LUT_CENTI ?
+                                 100.0 : 1000.0);
+        if (max_err < rounding) {
+            cli_error("lut: --max-error %.6g K is below the output's rounding (%.6g K at this "
+                      "resolution)", max_err, rounding);
+            return BG_EINVAL;
+        }
+        int found = 0;
+        for (int sh = 12; sh >= 0 && !found; sh--) {
+            bg_lut cand = BG_LUT_INIT;
+            bg_error e2 = BG_ERROR_INIT;
+            s.shift = (unsigned)sh;
+            if (bg_lut_build(&s, &cand, &e2) != BG_OK) {
+                if (sh == 0) {
+                    err = e2;
+                    return cli_fail("lut", &err);
+                }
+                continue;
+            }
+            if (cand.max_err_k <= max_err) {
+                t = cand, found = 1;
+            } else
+                bg_lut_release(&cand);
+        }
+        if (!found) {
+            cli_error("lut: even a breakpoint at every code misses --max-error %.6g K: the ADC "
+                      "cannot resolve that here (use more bits or a finer resolution)", max_err);
+            return BG_EINVAL;
+        }
+    }
+
+    FILE *f = out_path ? fopen(out_path, "w") : stdout;
+    if (!f) {
+        cli_error("lut: cannot create '%s': %s", out_path, strerror(errno));
+        bg_lut_release(&t);
+        return CLI_ECANTCREAT;
+    }
+    rc = BG_OK;
+    if (strcmp(format, "c") == 0)
+        rc = bg_lut_emit_c(&t, &s, symbol, bg_version(), f, &err);
+    else if (strcmp(format, "csv") == 0) {
+        fprintf(f, "# generated by bandgap %s; breakpoints every %lu codes from code %ld; "
+                   "values in %s %s; max error %.6f K, RMS %.6f K over codes %ld .. %ld\n",
+                bg_version(), 1ul << t.shift, t.code_lo,
+                s.format == BG_LUT_DECI ? "0.1" : s.format == BG_LUT_CENTI ? "0.01" : "0.001",
+                s.kelvin ? "K" : "degC", t.max_err_k, t.rms_err_k, t.code_lo, t.code_hi);
+        fprintf(f, "index,code,value\n");
+        for (size_t i = 0; i < t.n; i++)
+            fprintf(f, "%zu,%ld,%ld\n", i, t.code_lo + (long)(i << t.shift), (long)t.y[i]);
+    } else {
+        json_out j;
+        json_begin(&j, f);
+        json_obj(&j, NULL);
+        json_str(&j, "generator", "bandgap");
+        json_str(&j, "version", bg_version());
+        json_str(&j, "strategy", "uniform");
+        json_int(&j, "entries", (long long)t.n);
+        json_int(&j, "step_codes", 1LL << t.shift);
+        json_int(&j, "code_lo", t.code_lo);
+        json_int(&j, "code_hi", t.code_hi);
+        json_num(&j, "counts_per_degree", t.counts_per_k);
+        json_bool(&j, "kelvin", s.kelvin);
+        json_num(&j, "max_error_c", t.max_err_k);
+        json_num(&j, "rms_error_c", t.rms_err_k);
+        json_arr(&j, "table");
+        for (size_t i = 0; i < t.n; i++)
+            json_int(&j, NULL, t.y[i]);
+        json_arr_end(&j);
+        json_obj_end(&j);
+        json_end(&j);
+    }
+    if (out_path && fclose(f) != 0 && rc == BG_OK)
+        rc = bg_error_set(&err, BG_EIO, "cannot write '%s'", out_path);
+    if (rc != BG_OK)
+        cli_fail("lut", &err);
+    else if (strcmp(format, "c") == 0 || out_path)
+        fprintf(stderr, "bandgap: lut: %zu entries every %lu codes, max error %.4f K, RMS "
+                "%.4f K (table and rounding only)\n", t.n, 1ul << t.shift, t.max_err_k,
+                t.rms_err_k);
+    bg_lut_release(&t);
+    return rc;
+}
