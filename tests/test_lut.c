@@ -148,6 +148,43 @@ static void bad_requests(void **state)
     bg_lut_release(&t);
 }
 
+static void budget_by_hand(void **state)
+{
+    (void)state;
+    bg_lut_spec s = spec_10k(4, BG_LUT_CENTI);
+    bg_lut t = BG_LUT_INIT;
+    double cov[4] = { 1.0, 0.0, 0.0, 4.0 }; /* var(R0) = 1 ohm^2, var(beta) = 4 K^2 (invented) */
+    bg_budget_opts o = { cov, 0.001, 3.3, 2e-3 };
+    bg_budget_row row, worst;
+    double at = 298.15, T = 298.15, B = 3950.0;
+    assert_int_equal(bg_lut_build(&s, &t, NULL), BG_OK);
+    assert_int_equal(bg_lut_budget(&s, &t, &o, &at, 1, &row, &worst, NULL), BG_OK);
+    /* at 25 degC the divider sits at half scale, code 2048 (divider law) */
+    int st;
+    double table = fabs(bg_lut_eval(&t, 2048, &st) / 100.0 + 273.15 - t_indep(2048.0));
+    assert_close(row.table_k, table, 1e-9, 1e-12);
+    /* half an LSB: 0.5 |dT/dR dR/dcode|, dT/dR = -T^2/(B R), dR/dcode = Rf / FS / (1 - x)^2 */
+    double adc = 0.5 * T * T / (B * 10000.0) * 10000.0 / 4096.0 / 0.25;
+    assert_close(row.adc_k, adc, 1e-6, 0);
+    /* the fixed resistor 0.1 % high: the firmware reads R (1 + 0.001) as R */
+    double t2 = 1.0 / (1.0 / T + log(1.001) / B);
+    assert_close(row.resistor_k, fabs(t2 - T), 1e-9, 0);
+    /* 3.3 V over 10k + 10k: 1.65 V across the thermistor, 272.25 uW, over 2 mW/K */
+    assert_close(row.selfheat_k, 1.65 * 1.65 / 10000.0 / 2e-3, 1e-12, 0);
+    /* U(k=2) of the beta curve at R = R0: only R0's variance counts, T^2 / (B R0) per ohm */
+    assert_close(row.fit_k, 2.0 * T * T / (B * 10000.0), 1e-9, 0);
+    double sum = row.table_k + adc + row.resistor_k + row.selfheat_k + row.fit_k;
+    assert_close(row.sum_k, sum, 1e-6, 0);
+    assert_close(row.rss_k, sqrt(row.table_k * row.table_k + adc * adc +
+                                 row.resistor_k * row.resistor_k +
+                                 row.selfheat_k * row.selfheat_k + row.fit_k * row.fit_k),
+                 1e-6, 0);
+    /* the worst case over the range is at least the value at any temperature */
+    assert_true(worst.sum_k >= row.sum_k && worst.adc_k >= row.adc_k);
+    assert_close(worst.table_k, t.max_err_k, 1e-9, 0);
+    bg_lut_release(&t);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -155,6 +192,7 @@ int main(void)
         cmocka_unit_test(breakpoints_and_error),
         cmocka_unit_test(emitted_c_agrees),
         cmocka_unit_test(bad_requests),
+        cmocka_unit_test(budget_by_hand),
     };
     return cmocka_run_group_tests_name("lut", tests, NULL, NULL);
 }

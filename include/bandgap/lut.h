@@ -57,4 +57,29 @@ BG_API int32_t bg_lut_eval(const bg_lut *t, long code, int *status);
 BG_API int bg_lut_emit_c(const bg_lut *t, const bg_lut_spec *spec, const char *symbol,
                          const char *version, FILE *f, bg_error *err);
 
+/* ---- the error budget of a table in its circuit ---- */
+
+typedef struct bg_budget_opts {
+    const double *cov;          /* the model's coefficient covariance (npar x npar) or NULL */
+    double fixed_tol;           /* the fixed resistor's tolerance, a fraction; 0 = ignore */
+    double excitation_v;        /* divider supply for self-heating, V; 0 = ignore */
+    double dissipation_w_per_k; /* the thermistor's dissipation constant; 0 = ignore */
+} bg_budget_opts;
+
+typedef struct bg_budget_row {
+    double t_k;
+    double table_k;    /* |table - model| at the code of t (interpolation and rounding) */
+    double adc_k;      /* half an LSB through the slope: 0.5 |dT/dcode| */
+    double fit_k;      /* expanded uncertainty U (k = 2) of the fitted curve */
+    double resistor_k; /* the fixed resistor at its tolerance: |T' - T| at the same code */
+    double selfheat_k; /* power in the thermistor over the dissipation constant */
+    double rss_k, sum_k; /* combined: root-sum-square and worst-case sum */
+} bg_budget_row;
+
+/* The budget at 'nat' temperatures and, in '*worst', the largest of each term and of each
+** combination over every code of the table's range. */
+BG_API int bg_lut_budget(const bg_lut_spec *spec, const bg_lut *t, const bg_budget_opts *o,
+                         const double *at_k, size_t nat, bg_budget_row *rows,
+                         bg_budget_row *worst, bg_error *err);
+
 #endif

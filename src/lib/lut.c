@@ -238,3 +238,96 @@ int bg_lut_emit_c(const bg_lut *t, const bg_lut_spec *s, const char *sym, const 
         return bg_error_set(err, BG_EIO, "cannot write the table");
     return BG_OK;
 }
+
+/* The budget's terms at one code (real-valued for the temperature of a row). */
+static int budget_at(const bg_lut_spec *s, const bg_lut *t, const bg_budget_opts *o, double code,
+                     bg_budget_row *r, bg_error *err)
+{
+    double rth, tk, k_lsb;
+    int rc, st;
+    memset(r, 0, sizeof *r);
+    if ((rc = bg_circuit_ohms_of(&s->circuit, code, &rth, err)) != BG_OK ||
+        (rc = bg_circuit_temp_of(&s->circuit, &s->model, code, &tk, &k_lsb, err)) != BG_OK)
+        return rc;
+    r->t_k = tk;
+    long ic = lround(code);
+    if (ic < t->code_lo)
+        ic = t->code_lo;
+    if (ic > t->code_hi)
+        ic = t->code_hi;
+    double tc;
+    if ((rc = t_at(s, (double)ic, &tc, err)) != BG_OK)
+        return rc;
+    r->table_k = fabs((double)bg_lut_eval(t, ic, &st) / t->counts_per_k + t->offset_k - tc);
+    r->adc_k = 0.5 * fabs(k_lsb);
+    if (o->cov && bg_model_u_t(&s->model, o->cov, tk, &r->fit_k, NULL) == BG_OK)
+        r->fit_k *= 2.0;
+    else
+        r->fit_k = 0.0;
+    if (o->fixed_tol > 0.0 && s->circuit.kind != BG_CIRCUIT_CURRENT &&
+        s->circuit.kind != BG_CIRCUIT_OHMS) {
+        /* the same code read with the fixed resistor at its tolerance: what the firmware,
+        ** assuming the nominal value, gets wrong */
+        bg_circuit c2 = s->circuit;
+        double r2, t2;
+        c2.fixed_ohm *= 1.0 + o->fixed_tol;
+        if (bg_circuit_ohms_of(&c2, code, &r2, NULL) == BG_OK &&
+            bg_model_t_from_r(&s->model, r2, &t2, NULL) == BG_OK)
+            r->resistor_k = fabs(t2 - tk);
+    }
+    if (o->dissipation_w_per_k > 0.0) {
+        const bg_circuit *c = &s->circuit;
+        double rb = c->series_ohm + (c->parallel_ohm > 0.0 ? rth * c->parallel_ohm /
+                                                              (rth + c->parallel_ohm) : rth);
+        double i = NAN;
+        if (c->kind == BG_CIRCUIT_CURRENT)
+            i = c->current_a;
+        else if (o->excitation_v > 0.0 && c->kind != BG_CIRCUIT_OHMS)
+            i = o->excitation_v / (rb + c->fixed_ohm);
+        if (isfinite(i)) {
+            /* the voltage across the thermistor (and its parallel resistor), squared over R */
+            double v = i * (rb - c->series_ohm);
+            r->selfheat_k = v * v / rth / o->dissipation_w_per_k;
+        }
+    }
+    r->rss_k = sqrt(r->table_k * r->table_k + r->adc_k * r->adc_k + r->fit_k * r->fit_k +
+                    r->resistor_k * r->resistor_k + r->selfheat_k * r->selfheat_k);
+    r->sum_k = r->table_k + r->adc_k + r->fit_k + r->resistor_k + r->selfheat_k;
+    return BG_OK;
+}
+
+int bg_lut_budget(const bg_lut_spec *s, const bg_lut *t, const bg_budget_opts *o,
+                  const double *at_k, size_t nat, bg_budget_row *rows, bg_budget_row *worst,
+                  bg_error *err)
+{
+    int rc;
+    for (size_t k = 0; k < nat; k++) {
+        double r, code;
+        if (at_k[k] < s->t_lo_k - 1e-9 || at_k[k] > s->t_hi_k + 1e-9)
+            return bg_error_set(err, BG_EINVAL, "budget temperature %.3f degC is outside the "
+                                "table's range", at_k[k] - BG_ZERO_C_K);
+        if ((rc = bg_model_r_from_t(&s->model, at_k[k], &r, err)) != BG_OK ||
+            (rc = bg_circuit_code_of(&s->circuit, r, &code, err)) != BG_OK ||
+            (rc = budget_at(s, t, o, code, &rows[k], err)) != BG_OK)
+            return rc;
+        rows[k].t_k = at_k[k];
+    }
+    if (worst) {
+        memset(worst, 0, sizeof *worst);
+        worst->t_k = NAN;
+        for (long code = t->code_lo; code <= t->code_hi; code++) {
+            bg_budget_row r;
+            if ((rc = budget_at(s, t, o, (double)code, &r, err)) != BG_OK)
+                return rc;
+            worst->table_k = fmax(worst->table_k, r.table_k);
+            worst->adc_k = fmax(worst->adc_k, r.adc_k);
+            worst->fit_k = fmax(worst->fit_k, r.fit_k);
+            worst->resistor_k = fmax(worst->resistor_k, r.resistor_k);
+            worst->selfheat_k = fmax(worst->selfheat_k, r.selfheat_k);
+            if (r.sum_k > worst->sum_k)
+                worst->sum_k = r.sum_k, worst->t_k = r.t_k;
+            worst->rss_k = fmax(worst->rss_k, r.rss_k);
+        }
+    }
+    return BG_OK;
+}
