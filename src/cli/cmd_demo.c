@@ -159,6 +159,18 @@ int cmd_demo(int argc, char **argv, struct cli_ctx *ctx)
         printf("\n== the part across its lots ==\n\n");
         if ((rc = run(&dctx, cmd_drift, a_dpart)) != BG_OK && rc != CLI_FLAGGED)
             return rc;
+        /* An invented board: the probe on the low side of a 10k divider, 12-bit ADC. */
+        char cfile[4200];
+        snprintf(cfile, sizeof cfile, "%s/glasshouse_ntc.c", dir);
+        const char *a_lut[] = { "lut", "--probe", DEMO_PROBE, "--fixed", "10k", "--sensor-side",
+                                "low", "--adc-bits", "12", "--range", "-15C:55C", "--max-error",
+                                "0.05C", "--symbol", "glasshouse_ntc", "--fixed-tol", "0.1%",
+                                "--excitation", "3.3", "--dissipation", "1.5mW/K", "-o", cfile,
+                                NULL };
+        printf("\n== a firmware table for an invented board (probe %s on the low side of a 10k"
+               "\n   divider, 12-bit ADC, 3.3 V): %s ==\n\n", DEMO_PROBE, cfile);
+        if ((rc = run(&dctx, cmd_lut, a_lut)) != BG_OK)
+            return rc;
     }
     printf("\ndatabase: %s  (try: bandgap --db %s list fits)\n", db, db);
     return BG_OK;

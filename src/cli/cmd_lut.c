@@ -24,9 +24,12 @@ static const char lut_usage[] =
     "  --adc-bits N (8..24, default 12)  --full-scale pow2|pow2-1 (default pow2)\n"
     "Values are signed integers in --resolution degC (default 0.01), or K with --kelvin;\n"
     "codes outside the range return named sentinels, never a clamped temperature.\n"
-    "The reported error is that of the table and its rounding; it does not include the\n"
-    "ADC, the fit's uncertainty or the components.  With a stored fit the range must lie\n"
-    "inside the calibrated range unless --allow-extrapolation.\n";
+    "The reported error is that of the table and its rounding.  The error budget adds, at\n"
+    "--budget-at T1,T2,... (default: the ends and middle of the range) and as the worst case\n"
+    "over the range: half an LSB of the ADC, the stored fit's U(k=2), the fixed resistor at\n"
+    "--fixed-tol PCT, and self-heating at --excitation VOLTS (divider supply) over\n"
+    "--dissipation mW/K; combined as root-sum-square and as a worst-case sum.  With a stored\n"
+    "fit the range must lie inside the calibrated range unless --allow-extrapolation.\n";
 
 static int parse_range(const char *s, double *lo, double *hi, bg_error *err)
 {
@@ -53,7 +56,7 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
 {
     enum { O_FIT = 1, O_PROBE, O_FIXED, O_SIDE, O_PAR, O_SER, O_BITS, O_FS, O_CUR, O_VREF,
            O_OHMSIN, O_OPC, O_RANGE, O_STEP, O_MAXERR, O_RES, O_KELVIN, O_FORMAT, O_SYMBOL,
-           O_OUT, O_EXTRA, O_JSON };
+           O_OUT, O_EXTRA, O_JSON, O_BAT, O_FTOL, O_EXC, O_DISS };
     static const struct option opts[] = {
         CLI_INLINE_OPTIONS,
         { "fit", required_argument, NULL, O_FIT },       { "probe", required_argument, NULL, O_PROBE },
@@ -68,6 +71,10 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         { "format", required_argument, NULL, O_FORMAT }, { "symbol", required_argument, NULL, O_SYMBOL },
         { "output", required_argument, NULL, O_OUT },
         { "allow-extrapolation", no_argument, NULL, O_EXTRA },
+        { "budget-at", required_argument, NULL, O_BAT },
+        { "fixed-tol", required_argument, NULL, O_FTOL },
+        { "excitation", required_argument, NULL, O_EXC },
+        { "dissipation", required_argument, NULL, O_DISS },
         { "json", no_argument, NULL, O_JSON },           { "help", no_argument, NULL, 'h' },
         { NULL, 0, NULL, 0 },
     };
@@ -81,6 +88,11 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
     long step = -1;
     int c, rc, have_range = 0, allow = 0, side_set = 0, current = 0, ohms_in = 0;
     char *end;
+    bg_fit_row fr;
+    int have_cov = 0;
+    bg_budget_opts bo = { NULL, 0.0, 0.0, 0.0 };
+    double bat[16];
+    size_t nbat = 0;
 
     cli_inline_init(&in);
     memset(&s, 0, sizeof s);
@@ -163,6 +175,41 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         case O_SYMBOL: symbol = optarg; break;
         case 'o': case O_OUT: out_path = optarg; break;
         case O_EXTRA: allow = 1; break;
+        case O_BAT: {
+            char buf[64];
+            nbat = 0;
+            for (const char *p = optarg;;) {
+                const char *cm = strchr(p, ',');
+                size_t len = cm ? (size_t)(cm - p) : strlen(p);
+                if (len == 0 || len >= sizeof buf || nbat == 16)
+                    return cli_usage_error("lut", "--budget-at: expected temperatures like "
+                                           "0C,25C,50C");
+                memcpy(buf, p, len);
+                buf[len] = '\0';
+                if (bg_units_parse_temp(buf, BG_UNIT_NONE, &bat[nbat++], &err) != BG_OK)
+                    return cli_usage_error("lut", "--budget-at: %s", err.msg);
+                if (!cm)
+                    break;
+                p = cm + 1;
+            }
+            break;
+        }
+        case O_FTOL:
+            if (bg_units_parse_fraction(optarg, &bo.fixed_tol, &err) != BG_OK)
+                return cli_usage_error("lut", "--fixed-tol: %s", err.msg);
+            break;
+        case O_EXC: case O_DISS:
+            v = strtod(optarg, &end);
+            if (c == O_DISS && strcmp(end, "mW/K") == 0)
+                end += 4;
+            if (*end || !(v > 0.0) || !isfinite(v))
+                return cli_usage_error("lut", "--%s: '%s': expected a number > 0",
+                                       c == O_EXC ? "excitation" : "dissipation", optarg);
+            if (c == O_EXC)
+                bo.excitation_v = v;
+            else
+                bo.dissipation_w_per_k = v * 1e-3; /* given in mW/K */
+            break;
         case ':': return cli_usage_error("lut", "option '%s' needs a value", argv[optind - 1]);
         default: return cli_usage_error("lut", "unknown option '%s'", argv[optind - 1]);
         }
@@ -188,7 +235,6 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         return cli_usage_error("lut", "%s", err.msg);
     if (fit_id || probe) {
         bg_store *st = NULL;
-        bg_fit_row fr;
         if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
             return rc;
         if (probe) {
@@ -204,6 +250,7 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         if (rc != BG_OK)
             return cli_fail("lut", &err);
         s.model = fr.model;
+        have_cov = fr.has_cov;
         cal_lo = fr.t_min_k, cal_hi = fr.t_max_k;
         if (!allow && (s.t_lo_k < cal_lo - 1e-9 || s.t_hi_k > cal_hi + 1e-9)) {
             cli_error("lut: the range %.3f .. %.3f degC is outside fit %lld's calibrated range "
@@ -254,6 +301,16 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         }
     }
 
+    /* the error budget: at --budget-at (default the ends and the middle of the range) */
+    bg_budget_row brow[16], bworst;
+    if (nbat == 0)
+        bat[0] = s.t_lo_k, bat[1] = 0.5 * (s.t_lo_k + s.t_hi_k), bat[2] = s.t_hi_k, nbat = 3;
+    bo.cov = have_cov ? fr.cov : NULL;
+    if ((rc = bg_lut_budget(&s, &t, &bo, bat, nbat, brow, &bworst, &err)) != BG_OK) {
+        bg_lut_release(&t);
+        return cli_fail("lut", &err);
+    }
+
     FILE *f = out_path ? fopen(out_path, "w") : stdout;
     if (!f) {
         cli_error("lut: cannot create '%s': %s", out_path, strerror(errno));
@@ -291,6 +348,24 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         for (size_t i = 0; i < t.n; i++)
             json_int(&j, NULL, t.y[i]);
         json_arr_end(&j);
+        json_arr(&j, "budget");
+        for (size_t i = 0; i <= nbat; i++) {
+            const bg_budget_row *b = i < nbat ? &brow[i] : &bworst;
+            json_obj(&j, NULL);
+            if (i < nbat)
+                json_num(&j, "t_k", b->t_k);
+            else
+                json_str(&j, "at", "worst over the range");
+            json_num(&j, "table_k", b->table_k);
+            json_num(&j, "adc_k", b->adc_k);
+            json_num(&j, "fit_U_k2_k", b->fit_k);
+            json_num(&j, "fixed_resistor_k", b->resistor_k);
+            json_num(&j, "self_heating_k", b->selfheat_k);
+            json_num(&j, "rss_k", b->rss_k);
+            json_num(&j, "sum_k", b->sum_k);
+            json_obj_end(&j);
+        }
+        json_arr_end(&j);
         json_obj_end(&j);
         json_end(&j);
     }
@@ -298,10 +373,28 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         rc = bg_error_set(&err, BG_EIO, "cannot write '%s'", out_path);
     if (rc != BG_OK)
         cli_fail("lut", &err);
-    else if (strcmp(format, "c") == 0 || out_path)
-        fprintf(stderr, "bandgap: lut: %zu entries every %lu codes, max error %.4f K, RMS "
-                "%.4f K (table and rounding only)\n", t.n, 1ul << t.shift, t.max_err_k,
-                t.rms_err_k);
+    else if (strcmp(format, "json") != 0 || out_path) {
+        /* the summary and budget: on standard output when the table went to a file */
+        FILE *b = out_path ? stdout : stderr;
+        fprintf(b, "%s%zu entries every %lu codes, max error %.4f K, RMS %.4f K (table and "
+                "rounding)\n", out_path ? "" : "bandgap: lut: ", t.n, 1ul << t.shift,
+                t.max_err_k, t.rms_err_k);
+        fprintf(b, "error budget (K): %10s %8s %8s %10s %10s %10s %8s %8s\n", "T/degC", "table",
+                "ADC", "fit U", "resistor", "self-heat", "RSS", "sum");
+        for (size_t i = 0; i <= nbat; i++) {
+            const bg_budget_row *r = i < nbat ? &brow[i] : &bworst;
+            char at[32];
+            if (i < nbat)
+                snprintf(at, sizeof at, "%10.3f", r->t_k - BG_ZERO_C_K);
+            else
+                snprintf(at, sizeof at, "%10s", "worst");
+            fprintf(b, "                  %s %8.4f %8.4f %10.4f %10.4f %10.4f %8.4f %8.4f\n", at,
+                    r->table_k, r->adc_k, r->fit_k, r->resistor_k, r->selfheat_k, r->rss_k,
+                    r->sum_k);
+        }
+        fprintf(b, "(the fit term needs a stored fit; resistor and self-heating need --fixed-tol,"
+                " --excitation and --dissipation)\n");
+    }
     bg_lut_release(&t);
     return rc;
 }

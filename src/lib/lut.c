@@ -328,6 +328,18 @@ int bg_lut_budget(const bg_lut_spec *s, const bg_lut *t, const bg_budget_opts *o
                 worst->sum_k = r.sum_k, worst->t_k = r.t_k;
             worst->rss_k = fmax(worst->rss_k, r.rss_k);
         }
+        /* the requested temperatures belong to the range too (they sit between codes) */
+        for (size_t k = 0; k < nat; k++) {
+            const bg_budget_row *r = &rows[k];
+            worst->table_k = fmax(worst->table_k, r->table_k);
+            worst->adc_k = fmax(worst->adc_k, r->adc_k);
+            worst->fit_k = fmax(worst->fit_k, r->fit_k);
+            worst->resistor_k = fmax(worst->resistor_k, r->resistor_k);
+            worst->selfheat_k = fmax(worst->selfheat_k, r->selfheat_k);
+            worst->rss_k = fmax(worst->rss_k, r->rss_k);
+            if (r->sum_k > worst->sum_k)
+                worst->sum_k = r->sum_k, worst->t_k = r->t_k;
+        }
     }
     return BG_OK;
 }
