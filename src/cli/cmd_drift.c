@@ -40,25 +40,6 @@ struct dopt {
     int csv, json;
 };
 
-static int parse_at(const char *s, struct dopt *o, bg_error *err)
-{
-    char buf[64];
-    o->nat = 0;
-    for (const char *p = s;;) {
-        const char *c = strchr(p, ',');
-        size_t len = c ? (size_t)(c - p) : strlen(p);
-        if (len == 0 || len >= sizeof buf || o->nat == MAXAT)
-            return bg_error_set(err, BG_EINVAL, "'%s': expected temperatures like 0C,25C,50C",
-                                s);
-        memcpy(buf, p, len);
-        buf[len] = '\0';
-        if (bg_units_parse_temp(buf, BG_UNIT_NONE, &o->at_k[o->nat++], err) != BG_OK)
-            return BG_EINVAL;
-        if (!c)
-            return BG_OK;
-        p = c + 1;
-    }
-}
 
 /* The temperature equivalent of an R25 tolerance at 25 degC: tol / |alpha(25 degC)|. */
 static double tol_limit_k(const bg_lot *lot)
@@ -720,7 +701,7 @@ int cmd_drift(int argc, char **argv, struct cli_ctx *ctx)
         case O_LOT: lot = optarg; break;
         case O_PART: part = optarg; break;
         case O_AT:
-            if (parse_at(optarg, &o, &err) != BG_OK)
+            if (cli_parse_temps(optarg, o.at_k, MAXAT, &o.nat, &err) != BG_OK)
                 return cli_usage_error("drift", "--at: %s", err.msg);
             break;
         case O_LIMIT: case O_RATE:

@@ -175,25 +175,10 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         case O_SYMBOL: symbol = optarg; break;
         case 'o': case O_OUT: out_path = optarg; break;
         case O_EXTRA: allow = 1; break;
-        case O_BAT: {
-            char buf[64];
-            nbat = 0;
-            for (const char *p = optarg;;) {
-                const char *cm = strchr(p, ',');
-                size_t len = cm ? (size_t)(cm - p) : strlen(p);
-                if (len == 0 || len >= sizeof buf || nbat == 16)
-                    return cli_usage_error("lut", "--budget-at: expected temperatures like "
-                                           "0C,25C,50C");
-                memcpy(buf, p, len);
-                buf[len] = '\0';
-                if (bg_units_parse_temp(buf, BG_UNIT_NONE, &bat[nbat++], &err) != BG_OK)
-                    return cli_usage_error("lut", "--budget-at: %s", err.msg);
-                if (!cm)
-                    break;
-                p = cm + 1;
-            }
+        case O_BAT:
+            if (cli_parse_temps(optarg, bat, 16, &nbat, &err) != BG_OK)
+                return cli_usage_error("lut", "--budget-at: %s", err.msg);
             break;
-        }
         case O_FTOL:
             if (bg_units_parse_fraction(optarg, &bo.fixed_tol, &err) != BG_OK)
                 return cli_usage_error("lut", "--fixed-tol: %s", err.msg);

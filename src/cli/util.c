@@ -80,6 +80,26 @@ int cli_parse_list(const char *s, double *v, size_t max, size_t *n, bg_error *er
     return BG_OK;
 }
 
+int cli_parse_temps(const char *s, double *t_k, size_t max, size_t *n, bg_error *err)
+{
+    char buf[64];
+    *n = 0;
+    for (const char *p = s;;) {
+        const char *c = strchr(p, ',');
+        size_t len = c ? (size_t)(c - p) : strlen(p);
+        if (len == 0 || len >= sizeof buf || *n == max)
+            return bg_error_set(err, BG_EINVAL, "'%s': expected at most %zu temperatures like "
+                                "0C,25C,50C", s, max);
+        memcpy(buf, p, len);
+        buf[len] = '\0';
+        if (bg_units_parse_temp(buf, BG_UNIT_NONE, &t_k[(*n)++], err) != BG_OK)
+            return BG_EINVAL;
+        if (!c)
+            return BG_OK;
+        p = c + 1;
+    }
+}
+
 /* ---- JSON ---- */
 
 static void put_string(FILE *f, const char *s)
