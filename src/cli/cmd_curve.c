@@ -21,14 +21,6 @@ static const char curve_usage[] =
 
 #define MAXROWS 10000
 
-struct fitpick { long long newest; };
-
-static int newest_cb(const bg_fit_row *f, void *ctx)
-{
-    ((struct fitpick *)ctx)->newest = f->id;
-    return 0;
-}
-
 int cmd_curve(int argc, char **argv, struct cli_ctx *ctx)
 {
     enum { O_FIT = 1, O_PROBE, O_FROM, O_TO, O_STEP, O_OHMS, O_UNIT, O_CSV, O_JSON };
@@ -126,14 +118,8 @@ int cmd_curve(int argc, char **argv, struct cli_ctx *ctx)
         bg_store *st = NULL;
         if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
             return rc;
-        if (probe) {
-            struct fitpick fp = { 0 };
-            rc = bg_store_fit_each(st, probe, NULL, newest_cb, &fp, &err);
-            if (rc == BG_OK && !fp.newest)
-                rc = bg_error_set(&err, BG_EINVAL, "probe '%s' has no stored fit (bandgap fit "
-                                  "--probe %s)", probe, probe);
-            fit_id = fp.newest;
-        }
+        if (probe)
+            rc = cli_newest_fit(st, probe, &fit_id, &err);
         if (rc == BG_OK)
             rc = bg_store_fit_get(st, fit_id, &fr, &err);
         bg_store_close(st);

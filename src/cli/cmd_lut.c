@@ -45,13 +45,6 @@ static int parse_range(const char *s, double *lo, double *hi, bg_error *err)
     return *hi > *lo ? BG_OK : bg_error_set(err, BG_EINVAL, "'%s': T2 must be above T1", s);
 }
 
-struct newest { long long id; };
-static int newest_fit(const bg_fit_row *f, void *ctx)
-{
-    ((struct newest *)ctx)->id = f->id;
-    return 0;
-}
-
 int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
 {
     enum { O_FIT = 1, O_PROBE, O_FIXED, O_SIDE, O_PAR, O_SER, O_BITS, O_FS, O_CUR, O_VREF,
@@ -222,13 +215,8 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         bg_store *st = NULL;
         if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
             return rc;
-        if (probe) {
-            struct newest nw = { 0 };
-            rc = bg_store_fit_each(st, probe, NULL, newest_fit, &nw, &err);
-            if (rc == BG_OK && !nw.id)
-                rc = bg_error_set(&err, BG_EINVAL, "probe '%s' has no stored fit", probe);
-            fit_id = nw.id;
-        }
+        if (probe)
+            rc = cli_newest_fit(st, probe, &fit_id, &err);
         if (rc == BG_OK)
             rc = bg_store_fit_get(st, fit_id, &fr, &err);
         bg_store_close(st);

@@ -80,6 +80,23 @@ int cli_parse_list(const char *s, double *v, size_t max, size_t *n, bg_error *er
     return BG_OK;
 }
 
+static int newest_fit_cb(const bg_fit_row *f, void *ctx)
+{
+    *(long long *)ctx = f->id;
+    return 0;
+}
+
+int cli_newest_fit(bg_store *st, const char *serial, long long *fit_id, bg_error *err)
+{
+    long long id = 0;
+    int rc = bg_store_fit_each(st, serial, NULL, newest_fit_cb, &id, err);
+    if (rc == BG_OK && !id)
+        rc = bg_error_set(err, BG_EINVAL, "probe '%s' has no stored fit (bandgap fit --probe "
+                          "%s)", serial, serial);
+    *fit_id = id;
+    return rc;
+}
+
 int cli_parse_temps(const char *s, double *t_k, size_t max, size_t *n, bg_error *err)
 {
     char buf[64];
