@@ -1,10 +1,12 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* Uniform firmware tables: breakpoint values against the divider law and the beta equation
-** computed here, and the emitted C compiled with the system compiler (-std=c99 -pedantic
-** -Werror), run over every code, against bg_lut_eval and the reported error. */
+/* Firmware tables: breakpoint values against the divider law and the beta equation computed
+** here; the emitted C of every strategy and value format compiled with the system compiler
+** (-std=c99 -pedantic -Werror), run over every code, against bg_lut_eval and the reported
+** error; the segment count against an exhaustive search on small ranges. */
 #include <unistd.h>
 
 #include "testutil.h"
+#include "../src/lib/lut_int.h"
 
 static bg_lut_spec spec_10k(unsigned shift, bg_lut_format fmt)
 {
@@ -67,60 +69,286 @@ static void breakpoints_and_error(void **state)
     bg_lut_release(&t2);
 }
 
+/* Compile the emitted C of 't', run it over every code of the range and two beyond each end,
+** and check every output against the library and the reported max and RMS error against the
+** outputs and the independent temperatures. */
+static void compile_and_compare(const bg_lut *t, const bg_lut_spec *s)
+{
+    char dir[] = "/tmp/bandgap-lut-XXXXXX", path[256], cmd[1024];
+    int flt = t->format == BG_LUT_FLOAT;
+    assert_non_null(mkdtemp(dir));
+    snprintf(path, sizeof path, "%s/ntc.c", dir);
+    FILE *f = fopen(path, "w");
+    assert_non_null(f);
+    assert_int_equal(bg_lut_emit_c(t, s, "ntc", "test", f, NULL), BG_OK);
+    fclose(f);
+    snprintf(path, sizeof path, "%s/main.c", dir);
+    f = fopen(path, "w");
+    assert_non_null(f);
+    if (flt)
+        fprintf(f, "#include <stdio.h>\n#include <stdint.h>\nfloat ntc_lookup(uint32_t code);\n"
+                   "int main(void) { long c; for (c = %ld; c <= %ld; c++) printf(\"%%.9g\\n\", "
+                   "(double)ntc_lookup((uint32_t)c)); return 0; }\n", t->code_lo - 2,
+                t->code_hi + 2);
+    else
+        fprintf(f, "#include <stdio.h>\n#include <stdint.h>\nint32_t ntc_lookup(uint32_t code);"
+                   "\nint main(void) { long c; for (c = %ld; c <= %ld; c++) printf(\"%%ld\\n\", "
+                   "(long)ntc_lookup((uint32_t)c)); return 0; }\n", t->code_lo - 2,
+                t->code_hi + 2);
+    fclose(f);
+    snprintf(cmd, sizeof cmd, "cc -std=c99 -Wall -Wextra -pedantic -Werror -Wconversion "
+             "-ffp-contract=off -O2 %s/ntc.c %s/main.c -o %s/run && %s/run > %s/out.txt", dir,
+             dir, dir, dir, dir);
+    assert_int_equal(system(cmd), 0);
+    snprintf(path, sizeof path, "%s/out.txt", dir);
+    f = fopen(path, "r");
+    assert_non_null(f);
+    double mx = 0.0, ss = 0.0, scale = t->counts_per_k;
+    for (long c = t->code_lo - 2; c <= t->code_hi + 2; c++) {
+        double v;
+        int st;
+        assert_int_equal(fscanf(f, "%lf", &v), 1);
+        if (flt) {
+            float want = bg_lut_eval_float(t, c, &st);
+            assert_true((float)v == want);
+            v = (double)want; /* the float itself, not its 9-digit decimal */
+            if (st != BG_LUT_OK) {
+                assert_true(st == BG_LUT_BELOW ? v < -3e38 : v > 3e38);
+                continue;
+            }
+        } else {
+            int32_t want = bg_lut_eval(t, c, &st);
+            if (st == BG_LUT_BELOW) {
+                assert_true(v == -2147483648.0);
+                continue;
+            }
+            if (st == BG_LUT_ABOVE) {
+                assert_true(v == 2147483647.0);
+                continue;
+            }
+            assert_true(v == (double)want);
+            v /= scale;
+        }
+        double e = v + (s->kelvin ? 0.0 : 273.15) - t_indep((double)c);
+        mx = fmax(mx, fabs(e)), ss += e * e;
+    }
+    fclose(f);
+    /* the reported figures are the compiled code's, to the last digit printed */
+    assert_close(t->max_err_k, mx, 1e-9, 1e-12);
+    assert_close(t->rms_err_k, sqrt(ss / (double)(t->code_hi - t->code_lo + 1)), 1e-9, 1e-12);
+    snprintf(cmd, sizeof cmd, "rm -rf '%s'", dir);
+    assert_int_equal(system(cmd), 0);
+}
+
 static void emitted_c_agrees(void **state)
 {
     (void)state;
     static const bg_lut_format fmts[3] = { BG_LUT_DECI, BG_LUT_CENTI, BG_LUT_MILLI };
     static const unsigned shifts[3] = { 5, 3, 0 };
-    char dir[] = "/tmp/bandgap-lut-XXXXXX", path[256], cmd[1024];
-    assert_non_null(mkdtemp(dir));
     for (int k = 0; k < 3; k++) {
         bg_lut_spec s = spec_10k(shifts[k], fmts[k]);
         bg_lut t = BG_LUT_INIT;
         s.kelvin = k == 2;
         assert_int_equal(bg_lut_build(&s, &t, NULL), BG_OK);
-        snprintf(path, sizeof path, "%s/ntc.c", dir);
-        FILE *f = fopen(path, "w");
-        assert_non_null(f);
-        assert_int_equal(bg_lut_emit_c(&t, &s, "ntc", "test", f, NULL), BG_OK);
-        fclose(f);
-        snprintf(path, sizeof path, "%s/main.c", dir);
-        f = fopen(path, "w");
-        fprintf(f, "#include <stdio.h>\n#include <stdint.h>\nint32_t ntc_lookup(uint32_t code);\n"
-                   "int main(void) { long c; for (c = %ld; c <= %ld; c++) printf(\"%%ld\\n\", "
-                   "(long)ntc_lookup((uint32_t)c)); return 0; }\n", t.code_lo - 2, t.code_hi + 2);
-        fclose(f);
-        snprintf(cmd, sizeof cmd, "cc -std=c99 -Wall -Wextra -pedantic -Werror -Wconversion "
-                 "-O2 %s/ntc.c %s/main.c -o %s/run && %s/run > %s/out.txt", dir, dir, dir, dir,
-                 dir);
-        assert_int_equal(system(cmd), 0);
-        snprintf(path, sizeof path, "%s/out.txt", dir);
-        f = fopen(path, "r");
-        assert_non_null(f);
-        double mx = 0.0, ss = 0.0, scale = k == 0 ? 10.0 : k == 1 ? 100.0 : 1000.0;
-        for (long c = t.code_lo - 2; c <= t.code_hi + 2; c++) {
-            long v;
-            int st;
-            assert_int_equal(fscanf(f, "%ld", &v), 1);
-            int32_t want = bg_lut_eval(&t, c, &st);
-            if (st == BG_LUT_BELOW)
-                assert_true(v == -2147483647L - 1);
-            else if (st == BG_LUT_ABOVE)
-                assert_true(v == 2147483647L);
-            else {
-                assert_true(v == (long)want);
-                double e = (double)v / scale + (s.kelvin ? 0.0 : 273.15) - t_indep((double)c);
-                mx = fmax(mx, fabs(e)), ss += e * e;
-            }
-        }
-        fclose(f);
-        /* the reported figures are the compiled code's, to the last digit printed */
-        assert_close(t.max_err_k, mx, 1e-9, 0);
-        assert_close(t.rms_err_k, sqrt(ss / (double)(t.code_hi - t.code_lo + 1)), 1e-9, 0);
+        compile_and_compare(&t, &s);
         bg_lut_release(&t);
     }
-    snprintf(cmd, sizeof cmd, "rm -rf '%s'", dir);
-    assert_int_equal(system(cmd), 0);
+}
+
+/* Every strategy in every value format: the compiled C agrees with the library, the bound
+** holds, and the segment tables are never longer than the on-curve minimum. */
+static void strategies_and_formats(void **state)
+{
+    (void)state;
+    static const bg_lut_strategy strat[3] = { BG_LUT_UNIFORM, BG_LUT_MINIMAL, BG_LUT_INDEXED };
+    static const bg_lut_format fmts[5] = { BG_LUT_DECI, BG_LUT_CENTI, BG_LUT_MILLI, BG_LUT_Q,
+                                           BG_LUT_FLOAT };
+    static const double bound[5] = { 0.1, 0.05, 0.02, 0.03, 0.02 };
+    for (int i = 0; i < 3; i++)
+        for (int k = 0; k < 5; k++) {
+            bg_lut_spec s = spec_10k(0, fmts[k]);
+            bg_lut t = BG_LUT_INIT;
+            bg_error err = BG_ERROR_INIT;
+            s.strategy = strat[i], s.max_err_k = bound[k], s.qbits = 8;
+            s.kelvin = k == 3, s.frac_bits = -1, s.oncurve_min = 1;
+            if (k == 4)
+                s.circuit.kind = BG_CIRCUIT_DIVIDER_LOW; /* float on the same divider */
+            int rc = bg_lut_build(&s, &t, &err);
+            if (rc != BG_OK)
+                print_error("strategy %d format %d: %s\n", i, k, err.msg);
+            assert_int_equal(rc, BG_OK);
+            assert_true(t.max_err_k <= bound[k]);
+            if (strat[i] != BG_LUT_UNIFORM && fmts[k] != BG_LUT_FLOAT) {
+                assert_true(t.oncurve_min > 0);
+                assert_true(t.n <= t.oncurve_min);
+            }
+            compile_and_compare(&t, &s);
+            bg_lut_release(&t);
+        }
+}
+
+/* ---- exhaustive checks of the segment search on small ranges ---- */
+
+/* Bands computed here: the outputs within 'e' of the beta curve at each code of an 8-bit
+** divider (10k on 10k), in 'cpk' counts per K. */
+static void test_bands(long lo, long n, double cpk, double e, bgi_band *b)
+{
+    for (long c = 0; c < n; c++) {
+        double x = (double)(lo + c) / 256.0, r = 10000.0 * x / (1.0 - x);
+        double t = 1.0 / (1.0 / 298.15 + log(r / 10000.0) / 3950.0) - 273.15;
+        b[c].lo = (long long)ceil(cpk * (t - e));
+        b[c].hi = (long long)floor(cpk * (t + e));
+    }
+}
+
+/* Brute force: is there a line (Y, m) at 'frac' bits over codes s .. e?  Every slope from -M to
+** M, and for each the interval of starts, code by code. */
+static int brute_feasible(const bgi_band *b, long s, long e, unsigned frac, long long yoff,
+                          long long M)
+{
+    long long one = 1LL << frac;
+    for (long long m = -M; m <= M; m++) {
+        long long g = -(1LL << 62), h = 1LL << 62;
+        for (long c = s; c <= e; c++) {
+            long long lo = (b[c].lo - yoff) * one - m * (c - s);
+            long long hi = (b[c].hi - yoff + 1) * one - 1 - m * (c - s);
+            g = lo > g ? lo : g;
+            h = hi < h ? hi : h;
+        }
+        if (g <= h)
+            return 1;
+    }
+    return 0;
+}
+
+static void segments_are_minimal(void **state)
+{
+    (void)state;
+    /* small ranges on an 8-bit ADC around the curve's ends and middle; bounds that need a few
+    ** segments; 2 and 3 fractional bits so that the brute force stays small */
+    static const struct { long lo, n; double cpk, e; unsigned frac; } cases[] = {
+        { 20, 40, 10.0, 0.21, 2 }, { 200, 40, 10.0, 0.17, 3 }, { 100, 60, 10.0, 0.06, 2 },
+        { 225, 25, 100.0, 0.23, 1 }, { 60, 48, 10.0, 0.12, 3 },
+    };
+    for (size_t k = 0; k < sizeof cases / sizeof cases[0]; k++) {
+        long n = cases[k].n;
+        bgi_band b[64];
+        test_bands(cases[k].lo, n, cases[k].cpk, cases[k].e, b);
+        bg_lut t = BG_LUT_INIT;
+        t.code_lo = cases[k].lo, t.code_hi = cases[k].lo + n - 1;
+        assert_int_equal(bgi_lut_segments(&t, b, (int)cases[k].frac, NULL), BG_OK);
+        long long yoff = t.yoff, top = 0, M;
+        for (long c = 0; c < n; c++)
+            top = b[c].hi > top ? b[c].hi : top;
+        M = (top - yoff + 2) << cases[k].frac;
+        /* the exact test agrees with the brute force on every sub-range */
+        int feas[64][64];
+        for (long s = 0; s < n; s++)
+            for (long e = s; e < n; e++) {
+                long long y, m;
+                feas[s][e] = brute_feasible(b, s, e, cases[k].frac, yoff, M);
+                assert_int_equal(bgi_lut_feasible(b, s, e, cases[k].frac, yoff, &y, &m),
+                                 feas[s][e]);
+            }
+        /* the fewest segments over all segmentations (dynamic programming on the brute
+        ** force), against the greedy count */
+        int best[65];
+        best[0] = 0;
+        for (long e = 0; e < n; e++) {
+            best[e + 1] = 1 << 20;
+            for (long s = 0; s <= e; s++)
+                if (feas[s][e] && best[s] + 1 < best[e + 1])
+                    best[e + 1] = best[s] + 1;
+        }
+        assert_true(best[n] >= 3); /* the case is not trivial */
+        assert_int_equal((int)t.n, best[n]);
+        /* the segments' outputs lie in the bands */
+        t.strategy = BG_LUT_MINIMAL;
+        for (long c = 0; c < n; c++) {
+            int st;
+            int32_t v = bg_lut_eval(&t, t.code_lo + c, &st);
+            assert_true(v >= b[c].lo && v <= b[c].hi);
+        }
+        bg_lut_release(&t);
+    }
+}
+
+/* Brute force for values on the curve: every subset of breakpoints. */
+static void oncurve_minimum_exhaustive(void **state)
+{
+    (void)state;
+    static const struct { long lo, n; double e; } cases[] = {
+        { 30, 18, 0.15 }, { 120, 18, 0.009 }, { 215, 16, 0.3 }, { 60, 17, 0.08 },
+    };
+    for (size_t k = 0; k < sizeof cases / sizeof cases[0]; k++) {
+        long n = cases[k].n;
+        bgi_band b[32];
+        long long on[32];
+        test_bands(cases[k].lo, n, 100.0, cases[k].e, b);
+        for (long c = 0; c < n; c++) {
+            double x = (double)(cases[k].lo + c) / 256.0, r = 10000.0 * x / (1.0 - x);
+            on[c] = llround(100.0 * (1.0 / (1.0 / 298.15 + log(r / 10000.0) / 3950.0) - 273.15));
+        }
+        int fewest = 1 << 20;
+        for (unsigned long mask = 0; mask < (1ul << (n - 2)); mask++) {
+            /* breakpoints: the ends and the codes whose bit is set */
+            int cnt = 2, ok = 1;
+            long prev = 0;
+            for (long c = 1; c < n && ok; c++) {
+                if (c < n - 1 && !(mask >> (c - 1) & 1))
+                    continue;
+                for (long d = prev + 1; d < c; d++) {
+                    long long num = (on[c] - on[prev]) * (d - prev), den = c - prev;
+                    long long q = num >= 0 ? (num + den / 2) / den : -((-num + den / 2) / den);
+                    long long o = on[prev] + q;
+                    if (o < b[d].lo || o > b[d].hi)
+                        ok = 0;
+                }
+                if (c < n - 1)
+                    cnt++;
+                prev = c;
+            }
+            if (ok && cnt < fewest)
+                fewest = cnt;
+        }
+        if (fewest < 3)
+            print_error("case %zu: %d\n", k, fewest);
+        assert_true(fewest >= 3);
+        assert_int_equal((int)bgi_lut_oncurve_min(on, b, (size_t)n), fewest);
+    }
+}
+
+/* The index: each bucket changes segment at most once, so one comparison finds it; checked
+** here code by code against a plain search. */
+static void index_is_exact(void **state)
+{
+    (void)state;
+    bg_lut_spec s = spec_10k(0, BG_LUT_CENTI);
+    bg_lut t = BG_LUT_INIT;
+    s.strategy = BG_LUT_INDEXED, s.max_err_k = 0.02, s.frac_bits = -1;
+    assert_int_equal(bg_lut_build(&s, &t, NULL), BG_OK);
+    assert_true(t.nidx < (size_t)(t.code_hi - t.code_lo + 1));
+    for (long c = t.code_lo; c <= t.code_hi; c++) {
+        size_t seg = 0;
+        while (t.sx[seg + 1] <= c)
+            seg++;
+        size_t i = t.idx[(c - t.code_lo) >> t.ishift];
+        assert_true(seg == i || seg == i + 1);
+    }
+    /* a coarser index would break that rule somewhere (the shift is the largest) */
+    if (t.ishift < 24) {
+        unsigned k = t.ishift + 1;
+        int broken = 0;
+        for (long b0 = 0; b0 <= t.code_hi - t.code_lo && !broken; b0 += 1L << k) {
+            long last = b0 + (1L << k) - 1, changes = 0;
+            for (size_t j = 1; j < t.n; j++)
+                if (t.sx[j] - t.code_lo > b0 && t.sx[j] - t.code_lo <= last)
+                    changes++;
+            broken = changes > 1;
+        }
+        assert_true(broken);
+    }
+    bg_lut_release(&t);
 }
 
 static void bad_requests(void **state)
@@ -191,6 +419,10 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(breakpoints_and_error),
         cmocka_unit_test(emitted_c_agrees),
+        cmocka_unit_test(strategies_and_formats),
+        cmocka_unit_test(segments_are_minimal),
+        cmocka_unit_test(oncurve_minimum_exhaustive),
+        cmocka_unit_test(index_is_exact),
         cmocka_unit_test(bad_requests),
         cmocka_unit_test(budget_by_hand),
     };

@@ -1,7 +1,14 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* Firmware lookup tables: ADC code -> temperature as scaled integers, interpolated linearly
-** between breakpoints every 2^shift codes.  bg_lut_eval performs exactly the integer
-** arithmetic of the emitted C, and the reported error is measured with it over every code. */
+/* Firmware lookup tables: ADC code -> temperature.  Three strategies:
+**  - uniform: values on the curve every 2^shift codes, linear interpolation by a shift;
+**  - minimal: the fewest straight segments that keep every code within a bound; each segment
+**    is a start code, a start value and a slope in fixed point, found by a binary search;
+**  - indexed: the same segments with a small index on the top bits of the code, so that
+**    lookup is one table read and one comparison (O(1), no search).
+** Segment values need not lie on the curve (each segment is the line that best spreads the
+** error), and the segmentation is the exact minimum for the bound: see lut_seg.c.
+** bg_lut_eval / bg_lut_eval_float perform exactly the arithmetic of the emitted C, and the
+** reported error is measured with them over every code of the range. */
 #ifndef BANDGAP_LUT_H
 #define BANDGAP_LUT_H
 
@@ -15,45 +22,90 @@
 typedef enum bg_lut_format {
     BG_LUT_DECI = 0, /* 0.1 degree per count */
     BG_LUT_CENTI,    /* 0.01 */
-    BG_LUT_MILLI     /* 0.001 */
+    BG_LUT_MILLI,    /* 0.001 */
+    BG_LUT_Q,        /* fixed point with 'qbits' fractional bits: 2^-qbits degree per count */
+    BG_LUT_FLOAT     /* IEEE single precision */
 } bg_lut_format;
+
+typedef enum bg_lut_strategy {
+    BG_LUT_UNIFORM = 0,
+    BG_LUT_MINIMAL,
+    BG_LUT_INDEXED
+} bg_lut_strategy;
 
 typedef struct bg_lut_spec {
     bg_circuit circuit;
     bg_model model;
     double t_lo_k, t_hi_k;   /* temperature range the table must cover */
-    unsigned shift;          /* breakpoints every 2^shift codes (0 .. 12) */
+    bg_lut_strategy strategy;
+    unsigned shift;          /* uniform: breakpoints every 2^shift codes (0 .. 12) */
+    double max_err_k;        /* minimal, indexed: the bound on |table - model| at every code */
     bg_lut_format format;
+    unsigned qbits;          /* BG_LUT_Q: fractional bits, 1 .. 16 */
     int kelvin;              /* values in kelvin instead of degC */
+    int frac_bits;           /* segments: fixed-point bits of start and slope; -1 = automatic */
+    int oncurve_min;         /* also count the fewest entries with values on the curve */
 } bg_lut_spec;
 
 enum { BG_LUT_OK = 0, BG_LUT_BELOW = 1, BG_LUT_ABOVE = 2 }; /* eval status: code out of range */
 
 typedef struct bg_lut {
+    bg_lut_strategy strategy;
+    bg_lut_format format;
     long code_lo, code_hi;   /* every code in [code_lo, code_hi] is inside the range */
+    size_t n;                /* entries: uniform breakpoints, or segments */
+    /* uniform: breakpoints at code_lo + i 2^shift */
     unsigned shift;
-    size_t n;                /* breakpoints at code_lo + i 2^shift, i = 0 .. n-1 */
-    int32_t *y;              /* values in counts */
+    int32_t *y;              /* values in counts (integer formats) */
+    float *yf;               /* values (BG_LUT_FLOAT) */
     int wide;                /* 1: values need int32_t; 0: they fit int16_t */
+    /* minimal, indexed: segment i covers codes sx[i] .. sx[i+1]-1 (sx[n] = code_hi + 1) and
+    ** gives yoff + ((sy[i] + sm[i] (code - sx[i])) >> frac), the sum always in 0 .. 2^30;
+    ** floats: syf[i] + smf[i] (float)(code - sx[i]) */
+    long *sx;
+    int32_t *sy, *sm;
+    float *syf, *smf;
+    unsigned frac;
+    int32_t yoff;
+    /* indexed: idx[(code - code_lo) >> ishift] is the segment of the bucket's first code */
+    uint16_t *idx;
+    size_t nidx;
+    unsigned ishift;
+    size_t oncurve_min;      /* the fewest entries with values on the curve (0: not counted) */
+    size_t bytes;            /* flash for the tables (values, starts, slopes, index) */
     double counts_per_k, offset_k; /* value = counts_per_k (T - offset_k) */
     double max_err_k, rms_err_k;   /* over every code of the range, against the model */
     long worst_code;
 } bg_lut;
 
-#define BG_LUT_INIT { 0, 0, 0, 0, NULL, 0, 0, 0, 0, 0, 0 }
+#define BG_LUT_INIT { 0 }
 BG_API void bg_lut_release(bg_lut *t);
 
-/* Build the uniform table of 'spec' and measure its error.  BG_EINVAL when the range is not
-** inside the circuit's codes, a breakpoint falls on the ADC's rails, or the values overflow
-** 32 bits.  Release with bg_lut_release(). */
+/* Build the table of 'spec' and measure its error.  BG_EINVAL when the range is not inside
+** the circuit's codes, a breakpoint falls on the ADC's rails, the values overflow 32 bits, or
+** the bound is below the output's rounding.  Release with bg_lut_release(). */
 BG_API int bg_lut_build(const bg_lut_spec *spec, bg_lut *out, bg_error *err);
 
-/* The value the emitted lookup function returns for 'code' (counts), with '*status' BG_LUT_OK,
-** or BG_LUT_BELOW / BG_LUT_ABOVE for codes outside [code_lo, code_hi]. */
+/* The value the emitted lookup function returns for 'code' (counts; integer formats), with
+** '*status' BG_LUT_OK, or BG_LUT_BELOW / BG_LUT_ABOVE for codes outside [code_lo, code_hi]. */
 BG_API int32_t bg_lut_eval(const bg_lut *t, long code, int *status);
 
+/* The same for BG_LUT_FLOAT tables: the float the emitted function returns. */
+BG_API float bg_lut_eval_float(const bg_lut *t, long code, int *status);
+
+/* The value at 'code' in degrees (degC, or K with 'kelvin'), any format. */
+BG_API double bg_lut_value(const bg_lut *t, long code, int *status);
+
+/* The smallest table (in bytes) that meets 'spec->max_err_k': tries every strategy and
+** stores the others' sizes in 'bytes[3]' (indexed by bg_lut_strategy; 0 when one cannot be
+** built).  Ties go to uniform, then indexed. */
+BG_API int bg_lut_build_smallest(const bg_lut_spec *spec, bg_lut *out, size_t bytes[3],
+                                 bg_error *err);
+
+BG_API const char *bg_lut_strategy_name(bg_lut_strategy s);
+
 /* Write the table as C99 source for 'symbol' (a C identifier prefix).  BG_EIO on a write
-** error, BG_EINVAL for a bad symbol. */
+** error, BG_EINVAL for a bad symbol.  (lut_emit.c) */
 BG_API int bg_lut_emit_c(const bg_lut *t, const bg_lut_spec *spec, const char *symbol,
                          const char *version, FILE *f, bg_error *err);
 

@@ -1,27 +1,47 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* Uniform firmware tables.  Breakpoints every 2^shift codes from the first code of the range;
-** values on the curve, rounded half away from zero; lookup y = y0 + round(d f / 2^shift) with
-** the product in 32 bits and shifts only of non-negative numbers (C99 6.5.7: right shifts of
-** negative values are implementation-defined), so the arithmetic is the same on any
-** conforming compiler, 16-bit int included. */
+/* Building tables and reading them as the firmware does.  Uniform tables: values on the
+** curve every 2^shift codes, rounded half away from zero; lookup y = y0 + round(d f / 2^shift)
+** with the product in 32 bits and shifts only of non-negative numbers (C99 6.5.7: right shifts
+** of negative values are implementation-defined), so the arithmetic is the same on any
+** conforming compiler, 16-bit int included.  Segment tables: lut_seg.c.  Float tables use
+** single-precision operations one at a time, as the emitted C does (no contraction). */
+#include <float.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include "bandgap/lut.h"
 #include "bandgap/units.h"
+#include "lut_int.h"
 
 void bg_lut_release(bg_lut *t)
 {
     if (!t)
         return;
     free(t->y);
+    free(t->yf);
+    free(t->sx);
+    free(t->sy);
+    free(t->sm);
+    free(t->syf);
+    free(t->smf);
+    free(t->idx);
     memset(t, 0, sizeof *t);
 }
 
-static double counts_per_k(bg_lut_format f)
+const char *bg_lut_strategy_name(bg_lut_strategy s)
 {
-    return f == BG_LUT_DECI ? 10.0 : f == BG_LUT_CENTI ? 100.0 : 1000.0;
+    return s == BG_LUT_UNIFORM ? "uniform" : s == BG_LUT_MINIMAL ? "minimal" : "indexed";
+}
+
+static double counts_per_k(const bg_lut_spec *s)
+{
+    switch (s->format) {
+    case BG_LUT_DECI: return 10.0;
+    case BG_LUT_CENTI: return 100.0;
+    case BG_LUT_MILLI: return 1000.0;
+    case BG_LUT_Q: return ldexp(1.0, (int)s->qbits);
+    default: return 1.0;
+    }
 }
 
 /* Exact temperature at a code, through the circuit and the model. */
@@ -30,6 +50,41 @@ static int t_at(const bg_lut_spec *s, double code, double *t_k, bg_error *err)
     double r;
     int rc = bg_circuit_ohms_of(&s->circuit, code, &r, err);
     return rc == BG_OK ? bg_model_t_from_r(&s->model, r, t_k, err) : rc;
+}
+
+static int32_t uniform_eval(const bg_lut *t, uint32_t off)
+{
+    uint32_t i = off >> t->shift, f = off & ((1u << t->shift) - 1u);
+    int32_t y0 = t->y[i];
+    if (f == 0)
+        return y0;
+    int32_t d = t->y[i + 1] - y0;
+    int32_t p = d * (int32_t)f;
+    int32_t half = t->shift ? (int32_t)(1u << (t->shift - 1)) : 0;
+    int32_t q = p >= 0 ? (int32_t)(((uint32_t)p + (uint32_t)half) >> t->shift)
+                       : -(int32_t)(((uint32_t)(-p) + (uint32_t)half) >> t->shift);
+    return y0 + q;
+}
+
+/* The segment of a code: through the index and one comparison, or a binary search. */
+static size_t segment_of(const bg_lut *t, long code)
+{
+    size_t i;
+    if (t->strategy == BG_LUT_INDEXED) {
+        i = t->idx[(uint32_t)(code - t->code_lo) >> t->ishift];
+        if (code >= t->sx[i + 1])
+            i++;
+        return i;
+    }
+    size_t lo = 0, hi = t->n - 1;
+    while (lo < hi) {
+        size_t mid = (lo + hi + 1) / 2;
+        if (t->sx[mid] <= code)
+            lo = mid;
+        else
+            hi = mid - 1;
+    }
+    return lo;
 }
 
 int32_t bg_lut_eval(const bg_lut *t, long code, int *status)
@@ -43,27 +98,206 @@ int32_t bg_lut_eval(const bg_lut *t, long code, int *status)
         return 0;
     }
     *status = BG_LUT_OK;
-    uint32_t off = (uint32_t)(code - t->code_lo);
-    uint32_t i = off >> t->shift, f = off & ((1u << t->shift) - 1u);
-    int32_t y0 = t->y[i];
-    if (f == 0)
-        return y0;
-    int32_t d = t->y[i + 1] - y0;
-    int32_t p = d * (int32_t)f;
-    int32_t half = t->shift ? (int32_t)(1u << (t->shift - 1)) : 0;
-    int32_t q = p >= 0 ? (int32_t)(((uint32_t)p + (uint32_t)half) >> t->shift)
-                       : -(int32_t)(((uint32_t)(-p) + (uint32_t)half) >> t->shift);
-    return y0 + q;
+    if (t->strategy == BG_LUT_UNIFORM)
+        return uniform_eval(t, (uint32_t)(code - t->code_lo));
+    size_t i = segment_of(t, code);
+    int32_t v = t->sy[i] + t->sm[i] * (int32_t)(code - t->sx[i]);
+    return t->yoff + (int32_t)((uint32_t)v >> t->frac);
+}
+
+float bg_lut_eval_float(const bg_lut *t, long code, int *status)
+{
+    volatile float y0, d, w, p; /* one rounding per operation, as in the emitted C */
+    if (code < t->code_lo) {
+        *status = BG_LUT_BELOW;
+        return -FLT_MAX;
+    }
+    if (code > t->code_hi) {
+        *status = BG_LUT_ABOVE;
+        return FLT_MAX;
+    }
+    *status = BG_LUT_OK;
+    if (t->strategy == BG_LUT_UNIFORM) {
+        uint32_t off = (uint32_t)(code - t->code_lo);
+        uint32_t i = off >> t->shift, f = off & ((1u << t->shift) - 1u);
+        y0 = t->yf[i];
+        if (f == 0)
+            return y0;
+        d = t->yf[i + 1] - y0;
+        w = (float)f / (float)(1u << t->shift);
+        p = d * w;
+        return y0 + p;
+    }
+    size_t i = segment_of(t, code);
+    w = (float)(code - t->sx[i]);
+    p = t->smf[i] * w;
+    return t->syf[i] + p;
+}
+
+double bg_lut_value(const bg_lut *t, long code, int *status)
+{
+    if (t->format == BG_LUT_FLOAT)
+        return (double)bg_lut_eval_float(t, code, status);
+    return (double)bg_lut_eval(t, code, status) / t->counts_per_k;
+}
+
+/* The error of the table at every code against the exact temperatures 'tk'. */
+static void measure(bg_lut *t, const double *tk)
+{
+    double ss = 0.0;
+    t->max_err_k = 0.0, t->worst_code = t->code_lo;
+    for (long code = t->code_lo; code <= t->code_hi; code++) {
+        int st;
+        double e = bg_lut_value(t, code, &st) + t->offset_k - tk[code - t->code_lo];
+        ss += e * e;
+        if (fabs(e) > t->max_err_k)
+            t->max_err_k = fabs(e), t->worst_code = code;
+    }
+    t->rms_err_k = sqrt(ss / (double)(t->code_hi - t->code_lo + 1));
+}
+
+static int build_uniform(const bg_lut_spec *s, unsigned shift, const double *tk, bg_lut *out,
+                         bg_error *err)
+{
+    double fs = bg_circuit_full_scale(&s->circuit);
+    int rc;
+    out->shift = shift;
+    unsigned long span = (unsigned long)(out->code_hi - out->code_lo);
+    out->n = (size_t)(span >> shift) + 1 + ((span & ((1ul << shift) - 1)) ? 1 : 0);
+    if (s->format == BG_LUT_FLOAT)
+        out->yf = malloc(out->n * sizeof *out->yf);
+    else
+        out->y = malloc(out->n * sizeof *out->y);
+    if (!out->y && !out->yf)
+        return bg_error_set(err, BG_ENOMEM, "out of memory for %zu entries", out->n);
+    out->wide = 0;
+    for (size_t i = 0; i < out->n; i++) {
+        long code = out->code_lo + (long)(i << shift);
+        double t;
+        if (fs > 0.0 && (double)code > fs - 1.0)
+            return bg_error_set(err, BG_EINVAL, "the last breakpoint (code %ld) falls beyond "
+                                "the ADC's codes: use a smaller step", code);
+        if (code <= out->code_hi)
+            t = tk[code - out->code_lo];
+        else if ((rc = t_at(s, (double)code, &t, err)) != BG_OK)
+            return rc;
+        if (s->format == BG_LUT_FLOAT) {
+            out->yf[i] = (float)(t - out->offset_k);
+            continue;
+        }
+        double v = round(out->counts_per_k * (t - out->offset_k));
+        if (!(fabs(v) < 2147483647.0))
+            return bg_error_set(err, BG_EINVAL, "a value overflows 32 bits");
+        out->y[i] = (int32_t)v;
+        if (v < -32768.0 || v > 32767.0)
+            out->wide = 1;
+    }
+    /* the interpolation's product d f must fit 32 bits: |d| 2^shift < 2^31 */
+    for (size_t i = 0; out->y && i + 1 < out->n; i++)
+        if (fabs((double)out->y[i + 1] - (double)out->y[i]) * ldexp(1.0, (int)shift) >=
+            2147483647.0)
+            return bg_error_set(err, BG_EINVAL, "the step is too coarse for 32-bit arithmetic");
+    out->bytes = out->n * (s->format == BG_LUT_FLOAT || out->wide ? 4u : 2u);
+    measure(out, tk);
+    return BG_OK;
+}
+
+void bgi_lut_make_bands(const bg_lut *t, const double *tk, double cpk, double off, double e,
+                        bgi_band *b)
+{
+    for (long c = 0; c <= t->code_hi - t->code_lo; c++) {
+        double v = cpk * (tk[c] - off);
+        long long lo = (long long)ceil(v - cpk * e), hi = (long long)floor(v + cpk * e);
+        /* settle the ends with the very expression the measurement uses */
+        while (lo <= hi && fabs((double)lo / cpk + off - tk[c]) > e)
+            lo++;
+        while (fabs((double)(lo - 1) / cpk + off - tk[c]) <= e)
+            lo--;
+        while (hi >= lo && fabs((double)hi / cpk + off - tk[c]) > e)
+            hi--;
+        while (fabs((double)(hi + 1) / cpk + off - tk[c]) <= e)
+            hi++;
+        b[c].lo = lo, b[c].hi = hi;
+    }
+}
+
+static int build_segments(const bg_lut_spec *s, const double *tk, bg_lut *out, bg_error *err)
+{
+    size_t nc = (size_t)(out->code_hi - out->code_lo + 1);
+    bgi_band *b = malloc(nc * sizeof *b);
+    long long *on = NULL;
+    int rc;
+    if (!b)
+        return bg_error_set(err, BG_ENOMEM, "out of memory for %zu codes", nc);
+    if (s->format == BG_LUT_FLOAT) {
+        /* integer segments at 2^-16 degree, within the bound less that step, less the float
+        ** rounding of values up to the largest; converted to floats and measured */
+        double cpk = 65536.0, big = 0.0;
+        for (size_t c = 0; c < nc; c++)
+            big = fmax(big, fabs(tk[c] - out->offset_k));
+        double e = s->max_err_k - 1.0 / cpk - 4.0 * big * FLT_EPSILON;
+        if (!(e > 0.0)) {
+            free(b);
+            return bg_error_set(err, BG_EINVAL, "--max-error %.6g K is below what single "
+                                "precision resolves here", s->max_err_k);
+        }
+        bgi_lut_make_bands(out, tk, cpk, out->offset_k, e, b);
+        rc = bgi_lut_segments(out, b, s->frac_bits, err);
+        if (rc == BG_OK) {
+            out->syf = malloc(out->n * sizeof *out->syf);
+            out->smf = malloc(out->n * sizeof *out->smf);
+            if (!out->syf || !out->smf)
+                rc = bg_error_set(err, BG_ENOMEM, "out of memory for segments");
+        }
+        for (size_t i = 0; rc == BG_OK && i < out->n; i++) {
+            double one = ldexp(1.0, (int)out->frac);
+            out->syf[i] = (float)(((double)out->yoff + (double)out->sy[i] / one + 0.5) / cpk);
+            out->smf[i] = (float)((double)out->sm[i] / one / cpk);
+        }
+    } else {
+        bgi_lut_make_bands(out, tk, out->counts_per_k, out->offset_k, s->max_err_k, b);
+        rc = bgi_lut_segments(out, b, s->frac_bits, err);
+        if (rc == BG_OK && s->oncurve_min && (on = malloc(nc * sizeof *on)) != NULL) {
+            for (size_t c = 0; c < nc; c++)
+                on[c] = (long long)llround(out->counts_per_k * (tk[c] - out->offset_k));
+            out->oncurve_min = bgi_lut_oncurve_min(on, b, nc);
+        }
+    }
+    free(on);
+    free(b);
+    if (rc != BG_OK)
+        return rc;
+    size_t xb = out->code_hi + 1 <= 65535 ? 2u : 4u;
+    out->bytes = out->n * (xb + 8u) + xb;
+    if (s->strategy == BG_LUT_INDEXED) {
+        if (out->n > 65535)
+            return bg_error_set(err, BG_EINVAL, "%zu segments: too many to index", out->n);
+        if ((rc = bgi_lut_index(out, err)) != BG_OK)
+            return rc;
+        out->bytes += out->nidx * (out->n <= 256 ? 1u : 2u);
+    }
+    measure(out, tk);
+    if (s->format == BG_LUT_FLOAT && out->max_err_k > s->max_err_k)
+        return bg_error_set(err, BG_ENUM, "single-precision rounding took the table to %.6g K, "
+                            "beyond --max-error", out->max_err_k);
+    return BG_OK;
 }
 
 int bg_lut_build(const bg_lut_spec *s, bg_lut *out, bg_error *err)
 {
     double c1, c2, r1, r2, fs, lo, hi;
+    double *tk = NULL;
     int rc;
 
     memset(out, 0, sizeof *out);
-    if (s->shift > 12)
+    if (s->strategy == BG_LUT_UNIFORM && s->shift > 12 && !(s->max_err_k > 0.0))
         return bg_error_set(err, BG_EINVAL, "step of 2^%u codes: at most 2^12", s->shift);
+    if (s->format == BG_LUT_Q && (s->qbits < 1 || s->qbits > 16))
+        return bg_error_set(err, BG_EINVAL, "Q format with %u fractional bits: 1 .. 16",
+                            s->qbits);
+    if (s->strategy != BG_LUT_UNIFORM && !(s->max_err_k > 0.0))
+        return bg_error_set(err, BG_EINVAL, "the %s strategy needs an error bound",
+                            bg_lut_strategy_name(s->strategy));
     if (!(s->t_hi_k > s->t_lo_k))
         return bg_error_set(err, BG_EINVAL, "the range must run from a lower to a higher "
                             "temperature");
@@ -81,161 +315,104 @@ int bg_lut_build(const bg_lut_spec *s, bg_lut *out, bg_error *err)
     if (fs > 0.0 && (lo < 1.0 || hi > fs - 1.0))
         return bg_error_set(err, BG_EINVAL, "the range reaches the ADC's rails (codes %.0f .. "
                             "%.0f of %.0f): change the fixed resistor or the range", lo, hi, fs);
-    out->code_lo = (long)lo, out->code_hi = (long)hi, out->shift = s->shift;
-    unsigned long span = (unsigned long)(out->code_hi - out->code_lo);
-    out->n = (size_t)(span >> s->shift) + 1 + ((span & ((1ul << s->shift) - 1)) ? 1 : 0);
-    out->counts_per_k = counts_per_k(s->format);
+    if (hi - lo >= 16777216.0)
+        return bg_error_set(err, BG_EINVAL, "the range spans %.0f codes: at most 2^24", hi - lo);
+    out->strategy = s->strategy, out->format = s->format;
+    out->code_lo = (long)lo, out->code_hi = (long)hi;
+    out->counts_per_k = counts_per_k(s);
     out->offset_k = s->kelvin ? 0.0 : BG_ZERO_C_K;
-    out->y = malloc(out->n * sizeof *out->y);
-    if (!out->y)
-        return bg_error_set(err, BG_ENOMEM, "out of memory for %zu entries", out->n);
-    for (size_t i = 0; i < out->n; i++) {
-        double code = (double)out->code_lo + ldexp((double)i, (int)s->shift), t;
-        if (fs > 0.0 && code > fs - 1.0) {
-            bg_lut_release(out);
-            return bg_error_set(err, BG_EINVAL, "the last breakpoint (code %.0f) falls beyond "
-                                "the ADC's codes: use a smaller step", code);
+    size_t nc = (size_t)(out->code_hi - out->code_lo + 1);
+    if (!(tk = malloc(nc * sizeof *tk)))
+        return bg_error_set(err, BG_ENOMEM, "out of memory for %zu codes", nc);
+    for (size_t c = 0; c < nc; c++)
+        if ((rc = t_at(s, (double)out->code_lo + (double)c, &tk[c], err)) != BG_OK)
+            goto fail;
+    if (s->max_err_k > 0.0) {
+        /* a bound no code of the range resolves: half an LSB is above it everywhere */
+        double half_lsb = INFINITY;
+        for (size_t c = 0; c + 1 < nc; c++)
+            half_lsb = fmin(half_lsb, 0.5 * fabs(tk[c + 1] - tk[c]));
+        if (s->max_err_k < half_lsb) {
+            rc = bg_error_set(err, BG_EINVAL, "--max-error %.6g K is below what the ADC resolves"
+                              " anywhere in the range (half an LSB is at least %.6g K)",
+                              s->max_err_k, half_lsb);
+            goto fail;
         }
-        if ((rc = t_at(s, code, &t, err)) != BG_OK) {
-            bg_lut_release(out);
-            return rc;
+        if (s->format != BG_LUT_FLOAT && s->max_err_k < 0.5 / out->counts_per_k) {
+            rc = bg_error_set(err, BG_EINVAL, "--max-error %.6g K is below the output's "
+                              "rounding (%.6g K at this resolution)", s->max_err_k,
+                              0.5 / out->counts_per_k);
+            goto fail;
         }
-        double v = round(out->counts_per_k * (t - out->offset_k));
-        if (!(fabs(v) < 2147483647.0)) {
-            bg_lut_release(out);
-            return bg_error_set(err, BG_EINVAL, "a value overflows 32 bits");
-        }
-        out->y[i] = (int32_t)v;
-        if (v < -32768.0 || v > 32767.0)
-            out->wide = 1;
     }
-    /* the interpolation's product d f must fit 32 bits: |d| 2^shift < 2^31 */
-    for (size_t i = 0; i + 1 < out->n; i++)
-        if (fabs((double)out->y[i + 1] - (double)out->y[i]) * ldexp(1.0, (int)s->shift) >=
-            2147483647.0) {
+    if (s->strategy != BG_LUT_UNIFORM)
+        rc = build_segments(s, tk, out, err);
+    else if (!(s->max_err_k > 0.0))
+        rc = build_uniform(s, s->shift, tk, out, err);
+    else {
+        /* the largest power-of-two step within the bound: the error grows with the step */
+        rc = BG_EINVAL;
+        for (int sh = 12; sh >= 0; sh--) {
+            bg_error e2 = BG_ERROR_INIT;
             bg_lut_release(out);
-            return bg_error_set(err, BG_EINVAL, "the step is too coarse for 32-bit arithmetic");
+            out->strategy = s->strategy, out->format = s->format;
+            out->code_lo = (long)lo, out->code_hi = (long)hi;
+            out->counts_per_k = counts_per_k(s);
+            out->offset_k = s->kelvin ? 0.0 : BG_ZERO_C_K;
+            if (build_uniform(s, (unsigned)sh, tk, out, &e2) == BG_OK &&
+                out->max_err_k <= s->max_err_k) {
+                rc = BG_OK;
+                break;
+            }
         }
-    double ss = 0.0;
-    for (long code = out->code_lo; code <= out->code_hi; code++) {
-        int st;
-        double t, e;
-        if ((rc = t_at(s, (double)code, &t, err)) != BG_OK) {
-            bg_lut_release(out);
-            return rc;
-        }
-        e = (double)bg_lut_eval(out, code, &st) / out->counts_per_k + out->offset_k - t;
-        ss += e * e;
-        if (fabs(e) > out->max_err_k)
-            out->max_err_k = fabs(e), out->worst_code = code;
+        if (rc != BG_OK)
+            bg_error_set(err, BG_EINVAL, "even a breakpoint at every code misses --max-error "
+                         "%.6g K (use more bits or a finer resolution)", s->max_err_k);
     }
-    out->rms_err_k = sqrt(ss / (double)(out->code_hi - out->code_lo + 1));
-    return BG_OK;
+fail:
+    free(tk);
+    if (rc != BG_OK)
+        bg_lut_release(out);
+    return rc;
 }
 
-static int ident_ok(const char *s)
+int bg_lut_build_smallest(const bg_lut_spec *s, bg_lut *out, size_t bytes[3], bg_error *err)
 {
-    if (!s || !*s || (*s >= '0' && *s <= '9'))
-        return 0;
-    for (; *s; s++)
-        if (!((*s >= 'a' && *s <= 'z') || (*s >= 'A' && *s <= 'Z') || (*s >= '0' && *s <= '9') ||
-              *s == '_'))
-            return 0;
-    return 1;
-}
-
-int bg_lut_emit_c(const bg_lut *t, const bg_lut_spec *s, const char *sym, const char *version,
-                  FILE *f, bg_error *err)
-{
-    char up[64], name[16];
-    const char *unit = s->kelvin ? "K" : "degC";
-    static const char *fmt[] = { "0.1", "0.01", "0.001" };
-    size_t k;
-
-    if (!ident_ok(sym) || strlen(sym) >= sizeof up - 1)
-        return bg_error_set(err, BG_EINVAL, "symbol '%s': not a C identifier", sym ? sym : "");
-    for (k = 0; sym[k]; k++)
-        up[k] = (char)(sym[k] >= 'a' && sym[k] <= 'z' ? sym[k] - 'a' + 'A' : sym[k]);
-    up[k] = '\0';
-    bg_model_name(&s->model, name, sizeof name);
-    fprintf(f, "/* Code generated by bandgap %s; DO NOT EDIT. */\n", version);
-    fprintf(f, "/*\n * ADC code -> temperature, %s %s per count, linear interpolation between\n"
-               " * breakpoints every %lu codes (uniform table).\n", fmt[s->format], unit,
-            1ul << t->shift);
-    fprintf(f, " * model %s:", name);
-    for (size_t i = 0; i < bg_model_npar(&s->model); i++)
-        fprintf(f, " %s=%.17g", bg_model_coef_name(&s->model, i), s->model.coef[i]);
-    if (s->model.kind == BG_MODEL_BETA)
-        fprintf(f, " T0=%.17g K", s->model.t0_k);
-    fprintf(f, "\n * circuit: ");
-    const bg_circuit *c = &s->circuit;
-    switch (c->kind) {
-    case BG_CIRCUIT_DIVIDER_LOW:
-    case BG_CIRCUIT_DIVIDER_HIGH:
-        fprintf(f, "divider, thermistor on the %s side, fixed %.9g ohm",
-                c->kind == BG_CIRCUIT_DIVIDER_LOW ? "low" : "high", c->fixed_ohm);
-        break;
-    case BG_CIRCUIT_CURRENT:
-        fprintf(f, "current source %.9g A, reference %.9g V", c->current_a, c->vref_v);
-        break;
-    default:
-        fprintf(f, "resistance input, %.9g ohm per code", c->ohms_per_code);
-        break;
+    /* order of preference on equal size: uniform, indexed, minimal */
+    static const bg_lut_strategy order[3] = { BG_LUT_UNIFORM, BG_LUT_INDEXED, BG_LUT_MINIMAL };
+    bg_error first = BG_ERROR_INIT;
+    int found = 0;
+    memset(out, 0, sizeof *out);
+    for (int k = 0; k < 3; k++) {
+        bg_lut_spec s2 = *s;
+        bg_lut cand = BG_LUT_INIT;
+        bg_error e2 = BG_ERROR_INIT;
+        s2.strategy = order[k];
+        s2.oncurve_min = s->oncurve_min && order[k] != BG_LUT_UNIFORM;
+        bytes[order[k]] = 0;
+        if (bg_lut_build(&s2, &cand, &e2) != BG_OK) {
+            if (first.code == BG_OK)
+                first = e2;
+            continue;
+        }
+        bytes[order[k]] = cand.bytes;
+        if (!found || cand.bytes < out->bytes) {
+            size_t oc = found ? out->oncurve_min : 0;
+            bg_lut_release(out);
+            *out = cand, found = 1;
+            if (!out->oncurve_min)
+                out->oncurve_min = oc;
+        } else {
+            if (cand.oncurve_min && !out->oncurve_min)
+                out->oncurve_min = cand.oncurve_min;
+            bg_lut_release(&cand);
+        }
     }
-    if (c->kind != BG_CIRCUIT_OHMS) {
-        if (c->parallel_ohm > 0.0)
-            fprintf(f, ", parallel %.9g ohm", c->parallel_ohm);
-        if (c->series_ohm > 0.0)
-            fprintf(f, ", series %.9g ohm", c->series_ohm);
-        fprintf(f, ", %u-bit ADC, full scale %s", c->adc_bits,
-                c->full_scale_pow2 ? "2^N" : "2^N - 1");
+    if (!found) {
+        if (err)
+            *err = first;
+        return first.code;
     }
-    fprintf(f, "\n * range: %.3f .. %.3f degC, codes %ld .. %ld\n", s->t_lo_k - BG_ZERO_C_K,
-            s->t_hi_k - BG_ZERO_C_K, t->code_lo, t->code_hi);
-    fprintf(f, " * measured over every code against the model: max |error| %.6f K (at code %ld),"
-               "\n * RMS %.6f K; table and output rounding only (not the ADC, the fit or the\n"
-               " * components).  Valid inside the range only; outside it the function returns\n"
-               " * %s_BELOW or %s_ABOVE, never a clamped temperature.\n */\n",
-            t->max_err_k, t->worst_code, t->rms_err_k, up, up);
-    fprintf(f, "#include <stdint.h>\n\n");
-    fprintf(f, "#ifndef %s_ATTR\n#define %s_ATTR /* e.g. PROGMEM on AVR */\n#endif\n", up, up);
-    fprintf(f, "#ifndef %s_READ\n#define %s_READ(p) (*(p)) /* e.g. pgm_read_word(p) on AVR */\n"
-               "#endif\n\n", up, up);
-    const char *ty = t->wide ? "int32_t" : "int16_t";
-    fprintf(f, "#define %s_CODE_LO %ldL\n#define %s_CODE_HI %ldL\n#define %s_SHIFT %u\n", up,
-            t->code_lo, up, t->code_hi, up, t->shift);
-    fprintf(f, "#define %s_COUNTS_PER_DEGREE %.0f /* %s %s per count */\n", up, t->counts_per_k,
-            fmt[s->format], unit);
-    fprintf(f, "#define %s_BELOW ((int32_t)-2147483647L - 1) /* code below the range */\n", up);
-    fprintf(f, "#define %s_ABOVE ((int32_t)2147483647L)      /* code above the range */\n\n", up);
-    fprintf(f, "static const %s %s_table[%zu] %s_ATTR = {\n", ty, sym, t->n, up);
-    for (size_t i = 0; i < t->n; i++)
-        fprintf(f, "%s%ld%s", i % 10 == 0 ? "    " : " ", (long)t->y[i],
-                i + 1 == t->n ? "\n" : i % 10 == 9 ? ",\n" : ",");
-    fprintf(f, "};\n\n");
-    fprintf(f, "/* Temperature in counts for an ADC code, or %s_BELOW / %s_ABOVE. */\n", up, up);
-    fprintf(f, "int32_t %s_lookup(uint32_t code);\n", sym);
-    fprintf(f, "int32_t %s_lookup(uint32_t code)\n{\n", sym);
-    fprintf(f, "    uint32_t off, i, f;\n    int32_t y0, d, p, q;\n");
-    fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_BELOW;\n", up, up);
-    fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_ABOVE;\n", up, up);
-    fprintf(f, "    off = code - (uint32_t)%s_CODE_LO;\n", up);
-    fprintf(f, "    i = off >> %s_SHIFT;\n", up);
-    fprintf(f, "    f = off & ((UINT32_C(1) << %s_SHIFT) - 1u);\n", up);
-    fprintf(f, "    y0 = (int32_t)%s_READ(&%s_table[i]);\n", up, sym);
-    fprintf(f, "    if (f == 0u)\n        return y0;\n");
-    fprintf(f, "    d = (int32_t)%s_READ(&%s_table[i + 1u]) - y0;\n", up, sym);
-    fprintf(f, "    p = d * (int32_t)f;\n");
-    if (t->shift)
-        fprintf(f, "    /* round half away from zero; shift only non-negative values */\n"
-                   "    if (p >= 0)\n        q = (int32_t)(((uint32_t)p + (UINT32_C(1) << "
-                   "(%s_SHIFT - 1))) >> %s_SHIFT);\n    else\n        q = -(int32_t)(((uint32_t)"
-                   "(-p) + (UINT32_C(1) << (%s_SHIFT - 1))) >> %s_SHIFT);\n", up, up, up, up);
-    else
-        fprintf(f, "    q = p;\n");
-    fprintf(f, "    return y0 + q;\n}\n");
-    if (ferror(f))
-        return bg_error_set(err, BG_EIO, "cannot write the table");
     return BG_OK;
 }
 
@@ -258,7 +435,7 @@ static int budget_at(const bg_lut_spec *s, const bg_lut *t, const bg_budget_opts
     double tc;
     if ((rc = t_at(s, (double)ic, &tc, err)) != BG_OK)
         return rc;
-    r->table_k = fabs((double)bg_lut_eval(t, ic, &st) / t->counts_per_k + t->offset_k - tc);
+    r->table_k = fabs(bg_lut_value(t, ic, &st) + t->offset_k - tc);
     r->adc_k = 0.5 * fabs(k_lsb);
     if (o->cov && bg_model_u_t(&s->model, o->cov, tk, &r->fit_k, NULL) == BG_OK)
         r->fit_k *= 2.0;

@@ -65,15 +65,33 @@ awk -v s="$scanf" -v d="$drift" -v c="$cli" -v n="$NDRIFT" 'BEGIN {
     printf "drift of %d probes x 3 calibrations (against previous and first) with the lot statistics: %.3f s; plain SQL scan of the same fit rows %.3f s: ratio %.1f (target <= 3)\n", n, d, s, d / s
     printf "  bandgap drift --lot (the lot statistics of the newest fits, printed): %.3f s\n", c }'
 
-# ---- firmware tables: instructions per conversion of the emitted lookup (callgrind) ----
+# ---- firmware tables: build time, entries against the exact minimum, instructions ----
+# shellcheck disable=SC2086
+$CC $CFLAGS tests/bench/bench_lut.c -o "$out/bench_lut" "$BUILD/libbandgap.a" $LIBS
+"$out/bench_lut" 0.05 | tee "$out/lut.txt" | awk '{
+    printf "minimal table, %s-bit divider, -40..125 degC within 0.05 K: built in %.3f s (target < %s s; the uniform table beside it %.3f s, ratio %.0f); %s segments, exact minimum by a separate dynamic program %s (target: equal); values on the curve need %s breakpoints, the uniform table %s\n",
+        substr($1, 5), $3, substr($1, 5) == 12 ? 1 : 5, $5, $3 / $5, $7, $9, $11, $13 }'
 if command -v valgrind >/dev/null 2>&1; then
-    "$BUILD/bandgap" lut --r25 10k --beta 3950 --fixed 10k --adc-bits 12 --range -40C:125C \
-        --step 16 --symbol ntc -o "$out/ntc.c" > /dev/null
+    ir() { valgrind --tool=callgrind --callgrind-out-file=/dev/null "$1" 2>&1 | awk '/refs:/ { gsub(",", "", $NF); print $NF }'; }
     printf '#include <stdint.h>\nint32_t ntc_lookup(uint32_t code);\nvolatile int32_t sink;\nint main(void) { for (int r = 0; r < 10; r++) for (uint32_t c = 0; c < 4096; c++) sink = ntc_lookup(c); return 0; }\n' > "$out/lut_main.c"
     printf '#include <stdint.h>\nvolatile int32_t sink;\nint main(void) { for (int r = 0; r < 10; r++) for (uint32_t c = 0; c < 4096; c++) sink = (int32_t)c; return 0; }\n' > "$out/lut_base.c"
-    $CC -O2 "$out/ntc.c" "$out/lut_main.c" -o "$out/lut_run"
+    # the baseline: the divider solved for R and Steinhart-Hart with logf, per conversion
+    # (coefficients of a 10k NTC, from memory; only the instruction count matters here)
+    printf '#include <math.h>\n#include <stdint.h>\nint32_t ntc_lookup(uint32_t code);\nint32_t ntc_lookup(uint32_t code) { float r, l, t; if (code < 1u || code > 4094u) return INT32_MIN; r = 10000.0f * (float)code / (float)(4096u - code); l = logf(r); t = 1.0f / (1.129148e-3f + 2.34125e-4f * l + 8.76741e-8f * l * l * l); return (int32_t)lrintf(100.0f * (t - 273.15f)); }\n' > "$out/sh_logf.c"
     $CC -O2 "$out/lut_base.c" -o "$out/lut_base"
-    ir() { valgrind --tool=callgrind --callgrind-out-file=/dev/null "$1" 2>&1 | awk '/refs:/ { gsub(",", "", $NF); print $NF }'; }
-    a=$(ir "$out/lut_run"); b=$(ir "$out/lut_base")
-    awk -v a="$a" -v b="$b" 'BEGIN { printf "uniform table lookup (12-bit, -O2): %.1f instructions per conversion over all codes, an empty loop subtracted (target for the O(1) lookup <= 40)\n", (a - b) / 40960 }'
+    base=$(ir "$out/lut_base")
+    for st in uniform minimal indexed logf; do
+        case $st in
+        uniform) "$BUILD/bandgap" lut --r25 10k --beta 3950 --fixed 10k --adc-bits 12 \
+                     --range -40C:125C --step 16 --symbol ntc -o "$out/ntc_$st.c" > /dev/null ;;
+        logf) cp "$out/sh_logf.c" "$out/ntc_$st.c" ;;
+        *) "$BUILD/bandgap" lut --r25 10k --beta 3950 --fixed 10k --adc-bits 12 \
+               --range -40C:125C --max-error 0.05C --strategy $st --symbol ntc \
+               -o "$out/ntc_$st.c" > /dev/null ;;
+        esac
+        $CC -O2 "$out/ntc_$st.c" "$out/lut_main.c" -o "$out/lut_$st" -lm
+        echo "$st $(ir "$out/lut_$st")"
+    done | awk -v b="$base" '{ n[$1] = ($2 - b) / 40960 } END {
+        printf "instructions per conversion over all 4096 codes (host, -O2, an empty loop subtracted): uniform %.1f, minimal %.1f, indexed %.1f (target <= 40), Steinhart-Hart with logf %.1f; indexed/logf ratio %.2f\n",
+            n["uniform"], n["minimal"], n["indexed"], n["logf"], n["indexed"] / n["logf"] }'
 fi

@@ -1,0 +1,284 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* The emitted C99: a generated-file line, the provenance block, the tables and one lookup
+** function whose arithmetic bg_lut_eval / bg_lut_eval_float repeat exactly.  Only <stdint.h>,
+** 32-bit arithmetic through int32_t/uint32_t (safe with a 16-bit int), right shifts of
+** unsigned values only, and hooks to place the tables in program memory. */
+#include <math.h>
+#include <string.h>
+
+#include "bandgap/lut.h"
+#include "bandgap/units.h"
+
+static int ident_ok(const char *s)
+{
+    if (!s || !*s || (*s >= '0' && *s <= '9'))
+        return 0;
+    for (; *s; s++)
+        if (!((*s >= 'a' && *s <= 'z') || (*s >= 'A' && *s <= 'Z') || (*s >= '0' && *s <= '9') ||
+              *s == '_'))
+            return 0;
+    return 1;
+}
+
+static void value_format(const bg_lut_spec *s, char *buf, size_t n)
+{
+    static const char *fmt[] = { "0.1", "0.01", "0.001" };
+    const char *unit = s->kelvin ? "K" : "degC";
+    if (s->format == BG_LUT_FLOAT)
+        snprintf(buf, n, "single-precision float, %s", unit);
+    else if (s->format == BG_LUT_Q)
+        snprintf(buf, n, "Q%u fixed point, 1/%lu %s per count", s->qbits, 1ul << s->qbits, unit);
+    else
+        snprintf(buf, n, "%s %s per count", fmt[s->format], unit);
+}
+
+static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FILE *f)
+{
+    char name[16], vf[64];
+    const bg_circuit *c = &s->circuit;
+    bg_model_name(&s->model, name, sizeof name);
+    value_format(s, vf, sizeof vf);
+    if (t->strategy == BG_LUT_UNIFORM)
+        fprintf(f, "/*\n * ADC code -> temperature, %s, linear interpolation between\n"
+                   " * breakpoints every %lu codes (uniform table).\n", vf, 1ul << t->shift);
+    else
+        fprintf(f, "/*\n * ADC code -> temperature, %s, %zu straight segments\n"
+                   " * (%s table%s), the fewest that keep every code within %.6g K.\n", vf,
+                t->n, bg_lut_strategy_name(t->strategy),
+                t->strategy == BG_LUT_INDEXED ? ", found through an index" : ", binary search",
+                s->max_err_k);
+    fprintf(f, " * model %s:", name);
+    for (size_t i = 0; i < bg_model_npar(&s->model); i++)
+        fprintf(f, " %s=%.17g", bg_model_coef_name(&s->model, i), s->model.coef[i]);
+    if (s->model.kind == BG_MODEL_BETA)
+        fprintf(f, " T0=%.17g K", s->model.t0_k);
+    fprintf(f, "\n * circuit: ");
+    switch (c->kind) {
+    case BG_CIRCUIT_DIVIDER_LOW:
+    case BG_CIRCUIT_DIVIDER_HIGH:
+        fprintf(f, "divider, thermistor on the %s side, fixed %.9g ohm",
+                c->kind == BG_CIRCUIT_DIVIDER_LOW ? "low" : "high", c->fixed_ohm);
+        break;
+    case BG_CIRCUIT_CURRENT:
+        fprintf(f, "current source %.9g A, reference %.9g V", c->current_a, c->vref_v);
+        break;
+    default:
+        fprintf(f, "resistance input, %.9g ohm per code", c->ohms_per_code);
+        break;
+    }
+    if (c->kind != BG_CIRCUIT_OHMS) {
+        if (c->parallel_ohm > 0.0)
+            fprintf(f, ", parallel %.9g ohm", c->parallel_ohm);
+        if (c->series_ohm > 0.0)
+            fprintf(f, ", series %.9g ohm", c->series_ohm);
+        fprintf(f, ", %u-bit ADC, full scale %s", c->adc_bits,
+                c->full_scale_pow2 ? "2^N" : "2^N - 1");
+    }
+    fprintf(f, "\n * range: %.3f .. %.3f degC, codes %ld .. %ld\n", s->t_lo_k - BG_ZERO_C_K,
+            s->t_hi_k - BG_ZERO_C_K, t->code_lo, t->code_hi);
+    fprintf(f, " * measured over every code against the model: max |error| %.6f K (at code %ld),"
+               "\n * RMS %.6f K; table and output rounding only (not the ADC, the fit or the\n"
+               " * components).  Valid inside the range only; outside it the function returns\n"
+               " * %s_BELOW or %s_ABOVE, never a clamped temperature.\n", t->max_err_k,
+            t->worst_code, t->rms_err_k, up, up);
+    if (t->format == BG_LUT_FLOAT)
+        fprintf(f, " * Float arithmetic one operation at a time: on targets with a fused\n"
+                   " * multiply-add, compile with -ffp-contract=off to get these exact values.\n");
+    fprintf(f, " */\n#include <stdint.h>\n\n");
+    fprintf(f, "#ifndef %s_ATTR\n#define %s_ATTR /* e.g. PROGMEM on AVR */\n#endif\n", up, up);
+}
+
+static void hook(FILE *f, const char *up, const char *name, const char *avr)
+{
+    fprintf(f, "#ifndef %s_%s\n#define %s_%s(p) (*(p)) /* e.g. %s(p) on AVR */\n#endif\n", up,
+            name, up, name, avr);
+}
+
+static void sentinels(const bg_lut *t, const char *up, FILE *f)
+{
+    if (t->format == BG_LUT_FLOAT) {
+        fprintf(f, "#define %s_BELOW (-3.40282347e+38f) /* code below the range */\n", up);
+        fprintf(f, "#define %s_ABOVE (3.40282347e+38f)  /* code above the range */\n\n", up);
+    } else {
+        fprintf(f, "#define %s_BELOW ((int32_t)-2147483647L - 1) /* code below the range */\n",
+                up);
+        fprintf(f, "#define %s_ABOVE ((int32_t)2147483647L)      /* code above the range */\n\n",
+                up);
+    }
+}
+
+static void longs(FILE *f, const char *decl, size_t n, const long *v, const int32_t *w,
+                  const float *x, const uint16_t *u)
+{
+    fprintf(f, "%s = {\n", decl);
+    for (size_t i = 0; i < n; i++) {
+        const char *sep = i + 1 == n ? "\n" : i % 8 == 7 ? ",\n" : ",";
+        const char *ind = i % 8 == 0 ? "    " : " ";
+        if (v)
+            fprintf(f, "%s%ld%s", ind, v[i], sep);
+        else if (w)
+            fprintf(f, "%s%ld%s", ind, (long)w[i], sep);
+        else if (x)
+            fprintf(f, "%s%.9gf%s", ind, (double)x[i], sep);
+        else
+            fprintf(f, "%s%u%s", ind, (unsigned)u[i], sep);
+    }
+    fprintf(f, "};\n");
+}
+
+static void emit_uniform(const bg_lut *t, const bg_lut_spec *s, const char *sym, const char *up,
+                         FILE *f)
+{
+    int flt = t->format == BG_LUT_FLOAT;
+    const char *ty = flt ? "float" : t->wide ? "int32_t" : "int16_t";
+    hook(f, up, "READ", flt ? "pgm_read_float" : t->wide ? "pgm_read_dword" : "pgm_read_word");
+    fprintf(f, "\n#define %s_CODE_LO %ldL\n#define %s_CODE_HI %ldL\n#define %s_SHIFT %u\n", up,
+            t->code_lo, up, t->code_hi, up, t->shift);
+    if (!flt) {
+        char vf[64];
+        value_format(s, vf, sizeof vf);
+        fprintf(f, "#define %s_COUNTS_PER_DEGREE %.0f /* %s */\n", up, t->counts_per_k, vf);
+    }
+    sentinels(t, up, f);
+    fprintf(f, "static const %s %s_table[%zu] %s_ATTR = {\n", ty, sym, t->n, up);
+    for (size_t i = 0; i < t->n; i++) {
+        if (flt)
+            fprintf(f, "%s%.9gf", i % 8 == 0 ? "    " : " ", (double)t->yf[i]);
+        else
+            fprintf(f, "%s%ld", i % 10 == 0 ? "    " : " ", (long)t->y[i]);
+        fprintf(f, "%s", i + 1 == t->n ? "\n" : i % (flt ? 8 : 10) == (flt ? 7u : 9u) ? ",\n"
+                                                                                   : ",");
+    }
+    fprintf(f, "};\n\n");
+    fprintf(f, "/* Temperature %sfor an ADC code, or %s_BELOW / %s_ABOVE. */\n",
+            flt ? "" : "in counts ", up, up);
+    fprintf(f, "%s %s_lookup(uint32_t code);\n", flt ? "float" : "int32_t", sym);
+    fprintf(f, "%s %s_lookup(uint32_t code)\n{\n", flt ? "float" : "int32_t", sym);
+    if (flt)
+        fprintf(f, "    uint32_t off, i, f;\n    float y0, d, w, p;\n");
+    else
+        fprintf(f, "    uint32_t off, i, f;\n    int32_t y0, d, p, q;\n");
+    fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_BELOW;\n", up, up);
+    fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_ABOVE;\n", up, up);
+    fprintf(f, "    off = code - (uint32_t)%s_CODE_LO;\n", up);
+    fprintf(f, "    i = off >> %s_SHIFT;\n", up);
+    fprintf(f, "    f = off & ((UINT32_C(1) << %s_SHIFT) - 1u);\n", up);
+    fprintf(f, "    y0 = %s%s_READ(&%s_table[i]);\n", flt ? "" : "(int32_t)", up, sym);
+    fprintf(f, "    if (f == 0u)\n        return y0;\n");
+    if (flt) {
+        fprintf(f, "    d = %s_READ(&%s_table[i + 1u]) - y0;\n", up, sym);
+        fprintf(f, "    w = (float)f / %lu.0f;\n    p = d * w;\n    return y0 + p;\n}\n",
+                1ul << t->shift);
+        return;
+    }
+    fprintf(f, "    d = (int32_t)%s_READ(&%s_table[i + 1u]) - y0;\n", up, sym);
+    fprintf(f, "    p = d * (int32_t)f;\n");
+    if (t->shift)
+        fprintf(f, "    /* round half away from zero; shift only non-negative values */\n"
+                   "    if (p >= 0)\n        q = (int32_t)(((uint32_t)p + (UINT32_C(1) << "
+                   "(%s_SHIFT - 1))) >> %s_SHIFT);\n    else\n        q = -(int32_t)(((uint32_t)"
+                   "(-p) + (UINT32_C(1) << (%s_SHIFT - 1))) >> %s_SHIFT);\n", up, up, up, up);
+    else
+        fprintf(f, "    q = p;\n");
+    fprintf(f, "    return y0 + q;\n}\n");
+}
+
+static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym,
+                          const char *up, FILE *f)
+{
+    int flt = t->format == BG_LUT_FLOAT, wide_x = t->code_hi + 1 > 65535;
+    int idx8 = t->n <= 256;
+    char decl[160], vf[64];
+    const char *xt = wide_x ? "uint32_t" : "uint16_t";
+    hook(f, up, "READ_CODE", wide_x ? "pgm_read_dword" : "pgm_read_word");
+    hook(f, up, flt ? "READ_F32" : "READ_S32", flt ? "pgm_read_float" : "pgm_read_dword");
+    if (t->strategy == BG_LUT_INDEXED)
+        hook(f, up, "READ_INDEX", idx8 ? "pgm_read_byte" : "pgm_read_word");
+    fprintf(f, "\n#define %s_CODE_LO %ldL\n#define %s_CODE_HI %ldL\n#define %s_SEGMENTS %zuu\n",
+            up, t->code_lo, up, t->code_hi, up, t->n);
+    value_format(s, vf, sizeof vf);
+    if (!flt)
+        fprintf(f, "#define %s_COUNTS_PER_DEGREE %.0f /* %s */\n#define %s_FRAC %u\n"
+                   "#define %s_VALUE_OFFSET %ldL\n", up, t->counts_per_k, vf, up, t->frac, up,
+                (long)t->yoff);
+    if (t->strategy == BG_LUT_INDEXED)
+        fprintf(f, "#define %s_INDEX_SHIFT %u\n", up, t->ishift);
+    sentinels(t, up, f);
+    fprintf(f, "/* the first code of each segment, then %s_CODE_HI + 1 */\n", up);
+    snprintf(decl, sizeof decl, "static const %s %s_start[%zu] %s_ATTR", xt, sym, t->n + 1, up);
+    longs(f, decl, t->n + 1, t->sx, NULL, NULL, NULL);
+    if (flt) {
+        fprintf(f, "/* the value at the segment's first code, and per code after it */\n");
+        snprintf(decl, sizeof decl, "static const float %s_base[%zu] %s_ATTR", sym, t->n, up);
+        longs(f, decl, t->n, NULL, NULL, t->syf, NULL);
+        snprintf(decl, sizeof decl, "static const float %s_slope[%zu] %s_ATTR", sym, t->n, up);
+        longs(f, decl, t->n, NULL, NULL, t->smf, NULL);
+    } else {
+        fprintf(f, "/* at the segment's first code, and per code after it: 2^-%u counts above "
+                   "%s_VALUE_OFFSET */\n", t->frac, up);
+        snprintf(decl, sizeof decl, "static const int32_t %s_base[%zu] %s_ATTR", sym, t->n, up);
+        longs(f, decl, t->n, NULL, t->sy, NULL, NULL);
+        snprintf(decl, sizeof decl, "static const int32_t %s_slope[%zu] %s_ATTR", sym, t->n, up);
+        longs(f, decl, t->n, NULL, t->sm, NULL, NULL);
+    }
+    if (t->strategy == BG_LUT_INDEXED) {
+        fprintf(f, "/* the segment of code %s_CODE_LO + k 2^%s_INDEX_SHIFT; one more segment "
+                   "starts\n * at most inside each such bucket */\n", up, up);
+        snprintf(decl, sizeof decl, "static const %s %s_index[%zu] %s_ATTR",
+                 idx8 ? "uint8_t" : "uint16_t", sym, t->nidx, up);
+        longs(f, decl, t->nidx, NULL, NULL, NULL, t->idx);
+    }
+    fprintf(f, "\n/* Temperature %sfor an ADC code, or %s_BELOW / %s_ABOVE. */\n",
+            flt ? "" : "in counts ", up, up);
+    fprintf(f, "%s %s_lookup(uint32_t code);\n", flt ? "float" : "int32_t", sym);
+    fprintf(f, "%s %s_lookup(uint32_t code)\n{\n", flt ? "float" : "int32_t", sym);
+    if (t->strategy == BG_LUT_MINIMAL)
+        fprintf(f, "    uint32_t i = 0u, hi = %s_SEGMENTS - 1u, mid;\n", up);
+    else
+        fprintf(f, "    uint32_t i;\n");
+    fprintf(f, flt ? "    float w, p;\n" : "    int32_t v;\n");
+    fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_BELOW;\n", up, up);
+    fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_ABOVE;\n", up, up);
+    if (t->strategy == BG_LUT_MINIMAL)
+        fprintf(f, "    while (i < hi) { /* the last segment starting at or below code */\n"
+                   "        mid = (i + hi + 1u) >> 1;\n"
+                   "        if ((uint32_t)%s_READ_CODE(&%s_start[mid]) <= code)\n"
+                   "            i = mid;\n        else\n            hi = mid - 1u;\n    }\n",
+                up, sym);
+    else
+        fprintf(f, "    i = (uint32_t)%s_READ_INDEX(&%s_index[(code - (uint32_t)%s_CODE_LO) >> "
+                   "%s_INDEX_SHIFT]);\n    if (code >= (uint32_t)%s_READ_CODE(&%s_start[i + 1u]))"
+                   "\n        i++;\n", up, sym, up, up, up, sym);
+    if (flt)
+        fprintf(f, "    w = (float)(code - (uint32_t)%s_READ_CODE(&%s_start[i]));\n"
+                   "    p = %s_READ_F32(&%s_slope[i]) * w;\n"
+                   "    return %s_READ_F32(&%s_base[i]) + p;\n}\n", up, sym, up, sym, up, sym);
+    else
+        fprintf(f, "    /* in 0 .. 2^30 by construction: shift a non-negative value */\n"
+                   "    v = %s_READ_S32(&%s_base[i]) + %s_READ_S32(&%s_slope[i]) *\n"
+                   "        (int32_t)(code - (uint32_t)%s_READ_CODE(&%s_start[i]));\n"
+                   "    return %s_VALUE_OFFSET + (int32_t)((uint32_t)v >> %s_FRAC);\n}\n",
+                up, sym, up, sym, up, sym, up, up);
+}
+
+int bg_lut_emit_c(const bg_lut *t, const bg_lut_spec *s, const char *sym, const char *version,
+                  FILE *f, bg_error *err)
+{
+    char up[64];
+    size_t k;
+
+    if (!ident_ok(sym) || strlen(sym) >= sizeof up - 1)
+        return bg_error_set(err, BG_EINVAL, "symbol '%s': not a C identifier", sym ? sym : "");
+    for (k = 0; sym[k]; k++)
+        up[k] = (char)(sym[k] >= 'a' && sym[k] <= 'z' ? sym[k] - 'a' + 'A' : sym[k]);
+    up[k] = '\0';
+    fprintf(f, "/* Code generated by bandgap %s; DO NOT EDIT. */\n", version);
+    provenance(t, s, up, f);
+    if (t->strategy == BG_LUT_UNIFORM)
+        emit_uniform(t, s, sym, up, f);
+    else
+        emit_segments(t, s, sym, up, f);
+    if (ferror(f))
+        return bg_error_set(err, BG_EIO, "cannot write the table");
+    return BG_OK;
+}

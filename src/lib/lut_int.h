@@ -1,0 +1,38 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Internal: the pieces of the table builder shared by lut.c and lut_seg.c. */
+#ifndef BANDGAP_LUT_INT_H
+#define BANDGAP_LUT_INT_H
+
+#include "bandgap/lut.h"
+
+/* The integer band of one code: outputs lo .. hi (counts) keep it within the bound. */
+typedef struct bgi_band {
+    long long lo, hi;
+} bgi_band;
+
+/* The bands of the codes t->code_lo .. t->code_hi at exact temperatures 'tk': the outputs o
+** with |o / cpk + off - tk| <= e, settled with the expression the measurement uses. */
+void bgi_lut_make_bands(const bg_lut *t, const double *tk, double cpk, double off, double e,
+                        bgi_band *b);
+
+/* Segments for the codes t->code_lo .. t->code_hi whose output counts must lie in band[c -
+** code_lo]; 'frac' fixed-point bits (-1: automatic).  Fills t->n, sx, sy, sm, frac, yoff. */
+int bgi_lut_segments(bg_lut *t, const bgi_band *band, int frac, bg_error *err);
+
+/* Whether one line start 'y', slope 'm' (at 'frac' bits, relative to 'yoff') keeps the codes
+** s .. e (offsets from code_lo) inside their bands; the exact test the search uses. */
+int bgi_lut_feasible(const bgi_band *band, long s, long e, unsigned frac, long long yoff,
+                     long long *y, long long *m);
+
+/* The fewest breakpoints of a table whose values lie on the curve ('on' counts at every code,
+** rounded) read with y_i + round((y_j - y_i)(c - x_i) / (x_j - x_i)); 0 when none exists. */
+size_t bgi_lut_oncurve_min(const long long *on, const bgi_band *band, size_t ncodes);
+
+/* The same interpolation, checked code by code (exact integer arithmetic). */
+int bgi_lut_oncurve_ok(const long long *on, const bgi_band *band, size_t i, size_t j);
+
+/* The index of an indexed table: the largest bucket shift for which each bucket holds at
+** most one segment change.  Fills t->idx, nidx, ishift. */
+int bgi_lut_index(bg_lut *t, bg_error *err);
+
+#endif

@@ -1,0 +1,251 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Non-uniform tables: the fewest segments for a bound, and the on-curve count to beat.
+**
+** A segment starting at code s outputs, at code c, yoff + floor((Y + m (c - s)) / 2^F) for
+** integers Y, m.  The bound at c is an integer band [lo_c, hi_c] of outputs, so the segment
+** meets it iff  (lo_c - yoff) 2^F <= Y + m (c - s) <= (hi_c - yoff + 1) 2^F - 1  for every c:
+** a set of integer points (Y, m) in a convex polygon.  For a fixed m the feasible Y form the
+** interval [G(m), H(m)] with G(m) = max_c (lo'_c - m d_c) convex and H(m) = min_c (hi'_c -
+** m d_c) concave, so G - H is convex in m and its minimum over the integers is found by a
+** binary search on the sign of its forward difference: the test is exact.
+**
+** Feasibility is hereditary: the codes s' .. e' of a feasible s .. e are met by the same line,
+** started at s' with Y' = Y + m (s' - s).  Then taking, from the first uncovered code, the
+** longest feasible segment is optimal (the usual exchange argument: after k segments the
+** greedy cover reaches at least as far as any cover with k segments), so the count is the
+** exact minimum for this arithmetic.  tests/test_lut.c checks it against an exhaustive
+** search over all segmentations and all (Y, m) on small ranges.
+**
+** The values of a classic table lie on the curve; the interpolation between neighbours is
+** fixed by them.  Its fewest breakpoints come from a shortest path over the codes (greedy is
+** not minimal there: the curve's inflection lets a longer chord fit where a shorter one did
+** not); a chord from i is tested against a cone of slopes narrowed code by code, which ends
+** the scan from i when it empties. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "lut_int.h"
+
+/* G(m) - H(m) over the codes s .. e */
+static long long gap(const bgi_band *b, long s, long e, unsigned frac, long long yoff, long long m,
+                     long long *g_out, long long *h_out)
+{
+    long long g = -(1LL << 62), h = 1LL << 62;
+    for (long c = s; c <= e; c++) {
+        long long md = m * (long long)(c - s);
+        long long lo = (b[c].lo - yoff) * (1LL << frac) - md;
+        long long hi = (b[c].hi - yoff + 1) * (1LL << frac) - 1 - md;
+        if (lo > g)
+            g = lo;
+        if (hi < h)
+            h = hi;
+    }
+    if (g_out)
+        *g_out = g, *h_out = h;
+    return g - h;
+}
+
+static long long floor_div(long long a, long long b)
+{
+    long long q = a / b;
+    return (a % b != 0 && ((a < 0) != (b < 0))) ? q - 1 : q;
+}
+
+int bgi_lut_feasible(const bgi_band *b, long s, long e, unsigned frac, long long yoff,
+                     long long *y, long long *m)
+{
+    long long one = 1LL << frac, mlo, mhi, g, h;
+    if (e == s) {
+        *m = 0;
+        *y = (b[s].lo - yoff) * one + ((b[s].hi - b[s].lo + 1) * one - 1) / 2;
+        return 1;
+    }
+    /* the first and last codes alone bound the slope */
+    long long n1 = e - s;
+    mlo = -floor_div(-((b[e].lo - yoff) * one - ((b[s].hi - yoff + 1) * one - 1)), n1);
+    mhi = floor_div((b[e].hi - yoff + 1) * one - 1 - (b[s].lo - yoff) * one, n1);
+    if (mlo > mhi)
+        return 0;
+    while (mlo < mhi) {
+        long long mid = mlo + (mhi - mlo) / 2;
+        if (gap(b, s, e, frac, yoff, mid + 1, NULL, NULL) >=
+            gap(b, s, e, frac, yoff, mid, NULL, NULL))
+            mhi = mid;
+        else
+            mlo = mid + 1;
+    }
+    if (gap(b, s, e, frac, yoff, mlo, &g, &h) > 0)
+        return 0;
+    *m = mlo;
+    *y = g + (h - g) / 2; /* the middle of the feasible starts */
+    return 1;
+}
+
+int bgi_lut_segments(bg_lut *t, const bgi_band *b, int frac_req, bg_error *err)
+{
+    long ncode = t->code_hi - t->code_lo + 1, s = 0, prev = 1;
+    long long yoff = b[0].lo, top = b[0].hi;
+    size_t cap = 16, n = 0;
+    unsigned frac;
+
+    for (long c = 0; c < ncode; c++) {
+        if (b[c].lo > b[c].hi)
+            return bg_error_set(err, BG_EINVAL, "at code %ld no output value is within the "
+                                "bound: it is below the output's resolution", t->code_lo + c);
+        yoff = b[c].lo < yoff ? b[c].lo : yoff;
+        top = b[c].hi > top ? b[c].hi : top;
+    }
+    /* Y + m d stays in 0 .. (top - yoff + 1) 2^F <= 2^29, and |m d| below 2^30: int32 */
+    long long span = top - yoff + 1;
+    if (frac_req >= 0)
+        frac = (unsigned)frac_req;
+    else
+        for (frac = 16; frac > 0 && span * (1LL << frac) > (1LL << 29); frac--)
+            ;
+    if (span * (1LL << frac) > (1LL << 29))
+        return bg_error_set(err, BG_EINVAL, "the values span %lld counts: too many for 32-bit "
+                            "segments (use a coarser resolution)", span);
+    t->frac = frac, t->yoff = (int32_t)yoff;
+    t->sx = malloc(cap * sizeof *t->sx), t->sy = malloc(cap * sizeof *t->sy);
+    t->sm = malloc(cap * sizeof *t->sm);
+    if (!t->sx || !t->sy || !t->sm)
+        return bg_error_set(err, BG_ENOMEM, "out of memory for segments");
+    while (s < ncode) {
+        long long y, m;
+        long ok = s, bad = -1, e;
+        /* gallop from the previous length, then bisect between the last fit and first miss */
+        for (long step = prev < 2 ? 2 : prev;;) {
+            e = s + step - 1 < ncode - 1 ? s + step - 1 : ncode - 1;
+            if (e <= ok)
+                break; /* s is the last code */
+            if (!bgi_lut_feasible(b, s, e, frac, yoff, &y, &m)) {
+                bad = e;
+                break;
+            }
+            ok = e;
+            if (e == ncode - 1)
+                break;
+            step *= 2;
+        }
+        while (bad > ok + 1) {
+            long mid = ok + (bad - ok) / 2;
+            if (bgi_lut_feasible(b, s, mid, frac, yoff, &y, &m))
+                ok = mid;
+            else
+                bad = mid;
+        }
+        bgi_lut_feasible(b, s, ok, frac, yoff, &y, &m);
+        if (n + 1 >= cap) {
+            cap *= 2;
+            long *nx = realloc(t->sx, cap * sizeof *nx);
+            if (nx)
+                t->sx = nx;
+            int32_t *ny = realloc(t->sy, cap * sizeof *ny);
+            if (ny)
+                t->sy = ny;
+            int32_t *nm = realloc(t->sm, cap * sizeof *nm);
+            if (nm)
+                t->sm = nm;
+            if (!nx || !ny || !nm)
+                return bg_error_set(err, BG_ENOMEM, "out of memory for segments");
+        }
+        t->sx[n] = t->code_lo + s, t->sy[n] = (int32_t)y, t->sm[n] = (int32_t)m;
+        n++;
+        prev = ok - s + 1;
+        s = ok + 1;
+    }
+    t->sx[n] = t->code_hi + 1;
+    t->n = n;
+    return BG_OK;
+}
+
+/* round half away from zero of a / b, b > 0 */
+static long long rdiv(long long a, long long b)
+{
+    return a >= 0 ? (a + b / 2) / b : -((-a + b / 2) / b);
+}
+
+int bgi_lut_oncurve_ok(const long long *on, const bgi_band *b, size_t i, size_t j)
+{
+    long long dy = on[j] - on[i], dx = (long long)(j - i);
+    for (size_t c = i + 1; c < j; c++) {
+        long long o = on[i] + rdiv(dy * (long long)(c - i), dx);
+        if (o < b[c].lo || o > b[c].hi)
+            return 0;
+    }
+    return 1;
+}
+
+size_t bgi_lut_oncurve_min(const long long *on, const bgi_band *b, size_t nc)
+{
+    size_t *best = malloc(nc * sizeof *best), res = 0;
+    if (!best)
+        return 0;
+    for (size_t c = 0; c < nc; c++)
+        best[c] = (size_t)-1;
+    if (on[0] >= b[0].lo && on[0] <= b[0].hi)
+        best[0] = 1;
+    for (size_t i = 0; i + 1 < nc; i++) {
+        if (best[i] == (size_t)-1)
+            continue;
+        double slo = -INFINITY, shi = INFINITY;
+        for (size_t j = i + 1; j < nc; j++) {
+            double d = (double)(j - i), s = (double)(on[j] - on[i]) / d;
+            double tol = 1e-9 * (1.0 + fabs(s));
+            if (on[j] >= b[j].lo && on[j] <= b[j].hi && s >= slo - tol && s <= shi + tol &&
+                best[i] + 1 < best[j]) {
+                /* strictly inside the cone: every code between rounds into its band */
+                if ((s > slo + tol && s < shi - tol) || bgi_lut_oncurve_ok(on, b, i, j))
+                    best[j] = best[i] + 1;
+            }
+            double a = ((double)(b[j].lo - on[i]) - 0.5) / d;
+            double z = ((double)(b[j].hi - on[i]) + 0.5) / d;
+            slo = a > slo ? a : slo;
+            shi = z < shi ? z : shi;
+            if (slo > shi + 1e-9 * (1.0 + fabs(shi)))
+                break;
+        }
+    }
+    if (best[nc - 1] != (size_t)-1)
+        res = best[nc - 1];
+    free(best);
+    return res;
+}
+
+int bgi_lut_index(bg_lut *t, bg_error *err)
+{
+    long ncode = t->code_hi - t->code_lo + 1;
+    unsigned k;
+    /* seg[c]: the segment of offset c, walked bucket by bucket */
+    for (k = 24;; k--) {
+        long bucket = 1L << k;
+        int ok = 1;
+        size_t i = 0;
+        if (bucket > 2 * ncode && k > 0)
+            continue;
+        for (long b0 = 0; b0 < ncode && ok; b0 += bucket) {
+            long last = b0 + bucket - 1 < ncode - 1 ? b0 + bucket - 1 : ncode - 1;
+            while (t->sx[i + 1] - t->code_lo <= b0)
+                i++;
+            /* at most one segment start after the bucket's first code */
+            if (i + 2 <= t->n && t->sx[i + 2] - t->code_lo <= last)
+                ok = 0;
+        }
+        if (ok || k == 0)
+            break;
+    }
+    t->ishift = k;
+    t->nidx = (size_t)((ncode - 1) >> k) + 1;
+    t->idx = malloc(t->nidx * sizeof *t->idx);
+    if (!t->idx)
+        return bg_error_set(err, BG_ENOMEM, "out of memory for the index");
+    size_t i = 0;
+    for (size_t b0 = 0; b0 < t->nidx; b0++) {
+        long off = (long)(b0 << k);
+        while (t->sx[i + 1] - t->code_lo <= off)
+            i++;
+        t->idx[b0] = (uint16_t)i;
+    }
+    return BG_OK;
+}
