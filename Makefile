@@ -25,7 +25,7 @@ CMOCKA     = $(shell pkg-config --cflags --libs cmocka 2>/dev/null)
 CFLAGS_ALL = $(STD) $(WARN) $(OPT) -fvisibility=hidden -Iinclude -DBG_VERSION='"$(VERSION)"' \
              $(PKG_CFLAGS)
 DEBIAN_PKGS = libgsl-dev libsqlite3-dev libcmocka-dev pkg-config python3-numpy python3-scipy \
-              mandoc sqlite3 clang libclang-rt-14-dev
+              mandoc sqlite3 clang libclang-rt-14-dev chromium chromium-driver libxml2-utils
 
 LIB_SRC = $(wildcard src/lib/*.c)
 CLI_SRC = $(wildcard src/cli/*.c)
@@ -46,7 +46,8 @@ deps:
 	@missing=""; \
 	for p in gsl sqlite3 cmocka; do pkg-config --exists $$p 2>/dev/null || missing=yes; done; \
 	$(PYTHON) -c 'import numpy, scipy' 2>/dev/null || missing=yes; \
-	for c in mandoc sqlite3 clang; do command -v $$c >/dev/null 2>&1 || missing=yes; done; \
+	for c in mandoc sqlite3 clang chromium chromedriver xmllint; do \
+	  command -v $$c >/dev/null 2>&1 || missing=yes; done; \
 	if [ -n "$$missing" ]; then \
 	  if [ "$$(id -u)" = 0 ]; then SUDO=""; \
 	  elif command -v sudo >/dev/null 2>&1 && sudo -n true 2>/dev/null; then SUDO="sudo"; \

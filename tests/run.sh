@@ -1,7 +1,7 @@
 #!/bin/sh
 # SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
 # Run the whole test suite against the build in $BUILD: unit tests (cmocka), CLI golden
-# tests, the numpy cross-check and the meta checks.  Ends with "N passed, N failed".
+# tests, the HTML reports in Chromium, the numpy cross-check and the meta checks.  Ends with "N passed, N failed".
 BUILD=${BUILD:-build}
 PYTHON=${PYTHON:-/usr/bin/python3}
 pass=0
@@ -26,20 +26,26 @@ for t in "$BUILD"/tests/test_*; do
     [ "$rc" -ne 0 ] && failed="$failed $(basename "$t")"
 done
 
+# a suite printing "ok NAME" / "not ok NAME" lines: $1 = name, $2 = its log, $3 = its status
+tally() {
+    cat "$2"
+    n_ok=$(grep -c '^ok ' "$2")
+    n_bad=$(grep -c '^not ok ' "$2")
+    pass=$((pass + n_ok))
+    fail=$((fail + n_bad))
+    [ "$3" -ne 0 ] && [ "$n_bad" -eq 0 ] && count 1 "$1-runner"
+    [ "$n_bad" -gt 0 ] && failed="$failed $1"
+}
+
 sh tests/cli/run.sh "$BUILD/bandgap" > "$BUILD/cli-tests.log" 2>&1
-cli_rc=$?
-cat "$BUILD/cli-tests.log"
-cli_pass=$(grep -c '^ok ' "$BUILD/cli-tests.log")
-cli_fail=$(grep -c '^not ok ' "$BUILD/cli-tests.log")
-pass=$((pass + cli_pass))
-fail=$((fail + cli_fail))
-[ "$cli_rc" -ne 0 ] && [ "$cli_fail" -eq 0 ] && count 1 cli-runner
-[ "$cli_fail" -gt 0 ] && failed="$failed cli"
+tally cli "$BUILD/cli-tests.log" $?
 
 sh tests/faults.sh "$BUILD/bandgap"
 count $? faults
 sh tests/meta.sh "$BUILD/bandgap"
 count $? meta
+sh tests/reports.sh "$BUILD/bandgap" "$PYTHON" > "$BUILD/reports.log" 2>&1
+tally reports "$BUILD/reports.log" $?
 "$PYTHON" tests/xcheck_numpy.py "$BUILD/bandgap"
 count $? xcheck_numpy
 

@@ -207,6 +207,33 @@ BG_API int bg_store_lot_history(bg_store *st, const char *lot_code, const char *
 BG_API int bg_store_part_lots(bg_store *st, const char *part, bg_lot_cb cb, void *ctx,
                               bg_error *err);
 
+/* ---- issued artifacts (reports) ---- */
+
+typedef struct bg_artifact {
+    long long id, fit_id, replaces_id, replaced_by; /* 0: none */
+    char kind[BG_TEXT], version[BG_TIME], created_at[BG_TIME];
+    char *spec;             /* JSON: {"subject": ..., and what the report was made from} */
+    char *content;          /* the bytes as issued, NUL-terminated */
+    size_t len;
+} bg_artifact;
+BG_API void bg_artifact_release(bg_artifact *a);
+
+/* Makes the content of artifact 'id' issued at 'created_at' (malloc'd, '*len' bytes). */
+typedef int (*bg_artifact_gen)(long long id, const char *created_at, void *ctx, char **content,
+                               size_t *len, bg_error *err);
+/* Issue an artifact in one write transaction: the identifier is the next id, 'gen' makes the
+** content with it, and the row is stored.  'spec' is JSON whose "subject" names what it is
+** about; a subject that already has an artifact of this kind is BG_EINVAL unless
+** 'replaces_id' names its newest one (a reissue), and a 'replaces_id' without one is too. */
+BG_API int bg_store_artifact_issue(bg_store *st, const char *kind, const char *subject,
+                                   long long fit_id, const char *spec, long long replaces_id,
+                                   const char *version, bg_artifact_gen gen, void *ctx,
+                                   long long *id, bg_error *err);
+BG_API int bg_store_artifact_get(bg_store *st, long long id, bg_artifact *out, bg_error *err);
+/* Every artifact, oldest first; 'content' is NULL in the rows passed. */
+typedef int (*bg_artifact_cb)(const bg_artifact *a, void *ctx);
+BG_API int bg_store_artifact_each(bg_store *st, bg_artifact_cb cb, void *ctx, bg_error *err);
+
 /* The current time as ISO 8601 UTC ("2026-12-01T10:00:00Z"); SOURCE_DATE_EPOCH, when set,
 ** replaces the clock (reproducible records and tests). */
 BG_API char *bg_store_now(char *buf, size_t size);

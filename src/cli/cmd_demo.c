@@ -160,17 +160,46 @@ int cmd_demo(int argc, char **argv, struct cli_ctx *ctx)
         if ((rc = run(&dctx, cmd_drift, a_dpart)) != BG_OK && rc != CLI_FLAGGED)
             return rc;
         /* An invented board: the probe on the low side of a 10k divider, 12-bit ADC. */
-        char cfile[4200];
+        char cfile[4200], tfile[4200];
         snprintf(cfile, sizeof cfile, "%s/glasshouse_ntc.c", dir);
+        snprintf(tfile, sizeof tfile, "%s/table-report.html", dir);
         const char *a_lut[] = { "lut", "--probe", DEMO_PROBE, "--fixed", "10k", "--sensor-side",
                                 "low", "--adc-bits", "12", "--range", "-15C:55C", "--max-error",
                                 "0.05C", "--symbol", "glasshouse_ntc", "--fixed-tol", "0.1%",
                                 "--excitation", "3.3", "--dissipation", "1.5mW/K", "-o", cfile,
-                                NULL };
+                                "--report", tfile, NULL };
         printf("\n== a firmware table for an invented board (probe %s on the low side of a 10k"
                "\n   divider, 12-bit ADC, 3.3 V): %s ==\n\n", DEMO_PROBE, cfile);
         if ((rc = run(&dctx, cmd_lut, a_lut)) != BG_OK)
             return rc;
+        /* the reports: the probe's newest calibration, the recalibrated lot, the table */
+        bg_store *st = NULL;
+        bg_probe pr;
+        bg_error err = BG_ERROR_INIT;
+        long long run_id = 0;
+        if ((rc = cli_open_store(&dctx, 0, &st)) != BG_OK)
+            return rc;
+        rc = bg_store_probe_get(st, DEMO_PROBE, &pr, &err);
+        if (rc == BG_OK)
+            rc = bg_store_run_latest(st, pr.id, &run_id, &err);
+        bg_store_close(st);
+        if (rc != BG_OK)
+            return cli_fail("demo", &err);
+        char rid[32], rfile[4200], lfile[4200];
+        snprintf(rid, sizeof rid, "%lld", run_id);
+        snprintf(rfile, sizeof rfile, "%s/calibration-report.html", dir);
+        snprintf(lfile, sizeof lfile, "%s/lot-report.html", dir);
+        const char *a_rr[] = { "report", "--run", rid, "--lab", "Lindqvist cooperative test "
+                               "bench (invented)", "--customer", "Lindqvist glasshouse "
+                               "cooperative (invented)", "--dissipation", "1.5mW/K", "-o",
+                               rfile, NULL };
+        const char *a_lr[] = { "report", "--lot", DEMO_LOT, "--lab", "Lindqvist cooperative "
+                               "test bench (invented)", "-o", lfile, NULL };
+        printf("\n== reports (self-contained HTML; open them in a browser or print them) ==\n\n");
+        if ((rc = run(&dctx, cmd_report, a_rr)) != BG_OK ||
+            (rc = run(&dctx, cmd_report, a_lr)) != BG_OK)
+            return rc;
+        printf("table report: %s\n", tfile);
     }
     printf("\ndatabase: %s  (try: bandgap --db %s list fits)\n", db, db);
     return BG_OK;

@@ -38,6 +38,7 @@ struct dopt {
     const char *since;
     size_t baseline;
     int csv, json;
+    FILE *html; /* the lot report: sections in HTML instead of text */
 };
 
 
@@ -126,6 +127,18 @@ static int compare_one(const struct hist *h, size_t a, size_t b, const bg_lot *l
         json_bool(j, "flag_limit", f_abs);
         json_bool(j, "flag_rate", f_rate);
         json_obj_end(j);
+    } else if (o->html) {
+        FILE *f = o->html;
+        fprintf(f, "<tr class=\"drift%s\"><td>", f_abs || f_rate ? " flag" : "");
+        html_esc(f, fa->serial);
+        fprintf(f, "</td><td class=\"n\">%lld</td><td class=\"n\">%lld</td>", fa->id, fb->id);
+        html_num(f, "td", "n years", "%.3f", d.years);
+        html_num(f, "td", "n maxabs", "%.3f", d.max_abs_err_mk);
+        html_num(f, "td", "n dr25", "%+.4f", d.d_r25_pct);
+        html_num(f, "td", "n db", "%+.3f", d.d_b_k);
+        html_num(f, "td", "n rate", "%.3f", d.rate_mk_per_year);
+        fprintf(f, "<td>%s%s</td></tr>\n", f_abs ? "beyond the limit " : "",
+                f_rate ? "drift rate beyond the limit" : "");
     } else if (o->csv) {
         for (size_t i = 0; i < d.nat; i++)
             printf("%s,%lld,%lld,%.17g,%.17g,%.17g,%.17g,%.17g,%.17g,%d,%d\n", fa->serial,
@@ -168,7 +181,14 @@ static int drift_probe(bg_store *st, const char *serial, struct dopt *o, int *fl
         o->limit_k = tol_limit_k(&lot);
     if (o->rate_k <= 0.0)
         o->rate_k = o->limit_k;
-    if (o->json) {
+    if (o->html) {
+        if (h.n < 2) {
+            fprintf(o->html, "<tr class=\"drift single\"><td>");
+            html_esc(o->html, serial);
+            fprintf(o->html, "</td><td colspan=\"8\">%s</td></tr>\n", h.n == 1 ?
+                    "only one calibration: nothing to compare yet" : "no fitted calibration");
+        }
+    } else if (o->json) {
         json_begin(&j, stdout);
         json_obj(&j, NULL);
         json_str(&j, "probe", serial);
@@ -178,7 +198,9 @@ static int drift_probe(bg_store *st, const char *serial, struct dopt *o, int *fl
         json_num(&j, "limit_mk", 1e3 * o->limit_k);
         json_num(&j, "rate_limit_mk_per_year", 1e3 * o->rate_k);
         json_arr(&j, "since_previous");
-    } else if (o->csv)
+    } else if (o->html)
+        ;
+    else if (o->csv)
         printf("probe,from_fit,to_fit,years,t_c,as_found_mk,d_r25_pct,d_b_k,rate_mk_per_year,"
                "flag_limit,flag_rate\n");
     else {
@@ -196,9 +218,9 @@ static int drift_probe(bg_store *st, const char *serial, struct dopt *o, int *fl
     if (o->json) {
         json_arr_end(&j);
         json_arr(&j, "since_first");
-    } else if (!o->csv && h.n > 2)
+    } else if (!o->csv && !o->html && h.n > 2)
         printf("  against the first calibration:\n");
-    for (size_t i = 2; i < h.n && rc == BG_OK; i++)
+    for (size_t i = 2; i < h.n && rc == BG_OK && !o->html; i++)
         rc = compare_one(&h, 0, i, &lot, o, o->json ? &j : NULL, flagged, err);
     if (o->json) {
         json_arr_end(&j);
@@ -258,6 +280,105 @@ static void stat_json(json_out *j, const char *key, const bg_stats *s, double cp
     json_num(j, "max", s->max);
     json_num(j, "cpk", cpk);
     json_obj_end(j);
+}
+
+/* The lot report's statistics section: the same numbers as the JSON of drift --lot. */
+static void lot_html(FILE *f, const char *code, const bg_lot *lot, const struct lotdata *d,
+                     const double *r25, const double *b, const double *dev, const double *at,
+                     size_t nat, const bg_stats *sr, const bg_stats *sb, double cpk_r,
+                     double cpk_b, double g_r, double g_b, double gc, double alpha, long ir,
+                     long ib, const double *band_lo, const double *band_hi, size_t nout)
+{
+    fprintf(f, "<h2>Probes (newest fit of each)</h2>\n<table class=\"data\" id=\"probes\">\n"
+               "<tr><th>probe</th><th class=\"n\">fit</th><th class=\"n\">R25 deviation / %%"
+               "</th><th class=\"n\">B / K</th><th class=\"n\">max |deviation| / mK</th>"
+               "<th>flags</th></tr>\n");
+    for (size_t i = 0; i < d->n; i++) {
+        int out = fabs(r25[i]) > 100.0 * lot->tol_r25 ||
+                  fabs(b[i] - lot->beta_k) > lot->beta_k * lot->tol_beta;
+        int outl = (long)i == ir || (long)i == ib;
+        double mx = 0.0;
+        for (size_t k = 0; k < nat; k++)
+            mx = fmax(mx, fabs(dev[i * nat + k]));
+        fprintf(f, "<tr class=\"probe%s\"><td>", out || outl ? " flag" : "");
+        html_esc(f, d->serial[i]);
+        fprintf(f, "</td><td class=\"n\">%lld</td>", d->fit[i].id);
+        html_num(f, "td", "n r25dev", "%+.4f", r25[i]);
+        html_num(f, "td", "n b", "%.2f", b[i]);
+        html_num(f, "td", "n maxdev", "%.3f", mx);
+        fprintf(f, "<td>%s%s</td></tr>\n", out ? "out of tolerance " : "",
+                outl ? "outlier (Grubbs)" : "");
+    }
+    fprintf(f, "</table>\n<h2>Lot statistics</h2>\n<table class=\"data\" id=\"stats\">\n"
+               "<tr><th></th><th class=\"n\">mean</th><th class=\"n\">sd</th><th class=\"n\">"
+               "min</th><th class=\"n\">max</th><th class=\"n\">Cpk</th></tr>\n");
+    const bg_stats *st[2] = { sr, sb };
+    const double cp[2] = { cpk_r, cpk_b };
+    const char *nm[2] = { "R25 deviation / %", "B / K" }, *id[2] = { "r25_dev_pct", "b_k" };
+    for (int k = 0; k < 2; k++) {
+        fprintf(f, "<tr class=\"stat\" data-key=\"%s\"><td>%s</td>", id[k], nm[k]);
+        html_num(f, "td", "n mean", "%.4f", st[k]->mean);
+        html_num(f, "td", "n sd", "%.4f", st[k]->sd);
+        html_num(f, "td", "n min", "%.4f", st[k]->min);
+        html_num(f, "td", "n max", "%.4f", st[k]->max);
+        html_num(f, "td", "n cpk", "%.2f", cp[k]);
+        fputs("</tr>\n", f);
+    }
+    fputs("</table>\n<p>Apparent activation energy E = kB = ", f);
+    html_num(f, "span", "ea", "%.4f", bg_activation_energy_ev(sb->mean));
+    fprintf(f, " eV (k the Boltzmann constant, B the lot's mean B%.0f/%.0f). Nominal: R25 %.6g "
+               "ohm &#177;%.3g %%, B %.2f K &#177;%.3g %%. %zu probe(s) out of tolerance.</p>\n",
+            lot->pair_t1_k - BG_ZERO_C_K, lot->pair_t2_k - BG_ZERO_C_K, lot->r25_ohm,
+            100 * lot->tol_r25, lot->beta_k, 100 * lot->tol_beta, nout);
+    fputs("<p id=\"grubbs\">Outliers by Grubbs' test (two-sided, significance ", f);
+    html_num(f, "span", "alpha", "%.3g", alpha);
+    fputs("): G(R25) ", f);
+    html_num(f, "span", "g_r25", "%.3f", g_r);
+    fputs(", G(B) ", f);
+    html_num(f, "span", "g_b", "%.3f", g_b);
+    fputs(", critical value ", f);
+    html_num(f, "span", "g_crit", "%.3f", gc);
+    fputs(".</p>\n", f);
+    /* the histogram of R25 deviations, with the tolerance limits */
+    enum { NBIN = 12 };
+    double lo = fmin(sr->min, -100.0 * lot->tol_r25), hi = fmax(sr->max, 100.0 * lot->tol_r25);
+    double edges[NBIN + 1];
+    size_t cnt[NBIN] = { 0 }, top = 1;
+    for (int k = 0; k <= NBIN; k++)
+        edges[k] = lo + (hi - lo) * k / NBIN;
+    for (size_t i = 0; i < d->n; i++) {
+        int k = hi > lo ? (int)floor((r25[i] - lo) / (hi - lo) * NBIN) : 0;
+        k = k < 0 ? 0 : k >= NBIN ? NBIN - 1 : k;
+        cnt[k]++;
+    }
+    for (int k = 0; k < NBIN; k++)
+        top = cnt[k] > top ? cnt[k] : top;
+    html_chart hc = { "histogram", "R25 deviation of the lot's probes", "R25 deviation / %",
+                      "probes", 0, 0, 0, 0, 0 };
+    html_chart_begin(f, &hc, lo, hi, 0.0, (double)top);
+    html_chart_bars(f, &hc, edges, cnt, NBIN);
+    html_chart_end(f, &hc, "Bars: probes per bin; the axis spans at least the R25 tolerance");
+    /* deviation from the nominal curve against the interchangeability band */
+    fputs("<h2>Deviation from the nominal curve</h2>\n<table class=\"data\" id=\"band\">\n"
+          "<tr><th class=\"n\">T / degC</th><th class=\"n\">measured min / mK</th>"
+          "<th class=\"n\">measured max / mK</th><th class=\"n\">band low / mK</th>"
+          "<th class=\"n\">band high / mK</th></tr>\n", f);
+    for (size_t k = 0; k < nat; k++) {
+        double mn = INFINITY, mx = -INFINITY;
+        for (size_t i = 0; i < d->n; i++)
+            mn = fmin(mn, dev[i * nat + k]), mx = fmax(mx, dev[i * nat + k]);
+        fputs("<tr class=\"bandrow\">", f);
+        html_num(f, "td", "n t", "%.3f", at[k] - BG_ZERO_C_K);
+        html_num(f, "td", "n mn", "%+.2f", mn);
+        html_num(f, "td", "n mx", "%+.2f", mx);
+        html_num(f, "td", "n blo", "%+.2f", band_lo[k]);
+        html_num(f, "td", "n bhi", "%+.2f", band_hi[k]);
+        fputs("</tr>\n", f);
+    }
+    fputs("</table>\n<p class=\"meta\">The band is the nominal curve at the corners of the R25 "
+          "and B tolerances; the measured deviation also holds the difference in shape between "
+          "a real curve and the beta model.</p>\n", f);
+    (void)code;
 }
 
 static int lot_stats(bg_store *st, const char *code, struct dopt *o, int print, int *flagged,
@@ -358,6 +479,12 @@ static int lot_stats(bg_store *st, const char *code, struct dopt *o, int print, 
     }
     if (!print)
         goto done;
+    if (o->html) {
+        lot_html(o->html, code, &lot, &d, r25, b, dev, at, nat, &sr, &sb, cpk_r, cpk_b,
+                 have_g ? g_r : NAN, have_g ? g_b : NAN, gc_r, o->alpha,
+                 g_flag_r ? (long)ir : -1, g_flag_b ? (long)ib : -1, band_lo, band_hi, nout);
+        goto done;
+    }
     if (o->json) {
         json_begin(&j, stdout);
         json_obj(&j, NULL);
@@ -522,7 +649,10 @@ static int drift_part(bg_store *st, const char *part, struct dopt *o, int *flagg
         int f = 0;
         bg_error e2 = BG_ERROR_INIT;
         if (lot_stats(st, pd.code[i], o, 0, &f, &sum[k], &e2) != BG_OK || sum[k].n < 2) {
-            if (!o->json && !o->csv)
+            if (o->html)
+                fprintf(o->html, "<p>Lot %s: not charted (%s).</p>\n", pd.code[i],
+                        e2.msg[0] ? e2.msg : "fewer than 2 fitted probes");
+            else if (!o->json && !o->csv)
                 printf("lot %s: not charted (%s)\n", pd.code[i],
                        e2.msg[0] ? e2.msg : "fewer than 2 fitted probes");
             continue;
@@ -576,6 +706,74 @@ static int drift_part(bg_store *st, const char *part, struct dopt *o, int *flagg
     bg_chart_rules(&csb, sb, k, fsb);
     for (size_t i = 0; i < k; i++)
         *flagged |= (fxr[i] | fsr[i] | fxb[i] | fsb[i]) != 0;
+    if (o->html) {
+        const bg_chart *ch[6] = { &cxr, &csr, &cxb, &csb, &cxa, &csa };
+        const double *val[6] = { mr, sr, mb, sb, am, as };
+        const unsigned *fl[6] = { fxr, fsr, fxb, fsb, fxa, fsa };
+        static const char *ids[6] = { "xbar_r25", "s_r25", "xbar_b", "s_b", "xbar_asfound",
+                                      "s_asfound" };
+        static const char *titles[6] = { "X-bar chart of the lots' mean R25 deviation",
+                                         "s chart of the lots' R25 deviation",
+                                         "X-bar chart of the lots' mean B",
+                                         "s chart of the lots' B",
+                                         "X-bar chart of the lots' mean as-found drift",
+                                         "s chart of the lots' as-found drift" };
+        static const char *units[6] = { "mean R25 deviation / %", "sd / %", "mean B / K",
+                                        "sd / K", "mean as-found / mK", "sd / mK" };
+        FILE *f = o->html;
+        fprintf(f, "<h2>Control charts of part ");
+        html_esc(f, part);
+        fprintf(f, "</h2>\n<p>Limits at 3 sigma from the first %zu lot(s) of %zu, subgroup size "
+                   "%zu; points that break a run rule are drawn as open squares and listed "
+                   "below.</p>\n", nb, k, m);
+        for (int c = 0; c < 6; c++) {
+            size_t n = c < 4 ? k : ka;
+            if (c >= 4 && !have_a)
+                break;
+            double x[256], y[256], lo = ch[c]->lcl, hi = ch[c]->ucl;
+            int fg[256];
+            for (size_t i = 0; i < n; i++) {
+                x[i] = (double)(i + 1), y[i] = val[c][i], fg[i] = fl[c][i] != 0;
+                lo = fmin(lo, y[i]), hi = fmax(hi, y[i]);
+            }
+            html_chart hc = { ids[c], titles[c], "lot (in order of creation)", units[c], 0, 0, 0,
+                              0, 0 };
+            hc.xint = 1;
+            html_chart_begin(f, &hc, 0.5, (double)n + 0.5, lo, hi);
+            html_chart_hline(f, &hc, ch[c]->center, "centre", 0);
+            html_chart_hline(f, &hc, ch[c]->ucl, "UCL", 1);
+            html_chart_hline(f, &hc, ch[c]->lcl, "LCL", 1);
+            html_chart_line(f, &hc, x, y, n);
+            html_chart_points(f, &hc, x, y, fg, n);
+            html_chart_end(f, &hc, NULL);
+        }
+        if (!have_a)
+            fputs("<p>As-found drift: not charted (fewer than two lots with recalibrated "
+                  "probes).</p>\n", f);
+        fputs("<table class=\"data\" id=\"lots\"><tr><th class=\"n\">#</th><th>lot</th>"
+              "<th class=\"n\">probes</th><th class=\"n\">mean R25 dev / %</th>"
+              "<th class=\"n\">mean B / K</th><th>run rules broken</th></tr>\n", f);
+        static const char *rule[4] = { "beyond 3 sigma", "2 of 3 beyond 2 sigma",
+                                       "4 of 5 beyond 1 sigma", "8 on one side" };
+        static const char *cn[4] = { "X-bar R25", "s R25", "X-bar B", "s B" };
+        for (size_t i = 0; i < k; i++) {
+            unsigned any = fxr[i] | fsr[i] | fxb[i] | fsb[i];
+            fprintf(f, "<tr class=\"lot%s\"><td class=\"n\">%zu</td><td>", any ? " flag" : "",
+                    i + 1);
+            html_esc(f, used[i]);
+            fprintf(f, "</td><td class=\"n\">%zu</td>", sum[i].n);
+            html_num(f, "td", "n mr", "%+.4f", mr[i]);
+            html_num(f, "td", "n mb", "%.2f", mb[i]);
+            fputs("<td>", f);
+            for (int c = 0; c < 4; c++)
+                for (int r = 0; r < 4; r++)
+                    if (fl[c][i] & (1u << r))
+                        fprintf(f, "%s: %s; ", cn[c], rule[r]);
+            fputs("</td></tr>\n", f);
+        }
+        fputs("</table>\n", f);
+        return BG_OK;
+    }
     if (o->json) {
         json_out j;
         json_begin(&j, stdout);
@@ -665,6 +863,62 @@ static int drift_part(bg_store *st, const char *part, struct dopt *o, int *flagg
     } else
         printf("  as-found drift: not charted (fewer than two lots with recalibrated probes)\n");
     return BG_OK;
+}
+
+struct lot_probes {
+    char (*serial)[BG_TEXT];
+    size_t n, cap;
+};
+
+static int lot_probe_cb(const bg_probe *p, void *ctx)
+{
+    struct lot_probes *l = ctx;
+    if (l->n == l->cap) {
+        size_t cap = l->cap ? 2 * l->cap : 64;
+        char (*s)[BG_TEXT] = realloc(l->serial, cap * sizeof *s);
+        if (!s)
+            return 1;
+        l->serial = s, l->cap = cap;
+    }
+    snprintf(l->serial[l->n++], BG_TEXT, "%s", p->serial);
+    return 0;
+}
+
+int drift_lot_html(bg_store *st, const char *code, FILE *f, int *flagged, bg_error *err)
+{
+    struct dopt o;
+    bg_lot lot;
+    struct lot_probes lp = { NULL, 0, 0 };
+    int rc;
+    memset(&o, 0, sizeof o);
+    o.alpha = 0.05, o.html = f;
+    if ((rc = bg_store_lot_get(st, code, &lot, err)) != BG_OK ||
+        (rc = lot_stats(st, code, &o, 1, flagged, NULL, err)) != BG_OK)
+        return rc;
+    fputs("<h2>Drift of each probe since its previous calibration</h2>\n<table class=\"data\" "
+          "id=\"drift\">\n<tr><th>probe</th><th class=\"n\">from fit</th><th class=\"n\">"
+          "to fit</th><th class=\"n\">years</th><th class=\"n\">max |as-found| / mK</th>"
+          "<th class=\"n\">&#916;R25 / %</th><th class=\"n\">&#916;B / K</th><th class=\"n\">"
+          "rate / (mK/year)</th><th>flags</th></tr>\n", f);
+    if ((rc = bg_store_probe_each(st, code, lot_probe_cb, &lp, err)) == BG_OK)
+        for (size_t i = 0; i < lp.n && rc == BG_OK; i++) {
+            o.limit_k = o.rate_k = 0.0;
+            rc = drift_probe(st, lp.serial[i], &o, flagged, err);
+        }
+    free(lp.serial);
+    fprintf(f, "</table>\n<p class=\"meta\">As-found error: what a device still using the "
+               "earlier coefficients would read, minus the true temperature, largest over five "
+               "check temperatures spread over the common range; limit from the lot's R25 "
+               "tolerance, %.1f mK.</p>\n", 1e3 * tol_limit_k(&lot));
+    if (rc == BG_OK) {
+        bg_error e2 = BG_ERROR_INIT;
+        if (drift_part(st, lot.part, &o, flagged, &e2) != BG_OK) {
+            fprintf(f, "<h2>Control charts</h2>\n<p>Not charted: ");
+            html_esc(f, e2.msg);
+            fputs(".</p>\n", f);
+        }
+    }
+    return rc;
 }
 
 int cmd_drift(int argc, char **argv, struct cli_ctx *ctx)

@@ -14,7 +14,7 @@ static const char lut_usage[] =
     "Usage: bandgap lut (--fit N | --probe SERIAL | MODEL OPTIONS) CIRCUIT --range T1:T2\n"
     "                   (--step CODES | --max-error DT [--strategy uniform|minimal|indexed])\n"
     "                   [--resolution 0.1|0.01|0.001|qN|float] [--kelvin] [--format c|csv|json]\n"
-    "                   [--symbol PREFIX] [-o FILE] [--allow-extrapolation]\n"
+    "                   [--symbol PREFIX] [-o FILE] [--report FILE.html] [--allow-extrapolation]\n"
     "A table that turns ADC codes into temperatures, its error measured over every code of\n"
     "the range.  Strategies: uniform (values every CODES codes, a power of two, read with\n"
     "integer interpolation; --max-error picks the largest step within DT); minimal (the\n"
@@ -35,7 +35,9 @@ static const char lut_usage[] =
     "over the range: half an LSB of the ADC, the stored fit's U(k=2), the fixed resistor at\n"
     "--fixed-tol PCT, and self-heating at --excitation VOLTS (divider supply) over\n"
     "--dissipation mW/K; combined as root-sum-square and as a worst-case sum.  With a stored\n"
-    "fit the range must lie inside the calibrated range unless --allow-extrapolation.\n";
+    "fit the range must lie inside the calibrated range unless --allow-extrapolation.\n"
+    "--report FILE.html also writes a table report: the error at every code against\n"
+    "temperature and the budget, as one self-contained HTML file (not stored).\n";
 
 static int parse_range(const char *s, double *lo, double *hi, bg_error *err)
 {
@@ -193,6 +195,111 @@ static void write_json(const bg_lut *t, const bg_lut_spec *s, const bg_budget_ro
     json_end(&j);
 }
 
+/* The table report: error against temperature at every code, and the budget. */
+static int write_report(const char *path, const bg_lut *t, const bg_lut_spec *s,
+                        const bg_budget_row *brow, size_t nbat, const bg_budget_row *bworst,
+                        const bg_budget_opts *bo, long long fit_id)
+{
+    FILE *f = fopen(path, "w");
+    char name[16], vu[48], now[BG_TIME], rid[64];
+    size_t nc = (size_t)(t->code_hi - t->code_lo + 1);
+    if (!f) {
+        cli_error("lut: cannot create '%s': %s", path, strerror(errno));
+        return CLI_ECANTCREAT;
+    }
+    double *x = malloc(nc * sizeof *x), *y = malloc(nc * sizeof *y);
+    if (!x || !y) {
+        free(x), free(y);
+        fclose(f);
+        return BG_ENOMEM;
+    }
+    bg_model_name(&s->model, name, sizeof name);
+    value_unit(s, vu, sizeof vu);
+    bg_store_now(now, sizeof now);
+    snprintf(rid, sizeof rid, "table %s %zu entries", bg_lut_strategy_name(t->strategy), t->n);
+    html_begin(f, "Firmware table report", rid);
+    fputs("<h1>Firmware table report</h1>\n<table class=\"kv\" id=\"table\">\n", f);
+    fprintf(f, "<tr><th>Generated</th><td>%s by bandgap %s</td></tr>\n", now, bg_version());
+    fprintf(f, "<tr><th>Model</th><td>%s", name);
+    for (size_t i = 0; i < bg_model_npar(&s->model); i++)
+        fprintf(f, " %s=%.10g", bg_model_coef_name(&s->model, i), s->model.coef[i]);
+    if (fit_id)
+        fprintf(f, " (stored fit %lld)", fit_id);
+    fputs("</td></tr>\n", f);
+    const bg_circuit *c = &s->circuit;
+    fprintf(f, "<tr><th>Circuit</th><td>");
+    if (c->kind == BG_CIRCUIT_DIVIDER_LOW || c->kind == BG_CIRCUIT_DIVIDER_HIGH)
+        fprintf(f, "divider, thermistor on the %s side, fixed %.9g ohm",
+                c->kind == BG_CIRCUIT_DIVIDER_LOW ? "low" : "high", c->fixed_ohm);
+    else if (c->kind == BG_CIRCUIT_CURRENT)
+        fprintf(f, "current source %.9g A, reference %.9g V", c->current_a, c->vref_v);
+    else
+        fprintf(f, "resistance input, %.9g ohm per code", c->ohms_per_code);
+    if (c->kind != BG_CIRCUIT_OHMS)
+        fprintf(f, ", %u-bit ADC", c->adc_bits);
+    fprintf(f, "</td></tr>\n<tr><th>Range</th><td>%.3f to %.3f degC, codes %ld to %ld</td></tr>"
+               "\n", s->t_lo_k - BG_ZERO_C_K, s->t_hi_k - BG_ZERO_C_K, t->code_lo, t->code_hi);
+    fprintf(f, "<tr><th>Table</th><td>%s, %zu %s, %zu bytes, values in ",
+            bg_lut_strategy_name(t->strategy), t->n,
+            t->strategy == BG_LUT_UNIFORM ? "entries" : "segments", t->bytes);
+    html_esc(f, vu);
+    fputs("</td></tr>\n<tr><th>Table error</th><td>max ", f);
+    html_num(f, "span", "maxerr", "%.4f", t->max_err_k);
+    fputs(" K, RMS ", f);
+    html_num(f, "span", "rmserr", "%.4f", t->rms_err_k);
+    fputs(" K over every code (table and output rounding)</td></tr>\n</table>\n", f);
+    double lo = 0.0, hi = 0.0;
+    for (size_t i = 0; i < nc; i++) {
+        int st;
+        double tk = NAN;
+        bg_circuit_temp_of(c, &s->model, (double)(t->code_lo + (long)i), &tk, NULL, NULL);
+        x[i] = tk - BG_ZERO_C_K;
+        y[i] = bg_lut_value(t, t->code_lo + (long)i, &st) + t->offset_k - tk;
+        lo = fmin(lo, y[i]), hi = fmax(hi, y[i]);
+    }
+    html_chart ch = { "table_error", "Table error against temperature, every code",
+                      "temperature / degC", "table - model / K", 0, 0, 0, 0, 0 };
+    double xl = fmin(x[0], x[nc - 1]), xh = fmax(x[0], x[nc - 1]);
+    html_chart_begin(f, &ch, xl, xh, lo, hi);
+    html_chart_hline(f, &ch, t->max_err_k, "max", 1);
+    html_chart_hline(f, &ch, -t->max_err_k, NULL, 1);
+    html_chart_line(f, &ch, x, y, nc);
+    html_chart_end(f, &ch, "One vertex per ADC code; dashed: the measured maximum");
+    fputs("<h2>Error budget</h2>\n<table class=\"data\" id=\"budget\">\n<tr><th class=\"n\">"
+          "T / degC</th><th class=\"n\">table</th><th class=\"n\">ADC &#189; LSB</th>"
+          "<th class=\"n\">fit U (k = 2)</th><th class=\"n\">fixed resistor</th>"
+          "<th class=\"n\">self-heating</th><th class=\"n\">RSS</th><th class=\"n\">sum</th>"
+          "</tr>\n", f);
+    for (size_t i = 0; i <= nbat; i++) {
+        const bg_budget_row *r = i < nbat ? &brow[i] : bworst;
+        fputs("<tr class=\"budget\">", f);
+        if (i < nbat)
+            html_num(f, "td", "n t", "%.3f", r->t_k - BG_ZERO_C_K);
+        else
+            fputs("<td class=\"n\">worst over the range</td>", f);
+        html_num(f, "td", "n table", "%.4f", r->table_k);
+        html_num(f, "td", "n adc", "%.4f", r->adc_k);
+        html_num(f, "td", "n fit", "%.4f", r->fit_k);
+        html_num(f, "td", "n resistor", "%.4f", r->resistor_k);
+        html_num(f, "td", "n selfheat", "%.4f", r->selfheat_k);
+        html_num(f, "td", "n rss", "%.4f", r->rss_k);
+        html_num(f, "td", "n sum", "%.4f", r->sum_k);
+        fputs("</tr>\n", f);
+    }
+    fprintf(f, "</table>\n<p class=\"meta\">All terms in K. Fixed resistor tolerance %.3g %%, "
+               "excitation %.3g V, dissipation constant %.3g mW/K (0: not included); the fit "
+               "term needs a stored fit with its covariance.</p>\n", 100.0 * bo->fixed_tol,
+            bo->excitation_v, 1e3 * bo->dissipation_w_per_k);
+    html_cautions(f);
+    html_end(f);
+    free(x), free(y);
+    if (fclose(f) != 0) {
+        cli_error("lut: cannot write '%s'", path);
+        return BG_EIO;
+    }
+    return BG_OK;
+}
+
 static void summary(const bg_lut *t, const size_t *sizes, const char *pre, FILE *b)
 {
     if (t->strategy == BG_LUT_UNIFORM)
@@ -222,7 +329,7 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
 {
     enum { O_FIT = 1, O_PROBE, O_FIXED, O_SIDE, O_PAR, O_SER, O_BITS, O_FS, O_CUR, O_VREF,
            O_OHMSIN, O_OPC, O_RANGE, O_STEP, O_MAXERR, O_RES, O_KELVIN, O_FORMAT, O_SYMBOL,
-           O_OUT, O_EXTRA, O_JSON, O_BAT, O_FTOL, O_EXC, O_DISS, O_STRAT };
+           O_OUT, O_EXTRA, O_JSON, O_BAT, O_FTOL, O_EXC, O_DISS, O_STRAT, O_REPORT };
     static const struct option opts[] = {
         CLI_INLINE_OPTIONS,
         { "fit", required_argument, NULL, O_FIT },       { "probe", required_argument, NULL, O_PROBE },
@@ -242,6 +349,7 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         { "excitation", required_argument, NULL, O_EXC },
         { "dissipation", required_argument, NULL, O_DISS },
         { "strategy", required_argument, NULL, O_STRAT },
+        { "report", required_argument, NULL, O_REPORT },
         { "json", no_argument, NULL, O_JSON },           { "help", no_argument, NULL, 'h' },
         { NULL, 0, NULL, 0 },
     };
@@ -249,7 +357,7 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
     struct cli_inline in;
     bg_lut_spec s;
     bg_lut t = BG_LUT_INIT;
-    const char *probe = NULL, *format = "c", *symbol = "ntc", *out_path = NULL;
+    const char *probe = NULL, *format = "c", *symbol = "ntc", *out_path = NULL, *report = NULL;
     long long fit_id = 0;
     double max_err = NAN, cal_lo = -INFINITY, cal_hi = INFINITY, v;
     long step = -1;
@@ -337,6 +445,7 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
             else return cli_usage_error("lut", "--resolution: say 0.1, 0.01, 0.001, q1 .. q16 "
                                         "or float");
             break;
+        case O_REPORT: report = optarg; break;
         case O_STRAT:
             if (strcmp(optarg, "uniform") == 0) strat = BG_LUT_UNIFORM;
             else if (strcmp(optarg, "minimal") == 0) strat = BG_LUT_MINIMAL;
@@ -455,6 +564,10 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         return cli_fail("lut", &err);
     }
 
+    if (report && (rc = write_report(report, &t, &s, brow, nbat, &bworst, &bo, fit_id)) != BG_OK) {
+        bg_lut_release(&t);
+        return rc;
+    }
     FILE *f = out_path ? fopen(out_path, "w") : stdout;
     if (!f) {
         cli_error("lut: cannot create '%s': %s", out_path, strerror(errno));

@@ -32,6 +32,7 @@ static const struct command commands[] = {
     { "exclude", cmd_exclude, "keep a reading out of future fits, with the reason" },
     { "export",  cmd_export,  "export readings and fits as CSV or JSON, losslessly" },
     { "drift",   cmd_drift,   "as-found drift of a probe, lot statistics, control charts" },
+    { "report",  cmd_report,  "calibration and lot reports as HTML, issued once and stored" },
     { "lut",     cmd_lut,     "a firmware lookup table (ADC code -> temperature) as C, CSV or JSON" },
     { "eval",    cmd_eval,    "evaluate a model given inline: resistance to temperature and back" },
     { "curve",   cmd_curve,   "the R-T table of a stored fit or an inline model, with U(k=2)" },

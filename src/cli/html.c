@@ -1,0 +1,239 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Self-contained HTML reports: one file, inline CSS and SVG, no scripts, and a content
+** security policy that forbids every request, so the file cannot reach the network.  The
+** layout is neutral and readable in greyscale; printing fits A4 and Letter (the content is
+** 180 mm wide, narrower than both, and figures and tables do not break across pages).
+** Numbers shown rounded carry their full value in a data-v attribute. */
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "cli.h"
+
+void html_esc(FILE *f, const char *s)
+{
+    for (; s && *s; s++) {
+        switch (*s) {
+        case '<': fputs("&lt;", f); break;
+        case '>': fputs("&gt;", f); break;
+        case '&': fputs("&amp;", f); break;
+        case '"': fputs("&quot;", f); break;
+        case '\'': fputs("&#39;", f); break;
+        default: fputc(*s, f);
+        }
+    }
+}
+
+void html_begin(FILE *f, const char *title, const char *report_id)
+{
+    fputs("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n"
+          "<meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'none'; "
+          "style-src 'unsafe-inline'; img-src data:\"/>\n"
+          "<meta name=\"generator\" content=\"bandgap\"/>\n<title>", f);
+    html_esc(f, title);
+    fputs(" ", f);
+    html_esc(f, report_id);
+    fputs("</title>\n<style>\n"
+          "@page { margin: 14mm 15mm; }\n"
+          "body { font: 10pt/1.35 'DejaVu Sans', Helvetica, Arial, sans-serif; color: #111;"
+          " max-width: 180mm; margin: 8mm auto; }\n"
+          "h1 { font-size: 16pt; margin: 0 0 2mm; border-bottom: 1.5pt solid #111; }\n"
+          "h2 { font-size: 11.5pt; margin: 6mm 0 2mm; border-bottom: 0.5pt solid #777; }\n"
+          "table { border-collapse: collapse; margin: 1mm 0 3mm; break-inside: avoid; }\n"
+          "td, th { padding: 0.6mm 2.5mm; text-align: left; vertical-align: top; }\n"
+          "table.data td, table.data th { border-bottom: 0.4pt solid #bbb; }\n"
+          "table.data td.n, table.data th.n { text-align: right;"
+          " font-variant-numeric: tabular-nums; }\n"
+          "table.kv th { font-weight: normal; color: #444; width: 45mm; }\n"
+          "table.data td:first-child { white-space: nowrap; }\n"
+          "tr.excluded td { color: #777; text-decoration: line-through; }\n"
+          "tr.flag td { font-weight: bold; }\n"
+          "figure { margin: 2mm 0 4mm; break-inside: avoid; }\n"
+          "figcaption { font-size: 9pt; color: #333; }\n"
+          ".caution { border: 1pt solid #111; padding: 2mm 3mm; margin: 5mm 0; "
+          "break-inside: avoid; }\n"
+          ".meta { color: #444; font-size: 9pt; }\n"
+          "svg text { font: 7.5pt 'DejaVu Sans', Helvetica, Arial, sans-serif; fill: #111; }\n"
+          "</style>\n</head>\n<body>\n", f);
+}
+
+void html_end(FILE *f)
+{
+    fputs("</body>\n</html>\n", f);
+}
+
+void html_cautions(FILE *f)
+{
+    fputs("<div class=\"caution\" id=\"cautions\"><strong>Cautions.</strong> These results hold "
+          "only inside the calibrated range and within the stated uncertainty; outside the "
+          "range the curve is an extrapolation and no uncertainty is claimed. This report is "
+          "not an accredited calibration certificate unless the laboratory's own accredited "
+          "procedure issues it. In medical, food-safety or process-safety use, follow local "
+          "regulations and accredited practice.</div>\n", f);
+}
+
+/* A number to show, with its full value in data-v. */
+void html_num(FILE *f, const char *tag, const char *cls, const char *fmt, double v)
+{
+    fprintf(f, "<%s%s%s%s data-v=\"%.17g\">", tag, cls ? " class=\"" : "", cls ? cls : "",
+            cls ? "\"" : "", v);
+    if (isfinite(v))
+        fprintf(f, fmt, v);
+    else
+        fputs("&#8212;", f);
+    fprintf(f, "</%s>", tag);
+}
+
+/* Round up to two significant digits (common practice for expanded uncertainties, GUM
+** 7.2.6 allows at most two). */
+double html_round_up2(double v)
+{
+    if (!(v > 0.0) || !isfinite(v))
+        return v;
+    double e = floor(log10(v)) - 1.0, s = pow(10.0, e);
+    double r = ceil(v / s * (1.0 - 1e-12)) * s;
+    return r;
+}
+
+/* A value already rounded to two significant digits, printed with them ("3.0", "12"). */
+void html_sig2(FILE *f, const char *cls, double v)
+{
+    int dec = isfinite(v) && v > 0.0 ? 1 - (int)floor(log10(v) + 1e-9) : 0;
+    fprintf(f, "<span class=\"%s\" data-v=\"%.17g\">%.*f</span>", cls, v, dec < 0 ? 0 : dec, v);
+}
+
+/* ---- SVG charts ---- */
+
+/* Axis limits and a "nice" tick step (1, 2 or 5 times a power of ten). */
+static void nice(double lo, double hi, double *a, double *b, double *step, int integer)
+{
+    if (!(hi > lo)) {
+        double d = fabs(lo) > 0 ? fabs(lo) * 0.1 : 1.0;
+        lo -= d, hi += d;
+    }
+    double raw = (hi - lo) / 5.0, p = pow(10.0, floor(log10(raw))), m = raw / p;
+    *step = (m < 1.5 ? 1.0 : m < 3.5 ? 2.0 : m < 7.5 ? 5.0 : 10.0) * p;
+    if (integer && *step < 1.0)
+        *step = 1.0;
+    /* a value a hair past a tick (a reading at -20.02 degC) does not add a whole step */
+    *a = floor(lo / *step + 0.01) * *step;
+    *b = ceil(hi / *step - 0.01) * *step;
+    if (integer)
+        *a = lo, *b = hi;
+}
+
+enum { W = 640, H = 300, ML = 62, MR = 14, MT = 12, MB = 40 };
+
+static double sx(const html_chart *c, double x)
+{
+    return ML + (x - c->x0) / (c->x1 - c->x0) * (W - ML - MR);
+}
+
+static double sy(const html_chart *c, double y)
+{
+    return H - MB - (y - c->y0) / (c->y1 - c->y0) * (H - MT - MB);
+}
+
+void html_chart_begin(FILE *f, html_chart *c, double xlo, double xhi, double ylo, double yhi)
+{
+    double xs, ys;
+    nice(xlo, xhi, &c->x0, &c->x1, &xs, c->xint);
+    nice(ylo, yhi, &c->y0, &c->y1, &ys, 0);
+    fprintf(f, "<figure>\n<svg xmlns=\"http://www.w3.org/2000/svg\" data-chart=\"%s\" "
+               "viewBox=\"0 0 %d %d\" width=\"100%%\" role=\"img\" aria-label=\"", c->id, W, H);
+    html_esc(f, c->title);
+    fprintf(f, "\">\n<rect x=\"%d\" y=\"%d\" width=\"%d\" height=\"%d\" fill=\"none\" "
+               "stroke=\"#111\" stroke-width=\"0.8\"/>\n", ML, MT, W - ML - MR, H - MT - MB);
+    for (double v = c->xint ? ceil(c->x0) : c->x0; v <= c->x1 + xs * 1e-9; v += xs) {
+        double X = sx(c, v);
+        fprintf(f, "<line x1=\"%.2f\" y1=\"%d\" x2=\"%.2f\" y2=\"%d\" stroke=\"#ccc\" "
+                   "stroke-width=\"0.5\"/><text x=\"%.2f\" y=\"%d\" text-anchor=\"middle\">%g"
+                   "</text>\n", X, MT, X, H - MB, X, H - MB + 12, fabs(v) < xs * 1e-9 ? 0.0 : v);
+    }
+    for (double v = c->y0; v <= c->y1 + ys * 1e-9; v += ys) {
+        double Y = sy(c, v);
+        fprintf(f, "<line x1=\"%d\" y1=\"%.2f\" x2=\"%d\" y2=\"%.2f\" stroke=\"#ccc\" "
+                   "stroke-width=\"0.5\"/><text x=\"%d\" y=\"%.2f\" text-anchor=\"end\">%g"
+                   "</text>\n", ML, Y, W - MR, Y, ML - 4, Y + 3, fabs(v) < ys * 1e-9 ? 0.0 : v);
+    }
+    fprintf(f, "<text x=\"%d\" y=\"%d\" text-anchor=\"middle\">", (W + ML - MR) / 2, H - 8);
+    html_esc(f, c->xlabel);
+    fprintf(f, "</text>\n<text transform=\"translate(14 %d) rotate(-90)\" "
+               "text-anchor=\"middle\">", (H - MB + MT) / 2);
+    html_esc(f, c->ylabel);
+    fputs("</text>\n", f);
+}
+
+void html_chart_band(FILE *f, const html_chart *c, const double *x, const double *lo,
+                     const double *hi, size_t n)
+{
+    fputs("<polygon class=\"band\" fill=\"#ddd\" stroke=\"#888\" stroke-width=\"0.5\" "
+          "stroke-dasharray=\"3 2\" points=\"", f);
+    for (size_t i = 0; i < n; i++)
+        fprintf(f, "%.2f,%.2f ", sx(c, x[i]), sy(c, hi[i]));
+    for (size_t i = n; i-- > 0;)
+        fprintf(f, "%.2f,%.2f ", sx(c, x[i]), sy(c, lo[i]));
+    fputs("\"/>\n", f);
+}
+
+void html_chart_hline(FILE *f, const html_chart *c, double y, const char *label, int dashed)
+{
+    fprintf(f, "<line class=\"limit\" data-v=\"%.17g\" x1=\"%d\" y1=\"%.2f\" x2=\"%d\" "
+               "y2=\"%.2f\" stroke=\"#111\" stroke-width=\"0.8\"%s/>", y, ML, sy(c, y), W - MR,
+            sy(c, y), dashed ? " stroke-dasharray=\"5 3\"" : "");
+    if (label) {
+        fprintf(f, "<text x=\"%d\" y=\"%.2f\" text-anchor=\"end\">", W - MR - 3, sy(c, y) - 3);
+        html_esc(f, label);
+        fputs("</text>", f);
+    }
+    fputs("\n", f);
+}
+
+void html_chart_line(FILE *f, const html_chart *c, const double *x, const double *y, size_t n)
+{
+    fprintf(f, "<polyline class=\"series\" data-n=\"%zu\" fill=\"none\" stroke=\"#111\" "
+               "stroke-width=\"0.9\" points=\"", n);
+    for (size_t i = 0; i < n; i++)
+        fprintf(f, "%.2f,%.2f ", sx(c, x[i]), sy(c, y[i]));
+    fputs("\"/>\n", f);
+}
+
+/* Points: circles, or open squares where 'flag' is set (e.g. excluded or out of control). */
+void html_chart_points(FILE *f, const html_chart *c, const double *x, const double *y,
+                       const int *flag, size_t n)
+{
+    for (size_t i = 0; i < n; i++) {
+        double X = sx(c, x[i]), Y = sy(c, y[i]);
+        if (flag && flag[i])
+            fprintf(f, "<rect class=\"pt flag\" data-x=\"%.17g\" data-y=\"%.17g\" x=\"%.2f\" "
+                       "y=\"%.2f\" width=\"6\" height=\"6\" fill=\"#fff\" stroke=\"#111\"/>\n",
+                    x[i], y[i], X - 3, Y - 3);
+        else
+            fprintf(f, "<circle class=\"pt\" data-x=\"%.17g\" data-y=\"%.17g\" cx=\"%.2f\" "
+                       "cy=\"%.2f\" r=\"2.6\" fill=\"#111\"/>\n", x[i], y[i], X, Y);
+    }
+}
+
+/* Histogram bars from 'edges' (n + 1) and 'count' (n). */
+void html_chart_bars(FILE *f, const html_chart *c, const double *edges, const size_t *count,
+                     size_t n)
+{
+    for (size_t i = 0; i < n; i++) {
+        double X0 = sx(c, edges[i]), X1 = sx(c, edges[i + 1]), Y = sy(c, (double)count[i]);
+        fprintf(f, "<rect class=\"bar\" data-count=\"%zu\" data-lo=\"%.17g\" data-hi=\"%.17g\" "
+                   "x=\"%.2f\" y=\"%.2f\" width=\"%.2f\" height=\"%.2f\" fill=\"#999\" "
+                   "stroke=\"#111\" stroke-width=\"0.6\"/>\n", count[i], edges[i], edges[i + 1],
+                X0, Y, X1 - X0, sy(c, 0.0) - Y);
+    }
+}
+
+void html_chart_end(FILE *f, const html_chart *c, const char *caption)
+{
+    fputs("</svg>\n<figcaption>", f);
+    html_esc(f, c->title);
+    if (caption && *caption) {
+        fputs(". ", f);
+        html_esc(f, caption);
+    }
+    fputs("</figcaption>\n</figure>\n", f);
+}

@@ -1,0 +1,290 @@
+#!/usr/bin/python3
+# SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
+"""The HTML reports, checked by a real browser and against the program's own JSON.
+
+Usage: reports_check.py BANDGAP DB RUN_HTML LOT_HTML TABLE_HTML TABLE_JSON OUTDIR
+
+Each report is loaded in Debian's Chromium (headless, driven through chromedriver's W3C
+WebDriver protocol with the standard library's urllib): rendered to PNG, printed to PDF on A4
+and on Letter, and read back as the DOM.  Checked: every chart is there with its plotted
+points (counted against the readings, probes and codes they stand for, from the program's
+JSON), no request leaves the file (the performance log shows only the file itself), and the
+console holds no errors.  Every SVG is well-formed XML (xmllint from libxml2-utils).  The
+numbers the report shows carry their full value in data-v; they must equal those of `show`,
+`curve`, `export`, `drift` and `lut --format json` for the same data, and the residuals equal
+T_ref - T(R) recomputed here with numpy from the Steinhart-Hart equation (Steinhart & Hart
+1968, the fitted model).  Prints "ok NAME" / "not ok NAME" lines."""
+import base64, json, os, re, socket, subprocess, sys, time, urllib.request, zlib
+from html.parser import HTMLParser
+import numpy as np
+
+bandgap, db, run_html, lot_html, table_html, table_json, outdir = sys.argv[1:8]
+fails = 0
+
+
+def check(name, cond, detail=""):
+    global fails
+    print(("ok " if cond else "not ok ") + name + ("" if cond else ": " + detail))
+    fails += 0 if cond else 1
+
+
+def bg(*args):
+    return json.loads(subprocess.run([bandgap, "--db", db, *args], check=True,
+                                     capture_output=True, text=True).stdout)
+
+
+class Numbers(HTMLParser):
+    """data-v values by class, in document order, inside elements with an id."""
+
+    def __init__(self):
+        super().__init__()
+        self.stack, self.vals, self.svgs, self.depth = [], [], [], 0
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        if "id" in a:
+            self.stack.append((self.depth, a["id"]))
+        if "data-v" in a:
+            where = self.stack[-1][1] if self.stack else ""
+            self.vals.append((where, a.get("class", ""), float(a["data-v"])))
+        self.depth += 1
+
+    def handle_endtag(self, tag):
+        self.depth -= 1
+        while self.stack and self.stack[-1][0] >= self.depth:
+            self.stack.pop()
+
+
+def numbers(path, where, cls):
+    p = Numbers()
+    p.feed(open(path, encoding="utf-8").read())
+    return [v for w, c, v in p.vals if w == where and cls in c.split()]
+
+
+# ---- well-formed SVG -------------------------------------------------------------------------
+for path in (run_html, lot_html, table_html):
+    text = open(path, encoding="utf-8").read()
+    svgs = re.findall(r"<svg.*?</svg>", text, re.S)
+    ok = len(svgs) > 0
+    for s in svgs:
+        r = subprocess.run(["xmllint", "--noout", "-"], input=s, text=True, capture_output=True)
+        ok = ok and r.returncode == 0
+    check("svg well-formed (xmllint): " + os.path.basename(path), ok)
+    check("no external reference: " + os.path.basename(path),
+          not re.search(r"(src|href)\s*=\s*[\"'](?!#|data:)", text)
+          and "Content-Security-Policy" in text)
+
+# ---- the browser -----------------------------------------------------------------------------
+sock = socket.socket()
+sock.bind(("127.0.0.1", 0))
+port = sock.getsockname()[1]
+sock.close()
+drv = subprocess.Popen(["chromedriver", "--port=%d" % port], stdout=subprocess.DEVNULL,
+                       stderr=subprocess.DEVNULL)
+base = "http://127.0.0.1:%d" % port
+
+
+def wd(method, path, body=None):
+    data = json.dumps(body).encode() if body is not None else None
+    req = urllib.request.Request(base + path, data=data, method=method,
+                                 headers={"Content-Type": "application/json"})
+    with urllib.request.urlopen(req, timeout=120) as r:
+        return json.loads(r.read())["value"]
+
+
+for _ in range(100):
+    try:
+        wd("GET", "/status")
+        break
+    except Exception:
+        time.sleep(0.1)
+caps = {"capabilities": {"alwaysMatch": {
+    "browserName": "chrome",
+    "goog:chromeOptions": {"binary": "/usr/bin/chromium",
+                           "args": ["--headless=new", "--no-sandbox", "--disable-gpu",
+                                    "--disable-dev-shm-usage", "--window-size=900,1400"]},
+    "goog:loggingPrefs": {"browser": "ALL", "performance": "ALL"}}}}
+sid = wd("POST", "/session", caps)["sessionId"]
+
+JS = """
+const out = {};
+document.querySelectorAll('svg[data-chart]').forEach(s => {
+  const line = s.querySelector('polyline.series');
+  out[s.dataset.chart] = {
+    points: s.querySelectorAll('.pt').length,
+    flagged: s.querySelectorAll('.pt.flag').length,
+    bars: Array.from(s.querySelectorAll('rect.bar')).map(b => +b.dataset.count),
+    vertices: line ? line.points.numberOfItems : 0,
+    limits: s.querySelectorAll('line.limit').length,
+    width: s.getBoundingClientRect().width };
+});
+return { charts: out, cautions: !!document.getElementById('cautions'),
+         title: document.title, html: document.documentElement.outerHTML.length };
+"""
+
+
+def png_ok(data):
+    """A PNG with more than one colour in its first rows (decoded here with zlib)."""
+    if data[:8] != b"\x89PNG\r\n\x1a\n":
+        return False
+    pos, idat, w = 8, b"", 0
+    while pos < len(data):
+        n = int.from_bytes(data[pos:pos + 4], "big")
+        kind = data[pos + 4:pos + 8]
+        if kind == b"IHDR":
+            w = int.from_bytes(data[pos + 8:pos + 12], "big")
+        if kind == b"IDAT":
+            idat += data[pos + 8:pos + 8 + n]
+        pos += 12 + n
+    raw = zlib.decompress(idat)
+    return w > 0 and len(set(raw[:200000])) > 2
+
+
+def load(path, name):
+    url = "file://" + os.path.abspath(path)
+    wd("POST", "/session/%s/se/log" % sid, {"type": "browser"})  # clear
+    wd("POST", "/session/%s/se/log" % sid, {"type": "performance"})
+    wd("POST", "/session/%s/url" % sid, {"url": url})
+    info = wd("POST", "/session/%s/execute/sync" % sid, {"script": JS, "args": []})
+    png = base64.b64decode(wd("GET", "/session/%s/screenshot" % sid))
+    open(os.path.join(outdir, name + ".png"), "wb").write(png)
+    dom = wd("POST", "/session/%s/execute/sync" % sid,
+             {"script": "return document.documentElement.outerHTML;", "args": []})
+    open(os.path.join(outdir, name + ".dom.html"), "w").write(dom)
+    check(name + ": renders to PNG", png_ok(png))
+    check(name + ": DOM read back", len(dom) > 1000 and info["cautions"])
+    for paper, (w, h) in (("A4", (21.0, 29.7)), ("Letter", (21.59, 27.94))):
+        pdf = base64.b64decode(wd("POST", "/session/%s/print" % sid, {
+            "page": {"width": w, "height": h}, "margin": {"top": 1.4, "bottom": 1.4,
+                                                           "left": 1.5, "right": 1.5}}))
+        open(os.path.join(outdir, "%s.%s.pdf" % (name, paper)), "wb").write(pdf)
+        pages = len(re.findall(rb"/Type\s*/Page[^s]", pdf))
+        check("%s: prints on %s (%d pages)" % (name, paper, pages),
+              pdf[:5] == b"%PDF-" and 1 <= pages <= 12)
+    logs = wd("POST", "/session/%s/se/log" % sid, {"type": "browser"})
+    errors = [e for e in logs if e.get("level") == "SEVERE"]
+    check(name + ": no console errors", not errors, json.dumps(errors)[:300])
+    perf = wd("POST", "/session/%s/se/log" % sid, {"type": "performance"})
+    urls = set()
+    for e in perf:
+        m = json.loads(e["message"])["message"]
+        if m.get("method") == "Network.requestWillBeSent":
+            urls.add(m["params"]["request"]["url"])
+    check(name + ": no request leaves the file", urls <= {url} and url in urls or not urls,
+          " ".join(sorted(urls)))
+    return info["charts"]
+
+
+# ---- the calibration report ------------------------------------------------------------------
+charts = load(run_html, "run")
+run_id = int(re.search(r'"run":(\d+)', open(run_html).read()).group(1)) if False else None
+fit_id = int(re.search(r"from fit (\d+) of run (\d+)", open(run_html).read()).group(1))
+run_no = int(re.search(r"from fit (\d+) of run (\d+)", open(run_html).read()).group(2))
+fit = bg("show", "fit", str(fit_id), "--json")
+serial = fit["probe"]
+exp = bg("export", "--probe", serial, "--json")["probes"][0]
+run = [r for r in exp["runs"] if r["run"] == run_no][0]
+readings = run["readings"]
+check("run: residual chart has one point per reading",
+      charts.get("residuals", {}).get("points") == len(readings),
+      "%s vs %d" % (charts.get("residuals"), len(readings)))
+check("run: excluded readings flagged",
+      charts["residuals"]["flagged"] == sum(1 for r in readings if r["excluded"]))
+coef = numbers(run_html, "coefficients", "coef")
+check("run: coefficients equal show fit --json", coef == fit["coefficients"])
+u = numbers(run_html, "coefficients", "u")
+cov = np.array(fit["covariance"])
+check("run: standard uncertainties are sqrt(diag(cov))",
+      np.allclose(u, np.sqrt(np.diag(cov)), rtol=1e-15, atol=0))
+check("run: RMS and max residual equal show",
+      numbers(run_html, "fitstats", "rms") == [fit["rms_mk"]] and
+      numbers(run_html, "fitstats", "maxabs") == [fit["max_abs_mk"]])
+check("run: validity range equals the fit's",
+      np.isclose(numbers(run_html, "uncertainty", "tmin")[0], fit["range"]["t_min_k"] - 273.15,
+                 rtol=0, atol=1e-12) and
+      np.isclose(numbers(run_html, "uncertainty", "tmax")[0], fit["range"]["t_max_k"] - 273.15,
+                 rtol=0, atol=1e-12))
+t_rep = numbers(run_html, "readings", "t")
+r_rep = numbers(run_html, "readings", "r")
+check("run: readings equal export --json",
+      np.allclose(t_rep, [g["t_k"] - 273.15 for g in readings], rtol=0, atol=1e-9) and
+      r_rep == [g["ohms"] for g in readings])
+# residuals recomputed here: T(R) from 1/T = A + B ln R + C ln^3 R (Steinhart & Hart 1968)
+if fit["model"] == "sh3":
+    A, B, C = fit["coefficients"]
+    L = np.log(np.array(r_rep))
+    t_fit = 1.0 / (A + B * L + C * L ** 3)
+    res = 1e3 * (np.array([g["t_k"] for g in readings]) - t_fit)
+    check("run: residuals equal T_ref - T(R) (numpy)",
+          np.allclose(numbers(run_html, "readings", "resid"), res, rtol=0, atol=1e-6))
+rt = re.search(r'id="rt" data-from="([^"]+)" data-to="([^"]+)" data-step="([^"]+)"',
+               open(run_html).read())
+cur = bg("curve", "--fit", str(fit_id), "--from", rt.group(1) + "C", "--to",
+         rt.group(2) + "C", "--step", rt.group(3) + "K", "--json")["rows"]
+check("run: R-T table equals curve --json (R, alpha, U)",
+      numbers(run_html, "rt", "r") == [c["ohms"] for c in cur] and
+      np.allclose(numbers(run_html, "rt", "alpha"), [100 * c["alpha_per_k"] for c in cur],
+                  rtol=1e-15, atol=0) and
+      np.allclose(numbers(run_html, "rt", "U"), [1e3 * c["U_k2_k"] for c in cur],
+                  rtol=1e-15, atol=0))
+U = numbers(run_html, "uncertainty", "U")[0]
+grid = bg("curve", "--fit", str(fit_id), "--from", "%.17gC" % (fit["range"]["t_min_k"] - 273.15),
+          "--to", "%.17gC" % (fit["range"]["t_max_k"] - 273.15),
+          "--step", "%.17gK" % ((fit["range"]["t_max_k"] - fit["range"]["t_min_k"]) / 40), "--json")["rows"]
+umax = 1e3 * max(c["U_k2_k"] for c in grid)
+check("run: stated U is the largest U(k=2) rounded up to two significant digits",
+      U >= umax * (1 - 1e-12) and U <= umax * 1.11 and abs(float("%.2g" % U) - U) <= 1e-12 * U,
+      "%g vs %g" % (U, umax))
+
+# ---- the lot report --------------------------------------------------------------------------
+charts = load(lot_html, "lot")
+code = re.search(r"<th>Lot</th><td>([^<]+)</td>", open(lot_html).read()).group(1)
+dr = bg("drift", "--lot", code, "--json") if True else None
+check("lot: histogram counts every probe", sum(charts.get("histogram", {}).get("bars", [])) ==
+      len(dr["probes"]))
+check("lot: per-probe numbers equal drift --lot --json",
+      numbers(lot_html, "probes", "r25dev") == [p["r25_dev_pct"] for p in dr["probes"]] and
+      numbers(lot_html, "probes", "b") == [p["b_k"] for p in dr["probes"]] and
+      numbers(lot_html, "probes", "maxdev") ==
+      [max(abs(x) for x in p["deviation_mk"]) for p in dr["probes"]])
+check("lot: statistics equal drift --lot --json",
+      numbers(lot_html, "stats", "mean") == [dr["r25_dev_pct"]["mean"], dr["b_k"]["mean"]] and
+      numbers(lot_html, "stats", "sd") == [dr["r25_dev_pct"]["sd"], dr["b_k"]["sd"]] and
+      numbers(lot_html, "stats", "cpk") == [dr["r25_dev_pct"]["cpk"], dr["b_k"]["cpk"]])
+check("lot: statistics equal numpy on the same values",
+      np.isclose(np.mean([p["b_k"] for p in dr["probes"]]), dr["b_k"]["mean"], rtol=1e-14) and
+      np.isclose(np.std([p["b_k"] for p in dr["probes"]], ddof=1), dr["b_k"]["sd"], rtol=1e-12))
+check("lot: Grubbs statistics and band equal drift",
+      numbers(lot_html, "grubbs", "g_r25") == [dr["grubbs"]["g_r25"]] and
+      numbers(lot_html, "band", "blo") == dr["band_lo_mk"] and
+      numbers(lot_html, "band", "bhi") == dr["band_hi_mk"])
+part = dr["part"]
+pj = subprocess.run([bandgap, "--db", db, "drift", "--part", part, "--json"],
+                    capture_output=True, text=True)
+if pj.returncode in (0, 1) and pj.stdout.strip():
+    pj = json.loads(pj.stdout)
+    for key, chart in (("xbar_r25_dev_pct", "xbar_r25"), ("xbar_b_k", "xbar_b")):
+        c = charts.get(chart, {})
+        check("lot: control chart %s has a point per lot and three limits" % chart,
+              c.get("points") == len(pj["lots"]) and c.get("limits") == 3)
+    check("lot: control chart points equal drift --part --json",
+          numbers(lot_html, "lots", "mr") == [l["r25_dev_mean_pct"] for l in pj["lots"]] and
+          numbers(lot_html, "lots", "mb") == [l["b_mean_k"] for l in pj["lots"]])
+else:
+    check("lot: drift --part ran", False, pj.stderr)
+
+# ---- the table report ------------------------------------------------------------------------
+charts = load(table_html, "table")
+tj = json.load(open(table_json))
+check("table: the error chart has a vertex per code",
+      charts.get("table_error", {}).get("vertices") == tj["code_hi"] - tj["code_lo"] + 1)
+check("table: max and RMS error equal lut --format json",
+      numbers(table_html, "table", "maxerr") == [tj["max_error_c"]] and
+      numbers(table_html, "table", "rmserr") == [tj["rms_error_c"]])
+check("table: budget equals lut --format json",
+      numbers(table_html, "budget", "rss") == [b["rss_k"] for b in tj["budget"]] and
+      numbers(table_html, "budget", "sum") == [b["sum_k"] for b in tj["budget"]])
+
+wd("DELETE", "/session/%s" % sid)
+drv.terminate()
+sys.exit(1 if fails else 0)
