@@ -175,116 +175,125 @@ def load(path, name):
     return info["charts"]
 
 
-# ---- the calibration report ------------------------------------------------------------------
-charts = load(run_html, "run")
-run_id = int(re.search(r'"run":(\d+)', open(run_html).read()).group(1)) if False else None
-fit_id = int(re.search(r"from fit (\d+) of run (\d+)", open(run_html).read()).group(1))
-run_no = int(re.search(r"from fit (\d+) of run (\d+)", open(run_html).read()).group(2))
-fit = bg("show", "fit", str(fit_id), "--json")
-serial = fit["probe"]
-exp = bg("export", "--probe", serial, "--json")["probes"][0]
-run = [r for r in exp["runs"] if r["run"] == run_no][0]
-readings = run["readings"]
-check("run: residual chart has one point per reading",
-      charts.get("residuals", {}).get("points") == len(readings),
-      "%s vs %d" % (charts.get("residuals"), len(readings)))
-check("run: excluded readings flagged",
-      charts["residuals"]["flagged"] == sum(1 for r in readings if r["excluded"]))
-coef = numbers(run_html, "coefficients", "coef")
-check("run: coefficients equal show fit --json", coef == fit["coefficients"])
-u = numbers(run_html, "coefficients", "u")
-cov = np.array(fit["covariance"])
-check("run: standard uncertainties are sqrt(diag(cov))",
-      np.allclose(u, np.sqrt(np.diag(cov)), rtol=1e-15, atol=0))
-check("run: RMS and max residual equal show",
-      numbers(run_html, "fitstats", "rms") == [fit["rms_mk"]] and
-      numbers(run_html, "fitstats", "maxabs") == [fit["max_abs_mk"]])
-check("run: validity range equals the fit's",
-      np.isclose(numbers(run_html, "uncertainty", "tmin")[0], fit["range"]["t_min_k"] - 273.15,
-                 rtol=0, atol=1e-12) and
-      np.isclose(numbers(run_html, "uncertainty", "tmax")[0], fit["range"]["t_max_k"] - 273.15,
-                 rtol=0, atol=1e-12))
-t_rep = numbers(run_html, "readings", "t")
-r_rep = numbers(run_html, "readings", "r")
-check("run: readings equal export --json",
-      np.allclose(t_rep, [g["t_k"] - 273.15 for g in readings], rtol=0, atol=1e-9) and
-      r_rep == [g["ohms"] for g in readings])
-# residuals recomputed here: T(R) from 1/T = A + B ln R + C ln^3 R (Steinhart & Hart 1968)
-if fit["model"] == "sh3":
-    A, B, C = fit["coefficients"]
-    L = np.log(np.array(r_rep))
-    t_fit = 1.0 / (A + B * L + C * L ** 3)
-    res = 1e3 * (np.array([g["t_k"] for g in readings]) - t_fit)
-    check("run: residuals equal T_ref - T(R) (numpy)",
-          np.allclose(numbers(run_html, "readings", "resid"), res, rtol=0, atol=1e-6))
-rt = re.search(r'id="rt" data-from="([^"]+)" data-to="([^"]+)" data-step="([^"]+)"',
-               open(run_html).read())
-cur = bg("curve", "--fit", str(fit_id), "--from", rt.group(1) + "C", "--to",
-         rt.group(2) + "C", "--step", rt.group(3) + "K", "--json")["rows"]
-check("run: R-T table equals curve --json (R, alpha, U)",
-      numbers(run_html, "rt", "r") == [c["ohms"] for c in cur] and
-      np.allclose(numbers(run_html, "rt", "alpha"), [100 * c["alpha_per_k"] for c in cur],
-                  rtol=1e-15, atol=0) and
-      np.allclose(numbers(run_html, "rt", "U"), [1e3 * c["U_k2_k"] for c in cur],
-                  rtol=1e-15, atol=0))
-U = numbers(run_html, "uncertainty", "U")[0]
-grid = bg("curve", "--fit", str(fit_id), "--from", "%.17gC" % (fit["range"]["t_min_k"] - 273.15),
-          "--to", "%.17gC" % (fit["range"]["t_max_k"] - 273.15),
-          "--step", "%.17gK" % ((fit["range"]["t_max_k"] - fit["range"]["t_min_k"]) / 40), "--json")["rows"]
-umax = 1e3 * max(c["U_k2_k"] for c in grid)
-check("run: stated U is the largest U(k=2) rounded up to two significant digits",
-      U >= umax * (1 - 1e-12) and U <= umax * 1.11 and abs(float("%.2g" % U) - U) <= 1e-12 * U,
-      "%g vs %g" % (U, umax))
+def checks():
+    # ---- the calibration report ------------------------------------------------------------------
+    charts = load(run_html, "run")
+    run_id = int(re.search(r'"run":(\d+)', open(run_html).read()).group(1)) if False else None
+    fit_id = int(re.search(r"from fit (\d+) of run (\d+)", open(run_html).read()).group(1))
+    run_no = int(re.search(r"from fit (\d+) of run (\d+)", open(run_html).read()).group(2))
+    fit = bg("show", "fit", str(fit_id), "--json")
+    serial = fit["probe"]
+    exp = bg("export", "--probe", serial, "--json")["probes"][0]
+    run = [r for r in exp["runs"] if r["run"] == run_no][0]
+    readings = run["readings"]
+    check("run: residual chart has one point per reading",
+          charts.get("residuals", {}).get("points") == len(readings),
+          "%s vs %d" % (charts.get("residuals"), len(readings)))
+    check("run: excluded readings flagged",
+          charts["residuals"]["flagged"] == sum(1 for r in readings if r["excluded"]))
+    coef = numbers(run_html, "coefficients", "coef")
+    check("run: coefficients equal show fit --json", coef == fit["coefficients"])
+    u = numbers(run_html, "coefficients", "u")
+    cov = np.array(fit["covariance"])
+    check("run: standard uncertainties are sqrt(diag(cov))",
+          np.allclose(u, np.sqrt(np.diag(cov)), rtol=1e-15, atol=0))
+    check("run: RMS and max residual equal show",
+          numbers(run_html, "fitstats", "rms") == [fit["rms_mk"]] and
+          numbers(run_html, "fitstats", "maxabs") == [fit["max_abs_mk"]])
+    check("run: validity range equals the fit's",
+          np.isclose(numbers(run_html, "uncertainty", "tmin")[0], fit["range"]["t_min_k"] - 273.15,
+                     rtol=0, atol=1e-12) and
+          np.isclose(numbers(run_html, "uncertainty", "tmax")[0], fit["range"]["t_max_k"] - 273.15,
+                     rtol=0, atol=1e-12))
+    t_rep = numbers(run_html, "readings", "t")
+    r_rep = numbers(run_html, "readings", "r")
+    check("run: readings equal export --json",
+          np.allclose(t_rep, [g["t_k"] - 273.15 for g in readings], rtol=0, atol=1e-9) and
+          r_rep == [g["ohms"] for g in readings])
+    # residuals recomputed here: T(R) from 1/T = A + B ln R + C ln^3 R (Steinhart & Hart 1968)
+    if fit["model"] == "sh3":
+        A, B, C = fit["coefficients"]
+        L = np.log(np.array(r_rep))
+        t_fit = 1.0 / (A + B * L + C * L ** 3)
+        res = 1e3 * (np.array([g["t_k"] for g in readings]) - t_fit)
+        check("run: residuals equal T_ref - T(R) (numpy)",
+              np.allclose(numbers(run_html, "readings", "resid"), res, rtol=0, atol=1e-6))
+    rt = re.search(r'id="rt" data-from="([^"]+)" data-to="([^"]+)" data-step="([^"]+)"',
+                   open(run_html).read())
+    cur = bg("curve", "--fit", str(fit_id), "--from", rt.group(1) + "C", "--to",
+             rt.group(2) + "C", "--step", rt.group(3) + "K", "--json")["rows"]
+    check("run: R-T table equals curve --json (R, alpha, U)",
+          numbers(run_html, "rt", "r") == [c["ohms"] for c in cur] and
+          np.allclose(numbers(run_html, "rt", "alpha"), [100 * c["alpha_per_k"] for c in cur],
+                      rtol=1e-15, atol=0) and
+          np.allclose(numbers(run_html, "rt", "U"), [1e3 * c["U_k2_k"] for c in cur],
+                      rtol=1e-15, atol=0))
+    U = numbers(run_html, "uncertainty", "U")[0]
+    grid = bg("curve", "--fit", str(fit_id), "--from", "%.17gC" % (fit["range"]["t_min_k"] - 273.15),
+              "--to", "%.17gC" % (fit["range"]["t_max_k"] - 273.15),
+              "--step", "%.17gK" % ((fit["range"]["t_max_k"] - fit["range"]["t_min_k"]) / 40), "--json")["rows"]
+    umax = 1e3 * max(c["U_k2_k"] for c in grid)
+    check("run: stated U is the largest U(k=2) rounded up to two significant digits",
+          U >= umax * (1 - 1e-12) and U <= umax * 1.11 and abs(float("%.2g" % U) - U) <= 1e-12 * U,
+          "%g vs %g" % (U, umax))
 
-# ---- the lot report --------------------------------------------------------------------------
-charts = load(lot_html, "lot")
-code = re.search(r"<th>Lot</th><td>([^<]+)</td>", open(lot_html).read()).group(1)
-dr = bg("drift", "--lot", code, "--json") if True else None
-check("lot: histogram counts every probe", sum(charts.get("histogram", {}).get("bars", [])) ==
-      len(dr["probes"]))
-check("lot: per-probe numbers equal drift --lot --json",
-      numbers(lot_html, "probes", "r25dev") == [p["r25_dev_pct"] for p in dr["probes"]] and
-      numbers(lot_html, "probes", "b") == [p["b_k"] for p in dr["probes"]] and
-      numbers(lot_html, "probes", "maxdev") ==
-      [max(abs(x) for x in p["deviation_mk"]) for p in dr["probes"]])
-check("lot: statistics equal drift --lot --json",
-      numbers(lot_html, "stats", "mean") == [dr["r25_dev_pct"]["mean"], dr["b_k"]["mean"]] and
-      numbers(lot_html, "stats", "sd") == [dr["r25_dev_pct"]["sd"], dr["b_k"]["sd"]] and
-      numbers(lot_html, "stats", "cpk") == [dr["r25_dev_pct"]["cpk"], dr["b_k"]["cpk"]])
-check("lot: statistics equal numpy on the same values",
-      np.isclose(np.mean([p["b_k"] for p in dr["probes"]]), dr["b_k"]["mean"], rtol=1e-14) and
-      np.isclose(np.std([p["b_k"] for p in dr["probes"]], ddof=1), dr["b_k"]["sd"], rtol=1e-12))
-check("lot: Grubbs statistics and band equal drift",
-      numbers(lot_html, "grubbs", "g_r25") == [dr["grubbs"]["g_r25"]] and
-      numbers(lot_html, "band", "blo") == dr["band_lo_mk"] and
-      numbers(lot_html, "band", "bhi") == dr["band_hi_mk"])
-part = dr["part"]
-pj = subprocess.run([bandgap, "--db", db, "drift", "--part", part, "--json"],
-                    capture_output=True, text=True)
-if pj.returncode in (0, 1) and pj.stdout.strip():
-    pj = json.loads(pj.stdout)
-    for key, chart in (("xbar_r25_dev_pct", "xbar_r25"), ("xbar_b_k", "xbar_b")):
-        c = charts.get(chart, {})
-        check("lot: control chart %s has a point per lot and three limits" % chart,
-              c.get("points") == len(pj["lots"]) and c.get("limits") == 3)
-    check("lot: control chart points equal drift --part --json",
-          numbers(lot_html, "lots", "mr") == [l["r25_dev_mean_pct"] for l in pj["lots"]] and
-          numbers(lot_html, "lots", "mb") == [l["b_mean_k"] for l in pj["lots"]])
-else:
-    check("lot: drift --part ran", False, pj.stderr)
+    # ---- the lot report --------------------------------------------------------------------------
+    charts = load(lot_html, "lot")
+    code = re.search(r"<th>Lot</th><td>([^<]+)</td>", open(lot_html).read()).group(1)
+    dr = bg("drift", "--lot", code, "--json") if True else None
+    check("lot: histogram counts every probe", sum(charts.get("histogram", {}).get("bars", [])) ==
+          len(dr["probes"]))
+    check("lot: per-probe numbers equal drift --lot --json",
+          numbers(lot_html, "probes", "r25dev") == [p["r25_dev_pct"] for p in dr["probes"]] and
+          numbers(lot_html, "probes", "b") == [p["b_k"] for p in dr["probes"]] and
+          numbers(lot_html, "probes", "maxdev") ==
+          [max(abs(x) for x in p["deviation_mk"]) for p in dr["probes"]])
+    check("lot: statistics equal drift --lot --json",
+          numbers(lot_html, "stats", "mean") == [dr["r25_dev_pct"]["mean"], dr["b_k"]["mean"]] and
+          numbers(lot_html, "stats", "sd") == [dr["r25_dev_pct"]["sd"], dr["b_k"]["sd"]] and
+          numbers(lot_html, "stats", "cpk") == [dr["r25_dev_pct"]["cpk"], dr["b_k"]["cpk"]])
+    check("lot: statistics equal numpy on the same values",
+          np.isclose(np.mean([p["b_k"] for p in dr["probes"]]), dr["b_k"]["mean"], rtol=1e-14) and
+          np.isclose(np.std([p["b_k"] for p in dr["probes"]], ddof=1), dr["b_k"]["sd"], rtol=1e-12))
+    check("lot: Grubbs statistics and band equal drift",
+          numbers(lot_html, "grubbs", "g_r25") == [dr["grubbs"]["g_r25"]] and
+          numbers(lot_html, "band", "blo") == dr["band_lo_mk"] and
+          numbers(lot_html, "band", "bhi") == dr["band_hi_mk"])
+    part = dr["part"]
+    pj = subprocess.run([bandgap, "--db", db, "drift", "--part", part, "--json"],
+                        capture_output=True, text=True)
+    if pj.returncode in (0, 1) and pj.stdout.strip():
+        pj = json.loads(pj.stdout)
+        for key, chart in (("xbar_r25_dev_pct", "xbar_r25"), ("xbar_b_k", "xbar_b")):
+            c = charts.get(chart, {})
+            check("lot: control chart %s has a point per lot and three limits" % chart,
+                  c.get("points") == len(pj["lots"]) and c.get("limits") == 3)
+        check("lot: control chart points equal drift --part --json",
+              numbers(lot_html, "lots", "mr") == [l["r25_dev_mean_pct"] for l in pj["lots"]] and
+              numbers(lot_html, "lots", "mb") == [l["b_mean_k"] for l in pj["lots"]])
+    else:
+        check("lot: drift --part ran", False, pj.stderr)
 
-# ---- the table report ------------------------------------------------------------------------
-charts = load(table_html, "table")
-tj = json.load(open(table_json))
-check("table: the error chart has a vertex per code",
-      charts.get("table_error", {}).get("vertices") == tj["code_hi"] - tj["code_lo"] + 1)
-check("table: max and RMS error equal lut --format json",
-      numbers(table_html, "table", "maxerr") == [tj["max_error_c"]] and
-      numbers(table_html, "table", "rmserr") == [tj["rms_error_c"]])
-check("table: budget equals lut --format json",
-      numbers(table_html, "budget", "rss") == [b["rss_k"] for b in tj["budget"]] and
-      numbers(table_html, "budget", "sum") == [b["sum_k"] for b in tj["budget"]])
+    # ---- the table report ------------------------------------------------------------------------
+    charts = load(table_html, "table")
+    tj = json.load(open(table_json))
+    check("table: the error chart has a vertex per code",
+          charts.get("table_error", {}).get("vertices") == tj["code_hi"] - tj["code_lo"] + 1)
+    check("table: max and RMS error equal lut --format json",
+          numbers(table_html, "table", "maxerr") == [tj["max_error_c"]] and
+          numbers(table_html, "table", "rmserr") == [tj["rms_error_c"]])
+    check("table: budget equals lut --format json",
+          numbers(table_html, "budget", "rss") == [b["rss_k"] for b in tj["budget"]] and
+          numbers(table_html, "budget", "sum") == [b["sum_k"] for b in tj["budget"]])
 
-wd("DELETE", "/session/%s" % sid)
-drv.terminate()
+
+
+try:
+    checks()
+finally:
+    try:
+        wd("DELETE", "/session/%s" % sid)
+    finally:
+        drv.terminate()
+        drv.wait(timeout=30)
 sys.exit(1 if fails else 0)

@@ -171,6 +171,8 @@ static void strategies_and_formats(void **state)
             bg_error err = BG_ERROR_INIT;
             s.strategy = strat[i], s.max_err_k = bound[k], s.qbits = 8;
             s.kelvin = k == 3, s.frac_bits = -1, s.oncurve_min = 1;
+            /* a serial is any text: it must not end the provenance comment */
+            s.source = "stored fit 1 of probe 'x*/ int broken;\n/*'";
             if (k == 4)
                 s.circuit.kind = BG_CIRCUIT_DIVIDER_LOW; /* float on the same divider */
             int rc = bg_lut_build(&s, &t, &err);

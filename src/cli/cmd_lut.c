@@ -364,6 +364,7 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
     int c, rc, have_range = 0, allow = 0, side_set = 0, current = 0, ohms_in = 0, strat = -1;
     char *end;
     bg_fit_row fr;
+    char source[200];
     int have_cov = 0;
     bg_budget_opts bo = { NULL, 0.0, 0.0, 0.0 };
     double bat[16];
@@ -517,6 +518,9 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         if (rc != BG_OK)
             return cli_fail("lut", &err);
         s.model = fr.model;
+        snprintf(source, sizeof source, "stored fit %lld of probe %.100s, run %lld", fit_id,
+                 fr.serial, fr.run_id);
+        s.source = source;
         have_cov = fr.has_cov;
         cal_lo = fr.t_min_k, cal_hi = fr.t_max_k;
         if (!allow && (s.t_lo_k < cal_lo - 1e-9 || s.t_hi_k > cal_hi + 1e-9)) {

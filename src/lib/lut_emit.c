@@ -20,6 +20,20 @@ static int ident_ok(const char *s)
     return 1;
 }
 
+/* Text inside the provenance comment: no comment start or end, no line breaks, ASCII only. */
+static void comment_text(FILE *f, const char *s)
+{
+    for (; *s; s++) {
+        unsigned char ch = (unsigned char)*s;
+        if ((ch == '*' && s[1] == '/') || (ch == '/' && s[1] == '*'))
+            fputc(ch, f), fputc(' ', f);
+        else if (ch < 0x20 || ch >= 0x7f)
+            fputc('?', f);
+        else
+            fputc(ch, f);
+    }
+}
+
 static void value_format(const bg_lut_spec *s, char *buf, size_t n)
 {
     static const char *fmt[] = { "0.1", "0.01", "0.001" };
@@ -47,7 +61,9 @@ static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FI
                 t->n, bg_lut_strategy_name(t->strategy),
                 t->strategy == BG_LUT_INDEXED ? ", found through an index" : ", binary search",
                 s->max_err_k);
-    fprintf(f, " * model %s:", name);
+    fprintf(f, " * model %s (", name);
+    comment_text(f, s->source ? s->source : "given inline");
+    fprintf(f, "):");
     for (size_t i = 0; i < bg_model_npar(&s->model); i++)
         fprintf(f, " %s=%.17g", bg_model_coef_name(&s->model, i), s->model.coef[i]);
     if (s->model.kind == BG_MODEL_BETA)

@@ -281,6 +281,11 @@ int bg_store_open(const char *path, int flags, bg_store **out, bg_error *err)
                           bg_store_schema_known());
         goto fail;
     }
+    if (ntables == 0 && (flags & BG_STORE_CREATE) &&
+        sqlite3_exec(st->db, "PRAGMA page_size = 8192", NULL, NULL, NULL) != SQLITE_OK) {
+        rc = bg_error_set(err, BG_EIO, "'%s': %s", path, sqlite3_errmsg(st->db));
+        goto fail;
+    }
     {
         /* The journal mode is a property of the file: keep it a rollback journal. */
         sqlite3_stmt *q = NULL;

@@ -1,6 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* Internal: the store handle and helpers shared by store.c and store_run.c (the only files
-** that include sqlite3.h). */
+** that include sqlite3.h, with store_artifact.c). */
 #ifndef BANDGAP_STORE_PRIV_H
 #define BANDGAP_STORE_PRIV_H
 
@@ -8,7 +8,7 @@
 
 #include "bandgap/store.h"
 
-enum { STMT_INSERT_READING, STMT_RUN_POINTS, STMT_INSERT_FIT, STMT_COUNT };
+enum { STMT_INSERT_READING, STMT_INSERT_READINGS, STMT_RUN_POINTS, STMT_INSERT_FIT, STMT_COUNT };
 
 struct bg_store {
     sqlite3 *db;
