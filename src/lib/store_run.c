@@ -118,7 +118,7 @@ int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, lon
     ** under the write lock gives exactly first, first + 1, ...; checked below. */
     /* BATCH readings per statement: one step instead of BATCH (a third less time for a
     ** large file); the rest one by one */
-    enum { BATCH = 32, NCOL = 9 };
+    enum { BATCH = 64, NCOL = 9 };
     sqlite3_stmt *batch = NULL;
     if (rs->n >= BATCH) {
         char sql[128 + BATCH * 32];
