@@ -17,6 +17,7 @@ T_ref - T(R) recomputed here with numpy from the Steinhart-Hart equation (Steinh
 import base64, json, os, re, socket, subprocess, sys, time, urllib.request, zlib
 from html.parser import HTMLParser
 import numpy as np
+from scipy import constants, stats
 
 bandgap, db, run_html, lot_html, table_html, table_json, outdir = sys.argv[1:8]
 fails = 0
@@ -228,6 +229,20 @@ def checks():
                       rtol=1e-15, atol=0) and
           np.allclose(numbers(run_html, "rt", "U"), [1e3 * c["U_k2_k"] for c in cur],
                       rtol=1e-15, atol=0))
+    # self-heating: I^2 R at the largest resistance read, over the dissipation constant given
+    amps = {"uA": 1e-6, "mA": 1e-3, "nA": 1e-9}
+    ex = run["excitation"].split()
+    current = float(ex[0]) * amps[ex[1]]
+    p_uw = 1e6 * current ** 2 * max(g["ohms"] for g in readings)
+    diss = float(re.search(r"over ([0-9.]+) mW/K", open(run_html).read()).group(1)) * 1e-3
+    check("run: self-heating estimate is I^2 R_max over the dissipation constant",
+          np.isclose(numbers(run_html, "selfheat", "power-uw")[0], p_uw, rtol=1e-12) and
+          np.isclose(numbers(run_html, "selfheat", "selfheat-mk")[0], 1e-3 * p_uw / diss,
+                     rtol=1e-12))
+    # coverage probability of k = 2 with the fit's degrees of freedom (scipy's Student t)
+    check("run: coverage probability of k = 2 from Student t (scipy)",
+          np.isclose(numbers(run_html, "uncertainty", "coverage")[0],
+                     100 * (2 * stats.t.cdf(2.0, fit["dof"]) - 1), rtol=1e-10))
     U = numbers(run_html, "uncertainty", "U")[0]
     grid = bg("curve", "--fit", str(fit_id), "--from", "%.17gC" % (fit["range"]["t_min_k"] - 273.15),
               "--to", "%.17gC" % (fit["range"]["t_max_k"] - 273.15),
@@ -255,6 +270,11 @@ def checks():
     check("lot: statistics equal numpy on the same values",
           np.isclose(np.mean([p["b_k"] for p in dr["probes"]]), dr["b_k"]["mean"], rtol=1e-14) and
           np.isclose(np.std([p["b_k"] for p in dr["probes"]], ddof=1), dr["b_k"]["sd"], rtol=1e-12))
+    # E = k B with k the Boltzmann constant in eV/K (CODATA, through scipy.constants)
+    k_ev = constants.physical_constants["Boltzmann constant in eV/K"][0]
+    check("lot: activation energy is k times the mean B (CODATA k)",
+          np.isclose(numbers(lot_html, "energy", "ea")[0], k_ev * dr["b_k"]["mean"],
+                     rtol=1e-6))
     check("lot: Grubbs statistics and band equal drift",
           numbers(lot_html, "grubbs", "g_r25") == [dr["grubbs"]["g_r25"]] and
           numbers(lot_html, "band", "blo") == dr["band_lo_mk"] and

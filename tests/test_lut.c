@@ -100,6 +100,18 @@ static void compile_and_compare(const bg_lut *t, const bg_lut_spec *s)
              "-ffp-contract=off -O2 %s/ntc.c %s/main.c -o %s/run && %s/run > %s/out.txt", dir,
              dir, dir, dir, dir);
     assert_int_equal(system(cmd), 0);
+    /* the flash the table claims: the compiler's sizes of its const objects (nm -S) */
+    snprintf(cmd, sizeof cmd, "cc -std=c99 -O2 -c %s/ntc.c -o %s/ntc.o && nm -S --radix=d %s/ntc.o | "
+             "awk '$3 ~ /^[rR]$/ && $4 ~ /^ntc_/ { s += $2 + 0 } END { print s }' "
+             "> %s/size.txt", dir, dir, dir, dir);
+    assert_int_equal(system(cmd), 0);
+    snprintf(path, sizeof path, "%s/size.txt", dir);
+    f = fopen(path, "r");
+    assert_non_null(f);
+    unsigned long objbytes = 0;
+    assert_int_equal(fscanf(f, "%lu", &objbytes), 1);
+    fclose(f);
+    assert_int_equal(objbytes, t->bytes);
     snprintf(path, sizeof path, "%s/out.txt", dir);
     f = fopen(path, "r");
     assert_non_null(f);

@@ -7,6 +7,8 @@
 #ifndef BANDGAP_CIRCUIT_H
 #define BANDGAP_CIRCUIT_H
 
+#include <stddef.h>
+
 #include "bandgap/error.h"
 #include "bandgap/model.h"
 
@@ -44,5 +46,9 @@ BG_API int bg_circuit_ohms_of(const bg_circuit *c, double code, double *r_ohm, b
 /* Temperature (K) and sensitivity dT/dcode (K per LSB) at a code through model 'm'. */
 BG_API int bg_circuit_temp_of(const bg_circuit *c, const bg_model *m, double code, double *t_k,
                               double *k_per_lsb, bg_error *err);
+
+/* One line describing the circuit ("divider, thermistor on the low side, fixed 10000 ohm,
+** 12-bit ADC, full scale 2^N"), for provenance blocks and reports; returns 'buf'. */
+BG_API char *bg_circuit_describe(const bg_circuit *c, char *buf, size_t size);
 
 #endif

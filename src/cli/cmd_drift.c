@@ -324,7 +324,7 @@ static void lot_html(FILE *f, const char *code, const bg_lot *lot, const struct 
         html_num(f, "td", "n cpk", "%.2f", cp[k]);
         fputs("</tr>\n", f);
     }
-    fputs("</table>\n<p>Apparent activation energy E = kB = ", f);
+    fputs("</table>\n<p id=\"energy\">Apparent activation energy E = kB = ", f);
     html_num(f, "span", "ea", "%.4f", bg_activation_energy_ev(sb->mean));
     fprintf(f, " eV (k the Boltzmann constant, B the lot's mean B%.0f/%.0f). Nominal: R25 %.6g "
                "ohm &#177;%.3g %%, B %.2f K &#177;%.3g %%. %zu probe(s) out of tolerance.</p>\n",

@@ -227,16 +227,8 @@ static int write_report(const char *path, const bg_lut *t, const bg_lut_spec *s,
         fprintf(f, " (stored fit %lld)", fit_id);
     fputs("</td></tr>\n", f);
     const bg_circuit *c = &s->circuit;
-    fprintf(f, "<tr><th>Circuit</th><td>");
-    if (c->kind == BG_CIRCUIT_DIVIDER_LOW || c->kind == BG_CIRCUIT_DIVIDER_HIGH)
-        fprintf(f, "divider, thermistor on the %s side, fixed %.9g ohm",
-                c->kind == BG_CIRCUIT_DIVIDER_LOW ? "low" : "high", c->fixed_ohm);
-    else if (c->kind == BG_CIRCUIT_CURRENT)
-        fprintf(f, "current source %.9g A, reference %.9g V", c->current_a, c->vref_v);
-    else
-        fprintf(f, "resistance input, %.9g ohm per code", c->ohms_per_code);
-    if (c->kind != BG_CIRCUIT_OHMS)
-        fprintf(f, ", %u-bit ADC", c->adc_bits);
+    char cd[256];
+    fprintf(f, "<tr><th>Circuit</th><td>%s", bg_circuit_describe(c, cd, sizeof cd));
     fprintf(f, "</td></tr>\n<tr><th>Range</th><td>%.3f to %.3f degC, codes %ld to %ld</td></tr>"
                "\n", s->t_lo_k - BG_ZERO_C_K, s->t_hi_k - BG_ZERO_C_K, t->code_lo, t->code_hi);
     fprintf(f, "<tr><th>Table</th><td>%s, %zu %s, %zu bytes, values in ",

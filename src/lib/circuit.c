@@ -4,6 +4,7 @@
 ** source gives V = I Rb; the code is V / Vref times the full scale (common practice).
 ** The inverse solves the same relations for Rb, then R = 1 / (1/(Rb - Rs) - 1/Rp). */
 #include <math.h>
+#include <stdio.h>
 
 #include "bandgap/circuit.h"
 
@@ -125,4 +126,34 @@ int bg_circuit_temp_of(const bg_circuit *c, const bg_model *m, double code, doub
             *k_per_lsb = (t1 - t2) / (2.0 * h);
     }
     return BG_OK;
+}
+
+char *bg_circuit_describe(const bg_circuit *c, char *buf, size_t size)
+{
+    int n;
+    switch (c->kind) {
+    case BG_CIRCUIT_DIVIDER_LOW:
+    case BG_CIRCUIT_DIVIDER_HIGH:
+        n = snprintf(buf, size, "divider, thermistor on the %s side, fixed %.9g ohm",
+                     c->kind == BG_CIRCUIT_DIVIDER_LOW ? "low" : "high", c->fixed_ohm);
+        break;
+    case BG_CIRCUIT_CURRENT:
+        n = snprintf(buf, size, "current source %.9g A, reference %.9g V", c->current_a,
+                     c->vref_v);
+        break;
+    default:
+        n = snprintf(buf, size, "resistance input, %.9g ohm per code", c->ohms_per_code);
+        break;
+    }
+    size_t len = n < 0 ? 0 : (size_t)n < size ? (size_t)n : size;
+    if (c->kind != BG_CIRCUIT_OHMS && len < size) {
+        if (c->parallel_ohm > 0.0 && len < size)
+            len += (size_t)snprintf(buf + len, size - len, ", parallel %.9g ohm", c->parallel_ohm);
+        if (c->series_ohm > 0.0 && len < size)
+            len += (size_t)snprintf(buf + len, size - len, ", series %.9g ohm", c->series_ohm);
+        if (len < size)
+            snprintf(buf + len, size - len, ", %u-bit ADC, full scale %s", c->adc_bits,
+                     c->full_scale_pow2 ? "2^N" : "2^N - 1");
+    }
+    return buf;
 }

@@ -68,28 +68,8 @@ static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FI
         fprintf(f, " %s=%.17g", bg_model_coef_name(&s->model, i), s->model.coef[i]);
     if (s->model.kind == BG_MODEL_BETA)
         fprintf(f, " T0=%.17g K", s->model.t0_k);
-    fprintf(f, "\n * circuit: ");
-    switch (c->kind) {
-    case BG_CIRCUIT_DIVIDER_LOW:
-    case BG_CIRCUIT_DIVIDER_HIGH:
-        fprintf(f, "divider, thermistor on the %s side, fixed %.9g ohm",
-                c->kind == BG_CIRCUIT_DIVIDER_LOW ? "low" : "high", c->fixed_ohm);
-        break;
-    case BG_CIRCUIT_CURRENT:
-        fprintf(f, "current source %.9g A, reference %.9g V", c->current_a, c->vref_v);
-        break;
-    default:
-        fprintf(f, "resistance input, %.9g ohm per code", c->ohms_per_code);
-        break;
-    }
-    if (c->kind != BG_CIRCUIT_OHMS) {
-        if (c->parallel_ohm > 0.0)
-            fprintf(f, ", parallel %.9g ohm", c->parallel_ohm);
-        if (c->series_ohm > 0.0)
-            fprintf(f, ", series %.9g ohm", c->series_ohm);
-        fprintf(f, ", %u-bit ADC, full scale %s", c->adc_bits,
-                c->full_scale_pow2 ? "2^N" : "2^N - 1");
-    }
+    char cd[256];
+    fprintf(f, "\n * circuit: %s", bg_circuit_describe(c, cd, sizeof cd));
     fprintf(f, "\n * range: %.3f .. %.3f degC, codes %ld .. %ld\n", s->t_lo_k - BG_ZERO_C_K,
             s->t_hi_k - BG_ZERO_C_K, t->code_lo, t->code_hi);
     fprintf(f, " * measured over every code against the model: max |error| %.6f K (at code %ld),"
