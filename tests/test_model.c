@@ -62,6 +62,17 @@ static void sh3_point_values(void **state)
     assert_close(b, 3992.9233, 0, 1e-4);
     assert_int_equal(bg_model_b_pair(&m, 273.15, 323.15, &b, NULL), BG_OK);
     assert_close(b, 3896.2960, 0, 1e-4);
+    /* R at 25 degC to the last bits: 3067.5000510747713163 ohm, derived by Newton's method
+    ** on A + B L + C L^3 = 1/T in 50-digit decimal arithmetic (Python's decimal module) from
+    ** the same double coefficients; and at -40 and 125 degC, where C L^3 matters most.  R =
+    ** exp(L), so its relative error is L's absolute error: 2 ulps of L near 11.5 is 4e-15 */
+    double r;
+    assert_int_equal(bg_model_r_from_t(&m, 298.15, &r, NULL), BG_OK);
+    assert_close(r, 3067.5000510747713163, 1e-15, 0);
+    assert_int_equal(bg_model_r_from_t(&m, 233.15, &r, NULL), BG_OK);
+    assert_close(r, 103475.53272821765881, 4e-15, 0);
+    assert_int_equal(bg_model_r_from_t(&m, 398.15, &r, NULL), BG_OK);
+    assert_close(r, 104.41854637738117325, 4e-15, 0);
 }
 
 static void sh4_kilohm_unit_trap(void **state)

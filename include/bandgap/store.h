@@ -197,7 +197,10 @@ BG_API int bg_store_lot_latest_fits(bg_store *st, const char *lot_code, const ch
                                     bg_latest_cb cb, void *ctx, bg_error *err);
 
 /* In one pass over a lot: for each probe (in the order added) the newest fit of each of its
-** fitted runs started at or after 'since', oldest run first, with the runs' start times. */
+** fitted runs started at or after 'since', oldest run first, with the runs' start times.
+** The rows carry what QA history needs (ids, serial, model and coefficients, range, n and
+** dof); the covariance and the fit statistics are not read (has_cov 0, statistics NaN,
+** version and creation time empty): bg_store_fit_get gives a whole fit. */
 typedef int (*bg_lot_history_cb)(const char *serial, const bg_fit_row *fits,
                                  char (*started_at)[BG_TIME], size_t n, void *ctx);
 BG_API int bg_store_lot_history(bg_store *st, const char *lot_code, const char *since,

@@ -200,6 +200,23 @@ static int l_from_t(const bg_model *m, double t_k, double *l_out, bg_error *err)
         *l_out = log(m->coef[0]) + m->coef[1] * (y - 1.0 / m->t0_k);
         return BG_OK;
     }
+    if (m->kind == BG_MODEL_SH3 && m->coef[2] > 0.0 && m->coef[1] > 0.0) {
+        /* Newton from the root without the cubic term: A + B L + C L^3 is increasing, and
+        ** for real thermistors C L^3 is a few per cent of B L, so a few steps reach the root
+        ** to rounding (cheaper than the cube roots below, which remain the fallback). */
+        double A = m->coef[0], B = m->coef[1], C = m->coef[2];
+        L = (y - A) / B;
+        L = (y - A - C * L * L * L) / B; /* one fixed-point step folds the cubic term in */
+        for (int it = 0; it < 8; it++) {
+            double d = B + 3.0 * C * L * L, step = (A + B * L + C * L * L * L - y) / d;
+            L -= step;
+            /* the error left after a Newton step is about f''/(2 f') step^2 */
+            if (fabs(3.0 * C * L / d) * step * step <= 1e-17 * fabs(L) + 1e-300) {
+                *l_out = L;
+                return BG_OK;
+            }
+        }
+    }
     if (m->kind == BG_MODEL_SH3 && m->coef[2] > 0.0) {
         double A = m->coef[0], B = m->coef[1], C = m->coef[2];
         double x = (A - y) / C, q = B / (3.0 * C);

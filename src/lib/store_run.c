@@ -3,6 +3,7 @@
 ** transaction; readings carry both the raw reference value and the corrected temperature. */
 #include <math.h>
 #include <stdio.h>
+#include <stddef.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -840,36 +841,76 @@ int bg_store_lot_latest_fits(bg_store *st, const char *lot_code, const char *sin
     return rc;
 }
 
+/* A QA history row: what drift needs (model, range, ids, counts), not the covariance or the
+** statistics; the serial comes from the probe query beside it. */
+#define HIST_COLS "f.id, f.run_id, r.probe_id, f.model, f.t0_k, f.npar, f.c0, f.c1, f.c2, " \
+    "f.c3, f.c4, f.c5, f.n, f.dof, f.t_min_k, f.t_max_k, r.started_at"
+
+static int hist_row(sqlite3_stmt *q, bg_fit_row *f, bg_error *err)
+{
+    char name[16];
+    /* the fields before the covariance; the covariance stays as zeroed when the buffer grew */
+    memset(f, 0, offsetof(bg_fit_row, cov));
+    f->id = sqlite3_column_int64(q, 0);
+    f->run_id = sqlite3_column_int64(q, 1);
+    f->probe_id = sqlite3_column_int64(q, 2);
+    bgi_copy_text(name, sizeof name, q, 3);
+    if (bg_model_parse(name, &f->model, err) != BG_OK)
+        return BG_EINVAL;
+    if (sqlite3_column_type(q, 4) != SQLITE_NULL)
+        f->model.t0_k = sqlite3_column_double(q, 4);
+    f->npar = (size_t)sqlite3_column_int64(q, 5);
+    if (f->npar != bg_model_npar(&f->model))
+        return bg_error_set(err, BG_EDB, "fit %lld: %zu coefficients for model '%s'", f->id,
+                            f->npar, name);
+    for (size_t i = 0; i < f->npar; i++)
+        f->model.coef[i] = sqlite3_column_double(q, (int)(6 + i));
+    f->n = (size_t)sqlite3_column_int64(q, 12);
+    f->dof = (size_t)sqlite3_column_int64(q, 13);
+    f->t_min_k = sqlite3_column_double(q, 14);
+    f->t_max_k = sqlite3_column_double(q, 15);
+    f->chi2 = f->cov_scale = f->rms_mk = f->max_abs_mk = NAN;
+    f->program_version[0] = f->created_at[0] = '\0';
+    return BG_OK;
+}
+
 int bg_store_lot_history(bg_store *st, const char *lot_code, const char *since,
                          bg_lot_history_cb cb, void *ctx, bg_error *err)
 {
-    sqlite3_stmt *q = NULL;
+    sqlite3_stmt *q = NULL, *pq = NULL;
     bg_fit_row *fits = NULL;
     char (*when)[BG_TIME] = NULL;
     size_t n = 0, cap = 0;
     long long probe = -1;
     char serial[BG_TEXT] = "";
     bg_lot lot;
-    int rc, s, stop = 0;
+    int rc, s = SQLITE_DONE, stop = 0;
 
     if ((rc = bg_store_lot_get(st, lot_code, &lot, err)) != BG_OK)
         return rc;
     /* every fit of the lot's runs, a run's fits oldest first: the newest one of a run
-    ** replaces the ones before it below (cheaper than asking SQL for it per row) */
-    rc = bgi_prepare(st, "SELECT " FIT_COLS ", r.started_at" FIT_FROM
-                     "WHERE p.lot_id = ?1 AND (?2 IS NULL OR r.started_at >= ?2) "
-                     "ORDER BY p.id, r.started_at, r.id, f.id", &q, err);
-    if (rc != BG_OK)
+    ** replaces the ones before it below (cheaper than asking SQL for it per row); the
+    ** serials from the lot's probes in the same order */
+    if ((rc = bgi_prepare(st, "SELECT " HIST_COLS FIT_FROM
+                          "WHERE p.lot_id = ?1 AND (?2 IS NULL OR r.started_at >= ?2) "
+                          "ORDER BY p.id, r.started_at, r.id, f.id", &q, err)) != BG_OK ||
+        (rc = bgi_prepare(st, "SELECT id, serial FROM probe WHERE lot_id = ? ORDER BY id", &pq,
+                          err)) != BG_OK) {
+        sqlite3_finalize(q);
         return rc;
+    }
     sqlite3_bind_int64(q, 1, lot.id);
     bgi_bind_text_or_null(q, 2, since);
+    sqlite3_bind_int64(pq, 1, lot.id);
     while (!stop && (s = sqlite3_step(q)) == SQLITE_ROW) {
         long long pid = sqlite3_column_int64(q, 2);
         if (pid != probe) {
             if (probe >= 0 && cb(serial, fits, when, n, ctx))
                 stop = 1;
             probe = pid, n = 0;
-            bgi_copy_text(serial, sizeof serial, q, 3);
+            while (sqlite3_step(pq) == SQLITE_ROW && sqlite3_column_int64(pq, 0) < pid)
+                ;
+            bgi_copy_text(serial, sizeof serial, pq, 1);
         }
         if (stop)
             break;
@@ -878,8 +919,10 @@ int bg_store_lot_history(bg_store *st, const char *lot_code, const char *since,
         if (n == cap) {
             size_t nc = cap ? 2 * cap : 8;
             bg_fit_row *nf = realloc(fits, nc * sizeof *nf);
-            if (nf)
+            if (nf) {
                 fits = nf;
+                memset(fits + cap, 0, (nc - cap) * sizeof *nf);
+            }
             char (*nw)[BG_TIME] = realloc(when, nc * sizeof *nw);
             if (nw)
                 when = nw;
@@ -889,9 +932,10 @@ int bg_store_lot_history(bg_store *st, const char *lot_code, const char *since,
             }
             cap = nc;
         }
-        if ((rc = fit_row(q, &fits[n], err)) != BG_OK)
+        if ((rc = hist_row(q, &fits[n], err)) != BG_OK)
             break;
-        bgi_copy_text(when[n], BG_TIME, q, 25);
+        memcpy(fits[n].serial, serial, strlen(serial) + 1);
+        bgi_copy_text(when[n], BG_TIME, q, 16);
         n++;
     }
     if (rc == BG_OK && !stop && s != SQLITE_DONE)
@@ -899,6 +943,7 @@ int bg_store_lot_history(bg_store *st, const char *lot_code, const char *since,
     if (rc == BG_OK && !stop && probe >= 0)
         cb(serial, fits, when, n, ctx);
     sqlite3_finalize(q);
+    sqlite3_finalize(pq);
     free(fits);
     free(when);
     return rc;
