@@ -68,7 +68,7 @@ cli=$(for i in 1 2 3; do t0=$(now)
       "$BUILD/bandgap" --db "$out/drift.db" drift --lot BENCH > /dev/null || true; t1=$(now)
       awk -v a="$t0" -v b="$t1" 'BEGIN { print b - a }'; done | best)
 awk -v s="$scanf" -v w="$scanr" -v d="$drift" -v c="$cli" -v n="$NDRIFT" 'BEGIN {
-    printf "drift of %d probes x 3 calibrations (against previous and first) with the lot statistics: %.3f s; plain SQL scan of the same fit rows, two columns read %.3f s: ratio %.1f (target <= 3); every column read %.3f s: ratio %.1f\n", n, d, s, d / s, w, d / w
+    printf "drift of %d probes x 3 calibrations (against previous and first) with the lot statistics: %.3f s; plain SQL scan of the same fit rows, two columns read %.3f s: ratio %.2f (target <= 3); every column read %.3f s: ratio %.2f\n", n, d, s, d / s, w, d / w
     printf "  bandgap drift --lot (the lot statistics of the newest fits, printed): %.3f s\n", c }'
 
 # ---- firmware tables: build time, entries against the exact minimum, instructions ----
