@@ -91,6 +91,10 @@ int cli_inline_model(const struct cli_inline *in, const char *cmd, bg_model *m);
 void cli_json_reading(json_out *j, const bg_reading_row *g);
 void cli_json_run_fields(json_out *j, const bg_run *r);
 void cli_json_fit_brief(json_out *j, const bg_fit_row *f);
+/* A stored fit as JSON with the optional keys in 'with' (the listings: probe and version;
+** export: the covariance). */
+enum { CLI_FIT_PROBE = 1, CLI_FIT_COV = 2, CLI_FIT_VERSION = 4 };
+void cli_json_fit(json_out *j, const bg_fit_row *f, unsigned with);
 
 /* ---- the fit report, shared by 'fit' and 'demo' ---- */
 struct fit_request {

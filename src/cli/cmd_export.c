@@ -102,30 +102,7 @@ static int fit_cb(const bg_fit_row *f, void *p)
     char name[16];
     bg_model_name(&f->model, name, sizeof name);
     if (e->json) {
-        json_out *j = &e->j;
-        json_obj(j, NULL);
-        json_int(j, "fit", f->id);
-        json_int(j, "run", f->run_id);
-        json_str(j, "model", name);
-        if (f->model.kind == BG_MODEL_BETA)
-            json_num(j, "t0_k", f->model.t0_k);
-        json_nums(j, "coefficients", f->model.coef, f->npar);
-        if (f->has_cov) {
-            json_arr(j, "covariance");
-            for (size_t i = 0; i < f->npar; i++)
-                json_nums(j, NULL, &f->cov[i * f->npar], f->npar);
-            json_arr_end(j);
-        } else
-            json_null(j, "covariance");
-        json_int(j, "n", (long long)f->n);
-        json_int(j, "dof", (long long)f->dof);
-        json_num(j, "chi2", f->chi2);
-        json_num(j, "rms_mk", f->rms_mk);
-        json_num(j, "max_abs_mk", f->max_abs_mk);
-        json_num(j, "t_min_k", f->t_min_k);
-        json_num(j, "t_max_k", f->t_max_k);
-        json_str(j, "created_at", f->created_at);
-        json_obj_end(j);
+        cli_json_fit(&e->j, f, CLI_FIT_COV);
         return 0;
     }
     FILE *o = e->out;

@@ -171,8 +171,9 @@ static int run_report_gen(long long id, const char *issued, void *vctx, char **c
         kv(f, "Traceability (certificate)", r->ref.certificate);
         kv(f, "Calibration due", r->ref.due_date);
         if (r->ref.kind == BG_REF_LINEAR)
-            snprintf(buf, sizeof buf, "linear: t = t_read + %.6g K + %.6g (t_read - %.3f degC)",
-                     r->ref.lin_c0_k, r->ref.lin_c1, cdeg(r->ref.lin_t0_k));
+            snprintf(buf, sizeof buf, "linear: t = t_read %s %.6g K %s %.6g (t_read - %.3f degC)",
+                     r->ref.lin_c0_k < 0 ? "-" : "+", fabs(r->ref.lin_c0_k),
+                     r->ref.lin_c1 < 0 ? "-" : "+", fabs(r->ref.lin_c1), cdeg(r->ref.lin_t0_k));
         else if (r->ref.kind == BG_REF_CVD)
             snprintf(buf, sizeof buf, "read as a platinum resistance, IEC 60751 "
                      "Callendar-Van Dusen: R0 %.9g ohm, A %.6g, B %.6g, C %.6g",

@@ -119,17 +119,25 @@ void cli_json_run_fields(json_out *j, const bg_run *r)
     json_int(j, "fits", r->nfits);
 }
 
-void cli_json_fit_brief(json_out *j, const bg_fit_row *f)
+void cli_json_fit(json_out *j, const bg_fit_row *f, unsigned with)
 {
     char name[16];
     json_obj(j, NULL);
     json_int(j, "fit", f->id);
     json_int(j, "run", f->run_id);
-    json_str(j, "probe", f->serial);
+    if (with & CLI_FIT_PROBE)
+        json_str(j, "probe", f->serial);
     json_str(j, "model", bg_model_name(&f->model, name, sizeof name));
     if (f->model.kind == BG_MODEL_BETA)
         json_num(j, "t0_k", f->model.t0_k);
     json_nums(j, "coefficients", f->model.coef, f->npar);
+    if ((with & CLI_FIT_COV) && f->has_cov) {
+        json_arr(j, "covariance");
+        for (size_t i = 0; i < f->npar; i++)
+            json_nums(j, NULL, &f->cov[i * f->npar], f->npar);
+        json_arr_end(j);
+    } else if (with & CLI_FIT_COV)
+        json_null(j, "covariance");
     json_int(j, "n", (long long)f->n);
     json_int(j, "dof", (long long)f->dof);
     json_num(j, "chi2", f->chi2);
@@ -137,7 +145,13 @@ void cli_json_fit_brief(json_out *j, const bg_fit_row *f)
     json_num(j, "max_abs_mk", f->max_abs_mk);
     json_num(j, "t_min_k", f->t_min_k);
     json_num(j, "t_max_k", f->t_max_k);
-    json_str(j, "program_version", f->program_version);
+    if (with & CLI_FIT_VERSION)
+        json_str(j, "program_version", f->program_version);
     json_str(j, "created_at", f->created_at);
     json_obj_end(j);
+}
+
+void cli_json_fit_brief(json_out *j, const bg_fit_row *f)
+{
+    cli_json_fit(j, f, CLI_FIT_PROBE | CLI_FIT_VERSION);
 }
