@@ -294,6 +294,60 @@ static void fit_round_trip_is_exact(void **state)
     bg_store_close(st);
 }
 
+/* Fits queued in one transaction: 70 of them (two full batches and six alone, mixed with a
+** plain save) come back exactly, with the ids they were given; a rollback drops the queue;
+** queueing outside a transaction is refused. */
+static void queued_fits_are_stored_exactly(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("q.db");
+    bg_readings rs = make_readings();
+    bg_run meta;
+    bg_fit f = BG_FIT_INIT;
+    bg_fit_row row;
+    bg_model m;
+    long long run, fid[71];
+    bg_error err = BG_ERROR_INIT;
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.serial, "P1");
+    assert_int_equal(bg_store_import(st, &rs, &meta, &run, NULL), BG_OK);
+    bg_store_points sp = BG_STORE_POINTS_INIT;
+    assert_int_equal(bg_store_run_points(st, run, &sp, NULL), BG_OK);
+    bg_model_parse("sh3", &m, NULL);
+    bg_fit_opts o = bg_fit_default_opts(&m);
+    assert_int_equal(bg_fit_points(sp.pts, sp.n, &o, &f, NULL), BG_OK);
+    assert_int_equal(bg_store_fit_queue(st, run, &f, sp.ids, &fid[0], &err), BG_EINTERNAL);
+    assert_int_equal(bg_store_begin(st, NULL), BG_OK);
+    for (int k = 0; k < 71; k++) {
+        f.chi2 = (double)k; /* tells the rows apart */
+        if (k == 40)
+            assert_int_equal(bg_store_fit_save(st, run, &f, sp.ids, &fid[k], NULL), BG_OK);
+        else
+            assert_int_equal(bg_store_fit_queue(st, run, &f, sp.ids, &fid[k], NULL), BG_OK);
+    }
+    assert_int_equal(bg_store_commit(st, NULL), BG_OK);
+    for (int k = 0; k < 71; k++) {
+        assert_true(k == 0 || fid[k] == fid[k - 1] + 1);
+        assert_int_equal(bg_store_fit_get(st, fid[k], &row, NULL), BG_OK);
+        assert_true(row.chi2 == (double)k);
+        for (size_t i = 0; i < f.npar; i++)
+            assert_true(row.model.coef[i] == f.model.coef[i]);
+        for (size_t i = 0; i < f.npar * f.npar; i++)
+            assert_true(row.cov[i] == f.cov[i]);
+        assert_int_equal(row.run_id, run);
+    }
+    /* a rolled-back queue leaves nothing */
+    assert_int_equal(bg_store_begin(st, NULL), BG_OK);
+    long long gone;
+    assert_int_equal(bg_store_fit_queue(st, run, &f, sp.ids, &gone, NULL), BG_OK);
+    bg_store_rollback(st);
+    assert_int_equal(bg_store_fit_get(st, gone, &row, &err), BG_EINVAL);
+    bg_fit_release(&f);
+    bg_store_points_release(&sp);
+    bg_readings_release(&rs);
+    bg_store_close(st);
+}
+
 static void hostile_text_is_just_text(void **state)
 {
     (void)state;
@@ -357,6 +411,7 @@ int main(void)
         cmocka_unit_test(failed_import_changes_nothing),
         cmocka_unit_test(history_is_append_only),
         cmocka_unit_test(fit_round_trip_is_exact),
+        cmocka_unit_test(queued_fits_are_stored_exactly),
         cmocka_unit_test(hostile_text_is_just_text),
         cmocka_unit_test(platinum_reference_import),
     };

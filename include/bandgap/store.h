@@ -173,6 +173,14 @@ typedef struct bg_fit_row {
 /* Store 'fit' of run 'run_id' made from the readings 'reading_ids' (fit->n of them). */
 BG_API int bg_store_fit_save(bg_store *st, long long run_id, const bg_fit *fit,
                              const long long *reading_ids, long long *fit_id, bg_error *err);
+/* The same for many fits in one open transaction (bg_store_begin): the row is queued and
+** written with others in one statement, at the latest when bg_store_commit (or
+** bg_store_fit_flush, or bg_store_fit_save) runs; '*fit_id' is its id at once.  Queued
+** fits are not seen by queries until then; bg_store_rollback drops them.  Any error at the
+** flush fails the commit and rolls the transaction back. */
+BG_API int bg_store_fit_queue(bg_store *st, long long run_id, const bg_fit *fit,
+                              const long long *reading_ids, long long *fit_id, bg_error *err);
+BG_API int bg_store_fit_flush(bg_store *st, bg_error *err);
 BG_API int bg_store_fit_get(bg_store *st, long long fit_id, bg_fit_row *out, bg_error *err);
 typedef int (*bg_fit_cb)(const bg_fit_row *fit, void *ctx);
 BG_API int bg_store_fit_each(bg_store *st, const char *serial, const char *lot_code,

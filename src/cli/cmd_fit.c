@@ -611,7 +611,7 @@ static int lot_probe(const char *serial, long long probe_id, long long run_id,
     }
     for (size_t k = 0; k < lp->fit.nnotes; k++)
         cli_warn("probe '%s': %s", serial, lp->fit.notes[k].msg);
-    if ((lp->rc = bg_store_fit_save(lp->st, run_id, &lp->fit, sp->ids, &fit_id, &lp->err)) !=
+    if ((lp->rc = bg_store_fit_queue(lp->st, run_id, &lp->fit, sp->ids, &fit_id, &lp->err)) !=
         BG_OK)
         return 1;
     lp->nfit++;

@@ -117,6 +117,12 @@ int bg_store_begin(bg_store *st, bg_error *err)
 
 int bg_store_commit(bg_store *st, bg_error *err)
 {
+    int frc = bgi_fitq_flush(st, err);
+    st->next_fit_id = 0;
+    if (frc != BG_OK) {
+        bg_store_rollback(st);
+        return frc;
+    }
     if (sqlite3_exec(st->db, "COMMIT", NULL, NULL, NULL) != SQLITE_OK) {
         int rc = bgi_db_fail(st, err, "cannot commit");
         bg_store_rollback(st);
@@ -127,6 +133,10 @@ int bg_store_commit(bg_store *st, bg_error *err)
 
 void bg_store_rollback(bg_store *st)
 {
+    if (st) {
+        bgi_fitq_drop(st);
+        st->next_fit_id = 0;
+    }
     if (st && !sqlite3_get_autocommit(st->db))
         sqlite3_exec(st->db, "ROLLBACK", NULL, NULL, NULL);
 }
@@ -324,6 +334,7 @@ void bg_store_close(bg_store *st)
 {
     if (!st)
         return;
+    bgi_fitq_drop(st);
     for (size_t i = 0; i < sizeof st->cache / sizeof st->cache[0]; i++)
         sqlite3_finalize(st->cache[i]);
     sqlite3_close_v2(st->db);

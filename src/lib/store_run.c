@@ -483,70 +483,181 @@ static char *ids_json(const long long *ids, size_t n)
     return s;
 }
 
+/* The values of a fit row, as bound by every insert below. */
+static int fitrow_of(long long run_id, const bg_fit *fit, const long long *reading_ids,
+                     struct bgi_fitrow *r, bg_error *err)
+{
+    r->run_id = run_id;
+    bg_model_name(&fit->model, r->model, sizeof r->model);
+    r->t0_k = fit->model.kind == BG_MODEL_BETA ? fit->model.t0_k : NAN;
+    r->npar = fit->npar;
+    for (size_t i = 0; i < BG_MODEL_MAXPAR; i++)
+        r->coef[i] = i < fit->npar ? fit->model.coef[i] : 0.0;
+    r->covlen = 0;
+    if (fit->dof > 0) {
+        for (size_t i = 0; i < fit->npar * fit->npar; i++)
+            put_le_double(r->cov + 8 * i, fit->cov[i]);
+        r->covlen = 8 * fit->npar * fit->npar;
+    }
+    r->n = fit->n, r->dof = fit->dof, r->weighted = fit->weighted;
+    r->chi2 = fit->chi2, r->cov_scale = fit->cov_scale;
+    r->rms_mk = fit->rms_mk, r->max_abs_mk = fit->max_abs_mk;
+    r->t_min_k = fit->t_min_k, r->t_max_k = fit->t_max_k;
+    if (!(r->ids = ids_json(reading_ids, fit->n)))
+        return bg_error_set(err, BG_ENOMEM, "out of memory storing a fit");
+    return BG_OK;
+}
+
+enum { FIT_NCOL = 23 };
+#define FIT_INSERT "INSERT INTO fit(run_id, model, t0_k, npar, c0, c1, c2, c3, c4, c5, cov, " \
+    "n, dof, weighted, chi2, cov_scale, rms_mk, max_abs_mk, t_min_k, t_max_k, reading_ids, " \
+    "program_version, created_at, id) VALUES "
+
+/* Bind row 'r' at parameter offset 'b'; with 'with_id', the id goes last. */
+static void fitrow_bind(sqlite3_stmt *q, int b, const struct bgi_fitrow *r, const char *now,
+                        int with_id)
+{
+    sqlite3_bind_int64(q, b + 1, r->run_id);
+    sqlite3_bind_text(q, b + 2, r->model, -1, SQLITE_STATIC);
+    if (isnan(r->t0_k))
+        sqlite3_bind_null(q, b + 3);
+    else
+        sqlite3_bind_double(q, b + 3, r->t0_k);
+    sqlite3_bind_int64(q, b + 4, (sqlite3_int64)r->npar);
+    for (size_t i = 0; i < BG_MODEL_MAXPAR; i++) {
+        if (i < r->npar)
+            sqlite3_bind_double(q, b + (int)(5 + i), r->coef[i]);
+        else
+            sqlite3_bind_null(q, b + (int)(5 + i));
+    }
+    if (r->covlen)
+        sqlite3_bind_blob(q, b + 11, r->cov, (int)r->covlen, SQLITE_STATIC);
+    else
+        sqlite3_bind_null(q, b + 11);
+    sqlite3_bind_int64(q, b + 12, (sqlite3_int64)r->n);
+    sqlite3_bind_int64(q, b + 13, (sqlite3_int64)r->dof);
+    sqlite3_bind_int(q, b + 14, r->weighted);
+    sqlite3_bind_double(q, b + 15, r->chi2);
+    if (isfinite(r->cov_scale))
+        sqlite3_bind_double(q, b + 16, r->cov_scale);
+    else
+        sqlite3_bind_null(q, b + 16);
+    sqlite3_bind_double(q, b + 17, r->rms_mk);
+    sqlite3_bind_double(q, b + 18, r->max_abs_mk);
+    sqlite3_bind_double(q, b + 19, r->t_min_k);
+    sqlite3_bind_double(q, b + 20, r->t_max_k);
+    sqlite3_bind_text(q, b + 21, r->ids, -1, SQLITE_STATIC);
+    sqlite3_bind_text(q, b + 22, bg_version(), -1, SQLITE_STATIC);
+    sqlite3_bind_text(q, b + 23, now, -1, SQLITE_TRANSIENT);
+    if (with_id)
+        sqlite3_bind_int64(q, b + 24, r->id);
+}
+
+void bgi_fitq_drop(bg_store *st)
+{
+    for (size_t i = 0; i < st->nfitq; i++)
+        free(st->fitq[i].ids);
+    st->nfitq = 0;
+}
+
+int bgi_fitq_flush(bg_store *st, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    char now[BG_TIME];
+    int rc = BG_OK;
+    size_t done = 0;
+    if (st->nfitq == 0)
+        return BG_OK;
+    bg_store_now(now, sizeof now);
+    while (rc == BG_OK && done < st->nfitq) {
+        size_t nb = st->nfitq - done == BGI_FITQ ? BGI_FITQ : 1;
+        if (nb == BGI_FITQ) {
+            char sql[512 + BGI_FITQ * 80];
+            size_t len = (size_t)snprintf(sql, sizeof sql, "%s", FIT_INSERT);
+            for (size_t k = 0; k < BGI_FITQ; k++)
+                len += (size_t)snprintf(sql + len, sizeof sql - len, "%s(?,?,?,?,?,?,?,?,?,?,"
+                                        "?,?,?,?,?,?,?,?,?,?,?,?,?,?)", k ? "," : "");
+            rc = cached(st, STMT_INSERT_FITS, sql, &q, err);
+        } else
+            rc = cached(st, STMT_INSERT_FIT_ID, FIT_INSERT "(?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,"
+                        "?,?,?,?,?,?)", &q, err);
+        if (rc != BG_OK)
+            break;
+        for (size_t k = 0; k < nb; k++)
+            fitrow_bind(q, (int)(k * (FIT_NCOL + 1)), &st->fitq[done + k], now, 1);
+        if (sqlite3_step(q) != SQLITE_DONE)
+            rc = bgi_db_fail(st, err, "cannot store the fits");
+        sqlite3_reset(q);
+        done += nb;
+    }
+    bgi_fitq_drop(st);
+    return rc;
+}
+
+int bg_store_fit_queue(bg_store *st, long long run_id, const bg_fit *fit,
+                       const long long *reading_ids, long long *fit_id, bg_error *err)
+{
+    int rc;
+    if (sqlite3_get_autocommit(st->db))
+        return bg_error_set(err, BG_EINTERNAL, "fits are queued inside bg_store_begin only");
+    if (!st->next_fit_id) {
+        /* under the write lock of the transaction nobody else inserts: ids from here on */
+        sqlite3_stmt *q = NULL;
+        if ((rc = bgi_prepare(st, "SELECT coalesce(max(id), 0) + 1 FROM fit", &q, err)) !=
+            BG_OK)
+            return rc;
+        if (sqlite3_step(q) == SQLITE_ROW)
+            st->next_fit_id = sqlite3_column_int64(q, 0);
+        sqlite3_finalize(q);
+        if (!st->next_fit_id)
+            return bgi_db_fail(st, err, "cannot read the fits");
+    }
+    if (st->nfitq == BGI_FITQ && (rc = bgi_fitq_flush(st, err)) != BG_OK)
+        return rc;
+    struct bgi_fitrow *r = &st->fitq[st->nfitq];
+    if ((rc = fitrow_of(run_id, fit, reading_ids, r, err)) != BG_OK)
+        return rc;
+    r->id = st->next_fit_id++;
+    st->nfitq++;
+    if (fit_id)
+        *fit_id = r->id;
+    return BG_OK;
+}
+
+int bg_store_fit_flush(bg_store *st, bg_error *err)
+{
+    return bgi_fitq_flush(st, err);
+}
+
 int bg_store_fit_save(bg_store *st, long long run_id, const bg_fit *fit,
                       const long long *reading_ids, long long *fit_id, bg_error *err)
 {
     sqlite3_stmt *q = NULL;
-    char name[16], now[BG_TIME], *ids = NULL;
-    unsigned char cov[8 * BG_MODEL_MAXPAR * BG_MODEL_MAXPAR];
+    char now[BG_TIME];
+    struct bgi_fitrow r;
     int rc, own;
 
     if ((rc = bgi_tx_begin(st, &own, err)) != BG_OK)
         return rc;
-    if ((rc = cached(st, STMT_INSERT_FIT, "INSERT INTO fit(run_id, model, t0_k, npar, c0, c1, "
-                     "c2, c3, c4, c5, cov, n, dof, weighted, chi2, cov_scale, rms_mk, "
-                     "max_abs_mk, t_min_k, t_max_k, reading_ids, program_version, created_at) "
-                     "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
-        goto done;
-    ids = ids_json(reading_ids, fit->n);
-    if (!ids) {
-        rc = bg_error_set(err, BG_ENOMEM, "out of memory storing a fit");
-        goto done;
-    }
-    sqlite3_bind_int64(q, 1, run_id);
-    sqlite3_bind_text(q, 2, bg_model_name(&fit->model, name, sizeof name), -1, SQLITE_TRANSIENT);
-    if (fit->model.kind == BG_MODEL_BETA)
-        sqlite3_bind_double(q, 3, fit->model.t0_k);
-    else
-        sqlite3_bind_null(q, 3);
-    sqlite3_bind_int64(q, 4, (sqlite3_int64)fit->npar);
-    for (size_t i = 0; i < BG_MODEL_MAXPAR; i++) {
-        if (i < fit->npar)
-            sqlite3_bind_double(q, (int)(5 + i), fit->model.coef[i]);
-        else
-            sqlite3_bind_null(q, (int)(5 + i));
-    }
-    if (fit->dof > 0) {
-        for (size_t i = 0; i < fit->npar * fit->npar; i++)
-            put_le_double(cov + 8 * i, fit->cov[i]);
-        sqlite3_bind_blob(q, 11, cov, (int)(8 * fit->npar * fit->npar), SQLITE_TRANSIENT);
-    } else
-        sqlite3_bind_null(q, 11);
-    sqlite3_bind_int64(q, 12, (sqlite3_int64)fit->n);
-    sqlite3_bind_int64(q, 13, (sqlite3_int64)fit->dof);
-    sqlite3_bind_int(q, 14, fit->weighted);
-    sqlite3_bind_double(q, 15, fit->chi2);
-    if (isfinite(fit->cov_scale))
-        sqlite3_bind_double(q, 16, fit->cov_scale);
-    else
-        sqlite3_bind_null(q, 16);
-    sqlite3_bind_double(q, 17, fit->rms_mk);
-    sqlite3_bind_double(q, 18, fit->max_abs_mk);
-    sqlite3_bind_double(q, 19, fit->t_min_k);
-    sqlite3_bind_double(q, 20, fit->t_max_k);
-    sqlite3_bind_text(q, 21, ids, -1, SQLITE_STATIC);
-    sqlite3_bind_text(q, 22, bg_version(), -1, SQLITE_STATIC);
-    sqlite3_bind_text(q, 23, bg_store_now(now, sizeof now), -1, SQLITE_TRANSIENT);
-    if (sqlite3_step(q) != SQLITE_DONE) {
-        rc = bgi_db_fail(st, err, "cannot store the fit");
-        goto done;
-    }
-    if (fit_id)
-        *fit_id = sqlite3_last_insert_rowid(st->db);
-done:
-    if (q)
+    /* queued fits first: their ids come before this one's */
+    if ((rc = bgi_fitq_flush(st, err)) != BG_OK)
+        goto out;
+    if ((rc = fitrow_of(run_id, fit, reading_ids, &r, err)) != BG_OK)
+        goto out;
+    r.id = st->next_fit_id ? st->next_fit_id++ : 0;
+    if ((rc = cached(st, r.id ? STMT_INSERT_FIT_ID : STMT_INSERT_FIT, r.id ?
+                     FIT_INSERT "(?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)" :
+                     FIT_INSERT "(?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,NULL)", &q,
+                     err)) == BG_OK) {
+        fitrow_bind(q, 0, &r, bg_store_now(now, sizeof now), r.id != 0);
+        if (sqlite3_step(q) != SQLITE_DONE)
+            rc = bgi_db_fail(st, err, "cannot store the fit");
+        else if (fit_id)
+            *fit_id = sqlite3_last_insert_rowid(st->db);
         sqlite3_reset(q);
-    free(ids);
+    }
+    free(r.ids);
+out:
     return bgi_tx_end(st, own, rc, err);
 }
 

@@ -130,7 +130,7 @@ static int fit_cb(const char *serial, long long probe_id, long long run_id, bg_s
     bg_error err = BG_ERROR_INIT;
     (void)serial, (void)probe_id;
     if (bg_fitter_run(fc->fr, pts->pts, pts->n, &fc->o, &fc->fit, &err) != BG_OK ||
-        bg_store_fit_save(fc->st, run_id, &fc->fit, pts->ids, NULL, &err) != BG_OK) {
+        bg_store_fit_queue(fc->st, run_id, &fc->fit, pts->ids, NULL, &err) != BG_OK) {
         fprintf(stderr, "bench_db: %s\n", err.msg);
         fc->rc = 1;
         return 1;

@@ -44,14 +44,21 @@ awk -v b="$bi" -v s="$si" -v n="$NREAD" 'BEGIN {
 
 rm -f "$out/lot.db"
 "$out/bench_db" setup "$out/lot.db" "$NLOT" 10
-# Best of three runs of each, every fit on a fresh copy of the lot.
-scan=$(for i in 1 2 3; do "$out/bench_db" scan "$out/lot.db" | awk '/^SCAN_S/ {print $2}'; done | best)
-read=$(for i in 1 2 3; do "$out/bench_db" read "$out/lot.db" | awk '/^READ_S/ {print $2}'; done | best)
-lib=$(for i in 1 2 3; do cp "$out/lot.db" "$out/lotx.db"
-      "$out/bench_db" fit "$out/lotx.db" | awk '/^FIT_S/ {print $2}'; done | best)
-cli=$(for i in 1 2 3; do cp "$out/lot.db" "$out/lotx.db"; t0=$(now)
-      "$BUILD/bandgap" --db "$out/lotx.db" fit --lot BENCH --model sh3 > /dev/null; t1=$(now)
-      awk -v a="$t0" -v b="$t1" 'BEGIN { print b - a }'; done | best)
+# Five rounds, each running every measurement once in turn (the machine's speed drifts over
+# seconds, so side by side means interleaved); the best of each; every fit on a fresh copy.
+REPS=${REPS:-5}
+for i in $(seq "$REPS"); do
+    "$out/bench_db" scan "$out/lot.db" | awk '/^SCAN_S/ {print "scan", $2}'
+    "$out/bench_db" read "$out/lot.db" | awk '/^READ_S/ {print "read", $2}'
+    cp "$out/lot.db" "$out/lotx.db"
+    "$out/bench_db" fit "$out/lotx.db" | awk '/^FIT_S/ {print "lib", $2}'
+    cp "$out/lot.db" "$out/lotx.db"; t0=$(now)
+    "$BUILD/bandgap" --db "$out/lotx.db" fit --lot BENCH --model sh3 > /dev/null; t1=$(now)
+    awk -v a="$t0" -v b="$t1" 'BEGIN { print "cli", b - a }'
+done > "$out/lot.txt"
+pick() { awk -v k="$1" '$1 == k { print $2 }' "$2" | best; }
+scan=$(pick scan "$out/lot.txt"); read=$(pick read "$out/lot.txt")
+lib=$(pick lib "$out/lot.txt"); cli=$(pick cli "$out/lot.txt")
 awk -v s="$scan" -v r="$read" -v l="$lib" -v c="$cli" -v n="$NLOT" 'BEGIN {
     printf "lot of %d probes x 10 readings: reading it back %.2f s (plain SQL scan of the rows %.2f s)\n", n, r, s
     printf "  fitting and storing every probe (library, one transaction): %.2f s: ratio %.2f to reading back (target <= 2), %.1f to the plain scan\n", l, l / r, l / s
@@ -61,12 +68,15 @@ awk -v s="$scan" -v r="$read" -v l="$lib" -v c="$cli" -v n="$NLOT" 'BEGIN {
 NDRIFT=${NDRIFT:-10000}
 rm -f "$out/drift.db"
 "$out/bench_db" setup3 "$out/drift.db" "$NDRIFT"
-scanf=$(for i in 1 2 3; do "$out/bench_db" scanfits "$out/drift.db" | awk '/^SCANFITS_S/ {print $2}'; done | best)
-scanr=$(for i in 1 2 3; do "$out/bench_db" scanfits "$out/drift.db" | awk '/^SCANROWS_S/ {print $2}'; done | best)
-drift=$(for i in 1 2 3; do "$out/bench_db" drift "$out/drift.db" "$NDRIFT" | awk '/^DRIFT_S/ {print $2}'; done | best)
-cli=$(for i in 1 2 3; do t0=$(now)
-      "$BUILD/bandgap" --db "$out/drift.db" drift --lot BENCH > /dev/null || true; t1=$(now)
-      awk -v a="$t0" -v b="$t1" 'BEGIN { print b - a }'; done | best)
+for i in $(seq "$REPS"); do
+    "$out/bench_db" scanfits "$out/drift.db" | awk '/^SCANFITS_S/ {print "scanf", $2}
+                                                  /^SCANROWS_S/ {print "scanr", $2}'
+    "$out/bench_db" drift "$out/drift.db" "$NDRIFT" | awk '/^DRIFT_S/ {print "drift", $2}'
+    t0=$(now); "$BUILD/bandgap" --db "$out/drift.db" drift --lot BENCH > /dev/null || true; t1=$(now)
+    awk -v a="$t0" -v b="$t1" 'BEGIN { print "cli", b - a }'
+done > "$out/drift.txt"
+scanf=$(pick scanf "$out/drift.txt"); scanr=$(pick scanr "$out/drift.txt")
+drift=$(pick drift "$out/drift.txt"); cli=$(pick cli "$out/drift.txt")
 awk -v s="$scanf" -v w="$scanr" -v d="$drift" -v c="$cli" -v n="$NDRIFT" 'BEGIN {
     printf "drift of %d probes x 3 calibrations (against previous and first) with the lot statistics: %.3f s; plain SQL scan of the same fit rows, two columns read %.3f s: ratio %.2f (target <= 3); every column read %.3f s: ratio %.2f\n", n, d, s, d / s, w, d / w
     printf "  bandgap drift --lot (the lot statistics of the newest fits, printed): %.3f s\n", c }'
