@@ -4,7 +4,7 @@
 **  - minimal: the fewest straight segments that keep every code within a bound; each segment
 **    is a start code, a start value and a slope in fixed point, found by a binary search;
 **  - indexed: the same segments with a small index on the top bits of the code, so that
-**    lookup is one table read and one comparison (O(1), no search).
+**    lookup is one table read and one or two comparisons (O(1), no search).
 ** Segment values need not lie on the curve (each segment is the line that best spreads the
 ** error), and the segmentation is the exact minimum for the bound: see lut_seg.c.
 ** bg_lut_eval / bg_lut_eval_float perform exactly the arithmetic of the emitted C, and the
@@ -68,10 +68,11 @@ typedef struct bg_lut {
     float *syf, *smf;
     unsigned frac;
     int32_t yoff;
-    /* indexed: idx[(code - code_lo) >> ishift] is the segment of the bucket's first code */
+    /* indexed: idx[(code - code_lo) >> ishift] is the segment of the bucket's first code;
+    ** at most 'icmp' (1 or 2) comparisons with the next starts finish the lookup */
     uint16_t *idx;
     size_t nidx;
-    unsigned ishift;
+    unsigned ishift, icmp;
     size_t oncurve_min;      /* the fewest entries with values on the curve (0: not counted) */
     size_t bytes;            /* flash for the tables (values, starts, slopes, index) */
     double counts_per_k, offset_k; /* value = counts_per_k (T - offset_k) */

@@ -19,7 +19,7 @@ static const char lut_usage[] =
     "the range.  Strategies: uniform (values every CODES codes, a power of two, read with\n"
     "integer interpolation; --max-error picks the largest step within DT); minimal (the\n"
     "fewest straight segments within DT, found by a binary search); indexed (the same\n"
-    "segments with a small index: one read and one comparison per lookup).  With\n"
+    "segments with a small index: one read and one or two comparisons).  With\n"
     "--max-error and no --strategy, the smallest table in bytes is chosen and named.\n"
     "Circuit:\n"
     "  --fixed OHMS --sensor-side low|high   divider (low: thermistor between the ADC input\n"
@@ -93,7 +93,8 @@ static void write_csv(const bg_lut *t, const bg_lut_spec *s, FILE *f)
         fprintf(f, "%ld + ((base + slope (c - first_code)) >> %u)", (long)t->yoff, t->frac);
     fprintf(f, " in %s", vu);
     if (t->strategy == BG_LUT_INDEXED)
-        fprintf(f, "; index: the segment of code %ld + k 2^%u", t->code_lo, t->ishift);
+        fprintf(f, "; index: the segment of code %ld + k 2^%u, then up to %u comparison%s",
+                t->code_lo, t->ishift, t->icmp, t->icmp > 1 ? "s" : "");
     fprintf(f, "; max error %.6f K, RMS %.6f K over codes %ld .. %ld\n", t->max_err_k,
             t->rms_err_k, t->code_lo, t->code_hi);
     fprintf(f, "segment,first_code,last_code,base,slope,value_at_first\n");
@@ -168,6 +169,7 @@ static void write_json(const bg_lut *t, const bg_lut_spec *s, const bg_budget_ro
     json_arr_end(&j);
     if (t->strategy == BG_LUT_INDEXED) {
         json_int(&j, "index_shift", t->ishift);
+        json_int(&j, "index_comparisons", t->icmp);
         json_arr(&j, "index");
         for (size_t i = 0; i < t->nidx; i++)
             json_int(&j, NULL, t->idx[i]);

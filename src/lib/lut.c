@@ -74,6 +74,8 @@ static size_t segment_of(const bg_lut *t, long code)
         i = t->idx[(uint32_t)(code - t->code_lo) >> t->ishift];
         if (code >= t->sx[i + 1])
             i++;
+        if (t->icmp > 1 && code >= t->sx[i + 1])
+            i++;
         return i;
     }
     size_t lo = 0, hi = t->n - 1;

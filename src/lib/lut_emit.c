@@ -218,8 +218,9 @@ static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym
         longs(f, decl, t->n, NULL, t->sm, NULL, NULL);
     }
     if (t->strategy == BG_LUT_INDEXED) {
-        fprintf(f, "/* the segment of code %s_CODE_LO + k 2^%s_INDEX_SHIFT; one more segment "
-                   "starts\n * at most inside each such bucket */\n", up, up);
+        fprintf(f, "/* the segment of code %s_CODE_LO + k 2^%s_INDEX_SHIFT; at most %s more\n"
+                   " * segment%s inside each such bucket */\n", up, up,
+                t->icmp > 1 ? "two" : "one", t->icmp > 1 ? "s start" : " starts");
         snprintf(decl, sizeof decl, "static const %s %s_index[%zu] %s_ATTR",
                  idx8 ? "uint8_t" : "uint16_t", sym, t->nidx, up);
         longs(f, decl, t->nidx, NULL, NULL, NULL, t->idx);
@@ -242,9 +243,13 @@ static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym
                    "            i = mid;\n        else\n            hi = mid - 1u;\n    }\n",
                 up, sym);
     else
+    {
         fprintf(f, "    i = (uint32_t)%s_READ_INDEX(&%s_index[(code - (uint32_t)%s_CODE_LO) >> "
-                   "%s_INDEX_SHIFT]);\n    if (code >= (uint32_t)%s_READ_CODE(&%s_start[i + 1u]))"
-                   "\n        i++;\n", up, sym, up, up, up, sym);
+                   "%s_INDEX_SHIFT]);\n", up, sym, up, up);
+        for (unsigned k = 0; k < t->icmp; k++)
+            fprintf(f, "    if (code >= (uint32_t)%s_READ_CODE(&%s_start[i + 1u]))\n        i++;\n",
+                    up, sym);
+    }
     if (flt)
         fprintf(f, "    w = (float)(code - (uint32_t)%s_READ_CODE(&%s_start[i]));\n"
                    "    p = %s_READ_F32(&%s_slope[i]) * w;\n"

@@ -32,7 +32,8 @@ size_t bgi_lut_oncurve_min(const long long *on, const bgi_band *band, size_t nco
 int bgi_lut_oncurve_ok(const long long *on, const bgi_band *band, size_t i, size_t j);
 
 /* The index of an indexed table: the largest bucket shift for which each bucket holds at
-** most one segment change.  Fills t->idx, nidx, ishift. */
+** most one segment change, or two when that makes the index smaller.  Fills t->idx, nidx,
+** ishift, icmp. */
 int bgi_lut_index(bg_lut *t, bg_error *err);
 
 #endif

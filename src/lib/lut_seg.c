@@ -213,12 +213,11 @@ size_t bgi_lut_oncurve_min(const long long *on, const bgi_band *b, size_t nc)
     return res;
 }
 
-int bgi_lut_index(bg_lut *t, bg_error *err)
+/* The largest bucket shift for which no bucket holds more than 'cmp' segment changes. */
+static unsigned index_shift(const bg_lut *t, unsigned cmp)
 {
     long ncode = t->code_hi - t->code_lo + 1;
-    unsigned k;
-    /* seg[c]: the segment of offset c, walked bucket by bucket */
-    for (k = 24;; k--) {
+    for (unsigned k = 24;; k--) {
         long bucket = 1L << k;
         int ok = 1;
         size_t i = 0;
@@ -228,13 +227,23 @@ int bgi_lut_index(bg_lut *t, bg_error *err)
             long last = b0 + bucket - 1 < ncode - 1 ? b0 + bucket - 1 : ncode - 1;
             while (t->sx[i + 1] - t->code_lo <= b0)
                 i++;
-            /* at most one segment start after the bucket's first code */
-            if (i + 2 <= t->n && t->sx[i + 2] - t->code_lo <= last)
+            /* at most 'cmp' segment starts after the bucket's first code */
+            if (i + cmp + 1 <= t->n && t->sx[i + cmp + 1] - t->code_lo <= last)
                 ok = 0;
         }
         if (ok || k == 0)
-            break;
+            return k;
     }
+}
+
+int bgi_lut_index(bg_lut *t, bg_error *err)
+{
+    long ncode = t->code_hi - t->code_lo + 1;
+    /* one comparison, or two when that halves the index or better; the smaller in bytes */
+    unsigned k1 = index_shift(t, 1), k2 = index_shift(t, 2);
+    size_t n1 = (size_t)((ncode - 1) >> k1) + 1, n2 = (size_t)((ncode - 1) >> k2) + 1;
+    unsigned k = n2 < n1 ? k2 : k1;
+    t->icmp = n2 < n1 ? 2 : 1;
     t->ishift = k;
     t->nidx = (size_t)((ncode - 1) >> k) + 1;
     t->idx = malloc(t->nidx * sizeof *t->idx);
