@@ -46,6 +46,7 @@ typedef struct bg_lut_spec {
     int frac_bits;           /* segments: fixed-point bits of start and slope; -1 = automatic */
     int oncurve_min;         /* also count the fewest entries with values on the curve */
     const char *source;      /* where the model came from, for the provenance; NULL: inline */
+    const char *stamp;       /* a time for the provenance; NULL: none (reproducible output) */
 } bg_lut_spec;
 
 enum { BG_LUT_OK = 0, BG_LUT_BELOW = 1, BG_LUT_ABOVE = 2 }; /* eval status: code out of range */

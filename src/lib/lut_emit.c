@@ -72,6 +72,11 @@ static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FI
     fprintf(f, "\n * circuit: %s", bg_circuit_describe(c, cd, sizeof cd));
     fprintf(f, "\n * range: %.3f .. %.3f degC, codes %ld .. %ld\n", s->t_lo_k - BG_ZERO_C_K,
             s->t_hi_k - BG_ZERO_C_K, t->code_lo, t->code_hi);
+    if (s->stamp) {
+        fputs(" * generated at ", f);
+        comment_text(f, s->stamp);
+        fputs("\n", f);
+    }
     fprintf(f, " * measured over every code against the model: max |error| %.6f K (at code %ld),"
                "\n * RMS %.6f K; table and output rounding only (not the ADC, the fit or the\n"
                " * components).  Valid inside the range only; outside it the function returns\n"
