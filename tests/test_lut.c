@@ -370,6 +370,45 @@ static void index_is_exact(void **state)
     }
 }
 
+/* The automatic choice: the smallest of the three tables built one by one, ties to uniform
+** then indexed; the sizes it reports are theirs. */
+static void smallest_is_chosen(void **state)
+{
+    (void)state;
+    static const double bounds[5] = { 0.5, 0.1, 0.05, 0.02, 0.05 };
+    int chosen[3] = { 0, 0, 0 };
+    for (int b = 0; b < 5; b++) {
+        size_t bytes[3], each[3];
+        bg_lut_spec s = spec_10k(0, BG_LUT_CENTI);
+        bg_lut t = BG_LUT_INIT;
+        s.max_err_k = bounds[b], s.frac_bits = -1;
+        if (b == 4) /* a narrow range, where a uniform table is the smallest */
+            s.t_lo_k = 273.15 - 15.0, s.t_hi_k = 273.15 + 55.0, s.circuit.adc_bits = 10;
+        for (int k = 0; k < 3; k++) {
+            bg_lut u = BG_LUT_INIT;
+            s.strategy = (bg_lut_strategy)k;
+            assert_int_equal(bg_lut_build(&s, &u, NULL), BG_OK);
+            each[k] = u.bytes;
+            bg_lut_release(&u);
+        }
+        assert_int_equal(bg_lut_build_smallest(&s, &t, bytes, NULL), BG_OK);
+        size_t least = each[0];
+        bg_lut_strategy want = BG_LUT_UNIFORM;
+        if (each[BG_LUT_INDEXED] < least)
+            least = each[BG_LUT_INDEXED], want = BG_LUT_INDEXED;
+        if (each[BG_LUT_MINIMAL] < least)
+            least = each[BG_LUT_MINIMAL], want = BG_LUT_MINIMAL;
+        for (int k = 0; k < 3; k++)
+            assert_int_equal(bytes[k], each[k]);
+        assert_int_equal(t.strategy, want);
+        assert_int_equal(t.bytes, least);
+        assert_true(t.max_err_k <= bounds[b]);
+        chosen[t.strategy]++;
+        bg_lut_release(&t);
+    }
+    assert_true(chosen[BG_LUT_UNIFORM] > 0 && chosen[BG_LUT_MINIMAL] > 0);
+}
+
 static void bad_requests(void **state)
 {
     (void)state;
@@ -442,6 +481,7 @@ int main(void)
         cmocka_unit_test(segments_are_minimal),
         cmocka_unit_test(oncurve_minimum_exhaustive),
         cmocka_unit_test(index_is_exact),
+        cmocka_unit_test(smallest_is_chosen),
         cmocka_unit_test(bad_requests),
         cmocka_unit_test(budget_by_hand),
     };
