@@ -201,6 +201,28 @@ static void strategies_and_formats(void **state)
         }
 }
 
+/* Float segments at tight bounds: the float rounding never takes the table past the bound
+** (the build would refuse it), and the measured error uses most of it. */
+static void float_segments_keep_the_bound(void **state)
+{
+    (void)state;
+    static const double bounds[4] = { 0.0012, 0.003, 0.01, 0.04 };
+    for (int b = 0; b < 4; b++) {
+        bg_lut_spec s = spec_10k(0, BG_LUT_FLOAT);
+        bg_lut t = BG_LUT_INIT;
+        bg_error err = BG_ERROR_INIT;
+        s.strategy = BG_LUT_MINIMAL, s.max_err_k = bounds[b], s.frac_bits = -1;
+        s.circuit.adc_bits = 16;
+        int rc = bg_lut_build(&s, &t, &err);
+        if (rc != BG_OK)
+            print_error("bound %g: %s\n", bounds[b], err.msg);
+        assert_int_equal(rc, BG_OK);
+        assert_true(t.max_err_k <= bounds[b]);
+        assert_true(t.max_err_k >= 0.9 * bounds[b]);
+        bg_lut_release(&t);
+    }
+}
+
 /* ---- exhaustive checks of the segment search on small ranges ---- */
 
 /* Bands computed here: the outputs within 'e' of the beta curve at each code of an 8-bit
@@ -482,6 +504,7 @@ int main(void)
         cmocka_unit_test(oncurve_minimum_exhaustive),
         cmocka_unit_test(index_is_exact),
         cmocka_unit_test(smallest_is_chosen),
+        cmocka_unit_test(float_segments_keep_the_bound),
         cmocka_unit_test(bad_requests),
         cmocka_unit_test(budget_by_hand),
     };

@@ -253,7 +253,9 @@ static int build_segments(const bg_lut_spec *s, const double *tk, bg_lut *out, b
         }
         for (size_t i = 0; rc == BG_OK && i < out->n; i++) {
             double one = ldexp(1.0, (int)out->frac);
-            out->syf[i] = (float)(((double)out->yoff + (double)out->sy[i] / one + 0.5) / cpk);
+            /* the integer table outputs floor(v) in the band [L, U], so v is in [L, U + 1):
+            ** half a count down centres the line in [L - 1/2, U + 1/2) */
+            out->syf[i] = (float)(((double)out->yoff + (double)out->sy[i] / one - 0.5) / cpk);
             out->smf[i] = (float)((double)out->sm[i] / one / cpk);
         }
     } else {
