@@ -40,6 +40,11 @@ if $B report --run "$run" -o "$dir/second.html" 2>/dev/null; then
 elif [ "$(cksum < "$db")" = "$sum1" ] && [ ! -e "$dir/second.html" ]; then
     echo "ok a second report of a run is refused, database unchanged"
 else echo "not ok refused report left traces"; fail=1; fi
+if $B report --run "$run" --reissue "$id" --why "x" -o "$dir/no/such/dir/r.html" 2>/dev/null; then
+    echo "not ok a report that cannot be written is refused"; fail=1
+elif [ "$(cksum < "$db")" = "$sum1" ]; then
+    echo "ok a report that cannot be written is refused (exit 73), database unchanged"
+else echo "not ok a refused report changed the database"; fail=1; fi
 $B report --run "$run" --reissue "$id" --why "customer address corrected" -o "$dir/re.html" > /dev/null
 new=$($B report --list --json | "$PYTHON" -c 'import json,sys; print(max(r["id"] for r in json.load(sys.stdin)))')
 if grep -q "id=\"replaces\" data-v=\"$id\"" "$dir/re.html" && grep -q "customer address corrected" "$dir/re.html" &&

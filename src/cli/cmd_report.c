@@ -435,14 +435,20 @@ static int lot_report(bg_store *st, const char *code, const struct report_opts *
     return issue(st, "report-lot", subject, 0, spec, o, lot_report_gen, &r, out_path);
 }
 
-/* Write 'len' bytes to 'path' ("-": standard output). */
-static int write_file(const char *path, const char *content, size_t len)
+/* Open 'path' for the report ("-": standard output), before anything is stored. */
+static int open_out(const char *path, FILE **f)
 {
-    FILE *f = strcmp(path, "-") ? fopen(path, "wb") : stdout;
-    if (!f) {
+    *f = strcmp(path, "-") ? fopen(path, "wb") : stdout;
+    if (!*f) {
         cli_error("report: cannot create '%s': %s", path, strerror(errno));
         return CLI_ECANTCREAT;
     }
+    return BG_OK;
+}
+
+/* Write 'len' bytes and close; 'id' (0: none) names the stored copy in the message. */
+static int write_out(FILE *f, const char *path, const char *content, size_t len, long long id)
+{
     size_t w = fwrite(content, 1, len, f);
     int bad = w != len || ferror(f);
     if (f != stdout)
@@ -450,10 +456,23 @@ static int write_file(const char *path, const char *content, size_t len)
     else
         bad |= fflush(f) != 0;
     if (bad) {
-        cli_error("report: cannot write '%s'", path);
+        if (id)
+            cli_error("report: cannot write '%s'; the report is stored as report %lld "
+                      "(bandgap report --get %lld -o FILE writes it again)", path, id, id);
+        else
+            cli_error("report: cannot write '%s'", path);
         return BG_EIO;
     }
     return BG_OK;
+}
+
+/* Close and remove an output file that will not be written. */
+static void drop_out(FILE *f, const char *path)
+{
+    if (f != stdout) {
+        fclose(f);
+        remove(path);
+    }
 }
 
 struct list_ctx {
@@ -501,18 +520,23 @@ static int issue(bg_store *st, const char *kind, const char *subject, long long 
     bg_error err = BG_ERROR_INIT;
     long long id = 0;
     bg_artifact a;
-    int rc = bg_store_artifact_issue(st, kind, subject, fit_id, spec, o->replaces, bg_version(),
-                                     gen, gctx, &id, &err);
+    FILE *f;
+    int rc = open_out(out_path, &f); /* a file that cannot be made stores nothing */
+    if (rc != BG_OK)
+        return rc;
+    rc = bg_store_artifact_issue(st, kind, subject, fit_id, spec, o->replaces, bg_version(), gen,
+                                 gctx, &id, &err);
     if (rc == BG_OK)
         rc = bg_store_artifact_get(st, id, &a, &err);
     if (rc != BG_OK) {
+        drop_out(f, out_path);
         rc = cli_fail("report", &err);
         if (strstr(err.msg, "already has report"))
             fprintf(stderr, "  (bandgap report ... --reissue ID --why TEXT issues a new one; "
                             "bandgap report --get ID -o FILE writes the stored copy)\n");
         return rc;
     }
-    rc = write_file(out_path, a.content, a.len);
+    rc = write_out(f, out_path, a.content, a.len, id);
     if (rc == BG_OK && strcmp(out_path, "-"))
         printf("issued report %lld (%s): %s\n", id, subject, out_path);
     bg_artifact_release(&a);
@@ -618,7 +642,9 @@ int cmd_report(int argc, char **argv, struct cli_ctx *ctx)
         }
         if (a.replaced_by)
             cli_warn("report: report %lld was replaced by report %lld", get_id, a.replaced_by);
-        rc = write_file(out_path, a.content, a.len);
+        FILE *f;
+        if ((rc = open_out(out_path, &f)) == BG_OK)
+            rc = write_out(f, out_path, a.content, a.len, 0);
         bg_artifact_release(&a);
         return rc;
     }
