@@ -142,6 +142,21 @@ static void report_head(FILE *f, const char *title, const char *rid, const char 
     fputs("</table>\n", f);
 }
 
+/* The start of a report: the page into memory, its identifier (PREFIX-000042) and head. */
+static FILE *report_open(char **content, size_t *len, const char *prefix, long long id,
+                         const char *title, const char *issued, const struct report_opts *o,
+                         char *rid, size_t rid_size, bg_error *err)
+{
+    FILE *f = open_memstream(content, len);
+    if (!f) {
+        bg_error_set(err, BG_ENOMEM, "out of memory for the report");
+        return NULL;
+    }
+    snprintf(rid, rid_size, "%s-%06lld", prefix, id);
+    report_head(f, title, rid, issued, o);
+    return f;
+}
+
 static int run_report_gen(long long id, const char *issued, void *vctx, char **content,
                           size_t *len, bg_error *err)
 {
@@ -149,11 +164,10 @@ static int run_report_gen(long long id, const char *issued, void *vctx, char **c
     const bg_fit_row *ft = &r->fit;
     const bg_model *m = &ft->model;
     char rid[40], name[16], b1[32], buf[256];
-    FILE *f = open_memstream(content, len);
+    FILE *f = report_open(content, len, "BG-CAL", id, "Calibration report", issued, r->o, rid,
+                          sizeof rid, err);
     if (!f)
-        return bg_error_set(err, BG_ENOMEM, "out of memory for the report");
-    snprintf(rid, sizeof rid, "BG-CAL-%06lld", id);
-    report_head(f, "Calibration report", rid, issued, r->o);
+        return BG_ENOMEM;
 
     fputs("<h2>Item calibrated</h2>\n<table class=\"kv\" id=\"item\">\n", f);
     kv(f, "Probe serial", r->probe.serial);
@@ -379,11 +393,10 @@ static int lot_report_gen(long long id, const char *issued, void *vctx, char **c
 {
     struct lot_report *r = vctx;
     char rid[40];
-    FILE *f = open_memstream(content, len);
+    FILE *f = report_open(content, len, "BG-LOT", id, "Production lot report", issued, r->o,
+                          rid, sizeof rid, err);
     if (!f)
-        return bg_error_set(err, BG_ENOMEM, "out of memory for the report");
-    snprintf(rid, sizeof rid, "BG-LOT-%06lld", id);
-    report_head(f, "Production lot report", rid, issued, r->o);
+        return BG_ENOMEM;
     fputs("<table class=\"kv\" id=\"lot\">\n", f);
     kv(f, "Lot", r->lot.code);
     kv(f, "Part", r->lot.part);
@@ -410,29 +423,54 @@ static int issue(bg_store *st, const char *kind, const char *subject, long long 
                  const char *spec, const struct report_opts *o, bg_artifact_gen gen, void *gctx,
                  const char *out_path);
 
+/* What a report is made from, as JSON (malloc'd; NULL when out of memory): its subject and
+** the lot, or the run, fit and probe. */
+static char *report_spec(const char *subject, const char *lot, long long run, long long fit,
+                         const char *probe)
+{
+    char *spec = NULL;
+    size_t len = 0;
+    FILE *sf = open_memstream(&spec, &len);
+    json_out j;
+    if (!sf)
+        return NULL;
+    json_begin(&j, sf);
+    json_obj(&j, NULL);
+    json_str(&j, "subject", subject);
+    if (lot)
+        json_str(&j, "lot", lot);
+    else {
+        json_int(&j, "run", run);
+        json_int(&j, "fit", fit);
+        json_str(&j, "probe", probe);
+    }
+    json_obj_end(&j);
+    if (fclose(sf) != 0) {
+        free(spec);
+        return NULL;
+    }
+    return spec;
+}
+
 static int lot_report(bg_store *st, const char *code, const struct report_opts *o,
                       const char *out_path)
 {
     struct lot_report r;
     bg_error err = BG_ERROR_INIT;
-    char subject[BG_TEXT + 8], spec[1024];
+    char subject[BG_TEXT + 8];
     memset(&r, 0, sizeof r);
     r.o = o, r.st = st;
     if (bg_store_lot_get(st, code, &r.lot, &err) != BG_OK)
         return cli_fail("report", &err);
     snprintf(subject, sizeof subject, "lot %s", code);
-    FILE *sf = fmemopen(spec, sizeof spec, "w");
-    if (!sf)
-        return BG_ENOMEM;
-    json_out j;
-    json_begin(&j, sf);
-    json_obj(&j, NULL);
-    json_str(&j, "subject", subject);
-    json_str(&j, "lot", code);
-    json_obj_end(&j);
-    fputc('\0', sf);
-    fclose(sf);
-    return issue(st, "report-lot", subject, 0, spec, o, lot_report_gen, &r, out_path);
+    char *spec = report_spec(subject, code, 0, 0, NULL);
+    if (!spec) {
+        bg_error_set(&err, BG_ENOMEM, "out of memory");
+        return cli_fail("report", &err);
+    }
+    int rc = issue(st, "report-lot", subject, 0, spec, o, lot_report_gen, &r, out_path);
+    free(spec);
+    return rc;
 }
 
 /* Open 'path' for the report ("-": standard output), before anything is stored. */
@@ -687,24 +725,15 @@ int cmd_report(int argc, char **argv, struct cli_ctx *ctx)
     }
     if ((rc = bg_store_reading_each(st, run_id, reading_keep, &r.rd, &err)) != BG_OK)
         goto fail;
-    char subject[64], spec[512];
+    char subject[64];
     snprintf(subject, sizeof subject, "run %lld", run_id);
-    json_out j;
-    FILE *sf = fmemopen(spec, sizeof spec, "w");
-    if (!sf) {
+    char *spec = report_spec(subject, NULL, run_id, fit_id, r.run.serial);
+    if (!spec) {
         rc = bg_error_set(&err, BG_ENOMEM, "out of memory");
         goto fail;
     }
-    json_begin(&j, sf);
-    json_obj(&j, NULL);
-    json_str(&j, "subject", subject);
-    json_int(&j, "run", run_id);
-    json_int(&j, "fit", fit_id);
-    json_str(&j, "probe", r.run.serial);
-    json_obj_end(&j);
-    fputc('\0', sf);
-    fclose(sf);
     rc = issue(st, "report-run", subject, fit_id, spec, &o, run_report_gen, &r, out_path);
+    free(spec);
     free(r.rd.r);
     bg_store_close(st);
     return rc;

@@ -385,6 +385,7 @@ int bg_lut_build_smallest(const bg_lut_spec *s, bg_lut *out, size_t bytes[3], bg
     /* order of preference on equal size: uniform, indexed, minimal */
     static const bg_lut_strategy order[3] = { BG_LUT_UNIFORM, BG_LUT_INDEXED, BG_LUT_MINIMAL };
     bg_error first = BG_ERROR_INIT;
+    size_t oncurve = 0;
     int found = 0;
     memset(out, 0, sizeof *out);
     for (int k = 0; k < 3; k++) {
@@ -392,7 +393,8 @@ int bg_lut_build_smallest(const bg_lut_spec *s, bg_lut *out, size_t bytes[3], bg
         bg_lut cand = BG_LUT_INIT;
         bg_error e2 = BG_ERROR_INIT;
         s2.strategy = order[k];
-        s2.oncurve_min = s->oncurve_min && order[k] != BG_LUT_UNIFORM;
+        /* the on-curve count does not depend on the strategy: once, with the first segments */
+        s2.oncurve_min = s->oncurve_min && order[k] != BG_LUT_UNIFORM && !oncurve;
         bytes[order[k]] = 0;
         if (bg_lut_build(&s2, &cand, &e2) != BG_OK) {
             if (first.code == BG_OK)
@@ -400,23 +402,20 @@ int bg_lut_build_smallest(const bg_lut_spec *s, bg_lut *out, size_t bytes[3], bg
             continue;
         }
         bytes[order[k]] = cand.bytes;
+        if (cand.oncurve_min)
+            oncurve = cand.oncurve_min;
         if (!found || cand.bytes < out->bytes) {
-            size_t oc = found ? out->oncurve_min : 0;
             bg_lut_release(out);
             *out = cand, found = 1;
-            if (!out->oncurve_min)
-                out->oncurve_min = oc;
-        } else {
-            if (cand.oncurve_min && !out->oncurve_min)
-                out->oncurve_min = cand.oncurve_min;
+        } else
             bg_lut_release(&cand);
-        }
     }
     if (!found) {
         if (err)
             *err = first;
         return first.code;
     }
+    out->oncurve_min = out->strategy == BG_LUT_UNIFORM ? 0 : oncurve;
     return BG_OK;
 }
 

@@ -666,25 +666,34 @@ out:
     "f.max_abs_mk, f.t_min_k, f.t_max_k, f.program_version, f.created_at"
 #define FIT_FROM " FROM fit f JOIN run r ON f.run_id = r.id JOIN probe p ON r.probe_id = p.id "
 
-static int fit_row(sqlite3_stmt *q, bg_fit_row *f, bg_error *err)
+/* The model of a fit row from columns col .. col + 8: name, t0_k, npar, c0 .. c5. */
+static int row_model(sqlite3_stmt *q, int col, bg_fit_row *f, bg_error *err)
 {
     char name[16];
+    bgi_copy_text(name, sizeof name, q, col);
+    if (bg_model_parse(name, &f->model, err) != BG_OK)
+        return BG_EINVAL;
+    if (sqlite3_column_type(q, col + 1) != SQLITE_NULL)
+        f->model.t0_k = sqlite3_column_double(q, col + 1);
+    f->npar = (size_t)sqlite3_column_int64(q, col + 2);
+    if (f->npar != bg_model_npar(&f->model))
+        return bg_error_set(err, BG_EDB, "fit %lld: %zu coefficients for model '%s'", f->id,
+                            f->npar, name);
+    for (size_t i = 0; i < f->npar; i++)
+        f->model.coef[i] = sqlite3_column_double(q, col + 3 + (int)i);
+    return BG_OK;
+}
+
+static int fit_row(sqlite3_stmt *q, bg_fit_row *f, bg_error *err)
+{
     memset(f, 0, sizeof *f);
     f->id = sqlite3_column_int64(q, 0);
     f->run_id = sqlite3_column_int64(q, 1);
     f->probe_id = sqlite3_column_int64(q, 2);
     bgi_copy_text(f->serial, sizeof f->serial, q, 3);
-    bgi_copy_text(name, sizeof name, q, 4);
-    if (bg_model_parse(name, &f->model, err) != BG_OK)
-        return BG_EINVAL;
-    if (sqlite3_column_type(q, 5) != SQLITE_NULL)
-        f->model.t0_k = sqlite3_column_double(q, 5);
-    f->npar = (size_t)sqlite3_column_int64(q, 6);
-    if (f->npar != bg_model_npar(&f->model))
-        return bg_error_set(err, BG_EDB, "fit %lld: %zu coefficients for model '%s'", f->id,
-                            f->npar, name);
-    for (size_t i = 0; i < f->npar; i++)
-        f->model.coef[i] = sqlite3_column_double(q, (int)(7 + i));
+    int rc = row_model(q, 4, f, err);
+    if (rc != BG_OK)
+        return rc;
     const unsigned char *cov = sqlite3_column_blob(q, 13);
     if (cov && (size_t)sqlite3_column_bytes(q, 13) == 8 * f->npar * f->npar) {
         for (size_t k = 0; k < f->npar * f->npar; k++)
@@ -959,23 +968,14 @@ int bg_store_lot_latest_fits(bg_store *st, const char *lot_code, const char *sin
 
 static int hist_row(sqlite3_stmt *q, bg_fit_row *f, bg_error *err)
 {
-    char name[16];
     /* the fields before the covariance; the covariance stays as zeroed when the buffer grew */
     memset(f, 0, offsetof(bg_fit_row, cov));
     f->id = sqlite3_column_int64(q, 0);
     f->run_id = sqlite3_column_int64(q, 1);
     f->probe_id = sqlite3_column_int64(q, 2);
-    bgi_copy_text(name, sizeof name, q, 3);
-    if (bg_model_parse(name, &f->model, err) != BG_OK)
-        return BG_EINVAL;
-    if (sqlite3_column_type(q, 4) != SQLITE_NULL)
-        f->model.t0_k = sqlite3_column_double(q, 4);
-    f->npar = (size_t)sqlite3_column_int64(q, 5);
-    if (f->npar != bg_model_npar(&f->model))
-        return bg_error_set(err, BG_EDB, "fit %lld: %zu coefficients for model '%s'", f->id,
-                            f->npar, name);
-    for (size_t i = 0; i < f->npar; i++)
-        f->model.coef[i] = sqlite3_column_double(q, (int)(6 + i));
+    int rc = row_model(q, 3, f, err);
+    if (rc != BG_OK)
+        return rc;
     f->n = (size_t)sqlite3_column_int64(q, 12);
     f->dof = (size_t)sqlite3_column_int64(q, 13);
     f->t_min_k = sqlite3_column_double(q, 14);
