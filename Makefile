@@ -27,9 +27,16 @@ CFLAGS_ALL = $(STD) $(WARN) $(OPT) -fvisibility=hidden -Iinclude -DBG_VERSION='"
 DEBIAN_PKGS = libgsl-dev libsqlite3-dev libcmocka-dev pkg-config python3-numpy python3-scipy \
               mandoc sqlite3 clang libclang-rt-14-dev chromium chromium-driver libxml2-utils
 
-LIB_SRC = $(wildcard src/lib/*.c)
+LIB_SRC = $(wildcard src/lib/*/*.c)
+LIB_INT = $(wildcard src/lib/*/*_int.h src/lib/*/*_priv.h)
 CLI_SRC = $(wildcard src/cli/*.c)
 LIB_OBJ = $(LIB_SRC:src/lib/%.c=$(BUILD)/obj/lib/%.o) $(BUILD)/obj/lib/migrations.o
+# The shared library is built from position-independent copies of the same objects, so the
+# static library and the program keep their code as it was.
+PIC_OBJ = $(LIB_OBJ:$(BUILD)/obj/lib/%.o=$(BUILD)/pic/lib/%.o)
+SOMAJOR  = 0
+SONAME   = libbandgap.so.$(SOMAJOR)
+SOFILE   = libbandgap.so.$(VERSION)
 CLI_OBJ = $(CLI_SRC:src/cli/%.c=$(BUILD)/obj/cli/%.o) $(BUILD)/obj/cli/demo_data.o
 TESTS   = $(patsubst tests/%.c,$(BUILD)/tests/%,$(wildcard tests/test_*.c))
 HEADERS = $(wildcard include/bandgap/*.h)
@@ -39,7 +46,9 @@ MIGRATIONS = $(sort $(wildcard db/[0-9][0-9][0-9]-*.sql))
 .PHONY: all deps test check sanitize demo bench install uninstall clean headers fmt fuzz \
         fuzz-replay install-check
 
-all: deps $(BUILD)/libbandgap.a $(BUILD)/bandgap
+# The sanitizer build makes no shared library (its runtime is linked into programs only).
+SHARED = $(if $(filter 1,$(SAN)),,$(BUILD)/$(SOFILE))
+all: deps $(BUILD)/libbandgap.a $(SHARED) $(BUILD)/bandgap
 
 # ---- dependencies: install the Debian packages that are missing, or say how -----------------
 deps:
@@ -59,9 +68,13 @@ deps:
 	fi
 
 # ---- library and program --------------------------------------------------------------------
-$(BUILD)/obj/lib/%.o: src/lib/%.c $(HEADERS) $(wildcard src/lib/*_int.h) | deps
+$(BUILD)/obj/lib/%.o: src/lib/%.c $(HEADERS) $(LIB_INT) | deps
 	@mkdir -p $(@D)
-	$(CC) $(CFLAGS_ALL) -c $< -o $@
+	$(CC) $(CFLAGS_ALL) -Isrc/lib -c $< -o $@
+
+$(BUILD)/pic/lib/%.o: src/lib/%.c $(HEADERS) $(LIB_INT) | deps
+	@mkdir -p $(@D)
+	$(CC) $(CFLAGS_ALL) -fPIC -Isrc/lib -c $< -o $@
 
 $(BUILD)/obj/cli/%.o: src/cli/%.c $(HEADERS) src/cli/cli.h | deps
 	@mkdir -p $(@D)
@@ -76,12 +89,16 @@ $(BUILD)/demo_data.c: $(DEMO_CSV) tests/embed.awk
 # The schema migrations, embedded in the library.
 $(BUILD)/migrations.c: $(MIGRATIONS) tests/embed.awk
 	@mkdir -p $(@D)
-	awk -v type='struct bgi_sql_file' -v var=bgi_migrations -v hdr=store_int.h \
+	awk -v type='struct bgi_sql_file' -v var=bgi_migrations -v hdr=store/store_int.h \
 	    -f tests/embed.awk $(MIGRATIONS) > $@
 
-$(BUILD)/obj/lib/migrations.o: $(BUILD)/migrations.c src/lib/store_int.h | deps
+$(BUILD)/obj/lib/migrations.o: $(BUILD)/migrations.c src/lib/store/store_int.h | deps
 	@mkdir -p $(@D)
 	$(CC) $(CFLAGS_ALL) -Isrc/lib -c $< -o $@
+
+$(BUILD)/pic/lib/migrations.o: $(BUILD)/migrations.c src/lib/store/store_int.h | deps
+	@mkdir -p $(@D)
+	$(CC) $(CFLAGS_ALL) -fPIC -Isrc/lib -c $< -o $@
 
 $(BUILD)/obj/cli/demo_data.o: $(BUILD)/demo_data.c | deps
 	@mkdir -p $(@D)
@@ -90,6 +107,15 @@ $(BUILD)/obj/cli/demo_data.o: $(BUILD)/demo_data.c | deps
 $(BUILD)/libbandgap.a: $(LIB_OBJ)
 	rm -f $@
 	ar rcs $@ $^
+
+# The shared library: a soname for the ABI, and a version script (src/lib/bandgap.map) that
+# exports the bg_ names; with -fvisibility=hidden those are exactly the BG_API declarations
+# (tests/symbols.sh compares the two lists).
+$(BUILD)/$(SOFILE): $(PIC_OBJ) src/lib/bandgap.map
+	$(CC) $(OPT) -shared -Wl,-soname,$(SONAME) -Wl,--version-script=src/lib/bandgap.map \
+	    -Wl,--no-undefined -o $@ $(PIC_OBJ) $(PKG_LIBS)
+	ln -sf $(SOFILE) $(BUILD)/$(SONAME)
+	ln -sf $(SONAME) $(BUILD)/libbandgap.so
 
 $(BUILD)/bandgap: $(CLI_OBJ) $(BUILD)/libbandgap.a
 	$(CC) $(OPT) -o $@ $(CLI_OBJ) $(BUILD)/libbandgap.a $(PKG_LIBS)
@@ -112,15 +138,22 @@ check: all headers $(if $(filter 1,$(SAN)),,install-check) $(TESTS)
 	@BUILD=$(BUILD) PYTHON=$(PYTHON) sh tests/run.sh
 
 # Install into a scratch folder and build a program from the installed headers, library and
-# pkg-config file alone; it must print T(3000 ohm) = 25.507 degC (refdata section 1).
+# pkg-config file alone, once against the shared library and once against the static one;
+# each must print T(3000 ohm) = 25.507 degC (refdata section 1), the shared one must need
+# libbandgap.so.0 and the static one must not.
+STAGE = $(abspath $(BUILD))/stage
+STAGE_PC = PKG_CONFIG_SYSROOT_DIR=$(STAGE) PKG_CONFIG_PATH=$(STAGE)/usr/lib/pkgconfig pkg-config
 install-check: all
 	@rm -rf $(BUILD)/stage
-	@$(MAKE) --no-print-directory install PREFIX=/usr DESTDIR=$(abspath $(BUILD))/stage >/dev/null
-	@$(CC) $(STD) $(WARN) tests/install_check.c -o $(BUILD)/stage/install_check \
-	    $$(PKG_CONFIG_SYSROOT_DIR=$(abspath $(BUILD))/stage \
-	       PKG_CONFIG_PATH=$(abspath $(BUILD))/stage/usr/lib/pkgconfig \
-	       pkg-config --cflags --libs --static bandgap)
-	@test "$$($(BUILD)/stage/install_check)" = 25.507 && echo "install-check: ok"
+	@$(MAKE) --no-print-directory install PREFIX=/usr DESTDIR=$(STAGE) >/dev/null
+	@$(CC) $(STD) $(WARN) tests/install_check.c -o $(STAGE)/check_shared \
+	    $$($(STAGE_PC) --cflags --libs bandgap) -Wl,-rpath,$(STAGE)/usr/lib
+	@$(CC) $(STD) $(WARN) tests/install_check.c -o $(STAGE)/check_static \
+	    $$($(STAGE_PC) --cflags --libs --static bandgap | sed 's/-lbandgap/-l:libbandgap.a/')
+	@test "$$($(STAGE)/check_shared)" = 25.507 && test "$$($(STAGE)/check_static)" = 25.507
+	@ldd $(STAGE)/check_shared | grep -q 'libbandgap.so.$(SOMAJOR) => $(STAGE)/usr/lib/'
+	@! ldd $(STAGE)/check_static | grep -q libbandgap
+	@echo "install-check: ok (shared $(SONAME) and static)"
 
 sanitize: deps
 	@$(MAKE) --no-print-directory BUILD=build-san SAN=1 check
@@ -128,7 +161,8 @@ sanitize: deps
 
 # ---- fuzzing: libFuzzer with clang; the committed corpus is replayed by the sanitizer suite --
 FUZZ_TIME ?= 60
-FUZZ_LIB = src/lib/csv.c src/lib/num.c src/lib/units.c src/lib/error.c src/lib/model.c
+FUZZ_LIB = src/lib/core/csv.c src/lib/core/num.c src/lib/core/units.c src/lib/core/error.c \
+           $(wildcard src/lib/model/*.c)
 FUZZ_TARGETS = csv units
 CLANG ?= $(shell command -v clang-14 || command -v clang)
 
@@ -147,7 +181,7 @@ fuzz: | deps
 	@mkdir -p $(BUILD)/fuzz
 	@for t in $(FUZZ_TARGETS); do \
 	  $(CLANG) -std=c11 -D_POSIX_C_SOURCE=200809L -g -O1 -Iinclude \
-	      -fsanitize=fuzzer,address,undefined -fno-sanitize-recover=all \
+	      -fsanitize=fuzzer,address,undefined -fno-sanitize-recover=all -Isrc/lib \
 	      tests/fuzz/fuzz_$$t.c $(FUZZ_LIB) -o $(BUILD)/fuzz/fuzz_$$t -lm || exit 1; \
 	  rm -rf $(BUILD)/fuzz/corpus-$$t; cp -R tests/fuzz/corpus/$$t $(BUILD)/fuzz/corpus-$$t; \
 	  echo "fuzzing $$t for $(FUZZ_TIME) s"; \
@@ -194,17 +228,21 @@ install: all $(BUILD)/bandgap.pc
 	    $(DESTDIR)$(includedir)/bandgap $(DESTDIR)$(mandir)/man1
 	install -m 755 $(BUILD)/bandgap $(DESTDIR)$(bindir)/bandgap
 	install -m 644 $(BUILD)/libbandgap.a $(DESTDIR)$(libdir)/libbandgap.a
+	install -m 755 $(BUILD)/$(SOFILE) $(DESTDIR)$(libdir)/$(SOFILE)
+	ln -sf $(SOFILE) $(DESTDIR)$(libdir)/$(SONAME)
+	ln -sf $(SONAME) $(DESTDIR)$(libdir)/libbandgap.so
 	install -m 644 $(HEADERS) $(DESTDIR)$(includedir)/bandgap/
 	install -m 644 $(BUILD)/bandgap.pc $(DESTDIR)$(libdir)/pkgconfig/bandgap.pc
 	install -m 644 docs/bandgap.1 $(DESTDIR)$(mandir)/man1/bandgap.1
 
 uninstall:
 	rm -f $(DESTDIR)$(bindir)/bandgap $(DESTDIR)$(libdir)/libbandgap.a
+	rm -f $(DESTDIR)$(libdir)/$(SOFILE) $(DESTDIR)$(libdir)/$(SONAME) $(DESTDIR)$(libdir)/libbandgap.so
 	rm -f $(DESTDIR)$(libdir)/pkgconfig/bandgap.pc $(DESTDIR)$(mandir)/man1/bandgap.1
 	rm -rf $(DESTDIR)$(includedir)/bandgap
 
 fmt:
-	clang-format -i $(LIB_SRC) $(CLI_SRC) $(HEADERS) src/lib/*_int.h src/cli/cli.h
+	clang-format -i $(LIB_SRC) $(CLI_SRC) $(HEADERS) $(LIB_INT) src/cli/cli.h
 
 clean:
 	rm -rf build build-san demo-out

@@ -1,7 +1,8 @@
 #!/bin/sh
 # SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
 # Run the whole test suite against the build in $BUILD: unit tests (cmocka), CLI golden
-# tests, the HTML reports in Chromium, the numpy cross-check and the meta checks.  Ends with "N passed, N failed".
+# tests, the HTML reports in Chromium, the numpy cross-check, the meta checks and the
+# shape of the tree (tests/layout.py).  Ends with "N passed, N failed".
 BUILD=${BUILD:-build}
 PYTHON=${PYTHON:-/usr/bin/python3}
 pass=0
@@ -46,6 +47,8 @@ sh tests/meta.sh "$BUILD/bandgap"
 count $? meta
 sh tests/reports.sh "$BUILD/bandgap" "$PYTHON" > "$BUILD/reports.log" 2>&1
 tally reports "$BUILD/reports.log" $?
+"$PYTHON" tests/layout.py "$BUILD" > "$BUILD/layout.log" 2>&1
+tally layout "$BUILD/layout.log" $?
 "$PYTHON" tests/xcheck_numpy.py "$BUILD/bandgap"
 count $? xcheck_numpy
 

@@ -6,7 +6,7 @@
 #include <unistd.h>
 
 #include "testutil.h"
-#include "../src/lib/lut_int.h"
+#include "../src/lib/lut/lut_int.h"
 
 static bg_lut_spec spec_10k(unsigned shift, bg_lut_format fmt)
 {

@@ -7,10 +7,6 @@
 #include <string.h>
 #include <sysexits.h>
 
-#include <gsl/gsl_errno.h>
-#include <gsl/gsl_version.h>
-#include <sqlite3.h>
-
 #include "cli.h"
 
 struct command {
@@ -60,7 +56,7 @@ static void usage(FILE *f)
 static void version(void)
 {
     printf("bandgap %s\n", bg_version());
-    printf("GSL %s\nSQLite %s\n", gsl_version, sqlite3_libversion());
+    printf("GSL %s\nSQLite %s\n", bg_gsl_version(), bg_sqlite_version());
     printf("Copyright (C) 2026 the bandgap developers.\n"
            "License GPLv3+: GNU GPL version 3 or later <https://gnu.org/licenses/gpl.html>.\n"
            "This is free software: you are free to change and redistribute it.\n"
@@ -101,7 +97,7 @@ int main(int argc, char **argv)
     struct cli_ctx ctx = { NULL, 0 };
     int c;
 
-    gsl_set_error_handler_off();
+    bg_gsl_handler_off();
     ctx.db_path = getenv("BANDGAP_DB");
     if (!ctx.db_path || !*ctx.db_path)
         ctx.db_path = "bandgap.db";

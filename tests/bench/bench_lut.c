@@ -8,7 +8,7 @@
 #include <time.h>
 
 #include "bandgap/bandgap.h"
-#include "../../src/lib/lut_int.h"
+#include "../../src/lib/lut/lut_int.h"
 
 static double now(void)
 {

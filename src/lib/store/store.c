@@ -13,6 +13,7 @@
 
 #include <sqlite3.h>
 
+#include "bandgap/bandgap.h"
 #include "bandgap/store.h"
 #include "store_int.h"
 #include "store_priv.h"
@@ -727,4 +728,9 @@ int bg_store_part_lots(bg_store *st, const char *part, bg_lot_cb cb, void *ctx, 
         rc = bg_error_set(err, BG_EINVAL, "no lots of part '%s'", part);
     sqlite3_finalize(q);
     return rc;
+}
+
+const char *bg_sqlite_version(void)
+{
+    return sqlite3_libversion();
 }
