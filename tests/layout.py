@@ -1,7 +1,7 @@
 # SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
 """The shape of the tree, checked (DESIGN.md "the one rule"; issue: one library, a thin program).
 
-1. src/cli includes neither GSL nor SQLite headers; no cmd_X.c calls a function defined in
+1. src/cli includes neither GSL nor SQLite headers nor the library's internal ones; no cmd_X.c calls a function defined in
    another cmd_Y.c; src/cli has no mutable static state (static variables that are not const).
 2. No function in src/ is over 100 lines or takes more than 8 parameters, unless the comment
    just above it says "Long on purpose:" and why (numerical kernels).
@@ -123,6 +123,8 @@ def main():
         for no, line in enumerate(open(p, encoding='utf-8'), 1):
             if re.match(r'\s*#\s*include\s*[<"](gsl/|sqlite3\.h|libpq)', line):
                 bad.append((f'include {p}', f'{p}:{no}: {line.strip()}'))
+            if re.match(r'\s*#\s*include\s*"[./]*(src/)?lib/', line):
+                bad.append((f'internal {p}', f'{p}:{no}: {line.strip()} (library internals)'))
     check('layout_cli_includes_no_gsl_or_sqlite', bad)
 
     # 1b. no command calls another command's functions

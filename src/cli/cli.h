@@ -117,29 +117,6 @@ int fit_stored_probe(const char *serial, long long run_id, const struct fit_requ
 int fit_stored_lot(const char *lot_code, const struct fit_request *rq, struct cli_ctx *ctx);
 
 /* ---- commands (one file each) ---- */
-/* ---- HTML reports (html.c) ---- */
-void html_esc(FILE *f, const char *s);
-void html_begin(FILE *f, const char *title, const char *report_id);
-void html_end(FILE *f);
-void html_cautions(FILE *f);
-void html_num(FILE *f, const char *tag, const char *cls, const char *fmt, double v);
-double html_round_up2(double v);
-void html_sig2(FILE *f, const char *cls, double v);
-typedef struct html_chart {
-    const char *id, *title, *xlabel, *ylabel;
-    int xint;              /* x is an index: integer ticks */
-    double x0, x1, y0, y1; /* axis limits, set by html_chart_begin */
-} html_chart;
-void html_chart_begin(FILE *f, html_chart *c, double xlo, double xhi, double ylo, double yhi);
-void html_chart_band(FILE *f, const html_chart *c, const double *x, const double *lo,
-                     const double *hi, size_t n);
-void html_chart_hline(FILE *f, const html_chart *c, double y, const char *label, int dashed);
-void html_chart_line(FILE *f, const html_chart *c, const double *x, const double *y, size_t n);
-void html_chart_points(FILE *f, const html_chart *c, const double *x, const double *y,
-                       const int *flag, size_t n);
-void html_chart_bars(FILE *f, const html_chart *c, const double *edges, const size_t *count,
-                     size_t n);
-void html_chart_end(FILE *f, const html_chart *c, const char *caption);
 /* The table report of 'lut --report' (cmd_lut.c). */
 
 /* The lot report's statistics, drift and control-chart sections (cmd_drift.c); '*flagged'

@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "cli.h"
+#include "../lib/report/html_int.h"
 
 static const char drift_usage[] =
     "Usage: bandgap drift (--probe SERIAL | --lot CODE | --part PART) [--at T1,T2,...]\n"
@@ -130,13 +131,13 @@ static int compare_one(const struct hist *h, size_t a, size_t b, const bg_lot *l
     } else if (o->html) {
         FILE *f = o->html;
         fprintf(f, "<tr class=\"drift%s\"><td>", f_abs || f_rate ? " flag" : "");
-        html_esc(f, fa->serial);
+        bgi_html_esc(f, fa->serial);
         fprintf(f, "</td><td class=\"n\">%lld</td><td class=\"n\">%lld</td>", fa->id, fb->id);
-        html_num(f, "td", "n years", "%.3f", d.years);
-        html_num(f, "td", "n maxabs", "%.3f", d.max_abs_err_mk);
-        html_num(f, "td", "n dr25", "%+.4f", d.d_r25_pct);
-        html_num(f, "td", "n db", "%+.3f", d.d_b_k);
-        html_num(f, "td", "n rate", "%.3f", d.rate_mk_per_year);
+        bgi_html_num(f, "td", "n years", "%.3f", d.years);
+        bgi_html_num(f, "td", "n maxabs", "%.3f", d.max_abs_err_mk);
+        bgi_html_num(f, "td", "n dr25", "%+.4f", d.d_r25_pct);
+        bgi_html_num(f, "td", "n db", "%+.3f", d.d_b_k);
+        bgi_html_num(f, "td", "n rate", "%.3f", d.rate_mk_per_year);
         fprintf(f, "<td>%s%s</td></tr>\n", f_abs ? "beyond the limit " : "",
                 f_rate ? "drift rate beyond the limit" : "");
     } else if (o->csv) {
@@ -184,7 +185,7 @@ static int drift_probe(bg_store *st, const char *serial, struct dopt *o, int *fl
     if (o->html) {
         if (h.n < 2) {
             fprintf(o->html, "<tr class=\"drift single\"><td>");
-            html_esc(o->html, serial);
+            bgi_html_esc(o->html, serial);
             fprintf(o->html, "</td><td colspan=\"8\">%s</td></tr>\n", h.n == 1 ?
                     "only one calibration: nothing to compare yet" : "no fitted calibration");
         }
@@ -301,11 +302,11 @@ static void lot_html(FILE *f, const char *code, const bg_lot *lot, const struct 
         for (size_t k = 0; k < nat; k++)
             mx = fmax(mx, fabs(dev[i * nat + k]));
         fprintf(f, "<tr class=\"probe%s\"><td>", out || outl ? " flag" : "");
-        html_esc(f, d->serial[i]);
+        bgi_html_esc(f, d->serial[i]);
         fprintf(f, "</td><td class=\"n\">%lld</td>", d->fit[i].id);
-        html_num(f, "td", "n r25dev", "%+.4f", r25[i]);
-        html_num(f, "td", "n b", "%.2f", b[i]);
-        html_num(f, "td", "n maxdev", "%.3f", mx);
+        bgi_html_num(f, "td", "n r25dev", "%+.4f", r25[i]);
+        bgi_html_num(f, "td", "n b", "%.2f", b[i]);
+        bgi_html_num(f, "td", "n maxdev", "%.3f", mx);
         fprintf(f, "<td>%s%s</td></tr>\n", out ? "out of tolerance " : "",
                 outl ? "outlier (Grubbs)" : "");
     }
@@ -317,27 +318,27 @@ static void lot_html(FILE *f, const char *code, const bg_lot *lot, const struct 
     const char *nm[2] = { "R25 deviation / %", "B / K" }, *id[2] = { "r25_dev_pct", "b_k" };
     for (int k = 0; k < 2; k++) {
         fprintf(f, "<tr class=\"stat\" data-key=\"%s\"><td>%s</td>", id[k], nm[k]);
-        html_num(f, "td", "n mean", "%.4f", st[k]->mean);
-        html_num(f, "td", "n sd", "%.4f", st[k]->sd);
-        html_num(f, "td", "n min", "%.4f", st[k]->min);
-        html_num(f, "td", "n max", "%.4f", st[k]->max);
-        html_num(f, "td", "n cpk", "%.2f", cp[k]);
+        bgi_html_num(f, "td", "n mean", "%.4f", st[k]->mean);
+        bgi_html_num(f, "td", "n sd", "%.4f", st[k]->sd);
+        bgi_html_num(f, "td", "n min", "%.4f", st[k]->min);
+        bgi_html_num(f, "td", "n max", "%.4f", st[k]->max);
+        bgi_html_num(f, "td", "n cpk", "%.2f", cp[k]);
         fputs("</tr>\n", f);
     }
     fputs("</table>\n<p id=\"energy\">Apparent activation energy E = kB = ", f);
-    html_num(f, "span", "ea", "%.4f", bg_activation_energy_ev(sb->mean));
+    bgi_html_num(f, "span", "ea", "%.4f", bg_activation_energy_ev(sb->mean));
     fprintf(f, " eV (k the Boltzmann constant, B the lot's mean B%.0f/%.0f). Nominal: R25 %.6g "
                "ohm &#177;%.3g %%, B %.2f K &#177;%.3g %%. %zu probe(s) out of tolerance.</p>\n",
             lot->pair_t1_k - BG_ZERO_C_K, lot->pair_t2_k - BG_ZERO_C_K, lot->r25_ohm,
             100 * lot->tol_r25, lot->beta_k, 100 * lot->tol_beta, nout);
     fputs("<p id=\"grubbs\">Outliers by Grubbs' test (two-sided, significance ", f);
-    html_num(f, "span", "alpha", "%.3g", alpha);
+    bgi_html_num(f, "span", "alpha", "%.3g", alpha);
     fputs("): G(R25) ", f);
-    html_num(f, "span", "g_r25", "%.3f", g_r);
+    bgi_html_num(f, "span", "g_r25", "%.3f", g_r);
     fputs(", G(B) ", f);
-    html_num(f, "span", "g_b", "%.3f", g_b);
+    bgi_html_num(f, "span", "g_b", "%.3f", g_b);
     fputs(", critical value ", f);
-    html_num(f, "span", "g_crit", "%.3f", gc);
+    bgi_html_num(f, "span", "g_crit", "%.3f", gc);
     fputs(".</p>\n", f);
     /* the histogram of R25 deviations, with the tolerance limits */
     enum { NBIN = 12 };
@@ -353,11 +354,11 @@ static void lot_html(FILE *f, const char *code, const bg_lot *lot, const struct 
     }
     for (int k = 0; k < NBIN; k++)
         top = cnt[k] > top ? cnt[k] : top;
-    html_chart hc = { "histogram", "R25 deviation of the lot's probes", "R25 deviation / %",
+    bgi_html_chart hc = { "histogram", "R25 deviation of the lot's probes", "R25 deviation / %",
                       "probes", 0, 0, 0, 0, 0 };
-    html_chart_begin(f, &hc, lo, hi, 0.0, (double)top);
-    html_chart_bars(f, &hc, edges, cnt, NBIN);
-    html_chart_end(f, &hc, "Bars: probes per bin; the axis spans at least the R25 tolerance");
+    bgi_html_chart_begin(f, &hc, lo, hi, 0.0, (double)top);
+    bgi_html_chart_bars(f, &hc, edges, cnt, NBIN);
+    bgi_html_chart_end(f, &hc, "Bars: probes per bin; the axis spans at least the R25 tolerance");
     /* deviation from the nominal curve against the interchangeability band */
     fputs("<h2>Deviation from the nominal curve</h2>\n<table class=\"data\" id=\"band\">\n"
           "<tr><th class=\"n\">T / degC</th><th class=\"n\">measured min / mK</th>"
@@ -368,11 +369,11 @@ static void lot_html(FILE *f, const char *code, const bg_lot *lot, const struct 
         for (size_t i = 0; i < d->n; i++)
             mn = fmin(mn, dev[i * nat + k]), mx = fmax(mx, dev[i * nat + k]);
         fputs("<tr class=\"bandrow\">", f);
-        html_num(f, "td", "n t", "%.3f", at[k] - BG_ZERO_C_K);
-        html_num(f, "td", "n mn", "%+.2f", mn);
-        html_num(f, "td", "n mx", "%+.2f", mx);
-        html_num(f, "td", "n blo", "%+.2f", band_lo[k]);
-        html_num(f, "td", "n bhi", "%+.2f", band_hi[k]);
+        bgi_html_num(f, "td", "n t", "%.3f", at[k] - BG_ZERO_C_K);
+        bgi_html_num(f, "td", "n mn", "%+.2f", mn);
+        bgi_html_num(f, "td", "n mx", "%+.2f", mx);
+        bgi_html_num(f, "td", "n blo", "%+.2f", band_lo[k]);
+        bgi_html_num(f, "td", "n bhi", "%+.2f", band_hi[k]);
         fputs("</tr>\n", f);
     }
     fputs("</table>\n<p class=\"meta\">The band is the nominal curve at the corners of the R25 "
@@ -722,7 +723,7 @@ static int drift_part(bg_store *st, const char *part, struct dopt *o, int *flagg
                                         "sd / K", "mean as-found / mK", "sd / mK" };
         FILE *f = o->html;
         fprintf(f, "<h2>Control charts of part ");
-        html_esc(f, part);
+        bgi_html_esc(f, part);
         fprintf(f, "</h2>\n<p>Limits at 3 sigma from the first %zu lot(s) of %zu, subgroup size "
                    "%zu; points that break a run rule are drawn as open squares and listed "
                    "below.</p>\n", nb, k, m);
@@ -736,16 +737,16 @@ static int drift_part(bg_store *st, const char *part, struct dopt *o, int *flagg
                 x[i] = (double)(i + 1), y[i] = val[c][i], fg[i] = fl[c][i] != 0;
                 lo = fmin(lo, y[i]), hi = fmax(hi, y[i]);
             }
-            html_chart hc = { ids[c], titles[c], "lot (in order of creation)", units[c], 0, 0, 0,
+            bgi_html_chart hc = { ids[c], titles[c], "lot (in order of creation)", units[c], 0, 0, 0,
                               0, 0 };
             hc.xint = 1;
-            html_chart_begin(f, &hc, 0.5, (double)n + 0.5, lo, hi);
-            html_chart_hline(f, &hc, ch[c]->center, "centre", 0);
-            html_chart_hline(f, &hc, ch[c]->ucl, "UCL", 1);
-            html_chart_hline(f, &hc, ch[c]->lcl, "LCL", 1);
-            html_chart_line(f, &hc, x, y, n);
-            html_chart_points(f, &hc, x, y, fg, n);
-            html_chart_end(f, &hc, NULL);
+            bgi_html_chart_begin(f, &hc, 0.5, (double)n + 0.5, lo, hi);
+            bgi_html_chart_hline(f, &hc, ch[c]->center, "centre", 0);
+            bgi_html_chart_hline(f, &hc, ch[c]->ucl, "UCL", 1);
+            bgi_html_chart_hline(f, &hc, ch[c]->lcl, "LCL", 1);
+            bgi_html_chart_line(f, &hc, x, y, n);
+            bgi_html_chart_points(f, &hc, x, y, fg, n);
+            bgi_html_chart_end(f, &hc, NULL);
         }
         if (!have_a)
             fputs("<p>As-found drift: not charted (fewer than two lots with recalibrated "
@@ -760,10 +761,10 @@ static int drift_part(bg_store *st, const char *part, struct dopt *o, int *flagg
             unsigned any = fxr[i] | fsr[i] | fxb[i] | fsb[i];
             fprintf(f, "<tr class=\"lot%s\"><td class=\"n\">%zu</td><td>", any ? " flag" : "",
                     i + 1);
-            html_esc(f, used[i]);
+            bgi_html_esc(f, used[i]);
             fprintf(f, "</td><td class=\"n\">%zu</td>", sum[i].n);
-            html_num(f, "td", "n mr", "%+.4f", mr[i]);
-            html_num(f, "td", "n mb", "%.2f", mb[i]);
+            bgi_html_num(f, "td", "n mr", "%+.4f", mr[i]);
+            bgi_html_num(f, "td", "n mb", "%.2f", mb[i]);
             fputs("<td>", f);
             for (int c = 0; c < 4; c++)
                 for (int r = 0; r < 4; r++)
@@ -914,7 +915,7 @@ int drift_lot_html(bg_store *st, const char *code, FILE *f, int *flagged, bg_err
         bg_error e2 = BG_ERROR_INIT;
         if (drift_part(st, lot.part, &o, flagged, &e2) != BG_OK) {
             fprintf(f, "<h2>Control charts</h2>\n<p>Not charted: ");
-            html_esc(f, e2.msg);
+            bgi_html_esc(f, e2.msg);
             fputs(".</p>\n", f);
         }
     }

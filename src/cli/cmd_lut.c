@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "cli.h"
+#include "../lib/report/html_int.h"
 
 static const char lut_usage[] =
     "Usage: bandgap lut (--fit N | --probe SERIAL | MODEL OPTIONS) CIRCUIT --range T1:T2\n"
@@ -225,7 +226,7 @@ static int write_report(const char *path, const bg_lut *t, const bg_lut_spec *s,
     value_unit(s, vu, sizeof vu);
     bg_store_now(now, sizeof now);
     snprintf(rid, sizeof rid, "table %s %zu entries", bg_lut_strategy_name(t->strategy), t->n);
-    html_begin(f, "Firmware table report", rid);
+    bgi_html_begin(f, "Firmware table report", rid);
     fputs("<h1>Firmware table report</h1>\n<table class=\"kv\" id=\"table\">\n", f);
     fprintf(f, "<tr><th>Generated</th><td>%s by bandgap %s</td></tr>\n", now, bg_version());
     fprintf(f, "<tr><th>Model</th><td>%s", name);
@@ -242,11 +243,11 @@ static int write_report(const char *path, const bg_lut *t, const bg_lut_spec *s,
     fprintf(f, "<tr><th>Table</th><td>%s, %zu %s, %zu bytes, values in ",
             bg_lut_strategy_name(t->strategy), t->n,
             t->strategy == BG_LUT_UNIFORM ? "entries" : "segments", t->bytes);
-    html_esc(f, vu);
+    bgi_html_esc(f, vu);
     fputs("</td></tr>\n<tr><th>Table error</th><td>max ", f);
-    html_num(f, "span", "maxerr", "%.4f", t->max_err_k);
+    bgi_html_num(f, "span", "maxerr", "%.4f", t->max_err_k);
     fputs(" K, RMS ", f);
-    html_num(f, "span", "rmserr", "%.4f", t->rms_err_k);
+    bgi_html_num(f, "span", "rmserr", "%.4f", t->rms_err_k);
     fputs(" K over every code (table and output rounding)</td></tr>\n</table>\n", f);
     double lo = 0.0, hi = 0.0;
     for (size_t i = 0; i < nc; i++) {
@@ -257,14 +258,14 @@ static int write_report(const char *path, const bg_lut *t, const bg_lut_spec *s,
         y[i] = bg_lut_value(t, t->code_lo + (long)i, &st) + t->offset_k - tk;
         lo = fmin(lo, y[i]), hi = fmax(hi, y[i]);
     }
-    html_chart ch = { "table_error", "Table error against temperature, every code",
+    bgi_html_chart ch = { "table_error", "Table error against temperature, every code",
                       "temperature / degC", "table - model / K", 0, 0, 0, 0, 0 };
     double xl = fmin(x[0], x[nc - 1]), xh = fmax(x[0], x[nc - 1]);
-    html_chart_begin(f, &ch, xl, xh, lo, hi);
-    html_chart_hline(f, &ch, t->max_err_k, "max", 1);
-    html_chart_hline(f, &ch, -t->max_err_k, NULL, 1);
-    html_chart_line(f, &ch, x, y, nc);
-    html_chart_end(f, &ch, "One vertex per ADC code; dashed: the measured maximum");
+    bgi_html_chart_begin(f, &ch, xl, xh, lo, hi);
+    bgi_html_chart_hline(f, &ch, t->max_err_k, "max", 1);
+    bgi_html_chart_hline(f, &ch, -t->max_err_k, NULL, 1);
+    bgi_html_chart_line(f, &ch, x, y, nc);
+    bgi_html_chart_end(f, &ch, "One vertex per ADC code; dashed: the measured maximum");
     fputs("<h2>Error budget</h2>\n<table class=\"data\" id=\"budget\">\n<tr><th class=\"n\">"
           "T / degC</th><th class=\"n\">table</th><th class=\"n\">ADC &#189; LSB</th>"
           "<th class=\"n\">fit U (k = 2)</th><th class=\"n\">fixed resistor</th>"
@@ -274,24 +275,24 @@ static int write_report(const char *path, const bg_lut *t, const bg_lut_spec *s,
         const bg_budget_row *r = i < nbat ? &brow[i] : bworst;
         fputs("<tr class=\"budget\">", f);
         if (i < nbat)
-            html_num(f, "td", "n t", "%.3f", r->t_k - BG_ZERO_C_K);
+            bgi_html_num(f, "td", "n t", "%.3f", r->t_k - BG_ZERO_C_K);
         else
             fputs("<td class=\"n\">worst over the range</td>", f);
-        html_num(f, "td", "n table", "%.4f", r->table_k);
-        html_num(f, "td", "n adc", "%.4f", r->adc_k);
-        html_num(f, "td", "n fit", "%.4f", r->fit_k);
-        html_num(f, "td", "n resistor", "%.4f", r->resistor_k);
-        html_num(f, "td", "n selfheat", "%.4f", r->selfheat_k);
-        html_num(f, "td", "n rss", "%.4f", r->rss_k);
-        html_num(f, "td", "n sum", "%.4f", r->sum_k);
+        bgi_html_num(f, "td", "n table", "%.4f", r->table_k);
+        bgi_html_num(f, "td", "n adc", "%.4f", r->adc_k);
+        bgi_html_num(f, "td", "n fit", "%.4f", r->fit_k);
+        bgi_html_num(f, "td", "n resistor", "%.4f", r->resistor_k);
+        bgi_html_num(f, "td", "n selfheat", "%.4f", r->selfheat_k);
+        bgi_html_num(f, "td", "n rss", "%.4f", r->rss_k);
+        bgi_html_num(f, "td", "n sum", "%.4f", r->sum_k);
         fputs("</tr>\n", f);
     }
     fprintf(f, "</table>\n<p class=\"meta\">All terms in K. Fixed resistor tolerance %.3g %%, "
                "excitation %.3g V, dissipation constant %.3g mW/K (0: not included); the fit "
                "term needs a stored fit with its covariance.</p>\n", 100.0 * bo->fixed_tol,
             bo->excitation_v, 1e3 * bo->dissipation_w_per_k);
-    html_cautions(f);
-    html_end(f);
+    bgi_html_cautions(f);
+    bgi_html_end(f);
     free(x), free(y);
     if (fclose(f) != 0) {
         cli_error("lut: cannot write '%s'", path);

@@ -12,6 +12,7 @@
 #include <gsl/gsl_cdf.h>
 
 #include "cli.h"
+#include "../lib/report/html_int.h"
 
 static const char report_usage[] =
     "Usage: bandgap report --run N [--fit M] [--lab TEXT] [--customer TEXT]\n"
@@ -105,9 +106,9 @@ static int parse_excitation(const char *s, double *v, int *is_current)
 static void kv(FILE *f, const char *k, const char *v)
 {
     fputs("<tr><th>", f);
-    html_esc(f, k);
+    bgi_html_esc(f, k);
     fputs("</th><td>", f);
-    html_esc(f, v && *v ? v : "not recorded");
+    bgi_html_esc(f, v && *v ? v : "not recorded");
     fputs("</td></tr>\n", f);
 }
 
@@ -119,9 +120,9 @@ static double cdeg(double t_k)
 static void report_head(FILE *f, const char *title, const char *rid, const char *issued,
                         const struct report_opts *o)
 {
-    html_begin(f, title, rid);
+    bgi_html_begin(f, title, rid);
     fprintf(f, "<h1>");
-    html_esc(f, title);
+    bgi_html_esc(f, title);
     fprintf(f, "</h1>\n<table class=\"kv\" id=\"identity\">\n");
     kv(f, "Report", rid);
     kv(f, "Issued", issued);
@@ -130,7 +131,7 @@ static void report_head(FILE *f, const char *title, const char *rid, const char 
         snprintf(buf, sizeof buf, "%lld", o->replaces);
         fprintf(f, "<tr><th>Replaces</th><td id=\"replaces\" data-v=\"%lld\">report %s; "
                    "reason: ", o->replaces, buf);
-        html_esc(f, o->why);
+        bgi_html_esc(f, o->why);
         fputs("</td></tr>\n", f);
     }
     kv(f, "Laboratory", o->lab);
@@ -219,11 +220,11 @@ static int run_report_gen(long long id, const char *issued, void *vctx, char **c
     if (parse_excitation(r->run.excitation, &ex, &is_i) && is_i) {
         double p = ex * ex * r_max; /* the largest power: at the largest resistance */
         fprintf(f, "at most ");
-        html_num(f, "span", "power-uw", "%.3g", 1e6 * p);
+        bgi_html_num(f, "span", "power-uw", "%.3g", 1e6 * p);
         fprintf(f, " &#181;W (I&#178;R at the largest resistance read)");
         if (r->o->dissipation_w_per_k > 0.0) {
             fprintf(f, ", over %.3g mW/K: ", 1e3 * r->o->dissipation_w_per_k);
-            html_num(f, "span", "selfheat-mk", "%.3g", 1e3 * p / r->o->dissipation_w_per_k);
+            bgi_html_num(f, "span", "selfheat-mk", "%.3g", 1e3 * p / r->o->dissipation_w_per_k);
             fprintf(f, " mK");
         } else
             fprintf(f, "; the temperature rise P/&#948; needs the dissipation constant "
@@ -244,17 +245,17 @@ static int run_report_gen(long long id, const char *issued, void *vctx, char **c
           "uncertainty</th></tr>\n", f);
     for (size_t i = 0; i < ft->npar; i++) {
         fprintf(f, "<tr><td>%s</td>", bg_model_coef_name(m, i));
-        html_num(f, "td", "n coef", "%.10g", m->coef[i]);
-        html_num(f, "td", "n u", "%.3g", ft->has_cov ? sqrt(ft->cov[i * ft->npar + i]) : NAN);
+        bgi_html_num(f, "td", "n coef", "%.10g", m->coef[i]);
+        bgi_html_num(f, "td", "n u", "%.3g", ft->has_cov ? sqrt(ft->cov[i * ft->npar + i]) : NAN);
         fputs("</tr>\n", f);
     }
     fputs("</table>\n", f);
     if (m->kind == BG_MODEL_BETA)
         fprintf(f, "<p>Reference temperature T0 = %.2f degC.</p>\n", cdeg(m->t0_k));
     fprintf(f, "<p id=\"fitstats\">RMS residual ");
-    html_num(f, "span", "rms", "%.3f", ft->rms_mk);
+    bgi_html_num(f, "span", "rms", "%.3f", ft->rms_mk);
     fprintf(f, " mK, largest ");
-    html_num(f, "span", "maxabs", "%.3f", ft->max_abs_mk);
+    bgi_html_num(f, "span", "maxabs", "%.3f", ft->max_abs_mk);
     fprintf(f, " mK, &#967;&#178; %.4g.</p>\n", ft->chi2);
 
     /* expanded uncertainty: the curve's U (k = 2) over the range */
@@ -269,18 +270,18 @@ static int run_report_gen(long long id, const char *issued, void *vctx, char **c
     }
     fputs("<h2>Uncertainty and validity</h2>\n<table class=\"kv\" id=\"uncertainty\">\n", f);
     fprintf(f, "<tr><th>Validity range</th><td>");
-    html_num(f, "span", "tmin", "%.2f", cdeg(ft->t_min_k));
+    bgi_html_num(f, "span", "tmin", "%.2f", cdeg(ft->t_min_k));
     fputs(" degC to ", f);
-    html_num(f, "span", "tmax", "%.2f", cdeg(ft->t_max_k));
+    bgi_html_num(f, "span", "tmax", "%.2f", cdeg(ft->t_max_k));
     fputs(" degC (the readings' span)</td></tr>\n", f);
     fprintf(f, "<tr><th>Expanded uncertainty</th><td>");
     if (isfinite(u_worst)) {
         double cover = ft->dof > 0 ? 2.0 * gsl_cdf_tdist_P(2.0, (double)ft->dof) - 1.0 : NAN;
         fputs("U = ", f);
-        html_sig2(f, "U", 1e3 * html_round_up2(2.0 * u_worst));
+        bgi_html_sig2(f, "U", 1e3 * bgi_html_round_up2(2.0 * u_worst));
         fprintf(f, " mK at most over the range, coverage factor k = 2, coverage probability "
                    "about ");
-        html_num(f, "span", "coverage", "%.0f", 100.0 * cover);
+        bgi_html_num(f, "span", "coverage", "%.0f", 100.0 * cover);
         fprintf(f, " %% (Student t, %zu degrees of freedom). U is that of the fitted curve "
                    "from the coefficients' covariance%s; it includes the reference only as far "
                    "as the stated reading uncertainties do.", ft->dof,
@@ -310,16 +311,16 @@ static int run_report_gen(long long id, const char *issued, void *vctx, char **c
         double res = 1e3 * (g->t_k - tf);
         fprintf(f, "<tr class=\"reading%s\" data-id=\"%lld\"><td class=\"n\">%zu</td>",
                 g->excluded ? " excluded" : "", g->id, g->line);
-        html_num(f, "td", "n t", "%.4f", cdeg(g->t_k));
-        html_num(f, "td", "n r", "%.6g", g->r_ohm);
-        html_num(f, "td", "n tfit", "%.4f", cdeg(tf));
-        html_num(f, "td", "n resid", "%.2f", res);
+        bgi_html_num(f, "td", "n t", "%.4f", cdeg(g->t_k));
+        bgi_html_num(f, "td", "n r", "%.6g", g->r_ohm);
+        bgi_html_num(f, "td", "n tfit", "%.4f", cdeg(tf));
+        bgi_html_num(f, "td", "n resid", "%.2f", res);
         fputs("<td>", f);
         if (g->excluded) {
             fputs("excluded: ", f);
-            html_esc(f, g->excl_reason);
+            bgi_html_esc(f, g->excl_reason);
         } else
-            html_esc(f, g->note);
+            bgi_html_esc(f, g->note);
         fputs("</td></tr>\n", f);
         rx[i] = cdeg(g->t_k), ry[i] = res, rf[i] = g->excluded;
         ylo = fmin(ylo, res), yhi = fmax(yhi, res);
@@ -328,15 +329,15 @@ static int run_report_gen(long long id, const char *issued, void *vctx, char **c
     for (int i = 0; i < NB; i++)
         if (isfinite(bhi[i]))
             ylo = fmin(ylo, blo[i]), yhi = fmax(yhi, bhi[i]);
-    html_chart c = { "residuals", "Residuals (measured - fitted) against temperature",
+    bgi_html_chart c = { "residuals", "Residuals (measured - fitted) against temperature",
                      "temperature / degC", "residual / mK", 0, 0, 0, 0, 0 };
-    html_chart_begin(f, &c, fmin(t_lo, ft->t_min_k) - BG_ZERO_C_K,
+    bgi_html_chart_begin(f, &c, fmin(t_lo, ft->t_min_k) - BG_ZERO_C_K,
                      fmax(t_hi, ft->t_max_k) - BG_ZERO_C_K, ylo, yhi);
     if (isfinite(u_worst))
-        html_chart_band(f, &c, bx, blo, bhi, NB);
-    html_chart_hline(f, &c, 0.0, NULL, 0);
-    html_chart_points(f, &c, rx, ry, rf, r->rd.n);
-    html_chart_end(f, &c, "Shaded: the curve's U (k = 2); dots: readings used; open squares: "
+        bgi_html_chart_band(f, &c, bx, blo, bhi, NB);
+    bgi_html_chart_hline(f, &c, 0.0, NULL, 0);
+    bgi_html_chart_points(f, &c, rx, ry, rf, r->rd.n);
+    bgi_html_chart_end(f, &c, "Shaded: the curve's U (k = 2); dots: readings used; open squares: "
                           "excluded readings");
     free(rx), free(ry), free(rf);
 
@@ -363,19 +364,19 @@ static int run_report_gen(long long id, const char *issued, void *vctx, char **c
         else
             u = NAN;
         fputs("<tr class=\"rt\">", f);
-        html_num(f, "td", "n t", "%.1f", t);
-        html_num(f, "td", "n r", "%.6g", rr);
-        html_num(f, "td", "n alpha", "%.4f", 100.0 * al);
-        html_num(f, "td", "n U", "%.2f", 1e3 * u);
+        bgi_html_num(f, "td", "n t", "%.1f", t);
+        bgi_html_num(f, "td", "n r", "%.6g", rr);
+        bgi_html_num(f, "td", "n alpha", "%.4f", 100.0 * al);
+        bgi_html_num(f, "td", "n U", "%.2f", 1e3 * u);
         fputs("</tr>\n", f);
     }
     fputs("</table>\n", f);
-    html_cautions(f);
+    bgi_html_cautions(f);
     fprintf(f, "<p class=\"meta\">Report %s, generated from fit %lld of run %lld by bandgap "
                "%s. Issued reports are stored in the calibration database and never change; a "
                "correction is issued as a new report that names this one.</p>\n", rid, ft->id,
             r->run.id, ft->program_version);
-    html_end(f);
+    bgi_html_end(f);
     if (fclose(f) != 0)
         return bg_error_set(err, BG_ENOMEM, "out of memory for the report");
     return BG_OK;
@@ -405,11 +406,11 @@ static int lot_report_gen(long long id, const char *issued, void *vctx, char **c
     fprintf(f, "<p id=\"verdict\" data-flagged=\"%d\"><strong>%s</strong></p>\n", r->flagged,
             r->flagged ? "Something is flagged: see the marked rows and points above." :
                          "Nothing is flagged.");
-    html_cautions(f);
+    bgi_html_cautions(f);
     fprintf(f, "<p class=\"meta\">Report %s. Issued reports are stored in the calibration "
                "database and never change; a correction is issued as a new report that names "
                "this one.</p>\n", rid);
-    html_end(f);
+    bgi_html_end(f);
     if (fclose(f) != 0 && rc == BG_OK)
         rc = bg_error_set(err, BG_ENOMEM, "out of memory for the report");
     if (rc != BG_OK) {

@@ -8,9 +8,10 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "cli.h"
+#include "bandgap/bandgap.h"
+#include "report/html_int.h"
 
-void html_esc(FILE *f, const char *s)
+void bgi_html_esc(FILE *f, const char *s)
 {
     for (; s && *s; s++) {
         switch (*s) {
@@ -24,15 +25,15 @@ void html_esc(FILE *f, const char *s)
     }
 }
 
-void html_begin(FILE *f, const char *title, const char *report_id)
+void bgi_html_begin(FILE *f, const char *title, const char *report_id)
 {
     fputs("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n"
           "<meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'none'; "
           "style-src 'unsafe-inline'; img-src data:\"/>\n"
           "<meta name=\"generator\" content=\"bandgap\"/>\n<title>", f);
-    html_esc(f, title);
+    bgi_html_esc(f, title);
     fputs(" ", f);
-    html_esc(f, report_id);
+    bgi_html_esc(f, report_id);
     fputs("</title>\n<style>\n"
           "@page { margin: 14mm 15mm; }\n"
           "body { font: 10pt/1.35 'DejaVu Sans', Helvetica, Arial, sans-serif; color: #111;"
@@ -58,12 +59,12 @@ void html_begin(FILE *f, const char *title, const char *report_id)
           "</style>\n</head>\n<body>\n", f);
 }
 
-void html_end(FILE *f)
+void bgi_html_end(FILE *f)
 {
     fputs("</body>\n</html>\n", f);
 }
 
-void html_cautions(FILE *f)
+void bgi_html_cautions(FILE *f)
 {
     fputs("<div class=\"caution\" id=\"cautions\"><strong>Cautions.</strong> These results hold "
           "only inside the calibrated range and within the stated uncertainty; outside the "
@@ -74,7 +75,7 @@ void html_cautions(FILE *f)
 }
 
 /* A number to show, with its full value in data-v. */
-void html_num(FILE *f, const char *tag, const char *cls, const char *fmt, double v)
+void bgi_html_num(FILE *f, const char *tag, const char *cls, const char *fmt, double v)
 {
     fprintf(f, "<%s%s%s%s data-v=\"%.17g\">", tag, cls ? " class=\"" : "", cls ? cls : "",
             cls ? "\"" : "", v);
@@ -87,7 +88,7 @@ void html_num(FILE *f, const char *tag, const char *cls, const char *fmt, double
 
 /* Round up to two significant digits (common practice for expanded uncertainties, GUM
 ** 7.2.6 allows at most two). */
-double html_round_up2(double v)
+double bgi_html_round_up2(double v)
 {
     if (!(v > 0.0) || !isfinite(v))
         return v;
@@ -97,7 +98,7 @@ double html_round_up2(double v)
 }
 
 /* A value already rounded to two significant digits, printed with them ("3.0", "12"). */
-void html_sig2(FILE *f, const char *cls, double v)
+void bgi_html_sig2(FILE *f, const char *cls, double v)
 {
     int dec = isfinite(v) && v > 0.0 ? 1 - (int)floor(log10(v) + 1e-9) : 0;
     fprintf(f, "<span class=\"%s\" data-v=\"%.17g\">%.*f</span>", cls, v, dec < 0 ? 0 : dec, v);
@@ -125,24 +126,24 @@ static void nice(double lo, double hi, double *a, double *b, double *step, int i
 
 enum { W = 640, H = 300, ML = 62, MR = 14, MT = 12, MB = 40 };
 
-static double sx(const html_chart *c, double x)
+static double sx(const bgi_html_chart *c, double x)
 {
     return ML + (x - c->x0) / (c->x1 - c->x0) * (W - ML - MR);
 }
 
-static double sy(const html_chart *c, double y)
+static double sy(const bgi_html_chart *c, double y)
 {
     return H - MB - (y - c->y0) / (c->y1 - c->y0) * (H - MT - MB);
 }
 
-void html_chart_begin(FILE *f, html_chart *c, double xlo, double xhi, double ylo, double yhi)
+void bgi_html_chart_begin(FILE *f, bgi_html_chart *c, double xlo, double xhi, double ylo, double yhi)
 {
     double xs, ys;
     nice(xlo, xhi, &c->x0, &c->x1, &xs, c->xint);
     nice(ylo, yhi, &c->y0, &c->y1, &ys, 0);
     fprintf(f, "<figure>\n<svg xmlns=\"http://www.w3.org/2000/svg\" data-chart=\"%s\" "
                "viewBox=\"0 0 %d %d\" width=\"100%%\" role=\"img\" aria-label=\"", c->id, W, H);
-    html_esc(f, c->title);
+    bgi_html_esc(f, c->title);
     fprintf(f, "\">\n<rect x=\"%d\" y=\"%d\" width=\"%d\" height=\"%d\" fill=\"none\" "
                "stroke=\"#111\" stroke-width=\"0.8\"/>\n", ML, MT, W - ML - MR, H - MT - MB);
     for (double v = c->xint ? ceil(c->x0) : c->x0; v <= c->x1 + xs * 1e-9; v += xs) {
@@ -158,14 +159,14 @@ void html_chart_begin(FILE *f, html_chart *c, double xlo, double xhi, double ylo
                    "</text>\n", ML, Y, W - MR, Y, ML - 4, Y + 3, fabs(v) < ys * 1e-9 ? 0.0 : v);
     }
     fprintf(f, "<text x=\"%d\" y=\"%d\" text-anchor=\"middle\">", (W + ML - MR) / 2, H - 8);
-    html_esc(f, c->xlabel);
+    bgi_html_esc(f, c->xlabel);
     fprintf(f, "</text>\n<text transform=\"translate(14 %d) rotate(-90)\" "
                "text-anchor=\"middle\">", (H - MB + MT) / 2);
-    html_esc(f, c->ylabel);
+    bgi_html_esc(f, c->ylabel);
     fputs("</text>\n", f);
 }
 
-void html_chart_band(FILE *f, const html_chart *c, const double *x, const double *lo,
+void bgi_html_chart_band(FILE *f, const bgi_html_chart *c, const double *x, const double *lo,
                      const double *hi, size_t n)
 {
     fputs("<polygon class=\"band\" fill=\"#ddd\" stroke=\"#888\" stroke-width=\"0.5\" "
@@ -177,20 +178,20 @@ void html_chart_band(FILE *f, const html_chart *c, const double *x, const double
     fputs("\"/>\n", f);
 }
 
-void html_chart_hline(FILE *f, const html_chart *c, double y, const char *label, int dashed)
+void bgi_html_chart_hline(FILE *f, const bgi_html_chart *c, double y, const char *label, int dashed)
 {
     fprintf(f, "<line class=\"limit\" data-v=\"%.17g\" x1=\"%d\" y1=\"%.2f\" x2=\"%d\" "
                "y2=\"%.2f\" stroke=\"#111\" stroke-width=\"0.8\"%s/>", y, ML, sy(c, y), W - MR,
             sy(c, y), dashed ? " stroke-dasharray=\"5 3\"" : "");
     if (label) {
         fprintf(f, "<text x=\"%d\" y=\"%.2f\" text-anchor=\"end\">", W - MR - 3, sy(c, y) - 3);
-        html_esc(f, label);
+        bgi_html_esc(f, label);
         fputs("</text>", f);
     }
     fputs("\n", f);
 }
 
-void html_chart_line(FILE *f, const html_chart *c, const double *x, const double *y, size_t n)
+void bgi_html_chart_line(FILE *f, const bgi_html_chart *c, const double *x, const double *y, size_t n)
 {
     fprintf(f, "<polyline class=\"series\" data-n=\"%zu\" fill=\"none\" stroke=\"#111\" "
                "stroke-width=\"0.9\" points=\"", n);
@@ -200,7 +201,7 @@ void html_chart_line(FILE *f, const html_chart *c, const double *x, const double
 }
 
 /* Points: circles, or open squares where 'flag' is set (e.g. excluded or out of control). */
-void html_chart_points(FILE *f, const html_chart *c, const double *x, const double *y,
+void bgi_html_chart_points(FILE *f, const bgi_html_chart *c, const double *x, const double *y,
                        const int *flag, size_t n)
 {
     for (size_t i = 0; i < n; i++) {
@@ -216,7 +217,7 @@ void html_chart_points(FILE *f, const html_chart *c, const double *x, const doub
 }
 
 /* Histogram bars from 'edges' (n + 1) and 'count' (n). */
-void html_chart_bars(FILE *f, const html_chart *c, const double *edges, const size_t *count,
+void bgi_html_chart_bars(FILE *f, const bgi_html_chart *c, const double *edges, const size_t *count,
                      size_t n)
 {
     for (size_t i = 0; i < n; i++) {
@@ -228,13 +229,13 @@ void html_chart_bars(FILE *f, const html_chart *c, const double *edges, const si
     }
 }
 
-void html_chart_end(FILE *f, const html_chart *c, const char *caption)
+void bgi_html_chart_end(FILE *f, const bgi_html_chart *c, const char *caption)
 {
     fputs("</svg>\n<figcaption>", f);
-    html_esc(f, c->title);
+    bgi_html_esc(f, c->title);
     if (caption && *caption) {
         fputs(". ", f);
-        html_esc(f, caption);
+        bgi_html_esc(f, caption);
     }
     fputs("</figcaption>\n</figure>\n", f);
 }
