@@ -11,6 +11,7 @@
 #include "bandgap/error.h"
 #include "bandgap/units.h"
 #include "bandgap/model.h"
+#include "bandgap/linfit.h"
 #include "bandgap/fit.h"
 #include "bandgap/csv.h"
 #include "bandgap/store.h"

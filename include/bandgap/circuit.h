@@ -30,6 +30,14 @@ typedef struct bg_circuit {
     double ohms_per_code;    /* resistance input */
 } bg_circuit;
 
+/* A divider's sensor side, "low" or "high" ("" for the other kinds), and back: BG_EINVAL
+** "say low or high" for anything else. */
+BG_API const char *bg_circuit_side_name(bg_circuit_kind kind);
+BG_API int bg_circuit_side_parse(const char *s, bg_circuit_kind *kind, bg_error *err);
+/* Full scale: "pow2" (2^N codes) or "pow2-1" (2^N - 1), and back (BG_EINVAL otherwise). */
+BG_API const char *bg_circuit_full_scale_name(int full_scale_pow2);
+BG_API int bg_circuit_full_scale_parse(const char *s, int *full_scale_pow2, bg_error *err);
+
 /* Check the circuit's values (resistors > 0, bits 8..24, ...).  BG_EINVAL with the reason. */
 BG_API int bg_circuit_check(const bg_circuit *c, bg_error *err);
 

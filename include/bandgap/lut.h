@@ -106,6 +106,14 @@ BG_API int bg_lut_build_smallest(const bg_lut_spec *spec, bg_lut *out, size_t by
                                  bg_error *err);
 
 BG_API const char *bg_lut_strategy_name(bg_lut_strategy s);
+/* The strategy named 's' ("uniform", "minimal", "indexed"): BG_EINVAL "say ..." otherwise. */
+BG_API int bg_lut_strategy_parse(const char *s, bg_lut_strategy *out, bg_error *err);
+/* A value format's name ("0.1", "0.01", "0.001", "q12", "float") into 'buf'; returns 'buf'. */
+BG_API char *bg_lut_format_name(bg_lut_format format, unsigned qbits, char *buf, size_t size);
+/* The format named 's' (the names above, Q from q1 to q16; '*qbits' set for Q only):
+** BG_EINVAL "say ..." otherwise. */
+BG_API int bg_lut_format_parse(const char *s, bg_lut_format *format, unsigned *qbits,
+                               bg_error *err);
 
 /* Write the table as C99 source for 'symbol' (a C identifier prefix).  BG_EIO on a write
 ** error, BG_EINVAL for a bad symbol.  (lut_emit.c) */

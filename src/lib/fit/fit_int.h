@@ -6,6 +6,7 @@
 #include <stddef.h>
 
 #include "bandgap/fit.h"
+#include "bandgap/linfit.h"
 
 /* Solve min ||A c - b|| for the column-major n x p matrix 'A' (already row-weighted; column j
 ** is A[j n .. j n + n - 1]); 'A' and 'b'
