@@ -12,6 +12,7 @@
 #include "bandgap/units.h"
 #include "bandgap/model.h"
 #include "bandgap/fit.h"
+#include "bandgap/curve.h"
 #include "bandgap/csv.h"
 #include "bandgap/store.h"
 #include "bandgap/drift.h"
