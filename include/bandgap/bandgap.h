@@ -13,6 +13,7 @@
 #include "bandgap/model.h"
 #include "bandgap/linfit.h"
 #include "bandgap/fit.h"
+#include "bandgap/curve.h"
 #include "bandgap/csv.h"
 #include "bandgap/store.h"
 #include "bandgap/drift.h"

@@ -52,8 +52,6 @@ void json_nums(json_out *j, const char *key, const double *v, size_t n);
 /* Open the database of 'ctx' (create it with 'create'); reports errors itself and returns the
 ** code for main(), or BG_OK.  Says on stderr when an older schema was upgraded. */
 int cli_open_store(struct cli_ctx *ctx, int create, bg_store **st);
-/* The id of a probe's newest stored fit; BG_EINVAL with a hint when it has none. */
-int cli_newest_fit(bg_store *st, const char *serial, long long *fit_id, bg_error *err);
 /* Temperatures "0C,25C,50C" into 't_k' (at most 'max'); BG_EINVAL on bad text. */
 int cli_parse_temps(const char *s, double *t_k, size_t max, size_t *n, bg_error *err);
 /* Parse a positive integer id ("12"); BG_EINVAL otherwise. */
@@ -63,7 +61,10 @@ const char *cli_or_dash(const char *s);
 /* Show progress "what i/n" on stderr when it is a terminal (not TERM=dumb); i == n ends it. */
 void cli_progress(const char *what, size_t i, size_t n);
 
-/* A model given on the command line (eval, curve): --model, --coef, --r25/--r0, --beta, --t0. */
+/* ---- shared options (opts.c) ---- */
+
+/* A model given on the command line (eval, curve, lut): --model, --coef, --r25/--r0, --beta,
+** --t0. */
 struct cli_inline {
     const char *model;
     double coef[BG_MODEL_MAXPAR];
@@ -85,9 +86,51 @@ int cli_inline_option(struct cli_inline *in, int opt, const char *arg, const cha
 int cli_inline_given(const struct cli_inline *in);
 /* Build the model; a usage error (CLI_EUSAGE) when something is missing or does not fit. */
 int cli_inline_model(const struct cli_inline *in, const char *cmd, bg_model *m);
+/* The id of a probe's newest stored fit; BG_EINVAL with a hint when it has none. */
+int cli_newest_fit(bg_store *st, const char *serial, long long *fit_id, bg_error *err);
 
-/* JSON of stored records (rows.c): a reading object, a run's fields (inside an object the
-** caller opens), a fit object without its covariance. */
+/* A stored fit as a curve source: its model, covariance and calibrated range. */
+bg_curve_src cli_curve_src_of_fit(const bg_fit_row *f);
+
+/* The curve a command works on: --fit N, --probe SERIAL (its newest fit) or a model inline. */
+struct cli_source {
+    struct cli_inline in;
+    long long fit_id; /* --fit, or the newest fit of --probe once resolved; 0 = none */
+    const char *probe;
+};
+enum { CLI_SRC_FIT = 210, CLI_SRC_PROBE };
+#define CLI_SOURCE_OPTIONS                                                                     \
+    CLI_INLINE_OPTIONS, { "fit", required_argument, NULL, CLI_SRC_FIT },                       \
+    { "probe", required_argument, NULL, CLI_SRC_PROBE }
+void cli_source_init(struct cli_source *s);
+/* 1 when 'opt' is one of CLI_SOURCE_OPTIONS, with '*rc' BG_OK or the usage error's code. */
+int cli_source_option(struct cli_source *s, int opt, const char *arg, const char *cmd, int *rc);
+/* Exactly one of --fit, --probe or an inline model, or a usage error. */
+int cli_source_check(const struct cli_source *s, const char *cmd);
+/* The curve source: a stored fit (model, covariance, calibrated range; opens the database
+** of 'ctx' and reports errors as "CMD: ...") or the inline model (usage errors). */
+int cli_source_resolve(struct cli_source *s, struct cli_ctx *ctx, const char *cmd,
+                       bg_curve_src *out);
+
+/* The output choice --csv / --json (the global --json counts as --json). */
+enum cli_format { CLI_FMT_TEXT = 0, CLI_FMT_CSV, CLI_FMT_JSON };
+struct cli_output {
+    int csv, json;
+};
+enum { CLI_OUT_CSV = 220, CLI_OUT_JSON };
+#define CLI_OUTPUT_OPTIONS                                                                     \
+    { "csv", no_argument, NULL, CLI_OUT_CSV }, { "json", no_argument, NULL, CLI_OUT_JSON }
+/* 1 when 'opt' is one of CLI_OUTPUT_OPTIONS (taken). */
+int cli_output_option(struct cli_output *o, int opt);
+/* The format, or a usage error: both --csv and --json given; with 'required', neither (and
+** then --csv wins over the global --json). */
+int cli_output_choose(const struct cli_output *o, const struct cli_ctx *ctx, int required,
+                      const char *cmd, enum cli_format *fmt);
+
+/* ---- printers (print_store.c: stored records; print_curve.c: curves) ---- */
+
+/* JSON of stored records: a reading object, a run's fields (inside an object the caller
+** opens), a fit object without its covariance. */
 void cli_json_reading(json_out *j, const bg_reading_row *g);
 void cli_json_run_fields(json_out *j, const bg_run *r);
 void cli_json_fit_brief(json_out *j, const bg_fit_row *f);
@@ -95,6 +138,29 @@ void cli_json_fit_brief(json_out *j, const bg_fit_row *f);
 ** export: the covariance). */
 enum { CLI_FIT_PROBE = 1, CLI_FIT_COV = 2, CLI_FIT_VERSION = 4 };
 void cli_json_fit(json_out *j, const bg_fit_row *f, unsigned with);
+/* A lot as a JSON object under 'key' when 'j' is not NULL, else as one text line. */
+void cli_print_lot(json_out *j, const char *key, const bg_lot *l);
+/* Store callbacks printing one record (JSON into 'ctx', a json_out *, or text when NULL):
+** the lines of 'lot show', 'probe list', 'probe show', 'list', 'ref list' and 'show run'. */
+int cli_print_lot_probe(const bg_probe *p, void *ctx);
+int cli_print_probe(const bg_probe *p, void *ctx);
+int cli_print_probe_run(const bg_run *r, void *ctx);
+int cli_print_probe_fit(const bg_fit_row *f, void *ctx);
+int cli_print_run_line(const bg_run *r, void *ctx);
+int cli_print_fit_line(const bg_fit_row *f, void *ctx);
+int cli_print_ref(const bg_ref *r, void *ctx);
+int cli_print_reading(const bg_reading_row *g, void *ctx);
+/* A run's header for 'show run' (the readings follow through cli_print_reading). */
+void cli_print_run_head(const bg_run *r);
+/* A stored fit for 'show fit': the row, the ids of the readings it used and its uncertainty
+** profile over the calibrated range (bg_curve_span). */
+void cli_print_fit(const bg_fit_row *f, const long long *ids, size_t nids, const bg_curve *u,
+                   int json);
+/* The table of 'curve' (the stored fit's id, 0 for an inline model), and the values of
+** 'eval'. */
+void cli_print_curve(const bg_curve_src *src, long long fit_id, const bg_curve *c,
+                     enum cli_format fmt, bg_temp_unit unit);
+void cli_print_eval(const bg_curve_src *src, const bg_curve *c, bg_temp_unit unit, int json);
 
 /* ---- the fit report, shared by 'fit' and 'demo' ---- */
 struct fit_request {

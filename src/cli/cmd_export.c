@@ -155,24 +155,26 @@ int cmd_export(int argc, char **argv, struct cli_ctx *ctx)
 {
     static const struct option opts[] = {
         { "probe", required_argument, NULL, 'p' }, { "lot", required_argument, NULL, 'l' },
-        { "csv", no_argument, NULL, 'c' },         { "json", no_argument, NULL, 'j' },
+        CLI_OUTPUT_OPTIONS,
         { "output", required_argument, NULL, 'o' }, { "help", no_argument, NULL, 'h' },
         { NULL, 0, NULL, 0 },
     };
     bg_error err = BG_ERROR_INIT;
     struct ex xs;
+    struct cli_output out = { 0, 0 };
+    enum cli_format fmt;
     const char *serial = NULL, *lot = NULL, *path = NULL;
-    int c, rc, csv = 0, json = 0;
+    int c, rc;
 
     memset(&xs, 0, sizeof xs);
     opterr = 0;
     while ((c = getopt_long(argc, argv, ":ho:", opts, NULL)) != -1) {
+        if (cli_output_option(&out, c))
+            continue;
         switch (c) {
         case 'h': fputs(export_usage, stdout); return BG_OK;
         case 'p': serial = optarg; break;
         case 'l': lot = optarg; break;
-        case 'c': csv = 1; break;
-        case 'j': json = 1; break;
         case 'o': path = optarg; break;
         case ':': return cli_usage_error("export", "option '%s' needs a value", argv[optind - 1]);
         default: return cli_usage_error("export", "unknown option '%s'", argv[optind - 1]);
@@ -182,9 +184,8 @@ int cmd_export(int argc, char **argv, struct cli_ctx *ctx)
         return cli_usage_error("export", "unexpected argument '%s'", argv[optind]);
     if (!serial == !lot)
         return cli_usage_error("export", "give --probe SERIAL or --lot CODE");
-    json |= ctx->json && !csv;
-    if (csv == json)
-        return cli_usage_error("export", "give --csv or --json");
+    if ((rc = cli_output_choose(&out, ctx, 1, "export", &fmt)) != BG_OK)
+        return rc;
     if ((rc = cli_open_store(ctx, 0, &xs.st)) != BG_OK)
         return rc;
     if (serial) {
@@ -206,8 +207,8 @@ int cmd_export(int argc, char **argv, struct cli_ctx *ctx)
         rc = CLI_ECANTCREAT;
         goto done;
     }
-    xs.json = json;
-    if (json) {
+    xs.json = fmt == CLI_FMT_JSON;
+    if (xs.json) {
         json_begin(&xs.j, xs.out);
         json_obj(&xs.j, NULL);
         json_arr(&xs.j, "probes");
@@ -219,7 +220,7 @@ int cmd_export(int argc, char **argv, struct cli_ctx *ctx)
         rc = probe_cb(&p, &xs) ? BG_EDB : BG_OK;
     } else
         rc = bg_store_probe_each(xs.st, lot, probe_cb, &xs, &err);
-    if (json) {
+    if (xs.json) {
         json_arr_end(&xs.j);
         json_obj_end(&xs.j);
         json_end(&xs.j);

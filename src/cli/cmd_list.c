@@ -10,33 +10,6 @@ static const char list_usage[] =
     "Usage: bandgap list runs|fits [--probe SERIAL | --lot CODE] [--json]\n"
     "List calibration runs or stored fits, oldest first.\n";
 
-static int run_line(const bg_run *r, void *ctx)
-{
-    json_out *j = ctx;
-    if (j) {
-        json_obj(j, NULL);
-        cli_json_run_fields(j, r);
-        json_obj_end(j);
-    } else
-        printf("%6lld  %-20s %-20s %5lld readings %3lld excluded %3lld fits  ref %s\n", r->id,
-               r->serial, r->started_at, r->nreadings, r->nexcluded, r->nfits,
-               cli_or_dash(r->ref_ident));
-    return 0;
-}
-
-static int fit_line(const bg_fit_row *f, void *ctx)
-{
-    json_out *j = ctx;
-    char name[16];
-    bg_model_name(&f->model, name, sizeof name);
-    if (j)
-        cli_json_fit_brief(j, f);
-    else
-        printf("%6lld  run %-6lld %-20s %-7s n %-3zu RMS %9.4f mK  max %9.4f mK  %s\n", f->id,
-               f->run_id, f->serial, name, f->n, f->rms_mk, f->max_abs_mk, f->created_at);
-    return 0;
-}
-
 int cmd_list(int argc, char **argv, struct cli_ctx *ctx)
 {
     static const struct option opts[] = {
@@ -72,8 +45,8 @@ int cmd_list(int argc, char **argv, struct cli_ctx *ctx)
         json_begin(&j, stdout);
         json_arr(&j, NULL);
     }
-    rc = runs ? bg_store_run_each(st, serial, lot, run_line, ctx->json ? &j : NULL, &err)
-              : bg_store_fit_each(st, serial, lot, fit_line, ctx->json ? &j : NULL, &err);
+    rc = runs ? bg_store_run_each(st, serial, lot, cli_print_run_line, ctx->json ? &j : NULL, &err)
+              : bg_store_fit_each(st, serial, lot, cli_print_fit_line, ctx->json ? &j : NULL, &err);
     if (ctx->json) {
         json_arr_end(&j);
         json_end(&j);

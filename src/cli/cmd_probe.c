@@ -12,51 +12,6 @@ static const char probe_usage[] =
     "       bandgap probe show SERIAL [--json]\n"
     "A probe belongs to one lot.  Serials are stored and printed exactly as given.\n";
 
-static int probe_row_out(const bg_probe *p, void *ctx)
-{
-    json_out *j = ctx;
-    if (j) {
-        json_obj(j, NULL);
-        json_int(j, "id", p->id);
-        json_str(j, "serial", p->serial);
-        json_str(j, "lot", p->lot_code);
-        json_int(j, "runs", p->nruns);
-        json_int(j, "fits", p->nfits);
-        json_str(j, "note", p->note[0] ? p->note : NULL);
-        json_str(j, "created_at", p->created_at);
-        json_obj_end(j);
-    } else
-        printf("%-20s lot %-14s %lld runs, %lld fits\n", p->serial, p->lot_code, p->nruns,
-               p->nfits);
-    return 0;
-}
-
-static int run_out(const bg_run *r, void *ctx)
-{
-    json_out *j = ctx;
-    if (j) {
-        json_obj(j, NULL);
-        cli_json_run_fields(j, r);
-        json_obj_end(j);
-    } else
-        printf("  run %-6lld %s  %lld readings (%lld excluded), %lld fits\n", r->id,
-               r->started_at, r->nreadings, r->nexcluded, r->nfits);
-    return 0;
-}
-
-static int fit_out(const bg_fit_row *f, void *ctx)
-{
-    json_out *j = ctx;
-    char name[16];
-    bg_model_name(&f->model, name, sizeof name);
-    if (j)
-        cli_json_fit_brief(j, f);
-    else
-        printf("  fit %-6lld run %-6lld %-7s RMS %.4f mK, max %.4f mK, %s\n", f->id, f->run_id,
-               name, f->rms_mk, f->max_abs_mk, f->created_at);
-    return 0;
-}
-
 int cmd_probe(int argc, char **argv, struct cli_ctx *ctx)
 {
     static const struct option opts[] = {
@@ -122,11 +77,11 @@ int cmd_probe(int argc, char **argv, struct cli_ctx *ctx)
                 json_str(jp, "lot", p.lot_code);
                 json_str(jp, "note", p.note[0] ? p.note : NULL);
                 json_arr(jp, "runs");
-                rc = bg_store_run_each(st, serial, NULL, run_out, jp, &err);
+                rc = bg_store_run_each(st, serial, NULL, cli_print_probe_run, jp, &err);
                 json_arr_end(jp);
                 json_arr(jp, "fits");
                 if (rc == BG_OK)
-                    rc = bg_store_fit_each(st, serial, NULL, fit_out, jp, &err);
+                    rc = bg_store_fit_each(st, serial, NULL, cli_print_probe_fit, jp, &err);
                 json_arr_end(jp);
                 json_obj_end(jp);
                 json_end(jp);
@@ -135,14 +90,14 @@ int cmd_probe(int argc, char **argv, struct cli_ctx *ctx)
                        p.note);
                 if (p.nruns == 0)
                     printf("  no runs yet (bandgap import FILE --probe SERIAL)\n");
-                rc = bg_store_run_each(st, serial, NULL, run_out, NULL, &err);
+                rc = bg_store_run_each(st, serial, NULL, cli_print_probe_run, NULL, &err);
                 if (rc == BG_OK)
-                    rc = bg_store_fit_each(st, serial, NULL, fit_out, NULL, &err);
+                    rc = bg_store_fit_each(st, serial, NULL, cli_print_probe_fit, NULL, &err);
             }
         } else {
             if (jp)
                 json_arr(jp, NULL);
-            rc = bg_store_probe_each(st, lot, probe_row_out, jp, &err);
+            rc = bg_store_probe_each(st, lot, cli_print_probe, jp, &err);
             if (jp) {
                 json_arr_end(jp);
                 json_end(jp);

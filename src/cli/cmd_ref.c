@@ -18,43 +18,8 @@ static const char ref_usage[] =
     "                      readings file has a ref_ohms column); IEC 60751 Callendar-Van Dusen\n"
     "                      coefficients, R0 in ohm, A, B, C per degC^n\n";
 
-static int ref_out(const bg_ref *r, void *ctx)
-{
-    json_out *j = ctx;
-    static const char *kinds[] = { "none", "linear", "cvd" };
-    if (j) {
-        json_obj(j, NULL);
-        json_int(j, "id", r->id);
-        json_str(j, "ident", r->ident);
-        json_str(j, "certificate", r->certificate);
-        json_str(j, "due_date", r->due_date[0] ? r->due_date : NULL);
-        json_str(j, "correction", kinds[r->kind]);
-        if (r->kind == BG_REF_LINEAR) {
-            json_num(j, "y1_k", r->lin_c0_k);
-            json_num(j, "y2", r->lin_c1);
-            json_num(j, "t0_k", r->lin_t0_k);
-        } else if (r->kind == BG_REF_CVD) {
-            json_num(j, "r0_ohm", r->cvd_r0_ohm);
-            json_num(j, "a", r->cvd_a);
-            json_num(j, "b", r->cvd_b);
-            json_num(j, "c", r->cvd_c);
-        }
-        json_obj_end(j);
-    } else {
-        printf("%-16s certificate %s, due %s, correction %s", r->ident, r->certificate,
-               cli_or_dash(r->due_date), kinds[r->kind]);
-        if (r->kind == BG_REF_LINEAR)
-            printf(" (y1 %.6g K, y2 %.6g, t0 %.4g degC)", r->lin_c0_k, r->lin_c1,
-                   r->lin_t0_k - BG_ZERO_C_K);
-        else if (r->kind == BG_REF_CVD)
-            printf(" (R0 %.6g ohm, A %.6g, B %.6g, C %.6g)", r->cvd_r0_ohm, r->cvd_a, r->cvd_b,
-                   r->cvd_c);
-        printf("\n");
-    }
-    return 0;
-}
-
-int cmd_ref(int argc, char **argv, struct cli_ctx *ctx)
+/* Parse the options into 'ref'; -1 after --help. */
+static int ref_parse(int argc, char **argv, bg_ref *ref, struct cli_ctx *ctx)
 {
     enum { O_CERT = 1, O_DUE, O_LIN, O_CVD, O_NOTE, O_JSON };
     static const struct option opts[] = {
@@ -64,47 +29,44 @@ int cmd_ref(int argc, char **argv, struct cli_ctx *ctx)
         { "help", no_argument, NULL, 'h' },          { NULL, 0, NULL, 0 },
     };
     bg_error err = BG_ERROR_INIT;
-    bg_store *st = NULL;
-    bg_ref ref;
     double v[4];
     size_t n;
-    int c, rc;
+    int c;
 
-    memset(&ref, 0, sizeof ref);
     opterr = 0;
     while ((c = getopt_long(argc, argv, ":h", opts, NULL)) != -1) {
         switch (c) {
-        case 'h': fputs(ref_usage, stdout); return BG_OK;
+        case 'h': fputs(ref_usage, stdout); return -1;
         case O_CERT:
-            if (strlen(optarg) >= sizeof ref.certificate)
+            if (strlen(optarg) >= sizeof ref->certificate)
                 return cli_usage_error("ref", "--cert is too long");
-            snprintf(ref.certificate, sizeof ref.certificate, "%s", optarg);
+            snprintf(ref->certificate, sizeof ref->certificate, "%s", optarg);
             break;
         case O_DUE:
-            if (strlen(optarg) >= sizeof ref.due_date || !bg_csv_valid_time(optarg))
+            if (strlen(optarg) >= sizeof ref->due_date || !bg_csv_valid_time(optarg))
                 return cli_usage_error("ref", "--due: '%s': not an ISO 8601 date", optarg);
-            snprintf(ref.due_date, sizeof ref.due_date, "%s", optarg);
+            snprintf(ref->due_date, sizeof ref->due_date, "%s", optarg);
             break;
         case O_LIN:
-            if (ref.kind != BG_REF_NONE)
+            if (ref->kind != BG_REF_NONE)
                 return cli_usage_error("ref", "give either --linear or --cvd");
             if (cli_parse_list(optarg, v, 3, &n, &err) != BG_OK || n != 3)
                 return cli_usage_error("ref", "--linear: expected Y1,Y2,T0 (K, K/K, degC)");
-            ref.kind = BG_REF_LINEAR;
-            ref.lin_c0_k = v[0], ref.lin_c1 = v[1], ref.lin_t0_k = v[2] + BG_ZERO_C_K;
+            ref->kind = BG_REF_LINEAR;
+            ref->lin_c0_k = v[0], ref->lin_c1 = v[1], ref->lin_t0_k = v[2] + BG_ZERO_C_K;
             break;
         case O_CVD:
-            if (ref.kind != BG_REF_NONE)
+            if (ref->kind != BG_REF_NONE)
                 return cli_usage_error("ref", "give either --linear or --cvd");
             if (cli_parse_list(optarg, v, 4, &n, &err) != BG_OK || n != 4)
                 return cli_usage_error("ref", "--cvd: expected R0,A,B,C");
-            ref.kind = BG_REF_CVD;
-            ref.cvd_r0_ohm = v[0], ref.cvd_a = v[1], ref.cvd_b = v[2], ref.cvd_c = v[3];
+            ref->kind = BG_REF_CVD;
+            ref->cvd_r0_ohm = v[0], ref->cvd_a = v[1], ref->cvd_b = v[2], ref->cvd_c = v[3];
             break;
         case O_NOTE:
-            if (strlen(optarg) >= sizeof ref.note)
+            if (strlen(optarg) >= sizeof ref->note)
                 return cli_usage_error("ref", "--note is too long");
-            snprintf(ref.note, sizeof ref.note, "%s", optarg);
+            snprintf(ref->note, sizeof ref->note, "%s", optarg);
             break;
         case O_JSON: ctx->json = 1; break;
         case ':': return cli_usage_error("ref", "option '%s' needs a value", argv[optind - 1]);
@@ -113,46 +75,75 @@ int cmd_ref(int argc, char **argv, struct cli_ctx *ctx)
     }
     if (optind >= argc)
         return cli_usage_error("ref", "say add or list");
+    return BG_OK;
+}
+
+static int ref_add(bg_ref *ref, const char *ident, struct cli_ctx *ctx)
+{
+    bg_error err = BG_ERROR_INIT;
+    bg_store *st = NULL;
+    long long id;
+    int rc;
+
+    if (strlen(ident) >= sizeof ref->ident)
+        return cli_usage_error("ref", "identifier is too long");
+    snprintf(ref->ident, sizeof ref->ident, "%s", ident);
+    if (!ref->certificate[0])
+        return cli_usage_error("ref", "add needs --cert (the calibration certificate)");
+    if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
+        return rc;
+    rc = bg_store_ref_add(st, ref, &id, &err);
+    if (rc != BG_OK)
+        cli_fail("ref add", &err);
+    else if (ctx->json)
+        printf("{\"id\":%lld}\n", id);
+    else
+        printf("added reference %s (id %lld)\n", ref->ident, id);
+    bg_store_close(st);
+    return rc;
+}
+
+static int ref_list(struct cli_ctx *ctx)
+{
+    bg_error err = BG_ERROR_INIT;
+    bg_store *st = NULL;
+    json_out j;
+    int rc;
+
+    if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
+        return rc;
+    if (ctx->json) {
+        json_begin(&j, stdout);
+        json_arr(&j, NULL);
+    }
+    rc = bg_store_ref_each(st, cli_print_ref, ctx->json ? &j : NULL, &err);
+    if (ctx->json) {
+        json_arr_end(&j);
+        json_end(&j);
+    }
+    if (rc != BG_OK)
+        cli_fail("ref list", &err);
+    bg_store_close(st);
+    return rc;
+}
+
+int cmd_ref(int argc, char **argv, struct cli_ctx *ctx)
+{
+    bg_ref ref;
+    int rc;
+
+    memset(&ref, 0, sizeof ref);
+    if ((rc = ref_parse(argc, argv, &ref, ctx)) != BG_OK)
+        return rc < 0 ? BG_OK : rc;
     if (strcmp(argv[optind], "add") == 0) {
-        long long id;
         if (optind + 2 != argc)
             return cli_usage_error("ref", "add takes one identifier");
-        if (strlen(argv[optind + 1]) >= sizeof ref.ident)
-            return cli_usage_error("ref", "identifier is too long");
-        snprintf(ref.ident, sizeof ref.ident, "%s", argv[optind + 1]);
-        if (!ref.certificate[0])
-            return cli_usage_error("ref", "add needs --cert (the calibration certificate)");
-        if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
-            return rc;
-        rc = bg_store_ref_add(st, &ref, &id, &err);
-        if (rc != BG_OK)
-            cli_fail("ref add", &err);
-        else if (ctx->json)
-            printf("{\"id\":%lld}\n", id);
-        else
-            printf("added reference %s (id %lld)\n", ref.ident, id);
-        bg_store_close(st);
-        return rc;
+        return ref_add(&ref, argv[optind + 1], ctx);
     }
     if (strcmp(argv[optind], "list") == 0) {
-        json_out j;
         if (optind + 1 != argc)
             return cli_usage_error("ref", "list takes no arguments");
-        if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
-            return rc;
-        if (ctx->json) {
-            json_begin(&j, stdout);
-            json_arr(&j, NULL);
-        }
-        rc = bg_store_ref_each(st, ref_out, ctx->json ? &j : NULL, &err);
-        if (ctx->json) {
-            json_arr_end(&j);
-            json_end(&j);
-        }
-        if (rc != BG_OK)
-            cli_fail("ref list", &err);
-        bg_store_close(st);
-        return rc;
+        return ref_list(ctx);
     }
     return cli_usage_error("ref", "unknown action '%s' (add or list)", argv[optind]);
 }

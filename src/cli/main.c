@@ -116,7 +116,7 @@ int main(int argc, char **argv)
     }
     if (optind >= argc) {
         usage(stderr);
-        return EX_USAGE;
+        return exit_status(CLI_EUSAGE);
     }
     for (size_t i = 0; i < NCOMMANDS; i++) {
         if (strcmp(argv[optind], commands[i].name) == 0) {

@@ -80,23 +80,6 @@ int cli_parse_list(const char *s, double *v, size_t max, size_t *n, bg_error *er
     return BG_OK;
 }
 
-static int newest_fit_cb(const bg_fit_row *f, void *ctx)
-{
-    *(long long *)ctx = f->id;
-    return 0;
-}
-
-int cli_newest_fit(bg_store *st, const char *serial, long long *fit_id, bg_error *err)
-{
-    long long id = 0;
-    int rc = bg_store_fit_each(st, serial, NULL, newest_fit_cb, &id, err);
-    if (rc == BG_OK && !id)
-        rc = bg_error_set(err, BG_EINVAL, "probe '%s' has no stored fit (bandgap fit --probe "
-                          "%s)", serial, serial);
-    *fit_id = id;
-    return rc;
-}
-
 int cli_parse_temps(const char *s, double *t_k, size_t max, size_t *n, bg_error *err)
 {
     char buf[64];
@@ -265,16 +248,19 @@ const char *cli_or_dash(const char *s)
     return s && *s ? s : "-";
 }
 
+/* No state is kept between calls: the terminal test is made only when the bar moves (at
+** most 'width' + 2 times a pass), so a long pass costs no system call per item. */
 void cli_progress(const char *what, size_t i, size_t n)
 {
-    static int tty = -1;
-    if (tty < 0) {
-        const char *term = getenv("TERM");
-        tty = isatty(STDERR_FILENO) && !(term && strcmp(term, "dumb") == 0);
-    }
-    if (!tty)
+    const int width = 30;
+    int done = n ? (int)((double)width * (double)i / (double)n) : width;
+    int before = n && i > 0 ? (int)((double)width * (double)(i - 1) / (double)n) : -1;
+    const char *term;
+    if (i != 0 && i != n && done == before)
         return;
-    int width = 30, done = n ? (int)((double)width * (double)i / (double)n) : width;
+    term = getenv("TERM");
+    if (!isatty(STDERR_FILENO) || (term && strcmp(term, "dumb") == 0))
+        return;
     fprintf(stderr, "\r%s [%.*s%*s] %zu/%zu", what, done, "##############################",
             width - done, "", i, n);
     if (i == n)

@@ -1,0 +1,199 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* The options several commands share: the curve a command works on (--fit N, --probe SERIAL
+** or a model given inline: --model, --coef, --r25/--r0, --beta, --t0) and the output choice
+** (--csv or --json). */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+
+void cli_inline_init(struct cli_inline *in)
+{
+    in->model = NULL;
+    in->ncoef = 0;
+    in->have_coef = 0;
+    in->r25 = NAN, in->beta = NAN, in->t0_k = BG_T0_DEFAULT_K;
+}
+
+int cli_inline_given(const struct cli_inline *in)
+{
+    return in->model || in->have_coef || isfinite(in->r25) || isfinite(in->beta);
+}
+
+int cli_inline_option(struct cli_inline *in, int opt, const char *arg, const char *cmd)
+{
+    bg_error err = BG_ERROR_INIT;
+    char *end;
+    switch (opt) {
+    case CLI_IN_MODEL: in->model = arg; return BG_OK;
+    case CLI_IN_COEF:
+        if (cli_parse_list(arg, in->coef, BG_MODEL_MAXPAR, &in->ncoef, &err) != BG_OK)
+            return cli_usage_error(cmd, "--coef %s", err.msg);
+        in->have_coef = 1;
+        return BG_OK;
+    case CLI_IN_R25:
+        if (bg_units_parse_ohms(arg, &in->r25, &err) != BG_OK)
+            return cli_usage_error(cmd, "--r25: %s", err.msg);
+        return BG_OK;
+    case CLI_IN_BETA:
+        in->beta = strtod(arg, &end);
+        if (*end || !(in->beta > 0.0) || !isfinite(in->beta))
+            return cli_usage_error(cmd, "--beta: '%s': expected a B constant in K > 0", arg);
+        return BG_OK;
+    default:
+        if (bg_units_parse_temp(arg, BG_UNIT_NONE, &in->t0_k, &err) != BG_OK)
+            return cli_usage_error(cmd, "--t0: %s", err.msg);
+        return BG_OK;
+    }
+}
+
+int cli_inline_model(const struct cli_inline *in, const char *cmd, bg_model *m)
+{
+    bg_error err = BG_ERROR_INIT;
+    double coef[BG_MODEL_MAXPAR];
+    size_t n = in->ncoef;
+    const char *name = in->model;
+    int beta_given = isfinite(in->r25) || isfinite(in->beta);
+
+    if (!name)
+        name = (!in->have_coef && beta_given) ? "beta" : NULL;
+    if (!name)
+        return cli_usage_error(cmd, "--model is required");
+    if (bg_model_parse(name, m, &err) != BG_OK)
+        return cli_usage_error(cmd, "--model: %s", err.msg);
+    m->t0_k = in->t0_k;
+    for (size_t i = 0; i < n; i++)
+        coef[i] = in->coef[i];
+    if (m->kind == BG_MODEL_BETA && !in->have_coef) {
+        if (!isfinite(in->r25) || !isfinite(in->beta))
+            return cli_usage_error(cmd, "the beta model needs --r25 and --beta (or --coef "
+                                   "R0,beta)");
+        coef[0] = in->r25, coef[1] = in->beta, n = 2;
+    } else if (!in->have_coef)
+        return cli_usage_error(cmd, "model '%s' needs --coef", name);
+    else if (beta_given)
+        return cli_usage_error(cmd, "--r25 and --beta go with the beta model instead of --coef");
+    if (bg_model_set_coef(m, coef, n, &err) != BG_OK)
+        return cli_usage_error(cmd, "%s", err.msg);
+    return BG_OK;
+}
+
+static int newest_fit_cb(const bg_fit_row *f, void *ctx)
+{
+    *(long long *)ctx = f->id;
+    return 0;
+}
+
+int cli_newest_fit(bg_store *st, const char *serial, long long *fit_id, bg_error *err)
+{
+    long long id = 0;
+    int rc = bg_store_fit_each(st, serial, NULL, newest_fit_cb, &id, err);
+    if (rc == BG_OK && !id)
+        rc = bg_error_set(err, BG_EINVAL, "probe '%s' has no stored fit (bandgap fit --probe "
+                          "%s)", serial, serial);
+    *fit_id = id;
+    return rc;
+}
+
+void cli_source_init(struct cli_source *s)
+{
+    cli_inline_init(&s->in);
+    s->fit_id = 0;
+    s->probe = NULL;
+}
+
+int cli_source_option(struct cli_source *s, int opt, const char *arg, const char *cmd,
+                      int *rc)
+{
+    switch (opt) {
+    case CLI_IN_MODEL: case CLI_IN_COEF: case CLI_IN_R25: case CLI_IN_BETA: case CLI_IN_T0:
+        *rc = cli_inline_option(&s->in, opt, arg, cmd);
+        return 1;
+    case CLI_SRC_FIT:
+        *rc = BG_OK;
+        if (cli_parse_id(arg, &s->fit_id) != BG_OK)
+            *rc = cli_usage_error(cmd, "--fit: '%s': not a fit id", arg);
+        return 1;
+    case CLI_SRC_PROBE:
+        s->probe = arg;
+        *rc = BG_OK;
+        return 1;
+    default: return 0;
+    }
+}
+
+int cli_source_check(const struct cli_source *s, const char *cmd)
+{
+    if ((s->fit_id != 0) + (s->probe != NULL) + cli_inline_given(&s->in) != 1)
+        return cli_usage_error(cmd, "give one of --fit, --probe or a model (--model ...)");
+    return BG_OK;
+}
+
+bg_curve_src cli_curve_src_of_fit(const bg_fit_row *f)
+{
+    bg_curve_src s = bg_curve_src_of_model(&f->model);
+    s.has_cov = f->has_cov;
+    if (f->has_cov)
+        memcpy(s.cov, f->cov, f->npar * f->npar * sizeof f->cov[0]);
+    s.has_range = 1;
+    s.t_min_k = f->t_min_k, s.t_max_k = f->t_max_k;
+    return s;
+}
+
+/* The stored fit 's' names (by id, or the newest of its probe) as a curve source. */
+static int source_stored(struct cli_source *s, struct cli_ctx *ctx, const char *cmd,
+                         bg_curve_src *out)
+{
+    bg_error err = BG_ERROR_INIT;
+    bg_store *st = NULL;
+    bg_fit_row fr;
+    int rc = cli_open_store(ctx, 0, &st);
+    if (rc != BG_OK)
+        return rc;
+    if (s->probe)
+        rc = cli_newest_fit(st, s->probe, &s->fit_id, &err);
+    if (rc == BG_OK)
+        rc = bg_store_fit_get(st, s->fit_id, &fr, &err);
+    bg_store_close(st);
+    if (rc != BG_OK)
+        return cli_fail(cmd, &err);
+    *out = cli_curve_src_of_fit(&fr);
+    return BG_OK;
+}
+
+int cli_source_resolve(struct cli_source *s, struct cli_ctx *ctx, const char *cmd,
+                       bg_curve_src *out)
+{
+    bg_model m;
+    int rc;
+    if (s->fit_id || s->probe)
+        return source_stored(s, ctx, cmd, out);
+    if ((rc = cli_inline_model(&s->in, cmd, &m)) != BG_OK)
+        return rc;
+    *out = bg_curve_src_of_model(&m);
+    return BG_OK;
+}
+
+int cli_output_option(struct cli_output *o, int opt)
+{
+    if (opt == CLI_OUT_CSV)
+        o->csv = 1;
+    else if (opt == CLI_OUT_JSON)
+        o->json = 1;
+    else
+        return 0;
+    return 1;
+}
+
+int cli_output_choose(const struct cli_output *o, const struct cli_ctx *ctx, int required,
+                      const char *cmd, enum cli_format *fmt)
+{
+    int json = o->json || (ctx->json && !(required && o->csv));
+    if (required && o->csv == json)
+        return cli_usage_error(cmd, "give --csv or --json");
+    if (o->csv && json)
+        return cli_usage_error(cmd, "give --csv or --json, not both");
+    *fmt = o->csv ? CLI_FMT_CSV : json ? CLI_FMT_JSON : CLI_FMT_TEXT;
+    return BG_OK;
+}

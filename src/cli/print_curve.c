@@ -1,0 +1,146 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Printers of curves computed by the library (bg_curve): the table of 'curve' as text, CSV or
+** JSON, and the point values of 'eval'.  Units are converted here for display only. */
+#include <math.h>
+#include <stdio.h>
+
+#include "cli.h"
+
+static void curve_json(const bg_curve_src *src, long long fit_id, const bg_curve *c)
+{
+    char name[16];
+    json_out j;
+    json_begin(&j, stdout);
+    json_obj(&j, NULL);
+    json_str(&j, "model", bg_model_name(&src->model, name, sizeof name));
+    json_nums(&j, "coefficients", src->model.coef, bg_model_npar(&src->model));
+    if (fit_id)
+        json_int(&j, "fit_id", fit_id);
+    json_num(&j, "t_min_k", src->has_range ? src->t_min_k : NAN);
+    json_num(&j, "t_max_k", src->has_range ? src->t_max_k : NAN);
+    json_arr(&j, "rows");
+    for (size_t i = 0; i < c->n; i++) {
+        const bg_curve_row *r = &c->rows[i];
+        json_obj(&j, NULL);
+        json_num(&j, "t_k", r->t_k);
+        json_num(&j, "ohms", r->r_ohm);
+        json_num(&j, "dtdr_k_per_ohm", r->dtdr_k_per_ohm);
+        json_num(&j, "alpha_per_k", r->alpha_per_k);
+        json_num(&j, "U_k2_k", r->U_k);
+        json_bool(&j, "extrapolated", r->extrapolated);
+        json_obj_end(&j);
+    }
+    json_arr_end(&j);
+    json_obj_end(&j);
+    json_end(&j);
+}
+
+static void curve_csv(const bg_curve *c)
+{
+    printf("t_k,ohms,dtdr_k_per_ohm,alpha_per_k,U_k2_k,extrapolated\n");
+    for (size_t i = 0; i < c->n; i++) {
+        const bg_curve_row *r = &c->rows[i];
+        printf("%.17g,%.17g,%.17g,%.17g,", r->t_k, r->r_ohm, r->dtdr_k_per_ohm, r->alpha_per_k);
+        if (isfinite(r->U_k))
+            printf("%.17g", r->U_k);
+        printf(",%d\n", r->extrapolated);
+    }
+}
+
+static void curve_text(const bg_curve_src *src, long long fit_id, const bg_curve *c,
+                       bg_temp_unit unit)
+{
+    char name[16];
+    const char *us = unit == BG_UNIT_K ? "T/K" : unit == BG_UNIT_F ? "T/degF" : "T/degC";
+    bg_model_name(&src->model, name, sizeof name);
+    if (fit_id)
+        printf("model %s, stored fit %lld, calibrated %.3f .. %.3f degC\n", name, fit_id,
+               src->t_min_k - BG_ZERO_C_K, src->t_max_k - BG_ZERO_C_K);
+    else
+        printf("model %s, given inline (its calibrated range is not known)\n", name);
+    printf("%12s %14s %14s %10s %11s\n", us, "R/ohm", "dT/dR K/ohm", "alpha %/K",
+           src->has_cov ? "U(k=2)/mK" : "");
+    for (size_t i = 0; i < c->n; i++) {
+        const bg_curve_row *r = &c->rows[i];
+        char rb[32], ub[32] = "";
+        if (isfinite(r->U_k))
+            snprintf(ub, sizeof ub, "%.4f", 1e3 * r->U_k);
+        printf("%12.3f %14s %14.6g %10.4f %11s%s\n", bg_units_from_k(r->t_k, unit),
+               bg_units_format_ohms(r->r_ohm, 7, rb, sizeof rb), r->dtdr_k_per_ohm,
+               100.0 * r->alpha_per_k, ub, r->extrapolated ? "  EXTRAPOLATED" : "");
+    }
+}
+
+void cli_print_curve(const bg_curve_src *src, long long fit_id, const bg_curve *c,
+                     enum cli_format fmt, bg_temp_unit unit)
+{
+    if (fmt == CLI_FMT_JSON)
+        curve_json(src, fit_id, c);
+    else if (fmt == CLI_FMT_CSV)
+        curve_csv(c);
+    else
+        curve_text(src, fit_id, c, unit);
+}
+
+static void eval_json(const bg_curve_src *src, const bg_curve *c)
+{
+    const bg_model *m = &src->model;
+    size_t ncoef = bg_model_npar(m);
+    char name[16];
+    json_out j;
+    json_begin(&j, stdout);
+    json_obj(&j, NULL);
+    json_str(&j, "model", bg_model_name(m, name, sizeof name));
+    json_arr(&j, "coefficient_names");
+    for (size_t i = 0; i < ncoef; i++)
+        json_str(&j, NULL, bg_model_coef_name(m, i));
+    json_arr_end(&j);
+    json_nums(&j, "coefficients", m->coef, ncoef);
+    if (m->kind == BG_MODEL_BETA)
+        json_num(&j, "t0_k", m->t0_k);
+    json_arr(&j, "results");
+    for (size_t i = 0; i < c->n; i++) {
+        const bg_curve_row *r = &c->rows[i];
+        json_obj(&j, NULL);
+        json_str(&j, "given", r->given == BG_CURVE_AT_TEMP ? "temperature" : "resistance");
+        json_num(&j, "ohms", r->r_ohm);
+        json_num(&j, "t_k", r->t_k);
+        json_num(&j, "t_c", bg_units_from_k(r->t_k, BG_UNIT_C));
+        json_num(&j, "dtdr_k_per_ohm", r->dtdr_k_per_ohm);
+        json_num(&j, "alpha_per_k", r->alpha_per_k);
+        json_num(&j, "beta_local_k", r->beta_local_k);
+        json_obj_end(&j);
+    }
+    json_arr_end(&j);
+    json_obj(&j, "b_pair");
+    json_num(&j, "t1_k", src->b_pair_t1_k);
+    json_num(&j, "t2_k", src->b_pair_t2_k);
+    json_num(&j, "b_k", c->b_pair_k);
+    json_obj_end(&j);
+    json_obj_end(&j);
+    json_end(&j);
+}
+
+void cli_print_eval(const bg_curve_src *src, const bg_curve *c, bg_temp_unit unit, int json)
+{
+    char b1[64], b2[64];
+    if (json) {
+        eval_json(src, c);
+        return;
+    }
+    printf("%12s  %12s  %13s  %9s  %9s\n", "R/ohm", bg_units_symbol(unit, 1)[0] == 'K' ?
+           "T/K" : unit == BG_UNIT_F ? "T/degF" : "T/degC", "dT/dR K/ohm", "alpha %/K",
+           "beta/K");
+    for (size_t i = 0; i < c->n; i++) {
+        const bg_curve_row *r = &c->rows[i];
+        printf("%12s  %12.3f  %13.6g  %9.4f  %9.2f\n",
+               bg_units_format_ohms(r->r_ohm, 6, b1, sizeof b1),
+               bg_units_from_k(r->t_k, unit), r->dtdr_k_per_ohm, 100.0 * r->alpha_per_k,
+               r->beta_local_k);
+    }
+    if (isfinite(c->b_pair_k)) {
+        bg_units_format_temp(src->b_pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1);
+        bg_units_format_temp(src->b_pair_t2_k, BG_UNIT_C, 2, b2, sizeof b2);
+        printf("B(%s / %s) = %.2f K\n", b1, b2, c->b_pair_k);
+    }
+}

@@ -1,0 +1,359 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Printers of stored records (lots, probes, references, runs, readings, fits) as text lines
+** or JSON, shared by lot, probe, ref, list, show and export. */
+#include <math.h>
+#include <stdio.h>
+
+#include "cli.h"
+
+void cli_json_reading(json_out *j, const bg_reading_row *g)
+{
+    json_obj(j, NULL);
+    json_int(j, "id", g->id);
+    json_int(j, "line", (long long)g->line);
+    json_num(j, "t_raw", g->t_raw);
+    json_str(j, "t_raw_unit", g->t_raw_unit);
+    json_num(j, "t_k", g->t_k);
+    json_num(j, "ohms", g->r_ohm);
+    json_num(j, "u_temp_k", g->u_t_k);
+    json_num(j, "u_ohms", g->u_r_ohm);
+    json_str(j, "time", g->time[0] ? g->time : NULL);
+    json_str(j, "note", g->note[0] ? g->note : NULL);
+    if (g->excluded) {
+        json_obj(j, "excluded");
+        json_str(j, "reason", g->excl_reason);
+        json_str(j, "by", g->excl_by);
+        json_str(j, "at", g->excl_at);
+        json_obj_end(j);
+    } else
+        json_null(j, "excluded");
+    json_obj_end(j);
+}
+
+void cli_json_run_fields(json_out *j, const bg_run *r)
+{
+    json_int(j, "run", r->id);
+    json_str(j, "probe", r->serial);
+    json_str(j, "reference", r->ref_ident[0] ? r->ref_ident : NULL);
+    json_str(j, "operator", r->operator_name[0] ? r->operator_name : NULL);
+    json_str(j, "medium", r->medium[0] ? r->medium : NULL);
+    json_str(j, "ambient", r->ambient[0] ? r->ambient : NULL);
+    json_str(j, "excitation", r->excitation[0] ? r->excitation : NULL);
+    json_str(j, "started_at", r->started_at);
+    json_str(j, "source", r->source);
+    json_str(j, "note", r->note[0] ? r->note : NULL);
+    json_str(j, "imported_at", r->imported_at);
+    json_int(j, "readings", r->nreadings);
+    json_int(j, "excluded", r->nexcluded);
+    json_int(j, "fits", r->nfits);
+}
+
+void cli_json_fit(json_out *j, const bg_fit_row *f, unsigned with)
+{
+    char name[16];
+    json_obj(j, NULL);
+    json_int(j, "fit", f->id);
+    json_int(j, "run", f->run_id);
+    if (with & CLI_FIT_PROBE)
+        json_str(j, "probe", f->serial);
+    json_str(j, "model", bg_model_name(&f->model, name, sizeof name));
+    if (f->model.kind == BG_MODEL_BETA)
+        json_num(j, "t0_k", f->model.t0_k);
+    json_nums(j, "coefficients", f->model.coef, f->npar);
+    if ((with & CLI_FIT_COV) && f->has_cov) {
+        json_arr(j, "covariance");
+        for (size_t i = 0; i < f->npar; i++)
+            json_nums(j, NULL, &f->cov[i * f->npar], f->npar);
+        json_arr_end(j);
+    } else if (with & CLI_FIT_COV)
+        json_null(j, "covariance");
+    json_int(j, "n", (long long)f->n);
+    json_int(j, "dof", (long long)f->dof);
+    json_num(j, "chi2", f->chi2);
+    json_num(j, "rms_mk", f->rms_mk);
+    json_num(j, "max_abs_mk", f->max_abs_mk);
+    json_num(j, "t_min_k", f->t_min_k);
+    json_num(j, "t_max_k", f->t_max_k);
+    if (with & CLI_FIT_VERSION)
+        json_str(j, "program_version", f->program_version);
+    json_str(j, "created_at", f->created_at);
+    json_obj_end(j);
+}
+
+void cli_json_fit_brief(json_out *j, const bg_fit_row *f)
+{
+    cli_json_fit(j, f, CLI_FIT_PROBE | CLI_FIT_VERSION);
+}
+
+void cli_print_lot(json_out *j, const char *key, const bg_lot *l)
+{
+    char b1[64], b2[64], r[64];
+    if (j) {
+        json_obj(j, key);
+        json_int(j, "id", l->id);
+        json_str(j, "code", l->code);
+        json_str(j, "part", l->part);
+        json_num(j, "r25_ohm", l->r25_ohm);
+        json_num(j, "beta_k", l->beta_k);
+        json_num(j, "pair_t1_k", l->pair_t1_k);
+        json_num(j, "pair_t2_k", l->pair_t2_k);
+        json_num(j, "tol_r25", l->tol_r25);
+        json_num(j, "tol_beta", l->tol_beta);
+        json_str(j, "note", l->note[0] ? l->note : NULL);
+        json_str(j, "created_at", l->created_at);
+        json_int(j, "probes", l->nprobes);
+        json_obj_end(j);
+        return;
+    }
+    bg_units_format_temp(l->pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1);
+    bg_units_format_temp(l->pair_t2_k, BG_UNIT_C, 2, b2, sizeof b2);
+    printf("%-16s part %s, R25 %s ohm +-%.3g %%, B(%s / %s) %.2f K +-%.3g %%, %lld probes\n",
+           l->code, l->part, bg_units_format_ohms(l->r25_ohm, 6, r, sizeof r),
+           100.0 * l->tol_r25, b1, b2, l->beta_k, 100.0 * l->tol_beta, l->nprobes);
+}
+
+int cli_print_lot_probe(const bg_probe *p, void *ctx)
+{
+    json_out *j = ctx;
+    if (j) {
+        json_obj(j, NULL);
+        json_str(j, "serial", p->serial);
+        json_int(j, "runs", p->nruns);
+        json_int(j, "fits", p->nfits);
+        json_obj_end(j);
+    } else
+        printf("  probe %-20s %lld runs, %lld fits\n", p->serial, p->nruns, p->nfits);
+    return 0;
+}
+
+int cli_print_probe(const bg_probe *p, void *ctx)
+{
+    json_out *j = ctx;
+    if (j) {
+        json_obj(j, NULL);
+        json_int(j, "id", p->id);
+        json_str(j, "serial", p->serial);
+        json_str(j, "lot", p->lot_code);
+        json_int(j, "runs", p->nruns);
+        json_int(j, "fits", p->nfits);
+        json_str(j, "note", p->note[0] ? p->note : NULL);
+        json_str(j, "created_at", p->created_at);
+        json_obj_end(j);
+    } else
+        printf("%-20s lot %-14s %lld runs, %lld fits\n", p->serial, p->lot_code, p->nruns,
+               p->nfits);
+    return 0;
+}
+
+int cli_print_probe_run(const bg_run *r, void *ctx)
+{
+    json_out *j = ctx;
+    if (j) {
+        json_obj(j, NULL);
+        cli_json_run_fields(j, r);
+        json_obj_end(j);
+    } else
+        printf("  run %-6lld %s  %lld readings (%lld excluded), %lld fits\n", r->id,
+               r->started_at, r->nreadings, r->nexcluded, r->nfits);
+    return 0;
+}
+
+int cli_print_probe_fit(const bg_fit_row *f, void *ctx)
+{
+    json_out *j = ctx;
+    char name[16];
+    bg_model_name(&f->model, name, sizeof name);
+    if (j)
+        cli_json_fit_brief(j, f);
+    else
+        printf("  fit %-6lld run %-6lld %-7s RMS %.4f mK, max %.4f mK, %s\n", f->id, f->run_id,
+               name, f->rms_mk, f->max_abs_mk, f->created_at);
+    return 0;
+}
+
+int cli_print_run_line(const bg_run *r, void *ctx)
+{
+    json_out *j = ctx;
+    if (j) {
+        json_obj(j, NULL);
+        cli_json_run_fields(j, r);
+        json_obj_end(j);
+    } else
+        printf("%6lld  %-20s %-20s %5lld readings %3lld excluded %3lld fits  ref %s\n", r->id,
+               r->serial, r->started_at, r->nreadings, r->nexcluded, r->nfits,
+               cli_or_dash(r->ref_ident));
+    return 0;
+}
+
+int cli_print_fit_line(const bg_fit_row *f, void *ctx)
+{
+    json_out *j = ctx;
+    char name[16];
+    bg_model_name(&f->model, name, sizeof name);
+    if (j)
+        cli_json_fit_brief(j, f);
+    else
+        printf("%6lld  run %-6lld %-20s %-7s n %-3zu RMS %9.4f mK  max %9.4f mK  %s\n", f->id,
+               f->run_id, f->serial, name, f->n, f->rms_mk, f->max_abs_mk, f->created_at);
+    return 0;
+}
+
+int cli_print_ref(const bg_ref *r, void *ctx)
+{
+    json_out *j = ctx;
+    static const char *const kinds[] = { "none", "linear", "cvd" };
+    if (j) {
+        json_obj(j, NULL);
+        json_int(j, "id", r->id);
+        json_str(j, "ident", r->ident);
+        json_str(j, "certificate", r->certificate);
+        json_str(j, "due_date", r->due_date[0] ? r->due_date : NULL);
+        json_str(j, "correction", kinds[r->kind]);
+        if (r->kind == BG_REF_LINEAR) {
+            json_num(j, "y1_k", r->lin_c0_k);
+            json_num(j, "y2", r->lin_c1);
+            json_num(j, "t0_k", r->lin_t0_k);
+        } else if (r->kind == BG_REF_CVD) {
+            json_num(j, "r0_ohm", r->cvd_r0_ohm);
+            json_num(j, "a", r->cvd_a);
+            json_num(j, "b", r->cvd_b);
+            json_num(j, "c", r->cvd_c);
+        }
+        json_obj_end(j);
+        return 0;
+    }
+    printf("%-16s certificate %s, due %s, correction %s", r->ident, r->certificate,
+           cli_or_dash(r->due_date), kinds[r->kind]);
+    if (r->kind == BG_REF_LINEAR)
+        printf(" (y1 %.6g K, y2 %.6g, t0 %.4g degC)", r->lin_c0_k, r->lin_c1,
+               r->lin_t0_k - BG_ZERO_C_K);
+    else if (r->kind == BG_REF_CVD)
+        printf(" (R0 %.6g ohm, A %.6g, B %.6g, C %.6g)", r->cvd_r0_ohm, r->cvd_a, r->cvd_b,
+               r->cvd_c);
+    printf("\n");
+    return 0;
+}
+
+int cli_print_reading(const bg_reading_row *g, void *ctx)
+{
+    json_out *j = ctx;
+    if (j) {
+        cli_json_reading(j, g);
+    } else {
+        char rb[32];
+        printf("  %8lld %6zu %14.6f %-3s %12.4f %14s %9.4g %9.4g%s%s\n", g->id, g->line,
+               g->t_raw, g->t_raw_unit, g->t_k - BG_ZERO_C_K,
+               bg_units_format_ohms(g->r_ohm, 8, rb, sizeof rb), g->u_t_k, g->u_r_ohm,
+               g->excluded ? "  EXCLUDED: " : "", g->excluded ? g->excl_reason : "");
+    }
+    return 0;
+}
+
+void cli_print_run_head(const bg_run *r)
+{
+    printf("run %lld of probe %s, started %s, imported %s from %s\n", r->id, r->serial,
+           r->started_at, r->imported_at, r->source);
+    printf("  reference %s, operator %s, medium %s, ambient %s, excitation %s\n",
+           cli_or_dash(r->ref_ident), cli_or_dash(r->operator_name), cli_or_dash(r->medium),
+           cli_or_dash(r->ambient), cli_or_dash(r->excitation));
+    if (r->note[0])
+        printf("  note: %s\n", r->note);
+    printf("  %lld readings, %lld excluded, %lld fits\n", r->nreadings, r->nexcluded, r->nfits);
+    printf("  %8s %6s %18s %12s %14s %9s %9s\n", "reading", "line", "raw", "T/degC",
+           "R/ohm", "u(T)/K", "u(R)/ohm");
+}
+
+static void fit_json(const bg_fit_row *f, const long long *ids, size_t nids, const bg_curve *u)
+{
+    char name[16];
+    json_out j;
+    json_begin(&j, stdout);
+    json_obj(&j, NULL);
+    json_int(&j, "fit_id", f->id);
+    json_int(&j, "run_id", f->run_id);
+    json_str(&j, "probe", f->serial);
+    json_str(&j, "model", bg_model_name(&f->model, name, sizeof name));
+    json_arr(&j, "coefficient_names");
+    for (size_t i = 0; i < f->npar; i++)
+        json_str(&j, NULL, bg_model_coef_name(&f->model, i));
+    json_arr_end(&j);
+    json_nums(&j, "coefficients", f->model.coef, f->npar);
+    if (f->model.kind == BG_MODEL_BETA)
+        json_num(&j, "t0_k", f->model.t0_k);
+    if (f->has_cov) {
+        json_arr(&j, "covariance");
+        for (size_t i = 0; i < f->npar; i++)
+            json_nums(&j, NULL, &f->cov[i * f->npar], f->npar);
+        json_arr_end(&j);
+    } else
+        json_null(&j, "covariance");
+    json_int(&j, "n", (long long)f->n);
+    json_int(&j, "dof", (long long)f->dof);
+    json_bool(&j, "weighted", f->weighted);
+    json_num(&j, "chi2", f->chi2);
+    json_num(&j, "cov_scale", f->cov_scale);
+    json_num(&j, "rms_mk", f->rms_mk);
+    json_num(&j, "max_abs_mk", f->max_abs_mk);
+    json_obj(&j, "range");
+    json_num(&j, "t_min_k", f->t_min_k);
+    json_num(&j, "t_max_k", f->t_max_k);
+    json_obj_end(&j);
+    json_arr(&j, "uncertainty");
+    for (size_t i = 0; i < u->n; i++) {
+        json_obj(&j, NULL);
+        json_num(&j, "t_k", u->rows[i].t_k);
+        json_num(&j, "u_k", u->rows[i].u_k);
+        json_num(&j, "U_k2", u->rows[i].U_k);
+        json_obj_end(&j);
+    }
+    json_arr_end(&j);
+    json_arr(&j, "readings");
+    for (size_t i = 0; i < nids; i++)
+        json_int(&j, NULL, ids[i]);
+    json_arr_end(&j);
+    json_str(&j, "program_version", f->program_version);
+    json_str(&j, "created_at", f->created_at);
+    json_obj_end(&j);
+    json_end(&j);
+}
+
+static void fit_text(const bg_fit_row *f, const long long *ids, size_t nids, const bg_curve *u)
+{
+    char name[16];
+    printf("fit %lld of probe %s, run %lld, made %s by bandgap %s\n", f->id, f->serial,
+           f->run_id, f->created_at, f->program_version);
+    printf("model %s%s", bg_model_name(&f->model, name, sizeof name),
+           f->model.kind == BG_MODEL_BETA ? "" : "\n");
+    if (f->model.kind == BG_MODEL_BETA)
+        printf(", T0 = %.3f degC\n", f->model.t0_k - BG_ZERO_C_K);
+    for (size_t i = 0; i < f->npar; i++) {
+        double su = f->has_cov ? sqrt(f->cov[i * f->npar + i]) : NAN;
+        char ub[32] = "n/a";
+        if (isfinite(su))
+            snprintf(ub, sizeof ub, "%.2e", su);
+        printf("  %-5s = %18.10e   u = %s\n", bg_model_coef_name(&f->model, i),
+               f->model.coef[i], ub);
+    }
+    printf("%zu readings, %zu dof, chi2 %.4g, RMS %.4f mK, max |residual| %.4f mK\n", f->n,
+           f->dof, f->chi2, f->rms_mk, f->max_abs_mk);
+    printf("calibrated range %.3f .. %.3f degC\n", f->t_min_k - BG_ZERO_C_K,
+           f->t_max_k - BG_ZERO_C_K);
+    if (f->has_cov) {
+        printf("  %12s %12s\n", "T/degC", "U(k=2)/mK");
+        for (size_t i = 0; i < u->n; i++)
+            printf("  %12.3f %12.4f\n", u->rows[i].t_k - BG_ZERO_C_K, 1e3 * u->rows[i].U_k);
+    }
+    printf("readings used:");
+    for (size_t i = 0; i < nids; i++)
+        printf(" %lld", ids[i]);
+    printf("\n");
+}
+
+void cli_print_fit(const bg_fit_row *f, const long long *ids, size_t nids, const bg_curve *u,
+                   int json)
+{
+    if (json)
+        fit_json(f, ids, nids, u);
+    else
+        fit_text(f, ids, nids, u);
+}
