@@ -87,7 +87,7 @@ $(BUILD)/demo_data.c: $(DEMO_CSV) tests/embed.awk
 	    $(DEMO_CSV) > $@
 
 # The schema migrations, embedded in the library.
-$(BUILD)/migrations.c: $(MIGRATIONS) tests/embed.awk
+$(BUILD)/migrations.c: $(MIGRATIONS) tests/embed.awk Makefile
 	@mkdir -p $(@D)
 	awk -v type='struct bgi_sql_file' -v var=bgi_migrations -v hdr=store/store_int.h \
 	    -f tests/embed.awk $(MIGRATIONS) > $@
