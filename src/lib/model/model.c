@@ -94,8 +94,12 @@ char *bg_model_name(const bg_model *m, char *buf, size_t size)
     const bg_model_type *t = type_of(m);
     if (t->write_name)
         t->write_name(m, buf, size);
-    else
-        snprintf(buf, size, "%s", t->name);
+    else if (size > 0) { /* as snprintf would, without parsing a format once per fit */
+        size_t n = strlen(t->name);
+        n = n < size - 1 ? n : size - 1;
+        memcpy(buf, t->name, n);
+        buf[n] = '\0';
+    }
     return buf;
 }
 
