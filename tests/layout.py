@@ -2,7 +2,8 @@
 """The shape of the tree, checked (DESIGN.md "the one rule"; issue: one library, a thin program).
 
 1. src/cli includes neither GSL nor SQLite headers nor the library's internal ones; no cmd_X.c calls a function defined in
-   another cmd_Y.c; src/cli has no mutable static state (static variables that are not const).
+   another cmd_Y.c; src/cli has no mutable static state (static variables that are not const);
+   no file outside src/lib/model/ names a kind of model (BG_MODEL_SH3 ...).
 2. No function in src/ is over 100 lines or takes more than 8 parameters, unless the comment
    just above it says "Long on purpose:" and why (numerical kernels).
 3. libbandgap.so exports exactly the functions declared BG_API in include/bandgap/.
@@ -157,6 +158,17 @@ def main():
             var = re.findall(r'(\w+)\s*(?:\[[^]]*\])*\s*$', head.strip().rstrip(';'))
             bad.append((f'static {p} {var[0] if var else no}', f'{p}:{no}: {s}'))
     check('layout_cli_no_mutable_static_state', bad)
+
+    # 1d. only the model module knows the kinds of model (one file each, one row in its table)
+    bad = []
+    for p in [q for d in ('src', 'include', 'tests') for q in sources(d)]:
+        if p.startswith('src/lib/model/'):
+            continue
+        code = strip_comments(open(p, encoding='utf-8').read())
+        for no, line in enumerate(code.split('\n'), 1):
+            if re.search(r'\bBG_MODEL_(SH3|SH4|BETA|POLY)\b', line):
+                bad.append((f'modelkind {p}', f'{p}:{no}: {line.strip()} (ask bg_model_flags)'))
+    check('layout_model_kinds_in_model_module', bad)
 
     # 2. function size
     bad = []

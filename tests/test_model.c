@@ -1,6 +1,8 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* Model evaluation checked against published and derived values (../shared/refdata, copied
-** in REFERENCES comments): the encyclopedia Steinhart-Hart example and the beta tables. */
+** in REFERENCES comments): the encyclopedia Steinhart-Hart example and the beta tables; and
+** the table of model types: each kind once, both ways round, derivatives against central
+** finite differences. */
 #include "testutil.h"
 
 /* Wikipedia "Thermistor", Steinhart-Hart section (published): A, B, C for a ~3 kOhm part. */
@@ -200,6 +202,127 @@ static void model_errors(void **state)
     assert_int_equal(bg_model_parse_pair("25/25", &p1, &p2, &err), BG_EINVAL);
 }
 
+/* ---- The table of model types ---------------------------------------------------------- */
+
+/* Every name a model can have, and invented coefficients with many significant digits for it
+** (each gives an NTC curve, 1/T rising with L, over 300 ohm .. 300 kOhm, 235 .. 410 K). */
+static const struct kind_case {
+    const char *name;
+    size_t n;
+    double coef[BG_MODEL_MAXPAR];
+} KINDS[] = {
+    { "sh3", 3, { 1.12874031928e-3, 2.34105277631e-4, 8.77561839452e-8 } },
+    { "sh4", 4, { 1.09823647151e-3, 2.41382907165e-4, -9.26370418513e-7, 1.14590283767e-7 } },
+    { "beta", 2, { 10473.9186207, 3977.31416529 } },
+    { "poly:1", 2, { 1.13295062731e-3, 2.33748105269e-4 } },
+    { "poly:2", 3, { 1.13295062731e-3, 2.33748105269e-4, -6.42913870155e-7 } },
+    { "poly:3", 4, { 1.13295062731e-3, 2.33748105269e-4, -6.42913870155e-7, 1.27380461592e-7 } },
+    { "poly:4", 5, { 1.13295062731e-3, 2.33748105269e-4, -6.42913870155e-7, 1.27380461592e-7,
+                     -2.16047318854e-9 } },
+    { "poly:5", 6, { 1.13295062731e-3, 2.33748105269e-4, -6.42913870155e-7, 1.27380461592e-7,
+                     -2.16047318854e-9, 4.87152930646e-11 } },
+};
+#define NKINDS (sizeof KINDS / sizeof KINDS[0])
+
+static bg_model kind_model(const struct kind_case *k)
+{
+    bg_model m;
+    assert_int_equal(bg_model_parse(k->name, &m, NULL), BG_OK);
+    assert_int_equal(bg_model_set_coef(&m, k->coef, k->n, NULL), BG_OK);
+    return m;
+}
+
+static void model_table_each_kind_once(void **state)
+{
+    (void)state;
+    size_t nt = bg_model_type_count(), hits[16] = { 0 };
+    assert_true(nt >= 4 && nt <= 16);
+    assert_null(bg_model_type_at(nt));
+    for (size_t i = 0; i < nt; i++)
+        for (size_t j = i + 1; j < nt; j++) {
+            assert_true(bg_model_type_at(i) != bg_model_type_at(j));
+            assert_string_not_equal(bg_model_type_name(bg_model_type_at(i)),
+                                    bg_model_type_name(bg_model_type_at(j)));
+        }
+    /* every name parses to exactly one row, prints back as itself, and every row is reached */
+    for (size_t k = 0; k < NKINDS; k++) {
+        bg_model m = kind_model(&KINDS[k]);
+        char name[16];
+        size_t found = 0;
+        assert_string_equal(bg_model_name(&m, name, sizeof name), KINDS[k].name);
+        assert_int_equal(bg_model_npar(&m), KINDS[k].n);
+        for (size_t i = 0; i < nt; i++)
+            if (bg_model_type_at(i) == bg_model_type_of(&m))
+                found++, hits[i]++;
+        assert_int_equal(found, 1);
+        assert_true(strlen(bg_model_formula(&m)) > 4);
+    }
+    for (size_t i = 0; i < nt; i++)
+        assert_true(hits[i] > 0);
+    /* a zeroed model is sh3, as it was when the kind was an enumeration starting there */
+    bg_model z;
+    memset(&z, 0, sizeof z);
+    assert_string_equal(bg_model_type_name(bg_model_type_of(&z)), "sh3");
+}
+
+static void model_types_round_trip(void **state)
+{
+    (void)state;
+    for (size_t k = 0; k < NKINDS; k++) {
+        bg_model m = kind_model(&KINDS[k]);
+        /* R -> T -> R on 61 resistances, log-spaced; then T -> R -> T */
+        for (int i = 0; i <= 60; i++) {
+            double r = 300.0 * pow(1000.0, i / 60.0), t, r2, t2;
+            assert_int_equal(bg_model_t_from_r(&m, r, &t, NULL), BG_OK);
+            assert_true(t > 230.0 && t < 415.0);
+            assert_int_equal(bg_model_r_from_t(&m, t, &r2, NULL), BG_OK);
+            assert_close(r2, r, 1e-12, 0);
+            assert_int_equal(bg_model_t_from_r(&m, r2, &t2, NULL), BG_OK);
+            assert_close(t2, t, 1e-14, 0);
+        }
+    }
+}
+
+/* The derivatives against central finite differences of the evaluations (derived). */
+static void model_types_derivatives(void **state)
+{
+    (void)state;
+    for (size_t k = 0; k < NKINDS; k++) {
+        bg_model m = kind_model(&KINDS[k]);
+        size_t np = bg_model_npar(&m);
+        for (int i = 0; i <= 6; i++) {
+            double r = 500.0 * pow(400.0, i / 6.0), t, rp, rm, tp, tm, d, g[BG_MODEL_MAXPAR];
+            double h = 1e-5 * r, beta, alpha, lp, lm, ht = 1e-3;
+            assert_int_equal(bg_model_t_from_r(&m, r, &t, NULL), BG_OK);
+            /* dT/dR */
+            assert_int_equal(bg_model_dtdr(&m, r, &d, NULL), BG_OK);
+            assert_int_equal(bg_model_t_from_r(&m, r + h, &tp, NULL), BG_OK);
+            assert_int_equal(bg_model_t_from_r(&m, r - h, &tm, NULL), BG_OK);
+            assert_close(d, (tp - tm) / (2.0 * h), 1e-7, 0);
+            /* local beta = dL/d(1/T) and alpha = dL/dT, from R(T +- 1 mK) */
+            assert_int_equal(bg_model_r_from_t(&m, t + ht, &rp, NULL), BG_OK);
+            assert_int_equal(bg_model_r_from_t(&m, t - ht, &rm, NULL), BG_OK);
+            lp = log(rp), lm = log(rm);
+            assert_int_equal(bg_model_beta_local(&m, t, &beta, NULL), BG_OK);
+            assert_close(beta, (lp - lm) / (1.0 / (t + ht) - 1.0 / (t - ht)), 1e-7, 0);
+            assert_int_equal(bg_model_alpha(&m, t, &alpha, NULL), BG_OK);
+            assert_close(alpha, (lp - lm) / (2.0 * ht), 1e-7, 0);
+            /* gradient of 1/T in the coefficients, a relative step of 1e-6 each */
+            assert_int_equal(bg_model_grad_inv_t(&m, r, g, NULL), BG_OK);
+            for (size_t j = 0; j < np; j++) {
+                bg_model mp = m, mm = m;
+                double c = m.coef[j], hc = 1e-6 * fabs(c);
+                mp.coef[j] = c + hc, mm.coef[j] = c - hc;
+                assert_int_equal(bg_model_t_from_r(&mp, r, &tp, NULL), BG_OK);
+                assert_int_equal(bg_model_t_from_r(&mm, r, &tm, NULL), BG_OK);
+                /* rounding of 1/T (1e-16 relative) over the step bounds the difference */
+                assert_close(g[j], (1.0 / tp - 1.0 / tm) / (2.0 * hc), 1e-6,
+                             1e-8 / (t * fabs(c)));
+            }
+        }
+    }
+}
+
 static void platinum_reference_iec60751(void **state)
 {
     (void)state;
@@ -232,6 +355,8 @@ int main(void)
         cmocka_unit_test(sh4_kilohm_unit_trap),  cmocka_unit_test(beta_tables_both_ways),
         cmocka_unit_test(beta_point_values),     cmocka_unit_test(poly_newton_round_trip),
         cmocka_unit_test(model_errors),          cmocka_unit_test(platinum_reference_iec60751),
+        cmocka_unit_test(model_table_each_kind_once), cmocka_unit_test(model_types_round_trip),
+        cmocka_unit_test(model_types_derivatives),
     };
     return cmocka_run_group_tests_name("model", tests, NULL, NULL);
 }

@@ -1,7 +1,10 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* Resistance-temperature models of NTC thermistors, evaluated both ways.  L = ln(R / 1 ohm),
-** T in kelvin.  Every model is, or reduces to, 1/T = sum a_i L^i (i = 0..5), which is how
-** they are evaluated; the coefficients keep the published names and order. */
+** T in kelvin.  Each kind of model is one entry of a table of model types (sh3, sh4, beta,
+** poly:N; src/lib/model/, one file each); a bg_model points at its type, and the bg_model_*
+** functions below dispatch through it.  Every kind today is, or reduces to,
+** 1/T = sum a_i L^i (i = 0..5), which is how it is evaluated; the coefficients keep the
+** published names and order. */
 #ifndef BANDGAP_MODEL_H
 #define BANDGAP_MODEL_H
 
@@ -12,6 +15,12 @@
 #define BG_MODEL_MAXPAR 6
 #define BG_T0_DEFAULT_K 298.15 /* 25 degC, the usual reference of R25 and B25/xx */
 
+/* A kind of model: a constant entry of the library's table (opaque; walk the table with
+** bg_model_type_count and bg_model_type_at). */
+typedef struct bg_model_type bg_model_type;
+
+/* Deprecated: the kind as an enumeration, kept in step with 'type' by bg_model_parse until
+** the last readers outside the model module ask bg_model_flags instead; do not switch on it. */
 typedef enum bg_model_kind {
     BG_MODEL_SH3 = 0, /* 1/T = A + B L + C L^3                  coef: A, B, C      */
     BG_MODEL_SH4,     /* 1/T = A + B L + C L^2 + D L^3          coef: A, B, C, D   */
@@ -20,15 +29,51 @@ typedef enum bg_model_kind {
 } bg_model_kind;
 
 typedef struct bg_model {
-    bg_model_kind kind;
+    const bg_model_type *type;     /* set by bg_model_parse; NULL: 'kind' decides (deprecated) */
+    bg_model_kind kind;            /* deprecated, see above */
     unsigned degree;               /* poly:N: N; 0 for the others */
-    double coef[BG_MODEL_MAXPAR];  /* in the order above; R0 in ohm, beta in K */
-    double t0_k;                   /* beta: temperature at which R = R0 */
+    double coef[BG_MODEL_MAXPAR];  /* in the order of bg_model_coef_name; R0 in ohm, beta in K */
+    double t0_k;                   /* kinds with BG_MODEL_HAS_T0: temperature at which R = R0 */
     double pair_t1_k, pair_t2_k;   /* beta: the pair that names B (B25/85: 298.15, 358.15); 0 = none */
 } bg_model;
 
+/* What a kind has beyond its coefficients (bits of bg_model_flags). */
+#define BG_MODEL_HAS_T0 (1u << 0)    /* a reference temperature T0 in 't0_k', shown and stored
+                                     ** beside the coefficients (beta) */
+#define BG_MODEL_R0_BETA (1u << 1)   /* the coefficients are (R0 at T0 in ohm, B in K), so the
+                                     ** trade's R25 and B values set them (beta) */
+#define BG_MODEL_SLOPE_MONOTONIC (1u << 2) /* d(1/T)/dL is monotonic in L > 0 whatever the
+                                     ** coefficients, so the ends of a range decide whether the
+                                     ** curve is monotonic inside it (beta, sh3) */
+
+/* Number of kinds in the table, and kind 'i' (NULL when 'i' is out of range). */
+BG_API size_t bg_model_type_count(void);
+BG_API const bg_model_type *bg_model_type_at(size_t i);
+
+/* The kind's name as the table lists it: "sh3", "sh4", "beta", "poly" (poly:N takes N). */
+BG_API const char *bg_model_type_name(const bg_model_type *t);
+
+/* The kind of 'm' (never NULL). */
+BG_API const bg_model_type *bg_model_type_of(const bg_model *m);
+
+/* The kind's formula as text in L = ln(R / 1 ohm) and T in K ("1/T = A + B L + C L^3"). */
+BG_API const char *bg_model_formula(const bg_model *m);
+
+/* The BG_MODEL_HAS_T0 / _R0_BETA / _SLOPE_MONOTONIC bits that hold for the kind of 'm'. */
+BG_API unsigned bg_model_flags(const bg_model *m);
+
+/* The powers k of L in the kind's linear basis 1/T = sum c_j L^(pw[j]), into 'pw'; returns
+** their number, 0 when the kind has no linear basis.  A weighted linear fit of 1/T on that
+** basis gives c_j, which bg_model_from_basis turns into the model's coefficients. */
+BG_API size_t bg_model_basis(const bg_model *m, unsigned pw[BG_MODEL_MAXPAR]);
+
+/* From the basis coefficients 'c' and their covariance 'cov_c' (nb x nb, row-major, nb from
+** bg_model_basis) set the coefficients of 'm' (the others of coef[] are left alone) and their
+** covariance into 'cov' (npar x npar, row-major), propagated to first order. */
+BG_API void bg_model_from_basis(bg_model *m, const double *c, const double *cov_c, double *cov);
+
 /* Set '*m' to the model named 'name' ("sh3", "sh4", "beta", "poly:N") with zero coefficients,
-** T0 = 298.15 K and no B-pair.  BG_EINVAL for an unknown name. */
+** T0 = 298.15 K and no B-pair.  BG_EINVAL for an unknown name, listing the known ones. */
 BG_API int bg_model_parse(const char *name, bg_model *m, bg_error *err);
 
 /* Number of coefficients of 'm' (3, 4, 2 or N + 1). */

@@ -178,20 +178,6 @@ static void add_note(bg_fit *f, bg_note_kind kind, size_t line, const char *fmt,
     va_end(ap);
 }
 
-/* The powers k of L in the model's basis 1/T = sum c_j L^k_j. */
-static size_t model_basis(const bg_model *m, unsigned pw[MAXB])
-{
-    switch (m->kind) {
-    case BG_MODEL_SH3: pw[0] = 0, pw[1] = 1, pw[2] = 3; return 3;
-    case BG_MODEL_SH4: pw[0] = 0, pw[1] = 1, pw[2] = 2, pw[3] = 3; return 4;
-    case BG_MODEL_BETA: pw[0] = 0, pw[1] = 1; return 2;
-    default:
-        for (unsigned k = 0; k <= m->degree; k++)
-            pw[k] = k;
-        return m->degree + 1;
-    }
-}
-
 static void basis_row(double L, const unsigned *pw, size_t nb, double *g)
 {
     double pows[MAXB];
@@ -386,12 +372,15 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
 {
     char name[16], w1[300];
     unsigned pw[MAXB];
-    size_t nb = model_basis(&o->model, pw), npar = bg_model_npar(&o->model);
+    size_t nb = bg_model_basis(&o->model, pw), npar = bg_model_npar(&o->model);
     bg_linfit lf;
     int weighted = 0, any_ur = 0, rc;
     unsigned iters = 0;
 
     bg_model_name(&o->model, name, sizeof name);
+    if (nb == 0)
+        return bg_error_set(err, BG_EINVAL, "model '%s' has no linear basis: the fitter "
+                            "cannot start it", name);
     if (n < npar)
         return bg_error_set(err, BG_EINVAL, "model '%s' needs at least %zu points, got %zu",
                             name, npar, n);
@@ -496,27 +485,9 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
             out->pcov[pw[i] * MAXB + pw[j]] = lf.cov[i * nb + j] * out->cov_scale;
     for (size_t i = 0; i < MAXB * MAXB; i++)
         out->cov[i] = 0.0;
-    if (o->model.kind == BG_MODEL_BETA) {
-        double beta = 1.0 / a[1], lnr0 = (1.0 / o->model.t0_k - a[0]) * beta;
-        double r0 = exp(lnr0), jm[2][2];
-        out->model.coef[0] = r0, out->model.coef[1] = beta;
-        /* d(R0, beta)/d(a0, a1) */
-        jm[0][0] = -r0 * beta, jm[0][1] = -r0 * lnr0 * beta;
-        jm[1][0] = 0.0, jm[1][1] = -beta * beta;
-        for (size_t i = 0; i < 2; i++)
-            for (size_t j = 0; j < 2; j++) {
-                double s = 0.0;
-                for (size_t k = 0; k < 2; k++)
-                    for (size_t l = 0; l < 2; l++)
-                        s += jm[i][k] * lf.cov[k * 2 + l] * jm[j][l];
-                out->cov[i * npar + j] = s * out->cov_scale;
-            }
-    } else {
-        for (size_t j = 0; j < nb; j++)
-            out->model.coef[j] = lf.c[j];
-        for (size_t i = 0; i < nb * nb; i++)
-            out->cov[i] = lf.cov[i] * out->cov_scale;
-    }
+    bg_model_from_basis(&out->model, lf.c, lf.cov, out->cov);
+    for (size_t i = 0; i < npar * npar; i++)
+        out->cov[i] *= out->cov_scale;
     for (size_t j = npar; j < MAXB; j++)
         out->model.coef[j] = 0.0;
 
@@ -567,9 +538,9 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
         double lmin = INFINITY, lmax = -INFINITY;
         for (size_t i = 0; i < n; i++)
             lmin = fr->L[i] < lmin ? fr->L[i] : lmin, lmax = fr->L[i] > lmax ? fr->L[i] : lmax;
-        /* f' is constant (beta) or B + 3 C L^2, monotonic in L > 0 (sh3): the ends decide.
-        ** Higher polynomials are sampled on 65 points. */
-        int steps = (o->model.kind == BG_MODEL_BETA || o->model.kind == BG_MODEL_SH3) ? 1 : 64;
+        /* Where f' is monotonic in L > 0 (beta: constant; sh3: B + 3 C L^2) the ends decide;
+        ** other kinds are sampled on 65 points. */
+        int steps = (bg_model_flags(&o->model) & BG_MODEL_SLOPE_MONOTONIC) ? 1 : 64;
         for (int s = 0; s <= steps; s++) {
             double L = lmin + (lmax - lmin) * s / (double)steps, d = 0.0, pwr = 1.0;
             for (size_t k = 1; k < MAXB; k++, pwr *= L)

@@ -66,7 +66,7 @@ static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FI
     fprintf(f, "):");
     for (size_t i = 0; i < bg_model_npar(&s->model); i++)
         fprintf(f, " %s=%.17g", bg_model_coef_name(&s->model, i), s->model.coef[i]);
-    if (s->model.kind == BG_MODEL_BETA)
+    if (bg_model_flags(&s->model) & BG_MODEL_HAS_T0)
         fprintf(f, " T0=%.17g K", s->model.t0_k);
     char cd[256];
     fprintf(f, "\n * circuit: %s", bg_circuit_describe(c, cd, sizeof cd));
