@@ -108,6 +108,11 @@ BG_API int bg_fit_u_at_r(const bg_fit *fit, double r_ohm, double *u_k, bg_error 
 ** 0.9545 gives 4.53 for 2 dof, about 2 for many).  NaN when dof = 0. */
 BG_API double bg_fit_coverage_k(const bg_fit *fit, double coverage);
 
+/* The coverage probability of U = k u with 'dof' degrees of freedom, Student's t:
+** 2 F_t(k; dof) - 1 (0.8165 for k = 2 and 2 dof).  NaN when dof = 0 or k <= 0.
+** (coverage.c) */
+BG_API double bg_fit_coverage_prob(double k, size_t dof);
+
 /* ---- Model comparison ----------------------------------------------------------------------- */
 
 #define BG_CMP_MAX 6

@@ -145,4 +145,55 @@ BG_API int bg_lut_budget(const bg_lut_spec *spec, const bg_lut *t, const bg_budg
                          const double *at_k, size_t nat, bg_budget_row *rows,
                          bg_budget_row *worst, bg_error *err);
 
+/* ---- a table with its budget, as the program makes it: one call ---- */
+
+/* The unit of the table's values ("0.01 degC", "1/256 K (Q8)", "degC (float)") into 'buf';
+** returns 'buf'. */
+BG_API char *bg_lut_value_unit(const bg_lut_spec *spec, char *buf, size_t size);
+
+typedef struct bg_lut_request {
+    bg_lut_spec spec;         /* circuit, model, range, format, kelvin, stamp */
+    long step_codes;          /* uniform: a power of two (1 .. 4096); 0: use 'max_err_k' */
+    double max_err_k;         /* the bound for minimal/indexed or the automatic choice */
+    int strategy;             /* with 'max_err_k': a bg_lut_strategy, or -1: the smallest */
+    /* the stored fit the model came from (fit_id 0: an inline model, the rest unused) */
+    long long fit_id, fit_run_id;
+    const char *fit_serial;
+    const double *fit_cov;    /* its covariance (npar x npar) or NULL */
+    double fit_t_min_k, fit_t_max_k; /* its calibrated range */
+    int allow_extrapolation;  /* build a range outside the calibrated one */
+    bg_budget_opts budget;    /* tolerance, excitation, dissipation; 'cov' is 'fit_cov' */
+    const double *budget_at_k; /* the budget's temperatures; NULL: the ends and the middle */
+    size_t nbudget_at;
+    int error_curve;          /* also the error at every code (for the table report) */
+} bg_lut_request;
+
+typedef struct bg_lut_result {
+    bg_lut table;
+    bg_lut_spec spec;         /* the request's, with the strategy and step built; its
+                              ** 'source' and 'stamp' point into this result */
+    char source[200];         /* where the model came from; spec.source points here */
+    char stamp[64];           /* the request's stamp; spec.stamp points here */
+    long long fit_id;         /* 0: an inline model */
+    double cov[BG_MODEL_MAXPAR * BG_MODEL_MAXPAR];
+    size_t sizes[3];          /* the automatic choice: each strategy's bytes (0: impossible) */
+    int chosen;               /* 1: the strategy was chosen as the smallest */
+    bg_budget_opts budget_opts; /* the request's; 'cov' points into this result */
+    bg_budget_row *budget;    /* at each budget temperature (malloc'd) */
+    size_t nbudget;
+    bg_budget_row worst;      /* the largest of each term over the range */
+    double *curve_t_k, *curve_err_k; /* error_curve: model T and table - model, every code */
+    size_t ncurve;
+    double curve_lo_k, curve_hi_k;   /* the extremes of curve_err_k (and 0) */
+} bg_lut_result;
+
+#define BG_LUT_RESULT_INIT { 0 }
+BG_API void bg_lut_result_release(bg_lut_result *r);
+
+/* Build the table of 'rq' (the uniform step, the strategy asked for, or the smallest in
+** bytes), its error budget and, with 'error_curve', its error at every code.  BG_EINVAL when
+** a stored fit's calibrated range does not hold the table's (unless allow_extrapolation),
+** or for bg_lut_build's reasons.  Release with bg_lut_result_release().  (lut_make.c) */
+BG_API int bg_lut_make(const bg_lut_request *rq, bg_lut_result *out, bg_error *err);
+
 #endif

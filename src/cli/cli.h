@@ -182,8 +182,15 @@ int fit_stored_probe(const char *serial, long long run_id, const struct fit_requ
                      struct cli_ctx *ctx);
 int fit_stored_lot(const char *lot_code, const struct fit_request *rq, struct cli_ctx *ctx);
 
+/* ---- the printers of 'lut' (print_lut.c) ---- */
+/* The table as CSV or JSON (the JSON carries the budget). */
+void lut_print_csv(const bg_lut_result *r, FILE *f);
+void lut_print_json(const bg_lut_result *r, FILE *f);
+/* The table's size and error, the automatic choice, and the error budget; each line of the
+** summary starts with 'pre'. */
+void lut_print_summary(const bg_lut_result *r, const char *pre, FILE *b);
+
 /* ---- commands (one file each) ---- */
-/* The table report of 'lut --report' (cmd_lut.c). */
 
 /* The lot report's statistics, drift and control-chart sections (cmd_drift.c); '*flagged'
 ** is set when something is flagged. */

@@ -9,7 +9,6 @@
 #include <string.h>
 
 #include "cli.h"
-#include "../lib/report/html_int.h"
 
 static const char lut_usage[] =
     "Usage: bandgap lut (--fit N | --probe SERIAL | MODEL OPTIONS) CIRCUIT --range T1:T2\n"
@@ -56,562 +55,349 @@ static int parse_range(const char *s, double *lo, double *hi, bg_error *err)
     return *hi > *lo ? BG_OK : bg_error_set(err, BG_EINVAL, "'%s': T2 must be above T1", s);
 }
 
-static void value_unit(const bg_lut_spec *s, char *buf, size_t n)
+enum { O_FIT = 1, O_PROBE, O_FIXED, O_SIDE, O_PAR, O_SER, O_BITS, O_FS, O_CUR, O_VREF,
+       O_OHMSIN, O_OPC, O_RANGE, O_STEP, O_MAXERR, O_RES, O_KELVIN, O_FORMAT, O_SYMBOL,
+       O_OUT, O_EXTRA, O_JSON, O_BAT, O_FTOL, O_EXC, O_DISS, O_STRAT, O_REPORT, O_STAMP };
+
+static const struct option lut_opts[] = {
+    CLI_INLINE_OPTIONS,
+    { "fit", required_argument, NULL, O_FIT },       { "probe", required_argument, NULL, O_PROBE },
+    { "fixed", required_argument, NULL, O_FIXED },   { "sensor-side", required_argument, NULL, O_SIDE },
+    { "parallel", required_argument, NULL, O_PAR },  { "series", required_argument, NULL, O_SER },
+    { "adc-bits", required_argument, NULL, O_BITS }, { "full-scale", required_argument, NULL, O_FS },
+    { "current", required_argument, NULL, O_CUR },   { "vref", required_argument, NULL, O_VREF },
+    { "ohms-input", no_argument, NULL, O_OHMSIN },   { "ohms-per-code", required_argument, NULL, O_OPC },
+    { "range", required_argument, NULL, O_RANGE },   { "step", required_argument, NULL, O_STEP },
+    { "max-error", required_argument, NULL, O_MAXERR },
+    { "resolution", required_argument, NULL, O_RES }, { "kelvin", no_argument, NULL, O_KELVIN },
+    { "format", required_argument, NULL, O_FORMAT }, { "symbol", required_argument, NULL, O_SYMBOL },
+    { "output", required_argument, NULL, O_OUT },
+    { "allow-extrapolation", no_argument, NULL, O_EXTRA },
+    { "budget-at", required_argument, NULL, O_BAT },
+    { "fixed-tol", required_argument, NULL, O_FTOL },
+    { "excitation", required_argument, NULL, O_EXC },
+    { "dissipation", required_argument, NULL, O_DISS },
+    { "strategy", required_argument, NULL, O_STRAT },
+    { "report", required_argument, NULL, O_REPORT },
+    { "timestamp", no_argument, NULL, O_STAMP },
+    { "json", no_argument, NULL, O_JSON },           { "help", no_argument, NULL, 'h' },
+    { NULL, 0, NULL, 0 },
+};
+
+/* What the options say: the request for the library, and where the results go. */
+struct lut_args {
+    bg_lut_request rq;
+    struct cli_inline in;
+    const char *probe, *format, *symbol, *out_path, *report;
+    long step;
+    int have_range, side_set, current, ohms_in, help;
+    char stamp[BG_TIME];
+    double bat[16];
+    bg_fit_row fit;
+};
+
+/* An option of the circuit (--fixed ... --ohms-input). */
+static int circuit_option(struct lut_args *a, int c, const char *arg)
 {
-    const char *u = s->kelvin ? "K" : "degC";
-    if (s->format == BG_LUT_FLOAT)
-        snprintf(buf, n, "%s (float)", u);
-    else if (s->format == BG_LUT_Q)
-        snprintf(buf, n, "1/%lu %s (Q%u)", 1ul << s->qbits, u, s->qbits);
-    else
-        snprintf(buf, n, "%s %s", s->format == BG_LUT_DECI ? "0.1" : s->format == BG_LUT_CENTI ?
-                 "0.01" : "0.001", u);
+    bg_circuit *ci = &a->rq.spec.circuit;
+    bg_error err = BG_ERROR_INIT;
+    char *end;
+    double v;
+    switch (c) {
+    case O_FIXED: case O_PAR: case O_SER:
+        if (bg_units_parse_ohms(arg, &v, &err) != BG_OK)
+            return cli_usage_error("lut", "--%s: %s", c == O_FIXED ? "fixed" :
+                                   c == O_PAR ? "parallel" : "series", err.msg);
+        *(c == O_FIXED ? &ci->fixed_ohm : c == O_PAR ? &ci->parallel_ohm : &ci->series_ohm) = v;
+        break;
+    case O_SIDE:
+        if (strcmp(arg, "low") && strcmp(arg, "high"))
+            return cli_usage_error("lut", "--sensor-side: say low or high");
+        ci->kind = arg[0] == 'l' ? BG_CIRCUIT_DIVIDER_LOW : BG_CIRCUIT_DIVIDER_HIGH;
+        a->side_set = 1;
+        break;
+    case O_BITS:
+        ci->adc_bits = (unsigned)strtoul(arg, &end, 10);
+        if (*end || ci->adc_bits < 8 || ci->adc_bits > 24)
+            return cli_usage_error("lut", "--adc-bits: '%s': 8 .. 24", arg);
+        break;
+    case O_FS:
+        if (strcmp(arg, "pow2") && strcmp(arg, "pow2-1"))
+            return cli_usage_error("lut", "--full-scale: say pow2 or pow2-1");
+        ci->full_scale_pow2 = strcmp(arg, "pow2") == 0;
+        break;
+    case O_CUR: case O_VREF: case O_OPC:
+        v = strtod(arg, &end);
+        if (*end || !(v > 0.0) || !isfinite(v))
+            return cli_usage_error("lut", "'%s': expected a number > 0", arg);
+        *(c == O_CUR ? &ci->current_a : c == O_VREF ? &ci->vref_v : &ci->ohms_per_code) = v;
+        a->current |= c != O_OPC;
+        break;
+    default: a->ohms_in = 1; break; /* O_OHMSIN */
+    }
+    return BG_OK;
 }
 
-static void write_csv(const bg_lut *t, const bg_lut_spec *s, FILE *f)
+/* An option of the table's shape: --range, --step, --max-error, --resolution, --strategy. */
+static int shape_option(struct lut_args *a, int c, const char *arg)
 {
-    char vu[48];
-    int flt = t->format == BG_LUT_FLOAT, st;
-    value_unit(s, vu, sizeof vu);
-    if (t->strategy == BG_LUT_UNIFORM) {
-        fprintf(f, "# generated by bandgap %s; uniform: breakpoints every %lu codes from code "
-                   "%ld; values in %s; max error %.6f K, RMS %.6f K over codes %ld .. %ld%s%s\n",
-                bg_version(), 1ul << t->shift, t->code_lo, vu, t->max_err_k, t->rms_err_k,
-                t->code_lo, t->code_hi, s->stamp ? "; generated at " : "",
-                s->stamp ? s->stamp : "");
-        fprintf(f, "index,code,value\n");
-        for (size_t i = 0; i < t->n; i++) {
-            fprintf(f, "%zu,%ld,", i, t->code_lo + (long)(i << t->shift));
-            if (flt)
-                fprintf(f, "%.9g\n", (double)t->yf[i]);
-            else
-                fprintf(f, "%ld\n", (long)t->y[i]);
-        }
-        return;
+    bg_lut_spec *s = &a->rq.spec;
+    bg_error err = BG_ERROR_INIT;
+    char *end;
+    switch (c) {
+    case O_RANGE:
+        if (parse_range(arg, &s->t_lo_k, &s->t_hi_k, &err) != BG_OK)
+            return cli_usage_error("lut", "--range: %s", err.msg);
+        a->have_range = 1;
+        break;
+    case O_STEP:
+        a->step = strtol(arg, &end, 10);
+        if (*end || a->step < 1 || a->step > 4096 || (a->step & (a->step - 1)))
+            return cli_usage_error("lut", "--step: '%s': a power of two from 1 to 4096 "
+                                   "codes", arg);
+        break;
+    case O_MAXERR:
+        if (bg_units_parse_tdiff(arg, &a->rq.max_err_k, &err) != BG_OK)
+            return cli_usage_error("lut", "--max-error: %s", err.msg);
+        break;
+    case O_RES:
+        if (strcmp(arg, "0.1") == 0) s->format = BG_LUT_DECI;
+        else if (strcmp(arg, "0.01") == 0) s->format = BG_LUT_CENTI;
+        else if (strcmp(arg, "0.001") == 0) s->format = BG_LUT_MILLI;
+        else if (strcmp(arg, "float") == 0) s->format = BG_LUT_FLOAT;
+        else if (arg[0] == 'q' && (s->qbits = (unsigned)strtoul(arg + 1, &end, 10),
+                                   !*end && arg[1] && s->qbits >= 1 && s->qbits <= 16))
+            s->format = BG_LUT_Q;
+        else return cli_usage_error("lut", "--resolution: say 0.1, 0.01, 0.001, q1 .. q16 "
+                                    "or float");
+        break;
+    default: /* O_STRAT */
+        if (strcmp(arg, "uniform") == 0) a->rq.strategy = BG_LUT_UNIFORM;
+        else if (strcmp(arg, "minimal") == 0) a->rq.strategy = BG_LUT_MINIMAL;
+        else if (strcmp(arg, "indexed") == 0) a->rq.strategy = BG_LUT_INDEXED;
+        else return cli_usage_error("lut", "--strategy: say uniform, minimal or indexed");
+        break;
     }
-    fprintf(f, "# generated by bandgap %s; %s: %zu segments; value at code c of segment i = ",
-            bg_version(), bg_lut_strategy_name(t->strategy), t->n);
-    if (flt)
-        fprintf(f, "base + slope (c - first_code)");
-    else
-        fprintf(f, "%ld + ((base + slope (c - first_code)) >> %u)", (long)t->yoff, t->frac);
-    fprintf(f, " in %s", vu);
-    if (t->strategy == BG_LUT_INDEXED)
-        fprintf(f, "; index: the segment of code %ld + k 2^%u, then up to %u comparison%s",
-                t->code_lo, t->ishift, t->icmp, t->icmp > 1 ? "s" : "");
-    fprintf(f, "; max error %.6f K, RMS %.6f K over codes %ld .. %ld", t->max_err_k,
-            t->rms_err_k, t->code_lo, t->code_hi);
-    fprintf(f, "%s%s\n", s->stamp ? "; generated at " : "", s->stamp ? s->stamp : "");
-    fprintf(f, "segment,first_code,last_code,base,slope,value_at_first\n");
-    for (size_t i = 0; i < t->n; i++) {
-        fprintf(f, "%zu,%ld,%ld,", i, t->sx[i], t->sx[i + 1] - 1);
-        if (flt)
-            fprintf(f, "%.9g,%.9g,", (double)t->syf[i], (double)t->smf[i]);
+    return BG_OK;
+}
+
+/* The other options: the model's source, the output and the budget's terms. */
+static int other_option(struct lut_args *a, int c, const char *arg)
+{
+    bg_budget_opts *bo = &a->rq.budget;
+    bg_error err = BG_ERROR_INIT;
+    char *end;
+    double v;
+    switch (c) {
+    case O_FIT:
+        if (cli_parse_id(arg, &a->rq.fit_id) != BG_OK)
+            return cli_usage_error("lut", "--fit: '%s': not a fit id", arg);
+        break;
+    case O_PROBE: a->probe = arg; break;
+    case O_REPORT: a->report = arg; break;
+    case O_STAMP: a->rq.spec.stamp = bg_store_now(a->stamp, sizeof a->stamp); break;
+    case O_KELVIN: a->rq.spec.kelvin = 1; break;
+    case O_FORMAT:
+        if (strcmp(arg, "c") && strcmp(arg, "csv") && strcmp(arg, "json"))
+            return cli_usage_error("lut", "--format: say c, csv or json");
+        a->format = arg;
+        break;
+    case O_JSON: a->format = "json"; break;
+    case O_SYMBOL: a->symbol = arg; break;
+    case O_OUT: a->out_path = arg; break;
+    case O_EXTRA: a->rq.allow_extrapolation = 1; break;
+    case O_BAT:
+        if (cli_parse_temps(arg, a->bat, 16, &a->rq.nbudget_at, &err) != BG_OK)
+            return cli_usage_error("lut", "--budget-at: %s", err.msg);
+        a->rq.budget_at_k = a->bat;
+        break;
+    case O_FTOL:
+        if (bg_units_parse_fraction(arg, &bo->fixed_tol, &err) != BG_OK)
+            return cli_usage_error("lut", "--fixed-tol: %s", err.msg);
+        break;
+    default: /* O_EXC, O_DISS */
+        v = strtod(arg, &end);
+        if (c == O_DISS && strcmp(end, "mW/K") == 0)
+            end += 4;
+        if (*end || !(v > 0.0) || !isfinite(v))
+            return cli_usage_error("lut", "--%s: '%s': expected a number > 0",
+                                   c == O_EXC ? "excitation" : "dissipation", arg);
+        if (c == O_EXC)
+            bo->excitation_v = v;
         else
-            fprintf(f, "%ld,%ld,", (long)t->sy[i], (long)t->sm[i]);
-        fprintf(f, "%.9g\n", bg_lut_value(t, t->sx[i], &st));
+            bo->dissipation_w_per_k = v * 1e-3; /* given in mW/K */
+        break;
     }
+    return BG_OK;
 }
 
-static void write_json(const bg_lut *t, const bg_lut_spec *s, const bg_budget_row *brow,
-                       size_t nbat, const bg_budget_row *bworst, const size_t *sizes, FILE *f)
+/* Whether the options make one table from one model in one circuit; sets the circuit's kind. */
+static int check_args(struct lut_args *a)
 {
-    json_out j;
-    char vu[48];
-    int flt = t->format == BG_LUT_FLOAT;
-    value_unit(s, vu, sizeof vu);
-    json_begin(&j, f);
-    json_obj(&j, NULL);
-    json_str(&j, "generator", "bandgap");
-    json_str(&j, "version", bg_version());
-    if (s->stamp)
-        json_str(&j, "generated_at", s->stamp);
-    json_str(&j, "strategy", bg_lut_strategy_name(t->strategy));
-    if (sizes) {
-        json_obj(&j, "bytes_by_strategy");
-        for (int k = 0; k < 3; k++)
-            if (sizes[k])
-                json_int(&j, bg_lut_strategy_name((bg_lut_strategy)k), (long long)sizes[k]);
-        json_obj_end(&j);
-    }
-    json_int(&j, "entries", (long long)t->n);
-    json_int(&j, "bytes", (long long)t->bytes);
-    if (t->strategy != BG_LUT_UNIFORM && t->oncurve_min)
-        json_int(&j, "oncurve_min_entries", (long long)t->oncurve_min);
-    json_str(&j, "values", vu);
-    if (t->strategy == BG_LUT_UNIFORM)
-        json_int(&j, "step_codes", 1LL << t->shift);
-    json_int(&j, "code_lo", t->code_lo);
-    json_int(&j, "code_hi", t->code_hi);
-    if (!flt)
-        json_num(&j, "counts_per_degree", t->counts_per_k);
-    json_bool(&j, "kelvin", s->kelvin);
-    json_num(&j, "max_error_c", t->max_err_k);
-    json_num(&j, "rms_error_c", t->rms_err_k);
-    json_int(&j, "worst_code", t->worst_code);
-    if (t->strategy != BG_LUT_UNIFORM && !flt) {
-        json_int(&j, "frac_bits", t->frac);
-        json_int(&j, "value_offset", t->yoff);
-    }
-    json_arr(&j, "table");
-    for (size_t i = 0; i < t->n; i++) {
-        if (t->strategy == BG_LUT_UNIFORM) {
-            if (flt)
-                json_num(&j, NULL, (double)t->yf[i]);
-            else
-                json_int(&j, NULL, t->y[i]);
-            continue;
-        }
-        json_obj(&j, NULL);
-        json_int(&j, "first_code", t->sx[i]);
-        if (flt) {
-            json_num(&j, "base", (double)t->syf[i]);
-            json_num(&j, "slope", (double)t->smf[i]);
-        } else {
-            json_int(&j, "base", t->sy[i]);
-            json_int(&j, "slope", t->sm[i]);
-        }
-        json_obj_end(&j);
-    }
-    json_arr_end(&j);
-    if (t->strategy == BG_LUT_INDEXED) {
-        json_int(&j, "index_shift", t->ishift);
-        json_int(&j, "index_comparisons", t->icmp);
-        json_arr(&j, "index");
-        for (size_t i = 0; i < t->nidx; i++)
-            json_int(&j, NULL, t->idx[i]);
-        json_arr_end(&j);
-    }
-    json_arr(&j, "budget");
-    for (size_t i = 0; i <= nbat; i++) {
-        const bg_budget_row *b = i < nbat ? &brow[i] : bworst;
-        json_obj(&j, NULL);
-        if (i < nbat)
-            json_num(&j, "t_k", b->t_k);
-        else
-            json_str(&j, "at", "worst over the range");
-        json_num(&j, "table_k", b->table_k);
-        json_num(&j, "adc_k", b->adc_k);
-        json_num(&j, "fit_U_k2_k", b->fit_k);
-        json_num(&j, "fixed_resistor_k", b->resistor_k);
-        json_num(&j, "self_heating_k", b->selfheat_k);
-        json_num(&j, "rss_k", b->rss_k);
-        json_num(&j, "sum_k", b->sum_k);
-        json_obj_end(&j);
-    }
-    json_arr_end(&j);
-    json_obj_end(&j);
-    json_end(&j);
+    bg_circuit *ci = &a->rq.spec.circuit;
+    bg_error err = BG_ERROR_INIT;
+    if ((a->rq.fit_id != 0) + (a->probe != NULL) + cli_inline_given(&a->in) != 1)
+        return cli_usage_error("lut", "give one of --fit, --probe or a model (--model ...)");
+    if (!a->have_range)
+        return cli_usage_error("lut", "--range T1:T2 is required");
+    if ((a->step > 0) == isfinite(a->rq.max_err_k))
+        return cli_usage_error("lut", "give --step or --max-error");
+    if (a->current + a->ohms_in + (ci->fixed_ohm > 0.0 || a->side_set) != 1)
+        return cli_usage_error("lut", "give one circuit: --fixed (divider), --current and "
+                               "--vref, or --ohms-input");
+    if (a->current) {
+        if (!(ci->current_a > 0.0 && ci->vref_v > 0.0))
+            return cli_usage_error("lut", "a current source needs --current and --vref");
+        ci->kind = BG_CIRCUIT_CURRENT;
+    } else if (a->ohms_in)
+        ci->kind = BG_CIRCUIT_OHMS;
+    if (bg_circuit_check(ci, &err) != BG_OK)
+        return cli_usage_error("lut", "%s", err.msg);
+    return BG_OK;
 }
 
-/* The table report: error against temperature at every code, and the budget. */
-static int write_report(const char *path, const bg_lut *t, const bg_lut_spec *s,
-                        const bg_budget_row *brow, size_t nbat, const bg_budget_row *bworst,
-                        const bg_budget_opts *bo, long long fit_id)
+static int lut_parse_args(int argc, char **argv, struct lut_args *a)
 {
+    bg_lut_spec *s = &a->rq.spec;
+    int c, rc;
+    memset(a, 0, sizeof *a);
+    cli_inline_init(&a->in);
+    s->circuit.kind = BG_CIRCUIT_DIVIDER_LOW, s->circuit.adc_bits = 12;
+    s->circuit.full_scale_pow2 = 1, s->circuit.ohms_per_code = 1.0;
+    s->format = BG_LUT_CENTI;
+    a->rq.max_err_k = NAN, a->rq.strategy = -1, a->step = -1;
+    a->format = "c", a->symbol = "ntc";
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, ":ho:", lut_opts, NULL)) != -1) {
+        switch (c) {
+        case 'h': a->help = 1; return BG_OK;
+        case ':': return cli_usage_error("lut", "option '%s' needs a value", argv[optind - 1]);
+        case CLI_IN_MODEL: case CLI_IN_COEF: case CLI_IN_R25: case CLI_IN_BETA: case CLI_IN_T0:
+            rc = cli_inline_option(&a->in, c, optarg, "lut");
+            break;
+        case O_FIXED: case O_SIDE: case O_PAR: case O_SER: case O_BITS: case O_FS: case O_CUR:
+        case O_VREF: case O_OHMSIN: case O_OPC:
+            rc = circuit_option(a, c, optarg);
+            break;
+        case O_RANGE: case O_STEP: case O_MAXERR: case O_RES: case O_STRAT:
+            rc = shape_option(a, c, optarg);
+            break;
+        default:
+            if (c != 'o' && !(c >= O_FIT && c <= O_STAMP))
+                return cli_usage_error("lut", "unknown option '%s'", argv[optind - 1]);
+            rc = other_option(a, c == 'o' ? O_OUT : c, optarg);
+            break;
+        }
+        if (rc != BG_OK)
+            return rc;
+    }
+    if (optind < argc)
+        return cli_usage_error("lut", "unexpected argument '%s'", argv[optind]);
+    return check_args(a);
+}
+
+/* The model: a stored fit (--fit, or the probe's newest) or the inline one. */
+static int resolve_model(struct lut_args *a, struct cli_ctx *ctx)
+{
+    bg_lut_request *rq = &a->rq;
+    bg_error err = BG_ERROR_INIT;
+    int rc = BG_OK;
+    if (!rq->fit_id && !a->probe)
+        return cli_inline_model(&a->in, "lut", &rq->spec.model);
+    bg_store *st = NULL;
+    if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
+        return rc;
+    if (a->probe)
+        rc = cli_newest_fit(st, a->probe, &rq->fit_id, &err);
+    if (rc == BG_OK)
+        rc = bg_store_fit_get(st, rq->fit_id, &a->fit, &err);
+    bg_store_close(st);
+    if (rc != BG_OK)
+        return cli_fail("lut", &err);
+    rq->spec.model = a->fit.model;
+    rq->fit_run_id = a->fit.run_id, rq->fit_serial = a->fit.serial;
+    rq->fit_cov = a->fit.has_cov ? a->fit.cov : NULL;
+    rq->fit_t_min_k = a->fit.t_min_k, rq->fit_t_max_k = a->fit.t_max_k;
+    return BG_OK;
+}
+
+/* The table report (not stored): error at every code and the budget, as HTML. */
+static int write_report(const char *path, const bg_lut_result *r)
+{
+    bg_error err = BG_ERROR_INIT;
+    char now[BG_TIME], *html = NULL;
+    size_t len = 0;
+    bg_report_head h = { 0, bg_store_now(now, sizeof now), NULL, NULL, 0, NULL };
+    int rc = bg_report_render(bg_report_kind_find("table"), r, &h, &html, &len, &err);
+    if (rc != BG_OK)
+        return cli_fail("lut", &err);
     FILE *f = fopen(path, "w");
-    char name[16], vu[48], now[BG_TIME], rid[64];
-    size_t nc = (size_t)(t->code_hi - t->code_lo + 1);
     if (!f) {
         cli_error("lut: cannot create '%s': %s", path, strerror(errno));
+        free(html);
         return CLI_ECANTCREAT;
     }
-    double *x = malloc(nc * sizeof *x), *y = malloc(nc * sizeof *y);
-    if (!x || !y) {
-        free(x), free(y);
-        fclose(f);
-        return BG_ENOMEM;
-    }
-    bg_model_name(&s->model, name, sizeof name);
-    value_unit(s, vu, sizeof vu);
-    bg_store_now(now, sizeof now);
-    snprintf(rid, sizeof rid, "table %s %zu entries", bg_lut_strategy_name(t->strategy), t->n);
-    bgi_html_begin(f, "Firmware table report", rid);
-    fputs("<h1>Firmware table report</h1>\n<table class=\"kv\" id=\"table\">\n", f);
-    fprintf(f, "<tr><th>Generated</th><td>%s by bandgap %s</td></tr>\n", now, bg_version());
-    fprintf(f, "<tr><th>Model</th><td>%s", name);
-    for (size_t i = 0; i < bg_model_npar(&s->model); i++)
-        fprintf(f, " %s=%.10g", bg_model_coef_name(&s->model, i), s->model.coef[i]);
-    if (fit_id)
-        fprintf(f, " (stored fit %lld)", fit_id);
-    fputs("</td></tr>\n", f);
-    const bg_circuit *c = &s->circuit;
-    char cd[256];
-    fprintf(f, "<tr><th>Circuit</th><td>%s", bg_circuit_describe(c, cd, sizeof cd));
-    fprintf(f, "</td></tr>\n<tr><th>Range</th><td>%.3f to %.3f degC, codes %ld to %ld</td></tr>"
-               "\n", s->t_lo_k - BG_ZERO_C_K, s->t_hi_k - BG_ZERO_C_K, t->code_lo, t->code_hi);
-    fprintf(f, "<tr><th>Table</th><td>%s, %zu %s, %zu bytes, values in ",
-            bg_lut_strategy_name(t->strategy), t->n,
-            t->strategy == BG_LUT_UNIFORM ? "entries" : "segments", t->bytes);
-    bgi_html_esc(f, vu);
-    fputs("</td></tr>\n<tr><th>Table error</th><td>max ", f);
-    bgi_html_num(f, "span", "maxerr", "%.4f", t->max_err_k);
-    fputs(" K, RMS ", f);
-    bgi_html_num(f, "span", "rmserr", "%.4f", t->rms_err_k);
-    fputs(" K over every code (table and output rounding)</td></tr>\n</table>\n", f);
-    double lo = 0.0, hi = 0.0;
-    for (size_t i = 0; i < nc; i++) {
-        int st;
-        double tk = NAN;
-        bg_circuit_temp_of(c, &s->model, (double)(t->code_lo + (long)i), &tk, NULL, NULL);
-        x[i] = tk - BG_ZERO_C_K;
-        y[i] = bg_lut_value(t, t->code_lo + (long)i, &st) + t->offset_k - tk;
-        lo = fmin(lo, y[i]), hi = fmax(hi, y[i]);
-    }
-    bgi_html_chart ch = { "table_error", "Table error against temperature, every code",
-                      "temperature / degC", "table - model / K", 0, 0, 0, 0, 0 };
-    double xl = fmin(x[0], x[nc - 1]), xh = fmax(x[0], x[nc - 1]);
-    bgi_html_chart_begin(f, &ch, xl, xh, lo, hi);
-    bgi_html_chart_hline(f, &ch, t->max_err_k, "max", 1);
-    bgi_html_chart_hline(f, &ch, -t->max_err_k, NULL, 1);
-    bgi_html_chart_line(f, &ch, x, y, nc);
-    bgi_html_chart_end(f, &ch, "One vertex per ADC code; dashed: the measured maximum");
-    fputs("<h2>Error budget</h2>\n<table class=\"data\" id=\"budget\">\n<tr><th class=\"n\">"
-          "T / degC</th><th class=\"n\">table</th><th class=\"n\">ADC &#189; LSB</th>"
-          "<th class=\"n\">fit U (k = 2)</th><th class=\"n\">fixed resistor</th>"
-          "<th class=\"n\">self-heating</th><th class=\"n\">RSS</th><th class=\"n\">sum</th>"
-          "</tr>\n", f);
-    for (size_t i = 0; i <= nbat; i++) {
-        const bg_budget_row *r = i < nbat ? &brow[i] : bworst;
-        fputs("<tr class=\"budget\">", f);
-        if (i < nbat)
-            bgi_html_num(f, "td", "n t", "%.3f", r->t_k - BG_ZERO_C_K);
-        else
-            fputs("<td class=\"n\">worst over the range</td>", f);
-        bgi_html_num(f, "td", "n table", "%.4f", r->table_k);
-        bgi_html_num(f, "td", "n adc", "%.4f", r->adc_k);
-        bgi_html_num(f, "td", "n fit", "%.4f", r->fit_k);
-        bgi_html_num(f, "td", "n resistor", "%.4f", r->resistor_k);
-        bgi_html_num(f, "td", "n selfheat", "%.4f", r->selfheat_k);
-        bgi_html_num(f, "td", "n rss", "%.4f", r->rss_k);
-        bgi_html_num(f, "td", "n sum", "%.4f", r->sum_k);
-        fputs("</tr>\n", f);
-    }
-    fprintf(f, "</table>\n<p class=\"meta\">All terms in K. Fixed resistor tolerance %.3g %%, "
-               "excitation %.3g V, dissipation constant %.3g mW/K (0: not included); the fit "
-               "term needs a stored fit with its covariance.</p>\n", 100.0 * bo->fixed_tol,
-            bo->excitation_v, 1e3 * bo->dissipation_w_per_k);
-    bgi_html_cautions(f);
-    bgi_html_end(f);
-    free(x), free(y);
-    if (fclose(f) != 0) {
+    int bad = fwrite(html, 1, len, f) != len;
+    bad |= fclose(f) != 0;
+    free(html);
+    if (bad) {
         cli_error("lut: cannot write '%s'", path);
         return BG_EIO;
     }
     return BG_OK;
 }
 
-static void summary(const bg_lut *t, const size_t *sizes, const char *pre, FILE *b)
+/* The table in its format to -o FILE or standard output, then the summary and budget. */
+static int write_table(const struct lut_args *a, const bg_lut_result *r)
 {
-    if (t->strategy == BG_LUT_UNIFORM)
-        fprintf(b, "%s%zu entries every %lu codes (uniform, %zu bytes)", pre, t->n,
-                1ul << t->shift, t->bytes);
-    else
-        fprintf(b, "%s%zu segments (%s, %zu bytes)", pre, t->n,
-                bg_lut_strategy_name(t->strategy), t->bytes);
-    fprintf(b, ", max error %.4f K, RMS %.4f K (table and rounding)\n", t->max_err_k,
-            t->rms_err_k);
-    if (t->strategy != BG_LUT_UNIFORM && t->oncurve_min)
-        fprintf(b, "with values on the curve the fewest would be %zu breakpoints\n",
-                t->oncurve_min);
-    if (sizes) {
-        fprintf(b, "chosen as the smallest:");
-        for (int k = 0; k < 3; k++) {
-            if (sizes[k])
-                fprintf(b, " %s %zu bytes", bg_lut_strategy_name((bg_lut_strategy)k), sizes[k]);
-            else
-                fprintf(b, " %s not possible", bg_lut_strategy_name((bg_lut_strategy)k));
-            fprintf(b, "%s", k < 2 ? ";" : "\n");
-        }
+    bg_error err = BG_ERROR_INIT;
+    FILE *f = a->out_path ? fopen(a->out_path, "w") : stdout;
+    int rc = BG_OK;
+    if (!f) {
+        cli_error("lut: cannot create '%s': %s", a->out_path, strerror(errno));
+        return CLI_ECANTCREAT;
     }
+    if (strcmp(a->format, "c") == 0)
+        rc = bg_lut_emit_c(&r->table, &r->spec, a->symbol, bg_version(), f, &err);
+    else if (strcmp(a->format, "csv") == 0)
+        lut_print_csv(r, f);
+    else
+        lut_print_json(r, f);
+    if (a->out_path && fclose(f) != 0 && rc == BG_OK)
+        rc = bg_error_set(&err, BG_EIO, "cannot write '%s'", a->out_path);
+    if (rc != BG_OK)
+        return cli_fail("lut", &err);
+    /* the summary and budget: on standard output when the table went to a file */
+    if (strcmp(a->format, "json") != 0 || a->out_path)
+        lut_print_summary(r, a->out_path ? "" : "bandgap: lut: ",
+                          a->out_path ? stdout : stderr);
+    return BG_OK;
 }
 
 int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
 {
-    enum { O_FIT = 1, O_PROBE, O_FIXED, O_SIDE, O_PAR, O_SER, O_BITS, O_FS, O_CUR, O_VREF,
-           O_OHMSIN, O_OPC, O_RANGE, O_STEP, O_MAXERR, O_RES, O_KELVIN, O_FORMAT, O_SYMBOL,
-           O_OUT, O_EXTRA, O_JSON, O_BAT, O_FTOL, O_EXC, O_DISS, O_STRAT, O_REPORT, O_STAMP };
-    static const struct option opts[] = {
-        CLI_INLINE_OPTIONS,
-        { "fit", required_argument, NULL, O_FIT },       { "probe", required_argument, NULL, O_PROBE },
-        { "fixed", required_argument, NULL, O_FIXED },   { "sensor-side", required_argument, NULL, O_SIDE },
-        { "parallel", required_argument, NULL, O_PAR },  { "series", required_argument, NULL, O_SER },
-        { "adc-bits", required_argument, NULL, O_BITS }, { "full-scale", required_argument, NULL, O_FS },
-        { "current", required_argument, NULL, O_CUR },   { "vref", required_argument, NULL, O_VREF },
-        { "ohms-input", no_argument, NULL, O_OHMSIN },   { "ohms-per-code", required_argument, NULL, O_OPC },
-        { "range", required_argument, NULL, O_RANGE },   { "step", required_argument, NULL, O_STEP },
-        { "max-error", required_argument, NULL, O_MAXERR },
-        { "resolution", required_argument, NULL, O_RES }, { "kelvin", no_argument, NULL, O_KELVIN },
-        { "format", required_argument, NULL, O_FORMAT }, { "symbol", required_argument, NULL, O_SYMBOL },
-        { "output", required_argument, NULL, O_OUT },
-        { "allow-extrapolation", no_argument, NULL, O_EXTRA },
-        { "budget-at", required_argument, NULL, O_BAT },
-        { "fixed-tol", required_argument, NULL, O_FTOL },
-        { "excitation", required_argument, NULL, O_EXC },
-        { "dissipation", required_argument, NULL, O_DISS },
-        { "strategy", required_argument, NULL, O_STRAT },
-        { "report", required_argument, NULL, O_REPORT },
-        { "timestamp", no_argument, NULL, O_STAMP },
-        { "json", no_argument, NULL, O_JSON },           { "help", no_argument, NULL, 'h' },
-        { NULL, 0, NULL, 0 },
-    };
+    struct lut_args a;
+    bg_lut_result r = BG_LUT_RESULT_INIT;
     bg_error err = BG_ERROR_INIT;
-    struct cli_inline in;
-    bg_lut_spec s;
-    bg_lut t = BG_LUT_INIT;
-    const char *probe = NULL, *format = "c", *symbol = "ntc", *out_path = NULL, *report = NULL;
-    long long fit_id = 0;
-    double max_err = NAN, cal_lo = -INFINITY, cal_hi = INFINITY, v;
-    long step = -1;
-    int c, rc, have_range = 0, allow = 0, side_set = 0, current = 0, ohms_in = 0, strat = -1;
-    char *end;
-    bg_fit_row fr;
-    char source[200], stamp[BG_TIME];
-    int have_cov = 0;
-    bg_budget_opts bo = { NULL, 0.0, 0.0, 0.0 };
-    double bat[16];
-    size_t nbat = 0;
-
-    cli_inline_init(&in);
-    memset(&s, 0, sizeof s);
-    s.circuit.kind = BG_CIRCUIT_DIVIDER_LOW, s.circuit.adc_bits = 12;
-    s.circuit.full_scale_pow2 = 1, s.circuit.ohms_per_code = 1.0;
-    s.format = BG_LUT_CENTI;
-    opterr = 0;
-    while ((c = getopt_long(argc, argv, ":ho:", opts, NULL)) != -1) {
-        switch (c) {
-        case 'h': fputs(lut_usage, stdout); return BG_OK;
-        case CLI_IN_MODEL: case CLI_IN_COEF: case CLI_IN_R25: case CLI_IN_BETA: case CLI_IN_T0:
-            if ((rc = cli_inline_option(&in, c, optarg, "lut")) != BG_OK)
-                return rc;
-            break;
-        case O_FIT:
-            if (cli_parse_id(optarg, &fit_id) != BG_OK)
-                return cli_usage_error("lut", "--fit: '%s': not a fit id", optarg);
-            break;
-        case O_PROBE: probe = optarg; break;
-        case O_FIXED: case O_PAR: case O_SER:
-            if (bg_units_parse_ohms(optarg, &v, &err) != BG_OK)
-                return cli_usage_error("lut", "--%s: %s", c == O_FIXED ? "fixed" :
-                                       c == O_PAR ? "parallel" : "series", err.msg);
-            *(c == O_FIXED ? &s.circuit.fixed_ohm : c == O_PAR ? &s.circuit.parallel_ohm
-                                                               : &s.circuit.series_ohm) = v;
-            break;
-        case O_SIDE:
-            if (strcmp(optarg, "low") && strcmp(optarg, "high"))
-                return cli_usage_error("lut", "--sensor-side: say low or high");
-            s.circuit.kind = optarg[0] == 'l' ? BG_CIRCUIT_DIVIDER_LOW : BG_CIRCUIT_DIVIDER_HIGH;
-            side_set = 1;
-            break;
-        case O_BITS:
-            s.circuit.adc_bits = (unsigned)strtoul(optarg, &end, 10);
-            if (*end || s.circuit.adc_bits < 8 || s.circuit.adc_bits > 24)
-                return cli_usage_error("lut", "--adc-bits: '%s': 8 .. 24", optarg);
-            break;
-        case O_FS:
-            if (strcmp(optarg, "pow2") && strcmp(optarg, "pow2-1"))
-                return cli_usage_error("lut", "--full-scale: say pow2 or pow2-1");
-            s.circuit.full_scale_pow2 = strcmp(optarg, "pow2") == 0;
-            break;
-        case O_CUR: case O_VREF: case O_OPC:
-            v = strtod(optarg, &end);
-            if (*end || !(v > 0.0) || !isfinite(v))
-                return cli_usage_error("lut", "'%s': expected a number > 0", optarg);
-            *(c == O_CUR ? &s.circuit.current_a : c == O_VREF ? &s.circuit.vref_v
-                                                              : &s.circuit.ohms_per_code) = v;
-            current |= c != O_OPC;
-            break;
-        case O_OHMSIN: ohms_in = 1; break;
-        case O_RANGE:
-            if (parse_range(optarg, &s.t_lo_k, &s.t_hi_k, &err) != BG_OK)
-                return cli_usage_error("lut", "--range: %s", err.msg);
-            have_range = 1;
-            break;
-        case O_STEP:
-            step = strtol(optarg, &end, 10);
-            if (*end || step < 1 || step > 4096 || (step & (step - 1)))
-                return cli_usage_error("lut", "--step: '%s': a power of two from 1 to 4096 "
-                                       "codes", optarg);
-            break;
-        case O_MAXERR:
-            if (bg_units_parse_tdiff(optarg, &max_err, &err) != BG_OK)
-                return cli_usage_error("lut", "--max-error: %s", err.msg);
-            break;
-        case O_RES:
-            if (strcmp(optarg, "0.1") == 0) s.format = BG_LUT_DECI;
-            else if (strcmp(optarg, "0.01") == 0) s.format = BG_LUT_CENTI;
-            else if (strcmp(optarg, "0.001") == 0) s.format = BG_LUT_MILLI;
-            else if (strcmp(optarg, "float") == 0) s.format = BG_LUT_FLOAT;
-            else if (optarg[0] == 'q' && (s.qbits = (unsigned)strtoul(optarg + 1, &end, 10),
-                                          !*end && optarg[1] && s.qbits >= 1 && s.qbits <= 16))
-                s.format = BG_LUT_Q;
-            else return cli_usage_error("lut", "--resolution: say 0.1, 0.01, 0.001, q1 .. q16 "
-                                        "or float");
-            break;
-        case O_REPORT: report = optarg; break;
-        case O_STAMP: s.stamp = bg_store_now(stamp, sizeof stamp); break;
-        case O_STRAT:
-            if (strcmp(optarg, "uniform") == 0) strat = BG_LUT_UNIFORM;
-            else if (strcmp(optarg, "minimal") == 0) strat = BG_LUT_MINIMAL;
-            else if (strcmp(optarg, "indexed") == 0) strat = BG_LUT_INDEXED;
-            else return cli_usage_error("lut", "--strategy: say uniform, minimal or indexed");
-            break;
-        case O_KELVIN: s.kelvin = 1; break;
-        case O_FORMAT:
-            if (strcmp(optarg, "c") && strcmp(optarg, "csv") && strcmp(optarg, "json"))
-                return cli_usage_error("lut", "--format: say c, csv or json");
-            format = optarg;
-            break;
-        case O_JSON: format = "json"; break;
-        case O_SYMBOL: symbol = optarg; break;
-        case 'o': case O_OUT: out_path = optarg; break;
-        case O_EXTRA: allow = 1; break;
-        case O_BAT:
-            if (cli_parse_temps(optarg, bat, 16, &nbat, &err) != BG_OK)
-                return cli_usage_error("lut", "--budget-at: %s", err.msg);
-            break;
-        case O_FTOL:
-            if (bg_units_parse_fraction(optarg, &bo.fixed_tol, &err) != BG_OK)
-                return cli_usage_error("lut", "--fixed-tol: %s", err.msg);
-            break;
-        case O_EXC: case O_DISS:
-            v = strtod(optarg, &end);
-            if (c == O_DISS && strcmp(end, "mW/K") == 0)
-                end += 4;
-            if (*end || !(v > 0.0) || !isfinite(v))
-                return cli_usage_error("lut", "--%s: '%s': expected a number > 0",
-                                       c == O_EXC ? "excitation" : "dissipation", optarg);
-            if (c == O_EXC)
-                bo.excitation_v = v;
-            else
-                bo.dissipation_w_per_k = v * 1e-3; /* given in mW/K */
-            break;
-        case ':': return cli_usage_error("lut", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("lut", "unknown option '%s'", argv[optind - 1]);
-        }
-    }
-    if (optind < argc)
-        return cli_usage_error("lut", "unexpected argument '%s'", argv[optind]);
-    if ((fit_id != 0) + (probe != NULL) + cli_inline_given(&in) != 1)
-        return cli_usage_error("lut", "give one of --fit, --probe or a model (--model ...)");
-    if (!have_range)
-        return cli_usage_error("lut", "--range T1:T2 is required");
-    if ((step > 0) == isfinite(max_err))
-        return cli_usage_error("lut", "give --step or --max-error");
-    if (current + ohms_in + (s.circuit.fixed_ohm > 0.0 || side_set) != 1)
-        return cli_usage_error("lut", "give one circuit: --fixed (divider), --current and "
-                               "--vref, or --ohms-input");
-    if (current) {
-        if (!(s.circuit.current_a > 0.0 && s.circuit.vref_v > 0.0))
-            return cli_usage_error("lut", "a current source needs --current and --vref");
-        s.circuit.kind = BG_CIRCUIT_CURRENT;
-    } else if (ohms_in)
-        s.circuit.kind = BG_CIRCUIT_OHMS;
-    if (bg_circuit_check(&s.circuit, &err) != BG_OK)
-        return cli_usage_error("lut", "%s", err.msg);
-    if (fit_id || probe) {
-        bg_store *st = NULL;
-        if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
-            return rc;
-        if (probe)
-            rc = cli_newest_fit(st, probe, &fit_id, &err);
-        if (rc == BG_OK)
-            rc = bg_store_fit_get(st, fit_id, &fr, &err);
-        bg_store_close(st);
-        if (rc != BG_OK)
-            return cli_fail("lut", &err);
-        s.model = fr.model;
-        snprintf(source, sizeof source, "stored fit %lld of probe %.100s, run %lld", fit_id,
-                 fr.serial, fr.run_id);
-        s.source = source;
-        have_cov = fr.has_cov;
-        cal_lo = fr.t_min_k, cal_hi = fr.t_max_k;
-        if (!allow && (s.t_lo_k < cal_lo - 1e-9 || s.t_hi_k > cal_hi + 1e-9)) {
-            cli_error("lut: the range %.3f .. %.3f degC is outside fit %lld's calibrated range "
-                      "%.3f .. %.3f degC (--allow-extrapolation to build it anyway)",
-                      s.t_lo_k - BG_ZERO_C_K, s.t_hi_k - BG_ZERO_C_K, fit_id,
-                      cal_lo - BG_ZERO_C_K, cal_hi - BG_ZERO_C_K);
-            return BG_EINVAL;
-        }
-    } else if ((rc = cli_inline_model(&in, "lut", &s.model)) != BG_OK)
-        return rc;
-
-    size_t sizes[3] = { 0, 0, 0 };
-    int chosen = 0;
-    s.frac_bits = -1, s.oncurve_min = 1;
-    if (step > 0) {
-        if (strat > BG_LUT_UNIFORM)
-            return cli_usage_error("lut", "--step is for the uniform strategy; the others take "
-                                   "--max-error");
-        s.shift = 0;
-        while ((1L << s.shift) < step)
-            s.shift++;
-        rc = bg_lut_build(&s, &t, &err);
-    } else {
-        s.max_err_k = max_err;
-        if (strat >= 0) {
-            s.strategy = (bg_lut_strategy)strat;
-            rc = bg_lut_build(&s, &t, &err);
-        } else {
-            rc = bg_lut_build_smallest(&s, &t, sizes, &err);
-            chosen = rc == BG_OK;
-        }
-    }
+    int rc = lut_parse_args(argc, argv, &a);
     if (rc != BG_OK)
-        return cli_fail("lut", &err);
-    s.strategy = t.strategy, s.shift = t.shift;
-
-    /* the error budget: at --budget-at (default the ends and the middle of the range) */
-    bg_budget_row brow[16], bworst;
-    if (nbat == 0)
-        bat[0] = s.t_lo_k, bat[1] = 0.5 * (s.t_lo_k + s.t_hi_k), bat[2] = s.t_hi_k, nbat = 3;
-    bo.cov = have_cov ? fr.cov : NULL;
-    if ((rc = bg_lut_budget(&s, &t, &bo, bat, nbat, brow, &bworst, &err)) != BG_OK) {
-        bg_lut_release(&t);
-        return cli_fail("lut", &err);
-    }
-
-    if (report && (rc = write_report(report, &t, &s, brow, nbat, &bworst, &bo, fit_id)) != BG_OK) {
-        bg_lut_release(&t);
         return rc;
+    if (a.help) {
+        fputs(lut_usage, stdout);
+        return BG_OK;
     }
-    FILE *f = out_path ? fopen(out_path, "w") : stdout;
-    if (!f) {
-        cli_error("lut: cannot create '%s': %s", out_path, strerror(errno));
-        bg_lut_release(&t);
-        return CLI_ECANTCREAT;
-    }
-    rc = BG_OK;
-    if (strcmp(format, "c") == 0)
-        rc = bg_lut_emit_c(&t, &s, symbol, bg_version(), f, &err);
-    else if (strcmp(format, "csv") == 0)
-        write_csv(&t, &s, f);
-    else
-        write_json(&t, &s, brow, nbat, &bworst, chosen ? sizes : NULL, f);
-    if (out_path && fclose(f) != 0 && rc == BG_OK)
-        rc = bg_error_set(&err, BG_EIO, "cannot write '%s'", out_path);
-    if (rc != BG_OK)
-        cli_fail("lut", &err);
-    else if (strcmp(format, "json") != 0 || out_path) {
-        /* the summary and budget: on standard output when the table went to a file */
-        FILE *b = out_path ? stdout : stderr;
-        summary(&t, chosen ? sizes : NULL, out_path ? "" : "bandgap: lut: ", b);
-        fprintf(b, "error budget (K): %10s %8s %8s %10s %10s %10s %8s %8s\n", "T/degC", "table",
-                "ADC", "fit U", "resistor", "self-heat", "RSS", "sum");
-        for (size_t i = 0; i <= nbat; i++) {
-            const bg_budget_row *r = i < nbat ? &brow[i] : &bworst;
-            char at[32];
-            if (i < nbat)
-                snprintf(at, sizeof at, "%10.3f", r->t_k - BG_ZERO_C_K);
-            else
-                snprintf(at, sizeof at, "%10s", "worst");
-            fprintf(b, "                  %s %8.4f %8.4f %10.4f %10.4f %10.4f %8.4f %8.4f\n", at,
-                    r->table_k, r->adc_k, r->fit_k, r->resistor_k, r->selfheat_k, r->rss_k,
-                    r->sum_k);
-        }
-        fprintf(b, "(the fit term needs a stored fit; resistor and self-heating need --fixed-tol,"
-                " --excitation and --dissipation)\n");
-    }
-    bg_lut_release(&t);
+    if ((rc = resolve_model(&a, ctx)) != BG_OK)
+        return rc;
+    if (a.step > 0 && a.rq.strategy > BG_LUT_UNIFORM)
+        return cli_usage_error("lut", "--step is for the uniform strategy; the others take "
+                               "--max-error");
+    a.rq.step_codes = a.step > 0 ? a.step : 0;
+    a.rq.error_curve = a.report != NULL;
+    if (bg_lut_make(&a.rq, &r, &err) != BG_OK)
+        return cli_fail("lut", &err);
+    rc = a.report ? write_report(a.report, &r) : BG_OK;
+    if (rc == BG_OK)
+        rc = write_table(&a, &r);
+    bg_lut_result_release(&r);
     return rc;
 }

@@ -1,0 +1,143 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* A table as the program asks for it, in one call: the strategy (a uniform step, the one
+** named, or the smallest in bytes), the error budget at chosen temperatures and as the worst
+** case, and for the table report the error of the table at every code of its range. */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "bandgap/units.h"
+#include "lut_int.h"
+
+char *bg_lut_value_unit(const bg_lut_spec *s, char *buf, size_t n)
+{
+    const char *u = s->kelvin ? "K" : "degC";
+    if (s->format == BG_LUT_FLOAT)
+        snprintf(buf, n, "%s (float)", u);
+    else if (s->format == BG_LUT_Q)
+        snprintf(buf, n, "1/%lu %s (Q%u)", 1ul << s->qbits, u, s->qbits);
+    else
+        snprintf(buf, n, "%s %s", s->format == BG_LUT_DECI ? "0.1" : s->format == BG_LUT_CENTI ?
+                 "0.01" : "0.001", u);
+    return buf;
+}
+
+void bg_lut_result_release(bg_lut_result *r)
+{
+    if (!r)
+        return;
+    bg_lut_release(&r->table);
+    free(r->budget);
+    free(r->curve_t_k);
+    free(r->curve_err_k);
+    memset(r, 0, sizeof *r);
+}
+
+/* The table itself: the uniform step, the strategy named, or the smallest in bytes. */
+static int make_table(const bg_lut_request *rq, bg_lut_result *out, bg_error *err)
+{
+    bg_lut_spec *s = &out->spec;
+    int rc;
+    s->frac_bits = -1, s->oncurve_min = 1;
+    if (rq->step_codes > 0) {
+        s->shift = 0;
+        while ((1L << s->shift) < rq->step_codes)
+            s->shift++;
+        rc = bg_lut_build(s, &out->table, err);
+    } else {
+        s->max_err_k = rq->max_err_k;
+        if (rq->strategy >= 0) {
+            s->strategy = (bg_lut_strategy)rq->strategy;
+            rc = bg_lut_build(s, &out->table, err);
+        } else {
+            rc = bg_lut_build_smallest(s, &out->table, out->sizes, err);
+            out->chosen = rc == BG_OK;
+        }
+    }
+    if (rc == BG_OK)
+        s->strategy = out->table.strategy, s->shift = out->table.shift;
+    return rc;
+}
+
+/* The table's error at every code: the model's temperature and table - model, in K. */
+static int make_curve(bg_lut_result *out, bg_error *err)
+{
+    const bg_lut *t = &out->table;
+    size_t nc = (size_t)(t->code_hi - t->code_lo + 1);
+    out->curve_t_k = malloc(nc * sizeof *out->curve_t_k);
+    out->curve_err_k = malloc(nc * sizeof *out->curve_err_k);
+    if (!out->curve_t_k || !out->curve_err_k)
+        return bg_error_set(err, BG_ENOMEM, "out of memory for the error of %zu codes", nc);
+    out->ncurve = nc;
+    out->curve_lo_k = 0.0, out->curve_hi_k = 0.0;
+    for (size_t i = 0; i < nc; i++) {
+        int st;
+        double tk = NAN;
+        long code = t->code_lo + (long)i;
+        bg_circuit_temp_of(&out->spec.circuit, &out->spec.model, (double)code, &tk, NULL, NULL);
+        out->curve_t_k[i] = tk;
+        out->curve_err_k[i] = bg_lut_value(t, code, &st) + t->offset_k - tk;
+        out->curve_lo_k = fmin(out->curve_lo_k, out->curve_err_k[i]);
+        out->curve_hi_k = fmax(out->curve_hi_k, out->curve_err_k[i]);
+    }
+    return BG_OK;
+}
+
+int bg_lut_make(const bg_lut_request *rq, bg_lut_result *out, bg_error *err)
+{
+    const bg_lut_spec *s = &rq->spec;
+    int rc;
+    memset(out, 0, sizeof *out);
+    out->spec = rq->spec;
+    out->spec.source = NULL;
+    if (s->stamp) {
+        if (strlen(s->stamp) >= sizeof out->stamp)
+            return bg_error_set(err, BG_EINVAL, "the table's time stamp is longer than %zu "
+                                "bytes", sizeof out->stamp - 1);
+        memcpy(out->stamp, s->stamp, strlen(s->stamp) + 1);
+        out->spec.stamp = out->stamp;
+    }
+    out->budget_opts = rq->budget;
+    out->budget_opts.cov = NULL;
+    if (rq->fit_id) {
+        out->fit_id = rq->fit_id;
+        snprintf(out->source, sizeof out->source, "stored fit %lld of probe %.100s, run %lld",
+                 rq->fit_id, rq->fit_serial ? rq->fit_serial : "", rq->fit_run_id);
+        out->spec.source = out->source;
+        if (rq->fit_cov) {
+            size_t np = bg_model_npar(&s->model);
+            memcpy(out->cov, rq->fit_cov, np * np * sizeof *out->cov);
+            out->budget_opts.cov = out->cov;
+        }
+        if (!rq->allow_extrapolation && (s->t_lo_k < rq->fit_t_min_k - 1e-9 ||
+                                         s->t_hi_k > rq->fit_t_max_k + 1e-9))
+            return bg_error_set(err, BG_EINVAL, "the range %.3f .. %.3f degC is outside fit "
+                                "%lld's calibrated range %.3f .. %.3f degC "
+                                "(--allow-extrapolation to build it anyway)",
+                                s->t_lo_k - BG_ZERO_C_K, s->t_hi_k - BG_ZERO_C_K, rq->fit_id,
+                                rq->fit_t_min_k - BG_ZERO_C_K, rq->fit_t_max_k - BG_ZERO_C_K);
+    }
+    if ((rc = make_table(rq, out, err)) != BG_OK)
+        goto fail;
+
+    /* the budget: at the temperatures asked for, by default the ends and the middle */
+    double mid[3] = { s->t_lo_k, 0.5 * (s->t_lo_k + s->t_hi_k), s->t_hi_k };
+    const double *at = rq->nbudget_at ? rq->budget_at_k : mid;
+    size_t nat = rq->nbudget_at ? rq->nbudget_at : 3;
+    out->budget = calloc(nat, sizeof *out->budget);
+    if (!out->budget) {
+        rc = bg_error_set(err, BG_ENOMEM, "out of memory for the error budget");
+        goto fail;
+    }
+    out->nbudget = nat;
+    rc = bg_lut_budget(&out->spec, &out->table, &out->budget_opts, at, nat, out->budget,
+                       &out->worst, err);
+    if (rc == BG_OK && rq->error_curve)
+        rc = make_curve(out, err);
+    if (rc == BG_OK)
+        return BG_OK;
+fail:
+    bg_lut_result_release(out);
+    return rc;
+}

@@ -1,0 +1,224 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* The table of report kinds, rendering into memory, the head every stored report shares, and
+** issuing: a report is generated inside the store's write transaction with its number, then
+** stored as bytes and never changed (bg_store_artifact_issue). */
+#include <stdlib.h>
+#include <string.h>
+
+#include "bandgap/bandgap.h"
+#include "report/html_int.h"
+#include "report/report_int.h"
+
+/* The one list of report kinds: a new kind is one generator and one row here. */
+static const bg_report_kind *const kinds[] = {
+    &bgi_report_calib,
+    &bgi_report_lot,
+    &bgi_report_table,
+};
+
+const bg_report_kind *bg_report_kind_at(size_t i)
+{
+    return i < sizeof kinds / sizeof kinds[0] ? kinds[i] : NULL;
+}
+
+const bg_report_kind *bg_report_kind_find(const char *name)
+{
+    for (size_t i = 0; name && i < sizeof kinds / sizeof kinds[0]; i++)
+        if (strcmp(kinds[i]->name, name) == 0)
+            return kinds[i];
+    return NULL;
+}
+
+int bg_report_render(const bg_report_kind *kind, const void *result, const bg_report_head *head,
+                     char **html, size_t *len, bg_error *err)
+{
+    *html = NULL, *len = 0;
+    FILE *f = open_memstream(html, len);
+    if (!f)
+        return bg_error_set(err, BG_ENOMEM, "out of memory for the report");
+    int rc = kind->generate(result, head, f, err);
+    if (fclose(f) != 0 && rc == BG_OK)
+        rc = bg_error_set(err, BG_ENOMEM, "out of memory for the report");
+    if (rc != BG_OK) {
+        free(*html);
+        *html = NULL, *len = 0;
+    }
+    return rc;
+}
+
+void bgi_report_kv(FILE *f, const char *k, const char *v)
+{
+    fputs("<tr><th>", f);
+    bgi_html_esc(f, k);
+    fputs("</th><td>", f);
+    bgi_html_esc(f, v && *v ? v : "not recorded");
+    fputs("</td></tr>\n", f);
+}
+
+void bgi_report_begin(FILE *f, const bg_report_kind *k, const bg_report_head *h, char *rid,
+                      size_t rid_size)
+{
+    snprintf(rid, rid_size, "%s-%06lld", k->id_prefix, h->id);
+    bgi_html_begin(f, k->title, rid);
+    fprintf(f, "<h1>");
+    bgi_html_esc(f, k->title);
+    fprintf(f, "</h1>\n<table class=\"kv\" id=\"identity\">\n");
+    bgi_report_kv(f, "Report", rid);
+    bgi_report_kv(f, "Issued", h->issued);
+    if (h->replaces) {
+        fprintf(f, "<tr><th>Replaces</th><td id=\"replaces\" data-v=\"%lld\">report %lld; "
+                   "reason: ", h->replaces, h->replaces);
+        bgi_html_esc(f, h->why);
+        fputs("</td></tr>\n", f);
+    }
+    bgi_report_kv(f, "Laboratory", h->lab);
+    if (h->customer)
+        bgi_report_kv(f, "Customer", h->customer);
+    char by[64];
+    snprintf(by, sizeof by, "bandgap %s", bg_version());
+    bgi_report_kv(f, "Issued by", by);
+    fputs("</table>\n", f);
+}
+
+/* ---- the lot report: the frame; the sections come through the result's callback ---- */
+
+static int lot_generate(const void *result, const bg_report_head *h, FILE *f, bg_error *err)
+{
+    const bg_lot_report *r = result;
+    char rid[40];
+    int flagged = 0, rc;
+    bgi_report_begin(f, &bgi_report_lot, h, rid, sizeof rid);
+    fputs("<table class=\"kv\" id=\"lot\">\n", f);
+    bgi_report_kv(f, "Lot", r->lot.code);
+    bgi_report_kv(f, "Part", r->lot.part);
+    fputs("</table>\n", f);
+    rc = r->sections ? r->sections(r->sections_ctx, f, &flagged, err)
+                     : bg_error_set(err, BG_EINVAL, "the lot report has no sections");
+    fprintf(f, "<p id=\"verdict\" data-flagged=\"%d\"><strong>%s</strong></p>\n", flagged,
+            flagged ? "Something is flagged: see the marked rows and points above." :
+                      "Nothing is flagged.");
+    bgi_html_cautions(f);
+    fprintf(f, "<p class=\"meta\">Report %s. Issued reports are stored in the calibration "
+               "database and never change; a correction is issued as a new report that names "
+               "this one.</p>\n", rid);
+    bgi_html_end(f);
+    return rc;
+}
+
+const bg_report_kind bgi_report_lot = {
+    "lot", "BG-LOT", "Production lot report", "report-lot", lot_generate,
+};
+
+/* ---- issuing ---- */
+
+/* A JSON string, escaped as the program's JSON writer does. */
+static void json_string(FILE *f, const char *s)
+{
+    fputc('"', f);
+    for (const unsigned char *p = (const unsigned char *)s; *p; p++) {
+        switch (*p) {
+        case '"': fputs("\\\"", f); break;
+        case '\\': fputs("\\\\", f); break;
+        case '\n': fputs("\\n", f); break;
+        case '\r': fputs("\\r", f); break;
+        case '\t': fputs("\\t", f); break;
+        default:
+            if (*p < 0x20)
+                fprintf(f, "\\u%04x", *p);
+            else
+                fputc(*p, f);
+        }
+    }
+    fputc('"', f);
+}
+
+/* What a report is made from, as JSON (malloc'd; NULL when out of memory): its subject and
+** the lot, or the run, fit and probe. */
+static char *report_spec(const char *subject, const char *lot, long long run, long long fit,
+                         const char *probe)
+{
+    char *spec = NULL;
+    size_t len = 0;
+    FILE *sf = open_memstream(&spec, &len);
+    if (!sf)
+        return NULL;
+    fputs("{\"subject\":", sf);
+    json_string(sf, subject);
+    if (lot) {
+        fputs(",\"lot\":", sf);
+        json_string(sf, lot);
+    } else {
+        fprintf(sf, ",\"run\":%lld,\"fit\":%lld,\"probe\":", run, fit);
+        json_string(sf, probe);
+    }
+    fputc('}', sf);
+    if (fclose(sf) != 0) {
+        free(spec);
+        return NULL;
+    }
+    return spec;
+}
+
+struct issue_ctx {
+    const bg_report_kind *kind;
+    const void *result;
+    const bg_report_opts *o;
+};
+
+static int issue_gen(long long id, const char *issued, void *vctx, char **content, size_t *len,
+                     bg_error *err)
+{
+    const struct issue_ctx *c = vctx;
+    bg_report_head h = { id, issued, c->o->lab, c->o->customer, c->o->replaces, c->o->why };
+    return bg_report_render(c->kind, c->result, &h, content, len, err);
+}
+
+/* Generate and store one report, then read the stored row back into '*out'. */
+static int issue(bg_store *st, struct issue_ctx *c, const char *subject, long long fit_id,
+                 const char *spec, bg_artifact *out, bg_error *err)
+{
+    long long id = 0;
+    if (!spec)
+        return bg_error_set(err, BG_ENOMEM, "out of memory");
+    int rc = bg_store_artifact_issue(st, c->kind->artifact_kind, subject, fit_id, spec,
+                                     c->o->replaces, bg_version(), issue_gen, c, &id, err);
+    return rc == BG_OK ? bg_store_artifact_get(st, id, out, err) : rc;
+}
+
+int bg_report_issue_run(bg_store *st, long long run_id, long long fit_id,
+                        const bg_report_opts *o, bg_artifact *out, bg_error *err)
+{
+    bg_calib_report r = BG_CALIB_REPORT_INIT;
+    char subject[64];
+    memset(out, 0, sizeof *out);
+    int rc = bg_calib_report_load(st, run_id, fit_id, o->dissipation_w_per_k, &r, err);
+    if (rc == BG_OK) {
+        snprintf(subject, sizeof subject, "run %lld", run_id);
+        char *spec = report_spec(subject, NULL, run_id, r.fit.id, r.run.serial);
+        struct issue_ctx c = { &bgi_report_calib, &r, o };
+        rc = issue(st, &c, subject, r.fit.id, spec, out, err);
+        free(spec);
+    }
+    bg_calib_report_release(&r);
+    return rc;
+}
+
+int bg_report_issue_lot(bg_store *st, const char *code, const bg_report_opts *o,
+                        bg_report_lot_sections sections, void *ctx, bg_artifact *out,
+                        bg_error *err)
+{
+    bg_lot_report r;
+    char subject[BG_TEXT + 8];
+    memset(out, 0, sizeof *out);
+    memset(&r, 0, sizeof r);
+    r.sections = sections, r.sections_ctx = ctx;
+    int rc = bg_store_lot_get(st, code, &r.lot, err);
+    if (rc != BG_OK)
+        return rc;
+    snprintf(subject, sizeof subject, "lot %s", code);
+    char *spec = report_spec(subject, code, 0, 0, NULL);
+    struct issue_ctx c = { &bgi_report_lot, &r, o };
+    rc = issue(st, &c, subject, 0, spec, out, err);
+    free(spec);
+    return rc;
+}

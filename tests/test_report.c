@@ -1,0 +1,300 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* The report module: the table of kinds, and each kind generated from a result struct built
+** here, its numbers read back from the HTML bytes (the data-v attribute every number carries)
+** and compared with values computed independently (scipy, or the closed form named beside
+** each); hostile text appears only escaped.  The probes and values are invented. */
+#include "testutil.h"
+
+static const char *hostile = "<img src=x onerror=1>";
+static const char *hostile_esc = "&lt;img src=x onerror=1&gt;";
+
+/* The full value of the first number after 'from' whose attribute text starts with 'key'
+** (e.g. "class=\"coverage\" data-v=\""). */
+static double value_after(const char *html, const char *from, const char *key)
+{
+    const char *p = from ? strstr(html, from) : html;
+    assert_non_null(p);
+    p = strstr(p, key);
+    assert_non_null(p);
+    return strtod(p + strlen(key), NULL);
+}
+
+static int count(const char *html, const char *s)
+{
+    int n = 0;
+    for (const char *p = html; (p = strstr(p, s)); p += strlen(s))
+        n++;
+    return n;
+}
+
+static void kinds_table(void **state)
+{
+    (void)state;
+    static const char *names[] = { "calibration", "lot", "table" };
+    static const char *prefixes[] = { "BG-CAL", "BG-LOT", "table" };
+    int seen[3] = { 0, 0, 0 };
+    size_t n = 0;
+    for (const bg_report_kind *k; (k = bg_report_kind_at(n)); n++) {
+        int found = 0;
+        for (int i = 0; i < 3; i++)
+            if (strcmp(k->name, names[i]) == 0) {
+                seen[i]++, found = 1;
+                assert_string_equal(k->id_prefix, prefixes[i]);
+                assert_ptr_equal(bg_report_kind_find(names[i]), k);
+                assert_non_null(k->generate);
+                assert_non_null(k->title);
+            }
+        assert_true(found);
+    }
+    assert_int_equal(n, 3);
+    for (int i = 0; i < 3; i++)
+        assert_int_equal(seen[i], 1);
+    assert_null(bg_report_kind_find("nope"));
+    assert_null(bg_report_kind_find(NULL));
+    assert_string_equal(bg_report_kind_find("calibration")->artifact_kind, "report-run");
+    assert_string_equal(bg_report_kind_find("lot")->artifact_kind, "report-lot");
+    assert_null(bg_report_kind_find("table")->artifact_kind); /* not stored */
+}
+
+/* An invented probe: beta model R0 10 kohm at 25 degC, B 3950 K, u(R0) 5 ohm, u(B) 10 K;
+** readings at 0 .. 50 degC whose temperatures sit 'delta' mK off the curve. */
+static const double r0 = 10000.0, beta = 3950.0, t0 = 298.15;
+static const double delta_mk[9] = { 1.5, -2.0, 0.5, 3.0, -1.0, 0.0, 2.5, -3.5, 1.0 };
+
+static void build_calib(bg_calib_report *r, size_t dof)
+{
+    double c[2] = { r0, beta };
+    memset(r, 0, sizeof *r);
+    r->run.id = 12;
+    snprintf(r->run.serial, sizeof r->run.serial, "%s", hostile);
+    snprintf(r->run.excitation, sizeof r->run.excitation, "10 uA");
+    snprintf(r->run.started_at, sizeof r->run.started_at, "2026-03-01T09:00:00Z");
+    snprintf(r->probe.serial, sizeof r->probe.serial, "%s", hostile);
+    snprintf(r->lot.code, sizeof r->lot.code, "L-INVENTED");
+    r->lot.r25_ohm = r0, r->lot.beta_k = beta, r->lot.pair_t1_k = 298.15;
+    r->lot.pair_t2_k = 358.15;
+    bg_model_parse("beta", &r->fit.model, NULL);
+    bg_model_set_coef(&r->fit.model, c, 2, NULL);
+    r->fit.id = 34, r->fit.run_id = 12, r->fit.npar = 2, r->fit.n = 9, r->fit.dof = dof;
+    r->fit.has_cov = 1;
+    r->fit.cov[0] = 25.0, r->fit.cov[3] = 100.0; /* u(R0) = 5 ohm, u(B) = 10 K */
+    r->fit.t_min_k = 273.15, r->fit.t_max_k = 323.15;
+    snprintf(r->fit.program_version, sizeof r->fit.program_version, "0.1.0");
+    r->nreadings = 9;
+    r->readings = calloc(9, sizeof *r->readings);
+    assert_non_null(r->readings);
+    for (size_t i = 0; i < 9; i++) {
+        bg_reading_row *g = &r->readings[i];
+        double t = 273.15 + 50.0 * (double)i / 8.0;
+        g->id = 100 + (long long)i, g->line = i + 2;
+        g->r_ohm = r0 * exp(beta * (1.0 / t - 1.0 / t0)); /* the beta equation (derived) */
+        g->t_k = t + 1e-3 * delta_mk[i];
+    }
+    r->readings[4].excluded = 1;
+    snprintf(r->readings[4].excl_reason, sizeof r->readings[4].excl_reason, "%s", hostile);
+    r->dissipation_w_per_k = 1.5e-3;
+}
+
+static char *render(const char *kind, const void *result, const bg_report_head *h)
+{
+    char *html = NULL;
+    size_t len = 0;
+    bg_error err = BG_ERROR_INIT;
+    int rc = bg_report_render(bg_report_kind_find(kind), result, h, &html, &len, &err);
+    if (rc != BG_OK)
+        print_error("%s\n", err.msg);
+    assert_int_equal(rc, BG_OK);
+    char *s = malloc(len + 1); /* as a C string for strstr */
+    assert_non_null(s);
+    memcpy(s, html, len);
+    s[len] = '\0';
+    free(html);
+    return s;
+}
+
+static void calibration_report(void **state)
+{
+    (void)state;
+    bg_calib_report r;
+    bg_error err = BG_ERROR_INIT;
+    build_calib(&r, 7);
+    assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
+    bg_report_head h = { 42, "2026-03-02T10:00:00Z", "Invented lab", NULL, 0, NULL };
+    char *html = render("calibration", &r, &h);
+
+    assert_non_null(strstr(html, "BG-CAL-000042"));
+    /* the hostile serial and exclusion reason only escaped */
+    assert_null(strstr(html, "<img"));
+    assert_true(count(html, hostile_esc) >= 2);
+    /* coverage of k = 2 with 7 dof: 2 F_t(2; 7) - 1 = 0.9143806714370242 from
+    ** scipy.stats.t.cdf(2, 7) (scipy 1.10, Debian), computed for this test */
+    assert_close(value_after(html, NULL, "class=\"coverage\" data-v=\""), 100.0 * 0.9143806714370242,
+                 1e-10, 0.0);
+    /* each residual: the offset put into the reading (derived: readings built on the curve) */
+    for (size_t i = 0; i < 9; i++) {
+        char from[64];
+        snprintf(from, sizeof from, "data-id=\"%lld\"", 100 + (long long)i);
+        assert_close(value_after(html, from, "class=\"n resid\" data-v=\""), delta_mk[i], 1e-6,
+                     1e-7);
+    }
+    /* U (k = 2) at 25 degC in the R-T table: at T0 the beta model's gradient of 1/T is
+    ** (-1/(B R0), 0), so u = T0^2 u(R0) / (B R0) (derived, GUM 5.1.2) */
+    double u25 = t0 * t0 * 5.0 / (beta * r0);
+    assert_close(value_after(html, "<td class=\"n t\" data-v=\"25\">", "class=\"n U\" data-v=\""),
+                 2e3 * u25, 1e-9, 0.0);
+    assert_close(value_after(html, "<td class=\"n t\" data-v=\"25\">", "class=\"n r\" data-v=\""),
+                 r0, 1e-12, 0.0);
+    /* alpha = -B / T^2 for the beta model (derived), in %/K */
+    assert_close(value_after(html, "<td class=\"n t\" data-v=\"25\">",
+                             "class=\"n alpha\" data-v=\""), -100.0 * beta / (t0 * t0), 1e-9, 0.0);
+    /* self-heating: (10 uA)^2 times the largest resistance (at 0 degC), over 1.5 mW/K */
+    double rmax = r0 * exp(beta * (1.0 / 273.15 - 1.0 / t0));
+    assert_close(value_after(html, NULL, "class=\"power-uw\" data-v=\""), 1e6 * 1e-10 * rmax, 1e-12,
+                 0.0);
+    assert_close(value_after(html, NULL, "class=\"selfheat-mk\" data-v=\""),
+                 1e3 * 1e-10 * rmax / 1.5e-3, 1e-12, 0.0);
+    /* the R-T table's round step: 50 K of span in steps of 5 degC, 0 .. 50 (11 rows) */
+    assert_int_equal(r.nrt, 11);
+    assert_int_equal(count(html, "<tr class=\"rt\">"), 11);
+    assert_int_equal(count(html, "<tr class=\"reading"), 9);
+    assert_int_equal(count(html, "<tr class=\"reading excluded\""), 1);
+    free(html);
+
+    /* 2 degrees of freedom: 2 F_t(2; 2) - 1 = 2 / sqrt(6) (closed form of Student's t with
+    ** 2 dof: F(t) = 1/2 + t / (2 sqrt(2 + t^2))), also scipy.stats.t.cdf: 0.816496580927726 */
+    r.fit.dof = 2;
+    assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
+    assert_close(r.coverage, 2.0 / sqrt(6.0), 1e-12, 0.0);
+    bg_calib_report_release(&r);
+    assert_null(r.readings);
+}
+
+static void calibration_report_without_covariance(void **state)
+{
+    (void)state;
+    bg_calib_report r;
+    bg_error err = BG_ERROR_INIT;
+    build_calib(&r, 0);
+    r.fit.has_cov = 0;
+    r.dissipation_w_per_k = 0.0;
+    snprintf(r.run.excitation, sizeof r.run.excitation, "2 V");
+    assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
+    assert_true(isnan(r.u_max_k));
+    assert_true(isnan(r.coverage));
+    bg_report_head h = { 1, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
+    char *html = render("calibration", &r, &h);
+    assert_non_null(strstr(html, "not available: the fit has no degrees of freedom"));
+    assert_non_null(strstr(html, "not estimated (needs the excitation as a current"));
+    assert_null(strstr(html, "class=\"coverage\""));
+    free(html);
+    /* a result that was never computed is refused, not rendered with garbage */
+    bg_calib_report raw;
+    build_calib(&raw, 7);
+    char *bytes = NULL;
+    size_t len = 0;
+    assert_int_equal(bg_report_render(bg_report_kind_find("calibration"), &raw, &h, &bytes, &len,
+                                      &err), BG_EINVAL);
+    assert_null(bytes);
+    bg_calib_report_release(&raw);
+    bg_calib_report_release(&r);
+}
+
+static int sections(void *ctx, FILE *f, int *flagged, bg_error *err)
+{
+    (void)err;
+    fprintf(f, "<p id=\"body\">%s</p>\n", (const char *)ctx);
+    *flagged = 1;
+    return BG_OK;
+}
+
+static void lot_report(void **state)
+{
+    (void)state;
+    bg_lot_report r;
+    memset(&r, 0, sizeof r);
+    snprintf(r.lot.code, sizeof r.lot.code, "%s", hostile);
+    snprintf(r.lot.part, sizeof r.lot.part, "NTC-INVENTED");
+    r.sections = sections, r.sections_ctx = "sections here";
+    bg_report_head h = { 7, "2026-03-02T10:00:00Z", "Invented lab", "A & B", 5, "typo" };
+    char *html = render("lot", &r, &h);
+    assert_non_null(strstr(html, "BG-LOT-000007"));
+    assert_non_null(strstr(html, "<p id=\"body\">sections here</p>"));
+    assert_non_null(strstr(html, "data-flagged=\"1\""));
+    assert_non_null(strstr(html, "id=\"replaces\" data-v=\"5\""));
+    assert_non_null(strstr(html, "A &amp; B"));
+    assert_null(strstr(html, "<img"));
+    assert_non_null(strstr(html, hostile_esc));
+    free(html);
+}
+
+/* T at a code of the 10k low-side divider on 12 bits with beta 10k/3950 (derived from the
+** divider law and the beta equation). */
+static double t_of_code(double code)
+{
+    double x = code / 4096.0, r = 10000.0 * x / (1.0 - x);
+    return 1.0 / (1.0 / t0 + log(r / r0) / beta);
+}
+
+static void table_report(void **state)
+{
+    (void)state;
+    bg_lut_request rq;
+    bg_lut_result r = BG_LUT_RESULT_INIT;
+    bg_error err = BG_ERROR_INIT;
+    double c[2] = { r0, beta }, at[1] = { t0 };
+    memset(&rq, 0, sizeof rq);
+    rq.spec.circuit.kind = BG_CIRCUIT_DIVIDER_LOW, rq.spec.circuit.fixed_ohm = 10000.0;
+    rq.spec.circuit.adc_bits = 12, rq.spec.circuit.full_scale_pow2 = 1;
+    bg_model_parse("beta", &rq.spec.model, NULL);
+    bg_model_set_coef(&rq.spec.model, c, 2, NULL);
+    rq.spec.t_lo_k = 273.15, rq.spec.t_hi_k = 323.15, rq.spec.format = BG_LUT_CENTI;
+    rq.step_codes = 16, rq.strategy = -1;
+    rq.budget_at_k = at, rq.nbudget_at = 1;
+    rq.error_curve = 1;
+    assert_int_equal(bg_lut_make(&rq, &r, &err), BG_OK);
+    assert_int_equal(r.table.strategy, BG_LUT_UNIFORM);
+    assert_int_equal(r.table.shift, 4);
+    /* the curve's temperatures at every code against the divider and beta law */
+    assert_int_equal(r.ncurve, (size_t)(r.table.code_hi - r.table.code_lo + 1));
+    for (size_t i = 0; i < r.ncurve; i++)
+        assert_close(r.curve_t_k[i], t_of_code((double)(r.table.code_lo + (long)i)), 1e-12,
+                     1e-9);
+    bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
+    char *html = render("table", &r, &h);
+    char title[96];
+    snprintf(title, sizeof title, "<title>Firmware table report table uniform %zu entries",
+             r.table.n);
+    assert_non_null(strstr(html, title));
+    assert_non_null(strstr(html, "2026-03-02T10:00:00Z by bandgap"));
+    assert_close(value_after(html, NULL, "class=\"maxerr\" data-v=\""), r.table.max_err_k, 1e-15,
+                 0.0);
+    /* half an LSB at 25 degC: code = 4096 R / (R + 10k) = 2048, dcode/dR = 4096 * 10k /
+    ** (20k)^2, dR/dT = -R B / T^2, so 0.5 |dT/dcode| (derived) */
+    double dcode_dt = 4096.0 * 1e4 / 4e8 * (r0 * beta / (t0 * t0));
+    assert_close(value_after(html, "<tr class=\"budget\">", "class=\"n adc\" data-v=\""),
+                 0.5 / dcode_dt, 1e-6, 0.0);
+    assert_int_equal(count(html, "<tr class=\"budget\">"), 2); /* 25 degC and the worst */
+    free(html);
+    /* without the error curve the table report is refused */
+    bg_lut_result_release(&r);
+    rq.error_curve = 0;
+    assert_int_equal(bg_lut_make(&rq, &r, &err), BG_OK);
+    char *bytes = NULL;
+    size_t len = 0;
+    assert_int_equal(bg_report_render(bg_report_kind_find("table"), &r, &h, &bytes, &len, &err),
+                     BG_EINVAL);
+    bg_lut_result_release(&r);
+}
+
+int main(void)
+{
+    gsl_set_error_handler(test_gsl_handler);
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(kinds_table),
+        cmocka_unit_test(calibration_report),
+        cmocka_unit_test(calibration_report_without_covariance),
+        cmocka_unit_test(lot_report),
+        cmocka_unit_test(table_report),
+    };
+    return cmocka_run_group_tests_name("report", tests, NULL, NULL);
+}
