@@ -17,6 +17,7 @@
 #include "bandgap/drift.h"
 #include "bandgap/circuit.h"
 #include "bandgap/lut.h"
+#include "bandgap/calib.h"
 
 /* The library's version, "MAJOR.MINOR.PATCH". */
 BG_API const char *bg_version(void);
