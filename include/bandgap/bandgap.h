@@ -19,6 +19,7 @@
 #include "bandgap/drift.h"
 #include "bandgap/circuit.h"
 #include "bandgap/lut.h"
+#include "bandgap/calib.h"
 #include "bandgap/report.h"
 
 /* The library's version, "MAJOR.MINOR.PATCH". */

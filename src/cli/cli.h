@@ -162,25 +162,15 @@ void cli_print_curve(const bg_curve_src *src, long long fit_id, const bg_curve *
                      enum cli_format fmt, bg_temp_unit unit);
 void cli_print_eval(const bg_curve_src *src, const bg_curve *c, bg_temp_unit unit, int json);
 
-/* ---- the fit report, shared by 'fit' and 'demo' ---- */
-struct fit_request {
-    const char *model;        /* "sh3" ... or "auto" */
-    double t0_k;              /* beta reference temperature */
-    double pair_t1_k, pair_t2_k;
-    double u_temp_k;          /* given to readings without u_temp_k; 0 = none */
-    int linear_only;
-    int no_inflate;
-    bg_temp_unit unit;
-    double at_k[32];
-    size_t nat;
-};
-void fit_request_init(struct fit_request *rq);
-int fit_report_file(const char *path, const struct fit_request *rq, struct cli_ctx *ctx);
-/* Fit the latest (or given) run of a stored probe, or the latest run of every probe of a lot,
-** store the fits and print them. */
-int fit_stored_probe(const char *serial, long long run_id, const struct fit_request *rq,
-                     struct cli_ctx *ctx);
-int fit_stored_lot(const char *lot_code, const struct fit_request *rq, struct cli_ctx *ctx);
+/* ---- calibration results (print_fit.c), shared by 'fit' and 'demo' ---- */
+/* The fit's warnings and the check temperatures' on stderr, then the report (text or JSON). */
+void print_fit(const bg_calib_result *r, bg_temp_unit unit, int json);
+void print_fit_warnings(const bg_calib_result *r, bg_temp_unit unit);
+/* The lot's warnings and failures on stderr; then, when 'rc' is BG_OK, its table (text or
+** JSON), else 'err'.  Returns 'rc'. */
+int print_fit_lot(const bg_calib_lot *lot, int rc, const bg_error *err, int json);
+/* A bg_calib_progress_fn showing cli_progress("fitting"). */
+int print_fit_progress(size_t done, size_t total, void *ctx);
 
 /* ---- the printers of 'lut' (print_lut.c) ---- */
 /* The table as CSV or JSON (the JSON carries the budget). */

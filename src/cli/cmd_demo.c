@@ -29,13 +29,47 @@ static int run(struct cli_ctx *ctx, cmd_fn fn, const char *const *args)
 {
     char *argv[32];
     int argc = 0;
-    while (args[argc] && argc < 31) {
+    while (args[argc]) {
+        if (argc == 31) {
+            cli_error("demo: more than 31 arguments for '%s'", args[0]);
+            return BG_EINTERNAL;
+        }
         argv[argc] = (char *)args[argc];
         argc++;
     }
     argv[argc] = NULL;
     optind = 0;
     return fn(argc, argv, ctx);
+}
+
+/* Calibrate probe 'serial' (its latest run, the model chosen automatically) or, with
+** 'lot_code', every probe of that lot with 'model', store the fits and print them. */
+static int demo_fit(struct cli_ctx *dctx, const char *serial, const char *lot_code,
+                    const char *model)
+{
+    bg_calib_request rq = bg_calib_default_request();
+    bg_calib_result r = BG_CALIB_RESULT_INIT;
+    bg_calib_lot lot = BG_CALIB_LOT_INIT;
+    bg_error err = BG_ERROR_INIT;
+    bg_store *st = NULL;
+    int rc = cli_open_store(dctx, 0, &st);
+
+    if (rc != BG_OK)
+        return rc;
+    if (model)
+        rq.model = model;
+    if (lot_code) {
+        rq.progress = print_fit_progress;
+        rc = bg_calibrate_lot(st, lot_code, &rq, &lot, &err);
+        rc = print_fit_lot(&lot, rc, &err, 0);
+    } else if ((rc = bg_calibrate_probe(st, serial, 0, &rq, &r, &err)) == BG_OK)
+        print_fit(&r, BG_UNIT_C, 0);
+    else
+        cli_fail(NULL, &err);
+    bg_calib_lot_release(&lot);
+    bg_calib_result_release(&r);
+    bg_store_close(st);
+    return rc;
 }
 
 struct line_find {
@@ -75,6 +109,200 @@ static int demo_reading_id(struct cli_ctx *dctx, const char *serial, size_t line
     return BG_OK;
 }
 
+/* The readings files of every round into 'dir'. */
+static int demo_write_files(const char *dir)
+{
+    char path[4096];
+    size_t nfiles = 0;
+    for (const struct demo_file *df = demo_files; df->name; df++, nfiles++) {
+        FILE *f;
+        snprintf(path, sizeof path, "%s/%s", dir, df->name);
+        if (!(f = fopen(path, "w"))) {
+            cli_error("demo: cannot create '%s': %s", path, strerror(errno));
+            return CLI_ECANTCREAT;
+        }
+        if (fputs(df->text, f) == EOF || fclose(f) != 0) {
+            cli_error("demo: cannot write '%s': %s", path, strerror(errno));
+            return BG_EIO;
+        }
+    }
+    printf("wrote %zu readings files to %s/\n", nfiles, dir);
+    return BG_OK;
+}
+
+/* A new database with the two lots and the reference thermometer. */
+static int demo_database(struct cli_ctx *dctx)
+{
+    const char *a_init[] = { "init", NULL };
+    const char *a_lot[] = { "lot", "add", DEMO_LOT, "--part", "SOIL-NTC-10K", "--r25", "10k",
+                            "--beta", "3950", "--pair", "25/85", "--tol-r25", "1%",
+                            "--tol-beta", "0.5%", "--note", "invented demo lot", NULL };
+    const char *a_lot2[] = { "lot", "add", DEMO_LOT2, "--part", "SOIL-NTC-10K", "--r25",
+                             "10k", "--beta", "3950", "--pair", "25/85", "--tol-r25", "1%",
+                             "--tol-beta", "0.5%", "--note", "invented demo lot", NULL };
+    const char *a_ref[] = { "ref", "add", "REF-7", "--cert", "INVENTED-CAL-2026-0117",
+                            "--due", "2027-09-30", "--linear", "0.0042,-0.00011,20", NULL };
+    int rc;
+    if ((rc = run(dctx, cmd_init, a_init)) != BG_OK || (rc = run(dctx, cmd_lot, a_lot)) != BG_OK ||
+        (rc = run(dctx, cmd_lot, a_lot2)) != BG_OK || (rc = run(dctx, cmd_ref, a_ref)) != BG_OK)
+        return rc;
+    return BG_OK;
+}
+
+/* Import one round: probe-SERIAL.csv (round 1, adding the probes; the second lot's serials
+** start GH-05) or recal-SERIAL.csv (round 2). */
+static int demo_import_round(struct cli_ctx *dctx, const char *dir, int round)
+{
+    const char *prefix = round == 1 ? "probe-" : "recal-";
+    size_t pl = strlen(prefix);
+    char path[4096];
+    int rc;
+    for (const struct demo_file *df = demo_files; df->name; df++) {
+        char serial[64];
+        if (strncmp(df->name, prefix, pl) != 0)
+            continue;
+        /* probe-GH-0417.csv -> GH-0417 */
+        snprintf(serial, sizeof serial, "%.*s", (int)(strlen(df->name) - pl - 4), df->name + pl);
+        snprintf(path, sizeof path, "%s/%s", dir, df->name);
+        const char *lot = strncmp(serial, "GH-05", 5) == 0 ? DEMO_LOT2 : DEMO_LOT;
+        const char *a_probe[] = { "probe", "add", serial, "--lot", lot, NULL };
+        const char *a_imp[] = { "import", path, "--probe", serial, "--ref", "REF-7",
+                                "--operator", "I. Nventa", "--medium", "stirred water-glycol",
+                                "--ambient", "21 degC", "--excitation", "10 uA", NULL };
+        if ((round == 1 && (rc = run(dctx, cmd_probe, a_probe)) != BG_OK) ||
+            (rc = run(dctx, cmd_import, a_imp)) != BG_OK)
+            return rc;
+    }
+    return BG_OK;
+}
+
+/* The first round fitted: one probe's full report, then both lots. */
+static int demo_first_fits(struct cli_ctx *dctx)
+{
+    int rc;
+    printf("\n== calibration report of probe %s (model chosen automatically) ==\n\n",
+           DEMO_PROBE);
+    if ((rc = demo_fit(dctx, DEMO_PROBE, NULL, NULL)) != BG_OK)
+        return rc;
+    printf("\n== lots %s and %s, Steinhart-Hart (sh3) for every probe ==\n\n", DEMO_LOT,
+           DEMO_LOT2);
+    if ((rc = demo_fit(dctx, NULL, DEMO_LOT, "sh3")) != BG_OK ||
+        (rc = demo_fit(dctx, NULL, DEMO_LOT2, "sh3")) != BG_OK)
+        return rc;
+    return BG_OK;
+}
+
+/* The second round: one reading excluded, the lot refitted, and the drift reports. */
+static int demo_second_round(struct cli_ctx *dctx)
+{
+    const char *a_dp[] = { "drift", "--probe", DEMO_PROBE, "--limit", "50mK", NULL };
+    const char *a_dl[] = { "drift", "--lot", DEMO_LOT2, NULL };
+    const char *a_dpart[] = { "drift", "--part", "SOIL-NTC-10K", "--baseline", "1", NULL };
+    long long excl = 0;
+    char excl_id[32];
+    int rc;
+    /* the operator noted that the second -20 degC reading of GH-0417's recalibration was taken
+    ** before the bath had settled: it is excluded, with the reason */
+    if ((rc = demo_reading_id(dctx, DEMO_PROBE, 8, &excl)) != BG_OK)
+        return rc;
+    snprintf(excl_id, sizeof excl_id, "%lld", excl);
+    const char *a_ex[] = { "exclude", excl_id, "--why", "bath not settled (operator's note)",
+                           "--by", "I. Nventa", NULL };
+    printf("\n== one reading of %s's recalibration excluded, then the lot refitted ==\n\n",
+           DEMO_PROBE);
+    if ((rc = run(dctx, cmd_exclude, a_ex)) != BG_OK ||
+        (rc = demo_fit(dctx, NULL, DEMO_LOT, "sh3")) != BG_OK)
+        return rc;
+    /* The drift reports flag what the invented data hold; that is the demo, not a failure. */
+    printf("\n== drift of probe %s between the rounds ==\n\n", DEMO_PROBE);
+    if ((rc = run(dctx, cmd_drift, a_dp)) != BG_OK && rc != CLI_FLAGGED)
+        return rc;
+    printf("\n== lot %s against its nominal curve ==\n\n", DEMO_LOT2);
+    if ((rc = run(dctx, cmd_drift, a_dl)) != BG_OK && rc != CLI_FLAGGED)
+        return rc;
+    printf("\n== the part across its lots ==\n\n");
+    if ((rc = run(dctx, cmd_drift, a_dpart)) != BG_OK && rc != CLI_FLAGGED)
+        return rc;
+    return BG_OK;
+}
+
+/* A firmware table for an invented board: the probe on the low side of a 10k divider, 12-bit
+** ADC; its table report goes to 'tfile'. */
+static int demo_table(struct cli_ctx *dctx, const char *dir, const char *tfile)
+{
+    char cfile[4200];
+    snprintf(cfile, sizeof cfile, "%s/glasshouse_ntc.c", dir);
+    const char *a_lut[] = { "lut", "--probe", DEMO_PROBE, "--fixed", "10k", "--sensor-side",
+                            "low", "--adc-bits", "12", "--range", "-15C:55C", "--max-error",
+                            "0.05C", "--symbol", "glasshouse_ntc", "--fixed-tol", "0.1%",
+                            "--excitation", "3.3", "--dissipation", "1.5mW/K", "-o", cfile,
+                            "--report", tfile, NULL };
+    printf("\n== a firmware table for an invented board (probe %s on the low side of a 10k"
+           "\n   divider, 12-bit ADC, 3.3 V): %s ==\n\n", DEMO_PROBE, cfile);
+    return run(dctx, cmd_lut, a_lut);
+}
+
+/* The reports: the probe's newest calibration and the recalibrated lot. */
+static int demo_reports(struct cli_ctx *dctx, const char *dir)
+{
+    bg_store *st = NULL;
+    bg_probe pr;
+    bg_error err = BG_ERROR_INIT;
+    long long run_id = 0;
+    char rid[32], rfile[4200], lfile[4200];
+    int rc;
+    if ((rc = cli_open_store(dctx, 0, &st)) != BG_OK)
+        return rc;
+    rc = bg_store_probe_get(st, DEMO_PROBE, &pr, &err);
+    if (rc == BG_OK)
+        rc = bg_store_run_latest(st, pr.id, &run_id, &err);
+    bg_store_close(st);
+    if (rc != BG_OK)
+        return cli_fail("demo", &err);
+    snprintf(rid, sizeof rid, "%lld", run_id);
+    snprintf(rfile, sizeof rfile, "%s/calibration-report.html", dir);
+    snprintf(lfile, sizeof lfile, "%s/lot-report.html", dir);
+    const char *a_rr[] = { "report", "--run", rid, "--lab", "Lindqvist cooperative test "
+                           "bench (invented)", "--customer", "Lindqvist glasshouse "
+                           "cooperative (invented)", "--dissipation", "1.5mW/K", "-o",
+                           rfile, NULL };
+    const char *a_lr[] = { "report", "--lot", DEMO_LOT, "--lab", "Lindqvist cooperative "
+                           "test bench (invented)", "-o", lfile, NULL };
+    printf("\n== reports (self-contained HTML; open them in a browser or print them) ==\n\n");
+    if ((rc = run(dctx, cmd_report, a_rr)) != BG_OK || (rc = run(dctx, cmd_report, a_lr)) != BG_OK)
+        return rc;
+    return BG_OK;
+}
+
+/* The scenario after the options: files, database, two rounds, table and reports. */
+static int demo_scenario(struct cli_ctx *dctx, const char *dir, const char *db)
+{
+    char tfile[4200];
+    int rc;
+    printf("INVENTED DEMO DATA: the (invented) Lindqvist glasshouse cooperative calibrates\n"
+           "two deliveries of its soil probes, lots %s and %s (12 probes each, in a stirred\n"
+           "bath beside reference thermometer REF-7, 18 readings from -20 to 60 degC), and\n"
+           "recalibrates the first lot six months later.\n\n", DEMO_LOT, DEMO_LOT2);
+    if ((rc = demo_write_files(dir)) != BG_OK)
+        return rc;
+    if (unlink(db) != 0 && errno != ENOENT) {
+        cli_error("demo: cannot replace '%s': %s", db, strerror(errno));
+        return CLI_ECANTCREAT;
+    }
+    snprintf(tfile, sizeof tfile, "%s/table-report.html", dir);
+    if ((rc = demo_database(dctx)) != BG_OK || (rc = demo_import_round(dctx, dir, 1)) != BG_OK ||
+        (rc = demo_first_fits(dctx)) != BG_OK)
+        return rc;
+    printf("\n== six months later: the second round of lot %s ==\n\n", DEMO_LOT);
+    if ((rc = demo_import_round(dctx, dir, 2)) != BG_OK ||
+        (rc = demo_second_round(dctx)) != BG_OK || (rc = demo_table(dctx, dir, tfile)) != BG_OK ||
+        (rc = demo_reports(dctx, dir)) != BG_OK)
+        return rc;
+    printf("table report: %s\n", tfile);
+    printf("\ndatabase: %s  (try: bandgap --db %s list fits)\n", db, db);
+    return BG_OK;
+}
+
 int cmd_demo(int argc, char **argv, struct cli_ctx *ctx)
 {
     static const struct option opts[] = {
@@ -82,9 +310,9 @@ int cmd_demo(int argc, char **argv, struct cli_ctx *ctx)
         { NULL, 0, NULL, 0 },
     };
     const char *dir = "bandgap-demo";
-    char path[4096], db[4096];
+    char db[4096];
     struct cli_ctx dctx = *ctx;
-    int c, rc;
+    int c;
 
     opterr = 0;
     while ((c = getopt_long(argc, argv, ":h", opts, NULL)) != -1) {
@@ -101,155 +329,8 @@ int cmd_demo(int argc, char **argv, struct cli_ctx *ctx)
         cli_error("demo: cannot create '%s': %s", dir, strerror(errno));
         return CLI_ECANTCREAT;
     }
-    printf("INVENTED DEMO DATA: the (invented) Lindqvist glasshouse cooperative calibrates\n"
-           "two deliveries of its soil probes, lots %s and %s (12 probes each, in a stirred\n"
-           "bath beside reference thermometer REF-7, 18 readings from -20 to 60 degC), and\n"
-           "recalibrates the first lot six months later.\n\n", DEMO_LOT, DEMO_LOT2);
-    size_t nfiles = 0;
-    for (const struct demo_file *df = demo_files; df->name; df++, nfiles++) {
-        FILE *f;
-        snprintf(path, sizeof path, "%s/%s", dir, df->name);
-        if (!(f = fopen(path, "w"))) {
-            cli_error("demo: cannot create '%s': %s", path, strerror(errno));
-            return CLI_ECANTCREAT;
-        }
-        if (fputs(df->text, f) == EOF || fclose(f) != 0) {
-            cli_error("demo: cannot write '%s': %s", path, strerror(errno));
-            return BG_EIO;
-        }
-    }
-    printf("wrote %zu readings files to %s/\n", nfiles, dir);
     snprintf(db, sizeof db, "%s/demo.db", dir);
-    if (unlink(db) != 0 && errno != ENOENT) {
-        cli_error("demo: cannot replace '%s': %s", db, strerror(errno));
-        return CLI_ECANTCREAT;
-    }
     dctx.db_path = db;
     dctx.json = 0;
-    {
-        const char *a_init[] = { "init", NULL };
-        const char *a_lot[] = { "lot", "add", DEMO_LOT, "--part", "SOIL-NTC-10K", "--r25", "10k",
-                                "--beta", "3950", "--pair", "25/85", "--tol-r25", "1%",
-                                "--tol-beta", "0.5%", "--note", "invented demo lot", NULL };
-        const char *a_lot2[] = { "lot", "add", DEMO_LOT2, "--part", "SOIL-NTC-10K", "--r25",
-                                 "10k", "--beta", "3950", "--pair", "25/85", "--tol-r25", "1%",
-                                 "--tol-beta", "0.5%", "--note", "invented demo lot", NULL };
-        const char *a_ref[] = { "ref", "add", "REF-7", "--cert", "INVENTED-CAL-2026-0117",
-                                "--due", "2027-09-30", "--linear", "0.0042,-0.00011,20", NULL };
-        if ((rc = run(&dctx, cmd_init, a_init)) != BG_OK ||
-            (rc = run(&dctx, cmd_lot, a_lot)) != BG_OK ||
-            (rc = run(&dctx, cmd_lot, a_lot2)) != BG_OK ||
-            (rc = run(&dctx, cmd_ref, a_ref)) != BG_OK)
-            return rc;
-    }
-    /* First rounds: probe-SERIAL.csv; the second lot's serials start GH-05. */
-    for (int round = 1; round <= 2; round++) {
-        if (round == 2) {
-            printf("\n== calibration report of probe %s (model chosen automatically) ==\n\n",
-                   DEMO_PROBE);
-            const char *a_fit[] = { "fit", "--probe", DEMO_PROBE, NULL };
-            const char *a_l1[] = { "fit", "--lot", DEMO_LOT, "--model", "sh3", NULL };
-            const char *a_l2[] = { "fit", "--lot", DEMO_LOT2, "--model", "sh3", NULL };
-            if ((rc = run(&dctx, cmd_fit, a_fit)) != BG_OK)
-                return rc;
-            printf("\n== lots %s and %s, Steinhart-Hart (sh3) for every probe ==\n\n",
-                   DEMO_LOT, DEMO_LOT2);
-            if ((rc = run(&dctx, cmd_fit, a_l1)) != BG_OK ||
-                (rc = run(&dctx, cmd_fit, a_l2)) != BG_OK)
-                return rc;
-            printf("\n== six months later: the second round of lot %s ==\n\n", DEMO_LOT);
-        }
-        const char *prefix = round == 1 ? "probe-" : "recal-";
-        for (const struct demo_file *df = demo_files; df->name; df++) {
-            char serial[64];
-            size_t pl = strlen(prefix);
-            if (strncmp(df->name, prefix, pl) != 0)
-                continue;
-            /* probe-GH-0417.csv -> GH-0417 */
-            snprintf(serial, sizeof serial, "%.*s", (int)(strlen(df->name) - pl - 4),
-                     df->name + pl);
-            snprintf(path, sizeof path, "%s/%s", dir, df->name);
-            const char *lot = strncmp(serial, "GH-05", 5) == 0 ? DEMO_LOT2 : DEMO_LOT;
-            const char *a_probe[] = { "probe", "add", serial, "--lot", lot, NULL };
-            const char *a_imp[] = { "import", path, "--probe", serial, "--ref", "REF-7",
-                                    "--operator", "I. Nventa", "--medium", "stirred water-glycol",
-                                    "--ambient", "21 degC", "--excitation", "10 uA", NULL };
-            if ((round == 1 && (rc = run(&dctx, cmd_probe, a_probe)) != BG_OK) ||
-                (rc = run(&dctx, cmd_import, a_imp)) != BG_OK)
-                return rc;
-        }
-    }
-    {
-        const char *a_l1[] = { "fit", "--lot", DEMO_LOT, "--model", "sh3", NULL };
-        const char *a_dp[] = { "drift", "--probe", DEMO_PROBE, "--limit", "50mK", NULL };
-        const char *a_dl[] = { "drift", "--lot", DEMO_LOT2, NULL };
-        const char *a_dpart[] = { "drift", "--part", "SOIL-NTC-10K", "--baseline", "1", NULL };
-        /* the operator noted that the second -20 degC reading of GH-0417's recalibration
-        ** was taken before the bath had settled: it is excluded, with the reason */
-        long long excl = 0;
-        if ((rc = demo_reading_id(&dctx, DEMO_PROBE, 8, &excl)) != BG_OK)
-            return rc;
-        char excl_id[32];
-        snprintf(excl_id, sizeof excl_id, "%lld", excl);
-        const char *a_ex[] = { "exclude", excl_id, "--why", "bath not settled (operator's note)",
-                               "--by", "I. Nventa", NULL };
-        printf("\n== one reading of %s's recalibration excluded, then the lot refitted ==\n\n",
-               DEMO_PROBE);
-        if ((rc = run(&dctx, cmd_exclude, a_ex)) != BG_OK ||
-            (rc = run(&dctx, cmd_fit, a_l1)) != BG_OK)
-            return rc;
-        /* The drift reports flag what the invented data hold; that is the demo, not a failure. */
-        printf("\n== drift of probe %s between the rounds ==\n\n", DEMO_PROBE);
-        if ((rc = run(&dctx, cmd_drift, a_dp)) != BG_OK && rc != CLI_FLAGGED)
-            return rc;
-        printf("\n== lot %s against its nominal curve ==\n\n", DEMO_LOT2);
-        if ((rc = run(&dctx, cmd_drift, a_dl)) != BG_OK && rc != CLI_FLAGGED)
-            return rc;
-        printf("\n== the part across its lots ==\n\n");
-        if ((rc = run(&dctx, cmd_drift, a_dpart)) != BG_OK && rc != CLI_FLAGGED)
-            return rc;
-        /* An invented board: the probe on the low side of a 10k divider, 12-bit ADC. */
-        char cfile[4200], tfile[4200];
-        snprintf(cfile, sizeof cfile, "%s/glasshouse_ntc.c", dir);
-        snprintf(tfile, sizeof tfile, "%s/table-report.html", dir);
-        const char *a_lut[] = { "lut", "--probe", DEMO_PROBE, "--fixed", "10k", "--sensor-side",
-                                "low", "--adc-bits", "12", "--range", "-15C:55C", "--max-error",
-                                "0.05C", "--symbol", "glasshouse_ntc", "--fixed-tol", "0.1%",
-                                "--excitation", "3.3", "--dissipation", "1.5mW/K", "-o", cfile,
-                                "--report", tfile, NULL };
-        printf("\n== a firmware table for an invented board (probe %s on the low side of a 10k"
-               "\n   divider, 12-bit ADC, 3.3 V): %s ==\n\n", DEMO_PROBE, cfile);
-        if ((rc = run(&dctx, cmd_lut, a_lut)) != BG_OK)
-            return rc;
-        /* the reports: the probe's newest calibration, the recalibrated lot, the table */
-        bg_store *st = NULL;
-        bg_probe pr;
-        bg_error err = BG_ERROR_INIT;
-        long long run_id = 0;
-        if ((rc = cli_open_store(&dctx, 0, &st)) != BG_OK)
-            return rc;
-        rc = bg_store_probe_get(st, DEMO_PROBE, &pr, &err);
-        if (rc == BG_OK)
-            rc = bg_store_run_latest(st, pr.id, &run_id, &err);
-        bg_store_close(st);
-        if (rc != BG_OK)
-            return cli_fail("demo", &err);
-        char rid[32], rfile[4200], lfile[4200];
-        snprintf(rid, sizeof rid, "%lld", run_id);
-        snprintf(rfile, sizeof rfile, "%s/calibration-report.html", dir);
-        snprintf(lfile, sizeof lfile, "%s/lot-report.html", dir);
-        const char *a_rr[] = { "report", "--run", rid, "--lab", "Lindqvist cooperative test "
-                               "bench (invented)", "--customer", "Lindqvist glasshouse "
-                               "cooperative (invented)", "--dissipation", "1.5mW/K", "-o",
-                               rfile, NULL };
-        const char *a_lr[] = { "report", "--lot", DEMO_LOT, "--lab", "Lindqvist cooperative "
-                               "test bench (invented)", "-o", lfile, NULL };
-        printf("\n== reports (self-contained HTML; open them in a browser or print them) ==\n\n");
-        if ((rc = run(&dctx, cmd_report, a_rr)) != BG_OK ||
-            (rc = run(&dctx, cmd_report, a_lr)) != BG_OK)
-            return rc;
-        printf("table report: %s\n", tfile);
-    }
-    printf("\ndatabase: %s  (try: bandgap --db %s list fits)\n", db, db);
-    return BG_OK;
+    return demo_scenario(&dctx, dir, db);
 }

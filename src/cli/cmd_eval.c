@@ -110,7 +110,7 @@ static int eval_compute(struct eval_args *a, bg_curve_src *src, bg_curve *c)
 
     if ((rc = cli_inline_model(&a->in, "eval", &m)) != BG_OK)
         return rc;
-    if (m.kind == BG_MODEL_BETA)
+    if (bg_model_flags(&m) & BG_MODEL_R0_BETA)
         m.pair_t1_k = a->p1, m.pair_t2_k = a->p2;
     if (a->nq == 0)
         return cli_usage_error("eval", "give at least one --ohms or --temp");

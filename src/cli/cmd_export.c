@@ -111,7 +111,7 @@ static int fit_cb(const bg_fit_row *f, void *p)
     csv_text(o, e->lot);
     fprintf(o, "%lld,,,,,,,,,,,,%lld,", f->run_id, f->id);
     csv_text(o, name);
-    csv_num(o, f->model.kind == BG_MODEL_BETA ? f->model.t0_k : NAN);
+    csv_num(o, (bg_model_flags(&f->model) & BG_MODEL_HAS_T0) ? f->model.t0_k : NAN);
     for (size_t i = 0; i < BG_MODEL_MAXPAR; i++)
         csv_num(o, i < f->npar ? f->model.coef[i] : NAN);
     fprintf(o, "%zu,%zu,", f->n, f->dof);

@@ -65,7 +65,7 @@ int cli_inline_model(const struct cli_inline *in, const char *cmd, bg_model *m)
     m->t0_k = in->t0_k;
     for (size_t i = 0; i < n; i++)
         coef[i] = in->coef[i];
-    if (m->kind == BG_MODEL_BETA && !in->have_coef) {
+    if ((bg_model_flags(m) & BG_MODEL_R0_BETA) && !in->have_coef) {
         if (!isfinite(in->r25) || !isfinite(in->beta))
             return cli_usage_error(cmd, "the beta model needs --r25 and --beta (or --coef "
                                    "R0,beta)");

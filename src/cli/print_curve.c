@@ -96,7 +96,7 @@ static void eval_json(const bg_curve_src *src, const bg_curve *c)
         json_str(&j, NULL, bg_model_coef_name(m, i));
     json_arr_end(&j);
     json_nums(&j, "coefficients", m->coef, ncoef);
-    if (m->kind == BG_MODEL_BETA)
+    if (bg_model_flags(m) & BG_MODEL_HAS_T0)
         json_num(&j, "t0_k", m->t0_k);
     json_arr(&j, "results");
     for (size_t i = 0; i < c->n; i++) {

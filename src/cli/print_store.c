@@ -57,7 +57,7 @@ void cli_json_fit(json_out *j, const bg_fit_row *f, unsigned with)
     if (with & CLI_FIT_PROBE)
         json_str(j, "probe", f->serial);
     json_str(j, "model", bg_model_name(&f->model, name, sizeof name));
-    if (f->model.kind == BG_MODEL_BETA)
+    if (bg_model_flags(&f->model) & BG_MODEL_HAS_T0)
         json_num(j, "t0_k", f->model.t0_k);
     json_nums(j, "coefficients", f->model.coef, f->npar);
     if ((with & CLI_FIT_COV) && f->has_cov) {
@@ -278,7 +278,7 @@ static void fit_json(const bg_fit_row *f, const long long *ids, size_t nids, con
         json_str(&j, NULL, bg_model_coef_name(&f->model, i));
     json_arr_end(&j);
     json_nums(&j, "coefficients", f->model.coef, f->npar);
-    if (f->model.kind == BG_MODEL_BETA)
+    if (bg_model_flags(&f->model) & BG_MODEL_HAS_T0)
         json_num(&j, "t0_k", f->model.t0_k);
     if (f->has_cov) {
         json_arr(&j, "covariance");
@@ -323,8 +323,8 @@ static void fit_text(const bg_fit_row *f, const long long *ids, size_t nids, con
     printf("fit %lld of probe %s, run %lld, made %s by bandgap %s\n", f->id, f->serial,
            f->run_id, f->created_at, f->program_version);
     printf("model %s%s", bg_model_name(&f->model, name, sizeof name),
-           f->model.kind == BG_MODEL_BETA ? "" : "\n");
-    if (f->model.kind == BG_MODEL_BETA)
+           (bg_model_flags(&f->model) & BG_MODEL_HAS_T0) ? "" : "\n");
+    if (bg_model_flags(&f->model) & BG_MODEL_HAS_T0)
         printf(", T0 = %.3f degC\n", f->model.t0_k - BG_ZERO_C_K);
     for (size_t i = 0; i < f->npar; i++) {
         double su = f->has_cov ? sqrt(f->cov[i * f->npar + i]) : NAN;

@@ -295,7 +295,7 @@ static void model_and_uncertainty(FILE *f, const bg_calib_report *r)
         fputs("</tr>\n", f);
     }
     fputs("</table>\n", f);
-    if (m->kind == BG_MODEL_BETA)
+    if (bg_model_flags(m) & BG_MODEL_HAS_T0)
         fprintf(f, "<p>Reference temperature T0 = %.2f degC.</p>\n", cdeg(m->t0_k));
     fprintf(f, "<p id=\"fitstats\">RMS residual ");
     bgi_html_num(f, "span", "rms", "%.3f", ft->rms_mk);

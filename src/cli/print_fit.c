@@ -1,0 +1,404 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Printers of calibration results (bg_calib_result, bg_calib_lot): the report as text or
+** JSON, the lot's table, and their warnings and errors on stderr.  Shared by 'fit' and 'demo'. */
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "cli.h"
+
+void print_fit_warnings(const bg_calib_result *r, bg_temp_unit unit)
+{
+    char b1[64];
+    for (size_t i = 0; i < r->fit.nnotes; i++)
+        cli_warn("%s", r->fit.notes[i].msg);
+    for (size_t i = 0; i < r->nchecks; i++) {
+        const bg_calib_check *c = &r->checks[i];
+        if (!c->ok)
+            cli_warn("--at %s: %s", bg_units_format_temp(c->t_k, unit, 3, b1, sizeof b1),
+                     c->why);
+        else if (c->extrapolated)
+            cli_warn("--at %s: outside the calibrated range: extrapolated, not calibrated",
+                     bg_units_format_temp(c->t_k, unit, 3, b1, sizeof b1));
+    }
+}
+
+/* ---- JSON ---- */
+
+/* The fit itself: model, coefficients, covariance and statistics. */
+static void json_fit(json_out *j, const bg_calib_result *r)
+{
+    const bg_fit *f = &r->fit;
+    char name[16];
+
+    json_str(j, "model", bg_model_name(&f->model, name, sizeof name));
+    json_str(j, "requested_model", r->requested);
+    json_arr(j, "coefficient_names");
+    for (size_t i = 0; i < f->npar; i++)
+        json_str(j, NULL, bg_model_coef_name(&f->model, i));
+    json_arr_end(j);
+    json_nums(j, "coefficients", f->model.coef, f->npar);
+    json_arr(j, "u_coefficients");
+    for (size_t i = 0; i < f->npar; i++)
+        json_num(j, NULL, sqrt(f->cov[i * f->npar + i]));
+    json_arr_end(j);
+    if (f->dof > 0) {
+        json_arr(j, "covariance");
+        for (size_t i = 0; i < f->npar; i++)
+            json_nums(j, NULL, &f->cov[i * f->npar], f->npar);
+        json_arr_end(j);
+    } else
+        json_null(j, "covariance");
+    if (bg_model_flags(&f->model) & BG_MODEL_HAS_T0)
+        json_num(j, "t0_k", f->model.t0_k);
+    json_int(j, "n", (long long)f->n);
+    json_int(j, "dof", (long long)f->dof);
+    json_bool(j, "weighted", f->weighted);
+    json_num(j, "chi2", f->chi2);
+    json_num(j, "reduced_chi2", f->reduced_chi2);
+    json_num(j, "p_value", bg_fit_p_value(f));
+    json_num(j, "cov_scale", f->cov_scale);
+    json_num(j, "rms_mk", f->rms_mk);
+    json_num(j, "max_abs_mk", f->max_abs_mk);
+    json_num(j, "aic", f->aic);
+    json_num(j, "bic", f->bic);
+    json_num(j, "rcond", f->rcond);
+    json_int(j, "iterations", f->iterations);
+    json_nums(j, "residuals_mk", f->resid_mk, f->n);
+    json_nums(j, "studentized", f->student, f->n);
+    json_nums(j, "u_k", f->u_k, f->n);
+    json_arr(j, "lines");
+    for (size_t i = 0; i < f->n; i++)
+        json_int(j, NULL, (long long)f->line[i]);
+    json_arr_end(j);
+}
+
+/* The range, the curve's uncertainty, the B pair and the check temperatures. */
+static void json_curve(json_out *j, const bg_calib_result *r)
+{
+    const bg_fit *f = &r->fit;
+
+    json_obj(j, "range");
+    json_num(j, "t_min_k", f->t_min_k);
+    json_num(j, "t_max_k", f->t_max_k);
+    json_num(j, "t_min_c", bg_units_from_k(f->t_min_k, BG_UNIT_C));
+    json_num(j, "t_max_c", bg_units_from_k(f->t_max_k, BG_UNIT_C));
+    json_obj_end(j);
+    json_num(j, "coverage_probability", r->coverage);
+    json_num(j, "k_student", r->k_student);
+    json_arr(j, "uncertainty");
+    for (size_t i = 0; i < r->ntable; i++) {
+        json_obj(j, NULL);
+        json_num(j, "t_k", r->table_t_k[i]);
+        json_num(j, "u_k", r->table_u_k[i]);
+        json_num(j, "U_k2", 2.0 * r->table_u_k[i]);
+        json_num(j, "U_student", r->k_student * r->table_u_k[i]);
+        json_obj_end(j);
+    }
+    json_arr_end(j);
+    json_obj(j, "b_pair");
+    json_num(j, "t1_k", r->pair_t1_k);
+    json_num(j, "t2_k", r->pair_t2_k);
+    json_num(j, "b_k", r->b_pair_k);
+    json_obj_end(j);
+    if (r->nchecks) {
+        json_arr(j, "at");
+        for (size_t i = 0; i < r->nchecks; i++) {
+            json_obj(j, NULL);
+            json_num(j, "t_k", r->checks[i].t_k);
+            json_num(j, "ohms", r->checks[i].r_ohm);
+            json_num(j, "u_k", r->checks[i].u_k);
+            json_bool(j, "extrapolated", r->checks[i].extrapolated);
+            json_obj_end(j);
+        }
+        json_arr_end(j);
+    }
+}
+
+static void json_comparison(json_out *j, const bg_calib_result *r)
+{
+    char name[16];
+
+    if (!r->compared) {
+        json_null(j, "comparison");
+        return;
+    }
+    json_obj(j, "comparison");
+    json_arr(j, "models");
+    for (size_t i = 0; i < r->cmp.nrows; i++) {
+        const bg_cmp_row *row = &r->cmp.row[i];
+        json_obj(j, NULL);
+        json_str(j, "model", bg_model_name(&row->model, name, sizeof name));
+        json_int(j, "npar", (long long)row->npar);
+        json_bool(j, "fitted", row->ok);
+        if (row->ok) {
+            json_num(j, "rms_mk", row->rms_mk);
+            json_num(j, "max_abs_mk", row->max_abs_mk);
+            json_num(j, "loo_rms_mk", row->loo_rms_mk);
+            json_num(j, "aic", row->aic);
+            json_num(j, "bic", row->bic);
+        } else
+            json_str(j, "why", row->why);
+        json_obj_end(j);
+    }
+    json_arr_end(j);
+    json_str(j, "chosen", bg_model_name(&r->cmp.row[r->cmp.chosen].model, name, sizeof name));
+    json_str(j, "reason", r->cmp.reason);
+    json_obj_end(j);
+}
+
+static void print_fit_json(const bg_calib_result *r)
+{
+    json_out j;
+
+    json_begin(&j, stdout);
+    json_obj(&j, NULL);
+    json_str(&j, "source", r->source);
+    if (r->fit_id) {
+        json_int(&j, "fit_id", r->fit_id);
+        json_int(&j, "run_id", r->run_id);
+        json_str(&j, "probe", r->serial);
+    }
+    json_fit(&j, r);
+    json_curve(&j, r);
+    json_comparison(&j, r);
+    json_arr(&j, "warnings");
+    for (size_t i = 0; i < r->fit.nnotes; i++)
+        json_str(&j, NULL, r->fit.notes[i].msg);
+    json_arr_end(&j);
+    json_obj_end(&j);
+    json_end(&j);
+}
+
+/* ---- text ---- */
+
+static const char *t_heading(bg_temp_unit un)
+{
+    return bg_units_symbol(un, 1)[0] == 'K' ? "T/K" : un == BG_UNIT_F ? "T/degF" : "T/degC";
+}
+
+/* The readings, the model with its coefficients, the weights and the residuals. */
+static void text_fit(const bg_calib_result *r, bg_temp_unit un)
+{
+    const bg_fit *f = &r->fit;
+    char name[16], b1[64], b2[64];
+
+    printf("readings: %s, %zu points, %s .. %s\n", r->source, f->n,
+           bg_units_format_temp(f->t_min_k, un, 3, b1, sizeof b1),
+           bg_units_format_temp(f->t_max_k, un, 3, b2, sizeof b2));
+    printf("model: %s   %s,  L = ln(R / 1 ohm), T in K\n",
+           bg_model_name(&f->model, name, sizeof name), bg_model_formula(&f->model));
+    if (bg_model_flags(&f->model) & BG_MODEL_HAS_T0)
+        printf("  T0 = %s\n", bg_units_format_temp(f->model.t0_k, un, 3, b1, sizeof b1));
+    for (size_t i = 0; i < f->npar; i++) {
+        double u = sqrt(f->cov[i * f->npar + i]);
+        if (isfinite(u))
+            printf("  %-5s = %18.10e   u = %.2e\n", bg_model_coef_name(&f->model, i),
+                   f->model.coef[i], u);
+        else
+            printf("  %-5s = %18.10e   u = n/a\n", bg_model_coef_name(&f->model, i),
+                   f->model.coef[i]);
+    }
+    if (f->weighted)
+        printf("weights: stated uncertainties; chi2 = %.4g for %zu dof (reduced %.4g, p = %.3g)"
+               "%s\n", f->chi2, f->dof, f->reduced_chi2, bg_fit_p_value(f),
+               f->cov_scale > 1.0 ? "; covariance scaled by reduced chi2" : "");
+    else
+        printf("weights: equal (no uncertainties given); covariance from the residual "
+               "scatter, %zu dof\n", f->dof);
+    printf("\nresiduals (measured - fitted):\n");
+    printf("  %6s  %12s  %12s  %11s  %8s\n", "line", t_heading(un), "R/ohm", "resid/mK",
+           "student");
+    for (size_t i = 0; i < f->n; i++) {
+        const bg_point *p = &r->pts[i];
+        printf("  %6zu  %12.4f  %12s  %11.4f  %8.2f\n", p->line, bg_units_from_k(p->t_k, un),
+               bg_units_format_ohms(p->r_ohm, 7, b1, sizeof b1), f->resid_mk[i], f->student[i]);
+    }
+    printf("  RMS %.4f mK, max |residual| %.4f mK\n", f->rms_mk, f->max_abs_mk);
+}
+
+/* The B pair, the uncertainty table and the check temperatures. */
+static void text_curve(const bg_calib_result *r, bg_temp_unit un)
+{
+    const bg_fit *f = &r->fit;
+    char b1[64], b2[64];
+
+    if (isfinite(r->b_pair_k)) {
+        bg_units_format_temp(r->pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1);
+        bg_units_format_temp(r->pair_t2_k, BG_UNIT_C, 2, b2, sizeof b2);
+        printf("B(%s / %s) = %.2f K\n", b1, b2, r->b_pair_k);
+    }
+    if (f->dof > 0) {
+        printf("\ncurve uncertainty (coverage %.2f %%: k = 2, Student-t k = %.2f for %zu dof):\n",
+               100.0 * r->coverage, r->k_student, f->dof);
+        printf("  %12s  %10s  %12s  %12s\n", t_heading(un), "u/mK", "U(k=2)/mK", "U(t)/mK");
+        for (size_t i = 0; i < r->ntable; i++)
+            printf("  %12.3f  %10.4f  %12.4f  %12.4f\n", bg_units_from_k(r->table_t_k[i], un),
+                   1e3 * r->table_u_k[i], 2e3 * r->table_u_k[i],
+                   1e3 * r->k_student * r->table_u_k[i]);
+    } else
+        printf("\ncurve uncertainty: n/a (no degrees of freedom left)\n");
+    for (size_t i = 0; i < r->nchecks; i++) {
+        const bg_calib_check *c = &r->checks[i];
+        char b3[32] = "n/a";
+        if (!c->ok)
+            continue;
+        if (isfinite(c->u_k))
+            snprintf(b3, sizeof b3, "%.4f mK", 2e3 * c->u_k);
+        printf("at %s: R = %s ohm, U(k=2) = %s%s\n",
+               bg_units_format_temp(c->t_k, un, 3, b1, sizeof b1),
+               bg_units_format_ohms(c->r_ohm, 7, b2, sizeof b2), b3,
+               c->extrapolated ? "   EXTRAPOLATED: outside the calibrated range" : "");
+    }
+}
+
+static void text_comparison(const bg_calib_result *r)
+{
+    char name[16];
+
+    printf("\nmodel comparison:\n");
+    if (!r->compared) {
+        printf("  not available: %s\n", r->cmp_why);
+        return;
+    }
+    printf("  %-7s %4s  %10s  %10s  %10s  %10s  %10s\n", "model", "npar", "RMS/mK", "max/mK",
+           "LOO/mK", "AIC", "BIC");
+    for (size_t i = 0; i < r->cmp.nrows; i++) {
+        const bg_cmp_row *row = &r->cmp.row[i];
+        bg_model_name(&row->model, name, sizeof name);
+        if (row->ok)
+            printf("  %-7s %4zu  %10.4f  %10.4f  %10.4f  %10.2f  %10.2f%s\n", name, row->npar,
+                   row->rms_mk, row->max_abs_mk, row->loo_rms_mk, row->aic, row->bic,
+                   (int)i == r->cmp.chosen ? "  <- chosen" : "");
+        else
+            printf("  %-7s %4zu  not compared: %s\n", name, row->npar, row->why);
+    }
+    printf("  choice: %s\n", r->cmp.reason);
+}
+
+static void print_fit_text(const bg_calib_result *r, bg_temp_unit un)
+{
+    char b1[64], b2[64];
+
+    if (r->fit_id)
+        printf("probe %s, %s (%s)\n", r->serial, r->source, r->started_at);
+    text_fit(r, un);
+    text_curve(r, un);
+    text_comparison(r);
+    printf("\nValid only inside the calibrated range (%s .. %s) and within the stated\n"
+           "uncertainty.  Not an accredited certificate; for medical, food-safety or\n"
+           "process-safety use follow local regulations and accredited practice.\n",
+           bg_units_format_temp(r->fit.t_min_k, un, 3, b1, sizeof b1),
+           bg_units_format_temp(r->fit.t_max_k, un, 3, b2, sizeof b2));
+    if (r->fit_id)
+        printf("stored as fit %lld\n", r->fit_id);
+}
+
+void print_fit(const bg_calib_result *r, bg_temp_unit unit, int json)
+{
+    print_fit_warnings(r, unit);
+    if (json)
+        print_fit_json(r);
+    else
+        print_fit_text(r, unit);
+}
+
+/* ---- a lot ---- */
+
+/* Each probe's warnings and failures, in the lot's order, on stderr (the first 20 failures). */
+static void lot_messages(const bg_calib_lot *lot)
+{
+    size_t nfail = 0;
+    for (size_t i = 0; i < lot->nrows; i++) {
+        const bg_calib_lot_row *row = &lot->rows[i];
+        if (row->status == BG_CALIB_FAILED) {
+            if (++nfail <= 20)
+                cli_error("probe '%s': %s", row->serial, row->why);
+            else if (nfail == 21)
+                cli_error("... (further failures not shown)");
+        }
+        for (size_t k = 0; k < row->nnotes; k++)
+            cli_warn("probe '%s': %s", row->serial, lot->notes[row->note0 + k].msg);
+    }
+}
+
+static void lot_json(const bg_calib_lot *lot)
+{
+    json_out j;
+    char name[16];
+
+    json_begin(&j, stdout);
+    json_obj(&j, NULL);
+    json_str(&j, "lot", lot->lot.code);
+    json_arr(&j, "probes");
+    for (size_t i = 0; i < lot->nrows; i++) {
+        const bg_calib_lot_row *row = &lot->rows[i];
+        json_obj(&j, NULL);
+        json_str(&j, "probe", row->serial);
+        if (row->status != BG_CALIB_FITTED) {
+            json_str(&j, "status", "no runs");
+            json_obj_end(&j);
+            continue;
+        }
+        json_str(&j, "status", "fitted");
+        json_int(&j, "run_id", row->run_id);
+        json_int(&j, "fit_id", row->fit_id);
+        json_str(&j, "model", bg_model_name(&row->model, name, sizeof name));
+        json_nums(&j, "coefficients", row->model.coef, row->npar);
+        json_int(&j, "n", (long long)row->n);
+        json_num(&j, "rms_mk", row->rms_mk);
+        json_num(&j, "max_abs_mk", row->max_abs_mk);
+        json_num(&j, "max_U_k2_mk", 2e3 * row->u_max_k);
+        json_num(&j, "r25_ohm", row->r25_ohm);
+        json_num(&j, "b_k", row->b_k);
+        json_obj_end(&j);
+    }
+    json_arr_end(&j);
+    json_int(&j, "fitted", (long long)lot->nfitted);
+    json_int(&j, "without_runs", (long long)lot->nnoruns);
+    json_obj_end(&j);
+    json_end(&j);
+}
+
+static void lot_text(const bg_calib_lot *lot)
+{
+    char name[16], rb[32], b1[64], b2[64];
+
+    printf("%-20s %6s %6s %-7s %4s %10s %10s %11s %12s %10s\n", "probe", "run", "fit", "model",
+           "n", "RMS/mK", "max/mK", "U(k=2)/mK", "R25/ohm", "B/K");
+    for (size_t i = 0; i < lot->nrows; i++) {
+        const bg_calib_lot_row *row = &lot->rows[i];
+        if (row->status != BG_CALIB_FITTED) {
+            printf("%-20s   no calibration runs: not fitted\n", row->serial);
+            continue;
+        }
+        printf("%-20s %6lld %6lld %-7s %4zu %10.4f %10.4f %11.4f %12s %10.2f\n", row->serial,
+               row->run_id, row->fit_id, bg_model_name(&row->model, name, sizeof name), row->n,
+               row->rms_mk, row->max_abs_mk, 2e3 * row->u_max_k,
+               bg_units_format_ohms(row->r25_ohm, 7, rb, sizeof rb), row->b_k);
+    }
+    printf("lot %s: %zu probes fitted, %zu without runs; B for %s / %s\n", lot->lot.code,
+           lot->nfitted, lot->nnoruns,
+           bg_units_format_temp(lot->lot.pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1),
+           bg_units_format_temp(lot->lot.pair_t2_k, BG_UNIT_C, 2, b2, sizeof b2));
+}
+
+int print_fit_lot(const bg_calib_lot *lot, int rc, const bg_error *err, int json)
+{
+    lot_messages(lot);
+    if (rc != BG_OK)
+        return cli_fail(NULL, err);
+    if (json)
+        lot_json(lot);
+    else
+        lot_text(lot);
+    return BG_OK;
+}
+
+/* cli_progress for bg_calibrate_lot. */
+int print_fit_progress(size_t done, size_t total, void *ctx)
+{
+    (void)ctx;
+    cli_progress("fitting", done, total);
+    return 0;
+}

@@ -1,0 +1,460 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* The calibration workflow: the default-uncertainty rule, the "auto" model choice (the policy
+** itself is bg_fit_compare's), the quantities a calibration report shows, a stored run fitted
+** and saved, and a whole lot fitted in one transaction, all or none. */
+#include <math.h>
+#include <stdint.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "bandgap/calib.h"
+#include "bandgap/csv.h"
+
+bg_calib_request bg_calib_default_request(void)
+{
+    bg_calib_request rq;
+    memset(&rq, 0, sizeof rq);
+    rq.model = "auto";
+    rq.t0_k = BG_T0_DEFAULT_K;
+    rq.pair_t1_k = 298.15, rq.pair_t2_k = 358.15; /* B25/85 */
+    rq.coverage = 0.9545;
+    rq.ntable = 9;
+    return rq;
+}
+
+void bg_calib_result_init(bg_calib_result *r)
+{
+    memset(r, 0, sizeof *r);
+    bg_fit_init(&r->fit);
+}
+
+void bg_calib_result_release(bg_calib_result *r)
+{
+    if (!r)
+        return;
+    free(r->source);
+    bg_fit_release(&r->fit);
+    free(r->pts);
+    free(r->table_t_k);
+    free(r->table_u_k);
+    free(r->checks);
+    bg_calib_result_init(r);
+}
+
+void bg_calib_lot_init(bg_calib_lot *lot)
+{
+    memset(lot, 0, sizeof *lot);
+}
+
+void bg_calib_lot_release(bg_calib_lot *lot)
+{
+    if (!lot)
+        return;
+    for (size_t i = 0; i < lot->nrows; i++)
+        free(lot->rows[i].why);
+    free(lot->rows);
+    free(lot->notes);
+    bg_calib_lot_init(lot);
+}
+
+/* The one default-uncertainty rule, for files, stored runs and lots alike: each reading that
+** states no u(T) (0) takes the request's, whether or not it states u(R). */
+static void apply_default_u(bg_point *pts, size_t n, double u_t_default_k)
+{
+    if (u_t_default_k > 0.0)
+        for (size_t i = 0; i < n; i++)
+            if (pts[i].u_t_k == 0.0)
+                pts[i].u_t_k = u_t_default_k;
+}
+
+/* Check 'rq' and turn it into fit options; '*is_auto' says whether the model is to be chosen. */
+static int request_opts(const bg_calib_request *rq, bg_fit_opts *o, int *is_auto, bg_error *err)
+{
+    *o = bg_fit_default_opts(NULL);
+    if (!rq->model)
+        return bg_error_set(err, BG_EINVAL, "no model requested (a name or \"auto\")");
+    if (strlen(rq->model) >= sizeof ((bg_calib_result *)0)->requested)
+        return bg_error_set(err, BG_EINVAL, "model '%s': unknown (the name is too long)",
+                            rq->model);
+    if (!(rq->t0_k > 0.0 && isfinite(rq->t0_k)))
+        return bg_error_set(err, BG_EINVAL, "T0 must be above 0 K");
+    if (!(rq->u_t_default_k >= 0.0 && isfinite(rq->u_t_default_k)))
+        return bg_error_set(err, BG_EINVAL, "default u(T) must be 0 (none) or above");
+    if (!(rq->coverage > 0.0 && rq->coverage < 1.0))
+        return bg_error_set(err, BG_EINVAL, "coverage probability must lie between 0 and 1");
+    if (rq->ntable < 2)
+        return bg_error_set(err, BG_EINVAL, "the u(T) table needs at least 2 points, got %zu",
+                            rq->ntable);
+    if (rq->ncheck && !rq->check_t_k)
+        return bg_error_set(err, BG_EINVAL, "%zu check temperatures but no array", rq->ncheck);
+    *is_auto = strcmp(rq->model, "auto") == 0;
+    if (!*is_auto && bg_model_parse(rq->model, &o->model, err) != BG_OK)
+        return BG_EINVAL;
+    o->model.t0_k = rq->t0_k;
+    o->refine = !rq->linear_only;
+    o->inflate = !rq->no_inflate;
+    o->coverage = rq->coverage;
+    return BG_OK;
+}
+
+/* Compare the models (always for "auto", else when 'compare'), then fit the requested or the
+** chosen one into 'out->fit'.  A comparison that fails on data (BG_EINVAL) with a named model
+** only leaves 'cmp_why'. */
+static int fit_model(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *base,
+                     int is_auto, int compare, bg_calib_result *out, bg_error *err)
+{
+    bg_fit_opts o = *base;
+    bg_error cerr = BG_ERROR_INIT;
+
+    out->compared = 0, out->auto_chosen = 0, out->cmp_why[0] = '\0';
+    if (is_auto || compare) {
+        int rc = bg_fit_compare(fr, pts, n, &o, &out->cmp, &cerr);
+        out->compared = rc == BG_OK;
+        memcpy(out->cmp_why, cerr.msg, sizeof out->cmp_why);
+        if (rc != BG_OK && (is_auto || cerr.code != BG_EINVAL)) {
+            if (err)
+                *err = cerr;
+            return rc;
+        }
+    }
+    if (is_auto) {
+        if (out->cmp.chosen < 0)
+            return bg_error_set(err, BG_EINTERNAL, "model comparison chose no model");
+        o.model = out->cmp.row[out->cmp.chosen].model;
+        out->auto_chosen = 1;
+    }
+    return bg_fitter_run(fr, pts, n, &o, &out->fit, err);
+}
+
+/* R25, B for the pair and the largest u(T) at the readings: what a lot's table shows. */
+static void derive_brief(bg_calib_result *out, const bg_point *pts, size_t n, double t1_k,
+                         double t2_k)
+{
+    const bg_fit *f = &out->fit;
+    double umax = 0.0;
+
+    out->pair_t1_k = t1_k, out->pair_t2_k = t2_k;
+    if (bg_model_b_pair(&f->model, t1_k, t2_k, &out->b_pair_k, NULL) != BG_OK)
+        out->b_pair_k = NAN;
+    if (bg_model_r_from_t(&f->model, BG_T0_DEFAULT_K, &out->r25_ohm, NULL) != BG_OK)
+        out->r25_ohm = NAN;
+    /* Taken at the readings, which include both ends of the range, where u(T) of these curves
+    ** is largest. */
+    for (size_t k = 0; k < n; k++) {
+        double u;
+        if (bg_fit_u_at_r(f, pts[k].r_ohm, &u, NULL) == BG_OK && u > umax)
+            umax = u;
+    }
+    out->u_max_k = f->dof ? umax : NAN;
+}
+
+/* '*p' grown to 'n' elements of 'size' bytes (at least one); NULL, with '*p' kept, when out of
+** memory. */
+static void *grow(void *p, size_t n, size_t size)
+{
+    if (n > SIZE_MAX / size - 1)
+        return NULL;
+    return realloc(p, (n ? n : 1) * size);
+}
+
+#define GROW(p, n, err)                                                                        \
+    do {                                                                                       \
+        void *grown_ = grow((p), (n), sizeof *(p));                                            \
+        if (!grown_)                                                                           \
+            return bg_error_set((err), BG_ENOMEM, "out of memory: %zu elements", (size_t)(n)); \
+        (p) = grown_;                                                                          \
+    } while (0)
+
+/* The coverage factor, the u(T) table across the range and the curve at the check points. */
+static int derive_full(bg_calib_result *out, const bg_calib_request *rq, bg_error *err)
+{
+    const bg_fit *f = &out->fit;
+
+    derive_brief(out, out->pts, out->npts, rq->pair_t1_k, rq->pair_t2_k);
+    out->coverage = rq->coverage;
+    out->k_student = bg_fit_coverage_k(f, rq->coverage);
+    GROW(out->table_t_k, rq->ntable, err);
+    GROW(out->table_u_k, rq->ntable, err);
+    GROW(out->checks, rq->ncheck, err);
+    out->ntable = rq->ntable;
+    for (size_t i = 0; i < out->ntable; i++) {
+        out->table_t_k[i] = f->t_min_k + (f->t_max_k - f->t_min_k) * (double)i /
+                                             (double)(out->ntable - 1);
+        if (bg_fit_u_t(f, out->table_t_k[i], &out->table_u_k[i], NULL, NULL) != BG_OK)
+            out->table_u_k[i] = NAN;
+    }
+    out->nchecks = rq->ncheck;
+    for (size_t i = 0; i < rq->ncheck; i++) {
+        bg_calib_check *c = &out->checks[i];
+        bg_error e2 = BG_ERROR_INIT;
+        memset(c, 0, sizeof *c);
+        c->t_k = rq->check_t_k[i];
+        c->ok = bg_model_r_from_t(&f->model, c->t_k, &c->r_ohm, &e2) == BG_OK &&
+                bg_fit_u_t(f, c->t_k, &c->u_k, &c->extrapolated, &e2) == BG_OK;
+        if (!c->ok) {
+            c->r_ohm = c->u_k = NAN;
+            memcpy(c->why, e2.msg, sizeof c->why - 1);
+        }
+    }
+    return BG_OK;
+}
+
+/* Forget an earlier result's values, keeping its buffers. */
+static int result_reset(bg_calib_result *out, const char *source, const char *model,
+                        bg_error *err)
+{
+    size_t len = strlen(source);
+    char *s = realloc(out->source, len + 1);
+    if (!s)
+        return bg_error_set(err, BG_ENOMEM, "out of memory");
+    memcpy(s, source, len + 1);
+    out->source = s;
+    snprintf(out->requested, sizeof out->requested, "%s", model);
+    out->npts = out->ntable = out->nchecks = 0;
+    out->fit_id = out->run_id = 0;
+    out->serial[0] = out->started_at[0] = '\0';
+    return BG_OK;
+}
+
+int bg_calibrate(const bg_point *pts, size_t n, const char *source, const bg_calib_request *rq,
+                 bg_calib_result *out, bg_error *err)
+{
+    bg_fitter *fr = NULL;
+    bg_fit_opts o;
+    int is_auto, rc;
+
+    if (!source)
+        source = "points";
+    if ((rc = request_opts(rq, &o, &is_auto, err)) != BG_OK ||
+        (rc = result_reset(out, source, rq->model, err)) != BG_OK)
+        return rc;
+    GROW(out->pts, n, err);
+    if (n)
+        memcpy(out->pts, pts, n * sizeof *pts);
+    out->npts = n;
+    apply_default_u(out->pts, n, rq->u_t_default_k);
+    if (!(fr = bg_fitter_new()))
+        return bg_error_set(err, BG_ENOMEM, "out of memory");
+    o.source = out->source;
+    rc = fit_model(fr, out->pts, n, &o, is_auto, 1, out, err);
+    bg_fitter_free(fr);
+    if (rc == BG_OK)
+        rc = derive_full(out, rq, err);
+    return rc;
+}
+
+int bg_calibrate_file(const char *path, const bg_calib_request *rq, bg_calib_result *out,
+                      bg_error *err)
+{
+    bg_readings rs = BG_READINGS_INIT;
+    bg_point *pts = NULL;
+    int rc;
+
+    if ((rc = bg_csv_read_file(path, &rs, err)) != BG_OK)
+        return rc;
+    if (rs.ref_ohms)
+        rc = bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs the reference "
+                          "thermometer's Callendar-Van Dusen coefficients: import the file with "
+                          "'bandgap import FILE --probe SERIAL --ref ID'", path);
+    else if (!(pts = grow(NULL, rs.n, sizeof *pts)))
+        rc = bg_error_set(err, BG_ENOMEM, "out of memory");
+    else {
+        bg_readings_points(&rs, pts);
+        rc = bg_calibrate(pts, rs.n, strcmp(path, "-") == 0 ? "<stdin>" : path, rq, out, err);
+    }
+    free(pts);
+    bg_readings_release(&rs);
+    return rc;
+}
+
+int bg_calibrate_probe(bg_store *st, const char *serial, long long run_id,
+                       const bg_calib_request *rq, bg_calib_result *out, bg_error *err)
+{
+    bg_store_points sp = BG_STORE_POINTS_INIT;
+    bg_probe probe;
+    bg_run run;
+    char source[64];
+    int rc;
+
+    if ((rc = bg_store_probe_get(st, serial, &probe, err)) != BG_OK)
+        return rc;
+    if (run_id == 0 && (rc = bg_store_run_latest(st, probe.id, &run_id, err)) != BG_OK) {
+        bg_error_prefix(err, "probe '%s'", serial);
+        return rc;
+    }
+    if ((rc = bg_store_run_get(st, run_id, &run, err)) != BG_OK)
+        return rc;
+    if (run.probe_id != probe.id)
+        return bg_error_set(err, BG_EINVAL, "run %lld belongs to probe '%s', not '%s'", run_id,
+                            run.serial, serial);
+    if ((rc = bg_store_run_points(st, run_id, &sp, err)) != BG_OK)
+        goto done;
+    snprintf(source, sizeof source, "run %lld", run_id);
+    if ((rc = bg_calibrate(sp.pts, sp.n, source, rq, out, err)) != BG_OK ||
+        (rc = bg_store_fit_save(st, run_id, &out->fit, sp.ids, &out->fit_id, err)) != BG_OK)
+        goto done;
+    out->run_id = run_id;
+    snprintf(out->serial, sizeof out->serial, "%s", probe.serial);
+    snprintf(out->started_at, sizeof out->started_at, "%s", run.started_at);
+done:
+    bg_store_points_release(&sp);
+    return rc;
+}
+
+/* ---- a whole lot -------------------------------------------------------------------------- */
+
+struct lot_pass {
+    bg_store *st;
+    const bg_calib_request *rq;
+    bg_fit_opts o;
+    int is_auto;
+    bg_fitter *fr;
+    bg_calib_result one;   /* reused for every probe */
+    bg_calib_lot *out;
+    size_t nprobes;
+    int rc;
+    bg_error *err;
+};
+
+/* A new row at the end of the lot's table, or NULL when out of memory. */
+static bg_calib_lot_row *lot_row(bg_calib_lot *out, bg_error *err)
+{
+    if (out->nrows == out->cap) {
+        size_t cap = out->cap ? 2 * out->cap : 64;
+        bg_calib_lot_row *r = grow(out->rows, cap, sizeof *r);
+        if (!r) {
+            bg_error_set(err, BG_ENOMEM, "out of memory: %zu probes", cap);
+            return NULL;
+        }
+        out->rows = r, out->cap = cap;
+    }
+    memset(&out->rows[out->nrows], 0, sizeof out->rows[0]);
+    return &out->rows[out->nrows++];
+}
+
+/* Keep the warnings of the fit just made for 'row'. */
+static int lot_notes(bg_calib_lot *out, bg_calib_lot_row *row, const bg_fit *fit, bg_error *err)
+{
+    row->note0 = out->nnotes, row->nnotes = fit->nnotes;
+    if (out->nnotes + fit->nnotes > out->notecap) {
+        size_t cap = 2 * (out->nnotes + fit->nnotes);
+        bg_note *v = grow(out->notes, cap, sizeof *v);
+        if (!v)
+            return bg_error_set(err, BG_ENOMEM, "out of memory: %zu warnings", cap);
+        out->notes = v, out->notecap = cap;
+    }
+    if (fit->nnotes)
+        memcpy(&out->notes[out->nnotes], fit->notes, fit->nnotes * sizeof *fit->notes);
+    out->nnotes += fit->nnotes;
+    return BG_OK;
+}
+
+/* The row of a probe whose fit failed: the message is kept. */
+static int lot_failed(struct lot_pass *lp, bg_calib_lot_row *row, const bg_error *e2)
+{
+    size_t len = strlen(e2->msg);
+    row->status = BG_CALIB_FAILED;
+    lp->out->nfailed++;
+    if (!(row->why = malloc(len + 1)))
+        return lp->rc = bg_error_set(lp->err, BG_ENOMEM, "out of memory");
+    memcpy(row->why, e2->msg, len + 1);
+    return 0;
+}
+
+/* One probe of the lot: fit its points and queue the fit, or note why not.  Returns non-zero
+** to stop the pass (an error in 'lp->rc'). */
+static int lot_probe(const char *serial, long long probe_id, long long run_id,
+                     bg_store_points *sp, void *p)
+{
+    struct lot_pass *lp = p;
+    bg_calib_lot *out = lp->out;
+    bg_calib_lot_row *row;
+    bg_error e2 = BG_ERROR_INIT;
+    char source[64];
+    (void)probe_id;
+
+    lp->nprobes++;
+    if (lp->rq->progress &&
+        lp->rq->progress(lp->nprobes, (size_t)out->lot.nprobes, lp->rq->progress_ctx) != 0)
+        return (lp->rc = bg_error_set(lp->err, BG_EINVAL, "lot '%s': stopped after %zu probes",
+                                      out->lot.code, lp->nprobes)) != BG_OK;
+    if (!(row = lot_row(out, lp->err)))
+        return (lp->rc = BG_ENOMEM) != BG_OK;
+    snprintf(row->serial, sizeof row->serial, "%s", serial);
+    row->run_id = run_id;
+    if (run_id == 0) {
+        row->status = BG_CALIB_NO_RUNS;
+        out->nnoruns++;
+        return 0;
+    }
+    snprintf(source, sizeof source, "run %lld", run_id);
+    apply_default_u(sp->pts, sp->n, lp->rq->u_t_default_k);
+    lp->o.source = source;
+    if (fit_model(lp->fr, sp->pts, sp->n, &lp->o, lp->is_auto, 0, &lp->one, &e2) != BG_OK)
+        return lot_failed(lp, row, &e2) != 0;
+    row->status = BG_CALIB_FITTED;
+    if ((lp->rc = lot_notes(out, row, &lp->one.fit, lp->err)) != BG_OK ||
+        (lp->rc = bg_store_fit_queue(lp->st, run_id, &lp->one.fit, sp->ids, &row->fit_id,
+                                     lp->err)) != BG_OK)
+        return 1;
+    derive_brief(&lp->one, sp->pts, sp->n, out->lot.pair_t1_k, out->lot.pair_t2_k);
+    row->model = lp->one.fit.model;
+    row->npar = lp->one.fit.npar, row->n = lp->one.fit.n;
+    row->rms_mk = lp->one.fit.rms_mk, row->max_abs_mk = lp->one.fit.max_abs_mk;
+    row->u_max_k = lp->one.u_max_k;
+    row->r25_ohm = lp->one.r25_ohm, row->b_k = lp->one.b_pair_k;
+    out->nfitted++;
+    return 0;
+}
+
+/* The pass over the lot inside the open transaction, and the verdict on it. */
+static int lot_pass_run(struct lot_pass *lp, const char *lot_code)
+{
+    int rc = bg_store_lot_points_each(lp->st, lot_code, lot_probe, lp, lp->err);
+    if (rc == BG_OK && lp->rc != BG_OK)
+        rc = lp->rc;
+    if (rc == BG_OK && lp->out->nfailed)
+        rc = bg_error_set(lp->err, BG_EINVAL, "lot '%s': %zu of %zu probes could not be "
+                          "fitted; nothing was stored", lot_code, lp->out->nfailed, lp->nprobes);
+    return rc;
+}
+
+int bg_calibrate_lot(bg_store *st, const char *lot_code, const bg_calib_request *rq,
+                     bg_calib_lot *out, bg_error *err)
+{
+    struct lot_pass lp;
+    int rc, in_tx = 0;
+
+    bg_calib_lot_release(out);
+    memset(&lp, 0, sizeof lp);
+    lp.st = st, lp.rq = rq, lp.out = out, lp.err = err;
+    bg_calib_result_init(&lp.one);
+    if ((rc = request_opts(rq, &lp.o, &lp.is_auto, err)) != BG_OK)
+        return rc;
+    if (!(lp.fr = bg_fitter_new()))
+        return bg_error_set(err, BG_ENOMEM, "out of memory");
+    if ((rc = bg_store_lot_get(st, lot_code, &out->lot, err)) != BG_OK)
+        goto done;
+    if (out->lot.nprobes == 0) {
+        rc = bg_error_set(err, BG_EINVAL, "lot '%s' has no probes (add them with 'bandgap "
+                          "probe add SERIAL --lot %s')", lot_code, lot_code);
+        goto done;
+    }
+    /* One transaction for the whole lot: all fits are stored, or none. */
+    if ((rc = bg_store_begin(st, err)) != BG_OK)
+        goto done;
+    in_tx = 1;
+    if ((rc = lot_pass_run(&lp, lot_code)) == BG_OK) {
+        in_tx = 0; /* a failed commit has rolled back */
+        rc = bg_store_commit(st, err);
+    }
+done:
+    if (in_tx)
+        bg_store_rollback(st);
+    out->stored = rc == BG_OK;
+    for (size_t i = 0; i < out->nrows && !out->stored; i++)
+        out->rows[i].fit_id = 0;
+    bg_calib_result_release(&lp.one);
+    bg_fitter_free(lp.fr);
+    return rc;
+}
