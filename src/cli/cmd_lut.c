@@ -224,7 +224,7 @@ static int write_report(const char *path, const bg_lut *t, const bg_lut_spec *s,
     }
     bg_model_name(&s->model, name, sizeof name);
     value_unit(s, vu, sizeof vu);
-    bg_store_now(now, sizeof now);
+    bg_time_format(cli_clock(), now, sizeof now);
     snprintf(rid, sizeof rid, "table %s %zu entries", bg_lut_strategy_name(t->strategy), t->n);
     bgi_html_begin(f, "Firmware table report", rid);
     fputs("<h1>Firmware table report</h1>\n<table class=\"kv\" id=\"table\">\n", f);
@@ -449,7 +449,7 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
                                         "or float");
             break;
         case O_REPORT: report = optarg; break;
-        case O_STAMP: s.stamp = bg_store_now(stamp, sizeof stamp); break;
+        case O_STAMP: s.stamp = bg_time_format(cli_clock(), stamp, sizeof stamp); break;
         case O_STRAT:
             if (strcmp(optarg, "uniform") == 0) strat = BG_LUT_UNIFORM;
             else if (strcmp(optarg, "minimal") == 0) strat = BG_LUT_MINIMAL;

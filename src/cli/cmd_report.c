@@ -563,8 +563,8 @@ static int issue(bg_store *st, const char *kind, const char *subject, long long 
     int rc = open_out(out_path, &f); /* a file that cannot be made stores nothing */
     if (rc != BG_OK)
         return rc;
-    rc = bg_store_artifact_issue(st, kind, subject, fit_id, spec, o->replaces, bg_version(), gen,
-                                 gctx, &id, &err);
+    bg_artifact_req req = { kind, subject, fit_id, spec, o->replaces, bg_version(), gen, gctx };
+    rc = bg_store_artifact_issue(st, &req, &id, &err);
     if (rc == BG_OK)
         rc = bg_store_artifact_get(st, id, &a, &err);
     if (rc != BG_OK) {

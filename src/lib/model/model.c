@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "bandgap/model.h"
+#include "bandgap/reference.h"
 #include "bandgap/units.h"
 
 #define L_LOWEST  (-20.7) /* ln(1e-9 ohm) */
