@@ -63,6 +63,9 @@ static int pick_backend(const char *target, const struct bgi_store_backend **be,
         }
     if (stat(target, &sb) == 0)
         return BG_OK;
+    if (target[n + 1] == '/') /* a URL */
+        return bg_error_set(err, BG_EINVAL, "database '%s': unknown scheme '%.*s:' (this "
+                            "bandgap knows 'sqlite:')", target, (int)n, target);
     return bg_error_set(err, BG_EINVAL, "database '%s': unknown scheme '%.*s:' (this bandgap "
                         "knows 'sqlite:'; write './%s' for a file of that name)", target,
                         (int)n, target, target);
