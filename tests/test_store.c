@@ -401,6 +401,123 @@ static void platinum_reference_import(void **state)
     bg_store_close(st);
 }
 
+static void scheme_rule(void **state)
+{
+    (void)state;
+    bg_store *st = NULL;
+    bg_error err = BG_ERROR_INIT;
+    char target[500], cwd[4096];
+    struct stat sb;
+    /* "sqlite:PATH" opens the SQLite file PATH */
+    snprintf(target, sizeof target, "sqlite:%s", path_of("s.db"));
+    assert_int_equal(bg_store_open(target, BG_STORE_CREATE, &st, &err), BG_OK);
+    bg_store_close(st);
+    assert_int_equal(stat(path_of("s.db"), &sb), 0);
+    assert_int_equal(bg_store_open(path_of("s.db"), 0, &st, &err), BG_OK);
+    bg_store_close(st);
+    /* unknown schemes are refused, and nothing is created */
+    assert_non_null(getcwd(cwd, sizeof cwd));
+    assert_int_equal(chdir(dir), 0);
+    assert_int_equal(bg_store_open("nosuch:x.db", BG_STORE_CREATE, &st, &err), BG_EINVAL);
+    assert_null(st);
+    assert_string_equal(err.msg, "database 'nosuch:x.db': unknown scheme 'nosuch:' (this "
+                        "bandgap knows 'sqlite:'; write './nosuch:x.db' for a file of that name)");
+    assert_int_not_equal(stat("nosuch:x.db", &sb), 0);
+    assert_int_equal(bg_store_open("postgresql://bench/cal", 0, &st, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "unknown scheme 'postgresql:'"));
+    assert_int_equal(bg_store_open("sqlite:", BG_STORE_CREATE, &st, &err), BG_EINVAL);
+    /* one letter is a drive, not a scheme: a path (missing here) */
+    assert_int_equal(bg_store_open("c:none.db", 0, &st, &err), BG_ENOENT);
+    /* a file whose name looks like a scheme: made through ./, then opened by its name */
+    assert_int_equal(bg_store_open("run:1.db", BG_STORE_CREATE, &st, &err), BG_EINVAL);
+    assert_int_equal(bg_store_open("./run:1.db", BG_STORE_CREATE, &st, &err), BG_OK);
+    bg_store_close(st);
+    assert_int_equal(bg_store_open("run:1.db", 0, &st, &err), BG_OK);
+    bg_store_close(st);
+    assert_int_equal(chdir(cwd), 0);
+}
+
+/* The created_at of probe 'serial' added now. */
+static void probe_time(bg_store *st, const char *serial, char *when)
+{
+    bg_probe p;
+    assert_int_equal(bg_store_probe_add(st, serial, "L1", NULL, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_get(st, serial, &p, NULL), BG_OK);
+    strcpy(when, p.created_at);
+}
+
+static void injected_clock(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("clock.db");
+    bg_readings rs = make_readings();
+    bg_run meta, run;
+    char when[BG_TIME], now[BG_TIME];
+    long long rid;
+    double t, before = (double)time(NULL);
+    /* two fixed clocks give the times set (epoch seconds converted with GNU date -u, derived) */
+    bg_store_set_clock(st, 1764547200);
+    probe_time(st, "C1", when);
+    assert_string_equal(when, "2025-12-01T00:00:00Z");
+    assert_string_equal(bg_store_time(st, now, sizeof now), "2025-12-01T00:00:00Z");
+    bg_store_set_clock(st, 1780000000);
+    probe_time(st, "C2", when);
+    assert_string_equal(when, "2026-05-28T20:26:40Z");
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.serial, "C2");
+    strcpy(meta.started_at, "2026-05-01T00:00:00Z");
+    assert_int_equal(bg_store_import(st, &rs, &meta, &rid, NULL), BG_OK);
+    assert_int_equal(bg_store_run_get(st, rid, &run, NULL), BG_OK);
+    assert_string_equal(run.imported_at, "2026-05-28T20:26:40Z");
+    assert_int_equal(bg_store_exclude(st, 1, "test", "me", NULL), BG_OK);
+    bg_store_set_clock(st, 0);
+    assert_string_equal(bg_store_time(st, now, sizeof now), "1970-01-01T00:00:00Z");
+    /* a negative value goes back to the system clock */
+    bg_store_set_clock(st, -1);
+    probe_time(st, "C3", when);
+    assert_int_equal(bg_time_parse(when, &t, NULL), BG_OK);
+    assert_true(t >= before - 1 && t <= (double)time(NULL) + 1);
+    bg_readings_release(&rs);
+    bg_store_close(st);
+}
+
+static void reference_corrections(void **state)
+{
+    (void)state;
+    bg_ref ref;
+    bg_error err = BG_ERROR_INIT;
+    double t_k;
+    /* IEC 60751 table (refdata 3, published): R(t) of the standard PRT; the rounded table
+    ** values (5 digits) hold t to 2e-5 K, the exact ones (from the equation) to 1e-7 K */
+    static const struct { double t_c, r_ohm, tol_k; } iec[] = {
+        { -200.0, 18.52008, 2e-5 }, { -100.0, 60.25584, 2e-5 }, { -40.0, 84.27065203, 1e-7 },
+        { 0.0, 100.0, 1e-9 }, { 50.0, 119.397125, 1e-7 }, { 100.0, 138.5055, 1e-7 },
+        { 200.0, 175.856, 1e-7 }, { 400.0, 247.092, 1e-7 }, { 850.0, 390.481125, 1e-7 },
+    };
+    memset(&ref, 0, sizeof ref);
+    strcpy(ref.ident, "PRT");
+    ref.kind = BG_REF_CVD, ref.cvd_r0_ohm = 100, ref.cvd_a = 3.9083e-3, ref.cvd_b = -5.775e-7;
+    ref.cvd_c = -4.183e-12;
+    assert_int_equal(bg_ref_check(&ref, NULL), BG_OK);
+    for (size_t i = 0; i < sizeof iec / sizeof iec[0]; i++) {
+        assert_int_equal(bg_ref_correct(&ref, 1, iec[i].r_ohm, &t_k, NULL), BG_OK);
+        assert_close(t_k, iec[i].t_c + 273.15, 0, iec[i].tol_k);
+    }
+    /* outside -200 .. 850 degC: refused */
+    assert_int_equal(bg_ref_correct(&ref, 1, 400.0, &t_k, &err), BG_EINVAL);
+    /* a linear certificate correction t = t_read + c0 + c1 (t_read - t0) (derived by hand:
+    ** 313.15 + 0.012 - 0.001 * 20 = 313.142 K) */
+    ref.kind = BG_REF_LINEAR, ref.lin_c0_k = 0.012, ref.lin_c1 = -0.001, ref.lin_t0_k = 293.15;
+    assert_int_equal(bg_ref_correct(&ref, 0, 313.15, &t_k, NULL), BG_OK);
+    assert_close(t_k, 313.142, 0, 1e-12);
+    /* a reading in ohm needs CVD coefficients; no reference keeps the reading */
+    assert_int_equal(bg_ref_correct(&ref, 1, 100.0, &t_k, &err), BG_EINVAL);
+    assert_int_equal(bg_ref_correct(NULL, 0, 300.0, &t_k, NULL), BG_OK);
+    assert_close(t_k, 300.0, 0, 0);
+    ref.lin_t0_k = 0.0;
+    assert_int_equal(bg_ref_check(&ref, &err), BG_EINVAL);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -414,6 +531,9 @@ int main(void)
         cmocka_unit_test(queued_fits_are_stored_exactly),
         cmocka_unit_test(hostile_text_is_just_text),
         cmocka_unit_test(platinum_reference_import),
+        cmocka_unit_test(scheme_rule),
+        cmocka_unit_test(injected_clock),
+        cmocka_unit_test(reference_corrections),
     };
     return cmocka_run_group_tests_name("store", tests, setup, teardown);
 }

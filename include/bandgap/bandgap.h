@@ -10,6 +10,9 @@
 
 #include "bandgap/error.h"
 #include "bandgap/units.h"
+#include "bandgap/time.h"
+#include "bandgap/readings.h"
+#include "bandgap/reference.h"
 #include "bandgap/model.h"
 #include "bandgap/linfit.h"
 #include "bandgap/fit.h"

@@ -8,13 +8,9 @@
 
 #include "bandgap/error.h"
 #include "bandgap/model.h"
+#include "bandgap/readings.h"
 
-/* One calibration point.  'u_t_k' and 'u_r_ohm' are standard uncertainties (0 = not given);
-** 'line' is the reading's line in its file (0 = unknown), used in messages. */
-typedef struct bg_point {
-    double t_k, r_ohm, u_t_k, u_r_ohm;
-    size_t line;
-} bg_point;
+/* bg_point, one calibration point, is in readings.h. */
 
 /* ---- Calibration fits -------------------------------------------------------------------- */
 

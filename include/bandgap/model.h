@@ -128,17 +128,4 @@ BG_API int bg_model_grad_inv_t(const bg_model *m, double r_ohm, double *g, bg_er
 BG_API int bg_model_u_t(const bg_model *m, const double *cov, double t_k, double *u_k,
                         bg_error *err);
 
-/* ---- Reference thermometers ---------------------------------------------------------- */
-
-/* Platinum resistance thermometer, IEC 60751 (Callendar-Van Dusen):
-** R(t) = R0 (1 + A t + B t^2 + C (t - 100) t^3) for t < 0 degC, R0 (1 + A t + B t^2) above.
-** Resistance (ohm) at 't_k'. */
-BG_API double bg_cvd_r_from_t(double r0_ohm, double a, double b, double c, double t_k);
-
-/* Temperature (K) of a platinum thermometer reading 'r_ohm': the quadratic's root for
-** R >= R0, Newton's method from it below, to 1e-9 K.  BG_EINVAL when 'r_ohm' is not
-** positive or outside -200 .. 850 degC (the range of IEC 60751). */
-BG_API int bg_cvd_t_from_r(double r0_ohm, double a, double b, double c, double r_ohm,
-                           double *t_k, bg_error *err);
-
 #endif

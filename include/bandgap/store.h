@@ -1,34 +1,50 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* The calibration database: one SQLite file holding lots, probes, reference thermometers,
-** runs, readings, exclusions, fits and generated artifacts.  History is append-only.
-** Every write is one transaction (BEGIN IMMEDIATE); any error leaves the file unchanged. */
+/* The calibration database: lots, probes, reference thermometers, runs, readings,
+** exclusions, fits and generated artifacts, in one SQLite file (the backend behind
+** bg_store_open's "sqlite:" scheme, the default).  History is append-only.  Every write is
+** one transaction (BEGIN IMMEDIATE); any error leaves the database unchanged. */
 #ifndef BANDGAP_STORE_H
 #define BANDGAP_STORE_H
 
 #include <stddef.h>
+#include <time.h>
 
-#include "bandgap/csv.h"
 #include "bandgap/error.h"
 #include "bandgap/fit.h"
 #include "bandgap/model.h"
+#include "bandgap/readings.h"
+#include "bandgap/reference.h"
 
 #define BG_STORE_APP_ID 0x42476170 /* "BGap" in PRAGMA application_id */
 #define BG_TEXT 201                /* serials, codes, names: at most 200 bytes */
 #define BG_NOTE 1024               /* notes: at most 1023 bytes */
-#define BG_TIME 40
 
 typedef struct bg_store bg_store;
 
 enum { BG_STORE_CREATE = 1 << 0 };
 
-/* Open the database at 'path'.  Without BG_STORE_CREATE a missing file is BG_ENOENT (with a
+/* Open the database named by 'target': "sqlite:PATH" or a plain PATH, a SQLite file.  A
+** target that starts with a scheme, [a-z][a-z0-9+.-]+ and ':' (two characters at least, so
+** a drive letter "C:" is a path), other than "sqlite:" is BG_EINVAL ("unknown database
+** scheme"), unless a file of exactly that name exists (it is then opened as a path); write
+** "./NAME" or "sqlite:NAME" for a new file whose name looks like a scheme.
+** Without BG_STORE_CREATE a missing file is BG_ENOENT (with a
 ** hint to run init); with it a new file is created.  A file that is not a bandgap database
 ** (other application id, or tables of its own) is BG_EINVAL; a newer schema than this program
 ** knows is BG_EINVAL; an older one is copied to PATH.vN.bak with SQLite's backup API and then
 ** upgraded, each migration in its own transaction.  BG_EIO when the file cannot be opened or
 ** created.  Free with bg_store_close(). */
-BG_API int bg_store_open(const char *path, int flags, bg_store **out, bg_error *err);
+BG_API int bg_store_open(const char *target, int flags, bg_store **out, bg_error *err);
 BG_API void bg_store_close(bg_store *st);
+
+/* The clock of the stored times (created_at, imported_at, exclusions, fits, reports): 'fixed'
+** seconds since the epoch for every later write, or the system clock when 'fixed' is
+** negative (the default).  The library reads no environment: a program that honours
+** SOURCE_DATE_EPOCH passes it here. */
+BG_API void bg_store_set_clock(bg_store *st, time_t fixed);
+/* The handle's current time as ISO 8601 UTC ("2026-12-01T10:00:00Z") into 'buf'; returns
+** 'buf'. */
+BG_API char *bg_store_time(bg_store *st, char *buf, size_t size);
 
 /* The schema version of the open file, and the newest this program knows. */
 BG_API int bg_store_schema_version(bg_store *st);
@@ -58,16 +74,7 @@ typedef struct bg_probe {
     long long nruns, nfits;
 } bg_probe;
 
-typedef enum bg_ref_kind { BG_REF_NONE = 0, BG_REF_LINEAR, BG_REF_CVD } bg_ref_kind;
-
-typedef struct bg_ref {
-    long long id;
-    char ident[BG_TEXT], certificate[BG_TEXT], due_date[BG_TIME];
-    bg_ref_kind kind;
-    double lin_c0_k, lin_c1, lin_t0_k;       /* t = t_read + c0 + c1 (t_read - t0) */
-    double cvd_r0_ohm, cvd_a, cvd_b, cvd_c;  /* IEC 60751 */
-    char note[BG_NOTE], created_at[BG_TIME];
-} bg_ref;
+/* bg_ref, a reference thermometer with its correction, is in reference.h. */
 
 /* Add a row; fills '*id'.  BG_EINVAL for a duplicate code/serial/ident, an unknown lot, an
 ** empty or too long text, or values that fail the physical checks. */
@@ -232,21 +239,27 @@ BG_API void bg_artifact_release(bg_artifact *a);
 /* Makes the content of artifact 'id' issued at 'created_at' (malloc'd, '*len' bytes). */
 typedef int (*bg_artifact_gen)(long long id, const char *created_at, void *ctx, char **content,
                                size_t *len, bg_error *err);
-/* Issue an artifact in one write transaction: the identifier is the next id, 'gen' makes the
-** content with it, and the row is stored.  'spec' is JSON whose "subject" names what it is
-** about; a subject that already has an artifact of this kind is BG_EINVAL unless
-** 'replaces_id' names its newest one (a reissue), and a 'replaces_id' without one is too. */
-BG_API int bg_store_artifact_issue(bg_store *st, const char *kind, const char *subject,
-                                   long long fit_id, const char *spec, long long replaces_id,
-                                   const char *version, bg_artifact_gen gen, void *ctx,
-                                   long long *id, bg_error *err);
+/* What to issue: 'kind' ("report-calibration", ...), the 'subject' it is about, the fit it
+** shows (0: none), 'spec' as JSON whose "subject" is 'subject', the artifact it replaces (0:
+** none), the program's 'version', and 'gen' with its 'ctx' to make the content. */
+typedef struct bg_artifact_req {
+    const char *kind, *subject;
+    long long fit_id;
+    const char *spec;
+    long long replaces_id;
+    const char *version;
+    bg_artifact_gen gen;
+    void *ctx;
+} bg_artifact_req;
+/* Issue an artifact in one write transaction: the identifier is the next id, 'req->gen' makes
+** the content with it, and the row is stored; '*id' is its id.  A subject that already has an
+** artifact of this kind is BG_EINVAL unless 'req->replaces_id' names its newest one (a
+** reissue), and a 'replaces_id' without one is too. */
+BG_API int bg_store_artifact_issue(bg_store *st, const bg_artifact_req *req, long long *id,
+                                   bg_error *err);
 BG_API int bg_store_artifact_get(bg_store *st, long long id, bg_artifact *out, bg_error *err);
 /* Every artifact, oldest first; 'content' is NULL in the rows passed. */
 typedef int (*bg_artifact_cb)(const bg_artifact *a, void *ctx);
 BG_API int bg_store_artifact_each(bg_store *st, bg_artifact_cb cb, void *ctx, bg_error *err);
-
-/* The current time as ISO 8601 UTC ("2026-12-01T10:00:00Z"); SOURCE_DATE_EPOCH, when set,
-** replaces the clock (reproducible records and tests). */
-BG_API char *bg_store_now(char *buf, size_t size);
 
 #endif

@@ -4,6 +4,7 @@
 #define BANDGAP_CLI_H
 
 #include <stdio.h>
+#include <time.h>
 
 #include "bandgap/bandgap.h"
 
@@ -52,6 +53,8 @@ void json_nums(json_out *j, const char *key, const double *v, size_t n);
 /* Open the database of 'ctx' (create it with 'create'); reports errors itself and returns the
 ** code for main(), or BG_OK.  Says on stderr when an older schema was upgraded. */
 int cli_open_store(struct cli_ctx *ctx, int create, bg_store **st);
+/* The time for stored and printed stamps: SOURCE_DATE_EPOCH when set, else the system clock. */
+time_t cli_clock(void);
 /* Temperatures "0C,25C,50C" into 't_k' (at most 'max'); BG_EINVAL on bad text. */
 int cli_parse_temps(const char *s, double *t_k, size_t max, size_t *n, bg_error *err);
 /* Parse a positive integer id ("12"); BG_EINVAL otherwise. */

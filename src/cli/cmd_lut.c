@@ -195,7 +195,7 @@ static int other_option(struct lut_args *a, int c, const char *arg)
         break;
     case O_PROBE: a->probe = arg; break;
     case O_REPORT: a->report = arg; break;
-    case O_STAMP: a->rq.spec.stamp = bg_store_now(a->stamp, sizeof a->stamp); break;
+    case O_STAMP: a->rq.spec.stamp = bg_time_format(cli_clock(), a->stamp, sizeof a->stamp); break;
     case O_KELVIN: a->rq.spec.kelvin = 1; break;
     case O_FORMAT:
         if (strcmp(arg, "c") && strcmp(arg, "csv") && strcmp(arg, "json"))
@@ -327,7 +327,7 @@ static int write_report(const char *path, const bg_lut_result *r)
     bg_error err = BG_ERROR_INIT;
     char now[BG_TIME], *html = NULL;
     size_t len = 0;
-    bg_report_head h = { 0, bg_store_now(now, sizeof now), NULL, NULL, 0, NULL };
+    bg_report_head h = { 0, bg_time_format(cli_clock(), now, sizeof now), NULL, NULL, 0, NULL };
     int rc = bg_report_render(bg_report_kind_find("table"), r, &h, &html, &len, &err);
     if (rc != BG_OK)
         return cli_fail("lut", &err);

@@ -5,6 +5,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
 #include <unistd.h>
 
 #include "cli.h"
@@ -216,14 +217,30 @@ void json_nums(json_out *j, const char *key, const double *v, size_t n)
     json_arr_end(j);
 }
 
+time_t cli_clock(void)
+{
+    const char *sde = getenv("SOURCE_DATE_EPOCH");
+    if (sde && *sde) {
+        char *end;
+        long long v = strtoll(sde, &end, 10);
+        if (*end == '\0' && v >= 0)
+            return (time_t)v;
+    }
+    return time(NULL);
+}
+
 int cli_open_store(struct cli_ctx *ctx, int create, bg_store **st)
 {
     bg_error err = BG_ERROR_INIT;
+    const char *sde = getenv("SOURCE_DATE_EPOCH");
     int rc = bg_store_open(ctx->db_path, create ? BG_STORE_CREATE : 0, st, &err);
     if (rc != BG_OK) {
         cli_error("%s", err.msg);
         return rc == BG_EIO && create ? CLI_ECANTCREAT : rc;
     }
+    /* SOURCE_DATE_EPOCH (reproducible records and tests) fixes the stored times */
+    if (sde && *sde)
+        bg_store_set_clock(*st, cli_clock());
     if (bg_store_backup_path(*st)[0])
         cli_warn("upgraded '%s' to schema version %d; the old file is kept as '%s'",
                  ctx->db_path, bg_store_schema_version(*st), bg_store_backup_path(*st));

@@ -7,6 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "bandgap/reference.h"
 #include "bandgap/units.h"
 #include "model_int.h"
 

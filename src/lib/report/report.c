@@ -180,8 +180,9 @@ static int issue(bg_store *st, struct issue_ctx *c, const char *subject, long lo
     long long id = 0;
     if (!spec)
         return bg_error_set(err, BG_ENOMEM, "out of memory");
-    int rc = bg_store_artifact_issue(st, c->kind->artifact_kind, subject, fit_id, spec,
-                                     c->o->replaces, bg_version(), issue_gen, c, &id, err);
+    bg_artifact_req req = { c->kind->artifact_kind, subject, fit_id, spec, c->o->replaces,
+                            bg_version(), issue_gen, c };
+    int rc = bg_store_artifact_issue(st, &req, &id, err);
     return rc == BG_OK ? bg_store_artifact_get(st, id, out, err) : rc;
 }
 

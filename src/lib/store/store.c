@@ -1,9 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* The calibration database on SQLite: opening, schema migrations, transactions, and the
-** lot, probe and reference records.  Rollback journal (not WAL) keeps the database one file
-** that also works on network shares; every connection sets foreign keys, defensive mode and
-** a busy timeout (SQLite documentation: pragma.html, lang_transaction.html). */
-#include <errno.h>
+/* The calibration database above the backend seam: the choice of backend by scheme, argument
+** and text checks, the reference correction of imported readings, transactions around writes,
+** the fit queue and the clock.  The queries are the backend's (store_int.h, sqlite.c). */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -11,39 +9,14 @@
 #include <sys/stat.h>
 #include <time.h>
 
-#include <sqlite3.h>
-
 #include "bandgap/bandgap.h"
-#include "bandgap/store.h"
 #include "store_int.h"
-#include "store_priv.h"
 
-int bgi_db_fail(bg_store *st, bg_error *err, const char *what)
-{
-    /* Copy the message at once: the next SQLite call overwrites it. */
-    return bg_error_set(err, BG_EDB, "%s: %s", what, sqlite3_errmsg(st->db));
-}
+/* The backends by scheme; the first is the default for a plain path. */
+static const struct bgi_store_backend *const backends[] = { &bgi_store_sqlite };
+enum { NBACKENDS = sizeof backends / sizeof backends[0] };
 
-int bgi_prepare(bg_store *st, const char *sql, sqlite3_stmt **stmt, bg_error *err)
-{
-    if (sqlite3_prepare_v3(st->db, sql, -1, 0, stmt, NULL) != SQLITE_OK)
-        return bgi_db_fail(st, err, "cannot prepare a query");
-    return BG_OK;
-}
-
-void bgi_copy_text(char *dst, size_t size, sqlite3_stmt *stmt, int col)
-{
-    const unsigned char *t = sqlite3_column_text(stmt, col);
-    int n = sqlite3_column_bytes(stmt, col);
-    size_t len = t ? (size_t)n : 0;
-    if (len >= size)
-        len = size - 1;
-    if (len)
-        memcpy(dst, t, len);
-    dst[len] = '\0';
-}
-
-int bgi_check_text(const char *what, const char *s, size_t max, int required, bg_error *err)
+static int check_text(const char *what, const char *s, size_t max, int required, bg_error *err)
 {
     size_t n = s ? strlen(s) : 0;
     if (required && n == 0)
@@ -53,122 +26,99 @@ int bgi_check_text(const char *what, const char *s, size_t max, int required, bg
     return BG_OK;
 }
 
-void bgi_bind_text_or_null(sqlite3_stmt *stmt, int i, const char *s)
-{
-    if (s && *s)
-        sqlite3_bind_text(stmt, i, s, -1, SQLITE_TRANSIENT);
-    else
-        sqlite3_bind_null(stmt, i);
-}
+/* ---- opening: the scheme rule ---- */
 
-char *bg_store_now(char *buf, size_t size)
+/* The length of a scheme at the start of 'target' ([a-z][a-z0-9+.-]+ before a ':'), or 0.
+** One letter is not a scheme: "C:\x.db" is a path. */
+static size_t scheme_len(const char *target)
 {
-    const char *sde = getenv("SOURCE_DATE_EPOCH");
-    time_t t = time(NULL);
-    struct tm tm;
-    /* The same second again (a lot of fits in one pass): reuse the text. */
-    static _Thread_local time_t last = (time_t)-1;
-    static _Thread_local char last_text[BG_TIME];
-    if (sde && *sde) {
-        char *end;
-        long long v = strtoll(sde, &end, 10);
-        if (*end == '\0' && v >= 0)
-            t = (time_t)v;
-    }
-    if (t != last) {
-        gmtime_r(&t, &tm);
-        strftime(last_text, sizeof last_text, "%Y-%m-%dT%H:%M:%SZ", &tm);
-        last = t;
-    }
-    snprintf(buf, size, "%s", last_text);
-    return buf;
-}
-
-int bgi_tx_begin(bg_store *st, int *own, bg_error *err)
-{
-    *own = 0;
-    if (!sqlite3_get_autocommit(st->db))
-        return BG_OK;
-    if (sqlite3_exec(st->db, "BEGIN IMMEDIATE", NULL, NULL, NULL) != SQLITE_OK)
-        return bgi_db_fail(st, err, "cannot start a write transaction");
-    *own = 1;
-    return BG_OK;
-}
-
-int bgi_tx_end(bg_store *st, int own, int rc, bg_error *err)
-{
-    if (!own)
-        return rc;
-    if (rc == BG_OK) {
-        if (sqlite3_exec(st->db, "COMMIT", NULL, NULL, NULL) == SQLITE_OK)
-            return BG_OK;
-        rc = bgi_db_fail(st, err, "cannot commit");
-    }
-    if (!sqlite3_get_autocommit(st->db))
-        sqlite3_exec(st->db, "ROLLBACK", NULL, NULL, NULL);
-    return rc;
-}
-
-int bg_store_begin(bg_store *st, bg_error *err)
-{
-    if (sqlite3_exec(st->db, "BEGIN IMMEDIATE", NULL, NULL, NULL) != SQLITE_OK)
-        return bgi_db_fail(st, err, "cannot start a write transaction");
-    return BG_OK;
-}
-
-int bg_store_commit(bg_store *st, bg_error *err)
-{
-    int frc = bgi_fitq_flush(st, err);
-    st->next_fit_id = 0;
-    if (frc != BG_OK) {
-        bg_store_rollback(st);
-        return frc;
-    }
-    if (sqlite3_exec(st->db, "COMMIT", NULL, NULL, NULL) != SQLITE_OK) {
-        int rc = bgi_db_fail(st, err, "cannot commit");
-        bg_store_rollback(st);
-        return rc;
-    }
-    return BG_OK;
-}
-
-void bg_store_rollback(bg_store *st)
-{
-    if (st) {
-        bgi_fitq_drop(st);
-        st->next_fit_id = 0;
-    }
-    if (st && !sqlite3_get_autocommit(st->db))
-        sqlite3_exec(st->db, "ROLLBACK", NULL, NULL, NULL);
-}
-
-static int pragma_int(bg_store *st, const char *sql, int *v, bg_error *err)
-{
-    sqlite3_stmt *q = NULL;
-    int rc = bgi_prepare(st, sql, &q, err);
-    if (rc != BG_OK)
-        return rc;
-    if (sqlite3_step(q) == SQLITE_ROW)
-        *v = sqlite3_column_int(q, 0);
-    else
-        rc = bgi_db_fail(st, err, "cannot read the database header");
-    sqlite3_finalize(q);
-    return rc;
-}
-
-int bg_store_schema_known(void)
-{
-    int n = 0;
-    while (bgi_migrations[n].name)
+    size_t n = 0;
+    if (!(target[0] >= 'a' && target[0] <= 'z'))
+        return 0;
+    while ((target[n] >= 'a' && target[n] <= 'z') || (target[n] >= '0' && target[n] <= '9') ||
+           target[n] == '+' || target[n] == '.' || target[n] == '-')
         n++;
-    return n;
+    return n >= 2 && target[n] == ':' ? n : 0;
+}
+
+/* The backend named by the scheme of 'target' and what follows the scheme; a plain path (or
+** an existing file whose name only looks like a scheme) goes to the default backend. */
+static int pick_backend(const char *target, const struct bgi_store_backend **be,
+                        const char **rest, bg_error *err)
+{
+    size_t n = scheme_len(target);
+    struct stat sb;
+    *be = backends[0];
+    *rest = target;
+    if (n == 0)
+        return BG_OK;
+    for (size_t i = 0; i < NBACKENDS; i++)
+        if (strlen(backends[i]->scheme) == n && memcmp(target, backends[i]->scheme, n) == 0) {
+            *be = backends[i];
+            *rest = target + n + 1;
+            if (!**rest)
+                return bg_error_set(err, BG_EINVAL, "database '%s': no path after the scheme",
+                                    target);
+            return BG_OK;
+        }
+    if (stat(target, &sb) == 0)
+        return BG_OK;
+    if (target[n + 1] == '/') /* a URL */
+        return bg_error_set(err, BG_EINVAL, "database '%s': unknown scheme '%.*s:' (this "
+                            "bandgap knows 'sqlite:')", target, (int)n, target);
+    return bg_error_set(err, BG_EINVAL, "database '%s': unknown scheme '%.*s:' (this bandgap "
+                        "knows 'sqlite:'; write './%s' for a file of that name)", target,
+                        (int)n, target, target);
+}
+
+int bg_store_open(const char *target, int flags, bg_store **out, bg_error *err)
+{
+    const struct bgi_store_backend *be;
+    const char *rest;
+    bg_store *st;
+    int rc;
+
+    *out = NULL;
+    if (!target || !*target)
+        return bg_error_set(err, BG_EINVAL, "no database named");
+    if ((rc = pick_backend(target, &be, &rest, err)) != BG_OK)
+        return rc;
+    if (!(st = calloc(1, sizeof *st)))
+        return bg_error_set(err, BG_ENOMEM, "out of memory");
+    st->be = be;
+    st->clock = st->now_t = (time_t)-1;
+    if ((rc = be->open(rest, flags, &st->conn, st->backup, sizeof st->backup, err)) != BG_OK) {
+        free(st);
+        return rc;
+    }
+    *out = st;
+    return BG_OK;
+}
+
+static void fitq_drop(bg_store *st)
+{
+    for (size_t i = 0; i < st->nfitq; i++)
+        free(st->fitq[i].ids);
+    st->nfitq = 0;
+}
+
+void bg_store_close(bg_store *st)
+{
+    if (!st)
+        return;
+    fitq_drop(st);
+    st->be->close(st->conn);
+    free(st);
 }
 
 int bg_store_schema_version(bg_store *st)
 {
-    int v = -1;
-    pragma_int(st, "PRAGMA user_version", &v, NULL);
-    return v;
+    return st->be->schema_version(st->conn);
+}
+
+int bg_store_schema_known(void)
+{
+    return backends[0]->schema_known();
 }
 
 const char *bg_store_backup_path(const bg_store *st)
@@ -176,209 +126,97 @@ const char *bg_store_backup_path(const bg_store *st)
     return st->backup;
 }
 
-/* Copy the open database to 'path' with the online backup API. */
-static int backup_to(bg_store *st, const char *path, bg_error *err)
-{
-    sqlite3 *dst = NULL;
-    sqlite3_backup *b;
-    int rc = BG_OK;
+/* ---- the clock ---- */
 
-    if (sqlite3_open_v2(path, &dst, SQLITE_OPEN_READWRITE | SQLITE_OPEN_CREATE, NULL) !=
-        SQLITE_OK) {
-        rc = bg_error_set(err, BG_EIO, "cannot create the backup '%s': %s", path,
-                          dst ? sqlite3_errmsg(dst) : "out of memory");
-        goto done;
+void bg_store_set_clock(bg_store *st, time_t fixed)
+{
+    st->clock = fixed < 0 ? (time_t)-1 : fixed;
+}
+
+char *bg_store_time(bg_store *st, char *buf, size_t size)
+{
+    time_t t = st->clock >= 0 ? st->clock : time(NULL);
+    /* The same second again (a lot of fits in one pass): reuse the text. */
+    if (t != st->now_t) {
+        bg_time_format(t, st->now_text, sizeof st->now_text);
+        st->now_t = t;
     }
-    b = sqlite3_backup_init(dst, "main", st->db, "main");
-    if (!b) {
-        rc = bg_error_set(err, BG_EIO, "cannot back up to '%s': %s", path, sqlite3_errmsg(dst));
-        goto done;
-    }
-    int s = sqlite3_backup_step(b, -1);
-    sqlite3_backup_finish(b);
-    if (s != SQLITE_DONE)
-        rc = bg_error_set(err, BG_EIO, "backup to '%s' failed: %s", path, sqlite3_errstr(s));
-done:
-    sqlite3_close_v2(dst);
+    snprintf(buf, size, "%s", st->now_text);
+    return buf;
+}
+
+/* ---- transactions ---- */
+
+/* Start a write transaction unless one is open ('*own' says which); end it with 'rc'. */
+static int tx_begin(bg_store *st, int *own, bg_error *err)
+{
+    int rc;
+    *own = 0;
+    if (st->be->in_tx(st->conn))
+        return BG_OK;
+    if ((rc = st->be->begin(st->conn, err)) == BG_OK)
+        *own = 1;
     return rc;
 }
 
-/* Apply migrations from the file's version to the newest, one transaction each.  The version
-** is read again inside the transaction, so two processes opening an old file at once upgrade
-** it once. */
-static int migrate(bg_store *st, bg_error *err)
+static int tx_end(bg_store *st, int own, int rc, bg_error *err)
 {
-    int known = bg_store_schema_known();
-    for (;;) {
-        int v = 0, rc;
-        char sql[96];
-        if (sqlite3_exec(st->db, "BEGIN IMMEDIATE", NULL, NULL, NULL) != SQLITE_OK)
-            return bgi_db_fail(st, err, "cannot start the schema upgrade");
-        if ((rc = pragma_int(st, "PRAGMA user_version", &v, err)) != BG_OK) {
-            bg_store_rollback(st);
-            return rc;
-        }
-        if (v >= known) {
-            sqlite3_exec(st->db, "COMMIT", NULL, NULL, NULL);
-            return BG_OK;
-        }
-        snprintf(sql, sizeof sql, "PRAGMA application_id = %d; PRAGMA user_version = %d;",
-                 BG_STORE_APP_ID, v + 1);
-        if (sqlite3_exec(st->db, bgi_migrations[v].text, NULL, NULL, NULL) != SQLITE_OK ||
-            sqlite3_exec(st->db, sql, NULL, NULL, NULL) != SQLITE_OK) {
-            rc = bg_error_set(err, BG_EDB, "schema migration '%s' failed: %s",
-                              bgi_migrations[v].name, sqlite3_errmsg(st->db));
-            bg_store_rollback(st);
-            return rc;
-        }
-        if (sqlite3_exec(st->db, "COMMIT", NULL, NULL, NULL) != SQLITE_OK) {
-            rc = bgi_db_fail(st, err, "cannot commit the schema upgrade");
-            bg_store_rollback(st);
-            return rc;
-        }
-    }
-}
-
-int bg_store_open(const char *path, int flags, bg_store **out, bg_error *err)
-{
-    bg_store *st = NULL;
-    struct stat sb;
-    int rc = BG_OK, app = 0, ver = 0, ntables = 0, exists = stat(path, &sb) == 0;
-
-    *out = NULL;
-    if (!exists && !(flags & BG_STORE_CREATE))
-        return bg_error_set(err, BG_ENOENT, "database '%s' does not exist (create it with "
-                            "'bandgap --db %s init')", path, path);
-    st = calloc(1, sizeof *st);
-    if (!st)
-        return bg_error_set(err, BG_ENOMEM, "out of memory");
-    snprintf(st->path, sizeof st->path, "%s", path);
-    if (sqlite3_open_v2(path, &st->db,
-                        /* NOMUTEX: a handle is never shared between threads */
-                        SQLITE_OPEN_READWRITE | SQLITE_OPEN_EXRESCODE | SQLITE_OPEN_NOMUTEX |
-                            ((flags & BG_STORE_CREATE) ? SQLITE_OPEN_CREATE : 0),
-                        NULL) != SQLITE_OK) {
-        rc = bg_error_set(err, BG_EIO, "cannot %s database '%s': %s",
-                          exists ? "open" : "create", path,
-                          st->db ? sqlite3_errmsg(st->db) : "out of memory");
-        goto fail;
-    }
-    sqlite3_busy_timeout(st->db, 30000);
-    sqlite3_db_config(st->db, SQLITE_DBCONFIG_DEFENSIVE, 1, NULL);
-    sqlite3_db_config(st->db, SQLITE_DBCONFIG_DQS_DML, 0, NULL);
-    sqlite3_db_config(st->db, SQLITE_DBCONFIG_DQS_DDL, 0, NULL);
-    sqlite3_db_config(st->db, SQLITE_DBCONFIG_TRUSTED_SCHEMA, 0, NULL);
-    if (sqlite3_exec(st->db, "PRAGMA foreign_keys = ON; PRAGMA synchronous = FULL;", NULL,
-                     NULL, NULL) != SQLITE_OK) {
-        rc = bg_error_set(err, exists ? BG_EINVAL : BG_EIO, "'%s': %s", path,
-                          sqlite3_errmsg(st->db));
-        goto fail;
-    }
-    if (pragma_int(st, "PRAGMA application_id", &app, err) != BG_OK ||
-        pragma_int(st, "PRAGMA user_version", &ver, err) != BG_OK ||
-        pragma_int(st, "SELECT count(*) FROM sqlite_schema", &ntables, err) != BG_OK) {
-        rc = bg_error_set(err, BG_EINVAL, "'%s' is not a bandgap database (%s)", path,
-                          err ? err->msg : "unreadable");
-        goto fail;
-    }
-    if (app != BG_STORE_APP_ID && (app != 0 || ntables > 0)) {
-        rc = bg_error_set(err, BG_EINVAL, "'%s' is not a bandgap database (application id "
-                          "%d, %d schema objects)", path, app, ntables);
-        goto fail;
-    }
-    if (ver > bg_store_schema_known()) {
-        rc = bg_error_set(err, BG_EINVAL, "database '%s' has schema version %d, newer than "
-                          "this program knows (%d): use a newer bandgap", path, ver,
-                          bg_store_schema_known());
-        goto fail;
-    }
-    if (ntables == 0 && (flags & BG_STORE_CREATE) &&
-        sqlite3_exec(st->db, "PRAGMA page_size = 8192", NULL, NULL, NULL) != SQLITE_OK) {
-        rc = bg_error_set(err, BG_EIO, "'%s': %s", path, sqlite3_errmsg(st->db));
-        goto fail;
-    }
-    {
-        /* The journal mode is a property of the file: keep it a rollback journal. */
-        sqlite3_stmt *q = NULL;
-        if (bgi_prepare(st, "PRAGMA journal_mode = DELETE", &q, err) != BG_OK) {
-            rc = BG_EDB;
-            goto fail;
-        }
-        int ok = sqlite3_step(q) == SQLITE_ROW &&
-                 sqlite3_stricmp((const char *)sqlite3_column_text(q, 0), "delete") == 0;
-        sqlite3_finalize(q);
-        if (!ok) {
-            rc = bg_error_set(err, BG_EDB, "'%s': cannot use a rollback journal", path);
-            goto fail;
-        }
-    }
-    if (app == 0 && !(flags & BG_STORE_CREATE)) {
-        rc = bg_error_set(err, BG_EINVAL, "'%s' is an empty file, not a bandgap database "
-                          "(create one with 'bandgap --db %s init')", path, path);
-        goto fail;
-    }
-    if (ver > 0 && ver < bg_store_schema_known()) {
-        snprintf(st->backup, sizeof st->backup, "%s.v%d.bak", path, ver);
-        if ((rc = backup_to(st, st->backup, err)) != BG_OK)
-            goto fail;
-    }
-    if (ver < bg_store_schema_known() && (rc = migrate(st, err)) != BG_OK)
-        goto fail;
-    *out = st;
-    return BG_OK;
-fail:
-    bg_store_close(st);
+    if (!own)
+        return rc;
+    if (rc == BG_OK && (rc = st->be->commit(st->conn, err)) == BG_OK)
+        return BG_OK;
+    st->be->rollback(st->conn);
     return rc;
 }
 
-void bg_store_close(bg_store *st)
+/* Write the queued fits in one backend call, and forget them. */
+static int fitq_flush(bg_store *st, bg_error *err)
+{
+    char now[BG_TIME];
+    int rc;
+    if (st->nfitq == 0)
+        return BG_OK;
+    rc = st->be->fit_insert(st->conn, st->fitq, st->nfitq, bg_store_time(st, now, sizeof now),
+                            err);
+    fitq_drop(st);
+    return rc;
+}
+
+int bg_store_begin(bg_store *st, bg_error *err)
+{
+    return st->be->begin(st->conn, err);
+}
+
+int bg_store_commit(bg_store *st, bg_error *err)
+{
+    int rc = fitq_flush(st, err);
+    st->next_fit_id = 0;
+    if (rc == BG_OK)
+        rc = st->be->commit(st->conn, err);
+    if (rc != BG_OK)
+        bg_store_rollback(st);
+    return rc;
+}
+
+void bg_store_rollback(bg_store *st)
 {
     if (!st)
         return;
-    bgi_fitq_drop(st);
-    for (size_t i = 0; i < sizeof st->cache / sizeof st->cache[0]; i++)
-        sqlite3_finalize(st->cache[i]);
-    sqlite3_close_v2(st->db);
-    free(st);
+    fitq_drop(st);
+    st->next_fit_id = 0;
+    st->be->rollback(st->conn);
 }
 
-/* Row id of a lot or probe by its code or serial, for writes (no counts); 0 when absent. */
-static long long id_of(bg_store *st, const char *sql, const char *key, bg_error *err, int *rc)
-{
-    sqlite3_stmt *q = NULL;
-    long long id = 0;
-    if ((*rc = bgi_prepare(st, sql, &q, err)) != BG_OK)
-        return 0;
-    sqlite3_bind_text(q, 1, key, -1, SQLITE_TRANSIENT);
-    int s = sqlite3_step(q);
-    if (s == SQLITE_ROW)
-        id = sqlite3_column_int64(q, 0);
-    else if (s != SQLITE_DONE)
-        *rc = bgi_db_fail(st, err, "cannot read the database");
-    sqlite3_finalize(q);
-    return id;
-}
-
-long long bgi_probe_id(bg_store *st, const char *serial, bg_error *err, int *rc)
-{
-    long long id = id_of(st, "SELECT id FROM probe WHERE serial = ?", serial, err, rc);
-    if (*rc == BG_OK && id == 0)
-        *rc = bg_error_set(err, BG_EINVAL, "unknown probe '%s' (add it with 'bandgap probe add "
-                           "SERIAL --lot CODE')", serial);
-    return id;
-}
-
-/* ---- lots ---- */
+/* ---- lots, probes, references ---- */
 
 int bg_store_lot_add(bg_store *st, const bg_lot *lot, long long *id, bg_error *err)
 {
-    sqlite3_stmt *q = NULL;
     char now[BG_TIME];
     int rc, own;
 
-    if ((rc = bgi_check_text("lot code", lot->code, BG_TEXT, 1, err)) != BG_OK ||
-        (rc = bgi_check_text("part", lot->part, BG_TEXT, 1, err)) != BG_OK ||
-        (rc = bgi_check_text("note", lot->note, BG_NOTE, 0, err)) != BG_OK)
+    if ((rc = check_text("lot code", lot->code, BG_TEXT, 1, err)) != BG_OK ||
+        (rc = check_text("part", lot->part, BG_TEXT, 1, err)) != BG_OK ||
+        (rc = check_text("note", lot->note, BG_NOTE, 0, err)) != BG_OK)
         return rc;
     if (!(lot->r25_ohm > 0.0) || !(lot->beta_k > 0.0) || !isfinite(lot->r25_ohm) ||
         !isfinite(lot->beta_k))
@@ -388,349 +226,443 @@ int bg_store_lot_add(bg_store *st, const bg_lot *lot, long long *id, bg_error *e
           lot->tol_beta < 1.0))
         return bg_error_set(err, BG_EINVAL, "lot '%s': tolerances must be between 0 and 100 %%",
                             lot->code);
-    if ((rc = bgi_tx_begin(st, &own, err)) != BG_OK)
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
-    rc = bgi_prepare(st, "INSERT INTO lot(code, part, r25_ohm, beta_k, pair_t1_k, pair_t2_k, "
-                     "tol_r25, tol_beta, note, created_at) VALUES (?,?,?,?,?,?,?,?,?,?)",
-                     &q, err);
-    if (rc == BG_OK) {
-        sqlite3_bind_text(q, 1, lot->code, -1, SQLITE_TRANSIENT);
-        sqlite3_bind_text(q, 2, lot->part, -1, SQLITE_TRANSIENT);
-        sqlite3_bind_double(q, 3, lot->r25_ohm);
-        sqlite3_bind_double(q, 4, lot->beta_k);
-        sqlite3_bind_double(q, 5, lot->pair_t1_k);
-        sqlite3_bind_double(q, 6, lot->pair_t2_k);
-        sqlite3_bind_double(q, 7, lot->tol_r25);
-        sqlite3_bind_double(q, 8, lot->tol_beta);
-        bgi_bind_text_or_null(q, 9, lot->note);
-        sqlite3_bind_text(q, 10, bg_store_now(now, sizeof now), -1, SQLITE_TRANSIENT);
-        int s = sqlite3_step(q);
-        if (s == SQLITE_CONSTRAINT_UNIQUE)
-            rc = bg_error_set(err, BG_EINVAL, "lot '%s' already exists", lot->code);
-        else if ((s & 0xff) == SQLITE_CONSTRAINT)
-            rc = bg_error_set(err, BG_EINVAL, "lot '%s': %s", lot->code, sqlite3_errmsg(st->db));
-        else if (s != SQLITE_DONE)
-            rc = bgi_db_fail(st, err, "cannot add the lot");
-        else if (id)
-            *id = sqlite3_last_insert_rowid(st->db);
-    }
-    sqlite3_finalize(q);
-    return bgi_tx_end(st, own, rc, err);
-}
-
-#define LOT_COLS "l.id, l.code, l.part, l.r25_ohm, l.beta_k, l.pair_t1_k, l.pair_t2_k, " \
-                 "l.tol_r25, l.tol_beta, l.note, l.created_at, " \
-                 "(SELECT count(*) FROM probe p WHERE p.lot_id = l.id)"
-
-static void lot_row(sqlite3_stmt *q, bg_lot *l)
-{
-    l->id = sqlite3_column_int64(q, 0);
-    bgi_copy_text(l->code, sizeof l->code, q, 1);
-    bgi_copy_text(l->part, sizeof l->part, q, 2);
-    l->r25_ohm = sqlite3_column_double(q, 3);
-    l->beta_k = sqlite3_column_double(q, 4);
-    l->pair_t1_k = sqlite3_column_double(q, 5);
-    l->pair_t2_k = sqlite3_column_double(q, 6);
-    l->tol_r25 = sqlite3_column_double(q, 7);
-    l->tol_beta = sqlite3_column_double(q, 8);
-    bgi_copy_text(l->note, sizeof l->note, q, 9);
-    bgi_copy_text(l->created_at, sizeof l->created_at, q, 10);
-    l->nprobes = sqlite3_column_int64(q, 11);
+    rc = st->be->lot_add(st->conn, lot, bg_store_time(st, now, sizeof now), id, err);
+    return tx_end(st, own, rc, err);
 }
 
 int bg_store_lot_get(bg_store *st, const char *code, bg_lot *out, bg_error *err)
 {
-    sqlite3_stmt *q = NULL;
-    int rc = bgi_prepare(st, "SELECT " LOT_COLS " FROM lot l WHERE l.code = ?", &q, err);
-    if (rc != BG_OK)
-        return rc;
-    sqlite3_bind_text(q, 1, code, -1, SQLITE_TRANSIENT);
-    int s = sqlite3_step(q);
-    if (s == SQLITE_ROW)
-        lot_row(q, out);
-    else if (s == SQLITE_DONE)
-        rc = bg_error_set(err, BG_EINVAL, "unknown lot '%s' (add it with 'bandgap lot add')",
-                          code);
-    else
-        rc = bgi_db_fail(st, err, "cannot read lots");
-    sqlite3_finalize(q);
-    return rc;
+    return st->be->lot_get(st->conn, code, out, err);
 }
 
 int bg_store_lot_each(bg_store *st, bg_lot_cb cb, void *ctx, bg_error *err)
 {
-    sqlite3_stmt *q = NULL;
-    bg_lot l;
-    int rc = bgi_prepare(st, "SELECT " LOT_COLS " FROM lot l ORDER BY l.code", &q, err), s;
-    if (rc != BG_OK)
-        return rc;
-    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
-        lot_row(q, &l);
-        if (cb(&l, ctx))
-            break;
-    }
-    if (s != SQLITE_ROW && s != SQLITE_DONE)
-        rc = bgi_db_fail(st, err, "cannot read lots");
-    sqlite3_finalize(q);
-    return rc;
+    return st->be->lot_each(st->conn, cb, ctx, err);
 }
 
-/* ---- probes ---- */
+int bg_store_part_lots(bg_store *st, const char *part, bg_lot_cb cb, void *ctx, bg_error *err)
+{
+    return st->be->part_lots(st->conn, part, cb, ctx, err);
+}
 
 int bg_store_probe_add(bg_store *st, const char *serial, const char *lot_code, const char *note,
                        long long *id, bg_error *err)
 {
-    sqlite3_stmt *q = NULL;
-    bg_lot lot;
     char now[BG_TIME];
     int rc, own;
 
-    if ((rc = bgi_check_text("serial", serial, BG_TEXT, 1, err)) != BG_OK ||
-        (rc = bgi_check_text("note", note, BG_NOTE, 0, err)) != BG_OK)
+    if ((rc = check_text("serial", serial, BG_TEXT, 1, err)) != BG_OK ||
+        (rc = check_text("note", note, BG_NOTE, 0, err)) != BG_OK)
         return rc;
-    if ((rc = bgi_tx_begin(st, &own, err)) != BG_OK)
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
-    lot.id = id_of(st, "SELECT id FROM lot WHERE code = ?", lot_code, err, &rc);
-    if (rc == BG_OK && lot.id == 0)
-        rc = bg_error_set(err, BG_EINVAL, "unknown lot '%s' (add it with 'bandgap lot add')",
-                          lot_code);
-    if (rc != BG_OK)
-        return bgi_tx_end(st, own, rc, err);
-    rc = bgi_prepare(st, "INSERT INTO probe(serial, lot_id, note, created_at) VALUES (?,?,?,?)",
-                     &q, err);
-    if (rc == BG_OK) {
-        sqlite3_bind_text(q, 1, serial, -1, SQLITE_TRANSIENT);
-        sqlite3_bind_int64(q, 2, lot.id);
-        bgi_bind_text_or_null(q, 3, note);
-        sqlite3_bind_text(q, 4, bg_store_now(now, sizeof now), -1, SQLITE_TRANSIENT);
-        int s = sqlite3_step(q);
-        if (s == SQLITE_CONSTRAINT_UNIQUE)
-            rc = bg_error_set(err, BG_EINVAL, "probe '%s' already exists", serial);
-        else if (s != SQLITE_DONE)
-            rc = bgi_db_fail(st, err, "cannot add the probe");
-        else if (id)
-            *id = sqlite3_last_insert_rowid(st->db);
-    }
-    sqlite3_finalize(q);
-    return bgi_tx_end(st, own, rc, err);
-}
-
-#define PROBE_COLS "p.id, p.lot_id, p.serial, l.code, p.note, p.created_at, " \
-                   "(SELECT count(*) FROM run r WHERE r.probe_id = p.id), " \
-                   "(SELECT count(*) FROM fit f JOIN run r ON f.run_id = r.id " \
-                   "  WHERE r.probe_id = p.id)"
-
-static void probe_row(sqlite3_stmt *q, bg_probe *p)
-{
-    p->id = sqlite3_column_int64(q, 0);
-    p->lot_id = sqlite3_column_int64(q, 1);
-    bgi_copy_text(p->serial, sizeof p->serial, q, 2);
-    bgi_copy_text(p->lot_code, sizeof p->lot_code, q, 3);
-    bgi_copy_text(p->note, sizeof p->note, q, 4);
-    bgi_copy_text(p->created_at, sizeof p->created_at, q, 5);
-    p->nruns = sqlite3_column_int64(q, 6);
-    p->nfits = sqlite3_column_int64(q, 7);
+    rc = st->be->probe_add(st->conn, serial, lot_code, note, bg_store_time(st, now, sizeof now),
+                           id, err);
+    return tx_end(st, own, rc, err);
 }
 
 int bg_store_probe_get(bg_store *st, const char *serial, bg_probe *out, bg_error *err)
 {
-    sqlite3_stmt *q = NULL;
-    int rc = bgi_prepare(st, "SELECT " PROBE_COLS " FROM probe p JOIN lot l ON p.lot_id = l.id "
-                         "WHERE p.serial = ?", &q, err);
-    if (rc != BG_OK)
-        return rc;
-    sqlite3_bind_text(q, 1, serial, -1, SQLITE_TRANSIENT);
-    int s = sqlite3_step(q);
-    if (s == SQLITE_ROW)
-        probe_row(q, out);
-    else if (s == SQLITE_DONE)
-        rc = bg_error_set(err, BG_EINVAL, "unknown probe '%s' (add it with 'bandgap probe add "
-                          "SERIAL --lot CODE')", serial);
-    else
-        rc = bgi_db_fail(st, err, "cannot read probes");
-    sqlite3_finalize(q);
-    return rc;
+    return st->be->probe_get(st->conn, serial, out, err);
 }
 
 int bg_store_probe_each(bg_store *st, const char *lot_code, bg_probe_cb cb, void *ctx,
                         bg_error *err)
 {
-    sqlite3_stmt *q = NULL;
-    bg_probe p;
-    int rc, s;
-    if (lot_code) {
-        bg_lot lot;
-        if ((rc = bg_store_lot_get(st, lot_code, &lot, err)) != BG_OK)
-            return rc;
-    }
-    rc = bgi_prepare(st, "SELECT " PROBE_COLS " FROM probe p JOIN lot l ON p.lot_id = l.id "
-                     "WHERE ?1 IS NULL OR l.code = ?1 ORDER BY p.serial", &q, err);
-    if (rc != BG_OK)
-        return rc;
-    bgi_bind_text_or_null(q, 1, lot_code);
-    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
-        probe_row(q, &p);
-        if (cb(&p, ctx))
-            break;
-    }
-    if (s != SQLITE_ROW && s != SQLITE_DONE)
-        rc = bgi_db_fail(st, err, "cannot read probes");
-    sqlite3_finalize(q);
-    return rc;
-}
-
-/* ---- reference thermometers ---- */
-
-static const char *ref_kind_name(bg_ref_kind k)
-{
-    return k == BG_REF_LINEAR ? "linear" : k == BG_REF_CVD ? "cvd" : "none";
+    return st->be->probe_each(st->conn, lot_code, cb, ctx, err);
 }
 
 int bg_store_ref_add(bg_store *st, const bg_ref *ref, long long *id, bg_error *err)
 {
-    sqlite3_stmt *q = NULL;
     char now[BG_TIME];
     int rc, own;
 
-    if ((rc = bgi_check_text("reference identifier", ref->ident, BG_TEXT, 1, err)) != BG_OK ||
-        (rc = bgi_check_text("certificate", ref->certificate, BG_TEXT, 1, err)) != BG_OK ||
-        (rc = bgi_check_text("note", ref->note, BG_NOTE, 0, err)) != BG_OK)
+    if ((rc = check_text("reference identifier", ref->ident, BG_TEXT, 1, err)) != BG_OK ||
+        (rc = check_text("certificate", ref->certificate, BG_TEXT, 1, err)) != BG_OK ||
+        (rc = check_text("note", ref->note, BG_NOTE, 0, err)) != BG_OK)
         return rc;
     if (ref->due_date[0] && !bg_csv_valid_time(ref->due_date))
         return bg_error_set(err, BG_EINVAL, "due date '%s': not an ISO 8601 date",
                             ref->due_date);
-    if (ref->kind == BG_REF_CVD && !(ref->cvd_r0_ohm > 0.0 && isfinite(ref->cvd_a) &&
-                                     ref->cvd_a != 0.0 && isfinite(ref->cvd_b) &&
-                                     isfinite(ref->cvd_c)))
-        return bg_error_set(err, BG_EINVAL, "reference '%s': Callendar-Van Dusen needs R0 > 0 "
-                            "and finite A (not 0), B, C", ref->ident);
-    if (ref->kind == BG_REF_LINEAR && !(isfinite(ref->lin_c0_k) && isfinite(ref->lin_c1) &&
-                                        ref->lin_t0_k > 0.0))
-        return bg_error_set(err, BG_EINVAL, "reference '%s': the linear correction needs "
-                            "finite c0, c1 and t0", ref->ident);
-    if ((rc = bgi_tx_begin(st, &own, err)) != BG_OK)
+    if ((rc = bg_ref_check(ref, err)) != BG_OK)
         return rc;
-    rc = bgi_prepare(st, "INSERT INTO reference(ident, certificate, due_date, correction, "
-                     "lin_c0_k, lin_c1, lin_t0_k, cvd_r0_ohm, cvd_a, cvd_b, cvd_c, note, "
-                     "created_at) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err);
-    if (rc == BG_OK) {
-        sqlite3_bind_text(q, 1, ref->ident, -1, SQLITE_TRANSIENT);
-        sqlite3_bind_text(q, 2, ref->certificate, -1, SQLITE_TRANSIENT);
-        bgi_bind_text_or_null(q, 3, ref->due_date);
-        sqlite3_bind_text(q, 4, ref_kind_name(ref->kind), -1, SQLITE_STATIC);
-        for (int i = 5; i <= 11; i++)
-            sqlite3_bind_null(q, i);
-        if (ref->kind == BG_REF_LINEAR) {
-            sqlite3_bind_double(q, 5, ref->lin_c0_k);
-            sqlite3_bind_double(q, 6, ref->lin_c1);
-            sqlite3_bind_double(q, 7, ref->lin_t0_k);
-        } else if (ref->kind == BG_REF_CVD) {
-            sqlite3_bind_double(q, 8, ref->cvd_r0_ohm);
-            sqlite3_bind_double(q, 9, ref->cvd_a);
-            sqlite3_bind_double(q, 10, ref->cvd_b);
-            sqlite3_bind_double(q, 11, ref->cvd_c);
-        }
-        bgi_bind_text_or_null(q, 12, ref->note);
-        sqlite3_bind_text(q, 13, bg_store_now(now, sizeof now), -1, SQLITE_TRANSIENT);
-        int s = sqlite3_step(q);
-        if (s == SQLITE_CONSTRAINT_UNIQUE)
-            rc = bg_error_set(err, BG_EINVAL, "reference '%s' already exists", ref->ident);
-        else if (s != SQLITE_DONE)
-            rc = bgi_db_fail(st, err, "cannot add the reference");
-        else if (id)
-            *id = sqlite3_last_insert_rowid(st->db);
-    }
-    sqlite3_finalize(q);
-    return bgi_tx_end(st, own, rc, err);
-}
-
-#define REF_COLS "id, ident, certificate, due_date, correction, lin_c0_k, lin_c1, lin_t0_k, " \
-                 "cvd_r0_ohm, cvd_a, cvd_b, cvd_c, note, created_at"
-
-static void ref_row(sqlite3_stmt *q, bg_ref *r)
-{
-    char kind[16];
-    memset(r, 0, sizeof *r);
-    r->id = sqlite3_column_int64(q, 0);
-    bgi_copy_text(r->ident, sizeof r->ident, q, 1);
-    bgi_copy_text(r->certificate, sizeof r->certificate, q, 2);
-    bgi_copy_text(r->due_date, sizeof r->due_date, q, 3);
-    bgi_copy_text(kind, sizeof kind, q, 4);
-    r->kind = strcmp(kind, "linear") == 0 ? BG_REF_LINEAR
-            : strcmp(kind, "cvd") == 0 ? BG_REF_CVD : BG_REF_NONE;
-    r->lin_c0_k = sqlite3_column_double(q, 5);
-    r->lin_c1 = sqlite3_column_double(q, 6);
-    r->lin_t0_k = sqlite3_column_double(q, 7);
-    r->cvd_r0_ohm = sqlite3_column_double(q, 8);
-    r->cvd_a = sqlite3_column_double(q, 9);
-    r->cvd_b = sqlite3_column_double(q, 10);
-    r->cvd_c = sqlite3_column_double(q, 11);
-    bgi_copy_text(r->note, sizeof r->note, q, 12);
-    bgi_copy_text(r->created_at, sizeof r->created_at, q, 13);
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    rc = st->be->ref_add(st->conn, ref, bg_store_time(st, now, sizeof now), id, err);
+    return tx_end(st, own, rc, err);
 }
 
 int bg_store_ref_get(bg_store *st, const char *ident, bg_ref *out, bg_error *err)
 {
-    sqlite3_stmt *q = NULL;
-    int rc = bgi_prepare(st, "SELECT " REF_COLS " FROM reference WHERE ident = ?", &q, err);
-    if (rc != BG_OK)
-        return rc;
-    sqlite3_bind_text(q, 1, ident, -1, SQLITE_TRANSIENT);
-    int s = sqlite3_step(q);
-    if (s == SQLITE_ROW)
-        ref_row(q, out);
-    else if (s == SQLITE_DONE)
-        rc = bg_error_set(err, BG_EINVAL, "unknown reference thermometer '%s' (add it with "
-                          "'bandgap ref add')", ident);
-    else
-        rc = bgi_db_fail(st, err, "cannot read references");
-    sqlite3_finalize(q);
-    return rc;
+    return st->be->ref_get(st->conn, ident, out, err);
 }
 
 int bg_store_ref_each(bg_store *st, bg_ref_cb cb, void *ctx, bg_error *err)
 {
-    sqlite3_stmt *q = NULL;
-    bg_ref r;
-    int rc = bgi_prepare(st, "SELECT " REF_COLS " FROM reference ORDER BY ident", &q, err), s;
-    if (rc != BG_OK)
-        return rc;
-    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
-        ref_row(q, &r);
-        if (cb(&r, ctx))
-            break;
+    return st->be->ref_each(st->conn, cb, ctx, err);
+}
+
+/* ---- runs and readings ---- */
+
+/* The true temperature of every reading through reference 'ref' (NULL: none), into a new
+** array ('*out', free() it). */
+static int correct_all(const bg_readings *rs, const bg_ref *ref, const char *src, double **out,
+                       bg_error *err)
+{
+    double *t = malloc(rs->n * sizeof *t);
+    if (!t)
+        return bg_error_set(err, BG_ENOMEM, "%s: out of memory for %zu readings", src, rs->n);
+    for (size_t i = 0; i < rs->n; i++) {
+        const bg_reading *r = &rs->v[i];
+        if (bg_ref_correct(ref, rs->ref_ohms, rs->ref_ohms ? r->t_raw : r->pt.t_k, &t[i],
+                           err) != BG_OK) {
+            bg_error_prefix(err, "%s:%zu: field '%s'", src, r->pt.line,
+                            rs->ref_ohms ? "ref_ohms" : "temperature");
+            free(t);
+            return BG_EINVAL;
+        }
     }
-    if (s != SQLITE_ROW && s != SQLITE_DONE)
-        rc = bgi_db_fail(st, err, "cannot read references");
-    sqlite3_finalize(q);
+    *out = t;
+    return BG_OK;
+}
+
+/* Inside the import's transaction: the probe and the reference, their agreement with the
+** file, the corrected temperatures, and the backend's write. */
+static int import_run(bg_store *st, const bg_readings *rs, const bg_run *meta,
+                      struct bgi_import *imp, long long *run_id, bg_error *err)
+{
+    bg_ref ref;
+    double *t_k = NULL;
+    int have_ref = meta->ref_ident[0] != '\0', rc;
+
+    if ((rc = st->be->probe_id(st->conn, meta->serial, &imp->probe_id, err)) != BG_OK)
+        return rc;
+    if (have_ref && (rc = st->be->ref_get(st->conn, meta->ref_ident, &ref, err)) != BG_OK)
+        return rc;
+    if (rs->ref_ohms && !(have_ref && ref.kind == BG_REF_CVD))
+        return bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs a reference "
+                            "thermometer with Callendar-Van Dusen coefficients (--ref)",
+                            imp->src);
+    if (!rs->ref_ohms && have_ref && ref.kind == BG_REF_CVD)
+        return bg_error_set(err, BG_EINVAL, "%s: reference '%s' is read as a platinum "
+                            "resistance: the file needs a 'ref_ohms' column", imp->src,
+                            ref.ident);
+    if ((rc = correct_all(rs, have_ref ? &ref : NULL, imp->src, &t_k, err)) != BG_OK)
+        return rc;
+    imp->ref_id = have_ref ? ref.id : 0;
+    imp->t_k = t_k;
+    rc = st->be->import(st->conn, imp, run_id, err);
+    free(t_k);
     return rc;
 }
 
-int bg_store_part_lots(bg_store *st, const char *part, bg_lot_cb cb, void *ctx, bg_error *err)
+int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, long long *run_id,
+                    bg_error *err)
 {
-    sqlite3_stmt *q = NULL;
-    bg_lot l;
-    size_t n = 0;
-    int rc = bgi_prepare(st, "SELECT " LOT_COLS " FROM lot l WHERE l.part = ? "
-                         "ORDER BY l.created_at, l.id", &q, err), s;
+    char now[BG_TIME];
+    struct bgi_import imp;
+    int rc, own;
+
+    memset(&imp, 0, sizeof imp);
+    imp.rs = rs, imp.meta = meta;
+    imp.src = meta->source[0] ? meta->source : "-";
+    imp.unit = rs->ref_ohms ? "ohm" : bg_units_symbol(rs->t_unit, 1);
+    if (rs->n == 0)
+        return bg_error_set(err, BG_EINVAL, "%s: no readings to import", imp.src);
+    if ((rc = check_text("operator", meta->operator_name, BG_TEXT, 0, err)) != BG_OK ||
+        (rc = check_text("medium", meta->medium, BG_TEXT, 0, err)) != BG_OK ||
+        (rc = check_text("note", meta->note, BG_NOTE, 0, err)) != BG_OK)
+        return rc;
+    if (meta->started_at[0] && !bg_csv_valid_time(meta->started_at))
+        return bg_error_set(err, BG_EINVAL, "start time '%s': not an ISO 8601 date-time",
+                            meta->started_at);
+    imp.now = bg_store_time(st, now, sizeof now);
+    imp.started_at = meta->started_at[0] ? meta->started_at
+                   : rs->v[0].time[0] ? rs->v[0].time : now;
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    rc = import_run(st, rs, meta, &imp, run_id, err);
+    return tx_end(st, own, rc, err);
+}
+
+int bg_store_run_get(bg_store *st, long long run_id, bg_run *out, bg_error *err)
+{
+    return st->be->run_get(st->conn, run_id, out, err);
+}
+
+int bg_store_run_latest(bg_store *st, long long probe_id, long long *run_id, bg_error *err)
+{
+    return st->be->run_latest(st->conn, probe_id, run_id, err);
+}
+
+int bg_store_run_each(bg_store *st, const char *serial, const char *lot_code, bg_run_cb cb,
+                      void *ctx, bg_error *err)
+{
+    return st->be->run_each(st->conn, serial, lot_code, cb, ctx, err);
+}
+
+int bg_store_reading_each(bg_store *st, long long run_id, bg_reading_cb cb, void *ctx,
+                          bg_error *err)
+{
+    return st->be->reading_each(st->conn, run_id, cb, ctx, err);
+}
+
+int bg_store_run_points(bg_store *st, long long run_id, bg_store_points *out, bg_error *err)
+{
+    return st->be->run_points(st->conn, run_id, out, err);
+}
+
+void bg_store_points_release(bg_store_points *p)
+{
+    if (!p)
+        return;
+    free(p->pts);
+    free(p->ids);
+    memset(p, 0, sizeof *p);
+}
+
+int bg_store_lot_points_each(bg_store *st, const char *lot_code, bg_lot_points_cb cb, void *ctx,
+                             bg_error *err)
+{
+    bg_lot lot;
+    int rc = st->be->lot_get(st->conn, lot_code, &lot, err);
     if (rc != BG_OK)
         return rc;
-    sqlite3_bind_text(q, 1, part, -1, SQLITE_TRANSIENT);
-    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
-        lot_row(q, &l);
-        n++;
-        if (cb(&l, ctx))
-            break;
+    return st->be->lot_points_each(st->conn, &lot, cb, ctx, err);
+}
+
+int bg_store_exclude(bg_store *st, long long reading_id, const char *why, const char *by,
+                     bg_error *err)
+{
+    char now[BG_TIME];
+    int rc, own;
+
+    if ((rc = check_text("reason", why, BG_NOTE, 1, err)) != BG_OK ||
+        (rc = check_text("name", by, BG_TEXT, 0, err)) != BG_OK)
+        return rc;
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    rc = st->be->exclude(st->conn, reading_id, why, by, bg_store_time(st, now, sizeof now), err);
+    return tx_end(st, own, rc, err);
+}
+
+/* ---- fits ---- */
+
+/* The covariance as little-endian IEEE doubles: exact, and cheap to write for a whole lot. */
+static void put_le_double(unsigned char *p, double v)
+{
+    unsigned long long u;
+    memcpy(&u, &v, sizeof u);
+    for (int i = 0; i < 8; i++)
+        p[i] = (unsigned char)(u >> (8 * i));
+}
+
+/* The reading ids as a JSON array (ids are positive). */
+static char *ids_json(const long long *ids, size_t n)
+{
+    size_t cap = n * 21 + 3, k = 0;
+    char *s = malloc(cap), digits[24];
+    if (!s)
+        return NULL;
+    s[k++] = '[';
+    for (size_t i = 0; i < n; i++) {
+        unsigned long long v = (unsigned long long)ids[i];
+        size_t d = 0;
+        if (i)
+            s[k++] = ',';
+        do
+            digits[d++] = (char)('0' + v % 10);
+        while ((v /= 10) != 0);
+        while (d)
+            s[k++] = digits[--d];
     }
-    if (s != SQLITE_ROW && s != SQLITE_DONE)
-        rc = bgi_db_fail(st, err, "cannot read lots");
-    else if (n == 0)
-        rc = bg_error_set(err, BG_EINVAL, "no lots of part '%s'", part);
-    sqlite3_finalize(q);
+    s[k++] = ']';
+    s[k] = '\0';
+    return s;
+}
+
+/* The values of a fit row, as every backend writes them. */
+static int fitrow_of(long long run_id, const bg_fit *fit, const long long *reading_ids,
+                     struct bgi_fitrow *r, bg_error *err)
+{
+    r->id = 0;
+    r->run_id = run_id;
+    bg_model_name(&fit->model, r->model, sizeof r->model);
+    r->t0_k = (bg_model_flags(&fit->model) & BG_MODEL_HAS_T0) ? fit->model.t0_k : NAN;
+    r->npar = fit->npar;
+    for (size_t i = 0; i < BG_MODEL_MAXPAR; i++)
+        r->coef[i] = i < fit->npar ? fit->model.coef[i] : 0.0;
+    r->covlen = 0;
+    if (fit->dof > 0) {
+        for (size_t i = 0; i < fit->npar * fit->npar; i++)
+            put_le_double(r->cov + 8 * i, fit->cov[i]);
+        r->covlen = 8 * fit->npar * fit->npar;
+    }
+    r->n = fit->n, r->dof = fit->dof, r->weighted = fit->weighted;
+    r->chi2 = fit->chi2, r->cov_scale = fit->cov_scale;
+    r->rms_mk = fit->rms_mk, r->max_abs_mk = fit->max_abs_mk;
+    r->t_min_k = fit->t_min_k, r->t_max_k = fit->t_max_k;
+    if (!(r->ids = ids_json(reading_ids, fit->n)))
+        return bg_error_set(err, BG_ENOMEM, "out of memory storing a fit");
+    return BG_OK;
+}
+
+int bg_store_fit_queue(bg_store *st, long long run_id, const bg_fit *fit,
+                       const long long *reading_ids, long long *fit_id, bg_error *err)
+{
+    int rc;
+    if (!st->be->in_tx(st->conn))
+        return bg_error_set(err, BG_EINTERNAL, "fits are queued inside bg_store_begin only");
+    /* under the write lock of the transaction nobody else inserts: ids from here on */
+    if (!st->next_fit_id && (rc = st->be->fit_next_id(st->conn, &st->next_fit_id, err)) != BG_OK)
+        return rc;
+    if (st->nfitq == BGI_FITQ && (rc = fitq_flush(st, err)) != BG_OK)
+        return rc;
+    struct bgi_fitrow *r = &st->fitq[st->nfitq];
+    if ((rc = fitrow_of(run_id, fit, reading_ids, r, err)) != BG_OK)
+        return rc;
+    r->id = st->next_fit_id++;
+    st->nfitq++;
+    if (fit_id)
+        *fit_id = r->id;
+    return BG_OK;
+}
+
+int bg_store_fit_flush(bg_store *st, bg_error *err)
+{
+    return fitq_flush(st, err);
+}
+
+int bg_store_fit_save(bg_store *st, long long run_id, const bg_fit *fit,
+                      const long long *reading_ids, long long *fit_id, bg_error *err)
+{
+    char now[BG_TIME];
+    struct bgi_fitrow r;
+    int rc, own;
+
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    /* queued fits first: their ids come before this one's */
+    if ((rc = fitq_flush(st, err)) == BG_OK &&
+        (rc = fitrow_of(run_id, fit, reading_ids, &r, err)) == BG_OK) {
+        r.id = st->next_fit_id ? st->next_fit_id++ : 0;
+        rc = st->be->fit_insert(st->conn, &r, 1, bg_store_time(st, now, sizeof now), err);
+        if (rc == BG_OK && fit_id)
+            *fit_id = r.id;
+        free(r.ids);
+    }
+    return tx_end(st, own, rc, err);
+}
+
+int bg_store_fit_get(bg_store *st, long long fit_id, bg_fit_row *out, bg_error *err)
+{
+    return st->be->fit_get(st->conn, fit_id, out, err);
+}
+
+int bg_store_fit_each(bg_store *st, const char *serial, const char *lot_code, bg_fit_cb cb,
+                      void *ctx, bg_error *err)
+{
+    return st->be->fit_each(st->conn, serial, lot_code, cb, ctx, err);
+}
+
+int bg_store_fit_readings(bg_store *st, long long fit_id, long long *ids, size_t max, size_t *n,
+                          bg_error *err)
+{
+    return st->be->fit_readings(st->conn, fit_id, ids, max, n, err);
+}
+
+/* ---- calibration history ---- */
+
+int bg_store_probe_history(bg_store *st, const char *serial, const char *since,
+                           bg_history_cb cb, void *ctx, bg_error *err)
+{
+    long long pid = 0;
+    int rc = st->be->probe_id(st->conn, serial, &pid, err);
+    if (rc != BG_OK)
+        return rc;
+    return st->be->probe_history(st->conn, pid, since, cb, ctx, err);
+}
+
+int bg_store_lot_latest_fits(bg_store *st, const char *lot_code, const char *since,
+                             bg_latest_cb cb, void *ctx, bg_error *err)
+{
+    bg_lot lot;
+    int rc = st->be->lot_get(st->conn, lot_code, &lot, err);
+    if (rc != BG_OK)
+        return rc;
+    return st->be->lot_latest_fits(st->conn, lot.id, since, cb, ctx, err);
+}
+
+int bg_store_lot_history(bg_store *st, const char *lot_code, const char *since,
+                         bg_lot_history_cb cb, void *ctx, bg_error *err)
+{
+    bg_lot lot;
+    int rc = st->be->lot_get(st->conn, lot_code, &lot, err);
+    if (rc != BG_OK)
+        return rc;
+    return st->be->lot_history(st->conn, lot.id, since, cb, ctx, err);
+}
+
+/* ---- issued artifacts ---- */
+
+void bg_artifact_release(bg_artifact *a)
+{
+    if (!a)
+        return;
+    free(a->spec);
+    free(a->content);
+    memset(a, 0, sizeof *a);
+}
+
+/* Inside the issue's transaction: the identifier and the chain, the content, the row. */
+static int issue(bg_store *st, const bg_artifact_req *req, long long *id, bg_error *err)
+{
+    struct bgi_artifact_row row;
+    char now[BG_TIME];
+    char *content = NULL;
+    size_t len = 0;
+    long long latest = 0;
+    int rc = st->be->artifact_next(st->conn, req->kind, req->subject, id, &latest, err);
+
+    if (rc != BG_OK)
+        return rc;
+    if (latest && req->replaces_id != latest)
+        return bg_error_set(err, BG_EINVAL, "%s already has report %lld: reissue it (naming "
+                            "it as replaced) or fetch the stored copy", req->subject, latest);
+    if (!latest && req->replaces_id)
+        return bg_error_set(err, BG_EINVAL, "%s has no issued report to replace",
+                            req->subject);
+    bg_store_time(st, now, sizeof now);
+    if ((rc = req->gen(*id, now, req->ctx, &content, &len, err)) != BG_OK)
+        return rc;
+    row.id = *id, row.req = req, row.content = content, row.len = len, row.now = now;
+    rc = st->be->artifact_insert(st->conn, &row, err);
+    free(content);
     return rc;
 }
 
-const char *bg_sqlite_version(void)
+int bg_store_artifact_issue(bg_store *st, const bg_artifact_req *req, long long *id_out,
+                            bg_error *err)
 {
-    return sqlite3_libversion();
+    long long id = 0;
+    int rc, own;
+
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    rc = tx_end(st, own, issue(st, req, &id, err), err);
+    if (rc == BG_OK && id_out)
+        *id_out = id;
+    return rc;
+}
+
+int bg_store_artifact_get(bg_store *st, long long id, bg_artifact *out, bg_error *err)
+{
+    return st->be->artifact_get(st->conn, id, out, err);
+}
+
+int bg_store_artifact_each(bg_store *st, bg_artifact_cb cb, void *ctx, bg_error *err)
+{
+    return st->be->artifact_each(st->conn, cb, ctx, err);
 }

@@ -1,14 +1,152 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* Internal: the schema migrations embedded from db/NNN-*.sql at build time. */
+/* Internal: the store's backend seam.  store.c keeps what every backend shares (argument and
+** text checks, the reference correction of readings, transactions around writes, the fit
+** queue, the clock); a backend is one 'const struct bgi_store_backend' of functions that run
+** the queries, one file (or a few) per database, named by a scheme in bg_store_open. */
 #ifndef BANDGAP_STORE_INT_H
 #define BANDGAP_STORE_INT_H
 
+#include <stddef.h>
+#include <time.h>
+
+#include "bandgap/store.h"
+
+/* A backend's connection: each backend defines 'struct bgi_conn' in its own files (the
+** definitions never meet in one translation unit). */
+typedef struct bgi_conn bgi_conn;
+
+/* A fit row ready to be written: the bound values (bg_store_fit_queue keeps up to BGI_FITQ). */
+struct bgi_fitrow {
+    long long id, run_id;  /* id 0: the backend assigns it and writes it back */
+    char model[16];
+    double t0_k;           /* NaN: NULL */
+    size_t npar, n, dof;
+    double coef[6];
+    unsigned char cov[8 * 36]; /* little-endian IEEE doubles, npar x npar */
+    size_t covlen;         /* 0: NULL */
+    int weighted;
+    double chi2, cov_scale, rms_mk, max_abs_mk, t_min_k, t_max_k;
+    char *ids;             /* the reading ids as a JSON array */
+};
+#define BGI_FITQ 32
+
+/* A checked import: the run's values and each reading's corrected temperature. */
+struct bgi_import {
+    const bg_readings *rs;
+    const bg_run *meta;
+    long long probe_id, ref_id;     /* ref_id 0: none */
+    const double *t_k;              /* rs->n corrected temperatures, K */
+    const char *src, *unit;         /* the source's name; the unit of the raw values */
+    const char *started_at, *now;
+};
+
+/* An artifact to store under 'id' (from artifact_next). */
+struct bgi_artifact_row {
+    long long id;
+    const bg_artifact_req *req;
+    const char *content;
+    size_t len;
+    const char *now;
+};
+
+#define BGI_STORE_BACKEND_VERSION 1
+
+/* Every function takes the connection first and 'err' last, and returns a bg_status unless
+** said otherwise.  Write functions run inside a transaction that store.c opened (in_tx is
+** true); they neither begin nor end one.  Messages follow store.h's. */
+struct bgi_store_backend {
+    int version;         /* BGI_STORE_BACKEND_VERSION: fields are only ever added at the end */
+    const char *scheme;  /* "sqlite": bg_store_open's "sqlite:" prefix */
+
+    /* 'target' without the scheme; 'backup' (of 'size' bytes) receives the path of the
+    ** copy made before a schema upgrade, "" if none. */
+    int (*open)(const char *target, int flags, bgi_conn **out, char *backup, size_t size,
+                bg_error *err);
+    void (*close)(bgi_conn *c);
+    int (*schema_version)(bgi_conn *c);
+    int (*schema_known)(void);
+
+    int (*in_tx)(bgi_conn *c); /* 1 inside a transaction */
+    int (*begin)(bgi_conn *c, bg_error *err); /* a write transaction */
+    int (*commit)(bgi_conn *c, bg_error *err);
+    void (*rollback)(bgi_conn *c);            /* no-op outside a transaction */
+
+    int (*lot_add)(bgi_conn *c, const bg_lot *lot, const char *now, long long *id,
+                   bg_error *err);
+    int (*lot_get)(bgi_conn *c, const char *code, bg_lot *out, bg_error *err);
+    int (*lot_each)(bgi_conn *c, bg_lot_cb cb, void *ctx, bg_error *err);
+    int (*part_lots)(bgi_conn *c, const char *part, bg_lot_cb cb, void *ctx, bg_error *err);
+    int (*probe_add)(bgi_conn *c, const char *serial, const char *lot_code, const char *note,
+                     const char *now, long long *id, bg_error *err);
+    int (*probe_get)(bgi_conn *c, const char *serial, bg_probe *out, bg_error *err);
+    /* the probe's row id without counts; BG_EINVAL "unknown probe" when absent */
+    int (*probe_id)(bgi_conn *c, const char *serial, long long *id, bg_error *err);
+    int (*probe_each)(bgi_conn *c, const char *lot_code, bg_probe_cb cb, void *ctx,
+                      bg_error *err);
+    int (*ref_add)(bgi_conn *c, const bg_ref *ref, const char *now, long long *id,
+                   bg_error *err);
+    int (*ref_get)(bgi_conn *c, const char *ident, bg_ref *out, bg_error *err);
+    int (*ref_each)(bgi_conn *c, bg_ref_cb cb, void *ctx, bg_error *err);
+
+    int (*import)(bgi_conn *c, const struct bgi_import *imp, long long *run_id, bg_error *err);
+    int (*run_get)(bgi_conn *c, long long run_id, bg_run *out, bg_error *err);
+    int (*run_latest)(bgi_conn *c, long long probe_id, long long *run_id, bg_error *err);
+    int (*run_each)(bgi_conn *c, const char *serial, const char *lot_code, bg_run_cb cb,
+                    void *ctx, bg_error *err);
+    int (*reading_each)(bgi_conn *c, long long run_id, bg_reading_cb cb, void *ctx,
+                        bg_error *err);
+    int (*run_points)(bgi_conn *c, long long run_id, bg_store_points *out, bg_error *err);
+    int (*lot_points_each)(bgi_conn *c, const bg_lot *lot, bg_lot_points_cb cb, void *ctx,
+                           bg_error *err);
+    int (*exclude)(bgi_conn *c, long long reading_id, const char *why, const char *by,
+                   const char *now, bg_error *err);
+
+    /* the id the next fit row gets (inside a write transaction) */
+    int (*fit_next_id)(bgi_conn *c, long long *id, bg_error *err);
+    /* write 'n' rows (BGI_FITQ in one statement when n is that, else one by one) */
+    int (*fit_insert)(bgi_conn *c, struct bgi_fitrow *rows, size_t n, const char *now,
+                      bg_error *err);
+    int (*fit_get)(bgi_conn *c, long long fit_id, bg_fit_row *out, bg_error *err);
+    int (*fit_each)(bgi_conn *c, const char *serial, const char *lot_code, bg_fit_cb cb,
+                    void *ctx, bg_error *err);
+    int (*fit_readings)(bgi_conn *c, long long fit_id, long long *ids, size_t max, size_t *n,
+                        bg_error *err);
+    int (*probe_history)(bgi_conn *c, long long probe_id, const char *since, bg_history_cb cb,
+                         void *ctx, bg_error *err);
+    int (*lot_latest_fits)(bgi_conn *c, long long lot_id, const char *since, bg_latest_cb cb,
+                           void *ctx, bg_error *err);
+    int (*lot_history)(bgi_conn *c, long long lot_id, const char *since,
+                       bg_lot_history_cb cb, void *ctx, bg_error *err);
+
+    /* the next artifact id, and the newest artifact of 'kind' about 'subject' (0: none) */
+    int (*artifact_next)(bgi_conn *c, const char *kind, const char *subject, long long *id,
+                         long long *latest, bg_error *err);
+    int (*artifact_insert)(bgi_conn *c, const struct bgi_artifact_row *row, bg_error *err);
+    int (*artifact_get)(bgi_conn *c, long long id, bg_artifact *out, bg_error *err);
+    int (*artifact_each)(bgi_conn *c, bg_artifact_cb cb, void *ctx, bg_error *err);
+};
+
+/* The backends (sqlite.c, ...); store.c lists them by scheme. */
+extern const struct bgi_store_backend bgi_store_sqlite;
+
+struct bg_store {
+    const struct bgi_store_backend *be;
+    bgi_conn *conn;
+    time_t clock;                  /* < 0: the system clock */
+    time_t now_t;                  /* the time 'now_text' shows, -1 when none yet */
+    char now_text[BG_TIME];
+    struct bgi_fitrow fitq[BGI_FITQ];
+    size_t nfitq;
+    long long next_fit_id;         /* 0: not read in this transaction */
+    char backup[4200];
+};
+
+/* The SQLite backend's schema migrations, embedded from db/NNN-*.sql at build time: entry i
+** takes the schema from version i to i + 1; ends with NULLs. */
 struct bgi_sql_file {
     const char *name;
     const char *text;
 };
-
-/* Migrations in order: entry i takes the schema from version i to i + 1; ends with NULLs. */
 extern const struct bgi_sql_file bgi_migrations[];
 
 #endif

@@ -1,0 +1,66 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* Internal: the SQLite backend's connection and the helpers its files share (sqlite.c,
+** sqlite_run.c, sqlite_fit.c, sqlite_artifact.c: the only files that include sqlite3.h). */
+#ifndef BANDGAP_SQLITE_INT_H
+#define BANDGAP_SQLITE_INT_H
+
+#include <sqlite3.h>
+
+#include "store_int.h"
+
+enum { STMT_INSERT_READING, STMT_INSERT_READINGS, STMT_RUN_POINTS, STMT_INSERT_FIT,
+       STMT_INSERT_FIT_ID, STMT_INSERT_FITS, STMT_COUNT };
+
+struct bgi_conn {
+    sqlite3 *db;
+    sqlite3_stmt *cache[STMT_COUNT]; /* statements reused in loops */
+};
+
+int bgi_db_fail(bgi_conn *c, bg_error *err, const char *what);
+int bgi_prepare(bgi_conn *c, const char *sql, sqlite3_stmt **stmt, bg_error *err);
+/* A statement kept on the connection (prepared once, reset and cleared here). */
+int bgi_cached(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, bg_error *err);
+void bgi_copy_text(char *dst, size_t size, sqlite3_stmt *stmt, int col);
+void bgi_bind_text_or_null(sqlite3_stmt *stmt, int i, const char *s);
+
+/* The backend's functions shared between its files (the table is in sqlite.c). */
+int bgi_sqlite_lot_get(bgi_conn *c, const char *code, bg_lot *out, bg_error *err);
+int bgi_sqlite_probe_get(bgi_conn *c, const char *serial, bg_probe *out, bg_error *err);
+int bgi_sqlite_probe_id(bgi_conn *c, const char *serial, long long *id, bg_error *err);
+int bgi_sqlite_import(bgi_conn *c, const struct bgi_import *imp, long long *run_id,
+                      bg_error *err);
+int bgi_sqlite_run_get(bgi_conn *c, long long run_id, bg_run *out, bg_error *err);
+int bgi_sqlite_run_latest(bgi_conn *c, long long probe_id, long long *run_id, bg_error *err);
+int bgi_sqlite_run_each(bgi_conn *c, const char *serial, const char *lot_code, bg_run_cb cb,
+                        void *ctx, bg_error *err);
+int bgi_sqlite_reading_each(bgi_conn *c, long long run_id, bg_reading_cb cb, void *ctx,
+                            bg_error *err);
+int bgi_sqlite_run_points(bgi_conn *c, long long run_id, bg_store_points *out, bg_error *err);
+int bgi_sqlite_lot_points_each(bgi_conn *c, const bg_lot *lot, bg_lot_points_cb cb, void *ctx,
+                               bg_error *err);
+int bgi_sqlite_exclude(bgi_conn *c, long long reading_id, const char *why, const char *by,
+                       const char *now, bg_error *err);
+/* A listing filtered by probe or lot names one that exists, or says so. */
+int bgi_sqlite_check_filter(bgi_conn *c, const char *serial, const char *lot_code,
+                            bg_error *err);
+int bgi_sqlite_fit_next_id(bgi_conn *c, long long *id, bg_error *err);
+int bgi_sqlite_fit_insert(bgi_conn *c, struct bgi_fitrow *rows, size_t n, const char *now,
+                          bg_error *err);
+int bgi_sqlite_fit_get(bgi_conn *c, long long fit_id, bg_fit_row *out, bg_error *err);
+int bgi_sqlite_fit_each(bgi_conn *c, const char *serial, const char *lot_code, bg_fit_cb cb,
+                        void *ctx, bg_error *err);
+int bgi_sqlite_fit_readings(bgi_conn *c, long long fit_id, long long *ids, size_t max,
+                            size_t *n, bg_error *err);
+int bgi_sqlite_probe_history(bgi_conn *c, long long probe_id, const char *since,
+                             bg_history_cb cb, void *ctx, bg_error *err);
+int bgi_sqlite_lot_latest_fits(bgi_conn *c, long long lot_id, const char *since,
+                               bg_latest_cb cb, void *ctx, bg_error *err);
+int bgi_sqlite_lot_history(bgi_conn *c, long long lot_id, const char *since,
+                           bg_lot_history_cb cb, void *ctx, bg_error *err);
+int bgi_sqlite_artifact_next(bgi_conn *c, const char *kind, const char *subject, long long *id,
+                             long long *latest, bg_error *err);
+int bgi_sqlite_artifact_insert(bgi_conn *c, const struct bgi_artifact_row *row, bg_error *err);
+int bgi_sqlite_artifact_get(bgi_conn *c, long long id, bg_artifact *out, bg_error *err);
+int bgi_sqlite_artifact_each(bgi_conn *c, bg_artifact_cb cb, void *ctx, bg_error *err);
+
+#endif

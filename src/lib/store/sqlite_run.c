@@ -1,0 +1,370 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* The SQLite backend's runs, readings and exclusions.  An import writes the run and its
+** readings, 64 to a statement, with contiguous ids; store.c has checked and corrected them. */
+#include <math.h>
+#include <stdio.h>
+#include <stddef.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "bandgap/bandgap.h"
+#include "sqlite_int.h"
+
+/* The run's row; its readings get the ids from '*first' on (read here, under the write lock). */
+static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *first,
+                      long long *rid, bg_error *err)
+{
+    const bg_run *meta = imp->meta;
+    sqlite3_stmt *q = NULL;
+    int rc;
+
+    if ((rc = bgi_prepare(c, "SELECT coalesce(max(id), 0) + 1 FROM reading", &q, err)) != BG_OK)
+        return rc;
+    if (sqlite3_step(q) != SQLITE_ROW)
+        rc = bgi_db_fail(c, err, "cannot read the readings");
+    else
+        *first = sqlite3_column_int64(q, 0);
+    sqlite3_finalize(q);
+    q = NULL;
+    if (rc != BG_OK ||
+        (rc = bgi_prepare(c, "INSERT INTO run(probe_id, reference_id, operator, medium, "
+                          "ambient, excitation, started_at, source, note, imported_at, "
+                          "t_raw_unit, first_reading, nreadings) "
+                          "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, imp->probe_id);
+    if (imp->ref_id)
+        sqlite3_bind_int64(q, 2, imp->ref_id);
+    else
+        sqlite3_bind_null(q, 2);
+    bgi_bind_text_or_null(q, 3, meta->operator_name);
+    bgi_bind_text_or_null(q, 4, meta->medium);
+    bgi_bind_text_or_null(q, 5, meta->ambient);
+    bgi_bind_text_or_null(q, 6, meta->excitation);
+    sqlite3_bind_text(q, 7, imp->started_at, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 8, imp->src, -1, SQLITE_TRANSIENT);
+    bgi_bind_text_or_null(q, 9, meta->note);
+    sqlite3_bind_text(q, 10, imp->now, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 11, imp->unit, -1, SQLITE_STATIC);
+    sqlite3_bind_int64(q, 12, *first);
+    sqlite3_bind_int64(q, 13, (sqlite3_int64)imp->rs->n);
+    if (sqlite3_step(q) != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot create the run");
+    else
+        *rid = sqlite3_last_insert_rowid(c->db);
+    sqlite3_finalize(q);
+    return rc;
+}
+
+/* BATCH readings per statement: one step instead of BATCH (a third less time for a large
+** file); the rest one by one. */
+enum { BATCH = 64, NCOL = 9 };
+
+static int insert_readings(bgi_conn *c, const struct bgi_import *imp, long long rid,
+                           bg_error *err)
+{
+    const bg_readings *rs = imp->rs;
+    sqlite3_stmt *batch = NULL, *ins = NULL;
+    int rc = BG_OK;
+
+    if (rs->n >= BATCH) {
+        char sql[128 + BATCH * 32];
+        size_t len = (size_t)snprintf(sql, sizeof sql, "INSERT INTO reading(id, run_id, line, "
+                                      "t_raw, t_k, r_ohm, u_t_k, u_r_ohm, time, note) VALUES ");
+        for (int k = 0; k < BATCH; k++)
+            len += (size_t)snprintf(sql + len, sizeof sql - len, "%s(NULL,?,?,?,?,?,?,?,?,?)",
+                                    k ? "," : "");
+        if ((rc = bgi_cached(c, STMT_INSERT_READINGS, sql, &batch, err)) != BG_OK)
+            return rc;
+    }
+    if ((rc = bgi_cached(c, STMT_INSERT_READING, "INSERT INTO reading(id, run_id, line, t_raw, "
+                         "t_k, r_ohm, u_t_k, u_r_ohm, time, note) VALUES (NULL,?,?,?,?,?,?,?,"
+                         "?,?)", &ins, err)) != BG_OK)
+        return rc;
+    for (size_t i = 0; i < rs->n;) {
+        size_t nb = batch && rs->n - i >= BATCH ? BATCH : 1;
+        sqlite3_stmt *qi = nb > 1 ? batch : ins;
+        sqlite3_reset(qi);
+        for (size_t k = 0; k < nb; k++) {
+            const bg_reading *r = &rs->v[i + k];
+            int b = (int)(k * NCOL);
+            sqlite3_bind_int64(qi, b + 1, rid);
+            sqlite3_bind_int64(qi, b + 2, (sqlite3_int64)r->pt.line);
+            sqlite3_bind_double(qi, b + 3, r->t_raw);
+            sqlite3_bind_double(qi, b + 4, imp->t_k[i + k]);
+            sqlite3_bind_double(qi, b + 5, r->pt.r_ohm);
+            sqlite3_bind_double(qi, b + 6, r->pt.u_t_k);
+            sqlite3_bind_double(qi, b + 7, r->pt.u_r_ohm);
+            if (r->time[0])
+                sqlite3_bind_text(qi, b + 8, r->time, -1, SQLITE_STATIC);
+            else
+                sqlite3_bind_null(qi, b + 8);
+            if (r->note)
+                sqlite3_bind_text(qi, b + 9, r->note, -1, SQLITE_STATIC);
+            else
+                sqlite3_bind_null(qi, b + 9);
+        }
+        if (sqlite3_step(qi) != SQLITE_DONE) {
+            if (nb > 1)
+                rc = bg_error_set(err, BG_EINVAL, "%s:%zu..%zu: cannot store the readings: %s",
+                                  imp->src, rs->v[i].pt.line, rs->v[i + nb - 1].pt.line,
+                                  sqlite3_errmsg(c->db));
+            else
+                rc = bg_error_set(err, BG_EINVAL, "%s:%zu: cannot store the reading: %s",
+                                  imp->src, rs->v[i].pt.line, sqlite3_errmsg(c->db));
+            break;
+        }
+        i += nb;
+    }
+    if (batch)
+        sqlite3_reset(batch);
+    sqlite3_reset(ins);
+    return rc;
+}
+
+int bgi_sqlite_import(bgi_conn *c, const struct bgi_import *imp, long long *run_id,
+                      bg_error *err)
+{
+    long long first = 1, rid = 0;
+    int rc = insert_run(c, imp, &first, &rid, err);
+    if (rc == BG_OK)
+        rc = insert_readings(c, imp, rid, err);
+    if (rc != BG_OK)
+        return rc;
+    /* Ids are assigned by SQLite as the largest plus one (cheaper than explicit ids), which
+    ** under the write lock gives exactly first, first + 1, ... */
+    if (sqlite3_last_insert_rowid(c->db) != first + (long long)imp->rs->n - 1)
+        return bg_error_set(err, BG_EDB, "%s: the readings did not get contiguous ids",
+                            imp->src);
+    if (run_id)
+        *run_id = rid;
+    return BG_OK;
+}
+
+#define RUN_COLS "r.id, r.probe_id, coalesce(r.reference_id, 0), p.serial, " \
+    "coalesce(x.ident, ''), r.operator, r.medium, r.ambient, r.excitation, r.started_at, " \
+    "r.source, r.note, r.imported_at, " \
+    "r.nreadings, " \
+    "(SELECT count(*) FROM exclusion e WHERE e.reading_id BETWEEN r.first_reading " \
+    "  AND r.first_reading + r.nreadings - 1), " \
+    "(SELECT count(*) FROM fit f WHERE f.run_id = r.id)"
+#define RUN_FROM " FROM run r JOIN probe p ON r.probe_id = p.id " \
+    "LEFT JOIN reference x ON r.reference_id = x.id "
+
+static void run_row(sqlite3_stmt *q, bg_run *r)
+{
+    r->id = sqlite3_column_int64(q, 0);
+    r->probe_id = sqlite3_column_int64(q, 1);
+    r->reference_id = sqlite3_column_int64(q, 2);
+    bgi_copy_text(r->serial, sizeof r->serial, q, 3);
+    bgi_copy_text(r->ref_ident, sizeof r->ref_ident, q, 4);
+    bgi_copy_text(r->operator_name, sizeof r->operator_name, q, 5);
+    bgi_copy_text(r->medium, sizeof r->medium, q, 6);
+    bgi_copy_text(r->ambient, sizeof r->ambient, q, 7);
+    bgi_copy_text(r->excitation, sizeof r->excitation, q, 8);
+    bgi_copy_text(r->started_at, sizeof r->started_at, q, 9);
+    bgi_copy_text(r->source, sizeof r->source, q, 10);
+    bgi_copy_text(r->note, sizeof r->note, q, 11);
+    bgi_copy_text(r->imported_at, sizeof r->imported_at, q, 12);
+    r->nreadings = sqlite3_column_int64(q, 13);
+    r->nexcluded = sqlite3_column_int64(q, 14);
+    r->nfits = sqlite3_column_int64(q, 15);
+}
+
+int bgi_sqlite_run_get(bgi_conn *c, long long run_id, bg_run *out, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "SELECT " RUN_COLS RUN_FROM "WHERE r.id = ?", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, run_id);
+    int s = sqlite3_step(q);
+    if (s == SQLITE_ROW)
+        run_row(q, out);
+    else if (s == SQLITE_DONE)
+        rc = bg_error_set(err, BG_EINVAL, "no run %lld", run_id);
+    else
+        rc = bgi_db_fail(c, err, "cannot read runs");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bgi_sqlite_run_latest(bgi_conn *c, long long probe_id, long long *run_id, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "SELECT run_id FROM probe_latest_run WHERE probe_id = ?", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, probe_id);
+    int s = sqlite3_step(q);
+    if (s == SQLITE_ROW && sqlite3_column_type(q, 0) != SQLITE_NULL)
+        *run_id = sqlite3_column_int64(q, 0);
+    else if (s == SQLITE_ROW || s == SQLITE_DONE)
+        rc = bg_error_set(err, BG_EINVAL, "the probe has no calibration runs (import one with "
+                          "'bandgap import FILE --probe SERIAL')");
+    else
+        rc = bgi_db_fail(c, err, "cannot read runs");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bgi_sqlite_check_filter(bgi_conn *c, const char *serial, const char *lot_code, bg_error *err)
+{
+    int rc = BG_OK;
+    if (serial) {
+        bg_probe p;
+        rc = bgi_sqlite_probe_get(c, serial, &p, err);
+    }
+    if (rc == BG_OK && lot_code) {
+        bg_lot l;
+        rc = bgi_sqlite_lot_get(c, lot_code, &l, err);
+    }
+    return rc;
+}
+
+int bgi_sqlite_run_each(bgi_conn *c, const char *serial, const char *lot_code, bg_run_cb cb,
+                        void *ctx, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    bg_run r;
+    int rc = bgi_sqlite_check_filter(c, serial, lot_code, err), s;
+    if (rc != BG_OK)
+        return rc;
+    rc = bgi_prepare(c, "SELECT " RUN_COLS RUN_FROM "JOIN lot l ON p.lot_id = l.id "
+                     "WHERE (?1 IS NULL OR p.serial = ?1) AND (?2 IS NULL OR l.code = ?2) "
+                     "ORDER BY r.id", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    bgi_bind_text_or_null(q, 1, serial);
+    bgi_bind_text_or_null(q, 2, lot_code);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        run_row(q, &r);
+        if (cb(&r, ctx))
+            break;
+    }
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read runs");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bgi_sqlite_reading_each(bgi_conn *c, long long run_id, bg_reading_cb cb, void *ctx,
+                            bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    bg_reading_row row;
+    int rc = bgi_prepare(c, "SELECT g.id, g.run_id, g.line, g.t_raw, r.t_raw_unit, g.t_k, "
+                         "g.r_ohm, g.u_t_k, g.u_r_ohm, g.time, g.note, e.reading_id IS NOT NULL, "
+                         "e.reason, e.by_whom, e.at FROM run r JOIN reading g ON g.id BETWEEN "
+                         "r.first_reading AND r.first_reading + r.nreadings - 1 AND g.run_id = "
+                         "r.id LEFT JOIN exclusion e ON e.reading_id = g.id WHERE r.id = ? "
+                         "ORDER BY g.id", &q, err), s;
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, run_id);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        row.id = sqlite3_column_int64(q, 0);
+        row.run_id = sqlite3_column_int64(q, 1);
+        row.line = (size_t)sqlite3_column_int64(q, 2);
+        row.t_raw = sqlite3_column_double(q, 3);
+        bgi_copy_text(row.t_raw_unit, sizeof row.t_raw_unit, q, 4);
+        row.t_k = sqlite3_column_double(q, 5);
+        row.r_ohm = sqlite3_column_double(q, 6);
+        row.u_t_k = sqlite3_column_double(q, 7);
+        row.u_r_ohm = sqlite3_column_double(q, 8);
+        bgi_copy_text(row.time, sizeof row.time, q, 9);
+        bgi_copy_text(row.note, sizeof row.note, q, 10);
+        row.excluded = sqlite3_column_int(q, 11);
+        bgi_copy_text(row.excl_reason, sizeof row.excl_reason, q, 12);
+        bgi_copy_text(row.excl_by, sizeof row.excl_by, q, 13);
+        bgi_copy_text(row.excl_at, sizeof row.excl_at, q, 14);
+        if (cb(&row, ctx))
+            break;
+    }
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read readings");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+/* Append the point in columns col .. col+5 (id, t_k, r_ohm, u_t_k, u_r_ohm, line) of 'q'. */
+static int points_push(bg_store_points *sp, sqlite3_stmt *q, int col)
+{
+    if (sp->n == sp->cap) {
+        size_t cap = sp->cap ? 2 * sp->cap : 64;
+        bg_point *p = realloc(sp->pts, cap * sizeof *p);
+        if (p)
+            sp->pts = p;
+        long long *ids = realloc(sp->ids, cap * sizeof *ids);
+        if (ids)
+            sp->ids = ids;
+        if (!p || !ids)
+            return BG_ENOMEM;
+        sp->cap = cap;
+    }
+    bg_point *pt = &sp->pts[sp->n];
+    sp->ids[sp->n] = sqlite3_column_int64(q, col);
+    pt->t_k = sqlite3_column_double(q, col + 1);
+    pt->r_ohm = sqlite3_column_double(q, col + 2);
+    pt->u_t_k = sqlite3_column_double(q, col + 3);
+    pt->u_r_ohm = sqlite3_column_double(q, col + 4);
+    pt->line = (size_t)sqlite3_column_int64(q, col + 5);
+    sp->n++;
+    return BG_OK;
+}
+
+int bgi_sqlite_run_points(bgi_conn *c, long long run_id, bg_store_points *out, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_cached(c, STMT_RUN_POINTS, "SELECT g.id, g.t_k, g.r_ohm, g.u_t_k, g.u_r_ohm, "
+                    "g.line FROM run r JOIN reading g ON g.id BETWEEN r.first_reading AND "
+                    "r.first_reading + r.nreadings - 1 AND g.run_id = r.id WHERE r.id = ? AND "
+                    "NOT EXISTS (SELECT 1 FROM exclusion e WHERE e.reading_id = g.id) "
+                    "ORDER BY g.id", &q, err), s;
+    if (rc != BG_OK)
+        return rc;
+    out->n = 0;
+    sqlite3_bind_int64(q, 1, run_id);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW)
+        if (points_push(out, q, 0) != BG_OK) {
+            sqlite3_reset(q);
+            return bg_error_set(err, BG_ENOMEM, "out of memory reading run %lld", run_id);
+        }
+    if (s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read readings");
+    sqlite3_reset(q);
+    return rc;
+}
+
+int bgi_sqlite_exclude(bgi_conn *c, long long reading_id, const char *why, const char *by,
+                       const char *now, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "SELECT (SELECT count(*) FROM reading WHERE id = ?1), "
+                     "(SELECT count(*) FROM exclusion WHERE reading_id = ?1)", &q, err);
+    if (rc == BG_OK) {
+        sqlite3_bind_int64(q, 1, reading_id);
+        if (sqlite3_step(q) != SQLITE_ROW)
+            rc = bgi_db_fail(c, err, "cannot read readings");
+        else if (sqlite3_column_int(q, 0) == 0)
+            rc = bg_error_set(err, BG_EINVAL, "no reading %lld", reading_id);
+        else if (sqlite3_column_int(q, 1) != 0)
+            rc = bg_error_set(err, BG_EINVAL, "reading %lld is already excluded", reading_id);
+        sqlite3_finalize(q);
+        q = NULL;
+    }
+    if (rc == BG_OK)
+        rc = bgi_prepare(c, "INSERT INTO exclusion(reading_id, reason, by_whom, at) "
+                         "VALUES (?,?,?,?)", &q, err);
+    if (rc == BG_OK) {
+        sqlite3_bind_int64(q, 1, reading_id);
+        sqlite3_bind_text(q, 2, why, -1, SQLITE_TRANSIENT);
+        sqlite3_bind_text(q, 3, by && *by ? by : "unknown", -1, SQLITE_TRANSIENT);
+        sqlite3_bind_text(q, 4, now, -1, SQLITE_TRANSIENT);
+        if (sqlite3_step(q) != SQLITE_DONE)
+            rc = bgi_db_fail(c, err, "cannot record the exclusion");
+    }
+    sqlite3_finalize(q);
+    return rc;
+}
+
