@@ -30,7 +30,14 @@ int cli_fail(const char *what, const bg_error *err);
 /* A list of numbers "1.4e-3,2.37e-4" into 'v' (at most 'max'); BG_EINVAL on bad text. */
 int cli_parse_list(const char *s, double *v, size_t max, size_t *n, bg_error *err);
 
-/* ---- JSON output: numbers round-trip (%.17g); NaN and infinities become null ---- */
+/* A double in the shortest form that reads back exactly (at most 17 significant digits,
+** "%g" style: "0.0025", "1e+23", "-0") into 'buf' (CLI_NUM bytes or more); returns 'buf'.
+** NaN and infinities give "nan", "inf", "-inf": callers that must not write them test first. */
+enum { CLI_NUM = 32 };
+char *cli_num(char *buf, size_t size, double v);
+
+/* ---- JSON output: numbers in the shortest form that round-trips (cli_num); NaN and
+** infinities become null ---- */
 typedef struct json_out {
     FILE *f;
     int depth;
@@ -49,6 +56,9 @@ void json_str(json_out *j, const char *key, const char *s);
 void json_bool(json_out *j, const char *key, int v);
 void json_null(json_out *j, const char *key);
 void json_nums(json_out *j, const char *key, const double *v, size_t n);
+/* 'text', one JSON value (RFC 8259) such as a stored spec, written as it is; BG_EINVAL and
+** nothing written when it is not exactly one JSON value. */
+int json_raw(json_out *j, const char *key, const char *text);
 
 /* Open the database of 'ctx' (create it with 'create'); reports errors itself and returns the
 ** code for main(), or BG_OK.  Says on stderr when an older schema was upgraded. */
