@@ -116,6 +116,9 @@ document.querySelectorAll('svg[data-chart]').forEach(s => {
     flagged: s.querySelectorAll('.pt.flag').length,
     bars: Array.from(s.querySelectorAll('rect.bar')).map(b => +b.dataset.count),
     vertices: line ? line.points.numberOfItems : 0,
+    bands: s.querySelector('polygon.envelope') ? +s.querySelector('polygon.envelope').dataset.bands : 0,
+    envelope_vertices: s.querySelector('polygon.envelope') ?
+        s.querySelector('polygon.envelope').points.numberOfItems : 0,
     limits: s.querySelectorAll('line.limit').length,
     width: s.getBoundingClientRect().width };
 });
@@ -297,8 +300,14 @@ def checks():
     # ---- the table report ------------------------------------------------------------------------
     charts = load(table_html, "table")
     tj = json.load(open(table_json))
-    check("table: the error chart has a vertex per code",
-          charts.get("table_error", {}).get("vertices") == tj["code_hi"] - tj["code_lo"] + 1)
+    ncodes = tj["code_hi"] - tj["code_lo"] + 1
+    m = re.search(r'id="error" data-codes="(\d+)" data-codes-per-band="(\d+)"',
+                  open(table_html).read())
+    ch = charts.get("table_error", {})
+    check("table: the error chart is an envelope of bands covering every code",
+          m is not None and int(m.group(1)) == ncodes and ch.get("vertices") == 0 and
+          ch.get("bands") == -(-ncodes // int(m.group(2))) and ch.get("bands") <= 256 and
+          ch.get("envelope_vertices") == 4 * ch.get("bands"), "%s %s" % (m and m.groups(), ch))
     check("table: max and RMS error equal lut --format json",
           numbers(table_html, "table", "maxerr") == [tj["max_error_c"]] and
           numbers(table_html, "table", "rmserr") == [tj["rms_error_c"]])

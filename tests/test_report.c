@@ -254,11 +254,30 @@ static void table_report(void **state)
     assert_int_equal(bg_lut_make(&rq, &r, &err), BG_OK);
     assert_int_equal(r.table.strategy, BG_LUT_UNIFORM);
     assert_int_equal(r.table.shift, 4);
-    /* the curve's temperatures at every code against the divider and beta law */
-    assert_int_equal(r.ncurve, (size_t)(r.table.code_hi - r.table.code_lo + 1));
-    for (size_t i = 0; i < r.ncurve; i++)
-        assert_close(r.curve_t_k[i], t_of_code((double)(r.table.code_lo + (long)i)), 1e-12,
-                     1e-9);
+    /* every code in exactly one band, at most BG_LUT_ERROR_BANDS of them; each band's ends
+    ** and least and largest error against the divider and beta law, code by code */
+    long ncodes = r.table.code_hi - r.table.code_lo + 1;
+    assert_true(ncodes > BG_LUT_ERROR_BANDS); /* so that bands hold several codes */
+    assert_true(r.ncurve <= BG_LUT_ERROR_BANDS);
+    assert_int_equal(r.codes_per_band, (ncodes + BG_LUT_ERROR_BANDS - 1) / BG_LUT_ERROR_BANDS);
+    long next = r.table.code_lo;
+    for (size_t i = 0; i < r.ncurve; i++) {
+        const bg_lut_error_band *b = &r.curve[i];
+        double lo = INFINITY, hi = -INFINITY;
+        assert_int_equal(b->code_lo, next);
+        assert_true(b->code_hi >= b->code_lo && b->code_hi - b->code_lo < r.codes_per_band);
+        for (long code = b->code_lo; code <= b->code_hi; code++) {
+            int st;
+            double e = bg_lut_eval(&r.table, code, &st) / 100.0 + 273.15 - t_of_code((double)code);
+            lo = fmin(lo, e), hi = fmax(hi, e);
+        }
+        assert_close(b->t_lo_k, t_of_code((double)b->code_lo), 1e-12, 1e-9);
+        assert_close(b->t_hi_k, t_of_code((double)b->code_hi), 1e-12, 1e-9);
+        assert_close(b->min_k, lo, 0.0, 1e-9);
+        assert_close(b->max_k, hi, 0.0, 1e-9);
+        next = b->code_hi + 1;
+    }
+    assert_int_equal(next, r.table.code_hi + 1);
     bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
     char *html = render("table", &r, &h);
     char title[96];
@@ -274,6 +293,11 @@ static void table_report(void **state)
     assert_close(value_after(html, "<tr class=\"budget\">", "class=\"n adc\" data-v=\""),
                  0.5 / dcode_dt, 1e-6, 0.0);
     assert_int_equal(count(html, "<tr class=\"budget\">"), 2); /* 25 degC and the worst */
+    /* the chart is one envelope of the bands, not a vertex per code */
+    char bands[64];
+    snprintf(bands, sizeof bands, "<polygon class=\"envelope\" data-bands=\"%zu\"", r.ncurve);
+    assert_int_equal(count(html, bands), 1);
+    assert_int_equal(count(html, "<polyline"), 0);
     free(html);
     /* without the error curve the table report is refused */
     bg_lut_result_release(&r);
@@ -286,6 +310,32 @@ static void table_report(void **state)
     bg_lut_result_release(&r);
 }
 
+/* A 24-bit table: the report stays small (the chart has a few hundred bands, not a vertex
+** for each of the 1.8 million codes of 20 .. 30 degC on a 10k divider). */
+static void table_report_24_bits(void **state)
+{
+    (void)state;
+    bg_lut_request rq;
+    bg_lut_result r = BG_LUT_RESULT_INIT;
+    bg_error err = BG_ERROR_INIT;
+    double c[2] = { r0, beta };
+    memset(&rq, 0, sizeof rq);
+    rq.spec.circuit.kind = BG_CIRCUIT_DIVIDER_LOW, rq.spec.circuit.fixed_ohm = 10000.0;
+    rq.spec.circuit.adc_bits = 24, rq.spec.circuit.full_scale_pow2 = 1;
+    bg_model_parse("beta", &rq.spec.model, NULL);
+    bg_model_set_coef(&rq.spec.model, c, 2, NULL);
+    rq.spec.t_lo_k = 293.15, rq.spec.t_hi_k = 303.15, rq.spec.format = BG_LUT_MILLI;
+    rq.step_codes = 4096, rq.strategy = -1, rq.error_curve = 1;
+    assert_int_equal(bg_lut_make(&rq, &r, &err), BG_OK);
+    assert_true(r.table.code_hi - r.table.code_lo > 1000000);
+    assert_int_equal(r.ncurve, BG_LUT_ERROR_BANDS);
+    bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
+    char *html = render("table", &r, &h);
+    assert_true(strlen(html) < 60000);
+    free(html);
+    bg_lut_result_release(&r);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -295,6 +345,7 @@ int main(void)
         cmocka_unit_test(calibration_report_without_covariance),
         cmocka_unit_test(lot_report),
         cmocka_unit_test(table_report),
+        cmocka_unit_test(table_report_24_bits),
     };
     return cmocka_run_group_tests_name("report", tests, NULL, NULL);
 }

@@ -168,6 +168,15 @@ typedef struct bg_lut_request {
     int error_curve;          /* also the error at every code (for the table report) */
 } bg_lut_request;
 
+/* The table's error over a band of consecutive codes (for the table report's chart). */
+typedef struct bg_lut_error_band {
+    long code_lo, code_hi;     /* the band's first and last code */
+    double t_lo_k, t_hi_k;     /* the model's temperature at those codes */
+    double min_k, max_k;       /* the least and the largest of table - model over the band */
+} bg_lut_error_band;
+
+enum { BG_LUT_ERROR_BANDS = 256 }; /* at most this many bands, each of the same count of codes */
+
 typedef struct bg_lut_result {
     bg_lut table;
     bg_lut_spec spec;         /* the request's, with the strategy and step built; its
@@ -182,16 +191,21 @@ typedef struct bg_lut_result {
     bg_budget_row *budget;    /* at each budget temperature (malloc'd) */
     size_t nbudget;
     bg_budget_row worst;      /* the largest of each term over the range */
-    double *curve_t_k, *curve_err_k; /* error_curve: model T and table - model, every code */
+    /* error_curve: table - model at every code, as its least and largest value over each
+    ** band of 'codes_per_band' consecutive codes (the last band may have fewer), so that the
+    ** size stays small for 24-bit codes */
+    bg_lut_error_band *curve;  /* malloc'd, 'ncurve' bands (at most BG_LUT_ERROR_BANDS) */
     size_t ncurve;
-    double curve_lo_k, curve_hi_k;   /* the extremes of curve_err_k (and 0) */
+    long codes_per_band;
+    double curve_lo_k, curve_hi_k;   /* the extremes over every code (and 0) */
 } bg_lut_result;
 
 #define BG_LUT_RESULT_INIT { 0 }
 BG_API void bg_lut_result_release(bg_lut_result *r);
 
 /* Build the table of 'rq' (the uniform step, the strategy asked for, or the smallest in
-** bytes), its error budget and, with 'error_curve', its error at every code.  BG_EINVAL when
+** bytes), its error budget and, with 'error_curve', its error at every code (kept as the
+** least and largest value of each band of codes).  BG_EINVAL when
 ** a stored fit's calibrated range does not hold the table's (unless allow_extrapolation),
 ** or for bg_lut_build's reasons.  Release with bg_lut_result_release().  (lut_make.c) */
 BG_API int bg_lut_make(const bg_lut_request *rq, bg_lut_result *out, bg_error *err);

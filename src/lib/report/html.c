@@ -200,6 +200,20 @@ void bgi_html_chart_line(FILE *f, const bgi_html_chart *c, const double *x, cons
     fputs("\"/>\n", f);
 }
 
+void bgi_html_chart_envelope(FILE *f, const bgi_html_chart *c, const double *x0,
+                             const double *x1, const double *lo, const double *hi, size_t n)
+{
+    fprintf(f, "<polygon class=\"envelope\" data-bands=\"%zu\" fill=\"#888\" stroke=\"#222\" "
+               "stroke-width=\"0.4\" stroke-linejoin=\"round\" points=\"", n);
+    for (size_t i = 0; i < n; i++)
+        fprintf(f, "%.2f,%.2f %.2f,%.2f ", sx(c, x0[i]), sy(c, hi[i]), sx(c, x1[i]),
+                sy(c, hi[i]));
+    for (size_t i = n; i-- > 0;)
+        fprintf(f, "%.2f,%.2f %.2f,%.2f ", sx(c, x1[i]), sy(c, lo[i]), sx(c, x0[i]),
+                sy(c, lo[i]));
+    fputs("\"/>\n", f);
+}
+
 /* Points: circles, or open squares where 'flag' is set (e.g. excluded or out of control). */
 void bgi_html_chart_points(FILE *f, const bgi_html_chart *c, const double *x, const double *y,
                        const int *flag, size_t n)

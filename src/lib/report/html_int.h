@@ -29,6 +29,11 @@ void bgi_html_chart_hline(FILE *f, const bgi_html_chart *c, double y,
                           const char *label, int dashed);
 void bgi_html_chart_line(FILE *f, const bgi_html_chart *c, const double *x,
                          const double *y, size_t n);
+/* A min/max envelope: band i spans x from 'x0[i]' to 'x1[i]' and y from 'lo[i]' to 'hi[i]';
+** one filled polygon (class "envelope", data-bands = n) whose outline is drawn even where a
+** band is a single value. */
+void bgi_html_chart_envelope(FILE *f, const bgi_html_chart *c, const double *x0,
+                             const double *x1, const double *lo, const double *hi, size_t n);
 void bgi_html_chart_points(FILE *f, const bgi_html_chart *c, const double *x,
                            const double *y, const int *flag, size_t n);
 void bgi_html_chart_bars(FILE *f, const bgi_html_chart *c, const double *edges,

@@ -70,36 +70,62 @@ static void budget(FILE *f, const bg_lut_result *r)
             bo->excitation_v, 1e3 * bo->dissipation_w_per_k);
 }
 
+/* The error chart: the least and largest error of each band of codes, as an envelope. */
+static int error_chart(FILE *f, const bg_lut_result *r, bg_error *err)
+{
+    const bg_lut *t = &r->table;
+    size_t nb = r->ncurve;
+    double *x0 = malloc(4 * nb * sizeof *x0), *x1 = x0 + nb, *lo = x1 + nb, *hi = lo + nb;
+    char cap[200];
+    if (!x0)
+        return bg_error_set(err, BG_ENOMEM, "out of memory for the table report");
+    double xl = INFINITY, xh = -INFINITY;
+    for (size_t i = 0; i < nb; i++) {
+        const bg_lut_error_band *b = &r->curve[i];
+        x0[i] = b->t_lo_k - BG_ZERO_C_K, x1[i] = b->t_hi_k - BG_ZERO_C_K;
+        lo[i] = b->min_k, hi[i] = b->max_k;
+        xl = fmin(xl, fmin(x0[i], x1[i])), xh = fmax(xh, fmax(x0[i], x1[i]));
+    }
+    fprintf(f, "<div id=\"error\" data-codes=\"%ld\" data-codes-per-band=\"%ld\">\n",
+            t->code_hi - t->code_lo + 1, r->codes_per_band);
+    bgi_html_chart ch = { "table_error", "Table error against temperature, every code",
+                          "temperature / \xc2\xb0" "C", "table \xe2\x88\x92 model / K", 0, 0, 0, 0,
+                          0 };
+    bgi_html_chart_begin(f, &ch, xl, xh, r->curve_lo_k, r->curve_hi_k);
+    bgi_html_chart_hline(f, &ch, t->max_err_k, "max", 1);
+    bgi_html_chart_hline(f, &ch, -t->max_err_k, NULL, 1);
+    bgi_html_chart_envelope(f, &ch, x0, x1, lo, hi, nb);
+    if (r->codes_per_band > 1)
+        snprintf(cap, sizeof cap, "Shaded: the least to the largest error of each band of %ld "
+                 "consecutive codes (%zu bands, %ld codes in all); dashed: the measured "
+                 "maximum", r->codes_per_band, nb, t->code_hi - t->code_lo + 1);
+    else
+        snprintf(cap, sizeof cap, "The error at each of the %ld codes; dashed: the measured "
+                 "maximum", t->code_hi - t->code_lo + 1);
+    bgi_html_chart_end(f, &ch, cap);
+    fputs("</div>\n", f);
+    free(x0);
+    return BG_OK;
+}
+
 static int table_generate(const void *result, const bg_report_head *h, FILE *f, bg_error *err)
 {
     const bg_lut_result *r = result;
     const bg_lut *t = &r->table;
     char rid[64];
-    size_t nc = r->ncurve;
-    if (nc == 0 || !r->curve_t_k || !r->curve_err_k)
+    if (r->ncurve == 0 || !r->curve)
         return bg_error_set(err, BG_EINVAL, "the table report needs the table's error at "
                             "every code (bg_lut_make with 'error_curve')");
-    double *x = malloc(nc * sizeof *x);
-    if (!x)
-        return bg_error_set(err, BG_ENOMEM, "out of memory for the table report");
-    for (size_t i = 0; i < nc; i++)
-        x[i] = r->curve_t_k[i] - BG_ZERO_C_K;
     snprintf(rid, sizeof rid, "%s %s %zu entries", bgi_report_table.id_prefix,
              bg_lut_strategy_name(t->strategy), t->n);
     bgi_html_begin(f, bgi_report_table.title, rid);
     table_head(f, r, h);
-    bgi_html_chart ch = { "table_error", "Table error against temperature, every code",
-                          "temperature / degC", "table - model / K", 0, 0, 0, 0, 0 };
-    double xl = fmin(x[0], x[nc - 1]), xh = fmax(x[0], x[nc - 1]);
-    bgi_html_chart_begin(f, &ch, xl, xh, r->curve_lo_k, r->curve_hi_k);
-    bgi_html_chart_hline(f, &ch, t->max_err_k, "max", 1);
-    bgi_html_chart_hline(f, &ch, -t->max_err_k, NULL, 1);
-    bgi_html_chart_line(f, &ch, x, r->curve_err_k, nc);
-    bgi_html_chart_end(f, &ch, "One vertex per ADC code; dashed: the measured maximum");
+    int rc = error_chart(f, r, err);
+    if (rc != BG_OK)
+        return rc;
     budget(f, r);
     bgi_html_cautions(f);
     bgi_html_end(f);
-    free(x);
     return BG_OK;
 }
 
