@@ -168,6 +168,12 @@ typedef struct bg_lut_request {
     int error_curve;          /* also the error at every code (for the table report) */
 } bg_lut_request;
 
+/* The budget's terms that bg_lut_make computed (bg_lut_result.budget_terms).  A term whose
+** inputs were not given is NaN in the rows, never 0, and the RSS and sum leave it out;
+** BG_BUDGET_NO_RESISTOR: the circuit has no fixed resistor (its term is 0 by nature). */
+enum { BG_BUDGET_FIT = 1 << 0, BG_BUDGET_RESISTOR = 1 << 1, BG_BUDGET_SELFHEAT = 1 << 2,
+       BG_BUDGET_NO_RESISTOR = 1 << 3 };
+
 /* The table's error over a band of consecutive codes (for the table report's chart). */
 typedef struct bg_lut_error_band {
     long code_lo, code_hi;     /* the band's first and last code */
@@ -191,6 +197,7 @@ typedef struct bg_lut_result {
     bg_budget_row *budget;    /* at each budget temperature (malloc'd) */
     size_t nbudget;
     bg_budget_row worst;      /* the largest of each term over the range */
+    unsigned budget_terms;    /* BG_BUDGET_* of the terms given; the others are NaN */
     /* error_curve: table - model at every code, as its least and largest value over each
     ** band of 'codes_per_band' consecutive codes (the last band may have fewer), so that the
     ** size stays small for 24-bit codes */

@@ -94,6 +94,34 @@ static int make_curve(bg_lut_result *out, bg_error *err)
     return BG_OK;
 }
 
+/* Which terms the budget's inputs allow; a term not given becomes NaN (not 0) in every row. */
+static void budget_terms(bg_lut_result *out)
+{
+    const bg_budget_opts *o = &out->budget_opts;
+    bg_circuit_kind kind = out->spec.circuit.kind;
+    int divider = kind != BG_CIRCUIT_CURRENT && kind != BG_CIRCUIT_OHMS;
+    unsigned t = 0;
+    if (o->cov)
+        t |= BG_BUDGET_FIT;
+    if (!divider)
+        t |= BG_BUDGET_NO_RESISTOR | BG_BUDGET_RESISTOR;
+    else if (o->fixed_tol > 0.0)
+        t |= BG_BUDGET_RESISTOR;
+    if (o->dissipation_w_per_k > 0.0 &&
+        (kind == BG_CIRCUIT_CURRENT || (divider && o->excitation_v > 0.0)))
+        t |= BG_BUDGET_SELFHEAT;
+    out->budget_terms = t;
+    for (size_t i = 0; i <= out->nbudget; i++) {
+        bg_budget_row *w = i < out->nbudget ? &out->budget[i] : &out->worst;
+        if (!(t & BG_BUDGET_FIT))
+            w->fit_k = NAN;
+        if (!(t & BG_BUDGET_RESISTOR))
+            w->resistor_k = NAN;
+        if (!(t & BG_BUDGET_SELFHEAT))
+            w->selfheat_k = NAN;
+    }
+}
+
 int bg_lut_make(const bg_lut_request *rq, bg_lut_result *out, bg_error *err)
 {
     const bg_lut_spec *s = &rq->spec;
@@ -143,6 +171,8 @@ int bg_lut_make(const bg_lut_request *rq, bg_lut_result *out, bg_error *err)
     out->nbudget = nat;
     rc = bg_lut_budget(&out->spec, &out->table, &out->budget_opts, at, nat, out->budget,
                        &out->worst, err);
+    if (rc == BG_OK)
+        budget_terms(out);
     if (rc == BG_OK && rq->error_curve)
         rc = make_curve(out, err);
     if (rc == BG_OK)

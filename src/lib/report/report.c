@@ -94,13 +94,15 @@ static int lot_generate(const void *result, const bg_report_head *h, FILE *f, bg
     fputs("</table>\n", f);
     rc = r->sections ? r->sections(r->sections_ctx, f, &flagged, err)
                      : bg_error_set(err, BG_EINVAL, "the lot report has no sections");
+    bgi_html_closing_begin(f);
     fprintf(f, "<p id=\"verdict\" data-flagged=\"%d\"><strong>%s</strong></p>\n", flagged,
             flagged ? "Something is flagged: see the marked rows and points above." :
                       "Nothing is flagged.");
-    bgi_html_cautions(f);
-    fprintf(f, "<p class=\"meta\">Report %s. Issued reports are stored in the calibration "
-               "database and never change; a correction is issued as a new report that names "
-               "this one.</p>\n", rid);
+    char note[200];
+    snprintf(note, sizeof note, "Report %s. Issued reports are stored in the calibration "
+             "database and never change; a correction is issued as a new report that names "
+             "this one.", rid);
+    bgi_html_closing_end(f, note);
     bgi_html_end(f);
     return rc;
 }
