@@ -15,6 +15,9 @@
 #include "bandgap/csv.h"
 #include "bandgap/store.h"
 #include "bandgap/drift.h"
+#include "bandgap/stats.h"
+#include "bandgap/qa.h"
+#include "bandgap/report_lot.h"
 #include "bandgap/circuit.h"
 #include "bandgap/lut.h"
 

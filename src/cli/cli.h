@@ -119,9 +119,6 @@ int fit_stored_lot(const char *lot_code, const struct fit_request *rq, struct cl
 /* ---- commands (one file each) ---- */
 /* The table report of 'lut --report' (cmd_lut.c). */
 
-/* The lot report's statistics, drift and control-chart sections (cmd_drift.c); '*flagged'
-** is set when something is flagged. */
-int drift_lot_html(bg_store *st, const char *code, FILE *f, int *flagged, bg_error *err);
 int cmd_report(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_eval(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_fit(int argc, char **argv, struct cli_ctx *ctx);

@@ -402,7 +402,11 @@ static int lot_report_gen(long long id, const char *issued, void *vctx, char **c
     kv(f, "Lot", r->lot.code);
     kv(f, "Part", r->lot.part);
     fputs("</table>\n", f);
-    int rc = drift_lot_html(r->st, r->lot.code, f, &r->flagged, err);
+    bg_qa_lot_summary qs = BG_QA_LOT_SUMMARY_INIT;
+    int rc = bg_qa_lot_summarize(r->st, r->lot.code, &qs, err);
+    if (rc == BG_OK && (rc = bg_report_lot_sections(f, &qs, err)) == BG_OK)
+        r->flagged |= qs.flagged;
+    bg_qa_lot_summary_release(&qs);
     fprintf(f, "<p id=\"verdict\" data-flagged=\"%d\"><strong>%s</strong></p>\n", r->flagged,
             r->flagged ? "Something is flagged: see the marked rows and points above." :
                          "Nothing is flagged.");
