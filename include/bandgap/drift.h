@@ -31,12 +31,19 @@ typedef struct bg_drift {
     double rate_mk_per_year;       /* max |as-found| / years; NaN when years <= 0 */
 } bg_drift;
 
-/* Compare the earlier calibration 'old' with the later 'cur' at 'nat' temperatures: what a
-** device still using 'old' would read for the resistance 'cur' gives at each temperature, the
-** change of R25 and of B for the pair (t1, t2), and the rate over 'years'. */
-BG_API int bg_drift_compare(const bg_model *old, const bg_model *cur, const double *at_k,
-                            size_t nat, double pair_t1_k, double pair_t2_k, double years,
-                            bg_drift *out, bg_error *err);
+/* Where two calibrations are compared: 'nat' temperatures 'at_k' (K) and the pair (t1, t2)
+** that names B (K). */
+typedef struct bg_drift_at {
+    const double *at_k;
+    size_t nat;
+    double pair_t1_k, pair_t2_k;
+} bg_drift_at;
+
+/* Compare the earlier calibration 'old' with the later 'cur' at 'at': what a device still
+** using 'old' would read for the resistance 'cur' gives at each temperature, the change of
+** R25 and of B for the pair, and the rate over 'years'. */
+BG_API int bg_drift_compare(const bg_model *old, const bg_model *cur, const bg_drift_at *at,
+                            double years, bg_drift *out, bg_error *err);
 
 /* One calibration made ready for many comparisons: its R25, its B for the pair and its time,
 ** worked out once. */

@@ -73,15 +73,14 @@ int bg_drift_compare_cal(const bg_drift_cal *old, const bg_drift_cal *cur, const
     return rc;
 }
 
-int bg_drift_compare(const bg_model *old, const bg_model *cur, const double *at_k, size_t nat,
-                     double pair_t1_k, double pair_t2_k, double years, bg_drift *out,
-                     bg_error *err)
+int bg_drift_compare(const bg_model *old, const bg_model *cur, const bg_drift_at *at,
+                     double years, bg_drift *out, bg_error *err)
 {
     bg_drift_cal a, b;
     int rc;
-    if ((rc = as_found(old, cur, at_k, nat, out, err)) != BG_OK ||
-        (rc = bg_drift_prepare(old, pair_t1_k, pair_t2_k, 0.0, &a, err)) != BG_OK ||
-        (rc = bg_drift_prepare(cur, pair_t1_k, pair_t2_k, 0.0, &b, err)) != BG_OK)
+    if ((rc = as_found(old, cur, at->at_k, at->nat, out, err)) != BG_OK ||
+        (rc = bg_drift_prepare(old, at->pair_t1_k, at->pair_t2_k, 0.0, &a, err)) != BG_OK ||
+        (rc = bg_drift_prepare(cur, at->pair_t1_k, at->pair_t2_k, 0.0, &b, err)) != BG_OK)
         return rc;
     finish(&a, &b, years, out);
     return BG_OK;

@@ -96,8 +96,8 @@ static int one_probe(bg_qa_lot *l, size_t i, const bg_fit_row *f, const bg_model
             BG_OK)
         return rc;
     l->r25_dev_pct[i] = 100.0 * (rr - lot->r25_ohm) / lot->r25_ohm;
-    if ((rc = bg_drift_compare(nom, &f->model, l->at_k, nat, lot->pair_t1_k, lot->pair_t2_k,
-                               0.0, &dd, err)) != BG_OK)
+    bg_drift_at where = { l->at_k, nat, lot->pair_t1_k, lot->pair_t2_k };
+    if ((rc = bg_drift_compare(nom, &f->model, &where, 0.0, &dd, err)) != BG_OK)
         return rc;
     memcpy(&l->dev_mk[i * nat], dd.err_mk, nat * sizeof l->dev_mk[0]);
     l->fit_id[i] = f->id;
@@ -108,6 +108,7 @@ static int one_probe(bg_qa_lot *l, size_t i, const bg_fit_row *f, const bg_model
 static void band(bg_qa_lot *l, const bg_model *nom)
 {
     const bg_lot *lot = &l->lot;
+    bg_drift_at where = { l->at_k, l->nat, lot->pair_t1_k, lot->pair_t2_k };
     for (size_t k = 0; k < l->nat; k++)
         l->band_lo_mk[k] = INFINITY, l->band_hi_mk[k] = -INFINITY;
     for (int sr25 = -1; sr25 <= 1; sr25 += 2)
@@ -116,8 +117,7 @@ static void band(bg_qa_lot *l, const bg_model *nom)
             bg_drift dd;
             beta_model(lot->r25_ohm * (1 + sr25 * lot->tol_r25),
                        lot->beta_k * (1 + sbeta * lot->tol_beta), &corner);
-            if (bg_drift_compare(nom, &corner, l->at_k, l->nat, lot->pair_t1_k, lot->pair_t2_k,
-                                 0.0, &dd, NULL) == BG_OK)
+            if (bg_drift_compare(nom, &corner, &where, 0.0, &dd, NULL) == BG_OK)
                 for (size_t k = 0; k < l->nat; k++)
                     l->band_lo_mk[k] = fmin(l->band_lo_mk[k], dd.err_mk[k]),
                     l->band_hi_mk[k] = fmax(l->band_hi_mk[k], dd.err_mk[k]);

@@ -82,8 +82,8 @@ static int compare(const bg_qa_probe *p, size_t a, size_t b, const bg_qa_opts *o
         (rc = bg_time_parse(p->started_at[b], &tb, err)) != BG_OK)
         return rc;
     years = (tb - ta) / (365.2425 * 86400.0);
-    if ((rc = bg_drift_compare(&fa->model, &fb->model, at, nat, p->lot.pair_t1_k,
-                               p->lot.pair_t2_k, years, &c->d, err)) != BG_OK)
+    bg_drift_at where = { at, nat, p->lot.pair_t1_k, p->lot.pair_t2_k };
+    if ((rc = bg_drift_compare(&fa->model, &fb->model, &where, years, &c->d, err)) != BG_OK)
         return rc;
     c->from = a, c->to = b;
     c->flag_limit = c->d.max_abs_err_mk > 1e3 * p->limit_k;
