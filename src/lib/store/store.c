@@ -332,12 +332,15 @@ static int correct_all(const bg_readings *rs, const bg_ref *ref, const char *src
 ** written as +0 (they are the same reading). */
 static void digest_double(struct bgi_sha256 *h, double v, char sep)
 {
+    static const char hexd[] = "0123456789abcdef";
     unsigned long long u;
-    char buf[20];
+    char buf[17];
     if (v == 0.0)
         v = 0.0;
     memcpy(&u, &v, sizeof u);
-    snprintf(buf, sizeof buf, "%016llx%c", u, sep);
+    for (int i = 15; i >= 0; i--, u >>= 4) /* by hand: a million readings, five values each */
+        buf[i] = hexd[u & 0xf];
+    buf[16] = sep;
     bgi_sha256_update(h, buf, 17);
 }
 
