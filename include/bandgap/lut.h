@@ -166,6 +166,10 @@ typedef struct bg_lut_request {
     const double *budget_at_k; /* the budget's temperatures; NULL: the ends and the middle */
     size_t nbudget_at;
     int error_curve;          /* also the error at every code (for the table report) */
+    /* the stored fit's provenance: its run's start time (NULL: not said) and 1 when it is the
+    ** probe's current fit (bg_store_current_fit), 0 when it was named */
+    const char *fit_started_at;
+    int fit_current;
 } bg_lut_request;
 
 /* The budget's terms that bg_lut_make computed (bg_lut_result.budget_terms).  A term whose

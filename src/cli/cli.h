@@ -99,17 +99,31 @@ int cli_inline_option(struct cli_inline *in, int opt, const char *arg, const cha
 int cli_inline_given(const struct cli_inline *in);
 /* Build the model; a usage error (CLI_EUSAGE) when something is missing or does not fit. */
 int cli_inline_model(const struct cli_inline *in, const char *cmd, bg_model *m);
-/* The id of a probe's newest stored fit; BG_EINVAL with a hint when it has none. */
-int cli_newest_fit(bg_store *st, const char *serial, long long *fit_id, bg_error *err);
+/* The stored fit a command uses and how it was chosen (its provenance). */
+struct cli_fit_used {
+    long long fit_id, run_id;
+    int current;                /* 1: the probe's current fit (--probe); 0: named (--fit) */
+    char serial[BG_TEXT], started_at[BG_TIME], created_at[BG_TIME], model[16];
+};
+/* The fit of --probe 'serial' (its current fit, bg_store_current_fit) or else of --fit
+** 'fit_id' into '*fit' and '*used'.  Says on stderr ("bandgap: CMD: ...") which fit, run and
+** date --probe chose, and when a fit named by --fit is not its probe's current fit, which
+** one is.  Returns a bg_status with 'err' filled (nothing printed) on an error. */
+int cli_stored_fit(bg_store *st, const char *serial, long long fit_id, const char *cmd,
+                   bg_fit_row *fit, struct cli_fit_used *used, bg_error *err);
+/* 'used' as JSON keys of the object open in 'j': fit_id, run_id, probe, run_started_at,
+** fit_created_at and fit_chosen ("current fit of the probe" or "named with --fit"). */
+void cli_json_fit_used(json_out *j, const struct cli_fit_used *used);
 
 /* A stored fit as a curve source: its model, covariance and calibrated range. */
 bg_curve_src cli_curve_src_of_fit(const bg_fit_row *f);
 
-/* The curve a command works on: --fit N, --probe SERIAL (its newest fit) or a model inline. */
+/* The curve a command works on: --fit N, --probe SERIAL (its current fit) or a model inline. */
 struct cli_source {
     struct cli_inline in;
-    long long fit_id; /* --fit, or the newest fit of --probe once resolved; 0 = none */
+    long long fit_id; /* --fit, or the current fit of --probe once resolved; 0 = none */
     const char *probe;
+    struct cli_fit_used used; /* once resolved from the database */
 };
 enum { CLI_SRC_FIT = 210, CLI_SRC_PROBE };
 #define CLI_SOURCE_OPTIONS                                                                     \
@@ -169,10 +183,10 @@ void cli_print_run_head(const bg_run *r);
 ** profile over the calibrated range (bg_curve_span). */
 void cli_print_fit(const bg_fit_row *f, const long long *ids, size_t nids, const bg_curve *u,
                    int json);
-/* The table of 'curve' (the stored fit's id, 0 for an inline model), and the values of
-** 'eval'. */
-void cli_print_curve(const bg_curve_src *src, long long fit_id, const bg_curve *c,
-                     enum cli_format fmt, bg_temp_unit unit);
+/* The table of 'curve' (the stored fit it came from, NULL for an inline model), and the
+** values of 'eval'. */
+void cli_print_curve(const bg_curve_src *src, const struct cli_fit_used *used,
+                     const bg_curve *c, enum cli_format fmt, bg_temp_unit unit);
 void cli_print_eval(const bg_curve_src *src, const bg_curve *c, bg_temp_unit unit, int json);
 
 /* ---- calibration results (print_fit.c), shared by 'fit' and 'demo' ---- */

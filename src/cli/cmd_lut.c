@@ -95,6 +95,7 @@ struct lut_args {
     char stamp[BG_TIME];
     double bat[16];
     bg_fit_row fit;
+    struct cli_fit_used used;
 };
 
 /* An option of the circuit (--fixed ... --ohms-input). */
@@ -304,7 +305,7 @@ static int lut_parse_args(int argc, char **argv, const struct cli_ctx *ctx, stru
     return check_args(a);
 }
 
-/* The model: a stored fit (--fit, or the probe's newest) or the inline one. */
+/* The model: a stored fit (--fit, or the probe's current fit) or the inline one. */
 static int resolve_model(struct lut_args *a, struct cli_ctx *ctx)
 {
     bg_lut_request *rq = &a->rq;
@@ -315,13 +316,12 @@ static int resolve_model(struct lut_args *a, struct cli_ctx *ctx)
     bg_store *st = NULL;
     if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
         return rc;
-    if (a->probe)
-        rc = cli_newest_fit(st, a->probe, &rq->fit_id, &err);
-    if (rc == BG_OK)
-        rc = bg_store_fit_get(st, rq->fit_id, &a->fit, &err);
+    rc = cli_stored_fit(st, a->probe, rq->fit_id, "lut", &a->fit, &a->used, &err);
     bg_store_close(st);
     if (rc != BG_OK)
         return cli_fail("lut", &err);
+    rq->fit_id = a->fit.id;
+    rq->fit_started_at = a->used.started_at, rq->fit_current = a->used.current;
     rq->spec.model = a->fit.model;
     rq->fit_run_id = a->fit.run_id, rq->fit_serial = a->fit.serial;
     rq->fit_cov = a->fit.has_cov ? a->fit.cov : NULL;

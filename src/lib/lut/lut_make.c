@@ -140,8 +140,10 @@ int bg_lut_make(const bg_lut_request *rq, bg_lut_result *out, bg_error *err)
     out->budget_opts.cov = NULL;
     if (rq->fit_id) {
         out->fit_id = rq->fit_id;
-        snprintf(out->source, sizeof out->source, "stored fit %lld of probe %.100s, run %lld",
-                 rq->fit_id, rq->fit_serial ? rq->fit_serial : "", rq->fit_run_id);
+        snprintf(out->source, sizeof out->source, "stored fit %lld of probe %.80s, run %lld%s"
+                 "%.40s%s", rq->fit_id, rq->fit_serial ? rq->fit_serial : "", rq->fit_run_id,
+                 rq->fit_started_at ? " started " : "", rq->fit_started_at ? rq->fit_started_at
+                 : "", rq->fit_current ? ", the probe's current fit" : "");
         out->spec.source = out->source;
         if (rq->fit_cov) {
             size_t np = bg_model_npar(&s->model);

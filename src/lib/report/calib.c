@@ -233,6 +233,9 @@ static void item_and_reference(FILE *f, const bg_calib_report *r)
         bgi_report_kv(f, "Identifier", ref->ident);
         bgi_report_kv(f, "Traceability (certificate)", ref->certificate);
         bgi_report_kv(f, "Calibration due", ref->due_date);
+        if (r->run.ref_overdue[0]) /* an override recorded on import */
+            bgi_report_kv(f, "USED PAST ITS CALIBRATION DUE DATE (override recorded with the "
+                          "run)", r->run.ref_overdue);
         if (ref->kind == BG_REF_LINEAR)
             snprintf(buf, sizeof buf, "linear: t = t_read %s %.6g K %s %.6g (t_read - %.3f \xc2\xb0" "C)",
                      ref->lin_c0_k < 0 ? "-" : "+", fabs(ref->lin_c0_k),
