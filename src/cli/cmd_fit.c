@@ -27,6 +27,12 @@ static const char fit_usage[] =
     "  --linear         linear fit in 1/T only, no refinement in temperature\n"
     "  --no-inflate     keep the covariance from the stated uncertainties even when the\n"
     "                   residuals are larger than they allow\n"
+    "  --coverage-k K   expanded uncertainty U = K u with this coverage factor (e.g. 2),\n"
+    "                   its coverage probability stated; default: K from Student's t for\n"
+    "                   the fit's degrees of freedom at 95.45 % (JCGM 100:2008, G.3)\n"
+    "  --resolution DT  the readings' temperature resolution (e.g. 1mK): residuals are not\n"
+    "                   studentized by a scale below DT / sqrt(12) (default 1uK), so\n"
+    "                   noise-free readings raise no outlier warning\n"
     "  --unit U         unit for printed temperatures: C (default), K or F\n"
     "  --json           one JSON object\n"
     "  --probe SERIAL   fit the probe's latest run (or --run N) in the database and store\n"
@@ -39,7 +45,7 @@ static const char fit_usage[] =
     "food-safety or process-safety use follow local regulations and accredited practice.\n";
 
 enum { O_MODEL = 1, O_T0, O_PAIR, O_UTEMP, O_AT, O_LINEAR, O_NOINFL, O_UNIT, O_JSON, O_PROBE,
-       O_RUN, O_LOT };
+       O_RUN, O_LOT, O_COVK, O_RESOL };
 
 /* The options of 'fit' beyond the library's request. */
 struct fit_cli {
@@ -81,6 +87,20 @@ static int fit_option(struct fit_cli *fc, int c, char **argv, double *at_k, stru
         return BG_OK;
     case O_LINEAR: rq->linear_only = 1; return BG_OK;
     case O_NOINFL: rq->no_inflate = 1; return BG_OK;
+    case O_COVK: {
+        char *end;
+        rq->coverage_k = strtod(optarg, &end);
+        if (end == optarg || *end || !(rq->coverage_k > 0.0 && rq->coverage_k < 100.0))
+            return cli_usage_error("fit", "--coverage-k: '%s': give a coverage factor such as 2",
+                                   optarg);
+        return BG_OK;
+    }
+    case O_RESOL:
+        if (bg_units_parse_tdiff(optarg, &rq->resolution_k, &err) != BG_OK ||
+            !(rq->resolution_k > 0.0))
+            return cli_usage_error("fit", "--resolution: %s", err.msg[0] ? err.msg :
+                                   "must be above 0");
+        return BG_OK;
     case O_UNIT:
         if (bg_units_parse_unit(optarg, &fc->unit, &err) != BG_OK)
             return cli_usage_error("fit", "--unit: %s", err.msg);
@@ -156,7 +176,9 @@ int cmd_fit(int argc, char **argv, struct cli_ctx *ctx)
         { "no-inflate", no_argument, NULL, O_NOINFL }, { "unit", required_argument, NULL, O_UNIT },
         { "json", no_argument, NULL, O_JSON },         { "help", no_argument, NULL, 'h' },
         { "probe", required_argument, NULL, O_PROBE }, { "run", required_argument, NULL, O_RUN },
-        { "lot", required_argument, NULL, O_LOT },     { NULL, 0, NULL, 0 },
+        { "lot", required_argument, NULL, O_LOT },
+        { "coverage-k", required_argument, NULL, O_COVK },
+        { "resolution", required_argument, NULL, O_RESOL }, { NULL, 0, NULL, 0 },
     };
     struct fit_cli fc;
     double *at_k = malloc((size_t)(argc > 0 ? argc : 1) * sizeof *at_k);
