@@ -146,7 +146,7 @@ typedef struct bg_coverage {
 ** t_p(nu) (JCGM 100:2008, G.3.4 and G.4.1; a non-integer nu_eff is truncated to the next lower
 ** integer, G.4.1 note 1), or the rule's fixed k with its coverage probability (G.3.2).
 ** BG_EINVAL for p outside (0, 1), a negative or non-finite fixed k, or a negative nu_eff;
-** nu_eff < 1 gives k = NaN (no degree of freedom). */
+** nu_eff < 1 gives k = NaN and p = NaN (no degree of freedom). */
 BG_API int bg_coverage_eval(const bg_coverage_rule *rule, double nu_eff, bg_coverage *out,
                             bg_error *err);
 

@@ -138,6 +138,7 @@ bg_curve_src cli_curve_src_of_fit(const bg_fit_row *f)
         memcpy(s.cov, f->cov, f->npar * f->npar * sizeof f->cov[0]);
     s.has_range = 1;
     s.t_min_k = f->t_min_k, s.t_max_k = f->t_max_k;
+    s.dof = f->dof;
     return s;
 }
 

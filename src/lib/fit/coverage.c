@@ -38,7 +38,7 @@ int bg_coverage_eval(const bg_coverage_rule *rule, double nu_eff, bg_coverage *o
     out->nu_eff = nu_eff;
     out->fixed = rule->k_fixed > 0.0;
     if (nu < 1.0) {
-        out->k = NAN, out->p = out->fixed ? NAN : rule->p;
+        out->k = NAN, out->p = NAN; /* nothing can be stated without a degree of freedom */
         return BG_OK;
     }
     if (out->fixed) {
