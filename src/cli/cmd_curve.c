@@ -82,7 +82,7 @@ static int curve_parse(int argc, char **argv, struct curve_args *a)
                 return cli_usage_error("curve", "--unit: %s", err.msg);
             break;
         case ':': return cli_usage_error("curve", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("curve", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("curve", argv[optind - 1], opts);
         }
     }
     if (optind < argc)

@@ -55,6 +55,18 @@ struct fit_cli {
     long long run_id;
 };
 
+static const struct option fit_opts[] = {
+    { "model", required_argument, NULL, O_MODEL }, { "t0", required_argument, NULL, O_T0 },
+    { "pair", required_argument, NULL, O_PAIR },   { "u-temp", required_argument, NULL, O_UTEMP },
+    { "at", required_argument, NULL, O_AT },       { "linear", no_argument, NULL, O_LINEAR },
+    { "no-inflate", no_argument, NULL, O_NOINFL }, { "unit", required_argument, NULL, O_UNIT },
+    { "json", no_argument, NULL, O_JSON },         { "help", no_argument, NULL, 'h' },
+    { "probe", required_argument, NULL, O_PROBE }, { "run", required_argument, NULL, O_RUN },
+    { "lot", required_argument, NULL, O_LOT },
+    { "coverage-k", required_argument, NULL, O_COVK },
+    { "resolution", required_argument, NULL, O_RESOL }, { NULL, 0, NULL, 0 },
+};
+
 /* Take one option; BG_OK, or the usage error's code. */
 static int fit_option(struct fit_cli *fc, int c, char **argv, double *at_k, struct cli_ctx *ctx)
 {
@@ -113,7 +125,7 @@ static int fit_option(struct fit_cli *fc, int c, char **argv, double *at_k, stru
             return cli_usage_error("fit", "--run: '%s': not a run id", optarg);
         return BG_OK;
     case ':': return cli_usage_error("fit", "option '%s' needs a value", argv[optind - 1]);
-    default: return cli_usage_error("fit", "unknown option '%s'", argv[optind - 1]);
+    default: return cli_unknown_option("fit", argv[optind - 1], fit_opts);
     }
 }
 
@@ -169,17 +181,6 @@ static int fit_run(const struct fit_cli *fc, const char *path, struct cli_ctx *c
 
 int cmd_fit(int argc, char **argv, struct cli_ctx *ctx)
 {
-    static const struct option opts[] = {
-        { "model", required_argument, NULL, O_MODEL }, { "t0", required_argument, NULL, O_T0 },
-        { "pair", required_argument, NULL, O_PAIR },   { "u-temp", required_argument, NULL, O_UTEMP },
-        { "at", required_argument, NULL, O_AT },       { "linear", no_argument, NULL, O_LINEAR },
-        { "no-inflate", no_argument, NULL, O_NOINFL }, { "unit", required_argument, NULL, O_UNIT },
-        { "json", no_argument, NULL, O_JSON },         { "help", no_argument, NULL, 'h' },
-        { "probe", required_argument, NULL, O_PROBE }, { "run", required_argument, NULL, O_RUN },
-        { "lot", required_argument, NULL, O_LOT },
-        { "coverage-k", required_argument, NULL, O_COVK },
-        { "resolution", required_argument, NULL, O_RESOL }, { NULL, 0, NULL, 0 },
-    };
     struct fit_cli fc;
     double *at_k = malloc((size_t)(argc > 0 ? argc : 1) * sizeof *at_k);
     int c, rc = BG_OK;
@@ -191,7 +192,7 @@ int cmd_fit(int argc, char **argv, struct cli_ctx *ctx)
     fc.rq.check_t_k = at_k;
     fc.unit = BG_UNIT_C;
     opterr = 0;
-    while (rc == BG_OK && (c = getopt_long(argc, argv, ":h", opts, NULL)) != -1) {
+    while (rc == BG_OK && (c = getopt_long(argc, argv, ":h", fit_opts, NULL)) != -1) {
         if (c == 'h') {
             fputs(fit_usage, stdout);
             free(at_k);

@@ -2,6 +2,7 @@
 /* The options several commands share: the curve a command works on (--fit N, --probe SERIAL
 ** or a model given inline: --model, --coef, --r25/--r0, --beta, --t0) and the output choice
 ** (--csv or --json). */
+#include <getopt.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -197,4 +198,19 @@ int cli_output_choose(const struct cli_output *o, const struct cli_ctx *ctx, int
         return cli_usage_error(cmd, "give --csv or --json, not both");
     *fmt = o->csv ? CLI_FMT_CSV : json ? CLI_FMT_JSON : CLI_FMT_TEXT;
     return BG_OK;
+}
+
+int cli_unknown_option(const char *cmd, const char *arg, const struct option *opts)
+{
+    const char *names[64], *word = arg, *near;
+    size_t n = 0, len;
+    while (*word == '-')
+        word++;
+    len = strcspn(word, "=");
+    for (; opts && opts[n].name && n < sizeof names / sizeof names[0]; n++)
+        names[n] = opts[n].name;
+    near = word != arg + 1 ? bg_suggest(word, len, names, n) : NULL; /* not for "-x" */
+    if (near)
+        return cli_usage_error(cmd, "unknown option '%s' (did you mean '--%s'?)", arg, near);
+    return cli_usage_error(cmd, "unknown option '%s'", arg);
 }
