@@ -21,6 +21,8 @@
 #include "bandgap/suggest.h"
 #include "bandgap/store.h"
 #include "bandgap/drift.h"
+#include "bandgap/stats.h"
+#include "bandgap/qa.h"
 #include "bandgap/circuit.h"
 #include "bandgap/lut.h"
 #include "bandgap/calib.h"
