@@ -330,7 +330,7 @@ def checks():
                       atol=0) and
           np.allclose(numbers(run_html, "rt", "alpha"), [100 * c["alpha_per_k"] for c in cur],
                       rtol=1e-12, atol=0) and
-          np.allclose(numbers(run_html, "rt", "U"), [1e3 * c["U_k2_k"] for c in cur],
+          np.allclose(numbers(run_html, "rt", "U"), [1e3 * c["U_k"] for c in cur],
                       rtol=1e-12, atol=0))
     step = float(rt.group(3))
     check("run: R-T table runs over the validity range end to end",
@@ -348,16 +348,18 @@ def checks():
           np.isclose(numbers(run_html, "selfheat", "power-uw")[0], p_uw, rtol=1e-12) and
           np.isclose(numbers(run_html, "selfheat", "selfheat-mk")[0], 1e-3 * p_uw / diss,
                      rtol=1e-12))
-    # coverage probability of k = 2 with the fit's degrees of freedom (scipy's Student t)
-    check("run: coverage probability of k = 2 from Student t (scipy)",
-          np.isclose(numbers(run_html, "uncertainty", "coverage")[0],
-                     100 * (2 * stats.t.cdf(2.0, fit["dof"]) - 1), rtol=1e-10))
+    # U = k u with k from Student's t for the fit's degrees of freedom at 95.45 % (scipy), as
+    # fit and curve state it (JCGM 100:2008, G.3)
+    check("run: k from Student t for the fit's dof at 95.45 % (scipy), as curve --json",
+          np.isclose(numbers(run_html, "uncertainty", "k")[0],
+                     stats.t.ppf(0.5 + 0.9545 / 2, fit["dof"]), rtol=1e-9) and
+          np.isclose(numbers(run_html, "uncertainty", "coverage")[0], 95.45, rtol=1e-12))
     U = numbers(run_html, "uncertainty", "U")[0]
     grid = bg("curve", "--fit", str(fit_id), "--from", "%.17gC" % (fit["range"]["t_min_k"] - 273.15),
               "--to", "%.17gC" % (fit["range"]["t_max_k"] - 273.15),
               "--step", "%.17gK" % ((fit["range"]["t_max_k"] - fit["range"]["t_min_k"]) / 40), "--json")["rows"]
-    umax = 1e3 * max(c["U_k2_k"] for c in grid)
-    check("run: stated U is the largest U(k=2) rounded up to two significant digits",
+    umax = 1e3 * max(c["U_k"] for c in grid)
+    check("run: stated U is the largest U = k u rounded up to two significant digits",
           U >= umax * (1 - 1e-12) and U <= umax * 1.11 and abs(float("%.2g" % U) - U) <= 1e-12 * U,
           "%g vs %g" % (U, umax))
 

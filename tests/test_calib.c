@@ -66,12 +66,67 @@ static void request_defaults(void **state)
     assert_true(rq.u_t_default_k == 0.0); /* no default uncertainty unless asked */
     /* p = 95.45 % for k = 2 of a normal distribution (JCGM 100:2008, GUM, Table G.1) */
     assert_true(rq.coverage == 0.9545);
+    assert_true(rq.coverage_k == 0.0);        /* k from Student's t unless a k is asked for */
+    assert_true(rq.resolution_k == 1e-5);     /* the fit's documented default */
     assert_int_equal(rq.ntable, 9);
     assert_int_equal(rq.ncheck, 0);
     assert_null(rq.check_t_k);
     assert_int_equal(rq.linear_only, 0);
     assert_int_equal(rq.no_inflate, 0);
     assert_null(rq.progress);
+}
+
+/* U = k u with k from Student's t for nu_eff = n - p by default, or k = 2 when asked with
+** its probability stated; a B pair outside the range and a check outside it are flagged, the
+** check without a U; too few readings name the source and a model with fewer coefficients.
+** Check values: scipy 1.10.1 (Debian), computed 2026-12-02: scipy.stats.t.ppf(0.977250, 8) =
+** 2.3664194994919296 and 2 * scipy.stats.t.cdf(2, 8) - 1 = 0.9194837620427374. */
+static void coverage_extrapolation_too_few(void **state)
+{
+    (void)state;
+    bg_readings rs = parse(ohms_csv);
+    bg_point pts[16];
+    double at_k[2] = { 323.15, 423.15 };
+    bg_calib_request rq = bg_calib_default_request();
+    bg_calib_result r = BG_CALIB_RESULT_INIT;
+    bg_error err = BG_ERROR_INIT;
+
+    bg_readings_points(&rs, pts);
+    rq.model = "sh3";
+    rq.check_t_k = at_k, rq.ncheck = 2;
+    rq.pair_t1_k = 273.15, rq.pair_t2_k = 423.15; /* 0 / 150 degC: 150 is outside */
+    assert_int_equal(bg_calibrate(pts, rs.n, "r.csv", &rq, &r, &err), BG_OK);
+    assert_int_equal(r.fit.dof, 8);
+    assert_close(r.cover.k, 2.3664194994919296, 1e-8, 0);
+    assert_close(r.cover.p, 0.9545, 0, 0);
+    assert_int_equal(r.cover.fixed, 0);
+    assert_close(r.table_U_k[0], r.cover.k * r.table_u_k[0], 1e-15, 0);
+    assert_close(r.U_max_k, r.cover.k * r.u_max_k, 1e-15, 0);
+    assert_int_equal(r.b_pair_extrapolated, 1);
+    assert_int_equal(r.checks[0].extrapolated, 0);
+    assert_close(r.checks[0].U_k, r.cover.k * r.checks[0].u_k, 1e-15, 0);
+    assert_int_equal(r.checks[1].extrapolated, 1);
+    assert_true(isnan(r.checks[1].U_k));
+
+    rq.coverage_k = 2.0;
+    rq.pair_t1_k = 298.15, rq.pair_t2_k = 338.15;
+    assert_int_equal(bg_calibrate(pts, rs.n, "r.csv", &rq, &r, &err), BG_OK);
+    assert_close(r.cover.k, 2.0, 0, 0);
+    assert_close(r.cover.p, 0.9194837620427374, 1e-9, 0);
+    assert_int_equal(r.b_pair_extrapolated, 0);
+
+    assert_int_equal(bg_calibrate(pts, 0, "head.csv", &rq, &r, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "head.csv: no readings (a header only?)");
+    assert_int_equal(bg_calibrate(pts, 2, "two.csv", &rq, &r, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "two.csv: 2 readings, but model 'sh3' has 3 coefficients: "
+                                 "give more readings, or a model with fewer coefficients: "
+                                 "model 'beta' (2 coefficients) fits 2 readings with 0 degrees "
+                                 "of freedom left");
+    rq.model = "auto";
+    assert_int_equal(bg_calibrate(pts, 3, "three.csv", &rq, &r, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "three.csv: 3 readings: too few for 'auto'"));
+    bg_calib_result_release(&r);
+    bg_readings_release(&rs);
 }
 
 /* Each reading without a stated u(T) takes the default, whatever its u(R); a stated u(T) stays. */
@@ -489,6 +544,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(request_defaults),
         cmocka_unit_test(default_u_per_reading),
+        cmocka_unit_test(coverage_extrapolation_too_few),
         cmocka_unit_test(default_u_stored_and_lot),
         cmocka_unit_test(auto_choice_against_numpy),
         cmocka_unit_test(lot_all_or_none),

@@ -99,6 +99,45 @@ static void rejections(void **state)
                                                  "'25,5'");
 }
 
+/* A unit written into a value says where the unit belongs; a mistyped column name gets the
+** nearest known one. */
+static void unit_in_value_and_did_you_mean(void **state)
+{
+    (void)state;
+    expect_error("temp_c,ohms\n25 C,10000\n",
+                 "bath.csv:2: field 'temp_c': '25 C': a unit in the value; write the number "
+                 "alone, the unit belongs in the column name (temp_c, temp_k or temp_f for "
+                 "temperatures in degC, K or degF; ohms, u_ohms in ohm; u_temp_k in K)");
+    expect_error("temp_k,ohms\n298.15,10kohm\n",
+                 "bath.csv:2: field 'ohms': '10kohm': a unit in the value; write the number "
+                 "alone, the unit belongs in the column name (temp_c, temp_k or temp_f for "
+                 "temperatures in degC, K or degF; ohms, u_ohms in ohm; u_temp_k in K)");
+    expect_error("temp_c,ohms\n25,10x5\n", "bath.csv:2: field 'ohms': not a number: '10x5'");
+    expect_error("temp_c,ohm\n25,10000\n",
+                 "bath.csv:1: unknown column 'ohm' (did you mean 'ohms'? known columns: temp_c, "
+                 "temp_k, temp_f, ref_ohms, ohms, u_temp_k, u_ohms, time, note)");
+    expect_error("tmep_c,ohms\n25,10000\n",
+                 "bath.csv:1: unknown column 'tmep_c' (did you mean 'temp_c'? known columns: "
+                 "temp_c, temp_k, temp_f, ref_ohms, ohms, u_temp_k, u_ohms, time, note)");
+}
+
+/* bg_suggest: edit distance with neighbour swaps as one edit (Damerau 1964), limits by length;
+** the distances are counted by hand (common practice). */
+static void suggest(void **state)
+{
+    (void)state;
+    static const char *const names[] = { "fit", "lot", "probe", "curve", NULL, "export" };
+    assert_string_equal(bg_suggest("fitt", 4, names, 6), "fit");     /* 1 insertion */
+    assert_string_equal(bg_suggest("lto", 3, names, 6), "lot");      /* 1 swap */
+    assert_string_equal(bg_suggest("PROBE", 5, names, 6), "probe");  /* case ignored */
+    assert_string_equal(bg_suggest("exprot", 6, names, 6), "export"); /* 1 swap */
+    assert_string_equal(bg_suggest("crve", 4, names, 6), "curve");   /* 1 deletion */
+    assert_null(bg_suggest("frobnicate", 10, names, 6));
+    assert_null(bg_suggest("xy", 2, names, 6)); /* 2 edits from "fit" are too many for 2 bytes */
+    assert_null(bg_suggest("", 0, names, 6));
+    assert_null(bg_suggest("fit", 3, names, 0));
+}
+
 static void times(void **state)
 {
     (void)state;
@@ -130,6 +169,7 @@ int main(void)
         cmocka_unit_test(comma_file), cmocka_unit_test(semicolon_and_tab),
         cmocka_unit_test(rejections), cmocka_unit_test(times),
         cmocka_unit_test(missing_file),
+        cmocka_unit_test(unit_in_value_and_did_you_mean), cmocka_unit_test(suggest),
     };
     return cmocka_run_group_tests_name("csv", tests, NULL, NULL);
 }

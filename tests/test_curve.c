@@ -81,12 +81,28 @@ static void uncertainty_against_numpy(void **state)
     ** closed-form inverse: numpy 1.24 (Debian), computed for this test. */
     static const double u_k[] = { 0.0057161742004342205, 0.006296001734679035,
                                   0.007067906993115659, 0.008357944297757295 };
+    /* U = k u, k from Student's t for the fit's 6 degrees of freedom at 95.45 %:
+    ** scipy.stats.t.ppf(0.977250, 6) = 2.516528344704834 (scipy 1.10.1, run 2026-12-02) */
+    s.dof = 6;
     assert_int_equal(bg_curve_grid(&s, 273.15, 348.15, 25.0, &c, NULL), BG_OK);
     assert_int_equal(c.n, 4);
+    assert_close(c.cover.k, 2.516528344704834, 1e-8, 0);
+    assert_close(c.cover.p, 0.9545, 0, 0);
     for (size_t i = 0; i < 4; i++) {
         assert_close(c.rows[i].u_k, u_k[i], 1e-9, 0);
-        assert_close(c.rows[i].U_k, 2.0 * u_k[i], 1e-9, 0);
+        assert_close(c.rows[i].U_k, 2.516528344704834 * u_k[i], 1e-8, 0);
     }
+    /* k = 2 on request, its probability stated: 2 t.cdf(2, 6) - 1 = 0.907573688468325 (scipy
+    ** 1.10.1, run 2026-12-02) */
+    s.rule.k_fixed = 2.0;
+    assert_int_equal(bg_curve_grid(&s, 273.15, 348.15, 25.0, &c, NULL), BG_OK);
+    assert_close(c.cover.p, 0.907573688468325, 1e-9, 0);
+    for (size_t i = 0; i < 4; i++)
+        assert_close(c.rows[i].U_k, 2.0 * u_k[i], 1e-9, 0);
+    /* without degrees of freedom Student's t gives no k */
+    s.rule.k_fixed = 0.0, s.dof = 0;
+    assert_int_equal(bg_curve_grid(&s, 273.15, 348.15, 25.0, &c, NULL), BG_OK);
+    assert_true(isnan(c.rows[0].U_k) && c.rows[0].u_k > 0);
     bg_curve_release(&c);
 }
 
@@ -121,10 +137,20 @@ static void range_and_span(void **state)
     (void)state;
     bg_curve_src s = sh3_src(1);
     bg_curve c = BG_CURVE_INIT;
-    s.has_range = 1, s.t_min_k = 283.15, s.t_max_k = 353.15;
+    s.has_range = 1, s.t_min_k = 283.15, s.t_max_k = 353.15, s.dof = 8;
+    s.b_pair_t1_k = 298.15, s.b_pair_t2_k = 358.15; /* 85 degC lies outside */
     assert_int_equal(bg_curve_grid(&s, 273.15, 373.15, 10.0, &c, NULL), BG_OK);
-    for (size_t i = 0; i < c.n; i++) /* 0 and 90, 100 degC lie outside 10 .. 80 degC */
-        assert_int_equal(c.rows[i].extrapolated, i == 0 || i >= 9);
+    for (size_t i = 0; i < c.n; i++) { /* 0 and 90, 100 degC lie outside 10 .. 80 degC */
+        int out = i == 0 || i >= 9;
+        assert_int_equal(c.rows[i].extrapolated, out);
+        /* an extrapolated row has a u from the covariance but no U: not a calibrated value */
+        assert_true(c.rows[i].u_k > 0);
+        assert_int_equal(isnan(c.rows[i].U_k) != 0, out);
+    }
+    assert_int_equal(c.b_pair_extrapolated, 1);
+    s.b_pair_t2_k = 348.15;
+    assert_int_equal(bg_curve_grid(&s, 273.15, 373.15, 10.0, &c, NULL), BG_OK);
+    assert_int_equal(c.b_pair_extrapolated, 0);
     assert_int_equal(bg_curve_span(&s, 9, &c, NULL), BG_OK); /* releases the grid first */
     assert_int_equal(c.n, 9);
     assert_close(c.rows[0].t_k, 283.15, 0, 0);

@@ -461,11 +461,16 @@ static void guard_rails(void **state)
     assert_int_equal(bg_fit_points(p, 11, &o, &f, &err), BG_EINVAL);
     assert_string_equal(err.msg, "bath.csv:4: value is not a finite number");
 
+    /* an identical repeated reading (a low-resolution meter) is kept, with a note */
     sh_points(p, 1.0);
     p[7] = p[2], p[7].line = 9;
-    assert_int_equal(bg_fit_points(p, 11, &o, &f, &err), BG_EINVAL);
-    assert_string_equal(err.msg, "bath.csv:9: duplicate of bath.csv:4 (same temperature and "
-                                 "resistance)");
+    assert_int_equal(bg_fit_points(p, 11, &o, &f, &err), BG_OK);
+    assert_true(f.nnotes >= 1);
+    assert_int_equal(f.notes[0].kind, BG_NOTE_REPEATED);
+    assert_int_equal(f.notes[0].line, 9);
+    assert_string_equal(f.notes[0].msg, "bath.csv:9: the same temperature and resistance as "
+                                        "bath.csv:4: a repeated reading, kept (check that it "
+                                        "was not entered twice)");
 
     sh_points(p, 1.0);
     p[6].r_ohm = p[5].r_ohm * 1.2; /* 60 degC reads more than 50 degC */
@@ -491,8 +496,165 @@ static void guard_rails(void **state)
     }
     o.mono_gap_k = 1.0;
     assert_int_equal(bg_fit_points(p, 6, &o, &f, &err), BG_EINVAL);
-    assert_non_null(strstr(err.msg, "rank-deficient or ill-conditioned"));
+    assert_string_equal(err.msg, "bath.csv: 6 readings at 2 distinct temperatures (readings "
+                                 "within 0.05 K count as one): model 'sh3' has 3 coefficients "
+                                 "and needs readings at 3 distinct temperatures at least");
     bg_fit_release(&f);
+}
+
+/* Twelve readings at one bath setpoint (25 degC, a few mK apart) cannot give three
+** coefficients: refused with the numbers, never a fit with beta = 1e15 K. */
+static void one_setpoint_refused(void **state)
+{
+    (void)state;
+    bg_point p[12];
+    bg_fit f = BG_FIT_INIT;
+    bg_error err = BG_ERROR_INIT;
+    bg_model m;
+    for (size_t i = 0; i < 12; i++) {
+        memset(&p[i], 0, sizeof p[i]);
+        p[i].t_k = 298.15 + 0.001 * (double)(i % 3);   /* invented */
+        p[i].r_ohm = 10000.0 - 0.3 * (double)i;
+        p[i].line = i + 2;
+    }
+    bg_model_parse("sh3", &m, NULL);
+    bg_fit_opts o = bg_fit_default_opts(&m);
+    o.source = "flat.csv";
+    assert_int_equal(bg_fit_points(p, 12, &o, &f, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "flat.csv: 12 readings at 1 distinct temperature (readings "
+                                 "within 0.05 K count as one): model 'sh3' has 3 coefficients "
+                                 "and needs readings at 3 distinct temperatures at least");
+    bg_model_parse("beta", &m, NULL);
+    o.model = m;
+    assert_int_equal(bg_fit_points(p, 12, &o, &f, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "model 'beta' has 2 coefficients"));
+    bg_fit_release(&f);
+}
+
+/* Noise-free invented readings (T computed from invented coefficients at 17 digits): the
+** residuals are the arithmetic's rounding, and the floor under their scale keeps them from
+** being studentized by themselves into outlier warnings. */
+static void noise_free_no_outliers(void **state)
+{
+    (void)state;
+    static const double c[3] = { 1.1384e-3, 2.3245e-4, 9.4871e-8 }; /* invented */
+    static const double r[12] = { 32000, 25000, 19000, 15000, 12000, 9500, 7600, 6000, 4800,
+                                  3900, 3100, 2500 };
+    bg_point p[12];
+    bg_fit f = BG_FIT_INIT;
+    bg_model m;
+    for (size_t i = 0; i < 12; i++) {
+        double L = log(r[i]);
+        memset(&p[i], 0, sizeof p[i]);
+        p[i].r_ohm = r[i], p[i].line = i + 2;
+        p[i].t_k = 1.0 / (c[0] + c[1] * L + c[2] * L * L * L);
+    }
+    bg_model_parse("sh3", &m, NULL);
+    bg_fit_opts o = bg_fit_default_opts(&m);
+    assert_close(o.resolution_k, 1e-5, 0, 0); /* the documented default */
+    assert_int_equal(bg_fit_points(p, 12, &o, &f, NULL), BG_OK);
+    assert_true(f.max_abs_mk < 1e-6);
+    for (size_t i = 0; i < f.nnotes; i++)
+        assert_true(f.notes[i].kind != BG_NOTE_OUTLIER);
+    for (size_t i = 0; i < 12; i++)
+        assert_true(fabs(f.student[i]) < 1e-3);
+    /* a real blunder in the same data is still found: 5 mK on one reading */
+    p[6].t_k += 0.005;
+    assert_int_equal(bg_fit_points(p, 12, &o, &f, NULL), BG_OK);
+    int found = 0;
+    for (size_t i = 0; i < f.nnotes; i++)
+        found |= f.notes[i].kind == BG_NOTE_OUTLIER && f.notes[i].line == 8;
+    assert_true(found);
+    bg_fit_release(&f);
+}
+
+/* A reduced chi2 far below 1 with stated uncertainties (p > 0.99) is warned about, as a
+** large one is; the p-value is checked against scipy.stats.chi2.sf. */
+static void chi2_too_small_warned(void **state)
+{
+    (void)state;
+    bg_point p[15];
+    bg_fit f = BG_FIT_INIT;
+    bg_model m;
+    noisy_data(p, 15, 4242, 0.002);       /* scatter 2 mK */
+    for (size_t i = 0; i < 15; i++)
+        p[i].u_t_k = 0.010;               /* stated 10 mK: five times too large */
+    bg_model_parse("sh3", &m, NULL);
+    bg_fit_opts o = bg_fit_default_opts(&m);
+    o.source = "bath.csv";
+    assert_int_equal(bg_fit_points(p, 15, &o, &f, NULL), BG_OK);
+    int found = 0;
+    for (size_t i = 0; i < f.nnotes; i++)
+        if (f.notes[i].kind == BG_NOTE_CHI2_LOW) {
+            found = 1;
+            assert_non_null(strstr(f.notes[i].msg, "bath.csv: residuals are far inside the "
+                                                   "stated uncertainties"));
+        }
+    assert_true(found);
+    /* scipy.stats.chi2.ppf(0.01, 12) = 3.570568970604392 (scipy 1.10.1, run 2026-12-02):
+    ** the chi2 below which p > 0.99 with 12 degrees of freedom */
+    assert_true(f.chi2 < 3.570568970604392);
+    assert_true(f.p_value > 0.99);
+    /* stated uncertainties that match the scatter: no warning either way */
+    for (size_t i = 0; i < 15; i++)
+        p[i].u_t_k = 0.002;
+    assert_int_equal(bg_fit_points(p, 15, &o, &f, NULL), BG_OK);
+    for (size_t i = 0; i < f.nnotes; i++)
+        assert_true(f.notes[i].kind != BG_NOTE_CHI2_LOW && f.notes[i].kind != BG_NOTE_CHI2);
+    bg_fit_release(&f);
+}
+
+/* The coverage rule: k from Student's t for nu_eff at p = 95.45 %, or a fixed k with its
+** probability.  Check values: scipy 1.10.1 (Debian), computed 2026-12-02 with
+** scipy.stats.t.ppf(0.5 + 0.9545 / 2, nu), 2 * scipy.stats.t.cdf(2, nu) - 1 and
+** scipy.stats.norm.ppf(0.5 + 0.9545 / 2). */
+static void coverage_rule(void **state)
+{
+    (void)state;
+    bg_coverage_rule rule = bg_coverage_default();
+    bg_coverage c;
+    bg_error err = BG_ERROR_INIT;
+    assert_close(rule.p, 0.9545, 0, 0);
+    assert_int_equal(bg_coverage_eval(&rule, 4.0, &c, NULL), BG_OK);
+    assert_close(c.k, 2.869315169696393, 1e-9, 0);      /* scipy t.ppf, nu = 4 */
+    assert_close(c.p, 0.9545, 0, 0);
+    assert_int_equal(c.fixed, 0);
+    assert_int_equal(bg_coverage_eval(&rule, 7.0, &c, NULL), BG_OK);
+    assert_close(c.k, 2.4288090813825196, 1e-8, 0);     /* scipy t.ppf, nu = 7 */
+    /* a non-integer nu_eff is truncated (JCGM 100:2008, G.4.1 note 1) */
+    assert_int_equal(bg_coverage_eval(&rule, 7.9, &c, NULL), BG_OK);
+    assert_close(c.k, 2.4288090813825196, 1e-8, 0);
+    assert_int_equal(bg_coverage_eval(&rule, INFINITY, &c, NULL), BG_OK);
+    assert_close(c.k, 2.0000024438996027, 1e-9, 0);     /* scipy norm.ppf */
+    assert_int_equal(bg_coverage_eval(&rule, 0.0, &c, NULL), BG_OK);
+    assert_true(isnan(c.k));
+    /* k = 2 kept as an option: its coverage probability is stated */
+    rule.k_fixed = 2.0;
+    assert_int_equal(bg_coverage_eval(&rule, 4.0, &c, NULL), BG_OK);
+    assert_close(c.k, 2.0, 0, 0);
+    assert_close(c.p, 0.8838834764831844, 1e-9, 0);     /* scipy 2 t.cdf(2, 4) - 1 */
+    assert_int_equal(c.fixed, 1);
+    assert_int_equal(bg_coverage_eval(&rule, 2.0, &c, NULL), BG_OK);
+    assert_close(c.p, 0.816496580927726, 1e-9, 0);      /* scipy 2 t.cdf(2, 2) - 1 */
+    rule.p = 1.5;
+    assert_int_equal(bg_coverage_eval(&rule, 4.0, &c, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "coverage probability 1.5: must lie between 0 and 1");
+}
+
+/* Welch-Satterthwaite: the example of JCGM 100:2008, G.4.1 (three relative uncertainties
+** 0.25 %, 0.57 %, 0.82 % from 10, 5 and 15 observations) gives nu_eff = 19.0 there (from
+** memory); the formula itself, in Python arithmetic, gives 18.998742314267957. */
+static void welch_satterthwaite(void **state)
+{
+    (void)state;
+    static const double u[3] = { 0.25, 0.57, 0.82 }, nu[3] = { 9, 4, 14 };
+    static const double u2[2] = { 1.0, 2.0 }, nu2[2] = { INFINITY, INFINITY };
+    assert_close(bg_coverage_nu_eff(u, nu, 3), 18.998742314267957, 1e-12, 0);
+    assert_close(bg_coverage_nu_eff(u, nu, 3), 19.0, 0, 0.05);
+    /* components known exactly add no finite degree of freedom */
+    assert_true(isinf(bg_coverage_nu_eff(u2, nu2, 2)));
+    /* one component alone keeps its own degrees of freedom, as a fit does (n - p) */
+    assert_close(bg_coverage_nu_eff(u, nu, 1), 9.0, 1e-15, 0);
 }
 
 static void outlier_and_extrapolation(void **state)
@@ -598,6 +760,11 @@ int main(void)
         cmocka_unit_test(student_coverage_factors),
         cmocka_unit_test(effective_variance),
         cmocka_unit_test(guard_rails),
+        cmocka_unit_test(one_setpoint_refused),
+        cmocka_unit_test(noise_free_no_outliers),
+        cmocka_unit_test(chi2_too_small_warned),
+        cmocka_unit_test(coverage_rule),
+        cmocka_unit_test(welch_satterthwaite),
         cmocka_unit_test(outlier_and_extrapolation),
         cmocka_unit_test(comparison_chooses),
         cmocka_unit_test(curve_uncertainty_two_routes),

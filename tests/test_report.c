@@ -126,10 +126,12 @@ static void calibration_report(void **state)
     /* the hostile serial and exclusion reason only escaped */
     assert_null(strstr(html, "<img"));
     assert_true(count(html, hostile_esc) >= 2);
-    /* coverage of k = 2 with 7 dof: 2 F_t(2; 7) - 1 = 0.9143806714370242 from
-    ** scipy.stats.t.cdf(2, 7) (scipy 1.10, Debian), computed for this test */
-    assert_close(value_after(html, NULL, "class=\"coverage\" data-v=\""), 100.0 * 0.9143806714370242,
-                 1e-10, 0.0);
+    /* U = k u at 95.45 % with k from Student's t for 7 dof, as 'fit' states it:
+    ** scipy.stats.t.ppf(0.977250, 7) = 2.4288090813825196 (scipy 1.10.1, Debian, run
+    ** 2026-12-02) */
+    assert_close(value_after(html, NULL, "class=\"coverage\" data-v=\""), 95.45, 1e-12, 0.0);
+    assert_close(value_after(html, NULL, "class=\"k\" data-v=\""), 2.4288090813825196, 1e-8,
+                 0.0);
     /* each residual: the offset put into the reading (derived: readings built on the curve) */
     for (size_t i = 0; i < 9; i++) {
         char from[64];
@@ -137,11 +139,11 @@ static void calibration_report(void **state)
         assert_close(value_after(html, from, "class=\"n resid\" data-v=\""), delta_mk[i], 1e-6,
                      1e-7);
     }
-    /* U (k = 2) at 25 degC in the R-T table: at T0 the beta model's gradient of 1/T is
+    /* U = k u at 25 degC in the R-T table: at T0 the beta model's gradient of 1/T is
     ** (-1/(B R0), 0), so u = T0^2 u(R0) / (B R0) (derived, GUM 5.1.2) */
     double u25 = t0 * t0 * 5.0 / (beta * r0);
     assert_close(value_after(html, "<td class=\"n t\" data-v=\"25\">", "class=\"n U\" data-v=\""),
-                 2e3 * u25, 1e-9, 0.0);
+                 2.4288090813825196e3 * u25, 1e-8, 0.0);
     assert_close(value_after(html, "<td class=\"n t\" data-v=\"25\">", "class=\"n r\" data-v=\""),
                  r0, 1e-12, 0.0);
     /* alpha = -B / T^2 for the beta model (derived), in %/K */
@@ -196,9 +198,16 @@ static void calibration_report(void **state)
     assert_true(r.rt[r.nrt - 1].t_c > r.rt[r.nrt - 2].t_c);
     r.fit.t_min_k = 273.15, r.fit.t_max_k = 323.15;
 
-    /* 2 degrees of freedom: 2 F_t(2; 2) - 1 = 2 / sqrt(6) (closed form of Student's t with
-    ** 2 dof: F(t) = 1/2 + t / (2 sqrt(2 + t^2))), also scipy.stats.t.cdf: 0.816496580927726 */
+    /* 2 degrees of freedom: k = t_0.977250(2) = 4.5265507603649375 (scipy.stats.t.ppf, scipy
+    ** 1.10.1, run 2026-12-02); with k = 2 asked for, 2 F_t(2; 2) - 1 = 2 / sqrt(6) (closed form
+    ** of Student's t with 2 dof: F(t) = 1/2 + t / (2 sqrt(2 + t^2))), also scipy.stats.t.cdf:
+    ** 0.816496580927726 */
     r.fit.dof = 2;
+    assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
+    assert_close(r.cover.k, 4.5265507603649375, 1e-8, 0.0);
+    assert_close(r.coverage, 0.9545, 1e-12, 0.0);
+    r.rule = bg_coverage_default();
+    r.rule.k_fixed = 2.0;
     assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
     assert_close(r.coverage, 2.0 / sqrt(6.0), 1e-12, 0.0);
     bg_calib_report_release(&r);

@@ -18,6 +18,7 @@
 #include "bandgap/fit.h"
 #include "bandgap/curve.h"
 #include "bandgap/csv.h"
+#include "bandgap/suggest.h"
 #include "bandgap/store.h"
 #include "bandgap/drift.h"
 #include "bandgap/stats.h"

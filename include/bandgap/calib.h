@@ -31,6 +31,13 @@ typedef struct bg_calib_request {
     int no_inflate;             /* 1: keep the covariance of the stated uncertainties even when
                                 ** chi2/dof > 1 (default 0) */
     double coverage;            /* coverage probability of the Student-t factor (default 0.9545) */
+    double resolution_k;        /* the readings' temperature resolution, K: the floor of the
+                                ** residuals' scale (bg_fit_opts.resolution_k, default 1e-6) */
+    double coverage_k;          /* 0 (default): U = k u with k = t_p(nu_eff) from Student's t
+                                ** for p = 'coverage' and the fit's effective degrees of freedom,
+                                ** nu_eff = n - p for a fit alone (JCGM 100:2008, G.3, G.4);
+                                ** > 0: this k (e.g. 2) whatever nu_eff, its coverage probability
+                                ** stated in 'cover.p' */
     const double *check_t_k;    /* 'ncheck' temperatures in K at which to evaluate the curve
                                 ** (default none); not kept */
     size_t ncheck;
@@ -56,6 +63,7 @@ typedef struct bg_calib_check {
     int ok;                     /* 0: not evaluated, see 'why' */
     double r_ohm, u_k;          /* R(T) and the curve's standard u(T) (NaN when 'ok' is 0;
                                 ** u_k NaN when no degree of freedom is left) */
+    double U_k;                 /* expanded uncertainty cover.k * u_k; NaN when extrapolated */
     int extrapolated;           /* 1 when 't_k' lies outside the calibrated range */
     char why[240];
 } bg_calib_check;
@@ -71,10 +79,16 @@ typedef struct bg_calib_result {
     char cmp_why[512];
     int auto_chosen;            /* 1 when the model was chosen by the "auto" policy */
     double coverage, k_student; /* Student-t factor for fit.dof (NaN when dof = 0) */
+    bg_coverage cover;          /* the request's rule applied: the k of every U below, its
+                                ** coverage probability and nu_eff */
     double pair_t1_k, pair_t2_k, b_pair_k; /* B for the pair, K (NaN when not defined) */
+    int b_pair_extrapolated;    /* 1 when a temperature of the pair lies outside the calibrated
+                                ** range: B is an extrapolation of the curve */
     double r25_ohm;             /* R at 25 degC */
     double u_max_k;             /* the largest u(T) at the readings (NaN when dof = 0) */
-    double *table_t_k, *table_u_k; /* 'ntable' temperatures evenly across the range, u(T) */
+    double U_max_k;             /* cover.k * u_max_k */
+    double *table_t_k, *table_u_k, *table_U_k; /* 'ntable' temperatures evenly across the
+                                ** range, u(T) and U(T) = cover.k u(T) */
     size_t ntable;
     bg_calib_check *checks;     /* one per check temperature of the request, in its order */
     size_t nchecks;
@@ -138,7 +152,10 @@ typedef struct bg_calib_lot_row {
     size_t npar, n;
     double rms_mk, max_abs_mk;  /* of the residuals */
     double u_max_k;             /* the largest u(T) at the readings (NaN when dof = 0) */
+    bg_coverage cover;          /* the request's coverage rule for this probe's fit */
+    double U_max_k;             /* cover.k * u_max_k */
     double r25_ohm, b_k;        /* R at 25 degC; B for the lot's pair */
+    int b_extrapolated;         /* 1 when the lot's pair lies outside this probe's range */
     size_t note0, nnotes;       /* its warnings: notes[note0 .. note0 + nnotes) of the lot */
     char *why;                  /* BG_CALIB_FAILED: the message (malloc'd); else NULL */
 } bg_calib_lot_row;
@@ -150,6 +167,7 @@ typedef struct bg_calib_lot {
     bg_note *notes;             /* every fitted probe's warnings, by row */
     size_t nnotes, notecap;
     size_t nfitted, nnoruns, nfailed;
+    bg_coverage_rule rule;      /* the request's coverage rule, applied to every row */
     int stored;                 /* 1: every fit is stored (committed); 0: none is */
 } bg_calib_lot;
 

@@ -26,6 +26,14 @@ typedef struct bg_fit_opts {
     unsigned max_iter;     /* refinement iterations (default 50) */
     double xtol;           /* refinement stops at a relative step below this (default 1e-12) */
     double coverage;       /* coverage probability for the Student-t factor (default 0.9545) */
+    double setpoint_gap_k; /* readings closer than this in temperature are taken at one
+                           ** setpoint when distinct temperatures are counted (default 0.05 K) */
+    double resolution_k;   /* the readings' temperature resolution: the scale of the
+                           ** studentized residuals is never taken below resolution_k / sqrt(12),
+                           ** the standard deviation of rounding to it (JCGM 100:2008, F.2.2.1),
+                           ** so that noise-free readings raise no outlier warning (default
+                           ** 1e-6 K: finer than thermometer readouts in use, coarser than the
+                           ** fit's own rounding, about 1e-10 K) */
     const char *source;    /* file name used in messages (not kept); NULL = "point" */
 } bg_fit_opts;
 
@@ -34,7 +42,9 @@ BG_API bg_fit_opts bg_fit_default_opts(const bg_model *model);
 
 typedef enum bg_note_kind {
     BG_NOTE_OUTLIER = 1, BG_NOTE_NODOF, BG_NOTE_CHI2, BG_NOTE_MONOTONIC, BG_NOTE_EXTRAPOLATION,
-    BG_NOTE_REF_OVERDUE /* the run's reference was used past its calibration due date */
+    BG_NOTE_CHI2_LOW,    /* residuals far inside the stated uncertainties (p > 0.99) */
+    BG_NOTE_REPEATED,    /* identical repeated readings (same T and R), kept as readings */
+    BG_NOTE_REF_OVERDUE  /* the run's reference was used past its calibration due date */
 } bg_note_kind;
 
 typedef struct bg_note {
@@ -57,6 +67,7 @@ typedef struct bg_fit {
     double aic, bic;                /* see docs/methods.md */
     double rcond;                   /* of the final design */
     double t_min_k, t_max_k;        /* calibrated range */
+    size_t ndistinct;               /* distinct temperatures (setpoints, see setpoint_gap_k) */
     unsigned iterations;
     double *resid_mk;               /* n: measured minus fitted temperature, mK (input order) */
     double *student;                /* n: internally studentized residuals (NaN if undefined) */
@@ -76,10 +87,12 @@ BG_API bg_fitter *bg_fitter_new(void);
 BG_API void bg_fitter_free(bg_fitter *fitter);
 
 /* Fit 'o->model' to 'n' points.  Guard rails: BG_EINVAL for fewer points than coefficients,
-** a non-finite or non-positive value, a duplicate point, resistance rising with temperature,
-** or a design too ill-conditioned for the model (reciprocal condition below 'min_rcond');
-** BG_ENUM when the refinement does not converge.  Warnings
-** (outliers, no degrees of freedom, chi2, non-monotonic curve) go to 'out->notes'.  'out' is
+** fewer distinct temperatures (setpoints) than coefficients, a non-finite or non-positive
+** value, resistance rising with temperature, or a design too ill-conditioned for the model
+** (reciprocal condition below 'min_rcond'); BG_ENUM when the refinement does not converge;
+** BG_EINTERNAL when a coefficient or the covariance comes out non-finite.  Identical repeated
+** readings are kept, with a BG_NOTE_REPEATED note.  Warnings (outliers, no degrees of freedom,
+** chi2 too large or too small, non-monotonic curve) go to 'out->notes'.  'out' is
 ** initialised or reused; release it with bg_fit_release().  Keeps no pointer to 'pts'. */
 BG_API int bg_fitter_run(bg_fitter *fitter, const bg_point *pts, size_t n, const bg_fit_opts *o,
                          bg_fit *out, bg_error *err);
@@ -109,6 +122,40 @@ BG_API double bg_fit_coverage_k(const bg_fit *fit, double coverage);
 ** 2 F_t(k; dof) - 1 (0.8165 for k = 2 and 2 dof).  NaN when dof = 0 or k <= 0.
 ** (coverage.c) */
 BG_API double bg_fit_coverage_prob(double k, size_t dof);
+
+/* ---- Coverage: the rule that turns a standard uncertainty u into U = k u (coverage.c) ---- */
+
+typedef struct bg_coverage_rule {
+    double p;          /* coverage probability aimed at with Student's t (default 0.9545, "about
+                       ** 95 %", the p for which k tends to 2 as the degrees of freedom grow) */
+    double k_fixed;    /* > 0: use this k whatever the degrees of freedom (e.g. 2), and state
+                       ** the coverage probability it gives; 0 (default): k from Student's t */
+} bg_coverage_rule;
+
+/* The default rule: k = t_p(nu_eff) with p = 0.9545. */
+BG_API bg_coverage_rule bg_coverage_default(void);
+
+typedef struct bg_coverage {
+    double k;          /* the coverage factor (NaN when there is no degree of freedom) */
+    double p;          /* its coverage probability: the rule's p with Student's t; with a fixed
+                       ** k, 2 F_t(k; nu_eff) - 1 */
+    double nu_eff;     /* the effective degrees of freedom used (INFINITY: u known exactly) */
+    int fixed;         /* 1: k is the rule's k_fixed */
+} bg_coverage;
+
+/* The coverage factor under 'rule' for 'nu_eff' effective degrees of freedom: Student's
+** t_p(nu) (JCGM 100:2008, G.3.4 and G.4.1; a non-integer nu_eff is truncated to the next lower
+** integer, G.4.1 note 1), or the rule's fixed k with its coverage probability (G.3.2).
+** BG_EINVAL for p outside (0, 1), a negative or non-finite fixed k, or a negative nu_eff;
+** nu_eff < 1 gives k = NaN and p = NaN (no degree of freedom). */
+BG_API int bg_coverage_eval(const bg_coverage_rule *rule, double nu_eff, bg_coverage *out,
+                            bg_error *err);
+
+/* The Welch-Satterthwaite effective degrees of freedom of u_c^2 = sum u[i]^2 (JCGM 100:2008,
+** G.4.1, formula G.2b): u_c^4 / sum (u[i]^4 / nu[i]); a component with nu[i] = INFINITY (or
+** u[i] = 0) adds nothing to the sum.  INFINITY when every component is known exactly; NaN when
+** a u[i] or nu[i] is negative or NaN, or nu[i] is 0 for u[i] > 0. */
+BG_API double bg_coverage_nu_eff(const double *u, const double *nu, size_t n);
 
 /* ---- Model comparison ----------------------------------------------------------------------- */
 

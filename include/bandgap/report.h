@@ -58,7 +58,7 @@ BG_API int bg_report_render(const bg_report_kind *kind, const void *result,
 typedef struct bg_report_rt_row {
     double t_c, r_ohm;   /* the curve's resistance at t (degC, as the table shows it) */
     double alpha_per_k;  /* its temperature coefficient */
-    double u2_k;         /* expanded uncertainty U (k = 2) of the curve; NaN: none */
+    double U_k;          /* expanded uncertainty U = cover.k u of the curve; NaN: none */
 } bg_report_rt_row;
 
 enum { BG_REPORT_BAND = 41 }; /* points of the U band over the validity range */
@@ -74,6 +74,7 @@ typedef struct bg_calib_report {
     bg_reading_row *readings;     /* the run's readings, excluded ones too (malloc'd) */
     size_t nreadings;
     double dissipation_w_per_k;   /* the probe's dissipation constant; 0: not given */
+    bg_coverage_rule rule;        /* how U is expanded (p 0: bg_coverage_default(), as 'fit') */
     /* computed by bg_calib_report_compute */
     double *t_fit_k;              /* per reading: the fitted curve's T at its R (NaN: none) */
     double *resid_mk;             /* per reading: measured - fitted, mK */
@@ -85,7 +86,8 @@ typedef struct bg_calib_report {
     double selfheat_mk;           /* power over the dissipation constant; NaN: not given */
     double band_t_k[BG_REPORT_BAND], band_u_k[BG_REPORT_BAND]; /* u(T) of the curve (NaN) */
     double u_max_k;               /* the largest of band_u_k; NaN: no covariance */
-    double coverage;              /* probability of k = 2 with the fit's dof (Student t) */
+    bg_coverage cover;            /* k of U for the fit's dof (nu_eff = n - p) by 'rule' */
+    double coverage;              /* cover.p: the coverage probability of U */
     double rt_from_c, rt_to_c, rt_step_c; /* the R-T table: the validity range's ends
                                           ** (first and last rows) and the round step of
                                           ** the rows between them */
@@ -97,9 +99,10 @@ typedef struct bg_calib_report {
 BG_API void bg_calib_report_release(bg_calib_report *r);
 
 /* Fill the computed part of '*r' from its fit and readings: residuals, span, self-heating
-** from the run's excitation ("10 uA"), the u(T) band and its maximum, the coverage
-** probability of k = 2 (Student t with the fit's degrees of freedom) and the R-T table (the
-** validity range's two ends and the multiples of a round step between them).
+** from the run's excitation ("10 uA"), the u(T) band and its maximum, the coverage factor k
+** by 'rule' (Student's t for the fit's degrees of freedom at 95.45 % by default, as 'fit'
+** prints it) and the R-T table (the validity range's two ends and the multiples of a round
+** step between them).
 ** BG_ENOMEM with a message. */
 BG_API int bg_calib_report_compute(bg_calib_report *r, bg_error *err);
 

@@ -24,6 +24,10 @@ void cli_error(const char *fmt, ...) BG_PRINTF(1, 2);
 void cli_warn(const char *fmt, ...) BG_PRINTF(1, 2);
 /* Print a usage error and the hint "Try 'bandgap CMD --help'"; returns CLI_EUSAGE. */
 int cli_usage_error(const char *cmd, const char *fmt, ...) BG_PRINTF(2, 3);
+/* The usage error for the unknown option 'arg' of command 'cmd' (NULL: the program), with the
+** nearest name of 'opts' (a getopt_long table) as "did you mean" (bg_suggest); CLI_EUSAGE. */
+struct option;
+int cli_unknown_option(const char *cmd, const char *arg, const struct option *opts);
 /* Report 'err' as "bandgap: WHAT: MESSAGE" and return its code. */
 int cli_fail(const char *what, const bg_error *err);
 

@@ -13,13 +13,15 @@
 
 static const char curve_usage[] =
     "Usage: bandgap curve (--fit N | --probe SERIAL | MODEL OPTIONS) (--from T --to T --step DT\n"
-    "                     | --ohms R1,R2,...) [--unit C|K|F] [--csv | --json]\n"
+    "                     | --ohms R1,R2,...) [--coverage-k K] [--unit C|K|F] [--csv | --json]\n"
     "The R-T table of a stored fit (--fit N, or the current fit of --probe) or of a model given\n"
     "inline as for 'bandgap eval' (--model, --coef, --r25, --beta, --t0): for each temperature\n"
     "from --from to --to in steps of --step (any unit: 5C, 1K, 9F), or for each resistance of\n"
     "--ohms, the resistance or temperature, dT/dR, alpha = (1/R) dR/dT and, for a stored fit\n"
-    "with degrees of freedom, the expanded uncertainty U (k = 2) of the curve.  Rows outside\n"
-    "the calibrated range are marked EXTRAPOLATED: they are not calibrated values.\n";
+    "with degrees of freedom, the expanded uncertainty U = k u of the curve, k from Student's\n"
+    "t for the fit's degrees of freedom at 95.45 % coverage (--coverage-k K: a fixed k, e.g.\n"
+    "2, with its coverage probability stated).  Rows outside the calibrated range are marked\n"
+    "EXTRAPOLATED and have no U: they are not calibrated values.\n";
 
 struct curve_args {
     struct cli_source src;
@@ -28,16 +30,18 @@ struct curve_args {
     bg_temp_unit unit;
     const char *ohms;
     double from, to, step;
+    double coverage_k;
 };
 
 static int curve_parse(int argc, char **argv, struct curve_args *a)
 {
-    enum { O_FROM = 1, O_TO, O_STEP, O_OHMS, O_UNIT };
+    enum { O_FROM = 1, O_TO, O_STEP, O_OHMS, O_UNIT, O_COVK };
     static const struct option opts[] = {
         CLI_SOURCE_OPTIONS, CLI_OUTPUT_OPTIONS,
         { "from", required_argument, NULL, O_FROM },   { "to", required_argument, NULL, O_TO },
         { "step", required_argument, NULL, O_STEP },   { "ohms", required_argument, NULL, O_OHMS },
         { "unit", required_argument, NULL, O_UNIT },   { "help", no_argument, NULL, 'h' },
+        { "coverage-k", required_argument, NULL, O_COVK },
         { NULL, 0, NULL, 0 },
     };
     bg_error err = BG_ERROR_INIT;
@@ -65,12 +69,20 @@ static int curve_parse(int argc, char **argv, struct curve_args *a)
                 return cli_usage_error("curve", "--step: %s", err.msg);
             break;
         case O_OHMS: a->ohms = optarg; break;
+        case O_COVK: {
+            char *end;
+            a->coverage_k = strtod(optarg, &end);
+            if (end == optarg || *end || !(a->coverage_k > 0.0 && a->coverage_k < 100.0))
+                return cli_usage_error("curve", "--coverage-k: '%s': give a coverage factor "
+                                       "such as 2", optarg);
+            break;
+        }
         case O_UNIT:
             if (bg_units_parse_unit(optarg, &a->unit, &err) != BG_OK)
                 return cli_usage_error("curve", "--unit: %s", err.msg);
             break;
         case ':': return cli_usage_error("curve", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("curve", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("curve", argv[optind - 1], opts);
         }
     }
     if (optind < argc)
@@ -130,6 +142,7 @@ static int curve_compute(struct curve_args *a, struct cli_ctx *ctx, bg_curve_src
     }
     if ((rc = cli_source_resolve(&a->src, ctx, "curve", src)) != BG_OK)
         goto done;
+    src->rule.k_fixed = a->coverage_k;
     rc = r ? bg_curve_at_ohms(src, r, n, c, &err)
            : bg_curve_grid(src, a->from, a->to, a->step, c, &err);
     if (rc != BG_OK)

@@ -93,7 +93,7 @@ static int eval_parse(int argc, char **argv, struct eval_args *a, struct cli_ctx
             break;
         case O_JSON: ctx->json = 1; break;
         case ':': return cli_usage_error("eval", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("eval", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("eval", argv[optind - 1], opts);
         }
     }
     if (optind < argc)

@@ -27,6 +27,12 @@ static const char fit_usage[] =
     "  --linear         linear fit in 1/T only, no refinement in temperature\n"
     "  --no-inflate     keep the covariance from the stated uncertainties even when the\n"
     "                   residuals are larger than they allow\n"
+    "  --coverage-k K   expanded uncertainty U = K u with this coverage factor (e.g. 2),\n"
+    "                   its coverage probability stated; default: K from Student's t for\n"
+    "                   the fit's degrees of freedom at 95.45 % (JCGM 100:2008, G.3)\n"
+    "  --resolution DT  the readings' temperature resolution (e.g. 1mK): residuals are not\n"
+    "                   studentized by a scale below DT / sqrt(12) (default 1uK), so\n"
+    "                   noise-free readings raise no outlier warning\n"
     "  --unit U         unit for printed temperatures: C (default), K or F\n"
     "  --json           one JSON object\n"
     "  --probe SERIAL   fit the probe's latest run (or --run N) in the database and store\n"
@@ -44,7 +50,7 @@ static const char fit_usage[] =
     "food-safety or process-safety use follow local regulations and accredited practice.\n";
 
 enum { O_MODEL = 1, O_T0, O_PAIR, O_UTEMP, O_AT, O_LINEAR, O_NOINFL, O_UNIT, O_JSON, O_PROBE,
-       O_RUN, O_LOT, O_DRY, O_AGAIN };
+       O_RUN, O_LOT, O_DRY, O_AGAIN, O_COVK, O_RESOL };
 
 /* The options of 'fit' beyond the library's request. */
 struct fit_cli {
@@ -52,6 +58,18 @@ struct fit_cli {
     bg_temp_unit unit;
     const char *serial, *lot;
     long long run_id;
+};
+
+static const struct option fit_opts[] = {
+    { "model", required_argument, NULL, O_MODEL }, { "t0", required_argument, NULL, O_T0 },
+    { "pair", required_argument, NULL, O_PAIR },   { "u-temp", required_argument, NULL, O_UTEMP },
+    { "at", required_argument, NULL, O_AT },       { "linear", no_argument, NULL, O_LINEAR },
+    { "no-inflate", no_argument, NULL, O_NOINFL }, { "unit", required_argument, NULL, O_UNIT },
+    { "json", no_argument, NULL, O_JSON },         { "help", no_argument, NULL, 'h' },
+    { "probe", required_argument, NULL, O_PROBE }, { "run", required_argument, NULL, O_RUN },
+    { "lot", required_argument, NULL, O_LOT },     { "dry-run", no_argument, NULL, O_DRY },
+    { "store-again", no_argument, NULL, O_AGAIN }, { "coverage-k", required_argument, NULL, O_COVK },
+    { "resolution", required_argument, NULL, O_RESOL }, { NULL, 0, NULL, 0 },
 };
 
 /* Take one option; BG_OK, or the usage error's code. */
@@ -88,6 +106,20 @@ static int fit_option(struct fit_cli *fc, int c, char **argv, double *at_k, stru
     case O_AGAIN: rq->store_flags |= BG_CALIB_STORE_SAME; return BG_OK;
     case O_LINEAR: rq->linear_only = 1; return BG_OK;
     case O_NOINFL: rq->no_inflate = 1; return BG_OK;
+    case O_COVK: {
+        char *end;
+        rq->coverage_k = strtod(optarg, &end);
+        if (end == optarg || *end || !(rq->coverage_k > 0.0 && rq->coverage_k < 100.0))
+            return cli_usage_error("fit", "--coverage-k: '%s': give a coverage factor such as 2",
+                                   optarg);
+        return BG_OK;
+    }
+    case O_RESOL:
+        if (bg_units_parse_tdiff(optarg, &rq->resolution_k, &err) != BG_OK ||
+            !(rq->resolution_k > 0.0))
+            return cli_usage_error("fit", "--resolution: %s", err.msg[0] ? err.msg :
+                                   "must be above 0");
+        return BG_OK;
     case O_UNIT:
         if (bg_units_parse_unit(optarg, &fc->unit, &err) != BG_OK)
             return cli_usage_error("fit", "--unit: %s", err.msg);
@@ -100,7 +132,7 @@ static int fit_option(struct fit_cli *fc, int c, char **argv, double *at_k, stru
             return cli_usage_error("fit", "--run: '%s': not a run id", optarg);
         return BG_OK;
     case ':': return cli_usage_error("fit", "option '%s' needs a value", argv[optind - 1]);
-    default: return cli_usage_error("fit", "unknown option '%s'", argv[optind - 1]);
+    default: return cli_unknown_option("fit", argv[optind - 1], fit_opts);
     }
 }
 
@@ -160,16 +192,6 @@ static int fit_run(const struct fit_cli *fc, const char *path, struct cli_ctx *c
 
 int cmd_fit(int argc, char **argv, struct cli_ctx *ctx)
 {
-    static const struct option opts[] = {
-        { "model", required_argument, NULL, O_MODEL }, { "t0", required_argument, NULL, O_T0 },
-        { "pair", required_argument, NULL, O_PAIR },   { "u-temp", required_argument, NULL, O_UTEMP },
-        { "at", required_argument, NULL, O_AT },       { "linear", no_argument, NULL, O_LINEAR },
-        { "no-inflate", no_argument, NULL, O_NOINFL }, { "unit", required_argument, NULL, O_UNIT },
-        { "json", no_argument, NULL, O_JSON },         { "help", no_argument, NULL, 'h' },
-        { "probe", required_argument, NULL, O_PROBE }, { "run", required_argument, NULL, O_RUN },
-        { "lot", required_argument, NULL, O_LOT },     { "dry-run", no_argument, NULL, O_DRY },
-        { "store-again", no_argument, NULL, O_AGAIN }, { NULL, 0, NULL, 0 },
-    };
     struct fit_cli fc;
     double *at_k = malloc((size_t)(argc > 0 ? argc : 1) * sizeof *at_k);
     int c, rc = BG_OK;
@@ -181,7 +203,7 @@ int cmd_fit(int argc, char **argv, struct cli_ctx *ctx)
     fc.rq.check_t_k = at_k;
     fc.unit = BG_UNIT_C;
     opterr = 0;
-    while (rc == BG_OK && (c = getopt_long(argc, argv, ":h", opts, NULL)) != -1) {
+    while (rc == BG_OK && (c = getopt_long(argc, argv, ":h", fit_opts, NULL)) != -1) {
         if (c == 'h') {
             fputs(fit_usage, stdout);
             free(at_k);

@@ -110,8 +110,7 @@ int main(int argc, char **argv)
         case 'V': version(); return finish(EX_OK);
         case ':': return exit_status(cli_usage_error(NULL, "option '%s' needs a value",
                                                      argv[optind - 1]));
-        default: return exit_status(cli_usage_error(NULL, "unknown option '%s'",
-                                                    argv[optind - 1]));
+        default: return exit_status(cli_unknown_option(NULL, argv[optind - 1], opts));
         }
     }
     if (optind >= argc) {
@@ -126,5 +125,12 @@ int main(int argc, char **argv)
             return finish(exit_status(commands[i].fn(sub_argc, sub_argv, &ctx)));
         }
     }
+    const char *names[NCOMMANDS];
+    for (size_t i = 0; i < NCOMMANDS; i++)
+        names[i] = commands[i].name;
+    const char *near = bg_suggest(argv[optind], strlen(argv[optind]), names, NCOMMANDS);
+    if (near)
+        return exit_status(cli_usage_error(NULL, "unknown command '%s' (did you mean '%s'?)",
+                                           argv[optind], near));
     return exit_status(cli_usage_error(NULL, "unknown command '%s'", argv[optind]));
 }

@@ -2,6 +2,7 @@
 /* The options several commands share: the curve a command works on (--fit N, --probe SERIAL
 ** or a model given inline: --model, --coef, --r25/--r0, --beta, --t0) and the output choice
 ** (--csv or --json). */
+#include <getopt.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -167,6 +168,7 @@ bg_curve_src cli_curve_src_of_fit(const bg_fit_row *f)
         memcpy(s.cov, f->cov, f->npar * f->npar * sizeof f->cov[0]);
     s.has_range = 1;
     s.t_min_k = f->t_min_k, s.t_max_k = f->t_max_k;
+    s.dof = f->dof;
     return s;
 }
 
@@ -224,4 +226,19 @@ int cli_output_choose(const struct cli_output *o, const struct cli_ctx *ctx, int
         return cli_usage_error(cmd, "give --csv or --json, not both");
     *fmt = o->csv ? CLI_FMT_CSV : json ? CLI_FMT_JSON : CLI_FMT_TEXT;
     return BG_OK;
+}
+
+int cli_unknown_option(const char *cmd, const char *arg, const struct option *opts)
+{
+    const char *names[64], *word = arg, *near;
+    size_t n = 0, len;
+    while (*word == '-')
+        word++;
+    len = strcspn(word, "=");
+    for (; opts && opts[n].name && n < sizeof names / sizeof names[0]; n++)
+        names[n] = opts[n].name;
+    near = word != arg + 1 ? bg_suggest(word, len, names, n) : NULL; /* not for "-x" */
+    if (near)
+        return cli_usage_error(cmd, "unknown option '%s' (did you mean '--%s'?)", arg, near);
+    return cli_usage_error(cmd, "unknown option '%s'", arg);
 }

@@ -19,6 +19,15 @@ static void curve_json(const bg_curve_src *src, const struct cli_fit_used *used,
         cli_json_fit_used(&j, used);
     json_num(&j, "t_min_k", src->has_range ? src->t_min_k : NAN);
     json_num(&j, "t_max_k", src->has_range ? src->t_max_k : NAN);
+    if (src->has_cov) {
+        json_obj(&j, "coverage");
+        json_str(&j, "rule", c->cover.fixed ? "fixed k" : "Student t");
+        json_num(&j, "k", c->cover.k);
+        json_num(&j, "probability", c->cover.p);
+        json_int(&j, "nu_eff", (long long)src->dof);
+        json_obj_end(&j);
+    } else
+        json_null(&j, "coverage");
     json_arr(&j, "rows");
     for (size_t i = 0; i < c->n; i++) {
         const bg_curve_row *r = &c->rows[i];
@@ -27,7 +36,7 @@ static void curve_json(const bg_curve_src *src, const struct cli_fit_used *used,
         json_num(&j, "ohms", r->r_ohm);
         json_num(&j, "dtdr_k_per_ohm", r->dtdr_k_per_ohm);
         json_num(&j, "alpha_per_k", r->alpha_per_k);
-        json_num(&j, "U_k2_k", r->U_k);
+        json_num(&j, "U_k", r->U_k);
         json_bool(&j, "extrapolated", r->extrapolated);
         json_obj_end(&j);
     }
@@ -38,7 +47,7 @@ static void curve_json(const bg_curve_src *src, const struct cli_fit_used *used,
 
 static void curve_csv(const bg_curve *c)
 {
-    printf("t_k,ohms,dtdr_k_per_ohm,alpha_per_k,U_k2_k,extrapolated\n");
+    printf("t_k,ohms,dtdr_k_per_ohm,alpha_per_k,U_k,extrapolated\n");
     for (size_t i = 0; i < c->n; i++) {
         const bg_curve_row *r = &c->rows[i];
         printf("%.17g,%.17g,%.17g,%.17g,", r->t_k, r->r_ohm, r->dtdr_k_per_ohm, r->alpha_per_k);
@@ -60,13 +69,23 @@ static void curve_text(const bg_curve_src *src, const struct cli_fit_used *used,
                used->started_at, src->t_min_k - BG_ZERO_C_K, src->t_max_k - BG_ZERO_C_K);
     else
         printf("model %s, given inline (its calibrated range is not known)\n", name);
+    if (src->has_cov && c->cover.fixed)
+        printf("U = k u with k = %.2f as asked (coverage probability about %.1f %%, Student t "
+               "for %zu degrees of freedom); no U where extrapolated\n", c->cover.k,
+               100.0 * c->cover.p, src->dof);
+    else if (src->has_cov)
+        printf("U = k u with k = %.2f from Student's t for %zu degrees of freedom (coverage "
+               "probability %.2f %%); no U where extrapolated\n", c->cover.k, src->dof,
+               100.0 * c->cover.p);
     printf("%12s %14s %14s %10s %11s\n", us, "R/ohm", "dT/dR K/ohm", "alpha %/K",
-           src->has_cov ? "U(k=2)/mK" : "");
+           src->has_cov ? "U/mK" : "");
     for (size_t i = 0; i < c->n; i++) {
         const bg_curve_row *r = &c->rows[i];
         char rb[32], ub[32] = "";
         if (isfinite(r->U_k))
             snprintf(ub, sizeof ub, "%.4f", 1e3 * r->U_k);
+        else if (src->has_cov)
+            snprintf(ub, sizeof ub, "-");
         printf("%12.3f %14s %14.6g %10.4f %11s%s\n", bg_units_from_k(r->t_k, unit),
                bg_units_format_ohms(r->r_ohm, 7, rb, sizeof rb), r->dtdr_k_per_ohm,
                100.0 * r->alpha_per_k, ub, r->extrapolated ? "  EXTRAPOLATED" : "");

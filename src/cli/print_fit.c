@@ -9,7 +9,7 @@
 
 void print_fit_warnings(const bg_calib_result *r, bg_temp_unit unit)
 {
-    char b1[64];
+    char b1[64], b2[64];
     for (size_t i = 0; i < r->fit.nnotes; i++)
         cli_warn("%s", r->fit.notes[i].msg);
     for (size_t i = 0; i < r->nchecks; i++) {
@@ -21,6 +21,24 @@ void print_fit_warnings(const bg_calib_result *r, bg_temp_unit unit)
             cli_warn("--at %s: outside the calibrated range: extrapolated, not calibrated",
                      bg_units_format_temp(c->t_k, unit, 3, b1, sizeof b1));
     }
+    if (r->b_pair_extrapolated && isfinite(r->b_pair_k))
+        cli_warn("B(%s / %s): the pair lies outside the calibrated range: B is extrapolated",
+                 bg_units_format_temp(r->pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1),
+                 bg_units_format_temp(r->pair_t2_k, BG_UNIT_C, 2, b2, sizeof b2));
+}
+
+/* How the fitted model was picked: "as asked" or by the auto policy. */
+static const char *fitted_how(const bg_calib_result *r)
+{
+    return r->auto_chosen ? "chosen by the auto policy" : "as asked";
+}
+
+/* The model the comparison recommends, or NULL when there was none. */
+static const char *recommended(const bg_calib_result *r, char *buf, size_t size)
+{
+    if (!r->compared || r->cmp.chosen < 0)
+        return NULL;
+    return bg_model_name(&r->cmp.row[r->cmp.chosen].model, buf, size);
 }
 
 /* ---- JSON ---- */
@@ -33,6 +51,11 @@ static void json_fit(json_out *j, const bg_calib_result *r)
 
     json_str(j, "model", bg_model_name(&f->model, name, sizeof name));
     json_str(j, "requested_model", r->requested);
+    json_str(j, "fitted", fitted_how(r));
+    if (recommended(r, name, sizeof name))
+        json_str(j, "recommended_model", name);
+    else
+        json_null(j, "recommended_model");
     json_arr(j, "coefficient_names");
     for (size_t i = 0; i < f->npar; i++)
         json_str(j, NULL, bg_model_coef_name(&f->model, i));
@@ -84,15 +107,21 @@ static void json_curve(json_out *j, const bg_calib_result *r)
     json_num(j, "t_min_c", bg_units_from_k(f->t_min_k, BG_UNIT_C));
     json_num(j, "t_max_c", bg_units_from_k(f->t_max_k, BG_UNIT_C));
     json_obj_end(j);
+    json_obj(j, "coverage");
+    json_str(j, "rule", r->cover.fixed ? "fixed k" : "Student t");
+    json_num(j, "k", r->cover.k);
+    json_num(j, "probability", r->cover.p);
+    json_num(j, "nu_eff", r->cover.nu_eff);
+    json_obj_end(j);
     json_num(j, "coverage_probability", r->coverage);
     json_num(j, "k_student", r->k_student);
+    json_num(j, "U_max_k", r->U_max_k);
     json_arr(j, "uncertainty");
     for (size_t i = 0; i < r->ntable; i++) {
         json_obj(j, NULL);
         json_num(j, "t_k", r->table_t_k[i]);
         json_num(j, "u_k", r->table_u_k[i]);
-        json_num(j, "U_k2", 2.0 * r->table_u_k[i]);
-        json_num(j, "U_student", r->k_student * r->table_u_k[i]);
+        json_num(j, "U_k", r->table_U_k[i]);
         json_obj_end(j);
     }
     json_arr_end(j);
@@ -100,6 +129,7 @@ static void json_curve(json_out *j, const bg_calib_result *r)
     json_num(j, "t1_k", r->pair_t1_k);
     json_num(j, "t2_k", r->pair_t2_k);
     json_num(j, "b_k", r->b_pair_k);
+    json_bool(j, "extrapolated", r->b_pair_extrapolated);
     json_obj_end(j);
     if (r->nchecks) {
         json_arr(j, "at");
@@ -108,6 +138,7 @@ static void json_curve(json_out *j, const bg_calib_result *r)
             json_num(j, "t_k", r->checks[i].t_k);
             json_num(j, "ohms", r->checks[i].r_ohm);
             json_num(j, "u_k", r->checks[i].u_k);
+            json_num(j, "U_k", r->checks[i].U_k);
             json_bool(j, "extrapolated", r->checks[i].extrapolated);
             json_obj_end(j);
         }
@@ -142,7 +173,8 @@ static void json_comparison(json_out *j, const bg_calib_result *r)
         json_obj_end(j);
     }
     json_arr_end(j);
-    json_str(j, "chosen", bg_model_name(&r->cmp.row[r->cmp.chosen].model, name, sizeof name));
+    json_str(j, "recommended", bg_model_name(&r->cmp.row[r->cmp.chosen].model, name,
+                                             sizeof name));
     json_str(j, "reason", r->cmp.reason);
     json_obj_end(j);
 }
@@ -198,8 +230,9 @@ static void text_fit(const bg_calib_result *r, bg_temp_unit un)
     printf("readings: %s, %zu points, %s .. %s\n", r->source, f->n,
            bg_units_format_temp(f->t_min_k, un, 3, b1, sizeof b1),
            bg_units_format_temp(f->t_max_k, un, 3, b2, sizeof b2));
-    printf("model: %s   %s,  L = ln(R / 1 ohm), T in K\n",
-           bg_model_name(&f->model, name, sizeof name), bg_model_formula(&f->model));
+    printf("fitted: %s (%s)   %s,  L = ln(R / 1 ohm), T in K\n",
+           bg_model_name(&f->model, name, sizeof name), fitted_how(r),
+           bg_model_formula(&f->model));
     if (bg_model_flags(&f->model) & BG_MODEL_HAS_T0)
         printf("  T0 = %s\n", bg_units_format_temp(f->model.t0_k, un, 3, b1, sizeof b1));
     for (size_t i = 0; i < f->npar; i++) {
@@ -238,16 +271,19 @@ static void text_curve(const bg_calib_result *r, bg_temp_unit un)
     if (isfinite(r->b_pair_k)) {
         bg_units_format_temp(r->pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1);
         bg_units_format_temp(r->pair_t2_k, BG_UNIT_C, 2, b2, sizeof b2);
-        printf("B(%s / %s) = %.2f K\n", b1, b2, r->b_pair_k);
+        printf("B(%s / %s) = %.2f K%s\n", b1, b2, r->b_pair_k, r->b_pair_extrapolated ?
+               "   EXTRAPOLATED: the pair lies outside the calibrated range" : "");
     }
     if (f->dof > 0) {
-        printf("\ncurve uncertainty (coverage %.2f %%: k = 2, Student-t k = %.2f for %zu dof):\n",
-               100.0 * r->coverage, r->k_student, f->dof);
-        printf("  %12s  %10s  %12s  %12s\n", t_heading(un), "u/mK", "U(k=2)/mK", "U(t)/mK");
+        printf("\ncurve uncertainty, U = k u with k = %.2f%s (coverage probability %s%.2f %%):\n",
+               r->cover.k, r->cover.fixed ? " as asked" : "", r->cover.fixed ? "about " : "",
+               100.0 * r->cover.p);
+        printf("  %s Student's t for %zu effective degrees of freedom (JCGM 100:2008, G.3)\n",
+               r->cover.fixed ? "the probability from" : "k from", f->dof);
+        printf("  %12s  %10s  %10s\n", t_heading(un), "u/mK", "U/mK");
         for (size_t i = 0; i < r->ntable; i++)
-            printf("  %12.3f  %10.4f  %12.4f  %12.4f\n", bg_units_from_k(r->table_t_k[i], un),
-                   1e3 * r->table_u_k[i], 2e3 * r->table_u_k[i],
-                   1e3 * r->k_student * r->table_u_k[i]);
+            printf("  %12.3f  %10.4f  %10.4f\n", bg_units_from_k(r->table_t_k[i], un),
+                   1e3 * r->table_u_k[i], 1e3 * r->table_U_k[i]);
     } else
         printf("\ncurve uncertainty: n/a (no degrees of freedom left)\n");
     for (size_t i = 0; i < r->nchecks; i++) {
@@ -255,18 +291,22 @@ static void text_curve(const bg_calib_result *r, bg_temp_unit un)
         char b3[32] = "n/a";
         if (!c->ok)
             continue;
-        if (isfinite(c->u_k))
-            snprintf(b3, sizeof b3, "%.4f mK", 2e3 * c->u_k);
-        printf("at %s: R = %s ohm, U(k=2) = %s%s\n",
-               bg_units_format_temp(c->t_k, un, 3, b1, sizeof b1),
-               bg_units_format_ohms(c->r_ohm, 7, b2, sizeof b2), b3,
-               c->extrapolated ? "   EXTRAPOLATED: outside the calibrated range" : "");
+        if (isfinite(c->U_k))
+            snprintf(b3, sizeof b3, "%.4f mK", 1e3 * c->U_k);
+        if (c->extrapolated)
+            printf("at %s: R = %s ohm, U: none   EXTRAPOLATED: outside the calibrated range\n",
+                   bg_units_format_temp(c->t_k, un, 3, b1, sizeof b1),
+                   bg_units_format_ohms(c->r_ohm, 7, b2, sizeof b2));
+        else
+            printf("at %s: R = %s ohm, U = %s\n",
+                   bg_units_format_temp(c->t_k, un, 3, b1, sizeof b1),
+                   bg_units_format_ohms(c->r_ohm, 7, b2, sizeof b2), b3);
     }
 }
 
 static void text_comparison(const bg_calib_result *r)
 {
-    char name[16];
+    char name[16], fitted[16];
 
     printf("\nmodel comparison:\n");
     if (!r->compared) {
@@ -275,17 +315,21 @@ static void text_comparison(const bg_calib_result *r)
     }
     printf("  %-7s %4s  %10s  %10s  %10s  %10s  %10s\n", "model", "npar", "RMS/mK", "max/mK",
            "LOO/mK", "AIC", "BIC");
+    bg_model_name(&r->fit.model, fitted, sizeof fitted);
     for (size_t i = 0; i < r->cmp.nrows; i++) {
         const bg_cmp_row *row = &r->cmp.row[i];
         bg_model_name(&row->model, name, sizeof name);
         if (row->ok)
-            printf("  %-7s %4zu  %10.4f  %10.4f  %10.4f  %10.2f  %10.2f%s\n", name, row->npar,
-                   row->rms_mk, row->max_abs_mk, row->loo_rms_mk, row->aic, row->bic,
-                   (int)i == r->cmp.chosen ? "  <- chosen" : "");
+            printf("  %-7s %4zu  %10.4f  %10.4f  %10.4f  %10.2f  %10.2f%s%s\n", name,
+                   row->npar, row->rms_mk, row->max_abs_mk, row->loo_rms_mk, row->aic, row->bic,
+                   (int)i == r->cmp.chosen ? "  <- recommended" : "",
+                   strcmp(name, fitted) == 0 ? "  <- fitted" : "");
         else
             printf("  %-7s %4zu  not compared: %s\n", name, row->npar, row->why);
     }
-    printf("  choice: %s\n", r->cmp.reason);
+    printf("  recommended: %s: %s\n", recommended(r, name, sizeof name), r->cmp.reason);
+    if (strcmp(name, fitted) != 0)
+        printf("  fitted: %s (as asked), not the recommended model\n", fitted);
 }
 
 static void print_fit_text(const bg_calib_result *r, bg_temp_unit un)
@@ -370,9 +414,12 @@ static void lot_json(const bg_calib_lot *lot)
         json_int(&j, "n", (long long)row->n);
         json_num(&j, "rms_mk", row->rms_mk);
         json_num(&j, "max_abs_mk", row->max_abs_mk);
-        json_num(&j, "max_U_k2_mk", 2e3 * row->u_max_k);
+        json_num(&j, "max_U_mk", 1e3 * row->U_max_k);
+        json_num(&j, "k", row->cover.k);
+        json_num(&j, "coverage_probability", row->cover.p);
         json_num(&j, "r25_ohm", row->r25_ohm);
         json_num(&j, "b_k", row->b_k);
+        json_bool(&j, "b_extrapolated", row->b_extrapolated);
         json_obj_end(&j);
     }
     json_arr_end(&j);
@@ -386,19 +433,30 @@ static void lot_text(const bg_calib_lot *lot)
 {
     char name[16], rb[32], b1[64], b2[64];
 
-    printf("%-20s %6s %6s %-7s %4s %10s %10s %11s %12s %10s\n", "probe", "run", "fit", "model",
-           "n", "RMS/mK", "max/mK", "U(k=2)/mK", "R25/ohm", "B/K");
+    int extra = 0;
+    printf("%-20s %6s %6s %-7s %4s %10s %10s %8s %5s %12s %10s\n", "probe", "run", "fit",
+           "model", "n", "RMS/mK", "max/mK", "U/mK", "k", "R25/ohm", "B/K");
     for (size_t i = 0; i < lot->nrows; i++) {
         const bg_calib_lot_row *row = &lot->rows[i];
         if (row->status != BG_CALIB_FITTED) {
             printf("%-20s   no calibration runs: not fitted\n", row->serial);
             continue;
         }
-        printf("%-20s %6lld %6lld %-7s %4zu %10.4f %10.4f %11.4f %12s %10.2f\n", row->serial,
-               row->run_id, row->fit_id, bg_model_name(&row->model, name, sizeof name), row->n,
-               row->rms_mk, row->max_abs_mk, 2e3 * row->u_max_k,
-               bg_units_format_ohms(row->r25_ohm, 7, rb, sizeof rb), row->b_k);
+        printf("%-20s %6lld %6lld %-7s %4zu %10.4f %10.4f %8.4f %5.2f %12s %10.2f%s\n",
+               row->serial, row->run_id, row->fit_id,
+               bg_model_name(&row->model, name, sizeof name), row->n, row->rms_mk,
+               row->max_abs_mk, 1e3 * row->U_max_k, row->cover.k,
+               bg_units_format_ohms(row->r25_ohm, 7, rb, sizeof rb), row->b_k,
+               row->b_extrapolated ? " *" : "");
+        extra |= row->b_extrapolated;
     }
+    if (extra)
+        printf("* B extrapolated: the lot's pair lies outside the probe's calibrated range\n");
+    if (lot->rule.k_fixed > 0.0)
+        printf("U = k u at the largest u, k = %.2f as asked\n", lot->rule.k_fixed);
+    else
+        printf("U = k u at the largest u, k from Student's t for each fit's degrees of freedom "
+               "(coverage probability %.2f %%)\n", 100.0 * lot->rule.p);
     printf("lot %s: %zu probes fitted, %zu without runs; B for %s / %s\n", lot->lot.code,
            lot->nfitted, lot->nnoruns,
            bg_units_format_temp(lot->lot.pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1),

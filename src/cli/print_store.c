@@ -313,12 +313,14 @@ static void fit_json(const bg_fit_row *f, const long long *ids, size_t nids, con
     json_num(&j, "t_min_k", f->t_min_k);
     json_num(&j, "t_max_k", f->t_max_k);
     json_obj_end(&j);
+    json_num(&j, "k", u->cover.k);
+    json_num(&j, "coverage_probability", u->cover.p);
     json_arr(&j, "uncertainty");
     for (size_t i = 0; i < u->n; i++) {
         json_obj(&j, NULL);
         json_num(&j, "t_k", u->rows[i].t_k);
         json_num(&j, "u_k", u->rows[i].u_k);
-        json_num(&j, "U_k2", u->rows[i].U_k);
+        json_num(&j, "U_k", u->rows[i].U_k);
         json_obj_end(&j);
     }
     json_arr_end(&j);
@@ -354,7 +356,9 @@ static void fit_text(const bg_fit_row *f, const long long *ids, size_t nids, con
     printf("calibrated range %.3f .. %.3f degC\n", f->t_min_k - BG_ZERO_C_K,
            f->t_max_k - BG_ZERO_C_K);
     if (f->has_cov) {
-        printf("  %12s %12s\n", "T/degC", "U(k=2)/mK");
+        printf("  U = k u, k = %.2f from Student's t for %zu degrees of freedom (coverage "
+               "probability %.2f %%)\n", u->cover.k, f->dof, 100.0 * u->cover.p);
+        printf("  %12s %12s\n", "T/degC", "U/mK");
         for (size_t i = 0; i < u->n; i++)
             printf("  %12.3f %12.4f\n", u->rows[i].t_k - BG_ZERO_C_K, 1e3 * u->rows[i].U_k);
     }

@@ -8,6 +8,7 @@
 #include <sys/stat.h>
 
 #include "bandgap/csv.h"
+#include "bandgap/suggest.h"
 #include "num_int.h"
 
 enum col { C_TEMP_C, C_TEMP_K, C_TEMP_F, C_REF_OHMS, C_OHMS, C_U_T, C_U_R, C_TIME, C_NOTE,
@@ -164,6 +165,23 @@ static int field_is(const field *f, const char *name)
     return 1;
 }
 
+/* 1 when the bytes after a number look like a unit written into the value ("25 C",
+** "10 kohm", "298.15K", "25 \xc2\xb0C"): letters, a degree or ohm sign, spaces. */
+static int unit_after(const char *s, size_t len)
+{
+    size_t k = 0, nlet = 0;
+    while (k < len && s[k] == ' ')
+        k++;
+    for (; k < len; k++) {
+        unsigned char c = (unsigned char)s[k];
+        if ((c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || c >= 0x80)
+            nlet++;
+        else if (c != ' ')
+            return 0;
+    }
+    return nlet > 0 && nlet <= 8;
+}
+
 /* Parse a number field that must be used whole. */
 static int number(parser *ps, const field *f, const char *col, double *v)
 {
@@ -174,6 +192,12 @@ static int number(parser *ps, const field *f, const char *col, double *v)
     n = bgi_num_scan(f->s, f->len, '.', v);
     if (n != f->len && ps->delim != ',')
         n = bgi_num_scan(f->s, f->len, ',', v);
+    if (n > 0 && n < f->len && unit_after(f->s + n, f->len - n))
+        return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field '%s': '%.*s': a unit in the "
+                            "value; write the number alone, the unit belongs in the column "
+                            "name (temp_c, temp_k or temp_f for temperatures in degC, K or "
+                            "degF; ohms, u_ohms in ohm; u_temp_k in K)", ps->name, ps->line,
+                            col, (int)(f->len > 40 ? 40 : f->len), f->s);
     if (n != f->len)
         return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field '%s': not a number: '%.*s'",
                             ps->name, ps->line, col, (int)(f->len > 40 ? 40 : f->len), f->s);
@@ -190,10 +214,15 @@ static int parse_header(parser *ps, const field *f, int nf, int *map, int *where
         for (c = 0; c < C_COUNT; c++)
             if (field_is(&f[i], col_names[c]))
                 break;
-        if (c == C_COUNT)
-            return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: unknown column '%.*s' (known "
+        if (c == C_COUNT) {
+            const char *near = bg_suggest(f[i].s, f[i].len, col_names, C_COUNT);
+            char hint[48] = "";
+            if (near)
+                snprintf(hint, sizeof hint, "did you mean '%s'? ", near);
+            return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: unknown column '%.*s' (%sknown "
                                 "columns: " KNOWN_COLUMNS ")", ps->name, ps->line,
-                                (int)(f[i].len > 40 ? 40 : f[i].len), f[i].s);
+                                (int)(f[i].len > 40 ? 40 : f[i].len), f[i].s, hint);
+        }
         if (where_col[c] >= 0)
             return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: column '%s' appears twice",
                                 ps->name, ps->line, col_names[c]);

@@ -10,6 +10,9 @@
 #include "bandgap/calib.h"
 #include "bandgap/csv.h"
 
+/* Tolerance, in kelvin, of the calibrated-range test (as bg_curve's). */
+#define RANGE_TOL_K 1e-9
+
 bg_calib_request bg_calib_default_request(void)
 {
     bg_calib_request rq;
@@ -18,6 +21,7 @@ bg_calib_request bg_calib_default_request(void)
     rq.t0_k = BG_T0_DEFAULT_K;
     rq.pair_t1_k = 298.15, rq.pair_t2_k = 358.15; /* B25/85 */
     rq.coverage = 0.9545;
+    rq.resolution_k = bg_fit_default_opts(NULL).resolution_k;
     rq.ntable = 9;
     return rq;
 }
@@ -37,6 +41,7 @@ void bg_calib_result_release(bg_calib_result *r)
     free(r->pts);
     free(r->table_t_k);
     free(r->table_u_k);
+    free(r->table_U_k);
     free(r->checks);
     bg_calib_result_init(r);
 }
@@ -82,6 +87,9 @@ static int request_opts(const bg_calib_request *rq, bg_fit_opts *o, int *is_auto
         return bg_error_set(err, BG_EINVAL, "default u(T) must be 0 (none) or above");
     if (!(rq->coverage > 0.0 && rq->coverage < 1.0))
         return bg_error_set(err, BG_EINVAL, "coverage probability must lie between 0 and 1");
+    if (!(rq->coverage_k >= 0.0 && isfinite(rq->coverage_k)))
+        return bg_error_set(err, BG_EINVAL, "coverage factor must be above 0 (or 0: Student's "
+                            "t)");
     if (rq->ntable < 2)
         return bg_error_set(err, BG_EINVAL, "the u(T) table needs at least 2 points, got %zu",
                             rq->ntable);
@@ -94,7 +102,57 @@ static int request_opts(const bg_calib_request *rq, bg_fit_opts *o, int *is_auto
     o->refine = !rq->linear_only;
     o->inflate = !rq->no_inflate;
     o->coverage = rq->coverage;
+    if (!(rq->resolution_k > 0.0 && isfinite(rq->resolution_k)))
+        return bg_error_set(err, BG_EINVAL, "the readings' resolution must be above 0 K");
+    o->resolution_k = rq->resolution_k;
     return BG_OK;
+}
+
+/* The kind of model with the most coefficients that 'n' readings fit with a degree of freedom
+** left (or, failing that, with none), below 'below' coefficients: its name into 'buf' and its
+** number of coefficients, or 0 when none fits. */
+static size_t fewer_coefficients(size_t n, size_t below, char *buf, size_t size)
+{
+    size_t best = 0;
+    for (int exact = 0; exact < 2 && best == 0; exact++)
+        for (size_t i = 0; i < bg_model_type_count(); i++) {
+            bg_model m;
+            const char *name = bg_model_type_name(bg_model_type_at(i));
+            if (bg_model_parse(name, &m, NULL) != BG_OK) /* a kind that needs a degree */
+                continue;
+            size_t np = bg_model_npar(&m);
+            if (np < below && (exact ? np == n : np < n) && np > best) {
+                best = np;
+                snprintf(buf, size, "%s", name);
+            }
+        }
+    return best;
+}
+
+/* Too few readings for the request: the file named, and a model with fewer coefficients. */
+static int too_few(size_t n, const char *source, int is_auto, const bg_fit_opts *o,
+                   bg_error *err)
+{
+    char name[16], alt[64], hint[200] = "";
+    size_t npar = bg_model_npar(&o->model), need = is_auto ? 4 : npar;
+    size_t np = fewer_coefficients(n, is_auto ? SIZE_MAX : npar, alt, sizeof alt);
+
+    if (n == 0)
+        return bg_error_set(err, BG_EINVAL, "%s: no readings (a header only?)", source);
+    if (n >= need)
+        return BG_OK;
+    if (np)
+        snprintf(hint, sizeof hint, ": model '%s' (%zu coefficients) fits %zu readings with "
+                 "%zu degree%s of freedom left", alt, np, n, n - np, n - np == 1 ? "" : "s");
+    if (is_auto)
+        return bg_error_set(err, BG_EINVAL, "%s: %zu reading%s: too few for 'auto', which "
+                            "compares models from %zu readings on: give more readings, or name "
+                            "a model with fewer coefficients%s", source, n, n == 1 ? "" : "s",
+                            need, hint);
+    return bg_error_set(err, BG_EINVAL, "%s: %zu reading%s, but model '%s' has %zu "
+                        "coefficients: give more readings, or a model with fewer "
+                        "coefficients%s", source, n, n == 1 ? "" : "s",
+                        bg_model_name(&o->model, name, sizeof name), npar, hint);
 }
 
 /* Compare the models (always for "auto", else when 'compare'), then fit the requested or the
@@ -126,14 +184,28 @@ static int fit_model(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_
     return bg_fitter_run(fr, pts, n, &o, &out->fit, err);
 }
 
-/* R25, B for the pair and the largest u(T) at the readings: what a lot's table shows. */
-static void derive_brief(bg_calib_result *out, const bg_point *pts, size_t n, double t1_k,
-                         double t2_k)
+/* The request's coverage rule. */
+static bg_coverage_rule request_rule(const bg_calib_request *rq)
+{
+    bg_coverage_rule rule = { rq->coverage, rq->coverage_k };
+    return rule;
+}
+
+/* R25, B for the pair (and whether the pair is outside the range), the coverage factor and the
+** largest u(T) and U(T) at the readings: what a lot's table shows. */
+static void derive_brief(bg_calib_result *out, const bg_point *pts, size_t n,
+                         const bg_calib_request *rq, double t1_k, double t2_k)
 {
     const bg_fit *f = &out->fit;
+    bg_coverage_rule rule = request_rule(rq);
     double umax = 0.0;
 
+    /* a fit alone has one component with degrees of freedom: nu_eff = n - p (G.4.1) */
+    if (bg_coverage_eval(&rule, (double)f->dof, &out->cover, NULL) != BG_OK)
+        out->cover.k = out->cover.p = NAN;
     out->pair_t1_k = t1_k, out->pair_t2_k = t2_k;
+    out->b_pair_extrapolated = fmin(t1_k, t2_k) < f->t_min_k - RANGE_TOL_K ||
+                               fmax(t1_k, t2_k) > f->t_max_k + RANGE_TOL_K;
     if (bg_model_b_pair(&f->model, t1_k, t2_k, &out->b_pair_k, NULL) != BG_OK)
         out->b_pair_k = NAN;
     if (bg_model_r_from_t(&f->model, BG_T0_DEFAULT_K, &out->r25_ohm, NULL) != BG_OK)
@@ -146,6 +218,7 @@ static void derive_brief(bg_calib_result *out, const bg_point *pts, size_t n, do
             umax = u;
     }
     out->u_max_k = f->dof ? umax : NAN;
+    out->U_max_k = out->cover.k * out->u_max_k;
 }
 
 /* '*p' grown to 'n' elements of 'size' bytes (at least one); NULL, with '*p' kept, when out of
@@ -170,11 +243,12 @@ static int derive_full(bg_calib_result *out, const bg_calib_request *rq, bg_erro
 {
     const bg_fit *f = &out->fit;
 
-    derive_brief(out, out->pts, out->npts, rq->pair_t1_k, rq->pair_t2_k);
-    out->coverage = rq->coverage;
+    derive_brief(out, out->pts, out->npts, rq, rq->pair_t1_k, rq->pair_t2_k);
+    out->coverage = out->cover.p;
     out->k_student = bg_fit_coverage_k(f, rq->coverage);
     GROW(out->table_t_k, rq->ntable, err);
     GROW(out->table_u_k, rq->ntable, err);
+    GROW(out->table_U_k, rq->ntable, err);
     GROW(out->checks, rq->ncheck, err);
     out->ntable = rq->ntable;
     for (size_t i = 0; i < out->ntable; i++) {
@@ -182,6 +256,7 @@ static int derive_full(bg_calib_result *out, const bg_calib_request *rq, bg_erro
                                              (double)(out->ntable - 1);
         if (bg_fit_u_t(f, out->table_t_k[i], &out->table_u_k[i], NULL, NULL) != BG_OK)
             out->table_u_k[i] = NAN;
+        out->table_U_k[i] = out->cover.k * out->table_u_k[i];
     }
     out->nchecks = rq->ncheck;
     for (size_t i = 0; i < rq->ncheck; i++) {
@@ -195,6 +270,8 @@ static int derive_full(bg_calib_result *out, const bg_calib_request *rq, bg_erro
             c->r_ohm = c->u_k = NAN;
             memcpy(c->why, e2.msg, sizeof c->why - 1);
         }
+        /* outside the range the covariance says nothing about the curve's error */
+        c->U_k = c->ok && !c->extrapolated ? out->cover.k * c->u_k : NAN;
     }
     return BG_OK;
 }
@@ -237,6 +314,10 @@ int bg_calibrate(const bg_point *pts, size_t n, const char *source, const bg_cal
     if (!(fr = bg_fitter_new()))
         return bg_error_set(err, BG_ENOMEM, "out of memory");
     o.source = out->source;
+    if ((rc = too_few(n, out->source, is_auto, &o, err)) != BG_OK) {
+        bg_fitter_free(fr);
+        return rc;
+    }
     rc = fit_model(fr, out->pts, n, &o, is_auto, 1, out, err);
     bg_fitter_free(fr);
     if (rc == BG_OK)
@@ -446,12 +527,14 @@ static int lot_probe(const char *serial, long long probe_id, long long run_id,
         (lp->rc = bg_store_fit_queue(lp->st, run_id, &lp->one.fit, sp->ids, &row->fit_id,
                                      lp->err)) != BG_OK)
         return 1;
-    derive_brief(&lp->one, sp->pts, sp->n, out->lot.pair_t1_k, out->lot.pair_t2_k);
+    derive_brief(&lp->one, sp->pts, sp->n, lp->rq, out->lot.pair_t1_k, out->lot.pair_t2_k);
     row->model = lp->one.fit.model;
     row->npar = lp->one.fit.npar, row->n = lp->one.fit.n;
     row->rms_mk = lp->one.fit.rms_mk, row->max_abs_mk = lp->one.fit.max_abs_mk;
     row->u_max_k = lp->one.u_max_k;
+    row->cover = lp->one.cover, row->U_max_k = lp->one.U_max_k;
     row->r25_ohm = lp->one.r25_ohm, row->b_k = lp->one.b_pair_k;
+    row->b_extrapolated = lp->one.b_pair_extrapolated;
     out->nfitted++;
     return 0;
 }
@@ -477,6 +560,7 @@ int bg_calibrate_lot(bg_store *st, const char *lot_code, const bg_calib_request 
     bg_calib_lot_release(out);
     memset(&lp, 0, sizeof lp);
     lp.st = st, lp.rq = rq, lp.out = out, lp.err = err;
+    out->rule = request_rule(rq);
     bg_calib_result_init(&lp.one);
     if ((rc = request_opts(rq, &lp.o, &lp.is_auto, err)) != BG_OK)
         return rc;

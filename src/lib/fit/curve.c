@@ -1,7 +1,8 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* The R-T curve of a model as a table of rows, each from the model functions of model.h:
 ** u(T) = T^2 sqrt(g^T cov g) with g the gradient of 1/T in the coefficients (GUM, JCGM
-** 100:2008, 5.1.2, law of propagation of uncertainty), U = k u with k = 2. */
+** 100:2008, 5.1.2, law of propagation of uncertainty), U = k u with k from the source's coverage
+** rule for its degrees of freedom (bg_coverage_eval); no U outside the calibrated range. */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -18,6 +19,7 @@ bg_curve_src bg_curve_src_of_model(const bg_model *m)
     memset(&s, 0, sizeof s);
     s.model = *m;
     s.t_min_k = -INFINITY, s.t_max_k = INFINITY;
+    s.rule = bg_coverage_default();
     return s;
 }
 
@@ -26,6 +28,9 @@ void bg_curve_init(bg_curve *c)
     c->rows = NULL;
     c->n = 0;
     c->b_pair_k = NAN;
+    c->b_pair_extrapolated = 0;
+    memset(&c->cover, 0, sizeof c->cover);
+    c->cover.k = c->cover.p = NAN;
 }
 
 void bg_curve_release(bg_curve *c)
@@ -36,10 +41,15 @@ void bg_curve_release(bg_curve *c)
     bg_curve_init(c);
 }
 
-/* Empty '*out' and give it room for 'n' rows. */
-static int curve_alloc(bg_curve *out, size_t n, bg_error *err)
+/* Empty '*out', give it room for 'n' rows and work out the coverage factor of 'src'. */
+static int curve_alloc(const bg_curve_src *src, bg_curve *out, size_t n, bg_error *err)
 {
     bg_curve_release(out);
+    if (bg_coverage_eval(&src->rule, src->dof ? (double)src->dof : 0.0, &out->cover, err) !=
+        BG_OK)
+        return BG_EINVAL;
+    if (src->dof == 0 && src->rule.k_fixed > 0.0)
+        out->cover.k = src->rule.k_fixed; /* its probability is not known without a dof */
     out->rows = calloc(n ? n : 1, sizeof *out->rows);
     if (!out->rows)
         return bg_error_set(err, BG_ENOMEM, "out of memory for a curve of %zu rows", n);
@@ -48,8 +58,8 @@ static int curve_alloc(bg_curve *out, size_t n, bg_error *err)
 
 /* Fill 'row' from 'q': both ends of the curve, the slope, alpha, the local beta, and the
 ** uncertainty (NaN where it cannot be evaluated, as the row is still a value of the model). */
-static int row_eval(const bg_curve_src *src, const bg_curve_query *q, bg_curve_row *row,
-                    bg_error *err)
+static int row_eval(const bg_curve_src *src, double k, const bg_curve_query *q,
+                    bg_curve_row *row, bg_error *err)
 {
     const bg_model *m = &src->model;
     int rc;
@@ -73,9 +83,9 @@ static int row_eval(const bg_curve_src *src, const bg_curve_query *q, bg_curve_r
         return rc;
     if (src->has_cov && bg_model_u_t(m, src->cov, row->t_k, &row->u_k, NULL) != BG_OK)
         row->u_k = NAN;
-    row->U_k = BG_CURVE_K * row->u_k;
     row->extrapolated = src->has_range && (row->t_k < src->t_min_k - RANGE_TOL_K ||
                                            row->t_k > src->t_max_k + RANGE_TOL_K);
+    row->U_k = row->extrapolated ? NAN : k * row->u_k;
     row->ok = 1;
     return BG_OK;
 }
@@ -87,16 +97,20 @@ static void b_pair(const bg_curve_src *src, bg_curve *out)
         bg_model_b_pair(&src->model, src->b_pair_t1_k, src->b_pair_t2_k, &out->b_pair_k,
                         NULL) != BG_OK)
         out->b_pair_k = NAN;
+    out->b_pair_extrapolated =
+        src->has_range && isfinite(out->b_pair_k) &&
+        (fmin(src->b_pair_t1_k, src->b_pair_t2_k) < src->t_min_k - RANGE_TOL_K ||
+         fmax(src->b_pair_t1_k, src->b_pair_t2_k) > src->t_max_k + RANGE_TOL_K);
 }
 
 int bg_curve_eval(const bg_curve_src *src, const bg_curve_query *q, size_t n, bg_curve *out,
                   bg_error *err)
 {
-    int rc = curve_alloc(out, n, err);
+    int rc = curve_alloc(src, out, n, err);
     if (rc != BG_OK)
         return rc;
     for (size_t i = 0; i < n; i++) {
-        if ((rc = row_eval(src, &q[i], &out->rows[i], err)) != BG_OK) {
+        if ((rc = row_eval(src, out->cover.k, &q[i], &out->rows[i], err)) != BG_OK) {
             bg_curve_release(out);
             return rc;
         }
@@ -156,13 +170,13 @@ int bg_curve_span(const bg_curve_src *src, size_t npoints, bg_curve *out, bg_err
     if (npoints < 2)
         return bg_error_set(err, BG_EINVAL, "a span needs at least 2 points, got %zu",
                             npoints);
-    if ((rc = curve_alloc(out, npoints, err)) != BG_OK)
+    if ((rc = curve_alloc(src, out, npoints, err)) != BG_OK)
         return rc;
     for (size_t i = 0; i < npoints; i++) {
         bg_curve_query q = { BG_CURVE_AT_TEMP, src->t_min_k + (src->t_max_k - src->t_min_k) *
                                                    (double)i / (double)(npoints - 1) };
         bg_curve_row *row = &out->rows[i];
-        if (row_eval(src, &q, row, NULL) != BG_OK) {
+        if (row_eval(src, out->cover.k, &q, row, NULL) != BG_OK) {
             memset(row, 0, sizeof *row);
             row->t_k = q.value;
             row->r_ohm = row->dtdr_k_per_ohm = row->alpha_per_k = NAN;

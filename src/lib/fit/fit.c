@@ -23,9 +23,14 @@
 
 #define NCRIT 64
 
+/* The chi2 test's tail probability on either side: a fit whose chi2 has p < CHI2_TAIL, or
+** p > 1 - CHI2_TAIL, against the stated uncertainties gets a warning. */
+#define CHI2_TAIL 0.01
+
 struct bg_fitter {
     size_t cap;
     double crit[NCRIT];  /* chi2 above which p < 0.01, by degrees of freedom (0: not known) */
+    double crit_lo[NCRIT]; /* chi2 below which p > 0.99, by degrees of freedom (0: not known) */
     double *L, *u, *A, *b, *tm;
     double *G;          /* basis rows L_i^k, n x nb, computed once per fit */
     struct tsort { double t, r; size_t i; } *sorted;
@@ -49,6 +54,8 @@ bg_fit_opts bg_fit_default_opts(const bg_model *model)
     o.max_iter = 50;
     o.xtol = 1e-12;
     o.coverage = 0.9545;
+    o.setpoint_gap_k = 0.05;
+    o.resolution_k = 1e-5;
     return o;
 }
 
@@ -132,10 +139,21 @@ static double chi2_limit(bg_fitter *fr, size_t dof)
 {
     if (dof < NCRIT) {
         if (fr->crit[dof] == 0.0)
-            fr->crit[dof] = gsl_cdf_chisq_Qinv(0.01, (double)dof);
+            fr->crit[dof] = gsl_cdf_chisq_Qinv(CHI2_TAIL, (double)dof);
         return fr->crit[dof];
     }
-    return gsl_cdf_chisq_Qinv(0.01, (double)dof);
+    return gsl_cdf_chisq_Qinv(CHI2_TAIL, (double)dof);
+}
+
+/* The chi2 below which the upper tail probability exceeds 1 - CHI2_TAIL, cached likewise. */
+static double chi2_limit_low(bg_fitter *fr, size_t dof)
+{
+    if (dof < NCRIT) {
+        if (fr->crit_lo[dof] == 0.0)
+            fr->crit_lo[dof] = gsl_cdf_chisq_Pinv(CHI2_TAIL, (double)dof);
+        return fr->crit_lo[dof];
+    }
+    return gsl_cdf_chisq_Pinv(CHI2_TAIL, (double)dof);
 }
 
 double bg_fit_p_value(const bg_fit *fit)
@@ -194,9 +212,55 @@ static int cmp_t(const void *a, const void *b)
     return (x->t > y->t) - (x->t < y->t);
 }
 
-/* Guard rails on the data: values, duplicates and the NTC direction. */
+/* Sort the points by temperature into fr->sorted. */
+static void sort_points(bg_fitter *fr, const bg_point *pts, size_t n)
+{
+    for (size_t i = 0; i < n; i++)
+        fr->sorted[i].t = pts[i].t_k, fr->sorted[i].r = pts[i].r_ohm, fr->sorted[i].i = i;
+    if (n <= 32) { /* insertion sort: the usual calibration has a dozen points */
+        for (size_t i = 1; i < n; i++) {
+            struct tsort v = fr->sorted[i];
+            size_t j = i;
+            while (j > 0 && fr->sorted[j - 1].t > v.t) {
+                fr->sorted[j] = fr->sorted[j - 1];
+                j--;
+            }
+            fr->sorted[j] = v;
+        }
+    } else
+        qsort(fr->sorted, n, sizeof fr->sorted[0], cmp_t);
+}
+
+/* On the sorted points: a note for each reading identical (same T and R) to an earlier one,
+** and the number of distinct temperatures, a new one starting more than 'setpoint_gap_k' above
+** the first reading of the last. */
+static size_t setpoints(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                        bg_fit *out)
+{
+    char w1[300], w2[300];
+    size_t nd = n ? 1 : 0, start = 0;
+    for (size_t j = 1; j < n; j++) {
+        const struct tsort *b = &fr->sorted[j];
+        for (size_t k = j; k-- > 0 && fr->sorted[k].t == b->t;) {
+            const struct tsort *a = &fr->sorted[k];
+            if (a->r != b->r)
+                continue;
+            size_t first = a->i < b->i ? a->i : b->i, second = a->i < b->i ? b->i : a->i;
+            add_note(out, BG_NOTE_REPEATED, pts[second].line, "%s: the same temperature and "
+                     "resistance as %s: a repeated reading, kept (check that it was not entered "
+                     "twice)", where(o, &pts[second], second, w1, sizeof w1),
+                     where(o, &pts[first], first, w2, sizeof w2));
+            break;
+        }
+        if (b->t - fr->sorted[start].t > o->setpoint_gap_k)
+            nd++, start = j;
+    }
+    return nd;
+}
+
+/* Guard rails on the data: values, distinct temperatures and the NTC direction. */
 static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
-                        int *weighted, bg_error *err)
+                        int *weighted, bg_fit *out, bg_error *err)
 {
     char w1[300], w2[300];
     int any_u = 0;
@@ -226,28 +290,17 @@ static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
                                     "have one", where(o, &pts[i], i, w1, sizeof w1));
     *weighted = any_u;
 
-    for (size_t i = 0; i < n; i++)
-        fr->sorted[i].t = pts[i].t_k, fr->sorted[i].r = pts[i].r_ohm, fr->sorted[i].i = i;
-    if (n <= 32) { /* insertion sort: the usual calibration has a dozen points */
-        for (size_t i = 1; i < n; i++) {
-            struct tsort v = fr->sorted[i];
-            size_t j = i;
-            while (j > 0 && fr->sorted[j - 1].t > v.t) {
-                fr->sorted[j] = fr->sorted[j - 1];
-                j--;
-            }
-            fr->sorted[j] = v;
-        }
-    } else
-        qsort(fr->sorted, n, sizeof fr->sorted[0], cmp_t);
-    for (size_t j = 1; j < n; j++) {
-        const struct tsort *a = &fr->sorted[j - 1], *b = &fr->sorted[j];
-        if (a->t == b->t && a->r == b->r) {
-            size_t first = a->i < b->i ? a->i : b->i, second = a->i < b->i ? b->i : a->i;
-            return bg_error_set(err, BG_EINVAL, "%s: duplicate of %s (same temperature and "
-                                "resistance)", where(o, &pts[second], second, w1, sizeof w1),
-                                where(o, &pts[first], first, w2, sizeof w2));
-        }
+    sort_points(fr, pts, n);
+    out->ndistinct = setpoints(fr, pts, n, o, out);
+    size_t npar = bg_model_npar(&o->model);
+    if (out->ndistinct < npar) {
+        char name[16];
+        return bg_error_set(err, BG_EINVAL, "%s: %zu readings at %zu distinct temperature%s "
+                            "(readings within %g K count as one): model '%s' has %zu "
+                            "coefficients and needs readings at %zu distinct temperatures at "
+                            "least", o->source ? o->source : "points", n, out->ndistinct,
+                            out->ndistinct == 1 ? "" : "s", o->setpoint_gap_k,
+                            bg_model_name(&o->model, name, sizeof name), npar, npar);
     }
     /* An NTC's resistance falls as it warms: each point is compared with the nearest point
     ** that is colder by more than 'mono_gap_k' (closer pairs may cross within noise). */
@@ -367,10 +420,105 @@ static int refine(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, const
     return BG_ENUM;
 }
 
+/* Externally studentized residuals t_i = r_i / (s_(i) sqrt(1 - h_i)), leverages
+** h_i = j_i (J^T J)^-1 j_i^T, s_(i)^2 = (chi2 - r_i^2/(1 - h_i)) / (dof - 1): the scatter
+** without point i (Belsley, Kuh & Welsch, Regression Diagnostics, 1980, 2.1).  Unlike the
+** internally studentized form, which cannot exceed sqrt(dof), this one can flag a blunder
+** in a small calibration.  The scale s_(i) never counts as smaller than the rounding of the
+** readings, resolution / sqrt(12) (JCGM 100:2008, F.2.2.1): otherwise the residuals of
+** noise-free readings, rounding noise of the arithmetic, would be studentized by themselves. */
+static void studentize(bg_fitter *fr, const bg_point *pts, const bg_fit_opts *o,
+                       const bg_linfit *lf, size_t nb, bg_fit *out)
+{
+    char w1[300];
+    double floor_k = o->resolution_k / sqrt(12.0);
+    for (size_t i = 0; i < out->n; i++) {
+        double h = 0.0, t2 = fr->tm[i] * fr->tm[i] / fr->u[i];
+        const double *g = &fr->G[i * nb];
+        for (size_t j = 0; j < nb; j++) {
+            double row = 0.0;
+            for (size_t k = 0; k < nb; k++)
+                row += lf->cov[j * nb + k] * g[k];
+            h += g[j] * row;
+        }
+        h *= t2 * t2;
+        double r = (pts[i].t_k - fr->tm[i]) / fr->u[i], s2 = NAN, fl = floor_k / fr->u[i];
+        if (out->dof > 1 && 1.0 - h > 1e-10)
+            s2 = fmax((out->chi2 - r * r / (1.0 - h)) / (double)(out->dof - 1), fl * fl);
+        /* With stated uncertainties the scale never counts as smaller than they are, as for
+        ** the covariance: a reading far inside its own uncertainty is no outlier. */
+        if (out->weighted && s2 < 1.0)
+            s2 = 1.0;
+        out->student[i] = (s2 > 0.0) ? r / sqrt(s2 * (1.0 - h)) : NAN;
+        if (fabs(out->student[i]) > o->student_limit)
+            add_note(out, BG_NOTE_OUTLIER, pts[i].line, "%s: studentized residual %.2f "
+                     "exceeds %g (residual %.2f mK): check this reading",
+                     where(o, &pts[i], i, w1, sizeof w1), out->student[i], o->student_limit,
+                     out->resid_mk[i]);
+    }
+}
+
+/* The chi2 test of a fit with stated uncertainties, on both sides: residuals too large for
+** them, or so small (p > 0.99) that the uncertainties are likely overstated. */
+static void chi2_notes(bg_fitter *fr, const bg_fit_opts *o, bg_fit *out)
+{
+    const char *src = o->source ? o->source : "fit";
+    if (out->chi2 > chi2_limit(fr, out->dof)) {
+        out->p_value = bg_fit_p_value(out);
+        add_note(out, BG_NOTE_CHI2, 0, "%s: residuals exceed the stated uncertainties "
+                 "(reduced chi2 = %.3g, p = %.2g)%s", src, out->reduced_chi2, out->p_value,
+                 o->inflate ? "; the covariance is scaled up by reduced chi2" : "");
+    } else if (out->chi2 < chi2_limit_low(fr, out->dof)) {
+        out->p_value = bg_fit_p_value(out);
+        add_note(out, BG_NOTE_CHI2_LOW, 0, "%s: residuals are far inside the stated "
+                 "uncertainties (reduced chi2 = %.3g, p = %.4g > %g): the uncertainties are "
+                 "probably overstated, and so is the curve's uncertainty, which comes from "
+                 "them", src, out->reduced_chi2, out->p_value, 1.0 - CHI2_TAIL);
+    }
+}
+
+/* A non-finite coefficient or covariance after a fit the data passed is a failure of the
+** fitter, never a result. */
+static int check_finite(const bg_fit *out, const char *name, bg_error *err)
+{
+    for (size_t i = 0; i < out->npar; i++)
+        if (!isfinite(out->model.coef[i]))
+            return bg_error_set(err, BG_EINTERNAL, "model '%s': coefficient %zu came out "
+                                "as %g: internal error, the fit is not used", name, i + 1,
+                                out->model.coef[i]);
+    for (size_t i = 0; out->dof > 0 && i < out->npar * out->npar; i++)
+        if (!isfinite(out->cov[i]))
+            return bg_error_set(err, BG_EINTERNAL, "model '%s': the covariance came out "
+                                "non-finite: internal error, the fit is not used", name);
+    return BG_OK;
+}
+
+/* The curve must stay monotonic over the calibrated range.  Where f' is monotonic in L > 0
+** (beta: constant; sh3: B + 3 C L^2) the ends decide; other kinds are sampled on 65 points. */
+static void monotonic_note(const bg_fitter *fr, const bg_fit_opts *o, const double *a,
+                           const char *name, bg_fit *out)
+{
+    double lmin = INFINITY, lmax = -INFINITY;
+    for (size_t i = 0; i < out->n; i++)
+        lmin = fr->L[i] < lmin ? fr->L[i] : lmin, lmax = fr->L[i] > lmax ? fr->L[i] : lmax;
+    int steps = (bg_model_flags(&o->model) & BG_MODEL_SLOPE_MONOTONIC) ? 1 : 64;
+    for (int s = 0; s <= steps; s++) {
+        double L = lmin + (lmax - lmin) * s / (double)steps, d = 0.0, pwr = 1.0;
+        for (size_t k = 1; k < MAXB; k++, pwr *= L)
+            d += (double)k * a[k] * pwr;
+        if (!(d > 0.0)) {
+            add_note(out, BG_NOTE_MONOTONIC, 0, "%s: the fitted '%s' curve is not monotonic "
+                     "inside the calibrated range (near %.6g ohm): too many coefficients for "
+                     "these points?", o->source ? o->source : "fit", name, exp(L));
+            return;
+        }
+    }
+}
+
 int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
                   bg_fit *out, bg_error *err)
 {
-    char name[16], w1[300];
+    char name[16];
     unsigned pw[MAXB];
     size_t nb = bg_model_basis(&o->model, pw), npar = bg_model_npar(&o->model);
     bg_linfit lf;
@@ -386,7 +534,8 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
                             name, npar, n);
     if (fitter_reserve(fr, n) != BG_OK || fit_reserve(out, n) != BG_OK)
         return bg_error_set(err, BG_ENOMEM, "out of memory fitting %zu points", n);
-    if ((rc = check_points(fr, pts, n, o, &weighted, err)) != BG_OK)
+    out->nnotes = 0;
+    if ((rc = check_points(fr, pts, n, o, &weighted, out, err)) != BG_OK)
         return rc;
 
     for (size_t i = 0; i < n; i++) {
@@ -433,7 +582,6 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
                             name);
 
     /* Results.  tm[] holds the fitted temperatures; lf.cov the unscaled covariance. */
-    out->nnotes = 0;
     out->model = o->model;
     out->n = n, out->npar = npar, out->dof = n - npar, out->weighted = weighted;
     out->iterations = iters, out->rcond = lf.rcond;
@@ -491,72 +639,20 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
     for (size_t j = npar; j < MAXB; j++)
         out->model.coef[j] = 0.0;
 
-    /* Externally studentized residuals t_i = r_i / (s_(i) sqrt(1 - h_i)), leverages
-    ** h_i = j_i (J^T J)^-1 j_i^T, s_(i)^2 = (chi2 - r_i^2/(1 - h_i)) / (dof - 1): the scatter
-    ** without point i (Belsley, Kuh & Welsch, Regression Diagnostics, 1980, 2.1).  Unlike the
-    ** internally studentized form, which cannot exceed sqrt(dof), this one can flag a blunder
-    ** in a small calibration. */
-    for (size_t i = 0; i < n; i++) {
-        double h = 0.0, t2 = fr->tm[i] * fr->tm[i] / fr->u[i];
-        const double *g = &fr->G[i * nb];
-        for (size_t j = 0; j < nb; j++) {
-            double row = 0.0;
-            for (size_t k = 0; k < nb; k++)
-                row += lf.cov[j * nb + k] * g[k];
-            h += g[j] * row;
-        }
-        h *= t2 * t2;
-        double r = (pts[i].t_k - fr->tm[i]) / fr->u[i], s2 = NAN;
-        if (out->dof > 1 && 1.0 - h > 1e-10)
-            s2 = (out->chi2 - r * r / (1.0 - h)) / (double)(out->dof - 1);
-        /* With stated uncertainties the scale never counts as smaller than they are, as for
-        ** the covariance: a reading far inside its own uncertainty is no outlier. */
-        if (weighted && s2 < 1.0)
-            s2 = 1.0;
-        out->student[i] = (s2 > 0.0) ? r / sqrt(s2 * (1.0 - h)) : NAN;
-        if (fabs(out->student[i]) > o->student_limit)
-            add_note(out, BG_NOTE_OUTLIER, pts[i].line, "%s: studentized residual %.2f "
-                     "exceeds %g (residual %.2f mK): check this reading",
-                     where(o, &pts[i], i, w1, sizeof w1), out->student[i], o->student_limit,
-                     out->resid_mk[i]);
-    }
+    studentize(fr, pts, o, &lf, nb, out);
     if (out->dof == 0) {
         for (size_t i = 0; i < MAXB * MAXB; i++)
             out->cov[i] = NAN, out->pcov[i] = NAN;
         add_note(out, BG_NOTE_NODOF, 0, "%s: %zu points for %zu coefficients: no degrees of "
                  "freedom left: uncertainty cannot be estimated",
                  o->source ? o->source : "fit", n, npar);
-    } else if (weighted && out->chi2 > chi2_limit(fr, out->dof)) {
-        out->p_value = bg_fit_p_value(out);
-        add_note(out, BG_NOTE_CHI2, 0, "%s: residuals exceed the stated uncertainties "
-                 "(reduced chi2 = %.3g, p = %.2g)%s", o->source ? o->source : "fit",
-                 out->reduced_chi2, out->p_value,
-                 o->inflate ? "; the covariance is scaled up by reduced chi2" : "");
-    }
-    /* The curve must stay monotonic over the calibrated range. */
-    {
-        double lmin = INFINITY, lmax = -INFINITY;
-        for (size_t i = 0; i < n; i++)
-            lmin = fr->L[i] < lmin ? fr->L[i] : lmin, lmax = fr->L[i] > lmax ? fr->L[i] : lmax;
-        /* Where f' is monotonic in L > 0 (beta: constant; sh3: B + 3 C L^2) the ends decide;
-        ** other kinds are sampled on 65 points. */
-        int steps = (bg_model_flags(&o->model) & BG_MODEL_SLOPE_MONOTONIC) ? 1 : 64;
-        for (int s = 0; s <= steps; s++) {
-            double L = lmin + (lmax - lmin) * s / (double)steps, d = 0.0, pwr = 1.0;
-            for (size_t k = 1; k < MAXB; k++, pwr *= L)
-                d += (double)k * a[k] * pwr;
-            if (!(d > 0.0)) {
-                add_note(out, BG_NOTE_MONOTONIC, 0, "%s: the fitted '%s' curve is not "
-                         "monotonic inside the calibrated range (near %.6g ohm): too many "
-                         "coefficients for these points?", o->source ? o->source : "fit",
-                         name, exp(L));
-                break;
-            }
-        }
-    }
+    } else if (weighted)
+        chi2_notes(fr, o, out);
+    if ((rc = check_finite(out, name, err)) != BG_OK)
+        return rc;
+    monotonic_note(fr, o, a, name, out);
     return BG_OK;
 }
-
 int bg_fit_points(const bg_point *pts, size_t n, const bg_fit_opts *o, bg_fit *out,
                   bg_error *err)
 {

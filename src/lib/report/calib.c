@@ -1,8 +1,9 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* The calibration report of one fit of one run: what it computes from the stored fit and
 ** readings (residuals, self-heating P = I^2 R at the largest resistance, the curve's u(T)
-** band from the coefficients' covariance, the coverage probability of k = 2 from Student's
-** t, an R-T table at a round step), and the page that shows it. */
+** band from the coefficients' covariance, U = k u with k from the coverage rule (Student's t
+** for the fit's degrees of freedom, as 'fit' states it), an R-T table at a round step), and the
+** page that shows it. */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -63,7 +64,10 @@ static void compute_band(bg_calib_report *r)
             r->u_max_k = isnan(r->u_max_k) ? u : fmax(r->u_max_k, u);
         r->band_t_k[i] = t, r->band_u_k[i] = u;
     }
-    r->coverage = bg_fit_coverage_prob(2.0, ft->dof);
+    bg_coverage_rule rule = r->rule.p > 0.0 ? r->rule : bg_coverage_default();
+    if (bg_coverage_eval(&rule, (double)ft->dof, &r->cover, NULL) != BG_OK)
+        r->cover.k = r->cover.p = NAN;
+    r->coverage = r->cover.p;
 }
 
 /* The R-T table over the validity range end to end: its two ends, and between them the
@@ -97,8 +101,8 @@ static int compute_rt(bg_calib_report *r, bg_error *err)
         w->t_c = t, w->r_ohm = NAN, w->alpha_per_k = NAN;
         bg_model_r_from_t(&ft->model, tk, &w->r_ohm, NULL);
         bg_model_alpha(&ft->model, tk, &w->alpha_per_k, NULL);
-        w->u2_k = ft->has_cov && bg_model_u_t(&ft->model, ft->cov, tk, &u, NULL) == BG_OK ?
-                  2.0 * u : NAN;
+        w->U_k = ft->has_cov && bg_model_u_t(&ft->model, ft->cov, tk, &u, NULL) == BG_OK ?
+                 r->cover.k * u : NAN;
     }
     return BG_OK;
 }
@@ -321,13 +325,16 @@ static void model_and_uncertainty(FILE *f, const bg_calib_report *r)
     fprintf(f, "<tr><th>Expanded uncertainty</th><td>");
     if (isfinite(r->u_max_k)) {
         fputs("U = ", f);
-        bgi_html_sig2(f, "U", 1e3 * bgi_html_round_up2(2.0 * r->u_max_k));
-        fprintf(f, " mK at most over the range, coverage factor k = 2, coverage probability "
-                   "about ");
-        bgi_html_num(f, "span", "coverage", "%.0f", 100.0 * r->coverage);
-        fprintf(f, " %% (Student t, %zu degrees of freedom). U is that of the fitted curve "
+        bgi_html_sig2(f, "U", 1e3 * bgi_html_round_up2(r->cover.k * r->u_max_k));
+        fprintf(f, " mK at most over the range, coverage factor k = ");
+        bgi_html_num(f, "span", "k", "%.2f", r->cover.k);
+        fprintf(f, " %s Student's t for %zu effective degrees of freedom, coverage probability "
+                   "%s", r->cover.fixed ? "as asked; with" : "from", ft->dof,
+                r->cover.fixed ? "about " : "");
+        bgi_html_num(f, "span", "coverage", "%.2f", 100.0 * r->coverage);
+        fprintf(f, " %% (JCGM 100:2008, G.3). U is that of the fitted curve "
                    "from the coefficients' covariance%s; it includes the reference only as far "
-                   "as the stated reading uncertainties do.", ft->dof,
+                   "as the stated reading uncertainties do.",
                 ft->weighted ? " (the readings' stated uncertainties, scaled up when the "
                 "scatter is larger)" : " (from the scatter of the residuals)");
     } else
@@ -369,8 +376,8 @@ static int readings(FILE *f, const bg_calib_report *r, bg_error *err)
     }
     fputs("</table>\n", f);
     for (int i = 0; i < BG_REPORT_BAND; i++) {
-        bx[i] = cdeg(r->band_t_k[i]), bhi[i] = 2e3 * r->band_u_k[i];
-        blo[i] = -2e3 * r->band_u_k[i];
+        bx[i] = cdeg(r->band_t_k[i]), bhi[i] = 1e3 * r->cover.k * r->band_u_k[i];
+        blo[i] = -bhi[i];
         if (isfinite(bhi[i]))
             ylo = fmin(ylo, blo[i]), yhi = fmax(yhi, bhi[i]);
     }
@@ -382,9 +389,11 @@ static int readings(FILE *f, const bg_calib_report *r, bg_error *err)
         bgi_html_chart_band(f, &c, bx, blo, bhi, BG_REPORT_BAND);
     bgi_html_chart_hline(f, &c, 0.0, NULL, 0);
     bgi_html_chart_points(f, &c, rx, r->resid_mk, rf, n);
-    bgi_html_chart_end(f, &c, "Grey band: \xc2\xb1U (k = 2), the uncertainty of the fitted "
-                              "curve, not the scatter of the readings; dots: readings used; "
-                              "open squares: excluded readings");
+    char cap[200];
+    snprintf(cap, sizeof cap, "Grey band: \xc2\xb1U (k = %.2f), the uncertainty of the fitted "
+             "curve, not the scatter of the readings; dots: readings used; open squares: "
+             "excluded readings", r->cover.k);
+    bgi_html_chart_end(f, &c, cap);
     free(rx), free(rf);
     return BG_OK;
 }
@@ -394,15 +403,15 @@ static void rt_table(FILE *f, const bg_calib_report *r)
     fprintf(f, "<h2>Resistance&#8211;temperature table</h2>\n<table class=\"data\" id=\"rt\" "
                "data-from=\"%.17g\" data-to=\"%.17g\" data-step=\"%.17g\">\n<tr><th class=\"n\">"
                "T / \xc2\xb0" "C</th><th class=\"n\">R / \xce\xa9</th><th class=\"n\">&#945; / (%%/K)</th>"
-               "<th class=\"n\">U (k = 2) / mK</th></tr>\n", r->rt_from_c, r->rt_to_c,
-            r->rt_step_c);
+               "<th class=\"n\">U (k = %.2f) / mK</th></tr>\n", r->rt_from_c, r->rt_to_c,
+            r->rt_step_c, r->cover.k);
     for (size_t i = 0; i < r->nrt; i++) {
         const bg_report_rt_row *w = &r->rt[i];
         fputs("<tr class=\"rt\">", f);
         bgi_html_num(f, "td", "n t", "%.2f", w->t_c);
         bgi_html_num(f, "td", "n r", "%.6g", w->r_ohm);
         bgi_html_num(f, "td", "n alpha", "%.4f", 100.0 * w->alpha_per_k);
-        bgi_html_num(f, "td", "n U", "%.2f", 1e3 * w->u2_k);
+        bgi_html_num(f, "td", "n U", "%.2f", 1e3 * w->U_k);
         fputs("</tr>\n", f);
     }
     fputs("</table>\n", f);
