@@ -29,8 +29,9 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
     if (rc != BG_OK ||
         (rc = bgi_prepare(c, "INSERT INTO run(probe_id, reference_id, operator, medium, "
                           "ambient, excitation, started_at, source, note, imported_at, "
-                          "t_raw_unit, first_reading, nreadings) "
-                          "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
+                          "t_raw_unit, first_reading, nreadings, measuring_current_a, "
+                          "measuring_voltage_v) "
+                          "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, imp->probe_id);
     if (imp->ref_id)
@@ -48,6 +49,10 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
     sqlite3_bind_text(q, 11, imp->unit, -1, SQLITE_STATIC);
     sqlite3_bind_int64(q, 12, *first);
     sqlite3_bind_int64(q, 13, (sqlite3_int64)imp->rs->n);
+    if (meta->measuring_current_a > 0.0)
+        sqlite3_bind_double(q, 14, meta->measuring_current_a);
+    if (meta->measuring_voltage_v > 0.0)
+        sqlite3_bind_double(q, 15, meta->measuring_voltage_v);
     if (sqlite3_step(q) != SQLITE_DONE)
         rc = bgi_db_fail(c, err, "cannot create the run");
     else
@@ -147,7 +152,8 @@ int bgi_sqlite_import(bgi_conn *c, const struct bgi_import *imp, long long *run_
     "r.nreadings, " \
     "(SELECT count(*) FROM exclusion e WHERE e.reading_id BETWEEN r.first_reading " \
     "  AND r.first_reading + r.nreadings - 1), " \
-    "(SELECT count(*) FROM fit f WHERE f.run_id = r.id)"
+    "(SELECT count(*) FROM fit f WHERE f.run_id = r.id), " \
+    "coalesce(r.measuring_current_a, 0), coalesce(r.measuring_voltage_v, 0)"
 #define RUN_FROM " FROM run r JOIN probe p ON r.probe_id = p.id " \
     "LEFT JOIN reference x ON r.reference_id = x.id "
 
@@ -169,6 +175,8 @@ static void run_row(sqlite3_stmt *q, bg_run *r)
     r->nreadings = sqlite3_column_int64(q, 13);
     r->nexcluded = sqlite3_column_int64(q, 14);
     r->nfits = sqlite3_column_int64(q, 15);
+    r->measuring_current_a = sqlite3_column_double(q, 16);
+    r->measuring_voltage_v = sqlite3_column_double(q, 17);
 }
 
 int bgi_sqlite_run_get(bgi_conn *c, long long run_id, bg_run *out, bg_error *err)
