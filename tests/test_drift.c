@@ -69,7 +69,8 @@ static void as_found_of_a_resistance_drift(void **state)
     bg_model_parse("sh4", &cur, NULL);
     bg_model_set_coef(&cur, c4, 4, NULL);
     assert_int_equal(bg_drift_check_points(253.15, 353.15, 253.15, 353.15, 5, at, NULL), BG_OK);
-    assert_int_equal(bg_drift_compare(&old, &cur, at, 5, 298.15, 358.15, 1.5, &dr, NULL), BG_OK);
+    bg_drift_at where = { at, 5, 298.15, 358.15 };
+    assert_int_equal(bg_drift_compare(&old, &cur, &where, 1.5, &dr, NULL), BG_OK);
     double worst = 0.0;
     for (int i = 0; i < 5; i++) {
         double r_old;
@@ -96,7 +97,8 @@ static void as_found_of_a_beta_change(void **state)
     bg_model_set_coef(&a, ca, 2, NULL);
     bg_model_parse("beta", &b, NULL);
     bg_model_set_coef(&b, cb, 2, NULL);
-    assert_int_equal(bg_drift_compare(&a, &b, at, 3, 298.15, 358.15, 0.0, &dr, NULL), BG_OK);
+    bg_drift_at where = { at, 3, 298.15, 358.15 };
+    assert_int_equal(bg_drift_compare(&a, &b, &where, 0.0, &dr, NULL), BG_OK);
     assert_close(dr.d_b_k, 12.5, 1e-9, 0);
     assert_close(dr.d_r25_pct, 0.0, 0, 1e-10);
     assert_close(dr.err_mk[1], 0.0, 0, 1e-9); /* both pass through R25 at 25 degC */

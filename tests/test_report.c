@@ -209,14 +209,6 @@ static void calibration_report_without_covariance(void **state)
     bg_calib_report_release(&r);
 }
 
-static int sections(void *ctx, FILE *f, int *flagged, bg_error *err)
-{
-    (void)err;
-    fprintf(f, "<p id=\"body\">%s</p>\n", (const char *)ctx);
-    *flagged = 1;
-    return BG_OK;
-}
-
 static void lot_report(void **state)
 {
     (void)state;
@@ -224,11 +216,15 @@ static void lot_report(void **state)
     memset(&r, 0, sizeof r);
     snprintf(r.lot.code, sizeof r.lot.code, "%s", hostile);
     snprintf(r.lot.part, sizeof r.lot.part, "NTC-INVENTED");
-    r.sections = sections, r.sections_ctx = "sections here";
+    /* an empty lot summary that says it is flagged: the frame, the sections' headings and the
+    ** verdict follow it (the sections' numbers are checked in test_qa.c and tests/reports.sh) */
+    bg_qa_lot_summary qs = BG_QA_LOT_SUMMARY_INIT;
+    qs.flagged = 1;
+    r.summary = &qs;
     bg_report_head h = { 7, "2026-03-02T10:00:00Z", "Invented lab", "A & B", 5, "typo" };
     char *html = render("lot", &r, &h);
     assert_non_null(strstr(html, "BG-LOT-000007"));
-    assert_non_null(strstr(html, "<p id=\"body\">sections here</p>"));
+    assert_non_null(strstr(html, "<h2>Probes (newest fit of each)</h2>"));
     assert_non_null(strstr(html, "data-flagged=\"1\""));
     assert_non_null(strstr(html, "id=\"replaces\" data-v=\"5\""));
     assert_non_null(strstr(html, "A &amp; B"));

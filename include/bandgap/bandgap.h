@@ -20,6 +20,8 @@
 #include "bandgap/csv.h"
 #include "bandgap/store.h"
 #include "bandgap/drift.h"
+#include "bandgap/stats.h"
+#include "bandgap/qa.h"
 #include "bandgap/circuit.h"
 #include "bandgap/lut.h"
 #include "bandgap/calib.h"

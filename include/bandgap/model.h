@@ -19,18 +19,8 @@
 ** bg_model_type_count and bg_model_type_at). */
 typedef struct bg_model_type bg_model_type;
 
-/* Deprecated: the kind as an enumeration, kept in step with 'type' by bg_model_parse until
-** the last readers outside the model module ask bg_model_flags instead; do not switch on it. */
-typedef enum bg_model_kind {
-    BG_MODEL_SH3 = 0, /* 1/T = A + B L + C L^3                  coef: A, B, C      */
-    BG_MODEL_SH4,     /* 1/T = A + B L + C L^2 + D L^3          coef: A, B, C, D   */
-    BG_MODEL_BETA,    /* R = R0 exp(beta (1/T - 1/T0))          coef: R0, beta     */
-    BG_MODEL_POLY     /* 1/T = sum a_i L^i, i = 0..N, N = 1..5  coef: a0 .. aN     */
-} bg_model_kind;
-
 typedef struct bg_model {
-    const bg_model_type *type;     /* set by bg_model_parse; NULL: 'kind' decides (deprecated) */
-    bg_model_kind kind;            /* deprecated, see above */
+    const bg_model_type *type;     /* set by bg_model_parse; NULL (a zeroed model): sh3 */
     unsigned degree;               /* poly:N: N; 0 for the others */
     double coef[BG_MODEL_MAXPAR];  /* in the order of bg_model_coef_name; R0 in ohm, beta in K */
     double t0_k;                   /* kinds with BG_MODEL_HAS_T0: temperature at which R = R0 */

@@ -13,6 +13,7 @@
 #include <stdio.h>
 
 #include "bandgap/error.h"
+#include "bandgap/qa.h"
 #include "bandgap/lut.h"
 #include "bandgap/store.h"
 
@@ -108,14 +109,11 @@ BG_API int bg_calib_report_load(bg_store *st, long long run_id, long long fit_id
 
 /* ---- the lot report ---- */
 
-/* The lot report's statistics, control-chart and drift sections, written to 'f'; sets
-** '*flagged' when something is flagged. */
-typedef int (*bg_report_lot_sections)(void *ctx, FILE *f, int *flagged, bg_error *err);
-
+/* What the lot report shows: the lot, and its statistics, drift and the part's control charts
+** (bg_qa_lot_summarize); the report is flagged when the summary is. */
 typedef struct bg_lot_report {
     bg_lot lot;
-    bg_report_lot_sections sections; /* the body between the lot and the verdict */
-    void *sections_ctx;
+    const bg_qa_lot_summary *summary;
 } bg_lot_report;
 
 /* ---- the table report: a firmware table's error at every code and its budget ---- */
@@ -137,9 +135,9 @@ typedef struct bg_report_opts {
 BG_API int bg_report_issue_run(bg_store *st, long long run_id, long long fit_id,
                                const bg_report_opts *o, bg_artifact *out, bg_error *err);
 
-/* The same for the lot report of lot 'code'; 'sections' and 'ctx' write its body. */
+/* The same for the lot report of lot 'code': summarises the lot (bg_qa_lot_summarize) and
+** issues its report ("lot CODE"). */
 BG_API int bg_report_issue_lot(bg_store *st, const char *code, const bg_report_opts *o,
-                               bg_report_lot_sections sections, void *ctx, bg_artifact *out,
-                               bg_error *err);
+                               bg_artifact *out, bg_error *err);
 
 #endif

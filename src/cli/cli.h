@@ -185,9 +185,6 @@ void lut_print_summary(const bg_lut_result *r, const char *pre, FILE *b);
 
 /* ---- commands (one file each) ---- */
 
-/* The lot report's statistics, drift and control-chart sections (cmd_drift.c); '*flagged'
-** is set when something is flagged. */
-int drift_lot_html(bg_store *st, const char *code, FILE *f, int *flagged, bg_error *err);
 int cmd_report(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_eval(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_fit(int argc, char **argv, struct cli_ctx *ctx);

@@ -106,19 +106,6 @@ static int list_cb(const bg_artifact *a, void *vctx)
     return 0;
 }
 
-/* The lot report's sections come from the drift command's code until the lot statistics
-** are a library result (issue 10). */
-struct lot_sections {
-    bg_store *st;
-    const char *code;
-};
-
-static int lot_sections(void *vctx, FILE *f, int *flagged, bg_error *err)
-{
-    struct lot_sections *l = vctx;
-    return drift_lot_html(l->st, l->code, f, flagged, err);
-}
-
 /* Issue the report of run 'run_id' (fit 'fit_id') or of lot 'lot', store it and write it to
 ** 'out_path'; the file is made first, so a path that cannot be made stores nothing. */
 static int issue(bg_store *st, long long run_id, long long fit_id, const char *lot,
@@ -130,10 +117,9 @@ static int issue(bg_store *st, long long run_id, long long fit_id, const char *l
     int rc = open_out(out_path, &f);
     if (rc != BG_OK)
         return rc;
-    if (lot) {
-        struct lot_sections ls = { st, lot };
-        rc = bg_report_issue_lot(st, lot, o, lot_sections, &ls, &a, &err);
-    } else
+    if (lot)
+        rc = bg_report_issue_lot(st, lot, o, &a, &err);
+    else
         rc = bg_report_issue_run(st, run_id, fit_id, o, &a, &err);
     if (rc != BG_OK) {
         drop_out(f, out_path);

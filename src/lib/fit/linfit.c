@@ -19,6 +19,10 @@
 #define BG_INLINE static inline
 #endif
 
+/* Long on purpose: equilibration, the pivoted Householder sweep, the condition estimate, the
+** back substitution and (R^T R)^-1 share one set of scratch arrays and loop bounds; split into
+** functions they would need the same eight arguments each and lose the unrolling that makes a
+** 10 x 3 fit cost about a microsecond (DEVELOPERS.md, "the least-squares core is our own"). */
 BG_INLINE int qr_core(double *A, double *b, size_t n, size_t p, double min_rcond,
                       double *colscale, double *work, bg_linfit *out)
 {

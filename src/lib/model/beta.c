@@ -103,7 +103,6 @@ const bg_model_type bgi_model_beta = {
     .spelling = "beta",
     .formula = "R = R0 exp(beta (1/T - 1/T0))",
     .flags = BG_MODEL_HAS_T0 | BG_MODEL_R0_BETA | BG_MODEL_SLOPE_MONOTONIC,
-    .kind = BG_MODEL_BETA,
     .npar = beta_npar,
     .coef_name = beta_coef_name,
     .check_coef = beta_check_coef,

@@ -36,16 +36,10 @@ const char *bg_model_type_name(const bg_model_type *t)
     return t->name;
 }
 
-/* A model without a type (zeroed, or filled before there were types) is of the kind its
-** deprecated 'kind' names, which makes a zeroed model sh3 as it always was. */
+/* A model without a type (zeroed) is of the table's first kind, sh3. */
 static const bg_model_type *type_of(const bg_model *m)
 {
-    if (m->type)
-        return m->type;
-    for (size_t i = 0; i < NTYPES; i++)
-        if (model_types[i]->kind == m->kind)
-            return model_types[i];
-    return model_types[0];
+    return m->type ? m->type : model_types[0];
 }
 
 const bg_model_type *bg_model_type_of(const bg_model *m)
@@ -73,7 +67,7 @@ int bg_model_parse(const char *name, bg_model *m, bg_error *err)
     for (size_t i = 0; i < NTYPES; i++) {
         const bg_model_type *t = model_types[i];
         if (t->parse ? t->parse(name, m) : strcmp(name, t->name) == 0) {
-            m->type = t, m->kind = t->kind;
+            m->type = t;
             return BG_OK;
         }
     }

@@ -19,7 +19,6 @@ struct bg_model_type {
     const char *spelling;  /* as listed among the known models: "sh3", "poly:1 .. poly:5" */
     const char *formula;   /* in L = ln(R / 1 ohm) and T in K */
     unsigned flags;        /* BG_MODEL_HAS_T0 ... */
-    bg_model_kind kind;    /* the deprecated enumeration's value, kept in step */
 
     /* 1 if 'name' names this kind, after setting the kind's own fields of '*m' ('degree');
     ** or NULL: 'name' equals 'name' above. */

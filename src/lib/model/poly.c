@@ -87,7 +87,6 @@ const bg_model_type bgi_model_poly = {
     .name = "poly",
     .spelling = "poly:1 .. poly:5",
     .formula = "1/T = sum a_i L^i",
-    .kind = BG_MODEL_POLY,
     .parse = poly_parse,
     .write_name = poly_write_name,
     .npar = poly_npar,

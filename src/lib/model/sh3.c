@@ -117,7 +117,6 @@ const bg_model_type bgi_model_sh3 = {
     .spelling = "sh3",
     .formula = "1/T = A + B L + C L^3",
     .flags = BG_MODEL_SLOPE_MONOTONIC,
-    .kind = BG_MODEL_SH3,
     .npar = sh3_npar,
     .coef_name = sh3_coef_name,
     .inv_poly = sh3_inv_poly,

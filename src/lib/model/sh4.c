@@ -74,7 +74,6 @@ const bg_model_type bgi_model_sh4 = {
     .name = "sh4",
     .spelling = "sh4",
     .formula = "1/T = A + B L + C L^2 + D L^3",
-    .kind = BG_MODEL_SH4,
     .npar = sh4_npar,
     .coef_name = sh4_coef_name,
     .inv_poly = sh4_inv_poly,

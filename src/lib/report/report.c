@@ -80,35 +80,6 @@ void bgi_report_begin(FILE *f, const bg_report_kind *k, const bg_report_head *h,
     fputs("</table>\n", f);
 }
 
-/* ---- the lot report: the frame; the sections come through the result's callback ---- */
-
-static int lot_generate(const void *result, const bg_report_head *h, FILE *f, bg_error *err)
-{
-    const bg_lot_report *r = result;
-    char rid[40];
-    int flagged = 0, rc;
-    bgi_report_begin(f, &bgi_report_lot, h, rid, sizeof rid);
-    fputs("<table class=\"kv\" id=\"lot\">\n", f);
-    bgi_report_kv(f, "Lot", r->lot.code);
-    bgi_report_kv(f, "Part", r->lot.part);
-    fputs("</table>\n", f);
-    rc = r->sections ? r->sections(r->sections_ctx, f, &flagged, err)
-                     : bg_error_set(err, BG_EINVAL, "the lot report has no sections");
-    fprintf(f, "<p id=\"verdict\" data-flagged=\"%d\"><strong>%s</strong></p>\n", flagged,
-            flagged ? "Something is flagged: see the marked rows and points above." :
-                      "Nothing is flagged.");
-    bgi_html_cautions(f);
-    fprintf(f, "<p class=\"meta\">Report %s. Issued reports are stored in the calibration "
-               "database and never change; a correction is issued as a new report that names "
-               "this one.</p>\n", rid);
-    bgi_html_end(f);
-    return rc;
-}
-
-const bg_report_kind bgi_report_lot = {
-    "lot", "BG-LOT", "Production lot report", "report-lot", lot_generate,
-};
-
 /* ---- issuing ---- */
 
 /* A JSON string, escaped as the program's JSON writer does. */
@@ -205,21 +176,24 @@ int bg_report_issue_run(bg_store *st, long long run_id, long long fit_id,
 }
 
 int bg_report_issue_lot(bg_store *st, const char *code, const bg_report_opts *o,
-                        bg_report_lot_sections sections, void *ctx, bg_artifact *out,
-                        bg_error *err)
+                        bg_artifact *out, bg_error *err)
 {
     bg_lot_report r;
+    bg_qa_lot_summary qs = BG_QA_LOT_SUMMARY_INIT;
     char subject[BG_TEXT + 8];
     memset(out, 0, sizeof *out);
     memset(&r, 0, sizeof r);
-    r.sections = sections, r.sections_ctx = ctx;
     int rc = bg_store_lot_get(st, code, &r.lot, err);
-    if (rc != BG_OK)
-        return rc;
-    snprintf(subject, sizeof subject, "lot %s", code);
-    char *spec = report_spec(subject, code, 0, 0, NULL);
-    struct issue_ctx c = { &bgi_report_lot, &r, o };
-    rc = issue(st, &c, subject, 0, spec, out, err);
-    free(spec);
+    if (rc == BG_OK)
+        rc = bg_qa_lot_summarize(st, code, &qs, err);
+    if (rc == BG_OK) {
+        r.summary = &qs;
+        snprintf(subject, sizeof subject, "lot %s", code);
+        char *spec = report_spec(subject, code, 0, 0, NULL);
+        struct issue_ctx c = { &bgi_report_lot, &r, o };
+        rc = issue(st, &c, subject, 0, spec, out, err);
+        free(spec);
+    }
+    bg_qa_lot_summary_release(&qs);
     return rc;
 }

@@ -9,7 +9,7 @@
 #include "bandgap/report.h"
 
 extern const bg_report_kind bgi_report_calib; /* calib.c */
-extern const bg_report_kind bgi_report_lot;   /* report.c (its sections: a callback) */
+extern const bg_report_kind bgi_report_lot;   /* lot.c */
 extern const bg_report_kind bgi_report_table; /* table.c */
 
 /* One row of a key-value table: the key, and the value escaped ("not recorded" if empty). */

@@ -1,0 +1,195 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* QA results read from the calibration record: a probe's drift between its calibrations, a
+** lot's statistics against the part's nominal curve, the control charts across a part's lots,
+** and all three together for the lot report.  Each is a value with a _release; nothing here
+** prints.  The arithmetic underneath is in drift.h and stats.h. */
+#ifndef BANDGAP_QA_H
+#define BANDGAP_QA_H
+
+#include <stddef.h>
+
+#include "bandgap/drift.h"
+#include "bandgap/error.h"
+#include "bandgap/stats.h"
+#include "bandgap/store.h"
+
+/* What a QA computation uses.  Start from bg_qa_default_opts(). */
+typedef struct bg_qa_opts {
+    double at_k[BG_DRIFT_MAXAT]; /* check temperatures, K; nat 0: five spread over the common */
+    size_t nat;                  /* calibrated range of the fits compared */
+    double limit_k;              /* |as-found| limit, K; <= 0: the lot's R25 tolerance at 25 C */
+    double rate_k;               /* drift rate limit, K per year; <= 0: the |as-found| limit */
+    double alpha;                /* Grubbs' significance, two-sided (default 0.05) */
+    const char *since;           /* only runs started on or after this ISO 8601 date; NULL: all */
+    size_t baseline;             /* control limits from the first 'baseline' lots; 0: all */
+    int since_first;             /* compare each calibration with the first too (default 1) */
+} bg_qa_opts;
+
+BG_API bg_qa_opts bg_qa_default_opts(void);
+
+/* The temperature equivalent of the lot's R25 tolerance at 25 degC: tol R25 T0^2 / B, in K
+** (the default drift limit). */
+BG_API double bg_qa_tol_limit_k(const bg_lot *lot);
+
+/* ---- one probe's drift ---- */
+
+/* One comparison of an earlier calibration 'from' with a later one 'to' (indices into the
+** probe's history). */
+typedef struct bg_qa_compare {
+    size_t from, to;
+    bg_drift d;                  /* as-found error, change of R25 and B, years, rate */
+    int flag_limit, flag_rate;   /* max |as-found| above the limit; rate above the rate limit */
+} bg_qa_compare;
+
+typedef struct bg_qa_probe {
+    char serial[BG_TEXT];
+    bg_lot lot;
+    double limit_k, rate_k;      /* the limits used (the defaults worked out) */
+    int have_history;            /* the history below was read */
+    bg_fit_row *fits;            /* newest fit of each fitted run, oldest run first: n of them */
+    char (*started_at)[BG_TIME]; /* the runs' start times */
+    size_t n, cap;
+    size_t unfitted;             /* runs without a fit */
+    bg_qa_compare *since_previous; /* calibration i against i - 1: nprev of n - 1 */
+    size_t nprev;
+    bg_qa_compare *since_first;  /* calibration i >= 2 against the first: nfirst of n - 2 */
+    size_t nfirst;
+    int flagged;                 /* a flag in any comparison */
+} bg_qa_probe;
+#define BG_QA_PROBE_INIT { 0 }
+
+/* The drift of probe 'serial' between its calibrations (the newest fit of each fitted run,
+** every one of them, oldest first): each against the one before and, with o->since_first,
+** each from the third on against the first.  BG_EINVAL for an unknown probe, a check
+** temperature outside the calibrated ranges of a pair (named) or ranges that do not overlap;
+** BG_ENOMEM; a store error.  After an error in a comparison '*out' still holds the history,
+** the limits and the comparisons made before it (have_history is set), so that a caller can
+** show how far it got.  Release '*out' (initialised with BG_QA_PROBE_INIT) in every case. */
+BG_API int bg_qa_probe_drift(bg_store *st, const char *serial, const bg_qa_opts *o,
+                             bg_qa_probe *out, bg_error *err);
+BG_API void bg_qa_probe_release(bg_qa_probe *p);
+
+/* ---- one lot's statistics ---- */
+
+enum { BG_QA_OUT_OF_TOL = 1 << 0, BG_QA_OUTLIER = 1 << 1 };
+
+typedef struct bg_qa_lot {
+    bg_lot lot;
+    size_t n;                    /* probes with a fit */
+    size_t nofit;                /* probes without one */
+    char (*serial)[BG_TEXT];     /* n each, in the order the probes were added: */
+    long long *fit_id;           /*   the probe's newest fit */
+    double *r25_dev_pct;         /*   (R25 - nominal R25) / nominal R25, % */
+    double *b_k;                 /*   B for the lot's pair, K */
+    double *dev_mk;              /*   n x nat, row-major: T_nominal(R(T)) - T, mK */
+    double *max_abs_dev_mk;      /*   largest |dev_mk| over the check temperatures */
+    unsigned *flags;             /*   BG_QA_OUT_OF_TOL, BG_QA_OUTLIER */
+    size_t nat;
+    double at_k[BG_DRIFT_MAXAT]; /* the check temperatures, K */
+    double dev_min_mk[BG_DRIFT_MAXAT], dev_max_mk[BG_DRIFT_MAXAT]; /* over the probes */
+    double band_lo_mk[BG_DRIFT_MAXAT], band_hi_mk[BG_DRIFT_MAXAT]; /* the nominal curve at the
+                                                   corners of the R25 and B tolerances */
+    bg_stats r25_dev, b;         /* of r25_dev_pct and b_k */
+    double cpk_r25, cpk_b;       /* against the lot's tolerances */
+    double activation_energy_ev; /* k times the mean B */
+    double alpha;
+    int have_grubbs;             /* n >= 3 and both sds > 0 */
+    double g_r25, g_b, g_crit;   /* NaN without have_grubbs */
+    int outlier_r25, outlier_b;  /* G above the critical value */
+    size_t ioutlier_r25, ioutlier_b; /* the most extreme probe, when an outlier */
+    size_t nout;                 /* probes out of tolerance */
+    int flagged;                 /* nout > 0 or an outlier */
+} bg_qa_lot;
+#define BG_QA_LOT_INIT { 0 }
+
+/* The statistics of lot 'code' over each probe's newest fit (of the runs since o->since):
+** R25 deviation and B, the deviation from the nominal beta curve at the check temperatures
+** (o->at_k, or five over the range every fit covers), mean, sd, min, max and Cpk, Grubbs'
+** test at o->alpha, the tolerance band, the activation energy.  BG_EINVAL for an unknown lot,
+** a lot without fitted probes, or a check temperature outside a probe's range (named);
+** BG_ENOMEM; a store error.  Release '*out' (initialised with BG_QA_LOT_INIT) in every case. */
+BG_API int bg_qa_lot_stats(bg_store *st, const char *code, const bg_qa_opts *o, bg_qa_lot *out,
+                           bg_error *err);
+BG_API void bg_qa_lot_release(bg_qa_lot *l);
+
+/* ---- a part's control charts ---- */
+
+enum { BG_QA_CHART_XBAR_R25, BG_QA_CHART_S_R25, BG_QA_CHART_XBAR_B, BG_QA_CHART_S_B,
+       BG_QA_CHART_XBAR_ASFOUND, BG_QA_CHART_S_ASFOUND, BG_QA_NCHART };
+
+/* A lot on the charts: its statistics and the run rules (BG_RULE_*) each point breaks. */
+typedef struct bg_qa_part_lot {
+    char code[BG_TEXT];
+    size_t n;                       /* fitted probes */
+    double r25_mean_pct, r25_sd_pct, b_mean_k, b_sd_k;
+    unsigned rules[4];              /* X-bar R25, s R25, X-bar B, s B */
+    size_t nasfound;                /* probes with two calibrations or more */
+    double asfound_mean_mk, asfound_sd_mk;
+} bg_qa_part_lot;
+
+/* A lot left off the charts, and why. */
+typedef struct bg_qa_part_skip {
+    char code[BG_TEXT];
+    char why[512];
+} bg_qa_part_skip;
+
+/* A point of the as-found charts: a lot with two recalibrated probes or more. */
+typedef struct bg_qa_part_asfound {
+    size_t lot;                     /* index into lots */
+    unsigned rules[2];              /* X-bar, s */
+} bg_qa_part_asfound;
+
+typedef struct bg_qa_part {
+    char part[BG_TEXT];
+    bg_qa_part_lot *lots;           /* charted, oldest first */
+    size_t nlots, caplots;
+    bg_qa_part_skip *skipped;       /* not charted (fewer than 2 fitted probes, or an error) */
+    size_t nskipped, capskipped;
+    size_t baseline, subgroup;      /* lots the limits come from; subgroup size (mean lot size) */
+    bg_chart chart[BG_QA_NCHART];
+    int have_asfound;               /* the as-found charts exist (2 lots or more with data) */
+    bg_qa_part_asfound *asfound;
+    size_t nasfound;
+    size_t asfound_subgroup;
+    int flagged;                    /* a run rule broken on any chart */
+} bg_qa_part;
+#define BG_QA_PART_INIT { 0 }
+
+/* X-bar and s charts of the lots of 'part' (oldest first): each lot's R25 deviation (%) and B
+** (from bg_qa_lot_stats with 'o'), and the as-found drift of its probes between their two
+** newest calibrations at the middle of their common range (mK); 3-sigma limits from the first
+** o->baseline lots, the Western Electric rules.  A lot with fewer than 2 fitted probes or whose
+** statistics fail with BG_EINVAL is skipped with the reason; a probe whose two newest ranges
+** do not overlap has no as-found value.  BG_EINVAL for a part without lots or with fewer than
+** 2 charted lots; BG_ENOMEM; a store error.  After an error '*out' keeps the lots skipped so
+** far.  Release '*out' (initialised with BG_QA_PART_INIT) in every case. */
+BG_API int bg_qa_part_charts(bg_store *st, const char *part, const bg_qa_opts *o,
+                             bg_qa_part *out, bg_error *err);
+BG_API void bg_qa_part_release(bg_qa_part *p);
+
+/* ---- everything the lot report shows ---- */
+
+typedef struct bg_qa_lot_summary {
+    bg_qa_lot stats;                /* with the default options */
+    bg_qa_probe *probes;            /* each probe of the lot, in the order added, compared with
+                                       its previous calibration only, default limits */
+    size_t nprobes, capprobes;
+    double limit_k;                 /* the lot's default drift limit */
+    bg_qa_part part;                /* the control charts of the lot's part */
+    int part_rc;                    /* BG_OK, or why there are no charts: */
+    bg_error part_err;
+    int flagged;                    /* the lot's statistics, a probe's drift since its previous
+                                       calibration, or a run rule on the charts */
+} bg_qa_lot_summary;
+#define BG_QA_LOT_SUMMARY_INIT { 0 }
+
+/* The lot report's content for lot 'code': its statistics, each probe's drift since its
+** previous calibration, and the control charts of its part (when those cannot be drawn,
+** part_rc and part_err say why and the summary is still made, unless the reason is
+** BG_ENOMEM or a store error).  Errors as bg_qa_lot_stats and bg_qa_probe_drift.  Release
+** '*out' (initialised with BG_QA_LOT_SUMMARY_INIT) in every case. */
+BG_API int bg_qa_lot_summarize(bg_store *st, const char *code, bg_qa_lot_summary *out,
+                               bg_error *err);
+BG_API void bg_qa_lot_summary_release(bg_qa_lot_summary *s);
+
+#endif

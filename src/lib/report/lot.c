@@ -1,0 +1,308 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* The lot report's sections, rendered from a lot summary (qa.h): the probes and the lot
+** statistics, the histogram of R25 deviations, the deviation from the nominal curve, each
+** probe's drift, and the control charts of the part.  Only presentation happens here. */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+
+#include "bandgap/report.h"
+#include "report/html_int.h"
+#include "report/report_int.h"
+
+static void probes_table(FILE *f, const bg_qa_lot *l)
+{
+    fprintf(f, "<h2>Probes (newest fit of each)</h2>\n<table class=\"data\" id=\"probes\">\n"
+               "<tr><th>probe</th><th class=\"n\">fit</th><th class=\"n\">R25 deviation / %%"
+               "</th><th class=\"n\">B / K</th><th class=\"n\">max |deviation| / mK</th>"
+               "<th>flags</th></tr>\n");
+    for (size_t i = 0; i < l->n; i++) {
+        int out = (l->flags[i] & BG_QA_OUT_OF_TOL) != 0, outl = (l->flags[i] & BG_QA_OUTLIER) != 0;
+        fprintf(f, "<tr class=\"probe%s\"><td>", out || outl ? " flag" : "");
+        bgi_html_esc(f, l->serial[i]);
+        fprintf(f, "</td><td class=\"n\">%lld</td>", l->fit_id[i]);
+        bgi_html_num(f, "td", "n r25dev", "%+.4f", l->r25_dev_pct[i]);
+        bgi_html_num(f, "td", "n b", "%.2f", l->b_k[i]);
+        bgi_html_num(f, "td", "n maxdev", "%.3f", l->max_abs_dev_mk[i]);
+        fprintf(f, "<td>%s%s</td></tr>\n", out ? "out of tolerance " : "",
+                outl ? "outlier (Grubbs)" : "");
+    }
+}
+
+static void stats_table(FILE *f, const bg_qa_lot *l)
+{
+    const bg_lot *lot = &l->lot;
+    fprintf(f, "</table>\n<h2>Lot statistics</h2>\n<table class=\"data\" id=\"stats\">\n"
+               "<tr><th></th><th class=\"n\">mean</th><th class=\"n\">sd</th><th class=\"n\">"
+               "min</th><th class=\"n\">max</th><th class=\"n\">Cpk</th></tr>\n");
+    const bg_stats *st[2] = { &l->r25_dev, &l->b };
+    const double cp[2] = { l->cpk_r25, l->cpk_b };
+    const char *nm[2] = { "R25 deviation / %", "B / K" }, *id[2] = { "r25_dev_pct", "b_k" };
+    for (int k = 0; k < 2; k++) {
+        fprintf(f, "<tr class=\"stat\" data-key=\"%s\"><td>%s</td>", id[k], nm[k]);
+        bgi_html_num(f, "td", "n mean", "%.4f", st[k]->mean);
+        bgi_html_num(f, "td", "n sd", "%.4f", st[k]->sd);
+        bgi_html_num(f, "td", "n min", "%.4f", st[k]->min);
+        bgi_html_num(f, "td", "n max", "%.4f", st[k]->max);
+        bgi_html_num(f, "td", "n cpk", "%.2f", cp[k]);
+        fputs("</tr>\n", f);
+    }
+    fputs("</table>\n<p id=\"energy\">Apparent activation energy E = kB = ", f);
+    bgi_html_num(f, "span", "ea", "%.4f", l->activation_energy_ev);
+    fprintf(f, " eV (k the Boltzmann constant, B the lot's mean B%.0f/%.0f). Nominal: R25 %.6g "
+               "ohm &#177;%.3g %%, B %.2f K &#177;%.3g %%. %zu probe(s) out of tolerance.</p>\n",
+            lot->pair_t1_k - BG_ZERO_C_K, lot->pair_t2_k - BG_ZERO_C_K, lot->r25_ohm,
+            100 * lot->tol_r25, lot->beta_k, 100 * lot->tol_beta, l->nout);
+    fputs("<p id=\"grubbs\">Outliers by Grubbs' test (two-sided, significance ", f);
+    bgi_html_num(f, "span", "alpha", "%.3g", l->alpha);
+    fputs("): G(R25) ", f);
+    bgi_html_num(f, "span", "g_r25", "%.3f", l->g_r25);
+    fputs(", G(B) ", f);
+    bgi_html_num(f, "span", "g_b", "%.3f", l->g_b);
+    fputs(", critical value ", f);
+    bgi_html_num(f, "span", "g_crit", "%.3f", l->g_crit);
+    fputs(".</p>\n", f);
+}
+
+/* The histogram of R25 deviations; the axis spans at least the tolerance limits. */
+static void histogram(FILE *f, const bg_qa_lot *l)
+{
+    enum { NBIN = 12 };
+    double tol = 100.0 * l->lot.tol_r25;
+    double lo = fmin(l->r25_dev.min, -tol), hi = fmax(l->r25_dev.max, tol);
+    double edges[NBIN + 1];
+    size_t cnt[NBIN] = { 0 }, top = 1;
+    for (int k = 0; k <= NBIN; k++)
+        edges[k] = lo + (hi - lo) * k / NBIN;
+    for (size_t i = 0; i < l->n; i++) {
+        int k = hi > lo ? (int)floor((l->r25_dev_pct[i] - lo) / (hi - lo) * NBIN) : 0;
+        k = k < 0 ? 0 : k >= NBIN ? NBIN - 1 : k;
+        cnt[k]++;
+    }
+    for (int k = 0; k < NBIN; k++)
+        top = cnt[k] > top ? cnt[k] : top;
+    bgi_html_chart hc = { "histogram", "R25 deviation of the lot's probes", "R25 deviation / %",
+                          "probes", 0, 0, 0, 0, 0 };
+    bgi_html_chart_begin(f, &hc, lo, hi, 0.0, (double)top);
+    bgi_html_chart_bars(f, &hc, edges, cnt, NBIN);
+    bgi_html_chart_end(f, &hc, "Bars: probes per bin; the axis spans at least the R25 tolerance");
+}
+
+static void band_table(FILE *f, const bg_qa_lot *l)
+{
+    fputs("<h2>Deviation from the nominal curve</h2>\n<table class=\"data\" id=\"band\">\n"
+          "<tr><th class=\"n\">T / degC</th><th class=\"n\">measured min / mK</th>"
+          "<th class=\"n\">measured max / mK</th><th class=\"n\">band low / mK</th>"
+          "<th class=\"n\">band high / mK</th></tr>\n", f);
+    for (size_t k = 0; k < l->nat; k++) {
+        fputs("<tr class=\"bandrow\">", f);
+        bgi_html_num(f, "td", "n t", "%.3f", l->at_k[k] - BG_ZERO_C_K);
+        bgi_html_num(f, "td", "n mn", "%+.2f", l->dev_min_mk[k]);
+        bgi_html_num(f, "td", "n mx", "%+.2f", l->dev_max_mk[k]);
+        bgi_html_num(f, "td", "n blo", "%+.2f", l->band_lo_mk[k]);
+        bgi_html_num(f, "td", "n bhi", "%+.2f", l->band_hi_mk[k]);
+        fputs("</tr>\n", f);
+    }
+    fputs("</table>\n<p class=\"meta\">The band is the nominal curve at the corners of the R25 "
+          "and B tolerances; the measured deviation also holds the difference in shape between "
+          "a real curve and the beta model.</p>\n", f);
+}
+
+/* One probe's rows of the drift table: each calibration against the one before. */
+static void drift_rows(FILE *f, const bg_qa_probe *p)
+{
+    if (p->n < 2) {
+        fprintf(f, "<tr class=\"drift single\"><td>");
+        bgi_html_esc(f, p->serial);
+        fprintf(f, "</td><td colspan=\"8\">%s</td></tr>\n", p->n == 1 ?
+                "only one calibration: nothing to compare yet" : "no fitted calibration");
+    }
+    for (size_t i = 0; i < p->nprev; i++) {
+        const bg_qa_compare *c = &p->since_previous[i];
+        const bg_fit_row *fa = &p->fits[c->from], *fb = &p->fits[c->to];
+        fprintf(f, "<tr class=\"drift%s\"><td>", c->flag_limit || c->flag_rate ? " flag" : "");
+        bgi_html_esc(f, fa->serial);
+        fprintf(f, "</td><td class=\"n\">%lld</td><td class=\"n\">%lld</td>", fa->id, fb->id);
+        bgi_html_num(f, "td", "n years", "%.3f", c->d.years);
+        bgi_html_num(f, "td", "n maxabs", "%.3f", c->d.max_abs_err_mk);
+        bgi_html_num(f, "td", "n dr25", "%+.4f", c->d.d_r25_pct);
+        bgi_html_num(f, "td", "n db", "%+.3f", c->d.d_b_k);
+        bgi_html_num(f, "td", "n rate", "%.3f", c->d.rate_mk_per_year);
+        fprintf(f, "<td>%s%s</td></tr>\n", c->flag_limit ? "beyond the limit " : "",
+                c->flag_rate ? "drift rate beyond the limit" : "");
+    }
+}
+
+static void drift_table(FILE *f, const bg_qa_lot_summary *s)
+{
+    fputs("<h2>Drift of each probe since its previous calibration</h2>\n<table class=\"data\" "
+          "id=\"drift\">\n<tr><th>probe</th><th class=\"n\">from fit</th><th class=\"n\">"
+          "to fit</th><th class=\"n\">years</th><th class=\"n\">max |as-found| / mK</th>"
+          "<th class=\"n\">&#916;R25 / %</th><th class=\"n\">&#916;B / K</th><th class=\"n\">"
+          "rate / (mK/year)</th><th>flags</th></tr>\n", f);
+    for (size_t i = 0; i < s->nprobes; i++)
+        drift_rows(f, &s->probes[i]);
+    fprintf(f, "</table>\n<p class=\"meta\">As-found error: what a device still using the "
+               "earlier coefficients would read, minus the true temperature, largest over five "
+               "check temperatures spread over the common range; limit from the lot's R25 "
+               "tolerance, %.1f mK.</p>\n", 1e3 * s->limit_k);
+}
+
+/* The value of chart 'c' at point i, and the rules it breaks there. */
+static double chart_value(const bg_qa_part *p, int c, size_t i, unsigned *rules)
+{
+    const bg_qa_part_lot *l = &p->lots[c < 4 ? i : p->asfound[i].lot];
+    *rules = c < 4 ? l->rules[c] : p->asfound[i].rules[c - 4];
+    switch (c) {
+    case BG_QA_CHART_XBAR_R25: return l->r25_mean_pct;
+    case BG_QA_CHART_S_R25: return l->r25_sd_pct;
+    case BG_QA_CHART_XBAR_B: return l->b_mean_k;
+    case BG_QA_CHART_S_B: return l->b_sd_k;
+    case BG_QA_CHART_XBAR_ASFOUND: return l->asfound_mean_mk;
+    default: return l->asfound_sd_mk;
+    }
+}
+
+static int one_chart(FILE *f, const bg_qa_part *p, int c)
+{
+    static const char *const ids[6] = { "xbar_r25", "s_r25", "xbar_b", "s_b", "xbar_asfound",
+                                         "s_asfound" };
+    static const char *const titles[6] = { "X-bar chart of the lots' mean R25 deviation",
+                                           "s chart of the lots' R25 deviation",
+                                           "X-bar chart of the lots' mean B",
+                                           "s chart of the lots' B",
+                                           "X-bar chart of the lots' mean as-found drift",
+                                           "s chart of the lots' as-found drift" };
+    static const char *const units[6] = { "mean R25 deviation / %", "sd / %", "mean B / K",
+                                          "sd / K", "mean as-found / mK", "sd / mK" };
+    const bg_chart *ch = &p->chart[c];
+    size_t n = c < 4 ? p->nlots : p->nasfound;
+    double *x = malloc((n + 1) * sizeof *x), *y = malloc((n + 1) * sizeof *y);
+    int *fg = malloc((n + 1) * sizeof *fg);
+    double lo = ch->lcl, hi = ch->ucl;
+    if (!x || !y || !fg) {
+        free(x), free(y), free(fg);
+        return BG_ENOMEM;
+    }
+    for (size_t i = 0; i < n; i++) {
+        unsigned rules;
+        x[i] = (double)(i + 1), y[i] = chart_value(p, c, i, &rules), fg[i] = rules != 0;
+        lo = fmin(lo, y[i]), hi = fmax(hi, y[i]);
+    }
+    bgi_html_chart hc = { ids[c], titles[c], "lot (in order of creation)", units[c], 0, 0, 0,
+                          0, 0 };
+    hc.xint = 1;
+    bgi_html_chart_begin(f, &hc, 0.5, (double)n + 0.5, lo, hi);
+    bgi_html_chart_hline(f, &hc, ch->center, "centre", 0);
+    bgi_html_chart_hline(f, &hc, ch->ucl, "UCL", 1);
+    bgi_html_chart_hline(f, &hc, ch->lcl, "LCL", 1);
+    bgi_html_chart_line(f, &hc, x, y, n);
+    bgi_html_chart_points(f, &hc, x, y, fg, n);
+    bgi_html_chart_end(f, &hc, NULL);
+    free(x), free(y), free(fg);
+    return BG_OK;
+}
+
+static void lots_table(FILE *f, const bg_qa_part *p)
+{
+    static const char *const rule[4] = { "beyond 3 sigma", "2 of 3 beyond 2 sigma",
+                                         "4 of 5 beyond 1 sigma", "8 on one side" };
+    static const char *const cn[4] = { "X-bar R25", "s R25", "X-bar B", "s B" };
+    fputs("<table class=\"data\" id=\"lots\"><tr><th class=\"n\">#</th><th>lot</th>"
+          "<th class=\"n\">probes</th><th class=\"n\">mean R25 dev / %</th>"
+          "<th class=\"n\">mean B / K</th><th>run rules broken</th></tr>\n", f);
+    for (size_t i = 0; i < p->nlots; i++) {
+        const bg_qa_part_lot *l = &p->lots[i];
+        unsigned any = l->rules[0] | l->rules[1] | l->rules[2] | l->rules[3];
+        fprintf(f, "<tr class=\"lot%s\"><td class=\"n\">%zu</td><td>", any ? " flag" : "",
+                i + 1);
+        bgi_html_esc(f, l->code);
+        fprintf(f, "</td><td class=\"n\">%zu</td>", l->n);
+        bgi_html_num(f, "td", "n mr", "%+.4f", l->r25_mean_pct);
+        bgi_html_num(f, "td", "n mb", "%.2f", l->b_mean_k);
+        fputs("<td>", f);
+        for (int c = 0; c < 4; c++)
+            for (int r = 0; r < 4; r++)
+                if (l->rules[c] & (1u << r))
+                    fprintf(f, "%s: %s; ", cn[c], rule[r]);
+        fputs("</td></tr>\n", f);
+    }
+    fputs("</table>\n", f);
+}
+
+static int part_charts(FILE *f, const bg_qa_lot_summary *s)
+{
+    const bg_qa_part *p = &s->part;
+    int rc = BG_OK;
+    for (size_t i = 0; i < p->nskipped; i++) {
+        fputs("<p>Lot ", f);
+        bgi_html_esc(f, p->skipped[i].code);
+        fputs(": not charted (", f);
+        bgi_html_esc(f, p->skipped[i].why);
+        fputs(").</p>\n", f);
+    }
+    if (s->part_rc != BG_OK) {
+        fprintf(f, "<h2>Control charts</h2>\n<p>Not charted: ");
+        bgi_html_esc(f, s->part_err.msg);
+        fputs(".</p>\n", f);
+        return BG_OK;
+    }
+    fprintf(f, "<h2>Control charts of part ");
+    bgi_html_esc(f, p->part);
+    fprintf(f, "</h2>\n<p>Limits at 3 sigma from the first %zu lot(s) of %zu, subgroup size "
+               "%zu; points that break a run rule are drawn as open squares and listed "
+               "below.</p>\n", p->baseline, p->nlots, p->subgroup);
+    for (int c = 0; c < BG_QA_NCHART && rc == BG_OK; c++)
+        if (c < 4 || p->have_asfound)
+            rc = one_chart(f, p, c);
+    if (!p->have_asfound)
+        fputs("<p>As-found drift: not charted (fewer than two lots with recalibrated "
+              "probes).</p>\n", f);
+    lots_table(f, p);
+    return rc;
+}
+
+static int lot_sections(FILE *f, const bg_qa_lot_summary *s, bg_error *err)
+{
+    probes_table(f, &s->stats);
+    stats_table(f, &s->stats);
+    histogram(f, &s->stats);
+    band_table(f, &s->stats);
+    drift_table(f, s);
+    if (part_charts(f, s) != BG_OK)
+        return bg_error_set(err, BG_ENOMEM, "out of memory drawing the control charts");
+    if (ferror(f))
+        return bg_error_set(err, BG_EIO, "cannot write the lot report");
+    return BG_OK;
+}
+
+/* The page: the identity, the lot, the sections, the verdict, the cautions. */
+static int lot_generate(const void *result, const bg_report_head *h, FILE *f, bg_error *err)
+{
+    const bg_lot_report *r = result;
+    char rid[40];
+    int flagged = 0, rc;
+    bgi_report_begin(f, &bgi_report_lot, h, rid, sizeof rid);
+    fputs("<table class=\"kv\" id=\"lot\">\n", f);
+    bgi_report_kv(f, "Lot", r->lot.code);
+    bgi_report_kv(f, "Part", r->lot.part);
+    fputs("</table>\n", f);
+    if (r->summary) {
+        rc = lot_sections(f, r->summary, err);
+        flagged = r->summary->flagged;
+    } else
+        rc = bg_error_set(err, BG_EINVAL, "the lot report has no lot summary");
+    fprintf(f, "<p id=\"verdict\" data-flagged=\"%d\"><strong>%s</strong></p>\n", flagged,
+            flagged ? "Something is flagged: see the marked rows and points above." :
+                      "Nothing is flagged.");
+    bgi_html_cautions(f);
+    fprintf(f, "<p class=\"meta\">Report %s. Issued reports are stored in the calibration "
+               "database and never change; a correction is issued as a new report that names "
+               "this one.</p>\n", rid);
+    bgi_html_end(f);
+    return rc;
+}
+
+const bg_report_kind bgi_report_lot = {
+    "lot", "BG-LOT", "Production lot report", "report-lot", lot_generate,
+};

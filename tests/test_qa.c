@@ -1,0 +1,272 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* QA results computed from a calibration record (qa.h): a lot's statistics and a part's
+** control charts against values computed independently with numpy/scipy for the invented
+** coefficients below, and the histories that once had fixed caps (a probe's 64 calibrations,
+** a part's 256 lots) read in full.  Each probe's calibration is a beta curve with invented R25
+** and B, made as noise-free readings, imported and fitted through the library. */
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "testutil.h"
+
+static char dir[256];
+
+static int setup(void **state)
+{
+    (void)state;
+    snprintf(dir, sizeof dir, "/tmp/bandgap-test-qa-XXXXXX");
+    return mkdtemp(dir) ? 0 : -1;
+}
+
+static int teardown(void **state)
+{
+    char cmd[300];
+    (void)state;
+    snprintf(cmd, sizeof cmd, "rm -rf '%s'", dir);
+    return system(cmd) == 0 ? 0 : -1;
+}
+
+static bg_store *fresh(const char *name)
+{
+    char p[400];
+    bg_store *st = NULL;
+    snprintf(p, sizeof p, "%s/%s", dir, name);
+    unlink(p);
+    assert_int_equal(bg_store_open(p, BG_STORE_CREATE, &st, NULL), BG_OK);
+    return st;
+}
+
+/* A lot of part 'part' with nominal R25 10 kohm, B25/85 3950 K, tolerances 1 % and 0.5 %. */
+static void add_lot(bg_store *st, const char *code, const char *part)
+{
+    bg_lot lot;
+    memset(&lot, 0, sizeof lot);
+    snprintf(lot.code, sizeof lot.code, "%s", code);
+    snprintf(lot.part, sizeof lot.part, "%s", part);
+    lot.r25_ohm = 10000, lot.beta_k = 3950, lot.pair_t1_k = 298.15, lot.pair_t2_k = 358.15;
+    lot.tol_r25 = 0.01, lot.tol_beta = 0.005;
+    assert_int_equal(bg_store_lot_add(st, &lot, NULL, NULL), BG_OK);
+}
+
+/* One calibration of probe 'serial' started at 'when': readings of the beta curve (R25, B)
+** at 0 .. 100 degC, imported and fitted with the beta model. */
+static void calibrate(bg_store *st, const char *serial, double r25, double b, const char *when)
+{
+    char text[2048];
+    size_t len = (size_t)snprintf(text, sizeof text, "temp_c,ohms,u_temp_k\n");
+    for (int i = 0; i <= 8; i++) {
+        double t = 273.15 + 12.5 * i, r = r25 * exp(b * (1 / t - 1 / 298.15));
+        len += (size_t)snprintf(text + len, sizeof text - len, "%.4f,%.17g,0.002\n", 12.5 * i, r);
+    }
+    bg_readings rs;
+    bg_run meta;
+    bg_model m;
+    bg_fit f = BG_FIT_INIT;
+    bg_store_points sp = BG_STORE_POINTS_INIT;
+    long long run;
+    assert_int_equal(bg_csv_parse(text, len, "cal.csv", &rs, NULL), BG_OK);
+    memset(&meta, 0, sizeof meta);
+    snprintf(meta.serial, sizeof meta.serial, "%s", serial);
+    snprintf(meta.started_at, sizeof meta.started_at, "%s", when);
+    assert_int_equal(bg_store_import(st, &rs, &meta, &run, NULL), BG_OK);
+    assert_int_equal(bg_store_run_points(st, run, &sp, NULL), BG_OK);
+    bg_model_parse("beta", &m, NULL);
+    bg_fit_opts o = bg_fit_default_opts(&m);
+    assert_int_equal(bg_fit_points(sp.pts, sp.n, &o, &f, NULL), BG_OK);
+    assert_int_equal(bg_store_fit_save(st, run, &f, sp.ids, NULL, NULL), BG_OK);
+    bg_fit_release(&f);
+    bg_store_points_release(&sp);
+    bg_readings_release(&rs);
+}
+
+/* Invented lot: eight probes, the seventh far off in R25. */
+static const double lot_r25[8] = { 10012.3, 9987.6, 10031.8, 10004.1, 9969.4, 10023.7, 10161.2,
+                                   9995.0 };
+static const double lot_b[8] = { 3951.2, 3948.7, 3955.9, 3946.3, 3952.8, 3949.5, 3953.6,
+                                 3944.1 };
+
+static void lot_statistics_against_numpy(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("lot.db");
+    bg_qa_opts o = bg_qa_default_opts();
+    bg_qa_lot l = BG_QA_LOT_INIT;
+    add_lot(st, "L1", "NTC");
+    for (int i = 0; i < 8; i++) {
+        char serial[32];
+        snprintf(serial, sizeof serial, "P%d", i + 1);
+        assert_int_equal(bg_store_probe_add(st, serial, "L1", NULL, NULL, NULL), BG_OK);
+        calibrate(st, serial, lot_r25[i], lot_b[i], "2026-11-24T08:00:00Z");
+    }
+    assert_int_equal(bg_qa_lot_stats(st, "L1", &o, &l, NULL), BG_OK);
+    assert_int_equal(l.n, 8);
+    /* numpy 1.x (Debian): dev = 100 (r25 - 1e4) / 1e4; mean, std(ddof=1), min, max;
+    ** Cpk = min(usl - mean, mean - lsl) / (3 sd) with limits -+1 % and 3950 K -+0.5 %;
+    ** G = max|x - mean| / sd; G_crit from scipy.stats.t.ppf(1 - 0.05/16, 6) in Grubbs'
+    ** formula (computed 2026-12-02).  The fits reproduce R25 and B to ~1e-10. */
+    assert_close(l.r25_dev.mean, 0.23137500000000044, 1e-8, 1e-10);
+    assert_close(l.r25_dev.sd, 0.59231794972922402, 1e-8, 0);
+    assert_close(l.r25_dev.min, -0.30600000000000366, 1e-8, 1e-10);
+    assert_close(l.r25_dev.max, 1.6120000000000072, 1e-8, 0);
+    assert_close(l.cpk_r25, 0.43255203299251338, 1e-8, 0);
+    assert_close(l.g_r25, 2.3308849590513923, 1e-8, 0);
+    assert_close(l.b.mean, 3950.2624999999998, 1e-12, 0);
+    assert_close(l.b.sd, 3.9085757362131881, 1e-8, 0);
+    assert_close(l.cpk_b, 1.6619438311375054, 1e-8, 0);
+    assert_close(l.g_b, 1.5766612740554002, 1e-8, 0);
+    assert_close(l.g_crit, 2.1266450871956257, 1e-9, 0);
+    /* published: ASTM E178 Table 1, n = 8, upper 2.5 % point: 2.126 */
+    assert_close(l.g_crit, 2.126, 0, 0.001);
+    /* E = k B with k = 8.617333262e-5 eV/K (CODATA 2018), numpy mean of B */
+    assert_close(l.activation_energy_ev, 0.34040728434881273, 1e-12, 0);
+    assert_true(l.have_grubbs && l.outlier_r25 && !l.outlier_b);
+    assert_int_equal(l.ioutlier_r25, 6);
+    assert_int_equal(l.nout, 1); /* only P7 is beyond 1 % (1.612 %) */
+    assert_int_equal(l.flags[6], BG_QA_OUT_OF_TOL | BG_QA_OUTLIER);
+    assert_int_equal(l.flags[0], 0);
+    assert_true(l.flagged);
+    /* deviation from the nominal curve: 1/T' = 1/T0 + ln(R/R0)/B0 with R from the probe's
+    ** curve, evaluated here (definition of the beta model) */
+    assert_int_equal(l.nat, 5);
+    for (size_t i = 0; i < 8; i++)
+        for (size_t k = 0; k < l.nat; k++) {
+            double t = l.at_k[k], r = lot_r25[i] * exp(lot_b[i] * (1 / t - 1 / 298.15));
+            double expect = 1e3 * (1 / (1 / 298.15 + log(r / 10000) / 3950) - t);
+            assert_close(l.dev_mk[i * l.nat + k], expect, 1e-6, 1e-6);
+        }
+    bg_qa_lot_release(&l);
+    bg_store_close(st);
+}
+
+/* Three lots of four probes; the third drifts up in R25 and B. */
+static void part_charts_against_numpy(void **state)
+{
+    (void)state;
+    static const double r25[3][4] = { { 10012.0, 9991.0, 10005.0, 9998.0 },
+                                      { 10020.0, 10004.0, 9987.0, 10011.0 },
+                                      { 10058.0, 10071.0, 10049.0, 10066.0 } };
+    static const double b[3][4] = { { 3951.0, 3947.5, 3949.0, 3952.5 },
+                                    { 3946.0, 3950.5, 3953.0, 3948.0 },
+                                    { 3957.0, 3962.0, 3955.5, 3960.0 } };
+    bg_store *st = fresh("part.db");
+    bg_qa_opts o = bg_qa_default_opts();
+    bg_qa_part p = BG_QA_PART_INIT;
+    for (int k = 0; k < 3; k++) {
+        char code[32];
+        snprintf(code, sizeof code, "L%d", k + 1);
+        add_lot(st, code, "NTC");
+        for (int i = 0; i < 4; i++) {
+            char serial[32];
+            snprintf(serial, sizeof serial, "P%d-%d", k + 1, i + 1);
+            assert_int_equal(bg_store_probe_add(st, serial, code, NULL, NULL, NULL), BG_OK);
+            calibrate(st, serial, r25[k][i], b[k][i], "2026-11-24T08:00:00Z");
+        }
+    }
+    o.baseline = 2;
+    assert_int_equal(bg_qa_part_charts(st, "NTC", &o, &p, NULL), BG_OK);
+    assert_int_equal(p.nlots, 3);
+    assert_int_equal(p.baseline, 2);
+    assert_int_equal(p.subgroup, 4);
+    /* numpy/scipy (computed 2026-12-02): lot means and std(ddof=1) of the R25 deviation (%)
+    ** and B; c4(4) = sqrt(2/3) gamma(2)/gamma(1.5) (scipy.special.gamma), A3 = 3/(c4 sqrt 4),
+    ** B3 = max(0, 1 - 3 sqrt(1 - c4^2)/c4), B4 = 1 + 3 sqrt(1 - c4^2)/c4; limits from the
+    ** first two lots.  Published check of the constants: ASTM E2587 table, n = 4: A3 1.628,
+    ** B3 0, B4 2.266. */
+    const bg_chart *c = p.chart;
+    assert_close(c[BG_QA_CHART_XBAR_R25].center, 0.035000000000000003, 1e-8, 1e-10);
+    assert_close(c[BG_QA_CHART_XBAR_R25].lcl, -0.15224160287974284, 1e-8, 0);
+    assert_close(c[BG_QA_CHART_XBAR_R25].ucl, 0.22224160287974284, 1e-8, 0);
+    assert_close(c[BG_QA_CHART_S_R25].center, 0.11500600592459789, 1e-8, 0);
+    assert_close(c[BG_QA_CHART_S_R25].lcl, 0.0, 0, 0);
+    assert_close(c[BG_QA_CHART_S_R25].ucl, 0.26060902377568318, 1e-8, 0);
+    assert_close(c[BG_QA_CHART_XBAR_B].center, 3949.6875, 1e-12, 0);
+    assert_close(c[BG_QA_CHART_XBAR_B].lcl, 3945.4247697003461, 1e-12, 0);
+    assert_close(c[BG_QA_CHART_XBAR_B].ucl, 3953.9502302996539, 1e-12, 0);
+    assert_close(c[BG_QA_CHART_S_B].center, 2.6182193409859251, 1e-8, 0);
+    assert_close(c[BG_QA_CHART_S_B].ucl, 5.933008289430691, 1e-8, 0);
+    assert_close((c[BG_QA_CHART_S_B].ucl / c[BG_QA_CHART_S_B].center), 2.266, 0, 0.0005);
+    /* the third lot's mean R25 deviation (0.610 %) and mean B (3958.6 K) are beyond 3 sigma */
+    assert_close(p.lots[2].r25_mean_pct, 0.61, 1e-8, 0);
+    assert_true(p.lots[2].rules[0] & BG_RULE_3SIGMA);
+    assert_true(p.lots[2].rules[2] & BG_RULE_3SIGMA);
+    assert_int_equal(p.lots[0].rules[0] | p.lots[1].rules[0], 0);
+    assert_true(p.flagged);
+    assert_false(p.have_asfound); /* no probe was calibrated twice */
+    bg_qa_part_release(&p);
+    bg_store_close(st);
+}
+
+/* A probe calibrated 100 times, once a month: every calibration is kept, oldest first, and
+** the newest comparisons are made (the history once stopped at the oldest 64). */
+static void probe_history_keeps_all_100(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("probe.db");
+    bg_qa_opts o = bg_qa_default_opts();
+    bg_qa_probe p = BG_QA_PROBE_INIT;
+    add_lot(st, "L1", "NTC");
+    assert_int_equal(bg_store_probe_add(st, "P1", "L1", NULL, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_begin(st, NULL), BG_OK);
+    for (int i = 0; i < 100; i++) {
+        char when[64];
+        snprintf(when, sizeof when, "%04d-%02d-15T08:00:00Z", 2020 + i / 12, i % 12 + 1);
+        calibrate(st, "P1", 10000.0 * (1 + 1e-5 * i), 3950.0, when);
+    }
+    assert_int_equal(bg_store_commit(st, NULL), BG_OK);
+    assert_int_equal(bg_qa_probe_drift(st, "P1", &o, &p, NULL), BG_OK);
+    assert_int_equal(p.n, 100);
+    assert_int_equal(p.nprev, 99);
+    assert_int_equal(p.nfirst, 98);
+    assert_string_equal(p.started_at[99], "2028-04-15T08:00:00Z");
+    const bg_qa_compare *last = &p.since_first[97];
+    assert_int_equal(last->from, 0);
+    assert_int_equal(last->to, 99);
+    /* R25 grew by a factor (1 + 99e-5) over the history: d_r25 = 0.099 % (definition) */
+    assert_close(last->d.d_r25_pct, 0.099, 1e-7, 0);
+    assert_close(p.since_previous[98].d.d_r25_pct, 100 * (1e-5 / (1 + 98e-5)), 1e-6, 0);
+    bg_qa_probe_release(&p);
+    bg_store_close(st);
+}
+
+/* A part of 300 lots of two probes each: every lot is charted (a part once stopped at 256). */
+static void part_of_300_lots(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("lots.db");
+    bg_qa_opts o = bg_qa_default_opts();
+    bg_qa_part p = BG_QA_PART_INIT;
+    assert_int_equal(bg_store_begin(st, NULL), BG_OK);
+    for (int k = 0; k < 300; k++) {
+        char code[32], serial[32];
+        snprintf(code, sizeof code, "L%03d", k);
+        add_lot(st, code, "NTC");
+        for (int i = 0; i < 2; i++) {
+            snprintf(serial, sizeof serial, "P%03d-%d", k, i);
+            assert_int_equal(bg_store_probe_add(st, serial, code, NULL, NULL, NULL), BG_OK);
+            calibrate(st, serial, 10000.0 + 3.7 * i + 0.01 * k, 3950.0 + 1.3 * i,
+                      "2026-11-24T08:00:00Z");
+        }
+    }
+    assert_int_equal(bg_store_commit(st, NULL), BG_OK);
+    assert_int_equal(bg_qa_part_charts(st, "NTC", &o, &p, NULL), BG_OK);
+    assert_int_equal(p.nlots, 300);
+    assert_int_equal(p.nskipped, 0);
+    assert_int_equal(p.baseline, 300);
+    assert_string_equal(p.lots[299].code, "L299");
+    /* lot 299: R25 10002.99 and 10006.69 ohm: mean deviation 0.0484 % (arithmetic) */
+    assert_close(p.lots[299].r25_mean_pct, 0.0484, 1e-7, 0);
+    bg_qa_part_release(&p);
+    bg_store_close(st);
+}
+
+int main(void)
+{
+    gsl_set_error_handler(test_gsl_handler);
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(lot_statistics_against_numpy),
+        cmocka_unit_test(part_charts_against_numpy),
+        cmocka_unit_test(probe_history_keeps_all_100),
+        cmocka_unit_test(part_of_300_lots),
+    };
+    return cmocka_run_group_tests_name("qa", tests, setup, teardown);
+}
