@@ -1,9 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* bandgap lot add|list|show: production lots with their nominal curve and tolerances. */
 #include <getopt.h>
-#include <math.h>
 #include <stdio.h>
-#include <stdlib.h>
 #include <string.h>
 
 #include "cli.h"
