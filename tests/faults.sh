@@ -13,7 +13,7 @@ B() { "$BIN" --db "$T/f.db" "$@"; }
 Q() { sqlite3 -cmd '.timeout 30000' "$T/f.db" "$1"; }
 
 B init > /dev/null
-B lot add L --part P --r25 10k --beta 3950 --tol-r25 1% --tol-beta 1% > /dev/null
+B lot add L --part P --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1% > /dev/null
 B probe add K --lot L > /dev/null
 B probe add C1 --lot L > /dev/null
 B probe add C2 --lot L > /dev/null

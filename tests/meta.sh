@@ -20,7 +20,7 @@ v=$("$BIN" --version | head -n 1)
 case "$v" in "bandgap "[0-9]*.[0-9]*.[0-9]*) ;; *) bad "--version first line is '$v'" ;; esac
 
 if [ -w /dev/full ]; then
-    "$BIN" eval --model sh3 --coef 1.4e-3,2.37e-4,9.9e-8 --ohms 3000 > /dev/full 2>/dev/null
+    "$BIN" eval --model sh3 --coef 1.4e-3,2.37e-4,9.9e-8 --ohms 3000R > /dev/full 2>/dev/null
     rc=$?
     [ "$rc" -eq 74 ] || bad "output to /dev/full exited $rc, expected 74 (EX_IOERR)"
 fi

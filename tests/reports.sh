@@ -20,7 +20,7 @@ for f in calibration-report lot-report table-report; do
     else echo "not ok demo writes and names $f.html"; fail=1; fi
 done
 "$BANDGAP" --db "$db" lut --probe GH-0417 --fixed 10k --adc-bits 12 --range -15C:55C \
-    --max-error 0.05C --fixed-tol 0.1% --excitation 3.3 --dissipation 1.5mW/K \
+    --max-error 0.05C --fixed-tol 0.1% --supply 3.3V --dissipation 1.5mW/K \
     --report "$dir/table.html" --format json -o "$dir/table.json" > /dev/null || fail=1
 if cmp -s "$dir/table.html" "$dir/demo/table-report.html"; then echo "ok table report reproducible"
 else echo "not ok table report reproducible"; fail=1; fi

@@ -339,9 +339,7 @@ def checks():
           all(abs(t / step - round(t / step)) < 1e-9 for t in t_rows[1:-1]) and
           all(b > a for a, b in zip(t_rows, t_rows[1:])), str(t_rows))
     # self-heating: I^2 R at the largest resistance read, over the dissipation constant given
-    amps = {"uA": 1e-6, "mA": 1e-3, "nA": 1e-9}
-    ex = run["excitation"].split()
-    current = float(ex[0]) * amps[ex[1]]
+    current = run["measuring_current_a"]  # stored as a number in A (schema 4)
     p_uw = 1e6 * current ** 2 * max(g["ohms"] for g in readings)
     diss = float(re.search(r"over ([0-9.]+) mW/K", open(run_html).read()).group(1)) * 1e-3
     check("run: self-heating estimate is I^2 R_max over the dissipation constant",

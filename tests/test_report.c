@@ -181,6 +181,16 @@ static void calibration_report(void **state)
                 strstr(closing, "id=\"closing-note\""));
     free(html);
 
+    /* since schema 4 the measuring current is a number in A: the same estimate from it */
+    r.run.excitation[0] = '\0';
+    r.run.measuring_current_a = 1e-5;
+    assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
+    assert_true(r.have_current);
+    assert_close(r.power_w, 1e-10 * rmax, 1e-12, 0.0);
+    html = render("calibration", &r, &h);
+    assert_non_null(strstr(html, "<th>Measuring current</th><td>10 \xC2\xB5" "A</td>"));
+    free(html);
+
     /* a validity range that does not start or end on the round step: the table still runs
     ** end to end, its first and last rows the range's ends (R there from the beta equation) */
     r.fit.t_min_k = 273.15 - 20.02, r.fit.t_max_k = 273.15 + 60.01;
@@ -229,7 +239,7 @@ static void calibration_report_without_covariance(void **state)
     bg_report_head h = { 1, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
     char *html = render("calibration", &r, &h);
     assert_non_null(strstr(html, "not available: the fit has no degrees of freedom"));
-    assert_non_null(strstr(html, "not estimated (needs the excitation as a current"));
+    assert_non_null(strstr(html, "not estimated (needs the measuring current"));
     assert_null(strstr(html, "class=\"coverage\""));
     free(html);
     /* a result that was never computed is refused, not rendered with garbage */

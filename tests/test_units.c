@@ -1,6 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* Units: temperature scales (ITS-90 offset, published) and resistance notation (common
-** practice: SI prefixes, the "4k7" infix form of IEC 60062 resistor marking). */
+/* Units: temperature scales (ITS-90 offset, published), resistance notation (common
+** practice: SI prefixes, the "4k7" infix form of IEC 60062 resistor marking), relative values
+** (%, ppm) and SI quantities; every refusal of a bare number with its exact message. */
 #include "testutil.h"
 
 static void temperatures(void **state)
@@ -57,21 +58,118 @@ static void differences(void **state)
     assert_close(d, 0.05, 1e-14, 0); /* 1 F interval = 5/9 K (definition) */
     assert_int_equal(bg_units_parse_tdiff("0.05", &d, &err), BG_EINVAL);
     assert_int_equal(bg_units_parse_tdiff("-1K", &d, &err), BG_EINVAL);
-    assert_int_equal(bg_units_parse_fraction("1%", &d, NULL), BG_OK);
-    assert_close(d, 0.01, 1e-15, 0);
-    assert_int_equal(bg_units_parse_fraction("0.5 %", &d, NULL), BG_OK);
-    assert_close(d, 0.005, 1e-15, 0);
-    assert_int_equal(bg_units_parse_fraction("1%%", &d, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "'-1K': must be greater than zero");
+    /* a signed correction (a reference's Y1): zero and negatives, still with a unit */
+    assert_int_equal(bg_units_parse_tcorr("-0.1712K", &d, NULL), BG_OK);
+    assert_close(d, -0.1712, 1e-15, 0);
+    assert_int_equal(bg_units_parse_tcorr("-171.2mK", &d, NULL), BG_OK);
+    assert_close(d, -0.1712, 1e-15, 0);
+    assert_int_equal(bg_units_parse_tcorr("0K", &d, NULL), BG_OK);
+    assert_true(d == 0.0);
+    assert_int_equal(bg_units_parse_tcorr("-0.1712", &d, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "'-0.1712': temperature difference needs a unit (K, mK, C or F)");
+}
+
+/* 1 % = 1e-2 and 1 ppm = 1e-6 (definitions, ISO 80000-1 annex; common practice). */
+static void relative_values(void **state)
+{
+    (void)state;
+    static const struct { const char *s; double v; } ok[] = {
+        { "1%", 0.01 },   { "0.5 %", 0.005 },  { "0.1%", 0.001 },    { "250ppm", 2.5e-4 },
+        { "250 ppm", 2.5e-4 }, { " 50ppm ", 5e-5 }, { "0%", 0.0 }, { "1e2ppm", 1e-4 },
+    };
+    for (size_t i = 0; i < sizeof ok / sizeof ok[0]; i++) {
+        double d = -1.0;
+        assert_int_equal(bg_units_parse_fraction(ok[i].s, &d, NULL), BG_OK);
+        assert_close(d, ok[i].v, 1e-15, 0);
+    }
+    /* stored as the double nearest the decimal fraction, not one rounding away from it */
+    double d;
+    assert_int_equal(bg_units_parse_fraction("0.5%", &d, NULL), BG_OK);
+    assert_true(d == 0.005);
+    assert_int_equal(bg_units_parse_fraction("5000ppm", &d, NULL), BG_OK);
+    assert_true(d == 0.005);
+    static const struct { const char *s, *msg; } bad[] = {
+        { "0.5", "'0.5': a bare number is refused: a relative value needs its unit, % or ppm "
+                 "(e.g. 1%, 0.05% or 250ppm)" },
+        { "1", "'1': a bare number is refused: a relative value needs its unit, % or ppm "
+               "(e.g. 1%, 0.05% or 250ppm)" },
+        { "1%%", "'1%%': unknown unit '%%': a relative value takes % or ppm (e.g. 1%, 0.05% or "
+                 "250ppm)" },
+        { "0.005x", "'0.005x': unknown unit 'x': a relative value takes % or ppm (e.g. 1%, "
+                    "0.05% or 250ppm)" },
+        { "5ppb", "'5ppb': unknown unit 'ppb': a relative value takes % or ppm (e.g. 1%, "
+                  "0.05% or 250ppm)" },
+        { "%", "'%': not a relative value with its unit, % or ppm (e.g. 1%, 0.05% or 250ppm)" },
+        { "-1%", "'-1%': must not be negative" },
+        { "nan%", "'nan%': not a relative value with its unit, % or ppm (e.g. 1%, 0.05% or "
+                  "250ppm)" },
+    };
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+        bg_error err = BG_ERROR_INIT;
+        double u = -7.0;
+        assert_int_equal(bg_units_parse_fraction(bad[i].s, &u, &err), BG_EINVAL);
+        assert_string_equal(err.msg, bad[i].msg);
+        assert_true(u == -7.0); /* untouched on error */
+    }
+}
+
+/* SI prefixes (SI Brochure, 9th edition, table 7; published): 1 uA = 1e-6 A, 1 mV = 1e-3 V. */
+static void si_quantities(void **state)
+{
+    (void)state;
+    static const struct { const char *s, *unit; double v; } ok[] = {
+        { "3.3V", "V", 3.3 },         { "3.3 V", "V", 3.3 },          { "10uA", "A", 1e-5 },
+        { "10 uA", "A", 1e-5 },       { "10\xC2\xB5" "A", "A", 1e-5 },
+        { "10 \xCE\xBC" "A", "A", 1e-5 },
+        { "100mV", "V", 0.1 },        { "1.5mW/K", "W/K", 1.5e-3 },   { "3950K", "K", 3950.0 },
+        { "3950 K", "K", 3950.0 },    { "2.5nA", "A", 2.5e-9 },       { "1kV", "V", 1e3 },
+        { "0.2 W/K", "W/K", 0.2 },
+    };
+    for (size_t i = 0; i < sizeof ok / sizeof ok[0]; i++) {
+        double v = -1.0;
+        assert_int_equal(bg_units_parse_si(ok[i].s, ok[i].unit, &v, NULL), BG_OK);
+        assert_close(v, ok[i].v, 1e-15, 0);
+    }
+    double x;
+    assert_int_equal(bg_units_parse_si("10uA", "A", &x, NULL), BG_OK);
+    assert_true(x == 1e-5); /* 10 * 1e-6 would be 1.0000000000000001e-05 */
+    static const struct { const char *s, *unit, *msg; } bad[] = {
+        { "3.3", "V", "'3.3': a bare number is refused: give the unit, V, optionally after an "
+                      "SI prefix (p, n, u, m, k, M, G)" },
+        { "3950", "K", "'3950': a bare number is refused: give the unit, K, optionally after "
+                       "an SI prefix (p, n, u, m, k, M, G)" },
+        { "1.5", "W/K", "'1.5': a bare number is refused: give the unit, W/K, optionally after "
+                        "an SI prefix (p, n, u, m, k, M, G)" },
+        { "3950k", "K", "'3950k': unknown unit 'k' (expected K, optionally after an SI prefix "
+                        "p, n, u, m, k, M or G)" },
+        { "10uV", "A", "'10uV': unknown unit 'uV' (expected A, optionally after an SI prefix "
+                       "p, n, u, m, k, M or G)" },
+        { "3.3VV", "V", "'3.3VV': unknown unit 'VV' (expected V, optionally after an SI prefix "
+                        "p, n, u, m, k, M or G)" },
+        { "0V", "V", "'0V': must be greater than zero" },
+        { "-1mA", "A", "'-1mA': must be greater than zero" },
+        { "V", "V", "'V': not a value in V" },
+        { "", "A", "'': not a value in A" },
+        { "1e999V", "V", "'1e999V': not a value in V" },
+    };
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+        bg_error err = BG_ERROR_INIT;
+        double v = -7.0;
+        assert_int_equal(bg_units_parse_si(bad[i].s, bad[i].unit, &v, &err), BG_EINVAL);
+        assert_string_equal(err.msg, bad[i].msg);
+        assert_true(v == -7.0);
+    }
 }
 
 static void resistances(void **state)
 {
     (void)state;
     static const struct { const char *s; double v; } ok[] = {
-        { "3000", 3000 },      { "10k", 10000 },      { "10K", 10000 },   { "4k7", 4700 },
+        { "3000R", 3000 },     { "10k", 10000 },      { "10K", 10000 },   { "4k7", 4700 },
         { "1.5M", 1.5e6 },     { "2R2", 2.2 },        { "470R", 470 },    { "10kohm", 10000 },
-        { "10 k\xCE\xA9", 10000 }, { "100 ohms", 100 }, { "1M05", 1.05e6 }, { "2.2e3", 2200 },
-        { "3k01", 3010 },      { "1G", 1e9 },
+        { "10 k\xCE\xA9", 10000 }, { "100 ohms", 100 }, { "1M05", 1.05e6 }, { "2.2e3ohm", 2200 },
+        { "3k01", 3010 },      { "1G", 1e9 },         { "3000 ohm ", 3000 }, { "0R5", 0.5 },
     };
     for (size_t i = 0; i < sizeof ok / sizeof ok[0]; i++) {
         double r;
@@ -90,6 +188,15 @@ static void resistances(void **state)
     double r;
     bg_units_parse_ohms("1m", &r, &err);
     assert_string_equal(err.msg, "'1m': ambiguous prefix 'm' (use M for megaohm)");
+    /* a bare number could be ohm or kilohm: refused, with the accepted forms */
+    static const char *bare[] = { "3000", "10", " 2.2e3 ", "4.7\t" };
+    for (size_t i = 0; i < sizeof bare / sizeof bare[0]; i++) {
+        char want[256];
+        assert_int_equal(bg_units_parse_ohms(bare[i], &r, &err), BG_EINVAL);
+        snprintf(want, sizeof want, "'%s': a bare number is refused: give the unit, R or ohm, "
+                 "or a prefix k, M or G (e.g. 470R, 100ohm, 10k, 4k7, 1M5)", bare[i]);
+        assert_string_equal(err.msg, want);
+    }
 }
 
 static void formatting(void **state)
@@ -107,6 +214,12 @@ static void formatting(void **state)
     assert_string_equal(bg_units_format_ohms(5989.411673, 6, b, sizeof b), "5989.41");
     assert_string_equal(bg_units_format_ohms(401859.7246, 6, b, sizeof b), "401860");
     assert_string_equal(bg_units_format_ohms(207.861671, 6, b, sizeof b), "207.862");
+    assert_string_equal(bg_units_format_si(1e-5, "A", 3, b, sizeof b), "10 \xC2\xB5" "A");
+    assert_string_equal(bg_units_format_si(0.1, "V", 3, b, sizeof b), "100 mV");
+    assert_string_equal(bg_units_format_si(3.3, "V", 3, b, sizeof b), "3.3 V");
+    assert_string_equal(bg_units_format_si(2.5e-9, "A", 3, b, sizeof b), "2.5 nA");
+    assert_string_equal(bg_units_format_si(0.9996e-3, "A", 3, b, sizeof b), "1 mA");
+    assert_string_equal(bg_units_format_si(1.5e-3, "W/K", 3, b, sizeof b), "1.5 mW/K");
 }
 
 int main(void)
@@ -115,6 +228,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(temperatures), cmocka_unit_test(temperature_rejects),
         cmocka_unit_test(differences),  cmocka_unit_test(resistances),
+        cmocka_unit_test(relative_values), cmocka_unit_test(si_quantities),
         cmocka_unit_test(formatting),
     };
     return cmocka_run_group_tests_name("units", tests, NULL, NULL);

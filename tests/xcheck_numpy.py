@@ -171,7 +171,7 @@ def check_fit(tmp, name, model, T, R, uT, uR, t0=298.15):
 
 def check_eval():
     A, B, C = 1.40e-3, 2.37e-4, 9.90e-8  # published (Wikipedia "Thermistor")
-    js = run(["eval", "--model", "sh3", "--coef", "1.40e-3,2.37e-4,9.90e-8", "--ohms", "3000",
+    js = run(["eval", "--model", "sh3", "--coef", "1.40e-3,2.37e-4,9.90e-8", "--ohms", "3000R",
               "--ohms", "12k", "--temp", "-10C", "--json"])
     for res in js["results"]:
         R = res["ohms"]

@@ -102,7 +102,8 @@ BG_API int bg_store_ref_each(bg_store *st, bg_ref_cb cb, void *ctx, bg_error *er
 typedef struct bg_run {
     long long id, probe_id, reference_id; /* reference_id 0: none */
     char serial[BG_TEXT], ref_ident[BG_TEXT];
-    char operator_name[BG_TEXT], medium[BG_TEXT], ambient[BG_TEXT], excitation[BG_TEXT];
+    char operator_name[BG_TEXT], medium[BG_TEXT], ambient[BG_TEXT];
+    char excitation[BG_TEXT]; /* free text of runs imported before schema 4, read only */
     char started_at[BG_TIME], source[BG_NOTE], note[BG_NOTE], imported_at[BG_TIME];
     long long nreadings, nexcluded, nfits;
     /* schema 3 */
@@ -116,13 +117,16 @@ typedef struct bg_run {
                                 ** it was not); on import, required when it is */
     int new_run;                /* import only: import readings identical to an earlier run's
                                 ** of the probe as a new run on purpose */
+    double measuring_current_a, measuring_voltage_v; /* the probe read with; 0: not given */
 } bg_run;
 
 /* Create a run of probe 'meta->serial' from the readings 'rs' in one transaction.  Uses
-** serial, ref_ident ("" for none), operator_name, medium, ambient, excitation, started_at (""
-** takes the first reading's time, else now), source, note, ref_overdue and new_run from
-** 'meta'.  With a reference correction, each reading's temperature is corrected and the raw
-** value kept.  The run keeps the SHA-256 of its readings.  Any problem is BG_EINVAL naming
+** serial, ref_ident ("" for none), operator_name, medium, ambient, measuring_current_a or
+** measuring_voltage_v (at most one, > 0; 0 for not given), started_at ("" takes the first
+** reading's time, else now), source, note, ref_overdue and new_run from 'meta'.  A free-text
+** 'excitation' is no longer stored: it is refused (BG_EINVAL), as is a current together with
+** a voltage.  With a reference correction, each reading's temperature is corrected and the
+** raw value kept.  The run keeps the SHA-256 of its readings.  Any problem is BG_EINVAL naming
 ** the file (and line where there is one), and nothing is written: an unknown probe or
 ** reference, a 'ref_ohms' file without a platinum reference, a reading the correction makes
 ** impossible; readings identical to an earlier run's of the same probe (the message names
@@ -134,6 +138,10 @@ BG_API int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *me
                            long long *run_id, bg_error *err);
 
 BG_API int bg_store_run_get(bg_store *st, long long run_id, bg_run *out, bg_error *err);
+/* What run 'r' was measured with, for people: "measuring current 10 \xC2\xB5A", "measuring
+** voltage 100 mV", an older run's free text as it was typed ("excitation 10 uA"), or
+** "measuring current -" when none was given.  Writes into 'buf' of 'size' bytes; returns it. */
+BG_API char *bg_store_run_measuring(const bg_run *r, char *buf, size_t size);
 /* The newest run of a probe (the latest start time; of equal times the last imported):
 ** BG_EINVAL when it has none. */
 BG_API int bg_store_run_latest(bg_store *st, long long probe_id, long long *run_id,

@@ -138,13 +138,13 @@ static int demo_database(struct cli_ctx *dctx)
 {
     const char *a_init[] = { "init", NULL };
     const char *a_lot[] = { "lot", "add", DEMO_LOT, "--part", "SOIL-NTC-10K", "--r25", "10k",
-                            "--beta", "3950", "--pair", "25/85", "--tol-r25", "1%",
+                            "--beta", "3950K", "--pair", "25/85", "--tol-r25", "1%",
                             "--tol-beta", "0.5%", "--note", "invented demo lot", NULL };
     const char *a_lot2[] = { "lot", "add", DEMO_LOT2, "--part", "SOIL-NTC-10K", "--r25",
-                             "10k", "--beta", "3950", "--pair", "25/85", "--tol-r25", "1%",
+                             "10k", "--beta", "3950K", "--pair", "25/85", "--tol-r25", "1%",
                              "--tol-beta", "0.5%", "--note", "invented demo lot", NULL };
     const char *a_ref[] = { "ref", "add", "REF-7", "--cert", "INVENTED-CAL-2026-0117",
-                            "--due", "2027-09-30", "--linear", "0.0042,-0.00011,20", NULL };
+                            "--due", "2027-09-30", "--linear", "0.0042K,-0.00011,20C", NULL };
     int rc;
     if ((rc = run(dctx, cmd_init, a_init)) != BG_OK || (rc = run(dctx, cmd_lot, a_lot)) != BG_OK ||
         (rc = run(dctx, cmd_lot, a_lot2)) != BG_OK || (rc = run(dctx, cmd_ref, a_ref)) != BG_OK)
@@ -171,7 +171,7 @@ static int demo_import_round(struct cli_ctx *dctx, const char *dir, int round)
         const char *a_probe[] = { "probe", "add", serial, "--lot", lot, NULL };
         const char *a_imp[] = { "import", path, "--probe", serial, "--ref", "REF-7",
                                 "--operator", "I. Nventa", "--medium", "stirred water-glycol",
-                                "--ambient", "21 degC", "--excitation", "10 uA", NULL };
+                                "--ambient", "21 degC", "--measuring-current", "10uA", NULL };
         if ((round == 1 && (rc = run(dctx, cmd_probe, a_probe)) != BG_OK) ||
             (rc = run(dctx, cmd_import, a_imp)) != BG_OK)
             return rc;
@@ -238,7 +238,7 @@ static int demo_table(struct cli_ctx *dctx, const char *dir, const char *tfile)
     const char *a_lut[] = { "lut", "--probe", DEMO_PROBE, "--fixed", "10k", "--sensor-side",
                             "low", "--adc-bits", "12", "--range", "-15C:55C", "--max-error",
                             "0.05C", "--symbol", "glasshouse_ntc", "--fixed-tol", "0.1%",
-                            "--excitation", "3.3", "--dissipation", "1.5mW/K", "-o", cfile,
+                            "--supply", "3.3V", "--dissipation", "1.5mW/K", "-o", cfile,
                             "--report", tfile, NULL };
     printf("\n== a firmware table for an invented board (probe %s on the low side of a 10k"
            "\n   divider, 12-bit ADC, 3.3 V): %s ==\n\n", DEMO_PROBE, cfile);

@@ -8,13 +8,16 @@
 
 static const char import_usage[] =
     "Usage: bandgap import FILE --probe SERIAL [--ref ID] [--operator NAME] [--medium TEXT]\n"
-    "                      [--ambient TEXT] [--excitation TEXT] [--at TIME] [--note TEXT]\n"
+    "                      [--ambient TEXT] [--measuring-current AMPS |\n"
+    "                      --measuring-voltage VOLTS] [--at TIME] [--note TEXT]\n"
     "                      [--new-run] [--ref-overdue WHY]\n"
     "Create a calibration run of probe SERIAL from the readings in FILE ('-' reads standard\n"
     "input; format in docs/readings-csv.md).  With --ref, the reference's correction is\n"
     "applied to every reading and the raw value kept.  The import is one transaction: any\n"
     "bad row is reported as FILE:LINE and nothing is written.  --at gives the start time\n"
-    "(ISO 8601; default: the first reading's time, else now).\n"
+    "(ISO 8601; default: the first reading's time, else now).  --measuring-current gives\n"
+    "the current the probe was read with, with its unit (10uA, 0.1mA), or --measuring-voltage\n"
+    "the voltage (100mV); a bare number is refused.\n"
     "The run keeps the SHA-256 of its readings: readings identical to an earlier run's of the\n"
     "same probe are refused (naming that run) unless --new-run says that this is a new run\n"
     "on purpose.  A reference thermometer past its calibration due date (a reading, or the\n"
@@ -68,12 +71,15 @@ static int print_imported(bg_store *st, long long run_id, size_t n, int json)
 
 int cmd_import(int argc, char **argv, struct cli_ctx *ctx)
 {
-    enum { O_PROBE = 1, O_REF, O_OP, O_MED, O_AMB, O_EXC, O_AT, O_NOTE, O_JSON, O_NEW, O_OVERDUE };
+    enum { O_PROBE = 1, O_REF, O_OP, O_MED, O_AMB, O_EXC, O_AT, O_NOTE, O_JSON, O_NEW, O_OVERDUE,
+           O_MCUR, O_MVOLT };
     static const struct option opts[] = {
         { "probe", required_argument, NULL, O_PROBE }, { "ref", required_argument, NULL, O_REF },
         { "operator", required_argument, NULL, O_OP }, { "medium", required_argument, NULL, O_MED },
         { "ambient", required_argument, NULL, O_AMB },
-        { "excitation", required_argument, NULL, O_EXC },
+        { "measuring-current", required_argument, NULL, O_MCUR },
+        { "measuring-voltage", required_argument, NULL, O_MVOLT },
+        { "excitation", required_argument, NULL, O_EXC }, /* the old spelling, refused by name */
         { "at", required_argument, NULL, O_AT },       { "note", required_argument, NULL, O_NOTE },
         { "json", no_argument, NULL, O_JSON },         { "help", no_argument, NULL, 'h' },
         { "new-run", no_argument, NULL, O_NEW },
@@ -100,7 +106,17 @@ int cmd_import(int argc, char **argv, struct cli_ctx *ctx)
         case O_MED: rc = set_text(meta.medium, sizeof meta.medium, "--medium", optarg); break;
         case O_AMB: rc = set_text(meta.ambient, sizeof meta.ambient, "--ambient", optarg); break;
         case O_EXC:
-            rc = set_text(meta.excitation, sizeof meta.excitation, "--excitation", optarg);
+            return cli_usage_error("import", "--excitation is now --measuring-current (e.g. "
+                                   "10uA) or --measuring-voltage (e.g. 100mV), with its unit");
+        case O_MCUR: case O_MVOLT:
+            if (meta.measuring_current_a > 0.0 || meta.measuring_voltage_v > 0.0)
+                return cli_usage_error("import", "give --measuring-current or "
+                                       "--measuring-voltage once");
+            if (bg_units_parse_si(optarg, c == O_MCUR ? "A" : "V", c == O_MCUR ?
+                                  &meta.measuring_current_a : &meta.measuring_voltage_v,
+                                  &err) != BG_OK)
+                return cli_usage_error("import", "--measuring-%s: %s", c == O_MCUR ?
+                                       "current" : "voltage", err.msg);
             break;
         case O_AT:
             if (!bg_csv_valid_time(optarg) || strlen(optarg) >= sizeof meta.started_at)

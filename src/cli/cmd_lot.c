@@ -1,20 +1,19 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* bandgap lot add|list|show: production lots with their nominal curve and tolerances. */
 #include <getopt.h>
-#include <math.h>
 #include <stdio.h>
-#include <stdlib.h>
 #include <string.h>
 
 #include "cli.h"
 
 static const char lot_usage[] =
-    "Usage: bandgap lot add CODE --part P --r25 OHMS --beta K [--pair T1/T2]\n"
-    "                   --tol-r25 PCT --tol-beta PCT [--note TEXT]\n"
+    "Usage: bandgap lot add CODE --part P --r25 OHMS --beta B [--pair T1/T2]\n"
+    "                   --tol-r25 REL --tol-beta REL [--note TEXT]\n"
     "       bandgap lot list [--json]\n"
     "       bandgap lot show CODE [--json]\n"
-    "A production lot: part number, nominal R25 and B (for the pair, default 25/85 degC)\n"
-    "and their tolerances (1% or 0.01).  Codes are stored exactly as given.\n";
+    "A production lot: part number, nominal R25 (10k, 4k7, 470R, 3000ohm) and B in kelvin\n"
+    "(3950K) for the pair (default 25/85, in degC), and their tolerances with their unit\n"
+    "(1%, 0.5% or 5000ppm; a bare number is refused).  Codes are stored exactly as given.\n";
 
 struct lot_args {
     bg_lot lot;
@@ -36,7 +35,6 @@ static int lot_parse(int argc, char **argv, struct lot_args *a, struct cli_ctx *
     bg_error err = BG_ERROR_INIT;
     bg_lot *lot = &a->lot;
     int c;
-    char *end;
 
     opterr = 0;
     while ((c = getopt_long(argc, argv, ":h", opts, NULL)) != -1) {
@@ -49,9 +47,8 @@ static int lot_parse(int argc, char **argv, struct lot_args *a, struct cli_ctx *
             a->have_r25 = 1;
             break;
         case O_BETA:
-            lot->beta_k = strtod(optarg, &end);
-            if (*end || !(lot->beta_k > 0.0) || !isfinite(lot->beta_k))
-                return cli_usage_error("lot", "--beta: '%s': expected B in K > 0", optarg);
+            if (bg_units_parse_si(optarg, "K", &lot->beta_k, &err) != BG_OK)
+                return cli_usage_error("lot", "--beta: %s", err.msg);
             a->have_beta = 1;
             break;
         case O_PAIR:

@@ -25,8 +25,9 @@ static const char lut_usage[] =
     "Circuit:\n"
     "  --fixed OHMS --sensor-side low|high   divider (low: thermistor between the ADC input\n"
     "                                        and ground), with --parallel OHMS, --series OHMS\n"
-    "  --current AMPS --vref VOLTS           constant current, absolute reference\n"
-    "  --ohms-input [--ohms-per-code R]      resistance input (default 1 ohm per code)\n"
+    "  --current AMPS --vref VOLTS           constant current, absolute reference (100uA,\n"
+    "                                        2.5V)\n"
+    "  --ohms-input [--ohms-per-code OHMS]   resistance input (default 1R per code)\n"
     "  --adc-bits N (8..24, default 12)  --full-scale pow2|pow2-1 (default pow2)\n"
     "Values are signed integers in --resolution degC (default 0.01), qN a fixed point with N\n"
     "fractional bits (1..16), or float; K with --kelvin.  Out-of-range\n"
@@ -34,8 +35,9 @@ static const char lut_usage[] =
     "The reported error is that of the table and its rounding.  The error budget adds, at\n"
     "--budget-at T1,T2,... (default: the ends and middle of the range) and as the worst case\n"
     "over the range: half an LSB of the ADC, the stored fit's U(k=2), the fixed resistor at\n"
-    "--fixed-tol PCT, and self-heating at --excitation VOLTS (divider supply) over\n"
-    "--dissipation mW/K; combined as root-sum-square and as a worst-case sum.  With a stored\n"
+    "--fixed-tol REL (0.1% or 1000ppm), and self-heating at --supply VOLTS (the divider's\n"
+    "supply, 3.3V) over --dissipation W/K (1.5mW/K); combined as root-sum-square and as a\n"
+    "worst-case sum.  Every value takes its unit; a bare number is refused.  With a stored\n"
     "fit the range must lie inside the calibrated range unless --allow-extrapolation.\n"
     "Output is reproducible byte for byte; --timestamp adds the time of generation.\n"
     "--json, before or after 'lut', is --format json (with another --format: a usage error).\n"
@@ -58,7 +60,8 @@ static int parse_range(const char *s, double *lo, double *hi, bg_error *err)
 
 enum { O_FIT = 1, O_PROBE, O_FIXED, O_SIDE, O_PAR, O_SER, O_BITS, O_FS, O_CUR, O_VREF,
        O_OHMSIN, O_OPC, O_RANGE, O_STEP, O_MAXERR, O_RES, O_KELVIN, O_FORMAT, O_SYMBOL,
-       O_OUT, O_EXTRA, O_JSON, O_BAT, O_FTOL, O_EXC, O_DISS, O_STRAT, O_REPORT, O_STAMP };
+       O_OUT, O_EXTRA, O_JSON, O_BAT, O_FTOL, O_EXC, O_DISS, O_STRAT, O_REPORT, O_SUPPLY,
+       O_STAMP };
 
 static const struct option lut_opts[] = {
     CLI_INLINE_OPTIONS,
@@ -76,7 +79,8 @@ static const struct option lut_opts[] = {
     { "allow-extrapolation", no_argument, NULL, O_EXTRA },
     { "budget-at", required_argument, NULL, O_BAT },
     { "fixed-tol", required_argument, NULL, O_FTOL },
-    { "excitation", required_argument, NULL, O_EXC },
+    { "supply", required_argument, NULL, O_SUPPLY },
+    { "excitation", required_argument, NULL, O_EXC }, /* the old spelling, refused by name */
     { "dissipation", required_argument, NULL, O_DISS },
     { "strategy", required_argument, NULL, O_STRAT },
     { "report", required_argument, NULL, O_REPORT },
@@ -129,9 +133,10 @@ static int circuit_option(struct lut_args *a, int c, const char *arg)
         ci->full_scale_pow2 = strcmp(arg, "pow2") == 0;
         break;
     case O_CUR: case O_VREF: case O_OPC:
-        v = strtod(arg, &end);
-        if (*end || !(v > 0.0) || !isfinite(v))
-            return cli_usage_error("lut", "'%s': expected a number > 0", arg);
+        if ((c == O_OPC ? bg_units_parse_ohms(arg, &v, &err)
+                        : bg_units_parse_si(arg, c == O_CUR ? "A" : "V", &v, &err)) != BG_OK)
+            return cli_usage_error("lut", "--%s: %s", c == O_CUR ? "current" : c == O_VREF ?
+                                   "vref" : "ohms-per-code", err.msg);
         *(c == O_CUR ? &ci->current_a : c == O_VREF ? &ci->vref_v : &ci->ohms_per_code) = v;
         a->current |= c != O_OPC;
         break;
@@ -188,8 +193,6 @@ static int other_option(struct lut_args *a, int c, const char *arg)
 {
     bg_budget_opts *bo = &a->rq.budget;
     bg_error err = BG_ERROR_INIT;
-    char *end;
-    double v;
     switch (c) {
     case O_FIT:
         if (cli_parse_id(arg, &a->rq.fit_id) != BG_OK)
@@ -221,17 +224,14 @@ static int other_option(struct lut_args *a, int c, const char *arg)
         if (bg_units_parse_fraction(arg, &bo->fixed_tol, &err) != BG_OK)
             return cli_usage_error("lut", "--fixed-tol: %s", err.msg);
         break;
-    default: /* O_EXC, O_DISS */
-        v = strtod(arg, &end);
-        if (c == O_DISS && strcmp(end, "mW/K") == 0)
-            end += 4;
-        if (*end || !(v > 0.0) || !isfinite(v))
-            return cli_usage_error("lut", "--%s: '%s': expected a number > 0",
-                                   c == O_EXC ? "excitation" : "dissipation", arg);
-        if (c == O_EXC)
-            bo->excitation_v = v;
-        else
-            bo->dissipation_w_per_k = v * 1e-3; /* given in mW/K */
+    case O_EXC:
+        return cli_usage_error("lut", "--excitation is now --supply: the divider's supply "
+                               "voltage with its unit, e.g. --supply 3.3V");
+    default: /* O_SUPPLY, O_DISS */
+        if (bg_units_parse_si(arg, c == O_SUPPLY ? "V" : "W/K", c == O_SUPPLY ?
+                              &bo->excitation_v : &bo->dissipation_w_per_k, &err) != BG_OK)
+            return cli_usage_error("lut", "--%s: %s", c == O_SUPPLY ? "supply" : "dissipation",
+                                   err.msg);
         break;
     }
     return BG_OK;

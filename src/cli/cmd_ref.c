@@ -12,11 +12,66 @@ static const char ref_usage[] =
     "       bandgap ref list [--json]\n"
     "A reference thermometer with its calibration certificate and, optionally, a correction\n"
     "applied to every reading imported with --ref ID:\n"
-    "  --linear Y1,Y2,T0   t = t_read + Y1 + Y2 (t_read - T0): Y1 in K, Y2 in K/K, T0 in degC\n"
+    "  --linear Y1,Y2,T0   t = t_read + Y1 + Y2 (t_read - T0): Y1 a correction with its unit\n"
+    "                      (-0.1712K, 4.2mK), Y2 in K/K, T0 a temperature with its unit (20C)\n"
     "                      (the form of the GUM, JCGM 100:2008 H.3)\n"
     "  --cvd R0,A,B,C      the reference is a platinum resistance thermometer read in ohm (the\n"
     "                      readings file has a ref_ohms column); IEC 60751 Callendar-Van Dusen\n"
-    "                      coefficients, R0 in ohm, A, B, C per degC^n\n";
+    "                      coefficients, R0 with its unit (100R), A, B, C per degC^n\n";
+
+/* Copy the part of 's' before its first comma into 'buf' and return what follows the comma
+** (NULL when there is no comma or the part does not fit). */
+static const char *first_field(const char *s, char *buf, size_t size)
+{
+    const char *c = strchr(s, ',');
+    if (!c || (size_t)(c - s) >= size)
+        return NULL;
+    memcpy(buf, s, (size_t)(c - s));
+    buf[c - s] = '\0';
+    return c + 1;
+}
+
+/* --linear Y1,Y2,T0: Y1 a temperature correction with its unit, Y2 in K/K, T0 a temperature
+** with its unit. */
+static int parse_linear(const char *s, bg_ref *ref)
+{
+    bg_error err = BG_ERROR_INIT;
+    char y1[64], y2[64];
+    const char *rest = first_field(s, y1, sizeof y1), *t0 = NULL;
+    double v;
+    size_t n;
+    if (rest)
+        t0 = first_field(rest, y2, sizeof y2);
+    if (!t0 || strchr(t0, ','))
+        return cli_usage_error("ref", "--linear: '%s': expected Y1,Y2,T0, e.g. -0.1712K,0.00218,"
+                               "20C (Y1 with its unit, Y2 in K/K, T0 with its unit)", s);
+    if (bg_units_parse_tcorr(y1, &ref->lin_c0_k, &err) != BG_OK ||
+        bg_units_parse_temp(t0, BG_UNIT_NONE, &ref->lin_t0_k, &err) != BG_OK)
+        return cli_usage_error("ref", "--linear: %s", err.msg);
+    if (cli_parse_list(y2, &v, 1, &n, &err) != BG_OK)
+        return cli_usage_error("ref", "--linear: Y2 (K/K): %s", err.msg);
+    ref->lin_c1 = v;
+    ref->kind = BG_REF_LINEAR;
+    return BG_OK;
+}
+
+/* --cvd R0,A,B,C: R0 a resistance with its unit, A, B, C the coefficients per degC^n. */
+static int parse_cvd(const char *s, bg_ref *ref)
+{
+    bg_error err = BG_ERROR_INIT;
+    char r0[64];
+    const char *rest = first_field(s, r0, sizeof r0);
+    double v[3];
+    size_t n = 0;
+    if (!rest || cli_parse_list(rest, v, 3, &n, &err) != BG_OK || n != 3)
+        return cli_usage_error("ref", "--cvd: '%s': expected R0,A,B,C, e.g. 100R,3.9083e-3,"
+                               "-5.775e-7,-4.183e-12 (R0 with its unit)", s);
+    if (bg_units_parse_ohms(r0, &ref->cvd_r0_ohm, &err) != BG_OK)
+        return cli_usage_error("ref", "--cvd: R0: %s", err.msg);
+    ref->cvd_a = v[0], ref->cvd_b = v[1], ref->cvd_c = v[2];
+    ref->kind = BG_REF_CVD;
+    return BG_OK;
+}
 
 /* Parse the options into 'ref'; -1 after --help. */
 static int ref_parse(int argc, char **argv, bg_ref *ref, struct cli_ctx *ctx)
@@ -28,10 +83,7 @@ static int ref_parse(int argc, char **argv, bg_ref *ref, struct cli_ctx *ctx)
         { "note", required_argument, NULL, O_NOTE }, { "json", no_argument, NULL, O_JSON },
         { "help", no_argument, NULL, 'h' },          { NULL, 0, NULL, 0 },
     };
-    bg_error err = BG_ERROR_INIT;
-    double v[4];
-    size_t n;
-    int c;
+    int c, rc;
 
     opterr = 0;
     while ((c = getopt_long(argc, argv, ":h", opts, NULL)) != -1) {
@@ -47,21 +99,11 @@ static int ref_parse(int argc, char **argv, bg_ref *ref, struct cli_ctx *ctx)
                 return cli_usage_error("ref", "--due: '%s': not an ISO 8601 date", optarg);
             snprintf(ref->due_date, sizeof ref->due_date, "%s", optarg);
             break;
-        case O_LIN:
+        case O_LIN: case O_CVD:
             if (ref->kind != BG_REF_NONE)
                 return cli_usage_error("ref", "give either --linear or --cvd");
-            if (cli_parse_list(optarg, v, 3, &n, &err) != BG_OK || n != 3)
-                return cli_usage_error("ref", "--linear: expected Y1,Y2,T0 (K, K/K, degC)");
-            ref->kind = BG_REF_LINEAR;
-            ref->lin_c0_k = v[0], ref->lin_c1 = v[1], ref->lin_t0_k = v[2] + BG_ZERO_C_K;
-            break;
-        case O_CVD:
-            if (ref->kind != BG_REF_NONE)
-                return cli_usage_error("ref", "give either --linear or --cvd");
-            if (cli_parse_list(optarg, v, 4, &n, &err) != BG_OK || n != 4)
-                return cli_usage_error("ref", "--cvd: expected R0,A,B,C");
-            ref->kind = BG_REF_CVD;
-            ref->cvd_r0_ohm = v[0], ref->cvd_a = v[1], ref->cvd_b = v[2], ref->cvd_c = v[3];
+            if ((rc = c == O_LIN ? parse_linear(optarg, ref) : parse_cvd(optarg, ref)) != BG_OK)
+                return rc;
             break;
         case O_NOTE:
             if (strlen(optarg) >= sizeof ref->note)

@@ -170,7 +170,6 @@ static int report_parse_args(int argc, char **argv, struct cli_ctx *ctx, struct 
     };
     bg_report_opts *o = &a->o;
     int c;
-    char *end;
 
     opterr = 0;
     while ((c = getopt_long(argc, argv, ":ho:", opts, NULL)) != -1) {
@@ -190,13 +189,9 @@ static int report_parse_args(int argc, char **argv, struct cli_ctx *ctx, struct 
         case O_WHY: o->why = optarg; break;
         case O_JSON: ctx->json = 1; break;
         case O_DISS: {
-            double v = strtod(optarg, &end);
-            if (strcmp(end, "mW/K") == 0)
-                end += 4;
-            if (*end || !(v > 0.0) || !isfinite(v))
-                return cli_usage_error("report", "--dissipation: '%s': expected mW/K > 0",
-                                       optarg);
-            o->dissipation_w_per_k = v * 1e-3;
+            bg_error err = BG_ERROR_INIT;
+            if (bg_units_parse_si(optarg, "W/K", &o->dissipation_w_per_k, &err) != BG_OK)
+                return cli_usage_error("report", "--dissipation: %s", err.msg);
             break;
         }
         case 'o': a->out_path = optarg; break;

@@ -26,7 +26,6 @@ int cli_inline_given(const struct cli_inline *in)
 int cli_inline_option(struct cli_inline *in, int opt, const char *arg, const char *cmd)
 {
     bg_error err = BG_ERROR_INIT;
-    char *end;
     switch (opt) {
     case CLI_IN_MODEL: in->model = arg; return BG_OK;
     case CLI_IN_COEF:
@@ -39,9 +38,8 @@ int cli_inline_option(struct cli_inline *in, int opt, const char *arg, const cha
             return cli_usage_error(cmd, "--r25: %s", err.msg);
         return BG_OK;
     case CLI_IN_BETA:
-        in->beta = strtod(arg, &end);
-        if (*end || !(in->beta > 0.0) || !isfinite(in->beta))
-            return cli_usage_error(cmd, "--beta: '%s': expected a B constant in K > 0", arg);
+        if (bg_units_parse_si(arg, "K", &in->beta, &err) != BG_OK)
+            return cli_usage_error(cmd, "--beta: %s", err.msg);
         return BG_OK;
     default:
         if (bg_units_parse_temp(arg, BG_UNIT_NONE, &in->t0_k, &err) != BG_OK)

@@ -38,7 +38,15 @@ void cli_json_run_fields(json_out *j, const bg_run *r)
     json_str(j, "operator", r->operator_name[0] ? r->operator_name : NULL);
     json_str(j, "medium", r->medium[0] ? r->medium : NULL);
     json_str(j, "ambient", r->ambient[0] ? r->ambient : NULL);
-    json_str(j, "excitation", r->excitation[0] ? r->excitation : NULL);
+    json_str(j, "excitation", r->excitation[0] ? r->excitation : NULL); /* schema < 4 only */
+    if (r->measuring_current_a > 0.0)
+        json_num(j, "measuring_current_a", r->measuring_current_a);
+    else
+        json_null(j, "measuring_current_a");
+    if (r->measuring_voltage_v > 0.0)
+        json_num(j, "measuring_voltage_v", r->measuring_voltage_v);
+    else
+        json_null(j, "measuring_voltage_v");
     json_str(j, "started_at", r->started_at);
     json_str(j, "source", r->source);
     json_str(j, "note", r->note[0] ? r->note : NULL);
@@ -260,9 +268,10 @@ void cli_print_run_head(const bg_run *r)
 {
     printf("run %lld of probe %s, started %s, imported %s from %s\n", r->id, r->serial,
            r->started_at, r->imported_at, r->source);
-    printf("  reference %s, operator %s, medium %s, ambient %s, excitation %s\n",
+    char ms[BG_TEXT + 32];
+    printf("  reference %s, operator %s, medium %s, ambient %s, %s\n",
            cli_or_dash(r->ref_ident), cli_or_dash(r->operator_name), cli_or_dash(r->medium),
-           cli_or_dash(r->ambient), cli_or_dash(r->excitation));
+           cli_or_dash(r->ambient), bg_store_run_measuring(r, ms, sizeof ms));
     if (r->note[0])
         printf("  note: %s\n", r->note);
     if (r->ref_overdue[0])

@@ -31,7 +31,7 @@ best() { sort -n | head -n 1; }
 for i in 1 2 3; do
     rm -f "$out/imp.db" "$out/bare.db"
     B="$BUILD/bandgap --db $out/imp.db"
-    $B init > /dev/null && $B lot add L --part P --r25 10k --beta 3950 --tol-r25 1% --tol-beta 1% > /dev/null
+    $B init > /dev/null && $B lot add L --part P --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1% > /dev/null
     $B probe add K --lot L > /dev/null
     printf 'CREATE TABLE t(temp_k, ohms, u_temp_k);\n' | sqlite3 "$out/bare.db"
     t0=$(now); $B import "$out/big.csv" --probe K > /dev/null; t1=$(now)
@@ -98,10 +98,10 @@ if command -v valgrind >/dev/null 2>&1; then
     base=$(ir "$out/lut_base")
     for st in uniform minimal indexed logf; do
         case $st in
-        uniform) "$BUILD/bandgap" lut --r25 10k --beta 3950 --fixed 10k --adc-bits 12 \
+        uniform) "$BUILD/bandgap" lut --r25 10k --beta 3950K --fixed 10k --adc-bits 12 \
                      --range -40C:125C --step 16 --symbol ntc -o "$out/ntc_$st.c" > /dev/null ;;
         logf) cp "$out/sh_logf.c" "$out/ntc_$st.c" ;;
-        *) "$BUILD/bandgap" lut --r25 10k --beta 3950 --fixed 10k --adc-bits 12 \
+        *) "$BUILD/bandgap" lut --r25 10k --beta 3950K --fixed 10k --adc-bits 12 \
                --range -40C:125C --max-error 0.05C --strategy $st --symbol ntc \
                -o "$out/ntc_$st.c" > /dev/null ;;
         esac

@@ -1,6 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* Fuzz target: the unit parsers (temperatures, differences, resistances, fractions, B pairs,
-** ISO 8601 times) on arbitrary text. */
+/* Fuzz target: the unit parsers (temperatures, differences, resistances, relative values, SI
+** quantities, B pairs, ISO 8601 times) on arbitrary text. */
 #include <stddef.h>
 #include <stdint.h>
 #include <string.h>
@@ -24,8 +24,11 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     bg_units_parse_temp(s, BG_UNIT_NONE, &v, &err);
     bg_units_parse_temp(s, BG_UNIT_C, &v, &err);
     bg_units_parse_tdiff(s, &v, &err);
+    bg_units_parse_tcorr(s, &v, &err);
     bg_units_parse_ohms(s, &v, &err);
     bg_units_parse_fraction(s, &v, &err);
+    bg_units_parse_si(s, "A", &v, &err);
+    bg_units_parse_si(s, "W/K", &v, &err);
     bg_units_parse_unit(s, &u, &err);
     bg_model_parse_pair(s, &v, &w, &err);
     bg_csv_valid_time(s);

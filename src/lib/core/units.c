@@ -1,5 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* Temperatures and resistances at the edges of bandgap.  t/degC = T/K - 273.15 and
+/* Quantities at the edges of bandgap: temperatures, resistances, relative values and SI
+** quantities, each with its unit (a bare number is refused).  t/degC = T/K - 273.15 and
 ** t/degF = 1.8 t/degC + 32 exactly (ITS-90, Preston-Thomas 1990; common practice for degF). */
 #include <math.h>
 #include <stdio.h>
@@ -103,7 +104,8 @@ int bg_units_parse_temp(const char *s, bg_temp_unit default_unit, double *t_k, b
     return BG_OK;
 }
 
-int bg_units_parse_tdiff(const char *s, double *dt_k, bg_error *err)
+/* A temperature difference with its unit into kelvin; 'sign_ok' allows zero and negatives. */
+static int parse_difference(const char *s, int sign_ok, double *dt_k, bg_error *err)
 {
     const char *p = skip_space(s);
     double v, scale;
@@ -125,10 +127,20 @@ int bg_units_parse_tdiff(const char *s, double *dt_k, bg_error *err)
         scale = 1.0;
     else
         return bg_error_set(err, BG_EINVAL, "'%s': unknown unit '%s'", s, p);
-    if (!(v > 0.0))
+    if (!sign_ok && !(v > 0.0))
         return bg_error_set(err, BG_EINVAL, "'%s': must be greater than zero", s);
     *dt_k = v * scale;
     return BG_OK;
+}
+
+int bg_units_parse_tdiff(const char *s, double *dt_k, bg_error *err)
+{
+    return parse_difference(s, 0, dt_k, err);
+}
+
+int bg_units_parse_tcorr(const char *s, double *dt_k, bg_error *err)
+{
+    return parse_difference(s, 1, dt_k, err);
 }
 
 static double prefix_scale(char c)
@@ -161,12 +173,20 @@ static size_t strip_ohm_word(const char *s, size_t len)
 int bg_units_parse_ohms(const char *s, double *r_ohm, bg_error *err)
 {
     const char *p = skip_space(s);
-    size_t len = strip_ohm_word(p, strlen(p)), n;
+    size_t trim = strlen(p), len, n;
     double v = 0.0, scale = 1.0;
+
+    while (trim > 0 && (p[trim - 1] == ' ' || p[trim - 1] == '\t'))
+        trim--;
+    len = strip_ohm_word(p, trim);
 
     n = bgi_num_scan(p, len, '.', &v);
     if (n == 0)
         return bg_error_set(err, BG_EINVAL, "'%s': not a resistance", s);
+    if (n == len && len == trim) /* no prefix, no R, no ohm word */
+        return bg_error_set(err, BG_EINVAL, "'%s': a bare number is refused: give the unit, "
+                            "R or ohm, or a prefix k, M or G (e.g. 470R, 100ohm, 10k, 4k7, 1M5)",
+                            s);
     if (n < len && (p[n] == ' ' || p[n] == '\t')) {
         /* "10 k": a space may separate the number from a prefix, which must then end it. */
         size_t k = n;
@@ -214,23 +234,91 @@ int bg_units_parse_ohms(const char *s, double *r_ohm, bg_error *err)
     return BG_OK;
 }
 
+/* A relative value has its unit, since "0.5" could be a fraction (50 %) or a percentage. */
 int bg_units_parse_fraction(const char *s, double *frac, bg_error *err)
 {
+    static const char forms[] = "% or ppm (e.g. 1%, 0.05% or 250ppm)";
     const char *p = skip_space(s);
-    double v;
+    double v, scale;
     size_t n = bgi_num_scan(p, strlen(p), '.', &v);
 
     if (n == 0)
-        return bg_error_set(err, BG_EINVAL, "'%s': not a number or percentage", s);
+        return bg_error_set(err, BG_EINVAL, "'%s': not a relative value with its unit, %s", s,
+                            forms);
     p = skip_space(p + n);
-    if (*p == '%' && *skip_space(p + 1) == '\0')
-        v /= 100.0;
-    else if (*p != '\0')
-        return bg_error_set(err, BG_EINVAL, "'%s': not a number or percentage", s);
+    if (*p == '\0')
+        return bg_error_set(err, BG_EINVAL, "'%s': a bare number is refused: a relative value "
+                            "needs its unit, %s", s, forms);
+    if (match_word(p, "%"))
+        scale = 1e2;
+    else if (match_word(p, "ppm"))
+        scale = 1e6;
+    else
+        return bg_error_set(err, BG_EINVAL, "'%s': unknown unit '%s': a relative value takes %s",
+                            s, p, forms);
     if (!(v >= 0.0))
         return bg_error_set(err, BG_EINVAL, "'%s': must not be negative", s);
-    *frac = v;
+    *frac = v / scale; /* a division by an exact power of ten rounds once: 0.5% is 0.005 */
     return BG_OK;
+}
+
+/* The length of an SI prefix at 'p' (0 when there is none) and its power of ten.  'm' is
+** milli: the unit symbol must follow it, so it cannot be read as mega. */
+static size_t si_prefix(const char *p, int *pow10)
+{
+    static const struct { const char *w; int e; } px[] = {
+        { "p", -12 }, { "n", -9 }, { "u", -6 }, { "\xC2\xB5", -6 }, /* U+00B5 */
+        { "\xCE\xBC", -6 },                                          /* U+03BC */
+        { "m", -3 },  { "k", 3 },  { "M", 6 },  { "G", 9 },
+    };
+    for (size_t i = 0; i < sizeof px / sizeof px[0]; i++) {
+        size_t n = strlen(px[i].w);
+        if (strncmp(p, px[i].w, n) == 0) {
+            *pow10 = px[i].e;
+            return n;
+        }
+    }
+    return 0;
+}
+
+int bg_units_parse_si(const char *s, const char *unit, double *v, bg_error *err)
+{
+    const char *p = skip_space(s);
+    double x;
+    int e = 0;
+    size_t n = bgi_num_scan(p, strlen(p), '.', &x), k;
+
+    if (n == 0)
+        return bg_error_set(err, BG_EINVAL, "'%s': not a value in %s", s, unit);
+    p = skip_space(p + n);
+    if (*p == '\0')
+        return bg_error_set(err, BG_EINVAL, "'%s': a bare number is refused: give the unit, %s, "
+                            "optionally after an SI prefix (p, n, u, m, k, M, G)", s, unit);
+    if (!match_word(p, unit) && ((k = si_prefix(p, &e)) == 0 || !match_word(p + k, unit)))
+        return bg_error_set(err, BG_EINVAL, "'%s': unknown unit '%s' (expected %s, optionally "
+                            "after an SI prefix p, n, u, m, k, M or G)", s, p, unit);
+    /* divide by an exact power of ten for the small prefixes, so that 10uA is the double 1e-5 */
+    x = e < 0 ? x / pow(10.0, -e) : x * pow(10.0, e);
+    if (!(x > 0.0) || !isfinite(x))
+        return bg_error_set(err, BG_EINVAL, "'%s': must be greater than zero", s);
+    *v = x;
+    return BG_OK;
+}
+
+char *bg_units_format_si(double v, const char *unit, int sig, char *buf, size_t size)
+{
+    static const struct { double s; const char *w; } px[] = {
+        { 1e9, "G" }, { 1e6, "M" }, { 1e3, "k" }, { 1.0, "" }, { 1e-3, "m" },
+        { 1e-6, "\xC2\xB5" }, { 1e-9, "n" }, { 1e-12, "p" },
+    };
+    size_t i = 0, last = sizeof px / sizeof px[0] - 1;
+    if (!(fabs(v) > 0.0) || !isfinite(v))
+        i = 3; /* zero, NaN and infinities without a prefix */
+    else
+        while (i < last && fabs(v) < px[i].s * (1.0 - 0.5 * pow(10.0, 1 - sig)))
+            i++;
+    snprintf(buf, size, "%.*g %s%s", sig, v / px[i].s, px[i].w, unit);
+    return buf;
 }
 
 char *bg_units_format_temp(double t_k, bg_temp_unit unit, int decimals, char *buf, size_t size)

@@ -28,30 +28,6 @@ void bg_calib_report_release(bg_calib_report *r)
     memset(r, 0, sizeof *r);
 }
 
-/* "10 uA", "0.1mA", "2 V": the value in A or V and which */
-static int parse_excitation(const char *s, double *v, int *is_current)
-{
-    char *end;
-    double x = strtod(s, &end);
-    if (end == s || !(x > 0.0))
-        return 0;
-    while (*end == ' ')
-        end++;
-    double mul = 1.0;
-    if (strncmp(end, "\xc2\xb5", 2) == 0)
-        mul = 1e-6, end += 2;
-    else if (*end == 'u' || *end == 'n' || (*end == 'm' && end[1]))
-        mul = *end == 'u' ? 1e-6 : *end == 'n' ? 1e-9 : 1e-3, end++;
-    if (strcmp(end, "A") == 0)
-        *is_current = 1;
-    else if (strcmp(end, "V") == 0)
-        *is_current = 0;
-    else
-        return 0;
-    *v = x * mul;
-    return 1;
-}
-
 /* The u(T) band over the validity range and its largest value. */
 static void compute_band(bg_calib_report *r)
 {
@@ -127,9 +103,9 @@ int bg_calib_report_compute(bg_calib_report *r, bg_error *err)
         r->resid_mk[i] = 1e3 * (g->t_k - tf);
     }
     /* self-heating: the largest power is at the largest resistance */
-    double ex = NAN;
-    int is_i = 0;
-    r->have_current = parse_excitation(r->run.excitation, &ex, &is_i) && is_i;
+    double ex = r->run.measuring_current_a; /* a number in A since schema 4 */
+    /* an older run's free text is used when it reads as a current ("10 uA", "0.1mA") */
+    r->have_current = ex > 0.0 || bg_units_parse_si(r->run.excitation, "A", &ex, NULL) == BG_OK;
     r->excitation_a = r->have_current ? ex : NAN;
     r->power_w = r->have_current ? ex * ex * r->r_max_ohm : NAN;
     r->selfheat_mk = r->have_current && r->dissipation_w_per_k > 0.0 ?
@@ -268,7 +244,14 @@ static void conditions(FILE *f, const bg_calib_report *r)
     bgi_report_kv(f, "Operator", r->run.operator_name);
     bgi_report_kv(f, "Medium", r->run.medium);
     bgi_report_kv(f, "Ambient", r->run.ambient);
-    bgi_report_kv(f, "Excitation", r->run.excitation);
+    if (r->run.measuring_current_a > 0.0 || r->run.measuring_voltage_v > 0.0) {
+        int is_i = r->run.measuring_current_a > 0.0;
+        bgi_report_kv(f, is_i ? "Measuring current" : "Measuring voltage",
+                      bg_units_format_si(is_i ? r->run.measuring_current_a :
+                                         r->run.measuring_voltage_v, is_i ? "A" : "V", 4,
+                                         buf, sizeof buf));
+    } else
+        bgi_report_kv(f, "Excitation", r->run.excitation); /* free text, schema < 4 */
     fputs("<tr><th>Self-heating estimate</th><td id=\"selfheat\">", f);
     if (r->have_current) {
         fprintf(f, "at most ");
@@ -282,7 +265,8 @@ static void conditions(FILE *f, const bg_calib_report *r)
             fprintf(f, "; the temperature rise P/&#948; needs the dissipation constant "
                        "&#948; (--dissipation)");
     } else
-        fprintf(f, "not estimated (needs the excitation as a current, e.g. 10 uA)");
+        fprintf(f, "not estimated (needs the measuring current: import --measuring-current, "
+                   "e.g. 10uA)");
     fputs("</td></tr>\n", f);
     bg_model_name(&ft->model, name, sizeof name);
     snprintf(buf, sizeof buf, "least squares in temperature, model %s, %s; %zu readings used, "

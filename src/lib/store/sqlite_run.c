@@ -30,8 +30,8 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
         (rc = bgi_prepare(c, "INSERT INTO run(probe_id, reference_id, operator, medium, "
                           "ambient, excitation, started_at, source, note, imported_at, "
                           "t_raw_unit, first_reading, nreadings, readings_sha256, "
-                          "repeats_run, ref_overdue) "
-                          "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
+                          "repeats_run, ref_overdue, measuring_current_a, measuring_voltage_v) "
+                          "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, imp->probe_id);
     if (imp->ref_id)
@@ -55,6 +55,10 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
     else
         sqlite3_bind_null(q, 15);
     bgi_bind_text_or_null(q, 16, imp->ref_overdue);
+    if (meta->measuring_current_a > 0.0)
+        sqlite3_bind_double(q, 17, meta->measuring_current_a);
+    if (meta->measuring_voltage_v > 0.0)
+        sqlite3_bind_double(q, 18, meta->measuring_voltage_v);
     if (sqlite3_step(q) != SQLITE_DONE)
         rc = bgi_db_fail(c, err, "cannot create the run");
     else
@@ -155,7 +159,8 @@ int bgi_sqlite_import(bgi_conn *c, const struct bgi_import *imp, long long *run_
     "(SELECT count(*) FROM exclusion e WHERE e.reading_id BETWEEN r.first_reading " \
     "  AND r.first_reading + r.nreadings - 1), " \
     "(SELECT count(*) FROM fit f WHERE f.run_id = r.id), " \
-    "r.readings_sha256, coalesce(r.repeats_run, 0), x.due_date, r.ref_overdue"
+    "r.readings_sha256, coalesce(r.repeats_run, 0), x.due_date, r.ref_overdue, " \
+    "coalesce(r.measuring_current_a, 0), coalesce(r.measuring_voltage_v, 0)"
 #define RUN_FROM " FROM run r JOIN probe p ON r.probe_id = p.id " \
     "LEFT JOIN reference x ON r.reference_id = x.id "
 
@@ -182,6 +187,8 @@ static void run_row(sqlite3_stmt *q, bg_run *r)
     bgi_copy_text(r->ref_due_date, sizeof r->ref_due_date, q, 18);
     bgi_copy_text(r->ref_overdue, sizeof r->ref_overdue, q, 19);
     r->new_run = 0;
+    r->measuring_current_a = sqlite3_column_double(q, 20);
+    r->measuring_voltage_v = sqlite3_column_double(q, 21);
 }
 
 int bgi_sqlite_run_get(bgi_conn *c, long long run_id, bg_run *out, bg_error *err)

@@ -476,6 +476,38 @@ static int import_run(bg_store *st, const bg_readings *rs, const bg_run *meta,
     return rc;
 }
 
+/* The measuring current or voltage: a number with its unit, at most one of the two. */
+static int check_measuring(const bg_run *meta, const char *src, bg_error *err)
+{
+    double i_a = meta->measuring_current_a, u_v = meta->measuring_voltage_v;
+    if (meta->excitation[0])
+        return bg_error_set(err, BG_EINVAL, "%s: a free-text excitation is no longer stored; "
+                            "give the measuring current in A or voltage in V", src);
+    if (!(i_a >= 0.0 && isfinite(i_a)) || !(u_v >= 0.0 && isfinite(u_v)))
+        return bg_error_set(err, BG_EINVAL, "%s: the measuring current and voltage must be "
+                            "> 0 (or 0 for not given)", src);
+    if (i_a > 0.0 && u_v > 0.0)
+        return bg_error_set(err, BG_EINVAL, "%s: give the measuring current or the measuring "
+                            "voltage, not both", src);
+    return BG_OK;
+}
+
+char *bg_store_run_measuring(const bg_run *r, char *buf, size_t size)
+{
+    char v[32];
+    if (r->measuring_current_a > 0.0)
+        snprintf(buf, size, "measuring current %s",
+                 bg_units_format_si(r->measuring_current_a, "A", 4, v, sizeof v));
+    else if (r->measuring_voltage_v > 0.0)
+        snprintf(buf, size, "measuring voltage %s",
+                 bg_units_format_si(r->measuring_voltage_v, "V", 4, v, sizeof v));
+    else if (r->excitation[0])
+        snprintf(buf, size, "excitation %s", r->excitation);
+    else
+        snprintf(buf, size, "measuring current -");
+    return buf;
+}
+
 int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, long long *run_id,
                     bg_error *err)
 {
@@ -494,6 +526,8 @@ int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, lon
         (rc = check_text("medium", meta->medium, BG_TEXT, 0, err)) != BG_OK ||
         (rc = check_text("note", meta->note, BG_NOTE, 0, err)) != BG_OK ||
         (rc = check_text("reason", meta->ref_overdue, BG_NOTE, 0, err)) != BG_OK)
+        return rc;
+    if ((rc = check_measuring(meta, imp.src, err)) != BG_OK)
         return rc;
     if (meta->started_at[0] && !bg_csv_valid_time(meta->started_at))
         return bg_error_set(err, BG_EINVAL, "start time '%s': not an ISO 8601 date-time",
