@@ -161,7 +161,7 @@ sanitize: deps
 
 # ---- fuzzing: libFuzzer with clang; the committed corpus is replayed by the sanitizer suite --
 FUZZ_TIME ?= 60
-FUZZ_LIB = src/lib/core/csv.c src/lib/core/num.c src/lib/core/units.c src/lib/core/error.c \
+FUZZ_LIB = $(filter-out src/lib/core/version.c,$(wildcard src/lib/core/*.c)) \
            $(wildcard src/lib/model/*.c)
 FUZZ_TARGETS = csv units
 CLANG ?= $(shell command -v clang-14 || command -v clang)

@@ -203,7 +203,7 @@ void lut_print_summary(const bg_lut_result *r, const char *pre, FILE *b)
     static const struct { unsigned bit; const char *why; } need[] = {
         { BG_BUDGET_FIT, "fit U needs a stored fit" },
         { BG_BUDGET_RESISTOR, "resistor needs --fixed-tol" },
-        { BG_BUDGET_SELFHEAT, "self-heat needs --dissipation and, for a divider, --excitation" },
+        { BG_BUDGET_SELFHEAT, "self-heat needs --dissipation and, for a divider, --supply" },
     };
     const char *sep = "";
     fputs("(not given, so left out of RSS and sum: ", b);

@@ -111,7 +111,7 @@ static void budget(FILE *f, const bg_lut_result *r)
     if (!(t & BG_BUDGET_RESISTOR))
         fprintf(f, "%sfixed resistor (needs its tolerance: --fixed-tol)", sepr), sepr = "; ";
     if (!(t & BG_BUDGET_SELFHEAT))
-        fprintf(f, "%sself-heating (needs --dissipation and, for a divider, --excitation)", sepr);
+        fprintf(f, "%sself-heating (needs --dissipation and, for a divider, --supply)", sepr);
     fputs(".</p>\n", f);
 }
 
