@@ -644,4 +644,5 @@ const struct bgi_store_backend bgi_store_sqlite = {
     bgi_sqlite_lot_history,
     bgi_sqlite_artifact_next, bgi_sqlite_artifact_insert, bgi_sqlite_artifact_get,
     bgi_sqlite_artifact_each,
+    bgi_sqlite_part_spec_add, bgi_sqlite_part_spec_each,
 };

@@ -124,6 +124,12 @@ struct bgi_store_backend {
     int (*artifact_insert)(bgi_conn *c, const struct bgi_artifact_row *row, bg_error *err);
     int (*artifact_get)(bgi_conn *c, long long id, bg_artifact *out, bg_error *err);
     int (*artifact_each)(bgi_conn *c, bg_artifact_cb cb, void *ctx, bg_error *err);
+
+    /* a part's specifications (added with schema version 5) */
+    int (*part_spec_add)(bgi_conn *c, const bg_part_spec *p, const char *now, long long *id,
+                         bg_error *err);
+    int (*part_spec_each)(bgi_conn *c, const char *part, int newest_only, bg_part_spec_cb cb,
+                          void *ctx, bg_error *err);
 };
 
 /* The backends (sqlite.c, ...); store.c lists them by scheme. */
