@@ -33,7 +33,7 @@ B="$BANDGAP --db $db"
 id=$($B report --list --json | "$PYTHON" -c 'import json,sys; print([r["id"] for r in json.load(sys.stdin) if r["kind"] == "run"][0])')
 $B report --get "$id" -o "$dir/again.html" && cmp -s "$dir/again.html" "$dir/demo/calibration-report.html" \
     && echo "ok stored report written again byte for byte" || { echo "not ok stored report"; fail=1; }
-run=$($B report --list --json | "$PYTHON" -c 'import json,sys; print([json.loads(r["spec"])["run"] for r in json.load(sys.stdin) if r["kind"] == "run"][0])')
+run=$($B report --list --json | "$PYTHON" -c 'import json,sys; print([r["spec"]["run"] for r in json.load(sys.stdin) if r["kind"] == "run"][0])')
 sum1=$(cksum < "$db")
 if $B report --run "$run" -o "$dir/second.html" 2>/dev/null; then
     echo "not ok a second report of a run is refused"; fail=1

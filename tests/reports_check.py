@@ -116,12 +116,109 @@ document.querySelectorAll('svg[data-chart]').forEach(s => {
     flagged: s.querySelectorAll('.pt.flag').length,
     bars: Array.from(s.querySelectorAll('rect.bar')).map(b => +b.dataset.count),
     vertices: line ? line.points.numberOfItems : 0,
+    bands: s.querySelector('polygon.envelope') ? +s.querySelector('polygon.envelope').dataset.bands : 0,
+    envelope_vertices: s.querySelector('polygon.envelope') ?
+        s.querySelector('polygon.envelope').points.numberOfItems : 0,
     limits: s.querySelectorAll('line.limit').length,
     width: s.getBoundingClientRect().width };
 });
 return { charts: out, cautions: !!document.getElementById('cautions'),
          title: document.title, html: document.documentElement.outerHTML.length };
 """
+
+
+def pdf_pages_text(pdf):
+    """The text of each page of a PDF as Chromium (Skia) writes it: objects with Flate
+    streams, Type0 fonts with ToUnicode CMaps (PDF 32000-1:2008, 9.10.3), text shown with
+    Tj/TJ in hex strings (7.3.4.3), pages in the order of the page tree (7.7.3)."""
+    objs = {}
+    for m in re.finditer(rb"(\d+) 0 obj(.*?)endobj", pdf, re.S):
+        objs[int(m.group(1))] = m.group(2)
+
+    def stream(n):
+        b = objs[n]
+        m = re.search(rb"stream\r?\n(.*?)\r?\nendstream", b, re.S)
+        data = m.group(1)
+        return zlib.decompress(data) if b"/FlateDecode" in b[:m.start()] else data
+
+    def cmap(n):
+        out = {}
+        text = stream(n)
+        for blk in re.findall(rb"beginbfchar(.*?)endbfchar", text, re.S):
+            for a, b in re.findall(rb"<([0-9a-fA-F]+)>\s*<([0-9a-fA-F]+)>", blk):
+                out[int(a, 16)] = bytes.fromhex(b.decode()).decode("utf-16-be", "replace")
+        for blk in re.findall(rb"beginbfrange(.*?)endbfrange", text, re.S):
+            for a, b, c in re.findall(rb"<([0-9a-fA-F]+)>\s*<([0-9a-fA-F]+)>\s*<([0-9a-fA-F]+)>",
+                                      blk):
+                base = int(c, 16)
+                for k in range(int(a, 16), int(b, 16) + 1):
+                    out[k] = chr(base + k - int(a, 16))
+        return out
+
+    def pages(n):
+        b = objs[n]
+        if re.search(rb"/Type\s*/Pages", b):
+            kids = re.search(rb"/Kids\s*\[(.*?)\]", b, re.S).group(1)
+            return [p for k in re.findall(rb"(\d+) 0 R", kids) for p in pages(int(k))]
+        return [n]
+
+    root = int(re.search(rb"/Root (\d+) 0 R", pdf).group(1))
+    top = int(re.search(rb"/Pages (\d+) 0 R", objs[root]).group(1))
+    result = []
+    for p in pages(top):
+        b = objs[p]
+        fonts = {}
+        fd = re.search(rb"/Font\s*<<(.*?)>>", b, re.S)
+        for name, ref in re.findall(rb"/(\w+) (\d+) 0 R", fd.group(1) if fd else b""):
+            tu = re.search(rb"/ToUnicode (\d+) 0 R", objs[int(ref)])
+            fonts[name] = cmap(int(tu.group(1))) if tu else {}
+        cs = re.search(rb"/Contents\s*(\[.*?\]|\d+ 0 R)", b, re.S).group(1)
+        text, font = [], {}
+        for n in re.findall(rb"(\d+) 0 R", cs):
+            for m in re.finditer(rb"/(\w+)\s+[-\d.]+\s+Tf|(\[(?:[^\]]*)\])\s*TJ|<([0-9a-fA-F]*)>\s*Tj",
+                                 stream(int(n))):
+                if m.group(1):
+                    font = fonts.get(m.group(1), {})
+                    continue
+                hexes = re.findall(rb"<([0-9a-fA-F]*)>", m.group(2)) if m.group(2) else [m.group(3)]
+                s = ""
+                for h in hexes:
+                    raw = bytes.fromhex(h.decode())
+                    s += "".join(font.get(int.from_bytes(raw[i:i + 2], "big"), "?")
+                                 for i in range(0, len(raw) - 1, 2))
+                text.append(s)
+        result.append(" ".join(text))
+    return result
+
+
+def squash(text):
+    """Text without white space and with the ligatures a PDF may hold spelled out."""
+    for lig, letters in (("\ufb01", "fi"), ("\ufb02", "fl"), ("\ufb00", "ff"), ("\ufb03", "ffi"),
+                         ("\ufb04", "ffl")):
+        text = text.replace(lig, letters)
+    return re.sub(r"\s+", "", text)
+
+
+def pdf_checks(name, paper, pdf, html_path, closing):
+    """Every printed page carries the report's identifier and "page n of m" (CSS margin
+    boxes); the last page holds more than the running head, the cautions and the closing
+    note."""
+    text = open(html_path, encoding="utf-8").read()
+    rid = re.search(r'@top-right \{ content: "([^"]*)"', text)
+    pages = [squash(t) for t in pdf_pages_text(pdf)]
+    ok = rid is not None and len(pages) > 0
+    for i, t in enumerate(pages):
+        ok = ok and squash(rid.group(1)) in t and ("page%dof%d" % (i + 1, len(pages))) in t
+    check("%s: %s: report identifier and page n of m on every page" % (name, paper), ok,
+          rid.group(1) if rid else "no @top-right")
+    last = pages[-1] if pages else ""
+    for part in [rid.group(1) if rid else "", "page%dof%d" % (len(pages), len(pages))] + closing:
+        last = last.replace(squash(part), "", 1)
+    head = re.search(r'@top-left \{ content: "([^"]*)"', text)
+    if head:
+        last = last.replace(squash(head.group(1)), "", 1)
+    check("%s: %s: the last page holds more than the closing" % (name, paper), len(last) > 40,
+          last[:200])
 
 
 def png_ok(data):
@@ -154,6 +251,9 @@ def load(path, name):
     open(os.path.join(outdir, name + ".dom.html"), "w").write(dom)
     check(name + ": renders to PNG", png_ok(png))
     check(name + ": DOM read back", len(dom) > 1000 and info["cautions"])
+    closing = wd("POST", "/session/%s/execute/sync" % sid, {"script": (
+        "return ['cautions', 'closing-note'].map(i => document.getElementById(i))"
+        ".filter(e => e).map(e => e.textContent);"), "args": []})
     for paper, (w, h) in (("A4", (21.0, 29.7)), ("Letter", (21.59, 27.94))):
         pdf = base64.b64decode(wd("POST", "/session/%s/print" % sid, {
             "page": {"width": w, "height": h}, "margin": {"top": 1.4, "bottom": 1.4,
@@ -162,6 +262,7 @@ def load(path, name):
         pages = len(re.findall(rb"/Type\s*/Page[^s]", pdf))
         check("%s: prints on %s (%d pages)" % (name, paper, pages),
               pdf[:5] == b"%PDF-" and 1 <= pages <= 12)
+        pdf_checks(name, paper, pdf, path, closing)
     logs = wd("POST", "/session/%s/se/log" % sid, {"type": "browser"})
     errors = [e for e in logs if e.get("level") == "SEVERE"]
     check(name + ": no console errors", not errors, json.dumps(errors)[:300])
@@ -221,14 +322,22 @@ def checks():
               np.allclose(numbers(run_html, "readings", "resid"), res, rtol=0, atol=1e-6))
     rt = re.search(r'id="rt" data-from="([^"]+)" data-to="([^"]+)" data-step="([^"]+)"',
                    open(run_html).read())
-    cur = bg("curve", "--fit", str(fit_id), "--from", rt.group(1) + "C", "--to",
-             rt.group(2) + "C", "--step", rt.group(3) + "K", "--json")["rows"]
+    t_rows = numbers(run_html, "rt", "t")
+    cur = [bg("curve", "--fit", str(fit_id), "--from", "%.17gK" % (t + 273.15), "--to",
+              "%.17gK" % (t + 273.15), "--step", "1K", "--json")["rows"][0] for t in t_rows]
     check("run: R-T table equals curve --json (R, alpha, U)",
-          numbers(run_html, "rt", "r") == [c["ohms"] for c in cur] and
+          np.allclose(numbers(run_html, "rt", "r"), [c["ohms"] for c in cur], rtol=1e-13,
+                      atol=0) and
           np.allclose(numbers(run_html, "rt", "alpha"), [100 * c["alpha_per_k"] for c in cur],
-                      rtol=1e-15, atol=0) and
+                      rtol=1e-12, atol=0) and
           np.allclose(numbers(run_html, "rt", "U"), [1e3 * c["U_k2_k"] for c in cur],
-                      rtol=1e-15, atol=0))
+                      rtol=1e-12, atol=0))
+    step = float(rt.group(3))
+    check("run: R-T table runs over the validity range end to end",
+          np.isclose(t_rows[0], fit["range"]["t_min_k"] - 273.15, rtol=0, atol=1e-12) and
+          np.isclose(t_rows[-1], fit["range"]["t_max_k"] - 273.15, rtol=0, atol=1e-12) and
+          all(abs(t / step - round(t / step)) < 1e-9 for t in t_rows[1:-1]) and
+          all(b > a for a, b in zip(t_rows, t_rows[1:])), str(t_rows))
     # self-heating: I^2 R at the largest resistance read, over the dissipation constant given
     amps = {"uA": 1e-6, "mA": 1e-3, "nA": 1e-9}
     ex = run["excitation"].split()
@@ -297,8 +406,14 @@ def checks():
     # ---- the table report ------------------------------------------------------------------------
     charts = load(table_html, "table")
     tj = json.load(open(table_json))
-    check("table: the error chart has a vertex per code",
-          charts.get("table_error", {}).get("vertices") == tj["code_hi"] - tj["code_lo"] + 1)
+    ncodes = tj["code_hi"] - tj["code_lo"] + 1
+    m = re.search(r'id="error" data-codes="(\d+)" data-codes-per-band="(\d+)"',
+                  open(table_html).read())
+    ch = charts.get("table_error", {})
+    check("table: the error chart is an envelope of bands covering every code",
+          m is not None and int(m.group(1)) == ncodes and ch.get("vertices") == 0 and
+          ch.get("bands") == -(-ncodes // int(m.group(2))) and ch.get("bands") <= 256 and
+          ch.get("envelope_vertices") == 4 * ch.get("bands"), "%s %s" % (m and m.groups(), ch))
     check("table: max and RMS error equal lut --format json",
           numbers(table_html, "table", "maxerr") == [tj["max_error_c"]] and
           numbers(table_html, "table", "rmserr") == [tj["rms_error_c"]])

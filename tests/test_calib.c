@@ -339,6 +339,151 @@ static void lot_stopped(void **state)
     bg_store_close(st);
 }
 
+/* A run of 'serial' from 'text' started at 'at' (readings identical to an earlier run's on
+** purpose when 'again'); 'ref' (or NULL) with the reason 'why' (or NULL). */
+static long long import_at(bg_store *st, const char *serial, const char *text, const char *at,
+                           int again, const char *ref, const char *why)
+{
+    bg_readings rs = parse(text);
+    bg_run meta;
+    long long run = 0;
+    memset(&meta, 0, sizeof meta);
+    snprintf(meta.serial, sizeof meta.serial, "%s", serial);
+    snprintf(meta.started_at, sizeof meta.started_at, "%s", at);
+    snprintf(meta.ref_ident, sizeof meta.ref_ident, "%s", ref ? ref : "");
+    snprintf(meta.ref_overdue, sizeof meta.ref_overdue, "%s", why ? why : "");
+    strcpy(meta.source, "r.csv");
+    meta.new_run = again;
+    assert_int_equal(bg_store_import(st, &rs, &meta, &run, NULL), BG_OK);
+    bg_readings_release(&rs);
+    return run;
+}
+
+static long long fit_run(bg_store *st, long long run, const char *model, unsigned flags,
+                         bg_calib_result *r)
+{
+    bg_calib_request rq = bg_calib_default_request();
+    bg_error err = BG_ERROR_INIT;
+    rq.model = model;
+    rq.u_t_default_k = 0.002;
+    rq.store_flags = flags;
+    assert_int_equal(bg_calibrate_probe(st, "P1", run, &rq, r, &err), BG_OK);
+    return r->fit_id;
+}
+
+static long long current(bg_store *st)
+{
+    bg_fit_row f;
+    bg_run run;
+    assert_int_equal(bg_store_current_fit(st, "P1", &f, &run, NULL), BG_OK);
+    assert_int_equal(f.run_id, run.id);
+    return f.id;
+}
+
+/* The current fit is the newest fit of the latest run by start time: the run imported first
+** here is the later calibration; refitting the older run never changes the current fit, and
+** a latest run without a fit is an error, not the older run's fit. */
+static void current_fit_is_latest_runs(void **state)
+{
+    (void)state;
+    static const char *const serials[] = { "P1", NULL };
+    bg_store *st = fresh("cur.db", serials);
+    bg_calib_result r = BG_CALIB_RESULT_INIT;
+    bg_fit_row f;
+    bg_error err = BG_ERROR_INIT;
+    long long late = import_at(st, "P1", ohms_csv, "2027-05-20T09:00:00Z", 0, NULL, NULL);
+    long long early = import_at(st, "P1", ohms_csv, "2026-11-20T09:00:00Z", 1, NULL, NULL);
+    assert_true(early > late);
+    long long f_early = fit_run(st, early, "sh3", 0, &r);
+    assert_int_equal(bg_store_current_fit(st, "P1", &f, NULL, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "its latest run 1 (started 2027-05-20T09:00:00Z) is not "
+                                    "fitted"));
+    long long f_late = fit_run(st, late, "sh3", 0, &r);
+    assert_true(f_late > f_early);
+    assert_int_equal(current(st), f_late);
+    /* the README's order: the older run refitted with sh4 afterwards */
+    long long f_refit = fit_run(st, early, "sh4", 0, &r);
+    assert_true(f_refit > f_late);
+    assert_int_equal(current(st), f_late);
+    /* a second fit of the latest run is chosen for it */
+    long long f_late4 = fit_run(st, late, "sh4", 0, &r);
+    assert_int_equal(current(st), f_late4);
+    bg_calib_result_release(&r);
+    bg_store_close(st);
+}
+
+/* An identical fit (same readings, model and options) is not stored again and names the
+** stored one; --store-again stores it (the run's chosen fit again); a preview stores
+** nothing. */
+static void identical_fit_and_preview(void **state)
+{
+    (void)state;
+    static const char *const serials[] = { "P1", NULL };
+    bg_store *st = fresh("same.db", serials);
+    bg_calib_result r = BG_CALIB_RESULT_INIT;
+    long long run = import_at(st, "P1", ohms_csv, "2026-11-20T09:00:00Z", 0, NULL, NULL);
+    long long f1 = fit_run(st, run, "sh3", 0, &r);
+    assert_int_equal(r.stored, 1);
+    assert_int_equal(r.same_fit_id, 0);
+    long long f2 = fit_run(st, run, "sh4", 0, &r);
+    assert_int_equal(count_fits(st), 2);
+    assert_int_equal(fit_run(st, run, "sh3", 0, &r), f1);
+    assert_int_equal(r.stored, 0);
+    assert_int_equal(r.same_fit_id, f1);
+    assert_int_equal(r.run_fit_id, f2);
+    assert_int_equal(count_fits(st), 2);
+    /* other options that give other numbers: another fit */
+    bg_calib_request rq = bg_calib_default_request();
+    rq.model = "sh3", rq.u_t_default_k = 0.002, rq.linear_only = 1;
+    assert_int_equal(bg_calibrate_probe(st, "P1", run, &rq, &r, NULL), BG_OK);
+    assert_int_equal(r.stored, 1);
+    assert_int_equal(count_fits(st), 3);
+    /* a preview: nothing stored, the identical fit named */
+    assert_int_equal(fit_run(st, run, "sh3", BG_CALIB_DRY_RUN, &r), 0);
+    assert_int_equal(r.stored, 0);
+    assert_int_equal(r.same_fit_id, f1);
+    assert_int_equal(r.run_id, run);
+    assert_int_equal(fit_run(st, run, "poly:2", BG_CALIB_DRY_RUN, &r), 0);
+    assert_int_equal(r.same_fit_id, 0);
+    assert_int_equal(count_fits(st), 3);
+    /* stored again on purpose: the run's chosen fit */
+    long long f4 = fit_run(st, run, "sh3", BG_CALIB_STORE_SAME, &r);
+    assert_int_equal(r.stored, 1);
+    assert_int_equal(r.same_fit_id, f1);
+    assert_true(f4 > f1);
+    assert_int_equal(r.run_fit_id, f4);
+    assert_int_equal(current(st), f4);
+    bg_calib_result_release(&r);
+    bg_store_close(st);
+}
+
+/* A run whose reference was used past its due date: every fit of it carries the note. */
+static void overdue_reference_noted_on_fit(void **state)
+{
+    (void)state;
+    static const char *const serials[] = { "P1", NULL };
+    bg_store *st = fresh("due.db", serials);
+    bg_calib_result r = BG_CALIB_RESULT_INIT;
+    bg_ref ref;
+    memset(&ref, 0, sizeof ref);
+    strcpy(ref.ident, "R1");
+    strcpy(ref.certificate, "C1");
+    strcpy(ref.due_date, "2026-06-30");
+    assert_int_equal(bg_store_ref_add(st, &ref, NULL, NULL), BG_OK);
+    long long run = import_at(st, "P1", ohms_csv, "2026-11-20T09:00:00Z", 0, "R1",
+                              "checked at the ice point");
+    fit_run(st, run, "sh3", 0, &r);
+    size_t k = 0;
+    while (k < r.fit.nnotes && r.fit.notes[k].kind != BG_NOTE_REF_OVERDUE)
+        k++;
+    assert_true(k < r.fit.nnotes);
+    assert_non_null(strstr(r.fit.notes[k].msg, "reference 'R1' used past its due date "
+                                               "2026-06-30 (run 1): checked at the ice point"));
+    assert_string_equal(r.ref_overdue, r.fit.notes[k].msg);
+    bg_calib_result_release(&r);
+    bg_store_close(st);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -348,6 +493,9 @@ int main(void)
         cmocka_unit_test(auto_choice_against_numpy),
         cmocka_unit_test(lot_all_or_none),
         cmocka_unit_test(lot_stopped),
+        cmocka_unit_test(current_fit_is_latest_runs),
+        cmocka_unit_test(identical_fit_and_preview),
+        cmocka_unit_test(overdue_reference_noted_on_fit),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }

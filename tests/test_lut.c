@@ -85,20 +85,17 @@ static void compile_and_compare(const bg_lut *t, const bg_lut_spec *s)
     snprintf(path, sizeof path, "%s/main.c", dir);
     f = fopen(path, "w");
     assert_non_null(f);
-    if (flt)
-        fprintf(f, "#include <stdio.h>\n#include <stdint.h>\nfloat ntc_lookup(uint32_t code);\n"
-                   "int main(void) { long c; for (c = %ld; c <= %ld; c++) printf(\"%%.9g\\n\", "
-                   "(double)ntc_lookup((uint32_t)c)); return 0; }\n", t->code_lo - 2,
-                t->code_hi + 2);
-    else
-        fprintf(f, "#include <stdio.h>\n#include <stdint.h>\nint32_t ntc_lookup(uint32_t code);"
-                   "\nint main(void) { long c; for (c = %ld; c <= %ld; c++) printf(\"%%ld\\n\", "
-                   "(long)ntc_lookup((uint32_t)c)); return 0; }\n", t->code_lo - 2,
-                t->code_hi + 2);
+    /* the sentinels by name: a code below NTC_CODE_LO prints "below", above NTC_CODE_HI
+    ** "above" (the emitted file is included, so the names must exist and be constants) */
+    fprintf(f, "#include <stdio.h>\n#include \"ntc.c\"\nint main(void) { long c; for (c = %ld; "
+               "c <= %ld; c++) { %s v = ntc_lookup((uint32_t)c); if (v == NTC_CODE_BELOW_RANGE) "
+               "puts(\"below\"); else if (v == NTC_CODE_ABOVE_RANGE) puts(\"above\"); else "
+               "printf(\"%s\\n\", %sv); } return 0; }\n", t->code_lo - 2, t->code_hi + 2,
+            flt ? "float" : "int32_t", flt ? "%.9g" : "%ld", flt ? "(double)" : "(long)");
     fclose(f);
     snprintf(cmd, sizeof cmd, "cc -std=c99 -Wall -Wextra -pedantic -Werror -Wconversion "
-             "-ffp-contract=off -O2 %s/ntc.c %s/main.c -o %s/run && %s/run > %s/out.txt", dir,
-             dir, dir, dir, dir);
+             "-ffp-contract=off -O2 -I%s %s/main.c -o %s/run && %s/run > %s/out.txt", dir, dir,
+             dir, dir, dir);
     assert_int_equal(system(cmd), 0);
     /* the flash the table claims: the compiler's sizes of its const objects (nm -S) */
     snprintf(cmd, sizeof cmd, "cc -std=c99 -O2 -c %s/ntc.c -o %s/ntc.o && nm -S --radix=d %s/ntc.o | "
@@ -119,25 +116,26 @@ static void compile_and_compare(const bg_lut *t, const bg_lut_spec *s)
     for (long c = t->code_lo - 2; c <= t->code_hi + 2; c++) {
         double v;
         int st;
-        assert_int_equal(fscanf(f, "%lf", &v), 1);
+        char word[64];
+        assert_int_equal(fscanf(f, "%63s", word), 1);
+        if (strcmp(word, "below") == 0 || strcmp(word, "above") == 0) {
+            if (flt)
+                bg_lut_eval_float(t, c, &st);
+            else
+                bg_lut_eval(t, c, &st);
+            assert_int_equal(st, word[0] == 'b' ? BG_LUT_BELOW : BG_LUT_ABOVE);
+            assert_true(word[0] == 'b' ? c < t->code_lo : c > t->code_hi);
+            continue;
+        }
+        v = strtod(word, NULL);
         if (flt) {
             float want = bg_lut_eval_float(t, c, &st);
+            assert_int_equal(st, BG_LUT_OK);
             assert_true((float)v == want);
             v = (double)want; /* the float itself, not its 9-digit decimal */
-            if (st != BG_LUT_OK) {
-                assert_true(st == BG_LUT_BELOW ? v < -3e38 : v > 3e38);
-                continue;
-            }
         } else {
             int32_t want = bg_lut_eval(t, c, &st);
-            if (st == BG_LUT_BELOW) {
-                assert_true(v == -2147483648.0);
-                continue;
-            }
-            if (st == BG_LUT_ABOVE) {
-                assert_true(v == 2147483647.0);
-                continue;
-            }
+            assert_int_equal(st, BG_LUT_OK);
             assert_true(v == (double)want);
             v /= scale;
         }
@@ -163,6 +161,43 @@ static void emitted_c_agrees(void **state)
         s.kelvin = k == 2;
         assert_int_equal(bg_lut_build(&s, &t, NULL), BG_OK);
         compile_and_compare(&t, &s);
+        bg_lut_release(&t);
+    }
+}
+
+/* The sentinels name the ADC code; the emitted comment says what temperature each means on
+** the circuit.  On the low-side divider a lower code is a lower R, so hotter (t_indep, the
+** divider law and the beta equation); on the high side the other way round. */
+static void sentinels_say_which_way(void **state)
+{
+    (void)state;
+    for (int high = 0; high <= 1; high++) {
+        bg_lut_spec s = spec_10k(4, BG_LUT_CENTI);
+        bg_lut t = BG_LUT_INIT;
+        char *text = NULL, want[160];
+        size_t len = 0;
+        if (high)
+            s.circuit.kind = BG_CIRCUIT_DIVIDER_HIGH;
+        assert_int_equal(bg_lut_build(&s, &t, NULL), BG_OK);
+        /* the high-side divider reads 4096 - code of the low side's */
+        double t_lo = t_indep(high ? 4096.0 - (double)t.code_lo : (double)t.code_lo);
+        double t_hi = t_indep(high ? 4096.0 - (double)t.code_hi : (double)t.code_hi);
+        int below_is_hot = t_lo > t_hi;
+        assert_int_equal(below_is_hot, !high);
+        FILE *f = open_memstream(&text, &len);
+        assert_int_equal(bg_lut_emit_c(&t, &s, "ntc", "test", f, NULL), BG_OK);
+        fclose(f);
+        snprintf(want, sizeof want, " *   NTC_CODE_BELOW_RANGE: code < NTC_CODE_LO, on this "
+                 "circuit\n *     %s than %s degC\n", below_is_hot ? "hotter" : "colder",
+                 below_is_hot ? "125.000" : "-40.000");
+        assert_non_null(strstr(text, want));
+        snprintf(want, sizeof want, " *   NTC_CODE_ABOVE_RANGE: code > NTC_CODE_HI, on this "
+                 "circuit\n *     %s than %s degC\n", below_is_hot ? "colder" : "hotter",
+                 below_is_hot ? "-40.000" : "125.000");
+        assert_non_null(strstr(text, want));
+        assert_null(strstr(text, "NTC_BELOW"));
+        assert_null(strstr(text, "NTC_ABOVE"));
+        free(text);
         bg_lut_release(&t);
     }
 }
@@ -499,6 +534,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(breakpoints_and_error),
         cmocka_unit_test(emitted_c_agrees),
+        cmocka_unit_test(sentinels_say_which_way),
         cmocka_unit_test(strategies_and_formats),
         cmocka_unit_test(segments_are_minimal),
         cmocka_unit_test(oncurve_minimum_exhaustive),

@@ -158,7 +158,43 @@ static void calibration_report(void **state)
     assert_int_equal(count(html, "<tr class=\"rt\">"), 11);
     assert_int_equal(count(html, "<tr class=\"reading"), 9);
     assert_int_equal(count(html, "<tr class=\"reading excluded\""), 1);
+    /* units as a reader expects them (SI Brochure, 9th ed.): no "degC" or "ohm" on the page */
+    assert_null(strstr(html, "degC"));
+    assert_null(strstr(html, " ohm"));
+    assert_non_null(strstr(html, "T ref / \xc2\xb0" "C"));
+    assert_non_null(strstr(html, "R / \xce\xa9"));
+    /* the coefficients in one scientific format, 10 significant digits: R0 = 1e4, B = 3950 */
+    assert_non_null(strstr(html, "data-v=\"10000\">1.000000000e+04</td>"));
+    assert_non_null(strstr(html, "data-v=\"3950\">3.950000000e+03</td>"));
+    /* the grey band's caption says what it is and what it is not */
+    assert_non_null(strstr(html, "the uncertainty of the fitted curve, not the scatter of the "
+                                 "readings"));
+    /* every printed page: the report's number and "page n of m" in the margin boxes */
+    assert_non_null(strstr(html, "@top-right { content: \"BG-CAL-000042\";"));
+    assert_non_null(strstr(html, "counter(page) \" of \" counter(pages)"));
+    /* the last section, the cautions and the closing note in one block kept on one page */
+    const char *closing = strstr(html, "<div class=\"closing\">");
+    assert_non_null(closing);
+    assert_true(closing < strstr(html, "id=\"rt\"") && strstr(closing, "id=\"cautions\"") &&
+                strstr(closing, "id=\"closing-note\""));
     free(html);
+
+    /* a validity range that does not start or end on the round step: the table still runs
+    ** end to end, its first and last rows the range's ends (R there from the beta equation) */
+    r.fit.t_min_k = 273.15 - 20.02, r.fit.t_max_k = 273.15 + 60.01;
+    assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
+    assert_true(r.nrt >= 3);
+    assert_close(r.rt[0].t_c, -20.02, 0.0, 1e-12);
+    assert_close(r.rt[r.nrt - 1].t_c, 60.01, 0.0, 1e-12);
+    assert_close(r.rt[0].r_ohm, r0 * exp(beta * (1.0 / r.fit.t_min_k - 1.0 / t0)), 1e-12, 0.0);
+    assert_close(r.rt[r.nrt - 1].r_ohm, r0 * exp(beta * (1.0 / r.fit.t_max_k - 1.0 / t0)), 1e-12,
+                 0.0);
+    for (size_t i = 1; i + 1 < r.nrt; i++) { /* between: multiples of the step, increasing */
+        assert_close(fmod(r.rt[i].t_c, r.rt_step_c), 0.0, 0.0, 1e-9);
+        assert_true(r.rt[i].t_c > r.rt[i - 1].t_c);
+    }
+    assert_true(r.rt[r.nrt - 1].t_c > r.rt[r.nrt - 2].t_c);
+    r.fit.t_min_k = 273.15, r.fit.t_max_k = 323.15;
 
     /* 2 degrees of freedom: 2 F_t(2; 2) - 1 = 2 / sqrt(6) (closed form of Student's t with
     ** 2 dof: F(t) = 1/2 + t / (2 sqrt(2 + t^2))), also scipy.stats.t.cdf: 0.816496580927726 */
@@ -250,11 +286,30 @@ static void table_report(void **state)
     assert_int_equal(bg_lut_make(&rq, &r, &err), BG_OK);
     assert_int_equal(r.table.strategy, BG_LUT_UNIFORM);
     assert_int_equal(r.table.shift, 4);
-    /* the curve's temperatures at every code against the divider and beta law */
-    assert_int_equal(r.ncurve, (size_t)(r.table.code_hi - r.table.code_lo + 1));
-    for (size_t i = 0; i < r.ncurve; i++)
-        assert_close(r.curve_t_k[i], t_of_code((double)(r.table.code_lo + (long)i)), 1e-12,
-                     1e-9);
+    /* every code in exactly one band, at most BG_LUT_ERROR_BANDS of them; each band's ends
+    ** and least and largest error against the divider and beta law, code by code */
+    long ncodes = r.table.code_hi - r.table.code_lo + 1;
+    assert_true(ncodes > BG_LUT_ERROR_BANDS); /* so that bands hold several codes */
+    assert_true(r.ncurve <= BG_LUT_ERROR_BANDS);
+    assert_int_equal(r.codes_per_band, (ncodes + BG_LUT_ERROR_BANDS - 1) / BG_LUT_ERROR_BANDS);
+    long next = r.table.code_lo;
+    for (size_t i = 0; i < r.ncurve; i++) {
+        const bg_lut_error_band *b = &r.curve[i];
+        double lo = INFINITY, hi = -INFINITY;
+        assert_int_equal(b->code_lo, next);
+        assert_true(b->code_hi >= b->code_lo && b->code_hi - b->code_lo < r.codes_per_band);
+        for (long code = b->code_lo; code <= b->code_hi; code++) {
+            int st;
+            double e = bg_lut_eval(&r.table, code, &st) / 100.0 + 273.15 - t_of_code((double)code);
+            lo = fmin(lo, e), hi = fmax(hi, e);
+        }
+        assert_close(b->t_lo_k, t_of_code((double)b->code_lo), 1e-12, 1e-9);
+        assert_close(b->t_hi_k, t_of_code((double)b->code_hi), 1e-12, 1e-9);
+        assert_close(b->min_k, lo, 0.0, 1e-9);
+        assert_close(b->max_k, hi, 0.0, 1e-9);
+        next = b->code_hi + 1;
+    }
+    assert_int_equal(next, r.table.code_hi + 1);
     bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
     char *html = render("table", &r, &h);
     char title[96];
@@ -270,7 +325,32 @@ static void table_report(void **state)
     assert_close(value_after(html, "<tr class=\"budget\">", "class=\"n adc\" data-v=\""),
                  0.5 / dcode_dt, 1e-6, 0.0);
     assert_int_equal(count(html, "<tr class=\"budget\">"), 2); /* 25 degC and the worst */
+    /* no covariance, tolerance or dissipation given: those terms say so, never 0, and the
+    ** footnote names them */
+    assert_int_equal(count(html, ">not given</td>"), 6);
+    assert_non_null(strstr(html, "id=\"budget-missing\""));
+    assert_true(isnan(r.worst.fit_k) && isnan(r.worst.resistor_k) && isnan(r.worst.selfheat_k));
+    /* the chart is one envelope of the bands, not a vertex per code */
+    char bands[64];
+    snprintf(bands, sizeof bands, "<polygon class=\"envelope\" data-bands=\"%zu\"", r.ncurve);
+    assert_int_equal(count(html, bands), 1);
+    assert_int_equal(count(html, "<polyline"), 0);
     free(html);
+    /* every term given (an invented covariance of R0 and B): no "not given", no footnote */
+    bg_lut_result_release(&r);
+    double cov[4] = { 25.0, 0.0, 0.0, 100.0 };
+    rq.fit_id = 7, rq.fit_run_id = 3, rq.fit_serial = "P-INVENTED", rq.fit_cov = cov;
+    rq.fit_t_min_k = 273.15, rq.fit_t_max_k = 323.15;
+    rq.budget.fixed_tol = 0.001, rq.budget.excitation_v = 3.3;
+    rq.budget.dissipation_w_per_k = 1.5e-3;
+    assert_int_equal(bg_lut_make(&rq, &r, &err), BG_OK);
+    assert_int_equal(r.budget_terms, BG_BUDGET_FIT | BG_BUDGET_RESISTOR | BG_BUDGET_SELFHEAT);
+    html = render("table", &r, &h);
+    assert_null(strstr(html, "not given"));
+    assert_null(strstr(html, "budget-missing"));
+    free(html);
+    rq.fit_id = 0, rq.fit_cov = NULL, rq.budget.fixed_tol = 0.0;
+    rq.budget.excitation_v = 0.0, rq.budget.dissipation_w_per_k = 0.0;
     /* without the error curve the table report is refused */
     bg_lut_result_release(&r);
     rq.error_curve = 0;
@@ -279,6 +359,32 @@ static void table_report(void **state)
     size_t len = 0;
     assert_int_equal(bg_report_render(bg_report_kind_find("table"), &r, &h, &bytes, &len, &err),
                      BG_EINVAL);
+    bg_lut_result_release(&r);
+}
+
+/* A 24-bit table: the report stays small (the chart has a few hundred bands, not a vertex
+** for each of the 1.8 million codes of 20 .. 30 degC on a 10k divider). */
+static void table_report_24_bits(void **state)
+{
+    (void)state;
+    bg_lut_request rq;
+    bg_lut_result r = BG_LUT_RESULT_INIT;
+    bg_error err = BG_ERROR_INIT;
+    double c[2] = { r0, beta };
+    memset(&rq, 0, sizeof rq);
+    rq.spec.circuit.kind = BG_CIRCUIT_DIVIDER_LOW, rq.spec.circuit.fixed_ohm = 10000.0;
+    rq.spec.circuit.adc_bits = 24, rq.spec.circuit.full_scale_pow2 = 1;
+    bg_model_parse("beta", &rq.spec.model, NULL);
+    bg_model_set_coef(&rq.spec.model, c, 2, NULL);
+    rq.spec.t_lo_k = 293.15, rq.spec.t_hi_k = 303.15, rq.spec.format = BG_LUT_MILLI;
+    rq.step_codes = 4096, rq.strategy = -1, rq.error_curve = 1;
+    assert_int_equal(bg_lut_make(&rq, &r, &err), BG_OK);
+    assert_true(r.table.code_hi - r.table.code_lo > 1000000);
+    assert_int_equal(r.ncurve, BG_LUT_ERROR_BANDS);
+    bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
+    char *html = render("table", &r, &h);
+    assert_true(strlen(html) < 60000);
+    free(html);
     bg_lut_result_release(&r);
 }
 
@@ -291,6 +397,7 @@ int main(void)
         cmocka_unit_test(calibration_report_without_covariance),
         cmocka_unit_test(lot_report),
         cmocka_unit_test(table_report),
+        cmocka_unit_test(table_report_24_bits),
     };
     return cmocka_run_group_tests_name("report", tests, NULL, NULL);
 }

@@ -6,6 +6,7 @@
 #include <unistd.h>
 
 #include "testutil.h"
+#include "../src/lib/store/store_int.h"
 
 static char dir[256];
 
@@ -518,6 +519,171 @@ static void reference_corrections(void **state)
     assert_int_equal(bg_ref_check(&ref, &err), BG_EINVAL);
 }
 
+/* SHA-256 against the example vectors of NIST FIPS 180-4: "abc" (one block) and the 448-bit
+** "abcdbcde...nopq" (two blocks) from NIST's "SHA256.pdf" examples with intermediate values
+** (csrc.nist.gov, Cryptographic Standards and Guidelines, example values); one million 'a'
+** from FIPS 180-2 appendix B.3; the empty message from memory.  All four checked again with
+** Debian's python3 hashlib.  Fed whole and a byte at a time (every block boundary). */
+static void sha256_fips_vectors(void **state)
+{
+    (void)state;
+    static const struct { const char *msg; size_t rep; const char *hex; } v[] = {
+        { "abc", 1, "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad" },
+        { "", 1, "e3b0c44298fc1c149afbf4c8996fb92427ae41e4649b934ca495991b7852b855" },
+        { "abcdbcdecdefdefgefghfghighijhijkijkljklmklmnlmnomnopnopq", 1,
+          "248d6a61d20638b8e5c026930c3e6039a33ce45964ff2167f6ecedd419db06c1" },
+        { "a", 1000000, "cdc76e5c9914fb9281a1c7e284d73e67f1809a48a497200e046d39ccc7112cd0" },
+    };
+    for (size_t k = 0; k < sizeof v / sizeof v[0]; k++) {
+        struct bgi_sha256 h, h1;
+        unsigned char d[32];
+        char hex[65];
+        size_t len = strlen(v[k].msg);
+        bgi_sha256_init(&h);
+        bgi_sha256_init(&h1);
+        for (size_t r = 0; r < v[k].rep; r++) {
+            bgi_sha256_update(&h, v[k].msg, len);
+            for (size_t i = 0; i < len && v[k].rep == 1; i++)
+                bgi_sha256_update(&h1, v[k].msg + i, 1);
+        }
+        bgi_sha256_final(&h, d);
+        bgi_sha256_hex(d, hex);
+        assert_string_equal(hex, v[k].hex);
+        if (v[k].rep == 1) {
+            bgi_sha256_final(&h1, d);
+            bgi_sha256_hex(d, hex);
+            assert_string_equal(hex, v[k].hex);
+        }
+    }
+}
+
+static long long run_count(const char *name)
+{
+    sqlite3 *db;
+    sqlite3_stmt *s;
+    long long n = -1;
+    assert_int_equal(sqlite3_open(path_of(name), &db), SQLITE_OK);
+    sqlite3_prepare_v2(db, "SELECT count(*) FROM run", -1, &s, NULL);
+    if (sqlite3_step(s) == SQLITE_ROW)
+        n = sqlite3_column_int64(s, 0);
+    sqlite3_finalize(s);
+    sqlite3_close(db);
+    return n;
+}
+
+/* The digest of the canonical form (docs/commands/import.md) is the one Debian's python3
+** hashlib gives for the same text: "bandgap readings v1\nC\n" and per reading the big-endian
+** IEEE bits of t_raw, R, u(T), u(R) in hex with ';' and the time, -0 written as +0.  The same
+** readings in another layout are refused with the earlier run's id and the file unchanged;
+** --new-run imports them and records the run they repeat; one changed digit is new data. */
+static void repeated_import_refused(void **state)
+{
+    (void)state;
+    const char *a = "temp_c,ohms,u_temp_k,time\n25.5,10000.25,0.002,2026-11-24T08:00:00Z\n"
+                    "-0,32659.888,0.002,2026-11-24T08:20:00Z\n";
+    const char *b = "# the same readings, another file\ntemp_c;ohms;u_temp_k;time;note\n"
+                    "25.50;10000.250;2e-3;2026-11-24T08:00:00Z;x\n\n"
+                    "0.0;32659.888;0.002;2026-11-24T08:20:00Z;\n";
+    const char *c = "temp_c,ohms,u_temp_k,time\n25.5,10000.26,0.002,2026-11-24T08:00:00Z\n"
+                    "-0,32659.888,0.002,2026-11-24T08:20:00Z\n";
+    bg_store *st = fresh("dup.db");
+    bg_readings ra, rb, rc_;
+    bg_run meta, r;
+    bg_error err = BG_ERROR_INIT;
+    long long run1 = 0, run2 = 0;
+    assert_int_equal(bg_csv_parse(a, strlen(a), "a.csv", &ra, NULL), BG_OK);
+    assert_int_equal(bg_csv_parse(b, strlen(b), "b.csv", &rb, NULL), BG_OK);
+    assert_int_equal(bg_csv_parse(c, strlen(c), "c.csv", &rc_, NULL), BG_OK);
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.serial, "P1");
+    strcpy(meta.source, "a.csv");
+    assert_int_equal(bg_store_import(st, &ra, &meta, &run1, NULL), BG_OK);
+    assert_int_equal(bg_store_run_get(st, run1, &r, NULL), BG_OK);
+    /* python3: hashlib.sha256 of the canonical text above */
+    assert_string_equal(r.readings_sha256,
+                        "428125d6c3692588c778858ad6d1888b1f350587df86301180ea92d376d57871");
+    assert_int_equal(r.repeats_run, 0);
+    bg_store_close(st);
+    unsigned long before = file_sum(path_of("dup.db"));
+    assert_int_equal(bg_store_open(path_of("dup.db"), 0, &st, NULL), BG_OK);
+    strcpy(meta.source, "b.csv");
+    assert_int_equal(bg_store_import(st, &rb, &meta, &run2, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "b.csv: these readings of probe 'P1' were imported before "
+                                    "as run 1 (started 2026-11-24T08:00:00Z, from a.csv)"));
+    bg_store_close(st);
+    assert_true(file_sum(path_of("dup.db")) == before);
+    assert_int_equal(bg_store_open(path_of("dup.db"), 0, &st, NULL), BG_OK);
+    meta.new_run = 1;
+    assert_int_equal(bg_store_import(st, &rb, &meta, &run2, NULL), BG_OK);
+    assert_int_equal(bg_store_run_get(st, run2, &r, NULL), BG_OK);
+    assert_int_equal(r.repeats_run, run1);
+    meta.new_run = 0;
+    strcpy(meta.source, "c.csv");
+    assert_int_equal(bg_store_import(st, &rc_, &meta, &run2, NULL), BG_OK);
+    assert_int_equal(bg_store_run_get(st, run2, &r, NULL), BG_OK);
+    assert_int_equal(r.repeats_run, 0);
+    assert_string_not_equal(r.readings_sha256,
+                            "428125d6c3692588c778858ad6d1888b1f350587df86301180ea92d376d57871");
+    bg_readings_release(&ra);
+    bg_readings_release(&rb);
+    bg_readings_release(&rc_);
+    bg_store_close(st);
+}
+
+/* A reference past its due date: refused (nothing written) unless a reason is given, which
+** the run keeps; a reason without the need is refused too.  A date alone covers its day. */
+static void overdue_reference_needs_a_reason(void **state)
+{
+    (void)state;
+    const char *text = "temp_c,ohms,time\n25.0,10000.0,2026-06-30T23:59:59Z\n"
+                       "30.0,8000.0,2026-07-01T00:00:00+02:00\n";
+    const char *late = "temp_c,ohms,time\n25.0,10001.0,2026-06-30T23:59:59Z\n"
+                       "30.0,8001.0,2026-07-01T00:00:00Z\n";
+    bg_store *st = fresh("due.db");
+    bg_readings rs, rl;
+    bg_ref ref;
+    bg_run meta, r;
+    bg_error err = BG_ERROR_INIT;
+    long long run = 0;
+    memset(&ref, 0, sizeof ref);
+    strcpy(ref.ident, "R1");
+    strcpy(ref.certificate, "C1");
+    strcpy(ref.due_date, "2026-06-30");
+    ref.kind = BG_REF_NONE;
+    assert_int_equal(bg_store_ref_add(st, &ref, NULL, NULL), BG_OK);
+    assert_int_equal(bg_csv_parse(text, strlen(text), "in.csv", &rs, NULL), BG_OK);
+    assert_int_equal(bg_csv_parse(late, strlen(late), "late.csv", &rl, NULL), BG_OK);
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.serial, "P1");
+    strcpy(meta.ref_ident, "R1");
+    strcpy(meta.source, "in.csv");
+    /* every reading on the due day (the second is 22:00 UTC): accepted, nothing recorded */
+    assert_int_equal(bg_store_import(st, &rs, &meta, &run, NULL), BG_OK);
+    assert_int_equal(bg_store_run_get(st, run, &r, NULL), BG_OK);
+    assert_string_equal(r.ref_overdue, "");
+    assert_string_equal(r.ref_due_date, "2026-06-30");
+    /* one reading the day after: refused, naming the line; nothing written */
+    strcpy(meta.source, "late.csv");
+    assert_int_equal(bg_store_import(st, &rl, &meta, &run, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "late.csv:3: reference 'R1' was due for calibration on "
+                                    "2026-06-30"));
+    assert_int_equal(run_count("due.db"), 1);
+    /* with a reason: imported, and the run keeps it */
+    strcpy(meta.ref_overdue, "checked at the ice point");
+    assert_int_equal(bg_store_import(st, &rl, &meta, &run, NULL), BG_OK);
+    assert_int_equal(bg_store_run_get(st, run, &r, NULL), BG_OK);
+    assert_string_equal(r.ref_overdue, "checked at the ice point");
+    /* a reason when none is needed is refused: no false override on record */
+    meta.new_run = 1;
+    strcpy(meta.source, "in.csv");
+    assert_int_equal(bg_store_import(st, &rs, &meta, &run, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "not past its due date"));
+    assert_int_equal(run_count("due.db"), 2);
+    bg_readings_release(&rs);
+    bg_readings_release(&rl);
+    bg_store_close(st);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -534,6 +700,9 @@ int main(void)
         cmocka_unit_test(scheme_rule),
         cmocka_unit_test(injected_clock),
         cmocka_unit_test(reference_corrections),
+        cmocka_unit_test(sha256_fips_vectors),
+        cmocka_unit_test(repeated_import_refused),
+        cmocka_unit_test(overdue_reference_needs_a_reason),
     };
     return cmocka_run_group_tests_name("store", tests, setup, teardown);
 }

@@ -38,7 +38,14 @@ typedef struct bg_calib_request {
                                 ** ends included (default 9; at least 2) */
     bg_calib_progress_fn progress; /* bg_calibrate_lot only (default NULL) */
     void *progress_ctx;
+    unsigned store_flags;       /* bg_calibrate_probe only: BG_CALIB_* below (default 0) */
 } bg_calib_request;
+
+enum {
+    BG_CALIB_DRY_RUN = 1 << 0,   /* a preview: fit and compare, store nothing */
+    BG_CALIB_STORE_SAME = 1 << 1 /* store even when an identical fit of the run exists (it
+                                 ** then becomes the run's newest, chosen fit again) */
+};
 
 /* The defaults above. */
 BG_API bg_calib_request bg_calib_default_request(void);
@@ -73,6 +80,14 @@ typedef struct bg_calib_result {
     size_t nchecks;
     long long fit_id, run_id;   /* bg_calibrate_probe: the stored fit and its run; else 0 */
     char serial[BG_TEXT], started_at[BG_TIME]; /* bg_calibrate_probe: the probe, run start */
+    int stored;                 /* bg_calibrate_probe: 1 when this call stored the fit */
+    long long same_fit_id;      /* bg_calibrate_probe: the oldest stored fit of the run
+                                ** identical to this one (0: none); unless stored anyway,
+                                ** 'fit_id' is that fit */
+    long long run_fit_id;       /* bg_calibrate_probe: the run's chosen fit (its newest) after
+                                ** the call; 0: none */
+    char ref_overdue[240];      /* bg_calibrate_probe: when the run's reference was used past
+                                ** its due date, what the run records (also a fit note) */
 } bg_calib_result;
 
 #define BG_CALIB_RESULT_INIT { 0 }
@@ -95,7 +110,12 @@ BG_API int bg_calibrate_file(const char *path, const bg_calib_request *rq, bg_ca
                              bg_error *err);
 
 /* Calibrate run 'run_id' of probe 'serial' (0: its latest run), leaving out the excluded
-** readings, and store the fit; '*out' gets fit_id, run_id, serial and started_at too.
+** readings, and store the fit; '*out' gets fit_id, run_id, serial, started_at, stored,
+** same_fit_id and run_fit_id too.  A fit identical to one the run already has (the same
+** readings, model and options give the same numbers) is not stored again: '*out' names the
+** stored one (same_fit_id, fit_id) with 'stored' 0, unless 'rq->store_flags' has
+** BG_CALIB_STORE_SAME.  With BG_CALIB_DRY_RUN nothing is stored (fit_id 0).  A run whose
+** reference was used past its due date gets a note (BG_NOTE_REF_OVERDUE) saying so.
 ** BG_EINVAL for an unknown probe, a probe without runs, a run of another probe, or as
 ** bg_calibrate(); nothing is stored on any error. */
 BG_API int bg_calibrate_probe(bg_store *st, const char *serial, long long run_id,

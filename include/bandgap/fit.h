@@ -33,7 +33,8 @@ typedef struct bg_fit_opts {
 BG_API bg_fit_opts bg_fit_default_opts(const bg_model *model);
 
 typedef enum bg_note_kind {
-    BG_NOTE_OUTLIER = 1, BG_NOTE_NODOF, BG_NOTE_CHI2, BG_NOTE_MONOTONIC, BG_NOTE_EXTRAPOLATION
+    BG_NOTE_OUTLIER = 1, BG_NOTE_NODOF, BG_NOTE_CHI2, BG_NOTE_MONOTONIC, BG_NOTE_EXTRAPOLATION,
+    BG_NOTE_REF_OVERDUE /* the run's reference was used past its calibration due date */
 } bg_note_kind;
 
 typedef struct bg_note {

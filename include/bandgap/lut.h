@@ -166,7 +166,26 @@ typedef struct bg_lut_request {
     const double *budget_at_k; /* the budget's temperatures; NULL: the ends and the middle */
     size_t nbudget_at;
     int error_curve;          /* also the error at every code (for the table report) */
+    /* the stored fit's provenance: its run's start time (NULL: not said) and 1 when it is the
+    ** probe's current fit (bg_store_current_fit), 0 when it was named */
+    const char *fit_started_at;
+    int fit_current;
 } bg_lut_request;
+
+/* The budget's terms that bg_lut_make computed (bg_lut_result.budget_terms).  A term whose
+** inputs were not given is NaN in the rows, never 0, and the RSS and sum leave it out;
+** BG_BUDGET_NO_RESISTOR: the circuit has no fixed resistor (its term is 0 by nature). */
+enum { BG_BUDGET_FIT = 1 << 0, BG_BUDGET_RESISTOR = 1 << 1, BG_BUDGET_SELFHEAT = 1 << 2,
+       BG_BUDGET_NO_RESISTOR = 1 << 3 };
+
+/* The table's error over a band of consecutive codes (for the table report's chart). */
+typedef struct bg_lut_error_band {
+    long code_lo, code_hi;     /* the band's first and last code */
+    double t_lo_k, t_hi_k;     /* the model's temperature at those codes */
+    double min_k, max_k;       /* the least and the largest of table - model over the band */
+} bg_lut_error_band;
+
+enum { BG_LUT_ERROR_BANDS = 256 }; /* at most this many bands, each of the same count of codes */
 
 typedef struct bg_lut_result {
     bg_lut table;
@@ -182,16 +201,22 @@ typedef struct bg_lut_result {
     bg_budget_row *budget;    /* at each budget temperature (malloc'd) */
     size_t nbudget;
     bg_budget_row worst;      /* the largest of each term over the range */
-    double *curve_t_k, *curve_err_k; /* error_curve: model T and table - model, every code */
+    unsigned budget_terms;    /* BG_BUDGET_* of the terms given; the others are NaN */
+    /* error_curve: table - model at every code, as its least and largest value over each
+    ** band of 'codes_per_band' consecutive codes (the last band may have fewer), so that the
+    ** size stays small for 24-bit codes */
+    bg_lut_error_band *curve;  /* malloc'd, 'ncurve' bands (at most BG_LUT_ERROR_BANDS) */
     size_t ncurve;
-    double curve_lo_k, curve_hi_k;   /* the extremes of curve_err_k (and 0) */
+    long codes_per_band;
+    double curve_lo_k, curve_hi_k;   /* the extremes over every code (and 0) */
 } bg_lut_result;
 
 #define BG_LUT_RESULT_INIT { 0 }
 BG_API void bg_lut_result_release(bg_lut_result *r);
 
 /* Build the table of 'rq' (the uniform step, the strategy asked for, or the smallest in
-** bytes), its error budget and, with 'error_curve', its error at every code.  BG_EINVAL when
+** bytes), its error budget and, with 'error_curve', its error at every code (kept as the
+** least and largest value of each band of codes).  BG_EINVAL when
 ** a stored fit's calibrated range does not hold the table's (unless allow_extrapolation),
 ** or for bg_lut_build's reasons.  Release with bg_lut_result_release().  (lut_make.c) */
 BG_API int bg_lut_make(const bg_lut_request *rq, bg_lut_result *out, bg_error *err);

@@ -86,7 +86,9 @@ typedef struct bg_calib_report {
     double band_t_k[BG_REPORT_BAND], band_u_k[BG_REPORT_BAND]; /* u(T) of the curve (NaN) */
     double u_max_k;               /* the largest of band_u_k; NaN: no covariance */
     double coverage;              /* probability of k = 2 with the fit's dof (Student t) */
-    double rt_from_c, rt_to_c, rt_step_c; /* the R-T table's rows, at a round step */
+    double rt_from_c, rt_to_c, rt_step_c; /* the R-T table: the validity range's ends
+                                          ** (first and last rows) and the round step of
+                                          ** the rows between them */
     bg_report_rt_row *rt;         /* malloc'd */
     size_t nrt;
 } bg_calib_report;
@@ -96,7 +98,8 @@ BG_API void bg_calib_report_release(bg_calib_report *r);
 
 /* Fill the computed part of '*r' from its fit and readings: residuals, span, self-heating
 ** from the run's excitation ("10 uA"), the u(T) band and its maximum, the coverage
-** probability of k = 2 (Student t with the fit's degrees of freedom) and the R-T table.
+** probability of k = 2 (Student t with the fit's degrees of freedom) and the R-T table (the
+** validity range's two ends and the multiples of a round step between them).
 ** BG_ENOMEM with a message. */
 BG_API int bg_calib_report_compute(bg_calib_report *r, bg_error *err);
 

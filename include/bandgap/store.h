@@ -105,19 +105,37 @@ typedef struct bg_run {
     char operator_name[BG_TEXT], medium[BG_TEXT], ambient[BG_TEXT], excitation[BG_TEXT];
     char started_at[BG_TIME], source[BG_NOTE], note[BG_NOTE], imported_at[BG_TIME];
     long long nreadings, nexcluded, nfits;
+    /* schema 3 */
+    char readings_sha256[65];   /* SHA-256 of the readings as imported (hex; the canonical
+                                ** form is in docs/commands/import.md); "" for a run imported
+                                ** before schema 3 */
+    long long repeats_run;      /* the earlier run with identical readings that this run
+                                ** repeats on purpose ('new_run'); 0: none */
+    char ref_due_date[BG_TIME]; /* the reference's calibration due date ("": none) */
+    char ref_overdue[BG_NOTE];  /* the reason the reference was used past its due date ("":
+                                ** it was not); on import, required when it is */
+    int new_run;                /* import only: import readings identical to an earlier run's
+                                ** of the probe as a new run on purpose */
 } bg_run;
 
 /* Create a run of probe 'meta->serial' from the readings 'rs' in one transaction.  Uses
 ** serial, ref_ident ("" for none), operator_name, medium, ambient, excitation, started_at (""
-** takes the first reading's time, else now), source and note from 'meta'.  With a reference
-** correction, each reading's temperature is corrected and the raw value kept.  Any problem
-** (unknown probe or reference, a 'ref_ohms' file without a platinum reference, a reading the
-** correction makes impossible) is BG_EINVAL naming the file and line; nothing is written. */
+** takes the first reading's time, else now), source, note, ref_overdue and new_run from
+** 'meta'.  With a reference correction, each reading's temperature is corrected and the raw
+** value kept.  The run keeps the SHA-256 of its readings.  Any problem is BG_EINVAL naming
+** the file (and line where there is one), and nothing is written: an unknown probe or
+** reference, a 'ref_ohms' file without a platinum reference, a reading the correction makes
+** impossible; readings identical to an earlier run's of the same probe (the message names
+** that run) unless 'meta->new_run'; a reading (or the run's start) later than the end of the
+** reference's calibration due date (a date alone: the whole day, UTC) unless
+** 'meta->ref_overdue' gives the reason, which is then recorded with the run; and a reason
+** given when the reference is not past its due date. */
 BG_API int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta,
                            long long *run_id, bg_error *err);
 
 BG_API int bg_store_run_get(bg_store *st, long long run_id, bg_run *out, bg_error *err);
-/* The newest run of a probe: BG_EINVAL when it has none. */
+/* The newest run of a probe (the latest start time; of equal times the last imported):
+** BG_EINVAL when it has none. */
 BG_API int bg_store_run_latest(bg_store *st, long long probe_id, long long *run_id,
                                bg_error *err);
 typedef int (*bg_run_cb)(const bg_run *run, void *ctx);
@@ -196,6 +214,26 @@ BG_API int bg_store_fit_each(bg_store *st, const char *serial, const char *lot_c
 BG_API int bg_store_fit_readings(bg_store *st, long long fit_id, long long *ids, size_t max,
                                  size_t *n, bg_error *err);
 
+/* The newest fit of run 'run_id' (the largest id) into '*fit_id', 0 when the run has none:
+** the fit chosen for the run. */
+BG_API int bg_store_run_fit(bg_store *st, long long run_id, long long *fit_id, bg_error *err);
+
+/* A stored fit of run 'run_id' identical to 'fit' made from 'reading_ids' (the same readings,
+** model and reference temperature, and bit for bit the same coefficients, covariance and
+** statistics: what the same readings, model and options give), the oldest of them, into
+** '*fit_id'; 0 when there is none. */
+BG_API int bg_store_fit_find_same(bg_store *st, long long run_id, const bg_fit *fit,
+                                  const long long *reading_ids, long long *fit_id,
+                                  bg_error *err);
+
+/* A probe's current fit: the fit chosen for its latest run (bg_store_run_latest: by the run's
+** start time, not by when it was imported or fitted), that is the newest fit of that run.
+** Refitting an older run never changes it.  Fills '*fit' and, when not NULL, '*run' (the
+** latest run).  BG_EINVAL for an unknown probe, a probe without runs, or a latest run without
+** a fit (the message names the run: fit it, or name a fit explicitly). */
+BG_API int bg_store_current_fit(bg_store *st, const char *serial, bg_fit_row *fit, bg_run *run,
+                                bg_error *err);
+
 /* ---- calibration history for QA ---- */
 
 /* For each run of probe 'serial' started at or after 'since' (NULL or "" for all), oldest
@@ -205,8 +243,9 @@ typedef int (*bg_history_cb)(const char *started_at, long long run_id, const bg_
 BG_API int bg_store_probe_history(bg_store *st, const char *serial, const char *since,
                                   bg_history_cb cb, void *ctx, bg_error *err);
 
-/* For each probe of a lot, in the order they were added: its newest fit (of its newest fitted
-** run started at or after 'since'), or NULL when it has none. */
+/* For each probe of a lot, in the order they were added: its current fit among the runs
+** started at or after 'since' (the newest fit of the latest of those runs, as
+** bg_store_current_fit), or NULL when it has none (no run, or the latest is not fitted). */
 typedef int (*bg_latest_cb)(const char *serial, const bg_fit_row *fit, void *ctx);
 BG_API int bg_store_lot_latest_fits(bg_store *st, const char *lot_code, const char *since,
                                     bg_latest_cb cb, void *ctx, bg_error *err);

@@ -30,7 +30,14 @@ int cli_fail(const char *what, const bg_error *err);
 /* A list of numbers "1.4e-3,2.37e-4" into 'v' (at most 'max'); BG_EINVAL on bad text. */
 int cli_parse_list(const char *s, double *v, size_t max, size_t *n, bg_error *err);
 
-/* ---- JSON output: numbers round-trip (%.17g); NaN and infinities become null ---- */
+/* A double in the shortest form that reads back exactly (at most 17 significant digits,
+** "%g" style: "0.0025", "1e+23", "-0") into 'buf' (CLI_NUM bytes or more); returns 'buf'.
+** NaN and infinities give "nan", "inf", "-inf": callers that must not write them test first. */
+enum { CLI_NUM = 32 };
+char *cli_num(char *buf, size_t size, double v);
+
+/* ---- JSON output: numbers in the shortest form that round-trips (cli_num); NaN and
+** infinities become null ---- */
 typedef struct json_out {
     FILE *f;
     int depth;
@@ -49,6 +56,9 @@ void json_str(json_out *j, const char *key, const char *s);
 void json_bool(json_out *j, const char *key, int v);
 void json_null(json_out *j, const char *key);
 void json_nums(json_out *j, const char *key, const double *v, size_t n);
+/* 'text', one JSON value (RFC 8259) such as a stored spec, written as it is; BG_EINVAL and
+** nothing written when it is not exactly one JSON value. */
+int json_raw(json_out *j, const char *key, const char *text);
 
 /* Open the database of 'ctx' (create it with 'create'); reports errors itself and returns the
 ** code for main(), or BG_OK.  Says on stderr when an older schema was upgraded. */
@@ -89,17 +99,31 @@ int cli_inline_option(struct cli_inline *in, int opt, const char *arg, const cha
 int cli_inline_given(const struct cli_inline *in);
 /* Build the model; a usage error (CLI_EUSAGE) when something is missing or does not fit. */
 int cli_inline_model(const struct cli_inline *in, const char *cmd, bg_model *m);
-/* The id of a probe's newest stored fit; BG_EINVAL with a hint when it has none. */
-int cli_newest_fit(bg_store *st, const char *serial, long long *fit_id, bg_error *err);
+/* The stored fit a command uses and how it was chosen (its provenance). */
+struct cli_fit_used {
+    long long fit_id, run_id;
+    int current;                /* 1: the probe's current fit (--probe); 0: named (--fit) */
+    char serial[BG_TEXT], started_at[BG_TIME], created_at[BG_TIME], model[16];
+};
+/* The fit of --probe 'serial' (its current fit, bg_store_current_fit) or else of --fit
+** 'fit_id' into '*fit' and '*used'.  Says on stderr ("bandgap: CMD: ...") which fit, run and
+** date --probe chose, and when a fit named by --fit is not its probe's current fit, which
+** one is.  Returns a bg_status with 'err' filled (nothing printed) on an error. */
+int cli_stored_fit(bg_store *st, const char *serial, long long fit_id, const char *cmd,
+                   bg_fit_row *fit, struct cli_fit_used *used, bg_error *err);
+/* 'used' as JSON keys of the object open in 'j': fit_id, run_id, probe, run_started_at,
+** fit_created_at and fit_chosen ("current fit of the probe" or "named with --fit"). */
+void cli_json_fit_used(json_out *j, const struct cli_fit_used *used);
 
 /* A stored fit as a curve source: its model, covariance and calibrated range. */
 bg_curve_src cli_curve_src_of_fit(const bg_fit_row *f);
 
-/* The curve a command works on: --fit N, --probe SERIAL (its newest fit) or a model inline. */
+/* The curve a command works on: --fit N, --probe SERIAL (its current fit) or a model inline. */
 struct cli_source {
     struct cli_inline in;
-    long long fit_id; /* --fit, or the newest fit of --probe once resolved; 0 = none */
+    long long fit_id; /* --fit, or the current fit of --probe once resolved; 0 = none */
     const char *probe;
+    struct cli_fit_used used; /* once resolved from the database */
 };
 enum { CLI_SRC_FIT = 210, CLI_SRC_PROBE };
 #define CLI_SOURCE_OPTIONS                                                                     \
@@ -159,10 +183,10 @@ void cli_print_run_head(const bg_run *r);
 ** profile over the calibrated range (bg_curve_span). */
 void cli_print_fit(const bg_fit_row *f, const long long *ids, size_t nids, const bg_curve *u,
                    int json);
-/* The table of 'curve' (the stored fit's id, 0 for an inline model), and the values of
-** 'eval'. */
-void cli_print_curve(const bg_curve_src *src, long long fit_id, const bg_curve *c,
-                     enum cli_format fmt, bg_temp_unit unit);
+/* The table of 'curve' (the stored fit it came from, NULL for an inline model), and the
+** values of 'eval'. */
+void cli_print_curve(const bg_curve_src *src, const struct cli_fit_used *used,
+                     const bg_curve *c, enum cli_format fmt, bg_temp_unit unit);
 void cli_print_eval(const bg_curve_src *src, const bg_curve *c, bg_temp_unit unit, int json);
 
 /* ---- calibration results (print_fit.c), shared by 'fit' and 'demo' ---- */

@@ -14,7 +14,7 @@
 static const char curve_usage[] =
     "Usage: bandgap curve (--fit N | --probe SERIAL | MODEL OPTIONS) (--from T --to T --step DT\n"
     "                     | --ohms R1,R2,...) [--unit C|K|F] [--csv | --json]\n"
-    "The R-T table of a stored fit (--fit N, or the newest fit of --probe) or of a model given\n"
+    "The R-T table of a stored fit (--fit N, or the current fit of --probe) or of a model given\n"
     "inline as for 'bandgap eval' (--model, --coef, --r25, --beta, --t0): for each temperature\n"
     "from --from to --to in steps of --step (any unit: 5C, 1K, 9F), or for each resistance of\n"
     "--ohms, the resistance or temperature, dT/dR, alpha = (1/R) dR/dT and, for a stored fit\n"
@@ -153,7 +153,7 @@ int cmd_curve(int argc, char **argv, struct cli_ctx *ctx)
     if ((rc = curve_parse(argc, argv, &a)) != BG_OK)
         return rc < 0 ? BG_OK : rc;
     if ((rc = curve_compute(&a, ctx, &src, &c)) == BG_OK)
-        cli_print_curve(&src, a.src.fit_id, &c, a.fmt, a.unit);
+        cli_print_curve(&src, a.src.fit_id ? &a.src.used : NULL, &c, a.fmt, a.unit);
     bg_curve_release(&c);
     return rc;
 }

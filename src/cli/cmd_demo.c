@@ -42,8 +42,9 @@ static int run(struct cli_ctx *ctx, cmd_fn fn, const char *const *args)
     return fn(argc, argv, ctx);
 }
 
-/* Calibrate probe 'serial' (its latest run, the model chosen automatically) or, with
-** 'lot_code', every probe of that lot with 'model', store the fits and print them. */
+/* Preview the calibration of probe 'serial' (its latest run, the model chosen automatically;
+** nothing stored) or, with 'lot_code', calibrate every probe of that lot with 'model', store
+** the fits and print them. */
 static int demo_fit(struct cli_ctx *dctx, const char *serial, const char *lot_code,
                     const char *model)
 {
@@ -58,6 +59,8 @@ static int demo_fit(struct cli_ctx *dctx, const char *serial, const char *lot_co
         return rc;
     if (model)
         rq.model = model;
+    /* the lot's fit stores this probe's fit; a stored preview would be a second copy */
+    rq.store_flags = BG_CALIB_DRY_RUN;
     if (lot_code) {
         rq.progress = print_fit_progress;
         rc = bg_calibrate_lot(st, lot_code, &rq, &lot, &err);
@@ -187,8 +190,8 @@ static int demo_import_round(struct cli_ctx *dctx, const char *dir, int round)
 static int demo_first_fits(struct cli_ctx *dctx)
 {
     int rc;
-    printf("\n== calibration report of probe %s (model chosen automatically) ==\n\n",
-           DEMO_PROBE);
+    printf("\n== calibration report of probe %s (model chosen automatically; a preview, "
+           "stored\n   with its lot below) ==\n\n", DEMO_PROBE);
     if ((rc = demo_fit(dctx, DEMO_PROBE, NULL, NULL)) != BG_OK)
         return rc;
     printf("\n== lots %s and %s, Steinhart-Hart (sh3) for every probe ==\n\n", DEMO_LOT,

@@ -1,6 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* bandgap export: readings and fits of a probe or a lot, lossless (17 significant digits),
-** as one CSV table or one JSON object. */
+/* bandgap export: readings and fits of a probe or a lot, lossless (each number in the shortest
+** form that reads back exactly, cli_num), as one CSV table or one JSON object. */
 #include <errno.h>
 #include <getopt.h>
 #include <math.h>
@@ -13,7 +13,8 @@
 static const char export_usage[] =
     "Usage: bandgap export (--probe SERIAL | --lot CODE) (--csv | --json) [-o FILE]\n"
     "Export every run, reading (with exclusions) and stored fit of a probe or of all probes\n"
-    "of a lot.  Numbers have 17 significant digits, so they read back exactly.\n"
+    "of a lot.  Each number is written with the fewest digits that read back exactly\n"
+    "(at most 17 significant digits: 0.0025, not 0.0025000000000000001).\n"
     "--csv writes one table whose first column 'kind' is 'reading' or 'fit' (the columns\n"
     "that do not apply are empty); --json writes {\"probes\": [...]}.  Missing values are\n"
     "empty in CSV and null in JSON; NaN and infinities are never written.\n";
@@ -48,8 +49,9 @@ static void csv_text(FILE *f, const char *s)
 
 static void csv_num(FILE *f, double v)
 {
+    char b[CLI_NUM];
     if (isfinite(v))
-        fprintf(f, "%.17g", v);
+        fputs(cli_num(b, sizeof b, v), f);
     fputc(',', f);
 }
 

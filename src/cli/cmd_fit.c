@@ -30,7 +30,12 @@ static const char fit_usage[] =
     "  --unit U         unit for printed temperatures: C (default), K or F\n"
     "  --json           one JSON object\n"
     "  --probe SERIAL   fit the probe's latest run (or --run N) in the database and store\n"
-    "                   the fit; the readings excluded with 'bandgap exclude' are left out\n"
+    "                   the fit; the readings excluded with 'bandgap exclude' are left out.\n"
+    "                   A fit identical to one the run has (same readings, model and\n"
+    "                   options) is not stored again: the stored one is named\n"
+    "  --dry-run        with --probe: fit and print, store nothing (a preview)\n"
+    "  --store-again    with --probe: store the fit even when the run has an identical one\n"
+    "                   (it then becomes the run's newest, chosen fit again)\n"
     "  --lot CODE       fit the latest run of every probe of the lot in one transaction:\n"
     "                   all fits are stored, or none when any probe fails\n"
     "Readings CSV: a header naming columns temp_c|temp_k|temp_f, ohms, and optionally\n"
@@ -39,7 +44,7 @@ static const char fit_usage[] =
     "food-safety or process-safety use follow local regulations and accredited practice.\n";
 
 enum { O_MODEL = 1, O_T0, O_PAIR, O_UTEMP, O_AT, O_LINEAR, O_NOINFL, O_UNIT, O_JSON, O_PROBE,
-       O_RUN, O_LOT };
+       O_RUN, O_LOT, O_DRY, O_AGAIN };
 
 /* The options of 'fit' beyond the library's request. */
 struct fit_cli {
@@ -79,6 +84,8 @@ static int fit_option(struct fit_cli *fc, int c, char **argv, double *at_k, stru
             return cli_usage_error("fit", "--at: %s", err.msg);
         rq->ncheck++;
         return BG_OK;
+    case O_DRY: rq->store_flags |= BG_CALIB_DRY_RUN; return BG_OK;
+    case O_AGAIN: rq->store_flags |= BG_CALIB_STORE_SAME; return BG_OK;
     case O_LINEAR: rq->linear_only = 1; return BG_OK;
     case O_NOINFL: rq->no_inflate = 1; return BG_OK;
     case O_UNIT:
@@ -100,6 +107,10 @@ static int fit_option(struct fit_cli *fc, int c, char **argv, double *at_k, stru
 /* The arguments left after the options: a file, or --probe / --lot. */
 static int fit_check_args(const struct fit_cli *fc, int argc)
 {
+    if (fc->rq.store_flags && !fc->serial)
+        return cli_usage_error("fit", "--dry-run and --store-again go with --probe");
+    if (fc->rq.store_flags == (BG_CALIB_DRY_RUN | BG_CALIB_STORE_SAME))
+        return cli_usage_error("fit", "give --dry-run or --store-again, not both");
     if (fc->serial || fc->lot) {
         if (fc->serial && fc->lot)
             return cli_usage_error("fit", "give --probe or --lot, not both");
@@ -156,7 +167,8 @@ int cmd_fit(int argc, char **argv, struct cli_ctx *ctx)
         { "no-inflate", no_argument, NULL, O_NOINFL }, { "unit", required_argument, NULL, O_UNIT },
         { "json", no_argument, NULL, O_JSON },         { "help", no_argument, NULL, 'h' },
         { "probe", required_argument, NULL, O_PROBE }, { "run", required_argument, NULL, O_RUN },
-        { "lot", required_argument, NULL, O_LOT },     { NULL, 0, NULL, 0 },
+        { "lot", required_argument, NULL, O_LOT },     { "dry-run", no_argument, NULL, O_DRY },
+        { "store-again", no_argument, NULL, O_AGAIN }, { NULL, 0, NULL, 0 },
     };
     struct fit_cli fc;
     double *at_k = malloc((size_t)(argc > 0 ? argc : 1) * sizeof *at_k);

@@ -9,11 +9,17 @@
 static const char import_usage[] =
     "Usage: bandgap import FILE --probe SERIAL [--ref ID] [--operator NAME] [--medium TEXT]\n"
     "                      [--ambient TEXT] [--excitation TEXT] [--at TIME] [--note TEXT]\n"
+    "                      [--new-run] [--ref-overdue WHY]\n"
     "Create a calibration run of probe SERIAL from the readings in FILE ('-' reads standard\n"
     "input; format in docs/readings-csv.md).  With --ref, the reference's correction is\n"
     "applied to every reading and the raw value kept.  The import is one transaction: any\n"
     "bad row is reported as FILE:LINE and nothing is written.  --at gives the start time\n"
-    "(ISO 8601; default: the first reading's time, else now).\n";
+    "(ISO 8601; default: the first reading's time, else now).\n"
+    "The run keeps the SHA-256 of its readings: readings identical to an earlier run's of the\n"
+    "same probe are refused (naming that run) unless --new-run says that this is a new run\n"
+    "on purpose.  A reference thermometer past its calibration due date (a reading, or the\n"
+    "start, later than the due date) is refused unless --ref-overdue gives the reason to use\n"
+    "it anyway; the run records the reason and every fit and report of the run shows it.\n";
 
 static int set_text(char *dst, size_t size, const char *what, const char *v)
 {
@@ -23,9 +29,46 @@ static int set_text(char *dst, size_t size, const char *what, const char *v)
     return BG_OK;
 }
 
+/* The new run: its id, readings and digest, and what it records beyond them. */
+static int print_imported(bg_store *st, long long run_id, size_t n, int json)
+{
+    bg_error err = BG_ERROR_INIT;
+    bg_run r;
+    if (bg_store_run_get(st, run_id, &r, &err) != BG_OK)
+        return cli_fail("import", &err);
+    if (r.ref_overdue[0])
+        cli_warn("import: run %lld: reference '%s' used past its calibration due date (%s); "
+                 "the override is recorded: %s", run_id, r.ref_ident, r.ref_due_date,
+                 r.ref_overdue);
+    if (r.repeats_run)
+        cli_warn("import: run %lld has the same readings as run %lld (a new run on purpose, "
+                 "recorded as such)", run_id, r.repeats_run);
+    if (json) {
+        json_out j;
+        json_begin(&j, stdout);
+        json_obj(&j, NULL);
+        json_int(&j, "run", run_id);
+        json_int(&j, "readings", (long long)n);
+        json_str(&j, "readings_sha256", r.readings_sha256);
+        if (r.repeats_run)
+            json_int(&j, "repeats_run", r.repeats_run);
+        else
+            json_null(&j, "repeats_run");
+        if (r.ref_overdue[0])
+            json_str(&j, "ref_overdue", r.ref_overdue);
+        else
+            json_null(&j, "ref_overdue");
+        json_obj_end(&j);
+        json_end(&j);
+    } else
+        printf("run %lld: %zu readings of probe %s imported from %s\n", run_id, n, r.serial,
+               r.source);
+    return BG_OK;
+}
+
 int cmd_import(int argc, char **argv, struct cli_ctx *ctx)
 {
-    enum { O_PROBE = 1, O_REF, O_OP, O_MED, O_AMB, O_EXC, O_AT, O_NOTE, O_JSON };
+    enum { O_PROBE = 1, O_REF, O_OP, O_MED, O_AMB, O_EXC, O_AT, O_NOTE, O_JSON, O_NEW, O_OVERDUE };
     static const struct option opts[] = {
         { "probe", required_argument, NULL, O_PROBE }, { "ref", required_argument, NULL, O_REF },
         { "operator", required_argument, NULL, O_OP }, { "medium", required_argument, NULL, O_MED },
@@ -33,6 +76,8 @@ int cmd_import(int argc, char **argv, struct cli_ctx *ctx)
         { "excitation", required_argument, NULL, O_EXC },
         { "at", required_argument, NULL, O_AT },       { "note", required_argument, NULL, O_NOTE },
         { "json", no_argument, NULL, O_JSON },         { "help", no_argument, NULL, 'h' },
+        { "new-run", no_argument, NULL, O_NEW },
+        { "ref-overdue", required_argument, NULL, O_OVERDUE },
         { NULL, 0, NULL, 0 },
     };
     bg_error err = BG_ERROR_INIT;
@@ -64,6 +109,13 @@ int cmd_import(int argc, char **argv, struct cli_ctx *ctx)
             snprintf(meta.started_at, sizeof meta.started_at, "%s", optarg);
             break;
         case O_NOTE: rc = set_text(meta.note, sizeof meta.note, "--note", optarg); break;
+        case O_NEW: meta.new_run = 1; break;
+        case O_OVERDUE:
+            if (!*optarg)
+                return cli_usage_error("import", "--ref-overdue: say why the reference is used "
+                                       "past its due date");
+            rc = set_text(meta.ref_overdue, sizeof meta.ref_overdue, "--ref-overdue", optarg);
+            break;
         case O_JSON: ctx->json = 1; break;
         case ':': return cli_usage_error("import", "option '%s' needs a value", argv[optind - 1]);
         default: return cli_usage_error("import", "unknown option '%s'", argv[optind - 1]);
@@ -75,6 +127,8 @@ int cmd_import(int argc, char **argv, struct cli_ctx *ctx)
         return cli_usage_error("import", "give exactly one readings file");
     if (!meta.serial[0])
         return cli_usage_error("import", "--probe SERIAL is required");
+    if (meta.ref_overdue[0] && !meta.ref_ident[0])
+        return cli_usage_error("import", "--ref-overdue goes with --ref");
     /* Open the database first: a missing database is reported before the file is read. */
     if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
         return rc;
@@ -85,11 +139,7 @@ int cmd_import(int argc, char **argv, struct cli_ctx *ctx)
         cli_fail(NULL, &err);
         goto done;
     }
-    if (ctx->json)
-        printf("{\"run\":%lld,\"readings\":%zu}\n", run_id, rs.n);
-    else
-        printf("run %lld: %zu readings of probe %s imported from %s\n", run_id, rs.n,
-               meta.serial, meta.source);
+    rc = print_imported(st, run_id, rs.n, ctx->json);
 done:
     bg_readings_release(&rs);
     bg_store_close(st);

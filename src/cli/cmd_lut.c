@@ -38,6 +38,7 @@ static const char lut_usage[] =
     "--dissipation mW/K; combined as root-sum-square and as a worst-case sum.  With a stored\n"
     "fit the range must lie inside the calibrated range unless --allow-extrapolation.\n"
     "Output is reproducible byte for byte; --timestamp adds the time of generation.\n"
+    "--json, before or after 'lut', is --format json (with another --format: a usage error).\n"
     "--report FILE.html also writes a table report: the error at every code against\n"
     "temperature and the budget, as one self-contained HTML file (not stored).\n";
 
@@ -90,10 +91,11 @@ struct lut_args {
     struct cli_inline in;
     const char *probe, *format, *symbol, *out_path, *report;
     long step;
-    int have_range, side_set, current, ohms_in, help;
+    int have_range, side_set, current, ohms_in, help, format_set;
     char stamp[BG_TIME];
     double bat[16];
     bg_fit_row fit;
+    struct cli_fit_used used;
 };
 
 /* An option of the circuit (--fixed ... --ohms-input). */
@@ -197,12 +199,16 @@ static int other_option(struct lut_args *a, int c, const char *arg)
     case O_REPORT: a->report = arg; break;
     case O_STAMP: a->rq.spec.stamp = bg_time_format(cli_clock(), a->stamp, sizeof a->stamp); break;
     case O_KELVIN: a->rq.spec.kelvin = 1; break;
-    case O_FORMAT:
+    case O_FORMAT: case O_JSON:
+        if (c == O_JSON)
+            arg = "json";
         if (strcmp(arg, "c") && strcmp(arg, "csv") && strcmp(arg, "json"))
             return cli_usage_error("lut", "--format: say c, csv or json");
-        a->format = arg;
+        if (a->format_set && strcmp(a->format, arg) != 0)
+            return cli_usage_error("lut", "two output formats asked for (%s and %s): give "
+                                   "one", a->format, arg);
+        a->format = arg, a->format_set = 1;
         break;
-    case O_JSON: a->format = "json"; break;
     case O_SYMBOL: a->symbol = arg; break;
     case O_OUT: a->out_path = arg; break;
     case O_EXTRA: a->rq.allow_extrapolation = 1; break;
@@ -256,7 +262,7 @@ static int check_args(struct lut_args *a)
     return BG_OK;
 }
 
-static int lut_parse_args(int argc, char **argv, struct lut_args *a)
+static int lut_parse_args(int argc, char **argv, const struct cli_ctx *ctx, struct lut_args *a)
 {
     bg_lut_spec *s = &a->rq.spec;
     int c, rc;
@@ -293,10 +299,13 @@ static int lut_parse_args(int argc, char **argv, struct lut_args *a)
     }
     if (optind < argc)
         return cli_usage_error("lut", "unexpected argument '%s'", argv[optind]);
+    /* the global --json is --format json, as for every command with JSON output */
+    if (ctx->json && (rc = other_option(a, O_JSON, NULL)) != BG_OK)
+        return rc;
     return check_args(a);
 }
 
-/* The model: a stored fit (--fit, or the probe's newest) or the inline one. */
+/* The model: a stored fit (--fit, or the probe's current fit) or the inline one. */
 static int resolve_model(struct lut_args *a, struct cli_ctx *ctx)
 {
     bg_lut_request *rq = &a->rq;
@@ -307,13 +316,12 @@ static int resolve_model(struct lut_args *a, struct cli_ctx *ctx)
     bg_store *st = NULL;
     if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
         return rc;
-    if (a->probe)
-        rc = cli_newest_fit(st, a->probe, &rq->fit_id, &err);
-    if (rc == BG_OK)
-        rc = bg_store_fit_get(st, rq->fit_id, &a->fit, &err);
+    rc = cli_stored_fit(st, a->probe, rq->fit_id, "lut", &a->fit, &a->used, &err);
     bg_store_close(st);
     if (rc != BG_OK)
         return cli_fail("lut", &err);
+    rq->fit_id = a->fit.id;
+    rq->fit_started_at = a->used.started_at, rq->fit_current = a->used.current;
     rq->spec.model = a->fit.model;
     rq->fit_run_id = a->fit.run_id, rq->fit_serial = a->fit.serial;
     rq->fit_cov = a->fit.has_cov ? a->fit.cov : NULL;
@@ -379,7 +387,7 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
     struct lut_args a;
     bg_lut_result r = BG_LUT_RESULT_INIT;
     bg_error err = BG_ERROR_INIT;
-    int rc = lut_parse_args(argc, argv, &a);
+    int rc = lut_parse_args(argc, argv, ctx, &a);
     if (rc != BG_OK)
         return rc;
     if (a.help) {

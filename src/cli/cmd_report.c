@@ -85,7 +85,13 @@ static int list_cb(const bg_artifact *a, void *vctx)
         json_obj(l->j, NULL);
         json_int(l->j, "id", a->id);
         json_str(l->j, "kind", a->kind + 7);
-        json_str(l->j, "spec", a->spec);
+        /* the spec is JSON (store.h): nested as itself, never as a string of JSON */
+        if (json_raw(l->j, "spec", a->spec) != BG_OK) {
+            cli_warn("report: report %lld: its stored spec is not JSON; given as "
+                     "\"spec_text\"", a->id);
+            json_null(l->j, "spec");
+            json_str(l->j, "spec_text", a->spec);
+        }
         if (a->replaces_id)
             json_int(l->j, "replaces", a->replaces_id);
         else

@@ -58,6 +58,11 @@ static int show_fit(bg_store *st, long long id, struct cli_ctx *ctx, bg_error *e
     if ((rc = bg_curve_span(&src, 9, &u, err)) != BG_OK)
         goto done;
     cli_print_fit(&f, ids, nids, &u, ctx->json);
+    bg_run r;
+    if ((rc = bg_store_run_get(st, f.run_id, &r, err)) == BG_OK && r.ref_overdue[0])
+        cli_warn("fit %lld: its run %lld used reference '%s' past its calibration due date "
+                 "(%s); the override recorded: %s", id, r.id, r.ref_ident, r.ref_due_date,
+                 r.ref_overdue);
 done:
     bg_curve_release(&u);
     free(ids);

@@ -3,6 +3,7 @@
 ** or a model given inline: --model, --coef, --r25/--r0, --beta, --t0) and the output choice
 ** (--csv or --json). */
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -79,21 +80,49 @@ int cli_inline_model(const struct cli_inline *in, const char *cmd, bg_model *m)
     return BG_OK;
 }
 
-static int newest_fit_cb(const bg_fit_row *f, void *ctx)
+/* Which fit --probe chose, and why: one line on stderr. */
+static void say_current(const char *cmd, const struct cli_fit_used *u)
 {
-    *(long long *)ctx = f->id;
-    return 0;
+    fprintf(stderr, "bandgap: %s: probe %s: current fit %lld (%s), the newest fit of its latest "
+            "run %lld (started %s)\n", cmd, u->serial, u->fit_id, u->model, u->run_id,
+            u->started_at);
 }
 
-int cli_newest_fit(bg_store *st, const char *serial, long long *fit_id, bg_error *err)
+int cli_stored_fit(bg_store *st, const char *serial, long long fit_id, const char *cmd,
+                   bg_fit_row *fit, struct cli_fit_used *used, bg_error *err)
 {
-    long long id = 0;
-    int rc = bg_store_fit_each(st, serial, NULL, newest_fit_cb, &id, err);
-    if (rc == BG_OK && !id)
-        rc = bg_error_set(err, BG_EINVAL, "probe '%s' has no stored fit (bandgap fit --probe "
-                          "%s)", serial, serial);
-    *fit_id = id;
-    return rc;
+    bg_error e2 = BG_ERROR_INIT;
+    bg_fit_row cur;
+    bg_run run;
+    int rc = serial ? bg_store_current_fit(st, serial, fit, &run, err)
+                    : bg_store_fit_get(st, fit_id, fit, err);
+    if (rc == BG_OK && !serial)
+        rc = bg_store_run_get(st, fit->run_id, &run, err);
+    if (rc != BG_OK)
+        return rc;
+    memset(used, 0, sizeof *used);
+    used->fit_id = fit->id, used->run_id = fit->run_id, used->current = serial != NULL;
+    snprintf(used->serial, sizeof used->serial, "%s", fit->serial);
+    snprintf(used->started_at, sizeof used->started_at, "%s", run.started_at);
+    snprintf(used->created_at, sizeof used->created_at, "%s", fit->created_at);
+    bg_model_name(&fit->model, used->model, sizeof used->model);
+    if (serial)
+        say_current(cmd, used);
+    else if (bg_store_current_fit(st, fit->serial, &cur, &run, &e2) == BG_OK && cur.id != fit->id)
+        fprintf(stderr, "bandgap: %s: note: fit %lld (run %lld, started %s) is not the current "
+                "fit of probe %s, which is fit %lld of run %lld (started %s)\n", cmd, fit->id,
+                fit->run_id, used->started_at, fit->serial, cur.id, cur.run_id, run.started_at);
+    return BG_OK;
+}
+
+void cli_json_fit_used(json_out *j, const struct cli_fit_used *used)
+{
+    json_int(j, "fit_id", used->fit_id);
+    json_int(j, "run_id", used->run_id);
+    json_str(j, "probe", used->serial);
+    json_str(j, "run_started_at", used->started_at);
+    json_str(j, "fit_created_at", used->created_at);
+    json_str(j, "fit_chosen", used->current ? "current fit of the probe" : "named with --fit");
 }
 
 void cli_source_init(struct cli_source *s)
@@ -141,7 +170,7 @@ bg_curve_src cli_curve_src_of_fit(const bg_fit_row *f)
     return s;
 }
 
-/* The stored fit 's' names (by id, or the newest of its probe) as a curve source. */
+/* The stored fit 's' names (by id, or the current fit of its probe) as a curve source. */
 static int source_stored(struct cli_source *s, struct cli_ctx *ctx, const char *cmd,
                          bg_curve_src *out)
 {
@@ -151,10 +180,9 @@ static int source_stored(struct cli_source *s, struct cli_ctx *ctx, const char *
     int rc = cli_open_store(ctx, 0, &st);
     if (rc != BG_OK)
         return rc;
-    if (s->probe)
-        rc = cli_newest_fit(st, s->probe, &s->fit_id, &err);
+    rc = cli_stored_fit(st, s->probe, s->fit_id, cmd, &fr, &s->used, &err);
     if (rc == BG_OK)
-        rc = bg_store_fit_get(st, s->fit_id, &fr, &err);
+        s->fit_id = fr.id;
     bg_store_close(st);
     if (rc != BG_OK)
         return cli_fail(cmd, &err);

@@ -6,7 +6,8 @@
 
 #include "cli.h"
 
-static void curve_json(const bg_curve_src *src, long long fit_id, const bg_curve *c)
+static void curve_json(const bg_curve_src *src, const struct cli_fit_used *used,
+                       const bg_curve *c)
 {
     char name[16];
     json_out j;
@@ -14,8 +15,8 @@ static void curve_json(const bg_curve_src *src, long long fit_id, const bg_curve
     json_obj(&j, NULL);
     json_str(&j, "model", bg_model_name(&src->model, name, sizeof name));
     json_nums(&j, "coefficients", src->model.coef, bg_model_npar(&src->model));
-    if (fit_id)
-        json_int(&j, "fit_id", fit_id);
+    if (used)
+        cli_json_fit_used(&j, used);
     json_num(&j, "t_min_k", src->has_range ? src->t_min_k : NAN);
     json_num(&j, "t_max_k", src->has_range ? src->t_max_k : NAN);
     json_arr(&j, "rows");
@@ -47,15 +48,16 @@ static void curve_csv(const bg_curve *c)
     }
 }
 
-static void curve_text(const bg_curve_src *src, long long fit_id, const bg_curve *c,
-                       bg_temp_unit unit)
+static void curve_text(const bg_curve_src *src, const struct cli_fit_used *used,
+                       const bg_curve *c, bg_temp_unit unit)
 {
     char name[16];
     const char *us = unit == BG_UNIT_K ? "T/K" : unit == BG_UNIT_F ? "T/degF" : "T/degC";
     bg_model_name(&src->model, name, sizeof name);
-    if (fit_id)
-        printf("model %s, stored fit %lld, calibrated %.3f .. %.3f degC\n", name, fit_id,
-               src->t_min_k - BG_ZERO_C_K, src->t_max_k - BG_ZERO_C_K);
+    if (used)
+        printf("model %s, stored fit %lld (run %lld of probe %s, started %s), calibrated "
+               "%.3f .. %.3f degC\n", name, used->fit_id, used->run_id, used->serial,
+               used->started_at, src->t_min_k - BG_ZERO_C_K, src->t_max_k - BG_ZERO_C_K);
     else
         printf("model %s, given inline (its calibrated range is not known)\n", name);
     printf("%12s %14s %14s %10s %11s\n", us, "R/ohm", "dT/dR K/ohm", "alpha %/K",
@@ -71,15 +73,15 @@ static void curve_text(const bg_curve_src *src, long long fit_id, const bg_curve
     }
 }
 
-void cli_print_curve(const bg_curve_src *src, long long fit_id, const bg_curve *c,
-                     enum cli_format fmt, bg_temp_unit unit)
+void cli_print_curve(const bg_curve_src *src, const struct cli_fit_used *used,
+                     const bg_curve *c, enum cli_format fmt, bg_temp_unit unit)
 {
     if (fmt == CLI_FMT_JSON)
-        curve_json(src, fit_id, c);
+        curve_json(src, used, c);
     else if (fmt == CLI_FMT_CSV)
         curve_csv(c);
     else
-        curve_text(src, fit_id, c, unit);
+        curve_text(src, used, c, unit);
 }
 
 static void eval_json(const bg_curve_src *src, const bg_curve *c)

@@ -154,10 +154,22 @@ static void print_fit_json(const bg_calib_result *r)
     json_begin(&j, stdout);
     json_obj(&j, NULL);
     json_str(&j, "source", r->source);
-    if (r->fit_id) {
-        json_int(&j, "fit_id", r->fit_id);
+    if (r->run_id) {
+        if (r->fit_id)
+            json_int(&j, "fit_id", r->fit_id);
+        else
+            json_null(&j, "fit_id");
         json_int(&j, "run_id", r->run_id);
         json_str(&j, "probe", r->serial);
+        json_bool(&j, "stored", r->stored);
+        if (r->same_fit_id)
+            json_int(&j, "identical_to_fit", r->same_fit_id);
+        else
+            json_null(&j, "identical_to_fit");
+        if (r->run_fit_id)
+            json_int(&j, "run_chosen_fit", r->run_fit_id);
+        else
+            json_null(&j, "run_chosen_fit");
     }
     json_fit(&j, r);
     json_curve(&j, r);
@@ -280,7 +292,7 @@ static void print_fit_text(const bg_calib_result *r, bg_temp_unit un)
 {
     char b1[64], b2[64];
 
-    if (r->fit_id)
+    if (r->run_id)
         printf("probe %s, %s (%s)\n", r->serial, r->source, r->started_at);
     text_fit(r, un);
     text_curve(r, un);
@@ -290,8 +302,18 @@ static void print_fit_text(const bg_calib_result *r, bg_temp_unit un)
            "process-safety use follow local regulations and accredited practice.\n",
            bg_units_format_temp(r->fit.t_min_k, un, 3, b1, sizeof b1),
            bg_units_format_temp(r->fit.t_max_k, un, 3, b2, sizeof b2));
-    if (r->fit_id)
+    if (r->stored)
         printf("stored as fit %lld\n", r->fit_id);
+    else if (r->fit_id)
+        printf("not stored: the run already has this fit, identical (same readings and model, "
+               "the same numbers), as fit %lld%s\n", r->fit_id, r->run_fit_id == r->fit_id ? ""
+               : " (not its newest: --store-again makes it the run's chosen fit again)");
+    else if (r->run_id && r->same_fit_id)
+        printf("not stored (a preview, --dry-run); the run has this fit already, identical, as "
+               "fit %lld\n",
+               r->same_fit_id);
+    else if (r->run_id)
+        printf("not stored (a preview, --dry-run)\n");
 }
 
 void print_fit(const bg_calib_result *r, bg_temp_unit unit, int json)

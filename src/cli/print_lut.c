@@ -170,8 +170,18 @@ static void summary(const bg_lut *t, const size_t *sizes, const char *pre, FILE 
     }
 }
 
+/* A budget term in its column, "not given" when its inputs were not (it is NaN, never 0). */
+static void term(FILE *b, int width, double v)
+{
+    if (isfinite(v))
+        fprintf(b, " %*.4f", width, v);
+    else
+        fprintf(b, " %*s", width, "not given");
+}
+
 void lut_print_summary(const bg_lut_result *r, const char *pre, FILE *b)
 {
+    unsigned all = BG_BUDGET_FIT | BG_BUDGET_RESISTOR | BG_BUDGET_SELFHEAT;
     summary(&r->table, r->chosen ? r->sizes : NULL, pre, b);
     fprintf(b, "error budget (K): %10s %8s %8s %10s %10s %10s %8s %8s\n", "T/degC", "table",
             "ADC", "fit U", "resistor", "self-heat", "RSS", "sum");
@@ -182,10 +192,23 @@ void lut_print_summary(const bg_lut_result *r, const char *pre, FILE *b)
             snprintf(at, sizeof at, "%10.3f", w->t_k - BG_ZERO_C_K);
         else
             snprintf(at, sizeof at, "%10s", "worst");
-        fprintf(b, "                  %s %8.4f %8.4f %10.4f %10.4f %10.4f %8.4f %8.4f\n", at,
-                w->table_k, w->adc_k, w->fit_k, w->resistor_k, w->selfheat_k, w->rss_k,
-                w->sum_k);
+        fprintf(b, "                  %s %8.4f %8.4f", at, w->table_k, w->adc_k);
+        term(b, 10, w->fit_k);
+        term(b, 10, w->resistor_k);
+        term(b, 10, w->selfheat_k);
+        fprintf(b, " %8.4f %8.4f\n", w->rss_k, w->sum_k);
     }
-    fprintf(b, "(the fit term needs a stored fit; resistor and self-heating need --fixed-tol,"
-            " --excitation and --dissipation)\n");
+    if ((r->budget_terms & all) == all)
+        return;
+    static const struct { unsigned bit; const char *why; } need[] = {
+        { BG_BUDGET_FIT, "fit U needs a stored fit" },
+        { BG_BUDGET_RESISTOR, "resistor needs --fixed-tol" },
+        { BG_BUDGET_SELFHEAT, "self-heat needs --dissipation and, for a divider, --excitation" },
+    };
+    const char *sep = "";
+    fputs("(not given, so left out of RSS and sum: ", b);
+    for (size_t k = 0; k < 3; k++)
+        if (!(r->budget_terms & need[k].bit))
+            fprintf(b, "%s%s", sep, need[k].why), sep = "; ";
+    fputs(")\n", b);
 }

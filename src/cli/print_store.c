@@ -46,6 +46,12 @@ void cli_json_run_fields(json_out *j, const bg_run *r)
     json_int(j, "readings", r->nreadings);
     json_int(j, "excluded", r->nexcluded);
     json_int(j, "fits", r->nfits);
+    json_str(j, "readings_sha256", r->readings_sha256[0] ? r->readings_sha256 : NULL);
+    if (r->repeats_run)
+        json_int(j, "repeats_run", r->repeats_run);
+    else
+        json_null(j, "repeats_run");
+    json_str(j, "ref_overdue", r->ref_overdue[0] ? r->ref_overdue : NULL);
 }
 
 void cli_json_fit(json_out *j, const bg_fit_row *f, unsigned with)
@@ -179,9 +185,10 @@ int cli_print_run_line(const bg_run *r, void *ctx)
         cli_json_run_fields(j, r);
         json_obj_end(j);
     } else
-        printf("%6lld  %-20s %-20s %5lld readings %3lld excluded %3lld fits  ref %s\n", r->id,
+        printf("%6lld  %-20s %-20s %5lld readings %3lld excluded %3lld fits  ref %s%s\n", r->id,
                r->serial, r->started_at, r->nreadings, r->nexcluded, r->nfits,
-               cli_or_dash(r->ref_ident));
+               cli_or_dash(r->ref_ident), r->ref_overdue[0] ? " (used past its due date: "
+               "override recorded)" : "");
     return 0;
 }
 
@@ -258,6 +265,14 @@ void cli_print_run_head(const bg_run *r)
            cli_or_dash(r->ambient), cli_or_dash(r->excitation));
     if (r->note[0])
         printf("  note: %s\n", r->note);
+    if (r->ref_overdue[0])
+        printf("  REFERENCE USED PAST ITS CALIBRATION DUE DATE (%s); override: %s\n",
+               r->ref_due_date, r->ref_overdue);
+    if (r->repeats_run)
+        printf("  the same readings as run %lld, imported again as a new run on purpose\n",
+               r->repeats_run);
+    printf("  readings SHA-256 %s\n", r->readings_sha256[0] ? r->readings_sha256
+           : "- (imported before schema 3)");
     printf("  %lld readings, %lld excluded, %lld fits\n", r->nreadings, r->nexcluded, r->nfits);
     printf("  %8s %6s %18s %12s %14s %9s %9s\n", "reading", "line", "raw", "T/degC",
            "R/ohm", "u(T)/K", "u(R)/ohm");

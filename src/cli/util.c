@@ -1,5 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* Messages and JSON output for the bandgap program. */
+#include <ctype.h>
+#include <float.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
@@ -101,6 +103,28 @@ int cli_parse_temps(const char *s, double *t_k, size_t max, size_t *n, bg_error 
     }
 }
 
+/* ---- numbers ---- */
+
+/* The fewest significant digits that strtod reads back as exactly 'v'.  A normal double
+** carries more than 15.9 decimal digits, so a decimal of at most 15 digits that rounds to it
+** is its nearest 15-digit decimal and "%.15g" finds it (trailing zeros dropped); then 16 and
+** 17, and 17 always reads back (IEEE 754-2008, 5.12.2).  A subnormal carries fewer digits
+** (5e-324 has one), so for those every precision from 1 is tried.  The nearest decimal with
+** the fewest digits is what Python's repr() gives (tests/cli/export/shortest checks both). */
+char *cli_num(char *buf, size_t size, double v)
+{
+    if (!isfinite(v)) {
+        snprintf(buf, size, "%s", isnan(v) ? "nan" : v > 0 ? "inf" : "-inf");
+        return buf;
+    }
+    for (int prec = v != 0.0 && fabs(v) < DBL_MIN ? 1 : 15; prec <= 17; prec++) {
+        snprintf(buf, size, "%.*g", prec, v);
+        if (strtod(buf, NULL) == v)
+            break;
+    }
+    return buf;
+}
+
 /* ---- JSON ---- */
 
 static void put_string(FILE *f, const char *s)
@@ -176,8 +200,9 @@ void json_arr_end(json_out *j)
 void json_num(json_out *j, const char *key, double v)
 {
     sep(j, key);
+    char b[CLI_NUM];
     if (isfinite(v))
-        fprintf(j->f, "%.17g", v);
+        fputs(cli_num(b, sizeof b, v), j->f);
     else
         fputs("null", j->f);
 }
@@ -207,6 +232,106 @@ void json_null(json_out *j, const char *key)
 {
     sep(j, key);
     fputs("null", j->f);
+}
+
+/* ---- checking JSON text (RFC 8259): each returns the end of what it read, or NULL ---- */
+
+static const char *ws_end(const char *s)
+{
+    while (*s == ' ' || *s == '\t' || *s == '\n' || *s == '\r')
+        s++;
+    return s;
+}
+
+static const char *digits_end(const char *s)
+{
+    if (!isdigit((unsigned char)*s))
+        return NULL;
+    while (isdigit((unsigned char)*s))
+        s++;
+    return s;
+}
+
+static const char *number_end(const char *s)
+{
+    if (*s == '-')
+        s++;
+    if (*s == '0')
+        s++;
+    else if (!(s = digits_end(s)))
+        return NULL;
+    if (*s == '.' && !(s = digits_end(s + 1)))
+        return NULL;
+    if (*s == 'e' || *s == 'E') {
+        s++;
+        if (*s == '+' || *s == '-')
+            s++;
+        s = digits_end(s);
+    }
+    return s;
+}
+
+static const char *string_end(const char *s)
+{
+    for (s++; *s != '"'; s++) {
+        if ((unsigned char)*s < 0x20)
+            return NULL; /* also the end of the text */
+        if (*s != '\\')
+            continue;
+        s++;
+        if (*s == 'u') {
+            for (int i = 1; i <= 4; i++)
+                if (!isxdigit((unsigned char)s[i]))
+                    return NULL;
+            s += 4;
+        } else if (!*s || !strchr("\"\\/bfnrt", *s))
+            return NULL;
+    }
+    return s + 1;
+}
+
+static const char *value_end(const char *s, int depth)
+{
+    s = ws_end(s);
+    if (*s == '"')
+        return string_end(s);
+    if (*s != '{' && *s != '[') {
+        static const char *const words[] = { "true", "false", "null" };
+        for (size_t i = 0; i < 3; i++)
+            if (strncmp(s, words[i], strlen(words[i])) == 0)
+                return s + strlen(words[i]);
+        return number_end(s);
+    }
+    char close = *s == '{' ? '}' : ']';
+    if (depth >= 32)
+        return NULL;
+    if (*(s = ws_end(s + 1)) == close)
+        return s + 1;
+    for (;;) {
+        if (close == '}') {
+            if (*s != '"' || !(s = string_end(s)) || *(s = ws_end(s)) != ':')
+                return NULL;
+            s++;
+        }
+        if (!(s = value_end(s, depth + 1)))
+            return NULL;
+        s = ws_end(s);
+        if (*s == close)
+            return s + 1;
+        if (*s != ',')
+            return NULL;
+        s = ws_end(s + 1);
+    }
+}
+
+int json_raw(json_out *j, const char *key, const char *text)
+{
+    const char *end = text ? value_end(text, 0) : NULL;
+    if (!end || *ws_end(end))
+        return BG_EINVAL;
+    sep(j, key);
+    fputs(text, j->f);
+    return BG_OK;
 }
 
 void json_nums(json_out *j, const char *key, const double *v, size_t n)

@@ -213,6 +213,7 @@ static int result_reset(bg_calib_result *out, const char *source, const char *mo
     out->npts = out->ntable = out->nchecks = 0;
     out->fit_id = out->run_id = 0;
     out->serial[0] = out->started_at[0] = '\0';
+    out->stored = 0, out->same_fit_id = out->run_fit_id = 0, out->ref_overdue[0] = '\0';
     return BG_OK;
 }
 
@@ -267,6 +268,53 @@ int bg_calibrate_file(const char *path, const bg_calib_request *rq, bg_calib_res
     return rc;
 }
 
+/* The override of run 'run' (its reference used past its due date) as the result's record
+** and a note of its fit, so that every printer of the fit shows it. */
+static int note_ref_overdue(bg_calib_result *out, const bg_run *run, bg_error *err)
+{
+    bg_fit *f = &out->fit;
+    /* the reason in full is the run's ('bandgap show run N'); a long one is cut here */
+    snprintf(out->ref_overdue, sizeof out->ref_overdue, "reference '%.40s' used past its due "
+             "date %.24s (run %lld): %.100s%s", run->ref_ident, run->ref_due_date, run->id,
+             run->ref_overdue, strlen(run->ref_overdue) > 100 ? "..." : "");
+    if (f->nnotes == f->notecap) {
+        size_t cap = f->notecap ? 2 * f->notecap : 8;
+        bg_note *nn = realloc(f->notes, cap * sizeof *nn);
+        if (!nn)
+            return bg_error_set(err, BG_ENOMEM, "out of memory");
+        f->notes = nn, f->notecap = cap;
+    }
+    bg_note *nt = &f->notes[f->nnotes++];
+    nt->kind = BG_NOTE_REF_OVERDUE, nt->line = 0;
+    _Static_assert(sizeof nt->msg == sizeof out->ref_overdue, "a note holds the record");
+    memcpy(nt->msg, out->ref_overdue, sizeof nt->msg);
+    return BG_OK;
+}
+
+/* Store the fit of 'out' for run 'run_id' unless it is a preview or the run has an identical
+** fit already; then the run's chosen fit.  One write transaction, so that the comparison and
+** the write see the same fits. */
+static int store_probe_fit(bg_store *st, long long run_id, const bg_store_points *sp,
+                           unsigned flags, bg_calib_result *out, bg_error *err)
+{
+    int dry = (flags & BG_CALIB_DRY_RUN) != 0, rc;
+    if (!dry && (rc = bg_store_begin(st, err)) != BG_OK)
+        return rc;
+    rc = bg_store_fit_find_same(st, run_id, &out->fit, sp->ids, &out->same_fit_id, err);
+    if (rc == BG_OK && !dry && (!out->same_fit_id || (flags & BG_CALIB_STORE_SAME))) {
+        if ((rc = bg_store_fit_save(st, run_id, &out->fit, sp->ids, &out->fit_id, err)) == BG_OK)
+            out->stored = 1;
+    } else if (rc == BG_OK && !dry)
+        out->fit_id = out->same_fit_id;
+    if (rc == BG_OK)
+        rc = bg_store_run_fit(st, run_id, &out->run_fit_id, err);
+    if (!dry && rc == BG_OK)
+        rc = bg_store_commit(st, err);
+    else if (!dry)
+        bg_store_rollback(st);
+    return rc;
+}
+
 int bg_calibrate_probe(bg_store *st, const char *serial, long long run_id,
                        const bg_calib_request *rq, bg_calib_result *out, bg_error *err)
 {
@@ -291,7 +339,8 @@ int bg_calibrate_probe(bg_store *st, const char *serial, long long run_id,
         goto done;
     snprintf(source, sizeof source, "run %lld", run_id);
     if ((rc = bg_calibrate(sp.pts, sp.n, source, rq, out, err)) != BG_OK ||
-        (rc = bg_store_fit_save(st, run_id, &out->fit, sp.ids, &out->fit_id, err)) != BG_OK)
+        (run.ref_overdue[0] && (rc = note_ref_overdue(out, &run, err)) != BG_OK) ||
+        (rc = store_probe_fit(st, run_id, &sp, rq->store_flags, out, err)) != BG_OK)
         goto done;
     out->run_id = run_id;
     snprintf(out->serial, sizeof out->serial, "%s", probe.serial);

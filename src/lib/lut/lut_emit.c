@@ -46,6 +46,26 @@ static void value_format(const bg_lut_spec *s, char *buf, size_t n)
         snprintf(buf, n, "%s %s per count", fmt[s->format], unit);
 }
 
+/* Which way the temperature runs with the code on this circuit: the sentinels name the code,
+** and the comment says what temperature each means (on a low-side divider, a code below
+** the range is hotter than the range). */
+static void sentinel_doc(const bg_lut *t, const bg_lut_spec *s, const char *up, FILE *f)
+{
+    int st;
+    int falling = bg_lut_value(t, t->code_lo, &st) > bg_lut_value(t, t->code_hi, &st);
+    double hot_c = s->t_hi_k - BG_ZERO_C_K, cold_c = s->t_lo_k - BG_ZERO_C_K;
+    fprintf(f, " * Valid inside the range only.  Outside it the function returns a sentinel, never\n"
+               " * a clamped temperature; the sentinels are named after the ADC code, not the\n"
+               " * temperature:\n"
+               " *   %s_CODE_BELOW_RANGE: code < %s_CODE_LO, on this circuit\n"
+               " *     %s than %.3f degC\n"
+               " *   %s_CODE_ABOVE_RANGE: code > %s_CODE_HI, on this circuit\n"
+               " *     %s than %.3f degC\n"
+               " * (or a sensor that is open or shorted: check for both before using a value).\n",
+            up, up, falling ? "hotter" : "colder", falling ? hot_c : cold_c, up, up,
+            falling ? "colder" : "hotter", falling ? cold_c : hot_c);
+}
+
 static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FILE *f)
 {
     char name[16], vf[64];
@@ -79,9 +99,8 @@ static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FI
     }
     fprintf(f, " * measured over every code against the model: max |error| %.6f K (at code %ld),"
                "\n * RMS %.6f K; table and output rounding only (not the ADC, the fit or the\n"
-               " * components).  Valid inside the range only; outside it the function returns\n"
-               " * %s_BELOW or %s_ABOVE, never a clamped temperature.\n", t->max_err_k,
-            t->worst_code, t->rms_err_k, up, up);
+               " * components).\n", t->max_err_k, t->worst_code, t->rms_err_k);
+    sentinel_doc(t, s, up, f);
     if (t->format == BG_LUT_FLOAT)
         fprintf(f, " * Float arithmetic one operation at a time: on targets with a fused\n"
                    " * multiply-add, compile with -ffp-contract=off to get these exact values.\n");
@@ -97,15 +116,11 @@ static void hook(FILE *f, const char *up, const char *name, const char *avr)
 
 static void sentinels(const bg_lut *t, const char *up, FILE *f)
 {
-    if (t->format == BG_LUT_FLOAT) {
-        fprintf(f, "#define %s_BELOW (-3.40282347e+38f) /* code below the range */\n", up);
-        fprintf(f, "#define %s_ABOVE (3.40282347e+38f)  /* code above the range */\n\n", up);
-    } else {
-        fprintf(f, "#define %s_BELOW ((int32_t)-2147483647L - 1) /* code below the range */\n",
-                up);
-        fprintf(f, "#define %s_ABOVE ((int32_t)2147483647L)      /* code above the range */\n\n",
-                up);
-    }
+    int flt = t->format == BG_LUT_FLOAT;
+    fprintf(f, "#define %s_CODE_BELOW_RANGE %s /* code < %s_CODE_LO */\n", up,
+            flt ? "(-3.40282347e+38f)" : "((int32_t)-2147483647L - 1)", up);
+    fprintf(f, "#define %s_CODE_ABOVE_RANGE %s /* code > %s_CODE_HI */\n\n", up,
+            flt ? "(3.40282347e+38f)" : "((int32_t)2147483647L)", up);
 }
 
 static void longs(FILE *f, const char *decl, size_t n, const long *v, const int32_t *w,
@@ -151,7 +166,8 @@ static void emit_uniform(const bg_lut *t, const bg_lut_spec *s, const char *sym,
                                                                                    : ",");
     }
     fprintf(f, "};\n\n");
-    fprintf(f, "/* Temperature %sfor an ADC code, or %s_BELOW / %s_ABOVE. */\n",
+    fprintf(f, "/* Temperature %sfor an ADC code, or %s_CODE_BELOW_RANGE /\n"
+               " * %s_CODE_ABOVE_RANGE when the code is outside the range. */\n",
             flt ? "" : "in counts ", up, up);
     fprintf(f, "%s %s_lookup(uint32_t code);\n", flt ? "float" : "int32_t", sym);
     fprintf(f, "%s %s_lookup(uint32_t code)\n{\n", flt ? "float" : "int32_t", sym);
@@ -159,8 +175,8 @@ static void emit_uniform(const bg_lut *t, const bg_lut_spec *s, const char *sym,
         fprintf(f, "    uint32_t off, i, f;\n    float y0, d, w, p;\n");
     else
         fprintf(f, "    uint32_t off, i, f;\n    int32_t y0, d, p, q;\n");
-    fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_BELOW;\n", up, up);
-    fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_ABOVE;\n", up, up);
+    fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_CODE_BELOW_RANGE;\n", up, up);
+    fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_CODE_ABOVE_RANGE;\n", up, up);
     fprintf(f, "    off = code - (uint32_t)%s_CODE_LO;\n", up);
     fprintf(f, "    i = off >> %s_SHIFT;\n", up);
     fprintf(f, "    f = off & ((UINT32_C(1) << %s_SHIFT) - 1u);\n", up);
@@ -230,7 +246,8 @@ static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym
                  idx8 ? "uint8_t" : "uint16_t", sym, t->nidx, up);
         longs(f, decl, t->nidx, NULL, NULL, NULL, t->idx);
     }
-    fprintf(f, "\n/* Temperature %sfor an ADC code, or %s_BELOW / %s_ABOVE. */\n",
+    fprintf(f, "\n/* Temperature %sfor an ADC code, or %s_CODE_BELOW_RANGE /\n"
+               " * %s_CODE_ABOVE_RANGE when the code is outside the range. */\n",
             flt ? "" : "in counts ", up, up);
     fprintf(f, "%s %s_lookup(uint32_t code);\n", flt ? "float" : "int32_t", sym);
     fprintf(f, "%s %s_lookup(uint32_t code)\n{\n", flt ? "float" : "int32_t", sym);
@@ -239,8 +256,8 @@ static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym
     else
         fprintf(f, "    uint32_t i;\n");
     fprintf(f, flt ? "    float w, p;\n" : "    int32_t v;\n");
-    fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_BELOW;\n", up, up);
-    fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_ABOVE;\n", up, up);
+    fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_CODE_BELOW_RANGE;\n", up, up);
+    fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_CODE_ABOVE_RANGE;\n", up, up);
     if (t->strategy == BG_LUT_MINIMAL)
         fprintf(f, "    while (i < hi) { /* the last segment starting at or below code */\n"
                    "        mid = (i + hi + 1u) >> 1;\n"

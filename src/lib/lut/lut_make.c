@@ -29,8 +29,7 @@ void bg_lut_result_release(bg_lut_result *r)
         return;
     bg_lut_release(&r->table);
     free(r->budget);
-    free(r->curve_t_k);
-    free(r->curve_err_k);
+    free(r->curve);
     memset(r, 0, sizeof *r);
 }
 
@@ -60,28 +59,67 @@ static int make_table(const bg_lut_request *rq, bg_lut_result *out, bg_error *er
     return rc;
 }
 
-/* The table's error at every code: the model's temperature and table - model, in K. */
+/* The table's error at every code: table - model in K, kept per band of codes as its least
+** and largest value (the chart draws that envelope; every code is in exactly one band). */
 static int make_curve(bg_lut_result *out, bg_error *err)
 {
     const bg_lut *t = &out->table;
-    size_t nc = (size_t)(t->code_hi - t->code_lo + 1);
-    out->curve_t_k = malloc(nc * sizeof *out->curve_t_k);
-    out->curve_err_k = malloc(nc * sizeof *out->curve_err_k);
-    if (!out->curve_t_k || !out->curve_err_k)
-        return bg_error_set(err, BG_ENOMEM, "out of memory for the error of %zu codes", nc);
-    out->ncurve = nc;
+    long nc = t->code_hi - t->code_lo + 1;
+    long per = (nc + BG_LUT_ERROR_BANDS - 1) / BG_LUT_ERROR_BANDS;
+    size_t nb = (size_t)((nc + per - 1) / per);
+    if (!(out->curve = malloc(nb * sizeof *out->curve)))
+        return bg_error_set(err, BG_ENOMEM, "out of memory for the error of %ld codes", nc);
+    out->ncurve = nb, out->codes_per_band = per;
     out->curve_lo_k = 0.0, out->curve_hi_k = 0.0;
-    for (size_t i = 0; i < nc; i++) {
-        int st;
-        double tk = NAN;
-        long code = t->code_lo + (long)i;
-        bg_circuit_temp_of(&out->spec.circuit, &out->spec.model, (double)code, &tk, NULL, NULL);
-        out->curve_t_k[i] = tk;
-        out->curve_err_k[i] = bg_lut_value(t, code, &st) + t->offset_k - tk;
-        out->curve_lo_k = fmin(out->curve_lo_k, out->curve_err_k[i]);
-        out->curve_hi_k = fmax(out->curve_hi_k, out->curve_err_k[i]);
+    for (size_t k = 0; k < nb; k++) {
+        bg_lut_error_band *b = &out->curve[k];
+        b->code_lo = t->code_lo + (long)k * per;
+        b->code_hi = b->code_lo + per - 1 < t->code_hi ? b->code_lo + per - 1 : t->code_hi;
+        b->min_k = INFINITY, b->max_k = -INFINITY;
+        for (long code = b->code_lo; code <= b->code_hi; code++) {
+            int st;
+            double tk = NAN;
+            bg_circuit_temp_of(&out->spec.circuit, &out->spec.model, (double)code, &tk, NULL,
+                               NULL);
+            double e = bg_lut_value(t, code, &st) + t->offset_k - tk;
+            if (code == b->code_lo)
+                b->t_lo_k = tk;
+            if (code == b->code_hi)
+                b->t_hi_k = tk;
+            b->min_k = fmin(b->min_k, e), b->max_k = fmax(b->max_k, e);
+        }
+        out->curve_lo_k = fmin(out->curve_lo_k, b->min_k);
+        out->curve_hi_k = fmax(out->curve_hi_k, b->max_k);
     }
     return BG_OK;
+}
+
+/* Which terms the budget's inputs allow; a term not given becomes NaN (not 0) in every row. */
+static void budget_terms(bg_lut_result *out)
+{
+    const bg_budget_opts *o = &out->budget_opts;
+    bg_circuit_kind kind = out->spec.circuit.kind;
+    int divider = kind != BG_CIRCUIT_CURRENT && kind != BG_CIRCUIT_OHMS;
+    unsigned t = 0;
+    if (o->cov)
+        t |= BG_BUDGET_FIT;
+    if (!divider)
+        t |= BG_BUDGET_NO_RESISTOR | BG_BUDGET_RESISTOR;
+    else if (o->fixed_tol > 0.0)
+        t |= BG_BUDGET_RESISTOR;
+    if (o->dissipation_w_per_k > 0.0 &&
+        (kind == BG_CIRCUIT_CURRENT || (divider && o->excitation_v > 0.0)))
+        t |= BG_BUDGET_SELFHEAT;
+    out->budget_terms = t;
+    for (size_t i = 0; i <= out->nbudget; i++) {
+        bg_budget_row *w = i < out->nbudget ? &out->budget[i] : &out->worst;
+        if (!(t & BG_BUDGET_FIT))
+            w->fit_k = NAN;
+        if (!(t & BG_BUDGET_RESISTOR))
+            w->resistor_k = NAN;
+        if (!(t & BG_BUDGET_SELFHEAT))
+            w->selfheat_k = NAN;
+    }
 }
 
 int bg_lut_make(const bg_lut_request *rq, bg_lut_result *out, bg_error *err)
@@ -102,8 +140,10 @@ int bg_lut_make(const bg_lut_request *rq, bg_lut_result *out, bg_error *err)
     out->budget_opts.cov = NULL;
     if (rq->fit_id) {
         out->fit_id = rq->fit_id;
-        snprintf(out->source, sizeof out->source, "stored fit %lld of probe %.100s, run %lld",
-                 rq->fit_id, rq->fit_serial ? rq->fit_serial : "", rq->fit_run_id);
+        snprintf(out->source, sizeof out->source, "stored fit %lld of probe %.80s, run %lld%s"
+                 "%.40s%s", rq->fit_id, rq->fit_serial ? rq->fit_serial : "", rq->fit_run_id,
+                 rq->fit_started_at ? " started " : "", rq->fit_started_at ? rq->fit_started_at
+                 : "", rq->fit_current ? ", the probe's current fit" : "");
         out->spec.source = out->source;
         if (rq->fit_cov) {
             size_t np = bg_model_npar(&s->model);
@@ -133,6 +173,8 @@ int bg_lut_make(const bg_lut_request *rq, bg_lut_result *out, bg_error *err)
     out->nbudget = nat;
     rc = bg_lut_budget(&out->spec, &out->table, &out->budget_opts, at, nat, out->budget,
                        &out->worst, err);
+    if (rc == BG_OK)
+        budget_terms(out);
     if (rc == BG_OK && rq->error_curve)
         rc = make_curve(out, err);
     if (rc == BG_OK)

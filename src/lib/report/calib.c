@@ -66,30 +66,34 @@ static void compute_band(bg_calib_report *r)
     r->coverage = bg_fit_coverage_prob(2.0, ft->dof);
 }
 
-/* The R-T table over the validity range, at the smallest round step giving 24 rows or
-** fewer. */
+/* The R-T table over the validity range end to end: its two ends, and between them the
+** multiples of the smallest round step giving 24 rows or fewer, less any within a quarter
+** step of an end (so no two rows nearly repeat). */
 static int compute_rt(bg_calib_report *r, bg_error *err)
 {
     static const double steps[] = { 1, 2, 5, 10, 20, 25, 50 };
     const bg_fit_row *ft = &r->fit;
     double span = ft->t_max_k - ft->t_min_k, step = 1.0;
     for (size_t i = 0; i < sizeof steps / sizeof steps[0]; i++)
-        if (span / steps[i] <= 24.0) {
+        if (span / steps[i] <= 22.0) {
             step = steps[i];
             break;
         }
     r->rt_step_c = step;
-    r->rt_from_c = ceil(cdeg(ft->t_min_k) / step - 1e-9) * step;
-    r->rt_to_c = floor(cdeg(ft->t_max_k) / step + 1e-9) * step;
-    size_t n = 0;
-    for (double t = r->rt_from_c; t <= r->rt_to_c + 1e-9; t += step)
-        n++;
-    if (!(r->rt = malloc((n + 1) * sizeof *r->rt)))
+    r->rt_from_c = cdeg(ft->t_min_k), r->rt_to_c = cdeg(ft->t_max_k);
+    double first = ceil((r->rt_from_c + 0.25 * step) / step) * step;
+    size_t inner = 0;
+    for (double t = first; t < r->rt_to_c - 0.25 * step; t += step)
+        inner++;
+    size_t n = span > 0.0 ? inner + 2 : 1;
+    if (!(r->rt = malloc(n * sizeof *r->rt)))
         return bg_error_set(err, BG_ENOMEM, "out of memory for the R-T table (%zu rows)", n);
-    r->nrt = 0;
-    for (double t = r->rt_from_c; t <= r->rt_to_c + 1e-9 && r->nrt < n; t += step) {
-        bg_report_rt_row *w = &r->rt[r->nrt++];
-        double tk = t + BG_ZERO_C_K, u = NAN;
+    for (r->nrt = 0; r->nrt < n; r->nrt++) {
+        bg_report_rt_row *w = &r->rt[r->nrt];
+        double t = r->nrt == 0 ? r->rt_from_c : r->nrt == n - 1 ? r->rt_to_c :
+                   first + step * (double)(r->nrt - 1);
+        double tk = r->nrt == 0 ? ft->t_min_k : r->nrt == n - 1 ? ft->t_max_k :
+                    t + BG_ZERO_C_K, u = NAN;
         w->t_c = t, w->r_ohm = NAN, w->alpha_per_k = NAN;
         bg_model_r_from_t(&ft->model, tk, &w->r_ohm, NULL);
         bg_model_alpha(&ft->model, tk, &w->alpha_per_k, NULL);
@@ -217,7 +221,7 @@ static void item_and_reference(FILE *f, const bg_calib_report *r)
     bgi_report_kv(f, "Probe serial", r->probe.serial);
     bgi_report_kv(f, "Production lot", r->lot.code);
     bgi_report_kv(f, "Part", r->lot.part);
-    snprintf(buf, sizeof buf, "R25 %s ohm (tolerance %.3g %%), B%.0f/%.0f %.0f K (tolerance "
+    snprintf(buf, sizeof buf, "R25 %s \xce\xa9 (tolerance %.3g %%), B%.0f/%.0f %.0f K (tolerance "
              "%.3g %%)", bg_units_format_ohms(r->lot.r25_ohm, 6, b1, sizeof b1),
              100.0 * r->lot.tol_r25, cdeg(r->lot.pair_t1_k), cdeg(r->lot.pair_t2_k),
              r->lot.beta_k, 100.0 * r->lot.tol_beta);
@@ -229,13 +233,16 @@ static void item_and_reference(FILE *f, const bg_calib_report *r)
         bgi_report_kv(f, "Identifier", ref->ident);
         bgi_report_kv(f, "Traceability (certificate)", ref->certificate);
         bgi_report_kv(f, "Calibration due", ref->due_date);
+        if (r->run.ref_overdue[0]) /* an override recorded on import */
+            bgi_report_kv(f, "USED PAST ITS CALIBRATION DUE DATE (override recorded with the "
+                          "run)", r->run.ref_overdue);
         if (ref->kind == BG_REF_LINEAR)
-            snprintf(buf, sizeof buf, "linear: t = t_read %s %.6g K %s %.6g (t_read - %.3f degC)",
+            snprintf(buf, sizeof buf, "linear: t = t_read %s %.6g K %s %.6g (t_read - %.3f \xc2\xb0" "C)",
                      ref->lin_c0_k < 0 ? "-" : "+", fabs(ref->lin_c0_k),
                      ref->lin_c1 < 0 ? "-" : "+", fabs(ref->lin_c1), cdeg(ref->lin_t0_k));
         else if (ref->kind == BG_REF_CVD)
             snprintf(buf, sizeof buf, "read as a platinum resistance, IEC 60751 "
-                     "Callendar-Van Dusen: R0 %.9g ohm, A %.6g, B %.6g, C %.6g",
+                     "Callendar-Van Dusen: R0 %.9g \xce\xa9, A %.9e, B %.9e, C %.9e",
                      ref->cvd_r0_ohm, ref->cvd_a, ref->cvd_b, ref->cvd_c);
         else
             snprintf(buf, sizeof buf, "none (readings used as given)");
@@ -285,18 +292,20 @@ static void model_and_uncertainty(FILE *f, const bg_calib_report *r)
 {
     const bg_fit_row *ft = &r->fit;
     const bg_model *m = &ft->model;
-    fputs("<h2>Fitted model and coefficients</h2>\n<table class=\"data\" id=\"coefficients\">\n"
-          "<tr><th>coefficient</th><th class=\"n\">value</th><th class=\"n\">standard "
-          "uncertainty</th></tr>\n", f);
+    fprintf(f, "<h2>Fitted model and coefficients</h2>\n<table class=\"data\" "
+               "id=\"coefficients\">\n<tr><th>coefficient</th><th class=\"n\">value</th>"
+               "<th class=\"n\">standard uncertainty</th></tr>\n");
     for (size_t i = 0; i < ft->npar; i++) {
         fprintf(f, "<tr><td>%s</td>", bg_model_coef_name(m, i));
-        bgi_html_num(f, "td", "n coef", "%.10g", m->coef[i]);
-        bgi_html_num(f, "td", "n u", "%.3g", ft->has_cov ? sqrt(ft->cov[i * ft->npar + i]) : NAN);
+        bgi_html_coef(f, "td", "n coef", m->coef[i]);
+        bgi_html_num(f, "td", "n u", "%.2e", ft->has_cov ? sqrt(ft->cov[i * ft->npar + i]) : NAN);
         fputs("</tr>\n", f);
     }
-    fputs("</table>\n", f);
+    fprintf(f, "</table>\n<p class=\"meta\" id=\"coef-digits\">Coefficients to %d significant "
+               "digits and standard uncertainties to 3, in the units of the model's formula; "
+               "the file keeps every digit of both.</p>\n", BGI_HTML_COEF_DIGITS);
     if (bg_model_flags(m) & BG_MODEL_HAS_T0)
-        fprintf(f, "<p>Reference temperature T0 = %.2f degC.</p>\n", cdeg(m->t0_k));
+        fprintf(f, "<p>Reference temperature T0 = %.2f \xc2\xb0" "C.</p>\n", cdeg(m->t0_k));
     fprintf(f, "<p id=\"fitstats\">RMS residual ");
     bgi_html_num(f, "span", "rms", "%.3f", ft->rms_mk);
     fprintf(f, " mK, largest ");
@@ -306,9 +315,9 @@ static void model_and_uncertainty(FILE *f, const bg_calib_report *r)
     fputs("<h2>Uncertainty and validity</h2>\n<table class=\"kv\" id=\"uncertainty\">\n", f);
     fprintf(f, "<tr><th>Validity range</th><td>");
     bgi_html_num(f, "span", "tmin", "%.2f", cdeg(ft->t_min_k));
-    fputs(" degC to ", f);
+    fputs(" \xc2\xb0" "C to ", f);
     bgi_html_num(f, "span", "tmax", "%.2f", cdeg(ft->t_max_k));
-    fputs(" degC (the readings' span)</td></tr>\n", f);
+    fputs(" \xc2\xb0" "C (the readings' span)</td></tr>\n", f);
     fprintf(f, "<tr><th>Expanded uncertainty</th><td>");
     if (isfinite(r->u_max_k)) {
         fputs("U = ", f);
@@ -330,8 +339,8 @@ static int readings(FILE *f, const bg_calib_report *r, bg_error *err)
 {
     size_t n = r->nreadings;
     fputs("<h2>Readings and residuals</h2>\n<table class=\"data\" id=\"readings\">\n<tr>"
-          "<th class=\"n\">line</th><th class=\"n\">T ref / degC</th><th class=\"n\">R / ohm"
-          "</th><th class=\"n\">T fit / degC</th><th class=\"n\">residual / mK</th><th>note"
+          "<th class=\"n\">line</th><th class=\"n\">T ref / \xc2\xb0" "C</th><th class=\"n\">"
+          "R / \xce\xa9</th><th class=\"n\">T fit / \xc2\xb0" "C</th><th class=\"n\">residual / mK</th><th>note"
           "</th></tr>\n", f);
     double *rx = malloc((n + 1) * sizeof *rx);
     int *rf = malloc((n + 1) * sizeof *rf);
@@ -366,15 +375,16 @@ static int readings(FILE *f, const bg_calib_report *r, bg_error *err)
             ylo = fmin(ylo, blo[i]), yhi = fmax(yhi, bhi[i]);
     }
     bgi_html_chart c = { "residuals", "Residuals (measured - fitted) against temperature",
-                         "temperature / degC", "residual / mK", 0, 0, 0, 0, 0 };
+                         "temperature / \xc2\xb0" "C", "residual / mK", 0, 0, 0, 0, 0 };
     bgi_html_chart_begin(f, &c, fmin(r->t_lo_k, r->fit.t_min_k) - BG_ZERO_C_K,
                          fmax(r->t_hi_k, r->fit.t_max_k) - BG_ZERO_C_K, ylo, yhi);
     if (isfinite(r->u_max_k))
         bgi_html_chart_band(f, &c, bx, blo, bhi, BG_REPORT_BAND);
     bgi_html_chart_hline(f, &c, 0.0, NULL, 0);
     bgi_html_chart_points(f, &c, rx, r->resid_mk, rf, n);
-    bgi_html_chart_end(f, &c, "Shaded: the curve's U (k = 2); dots: readings used; open "
-                              "squares: excluded readings");
+    bgi_html_chart_end(f, &c, "Grey band: \xc2\xb1U (k = 2), the uncertainty of the fitted "
+                              "curve, not the scatter of the readings; dots: readings used; "
+                              "open squares: excluded readings");
     free(rx), free(rf);
     return BG_OK;
 }
@@ -383,13 +393,13 @@ static void rt_table(FILE *f, const bg_calib_report *r)
 {
     fprintf(f, "<h2>Resistance&#8211;temperature table</h2>\n<table class=\"data\" id=\"rt\" "
                "data-from=\"%.17g\" data-to=\"%.17g\" data-step=\"%.17g\">\n<tr><th class=\"n\">"
-               "T / degC</th><th class=\"n\">R / ohm</th><th class=\"n\">&#945; / (%%/K)</th>"
+               "T / \xc2\xb0" "C</th><th class=\"n\">R / \xce\xa9</th><th class=\"n\">&#945; / (%%/K)</th>"
                "<th class=\"n\">U (k = 2) / mK</th></tr>\n", r->rt_from_c, r->rt_to_c,
             r->rt_step_c);
     for (size_t i = 0; i < r->nrt; i++) {
         const bg_report_rt_row *w = &r->rt[i];
         fputs("<tr class=\"rt\">", f);
-        bgi_html_num(f, "td", "n t", "%.1f", w->t_c);
+        bgi_html_num(f, "td", "n t", "%.2f", w->t_c);
         bgi_html_num(f, "td", "n r", "%.6g", w->r_ohm);
         bgi_html_num(f, "td", "n alpha", "%.4f", 100.0 * w->alpha_per_k);
         bgi_html_num(f, "td", "n U", "%.2f", 1e3 * w->u2_k);
@@ -412,12 +422,14 @@ static int calib_generate(const void *result, const bg_report_head *h, FILE *f, 
     int rc = readings(f, r, err);
     if (rc != BG_OK)
         return rc;
+    bgi_html_closing_begin(f);
     rt_table(f, r);
-    bgi_html_cautions(f);
-    fprintf(f, "<p class=\"meta\">Report %s, generated from fit %lld of run %lld by bandgap "
-               "%s. Issued reports are stored in the calibration database and never change; a "
-               "correction is issued as a new report that names this one.</p>\n", rid,
-            r->fit.id, r->run.id, r->fit.program_version);
+    char note[400];
+    snprintf(note, sizeof note, "Report %s, generated from fit %lld of run %lld by bandgap %s. "
+             "Issued reports are stored in the calibration database and never change; a "
+             "correction is issued as a new report that names this one.", rid, r->fit.id,
+             r->run.id, r->fit.program_version);
+    bgi_html_closing_end(f, note);
     bgi_html_end(f);
     return BG_OK;
 }

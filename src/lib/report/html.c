@@ -25,6 +25,39 @@ void bgi_html_esc(FILE *f, const char *s)
     }
 }
 
+/* Text as a CSS string's content: quotes, backslashes and '<' (so no "</style>") escaped. */
+static void css_string(FILE *f, const char *s)
+{
+    fputc('"', f);
+    for (; s && *s; s++) {
+        if (*s == '"' || *s == '\\' || *s == '<' || (unsigned char)*s < 0x20)
+            fprintf(f, "\\%x ", (unsigned)(unsigned char)*s);
+        else
+            fputc(*s, f);
+    }
+    fputc('"', f);
+}
+
+/* The printed page: the title and the report's identifier at the top of every page and "page
+** n of m" at the bottom, in the page's margin boxes (CSS Paged Media 3, section 5; the
+** counters 'page' and 'pages', section 4.3). */
+static void page_css(FILE *f, const char *title, const char *report_id)
+{
+    static const char box[] = " font: 8pt 'DejaVu Sans', Helvetica, Arial, sans-serif; "
+                              "color: #333; }\n";
+    fputs("@page { margin: 16mm 15mm;\n  @top-left { content: ", f);
+    css_string(f, title);
+    fputs(";", f);
+    fputs(box, f);
+    fputs("  @top-right { content: ", f);
+    css_string(f, report_id);
+    fputs(";", f);
+    fputs(box, f);
+    fputs("  @bottom-right { content: \"page \" counter(page) \" of \" counter(pages);", f);
+    fputs(box, f);
+    fputs("}\n", f);
+}
+
 void bgi_html_begin(FILE *f, const char *title, const char *report_id)
 {
     fputs("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n"
@@ -34,9 +67,9 @@ void bgi_html_begin(FILE *f, const char *title, const char *report_id)
     bgi_html_esc(f, title);
     fputs(" ", f);
     bgi_html_esc(f, report_id);
-    fputs("</title>\n<style>\n"
-          "@page { margin: 14mm 15mm; }\n"
-          "body { font: 10pt/1.35 'DejaVu Sans', Helvetica, Arial, sans-serif; color: #111;"
+    fputs("</title>\n<style>\n", f);
+    page_css(f, title, report_id);
+    fputs("body { font: 10pt/1.35 'DejaVu Sans', Helvetica, Arial, sans-serif; color: #111;"
           " max-width: 180mm; margin: 8mm auto; }\n"
           "h1 { font-size: 16pt; margin: 0 0 2mm; border-bottom: 1.5pt solid #111; }\n"
           "h2 { font-size: 11.5pt; margin: 6mm 0 2mm; border-bottom: 0.5pt solid #777;"
@@ -54,6 +87,7 @@ void bgi_html_begin(FILE *f, const char *title, const char *report_id)
           "figcaption { font-size: 9pt; color: #333; }\n"
           ".caution { border: 1pt solid #111; padding: 2mm 3mm; margin: 5mm 0; "
           "break-inside: avoid; }\n"
+          ".closing { break-inside: avoid; }\n"
           ".meta { color: #444; font-size: 9pt; }\n"
           "svg text { font: 7.5pt 'DejaVu Sans', Helvetica, Arial, sans-serif; fill: #111; }\n"
           "</style>\n</head>\n<body>\n", f);
@@ -64,6 +98,25 @@ void bgi_html_end(FILE *f)
     fputs("</body>\n</html>\n", f);
 }
 
+/* The page's end: the last section, the cautions and the closing note in one block that is
+** not broken across pages, so that no printed page holds only the end (a break before a
+** block is avoided only as far as the browser can; a block kept whole is kept whole). */
+void bgi_html_closing_begin(FILE *f)
+{
+    fputs("<div class=\"closing\">\n", f);
+}
+
+void bgi_html_closing_end(FILE *f, const char *note)
+{
+    bgi_html_cautions(f);
+    if (note && *note) {
+        fputs("<p class=\"meta\" id=\"closing-note\">", f);
+        bgi_html_esc(f, note);
+        fputs("</p>\n", f);
+    }
+    fputs("</div>\n", f);
+}
+
 void bgi_html_cautions(FILE *f)
 {
     fputs("<div class=\"caution\" id=\"cautions\"><strong>Cautions.</strong> These results hold "
@@ -72,6 +125,34 @@ void bgi_html_cautions(FILE *f)
           "not an accredited calibration certificate unless the laboratory's own accredited "
           "procedure issues it. In medical, food-safety or process-safety use, follow local "
           "regulations and accredited practice.</div>\n", f);
+}
+
+/* Text from the library, escaped, with its ASCII unit words as a reader expects them:
+** "degC" as the degree Celsius sign and "ohm" as the ohm sign (SI Brochure, 9th ed., table 4). */
+void bgi_html_esc_units(FILE *f, const char *s)
+{
+    char prev = ' ';
+    while (s && *s) {
+        int alone = !((prev >= 'a' && prev <= 'z') || (prev >= 'A' && prev <= 'Z'));
+        if (alone && strncmp(s, "degC", 4) == 0) {
+            fputs("\xc2\xb0" "C", f);
+            s += 4, prev = 'C';
+        } else if (alone && strncmp(s, "ohm", 3) == 0 && !(s[3] >= 'a' && s[3] <= 'z')) {
+            fputs("\xce\xa9", f);
+            s += 3, prev = 'm';
+        } else {
+            char one[2] = { *s, '\0' };
+            bgi_html_esc(f, one);
+            prev = *s++;
+        }
+    }
+}
+
+/* A coefficient: one scientific format for all, 10 significant digits (BGI_HTML_COEF_DIGITS),
+** with the full value in data-v. */
+void bgi_html_coef(FILE *f, const char *tag, const char *cls, double v)
+{
+    bgi_html_num(f, tag, cls, "%.9e", v);
 }
 
 /* A number to show, with its full value in data-v. */
@@ -216,6 +297,20 @@ void bgi_html_chart_line(FILE *f, const bgi_html_chart *c, const double *x, cons
                "stroke-width=\"0.9\" points=\"", n);
     for (size_t i = 0; i < n; i++)
         fprintf(f, "%.2f,%.2f ", sx(c, x[i]), sy(c, y[i]));
+    fputs("\"/>\n", f);
+}
+
+void bgi_html_chart_envelope(FILE *f, const bgi_html_chart *c, const double *x0,
+                             const double *x1, const double *lo, const double *hi, size_t n)
+{
+    fprintf(f, "<polygon class=\"envelope\" data-bands=\"%zu\" fill=\"#888\" stroke=\"#222\" "
+               "stroke-width=\"0.4\" stroke-linejoin=\"round\" points=\"", n);
+    for (size_t i = 0; i < n; i++)
+        fprintf(f, "%.2f,%.2f %.2f,%.2f ", sx(c, x0[i]), sy(c, hi[i]), sx(c, x1[i]),
+                sy(c, hi[i]));
+    for (size_t i = n; i-- > 0;)
+        fprintf(f, "%.2f,%.2f %.2f,%.2f ", sx(c, x1[i]), sy(c, lo[i]), sx(c, x0[i]),
+                sy(c, lo[i]));
     fputs("\"/>\n", f);
 }
 

@@ -226,6 +226,48 @@ int bgi_sqlite_fit_each(bgi_conn *c, const char *serial, const char *lot_code, b
     return rc;
 }
 
+int bgi_sqlite_fit_newest_of_run(bgi_conn *c, long long run_id, long long *fit_id,
+                                 bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "SELECT max(id) FROM fit WHERE run_id = ?", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, run_id);
+    *fit_id = 0;
+    if (sqlite3_step(q) == SQLITE_ROW)
+        *fit_id = sqlite3_column_int64(q, 0); /* NULL (no fit) reads as 0 */
+    else
+        rc = bgi_db_fail(c, err, "cannot read fits");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bgi_sqlite_fit_same(bgi_conn *c, const struct bgi_fitrow *r, long long *fit_id,
+                        bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    /* the parameters of fitrow_bind; REAL and BLOB values compare exactly, IS matches NULLs;
+    ** the program version and the time are not compared (their bindings, 22 and 23, fall
+    ** outside the statement's parameters and are ignored) */
+    int rc = bgi_prepare(c, "SELECT id FROM fit WHERE run_id = ?1 AND model = ?2 AND "
+                         "t0_k IS ?3 AND npar = ?4 AND c0 IS ?5 AND c1 IS ?6 AND c2 IS ?7 AND "
+                         "c3 IS ?8 AND c4 IS ?9 AND c5 IS ?10 AND cov IS ?11 AND n = ?12 AND "
+                         "dof = ?13 AND weighted = ?14 AND chi2 IS ?15 AND cov_scale IS ?16 AND "
+                         "rms_mk IS ?17 AND max_abs_mk IS ?18 AND t_min_k IS ?19 AND "
+                         "t_max_k IS ?20 AND reading_ids = ?21 "
+                         "ORDER BY id LIMIT 1", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    fitrow_bind(q, 0, r, "", 0);
+    int s = sqlite3_step(q);
+    *fit_id = s == SQLITE_ROW ? sqlite3_column_int64(q, 0) : 0;
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read fits");
+    sqlite3_finalize(q);
+    return rc;
+}
+
 int bgi_sqlite_fit_readings(bgi_conn *c, long long fit_id, long long *ids, size_t max,
                             size_t *n, bg_error *err)
 {
@@ -390,10 +432,11 @@ int bgi_sqlite_lot_latest_fits(bgi_conn *c, long long lot_id, const char *since,
     struct idlist l = { NULL, NULL, NULL, 0, 0 };
     int rc, s;
 
-    rc = bgi_prepare(c, "SELECT p.serial, coalesce((SELECT f.id FROM run r JOIN fit f ON "
-                     "f.run_id = r.id WHERE r.probe_id = p.id AND (?2 IS NULL OR "
-                     "r.started_at >= ?2) ORDER BY r.started_at DESC, f.id DESC LIMIT 1), 0) "
-                     "FROM probe p WHERE p.lot_id = ?1 ORDER BY p.id", &q, err);
+    /* the current fit: the newest fit of the latest run (of those since 'since') */
+    rc = bgi_prepare(c, "SELECT p.serial, coalesce((SELECT max(f.id) FROM fit f WHERE "
+                     "f.run_id = (SELECT r.id FROM run r WHERE r.probe_id = p.id AND (?2 IS "
+                     "NULL OR r.started_at >= ?2) ORDER BY r.started_at DESC, r.id DESC "
+                     "LIMIT 1)), 0) FROM probe p WHERE p.lot_id = ?1 ORDER BY p.id", &q, err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, lot_id);

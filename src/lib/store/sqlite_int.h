@@ -31,6 +31,12 @@ int bgi_sqlite_import(bgi_conn *c, const struct bgi_import *imp, long long *run_
                       bg_error *err);
 int bgi_sqlite_run_get(bgi_conn *c, long long run_id, bg_run *out, bg_error *err);
 int bgi_sqlite_run_latest(bgi_conn *c, long long probe_id, long long *run_id, bg_error *err);
+int bgi_sqlite_run_by_digest(bgi_conn *c, long long probe_id, const char *sha256,
+                             long long *run_id, bg_error *err);
+int bgi_sqlite_fit_newest_of_run(bgi_conn *c, long long run_id, long long *fit_id,
+                                 bg_error *err);
+int bgi_sqlite_fit_same(bgi_conn *c, const struct bgi_fitrow *r, long long *fit_id,
+                        bg_error *err);
 int bgi_sqlite_run_each(bgi_conn *c, const char *serial, const char *lot_code, bg_run_cb cb,
                         void *ctx, bg_error *err);
 int bgi_sqlite_reading_each(bgi_conn *c, long long run_id, bg_reading_cb cb, void *ctx,

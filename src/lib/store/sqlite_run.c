@@ -29,8 +29,9 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
     if (rc != BG_OK ||
         (rc = bgi_prepare(c, "INSERT INTO run(probe_id, reference_id, operator, medium, "
                           "ambient, excitation, started_at, source, note, imported_at, "
-                          "t_raw_unit, first_reading, nreadings) "
-                          "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
+                          "t_raw_unit, first_reading, nreadings, readings_sha256, "
+                          "repeats_run, ref_overdue) "
+                          "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, imp->probe_id);
     if (imp->ref_id)
@@ -48,6 +49,12 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
     sqlite3_bind_text(q, 11, imp->unit, -1, SQLITE_STATIC);
     sqlite3_bind_int64(q, 12, *first);
     sqlite3_bind_int64(q, 13, (sqlite3_int64)imp->rs->n);
+    sqlite3_bind_text(q, 14, imp->sha256, -1, SQLITE_TRANSIENT);
+    if (imp->repeats_run)
+        sqlite3_bind_int64(q, 15, imp->repeats_run);
+    else
+        sqlite3_bind_null(q, 15);
+    bgi_bind_text_or_null(q, 16, imp->ref_overdue);
     if (sqlite3_step(q) != SQLITE_DONE)
         rc = bgi_db_fail(c, err, "cannot create the run");
     else
@@ -147,7 +154,8 @@ int bgi_sqlite_import(bgi_conn *c, const struct bgi_import *imp, long long *run_
     "r.nreadings, " \
     "(SELECT count(*) FROM exclusion e WHERE e.reading_id BETWEEN r.first_reading " \
     "  AND r.first_reading + r.nreadings - 1), " \
-    "(SELECT count(*) FROM fit f WHERE f.run_id = r.id)"
+    "(SELECT count(*) FROM fit f WHERE f.run_id = r.id), " \
+    "r.readings_sha256, coalesce(r.repeats_run, 0), x.due_date, r.ref_overdue"
 #define RUN_FROM " FROM run r JOIN probe p ON r.probe_id = p.id " \
     "LEFT JOIN reference x ON r.reference_id = x.id "
 
@@ -169,6 +177,11 @@ static void run_row(sqlite3_stmt *q, bg_run *r)
     r->nreadings = sqlite3_column_int64(q, 13);
     r->nexcluded = sqlite3_column_int64(q, 14);
     r->nfits = sqlite3_column_int64(q, 15);
+    bgi_copy_text(r->readings_sha256, sizeof r->readings_sha256, q, 16);
+    r->repeats_run = sqlite3_column_int64(q, 17);
+    bgi_copy_text(r->ref_due_date, sizeof r->ref_due_date, q, 18);
+    bgi_copy_text(r->ref_overdue, sizeof r->ref_overdue, q, 19);
+    r->new_run = 0;
 }
 
 int bgi_sqlite_run_get(bgi_conn *c, long long run_id, bg_run *out, bg_error *err)
@@ -203,6 +216,24 @@ int bgi_sqlite_run_latest(bgi_conn *c, long long probe_id, long long *run_id, bg
         rc = bg_error_set(err, BG_EINVAL, "the probe has no calibration runs (import one with "
                           "'bandgap import FILE --probe SERIAL')");
     else
+        rc = bgi_db_fail(c, err, "cannot read runs");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bgi_sqlite_run_by_digest(bgi_conn *c, long long probe_id, const char *sha256,
+                             long long *run_id, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "SELECT id FROM run WHERE probe_id = ? AND readings_sha256 = ? "
+                         "ORDER BY id LIMIT 1", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, probe_id);
+    sqlite3_bind_text(q, 2, sha256, -1, SQLITE_TRANSIENT);
+    int s = sqlite3_step(q);
+    *run_id = s == SQLITE_ROW ? sqlite3_column_int64(q, 0) : 0;
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
         rc = bgi_db_fail(c, err, "cannot read runs");
     sqlite3_finalize(q);
     return rc;

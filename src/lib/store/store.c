@@ -328,6 +328,121 @@ static int correct_all(const bg_readings *rs, const bg_ref *ref, const char *src
     return BG_OK;
 }
 
+/* A double of the canonical form: the 16 hex digits of its IEEE 754 binary64 bits, with -0
+** written as +0 (they are the same reading). */
+static void digest_double(struct bgi_sha256 *h, double v, char sep)
+{
+    static const char hexd[] = "0123456789abcdef";
+    unsigned long long u;
+    char buf[17];
+    if (v == 0.0)
+        v = 0.0;
+    memcpy(&u, &v, sizeof u);
+    for (int i = 15; i >= 0; i--, u >>= 4) /* by hand: a million readings, five values each */
+        buf[i] = hexd[u & 0xf];
+    buf[16] = sep;
+    bgi_sha256_update(h, buf, 17);
+}
+
+/* The SHA-256 of the readings' canonical form (docs/commands/import.md): a first line
+** "bandgap readings v1", the raw unit, then one line per reading in file order with the raw
+** reference value, R, u(T), u(R) and the time as written.  Line numbers, notes, comments and
+** the file's layout are left out: the same readings in another file are the same readings. */
+static void readings_digest(const bg_readings *rs, const char *unit, char hex[65])
+{
+    struct bgi_sha256 h;
+    unsigned char d[32];
+    bgi_sha256_init(&h);
+    bgi_sha256_update(&h, "bandgap readings v1\n", 20);
+    bgi_sha256_update(&h, unit, strlen(unit));
+    bgi_sha256_update(&h, "\n", 1);
+    for (size_t i = 0; i < rs->n; i++) {
+        const bg_reading *r = &rs->v[i];
+        digest_double(&h, r->t_raw, ';');
+        digest_double(&h, r->pt.r_ohm, ';');
+        digest_double(&h, r->pt.u_t_k, ';');
+        digest_double(&h, r->pt.u_r_ohm, ';');
+        bgi_sha256_update(&h, r->time, strlen(r->time));
+        bgi_sha256_update(&h, "\n", 1);
+    }
+    bgi_sha256_final(&h, d);
+    bgi_sha256_hex(d, hex);
+}
+
+/* A repeated import: the readings' digest against the probe's earlier runs. */
+static int check_repeat(bg_store *st, const bg_run *meta, struct bgi_import *imp, bg_error *err)
+{
+    long long earlier = 0;
+    bg_run r;
+    int rc = st->be->run_by_digest(st->conn, imp->probe_id, imp->sha256, &earlier, err);
+    if (rc != BG_OK || !earlier)
+        return rc;
+    if (meta->new_run) {
+        imp->repeats_run = earlier;
+        return BG_OK;
+    }
+    if ((rc = st->be->run_get(st->conn, earlier, &r, err)) != BG_OK)
+        return rc;
+    return bg_error_set(err, BG_EINVAL, "%s: these readings of probe '%s' were imported before "
+                        "as run %lld (started %s, from %s): nothing imported (--new-run imports "
+                        "them again as a new run on purpose)", imp->src, meta->serial, earlier,
+                        r.started_at, r.source);
+}
+
+/* The latest time of the run: its start, or a later reading's time ('*line' its line, 0 for
+** the start; 'when' the time as written). */
+static int run_last_time(const bg_readings *rs, const char *started_at, double *t_s,
+                         size_t *line, const char **when, bg_error *err)
+{
+    int rc = bg_time_parse(started_at, t_s, err);
+    *line = 0, *when = started_at;
+    for (size_t i = 0; rc == BG_OK && i < rs->n; i++) {
+        double t;
+        if (!rs->v[i].time[0])
+            continue;
+        if ((rc = bg_time_parse(rs->v[i].time, &t, err)) == BG_OK && t > *t_s)
+            *t_s = t, *line = rs->v[i].pt.line, *when = rs->v[i].time;
+    }
+    return rc;
+}
+
+/* A reference past its calibration due date is used only with a reason, which the run keeps;
+** a reason without that need is refused too, so that no run carries a false override. */
+static int check_due(const bg_ref *ref, const bg_readings *rs, const struct bgi_import *imp,
+                     bg_error *err)
+{
+    const char *why = imp->ref_overdue, *when;
+    double due, last;
+    size_t line;
+    int rc, overdue = 0;
+
+    if (ref && ref->due_date[0]) {
+        if ((rc = bg_time_parse(ref->due_date, &due, err)) != BG_OK ||
+            (rc = run_last_time(rs, imp->started_at, &last, &line, &when, err)) != BG_OK)
+            return rc;
+        /* a due date without a time of day holds for the whole day (UTC) */
+        overdue = strlen(ref->due_date) == 10 ? last >= due + 86400.0 : last > due;
+    }
+    if (overdue && !why) {
+        char at[64] = "";
+        if (line)
+            snprintf(at, sizeof at, ":%zu", line);
+        return bg_error_set(err, BG_EINVAL, "%s%s: reference '%s' was due for calibration on "
+                            "%s, before %s %s: import refused (to use it anyway, give the "
+                            "reason with --ref-overdue WHY; the run records it and every fit "
+                            "and report of the run shows it)", imp->src, at, ref->ident,
+                            ref->due_date, line ? "this reading's time" : "the run's start",
+                            when);
+    }
+    if (!overdue && why)
+        return bg_error_set(err, BG_EINVAL, "%s: %s: no override is needed and none is "
+                            "recorded (--ref-overdue is for a reference past its calibration "
+                            "due date)", imp->src, !ref ? "the run has no reference thermometer"
+                            : ref->due_date[0] ? "the reference is not past its due date"
+                            : "the reference has no due date");
+    return BG_OK;
+}
+
 /* Inside the import's transaction: the probe and the reference, their agreement with the
 ** file, the corrected temperatures, and the backend's write. */
 static int import_run(bg_store *st, const bg_readings *rs, const bg_run *meta,
@@ -349,6 +464,9 @@ static int import_run(bg_store *st, const bg_readings *rs, const bg_run *meta,
         return bg_error_set(err, BG_EINVAL, "%s: reference '%s' is read as a platinum "
                             "resistance: the file needs a 'ref_ohms' column", imp->src,
                             ref.ident);
+    if ((rc = check_due(have_ref ? &ref : NULL, rs, imp, err)) != BG_OK ||
+        (rc = check_repeat(st, meta, imp, err)) != BG_OK)
+        return rc;
     if ((rc = correct_all(rs, have_ref ? &ref : NULL, imp->src, &t_k, err)) != BG_OK)
         return rc;
     imp->ref_id = have_ref ? ref.id : 0;
@@ -369,11 +487,13 @@ int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, lon
     imp.rs = rs, imp.meta = meta;
     imp.src = meta->source[0] ? meta->source : "-";
     imp.unit = rs->ref_ohms ? "ohm" : bg_units_symbol(rs->t_unit, 1);
+    imp.ref_overdue = meta->ref_overdue[0] ? meta->ref_overdue : NULL;
     if (rs->n == 0)
         return bg_error_set(err, BG_EINVAL, "%s: no readings to import", imp.src);
     if ((rc = check_text("operator", meta->operator_name, BG_TEXT, 0, err)) != BG_OK ||
         (rc = check_text("medium", meta->medium, BG_TEXT, 0, err)) != BG_OK ||
-        (rc = check_text("note", meta->note, BG_NOTE, 0, err)) != BG_OK)
+        (rc = check_text("note", meta->note, BG_NOTE, 0, err)) != BG_OK ||
+        (rc = check_text("reason", meta->ref_overdue, BG_NOTE, 0, err)) != BG_OK)
         return rc;
     if (meta->started_at[0] && !bg_csv_valid_time(meta->started_at))
         return bg_error_set(err, BG_EINVAL, "start time '%s': not an ISO 8601 date-time",
@@ -381,6 +501,7 @@ int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, lon
     imp.now = bg_store_time(st, now, sizeof now);
     imp.started_at = meta->started_at[0] ? meta->started_at
                    : rs->v[0].time[0] ? rs->v[0].time : now;
+    readings_digest(rs, imp.unit, imp.sha256);
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
     rc = import_run(st, rs, meta, &imp, run_id, err);
@@ -571,6 +692,52 @@ int bg_store_fit_readings(bg_store *st, long long fit_id, long long *ids, size_t
                           bg_error *err)
 {
     return st->be->fit_readings(st->conn, fit_id, ids, max, n, err);
+}
+
+int bg_store_run_fit(bg_store *st, long long run_id, long long *fit_id, bg_error *err)
+{
+    return st->be->fit_newest_of_run(st->conn, run_id, fit_id, err);
+}
+
+int bg_store_fit_find_same(bg_store *st, long long run_id, const bg_fit *fit,
+                           const long long *reading_ids, long long *fit_id, bg_error *err)
+{
+    struct bgi_fitrow r;
+    int rc = fitrow_of(run_id, fit, reading_ids, &r, err);
+    if (rc != BG_OK)
+        return rc;
+    rc = st->be->fit_same(st->conn, &r, fit_id, err);
+    free(r.ids);
+    return rc;
+}
+
+/* ---- the current fit: the one rule every command that takes --probe uses ---- */
+
+int bg_store_current_fit(bg_store *st, const char *serial, bg_fit_row *fit, bg_run *run,
+                         bg_error *err)
+{
+    long long pid = 0, rid = 0, fid = 0;
+    bg_run r;
+    int rc = st->be->probe_id(st->conn, serial, &pid, err);
+    if (rc != BG_OK)
+        return rc;
+    if ((rc = st->be->run_latest(st->conn, pid, &rid, err)) != BG_OK) {
+        bg_error_prefix(err, "probe '%s'", serial);
+        return rc;
+    }
+    if ((rc = st->be->run_get(st->conn, rid, &r, err)) != BG_OK ||
+        (rc = st->be->fit_newest_of_run(st->conn, rid, &fid, err)) != BG_OK)
+        return rc;
+    if (!fid)
+        return bg_error_set(err, BG_EINVAL, "probe '%s' has no current fit: its latest run "
+                            "%lld (started %s) is not fitted (fit it with 'bandgap fit --probe "
+                            "%s', or name a fit with --fit ID)", serial, rid, r.started_at,
+                            serial);
+    if ((rc = st->be->fit_get(st->conn, fid, fit, err)) != BG_OK)
+        return rc;
+    if (run)
+        *run = r;
+    return BG_OK;
 }
 
 /* ---- calibration history ---- */

@@ -7,6 +7,7 @@
 #define BANDGAP_STORE_INT_H
 
 #include <stddef.h>
+#include <stdint.h>
 #include <time.h>
 
 #include "bandgap/store.h"
@@ -38,6 +39,11 @@ struct bgi_import {
     const double *t_k;              /* rs->n corrected temperatures, K */
     const char *src, *unit;         /* the source's name; the unit of the raw values */
     const char *started_at, *now;
+    /* schema 3: the readings' digest (hex), the earlier run this one repeats on purpose (0:
+    ** none), the reason a reference past its due date was used (NULL: it was not) */
+    char sha256[65];
+    long long repeats_run;
+    const char *ref_overdue;
 };
 
 /* An artifact to store under 'id' (from artifact_next). */
@@ -49,7 +55,7 @@ struct bgi_artifact_row {
     const char *now;
 };
 
-#define BGI_STORE_BACKEND_VERSION 1
+#define BGI_STORE_BACKEND_VERSION 3
 
 /* Every function takes the connection first and 'err' last, and returns a bg_status unless
 ** said otherwise.  Write functions run inside a transaction that store.c opened (in_tx is
@@ -125,7 +131,17 @@ struct bgi_store_backend {
     int (*artifact_get)(bgi_conn *c, long long id, bg_artifact *out, bg_error *err);
     int (*artifact_each)(bgi_conn *c, bg_artifact_cb cb, void *ctx, bg_error *err);
 
-    /* a part's specifications (added with schema version 5) */
+    /* version 2 */
+    /* the oldest run of 'probe_id' whose readings have the digest 'sha256' (0: none) */
+    int (*run_by_digest)(bgi_conn *c, long long probe_id, const char *sha256, long long *run_id,
+                         bg_error *err);
+    /* the newest fit of run 'run_id' (0: none) */
+    int (*fit_newest_of_run)(bgi_conn *c, long long run_id, long long *fit_id, bg_error *err);
+    /* the oldest fit of row 'r's run with the same readings, model and values as 'r' (the
+    ** coefficients, covariance and statistics compared exactly); 0: none */
+    int (*fit_same)(bgi_conn *c, const struct bgi_fitrow *r, long long *fit_id, bg_error *err);
+
+    /* version 3: a part's specifications (schema db/005-part-nominal.sql) */
     int (*part_spec_add)(bgi_conn *c, const bg_part_spec *p, const char *now, long long *id,
                          bg_error *err);
     int (*part_spec_each)(bgi_conn *c, const char *part, int newest_only, bg_part_spec_cb cb,
@@ -146,6 +162,19 @@ struct bg_store {
     long long next_fit_id;         /* 0: not read in this transaction */
     char backup[4200];
 };
+
+/* SHA-256 (FIPS 180-4; sha256.c): init, feed any number of bytes, final. */
+struct bgi_sha256 {
+    uint32_t h[8];                 /* the hash value */
+    unsigned long long len;        /* bytes fed */
+    unsigned char buf[64];
+    size_t nbuf;
+};
+void bgi_sha256_init(struct bgi_sha256 *s);
+void bgi_sha256_update(struct bgi_sha256 *s, const void *data, size_t n);
+void bgi_sha256_final(struct bgi_sha256 *s, unsigned char out[32]);
+/* The 32 bytes as 64 lower-case hex digits and a NUL. */
+void bgi_sha256_hex(const unsigned char digest[32], char hex[65]);
 
 /* The SQLite backend's schema migrations, embedded from db/NNN-*.sql at build time: entry i
 ** takes the schema from version i to i + 1; ends with NULLs. */
