@@ -230,12 +230,11 @@ static void chart_begin(FILE *f, bgi_html_chart *c, double xlo, double xhi, doub
                "stroke=\"#111\" stroke-width=\"0.8\"/>\n", ML, MT, W - ML - MR, H - MT - MB);
     for (double v = c->xint ? ceil(c->x0) : c->x0; v <= c->x1 + xs * 1e-9; v += xs) {
         double X = sx(c, v);
-        size_t k = (size_t)v - 1; /* with names: tick v names item v - 1 */
         fprintf(f, "<line x1=\"%.2f\" y1=\"%d\" x2=\"%.2f\" y2=\"%d\" stroke=\"#ccc\" "
                    "stroke-width=\"0.5\"/><text x=\"%.2f\" y=\"%d\" text-anchor=\"middle\">",
                 X, MT, X, H - MB, X, H - MB + 12);
-        if (names && c->xint && v >= 1.0 && k < nnames)
-            bgi_html_esc(f, names[k]);
+        if (names && c->xint && v >= 1.0 && v < (double)nnames + 0.5)
+            bgi_html_esc(f, names[(size_t)v - 1]); /* tick v names item v - 1 */
         else
             fprintf(f, "%g", fabs(v) < xs * 1e-9 ? 0.0 : v);
         fputs("</text>\n", f);
