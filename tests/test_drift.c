@@ -209,12 +209,48 @@ static void limits_and_run_rules(void **state)
             assert_false(f[i] & BG_RULE_3SIGMA);
 }
 
+/* Round check temperatures: the multiples of the largest 1, 2, 5 x 10^n degC step with at
+** least five in the range (values worked out by hand from that rule). */
+static void round_check_points(void **state)
+{
+    (void)state;
+    double at[BG_DRIFT_MAXAT];
+    size_t n = 0;
+    bg_error err = BG_ERROR_INIT;
+    /* -19.995 .. 59.99 degC: 20 degC steps give 0, 20, 40 (3); 10 degC steps -10 .. 50 (7) */
+    assert_int_equal(bg_drift_round_points(253.155, 333.14, 5, at, BG_DRIFT_MAXAT, &n, NULL),
+                     BG_OK);
+    assert_int_equal(n, 7);
+    for (size_t i = 0; i < n; i++)
+        assert_close(at[i], 273.15 - 10.0 + 10.0 * (double)i, 1e-12, 0);
+    /* a range ending on a multiple keeps it: -20 .. 60 degC at 20 degC steps (5) */
+    assert_int_equal(bg_drift_round_points(253.15, 333.15, 5, at, BG_DRIFT_MAXAT, &n, NULL),
+                     BG_OK);
+    assert_int_equal(n, 5);
+    assert_close(at[0], 253.15, 1e-12, 0);
+    assert_close(at[4], 333.15, 1e-12, 0);
+    /* two lots over nearly the same span get the same temperatures */
+    double at2[BG_DRIFT_MAXAT];
+    size_t n2 = 0;
+    assert_int_equal(bg_drift_round_points(253.14, 333.16, 5, at2, BG_DRIFT_MAXAT, &n2, NULL),
+                     BG_OK);
+    assert_int_equal(n2, n);
+    assert_memory_equal(at, at2, n * sizeof at[0]);
+    /* a narrow range: 25.000 .. 25.030 degC at 0.01 degC steps gives four: refused */
+    assert_int_equal(bg_drift_round_points(298.15, 298.18, 5, at, BG_DRIFT_MAXAT, &n, &err),
+                     BG_EINVAL);
+    assert_non_null(strstr(err.msg, "too narrow"));
+    assert_int_equal(bg_drift_round_points(333.15, 253.15, 5, at, BG_DRIFT_MAXAT, &n, NULL),
+                     BG_EINVAL);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(iso_times),
         cmocka_unit_test(check_points_over_the_overlap),
+        cmocka_unit_test(round_check_points),
         cmocka_unit_test(as_found_of_a_resistance_drift),
         cmocka_unit_test(as_found_of_a_beta_change),
         cmocka_unit_test(statistics),

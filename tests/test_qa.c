@@ -127,7 +127,12 @@ static void lot_statistics_against_numpy(void **state)
     assert_true(l.flagged);
     /* deviation from the nominal curve: 1/T' = 1/T0 + ln(R/R0)/B0 with R from the probe's
     ** curve, evaluated here (definition of the beta model) */
-    assert_int_equal(l.nat, 5);
+    /* round check temperatures over 0 .. 100 degC: the multiples of 20 degC (the largest of
+    ** 1, 2, 5 x 10^n with at least five in the range) */
+    assert_int_equal(l.nat, 6);
+    for (size_t k = 0; k < l.nat; k++)
+        assert_close(l.at_k[k], 273.15 + 20.0 * (double)k, 1e-12, 0);
+    assert_true(l.nominal_is_beta);
     for (size_t i = 0; i < 8; i++)
         for (size_t k = 0; k < l.nat; k++) {
             double t = l.at_k[k], r = lot_r25[i] * exp(lot_b[i] * (1 / t - 1 / 298.15));
@@ -135,6 +140,98 @@ static void lot_statistics_against_numpy(void **state)
             assert_close(l.dev_mk[i * l.nat + k], expect, 1e-6, 1e-6);
         }
     bg_qa_lot_release(&l);
+    bg_store_close(st);
+}
+
+/* The same lot judged against a nominal curve stored with the part (sh3, invented: A 1.02228e-3,
+** B 2.53165e-4, C 2e-10) and a tolerance of 0.3 K over 0 .. 100 degC; a second lot whose B
+** pair (25/110 degC) lies beyond its probes' range has its B marked as extrapolated. */
+static void lot_against_the_part_curve(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("nominal.db");
+    bg_qa_opts o = bg_qa_default_opts();
+    bg_qa_lot l = BG_QA_LOT_INIT;
+    bg_qa_part_set_result set;
+    bg_part_spec spec;
+    bg_lot lot2;
+    memset(&spec, 0, sizeof spec);
+    snprintf(spec.part, sizeof spec.part, "NTC");
+    spec.have_model = 1;
+    bg_model_parse("sh3", &spec.model, NULL);
+    spec.model.coef[0] = 1.02228e-3, spec.model.coef[1] = 2.53165e-4;
+    spec.model.coef[2] = 2.0e-10;
+    spec.tol_k = 0.3, spec.tol_lo_k = 273.15, spec.tol_hi_k = 373.15;
+    spec.limit_k = 0.05;
+    add_lot(st, "L1", "NTC");
+    for (int i = 0; i < 8; i++) {
+        char serial[32];
+        snprintf(serial, sizeof serial, "P%d", i + 1);
+        assert_int_equal(bg_store_probe_add(st, serial, "L1", NULL, NULL, NULL), BG_OK);
+        calibrate(st, serial, lot_r25[i], lot_b[i], "2026-11-24T08:00:00Z");
+    }
+    assert_int_equal(bg_qa_part_set(st, &spec, NULL, &set, NULL), BG_OK);
+    assert_true(set.spec.id > 0);
+    assert_int_equal(bg_qa_lot_stats(st, "L1", &o, &l, NULL), BG_OK);
+    assert_false(l.nominal_is_beta);
+    assert_int_equal(l.spec.id, set.spec.id);
+    /* numpy 1.24 (Debian), computed 2026-12-02: R = r25 exp(b (1/T - 1/298.15)),
+    ** L = ln R, dev = 1e3 (1/(A + B L + C L^3) - T) at T = 273.15 + 0, 20, .., 100 */
+    static const double dev_p1[6] = { -47.06757349640611, -42.63440297819443, -38.0125790064767,
+                                      -33.13126993765536, -27.93567846907763, -22.38274641257476 };
+    static const double dev_p7[6] = { -339.4864533133273, -366.40749204292433,
+                                      -394.49750928696403, -423.6856107331164,
+                                      -453.91694611640787, -485.14841139797227 };
+    assert_int_equal(l.nat, 6);
+    for (size_t k = 0; k < 6; k++) {
+        assert_close(l.dev_mk[0 * 6 + k], dev_p1[k], 1e-6, 1e-6);
+        assert_close(l.dev_mk[6 * 6 + k], dev_p7[k], 1e-6, 1e-6);
+        assert_close(l.band_lo_mk[k], -300.0, 1e-12, 0);
+        assert_close(l.band_hi_mk[k], 300.0, 1e-12, 0);
+    }
+    /* numpy: max |dev| over numpy.linspace(273.15, 373.15, 41); only P7 is beyond 300 mK */
+    assert_close(l.tol_dev_mk[0], 47.06757349640611, 1e-6, 1e-6);
+    assert_close(l.tol_dev_mk[4], 167.0970218899015, 1e-6, 1e-6);
+    assert_close(l.tol_dev_mk[6], 485.14841139797227, 1e-6, 1e-6);
+    assert_int_equal(l.nband, 1);
+    assert_true(l.flags[6] & BG_QA_OUT_OF_BAND);
+    assert_false(l.flags[4] & BG_QA_OUT_OF_BAND);
+    assert_int_equal(l.nb_extrap, 0); /* 25/85 inside 0 .. 100 degC */
+    bg_qa_lot_release(&l);
+
+    memset(&lot2, 0, sizeof lot2);
+    snprintf(lot2.code, sizeof lot2.code, "L2");
+    snprintf(lot2.part, sizeof lot2.part, "NTC");
+    lot2.r25_ohm = 10000, lot2.beta_k = 3950, lot2.pair_t1_k = 298.15, lot2.pair_t2_k = 383.15;
+    lot2.tol_r25 = 0.01, lot2.tol_beta = 0.005;
+    assert_int_equal(bg_store_lot_add(st, &lot2, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "Q1", "L2", NULL, NULL, NULL), BG_OK);
+    calibrate(st, "Q1", 10000.0, 3950.0, "2026-11-24T08:00:00Z");
+    assert_int_equal(bg_qa_lot_stats(st, "L2", &o, &l, NULL), BG_OK);
+    assert_int_equal(l.nb_extrap, 1);
+    assert_true(l.flags[0] & BG_QA_B_EXTRAPOLATED);
+    assert_false(l.flagged); /* extrapolation is a note, not a flag */
+    assert_int_equal(l.flags[0] & (BG_QA_OUT_OF_TOL | BG_QA_OUT_OF_BAND | BG_QA_OUTLIER), 0);
+    bg_qa_lot_release(&l);
+
+    /* the part's drift limit is the default, and says so; an option wins */
+    bg_qa_probe p = BG_QA_PROBE_INIT;
+    assert_int_equal(bg_qa_probe_drift(st, "P1", &o, &p, NULL), BG_OK);
+    assert_close(p.limit_k, 0.05, 1e-15, 0);
+    assert_int_equal(p.limit_from, BG_QA_FROM_PART);
+    bg_qa_probe_release(&p);
+    o.limit_k = 0.02;
+    assert_int_equal(bg_qa_probe_drift(st, "P1", &o, &p, NULL), BG_OK);
+    assert_int_equal(p.limit_from, BG_QA_FROM_OPTION);
+    bg_qa_probe_release(&p);
+
+    /* a curve whose resistance rises with temperature is refused, and nothing is stored */
+    spec.model.coef[1] = -2.53165e-4;
+    bg_error err = BG_ERROR_INIT;
+    assert_int_equal(bg_qa_part_set(st, &spec, NULL, &set, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "does not fall"));
+    assert_int_equal(bg_store_part_spec_get(st, "NTC", &spec, NULL), BG_OK);
+    assert_close(spec.model.coef[1], 2.53165e-4, 0, 0);
     bg_store_close(st);
 }
 
@@ -166,6 +263,9 @@ static void part_charts_against_numpy(void **state)
     assert_int_equal(bg_qa_part_charts(st, "NTC", &o, &p, NULL), BG_OK);
     assert_int_equal(p.nlots, 3);
     assert_int_equal(p.baseline, 2);
+    assert_int_equal(p.baseline_from, BG_QA_FROM_OPTION);
+    /* fewer than 20 baseline lots: provisional (Montgomery's 20 to 25 subgroups, from memory) */
+    assert_true(p.provisional);
     assert_int_equal(p.subgroup, 4);
     /* numpy/scipy (computed 2026-12-02): lot means and std(ddof=1) of the R25 deviation (%)
     ** and B; c4(4) = sqrt(2/3) gamma(2)/gamma(1.5) (scipy.special.gamma), A3 = 3/(c4 sqrt 4),
@@ -264,6 +364,7 @@ int main(void)
     gsl_set_error_handler(test_gsl_handler);
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(lot_statistics_against_numpy),
+        cmocka_unit_test(lot_against_the_part_curve),
         cmocka_unit_test(part_charts_against_numpy),
         cmocka_unit_test(probe_history_keeps_all_100),
         cmocka_unit_test(part_of_300_lots),

@@ -20,6 +20,15 @@
 BG_API int bg_drift_check_points(double lo1_k, double hi1_k, double lo2_k, double hi2_k,
                                  size_t n, double *at_k, bg_error *err);
 
+/* Round check temperatures inside [lo_k, hi_k]: the multiples of the largest step of 1, 2 or
+** 5 times a power of ten degrees Celsius (0.01 degC at the least) of which at least 'min_n'
+** lie in the range, ends included, at most 'max' of them; so that two lots calibrated over
+** nearly the same range get the same temperatures.  Fills 'at_k' (K) and '*n'.  BG_EINVAL
+** when the range is empty or too narrow for 'min_n' multiples of 0.01 degC, or min_n is 0 or
+** above 'max'. */
+BG_API int bg_drift_round_points(double lo_k, double hi_k, size_t min_n, double *at_k,
+                                 size_t max, size_t *n, bg_error *err);
+
 typedef struct bg_drift {
     size_t nat;
     double at_k[BG_DRIFT_MAXAT];

@@ -133,6 +133,8 @@ typedef struct bg_report_opts {
     long long replaces;          /* reissue: the newest report of the subject; 0: none */
     const char *why;             /* reissue: why */
     double dissipation_w_per_k;  /* calibration: the probe's dissipation constant; 0: none */
+    const bg_qa_opts *qa;        /* lot: baseline and drift limits (NULL: the defaults, and the
+                                    part's) */
 } bg_report_opts;
 
 /* Issue the calibration report of run 'run_id' (fit 'fit_id', 0: its newest) and store it:

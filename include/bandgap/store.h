@@ -309,4 +309,37 @@ BG_API int bg_store_artifact_get(bg_store *st, long long id, bg_artifact *out, b
 typedef int (*bg_artifact_cb)(const bg_artifact *a, void *ctx);
 BG_API int bg_store_artifact_each(bg_store *st, bg_artifact_cb cb, void *ctx, bg_error *err);
 
+/* ---- what a part number specifies ---- */
+
+/* A part's specification: its nominal curve, an interchangeability tolerance in kelvin and
+** the QA defaults of its lots.  Rows are only ever added: the newest is the part's
+** specification, and each row keeps its id and time. */
+typedef struct bg_part_spec {
+    long long id;                     /* the row; 0: the part has no specification */
+    char part[BG_TEXT];
+    int have_model;                   /* 0: no nominal curve (the lots' R25 and B stand in) */
+    bg_model model;                   /* the nominal curve, any kind of the model table */
+    char source[BG_NOTE];             /* where the curve came from, as the user gave it */
+    double tol_k, tol_lo_k, tol_hi_k; /* |deviation| <= tol_k over [tol_lo_k, tol_hi_k];
+                                         tol_k 0: no tolerance in kelvin */
+    size_t baseline;                  /* control limits from the first 'baseline' lots; 0: none */
+    double limit_k, rate_k;           /* drift limits (K, K per year); 0: none */
+    char note[BG_NOTE], created_at[BG_TIME];
+} bg_part_spec;
+
+/* Append a specification for part 'p->part' (created_at is now); fills '*id'.  BG_EINVAL for
+** an empty or too long text, a model whose coefficients fail bg_model_set_coef's checks or
+** whose resistance does not fall with temperature over the tolerance range, a tolerance
+** without its range (or lo >= hi), negative limits; nothing is written then. */
+BG_API int bg_store_part_spec_add(bg_store *st, const bg_part_spec *p, long long *id,
+                                  bg_error *err);
+/* The newest specification of 'part' into '*out'; a part without one gives BG_OK with
+** out->id 0 (and out->part set). */
+BG_API int bg_store_part_spec_get(bg_store *st, const char *part, bg_part_spec *out,
+                                  bg_error *err);
+/* Every specification of 'part', oldest first. */
+typedef int (*bg_part_spec_cb)(const bg_part_spec *p, void *ctx);
+BG_API int bg_store_part_spec_each(bg_store *st, const char *part, bg_part_spec_cb cb,
+                                   void *ctx, bg_error *err);
+
 #endif

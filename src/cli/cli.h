@@ -219,6 +219,7 @@ int cmd_fit(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_demo(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_init(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_lot(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_part(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_probe(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_ref(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_import(int argc, char **argv, struct cli_ctx *ctx);

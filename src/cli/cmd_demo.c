@@ -145,9 +145,16 @@ static int demo_database(struct cli_ctx *dctx)
                              "--tol-beta", "0.5%", "--note", "invented demo lot", NULL };
     const char *a_ref[] = { "ref", "add", "REF-7", "--cert", "INVENTED-CAL-2026-0117",
                             "--due", "2027-09-30", "--linear", "0.0042K,-0.00011,20C", NULL };
+    /* the part's invented nominal curve (sh3), its tolerance in kelvin and QA defaults: the
+    ** lot report then judges against a curve of the right shape and flags GH-0417's drift */
+    const char *a_part[] = { "part", "set", "SOIL-NTC-10K", "--model", "sh3", "--coef",
+                             "1.11198e-3,2.36143e-4,8.60692e-8", "--tol", "0.3K", "--over",
+                             "-20/60", "--baseline", "1", "--limit", "50mK", "--note",
+                             "invented nominal curve", NULL };
     int rc;
     if ((rc = run(dctx, cmd_init, a_init)) != BG_OK || (rc = run(dctx, cmd_lot, a_lot)) != BG_OK ||
-        (rc = run(dctx, cmd_lot, a_lot2)) != BG_OK || (rc = run(dctx, cmd_ref, a_ref)) != BG_OK)
+        (rc = run(dctx, cmd_lot, a_lot2)) != BG_OK || (rc = run(dctx, cmd_part, a_part)) != BG_OK ||
+        (rc = run(dctx, cmd_ref, a_ref)) != BG_OK)
         return rc;
     return BG_OK;
 }

@@ -18,14 +18,20 @@ static const char drift_usage[] =
     "  the previous (and the first) coefficients would show at the check temperatures (five\n"
     "  over the overlap of the two calibrated ranges unless --at), the change of R25 (%) and\n"
     "  of B for the lot's pair, and the drift per year.  Flags: |as-found| above --limit\n"
-    "  (default: the temperature equivalent of the lot's R25 tolerance at 25 degC) and a\n"
-    "  drift rate above --rate-limit per year (default: the same value).\n"
-    "--lot: for each probe's newest fit, R25, B and the deviation from the lot's nominal\n"
-    "  curve at the check temperatures; mean, sd, min, max and Cpk against the tolerances;\n"
-    "  Grubbs' outlier test (two-sided, --alpha, default 0.05); probes out of tolerance; the\n"
-    "  activation energy E = k B; the interchangeability band of the nominal tolerances.\n"
+    "  (default: the part's, else the temperature equivalent of the lot's R25 tolerance at\n"
+    "  25 degC) and a drift rate above --rate-limit per year (default: the part's, else the\n"
+    "  limit).\n"
+    "--lot: for each probe's newest fit, R25, B and the deviation from the part's nominal\n"
+    "  curve (bandgap part set; without one the lot's beta curve, whose shape error the\n"
+    "  deviation then holds: no verdict) at round check temperatures over the range every\n"
+    "  probe covers (or --at); mean, sd, min, max and Cpk against the tolerances; Grubbs'\n"
+    "  outlier test (two-sided, --alpha, default 0.05); probes out of tolerance or beyond the\n"
+    "  part's tolerance in kelvin; B pairs outside a probe's range (extrapolated, marked *);\n"
+    "  the activation energy E = k B; the interchangeability band.  --csv: one row per probe\n"
+    "  and check temperature with the lot in each row, so that lots' files stack.\n"
     "--part: X-bar and s charts of the lots' R25 deviation (%) and B, 3-sigma limits from the\n"
-    "  first --baseline lots (default: all), with the Western Electric run rules.\n"
+    "  first --baseline lots (default: the part's, else all; fewer than 20 lots: provisional),\n"
+    "  with the Western Electric run rules.  --csv: one row per lot and chart.\n"
     "--since DATE uses only the runs started on or after DATE.\n"
     "Exit status: 0 when nothing is flagged, 1 when something is, 64/65/66 on errors.\n";
 
@@ -33,6 +39,16 @@ static const char *const rule_names[4] = { "beyond 3 sigma", "2 of 3 beyond 2 si
                                            "4 of 5 beyond 1 sigma", "8 on one side" };
 
 enum { OUT_TEXT, OUT_CSV, OUT_JSON };
+
+/* Where a limit came from; 'dflt' names the built-in default. */
+static const char *drift_from(int from, const char *dflt)
+{
+    return from == BG_QA_FROM_OPTION ? "as given" : from == BG_QA_FROM_PART ? "the part's default"
+                                                                           : dflt;
+}
+
+#define DRIFT_LIMIT_DEFAULT "the lot's R25 tolerance at 25 degC"
+#define DRIFT_RATE_DEFAULT "the as-found limit"
 
 /* ---------------- one probe ---------------- */
 
@@ -67,6 +83,8 @@ static void probe_json(const bg_qa_probe *p)
     json_int(&j, "runs_without_fit", (long long)p->unfitted);
     json_num(&j, "limit_mk", 1e3 * p->limit_k);
     json_num(&j, "rate_limit_mk_per_year", 1e3 * p->rate_k);
+    json_str(&j, "limit_from", drift_from(p->limit_from, DRIFT_LIMIT_DEFAULT));
+    json_str(&j, "rate_limit_from", drift_from(p->rate_from, DRIFT_RATE_DEFAULT));
     json_arr(&j, "since_previous");
     for (size_t i = 0; i < p->nprev; i++)
         compare_json(&j, p, &p->since_previous[i]);
@@ -118,7 +136,9 @@ static void probe_text(const bg_qa_probe *p, int csv)
         printf("probe %s (lot %s): %zu fitted calibrations", p->serial, p->lot.code, p->n);
         if (p->unfitted)
             printf(", %zu runs not fitted", p->unfitted);
-        printf("; limit %.1f mK, rate limit %.1f mK/year\n", 1e3 * p->limit_k, 1e3 * p->rate_k);
+        printf("; limit %.1f mK (%s), rate limit %.1f mK/year (%s)\n", 1e3 * p->limit_k,
+               drift_from(p->limit_from, DRIFT_LIMIT_DEFAULT), 1e3 * p->rate_k,
+               drift_from(p->rate_from, DRIFT_RATE_DEFAULT));
         if (p->n == 1)
             printf("  only one calibration: nothing to compare yet\n");
         if (p->n == 0)
@@ -160,6 +180,34 @@ static void stat_json(json_out *j, const char *key, const bg_stats *s, double cp
     json_obj_end(j);
 }
 
+/* The nominal curve a lot was judged against, as JSON. */
+static void nominal_json(json_out *j, const bg_qa_lot *l)
+{
+    char name[32];
+    json_obj(j, "nominal");
+    if (l->nominal_is_beta) {
+        json_str(j, "curve", "beta from the lot's R25 and B");
+        json_null(j, "spec_id");
+        json_str(j, "note", "the deviation includes the beta model's shape error and is not a "
+                            "verdict");
+    } else {
+        json_str(j, "curve", bg_model_name(&l->spec.model, name, sizeof name));
+        json_int(j, "spec_id", l->spec.id);
+        json_str(j, "spec_created_at", l->spec.created_at);
+        json_nums(j, "coef", l->spec.model.coef, bg_model_npar(&l->spec.model));
+        json_str(j, "source", l->spec.source);
+    }
+    json_num(j, "r25_ohm", l->nominal_r25_ohm);
+    json_num(j, "b_k", l->nominal_b_k);
+    if (l->spec.tol_k > 0.0) {
+        json_num(j, "tol_mk", 1e3 * l->spec.tol_k);
+        json_num(j, "tol_from_k", l->spec.tol_lo_k);
+        json_num(j, "tol_to_k", l->spec.tol_hi_k);
+    } else
+        json_null(j, "tol_mk");
+    json_obj_end(j);
+}
+
 static void stats_json(const bg_qa_lot *l)
 {
     json_out j;
@@ -169,6 +217,7 @@ static void stats_json(const bg_qa_lot *l)
     json_str(&j, "part", l->lot.part);
     json_num(&j, "nominal_r25_ohm", l->lot.r25_ohm);
     json_num(&j, "nominal_b_k", l->lot.beta_k);
+    nominal_json(&j, l);
     json_nums(&j, "at_k", l->at_k, l->nat);
     json_arr(&j, "probes");
     for (size_t i = 0; i < l->n; i++) {
@@ -177,8 +226,11 @@ static void stats_json(const bg_qa_lot *l)
         json_int(&j, "fit", l->fit_id[i]);
         json_num(&j, "r25_dev_pct", l->r25_dev_pct[i]);
         json_num(&j, "b_k", l->b_k[i]);
+        json_bool(&j, "b_extrapolated", (l->flags[i] & BG_QA_B_EXTRAPOLATED) != 0);
         json_nums(&j, "deviation_mk", &l->dev_mk[i * l->nat], l->nat);
+        json_num(&j, "tol_dev_mk", l->tol_dev_mk[i]);
         json_bool(&j, "out_of_tolerance", (l->flags[i] & BG_QA_OUT_OF_TOL) != 0);
+        json_bool(&j, "out_of_band", (l->flags[i] & BG_QA_OUT_OF_BAND) != 0);
         json_bool(&j, "outlier", (l->flags[i] & BG_QA_OUTLIER) != 0);
         json_obj_end(&j);
     }
@@ -196,24 +248,66 @@ static void stats_json(const bg_qa_lot *l)
     json_nums(&j, "band_hi_mk", l->band_hi_mk, l->nat);
     json_int(&j, "probes_without_fit", (long long)l->nofit);
     json_int(&j, "out_of_tolerance", (long long)l->nout);
+    json_int(&j, "out_of_band", (long long)l->nband);
+    json_int(&j, "b_extrapolated", (long long)l->nb_extrap);
     json_bool(&j, "flagged", l->flagged);
     json_obj_end(&j);
     json_end(&j);
 }
 
+/* One row per probe and check temperature, with the lot in every row and the same columns
+** for every lot, so that the files of several lots stack. */
 static void stats_csv(const bg_qa_lot *l)
 {
-    printf("probe,fit,r25_dev_pct,b_k");
-    for (size_t k = 0; k < l->nat; k++)
-        printf(",dev_mk_at_%.3fC", l->at_k[k] - BG_ZERO_C_K);
-    printf(",out_of_tolerance,outlier\n");
-    for (size_t i = 0; i < l->n; i++) {
-        printf("%s,%lld,%.17g,%.17g", l->serial[i], l->fit_id[i], l->r25_dev_pct[i], l->b_k[i]);
+    printf("lot,probe,fit,r25_dev_pct,b_k,b_extrapolated,t_c,dev_mk,band_lo_mk,band_hi_mk,"
+           "nominal,out_of_tolerance,out_of_band,outlier\n");
+    for (size_t i = 0; i < l->n; i++)
         for (size_t k = 0; k < l->nat; k++)
-            printf(",%.17g", l->dev_mk[i * l->nat + k]);
-        printf(",%d,%d\n", (l->flags[i] & BG_QA_OUT_OF_TOL) != 0,
-               (l->flags[i] & BG_QA_OUTLIER) != 0);
+            printf("%s,%s,%lld,%.17g,%.17g,%d,%.17g,%.17g,%.17g,%.17g,%s,%d,%d,%d\n",
+                   l->lot.code, l->serial[i], l->fit_id[i], l->r25_dev_pct[i], l->b_k[i],
+                   (l->flags[i] & BG_QA_B_EXTRAPOLATED) != 0, l->at_k[k] - BG_ZERO_C_K,
+                   l->dev_mk[i * l->nat + k], l->band_lo_mk[k], l->band_hi_mk[k],
+                   l->nominal_is_beta ? "beta" : "part", (l->flags[i] & BG_QA_OUT_OF_TOL) != 0,
+                   (l->flags[i] & BG_QA_OUT_OF_BAND) != 0, (l->flags[i] & BG_QA_OUTLIER) != 0);
+}
+
+static void nominal_text(const bg_qa_lot *l)
+{
+    const bg_part_spec *sp = &l->spec;
+    char name[32];
+    if (l->nominal_is_beta)
+        printf("  nominal curve: the lot's R25 and B as a beta curve (part %s stores none); the "
+               "deviation below\n  includes the beta model's shape error and is not a verdict "
+               "(bandgap part set %s gives the part its curve)\n", l->lot.part, l->lot.part);
+    else
+        printf("  nominal curve: part %s's %s (specification %lld of %s; %s): R25 %.6g ohm, "
+               "B %.2f K\n", sp->part, bg_model_name(&sp->model, name, sizeof name), sp->id,
+               sp->created_at, sp->source[0] ? sp->source : "coefficients",
+               l->nominal_r25_ohm, l->nominal_b_k);
+    if (sp->tol_k > 0.0)
+        printf("  tolerance: +-%.1f mK from %.2f to %.2f degC (judged over each probe's "
+               "calibrated part of it)\n", 1e3 * sp->tol_k, sp->tol_lo_k - BG_ZERO_C_K,
+               sp->tol_hi_k - BG_ZERO_C_K);
+}
+
+static void stats_probes_text(const bg_qa_lot *l)
+{
+    int tol = l->spec.tol_k > 0.0;
+    printf("  %-20s %10s %10s %13s%s  %s\n", "probe", "R25 dev/%", "B/K", "max dev/mK",
+           tol ? "  tol dev/mK" : "", "flags");
+    for (size_t i = 0; i < l->n; i++) {
+        printf("  %-20s %+10.4f %10.2f%s %13.3f", l->serial[i], l->r25_dev_pct[i], l->b_k[i],
+               l->flags[i] & BG_QA_B_EXTRAPOLATED ? "*" : " ", l->max_abs_dev_mk[i]);
+        if (tol)
+            printf("  %11.3f", l->tol_dev_mk[i]);
+        printf("  %s%s%s\n", l->flags[i] & BG_QA_OUT_OF_TOL ? "OUT OF TOLERANCE " : "",
+               l->flags[i] & BG_QA_OUT_OF_BAND ? "BEYOND THE KELVIN TOLERANCE " : "",
+               l->flags[i] & BG_QA_OUTLIER ? "OUTLIER (Grubbs)" : "");
     }
+    if (l->nb_extrap)
+        printf("  * B%.0f/%.0f extrapolated: the pair lies outside the calibrated range of %zu "
+               "of %zu probes\n", l->lot.pair_t1_k - BG_ZERO_C_K, l->lot.pair_t2_k - BG_ZERO_C_K,
+               l->nb_extrap, l->n);
 }
 
 static void stats_text(const bg_qa_lot *l)
@@ -222,12 +316,8 @@ static void stats_text(const bg_qa_lot *l)
     printf("lot %s (part %s): %zu probes with fits%s; nominal R25 %.6g ohm +-%.3g %%, "
            "B %.2f K +-%.3g %%\n", lot->code, lot->part, l->n, l->nofit ? ", some without" : "",
            lot->r25_ohm, 100 * lot->tol_r25, lot->beta_k, 100 * lot->tol_beta);
-    printf("  %-20s %10s %10s %13s  %s\n", "probe", "R25 dev/%", "B/K", "max dev/mK", "flags");
-    for (size_t i = 0; i < l->n; i++)
-        printf("  %-20s %+10.4f %10.2f %13.3f  %s%s\n", l->serial[i], l->r25_dev_pct[i],
-               l->b_k[i], l->max_abs_dev_mk[i],
-               l->flags[i] & BG_QA_OUT_OF_TOL ? "OUT OF TOLERANCE " : "",
-               l->flags[i] & BG_QA_OUTLIER ? "OUTLIER (Grubbs)" : "");
+    nominal_text(l);
+    stats_probes_text(l);
     printf("  R25 deviation: mean %+.4f %%, sd %.4f %%, min %+.4f, max %+.4f, Cpk %.2f\n",
            l->r25_dev.mean, l->r25_dev.sd, l->r25_dev.min, l->r25_dev.max, l->cpk_r25);
     printf("  B: mean %.2f K, sd %.2f K, min %.2f, max %.2f, Cpk %.2f; activation energy "
@@ -236,13 +326,19 @@ static void stats_text(const bg_qa_lot *l)
     if (l->have_grubbs)
         printf("  Grubbs (two-sided, alpha %.3g): G(R25) %.3f, G(B) %.3f, critical %.3f\n",
                l->alpha, l->g_r25, l->g_b, l->g_crit);
-    printf("  deviation from the nominal curve (mK) against the tolerance band:\n");
+    printf("  deviation from the nominal curve (mK) against the %s:\n",
+           l->spec.tol_k > 0.0 ? "kelvin tolerance" : "band of the R25 and B tolerances");
     for (size_t k = 0; k < l->nat; k++)
         printf("    %10.3f degC  measured %+9.2f .. %+9.2f   band %+9.2f .. %+9.2f\n",
                l->at_k[k] - BG_ZERO_C_K, l->dev_min_mk[k], l->dev_max_mk[k], l->band_lo_mk[k],
                l->band_hi_mk[k]);
+    if (l->nuncovered)
+        printf("  note: %zu probes' calibrations do not cover the whole tolerance range\n",
+               l->nuncovered);
     if (l->nout)
         printf("  FLAG: %zu probes out of tolerance\n", l->nout);
+    if (l->nband)
+        printf("  FLAG: %zu probes beyond the kelvin tolerance of the nominal curve\n", l->nband);
     if (l->outlier_r25 || l->outlier_b)
         printf("  FLAG: Grubbs outlier: probe %s\n",
                l->serial[l->outlier_r25 ? l->ioutlier_r25 : l->ioutlier_b]);
@@ -286,6 +382,9 @@ static void part_json(const bg_qa_part *p)
     json_obj(&j, NULL);
     json_str(&j, "part", p->part);
     json_int(&j, "baseline_lots", (long long)p->baseline);
+    json_str(&j, "baseline_from", drift_from(p->baseline_from, "all lots"));
+    json_bool(&j, "provisional", p->provisional);
+    json_int(&j, "customary_baseline_lots", BG_QA_CUSTOMARY_SUBGROUPS);
     json_int(&j, "subgroup_size", (long long)p->subgroup);
     for (int c = 0; c < 4; c++)
         chart_json(&j, names[c], &p->chart[c]);
@@ -299,6 +398,7 @@ static void part_json(const bg_qa_part *p)
         json_num(&j, "r25_dev_sd_pct", l->r25_sd_pct);
         json_num(&j, "b_mean_k", l->b_mean_k);
         json_num(&j, "b_sd_k", l->b_sd_k);
+        json_int(&j, "b_extrapolated", (long long)l->nb_extrap);
         json_int(&j, "rules", (long long)(l->rules[0] | l->rules[1] << 4 | l->rules[2] << 8 |
                                           l->rules[3] << 12));
         json_obj_end(&j);
@@ -354,16 +454,19 @@ static void part_text(const bg_qa_part *p)
 {
     static const char *const cn[4] = { "X-bar R25", "s R25", "X-bar B", "s B" };
     const bg_chart *c = p->chart;
-    printf("part %s: %zu lots charted, limits from the first %zu, subgroup size %zu\n", p->part,
-           p->nlots, p->baseline, p->subgroup);
+    printf("part %s: %zu lots charted, limits from the first %zu (%s), subgroup size %zu\n",
+           p->part, p->nlots, p->baseline, drift_from(p->baseline_from, "all lots"), p->subgroup);
+    if (p->provisional)
+        printf("  PROVISIONAL limits: from %zu lot(s), fewer than the customary %d (trial limits "
+               "want 20 to 25 subgroups)\n", p->baseline, BG_QA_CUSTOMARY_SUBGROUPS);
     printf("  X-bar R25 dev: centre %+.4f %%, limits %+.4f .. %+.4f;  s: centre %.4f, limits "
            "%.4f .. %.4f\n", c[0].center, c[0].lcl, c[0].ucl, c[1].center, c[1].lcl, c[1].ucl);
     printf("  X-bar B: centre %.2f K, limits %.2f .. %.2f;  s: centre %.3f, limits %.3f .. "
            "%.3f\n", c[2].center, c[2].lcl, c[2].ucl, c[3].center, c[3].lcl, c[3].ucl);
     for (size_t i = 0; i < p->nlots; i++) {
         const bg_qa_part_lot *l = &p->lots[i];
-        printf("  %-16s n %3zu  R25 dev %+.4f %% (s %.4f)  B %.2f K (s %.3f)", l->code, l->n,
-               l->r25_mean_pct, l->r25_sd_pct, l->b_mean_k, l->b_sd_k);
+        printf("  %-16s n %3zu  R25 dev %+.4f %% (s %.4f)  B %.2f K%s (s %.3f)", l->code, l->n,
+               l->r25_mean_pct, l->r25_sd_pct, l->b_mean_k, l->nb_extrap ? "*" : "", l->b_sd_k);
         for (int k = 0; k < 4; k++)
             for (int r = 0; r < 4; r++)
                 if (l->rules[k] & (1u << r))
@@ -371,6 +474,36 @@ static void part_text(const bg_qa_part *p)
         printf("\n");
     }
     part_asfound_text(p);
+    for (size_t i = 0; i < p->nlots; i++)
+        if (p->lots[i].nb_extrap) {
+            printf("  * B extrapolated: its pair lies outside the calibrated range of some "
+                   "probes\n");
+            break;
+        }
+}
+
+/* One row per lot and chart (the limits repeated), so that parts and runs stack. */
+static void part_csv(const bg_qa_part *p)
+{
+    static const char *const names[BG_QA_NCHART] = { "xbar_r25_dev_pct", "s_r25_dev_pct",
+                                                     "xbar_b_k", "s_b_k", "xbar_as_found_mk",
+                                                     "s_as_found_mk" };
+    printf("part,lot,index,n,chart,value,center,lcl,ucl,rules,baseline_lots,provisional,"
+           "b_extrapolated\n");
+    for (int c = 0; c < BG_QA_NCHART; c++) {
+        size_t n = c < 4 ? p->nlots : p->have_asfound ? p->nasfound : 0;
+        for (size_t i = 0; i < n; i++) {
+            size_t li = c < 4 ? i : p->asfound[i].lot;
+            const bg_qa_part_lot *l = &p->lots[li];
+            const double v[BG_QA_NCHART] = { l->r25_mean_pct, l->r25_sd_pct, l->b_mean_k,
+                                             l->b_sd_k, l->asfound_mean_mk, l->asfound_sd_mk };
+            unsigned rules = c < 4 ? l->rules[c] : p->asfound[i].rules[c - 4];
+            printf("%s,%s,%zu,%zu,%s,%.17g,%.17g,%.17g,%.17g,%u,%zu,%d,%zu\n", p->part, l->code,
+                   li + 1, c < 4 ? l->n : l->nasfound, names[c], v[c], p->chart[c].center,
+                   p->chart[c].lcl, p->chart[c].ucl, rules, p->baseline, p->provisional,
+                   l->nb_extrap);
+        }
+    }
 }
 
 static int drift_part(bg_store *st, const char *part, const bg_qa_opts *o, int out,
@@ -385,6 +518,8 @@ static int drift_part(bg_store *st, const char *part, const bg_qa_opts *o, int o
         *flagged |= p.flagged;
         if (out == OUT_JSON)
             part_json(&p);
+        else if (out == OUT_CSV)
+            part_csv(&p);
         else
             part_text(&p);
     }
@@ -460,8 +595,6 @@ int cmd_drift(int argc, char **argv, struct cli_ctx *ctx)
         return cli_usage_error("drift", "give one of --probe, --lot or --part");
     if (csv && json)
         return cli_usage_error("drift", "give --csv or --json, not both");
-    if (part && csv)
-        return cli_usage_error("drift", "--part has text and --json output only");
     if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
         return rc;
     out = json ? OUT_JSON : csv ? OUT_CSV : OUT_TEXT;

@@ -14,7 +14,8 @@
 static const char report_usage[] =
     "Usage: bandgap report --run N [--fit M] [--lab TEXT] [--customer TEXT]\n"
     "                      [--dissipation mW/K] [--reissue ID --why TEXT] -o FILE.html\n"
-    "       bandgap report --lot CODE [--lab TEXT] [--reissue ID --why TEXT] -o FILE.html\n"
+    "       bandgap report --lot CODE [--baseline N] [--limit DT] [--rate-limit DT]\n"
+    "                      [--lab TEXT] [--reissue ID --why TEXT] -o FILE.html\n"
     "       bandgap report --get ID -o FILE.html\n"
     "       bandgap report --list [--json]\n"
     "A calibration report of a run (its newest fit unless --fit): the probe and lot, the\n"
@@ -26,7 +27,9 @@ static const char report_usage[] =
     "inline SVG, prints on A4 and Letter).  A report, once issued, is stored and never\n"
     "changes: a second report of the same run or lot is refused unless --reissue names the\n"
     "newest one, with the reason in --why; --get writes a stored report again, byte for byte.\n"
-    "--dissipation gives the probe's dissipation constant for the self-heating estimate.\n";
+    "--dissipation gives the probe's dissipation constant for the self-heating estimate.\n"
+    "--baseline, --limit and --rate-limit (lot reports) mean what they mean for drift; not\n"
+    "given, the part's defaults (bandgap part set) apply, else the built-in ones.\n";
 
 /* Open 'path' for the report ("-": standard output), before anything is stored. */
 static int open_out(const char *path, FILE **f)
@@ -147,16 +150,39 @@ static int issue(bg_store *st, long long run_id, long long fit_id, const char *l
 
 struct report_args {
     bg_report_opts o;
+    bg_qa_opts qa;                  /* --baseline, --limit, --rate-limit of a lot report */
+    int have_qa;
     const char *lot, *out_path;
     long long run_id, fit_id, get_id;
     int list, help;
 };
 
+/* A lot report's --baseline (which 0), --limit (1) or --rate-limit (2), as drift reads them. */
+static int report_lot_option(struct report_args *a, int which, const char *arg)
+{
+    static const char *const nm[3] = { "baseline", "limit", "rate-limit" };
+    bg_error err = BG_ERROR_INIT;
+    long long n;
+    if (!a->have_qa)
+        a->qa = bg_qa_default_opts(), a->have_qa = 1;
+    if (which == 0 && cli_parse_id(arg, &n) == BG_OK) {
+        a->qa.baseline = (size_t)n;
+        return BG_OK;
+    }
+    if (which == 0)
+        return cli_usage_error("report", "--baseline: '%s': not a number of lots", arg);
+    double *v = which == 1 ? &a->qa.limit_k : &a->qa.rate_k;
+    if (bg_units_parse_tdiff(arg, v, &err) != BG_OK || !(*v > 0.0))
+        return cli_usage_error("report", "--%s: %s", nm[which],
+                               err.msg[0] ? err.msg : "expected a value above 0");
+    return BG_OK;
+}
+
 /* The options into '*a'; BG_OK, or the usage error's code. */
 static int report_parse_args(int argc, char **argv, struct cli_ctx *ctx, struct report_args *a)
 {
     enum { O_RUN = 1, O_FIT, O_LOT, O_GET, O_LIST, O_LAB, O_CUST, O_DISS, O_REISSUE, O_WHY,
-           O_JSON };
+           O_JSON, O_BASE, O_LIMIT, O_RATE };
     static const struct option opts[] = {
         { "run", required_argument, NULL, O_RUN },      { "fit", required_argument, NULL, O_FIT },
         { "lot", required_argument, NULL, O_LOT },      { "get", required_argument, NULL, O_GET },
@@ -165,6 +191,9 @@ static int report_parse_args(int argc, char **argv, struct cli_ctx *ctx, struct 
         { "dissipation", required_argument, NULL, O_DISS },
         { "reissue", required_argument, NULL, O_REISSUE },
         { "why", required_argument, NULL, O_WHY },      { "json", no_argument, NULL, O_JSON },
+        { "baseline", required_argument, NULL, O_BASE },
+        { "limit", required_argument, NULL, O_LIMIT },
+        { "rate-limit", required_argument, NULL, O_RATE },
         { "output", required_argument, NULL, 'o' },     { "help", no_argument, NULL, 'h' },
         { NULL, 0, NULL, 0 },
     };
@@ -194,6 +223,10 @@ static int report_parse_args(int argc, char **argv, struct cli_ctx *ctx, struct 
                 return cli_usage_error("report", "--dissipation: %s", err.msg);
             break;
         }
+        case O_BASE: case O_LIMIT: case O_RATE:
+            if (report_lot_option(a, c == O_BASE ? 0 : c == O_LIMIT ? 1 : 2, optarg) != BG_OK)
+                return CLI_EUSAGE;
+            break;
         case 'o': a->out_path = optarg; break;
         case ':': return cli_usage_error("report", "option '%s' needs a value", argv[optind - 1]);
         default: return cli_usage_error("report", "unknown option '%s'", argv[optind - 1]);
@@ -207,6 +240,10 @@ static int report_parse_args(int argc, char **argv, struct cli_ctx *ctx, struct 
         return cli_usage_error("report", "-o FILE.html is required (- for standard output)");
     if (a->fit_id && !a->run_id)
         return cli_usage_error("report", "--fit goes with --run");
+    if (a->have_qa && !a->lot)
+        return cli_usage_error("report", "--baseline, --limit and --rate-limit go with --lot");
+    if (a->have_qa)
+        o->qa = &a->qa;
     if ((o->replaces != 0) != (o->why != NULL))
         return cli_usage_error("report", "--reissue ID and --why TEXT go together");
     if (o->why && !*o->why)

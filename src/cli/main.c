@@ -19,6 +19,7 @@ struct command {
 static const struct command commands[] = {
     { "init",    cmd_init,    "create the calibration database" },
     { "lot",     cmd_lot,     "add, list and show production lots" },
+    { "part",    cmd_part,    "a part's nominal curve, tolerance in kelvin and QA defaults" },
     { "probe",   cmd_probe,   "add, list and show probes" },
     { "ref",     cmd_ref,     "add and list reference thermometers" },
     { "import",  cmd_import,  "create a calibration run from a readings CSV file" },

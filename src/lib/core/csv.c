@@ -165,21 +165,35 @@ static int field_is(const field *f, const char *name)
     return 1;
 }
 
-/* 1 when the bytes after a number look like a unit written into the value ("25 C",
-** "10 kohm", "298.15K", "25 \xc2\xb0C"): letters, a degree or ohm sign, spaces. */
+/* 1 when the bytes after a number are a unit written into the value ("25 C", "10 kohm",
+** "298.15K", "25 \xc2\xb0C"): spaces, then one of the temperature or resistance units below
+** (any case).  Anything else ("10000.O", a typo) is an ordinary bad number. */
 static int unit_after(const char *s, size_t len)
 {
-    size_t k = 0, nlet = 0;
-    while (k < len && s[k] == ' ')
-        k++;
-    for (; k < len; k++) {
-        unsigned char c = (unsigned char)s[k];
-        if ((c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || c >= 0x80)
-            nlet++;
-        else if (c != ' ')
-            return 0;
+    static const char *const units[] = {
+        "c", "k", "f", "degc", "degf", "deg c", "deg f", "\xc2\xb0" "c", "\xc2\xb0" "f", "kelvin",
+        "mk", "ohm", "ohms", "r", "kohm", "kohms", "mohm", "mohms", "kr", "mr", "\xce\xa9",
+        "k\xce\xa9", "m\xce\xa9",
+    };
+    while (len > 0 && s[0] == ' ')
+        s++, len--;
+    while (len > 0 && s[len - 1] == ' ')
+        len--;
+    for (size_t u = 0; u < sizeof units / sizeof units[0]; u++) {
+        size_t ul = strlen(units[u]), i = 0;
+        if (ul != len)
+            continue;
+        for (; i < len; i++) {
+            char c = s[i];
+            if (c >= 'A' && c <= 'Z')
+                c = (char)(c - 'A' + 'a');
+            if (c != units[u][i])
+                break;
+        }
+        if (i == len)
+            return 1;
     }
-    return nlet > 0 && nlet <= 8;
+    return 0;
 }
 
 /* Parse a number field that must be used whole. */

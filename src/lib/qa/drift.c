@@ -8,6 +8,7 @@
 
 #include "bandgap/csv.h"
 #include "bandgap/drift.h"
+#include "bandgap/units.h"
 
 int bg_drift_check_points(double lo1, double hi1, double lo2, double hi2, size_t n, double *at_k,
                           bg_error *err)
@@ -22,6 +23,40 @@ int bg_drift_check_points(double lo1, double hi1, double lo2, double hi2, size_t
     for (size_t i = 0; i < n; i++)
         at_k[i] = n == 1 ? 0.5 * (lo + hi) : lo + (hi - lo) * (double)i / (double)(n - 1);
     return BG_OK;
+}
+
+int bg_drift_round_points(double lo_k, double hi_k, size_t min_n, double *at_k, size_t max,
+                          size_t *n, bg_error *err)
+{
+    static const double mant[3] = { 5.0, 2.0, 1.0 };
+    double lo = lo_k - BG_ZERO_C_K, hi = hi_k - BG_ZERO_C_K;
+    if (min_n == 0 || min_n > max)
+        return bg_error_set(err, BG_EINVAL, "%zu round check temperatures asked for (1 .. %zu)",
+                            min_n, max);
+    if (!(hi >= lo) || !isfinite(lo) || !isfinite(hi))
+        return bg_error_set(err, BG_EINVAL, "no check temperatures in an empty range "
+                            "(%.3f .. %.3f K)", lo_k, hi_k);
+    /* from 1000 degC down to 0.01 degC; counts are taken on the step's integer grid, with a
+    ** hair of slack so that a range ending on a multiple keeps it */
+    for (int e = 3; e >= -2; e--)
+        for (int k = 0; k < 3; k++) {
+            double step = mant[k] * pow(10.0, e);
+            double first = ceil(lo / step - 1e-9), last = floor(hi / step + 1e-9);
+            if (last - first + 1.0 < (double)min_n)
+                continue;
+            size_t cnt = (size_t)(last - first + 1.0);
+            if (cnt > max)
+                return bg_error_set(err, BG_EINVAL, "%zu round check temperatures at %g degC "
+                                    "steps; room for %zu", cnt, step, max);
+            for (size_t i = 0; i < cnt; i++) {
+                double t = (first + (double)i) * step;
+                at_k[i] = (fabs(t) < step * 1e-9 ? 0.0 : t) + BG_ZERO_C_K;
+            }
+            *n = cnt;
+            return BG_OK;
+        }
+    return bg_error_set(err, BG_EINVAL, "the range %.3f .. %.3f degC is too narrow for %zu "
+                        "check temperatures 0.01 degC apart", lo, hi, min_n);
 }
 
 int bg_drift_prepare(const bg_model *m, double pair_t1_k, double pair_t2_k, double t_unix_s,

@@ -1,7 +1,9 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* A lot's statistics against the part's nominal beta curve: each probe's newest fit gives its
-** R25 deviation, its B and its deviation from the nominal curve at the check temperatures;
-** over the lot, mean, sd, Cpk (stats.h), Grubbs' test, and the band the tolerances allow. */
+/* A lot's statistics against the part's nominal curve (the part's stored specification, any
+** model kind; without one, the lot's R25 and B as a beta curve): each probe's newest fit gives
+** its R25 deviation, its B and its deviation from the nominal curve at the check temperatures;
+** over the lot, mean, sd, Cpk (stats.h), Grubbs' test, the band the tolerances allow, and the
+** probes beyond a tolerance in kelvin. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -57,7 +59,7 @@ static void beta_model(double r25_ohm, double beta_k, bg_model *m)
     bg_model_set_coef(m, c, 2, NULL);
 }
 
-/* The check temperatures: the options', or five over the range every fit covers. */
+/* The check temperatures: the options', or round ones over the range every fit covers. */
 static int check_points(bg_qa_lot *l, const bg_fit_row *fit, const bg_qa_opts *o, bg_error *err)
 {
     double lo = -INFINITY, hi = INFINITY;
@@ -69,12 +71,28 @@ static int check_points(bg_qa_lot *l, const bg_fit_row *fit, const bg_qa_opts *o
     }
     for (size_t i = 0; i < l->n; i++)
         lo = fmax(lo, fit[i].t_min_k), hi = fmin(hi, fit[i].t_max_k);
-    if ((rc = bg_drift_check_points(lo, hi, lo, hi, 5, l->at_k, err)) != BG_OK) {
+    if ((rc = bg_drift_round_points(lo, hi, 5, l->at_k, BG_DRIFT_MAXAT, &l->nat, err)) != BG_OK)
         bg_error_prefix(err, "lot '%s'", l->lot.code);
-        return rc;
+    return rc;
+}
+
+/* The largest |T_nom(R(T)) - T| over the part of the kelvin tolerance's range that the fit
+** 'f' covers (41 points, mK); NaN when it covers none of it. */
+static double tol_dev(const bg_qa_lot *l, const bg_fit_row *f, const bg_model *nom, int *partial)
+{
+    const bg_part_spec *sp = &l->spec;
+    double lo = fmax(sp->tol_lo_k, f->t_min_k), hi = fmin(sp->tol_hi_k, f->t_max_k), mx = 0.0;
+    *partial = lo > sp->tol_lo_k + 1e-9 || hi < sp->tol_hi_k - 1e-9;
+    if (!(hi >= lo))
+        return NAN;
+    for (int k = 0; k <= 40; k++) {
+        double t = lo + (hi - lo) * k / 40.0, r, tn;
+        if (bg_model_r_from_t(&f->model, t, &r, NULL) != BG_OK ||
+            bg_model_t_from_r(nom, r, &tn, NULL) != BG_OK)
+            return NAN;
+        mx = fmax(mx, fabs(tn - t));
     }
-    l->nat = 5;
-    return BG_OK;
+    return 1e3 * mx;
 }
 
 /* Probe i: R25 deviation, B, deviation from the nominal curve 'nom'. */
@@ -101,27 +119,49 @@ static int one_probe(bg_qa_lot *l, size_t i, const bg_fit_row *f, const bg_model
         return rc;
     memcpy(&l->dev_mk[i * nat], dd.err_mk, nat * sizeof l->dev_mk[0]);
     l->fit_id[i] = f->id;
+    l->flags[i] = 0;
+    if (lot->pair_t1_k < f->t_min_k - 1e-9 || lot->pair_t1_k > f->t_max_k + 1e-9 ||
+        lot->pair_t2_k < f->t_min_k - 1e-9 || lot->pair_t2_k > f->t_max_k + 1e-9)
+        l->flags[i] |= BG_QA_B_EXTRAPOLATED, l->nb_extrap++;
+    l->tol_dev_mk[i] = NAN;
+    if (l->spec.tol_k > 0.0) {
+        int partial;
+        l->tol_dev_mk[i] = tol_dev(l, f, nom, &partial);
+        l->nuncovered += partial || isnan(l->tol_dev_mk[i]);
+        if (l->tol_dev_mk[i] > 1e3 * l->spec.tol_k)
+            l->flags[i] |= BG_QA_OUT_OF_BAND, l->nband++;
+    }
     return BG_OK;
 }
 
-/* The interchangeability band: the nominal curve at its tolerance corners. */
+/* The interchangeability band: +-tol_k inside the range of a kelvin tolerance, else the
+** nominal curve at the corners of the R25 and B tolerances, R(T) = R_nom(T) (1 +- tol_R25)
+** exp(+-tol_B B (1/T - 1/T25)), read back through the nominal curve. */
 static void band(bg_qa_lot *l, const bg_model *nom)
 {
     const bg_lot *lot = &l->lot;
-    bg_drift_at where = { l->at_k, l->nat, lot->pair_t1_k, lot->pair_t2_k };
-    for (size_t k = 0; k < l->nat; k++)
-        l->band_lo_mk[k] = INFINITY, l->band_hi_mk[k] = -INFINITY;
-    for (int sr25 = -1; sr25 <= 1; sr25 += 2)
-        for (int sbeta = -1; sbeta <= 1; sbeta += 2) {
-            bg_model corner;
-            bg_drift dd;
-            beta_model(lot->r25_ohm * (1 + sr25 * lot->tol_r25),
-                       lot->beta_k * (1 + sbeta * lot->tol_beta), &corner);
-            if (bg_drift_compare(nom, &corner, &where, 0.0, &dd, NULL) == BG_OK)
-                for (size_t k = 0; k < l->nat; k++)
-                    l->band_lo_mk[k] = fmin(l->band_lo_mk[k], dd.err_mk[k]),
-                    l->band_hi_mk[k] = fmax(l->band_hi_mk[k], dd.err_mk[k]);
+    const bg_part_spec *sp = &l->spec;
+    for (size_t k = 0; k < l->nat; k++) {
+        double t = l->at_k[k], lo = INFINITY, hi = -INFINITY, rn;
+        if (sp->tol_k > 0.0) {
+            int in = t >= sp->tol_lo_k - 1e-9 && t <= sp->tol_hi_k + 1e-9;
+            l->band_lo_mk[k] = in ? -1e3 * sp->tol_k : NAN;
+            l->band_hi_mk[k] = in ? 1e3 * sp->tol_k : NAN;
+            continue;
         }
+        if (bg_model_r_from_t(nom, t, &rn, NULL) != BG_OK)
+            rn = NAN;
+        for (int sr25 = -1; sr25 <= 1; sr25 += 2)
+            for (int sbeta = -1; sbeta <= 1; sbeta += 2) {
+                double r = rn * (1 + sr25 * lot->tol_r25) *
+                           exp(sbeta * lot->tol_beta * lot->beta_k * (1 / t - 1 / BG_T0_DEFAULT_K));
+                double tc;
+                if (bg_model_t_from_r(nom, r, &tc, NULL) == BG_OK)
+                    lo = fmin(lo, 1e3 * (tc - t)), hi = fmax(hi, 1e3 * (tc - t));
+            }
+        l->band_lo_mk[k] = isfinite(lo) ? lo : NAN;
+        l->band_hi_mk[k] = isfinite(hi) ? hi : NAN;
+    }
 }
 
 /* Statistics, Grubbs, flags and the extremes of the deviations, from the per-probe values. */
@@ -156,14 +196,13 @@ static void summarize(bg_qa_lot *l, double alpha)
             l->dev_max_mk[k] = fmax(l->dev_max_mk[k], v);
         }
         l->max_abs_dev_mk[i] = mx;
-        l->flags[i] = 0;
         if (fabs(l->r25_dev_pct[i]) > 100.0 * lot->tol_r25 ||
             fabs(l->b_k[i] - lot->beta_k) > lot->beta_k * lot->tol_beta)
             l->flags[i] |= BG_QA_OUT_OF_TOL, l->nout++;
         if ((l->outlier_r25 && l->ioutlier_r25 == i) || (l->outlier_b && l->ioutlier_b == i))
             l->flags[i] |= BG_QA_OUTLIER;
     }
-    l->flagged = l->nout > 0 || l->outlier_r25 || l->outlier_b;
+    l->flagged = l->nout > 0 || l->nband > 0 || l->outlier_r25 || l->outlier_b;
 }
 
 static int alloc_values(bg_qa_lot *l, bg_error *err)
@@ -175,10 +214,29 @@ static int alloc_values(bg_qa_lot *l, bg_error *err)
     l->dev_mk = malloc(n * l->nat * sizeof *l->dev_mk);
     l->max_abs_dev_mk = malloc(n * sizeof *l->max_abs_dev_mk);
     l->flags = malloc(n * sizeof *l->flags);
+    l->tol_dev_mk = malloc(n * sizeof *l->tol_dev_mk);
     if (!l->fit_id || !l->r25_dev_pct || !l->b_k || !l->dev_mk || !l->max_abs_dev_mk ||
-        !l->flags)
+        !l->flags || !l->tol_dev_mk)
         return bg_error_set(err, BG_ENOMEM, "out of memory for the statistics of %zu probes",
                             n);
+    return BG_OK;
+}
+
+/* The nominal curve: the part's, else the lot's R25 and B as a beta curve (no verdict). */
+static int nominal(bg_store *st, bg_qa_lot *l, bg_model *nom, bg_error *err)
+{
+    int rc = bg_store_part_spec_get(st, l->lot.part, &l->spec, err);
+    if (rc != BG_OK)
+        return rc;
+    l->nominal_is_beta = !l->spec.have_model;
+    if (l->spec.have_model)
+        *nom = l->spec.model;
+    else
+        beta_model(l->lot.r25_ohm, l->lot.beta_k, nom);
+    if (bg_model_r_from_t(nom, BG_T0_DEFAULT_K, &l->nominal_r25_ohm, NULL) != BG_OK)
+        l->nominal_r25_ohm = NAN;
+    if (bg_model_b_pair(nom, l->lot.pair_t1_k, l->lot.pair_t2_k, &l->nominal_b_k, NULL) != BG_OK)
+        l->nominal_b_k = NAN;
     return BG_OK;
 }
 
@@ -202,7 +260,8 @@ int bg_qa_lot_stats(bg_store *st, const char *code, const bg_qa_opts *o, bg_qa_l
                           code, code);
         goto done;
     }
-    beta_model(out->lot.r25_ohm, out->lot.beta_k, &nom);
+    if ((rc = nominal(st, out, &nom, err)) != BG_OK)
+        goto done;
     if ((rc = check_points(out, d.fit, o, err)) != BG_OK || (rc = alloc_values(out, err)) != BG_OK)
         goto done;
     for (size_t i = 0; i < out->n; i++)
@@ -226,5 +285,6 @@ void bg_qa_lot_release(bg_qa_lot *l)
     free(l->dev_mk);
     free(l->max_abs_dev_mk);
     free(l->flags);
+    free(l->tol_dev_mk);
     memset(l, 0, sizeof *l);
 }

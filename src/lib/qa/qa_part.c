@@ -130,6 +130,7 @@ static int add_lot(bg_store *st, const char *code, const bg_qa_opts *o, bg_qa_pa
     pl->b_mean_k = l.b.mean, pl->b_sd_k = l.b.sd;
     bg_stats_of(a.v, a.n, &sa);
     pl->nasfound = a.n, pl->asfound_mean_mk = sa.mean, pl->asfound_sd_mk = sa.sd;
+    pl->nb_extrap = l.nb_extrap;
 done:
     free(a.v);
     bg_qa_lot_release(&l);
@@ -137,7 +138,7 @@ done:
 }
 
 /* The as-found charts over the lots where at least two probes were recalibrated. */
-static int asfound_charts(bg_qa_part *p, const bg_qa_opts *o, bg_error *err)
+static int asfound_charts(bg_qa_part *p, bg_error *err)
 {
     size_t ka = 0, asum = 0;
     double *am = malloc((p->nlots + 1) * sizeof *am), *as = malloc((p->nlots + 1) * sizeof *as);
@@ -157,7 +158,7 @@ static int asfound_charts(bg_qa_part *p, const bg_qa_opts *o, bg_error *err)
     p->nasfound = ka;
     if (ka < 2)
         goto done;
-    size_t nba = o->baseline && o->baseline < ka ? o->baseline : ka;
+    size_t nba = p->baseline && p->baseline < ka ? p->baseline : ka;
     p->asfound_subgroup = (asum + ka / 2) / ka;
     p->have_asfound = bg_chart_xbar_s(am, as, nba, p->asfound_subgroup,
                                       &p->chart[BG_QA_CHART_XBAR_ASFOUND],
@@ -176,7 +177,7 @@ done:
 }
 
 /* The R25 and B charts of the charted lots, limits from the baseline. */
-static int main_charts(bg_qa_part *p, const bg_qa_opts *o, bg_error *err)
+static int main_charts(bg_qa_part *p, bg_error *err)
 {
     size_t k = p->nlots, msum = 0;
     double *v = malloc(4 * k * sizeof *v);
@@ -192,7 +193,8 @@ static int main_charts(bg_qa_part *p, const bg_qa_opts *o, bg_error *err)
         v[2 * k + i] = p->lots[i].b_mean_k, v[3 * k + i] = p->lots[i].b_sd_k;
         msum += p->lots[i].n;
     }
-    p->baseline = o->baseline && o->baseline < k ? o->baseline : k;
+    p->baseline = p->baseline && p->baseline < k ? p->baseline : k;
+    p->provisional = p->baseline < BG_QA_CUSTOMARY_SUBGROUPS;
     p->subgroup = (msum + k / 2) / k; /* subgroup size: the mean lot size */
     if ((rc = bg_chart_xbar_s(v, v + k, p->baseline, p->subgroup, &p->chart[BG_QA_CHART_XBAR_R25],
                               &p->chart[BG_QA_CHART_S_R25], err)) != BG_OK ||
@@ -212,6 +214,23 @@ done:
     return rc;
 }
 
+/* The baseline asked for: the option's, else the part's default, else 0 (all lots). */
+static int baseline(bg_store *st, const char *part, const bg_qa_opts *o, bg_qa_part *p,
+                    bg_error *err)
+{
+    bg_part_spec spec;
+    int rc = bg_store_part_spec_get(st, part, &spec, err);
+    if (rc != BG_OK)
+        return rc;
+    if (o->baseline)
+        p->baseline = o->baseline, p->baseline_from = BG_QA_FROM_OPTION;
+    else if (spec.baseline)
+        p->baseline = spec.baseline, p->baseline_from = BG_QA_FROM_PART;
+    else
+        p->baseline = 0, p->baseline_from = BG_QA_FROM_DEFAULT;
+    return BG_OK;
+}
+
 int bg_qa_part_charts(bg_store *st, const char *part, const bg_qa_opts *o, bg_qa_part *out,
                       bg_error *err)
 {
@@ -219,7 +238,8 @@ int bg_qa_part_charts(bg_store *st, const char *part, const bg_qa_opts *o, bg_qa
     int rc;
 
     snprintf(out->part, sizeof out->part, "%s", part);
-    if ((rc = bg_store_part_lots(st, part, codes_cb, &c, err)) != BG_OK)
+    if ((rc = baseline(st, part, o, out, err)) != BG_OK ||
+        (rc = bg_store_part_lots(st, part, codes_cb, &c, err)) != BG_OK)
         goto done;
     if (c.oom) {
         rc = bg_error_set(err, BG_ENOMEM, "out of memory listing the lots of part '%s'", part);
@@ -233,8 +253,8 @@ int bg_qa_part_charts(bg_store *st, const char *part, const bg_qa_opts *o, bg_qa
                           "with 2 or more fitted probes", part);
         goto done;
     }
-    if ((rc = main_charts(out, o, err)) == BG_OK)
-        rc = asfound_charts(out, o, err);
+    if ((rc = main_charts(out, err)) == BG_OK)
+        rc = asfound_charts(out, err);
 done:
     free(c.code);
     return rc;

@@ -91,6 +91,29 @@ static int compare(const bg_qa_probe *p, size_t a, size_t b, const bg_qa_opts *o
     return BG_OK;
 }
 
+/* The limits: as given, else the part's defaults, else the R25 tolerance (the rate limit: the
+** |as-found| limit). */
+static int limits(bg_store *st, const bg_qa_opts *o, bg_qa_probe *p, bg_error *err)
+{
+    bg_part_spec spec;
+    int rc = bg_store_part_spec_get(st, p->lot.part, &spec, err);
+    if (rc != BG_OK)
+        return rc;
+    if (o->limit_k > 0.0)
+        p->limit_k = o->limit_k, p->limit_from = BG_QA_FROM_OPTION;
+    else if (spec.limit_k > 0.0)
+        p->limit_k = spec.limit_k, p->limit_from = BG_QA_FROM_PART;
+    else
+        p->limit_k = bg_qa_tol_limit_k(&p->lot), p->limit_from = BG_QA_FROM_DEFAULT;
+    if (o->rate_k > 0.0)
+        p->rate_k = o->rate_k, p->rate_from = BG_QA_FROM_OPTION;
+    else if (spec.rate_k > 0.0)
+        p->rate_k = spec.rate_k, p->rate_from = BG_QA_FROM_PART;
+    else
+        p->rate_k = p->limit_k, p->rate_from = BG_QA_FROM_DEFAULT;
+    return BG_OK;
+}
+
 int bg_qa_probe_drift(bg_store *st, const char *serial, const bg_qa_opts *o, bg_qa_probe *out,
                       bg_error *err)
 {
@@ -106,8 +129,8 @@ int bg_qa_probe_drift(bg_store *st, const char *serial, const bg_qa_opts *o, bg_
     if (hc.oom)
         return bg_error_set(err, BG_ENOMEM, "out of memory reading the %zu calibrations of "
                             "probe '%s'", out->n, serial);
-    out->limit_k = o->limit_k > 0.0 ? o->limit_k : bg_qa_tol_limit_k(&out->lot);
-    out->rate_k = o->rate_k > 0.0 ? o->rate_k : out->limit_k;
+    if ((rc = limits(st, o, out, err)) != BG_OK)
+        return rc;
     out->have_history = 1;
     if (out->n >= 2) {
         out->since_previous = calloc(out->n - 1, sizeof *out->since_previous);

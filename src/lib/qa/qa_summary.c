@@ -29,10 +29,11 @@ static int serial_cb(const bg_probe *p, void *ctx)
     return 0;
 }
 
-static int probes(bg_store *st, const char *code, bg_qa_lot_summary *out, bg_error *err)
+static int probes(bg_store *st, const char *code, const bg_qa_opts *qo, bg_qa_lot_summary *out,
+                  bg_error *err)
 {
     struct serials l = { NULL, 0, 0, 0 };
-    bg_qa_opts o = bg_qa_default_opts();
+    bg_qa_opts o = *qo;
     int rc;
     o.since_first = 0;
     if ((rc = bg_store_probe_each(st, code, serial_cb, &l, err)) != BG_OK)
@@ -47,22 +48,29 @@ static int probes(bg_store *st, const char *code, bg_qa_lot_summary *out, bg_err
         if ((rc = bg_qa_probe_drift(st, l.s[i], &o, p, err)) != BG_OK)
             goto done;
         out->flagged |= p->flagged;
+        out->limit_k = p->limit_k, out->rate_k = p->rate_k; /* the same for every probe */
+        out->limit_from = p->limit_from, out->rate_from = p->rate_from;
     }
 done:
     free(l.s);
     return rc;
 }
 
-int bg_qa_lot_summarize(bg_store *st, const char *code, bg_qa_lot_summary *out, bg_error *err)
+int bg_qa_lot_summarize(bg_store *st, const char *code, const bg_qa_opts *qo,
+                        bg_qa_lot_summary *out, bg_error *err)
 {
-    bg_qa_opts o = bg_qa_default_opts();
+    bg_qa_opts o = qo ? *qo : bg_qa_default_opts();
     int rc;
 
     if ((rc = bg_qa_lot_stats(st, code, &o, &out->stats, err)) != BG_OK)
         return rc;
     out->flagged = out->stats.flagged;
-    out->limit_k = bg_qa_tol_limit_k(&out->stats.lot);
-    if ((rc = probes(st, code, out, err)) != BG_OK)
+    /* a lot without probes still says which limits it would use */
+    out->limit_k = o.limit_k > 0.0 ? o.limit_k : out->stats.spec.limit_k > 0.0 ?
+                   out->stats.spec.limit_k : bg_qa_tol_limit_k(&out->stats.lot);
+    out->rate_k = o.rate_k > 0.0 ? o.rate_k : out->stats.spec.rate_k > 0.0 ?
+                  out->stats.spec.rate_k : out->limit_k;
+    if ((rc = probes(st, code, &o, out, err)) != BG_OK)
         return rc;
     out->part_err = (bg_error)BG_ERROR_INIT;
     out->part_rc = bg_qa_part_charts(st, out->stats.lot.part, &o, &out->part, &out->part_err);

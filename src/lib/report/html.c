@@ -217,7 +217,8 @@ static double sy(const bgi_html_chart *c, double y)
     return H - MB - (y - c->y0) / (c->y1 - c->y0) * (H - MT - MB);
 }
 
-void bgi_html_chart_begin(FILE *f, bgi_html_chart *c, double xlo, double xhi, double ylo, double yhi)
+static void chart_begin(FILE *f, bgi_html_chart *c, double xlo, double xhi, double ylo,
+                        double yhi, const char *const *names, size_t nnames)
 {
     double xs, ys;
     nice(xlo, xhi, &c->x0, &c->x1, &xs, c->xint);
@@ -230,8 +231,13 @@ void bgi_html_chart_begin(FILE *f, bgi_html_chart *c, double xlo, double xhi, do
     for (double v = c->xint ? ceil(c->x0) : c->x0; v <= c->x1 + xs * 1e-9; v += xs) {
         double X = sx(c, v);
         fprintf(f, "<line x1=\"%.2f\" y1=\"%d\" x2=\"%.2f\" y2=\"%d\" stroke=\"#ccc\" "
-                   "stroke-width=\"0.5\"/><text x=\"%.2f\" y=\"%d\" text-anchor=\"middle\">%g"
-                   "</text>\n", X, MT, X, H - MB, X, H - MB + 12, fabs(v) < xs * 1e-9 ? 0.0 : v);
+                   "stroke-width=\"0.5\"/><text x=\"%.2f\" y=\"%d\" text-anchor=\"middle\">",
+                X, MT, X, H - MB, X, H - MB + 12);
+        if (names && c->xint && v >= 1.0 && v < (double)nnames + 0.5)
+            bgi_html_esc(f, names[(size_t)v - 1]); /* tick v names item v - 1 */
+        else
+            fprintf(f, "%g", fabs(v) < xs * 1e-9 ? 0.0 : v);
+        fputs("</text>\n", f);
     }
     for (double v = c->y0; v <= c->y1 + ys * 1e-9; v += ys) {
         double Y = sy(c, v);
@@ -245,6 +251,18 @@ void bgi_html_chart_begin(FILE *f, bgi_html_chart *c, double xlo, double xhi, do
                "text-anchor=\"middle\">", (H - MB + MT) / 2);
     bgi_html_esc(f, c->ylabel);
     fputs("</text>\n", f);
+}
+
+void bgi_html_chart_begin(FILE *f, bgi_html_chart *c, double xlo, double xhi, double ylo, double yhi)
+{
+    chart_begin(f, c, xlo, xhi, ylo, yhi, NULL, 0);
+}
+
+void bgi_html_chart_begin_named(FILE *f, bgi_html_chart *c, const char *const *names, size_t n,
+                                double ylo, double yhi)
+{
+    c->xint = 1;
+    chart_begin(f, c, 0.5, (double)n + 0.5, ylo, yhi, names, n);
 }
 
 void bgi_html_chart_band(FILE *f, const bgi_html_chart *c, const double *x, const double *lo,

@@ -31,6 +31,9 @@ typedef struct bgi_html_chart {
 } bgi_html_chart;
 void bgi_html_chart_begin(FILE *f, bgi_html_chart *c, double xlo, double xhi,
                           double ylo, double yhi);
+/* The same with the x axis the items 1 .. n, each tick labelled with its name (lot codes). */
+void bgi_html_chart_begin_named(FILE *f, bgi_html_chart *c, const char *const *names, size_t n,
+                                double ylo, double yhi);
 void bgi_html_chart_band(FILE *f, const bgi_html_chart *c, const double *x,
                          const double *lo, const double *hi, size_t n);
 void bgi_html_chart_hline(FILE *f, const bgi_html_chart *c, double y,

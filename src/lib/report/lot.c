@@ -10,22 +10,63 @@
 #include "report/html_int.h"
 #include "report/report_int.h"
 
+/* What the lot was judged against: the part's nominal curve, or the lot's beta curve. */
+static void nominal_para(FILE *f, const bg_qa_lot *l)
+{
+    const bg_part_spec *sp = &l->spec;
+    char name[32];
+    fputs("<p id=\"nominal\">", f);
+    if (l->nominal_is_beta) {
+        fputs("Nominal curve: the lot's R25 and B as a beta curve (the part stores no nominal "
+              "curve). <strong>The deviation from it includes the beta model's shape error and "
+              "is not a verdict</strong>; only the R25 and B tolerances flag a probe.", f);
+    } else {
+        fputs("Nominal curve: part ", f);
+        bgi_html_esc(f, sp->part);
+        fprintf(f, "'s %s, specification %lld of ", bg_model_name(&sp->model, name, sizeof name),
+                sp->id);
+        bgi_html_esc(f, sp->created_at);
+        fputs(" (", f);
+        bgi_html_esc(f, sp->source);
+        fputs("): R25 ", f);
+        bgi_html_num(f, "span", "nomr25", "%.6g", l->nominal_r25_ohm);
+        fputs(" ohm, B ", f);
+        bgi_html_num(f, "span", "nomb", "%.2f", l->nominal_b_k);
+        fputs(" K.", f);
+    }
+    if (sp->tol_k > 0.0)
+        fprintf(f, " Tolerance &#177;%.1f mK from %.2f to %.2f degC, judged over the part of it "
+                   "each probe's calibration covers (%zu probe(s) do not cover all of it).",
+                1e3 * sp->tol_k, sp->tol_lo_k - BG_ZERO_C_K, sp->tol_hi_k - BG_ZERO_C_K,
+                l->nuncovered);
+    fputs("</p>\n", f);
+}
+
 static void probes_table(FILE *f, const bg_qa_lot *l)
 {
-    fprintf(f, "<h2>Probes (newest fit of each)</h2>\n<table class=\"data\" id=\"probes\">\n"
+    int tol = l->spec.tol_k > 0.0;
+    fprintf(f, "<h2>Probes (newest fit of each)</h2>\n");
+    nominal_para(f, l);
+    fprintf(f, "<table class=\"data\" id=\"probes\">\n"
                "<tr><th>probe</th><th class=\"n\">fit</th><th class=\"n\">R25 deviation / %%"
-               "</th><th class=\"n\">B / K</th><th class=\"n\">max |deviation| / mK</th>"
-               "<th>flags</th></tr>\n");
+               "</th><th class=\"n\">B / K</th><th class=\"n\">max |deviation| / mK</th>%s"
+               "<th>flags</th></tr>\n", tol ? "<th class=\"n\">over the tolerance range / mK"
+                                             "</th>" : "");
     for (size_t i = 0; i < l->n; i++) {
-        int out = (l->flags[i] & BG_QA_OUT_OF_TOL) != 0, outl = (l->flags[i] & BG_QA_OUTLIER) != 0;
-        fprintf(f, "<tr class=\"probe%s\"><td>", out || outl ? " flag" : "");
+        unsigned fl = l->flags[i];
+        int out = (fl & BG_QA_OUT_OF_TOL) != 0, outl = (fl & BG_QA_OUTLIER) != 0;
+        int band = (fl & BG_QA_OUT_OF_BAND) != 0;
+        fprintf(f, "<tr class=\"probe%s\"><td>", out || outl || band ? " flag" : "");
         bgi_html_esc(f, l->serial[i]);
         fprintf(f, "</td><td class=\"n\">%lld</td>", l->fit_id[i]);
         bgi_html_num(f, "td", "n r25dev", "%+.4f", l->r25_dev_pct[i]);
-        bgi_html_num(f, "td", "n b", "%.2f", l->b_k[i]);
+        bgi_html_num(f, "td", fl & BG_QA_B_EXTRAPOLATED ? "n b extrap" : "n b",
+                     fl & BG_QA_B_EXTRAPOLATED ? "%.2f*" : "%.2f", l->b_k[i]);
         bgi_html_num(f, "td", "n maxdev", "%.3f", l->max_abs_dev_mk[i]);
-        fprintf(f, "<td>%s%s</td></tr>\n", out ? "out of tolerance " : "",
-                outl ? "outlier (Grubbs)" : "");
+        if (tol)
+            bgi_html_num(f, "td", "n toldev", "%.3f", l->tol_dev_mk[i]);
+        fprintf(f, "<td>%s%s%s</td></tr>\n", out ? "out of tolerance " : "",
+                band ? "beyond the kelvin tolerance " : "", outl ? "outlier (Grubbs)" : "");
     }
 }
 
@@ -47,7 +88,14 @@ static void stats_table(FILE *f, const bg_qa_lot *l)
         bgi_html_num(f, "td", "n cpk", "%.2f", cp[k]);
         fputs("</tr>\n", f);
     }
-    fputs("</table>\n<p id=\"energy\">Apparent activation energy E = kB = ", f);
+    fputs("</table>\n", f);
+    if (l->nb_extrap)
+        fprintf(f, "<p id=\"bextrap\">* B%.0f/%.0f is extrapolated for %zu of %zu probes: the "
+                   "pair lies outside their calibrated range, so their B, its statistics and the "
+                   "B chart rest on the fitted curve beyond the readings.</p>\n",
+                l->lot.pair_t1_k - BG_ZERO_C_K, l->lot.pair_t2_k - BG_ZERO_C_K, l->nb_extrap,
+                l->n);
+    fputs("<p id=\"energy\">Apparent activation energy E = kB = ", f);
     bgi_html_num(f, "span", "ea", "%.4f", l->activation_energy_ev);
     fprintf(f, " eV (k the Boltzmann constant, B the lot's mean B%.0f/%.0f). Nominal: R25 %.6g "
                "ohm &#177;%.3g %%, B %.2f K &#177;%.3g %%. %zu probe(s) out of tolerance.</p>\n",
@@ -103,9 +151,16 @@ static void band_table(FILE *f, const bg_qa_lot *l)
         bgi_html_num(f, "td", "n bhi", "%+.2f", l->band_hi_mk[k]);
         fputs("</tr>\n", f);
     }
-    fputs("</table>\n<p class=\"meta\">The band is the nominal curve at the corners of the R25 "
-          "and B tolerances; the measured deviation also holds the difference in shape between "
-          "a real curve and the beta model.</p>\n", f);
+    if (l->spec.tol_k > 0.0)
+        fputs("</table>\n<p class=\"meta\">The band is the part's tolerance in kelvin "
+              "(&#8212;: outside its range).</p>\n", f);
+    else if (l->nominal_is_beta)
+        fputs("</table>\n<p class=\"meta\">The band is the nominal curve at the corners of the "
+              "R25 and B tolerances. The measured deviation also holds the difference in shape "
+              "between a real curve and the beta model, so it is not a verdict.</p>\n", f);
+    else
+        fputs("</table>\n<p class=\"meta\">The band is the part's nominal curve at the "
+              "corners of the lot's R25 and B tolerances.</p>\n", f);
 }
 
 /* One probe's rows of the drift table: each calibration against the one before. */
@@ -142,10 +197,14 @@ static void drift_table(FILE *f, const bg_qa_lot_summary *s)
           "rate / (mK/year)</th><th>flags</th></tr>\n", f);
     for (size_t i = 0; i < s->nprobes; i++)
         drift_rows(f, &s->probes[i]);
-    fprintf(f, "</table>\n<p class=\"meta\">As-found error: what a device still using the "
-               "earlier coefficients would read, minus the true temperature, largest over five "
-               "check temperatures spread over the common range; limit from the lot's R25 "
-               "tolerance, %.1f mK.</p>\n", 1e3 * s->limit_k);
+    static const char *const from[3] = { "from the lot's R25 tolerance", "as given",
+                                         "the part's default" };
+    static const char *const rfrom[3] = { "the as-found limit", "as given", "the part's default" };
+    fprintf(f, "</table>\n<p class=\"meta\" id=\"limits\">As-found error: what a device still "
+               "using the earlier coefficients would read, minus the true temperature, largest "
+               "over five check temperatures spread over the common range. Limit %.1f mK (%s); "
+               "rate limit %.1f mK/year (%s).</p>\n", 1e3 * s->limit_k, from[s->limit_from % 3],
+            1e3 * s->rate_k, rfrom[s->rate_from % 3]);
 }
 
 /* The value of chart 'c' at point i, and the rules it breaks there. */
@@ -189,17 +248,23 @@ static int one_chart(FILE *f, const bg_qa_part *p, int c)
         x[i] = (double)(i + 1), y[i] = chart_value(p, c, i, &rules), fg[i] = rules != 0;
         lo = fmin(lo, y[i]), hi = fmax(hi, y[i]);
     }
+    const char **names = malloc((n + 1) * sizeof *names);
+    if (!names) {
+        free(x), free(y), free(fg);
+        return BG_ENOMEM;
+    }
+    for (size_t i = 0; i < n; i++)
+        names[i] = p->lots[c < 4 ? i : p->asfound[i].lot].code;
     bgi_html_chart hc = { ids[c], titles[c], "lot (in order of creation)", units[c], 0, 0, 0,
                           0, 0 };
-    hc.xint = 1;
-    bgi_html_chart_begin(f, &hc, 0.5, (double)n + 0.5, lo, hi);
+    bgi_html_chart_begin_named(f, &hc, names, n, lo, hi);
     bgi_html_chart_hline(f, &hc, ch->center, "centre", 0);
     bgi_html_chart_hline(f, &hc, ch->ucl, "UCL", 1);
     bgi_html_chart_hline(f, &hc, ch->lcl, "LCL", 1);
     bgi_html_chart_line(f, &hc, x, y, n);
     bgi_html_chart_points(f, &hc, x, y, fg, n);
     bgi_html_chart_end(f, &hc, NULL);
-    free(x), free(y), free(fg);
+    free(x), free(y), free(fg), free(names);
     return BG_OK;
 }
 
@@ -249,9 +314,17 @@ static int part_charts(FILE *f, const bg_qa_lot_summary *s)
     }
     fprintf(f, "<h2>Control charts of part ");
     bgi_html_esc(f, p->part);
-    fprintf(f, "</h2>\n<p>Limits at 3 sigma from the first %zu lot(s) of %zu, subgroup size "
-               "%zu; points that break a run rule are drawn as open squares and listed "
-               "below.</p>\n", p->baseline, p->nlots, p->subgroup);
+    static const char *const from[3] = { "all lots", "as given", "the part's default" };
+    fprintf(f, "</h2>\n<p id=\"baseline\">Limits at 3 sigma from the first %zu lot(s) of %zu "
+               "(%s), subgroup size %zu; points that break a run rule are drawn as open squares "
+               "and listed below.</p>\n", p->baseline, p->nlots, from[p->baseline_from % 3],
+            p->subgroup);
+    if (p->provisional)
+        fprintf(f, "<p id=\"provisional\" data-provisional=\"1\"><strong>Provisional limits"
+                   "</strong>: computed from %zu lot(s), fewer than the customary %d subgroups "
+                   "for trial control limits (20 to 25; D. C. Montgomery, Introduction to "
+                   "Statistical Quality Control). Treat a flag as a prompt to look, not as a "
+                   "verdict on the process.</p>\n", p->baseline, BG_QA_CUSTOMARY_SUBGROUPS);
     for (int c = 0; c < BG_QA_NCHART && rc == BG_OK; c++)
         if (c < 4 || p->have_asfound)
             rc = one_chart(f, p, c);

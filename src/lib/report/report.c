@@ -185,7 +185,7 @@ int bg_report_issue_lot(bg_store *st, const char *code, const bg_report_opts *o,
     memset(&r, 0, sizeof r);
     int rc = bg_store_lot_get(st, code, &r.lot, err);
     if (rc == BG_OK)
-        rc = bg_qa_lot_summarize(st, code, &qs, err);
+        rc = bg_qa_lot_summarize(st, code, o->qa, &qs, err);
     if (rc == BG_OK) {
         r.summary = &qs;
         snprintf(subject, sizeof subject, "lot %s", code);

@@ -645,4 +645,5 @@ const struct bgi_store_backend bgi_store_sqlite = {
     bgi_sqlite_artifact_next, bgi_sqlite_artifact_insert, bgi_sqlite_artifact_get,
     bgi_sqlite_artifact_each,
     bgi_sqlite_run_by_digest, bgi_sqlite_fit_newest_of_run, bgi_sqlite_fit_same,
+    bgi_sqlite_part_spec_add, bgi_sqlite_part_spec_each,
 };

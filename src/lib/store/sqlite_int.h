@@ -69,4 +69,10 @@ int bgi_sqlite_artifact_insert(bgi_conn *c, const struct bgi_artifact_row *row, 
 int bgi_sqlite_artifact_get(bgi_conn *c, long long id, bg_artifact *out, bg_error *err);
 int bgi_sqlite_artifact_each(bgi_conn *c, bg_artifact_cb cb, void *ctx, bg_error *err);
 
+/* A part's specifications (sqlite_part.c). */
+int bgi_sqlite_part_spec_add(bgi_conn *c, const bg_part_spec *p, const char *now, long long *id,
+                             bg_error *err);
+int bgi_sqlite_part_spec_each(bgi_conn *c, const char *part, int newest_only,
+                              bg_part_spec_cb cb, void *ctx, bg_error *err);
+
 #endif

@@ -867,3 +867,70 @@ int bg_store_artifact_each(bg_store *st, bg_artifact_cb cb, void *ctx, bg_error 
 {
     return st->be->artifact_each(st->conn, cb, ctx, err);
 }
+
+/* ---- a part's specification ---- */
+
+/* The nominal curve is usable: finite coefficients that pass the model's checks, and a
+** resistance that falls with temperature over the tolerance range (41 points). */
+static int check_part_model(const bg_part_spec *p, bg_error *err)
+{
+    bg_model m = p->model;
+    double lo = p->tol_k > 0.0 ? p->tol_lo_k : BG_T0_DEFAULT_K - 25.0;
+    double hi = p->tol_k > 0.0 ? p->tol_hi_k : BG_T0_DEFAULT_K + 25.0, prev = INFINITY;
+    int rc = bg_model_set_coef(&m, p->model.coef, bg_model_npar(&p->model), err);
+    for (int i = 0; rc == BG_OK && i <= 40; i++) {
+        double r;
+        if ((rc = bg_model_r_from_t(&m, lo + (hi - lo) * i / 40.0, &r, err)) == BG_OK &&
+            !(r < prev))
+            rc = bg_error_set(err, BG_EINVAL, "its resistance does not fall with temperature "
+                              "between %.2f and %.2f degC", lo - BG_ZERO_C_K, hi - BG_ZERO_C_K);
+        prev = r;
+    }
+    if (rc != BG_OK)
+        bg_error_prefix(err, "part '%s': nominal curve", p->part);
+    return rc;
+}
+
+int bg_store_part_spec_add(bg_store *st, const bg_part_spec *p, long long *id, bg_error *err)
+{
+    char now[BG_TIME];
+    int rc, own;
+
+    if ((rc = check_text("part", p->part, BG_TEXT, 1, err)) != BG_OK ||
+        (rc = check_text("source", p->source, BG_NOTE, 0, err)) != BG_OK ||
+        (rc = check_text("note", p->note, BG_NOTE, 0, err)) != BG_OK)
+        return rc;
+    if (!(p->tol_k >= 0.0) || !(p->limit_k >= 0.0) || !(p->rate_k >= 0.0) ||
+        !isfinite(p->tol_k) || !isfinite(p->limit_k) || !isfinite(p->rate_k))
+        return bg_error_set(err, BG_EINVAL, "part '%s': a tolerance or limit is negative or "
+                            "not finite", p->part);
+    if (p->tol_k > 0.0 && !(p->tol_lo_k > 0.0 && p->tol_hi_k > p->tol_lo_k &&
+                            isfinite(p->tol_hi_k)))
+        return bg_error_set(err, BG_EINVAL, "part '%s': the tolerance in kelvin needs a range "
+                            "from a lower to a higher temperature", p->part);
+    if (p->have_model && (rc = check_part_model(p, err)) != BG_OK)
+        return rc;
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    rc = st->be->part_spec_add(st->conn, p, bg_store_time(st, now, sizeof now), id, err);
+    return tx_end(st, own, rc, err);
+}
+
+static int part_spec_copy(const bg_part_spec *p, void *ctx)
+{
+    *(bg_part_spec *)ctx = *p;
+    return 1;
+}
+
+int bg_store_part_spec_get(bg_store *st, const char *part, bg_part_spec *out, bg_error *err)
+{
+    memset(out, 0, sizeof *out);
+    snprintf(out->part, sizeof out->part, "%s", part);
+    return st->be->part_spec_each(st->conn, part, 1, part_spec_copy, out, err);
+}
+
+int bg_store_part_spec_each(bg_store *st, const char *part, bg_part_spec_cb cb, void *ctx,
+                            bg_error *err)
+{
+    return st->be->part_spec_each(st->conn, part, 0, cb, ctx, err);
+}

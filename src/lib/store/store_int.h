@@ -55,7 +55,7 @@ struct bgi_artifact_row {
     const char *now;
 };
 
-#define BGI_STORE_BACKEND_VERSION 2
+#define BGI_STORE_BACKEND_VERSION 3
 
 /* Every function takes the connection first and 'err' last, and returns a bg_status unless
 ** said otherwise.  Write functions run inside a transaction that store.c opened (in_tx is
@@ -140,6 +140,12 @@ struct bgi_store_backend {
     /* the oldest fit of row 'r's run with the same readings, model and values as 'r' (the
     ** coefficients, covariance and statistics compared exactly); 0: none */
     int (*fit_same)(bgi_conn *c, const struct bgi_fitrow *r, long long *fit_id, bg_error *err);
+
+    /* version 3: a part's specifications (schema db/005-part-nominal.sql) */
+    int (*part_spec_add)(bgi_conn *c, const bg_part_spec *p, const char *now, long long *id,
+                         bg_error *err);
+    int (*part_spec_each)(bgi_conn *c, const char *part, int newest_only, bg_part_spec_cb cb,
+                          void *ctx, bg_error *err);
 };
 
 /* The backends (sqlite.c, ...); store.c lists them by scheme. */
