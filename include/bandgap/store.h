@@ -16,8 +16,6 @@
 #include "bandgap/reference.h"
 
 #define BG_STORE_APP_ID 0x42476170 /* "BGap" in PRAGMA application_id */
-#define BG_TEXT 201                /* serials, codes, names: at most 200 bytes */
-#define BG_NOTE 1024               /* notes: at most 1023 bytes */
 
 typedef struct bg_store bg_store;
 
