@@ -201,6 +201,10 @@ typedef struct bg_fit_row {
     char program_version[BG_TIME], created_at[BG_TIME];
 } bg_fit_row;
 
+/* The standard uncertainty of a stored fit's coefficient 'i' (the square root of its
+** variance); NaN without a covariance or when 'i' is out of range. */
+BG_API double bg_fit_row_coef_u(const bg_fit_row *f, size_t i);
+
 /* Store 'fit' of run 'run_id' made from the readings 'reading_ids' (fit->n of them). */
 BG_API int bg_store_fit_save(bg_store *st, long long run_id, const bg_fit *fit,
                              const long long *reading_ids, long long *fit_id, bg_error *err);

@@ -821,3 +821,10 @@ done:
     bg_fit_release(&g);
     return rc;
 }
+
+double bg_fit_coef_u(const bg_fit *fit, size_t i)
+{
+    if (!fit || i >= fit->npar)
+        return NAN;
+    return sqrt(fit->cov[i * fit->npar + i]);
+}
