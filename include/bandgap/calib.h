@@ -148,6 +148,8 @@ typedef struct bg_calib_lot_row {
     bg_calib_status status;
     long long run_id;           /* the probe's latest run (0: none) */
     long long fit_id;           /* the stored fit; 0 unless the lot was stored */
+    int identical;              /* 1: the run had an identical fit (same readings, model and
+                                ** numbers): 'fit_id' names it and nothing new was stored */
     bg_model model;             /* BG_CALIB_FITTED: the fitted model */
     size_t npar, n;
     double rms_mk, max_abs_mk;  /* of the residuals */
@@ -167,6 +169,7 @@ typedef struct bg_calib_lot {
     bg_note *notes;             /* every fitted probe's warnings, by row */
     size_t nnotes, notecap;
     size_t nfitted, nnoruns, nfailed;
+    size_t nidentical;          /* fitted rows whose run already had an identical fit */
     bg_coverage_rule rule;      /* the request's coverage rule, applied to every row */
     int stored;                 /* 1: every fit is stored (committed); 0: none is */
 } bg_calib_lot;

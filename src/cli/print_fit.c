@@ -409,6 +409,11 @@ static void lot_json(const bg_calib_lot *lot)
         json_str(&j, "status", "fitted");
         json_int(&j, "run_id", row->run_id);
         json_int(&j, "fit_id", row->fit_id);
+        json_bool(&j, "stored", lot->stored && !row->identical);
+        if (row->identical)
+            json_int(&j, "identical_to_fit", row->fit_id);
+        else
+            json_null(&j, "identical_to_fit");
         json_str(&j, "model", bg_model_name(&row->model, name, sizeof name));
         json_nums(&j, "coefficients", row->model.coef, row->npar);
         json_int(&j, "n", (long long)row->n);
@@ -424,6 +429,7 @@ static void lot_json(const bg_calib_lot *lot)
     }
     json_arr_end(&j);
     json_int(&j, "fitted", (long long)lot->nfitted);
+    json_int(&j, "identical_not_stored", (long long)lot->nidentical);
     json_int(&j, "without_runs", (long long)lot->nnoruns);
     json_obj_end(&j);
     json_end(&j);
@@ -442,8 +448,10 @@ static void lot_text(const bg_calib_lot *lot)
             printf("%-20s   no calibration runs: not fitted\n", row->serial);
             continue;
         }
-        printf("%-20s %6lld %6lld %-7s %4zu %10.4f %10.4f %8.4f %5.2f %12s %10.2f%s\n",
-               row->serial, row->run_id, row->fit_id,
+        char fid[32];
+        snprintf(fid, sizeof fid, "%lld%s", row->fit_id, row->identical ? "=" : "");
+        printf("%-20s %6lld %6s %-7s %4zu %10.4f %10.4f %8.4f %5.2f %12s %10.2f%s\n",
+               row->serial, row->run_id, fid,
                bg_model_name(&row->model, name, sizeof name), row->n, row->rms_mk,
                row->max_abs_mk, 1e3 * row->U_max_k, row->cover.k,
                bg_units_format_ohms(row->r25_ohm, 7, rb, sizeof rb), row->b_k,
@@ -452,6 +460,9 @@ static void lot_text(const bg_calib_lot *lot)
     }
     if (extra)
         printf("* B extrapolated: the lot's pair lies outside the probe's calibrated range\n");
+    if (lot->nidentical)
+        printf("= %zu of the fits are identical to one the run already had (same readings, "
+               "model and numbers): nothing new was stored for them\n", lot->nidentical);
     if (lot->rule.k_fixed > 0.0)
         printf("U = k u at the largest u, k = %.2f as asked\n", lot->rule.k_fixed);
     else

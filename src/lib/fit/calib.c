@@ -433,7 +433,18 @@ done:
 
 /* ---- a whole lot -------------------------------------------------------------------------- */
 
+/* What the lot's runs held before the pass: the runs whose current fit exists (only they can
+** already have an identical fit) and the runs imported with a reference past its due date. */
+struct lot_prior {
+    long long *fitted;     /* ascending run ids */
+    size_t nfitted, capf;
+    bg_run *overdue;       /* ascending by id */
+    size_t noverdue, capo;
+    int oom;               /* a list could not grow: the pass must not go on */
+};
+
 struct lot_pass {
+    struct lot_prior prior;
     bg_store *st;
     const bg_calib_request *rq;
     bg_fit_opts o;
@@ -493,6 +504,82 @@ static int lot_failed(struct lot_pass *lp, bg_calib_lot_row *row, const bg_error
 
 /* One probe of the lot: fit its points and queue the fit, or note why not.  Returns non-zero
 ** to stop the pass (an error in 'lp->rc'). */
+static int cmp_id(const void *a, const void *b)
+{
+    long long x = *(const long long *)a, y = *(const long long *)b;
+    return (x > y) - (x < y);
+}
+
+static int prior_fitted(const char *serial, const bg_fit_row *fit, void *ctx)
+{
+    struct lot_prior *p = ctx;
+    (void)serial;
+    if (!fit)
+        return 0;
+    if (p->nfitted == p->capf) {
+        size_t cap = p->capf ? 2 * p->capf : 64;
+        long long *v = grow(p->fitted, cap, sizeof *v);
+        if (!v)
+            return (p->oom = 1);
+        p->fitted = v, p->capf = cap;
+    }
+    p->fitted[p->nfitted++] = fit->run_id;
+    return 0;
+}
+
+static int prior_overdue(const bg_run *run, void *ctx)
+{
+    struct lot_prior *p = ctx;
+    if (!run->ref_overdue[0])
+        return 0;
+    if (p->noverdue == p->capo) {
+        size_t cap = p->capo ? 2 * p->capo : 8;
+        bg_run *v = grow(p->overdue, cap, sizeof *v);
+        if (!v)
+            return (p->oom = 1);
+        p->overdue = v, p->capo = cap;
+    }
+    p->overdue[p->noverdue++] = *run;
+    return 0;
+}
+
+/* Two passes of one query each, before the fits: no query per probe. */
+static int lot_prior_load(bg_store *st, const char *lot_code, struct lot_prior *p, bg_error *err)
+{
+    int rc = bg_store_lot_latest_fits(st, lot_code, NULL, prior_fitted, p, err);
+    if (rc == BG_OK)
+        rc = bg_store_run_each(st, NULL, lot_code, prior_overdue, p, err);
+    if (rc == BG_OK && p->oom)
+        rc = bg_error_set(err, BG_ENOMEM, "out of memory reading lot '%s'", lot_code);
+    qsort(p->fitted, p->nfitted, sizeof *p->fitted, cmp_id);
+    qsort(p->overdue, p->noverdue, sizeof *p->overdue, cmp_id); /* 'id' is bg_run's first */
+    return rc;
+}
+
+static void lot_prior_release(struct lot_prior *p)
+{
+    free(p->fitted);
+    free(p->overdue);
+}
+
+/* Queue the probe's fit, or, when its run already has an identical one, name that one. */
+static int lot_store_one(struct lot_pass *lp, long long run_id, const bg_store_points *sp,
+                         bg_calib_lot_row *row)
+{
+    long long same = 0;
+    if (bsearch(&run_id, lp->prior.fitted, lp->prior.nfitted, sizeof run_id, cmp_id)) {
+        int rc = bg_store_fit_find_same(lp->st, run_id, &lp->one.fit, sp->ids, &same, lp->err);
+        if (rc != BG_OK)
+            return rc;
+    }
+    if (same) {
+        row->fit_id = same, row->identical = 1;
+        lp->out->nidentical++;
+        return BG_OK;
+    }
+    return bg_store_fit_queue(lp->st, run_id, &lp->one.fit, sp->ids, &row->fit_id, lp->err);
+}
+
 static int lot_probe(const char *serial, long long probe_id, long long run_id,
                      bg_store_points *sp, void *p)
 {
@@ -523,9 +610,11 @@ static int lot_probe(const char *serial, long long probe_id, long long run_id,
     if (fit_model(lp->fr, sp->pts, sp->n, &lp->o, lp->is_auto, 0, &lp->one, &e2) != BG_OK)
         return lot_failed(lp, row, &e2) != 0;
     row->status = BG_CALIB_FITTED;
-    if ((lp->rc = lot_notes(out, row, &lp->one.fit, lp->err)) != BG_OK ||
-        (lp->rc = bg_store_fit_queue(lp->st, run_id, &lp->one.fit, sp->ids, &row->fit_id,
-                                     lp->err)) != BG_OK)
+    const bg_run *od = bsearch(&run_id, lp->prior.overdue, lp->prior.noverdue,
+                               sizeof *lp->prior.overdue, cmp_id);
+    if ((od && (lp->rc = note_ref_overdue(&lp->one, od, lp->err)) != BG_OK) ||
+        (lp->rc = lot_notes(out, row, &lp->one.fit, lp->err)) != BG_OK ||
+        (lp->rc = lot_store_one(lp, run_id, sp, row)) != BG_OK)
         return 1;
     derive_brief(&lp->one, sp->pts, sp->n, lp->rq, out->lot.pair_t1_k, out->lot.pair_t2_k);
     row->model = lp->one.fit.model;
@@ -577,6 +666,8 @@ int bg_calibrate_lot(bg_store *st, const char *lot_code, const bg_calib_request 
     if ((rc = bg_store_begin(st, err)) != BG_OK)
         goto done;
     in_tx = 1;
+    if ((rc = lot_prior_load(st, lot_code, &lp.prior, err)) != BG_OK)
+        goto done;
     if ((rc = lot_pass_run(&lp, lot_code)) == BG_OK) {
         in_tx = 0; /* a failed commit has rolled back */
         rc = bg_store_commit(st, err);
@@ -586,8 +677,9 @@ done:
         bg_store_rollback(st);
     out->stored = rc == BG_OK;
     for (size_t i = 0; i < out->nrows && !out->stored; i++)
-        out->rows[i].fit_id = 0;
+        out->rows[i].fit_id = 0, out->rows[i].identical = 0;
     bg_calib_result_release(&lp.one);
     bg_fitter_free(lp.fr);
+    lot_prior_release(&lp.prior);
     return rc;
 }
