@@ -743,6 +743,28 @@ static void curve_uncertainty_two_routes(void **state)
     }
 }
 
+/* A coefficient's standard uncertainty is the root of its variance (GUM 5.1.3, u = sqrt of
+** the variance); out of range or without degrees of freedom it is NaN, never 0. */
+static void coefficient_uncertainties(void **state)
+{
+    (void)state;
+    bg_fit f = BG_FIT_INIT;
+    bg_fit_row row;
+    memset(&row, 0, sizeof row);
+    f.npar = row.npar = 2;
+    double cov[4] = { 2.25e-8, 1.1e-9, 1.1e-9, 4.41e-4 }; /* invented: u = 1.5e-4 and 0.021 */
+    memcpy(f.cov, cov, sizeof cov);
+    memcpy(row.cov, cov, sizeof cov);
+    assert_close(bg_fit_coef_u(&f, 0), 1.5e-4, 1e-15, 0.0);
+    assert_close(bg_fit_coef_u(&f, 1), 0.021, 1e-15, 0.0);
+    assert_true(isnan(bg_fit_coef_u(&f, 2)));
+    assert_true(isnan(bg_fit_row_coef_u(&row, 0))); /* no covariance stored */
+    row.has_cov = 1;
+    assert_close(bg_fit_row_coef_u(&row, 1), 0.021, 1e-15, 0.0);
+    f.cov[0] = NAN; /* no degrees of freedom: the covariance is NaN */
+    assert_true(isnan(bg_fit_coef_u(&f, 0)));
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -768,6 +790,7 @@ int main(void)
         cmocka_unit_test(outlier_and_extrapolation),
         cmocka_unit_test(comparison_chooses),
         cmocka_unit_test(curve_uncertainty_two_routes),
+        cmocka_unit_test(coefficient_uncertainties),
     };
     return cmocka_run_group_tests_name("fit", tests, NULL, NULL);
 }

@@ -111,6 +111,11 @@ BG_API int bg_fit_u_t(const bg_fit *fit, double t_k, double *u_k, int *extrapola
 ** uncertainties (NaN otherwise or when dof = 0). */
 BG_API double bg_fit_p_value(const bg_fit *fit);
 
+/* The standard uncertainty of coefficient 'i', the square root of its variance in the fit's
+** (scaled) covariance, in the coefficient's unit; NaN when there is none (no degrees of
+** freedom) or 'i' is out of range. */
+BG_API double bg_fit_coef_u(const bg_fit *fit, size_t i);
+
 /* The same at resistance 'r_ohm' (no inversion of the model): u(T(R)) in K. */
 BG_API int bg_fit_u_at_r(const bg_fit *fit, double r_ohm, double *u_k, bg_error *err);
 

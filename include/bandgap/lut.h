@@ -18,6 +18,7 @@
 #include "bandgap/circuit.h"
 #include "bandgap/error.h"
 #include "bandgap/model.h"
+#include "bandgap/readings.h"
 
 typedef enum bg_lut_format {
     BG_LUT_DECI = 0, /* 0.1 degree per count */
@@ -191,9 +192,14 @@ typedef struct bg_lut_result {
     bg_lut table;
     bg_lut_spec spec;         /* the request's, with the strategy and step built; its
                               ** 'source' and 'stamp' point into this result */
-    char source[200];         /* where the model came from; spec.source points here */
+    char source[BG_TEXT + 2 * BG_TIME + 96]; /* where the model came from; spec.source
+                              ** points here */
     char stamp[64];           /* the request's stamp; spec.stamp points here */
     long long fit_id;         /* 0: an inline model */
+    /* the stored fit's provenance, copied from the request (fit_id 0: unused) */
+    long long fit_run_id;
+    char fit_serial[BG_TEXT], fit_started_at[BG_TIME];
+    int fit_current;
     double cov[BG_MODEL_MAXPAR * BG_MODEL_MAXPAR];
     size_t sizes[3];          /* the automatic choice: each strategy's bytes (0: impossible) */
     int chosen;               /* 1: the strategy was chosen as the smallest */

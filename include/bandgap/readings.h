@@ -10,7 +10,9 @@
 #include "bandgap/error.h"
 #include "bandgap/units.h"
 
-#define BG_TIME 40 /* room for an ISO 8601 date-time with fraction and offset */
+#define BG_TIME 40   /* room for an ISO 8601 date-time with fraction and offset */
+#define BG_TEXT 201  /* serials, codes, names: at most 200 bytes */
+#define BG_NOTE 1024 /* notes: at most 1023 bytes */
 
 /* One calibration point.  'u_t_k' and 'u_r_ohm' are standard uncertainties (0 = not given);
 ** 'line' is the reading's line in its file (0 = unknown), used in messages. */

@@ -16,8 +16,6 @@
 #include "bandgap/reference.h"
 
 #define BG_STORE_APP_ID 0x42476170 /* "BGap" in PRAGMA application_id */
-#define BG_TEXT 201                /* serials, codes, names: at most 200 bytes */
-#define BG_NOTE 1024               /* notes: at most 1023 bytes */
 
 typedef struct bg_store bg_store;
 
@@ -202,6 +200,10 @@ typedef struct bg_fit_row {
     double chi2, cov_scale, rms_mk, max_abs_mk, t_min_k, t_max_k;
     char program_version[BG_TIME], created_at[BG_TIME];
 } bg_fit_row;
+
+/* The standard uncertainty of a stored fit's coefficient 'i' (the square root of its
+** variance); NaN without a covariance or when 'i' is out of range. */
+BG_API double bg_fit_row_coef_u(const bg_fit_row *f, size_t i);
 
 /* Store 'fit' of run 'run_id' made from the readings 'reading_ids' (fit->n of them). */
 BG_API int bg_store_fit_save(bg_store *st, long long run_id, const bg_fit *fit,

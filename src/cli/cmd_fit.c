@@ -31,7 +31,7 @@ static const char fit_usage[] =
     "                   its coverage probability stated; default: K from Student's t for\n"
     "                   the fit's degrees of freedom at 95.45 % (JCGM 100:2008, G.3)\n"
     "  --resolution DT  the readings' temperature resolution (e.g. 1mK): residuals are not\n"
-    "                   studentized by a scale below DT / sqrt(12) (default 1uK), so\n"
+    "                   studentized by a scale below DT / sqrt(12) (default 10uK), so\n"
     "                   noise-free readings raise no outlier warning\n"
     "  --unit U         unit for printed temperatures: C (default), K or F\n"
     "  --json           one JSON object\n"

@@ -63,7 +63,7 @@ static void json_fit(json_out *j, const bg_calib_result *r)
     json_nums(j, "coefficients", f->model.coef, f->npar);
     json_arr(j, "u_coefficients");
     for (size_t i = 0; i < f->npar; i++)
-        json_num(j, NULL, sqrt(f->cov[i * f->npar + i]));
+        json_num(j, NULL, bg_fit_coef_u(f, i));
     json_arr_end(j);
     if (f->dof > 0) {
         json_arr(j, "covariance");
@@ -236,7 +236,7 @@ static void text_fit(const bg_calib_result *r, bg_temp_unit un)
     if (bg_model_flags(&f->model) & BG_MODEL_HAS_T0)
         printf("  T0 = %s\n", bg_units_format_temp(f->model.t0_k, un, 3, b1, sizeof b1));
     for (size_t i = 0; i < f->npar; i++) {
-        double u = sqrt(f->cov[i * f->npar + i]);
+        double u = bg_fit_coef_u(f, i);
         if (isfinite(u))
             printf("  %-5s = %18.10e   u = %.2e\n", bg_model_coef_name(&f->model, i),
                    f->model.coef[i], u);

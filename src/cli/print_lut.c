@@ -52,6 +52,25 @@ void lut_print_csv(const bg_lut_result *r, FILE *f)
     }
 }
 
+/* Which calibration the table was made from: "fit": {...}, or null for an inline model. */
+static void json_provenance(json_out *j, const bg_lut_result *r)
+{
+    if (!r->fit_id) {
+        json_null(j, "fit");
+        return;
+    }
+    json_obj(j, "fit");
+    json_int(j, "id", r->fit_id);
+    json_str(j, "probe", r->fit_serial);
+    json_int(j, "run", r->fit_run_id);
+    if (r->fit_started_at[0])
+        json_str(j, "run_started_at", r->fit_started_at);
+    else
+        json_null(j, "run_started_at");
+    json_bool(j, "current", r->fit_current);
+    json_obj_end(j);
+}
+
 void lut_print_json(const bg_lut_result *r, FILE *f)
 {
     const bg_lut *t = &r->table;
@@ -67,6 +86,7 @@ void lut_print_json(const bg_lut_result *r, FILE *f)
     json_str(&j, "version", bg_version());
     if (s->stamp)
         json_str(&j, "generated_at", s->stamp);
+    json_provenance(&j, r);
     json_str(&j, "strategy", bg_lut_strategy_name(t->strategy));
     if (sizes) {
         json_obj(&j, "bytes_by_strategy");

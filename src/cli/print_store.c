@@ -353,7 +353,7 @@ static void fit_text(const bg_fit_row *f, const long long *ids, size_t nids, con
     if (bg_model_flags(&f->model) & BG_MODEL_HAS_T0)
         printf(", T0 = %.3f degC\n", f->model.t0_k - BG_ZERO_C_K);
     for (size_t i = 0; i < f->npar; i++) {
-        double su = f->has_cov ? sqrt(f->cov[i * f->npar + i]) : NAN;
+        double su = bg_fit_row_coef_u(f, i);
         char ub[32] = "n/a";
         if (isfinite(su))
             snprintf(ub, sizeof ub, "%.2e", su);

@@ -515,78 +515,59 @@ static void monotonic_note(const bg_fitter *fr, const bg_fit_opts *o, const doub
     }
 }
 
-int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
-                  bg_fit *out, bg_error *err)
+/* The weighted linear fit in 1/T that starts the refinement: first with u(T) alone (1 K when
+** none is given), then, when readings state u(R), again with u(R) carried through the first
+** fit's slope.  Fills fr->L, fr->G and fr->u, and 'lf'. */
+static int fit_start(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                     int weighted, bg_linfit *lf, bg_error *err)
 {
-    char name[16];
     unsigned pw[MAXB];
-    size_t nb = bg_model_basis(&o->model, pw), npar = bg_model_npar(&o->model);
-    bg_linfit lf;
-    int weighted = 0, any_ur = 0, rc;
-    unsigned iters = 0;
-
+    size_t nb = bg_model_basis(&o->model, pw);
+    char name[16];
+    int any_ur = 0;
     bg_model_name(&o->model, name, sizeof name);
-    if (nb == 0)
-        return bg_error_set(err, BG_EINVAL, "model '%s' has no linear basis: the fitter "
-                            "cannot start it", name);
-    if (n < npar)
-        return bg_error_set(err, BG_EINVAL, "model '%s' needs at least %zu points, got %zu",
-                            name, npar, n);
-    if (fitter_reserve(fr, n) != BG_OK || fit_reserve(out, n) != BG_OK)
-        return bg_error_set(err, BG_ENOMEM, "out of memory fitting %zu points", n);
-    out->nnotes = 0;
-    if ((rc = check_points(fr, pts, n, o, &weighted, out, err)) != BG_OK)
-        return rc;
-
     for (size_t i = 0; i < n; i++) {
         fr->L[i] = log(pts[i].r_ohm);
         basis_row(fr->L[i], pw, nb, &fr->G[i * nb]);
         if (pts[i].u_r_ohm > 0.0)
             any_ur = 1;
-        /* First pass: temperature uncertainty only (1 K when none is given). */
         fr->u[i] = weighted ? (pts[i].u_t_k > 0.0 ? pts[i].u_t_k : 1.0) : 1.0;
     }
-    memset(&lf, 0, sizeof lf);
+    memset(lf, 0, sizeof *lf);
     /* An ill-conditioned design comes from the data and the model chosen for them, so it is
     ** reported as bad input (BG_EINVAL), not as a numerical failure of bandgap. */
-    if (linear_step(fr, pts, n, nb, o->min_rcond, &lf) != BG_OK)
+    if (linear_step(fr, pts, n, nb, o->min_rcond, lf) != BG_OK)
         return bg_error_set(err, BG_EINVAL, "model '%s': the design is rank-deficient or "
                             "ill-conditioned for these points (reciprocal condition %.2g, "
-                            "limit %.2g): too many coefficients for the range?", name, lf.rcond,
+                            "limit %.2g): too many coefficients for the range?", name, lf->rcond,
                             o->min_rcond);
-    if (weighted && any_ur) {
-        double d;
-        for (size_t i = 0; i < n; i++) {
-            double f = 0.0;
-            const double *g = &fr->G[i * nb];
-            d = 0.0;
-            for (size_t j = 0; j < nb; j++) {
-                f += lf.c[j] * g[j];
-                if (pw[j] > 0)
-                    d += lf.c[j] * pw[j] * g[j] / fr->L[i];
-            }
-            double t = 1.0 / f, slope = -t * t * d / pts[i].r_ohm; /* dT/dR, K/ohm */
-            double ur = slope * pts[i].u_r_ohm;
-            fr->u[i] = sqrt(pts[i].u_t_k * pts[i].u_t_k + ur * ur);
+    if (!(weighted && any_ur))
+        return BG_OK;
+    for (size_t i = 0; i < n; i++) {
+        double f = 0.0, d = 0.0;
+        const double *g = &fr->G[i * nb];
+        for (size_t j = 0; j < nb; j++) {
+            f += lf->c[j] * g[j];
+            if (pw[j] > 0)
+                d += lf->c[j] * pw[j] * g[j] / fr->L[i];
         }
-        if (linear_step(fr, pts, n, nb, o->min_rcond, &lf) != BG_OK)
-            return bg_error_set(err, BG_EINVAL, "model '%s': the design is rank-deficient or "
-                                "ill-conditioned for these points", name);
+        double t = 1.0 / f, slope = -t * t * d / pts[i].r_ohm; /* dT/dR, K/ohm */
+        double ur = slope * pts[i].u_r_ohm;
+        fr->u[i] = sqrt(pts[i].u_t_k * pts[i].u_t_k + ur * ur);
     }
-    if (o->refine) {
-        if (refine(fr, pts, n, nb, o, &lf, &iters) != BG_OK)
-            return bg_error_set(err, BG_ENUM, "model '%s': refinement did not converge in %u "
-                                "iterations", name, o->max_iter);
-    } else if (!isfinite(t_chi2(fr, pts, n, nb, lf.c)))
-        return bg_error_set(err, BG_ENUM, "model '%s': fitted curve gives 1/T <= 0 at a point",
-                            name);
+    if (linear_step(fr, pts, n, nb, o->min_rcond, lf) != BG_OK)
+        return bg_error_set(err, BG_EINVAL, "model '%s': the design is rank-deficient or "
+                            "ill-conditioned for these points", name);
+    return BG_OK;
+}
 
-    /* Results.  tm[] holds the fitted temperatures; lf.cov the unscaled covariance. */
-    out->model = o->model;
-    out->n = n, out->npar = npar, out->dof = n - npar, out->weighted = weighted;
-    out->iterations = iters, out->rcond = lf.rcond;
-    out->chi2 = 0.0;
+/* Residuals, chi2, RMS, range, degrees of freedom, covariance scale and information criteria
+** from the fitted temperatures fr->tm and the weights fr->u. */
+static void fit_statistics(const bg_fitter *fr, const bg_point *pts, size_t n,
+                           const bg_fit_opts *o, int weighted, bg_fit *out)
+{
     double ss = 0.0, mx = 0.0;
+    out->chi2 = 0.0;
     out->t_min_k = INFINITY, out->t_max_k = -INFINITY;
     for (size_t i = 0; i < n; i++) {
         double r = pts[i].t_k - fr->tm[i];
@@ -612,33 +593,74 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
     } else {
         out->reduced_chi2 = NAN, out->p_value = NAN, out->cov_scale = NAN;
     }
-    {
-        /* Information criteria: with stated uncertainties -2 ln L = chi2 + const; otherwise
-        ** the Gaussian profile likelihood n ln(RSS/n), RSS floored at n (1 nK)^2. */
-        double dn = (double)n, k = (double)npar;
-        double m2ll = weighted ? out->chi2 : dn * log(fmax(ss, dn * 1e-18) / dn);
-        out->aic = m2ll + 2.0 * k;
-        out->bic = m2ll + k * log(dn);
-    }
+    /* Information criteria: with stated uncertainties -2 ln L = chi2 + const; otherwise the
+    ** Gaussian profile likelihood n ln(RSS/n), RSS floored at n (1 nK)^2. */
+    double dn = (double)n, k = (double)out->npar;
+    double m2ll = weighted ? out->chi2 : dn * log(fmax(ss, dn * 1e-18) / dn);
+    out->aic = m2ll + 2.0 * k;
+    out->bic = m2ll + k * log(dn);
+}
 
-    /* Coefficients and covariance: in the basis first, then in the model's own terms. */
-    double a[MAXB];
-    memset(a, 0, sizeof a);
+/* Coefficients and covariance: in the basis (a[], pcov) first, then in the model's own terms
+** (coef, cov), both scaled by out->cov_scale. */
+static void fit_coefficients(const bg_linfit *lf, const unsigned *pw, size_t nb, double *a,
+                             bg_fit *out)
+{
+    memset(a, 0, MAXB * sizeof *a);
     for (size_t j = 0; j < nb; j++)
-        a[pw[j]] = lf.c[j];
+        a[pw[j]] = lf->c[j];
     for (size_t i = 0; i < MAXB * MAXB; i++)
         out->pcov[i] = 0.0;
     for (size_t i = 0; i < nb; i++)
         for (size_t j = 0; j < nb; j++)
-            out->pcov[pw[i] * MAXB + pw[j]] = lf.cov[i * nb + j] * out->cov_scale;
+            out->pcov[pw[i] * MAXB + pw[j]] = lf->cov[i * nb + j] * out->cov_scale;
     for (size_t i = 0; i < MAXB * MAXB; i++)
         out->cov[i] = 0.0;
-    bg_model_from_basis(&out->model, lf.c, lf.cov, out->cov);
-    for (size_t i = 0; i < npar * npar; i++)
+    bg_model_from_basis(&out->model, lf->c, lf->cov, out->cov);
+    for (size_t i = 0; i < out->npar * out->npar; i++)
         out->cov[i] *= out->cov_scale;
-    for (size_t j = npar; j < MAXB; j++)
+    for (size_t j = out->npar; j < MAXB; j++)
         out->model.coef[j] = 0.0;
+}
 
+int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                  bg_fit *out, bg_error *err)
+{
+    char name[16];
+    unsigned pw[MAXB];
+    size_t nb = bg_model_basis(&o->model, pw), npar = bg_model_npar(&o->model);
+    bg_linfit lf;
+    double a[MAXB];
+    int weighted = 0, rc;
+    unsigned iters = 0;
+
+    bg_model_name(&o->model, name, sizeof name);
+    if (nb == 0)
+        return bg_error_set(err, BG_EINVAL, "model '%s' has no linear basis: the fitter "
+                            "cannot start it", name);
+    if (n < npar)
+        return bg_error_set(err, BG_EINVAL, "model '%s' needs at least %zu points, got %zu",
+                            name, npar, n);
+    if (fitter_reserve(fr, n) != BG_OK || fit_reserve(out, n) != BG_OK)
+        return bg_error_set(err, BG_ENOMEM, "out of memory fitting %zu points", n);
+    out->nnotes = 0;
+    if ((rc = check_points(fr, pts, n, o, &weighted, out, err)) != BG_OK ||
+        (rc = fit_start(fr, pts, n, o, weighted, &lf, err)) != BG_OK)
+        return rc;
+    if (o->refine) {
+        if (refine(fr, pts, n, nb, o, &lf, &iters) != BG_OK)
+            return bg_error_set(err, BG_ENUM, "model '%s': refinement did not converge in %u "
+                                "iterations", name, o->max_iter);
+    } else if (!isfinite(t_chi2(fr, pts, n, nb, lf.c)))
+        return bg_error_set(err, BG_ENUM, "model '%s': fitted curve gives 1/T <= 0 at a point",
+                            name);
+
+    /* Results.  fr->tm holds the fitted temperatures; lf.cov the unscaled covariance. */
+    out->model = o->model;
+    out->n = n, out->npar = npar, out->dof = n - npar, out->weighted = weighted;
+    out->iterations = iters, out->rcond = lf.rcond;
+    fit_statistics(fr, pts, n, o, weighted, out);
+    fit_coefficients(&lf, pw, nb, a, out);
     studentize(fr, pts, o, &lf, nb, out);
     if (out->dof == 0) {
         for (size_t i = 0; i < MAXB * MAXB; i++)
@@ -798,4 +820,11 @@ done:
     bg_fit_release(&f);
     bg_fit_release(&g);
     return rc;
+}
+
+double bg_fit_coef_u(const bg_fit *fit, size_t i)
+{
+    if (!fit || i >= fit->npar)
+        return NAN;
+    return sqrt(fit->cov[i * fit->npar + i]);
 }

@@ -140,10 +140,18 @@ int bg_lut_make(const bg_lut_request *rq, bg_lut_result *out, bg_error *err)
     out->budget_opts.cov = NULL;
     if (rq->fit_id) {
         out->fit_id = rq->fit_id;
-        snprintf(out->source, sizeof out->source, "stored fit %lld of probe %.80s, run %lld%s"
-                 "%.40s%s", rq->fit_id, rq->fit_serial ? rq->fit_serial : "", rq->fit_run_id,
-                 rq->fit_started_at ? " started " : "", rq->fit_started_at ? rq->fit_started_at
-                 : "", rq->fit_current ? ", the probe's current fit" : "");
+        const char *serial = rq->fit_serial ? rq->fit_serial : "";
+        const char *started = rq->fit_started_at ? rq->fit_started_at : "";
+        if (strlen(serial) >= sizeof out->fit_serial || strlen(started) >= sizeof out->fit_started_at)
+            return bg_error_set(err, BG_EINVAL, "the stored fit's serial or start time is longer "
+                                "than the record allows (%d and %d bytes)", BG_TEXT - 1,
+                                BG_TIME - 1);
+        out->fit_run_id = rq->fit_run_id, out->fit_current = rq->fit_current;
+        snprintf(out->fit_serial, sizeof out->fit_serial, "%s", serial);
+        snprintf(out->fit_started_at, sizeof out->fit_started_at, "%s", started);
+        snprintf(out->source, sizeof out->source, "stored fit %lld of probe %s, run %lld%s%s%s",
+                 rq->fit_id, serial, rq->fit_run_id, started[0] ? " started " : "", started,
+                 rq->fit_current ? ", the probe's current fit" : "");
         out->spec.source = out->source;
         if (rq->fit_cov) {
             size_t np = bg_model_npar(&s->model);

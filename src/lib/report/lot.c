@@ -30,12 +30,12 @@ static void nominal_para(FILE *f, const bg_qa_lot *l)
         bgi_html_esc(f, sp->source);
         fputs("): R25 ", f);
         bgi_html_num(f, "span", "nomr25", "%.6g", l->nominal_r25_ohm);
-        fputs(" ohm, B ", f);
+        fputs(" \xce\xa9, B ", f);
         bgi_html_num(f, "span", "nomb", "%.2f", l->nominal_b_k);
         fputs(" K.", f);
     }
     if (sp->tol_k > 0.0)
-        fprintf(f, " Tolerance &#177;%.1f mK from %.2f to %.2f degC, judged over the part of it "
+        fprintf(f, " Tolerance &#177;%.1f mK from %.2f to %.2f \xc2\xb0" "C, judged over the part of it "
                    "each probe's calibration covers (%zu probe(s) do not cover all of it).",
                 1e3 * sp->tol_k, sp->tol_lo_k - BG_ZERO_C_K, sp->tol_hi_k - BG_ZERO_C_K,
                 l->nuncovered);
@@ -98,7 +98,7 @@ static void stats_table(FILE *f, const bg_qa_lot *l)
     fputs("<p id=\"energy\">Apparent activation energy E = kB = ", f);
     bgi_html_num(f, "span", "ea", "%.4f", l->activation_energy_ev);
     fprintf(f, " eV (k the Boltzmann constant, B the lot's mean B%.0f/%.0f). Nominal: R25 %.6g "
-               "ohm &#177;%.3g %%, B %.2f K &#177;%.3g %%. %zu probe(s) out of tolerance.</p>\n",
+               "\xce\xa9 &#177;%.3g %%, B %.2f K &#177;%.3g %%. %zu probe(s) out of tolerance.</p>\n",
             lot->pair_t1_k - BG_ZERO_C_K, lot->pair_t2_k - BG_ZERO_C_K, lot->r25_ohm,
             100 * lot->tol_r25, lot->beta_k, 100 * lot->tol_beta, l->nout);
     fputs("<p id=\"grubbs\">Outliers by Grubbs' test (two-sided, significance ", f);
@@ -139,7 +139,7 @@ static void histogram(FILE *f, const bg_qa_lot *l)
 static void band_table(FILE *f, const bg_qa_lot *l)
 {
     fputs("<h2>Deviation from the nominal curve</h2>\n<table class=\"data\" id=\"band\">\n"
-          "<tr><th class=\"n\">T / degC</th><th class=\"n\">measured min / mK</th>"
+          "<tr><th class=\"n\">T / \xc2\xb0" "C</th><th class=\"n\">measured min / mK</th>"
           "<th class=\"n\">measured max / mK</th><th class=\"n\">band low / mK</th>"
           "<th class=\"n\">band high / mK</th></tr>\n", f);
     for (size_t k = 0; k < l->nat; k++) {
@@ -365,13 +365,15 @@ static int lot_generate(const void *result, const bg_report_head *h, FILE *f, bg
         flagged = r->summary->flagged;
     } else
         rc = bg_error_set(err, BG_EINVAL, "the lot report has no lot summary");
+    /* the verdict, the cautions and the note stay together on the last printed page */
+    bgi_html_closing_begin(f);
     fprintf(f, "<p id=\"verdict\" data-flagged=\"%d\"><strong>%s</strong></p>\n", flagged,
             flagged ? "Something is flagged: see the marked rows and points above." :
                       "Nothing is flagged.");
-    bgi_html_cautions(f);
-    fprintf(f, "<p class=\"meta\">Report %s. Issued reports are stored in the calibration "
-               "database and never change; a correction is issued as a new report that names "
-               "this one.</p>\n", rid);
+    char note[240];
+    snprintf(note, sizeof note, "Report %s. Issued reports are stored in the calibration database "
+             "and never change; a correction is issued as a new report that names this one.", rid);
+    bgi_html_closing_end(f, note);
     bgi_html_end(f);
     return rc;
 }
