@@ -684,6 +684,69 @@ static void overdue_reference_needs_a_reason(void **state)
     bg_store_close(st);
 }
 
+static int no_lot(const bg_lot *lot, void *ctx)
+{
+    (void)lot, (void)ctx;
+    return 0;
+}
+
+/* An unknown serial, lot code, reference or part gets the nearest name of its kind in the
+** database as "did you mean" (invented names; the distances counted by hand: one swap of
+** neighbours, one substitution, one insertion), the nearest even when it is not the first by
+** name, the first of equally near ones; nothing when none is near. */
+static void unknown_names_get_the_nearest(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("dym.db");
+    bg_error err = BG_ERROR_INIT;
+    bg_lot lot;
+    bg_probe p;
+    bg_ref ref;
+    memset(&lot, 0, sizeof lot);
+    strcpy(lot.code, "L-2611");
+    strcpy(lot.part, "NTC-10K-3950");
+    lot.r25_ohm = 10000, lot.beta_k = 3950, lot.pair_t1_k = 298.15, lot.pair_t2_k = 358.15;
+    lot.tol_r25 = 0.01, lot.tol_beta = 0.01;
+    assert_int_equal(bg_store_lot_add(st, &lot, NULL, NULL), BG_OK);
+    /* from GH-4017: GH-0317 two edits, GH-0417 one (a swap), GH-4016 one (a substitution) */
+    assert_int_equal(bg_store_probe_add(st, "GH-0317", "L-2611", NULL, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "GH-0417", "L-2611", NULL, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "GH-4016", "L-2611", NULL, NULL, NULL), BG_OK);
+    memset(&ref, 0, sizeof ref);
+    strcpy(ref.ident, "SPRT-7");
+    strcpy(ref.certificate, "C1");
+    ref.kind = BG_REF_NONE;
+    assert_int_equal(bg_store_ref_add(st, &ref, NULL, NULL), BG_OK);
+
+    assert_int_equal(bg_store_probe_get(st, "GH-4017", &p, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "unknown probe 'GH-4017' (did you mean 'GH-0417'? add it with "
+                                 "'bandgap probe add SERIAL --lot CODE')");
+    assert_int_equal(bg_store_probe_history(st, "gh-0417", NULL, NULL, NULL, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "(did you mean 'GH-0417'?"));
+    assert_int_equal(bg_store_probe_get(st, "ZZ-999", &p, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "unknown probe 'ZZ-999' (add it with 'bandgap probe add "
+                                 "SERIAL --lot CODE')");
+    assert_int_equal(bg_store_lot_get(st, "L-2161", &lot, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "unknown lot 'L-2161' (did you mean 'L-2611'? add it with "
+                                 "'bandgap lot add')");
+    assert_int_equal(bg_store_lot_get(st, "L-2161", &lot, NULL), BG_EINVAL);
+    assert_int_equal(bg_store_probe_add(st, "GH-9", "L-261", NULL, NULL, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "unknown lot 'L-261' (did you mean 'L-2611'? add it with "
+                                 "'bandgap lot add')");
+    assert_int_equal(bg_store_run_each(st, NULL, "L-2161", NULL, NULL, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "(did you mean 'L-2611'?"));
+    assert_int_equal(bg_store_ref_get(st, "SPRT7", &ref, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "unknown reference thermometer 'SPRT7' (did you mean "
+                                 "'SPRT-7'? add it with 'bandgap ref add')");
+    assert_int_equal(bg_store_part_lots(st, "NTC-10K-3590", no_lot, NULL, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "no lots of part 'NTC-10K-3590' (did you mean "
+                                 "'NTC-10K-3950'?)");
+    /* another failure about a name that exists gets no suggestion */
+    assert_int_equal(bg_store_probe_add(st, "GH-0417", "L-2611", NULL, NULL, &err), BG_EINVAL);
+    assert_null(strstr(err.msg, "did you mean"));
+    bg_store_close(st);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -703,6 +766,7 @@ int main(void)
         cmocka_unit_test(sha256_fips_vectors),
         cmocka_unit_test(repeated_import_refused),
         cmocka_unit_test(overdue_reference_needs_a_reason),
+        cmocka_unit_test(unknown_names_get_the_nearest),
     };
     return cmocka_run_group_tests_name("store", tests, setup, teardown);
 }

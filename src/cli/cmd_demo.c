@@ -330,7 +330,7 @@ int cmd_demo(int argc, char **argv, struct cli_ctx *ctx)
         case 'h': fputs(demo_usage, stdout); return BG_OK;
         case 'd': dir = optarg; break;
         case ':': return cli_usage_error("demo", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("demo", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("demo", argv[optind - 1], opts);
         }
     }
     if (optind < argc)

@@ -586,7 +586,7 @@ int cmd_drift(int argc, char **argv, struct cli_ctx *ctx)
         case O_CSV: csv = 1; break;
         case O_JSON: json = 1; break;
         case ':': return cli_usage_error("drift", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("drift", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("drift", argv[optind - 1], opts);
         }
     }
     if (optind < argc)

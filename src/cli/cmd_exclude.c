@@ -33,7 +33,7 @@ int cmd_exclude(int argc, char **argv, struct cli_ctx *ctx)
         case 'b': by = optarg; break;
         case 'j': ctx->json = 1; break;
         case ':': return cli_usage_error("exclude", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("exclude", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("exclude", argv[optind - 1], opts);
         }
     }
     if (optind + 1 != argc || cli_parse_id(argv[optind], &id) != BG_OK)

@@ -179,7 +179,7 @@ int cmd_export(int argc, char **argv, struct cli_ctx *ctx)
         case 'l': lot = optarg; break;
         case 'o': path = optarg; break;
         case ':': return cli_usage_error("export", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("export", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("export", argv[optind - 1], opts);
         }
     }
     if (optind < argc)

@@ -134,7 +134,7 @@ int cmd_import(int argc, char **argv, struct cli_ctx *ctx)
             break;
         case O_JSON: ctx->json = 1; break;
         case ':': return cli_usage_error("import", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("import", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("import", argv[optind - 1], opts);
         }
         if (rc != BG_OK)
             return rc;

@@ -33,7 +33,7 @@ int cmd_init(int argc, char **argv, struct cli_ctx *ctx)
             ctx->json = 1;
             continue;
         }
-        return cli_usage_error("init", "unknown option '%s'", argv[optind - 1]);
+        return cli_unknown_option("init", argv[optind - 1], opts);
     }
     if (optind < argc)
         return cli_usage_error("init", "unexpected argument '%s'", argv[optind]);

@@ -31,7 +31,7 @@ int cmd_list(int argc, char **argv, struct cli_ctx *ctx)
         case 'l': lot = optarg; break;
         case 'j': ctx->json = 1; break;
         case ':': return cli_usage_error("list", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("list", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("list", argv[optind - 1], opts);
         }
     }
     if (optind + 1 != argc || (strcmp(argv[optind], "runs") && strcmp(argv[optind], "fits")))

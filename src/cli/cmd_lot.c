@@ -70,7 +70,7 @@ static int lot_parse(int argc, char **argv, struct lot_args *a, struct cli_ctx *
             break;
         case O_JSON: ctx->json = 1; break;
         case ':': return cli_usage_error("lot", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("lot", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("lot", argv[optind - 1], opts);
         }
     }
     if (optind >= argc)

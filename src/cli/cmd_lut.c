@@ -290,7 +290,7 @@ static int lut_parse_args(int argc, char **argv, const struct cli_ctx *ctx, stru
             break;
         default:
             if (c != 'o' && !(c >= O_FIT && c <= O_STAMP))
-                return cli_usage_error("lut", "unknown option '%s'", argv[optind - 1]);
+                return cli_unknown_option("lut", argv[optind - 1], lut_opts);
             rc = other_option(a, c == 'o' ? O_OUT : c, optarg);
             break;
         }

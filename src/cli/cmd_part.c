@@ -96,7 +96,7 @@ static int part_parse(int argc, char **argv, struct part_args *a, struct cli_ctx
         else if (c == ':')
             return cli_usage_error("part", "option '%s' needs a value", argv[optind - 1]);
         else
-            return cli_usage_error("part", "unknown option '%s'", argv[optind - 1]);
+            return cli_unknown_option("part", argv[optind - 1], opts);
         if (rc != BG_OK)
             return rc;
     }

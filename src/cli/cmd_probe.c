@@ -32,7 +32,7 @@ int cmd_probe(int argc, char **argv, struct cli_ctx *ctx)
         case 'n': note = optarg; break;
         case 'j': ctx->json = 1; break;
         case ':': return cli_usage_error("probe", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("probe", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("probe", argv[optind - 1], opts);
         }
     }
     if (optind >= argc)

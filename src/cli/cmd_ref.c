@@ -112,7 +112,7 @@ static int ref_parse(int argc, char **argv, bg_ref *ref, struct cli_ctx *ctx)
             break;
         case O_JSON: ctx->json = 1; break;
         case ':': return cli_usage_error("ref", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("ref", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("ref", argv[optind - 1], opts);
         }
     }
     if (optind >= argc)

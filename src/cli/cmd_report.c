@@ -229,7 +229,7 @@ static int report_parse_args(int argc, char **argv, struct cli_ctx *ctx, struct 
             break;
         case 'o': a->out_path = optarg; break;
         case ':': return cli_usage_error("report", "option '%s' needs a value", argv[optind - 1]);
-        default: return cli_usage_error("report", "unknown option '%s'", argv[optind - 1]);
+        default: return cli_unknown_option("report", argv[optind - 1], opts);
         }
     }
     if (optind < argc)

@@ -90,7 +90,7 @@ int cmd_show(int argc, char **argv, struct cli_ctx *ctx)
             ctx->json = 1;
             continue;
         }
-        return cli_usage_error("show", "unknown option '%s'", argv[optind - 1]);
+        return cli_unknown_option("show", argv[optind - 1], opts);
     }
     if (optind + 2 != argc || (strcmp(argv[optind], "run") && strcmp(argv[optind], "fit")))
         return cli_usage_error("show", "say 'run N' or 'fit N'");

@@ -623,6 +623,34 @@ static int sq_part_lots(bgi_conn *c, const char *part, bg_lot_cb cb, void *ctx,
     return rc;
 }
 
+/* ---- names, for "did you mean" ---- */
+
+static int sq_names(bgi_conn *c, enum bgi_name_kind kind, bgi_name_cb cb, void *ctx,
+                    bg_error *err)
+{
+    static const char *const sql[] = {
+        "SELECT serial FROM probe ORDER BY serial",
+        "SELECT code FROM lot ORDER BY code",
+        "SELECT ident FROM reference ORDER BY ident",
+        "SELECT DISTINCT part FROM lot ORDER BY part",
+    };
+    sqlite3_stmt *q = NULL;
+    int rc, s;
+    if ((size_t)kind >= sizeof sql / sizeof sql[0])
+        return bg_error_set(err, BG_EINVAL, "no names of kind %d", (int)kind);
+    if ((rc = bgi_prepare(c, sql[kind], &q, err)) != BG_OK)
+        return rc;
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        const unsigned char *name = sqlite3_column_text(q, 0);
+        if (name && cb((const char *)name, ctx))
+            break;
+    }
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read names");
+    sqlite3_finalize(q);
+    return rc;
+}
+
 const char *bg_sqlite_version(void)
 {
     return sqlite3_libversion();
@@ -646,4 +674,5 @@ const struct bgi_store_backend bgi_store_sqlite = {
     bgi_sqlite_artifact_each,
     bgi_sqlite_run_by_digest, bgi_sqlite_fit_newest_of_run, bgi_sqlite_fit_same,
     bgi_sqlite_part_spec_add, bgi_sqlite_part_spec_each,
+    sq_names,
 };

@@ -169,6 +169,54 @@ static int tx_end(bg_store *st, int own, int rc, bg_error *err)
     return rc;
 }
 
+/* ---- "did you mean": the nearest name in the database to an unknown one ---- */
+
+struct nearest {
+    const char *word;
+    size_t len;
+    int exact;             /* the word itself is a name: the failure is about something else */
+    char best[BG_TEXT];    /* "" until a near name is found */
+};
+
+/* Keep the nearer of the best so far and 'name' (the earlier one on a tie, as bg_suggest). */
+static int nearest_cb(const char *name, void *ctx)
+{
+    struct nearest *n = ctx;
+    const char *cands[2] = { n->best[0] ? n->best : NULL, name };
+    if (strcmp(name, n->word) == 0)
+        return n->exact = 1;
+    if (bg_suggest(n->word, n->len, cands, 2) == name)
+        snprintf(n->best, sizeof n->best, "%s", name);
+    return 0;
+}
+
+/* After a backend call about 'name' (NULL: none) failed with 'rc': when its message says the
+** name is absent (store_int.h, 'names'), add the nearest name of that kind in the database as
+** "did you mean", as a CSV's unknown column does.  Returns 'rc'; nothing to do on success. */
+static int did_you_mean(bg_store *st, enum bgi_name_kind kind, const char *name, int rc,
+                        bg_error *err)
+{
+    static const char *const absent[] = { "unknown probe", "unknown lot",
+                                          "unknown reference thermometer", "no lots of part" };
+    struct nearest n = { name, 0, 0, "" };
+    bg_error quiet = BG_ERROR_INIT;
+    char head[sizeof err->msg], msg[sizeof err->msg];
+    int k;
+    if (rc != BG_EINVAL || !err || !name || st->be->version < 4)
+        return rc;
+    k = snprintf(head, sizeof head, "%s '%s'", absent[kind], name);
+    if (k < 0 || (size_t)k >= sizeof head || strncmp(err->msg, head, (size_t)k) != 0)
+        return rc;
+    n.len = strlen(name);
+    if (st->be->names(st->conn, kind, nearest_cb, &n, &quiet) != BG_OK || n.exact ||
+        !n.best[0])
+        return rc;
+    memcpy(msg, err->msg, sizeof msg); /* the tail after the name, kept */
+    if (strncmp(msg + k, " (", 2) == 0) /* "unknown lot 'X' (did you mean 'Y'? add ...)" */
+        return bg_error_set(err, rc, "%s (did you mean '%s'? %s", head, n.best, msg + k + 2);
+    return bg_error_set(err, rc, "%s (did you mean '%s'?)%s", head, n.best, msg + k);
+}
+
 /* Write the queued fits in one backend call, and forget them. */
 static int fitq_flush(bg_store *st, bg_error *err)
 {
@@ -234,7 +282,7 @@ int bg_store_lot_add(bg_store *st, const bg_lot *lot, long long *id, bg_error *e
 
 int bg_store_lot_get(bg_store *st, const char *code, bg_lot *out, bg_error *err)
 {
-    return st->be->lot_get(st->conn, code, out, err);
+    return did_you_mean(st, BGI_NAME_LOT, code, st->be->lot_get(st->conn, code, out, err), err);
 }
 
 int bg_store_lot_each(bg_store *st, bg_lot_cb cb, void *ctx, bg_error *err)
@@ -244,7 +292,8 @@ int bg_store_lot_each(bg_store *st, bg_lot_cb cb, void *ctx, bg_error *err)
 
 int bg_store_part_lots(bg_store *st, const char *part, bg_lot_cb cb, void *ctx, bg_error *err)
 {
-    return st->be->part_lots(st->conn, part, cb, ctx, err);
+    return did_you_mean(st, BGI_NAME_PART, part,
+                        st->be->part_lots(st->conn, part, cb, ctx, err), err);
 }
 
 int bg_store_probe_add(bg_store *st, const char *serial, const char *lot_code, const char *note,
@@ -260,18 +309,20 @@ int bg_store_probe_add(bg_store *st, const char *serial, const char *lot_code, c
         return rc;
     rc = st->be->probe_add(st->conn, serial, lot_code, note, bg_store_time(st, now, sizeof now),
                            id, err);
-    return tx_end(st, own, rc, err);
+    return did_you_mean(st, BGI_NAME_LOT, lot_code, tx_end(st, own, rc, err), err);
 }
 
 int bg_store_probe_get(bg_store *st, const char *serial, bg_probe *out, bg_error *err)
 {
-    return st->be->probe_get(st->conn, serial, out, err);
+    return did_you_mean(st, BGI_NAME_PROBE, serial,
+                        st->be->probe_get(st->conn, serial, out, err), err);
 }
 
 int bg_store_probe_each(bg_store *st, const char *lot_code, bg_probe_cb cb, void *ctx,
                         bg_error *err)
 {
-    return st->be->probe_each(st->conn, lot_code, cb, ctx, err);
+    return did_you_mean(st, BGI_NAME_LOT, lot_code,
+                        st->be->probe_each(st->conn, lot_code, cb, ctx, err), err);
 }
 
 int bg_store_ref_add(bg_store *st, const bg_ref *ref, long long *id, bg_error *err)
@@ -296,7 +347,8 @@ int bg_store_ref_add(bg_store *st, const bg_ref *ref, long long *id, bg_error *e
 
 int bg_store_ref_get(bg_store *st, const char *ident, bg_ref *out, bg_error *err)
 {
-    return st->be->ref_get(st->conn, ident, out, err);
+    return did_you_mean(st, BGI_NAME_REF, ident, st->be->ref_get(st->conn, ident, out, err),
+                        err);
 }
 
 int bg_store_ref_each(bg_store *st, bg_ref_cb cb, void *ctx, bg_error *err)
@@ -453,9 +505,9 @@ static int import_run(bg_store *st, const bg_readings *rs, const bg_run *meta,
     int have_ref = meta->ref_ident[0] != '\0', rc;
 
     if ((rc = st->be->probe_id(st->conn, meta->serial, &imp->probe_id, err)) != BG_OK)
-        return rc;
+        return did_you_mean(st, BGI_NAME_PROBE, meta->serial, rc, err);
     if (have_ref && (rc = st->be->ref_get(st->conn, meta->ref_ident, &ref, err)) != BG_OK)
-        return rc;
+        return did_you_mean(st, BGI_NAME_REF, meta->ref_ident, rc, err);
     if (rs->ref_ohms && !(have_ref && ref.kind == BG_REF_CVD))
         return bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs a reference "
                             "thermometer with Callendar-Van Dusen coefficients (--ref)",
@@ -555,7 +607,9 @@ int bg_store_run_latest(bg_store *st, long long probe_id, long long *run_id, bg_
 int bg_store_run_each(bg_store *st, const char *serial, const char *lot_code, bg_run_cb cb,
                       void *ctx, bg_error *err)
 {
-    return st->be->run_each(st->conn, serial, lot_code, cb, ctx, err);
+    int rc = st->be->run_each(st->conn, serial, lot_code, cb, ctx, err);
+    return did_you_mean(st, BGI_NAME_LOT, lot_code,
+                        did_you_mean(st, BGI_NAME_PROBE, serial, rc, err), err);
 }
 
 int bg_store_reading_each(bg_store *st, long long run_id, bg_reading_cb cb, void *ctx,
@@ -584,7 +638,7 @@ int bg_store_lot_points_each(bg_store *st, const char *lot_code, bg_lot_points_c
     bg_lot lot;
     int rc = st->be->lot_get(st->conn, lot_code, &lot, err);
     if (rc != BG_OK)
-        return rc;
+        return did_you_mean(st, BGI_NAME_LOT, lot_code, rc, err);
     return st->be->lot_points_each(st->conn, &lot, cb, ctx, err);
 }
 
@@ -719,7 +773,9 @@ int bg_store_fit_get(bg_store *st, long long fit_id, bg_fit_row *out, bg_error *
 int bg_store_fit_each(bg_store *st, const char *serial, const char *lot_code, bg_fit_cb cb,
                       void *ctx, bg_error *err)
 {
-    return st->be->fit_each(st->conn, serial, lot_code, cb, ctx, err);
+    int rc = st->be->fit_each(st->conn, serial, lot_code, cb, ctx, err);
+    return did_you_mean(st, BGI_NAME_LOT, lot_code,
+                        did_you_mean(st, BGI_NAME_PROBE, serial, rc, err), err);
 }
 
 int bg_store_fit_readings(bg_store *st, long long fit_id, long long *ids, size_t max, size_t *n,
@@ -754,7 +810,7 @@ int bg_store_current_fit(bg_store *st, const char *serial, bg_fit_row *fit, bg_r
     bg_run r;
     int rc = st->be->probe_id(st->conn, serial, &pid, err);
     if (rc != BG_OK)
-        return rc;
+        return did_you_mean(st, BGI_NAME_PROBE, serial, rc, err);
     if ((rc = st->be->run_latest(st->conn, pid, &rid, err)) != BG_OK) {
         bg_error_prefix(err, "probe '%s'", serial);
         return rc;
@@ -782,7 +838,7 @@ int bg_store_probe_history(bg_store *st, const char *serial, const char *since,
     long long pid = 0;
     int rc = st->be->probe_id(st->conn, serial, &pid, err);
     if (rc != BG_OK)
-        return rc;
+        return did_you_mean(st, BGI_NAME_PROBE, serial, rc, err);
     return st->be->probe_history(st->conn, pid, since, cb, ctx, err);
 }
 
@@ -792,7 +848,7 @@ int bg_store_lot_latest_fits(bg_store *st, const char *lot_code, const char *sin
     bg_lot lot;
     int rc = st->be->lot_get(st->conn, lot_code, &lot, err);
     if (rc != BG_OK)
-        return rc;
+        return did_you_mean(st, BGI_NAME_LOT, lot_code, rc, err);
     return st->be->lot_latest_fits(st->conn, lot.id, since, cb, ctx, err);
 }
 
@@ -802,7 +858,7 @@ int bg_store_lot_history(bg_store *st, const char *lot_code, const char *since,
     bg_lot lot;
     int rc = st->be->lot_get(st->conn, lot_code, &lot, err);
     if (rc != BG_OK)
-        return rc;
+        return did_you_mean(st, BGI_NAME_LOT, lot_code, rc, err);
     return st->be->lot_history(st->conn, lot.id, since, cb, ctx, err);
 }
 

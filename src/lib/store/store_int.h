@@ -55,7 +55,12 @@ struct bgi_artifact_row {
     const char *now;
 };
 
-#define BGI_STORE_BACKEND_VERSION 3
+/* The kinds of name a user types (backend 'names'). */
+enum bgi_name_kind { BGI_NAME_PROBE, BGI_NAME_LOT, BGI_NAME_REF, BGI_NAME_PART };
+/* Called with each name; nonzero stops the walk. */
+typedef int (*bgi_name_cb)(const char *name, void *ctx);
+
+#define BGI_STORE_BACKEND_VERSION 4
 
 /* Every function takes the connection first and 'err' last, and returns a bg_status unless
 ** said otherwise.  Write functions run inside a transaction that store.c opened (in_tx is
@@ -146,6 +151,14 @@ struct bgi_store_backend {
                          bg_error *err);
     int (*part_spec_each)(bgi_conn *c, const char *part, int newest_only, bg_part_spec_cb cb,
                           void *ctx, bg_error *err);
+
+    /* version 4: every probe serial, lot code, reference identifier or part name (of lots)
+    ** in the database, by 'kind', in the order of the name.  A function above fails with
+    ** BG_EINVAL and a message that begins "unknown probe 'NAME'", "unknown lot 'NAME'",
+    ** "unknown reference thermometer 'NAME'" or "no lots of part 'NAME'" when the name is
+    ** absent; store.c then offers the nearest of these names (did_you_mean). */
+    int (*names)(bgi_conn *c, enum bgi_name_kind kind, bgi_name_cb cb, void *ctx,
+                 bg_error *err);
 };
 
 /* The backends (sqlite.c, ...); store.c lists them by scheme. */
