@@ -497,7 +497,7 @@ static void budget_by_hand(void **state)
     bg_lut_spec s = spec_10k(4, BG_LUT_CENTI);
     bg_lut t = BG_LUT_INIT;
     double cov[4] = { 1.0, 0.0, 0.0, 4.0 }; /* var(R0) = 1 ohm^2, var(beta) = 4 K^2 (invented) */
-    bg_budget_opts o = { cov, 0.001, 3.3, 2e-3 };
+    bg_budget_opts o = { cov, 0.001, 3.3, 2e-3, 0.0 }; /* fit_k 0: k = 2 */
     bg_budget_row row, worst;
     double at = 298.15, T = 298.15, B = 3950.0;
     assert_int_equal(bg_lut_build(&s, &t, NULL), BG_OK);
@@ -516,6 +516,13 @@ static void budget_by_hand(void **state)
     assert_close(row.selfheat_k, 1.65 * 1.65 / 10000.0 / 2e-3, 1e-12, 0);
     /* U(k=2) of the beta curve at R = R0: only R0's variance counts, T^2 / (B R0) per ohm */
     assert_close(row.fit_k, 2.0 * T * T / (B * 10000.0), 1e-9, 0);
+    /* with a coverage factor given, U = k u: k = 2.4288090813825196, Student's t at 95.45 % for
+    ** 7 degrees of freedom (scipy.stats.t.ppf(0.97725, 7), scipy 1.10.1, computed 2026-12-02) */
+    bg_budget_opts o7 = o;
+    bg_budget_row row7, worst7;
+    o7.fit_k = 2.4288090813825196;
+    assert_int_equal(bg_lut_budget(&s, &t, &o7, &at, 1, &row7, &worst7, NULL), BG_OK);
+    assert_close(row7.fit_k, 2.4288090813825196 * T * T / (B * 10000.0), 1e-9, 0);
     double sum = row.table_k + adc + row.resistor_k + row.selfheat_k + row.fit_k;
     assert_close(row.sum_k, sum, 1e-6, 0);
     assert_close(row.rss_k, sqrt(row.table_k * row.table_k + adc * adc +

@@ -359,7 +359,7 @@ static void table_report(void **state)
     bg_lut_result_release(&r);
     double cov[4] = { 25.0, 0.0, 0.0, 100.0 };
     rq.fit_id = 7, rq.fit_run_id = 3, rq.fit_serial = "P-INVENTED", rq.fit_cov = cov;
-    rq.fit_t_min_k = 273.15, rq.fit_t_max_k = 323.15;
+    rq.fit_t_min_k = 273.15, rq.fit_t_max_k = 323.15, rq.fit_dof = 8;
     rq.budget.fixed_tol = 0.001, rq.budget.excitation_v = 3.3;
     rq.budget.dissipation_w_per_k = 1.5e-3;
     assert_int_equal(bg_lut_make(&rq, &r, &err), BG_OK);
@@ -367,6 +367,10 @@ static void table_report(void **state)
     html = render("table", &r, &h);
     assert_null(strstr(html, "not given"));
     assert_null(strstr(html, "budget-missing"));
+    /* the fit's term with k from Student's t for its 8 degrees of freedom at 95.45 %:
+    ** 2.3664194994919296, scipy.stats.t.ppf(0.97725, 8) (scipy 1.10.1, computed 2026-12-02) */
+    assert_close(r.fit_cover.k, 2.3664194994919296, 1e-9, 0.0);
+    assert_non_null(strstr(html, "fit U (k = 2.37)"));
     free(html);
     rq.fit_id = 0, rq.fit_cov = NULL, rq.budget.fixed_tol = 0.0;
     rq.budget.excitation_v = 0.0, rq.budget.dissipation_w_per_k = 0.0;

@@ -17,6 +17,7 @@
 
 #include "bandgap/circuit.h"
 #include "bandgap/error.h"
+#include "bandgap/fit.h"
 #include "bandgap/model.h"
 #include "bandgap/readings.h"
 
@@ -128,6 +129,8 @@ typedef struct bg_budget_opts {
     double fixed_tol;           /* the fixed resistor's tolerance, a fraction; 0 = ignore */
     double excitation_v;        /* divider supply for self-heating, V; 0 = ignore */
     double dissipation_w_per_k; /* the thermistor's dissipation constant; 0 = ignore */
+    double fit_k;               /* the coverage factor of the fit's term U = k u; 0: k = 2
+                                ** (bg_lut_make sets it by the request's coverage rule) */
 } bg_budget_opts;
 
 typedef struct bg_budget_row {
@@ -171,6 +174,9 @@ typedef struct bg_lut_request {
     ** probe's current fit (bg_store_current_fit), 0 when it was named */
     const char *fit_started_at;
     int fit_current;
+    size_t fit_dof;           /* the stored fit's degrees of freedom, for its coverage factor */
+    bg_coverage_rule coverage; /* k of the fit's U: as 'fit' and 'curve' (zeroed: the default,
+                              ** Student's t at 95.45 %) */
 } bg_lut_request;
 
 /* The budget's terms that bg_lut_make computed (bg_lut_result.budget_terms).  A term whose
@@ -208,6 +214,7 @@ typedef struct bg_lut_result {
     size_t nbudget;
     bg_budget_row worst;      /* the largest of each term over the range */
     unsigned budget_terms;    /* BG_BUDGET_* of the terms given; the others are NaN */
+    bg_coverage fit_cover;    /* the coverage factor of the fit's term (BG_BUDGET_FIT) */
     /* error_curve: table - model at every code, as its least and largest value over each
     ** band of 'codes_per_band' consecutive codes (the last band may have fewer), so that the
     ** size stays small for 24-bit codes */

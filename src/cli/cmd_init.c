@@ -9,8 +9,9 @@
 static const char init_usage[] =
     "Usage: bandgap init   (bandgap [--db PATH] init)\n"
     "Create the calibration database PATH (default $BANDGAP_DB or ./bandgap.db), a single\n"
-    "SQLite file with a rollback journal, so that it stays one file and works on network\n"
-    "shares.  On an existing bandgap database it upgrades an older schema (keeping a copy)\n"
+    "SQLite file with a rollback journal, so that it stays one file (keep it on a local\n"
+    "disk: SQLite's documentation warns against database files on network shares).  On an\n"
+    "existing bandgap database it upgrades an older schema (keeping a copy)\n"
     "and otherwise changes nothing.\n";
 
 int cmd_init(int argc, char **argv, struct cli_ctx *ctx)

@@ -34,7 +34,9 @@ static const char lut_usage[] =
     "codes return named sentinels, never a clamped temperature.\n"
     "The reported error is that of the table and its rounding.  The error budget adds, at\n"
     "--budget-at T1,T2,... (default: the ends and middle of the range) and as the worst case\n"
-    "over the range: half an LSB of the ADC, the stored fit's U(k=2), the fixed resistor at\n"
+    "over the range: half an LSB of the ADC, the stored fit's U = k u (k from Student's t for\n"
+    "its degrees of freedom at 95.45 %, as fit and curve; --coverage-k K a fixed k), the\n"
+    "fixed resistor at\n"
     "--fixed-tol REL (0.1% or 1000ppm), and self-heating at --supply VOLTS (the divider's\n"
     "supply, 3.3V) over --dissipation W/K (1.5mW/K); combined as root-sum-square and as a\n"
     "worst-case sum.  Every value takes its unit; a bare number is refused.  With a stored\n"
@@ -61,7 +63,7 @@ static int parse_range(const char *s, double *lo, double *hi, bg_error *err)
 enum { O_FIT = 1, O_PROBE, O_FIXED, O_SIDE, O_PAR, O_SER, O_BITS, O_FS, O_CUR, O_VREF,
        O_OHMSIN, O_OPC, O_RANGE, O_STEP, O_MAXERR, O_RES, O_KELVIN, O_FORMAT, O_SYMBOL,
        O_OUT, O_EXTRA, O_JSON, O_BAT, O_FTOL, O_EXC, O_DISS, O_STRAT, O_REPORT, O_SUPPLY,
-       O_STAMP };
+       O_STAMP, O_COVK };
 
 static const struct option lut_opts[] = {
     CLI_INLINE_OPTIONS,
@@ -85,6 +87,7 @@ static const struct option lut_opts[] = {
     { "strategy", required_argument, NULL, O_STRAT },
     { "report", required_argument, NULL, O_REPORT },
     { "timestamp", no_argument, NULL, O_STAMP },
+    { "coverage-k", required_argument, NULL, O_COVK },
     { "json", no_argument, NULL, O_JSON },           { "help", no_argument, NULL, 'h' },
     { NULL, 0, NULL, 0 },
 };
@@ -117,9 +120,8 @@ static int circuit_option(struct lut_args *a, int c, const char *arg)
         *(c == O_FIXED ? &ci->fixed_ohm : c == O_PAR ? &ci->parallel_ohm : &ci->series_ohm) = v;
         break;
     case O_SIDE:
-        if (strcmp(arg, "low") && strcmp(arg, "high"))
-            return cli_usage_error("lut", "--sensor-side: say low or high");
-        ci->kind = arg[0] == 'l' ? BG_CIRCUIT_DIVIDER_LOW : BG_CIRCUIT_DIVIDER_HIGH;
+        if (bg_circuit_side_parse(arg, &ci->kind, &err) != BG_OK)
+            return cli_usage_error("lut", "--sensor-side: %s", err.msg);
         a->side_set = 1;
         break;
     case O_BITS:
@@ -128,9 +130,8 @@ static int circuit_option(struct lut_args *a, int c, const char *arg)
             return cli_usage_error("lut", "--adc-bits: '%s': 8 .. 24", arg);
         break;
     case O_FS:
-        if (strcmp(arg, "pow2") && strcmp(arg, "pow2-1"))
-            return cli_usage_error("lut", "--full-scale: say pow2 or pow2-1");
-        ci->full_scale_pow2 = strcmp(arg, "pow2") == 0;
+        if (bg_circuit_full_scale_parse(arg, &ci->full_scale_pow2, &err) != BG_OK)
+            return cli_usage_error("lut", "--full-scale: %s", err.msg);
         break;
     case O_CUR: case O_VREF: case O_OPC:
         if ((c == O_OPC ? bg_units_parse_ohms(arg, &v, &err)
@@ -168,22 +169,16 @@ static int shape_option(struct lut_args *a, int c, const char *arg)
             return cli_usage_error("lut", "--max-error: %s", err.msg);
         break;
     case O_RES:
-        if (strcmp(arg, "0.1") == 0) s->format = BG_LUT_DECI;
-        else if (strcmp(arg, "0.01") == 0) s->format = BG_LUT_CENTI;
-        else if (strcmp(arg, "0.001") == 0) s->format = BG_LUT_MILLI;
-        else if (strcmp(arg, "float") == 0) s->format = BG_LUT_FLOAT;
-        else if (arg[0] == 'q' && (s->qbits = (unsigned)strtoul(arg + 1, &end, 10),
-                                   !*end && arg[1] && s->qbits >= 1 && s->qbits <= 16))
-            s->format = BG_LUT_Q;
-        else return cli_usage_error("lut", "--resolution: say 0.1, 0.01, 0.001, q1 .. q16 "
-                                    "or float");
+        if (bg_lut_format_parse(arg, &s->format, &s->qbits, &err) != BG_OK)
+            return cli_usage_error("lut", "--resolution: %s", err.msg);
         break;
-    default: /* O_STRAT */
-        if (strcmp(arg, "uniform") == 0) a->rq.strategy = BG_LUT_UNIFORM;
-        else if (strcmp(arg, "minimal") == 0) a->rq.strategy = BG_LUT_MINIMAL;
-        else if (strcmp(arg, "indexed") == 0) a->rq.strategy = BG_LUT_INDEXED;
-        else return cli_usage_error("lut", "--strategy: say uniform, minimal or indexed");
+    default: { /* O_STRAT */
+        bg_lut_strategy st;
+        if (bg_lut_strategy_parse(arg, &st, &err) != BG_OK)
+            return cli_usage_error("lut", "--strategy: %s", err.msg);
+        a->rq.strategy = (int)st;
         break;
+    }
     }
     return BG_OK;
 }
@@ -224,6 +219,16 @@ static int other_option(struct lut_args *a, int c, const char *arg)
         if (bg_units_parse_fraction(arg, &bo->fixed_tol, &err) != BG_OK)
             return cli_usage_error("lut", "--fixed-tol: %s", err.msg);
         break;
+    case O_COVK: {
+        char *end;
+        double k = strtod(arg, &end);
+        if (end == arg || *end || !(k > 0.0 && k < 100.0))
+            return cli_usage_error("lut", "--coverage-k: '%s': give a coverage factor such as "
+                                   "2", arg);
+        a->rq.coverage = bg_coverage_default();
+        a->rq.coverage.k_fixed = k;
+        break;
+    }
     case O_EXC:
         return cli_usage_error("lut", "--excitation is now --supply: the divider's supply "
                                "voltage with its unit, e.g. --supply 3.3V");
@@ -325,6 +330,7 @@ static int resolve_model(struct lut_args *a, struct cli_ctx *ctx)
     rq->spec.model = a->fit.model;
     rq->fit_run_id = a->fit.run_id, rq->fit_serial = a->fit.serial;
     rq->fit_cov = a->fit.has_cov ? a->fit.cov : NULL;
+    rq->fit_dof = a->fit.dof;
     rq->fit_t_min_k = a->fit.t_min_k, rq->fit_t_max_k = a->fit.t_max_k;
     return BG_OK;
 }

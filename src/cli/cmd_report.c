@@ -21,7 +21,7 @@ static const char report_usage[] =
     "A calibration report of a run (its newest fit unless --fit): the probe and lot, the\n"
     "reference thermometer, the method and conditions, the readings with residuals, the\n"
     "model with standard uncertainties, the expanded uncertainty with k and the coverage\n"
-    "probability, the validity range, an R-T table and a residual chart with the U (k = 2)\n"
+    "probability, the validity range, an R-T table and a residual chart with the U\n"
     "band.  A lot report: the lot statistics with a histogram and the control charts of\n"
     "the part's lots, and each probe's drift.  One self-contained HTML file (no network,\n"
     "inline SVG, prints on A4 and Letter).  A report, once issued, is stored and never\n"
@@ -143,7 +143,7 @@ static int issue(bg_store *st, long long run_id, long long fit_id, const char *l
     if (rc == BG_OK && strcmp(out_path, "-") && lot)
         printf("issued report %lld (lot %s): %s\n", a.id, lot, out_path);
     else if (rc == BG_OK && strcmp(out_path, "-"))
-        printf("issued report %lld (run %lld): %s\n", a.id, run_id, out_path);
+        printf("issued report %lld (run %lld, fit %lld): %s\n", a.id, run_id, a.fit_id, out_path);
     bg_artifact_release(&a);
     return rc;
 }

@@ -13,7 +13,7 @@ static const char show_usage[] =
     "       bandgap show fit N [--json]\n"
     "A run: its probe, reference, conditions and every reading (raw and corrected, with\n"
     "exclusions).  A fit: model, coefficients with standard uncertainties, covariance,\n"
-    "statistics, the readings it used and U(k=2) across its calibrated range.\n";
+    "statistics, the readings it used and U (k from Student's t) across its calibrated range.\n";
 
 static int show_run(bg_store *st, long long id, struct cli_ctx *ctx, bg_error *err)
 {

@@ -71,6 +71,21 @@ static void json_provenance(json_out *j, const bg_lut_result *r)
     json_obj_end(j);
 }
 
+/* The coverage factor of the budget's fit term, or null when there is no such term. */
+static void json_coverage(json_out *j, const bg_lut_result *r)
+{
+    if (!(r->budget_terms & BG_BUDGET_FIT)) {
+        json_null(j, "fit_coverage");
+        return;
+    }
+    json_obj(j, "fit_coverage");
+    json_num(j, "k", r->fit_cover.k);
+    json_num(j, "coverage_probability", r->fit_cover.p);
+    json_num(j, "nu_eff", r->fit_cover.nu_eff);
+    json_bool(j, "k_fixed", r->fit_cover.fixed);
+    json_obj_end(j);
+}
+
 void lut_print_json(const bg_lut_result *r, FILE *f)
 {
     const bg_lut *t = &r->table;
@@ -143,6 +158,7 @@ void lut_print_json(const bg_lut_result *r, FILE *f)
             json_int(&j, NULL, t->idx[i]);
         json_arr_end(&j);
     }
+    json_coverage(&j, r);
     json_arr(&j, "budget");
     for (size_t i = 0; i <= r->nbudget; i++) {
         const bg_budget_row *b = i < r->nbudget ? &r->budget[i] : &r->worst;
@@ -153,7 +169,7 @@ void lut_print_json(const bg_lut_result *r, FILE *f)
             json_str(&j, "at", "worst over the range");
         json_num(&j, "table_k", b->table_k);
         json_num(&j, "adc_k", b->adc_k);
-        json_num(&j, "fit_U_k2_k", b->fit_k);
+        json_num(&j, "fit_U_k", b->fit_k);
         json_num(&j, "fixed_resistor_k", b->resistor_k);
         json_num(&j, "self_heating_k", b->selfheat_k);
         json_num(&j, "rss_k", b->rss_k);
@@ -217,6 +233,15 @@ void lut_print_summary(const bg_lut_result *r, const char *pre, FILE *b)
         term(b, 10, w->resistor_k);
         term(b, 10, w->selfheat_k);
         fprintf(b, " %8.4f %8.4f\n", w->rss_k, w->sum_k);
+    }
+    if (r->budget_terms & BG_BUDGET_FIT) {
+        if (r->fit_cover.fixed)
+            fprintf(b, "(fit U = k u with k = %.2f as asked: coverage probability %.2f %%)\n",
+                    r->fit_cover.k, 100.0 * r->fit_cover.p);
+        else
+            fprintf(b, "(fit U = k u with k = %.2f from Student's t for %.0f degrees of freedom, "
+                    "coverage probability %.2f %%)\n", r->fit_cover.k, r->fit_cover.nu_eff,
+                    100.0 * r->fit_cover.p);
     }
     if ((r->budget_terms & all) == all)
         return;

@@ -441,7 +441,7 @@ static int budget_at(const bg_lut_spec *s, const bg_lut *t, const bg_budget_opts
     r->table_k = fabs(bg_lut_value(t, ic, &st) + t->offset_k - tc);
     r->adc_k = 0.5 * fabs(k_lsb);
     if (o->cov && bg_model_u_t(&s->model, o->cov, tk, &r->fit_k, NULL) == BG_OK)
-        r->fit_k *= 2.0;
+        r->fit_k *= o->fit_k > 0.0 ? o->fit_k : 2.0;
     else
         r->fit_k = 0.0;
     if (o->fixed_tol > 0.0 && s->circuit.kind != BG_CIRCUIT_CURRENT &&

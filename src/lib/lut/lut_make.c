@@ -155,8 +155,17 @@ int bg_lut_make(const bg_lut_request *rq, bg_lut_result *out, bg_error *err)
         out->spec.source = out->source;
         if (rq->fit_cov) {
             size_t np = bg_model_npar(&s->model);
-            memcpy(out->cov, rq->fit_cov, np * np * sizeof *out->cov);
-            out->budget_opts.cov = out->cov;
+            bg_coverage_rule rule = rq->coverage;
+            if (rule.p == 0.0 && rule.k_fixed == 0.0)
+                rule = bg_coverage_default();
+            if ((rc = bg_coverage_eval(&rule, (double)rq->fit_dof, &out->fit_cover, err)) !=
+                BG_OK)
+                return rc;
+            if (isfinite(out->fit_cover.k)) { /* no degree of freedom: no fit term */
+                memcpy(out->cov, rq->fit_cov, np * np * sizeof *out->cov);
+                out->budget_opts.cov = out->cov;
+                out->budget_opts.fit_k = out->fit_cover.k;
+            }
         }
         if (!rq->allow_extrapolation && (s->t_lo_k < rq->fit_t_min_k - 1e-9 ||
                                          s->t_hi_k > rq->fit_t_max_k + 1e-9))

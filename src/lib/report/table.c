@@ -79,7 +79,10 @@ static void budget(FILE *f, const bg_lut_result *r)
     budget_inputs(f, r);
     fputs("<table class=\"data\" id=\"budget\">\n<tr><th class=\"n\">T / \xc2\xb0" "C</th>"
           "<th class=\"n\">table</th><th class=\"n\">ADC &#189; LSB</th>"
-          "<th class=\"n\">fit U (k = 2)</th><th class=\"n\">fixed resistor</th>"
+          "<th class=\"n\">fit U", f);
+    if (t & BG_BUDGET_FIT)
+        fprintf(f, " (k = %.2f)", r->fit_cover.k);
+    fputs("</th><th class=\"n\">fixed resistor</th>"
           "<th class=\"n\">self-heating</th><th class=\"n\">RSS</th><th class=\"n\">sum</th>"
           "</tr>\n", f);
     for (size_t i = 0; i <= r->nbudget; i++) {

@@ -1,7 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* The calibration database's SQLite backend (scheme "sqlite:"): opening, schema migrations,
 ** transactions, the lot, probe and reference records, and the backend's table.  A rollback
-** journal (not WAL) keeps the database one file that also works on network shares; every
+** journal (not WAL) keeps the database one file (no -wal/-shm side files); every
 ** connection sets foreign keys, defensive mode and a busy timeout (SQLite documentation:
 ** pragma.html, lang_transaction.html). */
 #include <errno.h>
