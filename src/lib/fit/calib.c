@@ -551,8 +551,10 @@ static int lot_prior_load(bg_store *st, const char *lot_code, struct lot_prior *
         rc = bg_store_run_each(st, NULL, lot_code, prior_overdue, p, err);
     if (rc == BG_OK && p->oom)
         rc = bg_error_set(err, BG_ENOMEM, "out of memory reading lot '%s'", lot_code);
-    qsort(p->fitted, p->nfitted, sizeof *p->fitted, cmp_id);
-    qsort(p->overdue, p->noverdue, sizeof *p->overdue, cmp_id); /* 'id' is bg_run's first */
+    if (p->nfitted) /* qsort and bsearch need a base even for no elements */
+        qsort(p->fitted, p->nfitted, sizeof *p->fitted, cmp_id);
+    if (p->noverdue)
+        qsort(p->overdue, p->noverdue, sizeof *p->overdue, cmp_id); /* 'id' is bg_run's first */
     return rc;
 }
 
@@ -567,7 +569,8 @@ static int lot_store_one(struct lot_pass *lp, long long run_id, const bg_store_p
                          bg_calib_lot_row *row)
 {
     long long same = 0;
-    if (bsearch(&run_id, lp->prior.fitted, lp->prior.nfitted, sizeof run_id, cmp_id)) {
+    if (lp->prior.nfitted &&
+        bsearch(&run_id, lp->prior.fitted, lp->prior.nfitted, sizeof run_id, cmp_id)) {
         int rc = bg_store_fit_find_same(lp->st, run_id, &lp->one.fit, sp->ids, &same, lp->err);
         if (rc != BG_OK)
             return rc;
@@ -610,8 +613,10 @@ static int lot_probe(const char *serial, long long probe_id, long long run_id,
     if (fit_model(lp->fr, sp->pts, sp->n, &lp->o, lp->is_auto, 0, &lp->one, &e2) != BG_OK)
         return lot_failed(lp, row, &e2) != 0;
     row->status = BG_CALIB_FITTED;
-    const bg_run *od = bsearch(&run_id, lp->prior.overdue, lp->prior.noverdue,
-                               sizeof *lp->prior.overdue, cmp_id);
+    const bg_run *od = lp->prior.noverdue ? bsearch(&run_id, lp->prior.overdue,
+                                                     lp->prior.noverdue,
+                                                     sizeof *lp->prior.overdue, cmp_id)
+                                          : NULL;
     if ((od && (lp->rc = note_ref_overdue(&lp->one, od, lp->err)) != BG_OK) ||
         (lp->rc = lot_notes(out, row, &lp->one.fit, lp->err)) != BG_OK ||
         (lp->rc = lot_store_one(lp, run_id, sp, row)) != BG_OK)
