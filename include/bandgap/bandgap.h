@@ -9,6 +9,7 @@
 #define BANDGAP_BANDGAP_H
 
 #include "bandgap/error.h"
+#include "bandgap/json.h"
 #include "bandgap/units.h"
 #include "bandgap/time.h"
 #include "bandgap/readings.h"

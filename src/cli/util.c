@@ -127,26 +127,6 @@ char *cli_num(char *buf, size_t size, double v)
 
 /* ---- JSON ---- */
 
-static void put_string(FILE *f, const char *s)
-{
-    fputc('"', f);
-    for (const unsigned char *p = (const unsigned char *)s; *p; p++) {
-        switch (*p) {
-        case '"': fputs("\\\"", f); break;
-        case '\\': fputs("\\\\", f); break;
-        case '\n': fputs("\\n", f); break;
-        case '\r': fputs("\\r", f); break;
-        case '\t': fputs("\\t", f); break;
-        default:
-            if (*p < 0x20)
-                fprintf(f, "\\u%04x", *p);
-            else
-                fputc(*p, f);
-        }
-    }
-    fputc('"', f);
-}
-
 static void sep(json_out *j, const char *key)
 {
     if (j->depth > 0) {
@@ -155,7 +135,7 @@ static void sep(json_out *j, const char *key)
         j->need_comma[j->depth] = 1;
     }
     if (key) {
-        put_string(j->f, key);
+        bg_json_write_string(j->f, key);
         fputc(':', j->f);
     }
 }
@@ -217,7 +197,7 @@ void json_str(json_out *j, const char *key, const char *s)
 {
     sep(j, key);
     if (s)
-        put_string(j->f, s);
+        bg_json_write_string(j->f, s);
     else
         fputs("null", j->f);
 }

@@ -82,27 +82,6 @@ void bgi_report_begin(FILE *f, const bg_report_kind *k, const bg_report_head *h,
 
 /* ---- issuing ---- */
 
-/* A JSON string, escaped as the program's JSON writer does. */
-static void json_string(FILE *f, const char *s)
-{
-    fputc('"', f);
-    for (const unsigned char *p = (const unsigned char *)s; *p; p++) {
-        switch (*p) {
-        case '"': fputs("\\\"", f); break;
-        case '\\': fputs("\\\\", f); break;
-        case '\n': fputs("\\n", f); break;
-        case '\r': fputs("\\r", f); break;
-        case '\t': fputs("\\t", f); break;
-        default:
-            if (*p < 0x20)
-                fprintf(f, "\\u%04x", *p);
-            else
-                fputc(*p, f);
-        }
-    }
-    fputc('"', f);
-}
-
 /* What a report is made from, as JSON (malloc'd; NULL when out of memory): its subject and
 ** the lot, or the run, fit and probe. */
 static char *report_spec(const char *subject, const char *lot, long long run, long long fit,
@@ -114,13 +93,13 @@ static char *report_spec(const char *subject, const char *lot, long long run, lo
     if (!sf)
         return NULL;
     fputs("{\"subject\":", sf);
-    json_string(sf, subject);
+    bg_json_write_string(sf, subject);
     if (lot) {
         fputs(",\"lot\":", sf);
-        json_string(sf, lot);
+        bg_json_write_string(sf, lot);
     } else {
         fprintf(sf, ",\"run\":%lld,\"fit\":%lld,\"probe\":", run, fit);
-        json_string(sf, probe);
+        bg_json_write_string(sf, probe);
     }
     fputc('}', sf);
     if (fclose(sf) != 0) {

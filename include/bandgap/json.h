@@ -1,0 +1,16 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* JSON text: the one string escaper that the library's stored specs and the program's output
+** share (RFC 8259, section 7). */
+#ifndef BANDGAP_JSON_H
+#define BANDGAP_JSON_H
+
+#include <stdio.h>
+
+#include "bandgap/error.h"
+
+/* Write 's' to 'f' as a JSON string, quotes included: '"' and '\' escaped, the control
+** characters as \n, \r, \t or \u00XX; other bytes (UTF-8 included) as they are.  NULL writes
+** "". */
+BG_API void bg_json_write_string(FILE *f, const char *s);
+
+#endif
