@@ -345,6 +345,41 @@ static void segments_are_minimal(void **state)
 }
 
 /* Brute force for values on the curve: every subset of breakpoints. */
+/* The on-curve count costs time quadratic in the codes: by default (BG_LUT_ONCURVE_AUTO) it is
+** counted up to BG_LUT_ONCURVE_AUTO_CODES codes, above that left out and said so; asked for
+** (1) it is counted at any size, and never (0) is not reported as left out.  The sizes are
+** the 10k divider at 12 bits (3855 codes) and at 15 bits (about 30,800 codes). */
+static void oncurve_count_by_size(void **state)
+{
+    (void)state;
+    static const struct { unsigned bits; int ask, counted, skipped; } cases[] = {
+        { 12, BG_LUT_ONCURVE_AUTO, 1, 0 }, { 15, BG_LUT_ONCURVE_AUTO, 0, 1 },
+        { 15, 1, 1, 0 }, { 15, 0, 0, 0 },
+    };
+    for (size_t k = 0; k < sizeof cases / sizeof cases[0]; k++) {
+        bg_lut_spec s = spec_10k(0, BG_LUT_CENTI);
+        bg_lut t = BG_LUT_INIT, t2 = BG_LUT_INIT;
+        size_t bytes[3];
+        s.circuit.adc_bits = cases[k].bits;
+        s.strategy = BG_LUT_MINIMAL, s.max_err_k = 0.05, s.frac_bits = -1;
+        s.oncurve_min = cases[k].ask;
+        assert_int_equal(bg_lut_build(&s, &t, NULL), BG_OK);
+        assert_int_equal(t.code_hi - t.code_lo + 1 > BG_LUT_ONCURVE_AUTO_CODES,
+                         cases[k].bits == 15);
+        assert_int_equal(t.oncurve_min > 0, cases[k].counted);
+        assert_int_equal(t.oncurve_skipped, cases[k].skipped);
+        if (cases[k].counted)
+            assert_true(t.n <= t.oncurve_min);
+        /* the smallest table carries the same answer */
+        assert_int_equal(bg_lut_build_smallest(&s, &t2, bytes, NULL), BG_OK);
+        assert_int_equal(t2.strategy != BG_LUT_UNIFORM, 1);
+        assert_int_equal(t2.oncurve_min, t.oncurve_min);
+        assert_int_equal(t2.oncurve_skipped, cases[k].skipped);
+        bg_lut_release(&t);
+        bg_lut_release(&t2);
+    }
+}
+
 static void oncurve_minimum_exhaustive(void **state)
 {
     (void)state;
@@ -545,6 +580,7 @@ int main(void)
         cmocka_unit_test(strategies_and_formats),
         cmocka_unit_test(segments_are_minimal),
         cmocka_unit_test(oncurve_minimum_exhaustive),
+        cmocka_unit_test(oncurve_count_by_size),
         cmocka_unit_test(index_is_exact),
         cmocka_unit_test(smallest_is_chosen),
         cmocka_unit_test(float_segments_keep_the_bound),

@@ -46,11 +46,15 @@ typedef struct bg_lut_spec {
     unsigned qbits;          /* BG_LUT_Q: fractional bits, 1 .. 16 */
     int kelvin;              /* values in kelvin instead of degC */
     int frac_bits;           /* segments: fixed-point bits of start and slope; -1 = automatic */
-    int oncurve_min;         /* also count the fewest entries with values on the curve */
+    int oncurve_min;         /* also count the fewest entries with values on the curve: 1
+                             ** always, 0 never, BG_LUT_ONCURVE_AUTO when the range has at
+                             ** most BG_LUT_ONCURVE_AUTO_CODES codes (the count's time grows
+                             ** with the square of the codes) */
     const char *source;      /* where the model came from, for the provenance; NULL: inline */
     const char *stamp;       /* a time for the provenance; NULL: none (reproducible output) */
 } bg_lut_spec;
 
+enum { BG_LUT_ONCURVE_AUTO = -1, BG_LUT_ONCURVE_AUTO_CODES = 16384 };
 enum { BG_LUT_OK = 0, BG_LUT_BELOW = 1, BG_LUT_ABOVE = 2 }; /* eval status: code out of range */
 
 typedef struct bg_lut {
@@ -77,6 +81,8 @@ typedef struct bg_lut {
     size_t nidx;
     unsigned ishift, icmp;
     size_t oncurve_min;      /* the fewest entries with values on the curve (0: not counted) */
+    int oncurve_skipped;     /* 1: not counted because the range has more than
+                             ** BG_LUT_ONCURVE_AUTO_CODES codes and it was not asked for */
     size_t bytes;            /* flash for the tables (values, starts, slopes, index) */
     double counts_per_k, offset_k; /* value = counts_per_k (T - offset_k) */
     double max_err_k, rms_err_k;   /* over every code of the range, against the model */
@@ -170,6 +176,8 @@ typedef struct bg_lut_request {
     const double *budget_at_k; /* the budget's temperatures; NULL: the ends and the middle */
     size_t nbudget_at;
     int error_curve;          /* also the error at every code (for the table report) */
+    int oncurve_count;        /* 1: count the on-curve minimum at any size (spec.oncurve_min
+                              ** 1); 0: only up to BG_LUT_ONCURVE_AUTO_CODES codes */
     /* the stored fit's provenance: its run's start time (NULL: not said) and 1 when it is the
     ** probe's current fit (bg_store_current_fit), 0 when it was named */
     const char *fit_started_at;

@@ -15,13 +15,16 @@ static const char lut_usage[] =
     "                   (--step CODES | --max-error DT [--strategy uniform|minimal|indexed])\n"
     "                   [--resolution 0.1|0.01|0.001|qN|float] [--kelvin] [--format c|csv|json]\n"
     "                   [--symbol PREFIX] [-o FILE] [--report FILE.html] [--timestamp]\n"
-    "                   [--allow-extrapolation]\n"
+    "                   [--allow-extrapolation] [--oncurve-count]\n"
     "A table that turns ADC codes into temperatures, its error measured over every code of\n"
     "the range.  Strategies: uniform (values every CODES codes, a power of two, read with\n"
     "integer interpolation; --max-error picks the largest step within DT); minimal (the\n"
     "fewest straight segments within DT, found by a binary search); indexed (the same\n"
     "segments with a small index: one read and one or two comparisons).  With\n"
     "--max-error and no --strategy, the smallest table in bytes is chosen and named.\n"
+    "Segment tables also give the fewest breakpoints a table with values on the curve\n"
+    "would need; its time grows with the square of the codes, so above 16384 codes it is\n"
+    "counted only with --oncurve-count (the output says when it was not).\n"
     "Circuit:\n"
     "  --fixed OHMS --sensor-side low|high   divider (low: thermistor between the ADC input\n"
     "                                        and ground), with --parallel OHMS, --series OHMS\n"
@@ -63,7 +66,7 @@ static int parse_range(const char *s, double *lo, double *hi, bg_error *err)
 enum { O_FIT = 1, O_PROBE, O_FIXED, O_SIDE, O_PAR, O_SER, O_BITS, O_FS, O_CUR, O_VREF,
        O_OHMSIN, O_OPC, O_RANGE, O_STEP, O_MAXERR, O_RES, O_KELVIN, O_FORMAT, O_SYMBOL,
        O_OUT, O_EXTRA, O_JSON, O_BAT, O_FTOL, O_EXC, O_DISS, O_STRAT, O_REPORT, O_SUPPLY,
-       O_STAMP, O_COVK };
+       O_STAMP, O_COVK, O_ONCURVE };
 
 static const struct option lut_opts[] = {
     CLI_INLINE_OPTIONS,
@@ -87,6 +90,7 @@ static const struct option lut_opts[] = {
     { "strategy", required_argument, NULL, O_STRAT },
     { "report", required_argument, NULL, O_REPORT },
     { "timestamp", no_argument, NULL, O_STAMP },
+    { "oncurve-count", no_argument, NULL, O_ONCURVE },
     { "coverage-k", required_argument, NULL, O_COVK },
     { "json", no_argument, NULL, O_JSON },           { "help", no_argument, NULL, 'h' },
     { NULL, 0, NULL, 0 },
@@ -197,6 +201,7 @@ static int other_option(struct lut_args *a, int c, const char *arg)
     case O_REPORT: a->report = arg; break;
     case O_STAMP: a->rq.spec.stamp = bg_time_format(cli_clock(), a->stamp, sizeof a->stamp); break;
     case O_KELVIN: a->rq.spec.kelvin = 1; break;
+    case O_ONCURVE: a->rq.oncurve_count = 1; break;
     case O_FORMAT: case O_JSON:
         if (c == O_JSON)
             arg = "json";
@@ -294,7 +299,7 @@ static int lut_parse_args(int argc, char **argv, const struct cli_ctx *ctx, stru
             rc = shape_option(a, c, optarg);
             break;
         default:
-            if (c != 'o' && !(c >= O_FIT && c <= O_STAMP))
+            if (c != 'o' && c != O_ONCURVE && !(c >= O_FIT && c <= O_STAMP))
                 return cli_unknown_option("lut", argv[optind - 1], lut_opts);
             rc = other_option(a, c == 'o' ? O_OUT : c, optarg);
             break;

@@ -114,6 +114,8 @@ void lut_print_json(const bg_lut_result *r, FILE *f)
     json_int(&j, "bytes", (long long)t->bytes);
     if (t->strategy != BG_LUT_UNIFORM && t->oncurve_min)
         json_int(&j, "oncurve_min_entries", (long long)t->oncurve_min);
+    else if (t->oncurve_skipped)
+        json_null(&j, "oncurve_min_entries"); /* not counted: see the summary */
     json_str(&j, "values", vu);
     if (t->strategy == BG_LUT_UNIFORM)
         json_int(&j, "step_codes", 1LL << t->shift);
@@ -194,6 +196,9 @@ static void summary(const bg_lut *t, const size_t *sizes, const char *pre, FILE 
     if (t->strategy != BG_LUT_UNIFORM && t->oncurve_min)
         fprintf(b, "with values on the curve the fewest would be %zu breakpoints\n",
                 t->oncurve_min);
+    else if (t->oncurve_skipped)
+        fprintf(b, "with values on the curve: not counted (more than %d codes; "
+                "--oncurve-count counts it)\n", BG_LUT_ONCURVE_AUTO_CODES);
     if (sizes) {
         fprintf(b, "chosen as the smallest:");
         for (int k = 0; k < 3; k++) {

@@ -204,11 +204,13 @@ static int build_uniform(const bg_lut_spec *s, unsigned shift, const double *tk,
     return BG_OK;
 }
 
-void bgi_lut_make_bands(const bg_lut *t, const double *tk, double cpk, double off, double e,
-                        bgi_band *b)
+int bgi_lut_make_bands(const bg_lut *t, const double *tk, double cpk, double off, double e,
+                       bgi_band *b, bg_error *err)
 {
     for (long c = 0; c <= t->code_hi - t->code_lo; c++) {
         double v = cpk * (tk[c] - off);
+        if (!(fabs(v) + cpk * e < 2147483000.0))
+            return bg_error_set(err, BG_EINVAL, "a value overflows 32 bits");
         long long lo = (long long)ceil(v - cpk * e), hi = (long long)floor(v + cpk * e);
         /* settle the ends with the very expression the measurement uses */
         while (lo <= hi && fabs((double)lo / cpk + off - tk[c]) > e)
@@ -219,8 +221,9 @@ void bgi_lut_make_bands(const bg_lut *t, const double *tk, double cpk, double of
             hi--;
         while (fabs((double)(hi + 1) / cpk + off - tk[c]) <= e)
             hi++;
-        b[c].lo = lo, b[c].hi = hi;
+        b[c].lo = (int32_t)lo, b[c].hi = (int32_t)hi;
     }
+    return BG_OK;
 }
 
 static int build_segments(const bg_lut_spec *s, const double *tk, bg_lut *out, bg_error *err)
@@ -243,8 +246,9 @@ static int build_segments(const bg_lut_spec *s, const double *tk, bg_lut *out, b
             return bg_error_set(err, BG_EINVAL, "--max-error %.6g K is below what single "
                                 "precision resolves here", s->max_err_k);
         }
-        bgi_lut_make_bands(out, tk, cpk, out->offset_k, e, b);
-        rc = bgi_lut_segments(out, b, s->frac_bits, err);
+        rc = bgi_lut_make_bands(out, tk, cpk, out->offset_k, e, b, err);
+        if (rc == BG_OK)
+            rc = bgi_lut_segments(out, b, s->frac_bits, err);
         if (rc == BG_OK) {
             out->syf = malloc(out->n * sizeof *out->syf);
             out->smf = malloc(out->n * sizeof *out->smf);
@@ -259,9 +263,15 @@ static int build_segments(const bg_lut_spec *s, const double *tk, bg_lut *out, b
             out->smf[i] = (float)((double)out->sm[i] / one / cpk);
         }
     } else {
-        bgi_lut_make_bands(out, tk, out->counts_per_k, out->offset_k, s->max_err_k, b);
-        rc = bgi_lut_segments(out, b, s->frac_bits, err);
-        if (rc == BG_OK && s->oncurve_min && (on = malloc(nc * sizeof *on)) != NULL) {
+        rc = bgi_lut_make_bands(out, tk, out->counts_per_k, out->offset_k, s->max_err_k, b, err);
+        if (rc == BG_OK)
+            rc = bgi_lut_segments(out, b, s->frac_bits, err);
+        /* the count's time grows with the square of the codes: by default only on small
+        ** ranges, and the result says when it was left out */
+        int count = s->oncurve_min > 0 ||
+                    (s->oncurve_min == BG_LUT_ONCURVE_AUTO && nc <= BG_LUT_ONCURVE_AUTO_CODES);
+        out->oncurve_skipped = s->oncurve_min == BG_LUT_ONCURVE_AUTO && !count;
+        if (rc == BG_OK && count && (on = malloc(nc * sizeof *on)) != NULL) {
             for (size_t c = 0; c < nc; c++)
                 on[c] = (long long)llround(out->counts_per_k * (tk[c] - out->offset_k));
             out->oncurve_min = bgi_lut_oncurve_min(on, b, nc);
@@ -386,7 +396,7 @@ int bg_lut_build_smallest(const bg_lut_spec *s, bg_lut *out, size_t bytes[3], bg
     static const bg_lut_strategy order[3] = { BG_LUT_UNIFORM, BG_LUT_INDEXED, BG_LUT_MINIMAL };
     bg_error first = BG_ERROR_INIT;
     size_t oncurve = 0;
-    int found = 0;
+    int found = 0, skipped = 0;
     memset(out, 0, sizeof *out);
     for (int k = 0; k < 3; k++) {
         bg_lut_spec s2 = *s;
@@ -394,7 +404,7 @@ int bg_lut_build_smallest(const bg_lut_spec *s, bg_lut *out, size_t bytes[3], bg
         bg_error e2 = BG_ERROR_INIT;
         s2.strategy = order[k];
         /* the on-curve count does not depend on the strategy: once, with the first segments */
-        s2.oncurve_min = s->oncurve_min && order[k] != BG_LUT_UNIFORM && !oncurve;
+        s2.oncurve_min = order[k] != BG_LUT_UNIFORM && !oncurve ? s->oncurve_min : 0;
         bytes[order[k]] = 0;
         if (bg_lut_build(&s2, &cand, &e2) != BG_OK) {
             if (first.code == BG_OK)
@@ -404,6 +414,7 @@ int bg_lut_build_smallest(const bg_lut_spec *s, bg_lut *out, size_t bytes[3], bg
         bytes[order[k]] = cand.bytes;
         if (cand.oncurve_min)
             oncurve = cand.oncurve_min;
+        skipped |= cand.oncurve_skipped;
         if (!found || cand.bytes < out->bytes) {
             bg_lut_release(out);
             *out = cand, found = 1;
@@ -416,6 +427,7 @@ int bg_lut_build_smallest(const bg_lut_spec *s, bg_lut *out, size_t bytes[3], bg
         return first.code;
     }
     out->oncurve_min = out->strategy == BG_LUT_UNIFORM ? 0 : oncurve;
+    out->oncurve_skipped = out->strategy != BG_LUT_UNIFORM && skipped;
     return BG_OK;
 }
 

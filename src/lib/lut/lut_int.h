@@ -5,15 +5,17 @@
 
 #include "bandgap/lut.h"
 
-/* The integer band of one code: outputs lo .. hi (counts) keep it within the bound. */
+/* The integer band of one code: outputs lo .. hi (counts) keep it within the bound.  32 bits
+** each: at 2^24 codes the bands are 128 MiB, the largest array of a build. */
 typedef struct bgi_band {
-    long long lo, hi;
+    int32_t lo, hi;
 } bgi_band;
 
 /* The bands of the codes t->code_lo .. t->code_hi at exact temperatures 'tk': the outputs o
-** with |o / cpk + off - tk| <= e, settled with the expression the measurement uses. */
-void bgi_lut_make_bands(const bg_lut *t, const double *tk, double cpk, double off, double e,
-                        bgi_band *b);
+** with |o / cpk + off - tk| <= e, settled with the expression the measurement uses.  BG_OK,
+** or BG_EINVAL (in 'err') when an output does not fit 32 bits. */
+int bgi_lut_make_bands(const bg_lut *t, const double *tk, double cpk, double off, double e,
+                        bgi_band *b, bg_error *err);
 
 /* Segments for the codes t->code_lo .. t->code_hi whose output counts must lie in band[c -
 ** code_lo]; 'frac' fixed-point bits (-1: automatic).  Fills t->n, sx, sy, sm, frac, yoff. */

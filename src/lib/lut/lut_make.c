@@ -38,7 +38,7 @@ static int make_table(const bg_lut_request *rq, bg_lut_result *out, bg_error *er
 {
     bg_lut_spec *s = &out->spec;
     int rc;
-    s->frac_bits = -1, s->oncurve_min = 1;
+    s->frac_bits = -1, s->oncurve_min = rq->oncurve_count ? 1 : BG_LUT_ONCURVE_AUTO;
     if (rq->step_codes > 0) {
         s->shift = 0;
         while ((1L << s->shift) < rq->step_codes)
