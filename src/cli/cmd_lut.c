@@ -299,7 +299,7 @@ static int lut_parse_args(int argc, char **argv, const struct cli_ctx *ctx, stru
             rc = shape_option(a, c, optarg);
             break;
         default:
-            if (c != 'o' && c != O_ONCURVE && !(c >= O_FIT && c <= O_STAMP))
+            if (c != 'o' && !(c >= O_FIT && c <= O_ONCURVE))
                 return cli_unknown_option("lut", argv[optind - 1], lut_opts);
             rc = other_option(a, c == 'o' ? O_OUT : c, optarg);
             break;
