@@ -2,6 +2,8 @@
 /* The fitter against the world: NIST StRD certified regressions, the GUM H.3 thermometer
 ** calibration, the encyclopedia Steinhart-Hart set, beta identities, a Monte Carlo check of
 ** the reported curve uncertainty, and GSL's trust-region solver as an independent refinement. */
+#include <float.h>
+
 #include <gsl/gsl_blas.h>
 #include <gsl/gsl_multifit_nlinear.h>
 #include <gsl/gsl_randist.h>
@@ -714,6 +716,104 @@ static void comparison_chooses(void **state)
     bg_fitter_free(fr);
 }
 
+/* Leave-one-out RMS by brute force: each point predicted by a fit of the others, with the
+** options 'o' and the model of comparison row 'row'; 'rcond' gets the full fit's reciprocal
+** condition. */
+static double loo_brute_mk(const bg_point *p, size_t n, const bg_fit_opts *o,
+                           const bg_cmp_row *row, double *rcond)
+{
+    bg_point sub[32];
+    bg_fit g = BG_FIT_INIT;
+    bg_fit_opts oo = *o;
+    double ss = 0.0, t;
+    oo.model = row->model;
+    assert_true(n <= 32);
+    for (size_t i = 0; i < n; i++) {
+        memcpy(sub, p, i * sizeof *p);
+        memcpy(sub + i, p + i + 1, (n - i - 1) * sizeof *p);
+        assert_int_equal(bg_fit_points(sub, n - 1, &oo, &g, NULL), BG_OK);
+        assert_int_equal(bg_model_t_from_r(&g.model, p[i].r_ohm, &t, NULL), BG_OK);
+        ss += (p[i].t_k - t) * (p[i].t_k - t);
+    }
+    assert_int_equal(bg_fit_points(p, n, &oo, &g, NULL), BG_OK);
+    *rcond = g.rcond;
+    bg_fit_release(&g);
+    return 1e3 * sqrt(ss / (double)n);
+}
+
+/* The comparison's leave-one-out RMS comes from the leverages in O(n).  For the linear fit
+** in 1/T (refine off) e_i / (1 - h_i) is exact (Cook & Weisberg, Residuals and Influence in
+** Regression, 1982, ch. 2, from memory), so it equals refitting without each point to
+** rounding: 1e-9 relative, or eps / rcond^2 where the design is ill-conditioned (both routes
+** then lose digits as a least-squares solution with residuals does, with the square of the
+** condition: Golub & Van Loan, Matrix Computations, 4th ed., 5.3.7, from memory; seen here:
+** poly:4 1.1e-8 at rcond 6.5e-5, poly:5 1.8e-6 at rcond 3.3e-6, the others below 4e-11).
+** For the refined fit it is the one-step form at the solution, a first-order approximation:
+** it ignores the change of the Jacobian, and so of the weights T_model^2/u, between the fit
+** with and without the reading, an error second order in the coefficient change one reading
+** brings.  Stated tolerance 1 %; seen here at most 1.8e-4 (beta, whose residuals on these
+** sh3 data are large, so the curvature counts most), 5e-6 for the others. */
+static void loo_closed_form_matches_refits(void **state)
+{
+    (void)state;
+    bg_fitter *fr = bg_fitter_new();
+    bg_point p[15];
+    bg_cmp cmp;
+    bg_model m;
+    noisy_data(p, 15, 777, 0.002);
+    for (size_t i = 0; i < 15; i++)
+        p[i].u_t_k = (i % 3 == 0) ? 0.004 : 0.002; /* unequal weights */
+    bg_model_parse("sh3", &m, NULL);
+    bg_fit_opts o = bg_fit_default_opts(&m);
+    for (int refine = 0; refine <= 1; refine++) {
+        o.refine = refine;
+        assert_int_equal(bg_fit_compare(fr, p, 15, &o, &cmp, NULL), BG_OK);
+        assert_int_equal(cmp.loo_one_step, refine);
+        size_t checked = 0;
+        for (size_t k = 0; k < cmp.nrows; k++) {
+            if (!cmp.row[k].ok)
+                continue;
+            double rc, brute = loo_brute_mk(p, 15, &o, &cmp.row[k], &rc);
+            double rel = fabs(cmp.row[k].loo_rms_mk - brute) / brute;
+            double lim = refine ? 1e-2 : fmax(1e-9, DBL_EPSILON / (rc * rc));
+            assert_true(rel < lim);
+            checked++;
+        }
+        assert_true(checked >= 5);
+    }
+    bg_fitter_free(fr);
+}
+
+/* Against numpy: the leave-one-out RMS of a weighted linear fit in 1/T by explicit refits
+** (numpy 1.24.2, Debian python3-numpy, numpy.linalg.lstsq on the rows weighted by T^2/u,
+** each point left out in turn and predicted as 1/(x_i c)).  Data: the invented readings of
+** tests/cli/fit/sh3-text, u(T) 2 mK on even rows and 4 mK on odd ones. */
+static void loo_linear_numpy(void **state)
+{
+    (void)state;
+    static const double tc[11] = { 0.0000, 10.0006, 19.9995, 29.9982, 39.9991, 49.9980,
+                                   60.0001, 70.0027, 79.9990, 89.9988, 100.0010 };
+    static const double r[11] = { 32659.888, 19929.509, 12517.769, 8074.150, 5337.012,
+                                  3608.378, 2491.136, 1753.410, 1256.496, 915.536, 677.520 };
+    bg_fitter *fr = bg_fitter_new();
+    bg_point p[11];
+    bg_cmp cmp;
+    memset(p, 0, sizeof p);
+    for (size_t i = 0; i < 11; i++) {
+        p[i].t_k = tc[i] + 273.15, p[i].r_ohm = r[i];
+        p[i].u_t_k = (i % 2 == 0) ? 0.002 : 0.004;
+    }
+    bg_fit_opts o = bg_fit_default_opts(NULL);
+    o.refine = 0;
+    assert_int_equal(bg_fit_compare(fr, p, 11, &o, &cmp, NULL), BG_OK);
+    assert_int_equal(cmp.loo_one_step, 0);
+    /* numpy values (see above), in mK */
+    assert_true(cmp.row[0].ok && cmp.row[1].ok);
+    assert_true(fabs(cmp.row[0].loo_rms_mk / 465.21782388127127 - 1.0) < 1e-9); /* beta */
+    assert_true(fabs(cmp.row[1].loo_rms_mk / 1.4119219847492677 - 1.0) < 1e-9); /* sh3 */
+    bg_fitter_free(fr);
+}
+
 /* u(T) from the basis covariance (bg_fit_u_t) and from the model-coefficient covariance
 ** (bg_model_u_t, as for stored fits) are two routes to one number, also for beta's
 ** transformed coefficients. */
@@ -789,6 +889,8 @@ int main(void)
         cmocka_unit_test(welch_satterthwaite),
         cmocka_unit_test(outlier_and_extrapolation),
         cmocka_unit_test(comparison_chooses),
+        cmocka_unit_test(loo_closed_form_matches_refits),
+        cmocka_unit_test(loo_linear_numpy),
         cmocka_unit_test(curve_uncertainty_two_routes),
         cmocka_unit_test(coefficient_uncertainties),
     };

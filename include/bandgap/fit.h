@@ -171,7 +171,8 @@ typedef struct bg_cmp_row {
     int ok;                 /* 0: not fitted (too few points or failed), see 'why' */
     size_t npar;
     double rms_mk, max_abs_mk, chi2, aic, bic;
-    double loo_rms_mk;      /* leave-one-out RMS: each point predicted by a fit without it */
+    double loo_rms_mk;      /* leave-one-out RMS: each point predicted by a fit without it, in
+                            ** closed form from the leverages (see bg_cmp.loo_one_step) */
     char why[160];
 } bg_cmp_row;
 
@@ -179,6 +180,9 @@ typedef struct bg_cmp {
     bg_cmp_row row[BG_CMP_MAX];
     size_t nrows;
     int chosen;             /* index into row, -1 if none */
+    int loo_one_step;       /* 1: the refined fits' leave-one-out residuals are the one-step
+                            ** (leverage) form r_i / (1 - h_i), an approximation of refitting;
+                            ** 0: linear fits, where e_i / (1 - h_i) is exact */
     char reason[240];
 } bg_cmp;
 

@@ -176,6 +176,7 @@ static void json_comparison(json_out *j, const bg_calib_result *r)
     json_str(j, "recommended", bg_model_name(&r->cmp.row[r->cmp.chosen].model, name,
                                              sizeof name));
     json_str(j, "reason", r->cmp.reason);
+    json_str(j, "loo_method", r->cmp.loo_one_step ? "one-step leverage" : "closed form");
     json_obj_end(j);
 }
 
@@ -327,6 +328,9 @@ static void text_comparison(const bg_calib_result *r)
         else
             printf("  %-7s %4zu  not compared: %s\n", name, row->npar, row->why);
     }
+    printf("  leave-one-out: %s\n", r->cmp.loo_one_step
+           ? "one-step (leverage) form r/(1 - h) at the refined fit, not refitted"
+           : "closed form e/(1 - h) of the linear fit (exact)");
     printf("  recommended: %s: %s\n", recommended(r, name, sizeof name), r->cmp.reason);
     if (strcmp(name, fitted) != 0)
         printf("  fitted: %s (as asked), not the recommended model\n", fitted);

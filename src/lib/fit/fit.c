@@ -34,8 +34,8 @@ struct bg_fitter {
     double *L, *u, *A, *b, *tm;
     double *G;          /* basis rows L_i^k, n x nb, computed once per fit */
     struct tsort { double t, r; size_t i; } *sorted;
-    bg_point *sub;      /* scratch for leave-one-out */
-    size_t subcap;
+    double *lev;        /* leverages h_i of the last fit, for the leave-one-out residuals */
+    int lev_one_step;   /* 1: lev[] from the Gauss-Newton Jacobian (refined fit); 0: linear */
 };
 
 bg_fit_opts bg_fit_default_opts(const bg_model *model)
@@ -86,7 +86,7 @@ void bg_fitter_free(bg_fitter *fr)
     if (!fr)
         return;
     free(fr->L), free(fr->u), free(fr->A), free(fr->b), free(fr->tm), free(fr->G);
-    free(fr->sorted), free(fr->sub);
+    free(fr->sorted), free(fr->lev);
     free(fr);
 }
 
@@ -109,7 +109,9 @@ static int fitter_reserve(bg_fitter *fr, size_t n)
     if (G) fr->G = G;
     struct tsort *s = realloc(fr->sorted, cap * sizeof *s);
     if (s) fr->sorted = s;
-    if (!L || !u || !A || !b || !tm || !G || !s)
+    double *lev = realloc(fr->lev, cap * sizeof *lev);
+    if (lev) fr->lev = lev;
+    if (!L || !u || !A || !b || !tm || !G || !s || !lev)
         return BG_ENOMEM;
     fr->cap = cap;
     return BG_OK;
@@ -420,6 +422,33 @@ static int refine(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, const
     return BG_ENUM;
 }
 
+/* The leverage w^2 g^T C g of a basis row 'g' with row weight 'w' (the diagonal element of
+** the hat matrix A (A^T A)^-1 A^T, A the row-weighted design or Jacobian, C = (A^T A)^-1). */
+static double hat(const double *cov, const double *g, size_t nb, double w)
+{
+    double h = 0.0;
+    for (size_t j = 0; j < nb; j++) {
+        double row = 0.0;
+        for (size_t k = 0; k < nb; k++)
+            row += cov[j * nb + k] * g[k];
+        h += g[j] * row;
+    }
+    return h * (w * w);
+}
+
+/* Leverages for the leave-one-out residuals of bg_fit_compare: of the linear fit in 1/T
+** (row weight T_i^2/u_i, as in linear_step), or, after refinement, of the weighted Jacobian
+** at the solution (row weight T_model^2/u_i, as in jacobian). */
+static void leverages(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, int refined,
+                      const bg_linfit *lf)
+{
+    for (size_t i = 0; i < n; i++) {
+        double t = refined ? fr->tm[i] : pts[i].t_k;
+        fr->lev[i] = hat(lf->cov, &fr->G[i * nb], nb, t * t / fr->u[i]);
+    }
+    fr->lev_one_step = refined;
+}
+
 /* Externally studentized residuals t_i = r_i / (s_(i) sqrt(1 - h_i)), leverages
 ** h_i = j_i (J^T J)^-1 j_i^T, s_(i)^2 = (chi2 - r_i^2/(1 - h_i)) / (dof - 1): the scatter
 ** without point i (Belsley, Kuh & Welsch, Regression Diagnostics, 1980, 2.1).  Unlike the
@@ -433,15 +462,7 @@ static void studentize(bg_fitter *fr, const bg_point *pts, const bg_fit_opts *o,
     char w1[300];
     double floor_k = o->resolution_k / sqrt(12.0);
     for (size_t i = 0; i < out->n; i++) {
-        double h = 0.0, t2 = fr->tm[i] * fr->tm[i] / fr->u[i];
-        const double *g = &fr->G[i * nb];
-        for (size_t j = 0; j < nb; j++) {
-            double row = 0.0;
-            for (size_t k = 0; k < nb; k++)
-                row += lf->cov[j * nb + k] * g[k];
-            h += g[j] * row;
-        }
-        h *= t2 * t2;
+        double h = hat(lf->cov, &fr->G[i * nb], nb, fr->tm[i] * fr->tm[i] / fr->u[i]);
         double r = (pts[i].t_k - fr->tm[i]) / fr->u[i], s2 = NAN, fl = floor_k / fr->u[i];
         if (out->dof > 1 && 1.0 - h > 1e-10)
             s2 = fmax((out->chi2 - r * r / (1.0 - h)) / (double)(out->dof - 1), fl * fl);
@@ -662,6 +683,7 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
     fit_statistics(fr, pts, n, o, weighted, out);
     fit_coefficients(&lf, pw, nb, a, out);
     studentize(fr, pts, o, &lf, nb, out);
+    leverages(fr, pts, n, nb, o->refine != 0, &lf);
     if (out->dof == 0) {
         for (size_t i = 0; i < MAXB * MAXB; i++)
             out->cov[i] = NAN, out->pcov[i] = NAN;
@@ -733,23 +755,48 @@ double bg_fit_coverage_k(const bg_fit *fit, double coverage)
     return gsl_cdf_tdist_Pinv(0.5 + 0.5 * coverage, (double)fit->dof);
 }
 
+/* Sum of squared leave-one-out temperature residuals of the last fit, in O(n), from the
+** leverages h_i of fr->lev (Cook & Weisberg, Residuals and Influence in Regression, 1982,
+** ch. 2, from memory: deleting case i changes its residual to e_i / (1 - h_i)).
+** Linear fit in 1/T: the prediction without reading i is y_(i) = y_i - e_i / (1 - h_i) with
+** e_i the residual in 1/T, exact for weighted linear least squares with the weights held fixed;
+** the temperature residual is T_i - 1 / y_(i).  Refined fit: the same one-step form
+** r_i / (1 - h_i) on the temperature residual with the leverage from the Gauss-Newton Jacobian
+** at the solution, a first-order approximation of refitting without the reading.  Returns n,
+** or the index of a reading whose left-out prediction is not defined. */
+static size_t loo_ss(const bg_fitter *fr, const bg_point *pts, size_t n, double *ss)
+{
+    double s = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        double h = fr->lev[i], t = pts[i].t_k, d;
+        if (!(1.0 - h > 1e-10))
+            return i;
+        if (fr->lev_one_step)
+            d = (t - fr->tm[i]) / (1.0 - h);
+        else {
+            double ey = 1.0 / t - 1.0 / fr->tm[i], y = 1.0 / t - ey / (1.0 - h);
+            if (!(y > 0.0))
+                return i;
+            d = t - 1.0 / y;
+        }
+        s += d * d;
+    }
+    *ss = s;
+    return n;
+}
+
 int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
                    bg_cmp *out, bg_error *err)
 {
     static const char *names[BG_CMP_MAX] = { "beta", "sh3", "poly:2", "sh4", "poly:4", "poly:5" };
-    bg_fit f = BG_FIT_INIT, g = BG_FIT_INIT;
+    bg_fit f = BG_FIT_INIT;
     bg_error e2 = BG_ERROR_INIT;
     int rc = BG_OK;
     double best = INFINITY;
 
     memset(out, 0, sizeof *out);
     out->chosen = -1;
-    if (n > fr->subcap) {
-        bg_point *s = realloc(fr->sub, n * sizeof *s);
-        if (!s)
-            return bg_error_set(err, BG_ENOMEM, "out of memory comparing models");
-        fr->sub = s, fr->subcap = n;
-    }
+    out->loo_one_step = o->refine != 0;
     for (size_t m = 0; m < BG_CMP_MAX; m++) {
         bg_cmp_row *row = &out->row[out->nrows++];
         bg_fit_opts oo = *o;
@@ -773,20 +820,12 @@ int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
         row->rms_mk = f.rms_mk, row->max_abs_mk = f.max_abs_mk, row->chi2 = f.chi2;
         row->aic = f.aic, row->bic = f.bic;
         double ss = 0.0;
-        int loo_ok = 1;
-        for (size_t i = 0; i < n && loo_ok; i++) {
-            double t;
-            memcpy(fr->sub, pts, i * sizeof *pts);
-            memcpy(fr->sub + i, pts + i + 1, (n - i - 1) * sizeof *pts);
-            if (bg_fitter_run(fr, fr->sub, n - 1, &oo, &g, &e2) != BG_OK ||
-                bg_model_t_from_r(&g.model, pts[i].r_ohm, &t, &e2) != BG_OK) {
-                loo_ok = 0;
-                break;
-            }
-            ss += (pts[i].t_k - t) * (pts[i].t_k - t);
-        }
-        if (!loo_ok) {
-            snprintf(row->why, sizeof row->why, "leave-one-out fit failed: %.120s", e2.msg);
+        size_t bad = loo_ss(fr, pts, n, &ss);
+        if (bad < n) {
+            char w1[300];
+            snprintf(row->why, sizeof row->why, "leave-one-out undefined: %.60s alone "
+                     "sets the fit (leverage 1 or 1/T <= 0 without it)",
+                     where(o, &pts[bad], bad, w1, sizeof w1));
             continue;
         }
         row->loo_rms_mk = 1e3 * sqrt(ss / (double)n);
@@ -818,7 +857,6 @@ int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
     }
 done:
     bg_fit_release(&f);
-    bg_fit_release(&g);
     return rc;
 }
 
