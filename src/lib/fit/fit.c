@@ -135,27 +135,28 @@ static int fit_reserve(bg_fit *f, size_t n)
     return BG_OK;
 }
 
-/* The chi2 whose upper tail probability is 0.01, cached per degrees of freedom: the p-value
-** itself (an incomplete gamma function) is computed only for a fit that exceeds it. */
-static double chi2_limit(bg_fitter *fr, size_t dof)
+/* A chi2 quantile at CHI2_TAIL, cached per degrees of freedom in 'cache' (NCRIT entries):
+** 'inv' is gsl_cdf_chisq_Qinv (the upper limit) or gsl_cdf_chisq_Pinv (the lower). The p-value
+** itself (an incomplete gamma function) is computed only for a fit beyond a limit. */
+static double chi2_quantile(double *cache, size_t dof, double (*inv)(double, double))
 {
-    if (dof < NCRIT) {
-        if (fr->crit[dof] == 0.0)
-            fr->crit[dof] = gsl_cdf_chisq_Qinv(CHI2_TAIL, (double)dof);
-        return fr->crit[dof];
-    }
-    return gsl_cdf_chisq_Qinv(CHI2_TAIL, (double)dof);
+    if (dof >= NCRIT)
+        return inv(CHI2_TAIL, (double)dof);
+    if (cache[dof] == 0.0)
+        cache[dof] = inv(CHI2_TAIL, (double)dof);
+    return cache[dof];
 }
 
-/* The chi2 below which the upper tail probability exceeds 1 - CHI2_TAIL, cached likewise. */
+/* The chi2 whose upper tail probability is CHI2_TAIL, and the one below which it exceeds
+** 1 - CHI2_TAIL. */
+static double chi2_limit(bg_fitter *fr, size_t dof)
+{
+    return chi2_quantile(fr->crit, dof, gsl_cdf_chisq_Qinv);
+}
+
 static double chi2_limit_low(bg_fitter *fr, size_t dof)
 {
-    if (dof < NCRIT) {
-        if (fr->crit_lo[dof] == 0.0)
-            fr->crit_lo[dof] = gsl_cdf_chisq_Pinv(CHI2_TAIL, (double)dof);
-        return fr->crit_lo[dof];
-    }
-    return gsl_cdf_chisq_Pinv(CHI2_TAIL, (double)dof);
+    return chi2_quantile(fr->crit_lo, dof, gsl_cdf_chisq_Pinv);
 }
 
 double bg_fit_p_value(const bg_fit *fit)
