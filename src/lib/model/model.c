@@ -301,21 +301,22 @@ void bg_model_from_basis(bg_model *m, const double *c, const double *cov_c, doub
 
 int bg_model_parse_pair(const char *s, double *t1_k, double *t2_k, bg_error *err)
 {
-    char a[64], b[64];
     const char *slash = strchr(s, '/');
+    char *a;
     size_t n;
+    int rc;
 
-    if (!slash || strchr(slash + 1, '/'))
+    if (!slash || strchr(slash + 1, '/') || slash == s || !slash[1])
         return bg_error_set(err, BG_EINVAL, "'%s': a B pair is written T1/T2, e.g. 25/85", s);
     n = (size_t)(slash - s);
-    if (n == 0 || n >= sizeof a || strlen(slash + 1) >= sizeof b || !slash[1])
-        return bg_error_set(err, BG_EINVAL, "'%s': a B pair is written T1/T2, e.g. 25/85", s);
+    if (!(a = malloc(n + 1))) /* the temperatures may be decimals of any length */
+        return bg_error_set(err, BG_ENOMEM, "out of memory");
     memcpy(a, s, n);
     a[n] = '\0';
-    strcpy(b, slash + 1);
     /* In a B-pair a bare number means degC: "B25/85" is the trade's notation. */
-    if (bg_units_parse_temp(a, BG_UNIT_C, t1_k, err) != BG_OK ||
-        bg_units_parse_temp(b, BG_UNIT_C, t2_k, err) != BG_OK) {
+    rc = bg_units_parse_temp(a, BG_UNIT_C, t1_k, err);
+    free(a);
+    if (rc != BG_OK || bg_units_parse_temp(slash + 1, BG_UNIT_C, t2_k, err) != BG_OK) {
         bg_error_prefix(err, "B pair '%s'", s);
         return BG_EINVAL;
     }
