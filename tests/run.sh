@@ -43,6 +43,8 @@ tally cli "$BUILD/cli-tests.log" $?
 
 sh tests/faults.sh "$BUILD/bandgap"
 count $? faults
+sh tests/records.sh "$BUILD/bandgap"
+count $? records
 sh tests/meta.sh "$BUILD/bandgap"
 count $? meta
 sh tests/reports.sh "$BUILD/bandgap" "$PYTHON" > "$BUILD/reports.log" 2>&1

@@ -486,20 +486,14 @@ static void chi2_notes(bg_fitter *fr, const bg_fit_opts *o, bg_fit *out)
     }
 }
 
-/* A non-finite coefficient or covariance after a fit the data passed is a failure of the
-** fitter, never a result. */
+/* A coefficient or covariance that is not finite is never a result: finite readings can still
+** overflow (resistances near 1e308 ohm), and the message names what overflowed. */
 static int check_finite(const bg_fit *out, const char *name, bg_error *err)
 {
-    for (size_t i = 0; i < out->npar; i++)
-        if (!isfinite(out->model.coef[i]))
-            return bg_error_set(err, BG_EINTERNAL, "model '%s': coefficient %zu came out "
-                                "as %g: internal error, the fit is not used", name, i + 1,
-                                out->model.coef[i]);
-    for (size_t i = 0; out->dof > 0 && i < out->npar * out->npar; i++)
-        if (!isfinite(out->cov[i]))
-            return bg_error_set(err, BG_EINTERNAL, "model '%s': the covariance came out "
-                                "non-finite: internal error, the fit is not used", name);
-    return BG_OK;
+    int rc = bg_model_check_finite(&out->model, out->dof > 0 ? out->cov : NULL, err);
+    if (rc != BG_OK)
+        bg_error_prefix(err, "model '%s'", name);
+    return rc;
 }
 
 /* The curve must stay monotonic over the calibrated range.  Where f' is monotonic in L > 0

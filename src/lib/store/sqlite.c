@@ -141,7 +141,19 @@ done:
 /* Apply migrations from the file's version to the newest, one transaction each.  The version
 ** is read again inside the transaction, so two processes opening an old file at once upgrade
 ** it once. */
+static int migrate_steps(bgi_conn *c, bg_error *err);
+/* Foreign keys are off while migrating (a migration may make a table again, SQLite's procedure
+** for a changed table; it checks the references itself before its commit). */
 static int migrate(bgi_conn *c, bg_error *err)
+{
+    sqlite3_exec(c->db, "PRAGMA foreign_keys = OFF", NULL, NULL, NULL);
+    int rc = migrate_steps(c, err);
+    if (sqlite3_exec(c->db, "PRAGMA foreign_keys = ON", NULL, NULL, NULL) != SQLITE_OK && !rc)
+        rc = bgi_db_fail(c, err, "cannot turn foreign keys on");
+    return rc;
+}
+
+static int migrate_steps(bgi_conn *c, bg_error *err)
 {
     int known = sq_schema_known();
     for (;;) {
