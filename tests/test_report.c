@@ -224,6 +224,31 @@ static void calibration_report(void **state)
     assert_null(r.readings);
 }
 
+/* Text that bypassed the door (an old record, or one edited outside the program): control
+** characters, a bidirectional override and invalid UTF-8 are shown as U+FFFD, never raw. */
+static void unclean_text_never_raw(void **state)
+{
+    (void)state;
+    bg_calib_report r;
+    bg_error err = BG_ERROR_INIT;
+    build_calib(&r, 7);
+    snprintf(r.run.serial, sizeof r.run.serial, "S\x1b]0;x\x07\xff\xe2\x80\xae" "9<");
+    snprintf(r.probe.serial, sizeof r.probe.serial, "%s", r.run.serial);
+    snprintf(r.readings[4].excl_reason, sizeof r.readings[4].excl_reason, "a\x1b[2Jb\xc0\xaf");
+    assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
+    bg_report_head h = { 42, "2026-03-02T10:00:00Z", "Lab\x9b", NULL, 0, NULL };
+    char *html = render("calibration", &r, &h);
+    assert_null(strchr(html, 0x1b));
+    assert_null(strchr(html, 0x07));
+    assert_null(strchr(html, (char)0xff));
+    assert_null(strstr(html, "\xe2\x80\xae"));
+    assert_non_null(strstr(html, "S\xef\xbf\xbd]0;x\xef\xbf\xbd\xef\xbf\xbd\xef\xbf\xbd" "9&lt;"));
+    assert_non_null(strstr(html, "a\xef\xbf\xbd[2Jb\xef\xbf\xbd\xef\xbf\xbd"));
+    assert_non_null(strstr(html, "Lab\xef\xbf\xbd"));
+    free(html);
+    bg_calib_report_release(&r);
+}
+
 static void calibration_report_without_covariance(void **state)
 {
     (void)state;
@@ -418,6 +443,7 @@ int main(void)
         cmocka_unit_test(kinds_table),
         cmocka_unit_test(calibration_report),
         cmocka_unit_test(calibration_report_without_covariance),
+        cmocka_unit_test(unclean_text_never_raw),
         cmocka_unit_test(lot_report),
         cmocka_unit_test(table_report),
         cmocka_unit_test(table_report_24_bits),

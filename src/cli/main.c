@@ -81,7 +81,7 @@ static int exit_status(int rc)
 
 static int finish(int status)
 {
-    if (fflush(stdout) != 0 || ferror(stdout)) {
+    if (fflush(stdout) != 0 || ferror(stdout) || fclose(stdout) != 0) {
         perror("bandgap: cannot write the output");
         return status == EX_OK ? EX_IOERR : status;
     }
@@ -99,6 +99,7 @@ int main(int argc, char **argv)
     int c;
 
     bg_gsl_handler_off();
+    cli_safe_streams();
     ctx.db_path = getenv("BANDGAP_DB");
     if (!ctx.db_path || !*ctx.db_path)
         ctx.db_path = "bandgap.db";

@@ -128,8 +128,15 @@ static int issue(bg_store *st, struct issue_ctx *c, const char *subject, long lo
                  const char *spec, bg_artifact *out, bg_error *err)
 {
     long long id = 0;
+    static const char *const name[3] = { "laboratory", "customer", "reason" };
+    const char *text[3] = { c->o->lab, c->o->customer, c->o->why };
     if (!spec)
         return bg_error_set(err, BG_ENOMEM, "out of memory");
+    for (int i = 0; i < 3; i++) {
+        int rc = text[i] ? bg_text_check(name[i], text[i], strlen(text[i]), err) : BG_OK;
+        if (rc != BG_OK)
+            return rc;
+    }
     bg_artifact_req req = { c->kind->artifact_kind, subject, fit_id, spec, c->o->replaces,
                             bg_version(), issue_gen, c };
     int rc = bg_store_artifact_issue(st, &req, &id, err);

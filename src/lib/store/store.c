@@ -23,7 +23,7 @@ static int check_text(const char *what, const char *s, size_t max, int required,
         return bg_error_set(err, BG_EINVAL, "%s must not be empty", what);
     if (n >= max)
         return bg_error_set(err, BG_EINVAL, "%s is longer than %zu bytes", what, max - 1);
-    return BG_OK;
+    return bg_text_check(what, s, n, err);
 }
 
 /* ---- opening: the scheme rule ---- */
