@@ -10,6 +10,8 @@
 #include <stdint.h>
 #include <time.h>
 
+#include <nettle/sha2.h>
+
 #include "bandgap/store.h"
 
 /* A backend's connection: each backend defines 'struct bgi_conn' in its own files (the
@@ -176,12 +178,10 @@ struct bg_store {
     char backup[4200];
 };
 
-/* SHA-256 (FIPS 180-4; sha256.c): init, feed any number of bytes, final. */
+/* SHA-256 (FIPS 180-4) from GNU Nettle (sha256.c adapts it): init, feed any number of
+** bytes, final. */
 struct bgi_sha256 {
-    uint32_t h[8];                 /* the hash value */
-    unsigned long long len;        /* bytes fed */
-    unsigned char buf[64];
-    size_t nbuf;
+    struct sha256_ctx ctx;
 };
 void bgi_sha256_init(struct bgi_sha256 *s);
 void bgi_sha256_update(struct bgi_sha256 *s, const void *data, size_t n);
