@@ -33,6 +33,7 @@ static const struct command commands[] = {
     { "lut",     cmd_lut,     "a firmware lookup table (ADC code -> temperature) as C, CSV or JSON" },
     { "eval",    cmd_eval,    "evaluate a model given inline: resistance to temperature and back" },
     { "curve",   cmd_curve,   "the R-T table of a stored fit or an inline model, with U" },
+    { "verify",  cmd_verify,  "check the whole record: integrity and the hash chain" },
     { "demo",    cmd_demo,    "run the whole job on built-in invented data" },
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
