@@ -119,7 +119,7 @@ static void calibration_report(void **state)
     bg_error err = BG_ERROR_INIT;
     build_calib(&r, 7);
     assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
-    bg_report_head h = { 42, "2026-03-02T10:00:00Z", "Invented lab", NULL, 0, NULL };
+    bg_report_head h = { 42, "2026-03-02T10:00:00Z", "Invented lab", NULL, 0, NULL, NULL };
     char *html = render("calibration", &r, &h);
 
     assert_non_null(strstr(html, "BG-CAL-000042"));
@@ -224,6 +224,31 @@ static void calibration_report(void **state)
     assert_null(r.readings);
 }
 
+/* Text that bypassed the door (an old record, or one edited outside the program): control
+** characters, a bidirectional override and invalid UTF-8 are shown as U+FFFD, never raw. */
+static void unclean_text_never_raw(void **state)
+{
+    (void)state;
+    bg_calib_report r;
+    bg_error err = BG_ERROR_INIT;
+    build_calib(&r, 7);
+    snprintf(r.run.serial, sizeof r.run.serial, "S\x1b]0;x\x07\xff\xe2\x80\xae" "9<");
+    snprintf(r.probe.serial, sizeof r.probe.serial, "%s", r.run.serial);
+    snprintf(r.readings[4].excl_reason, sizeof r.readings[4].excl_reason, "a\x1b[2Jb\xc0\xaf");
+    assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
+    bg_report_head h = { 42, "2026-03-02T10:00:00Z", "Lab\x9b", NULL, 0, NULL, NULL };
+    char *html = render("calibration", &r, &h);
+    assert_null(strchr(html, 0x1b));
+    assert_null(strchr(html, 0x07));
+    assert_null(strchr(html, (char)0xff));
+    assert_null(strstr(html, "\xe2\x80\xae"));
+    assert_non_null(strstr(html, "S\xef\xbf\xbd]0;x\xef\xbf\xbd\xef\xbf\xbd\xef\xbf\xbd" "9&lt;"));
+    assert_non_null(strstr(html, "a\xef\xbf\xbd[2Jb\xef\xbf\xbd\xef\xbf\xbd"));
+    assert_non_null(strstr(html, "Lab\xef\xbf\xbd"));
+    free(html);
+    bg_calib_report_release(&r);
+}
+
 static void calibration_report_without_covariance(void **state)
 {
     (void)state;
@@ -236,7 +261,7 @@ static void calibration_report_without_covariance(void **state)
     assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
     assert_true(isnan(r.u_max_k));
     assert_true(isnan(r.coverage));
-    bg_report_head h = { 1, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
+    bg_report_head h = { 1, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL, NULL };
     char *html = render("calibration", &r, &h);
     assert_non_null(strstr(html, "not available: the fit has no degrees of freedom"));
     assert_non_null(strstr(html, "not estimated (needs the measuring current"));
@@ -266,7 +291,7 @@ static void lot_report(void **state)
     bg_qa_lot_summary qs = BG_QA_LOT_SUMMARY_INIT;
     qs.flagged = 1;
     r.summary = &qs;
-    bg_report_head h = { 7, "2026-03-02T10:00:00Z", "Invented lab", "A & B", 5, "typo" };
+    bg_report_head h = { 7, "2026-03-02T10:00:00Z", "Invented lab", "A & B", 5, "typo", NULL };
     char *html = render("lot", &r, &h);
     assert_non_null(strstr(html, "BG-LOT-000007"));
     assert_non_null(strstr(html, "<h2>Probes (newest fit of each)</h2>"));
@@ -329,7 +354,7 @@ static void table_report(void **state)
         next = b->code_hi + 1;
     }
     assert_int_equal(next, r.table.code_hi + 1);
-    bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
+    bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL, NULL };
     char *html = render("table", &r, &h);
     char title[96];
     snprintf(title, sizeof title, "<title>Firmware table report table uniform %zu entries",
@@ -404,7 +429,7 @@ static void table_report_24_bits(void **state)
     assert_int_equal(bg_lut_make(&rq, &r, &err), BG_OK);
     assert_true(r.table.code_hi - r.table.code_lo > 1000000);
     assert_int_equal(r.ncurve, BG_LUT_ERROR_BANDS);
-    bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
+    bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL, NULL };
     char *html = render("table", &r, &h);
     assert_true(strlen(html) < 60000);
     free(html);
@@ -418,6 +443,7 @@ int main(void)
         cmocka_unit_test(kinds_table),
         cmocka_unit_test(calibration_report),
         cmocka_unit_test(calibration_report_without_covariance),
+        cmocka_unit_test(unclean_text_never_raw),
         cmocka_unit_test(lot_report),
         cmocka_unit_test(table_report),
         cmocka_unit_test(table_report_24_bits),

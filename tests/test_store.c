@@ -356,10 +356,11 @@ static void hostile_text_is_just_text(void **state)
     bg_probe p;
     bg_error err = BG_ERROR_INIT;
     const char *evil = "'; DROP TABLE probe; --";
-    assert_int_equal(bg_store_probe_add(st, evil, "L1", "\"quoted\"\nnote", NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, evil, "L1", "\"quoted\"\tnote <b>", NULL, NULL),
+                     BG_OK);
     assert_int_equal(bg_store_probe_get(st, evil, &p, NULL), BG_OK);
     assert_string_equal(p.serial, evil);
-    assert_string_equal(p.note, "\"quoted\"\nnote");
+    assert_string_equal(p.note, "\"quoted\"\tnote <b>");
     assert_int_equal(bg_store_probe_get(st, "P1", &p, NULL), BG_OK); /* the table is there */
     assert_int_equal(bg_store_probe_add(st, evil, "L1", NULL, NULL, &err), BG_EINVAL);
     assert_string_equal(err.msg, "probe ''; DROP TABLE probe; --' already exists");

@@ -20,6 +20,7 @@
 #include "bandgap/curve.h"
 #include "bandgap/csv.h"
 #include "bandgap/suggest.h"
+#include "bandgap/text.h"
 #include "bandgap/store.h"
 #include "bandgap/drift.h"
 #include "bandgap/stats.h"

@@ -9,8 +9,9 @@
 #include "bandgap/error.h"
 
 /* Write 's' to 'f' as a JSON string, quotes included: '"' and '\' escaped, the control
-** characters as \n, \r, \t or \u00XX; other bytes (UTF-8 included) as they are.  NULL writes
-** "". */
+** characters as \n, \r, \t or \uXXXX (so are DEL, the C1 controls and the bidirectional
+** controls, bg_text_forbidden); a byte that does not start valid UTF-8 as \ufffd, so the output
+** is valid JSON whatever 's' holds; other characters as they are.  NULL writes "". */
 BG_API void bg_json_write_string(FILE *f, const char *s);
 
 #endif

@@ -30,6 +30,9 @@ struct option;
 int cli_unknown_option(const char *cmd, const char *arg, const struct option *opts);
 /* Report 'err' as "bandgap: WHAT: MESSAGE" and return its code. */
 int cli_fail(const char *what, const bg_error *err);
+/* Route stdout and stderr through the filter that shows control characters and invalid UTF-8
+** as escapes (safeout.c); called once at the start of main. */
+void cli_safe_streams(void);
 
 /* A list of numbers "1.4e-3,2.37e-4" into 'v' (at most 'max'); BG_EINVAL on bad text. */
 int cli_parse_list(const char *s, double *v, size_t max, size_t *n, bg_error *err);
@@ -237,6 +240,7 @@ int cmd_report(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_eval(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_fit(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_demo(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_verify(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_init(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_lot(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_part(int argc, char **argv, struct cli_ctx *ctx);

@@ -347,7 +347,8 @@ static int write_report(const char *path, const bg_lut_result *r)
     bg_error err = BG_ERROR_INIT;
     char now[BG_TIME], *html = NULL;
     size_t len = 0;
-    bg_report_head h = { 0, bg_time_format(cli_clock(), now, sizeof now), NULL, NULL, 0, NULL };
+    bg_report_head h = { 0, bg_time_format(cli_clock(), now, sizeof now), NULL, NULL, 0, NULL,
+                         NULL };
     int rc = bg_report_render(bg_report_kind_find("table"), r, &h, &html, &len, &err);
     if (rc != BG_OK)
         return cli_fail("lut", &err);

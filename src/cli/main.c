@@ -33,6 +33,7 @@ static const struct command commands[] = {
     { "lut",     cmd_lut,     "a firmware lookup table (ADC code -> temperature) as C, CSV or JSON" },
     { "eval",    cmd_eval,    "evaluate a model given inline: resistance to temperature and back" },
     { "curve",   cmd_curve,   "the R-T table of a stored fit or an inline model, with U" },
+    { "verify",  cmd_verify,  "check the whole record: integrity and the hash chain" },
     { "demo",    cmd_demo,    "run the whole job on built-in invented data" },
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
@@ -81,7 +82,7 @@ static int exit_status(int rc)
 
 static int finish(int status)
 {
-    if (fflush(stdout) != 0 || ferror(stdout)) {
+    if (fflush(stdout) != 0 || ferror(stdout) || fclose(stdout) != 0) {
         perror("bandgap: cannot write the output");
         return status == EX_OK ? EX_IOERR : status;
     }
@@ -99,6 +100,7 @@ int main(int argc, char **argv)
     int c;
 
     bg_gsl_handler_off();
+    cli_safe_streams();
     ctx.db_path = getenv("BANDGAP_DB");
     if (!ctx.db_path || !*ctx.db_path)
         ctx.db_path = "bandgap.db";

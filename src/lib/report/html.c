@@ -5,24 +5,43 @@
 ** 180 mm wide, narrower than both, and figures and tables do not break across pages).
 ** Numbers shown rounded carry their full value in a data-v attribute. */
 #include <math.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <string.h>
 
 #include "bandgap/bandgap.h"
 #include "report/html_int.h"
 
-void bgi_html_esc(FILE *f, const char *s)
+/* s[0..n) as HTML text: the five markup characters as references; a byte that does not start
+** valid UTF-8 and a character no text field may hold (bg_text_forbidden: controls, bidirectional
+** overrides) as U+FFFD, so stored text can neither add markup nor reorder what is shown. */
+static void esc_n(FILE *f, const char *s, size_t n)
 {
-    for (; s && *s; s++) {
-        switch (*s) {
+    const unsigned char *p = (const unsigned char *)s;
+    for (size_t i = 0; i < n;) {
+        uint32_t cp;
+        size_t len = bg_utf8_decode(p + i, n - i, &cp);
+        if (len == 0 || (bg_text_forbidden(cp) && cp != '\n')) {
+            fputs("\xef\xbf\xbd", f);
+            i += len ? len : 1;
+            continue;
+        }
+        switch (cp) {
         case '<': fputs("&lt;", f); break;
         case '>': fputs("&gt;", f); break;
         case '&': fputs("&amp;", f); break;
         case '"': fputs("&quot;", f); break;
         case '\'': fputs("&#39;", f); break;
-        default: fputc(*s, f);
+        default: fwrite(p + i, 1, len, f);
         }
+        i += len;
     }
+}
+
+void bgi_html_esc(FILE *f, const char *s)
+{
+    if (s)
+        esc_n(f, s, strlen(s));
 }
 
 /* Text as a CSS string's content: quotes, backslashes and '<' (so no "</style>") escaped. */
@@ -141,9 +160,12 @@ void bgi_html_esc_units(FILE *f, const char *s)
             fputs("\xce\xa9", f);
             s += 3, prev = 'm';
         } else {
-            char one[2] = { *s, '\0' };
-            bgi_html_esc(f, one);
-            prev = *s++;
+            size_t n = 1;
+            while (s[n] && s[n] != 'd' && s[n] != 'o')
+                n++;
+            esc_n(f, s, n);
+            prev = s[n - 1];
+            s += n;
         }
     }
 }

@@ -23,8 +23,13 @@ static void table_head(FILE *f, const bg_lut_result *r, const bg_report_head *h)
     fprintf(f, "<tr><th>Model</th><td>%s", name);
     for (size_t i = 0; i < bg_model_npar(&s->model); i++)
         fprintf(f, " %s = %.9e", bg_model_coef_name(&s->model, i), s->model.coef[i]);
-    if (r->fit_id)
+    if (s->source) {
+        fputs(" (", f);
+        bgi_html_esc(f, s->source);
+        fputc(')', f);
+    } else if (r->fit_id) {
         fprintf(f, " (stored fit %lld)", r->fit_id);
+    }
     fputs("</td></tr>\n", f);
     fputs("<tr><th>Circuit</th><td>", f);
     bgi_html_esc_units(f, bg_circuit_describe(&s->circuit, cd, sizeof cd));

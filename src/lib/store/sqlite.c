@@ -178,6 +178,13 @@ static int migrate_steps(bgi_conn *c, bg_error *err)
             sq_rollback(c);
             return rc;
         }
+        /* the migration that adds the record chain chains the rows already there */
+        if (strstr(bgi_migrations[v].name, "-record-chain.sql") &&
+            (rc = bgi_sqlite_chain_backfill(c, err)) != BG_OK) {
+            bg_error_prefix(err, "schema migration '%s'", bgi_migrations[v].name);
+            sq_rollback(c);
+            return rc;
+        }
         if (sqlite3_exec(c->db, "COMMIT", NULL, NULL, NULL) != SQLITE_OK) {
             rc = bgi_db_fail(c, err, "cannot commit the schema upgrade");
             sq_rollback(c);
@@ -687,4 +694,5 @@ const struct bgi_store_backend bgi_store_sqlite = {
     bgi_sqlite_run_by_digest, bgi_sqlite_fit_newest_of_run, bgi_sqlite_fit_same,
     bgi_sqlite_part_spec_add, bgi_sqlite_part_spec_each,
     sq_names,
+    bgi_sqlite_chain_append, bgi_sqlite_chain_head, bgi_sqlite_verify, bgi_sqlite_chain_check,
 };

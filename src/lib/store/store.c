@@ -23,7 +23,7 @@ static int check_text(const char *what, const char *s, size_t max, int required,
         return bg_error_set(err, BG_EINVAL, "%s must not be empty", what);
     if (n >= max)
         return bg_error_set(err, BG_EINVAL, "%s is longer than %zu bytes", what, max - 1);
-    return BG_OK;
+    return bg_text_check(what, s, n, err);
 }
 
 /* ---- opening: the scheme rule ---- */
@@ -217,6 +217,13 @@ static int did_you_mean(bg_store *st, enum bgi_name_kind kind, const char *name,
     return bg_error_set(err, rc, "%s (did you mean '%s'?)%s", head, n.best, msg + k);
 }
 
+/* After a write that added row 'id' of table 'kind' (rc BG_OK): its record in the chain, in
+** the same transaction. */
+static int chained(bg_store *st, const char *kind, long long id, int rc, bg_error *err)
+{
+    return rc == BG_OK ? st->be->chain_append(st->conn, kind, id, err) : rc;
+}
+
 /* Write the queued fits in one backend call, and forget them. */
 static int fitq_flush(bg_store *st, bg_error *err)
 {
@@ -226,6 +233,8 @@ static int fitq_flush(bg_store *st, bg_error *err)
         return BG_OK;
     rc = st->be->fit_insert(st->conn, st->fitq, st->nfitq, bg_store_time(st, now, sizeof now),
                             err);
+    for (size_t i = 0; i < st->nfitq && rc == BG_OK; i++)
+        rc = chained(st, "fit", st->fitq[i].id, rc, err);
     fitq_drop(st);
     return rc;
 }
@@ -276,7 +285,11 @@ int bg_store_lot_add(bg_store *st, const bg_lot *lot, long long *id, bg_error *e
                             lot->code);
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
-    rc = st->be->lot_add(st->conn, lot, bg_store_time(st, now, sizeof now), id, err);
+    long long row = 0;
+    rc = st->be->lot_add(st->conn, lot, bg_store_time(st, now, sizeof now), &row, err);
+    rc = chained(st, "lot", row, rc, err);
+    if (rc == BG_OK && id)
+        *id = row;
     return tx_end(st, own, rc, err);
 }
 
@@ -307,8 +320,12 @@ int bg_store_probe_add(bg_store *st, const char *serial, const char *lot_code, c
         return rc;
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
+    long long row = 0;
     rc = st->be->probe_add(st->conn, serial, lot_code, note, bg_store_time(st, now, sizeof now),
-                           id, err);
+                           &row, err);
+    rc = chained(st, "probe", row, rc, err);
+    if (rc == BG_OK && id)
+        *id = row;
     return did_you_mean(st, BGI_NAME_LOT, lot_code, tx_end(st, own, rc, err), err);
 }
 
@@ -341,7 +358,11 @@ int bg_store_ref_add(bg_store *st, const bg_ref *ref, long long *id, bg_error *e
         return rc;
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
-    rc = st->be->ref_add(st->conn, ref, bg_store_time(st, now, sizeof now), id, err);
+    long long row = 0;
+    rc = st->be->ref_add(st->conn, ref, bg_store_time(st, now, sizeof now), &row, err);
+    rc = chained(st, "reference", row, rc, err);
+    if (rc == BG_OK && id)
+        *id = row;
     return tx_end(st, own, rc, err);
 }
 
@@ -525,7 +546,7 @@ static int import_run(bg_store *st, const bg_readings *rs, const bg_run *meta,
     imp->t_k = t_k;
     rc = st->be->import(st->conn, imp, run_id, err);
     free(t_k);
-    return rc;
+    return chained(st, "run", *run_id, rc, err);
 }
 
 /* The measuring current or voltage: a number with its unit, at most one of the two. */
@@ -654,6 +675,7 @@ int bg_store_exclude(bg_store *st, long long reading_id, const char *why, const 
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
     rc = st->be->exclude(st->conn, reading_id, why, by, bg_store_time(st, now, sizeof now), err);
+    rc = chained(st, "exclusion", reading_id, rc, err);
     return tx_end(st, own, rc, err);
 }
 
@@ -758,6 +780,7 @@ int bg_store_fit_save(bg_store *st, long long run_id, const bg_fit *fit,
         (rc = fitrow_of(run_id, fit, reading_ids, &r, err)) == BG_OK) {
         r.id = st->next_fit_id ? st->next_fit_id++ : 0;
         rc = st->be->fit_insert(st->conn, &r, 1, bg_store_time(st, now, sizeof now), err);
+        rc = chained(st, "fit", r.id, rc, err);
         if (rc == BG_OK && fit_id)
             *fit_id = r.id;
         free(r.ids);
@@ -891,11 +914,13 @@ static int issue(bg_store *st, const bg_artifact_req *req, long long *id, bg_err
     if (!latest && req->replaces_id)
         return bg_error_set(err, BG_EINVAL, "%s has no issued report to replace",
                             req->subject);
+    bg_chain_head head;
     bg_store_time(st, now, sizeof now);
-    if ((rc = req->gen(*id, now, req->ctx, &content, &len, err)) != BG_OK)
+    if ((rc = st->be->chain_head(st->conn, &head.records, head.hash, err)) != BG_OK ||
+        (rc = req->gen(*id, now, &head, req->ctx, &content, &len, err)) != BG_OK)
         return rc;
     row.id = *id, row.req = req, row.content = content, row.len = len, row.now = now;
-    rc = st->be->artifact_insert(st->conn, &row, err);
+    rc = chained(st, "artifact", *id, st->be->artifact_insert(st->conn, &row, err), err);
     free(content);
     return rc;
 }
@@ -916,7 +941,11 @@ int bg_store_artifact_issue(bg_store *st, const bg_artifact_req *req, long long 
 
 int bg_store_artifact_get(bg_store *st, long long id, bg_artifact *out, bg_error *err)
 {
-    return st->be->artifact_get(st->conn, id, out, err);
+    /* a stored report is served only as it was issued */
+    int rc = st->be->artifact_get(st->conn, id, out, err);
+    if (rc == BG_OK && (rc = st->be->chain_check(st->conn, "artifact", id, err)) != BG_OK)
+        bg_artifact_release(out);
+    return rc;
 }
 
 int bg_store_artifact_each(bg_store *st, bg_artifact_cb cb, void *ctx, bg_error *err)
@@ -968,7 +997,11 @@ int bg_store_part_spec_add(bg_store *st, const bg_part_spec *p, long long *id, b
         return rc;
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
-    rc = st->be->part_spec_add(st->conn, p, bg_store_time(st, now, sizeof now), id, err);
+    long long row = 0;
+    rc = st->be->part_spec_add(st->conn, p, bg_store_time(st, now, sizeof now), &row, err);
+    rc = chained(st, "part_spec", row, rc, err);
+    if (rc == BG_OK && id)
+        *id = row;
     return tx_end(st, own, rc, err);
 }
 
@@ -989,4 +1022,16 @@ int bg_store_part_spec_each(bg_store *st, const char *part, bg_part_spec_cb cb, 
                             bg_error *err)
 {
     return st->be->part_spec_each(st->conn, part, 0, cb, ctx, err);
+}
+
+/* ---- the record's defences ---- */
+
+int bg_store_chain_head(bg_store *st, long long *records, char head[65], bg_error *err)
+{
+    return st->be->chain_head(st->conn, records, head, err);
+}
+
+int bg_store_verify(bg_store *st, bg_store_check *out, bg_error *err)
+{
+    return st->be->verify(st->conn, out, err);
 }
