@@ -1,5 +1,5 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* The SQLite backend's record chain (schema db/006-record-chain.sql): each appended record is
+/* The SQLite backend's record chain (schema db/007-record-chain.sql): each appended record is
 ** chained to the one before it by SHA-256 (GNU Nettle, through sha256.c), and the chain, the
 ** database's own checks and the tables are verified together.
 **

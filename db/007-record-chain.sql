@@ -1,5 +1,5 @@
 -- SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
--- Schema version 6: the record defends itself.
+-- Schema version 7: the record defends itself.
 -- 1. Every appended record (a lot, a probe, a reference thermometer, a part's specification,
 --    a run with its readings, an exclusion, a fit, an issued report) is chained to the one
 --    before it: 'hash' is the SHA-256 of the previous record's hash and a canonical encoding
