@@ -9,6 +9,7 @@
 #include <stddef.h>
 #include <time.h>
 
+#include "bandgap/csv.h"
 #include "bandgap/error.h"
 #include "bandgap/fit.h"
 #include "bandgap/model.h"
@@ -134,6 +135,21 @@ typedef struct bg_run {
 ** given when the reference is not past its due date. */
 BG_API int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta,
                            long long *run_id, bg_error *err);
+
+/* The same from the readings file 'path' ("-" reads standard input) in memory independent of
+** the file's size: the file is read twice, once to check every line and digest the readings
+** before anything is written, then again inside the transaction to write them (standard
+** input is copied to a temporary file for that; a file that changes in between is BG_EIO and
+** nothing is written).  Errors as bg_csv_reader_open() and bg_csv_reader_next() ("FILE:LINE:
+** field 'NAME': why"), then as bg_store_import(), in that order.  '*n' (may be NULL) gets
+** the number of readings. */
+BG_API int bg_store_import_file(bg_store *st, const char *path, const bg_run *meta,
+                                long long *run_id, size_t *n, bg_error *err);
+
+/* The same from the reader 'rd' positioned at its first reading, which is read to its end
+** twice (rewound in between: a stream that cannot seek needs BG_CSV_TWICE). */
+BG_API int bg_store_import_reader(bg_store *st, bg_csv_reader *rd, const bg_run *meta,
+                                  long long *run_id, size_t *n, bg_error *err);
 
 BG_API int bg_store_run_get(bg_store *st, long long run_id, bg_run *out, bg_error *err);
 /* What run 'r' was measured with, for people: "measuring current 10 \xC2\xB5A", "measuring

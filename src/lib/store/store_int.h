@@ -33,12 +33,15 @@ struct bgi_fitrow {
 };
 #define BGI_FITQ 32
 
-/* A checked import: the run's values and each reading's corrected temperature. */
+/* A checked import: the run's values, and its 'n' readings from 'next' in file order with
+** their corrected temperatures (K); 'next' is BG_OK with '*r' NULL after the last one, and
+** its reading is valid until the next call. */
 struct bgi_import {
-    const bg_readings *rs;
     const bg_run *meta;
     long long probe_id, ref_id;     /* ref_id 0: none */
-    const double *t_k;              /* rs->n corrected temperatures, K */
+    size_t n;
+    int (*next)(void *ctx, const bg_reading **r, double *t_k, bg_error *err);
+    void *ctx;
     const char *src, *unit;         /* the source's name; the unit of the raw values */
     const char *started_at, *now;
     /* schema 3: the readings' digest (hex), the earlier run this one repeats on purpose (0:
