@@ -131,14 +131,29 @@ def pdf_pages_text(pdf):
     """The text of each page of a PDF as Chromium (Skia) writes it: objects with Flate
     streams, Type0 fonts with ToUnicode CMaps (PDF 32000-1:2008, 9.10.3), text shown with
     Tj/TJ in hex strings (7.3.4.3), pages in the order of the page tree (7.7.3)."""
-    objs = {}
-    for m in re.finditer(rb"(\d+) 0 obj(.*?)endobj", pdf, re.S):
-        objs[int(m.group(1))] = m.group(2)
+    # Objects in file order; a stream is skipped by its /Length (7.3.8.1), since its bytes
+    # may hold "endobj" or "endstream" by chance.
+    objs, pos = {}, 0
+    obj_rx, kw_rx = re.compile(rb"(\d+) 0 obj"), re.compile(rb"stream\r?\n|endobj")
+    while (m := obj_rx.search(pdf, pos)):
+        k = kw_rx.search(pdf, m.end())
+        if not k:
+            break
+        end = k.start()
+        ln = re.search(rb"/Length (\d+)(?! \d+ R)", pdf[m.end():k.start()])
+        if k.group(0).startswith(b"stream") and ln:
+            end = pdf.index(b"endobj", k.end() + int(ln.group(1)))
+        elif k.group(0).startswith(b"stream"):
+            end = pdf.index(b"endobj", k.end())
+        objs[int(m.group(1))] = pdf[m.end():end]
+        pos = end + 6
 
     def stream(n):
         b = objs[n]
-        m = re.search(rb"stream\r?\n(.*?)\r?\nendstream", b, re.S)
-        data = m.group(1)
+        m = re.search(rb"stream\r?\n", b)
+        ln = re.search(rb"/Length (\d+)(?! \d+ R)", b[:m.start()])
+        data = b[m.end():m.end() + int(ln.group(1))] if ln else \
+            re.search(rb"(.*?)\r?\nendstream", b[m.end():], re.S).group(1)
         return zlib.decompress(data) if b"/FlateDecode" in b[:m.start()] else data
 
     def cmap(n):
