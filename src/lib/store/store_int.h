@@ -60,7 +60,7 @@ enum bgi_name_kind { BGI_NAME_PROBE, BGI_NAME_LOT, BGI_NAME_REF, BGI_NAME_PART }
 /* Called with each name; nonzero stops the walk. */
 typedef int (*bgi_name_cb)(const char *name, void *ctx);
 
-#define BGI_STORE_BACKEND_VERSION 4
+#define BGI_STORE_BACKEND_VERSION 5
 
 /* Every function takes the connection first and 'err' last, and returns a bg_status unless
 ** said otherwise.  Write functions run inside a transaction that store.c opened (in_tx is
@@ -159,6 +159,13 @@ struct bgi_store_backend {
     ** absent; store.c then offers the nearest of these names (did_you_mean). */
     int (*names)(bgi_conn *c, enum bgi_name_kind kind, bgi_name_cb cb, void *ctx,
                  bg_error *err);
+
+    /* version 5: the lot-wide read paths, each one query or a few statements prepared once
+    ** (store.h: bg_store_lot_histories, bg_store_export_each; the probe or lot exists) */
+    int (*lot_histories)(bgi_conn *c, long long lot_id, const char *since,
+                         bg_lot_histories_cb cb, void *ctx, bg_error *err);
+    int (*export_each)(bgi_conn *c, const char *serial, long long lot_id,
+                       const bg_export_cbs *cbs, void *ctx, bg_error *err);
 };
 
 /* The backends (sqlite.c, ...); store.c lists them by scheme. */
