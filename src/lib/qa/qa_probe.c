@@ -111,9 +111,10 @@ int bgi_qa_probe_compare(bg_qa_probe *p, const bg_qa_opts *o, bg_error *err)
 {
     int rc;
     if (p->n >= 2) {
+        /* the comparisons with the first only when asked for (a lot report does not) */
         p->since_previous = calloc(p->n - 1, sizeof *p->since_previous);
-        p->since_first = calloc(p->n - 1, sizeof *p->since_first);
-        if (!p->since_previous || !p->since_first)
+        p->since_first = o->since_first ? calloc(p->n - 1, sizeof *p->since_first) : NULL;
+        if (!p->since_previous || (o->since_first && !p->since_first))
             return bg_error_set(err, BG_ENOMEM, "out of memory comparing %zu calibrations",
                                 p->n);
     }
