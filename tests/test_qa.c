@@ -1,13 +1,15 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* QA results computed from a calibration record (qa.h): a lot's statistics and a part's
 ** control charts against values computed independently with numpy/scipy for the invented
-** coefficients below, and the histories that once had fixed caps (a probe's 64 calibrations,
-** a part's 256 lots) read in full.  Each probe's calibration is a beta curve with invented R25
+** coefficients below, the histories that once had fixed caps (a probe's 64 calibrations,
+** a part's 256 lots) read in full, and the lot report's content read in a fixed number of
+** queries, equal to what the per-probe reads give.  Each probe's calibration is a beta curve with invented R25
 ** and B, made as noise-free readings, imported and fitted through the library. */
 #include <sys/stat.h>
 #include <unistd.h>
 
 #include "testutil.h"
+#include "../src/lib/store/sqlite_int.h"
 
 static char dir[256];
 
@@ -359,6 +361,113 @@ static void part_of_300_lots(void **state)
     bg_store_close(st);
 }
 
+static int count_stmt(unsigned type, void *ctx, void *p, void *x)
+{
+    (void)type, (void)p, (void)x;
+    ++*(long *)ctx;
+    return 0;
+}
+
+/* The statements bg_qa_lot_summarize runs for lot 'code' (counted, not timed). */
+static long summary_statements(bg_store *st, const char *code, const bg_qa_opts *o,
+                               bg_qa_lot_summary *s)
+{
+    long n = 0;
+    sqlite3_trace_v2(st->conn->db, SQLITE_TRACE_PROFILE, count_stmt, &n);
+    assert_int_equal(bg_qa_lot_summarize(st, code, o, s, NULL), BG_OK);
+    sqlite3_trace_v2(st->conn->db, 0, NULL, NULL);
+    return n;
+}
+
+/* Probe 'p' of a summary against bg_qa_probe_drift of the same probe (since the previous
+** calibration only, as the summary compares). */
+static void same_as_probe_drift(bg_store *st, const bg_qa_probe *p, const bg_qa_opts *qo)
+{
+    bg_qa_opts o = *qo;
+    bg_qa_probe q = BG_QA_PROBE_INIT;
+    o.since_first = 0;
+    assert_int_equal(bg_qa_probe_drift(st, p->serial, &o, &q, NULL), BG_OK);
+    assert_int_equal(p->lot.id, q.lot.id);
+    assert_string_equal(p->lot.code, q.lot.code);
+    assert_int_equal(p->lot.nprobes, q.lot.nprobes);
+    assert_true(p->limit_k == q.limit_k && p->rate_k == q.rate_k);
+    assert_int_equal(p->limit_from, q.limit_from);
+    assert_int_equal(p->rate_from, q.rate_from);
+    assert_int_equal(p->have_history, q.have_history);
+    assert_int_equal(p->n, q.n);
+    assert_int_equal(p->unfitted, q.unfitted);
+    for (size_t i = 0; i < p->n; i++) {
+        assert_memory_equal(&p->fits[i], &q.fits[i], sizeof p->fits[i]);
+        assert_string_equal(p->started_at[i], q.started_at[i]);
+    }
+    assert_int_equal(p->nprev, q.nprev);
+    if (p->nprev)
+        assert_memory_equal(p->since_previous, q.since_previous,
+                            p->nprev * sizeof p->since_previous[0]);
+    assert_int_equal(p->nfirst, 0);
+    assert_int_equal(q.nfirst, 0);
+    assert_int_equal(p->flagged, q.flagged);
+    bg_qa_probe_release(&q);
+}
+
+/* The lot report's content: each probe's drift read for the whole lot in one query gives what
+** the per-probe reads give (several probes, three calibrations each, one calibrated once, one
+** never), with and without a baseline date and a limit; the number of statements run does not
+** grow with the number of probes. */
+static void lot_summary_matches_per_probe_drift(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("summary.db");
+    static const char *const when[3] = { "2025-01-15T08:00:00Z", "2025-07-15T08:00:00Z",
+                                         "2026-01-15T08:00:00Z" };
+    long nstmt[2] = { 0, 0 };
+    add_lot(st, "L1", "NTC");
+    add_lot(st, "L2", "NTC");
+    assert_int_equal(bg_store_probe_add(st, "X1", "L2", NULL, NULL, NULL), BG_OK);
+    calibrate(st, "X1", 10003.1, 3951.0, when[0]);
+    calibrate(st, "X1", 10004.2, 3951.0, when[1]);
+    for (int k = 0; k < 2; k++) {
+        for (int i = 4 * k; i < 4 * k + 4; i++) {
+            char serial[32];
+            snprintf(serial, sizeof serial, "P%d", 7 - i); /* added against serial order */
+            assert_int_equal(bg_store_probe_add(st, serial, "L1", NULL, NULL, NULL), BG_OK);
+            int ncal = i == 1 ? 1 : i == 2 ? 0 : 3;
+            for (int c = 0; c < ncal; c++) /* R25 creeps up 0.03 % a calibration (invented) */
+                calibrate(st, serial, lot_r25[i] * (1 + 3e-4 * c), lot_b[i], when[c]);
+        }
+        for (int v = 0; v < 3; v++) {
+            bg_qa_opts o = bg_qa_default_opts();
+            bg_qa_lot_summary s = BG_QA_LOT_SUMMARY_INIT;
+            if (v == 1)
+                o.since = "2025-06-01T00:00:00Z";
+            if (v == 2)
+                o.limit_k = 0.01;
+            long n = summary_statements(st, "L1", &o, &s);
+            if (v == 0)
+                nstmt[k] = n;
+            assert_int_equal(s.nprobes, 4 * (size_t)k + 4);
+            for (size_t i = 1; i < s.nprobes; i++) /* by serial */
+                assert_true(strcmp(s.probes[i - 1].serial, s.probes[i].serial) < 0);
+            for (size_t i = 0; i < s.nprobes; i++)
+                same_as_probe_drift(st, &s.probes[i], &o);
+            if (k == 1 && v == 0) {
+                /* P7 (lot_r25[0]): R25 ratio 1.0006 / 1.0003 between its last two fits:
+                ** d_r25 = 100 (1.0006 / 1.0003 - 1) % (definition) */
+                const bg_qa_probe *p7 = &s.probes[s.nprobes - 1];
+                assert_string_equal(p7->serial, "P7");
+                assert_int_equal(p7->n, 3);
+                assert_close(p7->since_previous[1].d.d_r25_pct, 100 * (1.0006 / 1.0003 - 1),
+                             1e-6, 0);
+                assert_int_equal(s.probes[s.nprobes - 3].n, 0);  /* P5: never calibrated */
+                assert_int_equal(s.probes[s.nprobes - 2].n, 1);  /* P6: once */
+            }
+            bg_qa_lot_summary_release(&s);
+        }
+    }
+    assert_int_equal(nstmt[1], nstmt[0]);
+    bg_store_close(st);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -368,6 +477,7 @@ int main(void)
         cmocka_unit_test(part_charts_against_numpy),
         cmocka_unit_test(probe_history_keeps_all_100),
         cmocka_unit_test(part_of_300_lots),
+        cmocka_unit_test(lot_summary_matches_per_probe_drift),
     };
     return cmocka_run_group_tests_name("qa", tests, setup, teardown);
 }

@@ -1,12 +1,13 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* The calibration database: schema identity and versions, append-only history, atomic
-** imports, exact round trips of readings and fits, exclusions, and hostile text. */
+** imports, exact round trips of readings and fits, exclusions, hostile text, and the lot-wide
+** read paths (one query, or statements prepared once) against the per-probe lookups. */
 #include <sqlite3.h>
 #include <sys/stat.h>
 #include <unistd.h>
 
 #include "testutil.h"
-#include "../src/lib/store/store_int.h"
+#include "../src/lib/store/sqlite_int.h"
 
 static char dir[256];
 
@@ -748,6 +749,538 @@ static void unknown_names_get_the_nearest(void **state)
     bg_store_close(st);
 }
 
+/* ---- the lot-wide read paths ---- */
+
+/* Import make_readings() (resistances scaled by 'scale') as a run of 'serial' started at
+** 'when'; fit it with each model of 'models' (space separated, "" for none), in order. */
+static long long add_run(bg_store *st, const char *serial, const char *when, double scale,
+                         const char *models)
+{
+    bg_readings rs = make_readings();
+    bg_run meta;
+    long long run;
+    char list[64], *save = NULL;
+    for (size_t i = 0; i < rs.n; i++)
+        rs.v[i].pt.r_ohm *= scale;
+    memset(&meta, 0, sizeof meta);
+    snprintf(meta.serial, sizeof meta.serial, "%s", serial);
+    snprintf(meta.started_at, sizeof meta.started_at, "%s", when);
+    strcpy(meta.source, "r.csv");
+    meta.new_run = 1;
+    assert_int_equal(bg_store_import(st, &rs, &meta, &run, NULL), BG_OK);
+    snprintf(list, sizeof list, "%s", models);
+    for (char *m = strtok_r(list, " ", &save); m; m = strtok_r(NULL, " ", &save)) {
+        bg_store_points sp = BG_STORE_POINTS_INIT;
+        bg_fit f = BG_FIT_INIT;
+        bg_model mod;
+        assert_int_equal(bg_model_parse(m, &mod, NULL), BG_OK);
+        bg_fit_opts o = bg_fit_default_opts(&mod);
+        assert_int_equal(bg_store_run_points(st, run, &sp, NULL), BG_OK);
+        assert_int_equal(bg_fit_points(sp.pts, sp.n, &o, &f, NULL), BG_OK);
+        assert_int_equal(bg_store_fit_save(st, run, &f, sp.ids, NULL, NULL), BG_OK);
+        bg_fit_release(&f);
+        bg_store_points_release(&sp);
+    }
+    bg_readings_release(&rs);
+    return run;
+}
+
+/* Lot L1 (from fresh(): probe P1) with probes added out of serial order: P1 with a run fitted
+** twice (the newer fit counts), a later run with an excluded reading, and a run imported last
+** but started between them, never fitted; P3 with two runs started at the same time; P2 with
+** one unfitted run; P0 without runs.  Lot L2 beside it with probe Q1. */
+static bg_store *lot_record(const char *name)
+{
+    bg_store *st = fresh(name);
+    bg_lot lot;
+    bg_store_points sp = BG_STORE_POINTS_INIT;
+    memset(&lot, 0, sizeof lot);
+    strcpy(lot.code, "L2"), strcpy(lot.part, "NTC");
+    lot.r25_ohm = 10000, lot.beta_k = 3950, lot.pair_t1_k = 298.15, lot.pair_t2_k = 358.15;
+    lot.tol_r25 = 0.01, lot.tol_beta = 0.01;
+    assert_int_equal(bg_store_lot_add(st, &lot, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "Q1", "L2", NULL, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "P3", "L1", NULL, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "P2", "L1", NULL, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "P0", "L1", NULL, NULL, NULL), BG_OK);
+    add_run(st, "P1", "2026-01-10T08:00:00Z", 1.0, "sh3 beta");
+    long long b = add_run(st, "P1", "2026-03-10T08:00:00Z", 1.0003, "");
+    assert_int_equal(bg_store_run_points(st, b, &sp, NULL), BG_OK);
+    assert_int_equal(bg_store_exclude(st, sp.ids[1], "bath not settled", "A. Tester", NULL),
+                     BG_OK);
+    bg_store_points_release(&sp);
+    add_run(st, "P1", "2026-03-10T08:00:00Z", 1.0003, "sh3");
+    add_run(st, "Q1", "2026-01-12T08:00:00Z", 1.0007, "sh3");
+    add_run(st, "P3", "2026-02-01T08:00:00Z", 0.9998, "sh4");
+    add_run(st, "P3", "2026-02-01T08:00:00Z", 0.9996, "sh3");
+    add_run(st, "P2", "2026-02-03T08:00:00Z", 1.0001, "");
+    add_run(st, "P1", "2026-02-10T08:00:00Z", 1.0002, "");
+    return st;
+}
+
+/* The per-probe reference: a probe's runs (bg_store_run_each), in start order, each with the
+** newest fit by bg_store_run_fit and bg_store_fit_get, one lookup per run. */
+struct ref_run { long long id, fit; char when[BG_TIME]; };
+struct ref_hist { struct ref_run r[16]; size_t n; const char *since; };
+
+static int ref_run_cb(const bg_run *r, void *ctx)
+{
+    struct ref_hist *h = ctx;
+    if (h->since && strcmp(r->started_at, h->since) < 0)
+        return 0;
+    assert_true(h->n < 16);
+    h->r[h->n].id = r->id;
+    snprintf(h->r[h->n].when, BG_TIME, "%s", r->started_at);
+    h->n++;
+    return 0;
+}
+
+static int ref_run_cmp(const void *a, const void *b)
+{
+    const struct ref_run *x = a, *y = b;
+    int c = strcmp(x->when, y->when);
+    return c ? c : (x->id > y->id) - (x->id < y->id);
+}
+
+static void ref_history(bg_store *st, const char *serial, const char *since,
+                        struct ref_hist *h)
+{
+    memset(h, 0, sizeof *h);
+    h->since = since;
+    assert_int_equal(bg_store_run_each(st, serial, NULL, ref_run_cb, h, NULL), BG_OK);
+    qsort(h->r, h->n, sizeof h->r[0], ref_run_cmp);
+    for (size_t i = 0; i < h->n; i++)
+        assert_int_equal(bg_store_run_fit(st, h->r[i].id, &h->r[i].fit, NULL), BG_OK);
+}
+
+static void same_fit(bg_store *st, const bg_fit_row *f, long long id)
+{
+    bg_fit_row g;
+    assert_int_equal(bg_store_fit_get(st, id, &g, NULL), BG_OK);
+    assert_memory_equal(f, &g, sizeof g); /* both rows are zeroed before they are filled */
+}
+
+struct hist_check { bg_store *st; const char *since; char seen[8][BG_TEXT]; size_t n; };
+
+static int histories_cb(const char *serial, const bg_fit_row *fits,
+                        char (*started_at)[BG_TIME], size_t n, size_t unfitted, void *ctx)
+{
+    struct hist_check *c = ctx;
+    struct ref_hist h;
+    size_t k = 0, nofit = 0;
+    snprintf(c->seen[c->n++], BG_TEXT, "%s", serial);
+    ref_history(c->st, serial, c->since, &h);
+    for (size_t i = 0; i < h.n; i++) {
+        if (!h.r[i].fit) {
+            nofit++;
+            continue;
+        }
+        assert_true(k < n);
+        same_fit(c->st, &fits[k], h.r[i].fit);
+        assert_string_equal(started_at[k], h.r[i].when);
+        k++;
+    }
+    assert_int_equal(n, k);
+    assert_int_equal(unfitted, nofit);
+    return 0;
+}
+
+static int probe_history_cb(const char *started_at, long long run_id, const bg_fit_row *fit,
+                            void *ctx)
+{
+    struct ref_hist *h = ctx;
+    assert_true(h->n < 16);
+    h->r[h->n].id = run_id;
+    h->r[h->n].fit = fit ? fit->id : 0;
+    snprintf(h->r[h->n].when, BG_TIME, "%s", started_at);
+    h->n++;
+    return 0;
+}
+
+/* bg_store_lot_histories and bg_store_probe_history (one query each) give the rows that the
+** per-probe, per-run lookups give, with and without 'since'. */
+static void lot_histories_match_per_probe_lookups(void **state)
+{
+    (void)state;
+    bg_store *st = lot_record("h.db");
+    const char *since[3] = { NULL, "2026-02-01T08:00:00Z", "2027-01-01T00:00:00Z" };
+    static const char *const serials[4] = { "P0", "P1", "P2", "P3" };
+    for (int run = 0; run < 2; run++) /* twice: the cached statements give the same again */
+        for (int s = 0; s < 3; s++) {
+            struct hist_check c;
+            memset(&c, 0, sizeof c);
+            c.st = st, c.since = since[s];
+            assert_int_equal(bg_store_lot_histories(st, "L1", since[s], histories_cb, &c, NULL),
+                             BG_OK);
+            assert_int_equal(c.n, 4); /* by serial, P0 without runs included, not Q1 */
+            for (size_t i = 0; i < 4; i++)
+                assert_string_equal(c.seen[i], serials[i]);
+            for (size_t i = 0; i < 4; i++) {
+                struct ref_hist h, g;
+                ref_history(st, serials[i], since[s], &h);
+                memset(&g, 0, sizeof g);
+                assert_int_equal(bg_store_probe_history(st, serials[i], since[s],
+                                                        probe_history_cb, &g, NULL), BG_OK);
+                assert_int_equal(g.n, h.n);
+                for (size_t k = 0; k < h.n; k++) {
+                    assert_int_equal(g.r[k].id, h.r[k].id);
+                    assert_int_equal(g.r[k].fit, h.r[k].fit);
+                    assert_string_equal(g.r[k].when, h.r[k].when);
+                }
+            }
+        }
+    bg_error err = BG_ERROR_INIT;
+    assert_int_equal(bg_store_lot_histories(st, "L3", NULL, histories_cb, NULL, &err),
+                     BG_EINVAL);
+    assert_non_null(strstr(err.msg, "unknown lot 'L3'"));
+    bg_store_close(st);
+}
+
+struct latest_check { bg_store *st; const char *since; long long last_id; size_t n, nfit; };
+
+static int latest_cb(const char *serial, const bg_fit_row *fit, void *ctx)
+{
+    struct latest_check *c = ctx;
+    struct ref_hist h;
+    bg_probe p;
+    assert_int_equal(bg_store_probe_get(c->st, serial, &p, NULL), BG_OK);
+    assert_true(p.id > c->last_id); /* in the order the probes were added */
+    c->last_id = p.id;
+    c->n++;
+    ref_history(c->st, serial, c->since, &h);
+    long long want = h.n ? h.r[h.n - 1].fit : 0; /* the newest fit of the latest run */
+    if (!want) {
+        assert_null(fit);
+        return 0;
+    }
+    assert_non_null(fit);
+    same_fit(c->st, fit, want);
+    c->nfit++;
+    return 0;
+}
+
+/* bg_store_lot_latest_fits (one query) gives each probe's current fit as the per-probe
+** lookups find it: the newest fit of the latest run since 'since', or none. */
+static void lot_latest_fits_match_per_probe_lookups(void **state)
+{
+    (void)state;
+    bg_store *st = lot_record("l.db");
+    const char *since[3] = { NULL, "2026-02-01T08:00:00Z", "2027-01-01T00:00:00Z" };
+    const size_t nfit[3] = { 2, 2, 0 };
+    for (int run = 0; run < 2; run++)
+        for (int s = 0; s < 3; s++) {
+            struct latest_check c = { st, since[s], 0, 0, 0 };
+            assert_int_equal(bg_store_lot_latest_fits(st, "L1", since[s], latest_cb, &c, NULL),
+                             BG_OK);
+            assert_int_equal(c.n, 4);
+            /* P1: latest run (2026-03-10, imported third) fitted; P3: the later-imported of
+            ** two runs at the same time, fitted; P2 unfitted; P0 no runs */
+            assert_int_equal(c.nfit, nfit[s]);
+        }
+    bg_store_close(st);
+}
+
+/* An export walk written as text, one line per event, from bg_store_export_each or from the
+** per-probe listings. */
+struct log { char *buf; size_t len, cap; };
+
+static void logf_(struct log *l, const char *fmt, ...)
+{
+    va_list ap;
+    if (l->cap - l->len < 512) {
+        l->cap = l->cap ? 2 * l->cap : 4096;
+        l->buf = realloc(l->buf, l->cap);
+        assert_non_null(l->buf);
+    }
+    va_start(ap, fmt);
+    l->len += (size_t)vsnprintf(l->buf + l->len, l->cap - l->len, fmt, ap);
+    va_end(ap);
+}
+
+static int log_probe(const bg_probe *p, void *ctx)
+{
+    logf_(ctx, "probe %lld %s %s %lld %lld\n", p->id, p->serial, p->lot_code, p->nruns, p->nfits);
+    return 0;
+}
+
+static int log_run(const bg_run *r, void *ctx)
+{
+    logf_(ctx, "run %lld %s %s %lld %lld %lld %s\n", r->id, r->serial, r->started_at,
+          r->nreadings, r->nexcluded, r->nfits, r->readings_sha256);
+    return 0;
+}
+
+static int log_reading(const bg_reading_row *g, void *ctx)
+{
+    logf_(ctx, "reading %lld %lld %zu %.17g %.17g %.17g %s %s %d %s %s\n", g->id, g->run_id,
+          g->line, g->t_k, g->r_ohm, g->u_r_ohm, g->time, g->note, g->excluded, g->excl_reason,
+          g->excl_by);
+    return 0;
+}
+
+static int log_run_end(const bg_run *r, void *ctx)
+{
+    logf_(ctx, "end run %lld\n", r->id);
+    return 0;
+}
+
+static int log_fits(const bg_probe *p, void *ctx)
+{
+    logf_(ctx, "fits of %s\n", p->serial);
+    return 0;
+}
+
+static int log_fit(const bg_fit_row *f, void *ctx)
+{
+    logf_(ctx, "fit %lld %lld %s %zu %.17g %.17g %.17g %.17g %s\n", f->id, f->run_id, f->serial,
+          f->npar, f->model.coef[0], f->model.coef[1], f->cov[0], f->rms_mk, f->created_at);
+    return 0;
+}
+
+static int log_probe_end(const bg_probe *p, void *ctx)
+{
+    logf_(ctx, "end probe %s\n", p->serial);
+    return 0;
+}
+
+struct ref_walk { bg_store *st; struct log *l; };
+
+static int ref_walk_run(const bg_run *r, void *ctx)
+{
+    struct ref_walk *w = ctx;
+    log_run(r, w->l);
+    assert_int_equal(bg_store_reading_each(w->st, r->id, log_reading, w->l, NULL), BG_OK);
+    log_run_end(r, w->l);
+    return 0;
+}
+
+static int ref_walk_fit(const bg_fit_row *f, void *ctx)
+{
+    return log_fit(f, ((struct ref_walk *)ctx)->l);
+}
+
+static int ref_walk_probe(const bg_probe *p, void *ctx)
+{
+    struct ref_walk *w = ctx;
+    log_probe(p, w->l);
+    assert_int_equal(bg_store_run_each(w->st, p->serial, NULL, ref_walk_run, w, NULL), BG_OK);
+    log_fits(p, w->l);
+    assert_int_equal(bg_store_fit_each(w->st, p->serial, NULL, ref_walk_fit, w, NULL), BG_OK);
+    log_probe_end(p, w->l);
+    return 0;
+}
+
+/* bg_store_export_each (statements prepared once, found by index) walks the same record as the
+** per-probe listings: probes by serial, runs and readings (the excluded one with its reason)
+** and fits by id; for a lot and for one probe; it stops when asked. */
+static void export_walk_matches_per_probe_listings(void **state)
+{
+    (void)state;
+    bg_store *st = lot_record("x.db");
+    static const bg_export_cbs cbs = { log_probe, log_run, log_reading, log_run_end, log_fits,
+                                       log_fit, log_probe_end };
+    const char *lots[2] = { "L1", "L2" };
+    for (int run = 0; run < 2; run++)
+        for (int k = 0; k < 3; k++) {
+            struct log got = { NULL, 0, 0 }, want = { NULL, 0, 0 };
+            struct ref_walk w = { st, &want };
+            if (k < 2) {
+                assert_int_equal(bg_store_export_each(st, NULL, lots[k], &cbs, &got, NULL),
+                                 BG_OK);
+                assert_int_equal(bg_store_probe_each(st, lots[k], ref_walk_probe, &w, NULL),
+                                 BG_OK);
+            } else {
+                assert_int_equal(bg_store_export_each(st, "P1", NULL, &cbs, &got, NULL), BG_OK);
+                bg_probe p;
+                assert_int_equal(bg_store_probe_get(st, "P1", &p, NULL), BG_OK);
+                ref_walk_probe(&p, &w);
+            }
+            assert_non_null(got.buf);
+            assert_string_equal(got.buf, want.buf);
+            if (k == 0) { /* what the record holds, so that the comparison means something */
+                assert_non_null(strstr(got.buf, "probe 5 P0 L1 0 0\nfits of P0\nend probe P0"));
+                assert_non_null(strstr(got.buf, " 1 bath not settled A. Tester\n"));
+                assert_non_null(strstr(got.buf, "fits of P2\nend probe P2"));
+            }
+            free(got.buf), free(want.buf);
+        }
+    bg_error err = BG_ERROR_INIT;
+    assert_int_equal(bg_store_export_each(st, "P9", NULL, &cbs, NULL, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "unknown probe 'P9'"));
+    assert_int_equal(bg_store_export_each(st, NULL, NULL, &cbs, NULL, &err), BG_EINVAL);
+    assert_int_equal(bg_store_export_each(st, "P1", "L1", &cbs, NULL, &err), BG_EINVAL);
+    bg_store_close(st);
+}
+
+/* Statement executions and full-scan steps of the calls made while counting. */
+struct work { long stmts, fullscan; };
+
+static int work_cb(unsigned type, void *ctx, void *p, void *x)
+{
+    struct work *w = ctx;
+    (void)type, (void)x;
+    w->stmts++;
+    w->fullscan += sqlite3_stmt_status(p, SQLITE_STMTSTATUS_FULLSCAN_STEP, 1);
+    return 0;
+}
+
+static void count_work(bg_store *st, struct work *w)
+{
+    memset(w, 0, sizeof *w);
+    sqlite3_trace_v2(st->conn->db, SQLITE_TRACE_PROFILE, work_cb, w);
+}
+
+static int no_history(const char *serial, const bg_fit_row *fits, char (*started_at)[BG_TIME],
+                      size_t n, size_t unfitted, void *ctx)
+{
+    (void)serial, (void)fits, (void)started_at, (void)n, (void)unfitted, (void)ctx;
+    return 0;
+}
+
+static int no_latest(const char *serial, const bg_fit_row *fit, void *ctx)
+{
+    (void)serial, (void)fit, (void)ctx;
+    return 0;
+}
+
+static int count_fit(const bg_fit_row *f, void *ctx)
+{
+    (void)f;
+    ++*(int *)ctx;
+    return 0;
+}
+
+/* The work of the lot-wide reads, counted in statements run (no timing): the same number for
+** a lot of 4 probes and one of 12 for the current fits and the histories, and for the export
+** walk a fixed number per probe and per run; none of them scans a table. */
+static void lot_reads_run_a_fixed_number_of_statements(void **state)
+{
+    (void)state;
+    bg_store *st = lot_record("w.db");
+    static const bg_export_cbs none = { NULL, NULL, NULL, NULL, NULL, NULL, NULL };
+    struct work w[2][3];
+    for (int k = 0; k < 2; k++) {
+        if (k == 1)
+            for (int i = 0; i < 8; i++) { /* 8 more probes, a fitted run each */
+                char serial[16];
+                snprintf(serial, sizeof serial, "R%d", i);
+                assert_int_equal(bg_store_probe_add(st, serial, "L1", NULL, NULL, NULL), BG_OK);
+                add_run(st, serial, "2026-04-01T08:00:00Z", 1.0 + 1e-4 * i, "sh3");
+            }
+        count_work(st, &w[k][0]);
+        assert_int_equal(bg_store_lot_latest_fits(st, "L1", NULL, no_latest, NULL, NULL), BG_OK);
+        count_work(st, &w[k][1]);
+        assert_int_equal(bg_store_lot_histories(st, "L1", NULL, no_history, NULL, NULL), BG_OK);
+        count_work(st, &w[k][2]);
+        assert_int_equal(bg_store_export_each(st, NULL, "L1", &none, NULL, NULL), BG_OK);
+        sqlite3_trace_v2(st->conn->db, 0, NULL, NULL);
+    }
+    for (int i = 0; i < 3; i++)
+        assert_int_equal(w[0][i].fullscan + w[1][i].fullscan, 0);
+    /* the counter sees a scan: a probe's fits listed by its serial scan the fit table */
+    struct work scan;
+    int nfit = 0;
+    count_work(st, &scan);
+    assert_int_equal(bg_store_fit_each(st, "P1", NULL, count_fit, &nfit, NULL), BG_OK);
+    sqlite3_trace_v2(st->conn->db, 0, NULL, NULL);
+    assert_int_equal(nfit, 3);
+    assert_true(scan.fullscan > 0);
+    assert_int_equal(w[1][0].stmts, w[0][0].stmts);
+    assert_int_equal(w[1][1].stmts, w[0][1].stmts);
+    /* export: per probe its runs and its fits, per run its readings; 8 probes, 8 runs more */
+    assert_int_equal(w[1][2].stmts - w[0][2].stmts, 8 * 2 + 8);
+    bg_store_close(st);
+}
+
+static int stop_at_first(const char *serial, const bg_fit_row *fit, void *ctx)
+{
+    (void)serial, (void)fit;
+    ++*(int *)ctx;
+    return 1;
+}
+
+struct nested { bg_store *st; size_t outer, inner; };
+
+static int count_latest(const char *serial, const bg_fit_row *fit, void *ctx)
+{
+    (void)serial, (void)fit;
+    ++*(size_t *)ctx;
+    return 0;
+}
+
+static int nested_latest(const char *serial, const bg_fit_row *fit, void *ctx)
+{
+    struct nested *n = ctx;
+    (void)serial, (void)fit;
+    n->outer++;
+    /* the same cached statement is in use: a fresh one is prepared for this call */
+    assert_int_equal(bg_store_lot_latest_fits(n->st, "L1", NULL, count_latest, &n->inner, NULL),
+                     BG_OK);
+    return 0;
+}
+
+static void no_statement_busy(bg_store *st)
+{
+    for (sqlite3_stmt *q = sqlite3_next_stmt(st->conn->db, NULL); q;
+         q = sqlite3_next_stmt(st->conn->db, q))
+        assert_false(sqlite3_stmt_busy(q));
+    assert_true(sqlite3_get_autocommit(st->conn->db)); /* no read transaction left open */
+}
+
+/* The statements kept on the connection survive a walk stopped half way, a failed statement,
+** a nested call of the same query and a rollback, and none is left busy after a call. */
+static void statement_cache_survives_failure_and_rollback(void **state)
+{
+    (void)state;
+    bg_store *st = lot_record("s.db");
+    bg_error err = BG_ERROR_INIT;
+    bg_fit_row f;
+    bg_lot lot;
+    long long cur = 0, fid;
+    int calls = 0;
+    assert_int_equal(bg_store_lot_latest_fits(st, "L1", NULL, stop_at_first, &calls, NULL),
+                     BG_OK);
+    assert_int_equal(calls, 1);
+    no_statement_busy(st);
+    struct nested n = { st, 0, 0 };
+    assert_int_equal(bg_store_lot_latest_fits(st, "L1", NULL, nested_latest, &n, NULL), BG_OK);
+    assert_int_equal(n.outer, 4);
+    assert_int_equal(n.inner, 16);
+    no_statement_busy(st);
+    /* a failed statement: a fit of a run that does not exist breaks a foreign key */
+    bg_store_points sp = BG_STORE_POINTS_INIT;
+    bg_fit fit = BG_FIT_INIT;
+    bg_model m;
+    bg_model_parse("sh3", &m, NULL);
+    bg_fit_opts o = bg_fit_default_opts(&m);
+    long long run = add_run(st, "P2", "2026-05-01T08:00:00Z", 1.0004, "");
+    assert_int_equal(bg_store_run_points(st, run, &sp, NULL), BG_OK);
+    assert_int_equal(bg_fit_points(sp.pts, sp.n, &o, &fit, NULL), BG_OK);
+    assert_int_equal(bg_store_fit_save(st, 99999, &fit, sp.ids, NULL, &err), BG_EDB);
+    assert_int_equal(bg_store_fit_get(st, 99999, &f, &err), BG_EINVAL);
+    assert_int_equal(bg_store_lot_get(st, "L9", &lot, &err), BG_EINVAL);
+    no_statement_busy(st);
+    assert_int_equal(bg_store_fit_save(st, run, &fit, sp.ids, &fid, NULL), BG_OK);
+    assert_int_equal(bg_store_fit_get(st, fid, &f, NULL), BG_OK);
+    assert_int_equal(f.run_id, run);
+    /* a rollback: the cached reads see the fit inside the transaction and not after it */
+    assert_int_equal(bg_store_begin(st, NULL), BG_OK);
+    assert_int_equal(bg_store_fit_save(st, run, &fit, sp.ids, &cur, NULL), BG_OK);
+    assert_int_equal(bg_store_fit_get(st, cur, &f, NULL), BG_OK);
+    assert_int_equal(bg_store_run_fit(st, run, &fid, NULL), BG_OK);
+    assert_int_equal(fid, cur);
+    bg_store_rollback(st);
+    assert_int_equal(bg_store_fit_get(st, cur, &f, &err), BG_EINVAL);
+    assert_int_equal(bg_store_run_fit(st, run, &fid, NULL), BG_OK);
+    assert_true(fid < cur);
+    assert_int_equal(bg_store_lot_get(st, "L1", &lot, NULL), BG_OK);
+    assert_int_equal(lot.nprobes, 4);
+    no_statement_busy(st);
+    bg_fit_release(&fit);
+    bg_store_points_release(&sp);
+    bg_store_close(st);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -768,6 +1301,11 @@ int main(void)
         cmocka_unit_test(repeated_import_refused),
         cmocka_unit_test(overdue_reference_needs_a_reason),
         cmocka_unit_test(unknown_names_get_the_nearest),
+        cmocka_unit_test(lot_histories_match_per_probe_lookups),
+        cmocka_unit_test(lot_latest_fits_match_per_probe_lookups),
+        cmocka_unit_test(export_walk_matches_per_probe_listings),
+        cmocka_unit_test(lot_reads_run_a_fixed_number_of_statements),
+        cmocka_unit_test(statement_cache_survives_failure_and_rollback),
     };
     return cmocka_run_group_tests_name("store", tests, setup, teardown);
 }

@@ -286,9 +286,45 @@ typedef int (*bg_lot_history_cb)(const char *serial, const bg_fit_row *fits,
 BG_API int bg_store_lot_history(bg_store *st, const char *lot_code, const char *since,
                                 bg_lot_history_cb cb, void *ctx, bg_error *err);
 
+/* In one pass over a lot, for each of its probes in the order of their serials (the order
+** of bg_store_probe_each), what bg_store_probe_history gives for that probe: the newest fit
+** of each fitted run started at or after 'since' (NULL or "" for all), oldest run first, as
+** whole rows ('n' of them, with the runs' start times), and the number of such runs without
+** a fit.  A probe without runs comes with n = 0.  The arrays are valid during the call.
+** Nonzero from 'cb' stops the walk.  BG_EINVAL for an unknown lot. */
+typedef int (*bg_lot_histories_cb)(const char *serial, const bg_fit_row *fits,
+                                   char (*started_at)[BG_TIME], size_t n, size_t unfitted,
+                                   void *ctx);
+BG_API int bg_store_lot_histories(bg_store *st, const char *lot_code, const char *since,
+                                  bg_lot_histories_cb cb, void *ctx, bg_error *err);
+
 /* The lots of part 'part', oldest first. */
 BG_API int bg_store_part_lots(bg_store *st, const char *part, bg_lot_cb cb, void *ctx,
                               bg_error *err);
+
+/* ---- the whole record of a probe or a lot, for export ---- */
+
+/* What bg_store_export_each calls, in this order, for each probe: 'probe'; for each of its
+** runs (by id) 'run', its readings ('reading', by id, excluded ones included with their
+** reason) and 'run_end'; then 'fits', and each of its fits (by id, whole rows) 'fit'; then
+** 'probe_end'.  A NULL member is skipped.  Nonzero from any of them stops the walk (and
+** bg_store_export_each returns BG_OK: the caller knows why it stopped). */
+typedef struct bg_export_cbs {
+    int (*probe)(const bg_probe *p, void *ctx);
+    int (*run)(const bg_run *r, void *ctx);
+    int (*reading)(const bg_reading_row *g, void *ctx);
+    int (*run_end)(const bg_run *r, void *ctx);
+    int (*fits)(const bg_probe *p, void *ctx);
+    int (*fit)(const bg_fit_row *f, void *ctx);
+    int (*probe_end)(const bg_probe *p, void *ctx);
+} bg_export_cbs;
+
+/* Walk the record of probe 'serial' or of every probe of lot 'lot_code' (by serial): exactly
+** one of the two is given.  One read transaction; the statements are prepared once, so the
+** cost grows with the rows written and the logarithm of the database's size.  BG_EINVAL for
+** an unknown probe or lot, or for neither or both given; a store error. */
+BG_API int bg_store_export_each(bg_store *st, const char *serial, const char *lot_code,
+                                const bg_export_cbs *cbs, void *ctx, bg_error *err);
 
 /* ---- issued artifacts (reports) ---- */
 

@@ -29,7 +29,7 @@ struct ex {
     FILE *out;
     json_out j;
     int json;
-    const char *serial, *lot;
+    char serial[BG_TEXT], lot[BG_TEXT]; /* the probe being written */
 };
 
 static void csv_text(FILE *f, const char *s)
@@ -83,19 +83,23 @@ static int reading_cb(const bg_reading_row *g, void *p)
 static int run_cb(const bg_run *r, void *p)
 {
     struct ex *e = p;
-    bg_error err = BG_ERROR_INIT;
     if (e->json) {
-        json_out *j = &e->j;
-        json_obj(j, NULL);
-        cli_json_run_fields(j, r);
-        json_arr(j, "readings");
+        json_obj(&e->j, NULL);
+        cli_json_run_fields(&e->j, r);
+        json_arr(&e->j, "readings");
     }
-    int rc = bg_store_reading_each(e->st, r->id, reading_cb, e, &err);
+    return 0;
+}
+
+static int run_end_cb(const bg_run *r, void *p)
+{
+    struct ex *e = p;
+    (void)r;
     if (e->json) {
         json_arr_end(&e->j);
         json_obj_end(&e->j);
     }
-    return rc != BG_OK;
+    return 0;
 }
 
 static int fit_cb(const bg_fit_row *f, void *p)
@@ -129,28 +133,37 @@ static int fit_cb(const bg_fit_row *f, void *p)
 static int probe_cb(const bg_probe *p, void *ctx)
 {
     struct ex *e = ctx;
-    bg_error err = BG_ERROR_INIT;
-    e->serial = p->serial, e->lot = p->lot_code;
+    snprintf(e->serial, sizeof e->serial, "%s", p->serial);
+    snprintf(e->lot, sizeof e->lot, "%s", p->lot_code);
     if (e->json) {
         json_obj(&e->j, NULL);
         json_str(&e->j, "serial", p->serial);
         json_str(&e->j, "lot", p->lot_code);
         json_arr(&e->j, "runs");
     }
-    int rc = bg_store_run_each(e->st, p->serial, NULL, run_cb, e, &err);
+    return 0;
+}
+
+static int fits_cb(const bg_probe *p, void *ctx)
+{
+    struct ex *e = ctx;
+    (void)p;
     if (e->json) {
         json_arr_end(&e->j);
         json_arr(&e->j, "fits");
     }
-    if (rc == BG_OK)
-        rc = bg_store_fit_each(e->st, p->serial, NULL, fit_cb, e, &err);
+    return 0;
+}
+
+static int probe_end_cb(const bg_probe *p, void *ctx)
+{
+    struct ex *e = ctx;
+    (void)p;
     if (e->json) {
         json_arr_end(&e->j);
         json_obj_end(&e->j);
     }
-    if (rc != BG_OK)
-        cli_fail("export", &err);
-    return rc != BG_OK;
+    return 0;
 }
 
 int cmd_export(int argc, char **argv, struct cli_ctx *ctx)
@@ -191,18 +204,17 @@ int cmd_export(int argc, char **argv, struct cli_ctx *ctx)
         return rc;
     if ((rc = cli_open_store(ctx, 0, &xs.st)) != BG_OK)
         return rc;
+    /* an unknown probe or lot is reported before the output is created */
     if (serial) {
         bg_probe p;
-        if ((rc = bg_store_probe_get(xs.st, serial, &p, &err)) != BG_OK) {
-            cli_fail("export", &err);
-            goto done;
-        }
+        rc = bg_store_probe_get(xs.st, serial, &p, &err);
     } else {
         bg_lot l;
-        if ((rc = bg_store_lot_get(xs.st, lot, &l, &err)) != BG_OK) {
-            cli_fail("export", &err);
-            goto done;
-        }
+        rc = bg_store_lot_get(xs.st, lot, &l, &err);
+    }
+    if (rc != BG_OK) {
+        cli_fail("export", &err);
+        goto done;
     }
     if ((rc = cli_out_open(&file, path, "export")) != BG_OK)
         goto done;
@@ -214,12 +226,10 @@ int cmd_export(int argc, char **argv, struct cli_ctx *ctx)
         json_arr(&xs.j, "probes");
     } else
         fputs(csv_header, xs.out);
-    if (serial) {
-        bg_probe p;
-        bg_store_probe_get(xs.st, serial, &p, &err);
-        rc = probe_cb(&p, &xs) ? BG_EDB : BG_OK;
-    } else
-        rc = bg_store_probe_each(xs.st, lot, probe_cb, &xs, &err);
+    static const bg_export_cbs cbs = { probe_cb, run_cb, reading_cb, run_end_cb, fits_cb,
+                                       fit_cb, probe_end_cb };
+    if ((rc = bg_store_export_each(xs.st, serial, lot, &cbs, &xs, &err)) != BG_OK)
+        cli_fail("export", &err);
     if (xs.json) {
         json_arr_end(&xs.j);
         json_obj_end(&xs.j);

@@ -1,8 +1,20 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* Benchmark helper for the database: build a lot of invented probes with one run each, or
-** scan the readings back with a plain SQL query (the baseline for 'bandgap fit --lot').
-** Usage: bench_db setup DB NPROBES NREADINGS | bench_db scan|read|fit|scanfits DB
-**        | bench_db setup3 DB NPROBES | bench_db drift DB NPROBES */
+/* Benchmark helper for the database (invented data): build a lot BENCH of invented probes, and
+** time the library calls the lot commands make beside plain SQL scans of the same rows.
+** Each mode prints NAME_S SECONDS on its first line, then a line for people.
+**   setup DB NPROBES NREADINGS  a lot of NPROBES probes, one run of NREADINGS readings each
+**   setup3 DB NPROBES           a lot of NPROBES probes, three runs of 10 readings each
+**                               (invented dates half a year apart), every run fitted (sh3)
+**   scan DB      SCAN_S      plain SQL scan of the readings (the anchor of 'fit --lot')
+**   read DB      READ_S      the readings of the lot as 'fit --lot' reads them
+**   fit DB       FIT_S       read, fit and store every probe as 'fit --lot' does
+**   scanfits DB  SCANFITS_S  plain SQL scan of the fit rows with their runs' start times,
+**                SCANROWS_S  then of the whole fit rows (the anchors of drift and report)
+**   drift DB     DRIFT_S     bg_qa_lot_stats: what 'drift --lot' computes (NPROBES after DB,
+**                            once needed, is accepted and not used)
+**   summary DB   SUMMARY_S   bg_qa_lot_summarize: what 'report --lot' renders
+**   export DB    EXPORT_S    bg_store_export_each: the walk 'export --lot' writes
+** The commands themselves, and sqlite3 as a process for the anchors, are timed by run.sh. */
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -235,64 +247,86 @@ fail:
     return 1;
 }
 
-struct driftctx { double *r25, *b; size_t n, pairs; double worst; };
-
-static int drift_cb(const char *serial, const bg_fit_row *f, char (*when)[BG_TIME], size_t n,
-                    void *ctx)
-{
-    struct driftctx *dc = ctx;
-    bg_drift_cal cal[16];
-    (void)serial;
-    if (n > 16)
-        n = 16;
-    for (size_t i = 0; i < n; i++) {
-        double t;
-        bg_time_parse(when[i], &t, NULL);
-        bg_drift_prepare(&f[i].model, 298.15, 358.15, t, &cal[i], NULL);
-    }
-    for (size_t i = 1; i < n; i++)
-        for (size_t from = 0; from < (i >= 2 ? 2u : 1u); from++) {
-            size_t a = from == 0 ? i - 1 : 0;
-            double at[5];
-            bg_drift d;
-            bg_drift_check_points(f[a].t_min_k, f[a].t_max_k, f[i].t_min_k, f[i].t_max_k, 5, at,
-                                  NULL);
-            if (bg_drift_compare_cal(&cal[a], &cal[i], at, 5, &d, NULL) == BG_OK) {
-                dc->pairs++;
-                if (d.max_abs_err_mk > dc->worst)
-                    dc->worst = d.max_abs_err_mk;
-            }
-        }
-    if (n) {
-        dc->r25[dc->n] = cal[n - 1].r25_ohm;
-        dc->b[dc->n] = cal[n - 1].b_k;
-        dc->n++;
-    }
-    return 0;
-}
-
-/* Drift of every probe against its previous and first calibration, and the lot statistics
-** of the newest fits, through the library in one pass over the lot's fits. */
-static int driftlot(const char *path, size_t np)
+/* 'drift --lot' without its printing: the library call the command makes (bg_qa_lot_stats:
+** every probe's current fit, the lot's statistics against the nominal curve). */
+static int driftlot(const char *path)
 {
     bg_store *st = NULL;
     bg_error err = BG_ERROR_INIT;
-    struct driftctx dc = { malloc(np * sizeof(double)), malloc(np * sizeof(double)), 0, 0, 0 };
-    bg_stats sr, sb;
-    double g, gc, t0 = now();
-    size_t idx;
+    bg_qa_opts o = bg_qa_default_opts();
+    bg_qa_lot l = BG_QA_LOT_INIT;
+    double t0 = now();
     if (bg_store_open(path, 0, &st, &err) != BG_OK ||
-        bg_store_lot_history(st, "BENCH", NULL, drift_cb, &dc, &err) != BG_OK) {
+        bg_qa_lot_stats(st, "BENCH", &o, &l, &err) != BG_OK) {
         fprintf(stderr, "bench_db: %s\n", err.msg);
         return 1;
     }
-    bg_stats_of(dc.r25, dc.n, &sr);
-    bg_stats_of(dc.b, dc.n, &sb);
-    bg_grubbs(dc.r25, dc.n, 0.05, &g, &gc, &idx, NULL);
+    double t = now() - t0;
+    printf("DRIFT_S %.6f\n%zu probes, R25 deviation %.6g +- %.3g %%, B %.6g +- %.3g K, in %.3f s\n",
+           t, l.n, l.r25_dev.mean, l.r25_dev.sd, l.b.mean, l.b.sd, t);
+    bg_qa_lot_release(&l);
     bg_store_close(st);
-    printf("DRIFT_S %.6f\n%zu comparisons, worst as-found %.3f mK, lot R25 %.6g +- %.3g ohm, "
-           "in %.3f s\n", now() - t0, dc.pairs, dc.worst, sr.mean, sr.sd, now() - t0);
-    free(dc.r25), free(dc.b);
+    return 0;
+}
+
+/* 'report --lot' without the page: the library call whose result the report renders
+** (bg_qa_lot_summarize: the lot's statistics, every probe's drift, the part's charts). */
+static int summary(const char *path)
+{
+    bg_store *st = NULL;
+    bg_error err = BG_ERROR_INIT;
+    bg_qa_opts o = bg_qa_default_opts();
+    bg_qa_lot_summary s = BG_QA_LOT_SUMMARY_INIT;
+    double t0 = now();
+    size_t ncmp = 0;
+    if (bg_store_open(path, 0, &st, &err) != BG_OK ||
+        bg_qa_lot_summarize(st, "BENCH", &o, &s, &err) != BG_OK) {
+        fprintf(stderr, "bench_db: %s\n", err.msg);
+        return 1;
+    }
+    double t = now() - t0;
+    for (size_t i = 0; i < s.nprobes; i++)
+        ncmp += s.probes[i].nprev;
+    printf("SUMMARY_S %.6f\n%zu probes, %zu comparisons, in %.3f s\n", t, s.nprobes, ncmp, t);
+    bg_qa_lot_summary_release(&s);
+    bg_store_close(st);
+    return 0;
+}
+
+/* 'export --lot' without the writing: the walk the command makes (bg_store_export_each),
+** every value touched. */
+struct exsum { double s; size_t nread, nfit; };
+
+static int ex_reading(const bg_reading_row *g, void *ctx)
+{
+    struct exsum *e = ctx;
+    e->s += g->t_k + g->r_ohm + g->u_t_k, e->nread++;
+    return 0;
+}
+
+static int ex_fit(const bg_fit_row *f, void *ctx)
+{
+    struct exsum *e = ctx;
+    e->s += f->model.coef[0] + f->cov[0] + f->rms_mk, e->nfit++;
+    return 0;
+}
+
+static int exportlot(const char *path)
+{
+    static const bg_export_cbs cbs = { NULL, NULL, ex_reading, NULL, NULL, ex_fit, NULL };
+    bg_store *st = NULL;
+    bg_error err = BG_ERROR_INIT;
+    struct exsum e = { 0, 0, 0 };
+    double t0 = now();
+    if (bg_store_open(path, 0, &st, &err) != BG_OK ||
+        bg_store_export_each(st, NULL, "BENCH", &cbs, &e, &err) != BG_OK) {
+        fprintf(stderr, "bench_db: %s\n", err.msg);
+        return 1;
+    }
+    double t = now() - t0;
+    printf("EXPORT_S %.6f\n%zu readings and %zu fits walked (checksum %.6g) in %.3f s\n", t,
+           e.nread, e.nfit, e.s, t);
+    bg_store_close(st);
     return 0;
 }
 
@@ -348,10 +382,15 @@ int main(int argc, char **argv)
         return fitlot(argv[2]);
     if (argc == 4 && strcmp(argv[1], "setup3") == 0)
         return setup3(argv[2], strtoul(argv[3], NULL, 10));
-    if (argc == 4 && strcmp(argv[1], "drift") == 0)
-        return driftlot(argv[2], strtoul(argv[3], NULL, 10));
+    if ((argc == 3 || argc == 4) && strcmp(argv[1], "drift") == 0)
+        return driftlot(argv[2]); /* NPROBES, once needed, is accepted and not used */
+    if (argc == 3 && strcmp(argv[1], "summary") == 0)
+        return summary(argv[2]);
+    if (argc == 3 && strcmp(argv[1], "export") == 0)
+        return exportlot(argv[2]);
     if (argc == 3 && strcmp(argv[1], "scanfits") == 0)
         return scanfits(argv[2]);
-    fprintf(stderr, "usage: bench_db setup DB NPROBES NREADINGS | bench_db scan DB\n");
+    fprintf(stderr, "usage: bench_db setup DB NPROBES NREADINGS | setup3 DB NPROBES\n"
+                    "       | scan|read|fit|scanfits|drift|summary|export DB\n");
     return 64;
 }

@@ -6,7 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "bandgap/qa.h"
+#include "qa_int.h"
 
 bg_qa_opts bg_qa_default_opts(void)
 {
@@ -91,26 +91,45 @@ static int compare(const bg_qa_probe *p, size_t a, size_t b, const bg_qa_opts *o
     return BG_OK;
 }
 
-/* The limits: as given, else the part's defaults, else the R25 tolerance (the rate limit: the
-** |as-found| limit). */
-static int limits(bg_store *st, const bg_qa_opts *o, bg_qa_probe *p, bg_error *err)
+void bgi_qa_limits(const bg_qa_opts *o, const bg_part_spec *spec, bg_qa_probe *p)
 {
-    bg_part_spec spec;
-    int rc = bg_store_part_spec_get(st, p->lot.part, &spec, err);
-    if (rc != BG_OK)
-        return rc;
     if (o->limit_k > 0.0)
         p->limit_k = o->limit_k, p->limit_from = BG_QA_FROM_OPTION;
-    else if (spec.limit_k > 0.0)
-        p->limit_k = spec.limit_k, p->limit_from = BG_QA_FROM_PART;
+    else if (spec->limit_k > 0.0)
+        p->limit_k = spec->limit_k, p->limit_from = BG_QA_FROM_PART;
     else
         p->limit_k = bg_qa_tol_limit_k(&p->lot), p->limit_from = BG_QA_FROM_DEFAULT;
     if (o->rate_k > 0.0)
         p->rate_k = o->rate_k, p->rate_from = BG_QA_FROM_OPTION;
-    else if (spec.rate_k > 0.0)
-        p->rate_k = spec.rate_k, p->rate_from = BG_QA_FROM_PART;
+    else if (spec->rate_k > 0.0)
+        p->rate_k = spec->rate_k, p->rate_from = BG_QA_FROM_PART;
     else
         p->rate_k = p->limit_k, p->rate_from = BG_QA_FROM_DEFAULT;
+}
+
+int bgi_qa_probe_compare(bg_qa_probe *p, const bg_qa_opts *o, bg_error *err)
+{
+    int rc;
+    if (p->n >= 2) {
+        /* the comparisons with the first only when asked for (a lot report does not) */
+        p->since_previous = calloc(p->n - 1, sizeof *p->since_previous);
+        p->since_first = o->since_first ? calloc(p->n - 1, sizeof *p->since_first) : NULL;
+        if (!p->since_previous || (o->since_first && !p->since_first))
+            return bg_error_set(err, BG_ENOMEM, "out of memory comparing %zu calibrations",
+                                p->n);
+    }
+    for (size_t i = 1; i < p->n; i++) {
+        if ((rc = compare(p, i - 1, i, o, &p->since_previous[p->nprev], err)) != BG_OK)
+            return rc;
+        bg_qa_compare *c = &p->since_previous[p->nprev++];
+        p->flagged |= c->flag_limit || c->flag_rate;
+    }
+    for (size_t i = 2; o->since_first && i < p->n; i++) {
+        if ((rc = compare(p, 0, i, o, &p->since_first[p->nfirst], err)) != BG_OK)
+            return rc;
+        bg_qa_compare *c = &p->since_first[p->nfirst++];
+        p->flagged |= c->flag_limit || c->flag_rate;
+    }
     return BG_OK;
 }
 
@@ -119,6 +138,7 @@ int bg_qa_probe_drift(bg_store *st, const char *serial, const bg_qa_opts *o, bg_
 {
     struct hist_ctx hc = { out, 0 };
     bg_probe pr;
+    bg_part_spec spec;
     int rc;
 
     snprintf(out->serial, sizeof out->serial, "%s", serial);
@@ -129,29 +149,11 @@ int bg_qa_probe_drift(bg_store *st, const char *serial, const bg_qa_opts *o, bg_
     if (hc.oom)
         return bg_error_set(err, BG_ENOMEM, "out of memory reading the %zu calibrations of "
                             "probe '%s'", out->n, serial);
-    if ((rc = limits(st, o, out, err)) != BG_OK)
+    if ((rc = bg_store_part_spec_get(st, out->lot.part, &spec, err)) != BG_OK)
         return rc;
+    bgi_qa_limits(o, &spec, out);
     out->have_history = 1;
-    if (out->n >= 2) {
-        out->since_previous = calloc(out->n - 1, sizeof *out->since_previous);
-        out->since_first = calloc(out->n - 1, sizeof *out->since_first);
-        if (!out->since_previous || !out->since_first)
-            return bg_error_set(err, BG_ENOMEM, "out of memory comparing %zu calibrations",
-                                out->n);
-    }
-    for (size_t i = 1; i < out->n; i++) {
-        if ((rc = compare(out, i - 1, i, o, &out->since_previous[out->nprev], err)) != BG_OK)
-            return rc;
-        bg_qa_compare *c = &out->since_previous[out->nprev++];
-        out->flagged |= c->flag_limit || c->flag_rate;
-    }
-    for (size_t i = 2; o->since_first && i < out->n; i++) {
-        if ((rc = compare(out, 0, i, o, &out->since_first[out->nfirst], err)) != BG_OK)
-            return rc;
-        bg_qa_compare *c = &out->since_first[out->nfirst++];
-        out->flagged |= c->flag_limit || c->flag_rate;
-    }
-    return BG_OK;
+    return bgi_qa_probe_compare(out, o, err);
 }
 
 void bg_qa_probe_release(bg_qa_probe *p)

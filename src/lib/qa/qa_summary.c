@@ -1,59 +1,71 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* Everything the lot report shows, computed in one call: the lot's statistics, each probe's
 ** drift since its previous calibration, and the control charts of the lot's part. */
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include "bandgap/qa.h"
+#include "qa_int.h"
 
-/* The serials of the lot's probes, in the order added. */
-struct serials {
-    char (*s)[BG_TEXT];
-    size_t n, cap;
-    int oom;
+/* Each probe's drift, from the lot's histories read in one pass. */
+struct probes_ctx {
+    bg_qa_lot_summary *out;
+    const bg_qa_opts *o;
+    bg_error *err;
+    int rc;
 };
 
-static int serial_cb(const bg_probe *p, void *ctx)
+static int probe_cb(const char *serial, const bg_fit_row *fits, char (*started_at)[BG_TIME],
+                    size_t n, size_t unfitted, void *vctx)
 {
-    struct serials *l = ctx;
-    if (l->n == l->cap) {
-        size_t cap = l->cap ? 2 * l->cap : 64;
-        char (*s)[BG_TEXT] = realloc(l->s, cap * sizeof *s);
-        if (!s) {
-            l->oom = 1;
+    struct probes_ctx *c = vctx;
+    bg_qa_lot_summary *out = c->out;
+    if (out->nprobes == out->capprobes) {
+        size_t cap = out->capprobes ? 2 * out->capprobes : 64;
+        bg_qa_probe *np = realloc(out->probes, cap * sizeof *np);
+        if (!np) {
+            c->rc = bg_error_set(c->err, BG_ENOMEM, "out of memory listing the probes of lot "
+                                 "'%s'", out->stats.lot.code);
             return 1;
         }
-        l->s = s, l->cap = cap;
+        memset(np + out->capprobes, 0, (cap - out->capprobes) * sizeof *np);
+        out->probes = np, out->capprobes = cap;
     }
-    memcpy(l->s[l->n++], p->serial, BG_TEXT);
+    bg_qa_probe *p = &out->probes[out->nprobes++];
+    snprintf(p->serial, sizeof p->serial, "%s", serial);
+    p->lot = out->stats.lot;
+    if (n) {
+        p->fits = malloc(n * sizeof *p->fits);
+        p->started_at = malloc(n * sizeof *p->started_at);
+        if (!p->fits || !p->started_at) {
+            c->rc = bg_error_set(c->err, BG_ENOMEM, "out of memory reading the %zu "
+                                 "calibrations of probe '%s'", n, serial);
+            return 1;
+        }
+        memcpy(p->fits, fits, n * sizeof *p->fits);
+        memcpy(p->started_at, started_at, n * sizeof *p->started_at);
+    }
+    p->n = p->cap = n;
+    p->unfitted = unfitted;
+    bgi_qa_limits(c->o, &out->stats.spec, p);
+    p->have_history = 1;
+    if ((c->rc = bgi_qa_probe_compare(p, c->o, c->err)) != BG_OK)
+        return 1;
+    out->flagged |= p->flagged;
+    out->limit_k = p->limit_k, out->rate_k = p->rate_k; /* the same for every probe */
+    out->limit_from = p->limit_from, out->rate_from = p->rate_from;
     return 0;
 }
 
+/* Every probe of the lot, by serial, compared with its previous calibration only. */
 static int probes(bg_store *st, const char *code, const bg_qa_opts *qo, bg_qa_lot_summary *out,
                   bg_error *err)
 {
-    struct serials l = { NULL, 0, 0, 0 };
     bg_qa_opts o = *qo;
-    int rc;
     o.since_first = 0;
-    if ((rc = bg_store_probe_each(st, code, serial_cb, &l, err)) != BG_OK)
-        goto done;
-    if (l.oom || (l.n && !(out->probes = calloc(l.n, sizeof *out->probes)))) {
-        rc = bg_error_set(err, BG_ENOMEM, "out of memory listing the probes of lot '%s'", code);
-        goto done;
-    }
-    out->capprobes = l.n;
-    for (size_t i = 0; i < l.n; i++) {
-        bg_qa_probe *p = &out->probes[out->nprobes++];
-        if ((rc = bg_qa_probe_drift(st, l.s[i], &o, p, err)) != BG_OK)
-            goto done;
-        out->flagged |= p->flagged;
-        out->limit_k = p->limit_k, out->rate_k = p->rate_k; /* the same for every probe */
-        out->limit_from = p->limit_from, out->rate_from = p->rate_from;
-    }
-done:
-    free(l.s);
-    return rc;
+    struct probes_ctx c = { out, &o, err, BG_OK };
+    int rc = bg_store_lot_histories(st, code, o.since, probe_cb, &c, err);
+    return rc != BG_OK ? rc : c.rc;
 }
 
 int bg_qa_lot_summarize(bg_store *st, const char *code, const bg_qa_opts *qo,

@@ -57,6 +57,26 @@ int bgi_cached(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, bg_err
     return BG_OK;
 }
 
+int bgi_stmt(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, bg_error *err)
+{
+    if (c->cache[which] && sqlite3_stmt_busy(c->cache[which]))
+        return bgi_prepare(c, sql, q, err);
+    if (!c->cache[which] && sqlite3_prepare_v3(c->db, sql, -1, SQLITE_PREPARE_PERSISTENT,
+                                               &c->cache[which], NULL) != SQLITE_OK)
+        return bgi_db_fail(c, err, "cannot prepare a query");
+    *q = c->cache[which];
+    return BG_OK;
+}
+
+void bgi_stmt_done(bgi_conn *c, int which, sqlite3_stmt *q)
+{
+    if (q && q == c->cache[which]) {
+        sqlite3_reset(q);
+        sqlite3_clear_bindings(q);
+    } else
+        sqlite3_finalize(q);
+}
+
 static int sq_in_tx(bgi_conn *c)
 {
     return !sqlite3_get_autocommit(c->db);
@@ -297,12 +317,15 @@ static void sq_close(bgi_conn *c)
     free(c);
 }
 
-/* Row id of a lot or probe by its code or serial, for writes (no counts); 0 when absent. */
-static long long id_of(bgi_conn *c, const char *sql, const char *key, bg_error *err, int *rc)
+/* Row id of a lot or probe by its code or serial, for writes (no counts); 0 when absent.
+** 'which': the statement's place in the cache, or -1 for none. */
+static long long id_of(bgi_conn *c, int which, const char *sql, const char *key, bg_error *err,
+                       int *rc)
 {
     sqlite3_stmt *q = NULL;
     long long id = 0;
-    if ((*rc = bgi_prepare(c, sql, &q, err)) != BG_OK)
+    if ((*rc = which < 0 ? bgi_prepare(c, sql, &q, err) : bgi_stmt(c, which, sql, &q, err)) !=
+        BG_OK)
         return 0;
     sqlite3_bind_text(q, 1, key, -1, SQLITE_TRANSIENT);
     int s = sqlite3_step(q);
@@ -310,14 +333,17 @@ static long long id_of(bgi_conn *c, const char *sql, const char *key, bg_error *
         id = sqlite3_column_int64(q, 0);
     else if (s != SQLITE_DONE)
         *rc = bgi_db_fail(c, err, "cannot read the database");
-    sqlite3_finalize(q);
+    if (which < 0)
+        sqlite3_finalize(q);
+    else
+        bgi_stmt_done(c, which, q);
     return id;
 }
 
 int bgi_sqlite_probe_id(bgi_conn *c, const char *serial, long long *id, bg_error *err)
 {
     int rc = BG_OK;
-    *id = id_of(c, "SELECT id FROM probe WHERE serial = ?", serial, err, &rc);
+    *id = id_of(c, STMT_PROBE_ID, "SELECT id FROM probe WHERE serial = ?", serial, err, &rc);
     if (rc == BG_OK && *id == 0)
         rc = bg_error_set(err, BG_EINVAL, "unknown probe '%s' (add it with 'bandgap probe add "
                           "SERIAL --lot CODE')", serial);
@@ -381,7 +407,8 @@ static void lot_row(sqlite3_stmt *q, bg_lot *l)
 int bgi_sqlite_lot_get(bgi_conn *c, const char *code, bg_lot *out, bg_error *err)
 {
     sqlite3_stmt *q = NULL;
-    int rc = bgi_prepare(c, "SELECT " LOT_COLS " FROM lot l WHERE l.code = ?", &q, err);
+    int rc = bgi_stmt(c, STMT_LOT_GET, "SELECT " LOT_COLS " FROM lot l WHERE l.code = ?", &q,
+                      err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_text(q, 1, code, -1, SQLITE_TRANSIENT);
@@ -393,7 +420,7 @@ int bgi_sqlite_lot_get(bgi_conn *c, const char *code, bg_lot *out, bg_error *err
                           code);
     else
         rc = bgi_db_fail(c, err, "cannot read lots");
-    sqlite3_finalize(q);
+    bgi_stmt_done(c, STMT_LOT_GET, q);
     return rc;
 }
 
@@ -424,7 +451,7 @@ static int sq_probe_add(bgi_conn *c, const char *serial, const char *lot_code,
     bg_lot lot;
     int rc = BG_OK;
 
-    lot.id = id_of(c, "SELECT id FROM lot WHERE code = ?", lot_code, err, &rc);
+    lot.id = id_of(c, -1, "SELECT id FROM lot WHERE code = ?", lot_code, err, &rc);
     if (rc == BG_OK && lot.id == 0)
         rc = bg_error_set(err, BG_EINVAL, "unknown lot '%s' (add it with 'bandgap lot add')",
                           lot_code);
@@ -449,12 +476,9 @@ static int sq_probe_add(bgi_conn *c, const char *serial, const char *lot_code,
     return rc;
 }
 
-#define PROBE_COLS "p.id, p.lot_id, p.serial, l.code, p.note, p.created_at, " \
-                   "(SELECT count(*) FROM run r WHERE r.probe_id = p.id), " \
-                   "(SELECT count(*) FROM fit f JOIN run r ON f.run_id = r.id " \
-                   "  WHERE r.probe_id = p.id)"
+#define PROBE_COLS BGI_PROBE_COLS
 
-static void probe_row(sqlite3_stmt *q, bg_probe *p)
+void bgi_sqlite_probe_row(sqlite3_stmt *q, bg_probe *p)
 {
     p->id = sqlite3_column_int64(q, 0);
     p->lot_id = sqlite3_column_int64(q, 1);
@@ -469,20 +493,20 @@ static void probe_row(sqlite3_stmt *q, bg_probe *p)
 int bgi_sqlite_probe_get(bgi_conn *c, const char *serial, bg_probe *out, bg_error *err)
 {
     sqlite3_stmt *q = NULL;
-    int rc = bgi_prepare(c, "SELECT " PROBE_COLS " FROM probe p JOIN lot l ON p.lot_id = l.id "
-                         "WHERE p.serial = ?", &q, err);
+    int rc = bgi_stmt(c, STMT_PROBE_GET, "SELECT " PROBE_COLS " FROM probe p JOIN lot l ON "
+                      "p.lot_id = l.id WHERE p.serial = ?", &q, err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_text(q, 1, serial, -1, SQLITE_TRANSIENT);
     int s = sqlite3_step(q);
     if (s == SQLITE_ROW)
-        probe_row(q, out);
+        bgi_sqlite_probe_row(q, out);
     else if (s == SQLITE_DONE)
         rc = bg_error_set(err, BG_EINVAL, "unknown probe '%s' (add it with 'bandgap probe add "
                           "SERIAL --lot CODE')", serial);
     else
         rc = bgi_db_fail(c, err, "cannot read probes");
-    sqlite3_finalize(q);
+    bgi_stmt_done(c, STMT_PROBE_GET, q);
     return rc;
 }
 
@@ -503,7 +527,7 @@ static int sq_probe_each(bgi_conn *c, const char *lot_code, bg_probe_cb cb, void
         return rc;
     bgi_bind_text_or_null(q, 1, lot_code);
     while ((s = sqlite3_step(q)) == SQLITE_ROW) {
-        probe_row(q, &p);
+        bgi_sqlite_probe_row(q, &p);
         if (cb(&p, ctx))
             break;
     }
@@ -583,7 +607,8 @@ static void ref_row(sqlite3_stmt *q, bg_ref *r)
 static int sq_ref_get(bgi_conn *c, const char *ident, bg_ref *out, bg_error *err)
 {
     sqlite3_stmt *q = NULL;
-    int rc = bgi_prepare(c, "SELECT " REF_COLS " FROM reference WHERE ident = ?", &q, err);
+    int rc = bgi_stmt(c, STMT_REF_GET, "SELECT " REF_COLS " FROM reference WHERE ident = ?", &q,
+                      err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_text(q, 1, ident, -1, SQLITE_TRANSIENT);
@@ -595,7 +620,7 @@ static int sq_ref_get(bgi_conn *c, const char *ident, bg_ref *out, bg_error *err
                           "'bandgap ref add')", ident);
     else
         rc = bgi_db_fail(c, err, "cannot read references");
-    sqlite3_finalize(q);
+    bgi_stmt_done(c, STMT_REF_GET, q);
     return rc;
 }
 
@@ -695,4 +720,5 @@ const struct bgi_store_backend bgi_store_sqlite = {
     bgi_sqlite_part_spec_add, bgi_sqlite_part_spec_each,
     sq_names,
     bgi_sqlite_chain_append, bgi_sqlite_chain_head, bgi_sqlite_verify, bgi_sqlite_chain_check,
+    bgi_sqlite_lot_histories, bgi_sqlite_export_each,
 };

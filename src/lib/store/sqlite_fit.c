@@ -127,9 +127,7 @@ int bgi_sqlite_fit_insert(bgi_conn *c, struct bgi_fitrow *rows, size_t n, const 
     return rc;
 }
 
-#define FIT_COLS "f.id, f.run_id, r.probe_id, p.serial, f.model, f.t0_k, f.npar, f.c0, f.c1, " \
-    "f.c2, f.c3, f.c4, f.c5, f.cov, f.n, f.dof, f.weighted, f.chi2, f.cov_scale, f.rms_mk, " \
-    "f.max_abs_mk, f.t_min_k, f.t_max_k, f.program_version, f.created_at"
+#define FIT_COLS BGI_FIT_COLS
 #define FIT_FROM " FROM fit f JOIN run r ON f.run_id = r.id JOIN probe p ON r.probe_id = p.id "
 
 /* The model of a fit row from columns col .. col + 8: name, t0_k, npar, c0 .. c5. */
@@ -150,18 +148,18 @@ static int row_model(sqlite3_stmt *q, int col, bg_fit_row *f, bg_error *err)
     return BG_OK;
 }
 
-static int fit_row(sqlite3_stmt *q, bg_fit_row *f, bg_error *err)
+int bgi_sqlite_fit_row(sqlite3_stmt *q, int b, bg_fit_row *f, bg_error *err)
 {
     memset(f, 0, sizeof *f);
-    f->id = sqlite3_column_int64(q, 0);
-    f->run_id = sqlite3_column_int64(q, 1);
-    f->probe_id = sqlite3_column_int64(q, 2);
-    bgi_copy_text(f->serial, sizeof f->serial, q, 3);
-    int rc = row_model(q, 4, f, err);
+    f->id = sqlite3_column_int64(q, b + 0);
+    f->run_id = sqlite3_column_int64(q, b + 1);
+    f->probe_id = sqlite3_column_int64(q, b + 2);
+    bgi_copy_text(f->serial, sizeof f->serial, q, b + 3);
+    int rc = row_model(q, b + 4, f, err);
     if (rc != BG_OK)
         return rc;
-    const unsigned char *cov = sqlite3_column_blob(q, 13);
-    if (cov && (size_t)sqlite3_column_bytes(q, 13) == 8 * f->npar * f->npar) {
+    const unsigned char *cov = sqlite3_column_blob(q, b + 13);
+    if (cov && (size_t)sqlite3_column_bytes(q, b + 13) == 8 * f->npar * f->npar) {
         for (size_t k = 0; k < f->npar * f->npar; k++)
             f->cov[k] = get_le_double(cov + 8 * k);
         f->has_cov = 1;
@@ -169,24 +167,30 @@ static int fit_row(sqlite3_stmt *q, bg_fit_row *f, bg_error *err)
         for (size_t i = 0; i < f->npar * f->npar; i++)
             f->cov[i] = NAN;
     }
-    f->n = (size_t)sqlite3_column_int64(q, 14);
-    f->dof = (size_t)sqlite3_column_int64(q, 15);
-    f->weighted = sqlite3_column_int(q, 16);
-    f->chi2 = sqlite3_column_double(q, 17);
-    f->cov_scale = sqlite3_column_type(q, 18) == SQLITE_NULL ? NAN : sqlite3_column_double(q, 18);
-    f->rms_mk = sqlite3_column_double(q, 19);
-    f->max_abs_mk = sqlite3_column_double(q, 20);
-    f->t_min_k = sqlite3_column_double(q, 21);
-    f->t_max_k = sqlite3_column_double(q, 22);
-    bgi_copy_text(f->program_version, sizeof f->program_version, q, 23);
-    bgi_copy_text(f->created_at, sizeof f->created_at, q, 24);
+    f->n = (size_t)sqlite3_column_int64(q, b + 14);
+    f->dof = (size_t)sqlite3_column_int64(q, b + 15);
+    f->weighted = sqlite3_column_int(q, b + 16);
+    f->chi2 = sqlite3_column_double(q, b + 17);
+    f->cov_scale = sqlite3_column_type(q, b + 18) == SQLITE_NULL ? NAN
+                                                                : sqlite3_column_double(q, b + 18);
+    f->rms_mk = sqlite3_column_double(q, b + 19);
+    f->max_abs_mk = sqlite3_column_double(q, b + 20);
+    f->t_min_k = sqlite3_column_double(q, b + 21);
+    f->t_max_k = sqlite3_column_double(q, b + 22);
+    bgi_copy_text(f->program_version, sizeof f->program_version, q, b + 23);
+    bgi_copy_text(f->created_at, sizeof f->created_at, q, b + 24);
     return BG_OK;
+}
+
+static int fit_row(sqlite3_stmt *q, bg_fit_row *f, bg_error *err)
+{
+    return bgi_sqlite_fit_row(q, 0, f, err);
 }
 
 int bgi_sqlite_fit_get(bgi_conn *c, long long fit_id, bg_fit_row *out, bg_error *err)
 {
     sqlite3_stmt *q = NULL;
-    int rc = bgi_prepare(c, "SELECT " FIT_COLS FIT_FROM "WHERE f.id = ?", &q, err);
+    int rc = bgi_stmt(c, STMT_FIT_GET, "SELECT " FIT_COLS FIT_FROM "WHERE f.id = ?", &q, err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, fit_id);
@@ -197,7 +201,7 @@ int bgi_sqlite_fit_get(bgi_conn *c, long long fit_id, bg_fit_row *out, bg_error 
         rc = bg_error_set(err, BG_EINVAL, "no fit %lld", fit_id);
     else
         rc = bgi_db_fail(c, err, "cannot read fits");
-    sqlite3_finalize(q);
+    bgi_stmt_done(c, STMT_FIT_GET, q);
     return rc;
 }
 
@@ -230,7 +234,7 @@ int bgi_sqlite_fit_newest_of_run(bgi_conn *c, long long run_id, long long *fit_i
                                  bg_error *err)
 {
     sqlite3_stmt *q = NULL;
-    int rc = bgi_prepare(c, "SELECT max(id) FROM fit WHERE run_id = ?", &q, err);
+    int rc = bgi_stmt(c, STMT_FIT_NEWEST, "SELECT max(id) FROM fit WHERE run_id = ?", &q, err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, run_id);
@@ -239,7 +243,7 @@ int bgi_sqlite_fit_newest_of_run(bgi_conn *c, long long run_id, long long *fit_i
         *fit_id = sqlite3_column_int64(q, 0); /* NULL (no fit) reads as 0 */
     else
         rc = bgi_db_fail(c, err, "cannot read fits");
-    sqlite3_finalize(q);
+    bgi_stmt_done(c, STMT_FIT_NEWEST, q);
     return rc;
 }
 
@@ -359,69 +363,38 @@ end:
     return rc;
 }
 
-/* Ids of fits found by a first query, then read one by one (a fit read is a join). */
-struct idlist { long long *id; long long *aux; char (*text)[BG_TEXT]; size_t n, cap; };
-
-static int idlist_push(struct idlist *l, long long id, long long aux, const char *text)
-{
-    if (l->n == l->cap) {
-        size_t cap = l->cap ? 2 * l->cap : 64;
-        long long *a = realloc(l->id, cap * sizeof *a);
-        if (a)
-            l->id = a;
-        long long *b = realloc(l->aux, cap * sizeof *b);
-        if (b)
-            l->aux = b;
-        char (*t)[BG_TEXT] = realloc(l->text, cap * sizeof *t);
-        if (t)
-            l->text = t;
-        if (!a || !b || !t)
-            return BG_ENOMEM;
-        l->cap = cap;
-    }
-    l->id[l->n] = id, l->aux[l->n] = aux;
-    snprintf(l->text[l->n], BG_TEXT, "%s", text ? text : "");
-    l->n++;
-    return BG_OK;
-}
-
-static void idlist_free(struct idlist *l)
-{
-    free(l->id), free(l->aux), free(l->text);
-}
+/* The newest fit of run 'r' joined beside it (NULL columns when the run has none): the fit
+** index finds it, so a history is read in one query without a lookup per run. */
+#define NEWEST_FIT "LEFT JOIN fit f ON f.id = (SELECT max(f2.id) FROM fit f2 WHERE " \
+    "f2.run_id = r.id) "
 
 int bgi_sqlite_probe_history(bgi_conn *c, long long pid, const char *since,
                              bg_history_cb cb, void *ctx, bg_error *err)
 {
     sqlite3_stmt *q = NULL;
-    struct idlist l = { NULL, NULL, NULL, 0, 0 };
+    bg_fit_row f;
+    char when[BG_TIME];
     int rc, s;
 
-    rc = bgi_prepare(c, "SELECT r.id, r.started_at, coalesce((SELECT f.id FROM fit f WHERE "
-                     "f.run_id = r.id ORDER BY f.id DESC LIMIT 1), 0) FROM run r WHERE "
-                     "r.probe_id = ?1 AND (?2 IS NULL OR r.started_at >= ?2) "
-                     "ORDER BY r.started_at, r.id", &q, err);
+    /* columns: the run's id and start, then the fit (FIT_COLS) from column 2 */
+    rc = bgi_stmt(c, STMT_PROBE_RUNS, "SELECT r.id, r.started_at, " FIT_COLS " FROM run r "
+                  "JOIN probe p ON p.id = r.probe_id " NEWEST_FIT "WHERE r.probe_id = ?1 AND "
+                  "(?2 IS NULL OR r.started_at >= ?2) ORDER BY r.started_at, r.id", &q, err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, pid);
     bgi_bind_text_or_null(q, 2, since);
-    while ((s = sqlite3_step(q)) == SQLITE_ROW)
-        if (idlist_push(&l, sqlite3_column_int64(q, 2), sqlite3_column_int64(q, 0),
-                        (const char *)sqlite3_column_text(q, 1)) != BG_OK) {
-            rc = bg_error_set(err, BG_ENOMEM, "out of memory");
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        int fitted = sqlite3_column_type(q, 2) != SQLITE_NULL;
+        if (fitted && (rc = bgi_sqlite_fit_row(q, 2, &f, err)) != BG_OK)
             break;
-        }
-    if (rc == BG_OK && s != SQLITE_DONE)
-        rc = bgi_db_fail(c, err, "cannot read runs");
-    sqlite3_finalize(q);
-    for (size_t i = 0; rc == BG_OK && i < l.n; i++) {
-        bg_fit_row f;
-        if (l.id[i] && (rc = bgi_sqlite_fit_get(c, l.id[i], &f, err)) != BG_OK)
-            break;
-        if (cb(l.text[i], l.aux[i], l.id[i] ? &f : NULL, ctx))
+        bgi_copy_text(when, sizeof when, q, 1);
+        if (cb(when, sqlite3_column_int64(q, 0), fitted ? &f : NULL, ctx))
             break;
     }
-    idlist_free(&l);
+    if (rc == BG_OK && s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read runs");
+    bgi_stmt_done(c, STMT_PROBE_RUNS, q);
     return rc;
 }
 
@@ -429,35 +402,114 @@ int bgi_sqlite_lot_latest_fits(bgi_conn *c, long long lot_id, const char *since,
                                bg_latest_cb cb, void *ctx, bg_error *err)
 {
     sqlite3_stmt *q = NULL;
-    struct idlist l = { NULL, NULL, NULL, 0, 0 };
+    bg_fit_row f;
+    char serial[BG_TEXT];
     int rc, s;
 
-    /* the current fit: the newest fit of the latest run (of those since 'since') */
-    rc = bgi_prepare(c, "SELECT p.serial, coalesce((SELECT max(f.id) FROM fit f WHERE "
-                     "f.run_id = (SELECT r.id FROM run r WHERE r.probe_id = p.id AND (?2 IS "
-                     "NULL OR r.started_at >= ?2) ORDER BY r.started_at DESC, r.id DESC "
-                     "LIMIT 1)), 0) FROM probe p WHERE p.lot_id = ?1 ORDER BY p.id", &q, err);
+    /* the current fit: the newest fit of the latest run (of those since 'since'), read in the
+    ** same query (the run_probe_time and fit_run indexes find both); the serial in column 0,
+    ** the fit (FIT_COLS, NULL when none) from column 1 */
+    rc = bgi_stmt(c, STMT_LOT_LATEST, "SELECT p.serial, " FIT_COLS " FROM probe p LEFT JOIN "
+                  "fit f ON f.id = (SELECT max(f2.id) FROM fit f2 WHERE f2.run_id = (SELECT "
+                  "r2.id FROM run r2 WHERE r2.probe_id = p.id AND (?2 IS NULL OR "
+                  "r2.started_at >= ?2) ORDER BY r2.started_at DESC, r2.id DESC LIMIT 1)) "
+                  "LEFT JOIN run r ON r.id = f.run_id WHERE p.lot_id = ?1 ORDER BY p.id", &q,
+                  err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, lot_id);
     bgi_bind_text_or_null(q, 2, since);
-    while ((s = sqlite3_step(q)) == SQLITE_ROW)
-        if (idlist_push(&l, sqlite3_column_int64(q, 1), 0,
-                        (const char *)sqlite3_column_text(q, 0)) != BG_OK) {
-            rc = bg_error_set(err, BG_ENOMEM, "out of memory");
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        int fitted = sqlite3_column_type(q, 1) != SQLITE_NULL;
+        if (fitted && (rc = bgi_sqlite_fit_row(q, 1, &f, err)) != BG_OK)
             break;
-        }
-    if (rc == BG_OK && s != SQLITE_DONE)
-        rc = bgi_db_fail(c, err, "cannot read the lot's fits");
-    sqlite3_finalize(q);
-    for (size_t i = 0; rc == BG_OK && i < l.n; i++) {
-        bg_fit_row f;
-        if (l.id[i] && (rc = bgi_sqlite_fit_get(c, l.id[i], &f, err)) != BG_OK)
-            break;
-        if (cb(l.text[i], l.id[i] ? &f : NULL, ctx))
+        bgi_copy_text(serial, sizeof serial, q, 0);
+        if (cb(serial, fitted ? &f : NULL, ctx))
             break;
     }
-    idlist_free(&l);
+    if (rc == BG_OK && s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read the lot's fits");
+    bgi_stmt_done(c, STMT_LOT_LATEST, q);
+    return rc;
+}
+
+/* One probe's history as bgi_sqlite_lot_histories gathers it (the buffers grow). */
+struct hist_buf {
+    bg_fit_row *fits;
+    char (*when)[BG_TIME];
+    size_t n, cap, unfitted;
+};
+
+static int hist_buf_push(struct hist_buf *h)
+{
+    if (h->n < h->cap)
+        return BG_OK;
+    size_t cap = h->cap ? 2 * h->cap : 8;
+    bg_fit_row *f = realloc(h->fits, cap * sizeof *f);
+    if (f)
+        h->fits = f;
+    char (*w)[BG_TIME] = realloc(h->when, cap * sizeof *w);
+    if (w)
+        h->when = w;
+    if (!f || !w)
+        return BG_ENOMEM;
+    h->cap = cap;
+    return BG_OK;
+}
+
+int bgi_sqlite_lot_histories(bgi_conn *c, long long lot_id, const char *since,
+                             bg_lot_histories_cb cb, void *ctx, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    struct hist_buf h = { NULL, NULL, 0, 0, 0 };
+    long long probe = 0;
+    char serial[BG_TEXT] = "";
+    int rc, s, stop = 0;
+
+    /* every probe of the lot (by serial) with each of its runs since 'since' (oldest first;
+    ** none: one row of NULLs) and the run's newest fit; columns: the probe's id and serial,
+    ** the run's id and start, the fit (FIT_COLS) from column 4 */
+    rc = bgi_stmt(c, STMT_LOT_HISTORIES, "SELECT p.id, p.serial, r.id, r.started_at, "
+                  FIT_COLS " FROM probe p LEFT JOIN run r ON r.probe_id = p.id AND (?2 IS NULL "
+                  "OR r.started_at >= ?2) " NEWEST_FIT "WHERE p.lot_id = ?1 "
+                  "ORDER BY p.serial, r.started_at, r.id", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, lot_id);
+    bgi_bind_text_or_null(q, 2, since);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        long long pid = sqlite3_column_int64(q, 0);
+        if (pid != probe) {
+            if (probe && cb(serial, h.fits, h.when, h.n, h.unfitted, ctx)) {
+                stop = 1;
+                break;
+            }
+            probe = pid, h.n = h.unfitted = 0;
+            bgi_copy_text(serial, sizeof serial, q, 1);
+        }
+        if (sqlite3_column_type(q, 2) == SQLITE_NULL)
+            continue; /* a probe without runs */
+        if (sqlite3_column_type(q, 4) == SQLITE_NULL) {
+            h.unfitted++;
+            continue;
+        }
+        if (hist_buf_push(&h) != BG_OK) {
+            rc = bg_error_set(err, BG_ENOMEM, "out of memory reading the history of probe "
+                              "'%s'", serial);
+            break;
+        }
+        if ((rc = bgi_sqlite_fit_row(q, 4, &h.fits[h.n], err)) != BG_OK)
+            break;
+        bgi_copy_text(h.when[h.n], BG_TIME, q, 3);
+        h.n++;
+    }
+    if (rc == BG_OK && !stop && s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read the lot's history");
+    bgi_stmt_done(c, STMT_LOT_HISTORIES, q);
+    if (rc == BG_OK && !stop && probe)
+        cb(serial, h.fits, h.when, h.n, h.unfitted, ctx);
+    free(h.fits);
+    free(h.when);
     return rc;
 }
 

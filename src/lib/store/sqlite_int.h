@@ -13,13 +13,19 @@
 #define BGI_CHAIN_MAXCOL 48
 
 enum { STMT_INSERT_READING, STMT_INSERT_READINGS, STMT_RUN_POINTS, STMT_INSERT_FIT,
-       STMT_INSERT_FIT_ID, STMT_INSERT_FITS, STMT_CHAIN_HEAD, STMT_CHAIN_INSERT,
+       STMT_INSERT_FIT_ID, STMT_INSERT_FITS,
+       /* the read paths (bgi_stmt) */
+       STMT_LOT_GET, STMT_PROBE_GET, STMT_PROBE_ID, STMT_REF_GET, STMT_FIT_GET, STMT_FIT_NEWEST,
+       STMT_PROBE_RUNS, STMT_LOT_LATEST, STMT_LOT_HISTORIES, STMT_PART_SPEC,
+       STMT_PART_SPEC_NEWEST, STMT_EXPORT_RUNS, STMT_EXPORT_READINGS, STMT_EXPORT_FITS,
+       /* the record chain */
+       STMT_CHAIN_HEAD, STMT_CHAIN_INSERT,
        STMT_CHAIN_ROW0, /* one per chained table, and the readings of a run after them */
        STMT_COUNT = STMT_CHAIN_ROW0 + BGI_CHAIN_KINDS + 1 };
 
 struct bgi_conn {
     sqlite3 *db;
-    sqlite3_stmt *cache[STMT_COUNT]; /* statements reused in loops */
+    sqlite3_stmt *cache[STMT_COUNT]; /* statements reused in loops, finalized at close */
     /* the record chain: each chained table's columns in the order of their names */
     int chain_order[BGI_CHAIN_KINDS + 1][BGI_CHAIN_MAXCOL];
     int chain_ncol[BGI_CHAIN_KINDS + 1];
@@ -29,6 +35,13 @@ int bgi_db_fail(bgi_conn *c, bg_error *err, const char *what);
 int bgi_prepare(bgi_conn *c, const char *sql, sqlite3_stmt **stmt, bg_error *err);
 /* A statement kept on the connection (prepared once, reset and cleared here). */
 int bgi_cached(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, bg_error *err);
+/* The statement 'which' of the connection's cache for a read: prepared once (persistent) and
+** kept until the connection closes.  When it is in use further up the call stack (a callback
+** that queries again), a fresh statement is prepared instead.  Hand it back with bgi_stmt_done
+** at once, whatever happened (a failed step included): it is reset, its bindings cleared (or
+** the fresh one finalized), so no cached statement holds a read transaction open. */
+int bgi_stmt(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, bg_error *err);
+void bgi_stmt_done(bgi_conn *c, int which, sqlite3_stmt *q);
 void bgi_copy_text(char *dst, size_t size, sqlite3_stmt *stmt, int col);
 void bgi_bind_text_or_null(sqlite3_stmt *stmt, int i, const char *s);
 
@@ -72,6 +85,23 @@ int bgi_sqlite_lot_latest_fits(bgi_conn *c, long long lot_id, const char *since,
                                bg_latest_cb cb, void *ctx, bg_error *err);
 int bgi_sqlite_lot_history(bgi_conn *c, long long lot_id, const char *since,
                            bg_lot_history_cb cb, void *ctx, bg_error *err);
+/* The columns of a probe row (p: the probe, l: its lot) and the row. */
+#define BGI_PROBE_COLS "p.id, p.lot_id, p.serial, l.code, p.note, p.created_at, " \
+    "(SELECT count(*) FROM run r WHERE r.probe_id = p.id), " \
+    "(SELECT count(*) FROM fit f JOIN run r ON f.run_id = r.id WHERE r.probe_id = p.id)"
+void bgi_sqlite_probe_row(sqlite3_stmt *q, bg_probe *p);
+/* The export walk (sqlite_export.c): probe 'serial', or the probes of lot 'lot_id'. */
+int bgi_sqlite_export_each(bgi_conn *c, const char *serial, long long lot_id,
+                           const bg_export_cbs *cbs, void *ctx, bg_error *err);
+/* A lot's histories in one query (store.h, bg_store_lot_histories). */
+int bgi_sqlite_lot_histories(bgi_conn *c, long long lot_id, const char *since,
+                             bg_lot_histories_cb cb, void *ctx, bg_error *err);
+/* The columns of a whole fit row (f: fit, r: its run, p: its probe), 25 of them, and the row
+** read from column 'b' on. */
+#define BGI_FIT_COLS "f.id, f.run_id, r.probe_id, p.serial, f.model, f.t0_k, f.npar, f.c0, " \
+    "f.c1, f.c2, f.c3, f.c4, f.c5, f.cov, f.n, f.dof, f.weighted, f.chi2, f.cov_scale, " \
+    "f.rms_mk, f.max_abs_mk, f.t_min_k, f.t_max_k, f.program_version, f.created_at"
+int bgi_sqlite_fit_row(sqlite3_stmt *q, int b, bg_fit_row *f, bg_error *err);
 int bgi_sqlite_artifact_next(bgi_conn *c, const char *kind, const char *subject, long long *id,
                              long long *latest, bg_error *err);
 int bgi_sqlite_artifact_insert(bgi_conn *c, const struct bgi_artifact_row *row, bg_error *err);

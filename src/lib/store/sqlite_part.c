@@ -112,7 +112,8 @@ int bgi_sqlite_part_spec_each(bgi_conn *c, const char *part, int newest_only,
 {
     sqlite3_stmt *q = NULL;
     bg_part_spec p;
-    int s, rc = bgi_prepare(c, newest_only ?
+    int which = newest_only ? STMT_PART_SPEC_NEWEST : STMT_PART_SPEC;
+    int s, rc = bgi_stmt(c, which, newest_only ?
         "SELECT id, part, model, t0_k, npar, c0, c1, c2, c3, c4, c5, source, tol_k, tol_lo_k, "
         "tol_hi_k, baseline, limit_k, rate_k, note, created_at FROM part_spec WHERE part = ? "
         "ORDER BY created_at DESC, id DESC LIMIT 1" :
@@ -128,6 +129,6 @@ int bgi_sqlite_part_spec_each(bgi_conn *c, const char *part, int newest_only,
     }
     if (rc == BG_OK && s != SQLITE_ROW && s != SQLITE_DONE)
         rc = bgi_db_fail(c, err, "cannot read part specifications");
-    sqlite3_finalize(q);
+    bgi_stmt_done(c, which, q);
     return rc;
 }

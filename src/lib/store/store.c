@@ -1036,6 +1036,37 @@ int bg_store_lot_history(bg_store *st, const char *lot_code, const char *since,
     return st->be->lot_history(st->conn, lot.id, since, cb, ctx, err);
 }
 
+int bg_store_lot_histories(bg_store *st, const char *lot_code, const char *since,
+                           bg_lot_histories_cb cb, void *ctx, bg_error *err)
+{
+    bg_lot lot;
+    int rc = st->be->lot_get(st->conn, lot_code, &lot, err);
+    if (rc != BG_OK)
+        return did_you_mean(st, BGI_NAME_LOT, lot_code, rc, err);
+    return st->be->lot_histories(st->conn, lot.id, since, cb, ctx, err);
+}
+
+/* ---- the whole record, for export ---- */
+
+int bg_store_export_each(bg_store *st, const char *serial, const char *lot_code,
+                         const bg_export_cbs *cbs, void *ctx, bg_error *err)
+{
+    long long id = 0;
+    int rc;
+    if (!serial == !lot_code)
+        return bg_error_set(err, BG_EINVAL, "export needs a probe or a lot, not %s",
+                            serial ? "both" : "neither");
+    if (serial && (rc = st->be->probe_id(st->conn, serial, &id, err)) != BG_OK)
+        return did_you_mean(st, BGI_NAME_PROBE, serial, rc, err);
+    if (lot_code) {
+        bg_lot lot;
+        if ((rc = st->be->lot_get(st->conn, lot_code, &lot, err)) != BG_OK)
+            return did_you_mean(st, BGI_NAME_LOT, lot_code, rc, err);
+        id = lot.id;
+    }
+    return st->be->export_each(st->conn, serial, lot_code ? id : 0, cbs, ctx, err);
+}
+
 /* ---- issued artifacts ---- */
 
 void bg_artifact_release(bg_artifact *a)

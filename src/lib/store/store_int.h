@@ -65,7 +65,7 @@ enum bgi_name_kind { BGI_NAME_PROBE, BGI_NAME_LOT, BGI_NAME_REF, BGI_NAME_PART }
 /* Called with each name; nonzero stops the walk. */
 typedef int (*bgi_name_cb)(const char *name, void *ctx);
 
-#define BGI_STORE_BACKEND_VERSION 5
+#define BGI_STORE_BACKEND_VERSION 6
 
 /* Every function takes the connection first and 'err' last, and returns a bg_status unless
 ** said otherwise.  Write functions run inside a transaction that store.c opened (in_tx is
@@ -175,6 +175,13 @@ struct bgi_store_backend {
     int (*verify)(bgi_conn *c, bg_store_check *out, bg_error *err);
     /* row 'id' of table 'kind' still matches its record in the chain (BG_EINVAL if not) */
     int (*chain_check)(bgi_conn *c, const char *kind, long long id, bg_error *err);
+
+    /* version 6: the lot-wide read paths, each one query or a few statements prepared once
+    ** (store.h: bg_store_lot_histories, bg_store_export_each; the probe or lot exists) */
+    int (*lot_histories)(bgi_conn *c, long long lot_id, const char *since,
+                         bg_lot_histories_cb cb, void *ctx, bg_error *err);
+    int (*export_each)(bgi_conn *c, const char *serial, long long lot_id,
+                       const bg_export_cbs *cbs, void *ctx, bg_error *err);
 };
 
 /* The backends (sqlite.c, ...); store.c lists them by scheme. */
