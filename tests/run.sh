@@ -51,6 +51,8 @@ tally reports "$BUILD/reports.log" $?
 tally layout "$BUILD/layout.log" $?
 "$PYTHON" tests/xcheck_numpy.py "$BUILD/bandgap"
 count $? xcheck_numpy
+"$PYTHON" tests/bench/timing_check.py > "$BUILD/timing-check.log" 2>&1
+tally timing "$BUILD/timing-check.log" $?
 
 echo "tests: $pass passed, $fail failed"
 echo "$pass $fail" > "$BUILD/summary"
