@@ -7,7 +7,7 @@
 # (tests/bench/timing.py) at three sizes or more, with the log-log slope of the growth.
 # Not a test: make check and make test never run it, and no figure here is asserted.
 # Usage: run.sh BUILD PYTHON CC CFLAGS LIBS
-# Sizes: BENCH_SCALE=full (default; about 40 minutes on 2 shared cores today, most of it the
+# Sizes: BENCH_SCALE=full (default; 21 minutes on 2 shared and busy cores today, much of it the
 # paths that are still quadratic, each stopped after BENCH_TIMEOUT seconds) or small (about
 # 2 minutes, for trying the bench itself).  Each list can be set alone: BENCH_PROBES,
 # BENCH_BITS, BENCH_FITN, BENCH_IMPORT_N, BENCH_RSS_N; BENCH_ROUNDS (>= 5), BENCH_TIMEOUT;
