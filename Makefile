@@ -25,7 +25,7 @@ CMOCKA     = $(shell pkg-config --cflags --libs cmocka 2>/dev/null)
 CFLAGS_ALL = $(STD) $(WARN) $(OPT) -fvisibility=hidden -Iinclude -DBG_VERSION='"$(VERSION)"' \
              $(PKG_CFLAGS)
 DEBIAN_PKGS = libgsl-dev libsqlite3-dev nettle-dev libcmocka-dev pkg-config python3-numpy python3-scipy \
-              mandoc sqlite3 clang libclang-rt-14-dev chromium chromium-driver libxml2-utils
+              mandoc sqlite3 clang libclang-rt-14-dev chromium chromium-driver libxml2-utils time
 
 LIB_SRC = $(wildcard src/lib/*/*.c)
 LIB_INT = $(wildcard src/lib/*/*_int.h src/lib/*/*_priv.h)
@@ -57,6 +57,7 @@ deps:
 	$(PYTHON) -c 'import numpy, scipy' 2>/dev/null || missing=yes; \
 	for c in mandoc sqlite3 clang chromium chromedriver xmllint; do \
 	  command -v $$c >/dev/null 2>&1 || missing=yes; done; \
+	[ -x /usr/bin/time ] || missing=yes; \
 	if [ -n "$$missing" ]; then \
 	  if [ "$$(id -u)" = 0 ]; then SUDO=""; \
 	  elif command -v sudo >/dev/null 2>&1 && sudo -n true 2>/dev/null; then SUDO="sudo"; \

@@ -59,6 +59,8 @@ rm -rf "$hw"
 tally layout "$BUILD/layout.log" $?
 "$PYTHON" tests/xcheck_numpy.py "$BUILD/bandgap"
 count $? xcheck_numpy
+"$PYTHON" tests/bench/timing_check.py > "$BUILD/timing-check.log" 2>&1
+tally timing "$BUILD/timing-check.log" $?
 
 echo "tests: $pass passed, $fail failed"
 echo "$pass $fail" > "$BUILD/summary"

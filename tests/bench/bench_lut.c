@@ -64,7 +64,8 @@ int main(int argc, char **argv)
             bg_circuit_ohms_of(&s.circuit, (double)(t.code_lo + k), &r, NULL);
             bg_model_t_from_r(&s.model, r, &tk[k], NULL);
         }
-        bgi_lut_make_bands(&t, tk, t.counts_per_k, t.offset_k, bound, b);
+        if (bgi_lut_make_bands(&t, tk, t.counts_per_k, t.offset_k, bound, b, NULL) != BG_OK)
+            return 1;
         few[0] = 0;
         long smin = 0;
         for (long e = 0; e < n; e++) {

@@ -1,11 +1,32 @@
 #!/bin/sh
 # SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
-# make bench: bandgap's fitter against scipy and numpy, side by side on the same data.
+# make bench: bandgap against anchors run side by side on the same machine, on invented data.
+# First the fitter against scipy and numpy; then the commands users run, as processes
+# (fit --lot, drift --lot, report --lot, export --lot --json, fit FILE, lut --strategy
+# minimal, import) and the library paths, each paired with its anchor in interleaved rounds
+# (tests/bench/timing.py) at three sizes or more, with the log-log slope of the growth.
+# Not a test: make check and make test never run it, and no figure here is asserted.
 # Usage: run.sh BUILD PYTHON CC CFLAGS LIBS
+# Sizes: BENCH_SCALE=full (default; 21 minutes on 2 shared and busy cores today, much of it the
+# paths that are still quadratic, each stopped after BENCH_TIMEOUT seconds) or small (about
+# 2 minutes, for trying the bench itself).  Each list can be set alone: BENCH_PROBES,
+# BENCH_BITS, BENCH_FITN, BENCH_IMPORT_N, BENCH_RSS_N; BENCH_ROUNDS (>= 5), BENCH_TIMEOUT;
+# NPROBES for the fit block.
 BUILD=$1 PYTHON=$2 CC=$3 CFLAGS=$4 LIBS=$5
 set -e
 out=$BUILD/bench
 mkdir -p "$out"
+case ${BENCH_SCALE:-full} in
+full) probes="1000 10000 100000" bits="12 16 20 24" fitn="10000 100000 1000000"
+      import_n=1000000 rss_n="1000000 10000000" ;;
+small) probes="100 300 1000" bits="12 16 20" fitn="3000 10000 30000"
+       import_n=100000 rss_n="100000 300000" NPROBES=${NPROBES:-1000} ;;
+*) echo "bench: BENCH_SCALE is full or small, not '$BENCH_SCALE'" >&2; exit 64 ;;
+esac
+for tool in sqlite3 /usr/bin/time; do
+    command -v "$tool" > /dev/null 2>&1 ||
+        { echo "bench: $tool is missing (make deps installs it)" >&2; exit 69; }
+done
 # ---- fits: per probe and batched, against scipy, numpy lstsq and a hand-vectorised NumPy ----
 # shellcheck disable=SC2086
 $CC $CFLAGS tests/bench/bench_fit.c -o "$out/bench_fit" "$BUILD/libbandgap.a" $LIBS
@@ -35,69 +56,114 @@ awk '/^C_FULL1_US/ {cf=$2} /^C_LIN1_US/ {cl=$2} /^PY_CF_US/ {pf=$2} /^PY_LS_US/ 
            printf "ratio: linear fit (per probe) %.0fx faster than numpy lstsq (target >= 10x)\n", pl / cl }' \
     "$out/c.txt" "$out/py.txt"
 
-# ---- the database: import of 1,000,000 readings, and fitting a stored lot ----
+
+# ---- the database and the commands users run --------------------------------------------
+# Every figure below is a process (the command as a user runs it, or a bench program for a
+# library path) against its anchor, in BENCH_ROUNDS interleaved rounds (tests/bench/timing.py):
+# the median and the range of the ratio, the target where the issue sets one (at the largest
+# size) and PASS or MISS.  A command still running after BENCH_TIMEOUT seconds is stopped and
+# the larger sizes of its path are not run; its slope is then a lower bound.
+probes=${BENCH_PROBES:-$probes} bits=${BENCH_BITS:-$bits} fitn=${BENCH_FITN:-$fitn}
+import_n=${BENCH_IMPORT_N:-$import_n} rss_n=${BENCH_RSS_N:-$rss_n}
+rounds=${BENCH_ROUNDS:-5} timeout=${BENCH_TIMEOUT:-150}
+bg=$BUILD/bandgap
+growth=$out/growth.tsv
+: > "$growth"
+pair() { "$PYTHON" tests/bench/timing.py pair --rounds "$rounds" --timeout "$timeout" \
+             --record "$growth" "$@"; }
+rss() { "$PYTHON" tests/bench/timing.py rss --timeout "$((timeout * 4))" "$@"; }
+slope() { "$PYTHON" tests/bench/timing.py slope --record "$growth" "$@"; }
+last() { for x in "$@"; do :; done; echo "$x"; }
+# run_path KEY LABEL PAIR-ARGS...: the pair, unless KEY was stopped at a smaller size
+run_path() {
+    if awk -F '\t' -v k="$1" '$1 == k && $6 == "stopped" { s = 1 } END { exit !s }' "$growth"
+    then echo "$2: not run (stopped at a smaller size)"
+    else k=$1 l=$2; shift 2; pair --key "$k" --label "$l" "$@"; fi
+}
 # shellcheck disable=SC2086
 $CC $CFLAGS tests/bench/bench_db.c -o "$out/bench_db" "$BUILD/libbandgap.a" $LIBS
-NREAD=${NREAD:-1000000}
-NLOT=${NLOT:-100000}
-now() { date +%s.%N; }
-awk -v n="$NREAD" 'BEGIN { print "# INVENTED benchmark readings"; print "temp_k,ohms,u_temp_k";
-    for (i = 0; i < n; i++) printf "%.6f,%.6f,0.002\n", 250 + 100 * i / n, 100000 * exp(-4 * i / n) }' \
-    > "$out/big.csv"
-# Best of three of each, run alternately on fresh files (the machine's speed drifts).
-best() { sort -n | head -n 1; }
-for i in 1 2 3; do
-    rm -f "$out/imp.db" "$out/bare.db"
-    B="$BUILD/bandgap --db $out/imp.db"
-    $B init > /dev/null && $B lot add L --part P --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1% > /dev/null
-    $B probe add K --lot L > /dev/null
-    printf 'CREATE TABLE t(temp_k, ohms, u_temp_k);\n' | sqlite3 "$out/bare.db"
-    t0=$(now); $B import "$out/big.csv" --probe K > /dev/null; t1=$(now)
-    sqlite3 "$out/bare.db" ".import --csv --skip 2 $out/big.csv t"; t2=$(now)
-    awk -v a="$t0" -v b="$t1" -v c="$t2" 'BEGIN { print b - a, c - b }'
-done > "$out/import.txt"
-bi=$(awk '{print $1}' "$out/import.txt" | best); si=$(awk '{print $2}' "$out/import.txt" | best)
-awk -v b="$bi" -v s="$si" -v n="$NREAD" 'BEGIN {
-    printf "import %d readings with full validation: bandgap %.2f s, sqlite3 .import into a bare table %.2f s (best of 3 each): ratio %.2f (target <= 1)\n", n, b, s, b / s }'
 
-rm -f "$out/lot.db"
-"$out/bench_db" setup "$out/lot.db" "$NLOT" 10
-# Five rounds, each running every measurement once in turn (the machine's speed drifts over
-# seconds, so side by side means interleaved); the best of each; every fit on a fresh copy.
-REPS=${REPS:-5}
-for i in $(seq "$REPS"); do
-    "$out/bench_db" scan "$out/lot.db" | awk '/^SCAN_S/ {print "scan", $2}'
-    "$out/bench_db" read "$out/lot.db" | awk '/^READ_S/ {print "read", $2}'
-    cp "$out/lot.db" "$out/lotx.db"
-    "$out/bench_db" fit "$out/lotx.db" | awk '/^FIT_S/ {print "lib", $2}'
-    cp "$out/lot.db" "$out/lotx.db"; t0=$(now)
-    "$BUILD/bandgap" --db "$out/lotx.db" fit --lot BENCH --model sh3 > /dev/null; t1=$(now)
-    awk -v a="$t0" -v b="$t1" 'BEGIN { print "cli", b - a }'
-done > "$out/lot.txt"
-pick() { awk -v k="$1" '$1 == k { print $2 }' "$2" | best; }
-scan=$(pick scan "$out/lot.txt"); read=$(pick read "$out/lot.txt")
-lib=$(pick lib "$out/lot.txt"); cli=$(pick cli "$out/lot.txt")
-awk -v s="$scan" -v r="$read" -v l="$lib" -v c="$cli" -v n="$NLOT" 'BEGIN {
-    printf "lot of %d probes x 10 readings: reading it back %.2f s (plain SQL scan of the rows %.2f s)\n", n, r, s
-    printf "  fitting and storing every probe (library, one transaction): %.2f s: ratio %.2f to reading back (target <= 2), %.1f to the plain scan\n", l, l / r, l / s
-    printf "  bandgap fit --lot, also printing a line per probe: %.2f s: ratio %.2f\n", c, c / r }'
+# The anchors: plain scans of the same rows with the sqlite3 shell, printed to /dev/null.
+cat > "$out/fits.sql" <<'SQL'
+SELECT p.serial, r.started_at, f.* FROM lot l JOIN probe p ON p.lot_id = l.id
+  JOIN run r ON r.probe_id = p.id JOIN fit f ON f.run_id = r.id WHERE l.code = 'BENCH';
+SQL
+cat > "$out/readings.sql" <<'SQL'
+SELECT p.serial, g.id, g.t_k, g.r_ohm, g.u_t_k, g.u_r_ohm FROM lot l
+  JOIN probe p ON p.lot_id = l.id JOIN run r ON r.probe_id = p.id
+  JOIN reading g ON g.run_id = r.id WHERE l.code = 'BENCH';
+SQL
+cat > "$out/export.sql" <<'SQL'
+SELECT p.serial, r.*, g.*, x.reason, x.by_whom, x.at FROM lot l
+  JOIN probe p ON p.lot_id = l.id JOIN run r ON r.probe_id = p.id
+  JOIN reading g ON g.run_id = r.id LEFT JOIN exclusion x ON x.reading_id = g.id
+  WHERE l.code = 'BENCH';
+SQL
+cat "$out/fits.sql" >> "$out/export.sql"
+fits="sqlite3 -readonly $out/hist.db < $out/fits.sql"
 
-# ---- QA: drift and lot statistics over 10,000 probes x 3 calibrations ----
-NDRIFT=${NDRIFT:-10000}
-rm -f "$out/drift.db"
-"$out/bench_db" setup3 "$out/drift.db" "$NDRIFT"
-for i in $(seq "$REPS"); do
-    "$out/bench_db" scanfits "$out/drift.db" | awk '/^SCANFITS_S/ {print "scanf", $2}
-                                                  /^SCANROWS_S/ {print "scanr", $2}'
-    "$out/bench_db" drift "$out/drift.db" "$NDRIFT" | awk '/^DRIFT_S/ {print "drift", $2}'
-    t0=$(now); "$BUILD/bandgap" --db "$out/drift.db" drift --lot BENCH > /dev/null || true; t1=$(now)
-    awk -v a="$t0" -v b="$t1" 'BEGIN { print "cli", b - a }'
-done > "$out/drift.txt"
-scanf=$(pick scanf "$out/drift.txt"); scanr=$(pick scanr "$out/drift.txt")
-drift=$(pick drift "$out/drift.txt"); cli=$(pick cli "$out/drift.txt")
-awk -v s="$scanf" -v w="$scanr" -v d="$drift" -v c="$cli" -v n="$NDRIFT" 'BEGIN {
-    printf "drift of %d probes x 3 calibrations (against previous and first) with the lot statistics: %.3f s; plain SQL scan of the same fit rows, two columns read %.3f s: ratio %.2f (target <= 3); every column read %.3f s: ratio %.2f\n", n, d, s, d / s, w, d / w
-    printf "  bandgap drift --lot (the lot statistics of the newest fits, printed): %.3f s\n", c }'
+echo "lots of invented probes, at $probes probes: bench_db 'setup' (N probes x 10 readings, one run" \
+     "each, unfitted) and 'setup3' (N probes x 3 calibrations, every run fitted); the anchors are" \
+     "the sqlite3 shell's scan of the same rows (readings or fits of the lot) to /dev/null"
+# shellcheck disable=SC2086
+big=$(last $probes)
+for n in $probes; do
+    rm -f "$out/lot.db" "$out/hist.db"
+    "$out/bench_db" setup "$out/lot.db" "$n" 10 > /dev/null
+    "$out/bench_db" setup3 "$out/hist.db" "$n" > /dev/null
+    t3=""; [ "$n" = "$big" ] && t3="--target le:3"
+    # shellcheck disable=SC2086
+    {
+    run_path fitlot "fit --lot BENCH --model sh3, $n probes x 10 readings / sqlite3 scan of the readings" \
+        $t3 --size "$n" --setup "cp $out/lot.db $out/x.db" \
+        "$bg --db $out/x.db fit --lot BENCH --model sh3" "sqlite3 $out/x.db < $out/readings.sql"
+    run_path drift "drift --lot BENCH, $n probes x 3 fits / sqlite3 scan of the fits" \
+        $t3 --size "$n" --ok-rc 0,1 "$bg --db $out/hist.db drift --lot BENCH" "$fits"
+    run_path report "report --lot BENCH -o FILE, $n probes x 3 fits / sqlite3 scan of the fits" \
+        $t3 --size "$n" --setup "cp $out/hist.db $out/x.db; rm -f $out/lot.html" \
+        "$bg --db $out/x.db report --lot BENCH -o $out/lot.html" "sqlite3 $out/x.db < $out/fits.sql"
+    run_path export "export --lot BENCH --json, $n probes x 3 runs / sqlite3 scan of the runs, readings and fits" \
+        $t3 --size "$n" "$bg --db $out/hist.db export --lot BENCH --json" \
+        "sqlite3 -readonly $out/hist.db < $out/export.sql"
+    }
+done
+slope --key fitlot --label "fit --lot" --unit probes
+slope --key drift --label "drift --lot" --unit probes
+slope --key report --label "report --lot" --unit probes
+slope --key export --label "export --lot --json" --unit probes
+# The library paths the bench timed before the commands, at the largest size (bench_db).
+pair --label "library: the lot's readings read back (bench_db read), $big probes / sqlite3 scan of the readings" \
+    "$out/bench_db read $out/lot.db" "sqlite3 -readonly $out/lot.db < $out/readings.sql"
+pair --label "library: every probe fitted and stored in one transaction (bench_db fit), $big probes / read back" \
+    --target le:2 --setup "cp $out/lot.db $out/x.db" \
+    "$out/bench_db fit $out/x.db" "$out/bench_db read $out/x.db"
+pair --label "library: drift against previous and first with the lot statistics (bench_db drift), $big probes / sqlite3 scan of the fits" \
+    --target le:3 "$out/bench_db drift $out/hist.db $big" "$fits"
+rm -f "$out/lot.db" "$out/hist.db" "$out/x.db" "$out/lot.html"
+
+# ---- fit FILE: one probe with many readings --------------------------------------------
+# gen N FILE: N invented readings of one probe (1/T = A + B L + C L^3 with invented
+# coefficients, L = ln R from ln 100k down to ln 1k; a deterministic +-1 mK ripple)
+gen() {
+    awk -v n="$1" 'BEGIN { print "# INVENTED benchmark readings"; print "temp_k,ohms,u_temp_k"
+        for (i = 0; i < n; i++) { r = 100000 * exp(-4.6 * i / n); l = log(r)
+            t = 1 / (1.1384e-3 + 2.3245e-4 * l + 9.4871e-8 * l * l * l)
+            printf "%.6f,%.6f,0.002\n", t + 0.001 * ((i * 7919) % 1000 / 500 - 1), r } }' > "$2"
+}
+echo "fit FILE (auto model, the comparison of models included) at $fitn readings; the anchor" \
+     "parses the same file: mawk splitting every line at the commas and converting its three" \
+     "numbers"
+# shellcheck disable=SC2086
+bigf=$(last $fitn)
+for n in $fitn; do
+    gen "$n" "$out/fit.csv"
+    t5=""; [ "$n" = "$bigf" ] && t5="--target le:5"
+    # shellcheck disable=SC2086
+    pair --key fitfile --size "$n" --label "fit FILE, $n readings / parsing the file (awk)" $t5 \
+        "$bg fit $out/fit.csv" "awk -F, 'NR > 2 { s += \$1 + \$2 + \$3 } END { print s }' $out/fit.csv"
+done
+slope --key fitfile --label "fit FILE" --unit readings
+rm -f "$out/fit.csv"
 
 # ---- firmware tables: build time, entries against the exact minimum, instructions ----
 # shellcheck disable=SC2086
@@ -105,6 +171,59 @@ $CC $CFLAGS tests/bench/bench_lut.c -o "$out/bench_lut" "$BUILD/libbandgap.a" $L
 "$out/bench_lut" 0.05 | tee "$out/lut.txt" | awk '{
     printf "minimal table, %s-bit divider, -40..125 degC within 0.05 K: built in %.3f s (target < %s s; the uniform table beside it %.3f s, ratio %.0f); %s segments, exact minimum by a separate dynamic program %s (target: equal); values on the curve need %s breakpoints, the uniform table %s\n",
         substr($1, 5), $3, substr($1, 5) == 12 ? 1 : 5, $5, $3 / $5, $7, $9, $11, $13 }'
+echo "lut --strategy minimal (10k NTC, B 3950 K, 10k divider, -40..125 degC within 0.05 K) at" \
+     "$bits bits; the anchor is the uniform table of the same bound (its error also measured at" \
+     "every code)"
+for b in $bits; do
+    lut="$bg lut --r25 10k --beta 3950K --fixed 10k --sensor-side low --adc-bits $b --range -40C:125C --max-error 0.05C"
+    t24=""; [ "$b" = 24 ] && t24="--max-s 10 --max-rss-mb 256"
+    # shellcheck disable=SC2086
+    pair --key lut --size "$((1 << b))" --rss $t24 \
+        --label "lut --strategy minimal, $b bits / uniform" \
+        "$lut --strategy minimal -o $out/lut_min.c" "$lut --strategy uniform -o $out/lut_uni.c"
+done
+slope --key lut --label "lut --strategy minimal" --unit codes
+rm -f "$out/lut_min.c" "$out/lut_uni.c"
+
+# ---- import: bandgap import against the sqlite3 shell's .import ------------------------
+# (helper bench's own section; tests/bench/import.sh, when it exists, is meant to replace it)
+# imp_prep N: the readings file; a database with lot L and probe K; the anchor's database,
+# the same with one run, and the same readings as rows of bandgap's reading table (id, run,
+# line, raw and corrected temperature, resistance, uncertainties, time, note), imported by
+# the shell into that very table: the same columns, types, constraints (foreign keys on),
+# indexes, triggers and page size.
+imp_prep() {
+    gen "$1" "$out/imp.csv"
+    rm -f "$out/imp0.db" "$out/anc0.db"
+    $bg --db "$out/imp0.db" init > /dev/null
+    $bg --db "$out/imp0.db" lot add L --part P --r25 10k --beta 3950K --tol-r25 1% \
+        --tol-beta 1% > /dev/null
+    $bg --db "$out/imp0.db" probe add K --lot L > /dev/null
+    cp "$out/imp0.db" "$out/anc0.db"
+    printf '# INVENTED\ntemp_k,ohms,u_temp_k\n300,5000,0.002\n' > "$out/one.csv"
+    $bg --db "$out/anc0.db" import "$out/one.csv" --probe K > /dev/null
+    awk -F, 'NR > 2 { printf "%d,1,%d,%s,%s,%s,%s,0,,\n", NR + 10, NR, $1, $1, $2, $3 }' \
+        "$out/imp.csv" > "$out/anc.csv"
+}
+imp="$bg --db $out/imp.db import $out/imp.csv --probe K"
+anc="sqlite3 $out/anc.db 'PRAGMA foreign_keys = ON' '.import --csv $out/anc.csv reading'"
+fresh="cp $out/imp0.db $out/imp.db; cp $out/anc0.db $out/anc.db"
+imp_prep "$import_n"
+pair --rss --target le:1 --max-rss-mb 32 --setup "$fresh" \
+    --label "import, $import_n readings / sqlite3 .import into the reading table" "$imp" "$anc"
+# the anchor the bench used before, for comparison (no target): the file itself into a bare
+# table of three untyped columns with no constraints
+printf 'CREATE TABLE t(temp_k, ohms, u_temp_k);\n' > "$out/bare.sql"
+pair --setup "$fresh; rm -f $out/bare.db; sqlite3 $out/bare.db < $out/bare.sql" \
+    --label "import, $import_n readings / sqlite3 .import into a bare 3-column table" \
+    "$imp" "sqlite3 $out/bare.db '.import --csv --skip 2 $out/imp.csv t'"
+for n in $rss_n; do
+    imp_prep "$n"
+    rss --max-rss-mb 32 --setup "$fresh" --label "import, $n readings: peak RSS" "$imp" "$anc"
+done
+rm -f "$out"/imp*.db "$out"/anc*.db "$out"/bare.* "$out/imp.csv" "$out/anc.csv" "$out/one.csv"
+
+# ---- firmware tables: instructions per conversion (callgrind; counts, not times) ----
 if command -v valgrind >/dev/null 2>&1; then
     ir() { valgrind --tool=callgrind --callgrind-out-file=/dev/null "$1" 2>&1 | awk '/refs:/ { gsub(",", "", $NF); print $NF }'; }
     printf '#include <stdint.h>\nint32_t ntc_lookup(uint32_t code);\nvolatile int32_t sink;\nint main(void) { for (int r = 0; r < 10; r++) for (uint32_t c = 0; c < 4096; c++) sink = ntc_lookup(c); return 0; }\n' > "$out/lut_main.c"
