@@ -659,14 +659,17 @@ static int import_run(bg_store *st, struct import_src *s, const struct import_sc
     p.s = s, p.ref = have_ref ? &ref : NULL, p.src = imp->src;
     imp->ref_id = have_ref ? ref.id : 0;
     imp->n = sc->n, imp->next = pass_next, imp->ctx = &p;
-    if ((rc = st->be->import(st->conn, imp, run_id, err)) != BG_OK)
+    long long run = 0;
+    if ((rc = st->be->import(st->conn, imp, &run, err)) != BG_OK)
         return correct_rest(&p, rc, err);
     if ((rc = src_next(s, &r, err)) != BG_OK)
         return rc;
     if (r || p.n != sc->n || p.check != sc->check)
         return bg_error_set(err, BG_EIO, "%s: the readings changed while they were imported "
                             "(the file was read twice): nothing imported", imp->src);
-    return chained(st, "run", *run_id, BG_OK, err);
+    if (run_id)
+        *run_id = run;
+    return chained(st, "run", run, BG_OK, err);
 }
 
 /* The measuring current or voltage: a number with its unit, at most one of the two. */
