@@ -578,6 +578,34 @@ static long long run_count(const char *name)
 ** IEEE bits of t_raw, R, u(T), u(R) in hex with ';' and the time, -0 written as +0.  The same
 ** readings in another layout are refused with the earlier run's id and the file unchanged;
 ** --new-run imports them and records the run they repeat; one changed digit is new data. */
+/* The run id is optional: an import without it (NULL) still makes the run and its record in
+** the chain, and the chain verifies. */
+static void import_without_run_id(void **state)
+{
+    (void)state;
+    const char *a = "temp_c,ohms,u_temp_k\n25.5,10000.25,0.002\n0,32659.888,0.002\n";
+    bg_store *st = fresh("norunid.db");
+    bg_readings ra;
+    bg_run meta;
+    bg_store_check chk;
+    long long heads = 0;
+    char head[65];
+    assert_int_equal(bg_csv_parse(a, strlen(a), "a.csv", &ra, NULL), BG_OK);
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.serial, "P1");
+    strcpy(meta.source, "a.csv");
+    assert_int_equal(bg_store_chain_head(st, &heads, head, NULL), BG_OK);
+    long long before = heads;
+    assert_int_equal(bg_store_import(st, &ra, &meta, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_chain_head(st, &heads, head, NULL), BG_OK);
+    assert_int_equal(heads, before + 1);
+    assert_int_equal(bg_store_verify(st, &chk, NULL), BG_OK);
+    assert_false(chk.bad);
+    assert_int_equal(chk.records, heads);
+    bg_readings_release(&ra);
+    bg_store_close(st);
+}
+
 static void repeated_import_refused(void **state)
 {
     (void)state;
@@ -1299,6 +1327,7 @@ int main(void)
         cmocka_unit_test(reference_corrections),
         cmocka_unit_test(sha256_fips_vectors),
         cmocka_unit_test(repeated_import_refused),
+        cmocka_unit_test(import_without_run_id),
         cmocka_unit_test(overdue_reference_needs_a_reason),
         cmocka_unit_test(unknown_names_get_the_nearest),
         cmocka_unit_test(lot_histories_match_per_probe_lookups),
