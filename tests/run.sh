@@ -45,6 +45,8 @@ sh tests/faults.sh "$BUILD/bandgap"
 count $? faults
 sh tests/records.sh "$BUILD/bandgap"
 count $? records
+sh tests/exits.sh "$BUILD/bandgap"
+count $? exits
 sh tests/meta.sh "$BUILD/bandgap"
 count $? meta
 sh tests/reports.sh "$BUILD/bandgap" "$PYTHON" > "$BUILD/reports.log" 2>&1

@@ -1284,7 +1284,9 @@ static void statement_cache_survives_failure_and_rollback(void **state)
     long long run = add_run(st, "P2", "2026-05-01T08:00:00Z", 1.0004, "");
     assert_int_equal(bg_store_run_points(st, run, &sp, NULL), BG_OK);
     assert_int_equal(bg_fit_points(sp.pts, sp.n, &o, &fit, NULL), BG_OK);
-    assert_int_equal(bg_store_fit_save(st, 99999, &fit, sp.ids, NULL, &err), BG_EDB);
+    /* a constraint of the record (no run 99999: the foreign key) is bad data, named */
+    assert_int_equal(bg_store_fit_save(st, 99999, &fit, sp.ids, NULL, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "FOREIGN KEY constraint failed"));
     assert_int_equal(bg_store_fit_get(st, 99999, &f, &err), BG_EINVAL);
     assert_int_equal(bg_store_lot_get(st, "L9", &lot, &err), BG_EINVAL);
     no_statement_busy(st);

@@ -18,11 +18,16 @@ typedef enum bg_status {
     BG_OK = 0,
     BG_EINVAL,   /* bad input data or argument (maps to EX_DATAERR in the program) */
     BG_ENOENT,   /* missing input (EX_NOINPUT) */
-    BG_EIO,      /* read or write failure (EX_IOERR) */
+    BG_EIO,      /* read or write failure, a full disk included (EX_IOERR) */
     BG_ENOMEM,   /* out of memory */
     BG_ENUM,     /* numerical failure: singular design, no convergence */
     BG_EDB,      /* database error */
-    BG_EINTERNAL /* a bug in bandgap */
+    BG_EINTERNAL, /* a bug in bandgap */
+    /* Added after the first eight, which keep their values. */
+    BG_ECANTCREAT, /* a file or its directory cannot be written: a read-only database, a
+                   ** directory where its journal cannot be created (EX_CANTCREAT) */
+    BG_EBUSY       /* a temporary failure: the database stayed locked by another process
+                   ** past the busy timeout; trying again may succeed (EX_TEMPFAIL) */
 } bg_status;
 
 typedef struct bg_error {

@@ -31,9 +31,26 @@ enum { BG_STORE_CREATE = 1 << 0 };
 ** hint to run init); with it a new file is created.  A file that is not a bandgap database
 ** (other application id, or tables of its own) is BG_EINVAL; a newer schema than this program
 ** knows is BG_EINVAL; an older one is copied to PATH.vN.bak with SQLite's backup API and then
-** upgraded, each migration in its own transaction.  BG_EIO when the file cannot be opened or
-** created.  Free with bg_store_close(). */
+** upgraded, each migration in its own transaction.  An existing file that cannot be read is
+** BG_ENOENT; one that cannot be created BG_ECANTCREAT; see bg_store_open_with for the other
+** causes.  Free with bg_store_close(). */
 BG_API int bg_store_open(const char *target, int flags, bg_store **out, bg_error *err);
+
+/* Options of bg_store_open_with; defaults from bg_store_default_opts(). */
+typedef struct bg_store_opts {
+    /* How long a call waits for a lock that another process holds before it fails with
+    ** BG_EBUSY (a temporary failure: try again), in seconds, 0 to 3600; default 30. */
+    double busy_timeout_s;
+} bg_store_opts;
+BG_API bg_store_opts bg_store_default_opts(void);
+/* bg_store_open with options ('opts' NULL: the defaults); a busy timeout outside 0 to 3600 s
+** is BG_EINVAL.  Failures of the database file name their cause and status: a full disk or an
+** i/o error BG_EIO; a file, or its directory (where SQLite creates the rollback journal), that
+** cannot be written BG_ECANTCREAT; a lock held past the busy timeout BG_EBUSY; a constraint of
+** the record (CHECK, UNIQUE, a trigger) BG_EINVAL naming it.  Every call that writes says the
+** same, and leaves the database unchanged when it fails. */
+BG_API int bg_store_open_with(const char *target, int flags, const bg_store_opts *opts,
+                              bg_store **out, bg_error *err);
 BG_API void bg_store_close(bg_store *st);
 
 /* The clock of the stored times (created_at, imported_at, exclusions, fits, reports): 'fixed'

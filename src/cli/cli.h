@@ -14,6 +14,7 @@ enum { CLI_EUSAGE = 100, CLI_ECANTCREAT = 101, CLI_FLAGGED = 102 };
 struct cli_ctx {
     const char *db_path; /* --db, BANDGAP_DB or "bandgap.db" */
     int json;            /* --json */
+    double busy_timeout_s; /* --busy-timeout; negative: the library's default */
 };
 
 typedef int (*cmd_fn)(int argc, char **argv, struct cli_ctx *ctx);

@@ -68,19 +68,28 @@ static int create_new(struct cli_ctx *ctx, const char *file, int *existed)
     memcpy(tmp + 7 + n, suffix, sizeof suffix);
     path = tmp + 7;
     if ((fd = mkstemp(path)) < 0) {
-        cli_error("cannot create database '%s': %s", ctx->db_path, strerror(errno));
+        int e = errno;
+        char *slash = strrchr(path, '/');
+        if (slash)
+            *slash = '\0';
+        if (e == EACCES || e == EROFS || e == EPERM) /* the file is made in its directory */
+            cli_error("cannot create database '%s': the directory '%s' is not writable (%s)",
+                      ctx->db_path, slash ? (slash == path ? "/" : path) : ".", strerror(e));
+        else
+            cli_error("cannot create database '%s': %s", ctx->db_path, strerror(e));
         free(tmp);
         return CLI_ECANTCREAT;
     }
     /* the permissions SQLite gives a file it creates (0644 less the umask) */
     fchmod(fd, 0644 & ~mask);
     close(fd);
-    rc = bg_store_open(tmp, BG_STORE_CREATE, &st, &err);
+    bg_store_opts o = bg_store_default_opts();
+    if (ctx->busy_timeout_s >= 0)
+        o.busy_timeout_s = ctx->busy_timeout_s;
+    rc = bg_store_open_with(tmp, BG_STORE_CREATE, &o, &st, &err);
     bg_store_close(st);
-    if (rc != BG_OK) {
-        cli_error("cannot create database '%s': %s", ctx->db_path, err.msg);
-        rc = rc == BG_EIO ? CLI_ECANTCREAT : rc;
-    } else if (link(path, file) != 0) {
+    if (rc != BG_OK)
+        cli_error("cannot create database '%s': %s", ctx->db_path, err.msg); else if (link(path, file) != 0) {
         if (errno == EEXIST)
             *existed = 1;
         else {

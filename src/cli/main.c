@@ -48,10 +48,15 @@ static void usage(FILE *f)
     fprintf(f, "\nGlobal options:\n"
                "  --db PATH    calibration database (default $BANDGAP_DB or ./bandgap.db)\n"
                "  --json       machine-readable output\n"
+               "  --busy-timeout SECONDS  how long to wait for another process's lock on the\n"
+               "               database before giving up with status 75 (default 30)\n"
                "  --help       this help;  bandgap COMMAND --help for a command\n"
                "  --version    program and library versions\n"
-               "\nExit status: 0 success, 64 usage, 65 bad data, 66 missing input, 70 internal,\n"
-               "73 cannot create output, 74 i/o error (sysexits.h); drift: 1 when it flags.\n"
+               "\nExit status: 0 success, 64 usage, 65 bad data (a constraint of the record\n"
+               "included), 66 missing input, 70 internal, 73 cannot create or write (an output\n"
+               "file, a read-only database or its directory), 74 i/o error or full disk,\n"
+               "75 database locked past the busy timeout: try again (sysexits.h);\n"
+               "drift: 1 when it flags.\n"
                "Results hold only inside the calibrated range and the stated uncertainty.\n");
 }
 
@@ -73,6 +78,8 @@ static int exit_status(int rc)
     case BG_EINVAL: return EX_DATAERR;
     case BG_ENOENT: return EX_NOINPUT;
     case BG_EIO: return EX_IOERR;
+    case BG_ECANTCREAT: return EX_CANTCREAT;
+    case BG_EBUSY: return EX_TEMPFAIL;
     case CLI_EUSAGE: return EX_USAGE;
     case CLI_ECANTCREAT: return EX_CANTCREAT;
     case CLI_FLAGGED: return 1; /* drift: something was flagged */
@@ -107,9 +114,10 @@ static int run(int argc, char **argv)
     static const struct option opts[] = {
         { "db", required_argument, NULL, 'd' }, { "json", no_argument, NULL, 'j' },
         { "help", no_argument, NULL, 'h' },     { "version", no_argument, NULL, 'V' },
-        { NULL, 0, NULL, 0 },
+        { "busy-timeout", required_argument, NULL, 'B' }, { NULL, 0, NULL, 0 },
     };
-    struct cli_ctx ctx = { NULL, 0 };
+    struct cli_ctx ctx = { NULL, 0, -1.0 };
+    char *end;
     int c;
 
     ctx.db_path = getenv("BANDGAP_DB");
@@ -120,6 +128,14 @@ static int run(int argc, char **argv)
         switch (c) {
         case 'd': ctx.db_path = optarg; break;
         case 'j': ctx.json = 1; break;
+        case 'B':
+            ctx.busy_timeout_s = strtod(optarg, &end);
+            if (end == optarg || *end || !(ctx.busy_timeout_s >= 0 &&
+                                           ctx.busy_timeout_s <= 3600))
+                return exit_status(cli_usage_error(NULL, "option '--busy-timeout': '%s' is "
+                                                   "not a number of seconds from 0 to 3600",
+                                                   optarg));
+            break;
         case 'h': usage(stdout); return EX_OK;
         case 'V': version(); return EX_OK;
         case ':': return exit_status(cli_usage_error(NULL, "option '%s' needs a value",

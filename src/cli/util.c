@@ -364,10 +364,14 @@ int cli_open_store(struct cli_ctx *ctx, int create, bg_store **st)
 {
     bg_error err = BG_ERROR_INIT;
     const char *sde = getenv("SOURCE_DATE_EPOCH");
-    int rc = bg_store_open(ctx->db_path, create ? BG_STORE_CREATE : 0, st, &err);
-    if (rc != BG_OK) {
+    bg_store_opts o = bg_store_default_opts();
+    int rc;
+    if (ctx->busy_timeout_s >= 0)
+        o.busy_timeout_s = ctx->busy_timeout_s;
+    if ((rc = bg_store_open_with(ctx->db_path, create ? BG_STORE_CREATE : 0, &o, st, &err)) !=
+        BG_OK) {
         cli_error("%s", err.msg);
-        return rc == BG_EIO && create ? CLI_ECANTCREAT : rc;
+        return rc;
     }
     /* SOURCE_DATE_EPOCH (reproducible records and tests) fixes the stored times */
     if (sde && *sde)

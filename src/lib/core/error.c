@@ -51,6 +51,8 @@ const char *bg_status_name(int code)
     case BG_ENOMEM: return "out of memory";
     case BG_ENUM: return "numerical failure";
     case BG_EDB: return "database error";
+    case BG_ECANTCREAT: return "cannot write";
+    case BG_EBUSY: return "busy";
     default: return "internal error";
     }
 }

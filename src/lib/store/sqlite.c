@@ -9,14 +9,86 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <unistd.h>
 
 #include "bandgap/bandgap.h"
 #include "sqlite_int.h"
 
+/* Why 'path' (NULL: none) cannot be written, for SQLITE_READONLY and SQLITE_CANTOPEN: the file
+** itself, or its directory, where SQLite creates the rollback journal beside the file (or a new
+** database).  access() also sees a read-only mount (EROFS), which binds root too. */
+static void why_readonly(const char *path, char *buf, size_t size)
+{
+    char dir[512]; /* err->msg holds 512 bytes in all */
+    const char *slash = path ? strrchr(path, '/') : NULL;
+    int exists = path && access(path, F_OK) == 0;
+
+    if (!path) {
+        snprintf(buf, size, "the database cannot be written");
+        return;
+    }
+    if (exists && access(path, W_OK) != 0) {
+        snprintf(buf, size, "the database file '%s' is not writable (%s)", path,
+                 strerror(errno));
+        return;
+    }
+    if (!slash)
+        snprintf(dir, sizeof dir, ".");
+    else
+        snprintf(dir, sizeof dir, "%.*s", slash == path ? 1 : (int)(slash - path), path);
+    if (access(dir, W_OK) != 0 && errno != ENOENT)
+        snprintf(buf, size, exists ? "the directory '%s' is not writable (%s), so SQLite "
+                 "cannot create its journal there" : "the directory '%s' is not writable "
+                 "(%s), so the database cannot be created there", dir, strerror(errno));
+    else if (access(dir, F_OK) != 0)
+        snprintf(buf, size, "the directory '%s' does not exist", dir);
+    else
+        snprintf(buf, size, "'%s' cannot be written", path);
+}
+
+int bgi_status_fail(sqlite3 *db, const char *path, int busy_ms, int xrc, bg_error *err,
+                    const char *what)
+{
+    char why[1024], msg[256];
+    int sys = db ? sqlite3_system_errno(db) : 0;
+
+    /* Copy the message at once: the next SQLite call overwrites it. */
+    snprintf(msg, sizeof msg, "%s", db ? sqlite3_errmsg(db) : sqlite3_errstr(xrc));
+    switch (xrc & 0xff) {
+    case SQLITE_FULL:
+        return bg_error_set(err, BG_EIO, "%s: the disk holding '%s' is full", what,
+                            path ? path : "the database");
+    case SQLITE_IOERR:
+        if (xrc == SQLITE_IOERR_NOMEM)
+            return bg_error_set(err, BG_ENOMEM, "%s: out of memory", what);
+        if (sys == ENOSPC || sys == EDQUOT)
+            return bg_error_set(err, BG_EIO, "%s: the disk holding '%s' is full (%s)", what,
+                                path ? path : "the database", strerror(sys));
+        return bg_error_set(err, BG_EIO, "%s: i/o error on '%s' (%s%s%s)", what,
+                            path ? path : "", msg, sys ? ": " : "", sys ? strerror(sys) : "");
+    case SQLITE_READONLY:
+    case SQLITE_CANTOPEN:
+        why_readonly(path, why, sizeof why);
+        return bg_error_set(err, BG_ECANTCREAT, "%s: %s", what, why);
+    case SQLITE_BUSY:
+    case SQLITE_LOCKED:
+        return bg_error_set(err, BG_EBUSY, "%s: the database '%s' is locked by another "
+                            "process (waited %g s); try again", what, path ? path : "",
+                            busy_ms / 1000.0);
+    case SQLITE_CONSTRAINT:
+        /* SQLite's message names the constraint ("CHECK constraint failed: r25_ohm > 0") */
+        return bg_error_set(err, BG_EINVAL, "%s: the record refuses it: %s", what, msg);
+    case SQLITE_NOMEM:
+        return bg_error_set(err, BG_ENOMEM, "%s: out of memory", what);
+    default:
+        return bg_error_set(err, BG_EDB, "%s: %s", what, msg);
+    }
+}
+
 int bgi_db_fail(bgi_conn *c, bg_error *err, const char *what)
 {
-    /* Copy the message at once: the next SQLite call overwrites it. */
-    return bg_error_set(err, BG_EDB, "%s: %s", what, sqlite3_errmsg(c->db));
+    return bgi_status_fail(c->db, c->path, c->busy_ms, sqlite3_extended_errcode(c->db), err,
+                           what);
 }
 
 int bgi_prepare(bgi_conn *c, const char *sql, sqlite3_stmt **stmt, bg_error *err)
@@ -138,21 +210,25 @@ static int backup_to(bgi_conn *c, const char *path, bg_error *err)
     sqlite3_backup *b;
     int rc = BG_OK;
 
-    if (sqlite3_open_v2(path, &dst, SQLITE_OPEN_READWRITE | SQLITE_OPEN_CREATE, NULL) !=
-        SQLITE_OK) {
-        rc = bg_error_set(err, BG_EIO, "cannot create the backup '%s': %s", path,
-                          dst ? sqlite3_errmsg(dst) : "out of memory");
+    char what[256];
+    int s;
+
+    snprintf(what, sizeof what, "cannot make the backup '%s' before the upgrade", path);
+    s = sqlite3_open_v2(path, &dst, SQLITE_OPEN_READWRITE | SQLITE_OPEN_CREATE |
+                        SQLITE_OPEN_EXRESCODE, NULL);
+    if (s != SQLITE_OK) {
+        rc = bgi_status_fail(dst, path, c->busy_ms, dst ? s : SQLITE_NOMEM, err, what);
         goto done;
     }
     b = sqlite3_backup_init(dst, "main", c->db, "main");
     if (!b) {
-        rc = bg_error_set(err, BG_EIO, "cannot back up to '%s': %s", path, sqlite3_errmsg(dst));
+        rc = bgi_status_fail(dst, path, c->busy_ms, sqlite3_extended_errcode(dst), err, what);
         goto done;
     }
-    int s = sqlite3_backup_step(b, -1);
+    s = sqlite3_backup_step(b, -1);
     sqlite3_backup_finish(b);
     if (s != SQLITE_DONE)
-        rc = bg_error_set(err, BG_EIO, "backup to '%s' failed: %s", path, sqlite3_errstr(s));
+        rc = bgi_status_fail(NULL, path, c->busy_ms, s, err, what);
 done:
     sqlite3_close_v2(dst);
     return rc;
@@ -193,8 +269,9 @@ static int migrate_steps(bgi_conn *c, bg_error *err)
                  BG_STORE_APP_ID, v + 1);
         if (sqlite3_exec(c->db, bgi_migrations[v].text, NULL, NULL, NULL) != SQLITE_OK ||
             sqlite3_exec(c->db, sql, NULL, NULL, NULL) != SQLITE_OK) {
-            rc = bg_error_set(err, BG_EDB, "schema migration '%s' failed: %s",
-                              bgi_migrations[v].name, sqlite3_errmsg(c->db));
+            char what[128];
+            snprintf(what, sizeof what, "schema migration '%s' failed", bgi_migrations[v].name);
+            rc = bgi_db_fail(c, err, what);
             sq_rollback(c);
             return rc;
         }
@@ -215,6 +292,16 @@ static int migrate_steps(bgi_conn *c, bg_error *err)
 
 static void sq_close(bgi_conn *c);
 
+/* A failure reading the header of an existing file: the lock, the disk or the memory when
+** that is the cause (bgi_db_fail's status kept), else the file is no bandgap database. */
+static int not_ours(const char *path, int rc, bg_error *err)
+{
+    if (rc == BG_EBUSY || rc == BG_EIO || rc == BG_ECANTCREAT || rc == BG_ENOMEM)
+        return rc;
+    return bg_error_set(err, BG_EINVAL, "'%s' is not a bandgap database (%s)", path,
+                        err ? err->msg : "unreadable");
+}
+
 static int sq_open(const char *path, int flags, bgi_conn **out, char *backup, size_t size,
                    bg_error *err)
 {
@@ -226,35 +313,42 @@ static int sq_open(const char *path, int flags, bgi_conn **out, char *backup, si
     if (!exists && !(flags & BG_STORE_CREATE))
         return bg_error_set(err, BG_ENOENT, "database '%s' does not exist (create it with "
                             "'bandgap --db %s init')", path, path);
+    if (exists && access(path, R_OK) != 0)
+        return bg_error_set(err, BG_ENOENT, "cannot open database '%s': %s", path,
+                            strerror(errno));
     c = calloc(1, sizeof *c);
-    if (!c)
+    if (!c || !(c->path = strdup(path))) {
+        free(c);
         return bg_error_set(err, BG_ENOMEM, "out of memory");
-    if (sqlite3_open_v2(path, &c->db,
-                        /* NOMUTEX: a handle is never shared between threads */
-                        SQLITE_OPEN_READWRITE | SQLITE_OPEN_EXRESCODE | SQLITE_OPEN_NOMUTEX |
-                            ((flags & BG_STORE_CREATE) ? SQLITE_OPEN_CREATE : 0),
-                        NULL) != SQLITE_OK) {
-        rc = bg_error_set(err, BG_EIO, "cannot %s database '%s': %s",
-                          exists ? "open" : "create", path,
-                          c->db ? sqlite3_errmsg(c->db) : "out of memory");
+    }
+    c->busy_ms = flags >> BGI_OPEN_BUSY_SHIFT;
+    if ((rc = sqlite3_open_v2(path, &c->db,
+                              /* NOMUTEX: a handle is never shared between threads */
+                              SQLITE_OPEN_READWRITE | SQLITE_OPEN_EXRESCODE |
+                                  SQLITE_OPEN_NOMUTEX |
+                                  ((flags & BG_STORE_CREATE) ? SQLITE_OPEN_CREATE : 0),
+                              NULL)) != SQLITE_OK) {
+        char what[128];
+        snprintf(what, sizeof what, "cannot %s database '%s'", exists ? "open" : "create",
+                 path);
+        rc = bgi_status_fail(c->db, path, c->busy_ms, c->db ? rc : SQLITE_NOMEM, err, what);
         goto fail;
     }
-    sqlite3_busy_timeout(c->db, 30000);
+    sqlite3_busy_timeout(c->db, c->busy_ms);
     sqlite3_db_config(c->db, SQLITE_DBCONFIG_DEFENSIVE, 1, NULL);
     sqlite3_db_config(c->db, SQLITE_DBCONFIG_DQS_DML, 0, NULL);
     sqlite3_db_config(c->db, SQLITE_DBCONFIG_DQS_DDL, 0, NULL);
     sqlite3_db_config(c->db, SQLITE_DBCONFIG_TRUSTED_SCHEMA, 0, NULL);
     if (sqlite3_exec(c->db, "PRAGMA foreign_keys = ON; PRAGMA synchronous = FULL;", NULL,
                      NULL, NULL) != SQLITE_OK) {
-        rc = bg_error_set(err, exists ? BG_EINVAL : BG_EIO, "'%s': %s", path,
-                          sqlite3_errmsg(c->db));
+        rc = bgi_db_fail(c, err, "cannot set up the connection");
+        rc = exists ? not_ours(path, rc, err) : rc;
         goto fail;
     }
-    if (pragma_int(c, "PRAGMA application_id", &app, err) != BG_OK ||
-        pragma_int(c, "PRAGMA user_version", &ver, err) != BG_OK ||
-        pragma_int(c, "SELECT count(*) FROM sqlite_schema", &ntables, err) != BG_OK) {
-        rc = bg_error_set(err, BG_EINVAL, "'%s' is not a bandgap database (%s)", path,
-                          err ? err->msg : "unreadable");
+    if ((rc = pragma_int(c, "PRAGMA application_id", &app, err)) != BG_OK ||
+        (rc = pragma_int(c, "PRAGMA user_version", &ver, err)) != BG_OK ||
+        (rc = pragma_int(c, "SELECT count(*) FROM sqlite_schema", &ntables, err)) != BG_OK) {
+        rc = not_ours(path, rc, err);
         goto fail;
     }
     if (app != BG_STORE_APP_ID && (app != 0 || ntables > 0)) {
@@ -270,23 +364,23 @@ static int sq_open(const char *path, int flags, bgi_conn **out, char *backup, si
     }
     if (ntables == 0 && (flags & BG_STORE_CREATE) &&
         sqlite3_exec(c->db, "PRAGMA page_size = 8192", NULL, NULL, NULL) != SQLITE_OK) {
-        rc = bg_error_set(err, BG_EIO, "'%s': %s", path, sqlite3_errmsg(c->db));
+        rc = bgi_db_fail(c, err, "cannot set the page size");
         goto fail;
     }
     {
         /* The journal mode is a property of the file: keep it a rollback journal. */
         sqlite3_stmt *q = NULL;
-        if (bgi_prepare(c, "PRAGMA journal_mode = DELETE", &q, err) != BG_OK) {
-            rc = BG_EDB;
+        if ((rc = bgi_prepare(c, "PRAGMA journal_mode = DELETE", &q, err)) != BG_OK)
             goto fail;
-        }
-        int ok = sqlite3_step(q) == SQLITE_ROW &&
-                 sqlite3_stricmp((const char *)sqlite3_column_text(q, 0), "delete") == 0;
-        sqlite3_finalize(q);
-        if (!ok) {
+        int s = sqlite3_step(q), ok = s == SQLITE_ROW &&
+            sqlite3_stricmp((const char *)sqlite3_column_text(q, 0), "delete") == 0;
+        if (s != SQLITE_ROW)
+            rc = bgi_db_fail(c, err, "cannot set the rollback journal");
+        else if (!ok)
             rc = bg_error_set(err, BG_EDB, "'%s': cannot use a rollback journal", path);
+        sqlite3_finalize(q);
+        if (rc != BG_OK)
             goto fail;
-        }
     }
     if (app == 0 && !(flags & BG_STORE_CREATE)) {
         rc = bg_error_set(err, BG_EINVAL, "'%s' is an empty file, not a bandgap database "
@@ -314,6 +408,7 @@ static void sq_close(bgi_conn *c)
     for (size_t i = 0; i < sizeof c->cache / sizeof c->cache[0]; i++)
         sqlite3_finalize(c->cache[i]);
     sqlite3_close_v2(c->db);
+    free(c->path);
     free(c);
 }
 

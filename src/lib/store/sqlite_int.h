@@ -25,13 +25,26 @@ enum { STMT_INSERT_READING, STMT_INSERT_READINGS, STMT_RUN_POINTS, STMT_INSERT_F
 
 struct bgi_conn {
     sqlite3 *db;
+    char *path;  /* the file as named to bg_store_open (messages) */
+    int busy_ms; /* the busy timeout (messages) */
     sqlite3_stmt *cache[STMT_COUNT]; /* statements reused in loops, finalized at close */
     /* the record chain: each chained table's columns in the order of their names */
     int chain_order[BGI_CHAIN_KINDS + 1][BGI_CHAIN_MAXCOL];
     int chain_ncol[BGI_CHAIN_KINDS + 1];
 };
 
+/* A failed SQLite call on the connection, as a status with a message that names the cause,
+** from the extended result code (the one place where SQLite's codes become bg_status):
+** SQLITE_FULL and SQLITE_IOERR* are BG_EIO (a full disk says so), SQLITE_READONLY* and
+** SQLITE_CANTOPEN are BG_ECANTCREAT naming the file or the directory that cannot be written,
+** SQLITE_BUSY and SQLITE_LOCKED are BG_EBUSY (locked past the busy timeout), a constraint
+** is BG_EINVAL naming it, out of memory BG_ENOMEM, anything else BG_EDB.  'what' comes first
+** in the message.  Returns the status. */
 int bgi_db_fail(bgi_conn *c, bg_error *err, const char *what);
+/* The same for a result code 'xrc' of a handle 'db' (may be NULL) that is not a connection
+** yet, for file 'path' (may be NULL), with busy timeout 'busy_ms'. */
+int bgi_status_fail(sqlite3 *db, const char *path, int busy_ms, int xrc, bg_error *err,
+                    const char *what);
 int bgi_prepare(bgi_conn *c, const char *sql, sqlite3_stmt **stmt, bg_error *err);
 /* A statement kept on the connection (prepared once, reset and cleared here). */
 int bgi_cached(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, bg_error *err);

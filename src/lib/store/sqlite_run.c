@@ -134,7 +134,12 @@ static int insert_readings(bgi_conn *c, const struct bgi_import *imp, long long 
         if (rc != BG_OK)
             break;
         if (sqlite3_step(qi) != SQLITE_DONE) {
-            if (nb > 1)
+            /* only a row the record refuses is the file's fault; a full disk, a lock or a
+            ** read-only file is not, and names no line */
+            if ((sqlite3_extended_errcode(c->db) & 0xff) != SQLITE_CONSTRAINT)
+                rc = bgi_db_fail(c, err, nb > 1 ? "cannot store the readings"
+                                                : "cannot store the reading");
+            else if (nb > 1)
                 rc = bg_error_set(err, BG_EINVAL, "%s:%zu..%zu: cannot store the readings: %s",
                                   imp->src, first, last, sqlite3_errmsg(c->db));
             else

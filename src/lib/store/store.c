@@ -71,16 +71,34 @@ static int pick_backend(const char *target, const struct bgi_store_backend **be,
                         (int)n, target, target);
 }
 
+bg_store_opts bg_store_default_opts(void)
+{
+    bg_store_opts o = { 30.0 };
+    return o;
+}
+
 int bg_store_open(const char *target, int flags, bg_store **out, bg_error *err)
+{
+    return bg_store_open_with(target, flags, NULL, out, err);
+}
+
+int bg_store_open_with(const char *target, int flags, const bg_store_opts *opts,
+                       bg_store **out, bg_error *err)
 {
     const struct bgi_store_backend *be;
     const char *rest;
     bg_store *st;
+    bg_store_opts o = opts ? *opts : bg_store_default_opts();
     int rc;
 
     *out = NULL;
     if (!target || !*target)
         return bg_error_set(err, BG_EINVAL, "no database named");
+    if (!(o.busy_timeout_s >= 0.0 && o.busy_timeout_s <= 3600.0)) /* NaN too */
+        return bg_error_set(err, BG_EINVAL, "busy timeout %g s: not between 0 and 3600 s",
+                            o.busy_timeout_s);
+    flags = (flags & ((1 << BGI_OPEN_BUSY_SHIFT) - 1)) |
+            (int)lround(o.busy_timeout_s * 1000.0) << BGI_OPEN_BUSY_SHIFT;
     if ((rc = pick_backend(target, &be, &rest, err)) != BG_OK)
         return rc;
     if (!(st = calloc(1, sizeof *st)))

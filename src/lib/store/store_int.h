@@ -66,6 +66,8 @@ enum bgi_name_kind { BGI_NAME_PROBE, BGI_NAME_LOT, BGI_NAME_REF, BGI_NAME_PART }
 typedef int (*bgi_name_cb)(const char *name, void *ctx);
 
 #define BGI_STORE_BACKEND_VERSION 6
+/* The busy timeout (ms) rides in the backend open's 'flags' above the public flags. */
+#define BGI_OPEN_BUSY_SHIFT 8
 
 /* Every function takes the connection first and 'err' last, and returns a bg_status unless
 ** said otherwise.  Write functions run inside a transaction that store.c opened (in_tx is
@@ -74,8 +76,9 @@ struct bgi_store_backend {
     int version;         /* BGI_STORE_BACKEND_VERSION: fields are only ever added at the end */
     const char *scheme;  /* "sqlite": bg_store_open's "sqlite:" prefix */
 
-    /* 'target' without the scheme; 'backup' (of 'size' bytes) receives the path of the
-    ** copy made before a schema upgrade, "" if none. */
+    /* 'target' without the scheme; 'flags' holds BG_STORE_CREATE and, from bit
+    ** BGI_OPEN_BUSY_SHIFT up, the busy timeout in milliseconds; 'backup' (of 'size' bytes)
+    ** receives the path of the copy made before a schema upgrade, "" if none. */
     int (*open)(const char *target, int flags, bgi_conn **out, char *backup, size_t size,
                 bg_error *err);
     void (*close)(bgi_conn *c);
