@@ -2,7 +2,8 @@
 # SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
 # Faults: a failed import leaves the database byte for byte unchanged; an import killed with
 # SIGKILL at random moments leaves all of a run or none of it, and integrity_check says ok;
-# two importers and a reader at once lose no rows and see no busy error.
+# two importers and a reader at once lose no rows and see no busy error; an import holds a
+# bounded amount of memory whatever the file's size.
 # Usage: faults.sh BANDGAP
 BIN=$1
 T=$(mktemp -d)
@@ -85,4 +86,27 @@ n2=$(Q "SELECT count(*) FROM reading g JOIN run r ON g.run_id = r.id JOIN probe 
 [ "$(Q 'PRAGMA integrity_check')" = ok ] || bad "integrity after concurrency"
 [ -e "$T/f.db-wal" ] && bad "a WAL file appeared: the database must stay one file"
 echo "faults: two importers (5 x 3000 readings each) and a reader: no busy error, no lost row"
+# 4. Bounded memory: 2,000,000 readings (60 MB of text, 190 MB as parsed readings) import
+# under a 24 MB limit of address space, as 20,000 do; from standard input too (copied to a
+# temporary file for the second pass; 500,000 of them, to keep the time down).  Not under the address sanitizer, which reserves
+# terabytes of address space for its shadow memory.
+if ldd "$BIN" 2>/dev/null | grep -q libasan; then
+    echo "faults: bounded memory not checked under the address sanitizer"
+else
+    MROWS=${FAULT_MEM_ROWS:-2000000}
+    awk -v n="$MROWS" 'BEGIN { print "# INVENTED memory-test readings"; print "temp_k,ohms,u_temp_k";
+        for (i = 0; i < n; i++) printf "%.6f,%.6f,0.002\n", 250 + 100 * i / n, 100000 * exp(-4 * i / n) }' \
+        > "$T/huge.csv"
+    B probe add M1 --lot L > /dev/null
+    B probe add M2 --lot L > /dev/null
+    B probe add M3 --lot L > /dev/null
+    head -n 20002 "$T/huge.csv" > "$T/mid.csv"
+    ( ulimit -v 24576; B import "$T/mid.csv" --probe M1 > /dev/null ) || bad "20000 readings did not import in 24 MB"
+    ( ulimit -v 24576; B import "$T/huge.csv" --probe M2 > /dev/null ) || bad "$MROWS readings did not import in 24 MB"
+    head -n 500002 "$T/huge.csv" > "$T/part.csv"
+    ( ulimit -v 24576; B import - --probe M3 < "$T/part.csv" > /dev/null ) || bad "500000 readings from standard input did not import in 24 MB"
+    got=$(Q "SELECT group_concat(n) FROM (SELECT r.nreadings AS n FROM run r JOIN probe p ON r.probe_id = p.id WHERE p.serial IN ('M1', 'M2', 'M3') ORDER BY p.serial)")
+    [ "$got" = "20000,$MROWS,500000" ] || bad "bounded-memory imports stored $got readings"
+    echo "faults: $MROWS readings imported under a 24 MB address-space limit (file and standard input)"
+fi
 exit $status

@@ -129,6 +129,11 @@ def subst(s):
     return s
 
 
+def unhash(s):
+    """The record chain's hashes differ with the content: compared as a placeholder."""
+    return re.sub(r"\b[0-9a-f]{64}\b", "HASH", s)
+
+
 def subst_obj(o):
     if isinstance(o, str):
         return subst(o)
@@ -267,12 +272,12 @@ try:
               (name, len(tags_a)), tags_a == tags_b,
               "first difference at element %s: %s vs %s" %
               (first, first is not None and tags_a[first], first is not None and tags_b[first]))
-        texts_ok = [subst(t) for t in a["texts"]] == b["texts"]
+        texts_ok = [unhash(subst(t)) for t in a["texts"]] == [unhash(t) for t in b["texts"]]
         bad = next((subst(x) + " | " + y for x, y in zip(a["texts"], b["texts"])
-                    if subst(x) != y), "")
+                    if unhash(subst(x)) != unhash(y)), "")
         check("%s report: the page's text equals the input literally" % name,
               texts_ok and len(a["texts"]) == len(b["texts"]), bad)
-        vals_ok = all(subst(va) == vb for (_, x), (_, y) in zip(a["els"], b["els"])
+        vals_ok = all(unhash(subst(va)) == unhash(vb) for (_, x), (_, y) in zip(a["els"], b["els"])
                       for (_, va), (_, vb) in zip(x, y))
         check("%s report: attribute values carry the input literally" % name, vals_ok)
         used = sum(1 for k in HOSTILE if hv[k] in "".join(b["texts"]) + b["title"])

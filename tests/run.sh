@@ -43,6 +43,8 @@ tally cli "$BUILD/cli-tests.log" $?
 
 sh tests/faults.sh "$BUILD/bandgap"
 count $? faults
+sh tests/records.sh "$BUILD/bandgap"
+count $? records
 sh tests/meta.sh "$BUILD/bandgap"
 count $? meta
 sh tests/reports.sh "$BUILD/bandgap" "$PYTHON" > "$BUILD/reports.log" 2>&1
@@ -50,6 +52,8 @@ tally reports "$BUILD/reports.log" $?
 hw=$(mktemp -d)
 "$PYTHON" tests/hostile_check.py "$BUILD/bandgap" "$hw" > "$BUILD/hostile.log" 2>&1
 tally hostile "$BUILD/hostile.log" $?
+"$PYTHON" tests/chain_check.py "$BUILD/bandgap" "$hw" > "$BUILD/chain.log" 2>&1
+tally chain "$BUILD/chain.log" $?
 rm -rf "$hw"
 "$PYTHON" tests/layout.py "$BUILD" > "$BUILD/layout.log" 2>&1
 tally layout "$BUILD/layout.log" $?

@@ -539,6 +539,67 @@ static void overdue_reference_noted_on_fit(void **state)
     bg_store_close(st);
 }
 
+/* The lot fitted as a batch gives every probe the numbers of the probe fitted alone: 19 probes
+** (lanes not a multiple of the vector width), u(T) stated or u(R) stated (left to the
+** per-probe path), a probe with one reading fewer (another shape: its own batch) and one
+** without runs among them. */
+static void lot_batch_matches_probe(void **state)
+{
+    (void)state;
+    static const char *const serials[] = { "Q01", "Q02", "Q03", "Q04", "Q05", "Q06", "Q07",
+                                           "Q08", "Q09", "Q10", "Q11", "Q12", "Q13", "Q14",
+                                           "Q15", "Q16", "Q17", "Q18", "Q19", NULL };
+    bg_store *st = fresh("lotbatch.db", serials);
+    bg_calib_request rq = bg_calib_default_request();
+    bg_calib_lot lot = BG_CALIB_LOT_INIT;
+    bg_error err = BG_ERROR_INIT;
+    char csv[2048];
+
+    for (size_t p = 0; serials[p]; p++) {
+        size_t len, npts = p == 6 ? 7 : 8;
+        if (p == 11)
+            continue; /* no run */
+        len = (size_t)snprintf(csv, sizeof csv, p == 3 ? "temp_c,ohms,u_ohms\n"
+                                                        : "temp_c,ohms,u_temp_k\n");
+        for (size_t i = 0; i < npts; i++) {
+            /* invented: a 10 kohm class curve, B about 3950 K, a wobble per probe */
+            double t = 273.15 + 10.0 * (double)i + 0.0013 * (double)((p * 7 + i * 3) % 5);
+            double r = 10000.0 * exp(3950.0 * (1.0 / t - 1.0 / 298.15)) *
+                       (1.0 + 1e-4 * (double)p + 2e-5 * (double)((i * p) % 3));
+            len += (size_t)snprintf(csv + len, sizeof csv - len, "%.4f,%.3f,%s\n", t - 273.15, r,
+                                    p == 3 ? "0.2" : "0.002");
+        }
+        import(st, serials[p], csv);
+    }
+    rq.model = "sh3";
+    assert_int_equal(bg_calibrate_lot(st, "L1", &rq, &lot, &err), BG_OK);
+    assert_int_equal(lot.nrows, 19);
+    assert_int_equal(lot.nfitted, 18);
+    for (size_t i = 0; i < lot.nrows; i++) {
+        bg_calib_result one = BG_CALIB_RESULT_INIT;
+        bg_fit_row row;
+        if (i == 11) {
+            assert_int_equal(lot.rows[i].status, BG_CALIB_NO_RUNS);
+            continue;
+        }
+        assert_int_equal(lot.rows[i].status, BG_CALIB_FITTED);
+        rq.store_flags = BG_CALIB_DRY_RUN;
+        assert_int_equal(bg_calibrate_probe(st, serials[i], 0, &rq, &one, &err), BG_OK);
+        assert_int_equal(lot.rows[i].n, one.fit.n);
+        for (size_t k = 0; k < 3; k++)
+            assert_close(lot.rows[i].model.coef[k], one.fit.model.coef[k], 1e-12, 0);
+        assert_close(lot.rows[i].rms_mk, one.fit.rms_mk, 1e-12, 0);
+        assert_close(lot.rows[i].u_max_k, one.u_max_k, 1e-12, 0);
+        assert_int_equal(lot.rows[i].nnotes, one.fit.nnotes);
+        assert_int_equal(bg_store_fit_get(st, lot.rows[i].fit_id, &row, &err), BG_OK);
+        assert_string_equal(row.serial, serials[i]);
+        bg_calib_result_release(&one);
+    }
+    bg_calib_lot_release(&lot);
+    bg_store_close(st);
+}
+
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -548,6 +609,7 @@ int main(void)
         cmocka_unit_test(default_u_stored_and_lot),
         cmocka_unit_test(auto_choice_against_numpy),
         cmocka_unit_test(lot_all_or_none),
+        cmocka_unit_test(lot_batch_matches_probe),
         cmocka_unit_test(lot_stopped),
         cmocka_unit_test(current_fit_is_latest_runs),
         cmocka_unit_test(identical_fit_and_preview),

@@ -865,6 +865,187 @@ static void coefficient_uncertainties(void **state)
     assert_true(isnan(bg_fit_coef_u(&f, 0)));
 }
 
+/* ---- batched fitting: the batch gives the per-probe path's results ---- */
+
+static double rel_diff(double a, double b)
+{
+    if (a == b || (isnan(a) && isnan(b)))
+        return 0.0;
+    return fabs(a - b) / fmax(fabs(a), fabs(b));
+}
+
+/* Probe p of the batch against bg_fitter_run on its points alone: status, message, notes,
+** and every number to 1e-12 relative. */
+static void check_against_alone(bg_fitter *fr, const bg_point *pts, size_t n,
+                                const bg_fit_opts *o, const bg_fit *got, const bg_error *gerr)
+{
+    bg_fit f = BG_FIT_INIT;
+    bg_error err = BG_ERROR_INIT;
+    int rc = bg_fitter_run(fr, pts, n, o, &f, &err);
+    assert_int_equal(gerr->code, rc);
+    assert_string_equal(gerr->msg, err.msg);
+    if (rc == BG_OK) {
+        double d = 0.0;
+        assert_int_equal(got->n, f.n);
+        assert_int_equal(got->iterations, f.iterations);
+        assert_int_equal(got->nnotes, f.nnotes);
+        for (size_t k = 0; k < f.nnotes; k++) {
+            assert_int_equal(got->notes[k].kind, f.notes[k].kind);
+            assert_string_equal(got->notes[k].msg, f.notes[k].msg);
+        }
+        for (size_t k = 0; k < f.npar; k++)
+            d = fmax(d, rel_diff(got->model.coef[k], f.model.coef[k]));
+        for (size_t k = 0; k < f.npar * f.npar; k++)
+            d = fmax(d, rel_diff(got->cov[k], f.cov[k]));
+        d = fmax(d, fmax(rel_diff(got->chi2, f.chi2), rel_diff(got->rcond, f.rcond)));
+        d = fmax(d, rel_diff(got->cov_scale, f.cov_scale));
+        for (size_t i = 0; i < n; i++)
+            d = fmax(d, fmax(rel_diff(got->resid_mk[i], f.resid_mk[i]),
+                             rel_diff(got->student[i], f.student[i])));
+        assert_true(d <= 1e-12);
+    }
+    bg_fit_release(&f);
+}
+
+/* An invented lot: 'np' probes of 'n' readings spread around invented sh3 coefficients, 3 mK
+** noise, u(T) 2 mK. */
+static bg_point *invented_lot(size_t np, size_t n, unsigned long seed)
+{
+    bg_point *pts = calloc(np * n, sizeof *pts);
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    bg_model m;
+    assert_non_null(pts);
+    gsl_rng_set(rng, seed);
+    bg_model_parse("sh3", &m, NULL);
+    for (size_t p = 0; p < np; p++) {
+        double c[3] = { 1.1384e-3 * (1 + 0.01 * gsl_ran_gaussian(rng, 1)),
+                        2.3245e-4 * (1 + 0.005 * gsl_ran_gaussian(rng, 1)),
+                        9.4871e-8 * (1 + 0.02 * gsl_ran_gaussian(rng, 1)) };
+        assert_int_equal(bg_model_set_coef(&m, c, 3, NULL), BG_OK);
+        for (size_t i = 0; i < n; i++) {
+            bg_point *q = &pts[p * n + i];
+            q->t_k = 248.37 + 107.3 * (double)i / (double)(n - 1);
+            assert_int_equal(bg_model_r_from_t(&m, q->t_k, &q->r_ohm, NULL), BG_OK);
+            q->t_k += gsl_ran_gaussian(rng, 0.003);
+            q->u_t_k = 0.002;
+            q->line = i + 2;
+        }
+    }
+    gsl_rng_free(rng);
+    return pts;
+}
+
+static void run_batch_and_check(bg_fitter *fr, const bg_point *pts, size_t np, size_t n,
+                                const bg_fit_opts *o)
+{
+    bg_fit *out = calloc(np, sizeof *out);
+    bg_error *errs = calloc(np, sizeof *errs);
+    assert_non_null(out);
+    assert_non_null(errs);
+    assert_int_equal(bg_fitter_run_batch(fr, pts, np, n, o, NULL, out, errs), BG_OK);
+    for (size_t p = 0; p < np; p++)
+        check_against_alone(fr, pts + p * n, n, o, &out[p], &errs[p]);
+    for (size_t p = 0; p < np; p++)
+        bg_fit_release(&out[p]);
+    free(out);
+    free(errs);
+}
+
+/* Lots of 1, 7, 64 and 1000 probes (lanes not a multiple of the vector width), full and
+** linear fits, sh3 and the other basis widths (beta 2 columns, sh4 4, poly:5 6). */
+static void batch_matches_per_probe(void **state)
+{
+    (void)state;
+    static const size_t sizes[] = { 1, 7, 64, 1000 };
+    bg_fitter *fr = bg_fitter_new();
+    bg_model m;
+    for (size_t s = 0; s < 4; s++) {
+        bg_point *pts = invented_lot(sizes[s], 10, 7001 + s);
+        bg_model_parse("sh3", &m, NULL);
+        bg_fit_opts o = bg_fit_default_opts(&m);
+        run_batch_and_check(fr, pts, sizes[s], 10, &o);
+        o.refine = 0;
+        run_batch_and_check(fr, pts, sizes[s], 10, &o);
+        free(pts);
+    }
+    static const char *models[] = { "beta", "sh4", "poly:2", "poly:5" };
+    bg_point *pts = invented_lot(13, 12, 7100);
+    for (size_t k = 0; k < 4; k++) {
+        assert_int_equal(bg_model_parse(models[k], &m, NULL), BG_OK);
+        bg_fit_opts o = bg_fit_default_opts(&m);
+        run_batch_and_check(fr, pts, 13, 12, &o);
+    }
+    free(pts);
+    bg_fitter_free(fr);
+}
+
+/* Degenerate probes among sound ones: one at a single temperature, one with resistance rising
+** with temperature, one with a NaN, one with a blunder (an outlier note and, maybe, step
+** halving), one without degrees of freedom is impossible at a fixed n, so n = 3 is tried on
+** its own.  Each gets the per-probe status and message, and its neighbours are untouched. */
+static void batch_degenerate_probes(void **state)
+{
+    (void)state;
+    bg_fitter *fr = bg_fitter_new();
+    bg_model m;
+    bg_model_parse("sh3", &m, NULL);
+    bg_fit_opts o = bg_fit_default_opts(&m);
+    bg_point *pts = invented_lot(11, 10, 7200);
+    for (size_t i = 0; i < 10; i++)
+        pts[2 * 10 + i].t_k = 300.0, pts[2 * 10 + i].r_ohm = 8000.0 + (double)i;
+    pts[4 * 10 + 3].r_ohm = pts[4 * 10 + 6].r_ohm * 2.0;  /* R rises with T */
+    pts[5 * 10 + 7].t_k = NAN;
+    pts[8 * 10 + 5].t_k += 0.5;                           /* a blunder of 0.5 K */
+    pts[9 * 10 + 2].u_r_ohm = 3.0;                        /* u(R): left to the per-probe path */
+    run_batch_and_check(fr, pts, 11, 10, &o);
+    o.refine = 0;
+    run_batch_and_check(fr, pts, 11, 10, &o);
+    free(pts);
+    pts = invented_lot(9, 3, 7300);                       /* no degrees of freedom */
+    o = bg_fit_default_opts(&m);
+    run_batch_and_check(fr, pts, 9, 3, &o);
+    bg_point one[2] = { { 300.0, 8000.0, 0.002, 0.0, 2 }, { 310.0, 6000.0, 0.002, 0.0, 3 } };
+    run_batch_and_check(fr, one, 1, 2, &o);               /* fewer points than coefficients */
+    free(pts);
+    bg_fitter_free(fr);
+}
+
+/* One batch result against an independent value: the weighted linear sh3 fit of an invented
+** probe, coefficients from numpy.linalg.lstsq on the rows scaled by T^2/u (numpy 1.24,
+** /usr/bin/python3). */
+static void batch_linear_numpy(void **state)
+{
+    (void)state;
+    static const double tr[10][2] = {
+        { 253.1512, 96676.18317 }, { 263.1489, 55251.65328 }, { 274.2531, 30879.37075 },
+        { 285.1503, 18113.73553 }, { 296.1497, 10944.20047 }, { 307.1488, 6824.833455 },
+        { 318.1522, 4376.537167 }, { 331.1479, 2678.324405 }, { 342.1507, 1815.030026 },
+        { 353.1496, 1256.654015 } };
+    static const double numpy_c[3] = { 0.00113785747631813, 0.000232535808788871,
+                                       9.45600565067483e-08 };
+    bg_point pts[3 * 10];
+    bg_fit out[3];
+    bg_error errs[3];
+    memset(out, 0, sizeof out);
+    bg_fitter *fr = bg_fitter_new();
+    bg_model m;
+    memset(pts, 0, sizeof pts);
+    for (size_t p = 0; p < 3; p++)
+        for (size_t i = 0; i < 10; i++)
+            pts[p * 10 + i].t_k = tr[i][0], pts[p * 10 + i].r_ohm = tr[i][1] * (1.0 + 0.1 * (double)p),
+            pts[p * 10 + i].u_t_k = 0.002;
+    bg_model_parse("sh3", &m, NULL);
+    bg_fit_opts o = bg_fit_default_opts(&m);
+    o.refine = 0;
+    assert_int_equal(bg_fitter_run_batch(fr, pts, 3, 10, &o, NULL, out, errs), BG_OK);
+    assert_int_equal(errs[0].code, BG_OK);
+    for (size_t k = 0; k < 3; k++)
+        assert_close(out[0].model.coef[k], numpy_c[k], 1e-9, 0);
+    for (size_t p = 0; p < 3; p++)
+        bg_fit_release(&out[p]);
+    bg_fitter_free(fr);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -893,6 +1074,9 @@ int main(void)
         cmocka_unit_test(loo_linear_numpy),
         cmocka_unit_test(curve_uncertainty_two_routes),
         cmocka_unit_test(coefficient_uncertainties),
+        cmocka_unit_test(batch_matches_per_probe),
+        cmocka_unit_test(batch_degenerate_probes),
+        cmocka_unit_test(batch_linear_numpy),
     };
     return cmocka_run_group_tests_name("fit", tests, NULL, NULL);
 }

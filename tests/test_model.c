@@ -347,6 +347,46 @@ static void platinum_reference_iec60751(void **state)
     assert_int_equal(bg_cvd_t_from_r(R0, A, B, C, -1.0, &tk, &err), BG_EINVAL);
 }
 
+/* Coefficients finite one by one can overflow together: every evaluation then refuses
+** (BG_EINVAL, the quantity named, the output untouched) rather than give a number that is not
+** finite; bg_model_check_finite names the coefficient or covariance entry. */
+static void model_non_finite(void **state)
+{
+    (void)state;
+    bg_error err = BG_ERROR_INIT;
+    bg_model m;
+    double v = -7.0, c[3] = { 1e300, 1e300, 1e300 }, cov[4] = { 1.0, 0.0, 0.0, 1.0 };
+    assert_int_equal(bg_model_parse("sh3", &m, NULL), BG_OK);
+    assert_int_equal(bg_model_set_coef(&m, c, 3, &err), BG_OK);
+    /* 1/T = 1e300 (1 + L + L^3) at 10 kohm: T about 1.3e-303 K, finite; alpha = -beta/T^2
+    ** overflows (derived: 1/T^2 > 1e605) */
+    assert_int_equal(bg_model_alpha(&m, 1.2633809096937e-303, &v, &err), BG_EINVAL);
+    assert_true(v == -7.0);
+    assert_non_null(strstr(err.msg, "alpha at "));
+    assert_non_null(strstr(err.msg, "is not a finite number"));
+    /* 1/T = 1e300 (1 + L + L^3) overflows at 1e300 ohm (L = 690.8, L^3 = 3.3e8, derived) */
+    assert_int_equal(bg_model_t_from_r(&m, 1e300, &v, &err), BG_EINVAL);
+    assert_true(v == -7.0);
+
+    /* beta: R0 = +Inf is refused by name, and so is a covariance entry */
+    assert_int_equal(bg_model_parse("beta", &m, NULL), BG_OK);
+    m.coef[0] = INFINITY, m.coef[1] = 3950.0;
+    assert_int_equal(bg_model_check_finite(&m, NULL, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "coefficient 'R0' came out as +Inf, not a finite number: the "
+                                 "computation overflowed");
+    m.coef[0] = 10000.0;
+    assert_int_equal(bg_model_check_finite(&m, cov, &err), BG_OK);
+    cov[1] = NAN;
+    assert_int_equal(bg_model_check_finite(&m, cov, &err), BG_EINVAL);
+    assert_string_equal(err.msg, "the covariance of 'R0' and 'beta' came out as NaN, not a "
+                                 "finite number: the computation overflowed");
+    /* a covariance that is not positive semi-definite gives no u(T) (it used to give NaN) */
+    double neg[4] = { -1.0, 0.0, 0.0, -1.0 };
+    v = -7.0;
+    assert_int_equal(bg_model_u_t(&m, neg, 298.15, &v, &err), BG_EINVAL);
+    assert_true(v == -7.0);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -356,7 +396,7 @@ int main(void)
         cmocka_unit_test(beta_point_values),     cmocka_unit_test(poly_newton_round_trip),
         cmocka_unit_test(model_errors),          cmocka_unit_test(platinum_reference_iec60751),
         cmocka_unit_test(model_table_each_kind_once), cmocka_unit_test(model_types_round_trip),
-        cmocka_unit_test(model_types_derivatives),
+        cmocka_unit_test(model_types_derivatives), cmocka_unit_test(model_non_finite),
     };
     return cmocka_run_group_tests_name("model", tests, NULL, NULL);
 }

@@ -121,7 +121,7 @@ static void calibration_report(void **state)
     bg_error err = BG_ERROR_INIT;
     build_calib(&r, 7);
     assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
-    bg_report_head h = { 42, "2026-03-02T10:00:00Z", "Invented lab", NULL, 0, NULL };
+    bg_report_head h = { 42, "2026-03-02T10:00:00Z", "Invented lab", NULL, 0, NULL, NULL };
     char *html = render("calibration", &r, &h);
 
     assert_non_null(strstr(html, "BG-CAL-000042"));
@@ -238,7 +238,7 @@ static void unclean_text_never_raw(void **state)
     snprintf(r.probe.serial, sizeof r.probe.serial, "%s", r.run.serial);
     snprintf(r.readings[4].excl_reason, sizeof r.readings[4].excl_reason, "a\x1b[2Jb\xc0\xaf");
     assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
-    bg_report_head h = { 42, "2026-03-02T10:00:00Z", "Lab\x9b", NULL, 0, NULL };
+    bg_report_head h = { 42, "2026-03-02T10:00:00Z", "Lab\x9b", NULL, 0, NULL, NULL };
     char *html = render("calibration", &r, &h);
     assert_null(strchr(html, 0x1b));
     assert_null(strchr(html, 0x07));
@@ -263,7 +263,7 @@ static void calibration_report_without_covariance(void **state)
     assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
     assert_true(isnan(r.u_max_k));
     assert_true(isnan(r.coverage));
-    bg_report_head h = { 1, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
+    bg_report_head h = { 1, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL, NULL };
     char *html = render("calibration", &r, &h);
     assert_non_null(strstr(html, "not available: the fit has no degrees of freedom"));
     assert_non_null(strstr(html, "not estimated (needs the measuring current"));
@@ -292,7 +292,7 @@ static void calibration_report_huge_reading(void **state)
     build_calib(&r, 7);
     r.readings[8].t_k = DBL_MAX;
     assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
-    bg_report_head h = { 1, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
+    bg_report_head h = { 1, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL, NULL };
     char *html = render("calibration", &r, &h);
     assert_true(count(html, "stroke=\"#ccc\"") <= 2 * 64 * 2); /* two charts, two axes */
     assert_non_null(strstr(html, "</html>"));
@@ -338,7 +338,7 @@ static void lot_report(void **state)
     bg_qa_lot_summary qs = BG_QA_LOT_SUMMARY_INIT;
     qs.flagged = 1;
     r.summary = &qs;
-    bg_report_head h = { 7, "2026-03-02T10:00:00Z", "Invented lab", "A & B", 5, "typo" };
+    bg_report_head h = { 7, "2026-03-02T10:00:00Z", "Invented lab", "A & B", 5, "typo", NULL };
     char *html = render("lot", &r, &h);
     assert_non_null(strstr(html, "BG-LOT-000007"));
     assert_non_null(strstr(html, "<h2>Probes (newest fit of each)</h2>"));
@@ -415,7 +415,7 @@ static void table_report(void **state)
         next = b->code_hi + 1;
     }
     assert_int_equal(next, r.table.code_hi + 1);
-    bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
+    bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL, NULL };
     char *html = render("table", &r, &h);
     char title[96];
     snprintf(title, sizeof title, "<title>Firmware table report table uniform %zu entries",
@@ -443,7 +443,7 @@ static void table_report(void **state)
     free(html);
     /* the time of generation is the caller's text: shown only escaped (found by the writers
     ** fuzz target) */
-    bg_report_head hh = { 0, "<img src=x onerror=1>", NULL, NULL, 0, NULL };
+    bg_report_head hh = { 0, "<img src=x onerror=1>", NULL, NULL, 0, NULL, NULL };
     html = render("table", &r, &hh);
     assert_null(strstr(html, "<img"));
     assert_non_null(strstr(html, "<td>&lt;img src=x onerror=1&gt; by bandgap"));
@@ -497,7 +497,7 @@ static void table_report_24_bits(void **state)
     assert_int_equal(bg_lut_make(&rq, &r, &err), BG_OK);
     assert_true(r.table.code_hi - r.table.code_lo > 1000000);
     assert_int_equal(r.ncurve, BG_LUT_ERROR_BANDS);
-    bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL };
+    bg_report_head h = { 0, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL, NULL };
     char *html = render("table", &r, &h);
     assert_true(strlen(html) < 60000);
     free(html);

@@ -151,7 +151,8 @@ static void si_quantities(void **state)
         { "-1mA", "A", "'-1mA': must be greater than zero" },
         { "V", "V", "'V': not a value in V" },
         { "", "A", "'': not a value in A" },
-        { "1e999V", "V", "'1e999V': not a value in V" },
+        { "1e999V", "V",
+          "'1e999V': the number is beyond the largest finite value (about 1.8e308)" },
     };
     for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
         bg_error err = BG_ERROR_INIT;
@@ -222,6 +223,57 @@ static void formatting(void **state)
     assert_string_equal(bg_units_format_si(1.5e-3, "W/K", 3, b, sizeof b), "1.5 mW/K");
 }
 
+/* Numbers of any length are read; infinities, NaN and values beyond the largest double are
+** refused with a message that says so; a formatter given infinity does not convert it to int
+** (undefined behaviour, caught by the sanitizer build). */
+static void non_finite(void **state)
+{
+    (void)state;
+    bg_error err = BG_ERROR_INIT;
+    char text[300], b[64];
+    double v;
+    /* 137 characters: Python's float() of the same decimal gives 298.15 (derived) */
+    snprintf(text, sizeof text, "298.15%0130dK", 1);
+    assert_int_equal(strlen(text), 137);
+    assert_int_equal(bg_units_parse_temp(text, BG_UNIT_NONE, &v, &err), BG_OK);
+    assert_true(v == 298.15);
+    /* 1 and 130 zeros ohm: float('1' + '0' * 130) = 1e+130 (Python, derived) */
+    snprintf(text, sizeof text, "1%0130dR", 0);
+    assert_int_equal(bg_units_parse_ohms(text, &v, &err), BG_OK);
+    assert_true(v == 1e130);
+    /* 0.333... with 140 threes and a unit: float() gives 0.3333333333333333 (Python, derived) */
+    memset(text, '3', 142);
+    memcpy(text, "0.", 2);
+    strcpy(text + 142, "%");
+    assert_int_equal(bg_units_parse_fraction(text, &v, &err), BG_OK);
+    assert_true(v == 0.3333333333333333 / 100.0);
+
+    static const struct { const char *s; int kind; } bad[] = {
+        { "1e999K", 0 }, { "1e309C", 0 }, { "1e999mK", 1 }, { "1e999R", 2 }, { "1e300G", 2 },
+        { "2e308k", 2 }, { "1e999%", 3 }, { "1e305GV", 4 }, { "1e999 V", 4 },
+    };
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+        int rc = bad[i].kind == 0   ? bg_units_parse_temp(bad[i].s, BG_UNIT_NONE, &v, &err)
+                 : bad[i].kind == 1 ? bg_units_parse_tdiff(bad[i].s, &v, &err)
+                 : bad[i].kind == 2 ? bg_units_parse_ohms(bad[i].s, &v, &err)
+                 : bad[i].kind == 3 ? bg_units_parse_fraction(bad[i].s, &v, &err)
+                                    : bg_units_parse_si(bad[i].s, "V", &v, &err);
+        assert_int_equal(rc, BG_EINVAL);
+        snprintf(text, sizeof text, "'%s': the number is beyond the largest finite value "
+                 "(about 1.8e308)", bad[i].s);
+        assert_string_equal(err.msg, text);
+    }
+    static const char *const words[] = { "inf K", "infC", "nanK", "NaN C", "infinity K",
+                                         "-inf K", "0x1p8K" };
+    for (size_t i = 0; i < sizeof words / sizeof words[0]; i++)
+        assert_int_equal(bg_units_parse_temp(words[i], BG_UNIT_NONE, &v, &err), BG_EINVAL);
+    assert_int_equal(bg_units_parse_ohms("infR", &v, &err), BG_EINVAL);
+    assert_int_equal(bg_units_parse_ohms("nan k", &v, &err), BG_EINVAL);
+    /* formatting a non-finite value never converts it to int */
+    assert_string_equal(bg_units_format_ohms(INFINITY, 6, b, sizeof b), "inf");
+    assert_string_equal(bg_units_format_ohms(NAN, 6, b, sizeof b), "nan");
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -229,7 +281,7 @@ int main(void)
         cmocka_unit_test(temperatures), cmocka_unit_test(temperature_rejects),
         cmocka_unit_test(differences),  cmocka_unit_test(resistances),
         cmocka_unit_test(relative_values), cmocka_unit_test(si_quantities),
-        cmocka_unit_test(formatting),
+        cmocka_unit_test(formatting),   cmocka_unit_test(non_finite),
     };
     return cmocka_run_group_tests_name("units", tests, NULL, NULL);
 }

@@ -101,6 +101,21 @@ BG_API int bg_fitter_run(bg_fitter *fitter, const bg_point *pts, size_t n, const
 BG_API int bg_fit_points(const bg_point *pts, size_t n, const bg_fit_opts *o, bg_fit *out,
                          bg_error *err);
 
+/* Fit 'o->model' to 'nprobes' point sets of 'n' points each (probe p's points are
+** pts[p * n .. p * n + n - 1]) as a batch: the numerical work (linear start, Gauss-Newton
+** steps, the QR solves) runs on the probes side by side, the probes as the vector lane, with no
+** allocation per probe.  out[p] and errs[p] get what bg_fitter_run would give for probe p
+** alone (errs[p].code is its status, BG_OK or an error with its message): the same operations
+** in the same order, so the same numbers.  A probe the batch cannot follow (points stating
+** u(R), a step that must be halved, a design refused, no convergence) is fitted by
+** bg_fitter_run itself, so its result or error is the per-probe one, and it never disturbs the
+** other probes.  'sources' (nprobes names, or NULL: o->source for all) names each probe's
+** points in messages.  'out' (nprobes, initialised or reused) and 'errs' (nprobes) must not be
+** NULL.  Returns BG_OK (each probe's status in errs[p].code), or BG_ENOMEM. */
+BG_API int bg_fitter_run_batch(bg_fitter *fitter, const bg_point *pts, size_t nprobes, size_t n,
+                               const bg_fit_opts *o, const char *const *sources, bg_fit *out,
+                               bg_error *errs);
+
 /* Standard uncertainty u(T) in K of the fitted curve at 't_k', from the full covariance:
 ** u^2(T) = T^4 g^T V g, g = (L^i).  NaN when dof = 0.  '*extrapolated' (may be NULL) is set
 ** to 1 when 't_k' lies outside the calibrated range. */

@@ -79,11 +79,19 @@ BG_API const char *bg_model_coef_name(const bg_model *m, size_t i);
 ** finite, and for beta that R0 > 0 and beta > 0.  BG_EINVAL otherwise. */
 BG_API int bg_model_set_coef(bg_model *m, const double *coef, size_t n, bg_error *err);
 
+/* BG_OK when every coefficient of 'm' and, unless 'cov' is NULL, every entry of its covariance
+** (bg_model_npar squared, row-major) is a finite number; otherwise BG_EINVAL naming the first
+** that is not (a fit whose numbers overflowed, e.g. from resistances near 1e308 ohm). */
+BG_API int bg_model_check_finite(const bg_model *m, const double *cov, bg_error *err);
+
 /* The coefficients a[0..5] of 1/T = sum a_i L^i equivalent to 'm' (unused ones are 0).
 ** For beta: a0 = 1/T0 - ln(R0)/beta, a1 = 1/beta. */
 BG_API void bg_model_inv_poly(const bg_model *m, double a[BG_MODEL_MAXPAR]);
 
-/* Temperature (K) at resistance 'r_ohm' > 0.  BG_EINVAL when the model gives 1/T <= 0 there
+/* The evaluations below never give a value that is not finite: where the model overflows
+** (coefficients finite one by one can overflow together) they return BG_EINVAL naming the
+** quantity and the point, and leave the output unchanged.
+** Temperature (K) at resistance 'r_ohm' > 0.  BG_EINVAL when the model gives 1/T <= 0 there
 ** (outside any physical range). */
 BG_API int bg_model_t_from_r(const bg_model *m, double r_ohm, double *t_k, bg_error *err);
 
@@ -114,7 +122,8 @@ BG_API int bg_model_grad_inv_t(const bg_model *m, double r_ohm, double *g, bg_er
 
 /* Standard uncertainty of the curve at 't_k' from the covariance 'cov' (npar x npar,
 ** row-major) of the model's coefficients: u(T) = T^2 sqrt(g^T cov g), g from
-** bg_model_grad_inv_t at R(T). */
+** bg_model_grad_inv_t at R(T).  BG_EINVAL when g^T cov g is negative (a covariance that is
+** not positive semi-definite) or u(T) is not finite. */
 BG_API int bg_model_u_t(const bg_model *m, const double *cov, double t_k, double *u_k,
                         bg_error *err);
 

@@ -26,6 +26,7 @@ typedef struct bg_report_head {
     const char *customer;   /* shown only when given */
     long long replaces;     /* a reissue: the report it replaces; 0: none */
     const char *why;        /* a reissue: the reason */
+    const bg_chain_head *chain; /* the record's chain head when issued (NULL: not shown) */
 } bg_report_head;
 
 /* Writes the report of 'result' (the kind's result struct) to 'f'.  BG_ENOMEM / BG_EIO or

@@ -9,6 +9,7 @@
 #include <stddef.h>
 #include <time.h>
 
+#include "bandgap/csv.h"
 #include "bandgap/error.h"
 #include "bandgap/fit.h"
 #include "bandgap/model.h"
@@ -134,6 +135,21 @@ typedef struct bg_run {
 ** given when the reference is not past its due date. */
 BG_API int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta,
                            long long *run_id, bg_error *err);
+
+/* The same from the readings file 'path' ("-" reads standard input) in memory independent of
+** the file's size: the file is read twice, once to check every line and digest the readings
+** before anything is written, then again inside the transaction to write them (standard
+** input is copied to a temporary file for that; a file that changes in between is BG_EIO and
+** nothing is written).  Errors as bg_csv_reader_open() and bg_csv_reader_next() ("FILE:LINE:
+** field 'NAME': why"), then as bg_store_import(), in that order.  '*n' (may be NULL) gets
+** the number of readings. */
+BG_API int bg_store_import_file(bg_store *st, const char *path, const bg_run *meta,
+                                long long *run_id, size_t *n, bg_error *err);
+
+/* The same from the reader 'rd' positioned at its first reading, which is read to its end
+** twice (rewound in between: a stream that cannot seek needs BG_CSV_TWICE). */
+BG_API int bg_store_import_reader(bg_store *st, bg_csv_reader *rd, const bg_run *meta,
+                                  long long *run_id, size_t *n, bg_error *err);
 
 BG_API int bg_store_run_get(bg_store *st, long long run_id, bg_run *out, bg_error *err);
 /* What run 'r' was measured with, for people: "measuring current 10 \xC2\xB5A", "measuring
@@ -285,9 +301,16 @@ typedef struct bg_artifact {
 } bg_artifact;
 BG_API void bg_artifact_release(bg_artifact *a);
 
-/* Makes the content of artifact 'id' issued at 'created_at' (malloc'd, '*len' bytes). */
-typedef int (*bg_artifact_gen)(long long id, const char *created_at, void *ctx, char **content,
-                               size_t *len, bg_error *err);
+/* The head of the record chain: how many records, and the last one's SHA-256 in hex. */
+typedef struct bg_chain_head {
+    long long records;
+    char hash[65];
+} bg_chain_head;
+
+/* Makes the content of artifact 'id' issued at 'created_at' (malloc'd, '*len' bytes), on the
+** record whose chain head is 'head' (the artifact's own record follows it). */
+typedef int (*bg_artifact_gen)(long long id, const char *created_at, const bg_chain_head *head,
+                               void *ctx, char **content, size_t *len, bg_error *err);
 /* What to issue: 'kind' ("report-calibration", ...), the 'subject' it is about, the fit it
 ** shows (0: none), 'spec' as JSON whose "subject" is 'subject', the artifact it replaces (0:
 ** none), the program's 'version', and 'gen' with its 'ctx' to make the content. */
@@ -306,10 +329,38 @@ typedef struct bg_artifact_req {
 ** reissue), and a 'replaces_id' without one is too. */
 BG_API int bg_store_artifact_issue(bg_store *st, const bg_artifact_req *req, long long *id,
                                    bg_error *err);
+/* The artifact as issued; BG_EINVAL when its bytes or row no longer match its record in the
+** chain (changed outside bandgap). */
 BG_API int bg_store_artifact_get(bg_store *st, long long id, bg_artifact *out, bg_error *err);
 /* Every artifact, oldest first; 'content' is NULL in the rows passed. */
 typedef int (*bg_artifact_cb)(const bg_artifact *a, void *ctx);
 BG_API int bg_store_artifact_each(bg_store *st, bg_artifact_cb cb, void *ctx, bg_error *err);
+
+/* ---- the record's defences: the hash chain and its verification ---- */
+
+/* Every appended record (a lot, probe, reference thermometer, part specification, run with
+** its readings, exclusion, fit or issued report) is chained to the one before it by SHA-256
+** over a canonical encoding of its content, in the transaction that adds it.  The head is the
+** number of records and the last one's hash (0 and 64 '0' for an empty record). */
+BG_API int bg_store_chain_head(bg_store *st, long long *records, char head[65], bg_error *err);
+
+/* What bg_store_verify found.  'bad' 0: the database's own checks pass, the chain holds and
+** every row of the chained tables is in it; 'records' were verified up to 'head'. */
+typedef struct bg_store_check {
+    int integrity_ok, foreign_keys_ok; /* the backend's own checks passed */
+    long long records;                 /* chain records that verified */
+    char head[65];                     /* the hash of the last record that verified */
+    int bad;                           /* 1: a problem, said in 'problem' */
+    long long bad_seq;                 /* the chain record where it was found (0: none) */
+    char bad_kind[16];                 /* the table and row it concerns ("" when none) */
+    long long bad_id;
+    char problem[512];
+} bg_store_check;
+/* Verify the whole record: the database's integrity and foreign keys, then each record of
+** the chain recomputed from the one before, then that no row is missing from the chain.
+** Stops at the first problem.  BG_OK whether or not a problem was found (see 'out->bad');
+** an error only when the check itself could not run. */
+BG_API int bg_store_verify(bg_store *st, bg_store_check *out, bg_error *err);
 
 /* ---- what a part number specifies ---- */
 

@@ -74,8 +74,28 @@ int cli_open_store(struct cli_ctx *ctx, int create, bg_store **st);
 time_t cli_clock(void);
 /* Temperatures "0C,25C,50C" into 't_k' (at most 'max'); BG_EINVAL on bad text. */
 int cli_parse_temps(const char *s, double *t_k, size_t max, size_t *n, bg_error *err);
-/* Parse a positive integer id ("12"); BG_EINVAL otherwise. */
+/* Parse a positive integer id ("12", at most 9223372036854775807); BG_EINVAL otherwise. */
 int cli_parse_id(const char *s, long long *id);
+/* An output file written whole or not at all: the content goes to a temporary file
+** "PATH.tmp.XXXXXX" in the same directory, which cli_out_commit flushes to the disk (fsync) and
+** renames to PATH, so that PATH holds either its old content or the whole new one, never a
+** part.  A kill leaves at most the temporary file, whose name says what it is.  PATH "-" or
+** NULL is standard output; an existing PATH that is not a regular file (a device such as
+** /dev/null, a FIFO) is written directly.  A symbolic link is followed: its target is
+** replaced.  The new file has the old file's permissions, or 0666 less the umask. */
+struct cli_out {
+    FILE *f;          /* write here */
+    const char *path; /* as given, for messages */
+    char *target;     /* the file renamed over (NULL: written directly) */
+    char *tmp;        /* the temporary file (NULL: none) */
+};
+/* Open 'path' for 'cmd'; prints the error and returns CLI_ECANTCREAT, or BG_OK. */
+int cli_out_open(struct cli_out *o, const char *path, const char *cmd);
+/* Complete the file: flush, fsync, close and rename into place.  On any failure the temporary
+** file is removed, PATH is untouched, the error is printed and BG_EIO returned. */
+int cli_out_commit(struct cli_out *o, const char *cmd);
+/* Abandon the file: close and remove the temporary file; PATH is untouched. */
+void cli_out_discard(struct cli_out *o);
 /* Print a text field for a table, "-" when empty. */
 const char *cli_or_dash(const char *s);
 /* Show progress "what i/n" on stderr when it is a terminal (not TERM=dumb); i == n ends it. */
@@ -220,6 +240,7 @@ int cmd_report(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_eval(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_fit(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_demo(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_verify(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_init(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_lot(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_part(int argc, char **argv, struct cli_ctx *ctx);

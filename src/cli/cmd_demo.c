@@ -118,16 +118,14 @@ static int demo_write_files(const char *dir)
     char path[4096];
     size_t nfiles = 0;
     for (const struct demo_file *df = demo_files; df->name; df++, nfiles++) {
-        FILE *f;
+        struct cli_out f;
+        int rc;
         snprintf(path, sizeof path, "%s/%s", dir, df->name);
-        if (!(f = fopen(path, "w"))) {
-            cli_error("demo: cannot create '%s': %s", path, strerror(errno));
-            return CLI_ECANTCREAT;
-        }
-        if (fputs(df->text, f) == EOF || fclose(f) != 0) {
-            cli_error("demo: cannot write '%s': %s", path, strerror(errno));
-            return BG_EIO;
-        }
+        if ((rc = cli_out_open(&f, path, "demo")) != BG_OK)
+            return rc;
+        fputs(df->text, f.f); /* an error shows in the commit */
+        if ((rc = cli_out_commit(&f, "demo")) != BG_OK)
+            return rc;
     }
     printf("wrote %zu readings files to %s/\n", nfiles, dir);
     return BG_OK;

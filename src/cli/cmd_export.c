@@ -163,6 +163,7 @@ int cmd_export(int argc, char **argv, struct cli_ctx *ctx)
     };
     bg_error err = BG_ERROR_INIT;
     struct ex xs;
+    struct cli_out file; /* -o FILE, written whole or not at all */
     struct cli_output out = { 0, 0 };
     enum cli_format fmt;
     const char *serial = NULL, *lot = NULL, *path = NULL;
@@ -203,12 +204,9 @@ int cmd_export(int argc, char **argv, struct cli_ctx *ctx)
             goto done;
         }
     }
-    xs.out = path ? fopen(path, "w") : stdout;
-    if (!xs.out) {
-        cli_error("export: cannot create '%s': %s", path, strerror(errno));
-        rc = CLI_ECANTCREAT;
+    if ((rc = cli_out_open(&file, path, "export")) != BG_OK)
         goto done;
-    }
+    xs.out = file.f;
     xs.json = fmt == CLI_FMT_JSON;
     if (xs.json) {
         json_begin(&xs.j, xs.out);
@@ -227,10 +225,10 @@ int cmd_export(int argc, char **argv, struct cli_ctx *ctx)
         json_obj_end(&xs.j);
         json_end(&xs.j);
     }
-    if (path && (fclose(xs.out) != 0)) {
-        cli_error("export: cannot write '%s': %s", path, strerror(errno));
-        rc = BG_EIO;
-    }
+    if (rc != BG_OK)
+        cli_out_discard(&file);
+    else if (path)
+        rc = cli_out_commit(&file, "export");
 done:
     bg_store_close(xs.st);
     return rc;

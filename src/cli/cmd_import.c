@@ -87,8 +87,8 @@ int cmd_import(int argc, char **argv, struct cli_ctx *ctx)
         { NULL, 0, NULL, 0 },
     };
     bg_error err = BG_ERROR_INIT;
-    bg_readings rs = BG_READINGS_INIT;
     bg_store *st = NULL;
+    size_t n = 0;
     bg_run meta;
     long long run_id = 0;
     int c, rc = BG_OK;
@@ -150,14 +150,10 @@ int cmd_import(int argc, char **argv, struct cli_ctx *ctx)
         return rc;
     const char *path = argv[optind];
     snprintf(meta.source, sizeof meta.source, "%s", strcmp(path, "-") == 0 ? "<stdin>" : path);
-    if ((rc = bg_csv_read_file(path, &rs, &err)) != BG_OK ||
-        (rc = bg_store_import(st, &rs, &meta, &run_id, &err)) != BG_OK) {
+    if ((rc = bg_store_import_file(st, path, &meta, &run_id, &n, &err)) != BG_OK)
         cli_fail(NULL, &err);
-        goto done;
-    }
-    rc = print_imported(st, run_id, rs.n, ctx->json);
-done:
-    bg_readings_release(&rs);
+    else
+        rc = print_imported(st, run_id, n, ctx->json);
     bg_store_close(st);
     return rc;
 }

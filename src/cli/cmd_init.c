@@ -1,8 +1,12 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* bandgap init: create the calibration database (or confirm an existing one). */
+#include <errno.h>
 #include <getopt.h>
 #include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
 #include <sys/stat.h>
+#include <unistd.h>
 
 #include "cli.h"
 
@@ -14,6 +18,81 @@ static const char init_usage[] =
     "existing bandgap database it upgrades an older schema (keeping a copy)\n"
     "and otherwise changes nothing.\n";
 
+/* The file of an SQLite database named 'db' ("PATH" or "sqlite:PATH"); NULL for a name with
+** another scheme ([a-z][a-z0-9+.-]+ before ':', the store's rule), which the store judges. */
+static const char *sqlite_file(const char *db)
+{
+    size_t n = 0;
+    if (strncmp(db, "sqlite:", 7) == 0)
+        return db + 7;
+    if (db[0] >= 'a' && db[0] <= 'z')
+        n = strspn(db, "abcdefghijklmnopqrstuvwxyz0123456789+.-");
+    return n >= 2 && db[n] == ':' ? NULL : db;
+}
+
+/* Remove the temporary database 'tmp' and a journal it may have left. */
+static void remove_tmp(const char *tmp)
+{
+    size_t n = strlen(tmp);
+    char *j = malloc(n + sizeof "-journal");
+    unlink(tmp);
+    if (j) {
+        memcpy(j, tmp, n);
+        strcpy(j + n, "-journal");
+        unlink(j);
+        free(j);
+    }
+}
+
+/* Create the new database 'file' whole: initialise it under a temporary name in the same
+** directory and link it to 'file' only when complete, so that a failed init leaves no file
+** behind, and a file another process made meanwhile is never replaced ('*existed' is then set
+** and it is opened as it is). */
+static int create_new(struct cli_ctx *ctx, const char *file, int *existed)
+{
+    static const char suffix[] = ".tmp.XXXXXX";
+    bg_error err = BG_ERROR_INIT;
+    bg_store *st = NULL;
+    size_t n = strlen(file);
+    char *tmp = malloc(7 + n + sizeof suffix), *path; /* "sqlite:" FILE suffix */
+    mode_t mask = umask(0);
+    int fd, rc;
+
+    umask(mask);
+    if (!tmp) {
+        cli_error("init: out of memory");
+        return BG_ENOMEM;
+    }
+    memcpy(tmp, "sqlite:", 7);
+    memcpy(tmp + 7, file, n);
+    memcpy(tmp + 7 + n, suffix, sizeof suffix);
+    path = tmp + 7;
+    if ((fd = mkstemp(path)) < 0) {
+        cli_error("cannot create database '%s': %s", ctx->db_path, strerror(errno));
+        free(tmp);
+        return CLI_ECANTCREAT;
+    }
+    /* the permissions SQLite gives a file it creates (0644 less the umask) */
+    fchmod(fd, 0644 & ~mask);
+    close(fd);
+    rc = bg_store_open(tmp, BG_STORE_CREATE, &st, &err);
+    bg_store_close(st);
+    if (rc != BG_OK) {
+        cli_error("cannot create database '%s': %s", ctx->db_path, err.msg);
+        rc = rc == BG_EIO ? CLI_ECANTCREAT : rc;
+    } else if (link(path, file) != 0) {
+        if (errno == EEXIST)
+            *existed = 1;
+        else {
+            cli_error("cannot create database '%s': %s", ctx->db_path, strerror(errno));
+            rc = CLI_ECANTCREAT;
+        }
+    }
+    remove_tmp(path);
+    free(tmp);
+    return rc;
+}
+
 int cmd_init(int argc, char **argv, struct cli_ctx *ctx)
 {
     static const struct option opts[] = {
@@ -22,6 +101,7 @@ int cmd_init(int argc, char **argv, struct cli_ctx *ctx)
     };
     struct stat sb;
     bg_store *st = NULL;
+    const char *file;
     int c, existed, rc;
 
     opterr = 0;
@@ -38,7 +118,10 @@ int cmd_init(int argc, char **argv, struct cli_ctx *ctx)
     }
     if (optind < argc)
         return cli_usage_error("init", "unexpected argument '%s'", argv[optind]);
-    existed = stat(ctx->db_path, &sb) == 0;
+    file = sqlite_file(ctx->db_path);
+    existed = stat(file ? file : ctx->db_path, &sb) == 0;
+    if (!existed && file && (rc = create_new(ctx, file, &existed)) != BG_OK)
+        return rc;
     if ((rc = cli_open_store(ctx, 1, &st)) != BG_OK)
         return rc;
     if (ctx->json) {

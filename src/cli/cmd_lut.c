@@ -195,7 +195,8 @@ static int other_option(struct lut_args *a, int c, const char *arg)
     switch (c) {
     case O_FIT:
         if (cli_parse_id(arg, &a->rq.fit_id) != BG_OK)
-            return cli_usage_error("lut", "--fit: '%s': not a fit id", arg);
+            return cli_usage_error("lut", "--fit: '%s': not a fit id (a whole number from 1 "
+                                   "to 9223372036854775807)", arg);
         break;
     case O_PROBE: a->probe = arg; break;
     case O_REPORT: a->report = arg; break;
@@ -346,46 +347,43 @@ static int write_report(const char *path, const bg_lut_result *r)
     bg_error err = BG_ERROR_INIT;
     char now[BG_TIME], *html = NULL;
     size_t len = 0;
-    bg_report_head h = { 0, bg_time_format(cli_clock(), now, sizeof now), NULL, NULL, 0, NULL };
+    bg_report_head h = { 0, bg_time_format(cli_clock(), now, sizeof now), NULL, NULL, 0, NULL,
+                         NULL };
     int rc = bg_report_render(bg_report_kind_find("table"), r, &h, &html, &len, &err);
     if (rc != BG_OK)
         return cli_fail("lut", &err);
-    FILE *f = fopen(path, "w");
-    if (!f) {
-        cli_error("lut: cannot create '%s': %s", path, strerror(errno));
-        free(html);
-        return CLI_ECANTCREAT;
+    struct cli_out out;
+    if ((rc = cli_out_open(&out, path, "lut")) == BG_OK) {
+        fwrite(html, 1, len, out.f); /* an error shows in the commit */
+        rc = cli_out_commit(&out, "lut");
     }
-    int bad = fwrite(html, 1, len, f) != len;
-    bad |= fclose(f) != 0;
     free(html);
-    if (bad) {
-        cli_error("lut: cannot write '%s'", path);
-        return BG_EIO;
-    }
-    return BG_OK;
+    return rc;
 }
 
 /* The table in its format to -o FILE or standard output, then the summary and budget. */
 static int write_table(const struct lut_args *a, const bg_lut_result *r)
 {
     bg_error err = BG_ERROR_INIT;
-    FILE *f = a->out_path ? fopen(a->out_path, "w") : stdout;
-    int rc = BG_OK;
-    if (!f) {
-        cli_error("lut: cannot create '%s': %s", a->out_path, strerror(errno));
-        return CLI_ECANTCREAT;
-    }
+    struct cli_out out;
+    FILE *f;
+    int rc = a->out_path ? cli_out_open(&out, a->out_path, "lut") : BG_OK;
+    if (rc != BG_OK)
+        return rc;
+    f = a->out_path ? out.f : stdout;
     if (strcmp(a->format, "c") == 0)
         rc = bg_lut_emit_c(&r->table, &r->spec, a->symbol, bg_version(), f, &err);
     else if (strcmp(a->format, "csv") == 0)
         lut_print_csv(r, f);
     else
         lut_print_json(r, f);
-    if (a->out_path && fclose(f) != 0 && rc == BG_OK)
-        rc = bg_error_set(&err, BG_EIO, "cannot write '%s'", a->out_path);
-    if (rc != BG_OK)
+    if (rc != BG_OK) {
+        if (a->out_path)
+            cli_out_discard(&out);
         return cli_fail("lut", &err);
+    }
+    if (a->out_path && (rc = cli_out_commit(&out, "lut")) != BG_OK)
+        return rc;
     /* the summary and budget: on standard output when the table went to a file */
     if (strcmp(a->format, "json") != 0 || a->out_path)
         lut_print_summary(r, a->out_path ? "" : "bandgap: lut: ",

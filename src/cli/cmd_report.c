@@ -31,44 +31,29 @@ static const char report_usage[] =
     "--baseline, --limit and --rate-limit (lot reports) mean what they mean for drift; not\n"
     "given, the part's defaults (bandgap part set) apply, else the built-in ones.\n";
 
-/* Open 'path' for the report ("-": standard output), before anything is stored. */
-static int open_out(const char *path, FILE **f)
+/* Open 'path' for the report ("-": standard output), before anything is stored; the file
+** appears whole or not at all (cli_out_open). */
+static int open_out(const char *path, struct cli_out *f)
 {
-    *f = strcmp(path, "-") ? fopen(path, "wb") : stdout;
-    if (!*f) {
-        cli_error("report: cannot create '%s': %s", path, strerror(errno));
-        return CLI_ECANTCREAT;
-    }
-    return BG_OK;
+    return cli_out_open(f, path, "report");
 }
 
-/* Write 'len' bytes and close; 'id' (0: none) names the stored copy in the message. */
-static int write_out(FILE *f, const char *path, const char *content, size_t len, long long id)
+/* Write 'len' bytes and complete the file; 'id' (0: none) names the stored copy in the
+** message. */
+static int write_out(struct cli_out *f, const char *content, size_t len, long long id)
 {
-    size_t w = fwrite(content, 1, len, f);
-    int bad = w != len || ferror(f);
-    if (f != stdout)
-        bad |= fclose(f) != 0;
-    else
-        bad |= fflush(f) != 0;
-    if (bad) {
-        if (id)
-            cli_error("report: cannot write '%s'; the report is stored as report %lld "
-                      "(bandgap report --get %lld -o FILE writes it again)", path, id, id);
-        else
-            cli_error("report: cannot write '%s'", path);
-        return BG_EIO;
-    }
-    return BG_OK;
+    fwrite(content, 1, len, f->f); /* an error shows in the commit */
+    int rc = cli_out_commit(f, "report");
+    if (rc != BG_OK && id)
+        cli_error("report: the report is stored as report %lld (bandgap report --get %lld -o "
+                  "FILE writes it again)", id, id);
+    return rc;
 }
 
-/* Close and remove an output file that will not be written. */
-static void drop_out(FILE *f, const char *path)
+/* Abandon an output file that will not be written (a file that was there stays as it was). */
+static void drop_out(struct cli_out *f)
 {
-    if (f != stdout) {
-        fclose(f);
-        remove(path);
-    }
+    cli_out_discard(f);
 }
 
 struct list_ctx {
@@ -122,7 +107,7 @@ static int issue(bg_store *st, long long run_id, long long fit_id, const char *l
 {
     bg_error err = BG_ERROR_INIT;
     bg_artifact a;
-    FILE *f;
+    struct cli_out f;
     int rc = open_out(out_path, &f);
     if (rc != BG_OK)
         return rc;
@@ -131,7 +116,7 @@ static int issue(bg_store *st, long long run_id, long long fit_id, const char *l
     else
         rc = bg_report_issue_run(st, run_id, fit_id, o, &a, &err);
     if (rc != BG_OK) {
-        drop_out(f, out_path);
+        drop_out(&f);
         bg_artifact_release(&a);
         rc = cli_fail("report", &err);
         if (strstr(err.msg, "already has report"))
@@ -139,7 +124,7 @@ static int issue(bg_store *st, long long run_id, long long fit_id, const char *l
                             "bandgap report --get ID -o FILE writes the stored copy)\n");
         return rc;
     }
-    rc = write_out(f, out_path, a.content, a.len, a.id);
+    rc = write_out(&f, a.content, a.len, a.id);
     if (rc == BG_OK && strcmp(out_path, "-") && lot)
         printf("issued report %lld (lot %s): %s\n", a.id, lot, out_path);
     else if (rc == BG_OK && strcmp(out_path, "-"))
@@ -284,9 +269,9 @@ static int get_report(bg_store *st, long long id, const char *out_path)
     }
     if (a.replaced_by)
         cli_warn("report: report %lld was replaced by report %lld", id, a.replaced_by);
-    FILE *f;
+    struct cli_out f;
     if ((rc = open_out(out_path, &f)) == BG_OK)
-        rc = write_out(f, out_path, a.content, a.len, 0);
+        rc = write_out(&f, a.content, a.len, 0);
     bg_artifact_release(&a);
     return rc;
 }

@@ -33,6 +33,7 @@ static const struct command commands[] = {
     { "lut",     cmd_lut,     "a firmware lookup table (ADC code -> temperature) as C, CSV or JSON" },
     { "eval",    cmd_eval,    "evaluate a model given inline: resistance to temperature and back" },
     { "curve",   cmd_curve,   "the R-T table of a stored fit or an inline model, with U" },
+    { "verify",  cmd_verify,  "check the whole record: integrity and the hash chain" },
     { "demo",    cmd_demo,    "run the whole job on built-in invented data" },
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
@@ -79,16 +80,29 @@ static int exit_status(int rc)
     }
 }
 
+/* Every exit passes here: standard output flushed and closed (a failed write is EX_IOERR),
+** and both filtered streams closed. */
 static int finish(int status)
 {
-    if (fflush(stdout) != 0 || ferror(stdout) || fclose(stdout) != 0) {
+    int bad = fflush(stdout) != 0 || ferror(stdout);
+    if (fclose(stdout) != 0 || bad) {
         perror("bandgap: cannot write the output");
-        return status == EX_OK ? EX_IOERR : status;
+        status = status == EX_OK ? EX_IOERR : status;
     }
+    fclose(stderr);
     return status;
 }
 
+static int run(int argc, char **argv);
+
 int main(int argc, char **argv)
+{
+    bg_gsl_handler_off();
+    cli_safe_streams();
+    return finish(run(argc, argv));
+}
+
+static int run(int argc, char **argv)
 {
     static const struct option opts[] = {
         { "db", required_argument, NULL, 'd' }, { "json", no_argument, NULL, 'j' },
@@ -98,8 +112,6 @@ int main(int argc, char **argv)
     struct cli_ctx ctx = { NULL, 0 };
     int c;
 
-    bg_gsl_handler_off();
-    cli_safe_streams();
     ctx.db_path = getenv("BANDGAP_DB");
     if (!ctx.db_path || !*ctx.db_path)
         ctx.db_path = "bandgap.db";
@@ -108,8 +120,8 @@ int main(int argc, char **argv)
         switch (c) {
         case 'd': ctx.db_path = optarg; break;
         case 'j': ctx.json = 1; break;
-        case 'h': usage(stdout); return finish(EX_OK);
-        case 'V': version(); return finish(EX_OK);
+        case 'h': usage(stdout); return EX_OK;
+        case 'V': version(); return EX_OK;
         case ':': return exit_status(cli_usage_error(NULL, "option '%s' needs a value",
                                                      argv[optind - 1]));
         default: return exit_status(cli_unknown_option(NULL, argv[optind - 1], opts));
@@ -124,7 +136,7 @@ int main(int argc, char **argv)
             int sub_argc = argc - optind;
             char **sub_argv = argv + optind;
             optind = 0; /* glibc: 0 re-initialises getopt for the command's own options */
-            return finish(exit_status(commands[i].fn(sub_argc, sub_argv, &ctx)));
+            return exit_status(commands[i].fn(sub_argc, sub_argv, &ctx));
         }
     }
     const char *names[NCOMMANDS];

@@ -141,7 +141,8 @@ int cli_source_option(struct cli_source *s, int opt, const char *arg, const char
     case CLI_SRC_FIT:
         *rc = BG_OK;
         if (cli_parse_id(arg, &s->fit_id) != BG_OK)
-            *rc = cli_usage_error(cmd, "--fit: '%s': not a fit id", arg);
+            *rc = cli_usage_error(cmd, "--fit: '%s': not a fit id (a whole number from 1 to "
+                                  "9223372036854775807)", arg);
         return 1;
     case CLI_SRC_PROBE:
         s->probe = arg;

@@ -1,6 +1,9 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* Messages and JSON output for the bandgap program. */
+/* Messages, JSON output and whole output files for the bandgap program. */
+/* realpath() and fchmod() are in POSIX.1-2008 with the XSI option */
+#define _XOPEN_SOURCE 700
 #include <ctype.h>
+#include <errno.h>
 #include <float.h>
 #include <math.h>
 #include <stdarg.h>
@@ -8,6 +11,8 @@
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
+#include <fcntl.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include "cli.h"
@@ -56,24 +61,40 @@ int cli_fail(const char *what, const bg_error *err)
     return err->code ? (int)err->code : BG_EINTERNAL;
 }
 
+/* One number of a list: decimal only (strtod would also take hex, "inf" and "nan"), any length,
+** finite. */
+static int list_number(const char *p, size_t len, double *v, bg_error *err)
+{
+    char *buf = malloc(len + 1), *end;
+    int rc = BG_OK;
+    if (!buf)
+        return bg_error_set(err, BG_ENOMEM, "out of memory");
+    memcpy(buf, p, len);
+    buf[len] = '\0';
+    *v = strtod(buf, &end);
+    if (*end != '\0' || end == buf || strpbrk(buf, "xXiInN"))
+        rc = bg_error_set(err, BG_EINVAL, "'%s': not a number", buf);
+    else if (!isfinite(*v))
+        rc = bg_error_set(err, BG_EINVAL, "'%s': the number is beyond the largest finite value "
+                          "(about 1.8e308)", buf);
+    free(buf);
+    return rc;
+}
+
 int cli_parse_list(const char *s, double *v, size_t max, size_t *n, bg_error *err)
 {
-    char buf[64];
     size_t k = 0;
     const char *p = s;
     for (;;) {
         const char *c = strchr(p, ',');
         size_t len = c ? (size_t)(c - p) : strlen(p);
-        char *end;
-        if (len == 0 || len >= sizeof buf)
+        int rc;
+        if (len == 0)
             return bg_error_set(err, BG_EINVAL, "'%s': expected numbers separated by commas", s);
         if (k == max)
             return bg_error_set(err, BG_EINVAL, "'%s': more than %zu numbers", s, max);
-        memcpy(buf, p, len);
-        buf[len] = '\0';
-        v[k] = strtod(buf, &end);
-        if (*end != '\0' || end == buf || !isfinite(v[k]))
-            return bg_error_set(err, BG_EINVAL, "'%s': not a number", buf);
+        if ((rc = list_number(p, len, &v[k], err)) != BG_OK)
+            return rc;
         k++;
         if (!c)
             break;
@@ -85,18 +106,23 @@ int cli_parse_list(const char *s, double *v, size_t max, size_t *n, bg_error *er
 
 int cli_parse_temps(const char *s, double *t_k, size_t max, size_t *n, bg_error *err)
 {
-    char buf[64];
     *n = 0;
     for (const char *p = s;;) {
         const char *c = strchr(p, ',');
         size_t len = c ? (size_t)(c - p) : strlen(p);
-        if (len == 0 || len >= sizeof buf || *n == max)
+        char *buf;
+        int rc;
+        if (len == 0 || *n == max)
             return bg_error_set(err, BG_EINVAL, "'%s': expected at most %zu temperatures like "
                                 "0C,25C,50C", s, max);
+        if (!(buf = malloc(len + 1)))
+            return bg_error_set(err, BG_ENOMEM, "out of memory");
         memcpy(buf, p, len);
         buf[len] = '\0';
-        if (bg_units_parse_temp(buf, BG_UNIT_NONE, &t_k[(*n)++], err) != BG_OK)
-            return BG_EINVAL;
+        rc = bg_units_parse_temp(buf, BG_UNIT_NONE, &t_k[(*n)++], err);
+        free(buf);
+        if (rc != BG_OK)
+            return rc;
         if (!c)
             return BG_OK;
         p = c + 1;
@@ -352,14 +378,141 @@ int cli_open_store(struct cli_ctx *ctx, int create, bg_store **st)
     return BG_OK;
 }
 
+/* ---- output files, written whole or not at all ---- */
+
+static void out_free(struct cli_out *o)
+{
+    free(o->target);
+    free(o->tmp);
+    o->target = o->tmp = NULL;
+    o->f = NULL;
+}
+
+int cli_out_open(struct cli_out *o, const char *path, const char *cmd)
+{
+    struct stat sb;
+    mode_t mode, mask;
+    int fd;
+
+    memset(o, 0, sizeof *o);
+    o->path = path ? path : "-";
+    if (!path || strcmp(path, "-") == 0) {
+        o->f = stdout;
+        return BG_OK;
+    }
+    if (stat(path, &sb) == 0 && !S_ISREG(sb.st_mode)) {
+        /* a device or a FIFO: nothing to rename over */
+        if (!(o->f = fopen(path, "wb"))) {
+            cli_error("%s: cannot open '%s': %s", cmd, path, strerror(errno));
+            return CLI_ECANTCREAT;
+        }
+        return BG_OK;
+    }
+    mask = umask(0);
+    umask(mask);
+    mode = stat(path, &sb) == 0 ? sb.st_mode & 07777 : 0666 & ~mask;
+    /* the file a symbolic link points to is the one replaced, not the link */
+    o->target = realpath(path, NULL);
+    if (!o->target && !(o->target = strdup(path)))
+        goto nomem;
+    if (!(o->tmp = malloc(strlen(o->target) + sizeof ".tmp.XXXXXX")))
+        goto nomem;
+    strcpy(o->tmp, o->target);
+    strcat(o->tmp, ".tmp.XXXXXX");
+    if ((fd = mkstemp(o->tmp)) < 0) {
+        cli_error("%s: cannot create '%s': %s", cmd, path, strerror(errno));
+        out_free(o);
+        return CLI_ECANTCREAT;
+    }
+    if (fchmod(fd, mode) != 0 || !(o->f = fdopen(fd, "wb"))) {
+        cli_error("%s: cannot create '%s': %s", cmd, path, strerror(errno));
+        close(fd);
+        unlink(o->tmp);
+        out_free(o);
+        return CLI_ECANTCREAT;
+    }
+    return BG_OK;
+nomem:
+    cli_error("%s: out of memory", cmd);
+    out_free(o);
+    return BG_ENOMEM;
+}
+
+/* Make a rename in the directory of 'file' durable (the directory's entry on the disk). */
+static int sync_dir_of(const char *file)
+{
+    char *dir = strdup(file), *slash;
+    int fd, rc = 0;
+    if (!dir)
+        return -1;
+    slash = strrchr(dir, '/');
+    if (slash == dir)
+        slash[1] = '\0';
+    else if (slash)
+        *slash = '\0';
+    fd = open(slash ? dir : ".", O_RDONLY);
+    if (fd < 0 || fsync(fd) != 0)
+        rc = -1;
+    if (fd >= 0)
+        close(fd);
+    free(dir);
+    return rc;
+}
+
+int cli_out_commit(struct cli_out *o, const char *cmd)
+{
+    int bad, e = 0;
+    if (o->f == stdout) {
+        bad = fflush(stdout) != 0 || ferror(stdout);
+        if (bad)
+            cli_error("%s: cannot write the output: %s", cmd, strerror(errno));
+        return bad ? BG_EIO : BG_OK;
+    }
+    bad = fflush(o->f) != 0 || ferror(o->f);
+    if (!bad && o->tmp && fsync(fileno(o->f)) != 0)
+        bad = 1;
+    if (bad)
+        e = errno;
+    if (fclose(o->f) != 0 && !bad)
+        bad = 1, e = errno;
+    o->f = NULL;
+    if (!bad && o->tmp && rename(o->tmp, o->target) != 0)
+        bad = 1, e = errno;
+    if (bad) {
+        if (o->tmp)
+            unlink(o->tmp);
+        cli_error("%s: cannot write '%s': %s%s", cmd, o->path, strerror(e),
+                  o->tmp ? " (nothing was written to it)" : "");
+        out_free(o);
+        return BG_EIO;
+    }
+    if (o->tmp && sync_dir_of(o->target) != 0)
+        cli_warn("%s: '%s' is written, but its directory could not be synced to the disk: %s",
+                 cmd, o->path, strerror(errno));
+    out_free(o);
+    return BG_OK;
+}
+
+void cli_out_discard(struct cli_out *o)
+{
+    if (o->f && o->f != stdout)
+        fclose(o->f);
+    if (o->tmp)
+        unlink(o->tmp);
+    out_free(o);
+}
+
 int cli_parse_id(const char *s, long long *id)
 {
     char *end;
     long long v;
     if (!s || !*s || *s == '-' || *s == '+')
         return BG_EINVAL;
+    errno = 0;
     v = strtoll(s, &end, 10);
-    if (*end != '\0' || v <= 0)
+    /* beyond 9223372036854775807 strtoll gives that number: no record has such an id, and a
+    ** message must not name an id other than the one given */
+    if (*end != '\0' || v <= 0 || errno == ERANGE)
         return BG_EINVAL;
     *id = v;
     return BG_OK;

@@ -11,8 +11,8 @@ import numpy as np
 from scipy.optimize import curve_fit
 
 data = np.loadtxt(sys.argv[1], delimiter=",")
-full = np.loadtxt(sys.argv[2])
-lin = np.loadtxt(sys.argv[3])
+full = np.loadtxt(sys.argv[2])[:, :3]  # bench_fit writes coefficients first
+lin = np.loadtxt(sys.argv[3])[:, :3]
 probes = data[:, 0].astype(int)
 npr = probes.max() + 1
 T = data[:, 1].reshape(npr, -1)

@@ -8,6 +8,7 @@
 #include <sys/stat.h>
 
 #include "bandgap/csv.h"
+#include "bandgap/text.h"
 #include "bandgap/suggest.h"
 #include "num_int.h"
 
@@ -50,6 +51,7 @@ typedef struct parser {
     char *qbuf;      /* unquoted copies of quoted fields, one line's worth */
     size_t qcap;
     bg_error *err;
+    int rc;          /* the status of split's last failure */
 } parser;
 
 static int is_space(char c) { return c == ' ' || c == '\t'; }
@@ -64,15 +66,15 @@ static int split(parser *ps, const char *line, size_t len, field *f, int maxf)
     if (ps->qcap < len + 1) {
         char *nb = realloc(ps->qbuf, len + 1);
         if (!nb) {
-            bg_error_set(ps->err, BG_ENOMEM, "out of memory reading '%s'", ps->name);
+            ps->rc = bg_error_set(ps->err, BG_ENOMEM, "out of memory reading '%s'", ps->name);
             return -1;
         }
         ps->qbuf = nb, ps->qcap = len + 1;
     }
     for (;;) {
         if (nf == maxf) {
-            bg_error_set(ps->err, BG_EINVAL, "%s:%zu: more than %d fields", ps->name, ps->line,
-                         maxf);
+            ps->rc = bg_error_set(ps->err, BG_EINVAL, "%s:%zu: more than %d fields", ps->name,
+                                  ps->line, maxf);
             return -1;
         }
         /* Leading blanks are not part of a field (a tab is, when it is the delimiter). */
@@ -83,8 +85,8 @@ static int split(parser *ps, const char *line, size_t len, field *f, int maxf)
             i++;
             for (;;) {
                 if (i >= len) {
-                    bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field %d: unterminated quote",
-                                 ps->name, ps->line, nf + 1);
+                    ps->rc = bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field %d: "
+                                          "unterminated quote", ps->name, ps->line, nf + 1);
                     return -1;
                 }
                 if (line[i] == '"') {
@@ -100,8 +102,8 @@ static int split(parser *ps, const char *line, size_t len, field *f, int maxf)
             while (i < len && is_space(line[i]) && line[i] != ps->delim)
                 i++;
             if (i < len && line[i] != ps->delim) {
-                bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field %d: text after closing quote",
-                             ps->name, ps->line, nf + 1);
+                ps->rc = bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field %d: text after "
+                                      "closing quote", ps->name, ps->line, nf + 1);
                 return -1;
             }
             f[nf].s = ps->qbuf + start, f[nf].len = q - start, f[nf].quoted = 1;
@@ -109,8 +111,8 @@ static int split(parser *ps, const char *line, size_t len, field *f, int maxf)
             size_t start = i;
             while (i < len && line[i] != ps->delim) {
                 if (line[i] == '"') {
-                    bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field %d: stray quote",
-                                 ps->name, ps->line, nf + 1);
+                    ps->rc = bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field %d: stray "
+                                          "quote", ps->name, ps->line, nf + 1);
                     return -1;
                 }
                 i++;
@@ -257,8 +259,386 @@ static int parse_header(parser *ps, const field *f, int nf, int *map, int *where
     return BG_OK;
 }
 
+/* The reader: lines from a stream (read in blocks into a buffer that holds at least one whole
+** line) or from bytes in memory, the header's map, and the reading last parsed, whose note
+** lives in 'note' until the next call. */
+struct bg_csv_reader {
+    FILE *fp;            /* the stream read now; NULL for bytes in memory */
+    FILE *own;           /* the stream opened here, closed by _free; or NULL */
+    FILE *spool;         /* with BG_CSV_TWICE on a stream that cannot seek: a copy of what
+                         ** was read, read again by _rewind (closed by _free); or NULL */
+    off_t start;         /* a seekable stream's position at the start */
+    int seekable, eof, spooling;
+    const char *data;    /* the bytes; [beg, end) is not yet taken */
+    char *buf;           /* a stream's buffer ('data'), 'cap' bytes */
+    size_t cap, beg, end, mem_len;
+    parser ps;
+    field f[MAX_COLS];
+    int map[MAX_COLS], nh;
+    bg_readings shape;   /* the header's columns, no readings */
+    bg_reading cur;
+    char *note;          /* 'cur.note' when it has one */
+    size_t note_cap;
+    char name[BG_NOTE];
+};
+
+enum { BLOCK = 65536 };
+
+/* More bytes into the buffer: what is not taken moves to the front, the buffer doubles when
+** a line fills it, and a copy goes to the spool when there is one. */
+static int refill(bg_csv_reader *rd, bg_error *err)
+{
+    size_t left = rd->end - rd->beg, got;
+    if (rd->beg > 0 && left > 0)
+        memmove(rd->buf, rd->buf + rd->beg, left);
+    rd->beg = 0, rd->end = left;
+    if (rd->cap - rd->end < BLOCK / 2) {
+        size_t cap = rd->cap ? 2 * rd->cap : BLOCK;
+        char *nb = realloc(rd->buf, cap);
+        if (!nb)
+            return bg_error_set(err, BG_ENOMEM, "out of memory reading '%s'", rd->name);
+        rd->buf = nb, rd->cap = cap;
+    }
+    rd->data = rd->buf;
+    got = fread(rd->buf + rd->end, 1, rd->cap - rd->end, rd->fp);
+    if (got == 0) {
+        if (ferror(rd->fp))
+            return bg_error_set(err, BG_EIO, "cannot read '%s': %s", rd->name, strerror(errno));
+        rd->eof = 1;
+    }
+    if (got > 0 && rd->spooling && fwrite(rd->buf + rd->end, 1, got, rd->spool) != got)
+        return bg_error_set(err, BG_EIO, "cannot keep a copy of '%s' to read it twice: %s",
+                            rd->name, strerror(errno));
+    rd->end += got;
+    return BG_OK;
+}
+
+/* The next line without its end ('\n', "\r\n" or a lone '\r'): 1, or 0 at the end of the
+** input, or -1 after setting the error. */
+static int next_line(bg_csv_reader *rd, const char **line, size_t *ll, bg_error *err)
+{
+    for (;;) {
+        const char *p = rd->data + rd->beg;
+        size_t avail = rd->end - rd->beg;
+        const char *nl = avail ? memchr(p, '\n', avail) : NULL;
+        size_t span = nl ? (size_t)(nl - p) : avail;
+        const char *cr = span ? memchr(p, '\r', span) : NULL;
+        if (cr) {
+            size_t k = (size_t)(cr - p);
+            if (k + 1 < avail || rd->eof) {
+                *line = p, *ll = k;
+                rd->beg += k + 1 + (k + 1 < avail && p[k + 1] == '\n');
+                return 1;
+            }
+        } else if (nl) {
+            *line = p, *ll = span;
+            rd->beg += span + 1;
+            return 1;
+        } else if (rd->eof) {
+            if (avail == 0)
+                return 0;
+            *line = p, *ll = avail;
+            rd->beg = rd->end;
+            return 1;
+        }
+        if (refill(rd, err) != BG_OK)
+            return -1;
+    }
+}
+
+/* The next line that is neither blank nor a comment ('*ll' 0 and 1 at the end of the input),
+** refused when it holds a NUL byte: 1, 0 at the end, -1 after setting the error. */
+static int next_content(bg_csv_reader *rd, const char **line, size_t *ll, bg_error *err)
+{
+    for (;;) {
+        int got = next_line(rd, line, ll, err);
+        size_t k = 0;
+        if (got <= 0)
+            return got;
+        rd->ps.line++;
+        while (k < *ll && ((*line)[k] == ' ' || (*line)[k] == '\t'))
+            k++;
+        if (k == *ll || (*line)[k] == '#')
+            continue;
+        if (memchr(*line, '\0', *ll)) {
+            bg_error_set(err, BG_EINVAL, "%s:%zu: contains a NUL byte: not a text file",
+                         rd->name, rd->ps.line);
+            return -1;
+        }
+        return 1;
+    }
+}
+
+/* From the start: past a UTF-8 byte order mark, up to and including the header line. */
+static int read_header(bg_csv_reader *rd, bg_error *err)
+{
+    int where_col[C_COUNT], got, rc;
+    const char *line;
+    size_t ll;
+    bg_readings *sh = &rd->shape;
+
+    rd->ps.line = 0;
+    rd->ps.err = err;
+    while (rd->fp && !rd->eof && rd->end - rd->beg < 3)
+        if ((rc = refill(rd, err)) != BG_OK)
+            return rc;
+    if (rd->end - rd->beg >= 3 && memcmp(rd->data + rd->beg, "\xEF\xBB\xBF", 3) == 0)
+        rd->beg += 3;
+    if ((got = next_content(rd, &line, &ll, err)) <= 0)
+        return got < 0 ? (err ? (int)err->code : BG_EINVAL)
+                       : bg_error_set(err, BG_EINVAL, "%s: no header line (an empty file?)",
+                                      rd->name);
+    rd->ps.delim = detect_delim(line, ll);
+    if (!rd->ps.delim)
+        return bg_error_set(err, BG_EINVAL, "%s:%zu: cannot tell the delimiter from the header "
+                            "(use one of comma, semicolon or tab)", rd->name, rd->ps.line);
+    rd->nh = split(&rd->ps, line, ll, rd->f, MAX_COLS);
+    if (rd->nh < 0)
+        return rd->ps.rc;
+    if ((rc = parse_header(&rd->ps, rd->f, rd->nh, rd->map, where_col)) != BG_OK)
+        return rc;
+    bg_readings_init(sh);
+    sh->delim = rd->ps.delim;
+    sh->t_unit = where_col[C_TEMP_C] >= 0 ? BG_UNIT_C
+               : where_col[C_TEMP_K] >= 0 ? BG_UNIT_K
+               : where_col[C_TEMP_F] >= 0 ? BG_UNIT_F : BG_UNIT_NONE;
+    sh->ref_ohms = where_col[C_REF_OHMS] >= 0;
+    sh->has_u_t = where_col[C_U_T] >= 0, sh->has_u_r = where_col[C_U_R] >= 0;
+    sh->has_time = where_col[C_TIME] >= 0, sh->has_note = where_col[C_NOTE] >= 0;
+    return BG_OK;
+}
+
+/* A reader of the stream 'fp' (NULL: the 'len' bytes at 'text'), its header read. */
+static int reader_new(FILE *fp, const char *text, size_t len, const char *name, int flags,
+                      bg_csv_reader **out, bg_error *err)
+{
+    bg_csv_reader *rd = calloc(1, sizeof *rd);
+    struct stat sb;
+    int rc;
+
+    *out = NULL;
+    if (!rd)
+        return bg_error_set(err, BG_ENOMEM, "out of memory reading '%s'", name);
+    snprintf(rd->name, sizeof rd->name, "%s", name);
+    rd->ps.name = rd->name;
+        if (fp) {
+        rd->fp = fp;
+        rd->start = ftello(fp);
+        rd->seekable = rd->start >= 0 && fstat(fileno(fp), &sb) == 0 && S_ISREG(sb.st_mode);
+        if ((flags & BG_CSV_TWICE) && !rd->seekable) {
+            if (!(rd->spool = tmpfile())) {
+                rc = bg_error_set(err, BG_EIO, "cannot make a temporary file to read '%s' "
+                                  "twice: %s", rd->name, strerror(errno));
+                bg_csv_reader_free(rd);
+                return rc;
+            }
+            rd->spooling = 1;
+        }
+    } else
+        rd->data = text, rd->end = rd->mem_len = len, rd->eof = 1;
+    if ((rc = read_header(rd, err)) != BG_OK) {
+        bg_csv_reader_free(rd);
+        return rc;
+    }
+    *out = rd;
+    return BG_OK;
+}
+
+int bg_csv_reader_new(FILE *fp, const char *name, int flags, bg_csv_reader **out,
+                      bg_error *err)
+{
+    return reader_new(fp, NULL, 0, name ? name : "-", flags, out, err);
+}
+
+int bg_csv_reader_open(const char *path, int flags, bg_csv_reader **out, bg_error *err)
+{
+    int is_stdin = strcmp(path, "-") == 0, rc;
+    FILE *fp = is_stdin ? stdin : fopen(path, "rb");
+
+    *out = NULL;
+    if (!fp)
+        return bg_error_set(err, BG_ENOENT, "cannot open '%s': %s", path, strerror(errno));
+    rc = reader_new(fp, NULL, 0, is_stdin ? "<stdin>" : path, flags, out, err);
+    if (rc == BG_OK)
+        (*out)->own = is_stdin ? NULL : fp;
+    else if (!is_stdin)
+        fclose(fp);
+    return rc;
+}
+
+void bg_csv_reader_free(bg_csv_reader *rd)
+{
+    if (!rd)
+        return;
+    if (rd->own)
+        fclose(rd->own);
+    if (rd->spool)
+        fclose(rd->spool);
+    free(rd->buf);
+    free(rd->ps.qbuf);
+    free(rd->note);
+    free(rd);
+}
+
+const bg_readings *bg_csv_reader_shape(const bg_csv_reader *rd)
+{
+    return &rd->shape;
+}
+
+const char *bg_csv_reader_name(const bg_csv_reader *rd)
+{
+    return rd->name;
+}
+
+int bg_csv_reader_rewind(bg_csv_reader *rd, bg_error *err)
+{
+    bg_readings was = rd->shape;
+    int map[MAX_COLS], nh = rd->nh, rc;
+
+    memcpy(map, rd->map, sizeof map);
+    if (rd->fp && !rd->seekable && !rd->spooling)
+        return bg_error_set(err, BG_EINVAL, "cannot read '%s' again: it cannot seek (a pipe) "
+                            "and was not opened to be read twice", rd->name);
+    if (rd->fp && rd->spooling) {
+        /* the rest of the input into the copy first, then the copy from its start */
+        while (!rd->eof) {
+            rd->beg = rd->end;
+            if ((rc = refill(rd, err)) != BG_OK)
+                return rc;
+        }
+        if (fflush(rd->spool) != 0 || fseeko(rd->spool, 0, SEEK_SET) != 0)
+            return bg_error_set(err, BG_EIO, "cannot read the copy of '%s' again: %s",
+                                rd->name, strerror(errno));
+        rd->fp = rd->spool, rd->spooling = 0, rd->seekable = 1, rd->start = 0;
+    } else if (rd->fp && fseeko(rd->fp, rd->start, SEEK_SET) != 0)
+        return bg_error_set(err, BG_EIO, "cannot read '%s' again: %s", rd->name,
+                            strerror(errno));
+    if (rd->fp) {
+        clearerr(rd->fp);
+        rd->beg = rd->end = 0, rd->eof = 0;
+    } else
+        rd->beg = 0, rd->end = rd->mem_len;
+    if ((rc = read_header(rd, err)) != BG_OK)
+        return rc;
+    if (rd->nh != nh || memcmp(map, rd->map, (size_t)nh * sizeof *map) != 0 ||
+        rd->shape.delim != was.delim)
+        return bg_error_set(err, BG_EIO, "'%s' changed while it was read", rd->name);
+    return BG_OK;
+}
+
+/* One value of a reading's row into 'r' (the note into the reader's buffer). */
+static int parse_field(bg_csv_reader *rd, const field *f, int c, bg_reading *r)
+{
+    parser *ps = &rd->ps;
+    const char *col = col_names[c];
+    double v = 0.0;
+    int rc;
+
+    if (c <= C_U_R && (rc = number(ps, f, col, &v)) != BG_OK)
+        return rc;
+    switch (c) {
+    case C_TEMP_C: case C_TEMP_K: case C_TEMP_F:
+        r->t_raw = v;
+        r->pt.t_k = bg_units_to_k(v, c == C_TEMP_C ? BG_UNIT_C : c == C_TEMP_K ? BG_UNIT_K
+                                                                               : BG_UNIT_F);
+        if (!(r->pt.t_k > 0.0))
+            return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field '%s': %.*s is at or below "
+                                "absolute zero", ps->name, ps->line, col, (int)f->len, f->s);
+        return BG_OK;
+    case C_REF_OHMS: case C_OHMS: case C_U_T:
+        if (!(v > 0.0))
+            return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field '%s': must be greater "
+                                "than 0", ps->name, ps->line, col);
+        if (c == C_REF_OHMS)
+            r->t_raw = v, r->pt.t_k = NAN; /* known once the reference's coefficients apply */
+        else if (c == C_OHMS)
+            r->pt.r_ohm = v;
+        else
+            r->pt.u_t_k = v;
+        return BG_OK;
+    case C_U_R:
+        if (!(v >= 0.0))
+            return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'u_ohms': must not be "
+                                "negative", ps->name, ps->line);
+        r->pt.u_r_ohm = v;
+        return BG_OK;
+    case C_TIME:
+        if (f->len >= sizeof r->time)
+            return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'time': too long", ps->name,
+                                ps->line);
+        memcpy(r->time, f->s, f->len);
+        r->time[f->len] = '\0';
+        if (f->len && !bg_csv_valid_time(r->time))
+            return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'time': not an ISO 8601 "
+                                "date-time: '%s'", ps->name, ps->line, r->time);
+        return BG_OK;
+    case C_NOTE:
+        if (!f->len)
+            return BG_OK;
+        if (memchr(f->s, '\0', f->len))
+            return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'note': contains a NUL "
+                                "byte", ps->name, ps->line);
+        if (bg_text_check("field 'note'", f->s, f->len, ps->err) != BG_OK) {
+            bg_error_prefix(ps->err, "%s:%zu", ps->name, ps->line);
+            return BG_EINVAL;
+        }
+        if (rd->note_cap < f->len + 1) {
+            char *nb = realloc(rd->note, f->len + 1);
+            if (!nb)
+                return bg_error_set(ps->err, BG_ENOMEM, "out of memory");
+            rd->note = nb, rd->note_cap = f->len + 1;
+        }
+        memcpy(rd->note, f->s, f->len);
+        rd->note[f->len] = '\0';
+        r->note = rd->note;
+        return BG_OK;
+    default:
+        return BG_OK;
+    }
+}
+
+/* The row of 'nf' fields just split into 'rd->cur'. */
+static int parse_row(bg_csv_reader *rd, int nf)
+{
+    bg_reading *r = &rd->cur;
+    parser *ps = &rd->ps;
+
+    memset(r, 0, sizeof *r);
+    r->pt.line = ps->line;
+    if (nf != rd->nh)
+        return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: %d field%s, but the header has %d",
+                            ps->name, ps->line, nf, nf == 1 ? "" : "s", rd->nh);
+    for (int i = 0; i < nf; i++) {
+        int rc = parse_field(rd, &rd->f[i], rd->map[i], r);
+        if (rc != BG_OK)
+            return rc;
+    }
+    return BG_OK;
+}
+
+int bg_csv_reader_next(bg_csv_reader *rd, const bg_reading **r, bg_error *err)
+{
+    const char *line;
+    size_t ll;
+    int got, nf, rc;
+
+    *r = NULL;
+    rd->ps.err = err;
+    if ((got = next_content(rd, &line, &ll, err)) < 0)
+        return err ? (int)err->code : BG_EINVAL;
+    if (got == 0)
+        return BG_OK;
+    if ((nf = split(&rd->ps, line, ll, rd->f, MAX_COLS)) < 0)
+        return rd->ps.rc;
+    if ((rc = parse_row(rd, nf)) != BG_OK)
+        return rc;
+    *r = &rd->cur;
+    return BG_OK;
+}
+
 static int push(bg_readings *out, const bg_reading *r)
 {
+    bg_reading *slot;
     if (out->n == out->cap) {
         size_t cap = out->cap ? 2 * out->cap : 64;
         bg_reading *v = realloc(out->v, cap * sizeof *v);
@@ -266,229 +646,61 @@ static int push(bg_readings *out, const bg_reading *r)
             return BG_ENOMEM;
         out->v = v, out->cap = cap;
     }
-    out->v[out->n++] = *r;
+    slot = &out->v[out->n];
+    *slot = *r;
+    if (r->note) {
+        size_t len = strlen(r->note) + 1;
+        if (!(slot->note = malloc(len)))
+            return BG_ENOMEM;
+        memcpy(slot->note, r->note, len);
+    }
+    out->n++;
     return BG_OK;
 }
 
-static int parse_row(parser *ps, const field *f, int nf, int nh, const int *map,
-                     bg_readings *out)
+/* Every reading of 'rd' into 'out' (left empty on error). */
+static int read_all(bg_csv_reader *rd, bg_readings *out, bg_error *err)
 {
-    bg_reading r;
-    memset(&r, 0, sizeof r);
-    r.pt.line = ps->line;
-    if (nf != nh)
-        return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: %d field%s, but the header has %d",
-                            ps->name, ps->line, nf, nf == 1 ? "" : "s", nh);
-    for (int i = 0; i < nf; i++) {
-        const char *col = col_names[map[i]];
-        double v;
-        switch (map[i]) {
-        case C_TEMP_C: case C_TEMP_K: case C_TEMP_F: {
-            bg_temp_unit u = map[i] == C_TEMP_C ? BG_UNIT_C
-                           : map[i] == C_TEMP_K ? BG_UNIT_K : BG_UNIT_F;
-            if (number(ps, &f[i], col, &v) != BG_OK)
-                return BG_EINVAL;
-            r.t_raw = v;
-            r.pt.t_k = bg_units_to_k(v, u);
-            if (!(r.pt.t_k > 0.0))
-                return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field '%s': %.*s is at or "
-                                    "below absolute zero", ps->name, ps->line, col,
-                                    (int)f[i].len, f[i].s);
+    const bg_reading *r;
+    int rc;
+
+    *out = rd->shape;
+    for (;;) {
+        if ((rc = bg_csv_reader_next(rd, &r, err)) != BG_OK)
             break;
-        }
-        case C_REF_OHMS:
-            if (number(ps, &f[i], col, &v) != BG_OK)
-                return BG_EINVAL;
-            if (!(v > 0.0))
-                return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'ref_ohms': must be "
-                                    "greater than 0", ps->name, ps->line);
-            r.t_raw = v;
-            r.pt.t_k = NAN; /* known only once the reference's coefficients are applied */
-            break;
-        case C_OHMS:
-            if (number(ps, &f[i], col, &v) != BG_OK)
-                return BG_EINVAL;
-            if (!(v > 0.0))
-                return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'ohms': must be "
-                                    "greater than 0", ps->name, ps->line);
-            r.pt.r_ohm = v;
-            break;
-        case C_U_T:
-            if (number(ps, &f[i], col, &v) != BG_OK)
-                return BG_EINVAL;
-            if (!(v > 0.0))
-                return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'u_temp_k': must be "
-                                    "greater than 0", ps->name, ps->line);
-            r.pt.u_t_k = v;
-            break;
-        case C_U_R:
-            if (number(ps, &f[i], col, &v) != BG_OK)
-                return BG_EINVAL;
-            if (!(v >= 0.0))
-                return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'u_ohms': must not "
-                                    "be negative", ps->name, ps->line);
-            r.pt.u_r_ohm = v;
-            break;
-        case C_TIME:
-            if (f[i].len >= sizeof r.time)
-                return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'time': too long",
-                                    ps->name, ps->line);
-            memcpy(r.time, f[i].s, f[i].len);
-            r.time[f[i].len] = '\0';
-            if (f[i].len && !bg_csv_valid_time(r.time))
-                return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'time': not an ISO "
-                                    "8601 date-time: '%s'", ps->name, ps->line, r.time);
-            break;
-        case C_NOTE:
-            if (f[i].len) {
-                r.note = malloc(f[i].len + 1);
-                if (!r.note)
-                    return bg_error_set(ps->err, BG_ENOMEM, "out of memory");
-                memcpy(r.note, f[i].s, f[i].len);
-                r.note[f[i].len] = '\0';
-                if (memchr(r.note, '\0', f[i].len)) {
-                    free(r.note);
-                    return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'note': contains "
-                                        "a NUL byte", ps->name, ps->line);
-                }
-            }
-            break;
-        default:
+        if (!r)
+            return BG_OK;
+        if (push(out, r) != BG_OK) {
+            rc = bg_error_set(err, BG_ENOMEM, "out of memory reading '%s'", rd->name);
             break;
         }
     }
-    if (push(out, &r) != BG_OK) {
-        free(r.note);
-        return bg_error_set(ps->err, BG_ENOMEM, "out of memory reading '%s'", ps->name);
-    }
-    return BG_OK;
+    bg_readings_release(out);
+    return rc;
 }
 
 int bg_csv_parse(const char *text, size_t len, const char *name, bg_readings *out,
                  bg_error *err)
 {
-    parser ps = { name ? name : "-", 0, 0, NULL, 0, err };
-    field f[MAX_COLS];
-    int map[MAX_COLS], where_col[C_COUNT], nh = 0, rc = BG_OK;
-    size_t pos = 0;
+    bg_csv_reader *rd = NULL;
+    int rc;
 
     bg_readings_init(out);
-    if (len >= 3 && memcmp(text, "\xEF\xBB\xBF", 3) == 0)
-        pos = 3;
-    {
-        /* Size the array once: at most one reading per line. */
-        size_t lines = 1;
-        for (const char *p = text; (p = memchr(p, '\n', len - (size_t)(p - text))); p++)
-            lines++;
-        out->v = malloc(lines * sizeof *out->v);
-        if (!out->v)
-            return bg_error_set(err, BG_ENOMEM, "out of memory reading '%s'", ps.name);
-        out->cap = lines;
-    }
-    while (pos < len) {
-        const char *line = text + pos, *nl = memchr(line, '\n', len - pos);
-        size_t ll = nl ? (size_t)(nl - line) : len - pos, k = 0;
-        pos += ll + (nl ? 1 : 0);
-        ps.line++;
-        if (ll > 0 && line[ll - 1] == '\r')
-            ll--;
-        while (k < ll && (line[k] == ' ' || line[k] == '\t'))
-            k++;
-        if (k == ll || line[k] == '#')
-            continue;
-        if (memchr(line, '\0', ll)) {
-            rc = bg_error_set(err, BG_EINVAL, "%s:%zu: contains a NUL byte: not a text file",
-                              ps.name, ps.line);
-            goto fail;
-        }
-        if (nh == 0) {
-            ps.delim = detect_delim(line, ll);
-            if (!ps.delim) {
-                rc = bg_error_set(err, BG_EINVAL, "%s:%zu: cannot tell the delimiter from the "
-                                  "header (use one of comma, semicolon or tab)", ps.name,
-                                  ps.line);
-                goto fail;
-            }
-            nh = split(&ps, line, ll, f, MAX_COLS);
-            if (nh < 0 || (rc = parse_header(&ps, f, nh, map, where_col)) != BG_OK) {
-                rc = nh < 0 ? (err ? (int)err->code : BG_EINVAL) : rc;
-                goto fail;
-            }
-            out->delim = ps.delim;
-            out->t_unit = where_col[C_TEMP_C] >= 0 ? BG_UNIT_C
-                        : where_col[C_TEMP_K] >= 0 ? BG_UNIT_K
-                        : where_col[C_TEMP_F] >= 0 ? BG_UNIT_F : BG_UNIT_NONE;
-            out->ref_ohms = where_col[C_REF_OHMS] >= 0;
-            out->has_u_t = where_col[C_U_T] >= 0, out->has_u_r = where_col[C_U_R] >= 0;
-            out->has_time = where_col[C_TIME] >= 0, out->has_note = where_col[C_NOTE] >= 0;
-            continue;
-        }
-        int nf = split(&ps, line, ll, f, MAX_COLS);
-        if (nf < 0) {
-            rc = err ? (int)err->code : BG_EINVAL;
-            goto fail;
-        }
-        if ((rc = parse_row(&ps, f, nf, nh, map, out)) != BG_OK)
-            goto fail;
-    }
-    free(ps.qbuf);
-    if (nh == 0) {
-        bg_readings_release(out);
-        return bg_error_set(err, BG_EINVAL, "%s: no header line (an empty file?)", ps.name);
-    }
-    return BG_OK;
-fail:
-    free(ps.qbuf);
-    bg_readings_release(out);
-    return rc ? rc : BG_EINVAL;
+    if ((rc = reader_new(NULL, text, len, name ? name : "-", 0, &rd, err)) == BG_OK)
+        rc = read_all(rd, out, err);
+    bg_csv_reader_free(rd);
+    return rc;
 }
 
 int bg_csv_read_file(const char *path, bg_readings *out, bg_error *err)
 {
-    FILE *fp = strcmp(path, "-") == 0 ? stdin : fopen(path, "rb");
-    char *buf = NULL;
-    size_t len = 0, cap = 0;
-    int rc = BG_OK;
+    bg_csv_reader *rd = NULL;
+    int rc;
 
     bg_readings_init(out);
-    if (!fp)
-        return bg_error_set(err, BG_ENOENT, "cannot open '%s': %s", path, strerror(errno));
-    {
-        /* A regular file is read into one buffer of its size; pipes grow as they come. */
-        struct stat sb;
-        if (fstat(fileno(fp), &sb) == 0 && S_ISREG(sb.st_mode) && sb.st_size > 0) {
-            cap = (size_t)sb.st_size + 65536 + 1;
-            buf = malloc(cap);
-            if (!buf) {
-                rc = bg_error_set(err, BG_ENOMEM, "out of memory reading '%s'", path);
-                goto done;
-            }
-        }
-    }
-    for (;;) {
-        if (cap - len < 65536) {
-            size_t nc = cap ? 2 * cap : 131072;
-            char *nb = realloc(buf, nc);
-            if (!nb) {
-                rc = bg_error_set(err, BG_ENOMEM, "out of memory reading '%s'", path);
-                goto done;
-            }
-            buf = nb, cap = nc;
-        }
-        size_t got = fread(buf + len, 1, cap - len, fp);
-        len += got;
-        if (got == 0)
-            break;
-    }
-    if (ferror(fp)) {
-        rc = bg_error_set(err, BG_EIO, "cannot read '%s': %s", path, strerror(errno));
-        goto done;
-    }
-    rc = bg_csv_parse(buf, len, strcmp(path, "-") == 0 ? "<stdin>" : path, out, err);
-done:
-    free(buf);
-    if (fp != stdin)
-        fclose(fp);
+    if ((rc = bg_csv_reader_open(path, 0, &rd, err)) == BG_OK)
+        rc = read_all(rd, out, err);
+    bg_csv_reader_free(rd);
     return rc;
 }
 

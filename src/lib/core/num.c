@@ -11,8 +11,16 @@ static int is_digit(char c) { return c >= '0' && c <= '9'; }
 
 size_t bgi_num_scan(const char *s, size_t len, char dec_mark, double *v)
 {
-    char buf[128];
+    return bgi_num_scan_finite(s, len, dec_mark, v, NULL);
+}
+
+size_t bgi_num_scan_finite(const char *s, size_t len, char dec_mark, double *v, int *overflow)
+{
+    char small[128], *buf = small;
     size_t i = 0, nd = 0;
+
+    if (overflow)
+        *overflow = 0;
 
     if (i < len && (s[i] == '+' || s[i] == '-'))
         i++;
@@ -36,8 +44,6 @@ size_t bgi_num_scan(const char *s, size_t len, char dec_mark, double *v)
         if (ne > 0)
             i = j;
     }
-    if (i >= sizeof buf)
-        return 0;
     {
         /* Exact fast path (Clinger, "How to read floating point numbers accurately", PLDI
         ** 1990): a decimal with at most 15 significant digits and a power of ten up to 22 is
@@ -74,6 +80,9 @@ size_t bgi_num_scan(const char *s, size_t len, char dec_mark, double *v)
             return i;
         }
     }
+    /* A decimal of any length is read: a long one in a copy of its own size. */
+    if (i >= sizeof small && !(buf = malloc(i + 1)))
+        return 0;
     memcpy(buf, s, i);
     buf[i] = '\0';
     if (dec_mark != '.') {
@@ -82,7 +91,12 @@ size_t bgi_num_scan(const char *s, size_t len, char dec_mark, double *v)
             *p = '.';
     }
     *v = strtod(buf, NULL);
-    if (!isfinite(*v))
+    if (buf != small)
+        free(buf);
+    if (!isfinite(*v)) {
+        if (overflow)
+            *overflow = 1;
         return 0;
+    }
     return i;
 }

@@ -22,6 +22,13 @@ static int match_word(const char *s, const char *word)
     return strncmp(s, word, n) == 0 && *skip_space(s + n) == '\0';
 }
 
+/* The message for a well-formed decimal beyond the largest finite double, such as "1e999". */
+static int too_large(const char *s, bg_error *err)
+{
+    return bg_error_set(err, BG_EINVAL, "'%s': the number is beyond the largest finite value "
+                        "(about 1.8e308)", s);
+}
+
 /* Recognise a temperature unit word that fills the rest of 's'. */
 static bg_temp_unit unit_word(const char *s)
 {
@@ -79,9 +86,12 @@ int bg_units_parse_temp(const char *s, bg_temp_unit default_unit, double *t_k, b
 {
     const char *p = skip_space(s);
     double v, k;
-    size_t n = bgi_num_scan(p, strlen(p), '.', &v);
+    int over;
+    size_t n = bgi_num_scan_finite(p, strlen(p), '.', &v, &over);
     bg_temp_unit u;
 
+    if (over)
+        return too_large(s, err);
     if (n == 0)
         return bg_error_set(err, BG_EINVAL, "'%s': not a temperature", s);
     p = skip_space(p + n);
@@ -109,8 +119,11 @@ static int parse_difference(const char *s, int sign_ok, double *dt_k, bg_error *
 {
     const char *p = skip_space(s);
     double v, scale;
-    size_t n = bgi_num_scan(p, strlen(p), '.', &v);
+    int over;
+    size_t n = bgi_num_scan_finite(p, strlen(p), '.', &v, &over);
 
+    if (over)
+        return too_large(s, err);
     if (n == 0)
         return bg_error_set(err, BG_EINVAL, "'%s': not a temperature difference", s);
     p = skip_space(p + n);
@@ -175,12 +188,15 @@ int bg_units_parse_ohms(const char *s, double *r_ohm, bg_error *err)
     const char *p = skip_space(s);
     size_t trim = strlen(p), len, n;
     double v = 0.0, scale = 1.0;
+    int over;
 
     while (trim > 0 && (p[trim - 1] == ' ' || p[trim - 1] == '\t'))
         trim--;
     len = strip_ohm_word(p, trim);
 
-    n = bgi_num_scan(p, len, '.', &v);
+    n = bgi_num_scan_finite(p, len, '.', &v, &over);
+    if (over)
+        return too_large(s, err);
     if (n == 0)
         return bg_error_set(err, BG_EINVAL, "'%s': not a resistance", s);
     if (n == len && len == trim) /* no prefix, no R, no ohm word */
@@ -228,7 +244,9 @@ int bg_units_parse_ohms(const char *s, double *r_ohm, bg_error *err)
         }
     }
     v *= scale;
-    if (!(v > 0.0) || !isfinite(v))
+    if (!isfinite(v))
+        return too_large(s, err);
+    if (!(v > 0.0))
         return bg_error_set(err, BG_EINVAL, "'%s': resistance must be greater than zero", s);
     *r_ohm = v;
     return BG_OK;
@@ -240,8 +258,11 @@ int bg_units_parse_fraction(const char *s, double *frac, bg_error *err)
     static const char forms[] = "% or ppm (e.g. 1%, 0.05% or 250ppm)";
     const char *p = skip_space(s);
     double v, scale;
-    size_t n = bgi_num_scan(p, strlen(p), '.', &v);
+    int over;
+    size_t n = bgi_num_scan_finite(p, strlen(p), '.', &v, &over);
 
+    if (over)
+        return too_large(s, err);
     if (n == 0)
         return bg_error_set(err, BG_EINVAL, "'%s': not a relative value with its unit, %s", s,
                             forms);
@@ -285,9 +306,11 @@ int bg_units_parse_si(const char *s, const char *unit, double *v, bg_error *err)
 {
     const char *p = skip_space(s);
     double x;
-    int e = 0;
-    size_t n = bgi_num_scan(p, strlen(p), '.', &x), k;
+    int e = 0, over;
+    size_t n = bgi_num_scan_finite(p, strlen(p), '.', &x, &over), k;
 
+    if (over)
+        return too_large(s, err);
     if (n == 0)
         return bg_error_set(err, BG_EINVAL, "'%s': not a value in %s", s, unit);
     p = skip_space(p + n);
@@ -299,7 +322,9 @@ int bg_units_parse_si(const char *s, const char *unit, double *v, bg_error *err)
                             "after an SI prefix p, n, u, m, k, M or G)", s, p, unit);
     /* divide by an exact power of ten for the small prefixes, so that 10uA is the double 1e-5 */
     x = e < 0 ? x / pow(10.0, -e) : x * pow(10.0, e);
-    if (!(x > 0.0) || !isfinite(x))
+    if (!isfinite(x))
+        return too_large(s, err); /* "1e305GV" */
+    if (!(x > 0.0))
         return bg_error_set(err, BG_EINVAL, "'%s': must be greater than zero", s);
     *v = x;
     return BG_OK;
@@ -332,7 +357,9 @@ char *bg_units_format_temp(double t_k, bg_temp_unit unit, int decimals, char *bu
 
 char *bg_units_format_ohms(double r_ohm, int sig, char *buf, size_t size)
 {
-    int mag = r_ohm > 0.0 ? (int)floor(log10(r_ohm)) : 0;
+    /* Only a finite positive value has a magnitude: converting log10(inf) to int is undefined
+    ** behaviour.  Callers refuse non-finite values before they print. */
+    int mag = r_ohm > 0.0 && isfinite(r_ohm) ? (int)floor(log10(r_ohm)) : 0;
     int dec = sig - 1 - mag;
     if (dec < 0)
         dec = 0;

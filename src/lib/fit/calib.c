@@ -443,8 +443,26 @@ struct lot_prior {
     int oom;               /* a list could not grow: the pass must not go on */
 };
 
+/* Probes waiting to be fitted as one batch (a named model): the same number of points each,
+** their rows, runs, points and reading ids copied, since the store's are valid during its
+** callback only.  The buffers grow to LOT_BATCH probes once and are reused. */
+#define LOT_BATCH 256
+struct lot_batch {
+    size_t count, n;             /* probes waiting, points each */
+    size_t row[LOT_BATCH];       /* their rows in the lot */
+    long long run[LOT_BATCH];
+    char source[LOT_BATCH][32];  /* "run N" */
+    const char *sources[LOT_BATCH];
+    bg_point *pts;               /* LOT_BATCH * cap_n */
+    long long *ids;
+    size_t cap_n;
+    bg_fit fits[LOT_BATCH];
+    bg_error errs[LOT_BATCH];
+};
+
 struct lot_pass {
     struct lot_prior prior;
+    struct lot_batch *batch;     /* NULL: "auto", one probe at a time */
     bg_store *st;
     const bg_calib_request *rq;
     bg_fit_opts o;
@@ -583,6 +601,94 @@ static int lot_store_one(struct lot_pass *lp, long long run_id, const bg_store_p
     return bg_store_fit_queue(lp->st, run_id, &lp->one.fit, sp->ids, &row->fit_id, lp->err);
 }
 
+/* The probe of row 'ri' fitted into lp->one.fit: its notes, its fit queued, the row. */
+static int lot_fitted(struct lot_pass *lp, size_t ri, long long run_id, const bg_point *pts,
+                      size_t n, const long long *ids)
+{
+    bg_calib_lot *out = lp->out;
+    bg_calib_lot_row *row = &out->rows[ri];
+    bg_store_points sp = { (bg_point *)pts, (long long *)ids, n, n };
+    row->status = BG_CALIB_FITTED;
+    const bg_run *od = lp->prior.noverdue ? bsearch(&run_id, lp->prior.overdue,
+                                                     lp->prior.noverdue,
+                                                     sizeof *lp->prior.overdue, cmp_id)
+                                          : NULL;
+    if ((od && (lp->rc = note_ref_overdue(&lp->one, od, lp->err)) != BG_OK) ||
+        (lp->rc = lot_notes(out, row, &lp->one.fit, lp->err)) != BG_OK ||
+        (lp->rc = lot_store_one(lp, run_id, &sp, row)) != BG_OK)
+        return 1;
+    derive_brief(&lp->one, pts, n, lp->rq, out->lot.pair_t1_k, out->lot.pair_t2_k);
+    row->model = lp->one.fit.model;
+    row->npar = lp->one.fit.npar, row->n = lp->one.fit.n;
+    row->rms_mk = lp->one.fit.rms_mk, row->max_abs_mk = lp->one.fit.max_abs_mk;
+    row->u_max_k = lp->one.u_max_k;
+    row->cover = lp->one.cover, row->U_max_k = lp->one.U_max_k;
+    row->r25_ohm = lp->one.r25_ohm, row->b_k = lp->one.b_pair_k;
+    row->b_extrapolated = lp->one.b_pair_extrapolated;
+    out->nfitted++;
+    return 0;
+}
+
+/* Fit the probes waiting in the batch, then finish each in order as a probe fitted alone.
+** Returns non-zero to stop the pass (an error in 'lp->rc'). */
+static int lot_flush(struct lot_pass *lp)
+{
+    struct lot_batch *b = lp->batch;
+    size_t count = b->count;
+    b->count = 0;
+    if (count == 0)
+        return 0;
+    if (bg_fitter_run_batch(lp->fr, b->pts, count, b->n, &lp->o, b->sources, b->fits,
+                            b->errs) != BG_OK)
+        return (lp->rc = bg_error_set(lp->err, BG_ENOMEM, "out of memory")) != BG_OK;
+    for (size_t k = 0; k < count; k++) {
+        int stop;
+        if (b->errs[k].code != BG_OK) {
+            if (lot_failed(lp, &lp->out->rows[b->row[k]], &b->errs[k]) != 0)
+                return 1;
+            continue;
+        }
+        /* the batch's fit takes the place of the single result's, buffers and all */
+        bg_fit t = lp->one.fit;
+        lp->one.fit = b->fits[k], b->fits[k] = t;
+        stop = lot_fitted(lp, b->row[k], b->run[k], b->pts + k * b->n, b->n,
+                          b->ids + k * b->n);
+        t = lp->one.fit, lp->one.fit = b->fits[k], b->fits[k] = t;
+        if (stop)
+            return 1;
+    }
+    return 0;
+}
+
+/* Queue a probe for the batch (flushing first when it is full or of another shape). */
+static int lot_enqueue(struct lot_pass *lp, size_t ri, long long run_id,
+                       const bg_store_points *sp)
+{
+    struct lot_batch *b = lp->batch;
+    if (b->count && (b->count == LOT_BATCH || b->n != sp->n) && lot_flush(lp) != 0)
+        return 1;
+    if (sp->n > b->cap_n) {
+        bg_point *p = grow(b->pts, LOT_BATCH * sp->n, sizeof *p);
+        if (p)
+            b->pts = p;
+        long long *ids = grow(b->ids, LOT_BATCH * sp->n, sizeof *ids);
+        if (ids)
+            b->ids = ids;
+        if (!p || !ids)
+            return (lp->rc = bg_error_set(lp->err, BG_ENOMEM, "out of memory")) != BG_OK;
+        b->cap_n = sp->n;
+    }
+    size_t k = b->count++;
+    b->n = sp->n, b->row[k] = ri, b->run[k] = run_id;
+    snprintf(b->source[k], sizeof b->source[k], "run %lld", run_id);
+    b->sources[k] = b->source[k];
+    if (sp->n) {
+        memcpy(b->pts + k * sp->n, sp->pts, sp->n * sizeof *sp->pts);
+        memcpy(b->ids + k * sp->n, sp->ids, sp->n * sizeof *sp->ids);
+    }
+    return 0;
+}
+
 static int lot_probe(const char *serial, long long probe_id, long long run_id,
                      bg_store_points *sp, void *p)
 {
@@ -607,42 +713,39 @@ static int lot_probe(const char *serial, long long probe_id, long long run_id,
         out->nnoruns++;
         return 0;
     }
-    snprintf(source, sizeof source, "run %lld", run_id);
     apply_default_u(sp->pts, sp->n, lp->rq->u_t_default_k);
+    if (lp->batch)
+        return lot_enqueue(lp, out->nrows - 1, run_id, sp);
+    snprintf(source, sizeof source, "run %lld", run_id);
     lp->o.source = source;
     if (fit_model(lp->fr, sp->pts, sp->n, &lp->o, lp->is_auto, 0, &lp->one, &e2) != BG_OK)
         return lot_failed(lp, row, &e2) != 0;
-    row->status = BG_CALIB_FITTED;
-    const bg_run *od = lp->prior.noverdue ? bsearch(&run_id, lp->prior.overdue,
-                                                     lp->prior.noverdue,
-                                                     sizeof *lp->prior.overdue, cmp_id)
-                                          : NULL;
-    if ((od && (lp->rc = note_ref_overdue(&lp->one, od, lp->err)) != BG_OK) ||
-        (lp->rc = lot_notes(out, row, &lp->one.fit, lp->err)) != BG_OK ||
-        (lp->rc = lot_store_one(lp, run_id, sp, row)) != BG_OK)
-        return 1;
-    derive_brief(&lp->one, sp->pts, sp->n, lp->rq, out->lot.pair_t1_k, out->lot.pair_t2_k);
-    row->model = lp->one.fit.model;
-    row->npar = lp->one.fit.npar, row->n = lp->one.fit.n;
-    row->rms_mk = lp->one.fit.rms_mk, row->max_abs_mk = lp->one.fit.max_abs_mk;
-    row->u_max_k = lp->one.u_max_k;
-    row->cover = lp->one.cover, row->U_max_k = lp->one.U_max_k;
-    row->r25_ohm = lp->one.r25_ohm, row->b_k = lp->one.b_pair_k;
-    row->b_extrapolated = lp->one.b_pair_extrapolated;
-    out->nfitted++;
-    return 0;
+    return lot_fitted(lp, out->nrows - 1, run_id, sp->pts, sp->n, sp->ids);
 }
 
 /* The pass over the lot inside the open transaction, and the verdict on it. */
 static int lot_pass_run(struct lot_pass *lp, const char *lot_code)
 {
     int rc = bg_store_lot_points_each(lp->st, lot_code, lot_probe, lp, lp->err);
+    if (rc == BG_OK && lp->rc == BG_OK && lp->batch)
+        lot_flush(lp);
     if (rc == BG_OK && lp->rc != BG_OK)
         rc = lp->rc;
     if (rc == BG_OK && lp->out->nfailed)
         rc = bg_error_set(lp->err, BG_EINVAL, "lot '%s': %zu of %zu probes could not be "
                           "fitted; nothing was stored", lot_code, lp->out->nfailed, lp->nprobes);
     return rc;
+}
+
+static void lot_batch_free(struct lot_batch *b)
+{
+    if (!b)
+        return;
+    for (size_t k = 0; k < LOT_BATCH; k++)
+        bg_fit_release(&b->fits[k]);
+    free(b->pts);
+    free(b->ids);
+    free(b);
 }
 
 int bg_calibrate_lot(bg_store *st, const char *lot_code, const bg_calib_request *rq,
@@ -658,8 +761,11 @@ int bg_calibrate_lot(bg_store *st, const char *lot_code, const bg_calib_request 
     bg_calib_result_init(&lp.one);
     if ((rc = request_opts(rq, &lp.o, &lp.is_auto, err)) != BG_OK)
         return rc;
-    if (!(lp.fr = bg_fitter_new()))
+    if (!(lp.fr = bg_fitter_new()) || (!lp.is_auto && !(lp.batch = calloc(1, sizeof *lp.batch))))
+    {
+        bg_fitter_free(lp.fr);
         return bg_error_set(err, BG_ENOMEM, "out of memory");
+    }
     if ((rc = bg_store_lot_get(st, lot_code, &out->lot, err)) != BG_OK)
         goto done;
     if (out->lot.nprobes == 0) {
@@ -685,6 +791,7 @@ done:
         out->rows[i].fit_id = 0, out->rows[i].identical = 0;
     bg_calib_result_release(&lp.one);
     bg_fitter_free(lp.fr);
+    lot_batch_free(lp.batch);
     lot_prior_release(&lp.prior);
     return rc;
 }

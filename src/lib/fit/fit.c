@@ -21,22 +21,9 @@
 
 #define MAXB BG_MODEL_MAXPAR
 
-#define NCRIT 64
-
 /* The chi2 test's tail probability on either side: a fit whose chi2 has p < CHI2_TAIL, or
 ** p > 1 - CHI2_TAIL, against the stated uncertainties gets a warning. */
 #define CHI2_TAIL 0.01
-
-struct bg_fitter {
-    size_t cap;
-    double crit[NCRIT];  /* chi2 above which p < 0.01, by degrees of freedom (0: not known) */
-    double crit_lo[NCRIT]; /* chi2 below which p > 0.99, by degrees of freedom (0: not known) */
-    double *L, *u, *A, *b, *tm;
-    double *G;          /* basis rows L_i^k, n x nb, computed once per fit */
-    struct tsort { double t, r; size_t i; } *sorted;
-    double *lev;        /* leverages h_i of the last fit, for the leave-one-out residuals */
-    int lev_one_step;   /* 1: lev[] from the Gauss-Newton Jacobian (refined fit); 0: linear */
-};
 
 bg_fit_opts bg_fit_default_opts(const bg_model *model)
 {
@@ -86,7 +73,7 @@ void bg_fitter_free(bg_fitter *fr)
     if (!fr)
         return;
     free(fr->L), free(fr->u), free(fr->A), free(fr->b), free(fr->tm), free(fr->G);
-    free(fr->sorted), free(fr->lev);
+    free(fr->sorted), free(fr->lev), free(fr->batch);
     free(fr);
 }
 
@@ -499,20 +486,14 @@ static void chi2_notes(bg_fitter *fr, const bg_fit_opts *o, bg_fit *out)
     }
 }
 
-/* A non-finite coefficient or covariance after a fit the data passed is a failure of the
-** fitter, never a result. */
+/* A coefficient or covariance that is not finite is never a result: finite readings can still
+** overflow (resistances near 1e308 ohm), and the message names what overflowed. */
 static int check_finite(const bg_fit *out, const char *name, bg_error *err)
 {
-    for (size_t i = 0; i < out->npar; i++)
-        if (!isfinite(out->model.coef[i]))
-            return bg_error_set(err, BG_EINTERNAL, "model '%s': coefficient %zu came out "
-                                "as %g: internal error, the fit is not used", name, i + 1,
-                                out->model.coef[i]);
-    for (size_t i = 0; out->dof > 0 && i < out->npar * out->npar; i++)
-        if (!isfinite(out->cov[i]))
-            return bg_error_set(err, BG_EINTERNAL, "model '%s': the covariance came out "
-                                "non-finite: internal error, the fit is not used", name);
-    return BG_OK;
+    int rc = bg_model_check_finite(&out->model, out->dof > 0 ? out->cov : NULL, err);
+    if (rc != BG_OK)
+        bg_error_prefix(err, "model '%s'", name);
+    return rc;
 }
 
 /* The curve must stay monotonic over the calibrated range.  Where f' is monotonic in L > 0
@@ -645,16 +626,12 @@ static void fit_coefficients(const bg_linfit *lf, const unsigned *pw, size_t nb,
         out->model.coef[j] = 0.0;
 }
 
-int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
-                  bg_fit *out, bg_error *err)
+int bgi_fit_check(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                  int *weighted, bg_fit *out, bg_error *err)
 {
     char name[16];
     unsigned pw[MAXB];
     size_t nb = bg_model_basis(&o->model, pw), npar = bg_model_npar(&o->model);
-    bg_linfit lf;
-    double a[MAXB];
-    int weighted = 0, rc;
-    unsigned iters = 0;
 
     bg_model_name(&o->model, name, sizeof name);
     if (nb == 0)
@@ -666,25 +643,29 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
     if (fitter_reserve(fr, n) != BG_OK || fit_reserve(out, n) != BG_OK)
         return bg_error_set(err, BG_ENOMEM, "out of memory fitting %zu points", n);
     out->nnotes = 0;
-    if ((rc = check_points(fr, pts, n, o, &weighted, out, err)) != BG_OK ||
-        (rc = fit_start(fr, pts, n, o, weighted, &lf, err)) != BG_OK)
-        return rc;
-    if (o->refine) {
-        if (refine(fr, pts, n, nb, o, &lf, &iters) != BG_OK)
-            return bg_error_set(err, BG_ENUM, "model '%s': refinement did not converge in %u "
-                                "iterations", name, o->max_iter);
-    } else if (!isfinite(t_chi2(fr, pts, n, nb, lf.c)))
-        return bg_error_set(err, BG_ENUM, "model '%s': fitted curve gives 1/T <= 0 at a point",
-                            name);
+    return check_points(fr, pts, n, o, weighted, out, err);
+}
 
-    /* Results.  fr->tm holds the fitted temperatures; lf.cov the unscaled covariance. */
+int bgi_fit_finish(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                   const struct bgi_solution *sol, bg_fit *out, bg_error *err)
+{
+    const bg_linfit *lf = &sol->lf;
+    int weighted = sol->weighted;
+    char name[16];
+    unsigned pw[MAXB];
+    size_t nb = bg_model_basis(&o->model, pw), npar = bg_model_npar(&o->model);
+    double a[MAXB];
+    int rc;
+
+    bg_model_name(&o->model, name, sizeof name);
     out->model = o->model;
     out->n = n, out->npar = npar, out->dof = n - npar, out->weighted = weighted;
-    out->iterations = iters, out->rcond = lf.rcond;
+    out->iterations = sol->iters, out->rcond = lf->rcond;
     fit_statistics(fr, pts, n, o, weighted, out);
-    fit_coefficients(&lf, pw, nb, a, out);
-    studentize(fr, pts, o, &lf, nb, out);
-    leverages(fr, pts, n, nb, o->refine != 0, &lf);
+    fit_coefficients(lf, pw, nb, a, out);
+    studentize(fr, pts, o, lf, nb, out);
+    if (sol->with_leverages)
+        leverages(fr, pts, n, nb, o->refine != 0, lf);
     if (out->dof == 0) {
         for (size_t i = 0; i < MAXB * MAXB; i++)
             out->cov[i] = NAN, out->pcov[i] = NAN;
@@ -698,6 +679,33 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
     monotonic_note(fr, o, a, name, out);
     return BG_OK;
 }
+
+int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                  bg_fit *out, bg_error *err)
+{
+    char name[16];
+    unsigned pw[MAXB];
+    size_t nb = bg_model_basis(&o->model, pw);
+    struct bgi_solution sol = { .iters = 0, .weighted = 0, .with_leverages = 1 };
+    bg_linfit lf;
+    int rc;
+
+    bg_model_name(&o->model, name, sizeof name);
+    if ((rc = bgi_fit_check(fr, pts, n, o, &sol.weighted, out, err)) != BG_OK ||
+        (rc = fit_start(fr, pts, n, o, sol.weighted, &lf, err)) != BG_OK)
+        return rc;
+    if (o->refine) {
+        if (refine(fr, pts, n, nb, o, &lf, &sol.iters) != BG_OK)
+            return bg_error_set(err, BG_ENUM, "model '%s': refinement did not converge in %u "
+                                "iterations", name, o->max_iter);
+    } else if (!isfinite(t_chi2(fr, pts, n, nb, lf.c)))
+        return bg_error_set(err, BG_ENUM, "model '%s': fitted curve gives 1/T <= 0 at a point",
+                            name);
+    /* fr->tm holds the fitted temperatures; lf.cov the unscaled covariance. */
+    sol.lf = lf;
+    return bgi_fit_finish(fr, pts, n, o, &sol, out, err);
+}
+
 int bg_fit_points(const bg_point *pts, size_t n, const bg_fit_opts *o, bg_fit *out,
                   bg_error *err)
 {

@@ -16,4 +16,38 @@
 int bgi_lin_qr(double *A, double *b, size_t n, size_t p, double min_rcond, double *colscale,
                double *work, bg_linfit *out);
 
+/* The reusable fitter (fit.c), shared with the batch (fit_batch.c). */
+#define NCRIT 64
+struct bg_fitter {
+    size_t cap;
+    double crit[NCRIT];  /* chi2 above which p < 0.01, by degrees of freedom (0: not known) */
+    double crit_lo[NCRIT]; /* chi2 below which p > 0.99, by degrees of freedom (0: not known) */
+    double *L, *u, *A, *b, *tm;
+    double *G;          /* basis rows L_i^k, n x nb, computed once per fit */
+    struct tsort { double t, r; size_t i; } *sorted;
+    double *lev;        /* leverages h_i of the last fit, for the leave-one-out residuals */
+    int lev_one_step;   /* 1: lev[] from the Gauss-Newton Jacobian (refined fit); 0: linear */
+    double *batch;      /* the batch's lanes (fit_batch.c), 'batch_cap' doubles */
+    size_t batch_cap;
+};
+
+/* The first part of bg_fitter_run: the model's basis, the number of points, room for 'n'
+** points in 'fr' and 'out', and the guard rails on the data (notes of repeated readings into
+** 'out', out->ndistinct); '*weighted' says whether the points carry uncertainties. */
+int bgi_fit_check(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                  int *weighted, bg_fit *out, bg_error *err);
+
+/* A solution found: coefficients, unscaled covariance and rcond in 'lf'. */
+struct bgi_solution {
+    bg_linfit lf;
+    unsigned iters;      /* Gauss-Newton iterations (0: linear fit) */
+    int weighted;        /* the points carry uncertainties */
+    int with_leverages;  /* keep the leverages in fr->lev for bg_fit_compare */
+};
+
+/* The last part: the results into 'out' from 'sol' with fr->L, fr->u, fr->G (n x nb) and
+** fr->tm (the fitted temperatures) current. */
+int bgi_fit_finish(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                   const struct bgi_solution *sol, bg_fit *out, bg_error *err);
+
 #endif

@@ -55,7 +55,11 @@ int bg_circuit_code_of(const bg_circuit *c, double r_ohm, double *code, bg_error
     if (!(r_ohm > 0.0) || !isfinite(r_ohm))
         return bg_error_set(err, BG_EINVAL, "resistance %g ohm: must be > 0", r_ohm);
     if (c->kind == BG_CIRCUIT_OHMS) {
-        *code = r_ohm / c->ohms_per_code;
+        x = r_ohm / c->ohms_per_code;
+        if (!isfinite(x))
+            return bg_error_set(err, BG_EINVAL, "resistance %g ohm: %g ohm per code gives a "
+                                "code that is not a finite number", r_ohm, c->ohms_per_code);
+        *code = x;
         return BG_OK;
     }
     rb = branch_of(c, r_ohm);
@@ -64,7 +68,12 @@ int bg_circuit_code_of(const bg_circuit *c, double r_ohm, double *code, bg_error
     case BG_CIRCUIT_DIVIDER_HIGH: x = c->fixed_ohm / (rb + c->fixed_ohm); break;
     default: x = c->current_a * rb / c->vref_v; break;
     }
-    *code = x * bg_circuit_full_scale(c);
+    x *= bg_circuit_full_scale(c);
+    if (!isfinite(x)) /* e.g. a reference voltage of 1e-320 V */
+        return bg_error_set(err, BG_EINVAL, "resistance %g ohm: the circuit gives a code that is "
+                            "not a finite number (current %g A, reference %g V)", r_ohm,
+                            c->current_a, c->vref_v);
+    *code = x;
     return BG_OK;
 }
 

@@ -328,7 +328,9 @@ int bg_lut_build(const bg_lut_spec *s, bg_lut *out, bg_error *err)
                             "circuit");
     if (fs > 0.0 && (lo < 1.0 || hi > fs - 1.0))
         return bg_error_set(err, BG_EINVAL, "the range reaches the ADC's rails (codes %.0f .. "
-                            "%.0f of %.0f): change the fixed resistor or the range", lo, hi, fs);
+                            "%.0f of %.0f): change the %s or the range", lo, hi, fs,
+                            s->circuit.kind == BG_CIRCUIT_CURRENT ? "current, the reference "
+                            "voltage" : "fixed resistor");
     if (hi - lo >= 16777216.0)
         return bg_error_set(err, BG_EINVAL, "the range spans %.0f codes: at most 2^24", hi - lo);
     out->strategy = s->strategy, out->format = s->format;
@@ -452,10 +454,12 @@ static int budget_at(const bg_lut_spec *s, const bg_lut *t, const bg_budget_opts
         return rc;
     r->table_k = fabs(bg_lut_value(t, ic, &st) + t->offset_k - tc);
     r->adc_k = 0.5 * fabs(k_lsb);
-    if (o->cov && bg_model_u_t(&s->model, o->cov, tk, &r->fit_k, NULL) == BG_OK)
+    r->fit_k = 0.0;
+    if (o->cov) { /* a fit's uncertainty that cannot be evaluated is not taken as zero */
+        if ((rc = bg_model_u_t(&s->model, o->cov, tk, &r->fit_k, err)) != BG_OK)
+            return rc;
         r->fit_k *= o->fit_k > 0.0 ? o->fit_k : 2.0;
-    else
-        r->fit_k = 0.0;
+    }
     if (o->fixed_tol > 0.0 && s->circuit.kind != BG_CIRCUIT_CURRENT &&
         s->circuit.kind != BG_CIRCUIT_OHMS) {
         /* the same code read with the fixed resistor at its tolerance: what the firmware,

@@ -125,6 +125,29 @@ int bg_model_set_coef(bg_model *m, const double *coef, size_t n, bg_error *err)
     return BG_OK;
 }
 
+static const char *non_finite_word(double v)
+{
+    return isnan(v) ? "NaN" : v > 0 ? "+Inf" : "-Inf";
+}
+
+int bg_model_check_finite(const bg_model *m, const double *cov, bg_error *err)
+{
+    const bg_model_type *t = type_of(m);
+    size_t np = t->npar(m);
+    for (size_t i = 0; i < np; i++)
+        if (!isfinite(m->coef[i]))
+            return bg_error_set(err, BG_EINVAL, "coefficient '%s' came out as %s, not a finite "
+                                "number: the computation overflowed", t->coef_name(m, i),
+                                non_finite_word(m->coef[i]));
+    for (size_t i = 0; cov && i < np * np; i++)
+        if (!isfinite(cov[i]))
+            return bg_error_set(err, BG_EINVAL, "the covariance of '%s' and '%s' came out as "
+                                "%s, not a finite number: the computation overflowed",
+                                t->coef_name(m, i / np), t->coef_name(m, i % np),
+                                non_finite_word(cov[i]));
+    return BG_OK;
+}
+
 void bg_model_inv_poly(const bg_model *m, double a[BG_MODEL_MAXPAR])
 {
     type_of(m)->inv_poly(m, a);
@@ -146,10 +169,30 @@ static int check_t(double t_k, bg_error *err)
     return BG_OK;
 }
 
+/* A result that is not a finite number is an error, never a value: coefficients that are
+** finite one by one can still overflow together (A = 1e300 in sh3 gives 1/T = 1e300). */
+static int finite_at(int rc, double v, const char *what, const char *unit, double at,
+                     const char *at_unit, bg_error *err)
+{
+    if (rc == BG_OK && !isfinite(v))
+        return bg_error_set(err, BG_EINVAL, "%s at %g %s is not a finite number (%g %s): the "
+                            "model overflows there", what, at, at_unit, v, unit);
+    return rc;
+}
+
 int bg_model_t_from_r(const bg_model *m, double r_ohm, double *t_k, bg_error *err)
 {
+    double t = NAN;
     int rc = check_r(r_ohm, err);
-    return rc != BG_OK ? rc : type_of(m)->t_from_r(m, r_ohm, t_k, err);
+    if (rc == BG_OK)
+        rc = type_of(m)->t_from_r(m, r_ohm, &t, err);
+    rc = finite_at(rc, t, "the temperature", "K", r_ohm, "ohm", err);
+    if (rc == BG_OK && !(t > 0.0))
+        rc = bg_error_set(err, BG_EINVAL, "resistance %g ohm: the model gives %g K, not above "
+                          "absolute zero", r_ohm, t);
+    if (rc == BG_OK)
+        *t_k = t;
+    return rc;
 }
 
 /* L at temperature 't_k' for any model. */
@@ -174,14 +217,26 @@ int bg_model_r_from_t(const bg_model *m, double t_k, double *r_ohm, bg_error *er
 
 int bg_model_dtdr(const bg_model *m, double r_ohm, double *dtdr, bg_error *err)
 {
+    double v = NAN;
     int rc = check_r(r_ohm, err);
-    return rc != BG_OK ? rc : type_of(m)->dtdr(m, r_ohm, dtdr, err);
+    if (rc == BG_OK)
+        rc = type_of(m)->dtdr(m, r_ohm, &v, err);
+    rc = finite_at(rc, v, "the slope dT/dR", "K/ohm", r_ohm, "ohm", err);
+    if (rc == BG_OK)
+        *dtdr = v;
+    return rc;
 }
 
 int bg_model_beta_local(const bg_model *m, double t_k, double *beta_k, bg_error *err)
 {
+    double v = NAN;
     int rc = check_t(t_k, err);
-    return rc != BG_OK ? rc : type_of(m)->beta_local(m, t_k, beta_k, err);
+    if (rc == BG_OK)
+        rc = type_of(m)->beta_local(m, t_k, &v, err);
+    rc = finite_at(rc, v, "the local beta", "K", t_k, "K", err);
+    if (rc == BG_OK)
+        *beta_k = v;
+    return rc;
 }
 
 /* alpha = (1/R) dR/dT = dL/dT = -beta / T^2 by the definition of the local beta, whatever
@@ -190,9 +245,10 @@ int bg_model_alpha(const bg_model *m, double t_k, double *alpha_per_k, bg_error 
 {
     double beta;
     int rc = bg_model_beta_local(m, t_k, &beta, err);
-    if (rc != BG_OK)
+    double alpha = -beta / (t_k * t_k);
+    if ((rc = finite_at(rc, alpha, "alpha", "1/K", t_k, "K", err)) != BG_OK)
         return rc;
-    *alpha_per_k = -beta / (t_k * t_k);
+    *alpha_per_k = alpha;
     return BG_OK;
 }
 
@@ -205,7 +261,10 @@ int bg_model_b_pair(const bg_model *m, double t1_k, double t2_k, double *b_k, bg
         return bg_error_set(err, BG_EINVAL, "B value needs two different temperatures");
     if ((rc = l_from_t(m, t1_k, &l1, err)) != BG_OK || (rc = l_from_t(m, t2_k, &l2, err)) != BG_OK)
         return rc;
-    *b_k = (l1 - l2) / (1.0 / t1_k - 1.0 / t2_k);
+    double b = (l1 - l2) / (1.0 / t1_k - 1.0 / t2_k);
+    if ((rc = finite_at(rc, b, "the B value", "K", t1_k, "K", err)) != BG_OK)
+        return rc;
+    *b_k = b;
     return BG_OK;
 }
 
@@ -215,6 +274,9 @@ int bg_model_grad_inv_t(const bg_model *m, double r_ohm, double *g, bg_error *er
     if (rc != BG_OK)
         return rc;
     type_of(m)->grad_inv_t(m, log(r_ohm), g);
+    for (size_t i = 0; i < type_of(m)->npar(m); i++)
+        if ((rc = finite_at(rc, g[i], "the gradient of 1/T", "", r_ohm, "ohm", err)) != BG_OK)
+            return rc;
     return BG_OK;
 }
 
@@ -239,21 +301,22 @@ void bg_model_from_basis(bg_model *m, const double *c, const double *cov_c, doub
 
 int bg_model_parse_pair(const char *s, double *t1_k, double *t2_k, bg_error *err)
 {
-    char a[64], b[64];
     const char *slash = strchr(s, '/');
+    char *a;
     size_t n;
+    int rc;
 
-    if (!slash || strchr(slash + 1, '/'))
+    if (!slash || strchr(slash + 1, '/') || slash == s || !slash[1])
         return bg_error_set(err, BG_EINVAL, "'%s': a B pair is written T1/T2, e.g. 25/85", s);
     n = (size_t)(slash - s);
-    if (n == 0 || n >= sizeof a || strlen(slash + 1) >= sizeof b || !slash[1])
-        return bg_error_set(err, BG_EINVAL, "'%s': a B pair is written T1/T2, e.g. 25/85", s);
+    if (!(a = malloc(n + 1))) /* the temperatures may be decimals of any length */
+        return bg_error_set(err, BG_ENOMEM, "out of memory");
     memcpy(a, s, n);
     a[n] = '\0';
-    strcpy(b, slash + 1);
     /* In a B-pair a bare number means degC: "B25/85" is the trade's notation. */
-    if (bg_units_parse_temp(a, BG_UNIT_C, t1_k, err) != BG_OK ||
-        bg_units_parse_temp(b, BG_UNIT_C, t2_k, err) != BG_OK) {
+    rc = bg_units_parse_temp(a, BG_UNIT_C, t1_k, err);
+    free(a);
+    if (rc != BG_OK || bg_units_parse_temp(slash + 1, BG_UNIT_C, t2_k, err) != BG_OK) {
         bg_error_prefix(err, "B pair '%s'", s);
         return BG_EINVAL;
     }
@@ -316,6 +379,12 @@ int bg_model_u_t(const bg_model *m, const double *cov, double t_k, double *u_k, 
     for (size_t i = 0; i < np; i++)
         for (size_t j = 0; j < np; j++)
             s += g[i] * cov[i * np + j] * g[j];
-    *u_k = s >= 0.0 ? t_k * t_k * sqrt(s) : NAN;
+    if (!(s >= 0.0))
+        return bg_error_set(err, BG_EINVAL, "u(T) at %g K: the covariance gives a variance of "
+                            "%g, not a number >= 0", t_k, s);
+    double u = t_k * t_k * sqrt(s);
+    if ((rc = finite_at(rc, u, "u(T)", "K", t_k, "K", err)) != BG_OK)
+        return rc;
+    *u_k = u;
     return BG_OK;
 }

@@ -77,6 +77,11 @@ void bgi_report_begin(FILE *f, const bg_report_kind *k, const bg_report_head *h,
     char by[64];
     snprintf(by, sizeof by, "bandgap %s", bg_version());
     bgi_report_kv(f, "Issued by", by);
+    if (h->chain)
+        fprintf(f, "<tr><th>Record chain</th><td id=\"chain\" data-records=\"%lld\" "
+                   "data-head=\"%s\">issued on record %lld, head %.64s (bandgap verify "
+                   "checks it)</td></tr>\n", h->chain->records, h->chain->hash,
+                h->chain->records, h->chain->hash);
     fputs("</table>\n", f);
 }
 
@@ -115,11 +120,12 @@ struct issue_ctx {
     const bg_report_opts *o;
 };
 
-static int issue_gen(long long id, const char *issued, void *vctx, char **content, size_t *len,
-                     bg_error *err)
+static int issue_gen(long long id, const char *issued, const bg_chain_head *chain, void *vctx,
+                     char **content, size_t *len, bg_error *err)
 {
     const struct issue_ctx *c = vctx;
-    bg_report_head h = { id, issued, c->o->lab, c->o->customer, c->o->replaces, c->o->why };
+    bg_report_head h = { id, issued, c->o->lab, c->o->customer, c->o->replaces, c->o->why,
+                         chain };
     return bg_report_render(c->kind, c->result, &h, content, len, err);
 }
 

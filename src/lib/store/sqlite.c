@@ -141,7 +141,19 @@ done:
 /* Apply migrations from the file's version to the newest, one transaction each.  The version
 ** is read again inside the transaction, so two processes opening an old file at once upgrade
 ** it once. */
+static int migrate_steps(bgi_conn *c, bg_error *err);
+/* Foreign keys are off while migrating (a migration may make a table again, SQLite's procedure
+** for a changed table; it checks the references itself before its commit). */
 static int migrate(bgi_conn *c, bg_error *err)
+{
+    sqlite3_exec(c->db, "PRAGMA foreign_keys = OFF", NULL, NULL, NULL);
+    int rc = migrate_steps(c, err);
+    if (sqlite3_exec(c->db, "PRAGMA foreign_keys = ON", NULL, NULL, NULL) != SQLITE_OK && !rc)
+        rc = bgi_db_fail(c, err, "cannot turn foreign keys on");
+    return rc;
+}
+
+static int migrate_steps(bgi_conn *c, bg_error *err)
 {
     int known = sq_schema_known();
     for (;;) {
@@ -163,6 +175,13 @@ static int migrate(bgi_conn *c, bg_error *err)
             sqlite3_exec(c->db, sql, NULL, NULL, NULL) != SQLITE_OK) {
             rc = bg_error_set(err, BG_EDB, "schema migration '%s' failed: %s",
                               bgi_migrations[v].name, sqlite3_errmsg(c->db));
+            sq_rollback(c);
+            return rc;
+        }
+        /* the migration that adds the record chain chains the rows already there */
+        if (strstr(bgi_migrations[v].name, "-record-chain.sql") &&
+            (rc = bgi_sqlite_chain_backfill(c, err)) != BG_OK) {
+            bg_error_prefix(err, "schema migration '%s'", bgi_migrations[v].name);
             sq_rollback(c);
             return rc;
         }
@@ -675,4 +694,5 @@ const struct bgi_store_backend bgi_store_sqlite = {
     bgi_sqlite_run_by_digest, bgi_sqlite_fit_newest_of_run, bgi_sqlite_fit_same,
     bgi_sqlite_part_spec_add, bgi_sqlite_part_spec_each,
     sq_names,
+    bgi_sqlite_chain_append, bgi_sqlite_chain_head, bgi_sqlite_verify, bgi_sqlite_chain_check,
 };

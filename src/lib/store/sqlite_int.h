@@ -8,12 +8,21 @@
 
 #include "store_int.h"
 
+/* The record chain (sqlite_chain.c): the chained tables, and the most columns a row has. */
+#define BGI_CHAIN_KINDS 8
+#define BGI_CHAIN_MAXCOL 48
+
 enum { STMT_INSERT_READING, STMT_INSERT_READINGS, STMT_RUN_POINTS, STMT_INSERT_FIT,
-       STMT_INSERT_FIT_ID, STMT_INSERT_FITS, STMT_COUNT };
+       STMT_INSERT_FIT_ID, STMT_INSERT_FITS, STMT_CHAIN_HEAD, STMT_CHAIN_INSERT,
+       STMT_CHAIN_ROW0, /* one per chained table, and the readings of a run after them */
+       STMT_COUNT = STMT_CHAIN_ROW0 + BGI_CHAIN_KINDS + 1 };
 
 struct bgi_conn {
     sqlite3 *db;
     sqlite3_stmt *cache[STMT_COUNT]; /* statements reused in loops */
+    /* the record chain: each chained table's columns in the order of their names */
+    int chain_order[BGI_CHAIN_KINDS + 1][BGI_CHAIN_MAXCOL];
+    int chain_ncol[BGI_CHAIN_KINDS + 1];
 };
 
 int bgi_db_fail(bgi_conn *c, bg_error *err, const char *what);
@@ -74,5 +83,12 @@ int bgi_sqlite_part_spec_add(bgi_conn *c, const bg_part_spec *p, const char *now
                              bg_error *err);
 int bgi_sqlite_part_spec_each(bgi_conn *c, const char *part, int newest_only,
                               bg_part_spec_cb cb, void *ctx, bg_error *err);
+
+/* The record chain (sqlite_chain.c). */
+int bgi_sqlite_chain_head(bgi_conn *c, long long *seq, char hex[65], bg_error *err);
+int bgi_sqlite_chain_append(bgi_conn *c, const char *kind, long long id, bg_error *err);
+int bgi_sqlite_chain_backfill(bgi_conn *c, bg_error *err);
+int bgi_sqlite_chain_check(bgi_conn *c, const char *kind, long long id, bg_error *err);
+int bgi_sqlite_verify(bgi_conn *c, bg_store_check *out, bg_error *err);
 
 #endif

@@ -1,6 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* The SQLite backend's runs, readings and exclusions.  An import writes the run and its
-** readings, 64 to a statement, with contiguous ids; store.c has checked and corrected them. */
+** readings, 64 to a statement, with contiguous ids, taking them one at a time from the
+** import's source (store.c checks and corrects them). */
 #include <math.h>
 #include <stdio.h>
 #include <stddef.h>
@@ -48,7 +49,7 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
     sqlite3_bind_text(q, 10, imp->now, -1, SQLITE_TRANSIENT);
     sqlite3_bind_text(q, 11, imp->unit, -1, SQLITE_STATIC);
     sqlite3_bind_int64(q, 12, *first);
-    sqlite3_bind_int64(q, 13, (sqlite3_int64)imp->rs->n);
+    sqlite3_bind_int64(q, 13, (sqlite3_int64)imp->n);
     sqlite3_bind_text(q, 14, imp->sha256, -1, SQLITE_TRANSIENT);
     if (imp->repeats_run)
         sqlite3_bind_int64(q, 15, imp->repeats_run);
@@ -68,17 +69,49 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
 }
 
 /* BATCH readings per statement: one step instead of BATCH (a third less time for a large
-** file); the rest one by one. */
+** file); the rest one by one.  The readings come one at a time from the import's source, so
+** the texts are bound as copies. */
 enum { BATCH = 64, NCOL = 9 };
+
+/* Bind the next reading of 'imp' as row 'k' of 'q' ('*line' its line). */
+static int bind_next(const struct bgi_import *imp, sqlite3_stmt *q, int k, long long rid,
+                     size_t *line, bg_error *err)
+{
+    const bg_reading *r;
+    double t_k;
+    int b = k * NCOL, rc = imp->next(imp->ctx, &r, &t_k, err);
+
+    if (rc != BG_OK)
+        return rc;
+    if (!r)
+        return bg_error_set(err, BG_EIO, "%s: fewer readings than when it was read first: "
+                            "the file changed while it was imported", imp->src);
+    *line = r->pt.line;
+    sqlite3_bind_int64(q, b + 1, rid);
+    sqlite3_bind_int64(q, b + 2, (sqlite3_int64)r->pt.line);
+    sqlite3_bind_double(q, b + 3, r->t_raw);
+    sqlite3_bind_double(q, b + 4, t_k);
+    sqlite3_bind_double(q, b + 5, r->pt.r_ohm);
+    sqlite3_bind_double(q, b + 6, r->pt.u_t_k);
+    sqlite3_bind_double(q, b + 7, r->pt.u_r_ohm);
+    if (r->time[0])
+        sqlite3_bind_text(q, b + 8, r->time, -1, SQLITE_TRANSIENT);
+    else
+        sqlite3_bind_null(q, b + 8);
+    if (r->note)
+        sqlite3_bind_text(q, b + 9, r->note, -1, SQLITE_TRANSIENT);
+    else
+        sqlite3_bind_null(q, b + 9);
+    return BG_OK;
+}
 
 static int insert_readings(bgi_conn *c, const struct bgi_import *imp, long long rid,
                            bg_error *err)
 {
-    const bg_readings *rs = imp->rs;
     sqlite3_stmt *batch = NULL, *ins = NULL;
     int rc = BG_OK;
 
-    if (rs->n >= BATCH) {
+    if (imp->n >= BATCH) {
         char sql[128 + BATCH * 32];
         size_t len = (size_t)snprintf(sql, sizeof sql, "INSERT INTO reading(id, run_id, line, "
                                       "t_raw, t_k, r_ohm, u_t_k, u_r_ohm, time, note) VALUES ");
@@ -92,44 +125,30 @@ static int insert_readings(bgi_conn *c, const struct bgi_import *imp, long long 
                          "t_k, r_ohm, u_t_k, u_r_ohm, time, note) VALUES (NULL,?,?,?,?,?,?,?,"
                          "?,?)", &ins, err)) != BG_OK)
         return rc;
-    for (size_t i = 0; i < rs->n;) {
-        size_t nb = batch && rs->n - i >= BATCH ? BATCH : 1;
+    for (size_t i = 0; i < imp->n && rc == BG_OK;) {
+        size_t nb = batch && imp->n - i >= BATCH ? BATCH : 1, first = 0, last = 0;
         sqlite3_stmt *qi = nb > 1 ? batch : ins;
         sqlite3_reset(qi);
-        for (size_t k = 0; k < nb; k++) {
-            const bg_reading *r = &rs->v[i + k];
-            int b = (int)(k * NCOL);
-            sqlite3_bind_int64(qi, b + 1, rid);
-            sqlite3_bind_int64(qi, b + 2, (sqlite3_int64)r->pt.line);
-            sqlite3_bind_double(qi, b + 3, r->t_raw);
-            sqlite3_bind_double(qi, b + 4, imp->t_k[i + k]);
-            sqlite3_bind_double(qi, b + 5, r->pt.r_ohm);
-            sqlite3_bind_double(qi, b + 6, r->pt.u_t_k);
-            sqlite3_bind_double(qi, b + 7, r->pt.u_r_ohm);
-            if (r->time[0])
-                sqlite3_bind_text(qi, b + 8, r->time, -1, SQLITE_STATIC);
-            else
-                sqlite3_bind_null(qi, b + 8);
-            if (r->note)
-                sqlite3_bind_text(qi, b + 9, r->note, -1, SQLITE_STATIC);
-            else
-                sqlite3_bind_null(qi, b + 9);
-        }
+        for (size_t k = 0; k < nb && rc == BG_OK; k++)
+            rc = bind_next(imp, qi, (int)k, rid, k ? &last : &first, err);
+        if (rc != BG_OK)
+            break;
         if (sqlite3_step(qi) != SQLITE_DONE) {
             if (nb > 1)
                 rc = bg_error_set(err, BG_EINVAL, "%s:%zu..%zu: cannot store the readings: %s",
-                                  imp->src, rs->v[i].pt.line, rs->v[i + nb - 1].pt.line,
-                                  sqlite3_errmsg(c->db));
+                                  imp->src, first, last, sqlite3_errmsg(c->db));
             else
                 rc = bg_error_set(err, BG_EINVAL, "%s:%zu: cannot store the reading: %s",
-                                  imp->src, rs->v[i].pt.line, sqlite3_errmsg(c->db));
-            break;
+                                  imp->src, first, sqlite3_errmsg(c->db));
         }
         i += nb;
     }
-    if (batch)
+    if (batch) {
         sqlite3_reset(batch);
+        sqlite3_clear_bindings(batch);
+    }
     sqlite3_reset(ins);
+    sqlite3_clear_bindings(ins);
     return rc;
 }
 
@@ -144,7 +163,7 @@ int bgi_sqlite_import(bgi_conn *c, const struct bgi_import *imp, long long *run_
         return rc;
     /* Ids are assigned by SQLite as the largest plus one (cheaper than explicit ids), which
     ** under the write lock gives exactly first, first + 1, ... */
-    if (sqlite3_last_insert_rowid(c->db) != first + (long long)imp->rs->n - 1)
+    if (sqlite3_last_insert_rowid(c->db) != first + (long long)imp->n - 1)
         return bg_error_set(err, BG_EDB, "%s: the readings did not get contiguous ids",
                             imp->src);
     if (run_id)

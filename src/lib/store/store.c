@@ -217,6 +217,13 @@ static int did_you_mean(bg_store *st, enum bgi_name_kind kind, const char *name,
     return bg_error_set(err, rc, "%s (did you mean '%s'?)%s", head, n.best, msg + k);
 }
 
+/* After a write that added row 'id' of table 'kind' (rc BG_OK): its record in the chain, in
+** the same transaction. */
+static int chained(bg_store *st, const char *kind, long long id, int rc, bg_error *err)
+{
+    return rc == BG_OK ? st->be->chain_append(st->conn, kind, id, err) : rc;
+}
+
 /* Write the queued fits in one backend call, and forget them. */
 static int fitq_flush(bg_store *st, bg_error *err)
 {
@@ -226,6 +233,8 @@ static int fitq_flush(bg_store *st, bg_error *err)
         return BG_OK;
     rc = st->be->fit_insert(st->conn, st->fitq, st->nfitq, bg_store_time(st, now, sizeof now),
                             err);
+    for (size_t i = 0; i < st->nfitq && rc == BG_OK; i++)
+        rc = chained(st, "fit", st->fitq[i].id, rc, err);
     fitq_drop(st);
     return rc;
 }
@@ -276,7 +285,11 @@ int bg_store_lot_add(bg_store *st, const bg_lot *lot, long long *id, bg_error *e
                             lot->code);
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
-    rc = st->be->lot_add(st->conn, lot, bg_store_time(st, now, sizeof now), id, err);
+    long long row = 0;
+    rc = st->be->lot_add(st->conn, lot, bg_store_time(st, now, sizeof now), &row, err);
+    rc = chained(st, "lot", row, rc, err);
+    if (rc == BG_OK && id)
+        *id = row;
     return tx_end(st, own, rc, err);
 }
 
@@ -307,8 +320,12 @@ int bg_store_probe_add(bg_store *st, const char *serial, const char *lot_code, c
         return rc;
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
+    long long row = 0;
     rc = st->be->probe_add(st->conn, serial, lot_code, note, bg_store_time(st, now, sizeof now),
-                           id, err);
+                           &row, err);
+    rc = chained(st, "probe", row, rc, err);
+    if (rc == BG_OK && id)
+        *id = row;
     return did_you_mean(st, BGI_NAME_LOT, lot_code, tx_end(st, own, rc, err), err);
 }
 
@@ -341,7 +358,11 @@ int bg_store_ref_add(bg_store *st, const bg_ref *ref, long long *id, bg_error *e
         return rc;
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
-    rc = st->be->ref_add(st->conn, ref, bg_store_time(st, now, sizeof now), id, err);
+    long long row = 0;
+    rc = st->be->ref_add(st->conn, ref, bg_store_time(st, now, sizeof now), &row, err);
+    rc = chained(st, "reference", row, rc, err);
+    if (rc == BG_OK && id)
+        *id = row;
     return tx_end(st, own, rc, err);
 }
 
@@ -356,69 +377,177 @@ int bg_store_ref_each(bg_store *st, bg_ref_cb cb, void *ctx, bg_error *err)
     return st->be->ref_each(st->conn, cb, ctx, err);
 }
 
-/* ---- runs and readings ---- */
+/* ---- runs and readings ----
+** An import holds one reading at a time, whatever the file's size, and reads its readings
+** twice.  The first pass parses and checks every line and finds what the run's row needs
+** before its readings are written (their number, their digest, the first and the latest
+** reading time); the second, inside the transaction, reads them again, corrects each
+** through the reference and hands it to the backend.  A file that cannot seek (a pipe) is
+** copied to a temporary file on the first pass (bg_csv_reader, BG_CSV_TWICE).  The checks
+** and their order are those of a set held in memory (bg_store_import), which goes through
+** the same two passes over its array. */
 
-/* The true temperature of every reading through reference 'ref' (NULL: none), into a new
-** array ('*out', free() it). */
-static int correct_all(const bg_readings *rs, const bg_ref *ref, const char *src, double **out,
-                       bg_error *err)
+/* Where an import's readings come from: a set in memory or a readings file. */
+struct import_src {
+    const bg_readings *rs;    /* a set in memory, or NULL */
+    bg_csv_reader *rd;        /* a file, or NULL */
+    const bg_readings *shape; /* the columns */
+    size_t i;                 /* the next of 'rs' */
+};
+
+static int src_next(struct import_src *s, const bg_reading **r, bg_error *err)
 {
-    double *t = malloc(rs->n * sizeof *t);
-    if (!t)
-        return bg_error_set(err, BG_ENOMEM, "%s: out of memory for %zu readings", src, rs->n);
-    for (size_t i = 0; i < rs->n; i++) {
-        const bg_reading *r = &rs->v[i];
-        if (bg_ref_correct(ref, rs->ref_ohms, rs->ref_ohms ? r->t_raw : r->pt.t_k, &t[i],
-                           err) != BG_OK) {
-            bg_error_prefix(err, "%s:%zu: field '%s'", src, r->pt.line,
-                            rs->ref_ohms ? "ref_ohms" : "temperature");
-            free(t);
-            return BG_EINVAL;
-        }
-    }
-    *out = t;
+    if (s->rd)
+        return bg_csv_reader_next(s->rd, r, err);
+    *r = s->i < s->rs->n ? &s->rs->v[s->i++] : NULL;
     return BG_OK;
 }
 
-/* A double of the canonical form: the 16 hex digits of its IEEE 754 binary64 bits, with -0
-** written as +0 (they are the same reading). */
-static void digest_double(struct bgi_sha256 *h, double v, char sep)
+static int src_rewind(struct import_src *s, bg_error *err)
+{
+    s->i = 0;
+    return s->rd ? bg_csv_reader_rewind(s->rd, err) : BG_OK;
+}
+
+/* A cheap hash of a reading's values and line, summed by both passes: a file that changed
+** between them is refused (FNV-1a's prime mixing whole words, common practice). */
+static unsigned long long reading_check(unsigned long long h, const bg_reading *r)
+{
+    const double v[4] = { r->t_raw, r->pt.r_ohm, r->pt.u_t_k, r->pt.u_r_ohm };
+    for (int i = 0; i < 4; i++) {
+        unsigned long long u;
+        memcpy(&u, &v[i], sizeof u);
+        h = (h ^ u) * 0x100000001b3ULL;
+    }
+    return (h ^ (unsigned long long)r->pt.line) * 0x100000001b3ULL;
+}
+
+/* A double of the canonical form at 'buf': the 16 hex digits of its IEEE 754 binary64 bits,
+** with -0 written as +0 (they are the same reading), then 'sep'. */
+static char *digest_double(char *buf, double v, char sep)
 {
     static const char hexd[] = "0123456789abcdef";
     unsigned long long u;
-    char buf[17];
     if (v == 0.0)
         v = 0.0;
     memcpy(&u, &v, sizeof u);
     for (int i = 15; i >= 0; i--, u >>= 4) /* by hand: a million readings, five values each */
         buf[i] = hexd[u & 0xf];
     buf[16] = sep;
-    bgi_sha256_update(h, buf, 17);
+    return buf + 17;
 }
 
-/* The SHA-256 of the readings' canonical form (docs/commands/import.md): a first line
-** "bandgap readings v1", the raw unit, then one line per reading in file order with the raw
-** reference value, R, u(T), u(R) and the time as written.  Line numbers, notes, comments and
-** the file's layout are left out: the same readings in another file are the same readings. */
-static void readings_digest(const bg_readings *rs, const char *unit, char hex[65])
+/* One reading's line of the canonical form (docs/commands/import.md), after a first line
+** "bandgap readings v1" and the raw unit: the raw reference value, R, u(T), u(R) and the time
+** as written, in file order.  Line numbers, notes, comments and the file's layout are left
+** out: the same readings in another file are the same readings. */
+static void digest_reading(struct bgi_sha256 *h, const bg_reading *r)
+{
+    char buf[4 * 17 + BG_TIME + 1], *p = buf;
+    size_t tl = strlen(r->time);
+    p = digest_double(p, r->t_raw, ';');
+    p = digest_double(p, r->pt.r_ohm, ';');
+    p = digest_double(p, r->pt.u_t_k, ';');
+    p = digest_double(p, r->pt.u_r_ohm, ';');
+    memcpy(p, r->time, tl);
+    p[tl] = '\n';
+    bgi_sha256_update(h, buf, (size_t)(p - buf) + tl + 1);
+}
+
+/* What the first pass finds. */
+struct import_scan {
+    size_t n;
+    char sha256[65];                /* the digest of the canonical form, hex */
+    unsigned long long check;       /* reading_check over all readings */
+    char first_time[BG_TIME];       /* the first reading's time as written ("": none) */
+    double last_t;                  /* the latest reading time, s since 1970 (-inf: none) */
+    size_t last_line;               /* its line (0: none) */
+    char last_when[BG_TIME];        /* and as written */
+    int time_rc;                    /* the first reading time bg_time_parse refused */
+    bg_error time_err;              /* and its message */
+};
+
+/* The first pass: every reading parsed and checked, counted, digested and its time taken. */
+static int import_scan(struct import_src *s, const char *unit, struct import_scan *sc,
+                       bg_error *err)
 {
     struct bgi_sha256 h;
     unsigned char d[32];
+    const bg_reading *r;
+    int rc;
+
+    memset(sc, 0, sizeof *sc);
+    sc->last_t = -INFINITY;
     bgi_sha256_init(&h);
     bgi_sha256_update(&h, "bandgap readings v1\n", 20);
     bgi_sha256_update(&h, unit, strlen(unit));
     bgi_sha256_update(&h, "\n", 1);
-    for (size_t i = 0; i < rs->n; i++) {
-        const bg_reading *r = &rs->v[i];
-        digest_double(&h, r->t_raw, ';');
-        digest_double(&h, r->pt.r_ohm, ';');
-        digest_double(&h, r->pt.u_t_k, ';');
-        digest_double(&h, r->pt.u_r_ohm, ';');
-        bgi_sha256_update(&h, r->time, strlen(r->time));
-        bgi_sha256_update(&h, "\n", 1);
+    while ((rc = src_next(s, &r, err)) == BG_OK && r) {
+        double t;
+        if (sc->n++ == 0)
+            memcpy(sc->first_time, r->time, sizeof r->time);
+        digest_reading(&h, r);
+        sc->check = reading_check(sc->check, r);
+        if (!r->time[0] || sc->time_rc != BG_OK)
+            continue;
+        if ((sc->time_rc = bg_time_parse(r->time, &t, &sc->time_err)) == BG_OK && t > sc->last_t)
+            sc->last_t = t, sc->last_line = r->pt.line,
+            memcpy(sc->last_when, r->time, sizeof r->time);
     }
+    if (rc != BG_OK)
+        return rc;
     bgi_sha256_final(&h, d);
-    bgi_sha256_hex(d, hex);
+    bgi_sha256_hex(d, sc->sha256);
+    return BG_OK;
+}
+
+/* The second pass, pulled by the backend: the next reading and its corrected temperature. */
+struct import_pass {
+    struct import_src *s;
+    const bg_ref *ref;        /* NULL: none */
+    const char *src;
+    size_t n;
+    unsigned long long check;
+    int failed;               /* 1: the error is the source's or the correction's */
+};
+
+static int correct(const struct import_pass *p, const bg_reading *r, double *t_k,
+                   bg_error *err)
+{
+    int ohm = p->s->shape->ref_ohms;
+    if (bg_ref_correct(p->ref, ohm, ohm ? r->t_raw : r->pt.t_k, t_k, err) == BG_OK)
+        return BG_OK;
+    bg_error_prefix(err, "%s:%zu: field '%s'", p->src, r->pt.line,
+                    ohm ? "ref_ohms" : "temperature");
+    return BG_EINVAL;
+}
+
+static int pass_next(void *ctx, const bg_reading **r, double *t_k, bg_error *err)
+{
+    struct import_pass *p = ctx;
+    int rc = src_next(p->s, r, err);
+    if (rc == BG_OK && *r && (rc = correct(p, *r, t_k, err)) == BG_OK)
+        p->n++, p->check = reading_check(p->check, *r);
+    p->failed = rc != BG_OK;
+    return rc;
+}
+
+/* After the backend's failure: a reading further on that the correction refuses is the error
+** (as when every reading was corrected before the first was written). */
+static int correct_rest(struct import_pass *p, int rc, bg_error *err)
+{
+    const bg_reading *r;
+    bg_error e2 = BG_ERROR_INIT;
+    double t_k;
+    if (p->failed)
+        return rc;
+    while (src_next(p->s, &r, &e2) == BG_OK && r)
+        if (correct(p, r, &t_k, &e2) != BG_OK) {
+            if (err)
+                *err = e2;
+            return BG_EINVAL;
+        }
+    return rc;
 }
 
 /* A repeated import: the readings' digest against the probe's earlier runs. */
@@ -443,25 +572,27 @@ static int check_repeat(bg_store *st, const bg_run *meta, struct bgi_import *imp
 
 /* The latest time of the run: its start, or a later reading's time ('*line' its line, 0 for
 ** the start; 'when' the time as written). */
-static int run_last_time(const bg_readings *rs, const char *started_at, double *t_s,
+static int run_last_time(const struct import_scan *sc, const char *started_at, double *t_s,
                          size_t *line, const char **when, bg_error *err)
 {
     int rc = bg_time_parse(started_at, t_s, err);
     *line = 0, *when = started_at;
-    for (size_t i = 0; rc == BG_OK && i < rs->n; i++) {
-        double t;
-        if (!rs->v[i].time[0])
-            continue;
-        if ((rc = bg_time_parse(rs->v[i].time, &t, err)) == BG_OK && t > *t_s)
-            *t_s = t, *line = rs->v[i].pt.line, *when = rs->v[i].time;
+    if (rc != BG_OK)
+        return rc;
+    if (sc->time_rc != BG_OK) {
+        if (err)
+            *err = sc->time_err;
+        return sc->time_rc;
     }
-    return rc;
+    if (sc->last_line && sc->last_t > *t_s)
+        *t_s = sc->last_t, *line = sc->last_line, *when = sc->last_when;
+    return BG_OK;
 }
 
 /* A reference past its calibration due date is used only with a reason, which the run keeps;
 ** a reason without that need is refused too, so that no run carries a false override. */
-static int check_due(const bg_ref *ref, const bg_readings *rs, const struct bgi_import *imp,
-                     bg_error *err)
+static int check_due(const bg_ref *ref, const struct import_scan *sc,
+                     const struct bgi_import *imp, bg_error *err)
 {
     const char *why = imp->ref_overdue, *when;
     double due, last;
@@ -470,7 +601,7 @@ static int check_due(const bg_ref *ref, const bg_readings *rs, const struct bgi_
 
     if (ref && ref->due_date[0]) {
         if ((rc = bg_time_parse(ref->due_date, &due, err)) != BG_OK ||
-            (rc = run_last_time(rs, imp->started_at, &last, &line, &when, err)) != BG_OK)
+            (rc = run_last_time(sc, imp->started_at, &last, &line, &when, err)) != BG_OK)
             return rc;
         /* a due date without a time of day holds for the whole day (UTC) */
         overdue = strlen(ref->due_date) == 10 ? last >= due + 86400.0 : last > due;
@@ -496,36 +627,46 @@ static int check_due(const bg_ref *ref, const bg_readings *rs, const struct bgi_
 }
 
 /* Inside the import's transaction: the probe and the reference, their agreement with the
-** file, the corrected temperatures, and the backend's write. */
-static int import_run(bg_store *st, const bg_readings *rs, const bg_run *meta,
+** file, the due date and a repeat; then the second pass into the backend, which must find
+** the readings of the first. */
+static int import_run(bg_store *st, struct import_src *s, const struct import_scan *sc,
                       struct bgi_import *imp, long long *run_id, bg_error *err)
 {
+    const bg_run *meta = imp->meta;
+    const bg_readings *shape = s->shape;
+    struct import_pass p;
+    const bg_reading *r;
     bg_ref ref;
-    double *t_k = NULL;
     int have_ref = meta->ref_ident[0] != '\0', rc;
 
     if ((rc = st->be->probe_id(st->conn, meta->serial, &imp->probe_id, err)) != BG_OK)
         return did_you_mean(st, BGI_NAME_PROBE, meta->serial, rc, err);
     if (have_ref && (rc = st->be->ref_get(st->conn, meta->ref_ident, &ref, err)) != BG_OK)
         return did_you_mean(st, BGI_NAME_REF, meta->ref_ident, rc, err);
-    if (rs->ref_ohms && !(have_ref && ref.kind == BG_REF_CVD))
+    if (shape->ref_ohms && !(have_ref && ref.kind == BG_REF_CVD))
         return bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs a reference "
                             "thermometer with Callendar-Van Dusen coefficients (--ref)",
                             imp->src);
-    if (!rs->ref_ohms && have_ref && ref.kind == BG_REF_CVD)
+    if (!shape->ref_ohms && have_ref && ref.kind == BG_REF_CVD)
         return bg_error_set(err, BG_EINVAL, "%s: reference '%s' is read as a platinum "
                             "resistance: the file needs a 'ref_ohms' column", imp->src,
                             ref.ident);
-    if ((rc = check_due(have_ref ? &ref : NULL, rs, imp, err)) != BG_OK ||
-        (rc = check_repeat(st, meta, imp, err)) != BG_OK)
+    if ((rc = check_due(have_ref ? &ref : NULL, sc, imp, err)) != BG_OK ||
+        (rc = check_repeat(st, meta, imp, err)) != BG_OK ||
+        (rc = src_rewind(s, err)) != BG_OK)
         return rc;
-    if ((rc = correct_all(rs, have_ref ? &ref : NULL, imp->src, &t_k, err)) != BG_OK)
-        return rc;
+    memset(&p, 0, sizeof p);
+    p.s = s, p.ref = have_ref ? &ref : NULL, p.src = imp->src;
     imp->ref_id = have_ref ? ref.id : 0;
-    imp->t_k = t_k;
-    rc = st->be->import(st->conn, imp, run_id, err);
-    free(t_k);
-    return rc;
+    imp->n = sc->n, imp->next = pass_next, imp->ctx = &p;
+    if ((rc = st->be->import(st->conn, imp, run_id, err)) != BG_OK)
+        return correct_rest(&p, rc, err);
+    if ((rc = src_next(s, &r, err)) != BG_OK)
+        return rc;
+    if (r || p.n != sc->n || p.check != sc->check)
+        return bg_error_set(err, BG_EIO, "%s: the readings changed while they were imported "
+                            "(the file was read twice): nothing imported", imp->src);
+    return chained(st, "run", *run_id, BG_OK, err);
 }
 
 /* The measuring current or voltage: a number with its unit, at most one of the two. */
@@ -560,19 +701,23 @@ char *bg_store_run_measuring(const bg_run *r, char *buf, size_t size)
     return buf;
 }
 
-int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, long long *run_id,
-                    bg_error *err)
+/* Both passes of an import from 's'; the checks of bg_store_import in its order. */
+static int import_src_run(bg_store *st, struct import_src *s, const bg_run *meta,
+                          long long *run_id, size_t *n, bg_error *err)
 {
     char now[BG_TIME];
     struct bgi_import imp;
+    struct import_scan sc;
     int rc, own;
 
     memset(&imp, 0, sizeof imp);
-    imp.rs = rs, imp.meta = meta;
+    imp.meta = meta;
     imp.src = meta->source[0] ? meta->source : "-";
-    imp.unit = rs->ref_ohms ? "ohm" : bg_units_symbol(rs->t_unit, 1);
+    imp.unit = s->shape->ref_ohms ? "ohm" : bg_units_symbol(s->shape->t_unit, 1);
     imp.ref_overdue = meta->ref_overdue[0] ? meta->ref_overdue : NULL;
-    if (rs->n == 0)
+    if ((rc = import_scan(s, imp.unit, &sc, err)) != BG_OK)
+        return rc;
+    if (sc.n == 0)
         return bg_error_set(err, BG_EINVAL, "%s: no readings to import", imp.src);
     if ((rc = check_text("operator", meta->operator_name, BG_TEXT, 0, err)) != BG_OK ||
         (rc = check_text("medium", meta->medium, BG_TEXT, 0, err)) != BG_OK ||
@@ -586,12 +731,39 @@ int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, lon
                             meta->started_at);
     imp.now = bg_store_time(st, now, sizeof now);
     imp.started_at = meta->started_at[0] ? meta->started_at
-                   : rs->v[0].time[0] ? rs->v[0].time : now;
-    readings_digest(rs, imp.unit, imp.sha256);
+                   : sc.first_time[0] ? sc.first_time : now;
+    memcpy(imp.sha256, sc.sha256, sizeof imp.sha256);
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
-    rc = import_run(st, rs, meta, &imp, run_id, err);
-    return tx_end(st, own, rc, err);
+    rc = import_run(st, s, &sc, &imp, run_id, err);
+    if ((rc = tx_end(st, own, rc, err)) == BG_OK && n)
+        *n = sc.n;
+    return rc;
+}
+
+int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta, long long *run_id,
+                    bg_error *err)
+{
+    struct import_src s = { rs, NULL, rs, 0 };
+    return import_src_run(st, &s, meta, run_id, NULL, err);
+}
+
+int bg_store_import_reader(bg_store *st, bg_csv_reader *rd, const bg_run *meta,
+                           long long *run_id, size_t *n, bg_error *err)
+{
+    struct import_src s = { NULL, rd, bg_csv_reader_shape(rd), 0 };
+    return import_src_run(st, &s, meta, run_id, n, err);
+}
+
+int bg_store_import_file(bg_store *st, const char *path, const bg_run *meta, long long *run_id,
+                         size_t *n, bg_error *err)
+{
+    bg_csv_reader *rd = NULL;
+    int rc = bg_csv_reader_open(path, BG_CSV_TWICE, &rd, err);
+    if (rc == BG_OK)
+        rc = bg_store_import_reader(st, rd, meta, run_id, n, err);
+    bg_csv_reader_free(rd);
+    return rc;
 }
 
 int bg_store_run_get(bg_store *st, long long run_id, bg_run *out, bg_error *err)
@@ -654,6 +826,7 @@ int bg_store_exclude(bg_store *st, long long reading_id, const char *why, const 
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
     rc = st->be->exclude(st->conn, reading_id, why, by, bg_store_time(st, now, sizeof now), err);
+    rc = chained(st, "exclusion", reading_id, rc, err);
     return tx_end(st, own, rc, err);
 }
 
@@ -758,6 +931,7 @@ int bg_store_fit_save(bg_store *st, long long run_id, const bg_fit *fit,
         (rc = fitrow_of(run_id, fit, reading_ids, &r, err)) == BG_OK) {
         r.id = st->next_fit_id ? st->next_fit_id++ : 0;
         rc = st->be->fit_insert(st->conn, &r, 1, bg_store_time(st, now, sizeof now), err);
+        rc = chained(st, "fit", r.id, rc, err);
         if (rc == BG_OK && fit_id)
             *fit_id = r.id;
         free(r.ids);
@@ -891,11 +1065,13 @@ static int issue(bg_store *st, const bg_artifact_req *req, long long *id, bg_err
     if (!latest && req->replaces_id)
         return bg_error_set(err, BG_EINVAL, "%s has no issued report to replace",
                             req->subject);
+    bg_chain_head head;
     bg_store_time(st, now, sizeof now);
-    if ((rc = req->gen(*id, now, req->ctx, &content, &len, err)) != BG_OK)
+    if ((rc = st->be->chain_head(st->conn, &head.records, head.hash, err)) != BG_OK ||
+        (rc = req->gen(*id, now, &head, req->ctx, &content, &len, err)) != BG_OK)
         return rc;
     row.id = *id, row.req = req, row.content = content, row.len = len, row.now = now;
-    rc = st->be->artifact_insert(st->conn, &row, err);
+    rc = chained(st, "artifact", *id, st->be->artifact_insert(st->conn, &row, err), err);
     free(content);
     return rc;
 }
@@ -916,7 +1092,11 @@ int bg_store_artifact_issue(bg_store *st, const bg_artifact_req *req, long long 
 
 int bg_store_artifact_get(bg_store *st, long long id, bg_artifact *out, bg_error *err)
 {
-    return st->be->artifact_get(st->conn, id, out, err);
+    /* a stored report is served only as it was issued */
+    int rc = st->be->artifact_get(st->conn, id, out, err);
+    if (rc == BG_OK && (rc = st->be->chain_check(st->conn, "artifact", id, err)) != BG_OK)
+        bg_artifact_release(out);
+    return rc;
 }
 
 int bg_store_artifact_each(bg_store *st, bg_artifact_cb cb, void *ctx, bg_error *err)
@@ -968,7 +1148,11 @@ int bg_store_part_spec_add(bg_store *st, const bg_part_spec *p, long long *id, b
         return rc;
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
-    rc = st->be->part_spec_add(st->conn, p, bg_store_time(st, now, sizeof now), id, err);
+    long long row = 0;
+    rc = st->be->part_spec_add(st->conn, p, bg_store_time(st, now, sizeof now), &row, err);
+    rc = chained(st, "part_spec", row, rc, err);
+    if (rc == BG_OK && id)
+        *id = row;
     return tx_end(st, own, rc, err);
 }
 
@@ -989,4 +1173,16 @@ int bg_store_part_spec_each(bg_store *st, const char *part, bg_part_spec_cb cb, 
                             bg_error *err)
 {
     return st->be->part_spec_each(st->conn, part, 0, cb, ctx, err);
+}
+
+/* ---- the record's defences ---- */
+
+int bg_store_chain_head(bg_store *st, long long *records, char head[65], bg_error *err)
+{
+    return st->be->chain_head(st->conn, records, head, err);
+}
+
+int bg_store_verify(bg_store *st, bg_store_check *out, bg_error *err)
+{
+    return st->be->verify(st->conn, out, err);
 }

@@ -10,6 +10,8 @@
 #include <stdint.h>
 #include <time.h>
 
+#include <nettle/sha2.h>
+
 #include "bandgap/store.h"
 
 /* A backend's connection: each backend defines 'struct bgi_conn' in its own files (the
@@ -31,12 +33,15 @@ struct bgi_fitrow {
 };
 #define BGI_FITQ 32
 
-/* A checked import: the run's values and each reading's corrected temperature. */
+/* A checked import: the run's values, and its 'n' readings from 'next' in file order with
+** their corrected temperatures (K); 'next' is BG_OK with '*r' NULL after the last one, and
+** its reading is valid until the next call. */
 struct bgi_import {
-    const bg_readings *rs;
     const bg_run *meta;
     long long probe_id, ref_id;     /* ref_id 0: none */
-    const double *t_k;              /* rs->n corrected temperatures, K */
+    size_t n;
+    int (*next)(void *ctx, const bg_reading **r, double *t_k, bg_error *err);
+    void *ctx;
     const char *src, *unit;         /* the source's name; the unit of the raw values */
     const char *started_at, *now;
     /* schema 3: the readings' digest (hex), the earlier run this one repeats on purpose (0:
@@ -60,7 +65,7 @@ enum bgi_name_kind { BGI_NAME_PROBE, BGI_NAME_LOT, BGI_NAME_REF, BGI_NAME_PART }
 /* Called with each name; nonzero stops the walk. */
 typedef int (*bgi_name_cb)(const char *name, void *ctx);
 
-#define BGI_STORE_BACKEND_VERSION 4
+#define BGI_STORE_BACKEND_VERSION 5
 
 /* Every function takes the connection first and 'err' last, and returns a bg_status unless
 ** said otherwise.  Write functions run inside a transaction that store.c opened (in_tx is
@@ -159,6 +164,17 @@ struct bgi_store_backend {
     ** absent; store.c then offers the nearest of these names (did_you_mean). */
     int (*names)(bgi_conn *c, enum bgi_name_kind kind, bgi_name_cb cb, void *ctx,
                  bg_error *err);
+
+    /* version 5: the record chain.  Append the record of row 'id' of table 'kind' ("lot",
+    ** "probe", "reference", "part_spec", "run" with its readings, "exclusion", "fit",
+    ** "artifact") inside the write transaction that added it; the head (record count and
+    ** hash; 0 and 64 '0' when empty); the whole record verified (the backend's own checks,
+    ** the chain, and every row in it). */
+    int (*chain_append)(bgi_conn *c, const char *kind, long long id, bg_error *err);
+    int (*chain_head)(bgi_conn *c, long long *records, char hex[65], bg_error *err);
+    int (*verify)(bgi_conn *c, bg_store_check *out, bg_error *err);
+    /* row 'id' of table 'kind' still matches its record in the chain (BG_EINVAL if not) */
+    int (*chain_check)(bgi_conn *c, const char *kind, long long id, bg_error *err);
 };
 
 /* The backends (sqlite.c, ...); store.c lists them by scheme. */
@@ -176,12 +192,10 @@ struct bg_store {
     char backup[4200];
 };
 
-/* SHA-256 (FIPS 180-4; sha256.c): init, feed any number of bytes, final. */
+/* SHA-256 (FIPS 180-4) from GNU Nettle (sha256.c adapts it): init, feed any number of
+** bytes, final. */
 struct bgi_sha256 {
-    uint32_t h[8];                 /* the hash value */
-    unsigned long long len;        /* bytes fed */
-    unsigned char buf[64];
-    size_t nbuf;
+    struct sha256_ctx ctx;
 };
 void bgi_sha256_init(struct bgi_sha256 *s);
 void bgi_sha256_update(struct bgi_sha256 *s, const void *data, size_t n);

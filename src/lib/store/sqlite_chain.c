@@ -1,0 +1,351 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
+/* The SQLite backend's record chain (schema db/007-record-chain.sql): each appended record is
+** chained to the one before it by SHA-256 (GNU Nettle, through sha256.c), and the chain, the
+** database's own checks and the tables are verified together.
+**
+** The hash of record number 'seq' is SHA-256 over
+**     "bandgap record chain 1\n" PREV "\n" KIND "\n" ID "\n" ROW [READINGS]
+** where PREV is the previous record's hash in hex (64 '0' for the first), KIND the table and
+** ID the row's id.  ROW encodes the row's columns in the order of their names, skipping NULL
+** (so a column added later with no value leaves old hashes as they were), each as
+**     NAME "\0" TYPE VALUE "\n"
+** with TYPE 'i' and VALUE the integer in decimal, 'r' and the IEEE 754 double's 64 bits in 16
+** hex digits (exact: no rounding), 't' or 'b' and LENGTH ":" and the bytes.  A run's record
+** adds each of its readings, in id order, as "reading\n" ROW. */
+#include <inttypes.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "bandgap/bandgap.h"
+#include "sqlite_int.h"
+
+static const char *const kinds[BGI_CHAIN_KINDS] = { "lot", "probe", "reference", "part_spec",
+                                                    "run", "exclusion", "fit", "artifact" };
+
+static int kind_index(const char *kind)
+{
+    for (int i = 0; i < BGI_CHAIN_KINDS; i++)
+        if (strcmp(kinds[i], kind) == 0)
+            return i;
+    return -1;
+}
+
+/* The columns of statement 'q' in the order of their names (insertion sort; a few dozen). */
+static void name_order(sqlite3_stmt *q, int *order, int n)
+{
+    for (int i = 0; i < n; i++) {
+        int j = i;
+        while (j > 0 && strcmp(sqlite3_column_name(q, order[j - 1]), sqlite3_column_name(q, i)) > 0) {
+            order[j] = order[j - 1];
+            j--;
+        }
+        order[j] = i;
+    }
+}
+
+/* The current row of 'q', canonically encoded, into the hash. */
+static void put_row(struct bgi_sha256 *h, sqlite3_stmt *q, const int *order, int n)
+{
+    char buf[64];
+    for (int k = 0; k < n; k++) {
+        int i = order[k], len;
+        int type = sqlite3_column_type(q, i);
+        if (type == SQLITE_NULL)
+            continue;
+        const char *name = sqlite3_column_name(q, i);
+        bgi_sha256_update(h, name, strlen(name) + 1);
+        if (type == SQLITE_INTEGER) {
+            len = snprintf(buf, sizeof buf, "i%lld\n", (long long)sqlite3_column_int64(q, i));
+            bgi_sha256_update(h, buf, (size_t)len);
+        } else if (type == SQLITE_FLOAT) {
+            double v = sqlite3_column_double(q, i);
+            uint64_t bits;
+            memcpy(&bits, &v, sizeof bits);
+            len = snprintf(buf, sizeof buf, "r%016" PRIx64 "\n", bits);
+            bgi_sha256_update(h, buf, (size_t)len);
+        } else {
+            const void *p = type == SQLITE_TEXT ? (const void *)sqlite3_column_text(q, i)
+                                                : sqlite3_column_blob(q, i);
+            int nb = sqlite3_column_bytes(q, i);
+            len = snprintf(buf, sizeof buf, "%c%d:", type == SQLITE_TEXT ? 't' : 'b', nb);
+            bgi_sha256_update(h, buf, (size_t)len);
+            if (nb > 0)
+                bgi_sha256_update(h, p, (size_t)nb);
+            bgi_sha256_update(h, "\n", 1);
+        }
+    }
+}
+
+/* A statement over one table's rows, its columns in name order (kept on the connection). */
+static int row_stmt(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, bg_error *err)
+{
+    int rc = bgi_cached(c, STMT_CHAIN_ROW0 + which, sql, q, err);
+    if (rc == BG_OK && c->chain_ncol[which] == 0) {
+        int n = sqlite3_column_count(*q);
+        if (n > BGI_CHAIN_MAXCOL)
+            return bg_error_set(err, BG_EINTERNAL, "table %s has %d columns, more than the "
+                                "record chain encodes (%d)", which < BGI_CHAIN_KINDS ?
+                                kinds[which] : "reading", n, BGI_CHAIN_MAXCOL);
+        name_order(*q, c->chain_order[which], n);
+        c->chain_ncol[which] = n;
+    }
+    return rc;
+}
+
+/* The hash of record (kind 'k', row 'id') after 'prev', into 'hex'.  BG_EINVAL when the row
+** is missing. */
+static int record_hash(bgi_conn *c, int k, long long id, const char prev[65], char hex[65],
+                       bg_error *err)
+{
+    char sql[96], head[128];
+    sqlite3_stmt *q;
+    struct bgi_sha256 h;
+    unsigned char d[32];
+    int rc, s;
+    snprintf(sql, sizeof sql, "SELECT * FROM %s WHERE rowid = ?1", kinds[k]);
+    if ((rc = row_stmt(c, k, sql, &q, err)) != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, id);
+    if ((s = sqlite3_step(q)) != SQLITE_ROW) {
+        sqlite3_reset(q);
+        return s == SQLITE_DONE ? bg_error_set(err, BG_EINVAL, "%s %lld is missing", kinds[k], id)
+                                : bgi_db_fail(c, err, "cannot read a record");
+    }
+    bgi_sha256_init(&h);
+    int n = snprintf(head, sizeof head, "bandgap record chain 1\n%s\n%s\n%lld\n", prev,
+                     kinds[k], id);
+    bgi_sha256_update(&h, head, (size_t)n);
+    put_row(&h, q, c->chain_order[k], c->chain_ncol[k]);
+    sqlite3_reset(q);
+    if (strcmp(kinds[k], "run") == 0) {
+        if ((rc = row_stmt(c, BGI_CHAIN_KINDS, "SELECT * FROM reading WHERE run_id = ?1 "
+                           "ORDER BY id", &q, err)) != BG_OK)
+            return rc;
+        sqlite3_bind_int64(q, 1, id);
+        while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+            bgi_sha256_update(&h, "reading\n", 8);
+            put_row(&h, q, c->chain_order[BGI_CHAIN_KINDS], c->chain_ncol[BGI_CHAIN_KINDS]);
+        }
+        sqlite3_reset(q);
+        if (s != SQLITE_DONE)
+            return bgi_db_fail(c, err, "cannot read a run's readings");
+    }
+    bgi_sha256_final(&h, d);
+    bgi_sha256_hex(d, hex);
+    return BG_OK;
+}
+
+int bgi_sqlite_chain_head(bgi_conn *c, long long *seq, char hex[65], bg_error *err)
+{
+    sqlite3_stmt *q;
+    int rc = bgi_cached(c, STMT_CHAIN_HEAD, "SELECT seq, hash FROM chain ORDER BY seq DESC "
+                        "LIMIT 1", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    int s = sqlite3_step(q);
+    if (s == SQLITE_ROW) {
+        *seq = sqlite3_column_int64(q, 0);
+        bgi_copy_text(hex, 65, q, 1);
+    } else if (s == SQLITE_DONE) {
+        *seq = 0;
+        memset(hex, '0', 64);
+        hex[64] = '\0';
+    } else {
+        rc = bgi_db_fail(c, err, "cannot read the record chain");
+    }
+    sqlite3_reset(q);
+    return rc;
+}
+
+int bgi_sqlite_chain_append(bgi_conn *c, const char *kind, long long id, bg_error *err)
+{
+    char prev[65], hex[65];
+    long long seq;
+    sqlite3_stmt *q;
+    int k = kind_index(kind), rc;
+    if (k < 0)
+        return bg_error_set(err, BG_EINTERNAL, "no record chain for '%s'", kind);
+    if ((rc = bgi_sqlite_chain_head(c, &seq, prev, err)) != BG_OK ||
+        (rc = record_hash(c, k, id, prev, hex, err)) != BG_OK ||
+        (rc = bgi_cached(c, STMT_CHAIN_INSERT, "INSERT INTO chain (seq, kind, row_id, hash) "
+                         "VALUES (?1, ?2, ?3, ?4)", &q, err)) != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, seq + 1);
+    sqlite3_bind_text(q, 2, kinds[k], -1, SQLITE_STATIC);
+    sqlite3_bind_int64(q, 3, id);
+    sqlite3_bind_text(q, 4, hex, 64, SQLITE_STATIC);
+    rc = sqlite3_step(q) == SQLITE_DONE ? BG_OK : bgi_db_fail(c, err, "cannot extend the "
+                                                              "record chain");
+    sqlite3_reset(q);
+    return rc;
+}
+
+int bgi_sqlite_chain_check(bgi_conn *c, const char *kind, long long id, bg_error *err)
+{
+    char prev[65], stored[65], hex[65];
+    sqlite3_stmt *q = NULL;
+    long long seq = 0;
+    int k = kind_index(kind), rc;
+    if (k < 0)
+        return bg_error_set(err, BG_EINTERNAL, "no record chain for '%s'", kind);
+    if ((rc = bgi_prepare(c, "SELECT c.seq, c.hash, p.hash FROM chain c LEFT JOIN chain p ON "
+                          "p.seq = c.seq - 1 WHERE c.kind = ?1 AND c.row_id = ?2", &q, err))
+        != BG_OK)
+        return rc;
+    sqlite3_bind_text(q, 1, kinds[k], -1, SQLITE_STATIC);
+    sqlite3_bind_int64(q, 2, id);
+    if (sqlite3_step(q) == SQLITE_ROW) {
+        seq = sqlite3_column_int64(q, 0);
+        bgi_copy_text(stored, sizeof stored, q, 1);
+        if (sqlite3_column_type(q, 2) == SQLITE_NULL)
+            memset(prev, '0', 64), prev[64] = '\0';
+        else
+            bgi_copy_text(prev, sizeof prev, q, 2);
+    }
+    sqlite3_finalize(q);
+    if (seq == 0)
+        return bg_error_set(err, BG_EINVAL, "%s %lld is not in the record chain (added "
+                            "outside bandgap; run 'bandgap verify')", kinds[k], id);
+    if ((rc = record_hash(c, k, id, prev, hex, err)) != BG_OK)
+        return rc;
+    if (strcmp(hex, stored) != 0)
+        return bg_error_set(err, BG_EINVAL, "%s %lld does not match its record %lld in the "
+                            "chain: changed after it was recorded (run 'bandgap verify')",
+                            kinds[k], id, seq);
+    return BG_OK;
+}
+
+/* Chain the rows of a database made before the chain: table by table, in id order (run
+** inside the upgrade's transaction). */
+int bgi_sqlite_chain_backfill(bgi_conn *c, bg_error *err)
+{
+    int rc = BG_OK;
+    for (int k = 0; k < BGI_CHAIN_KINDS && rc == BG_OK; k++) {
+        char sql[80];
+        sqlite3_stmt *q = NULL;
+        snprintf(sql, sizeof sql, "SELECT rowid FROM %s ORDER BY rowid", kinds[k]);
+        if ((rc = bgi_prepare(c, sql, &q, err)) != BG_OK)
+            return rc;
+        int s;
+        while (rc == BG_OK && (s = sqlite3_step(q)) == SQLITE_ROW)
+            rc = bgi_sqlite_chain_append(c, kinds[k], sqlite3_column_int64(q, 0), err);
+        if (rc == BG_OK && s != SQLITE_DONE)
+            rc = bgi_db_fail(c, err, "cannot chain the existing records");
+        sqlite3_finalize(q);
+    }
+    return rc;
+}
+
+/* The first message of a checking pragma that is not "ok" (integrity_check), or the first
+** row at all (foreign_key_check), into 'out'; 0 when clean. */
+static int pragma_problem(bgi_conn *c, const char *sql, int fk, char *out, size_t size,
+                          bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, sql, &q, err), found = 0;
+    if (rc != BG_OK)
+        return -1;
+    if (sqlite3_step(q) == SQLITE_ROW) {
+        const char *a = (const char *)sqlite3_column_text(q, 0);
+        if (fk) {
+            snprintf(out, size, "foreign_key_check: %s row %lld refers to a missing %s row",
+                     a ? a : "?", (long long)sqlite3_column_int64(q, 1),
+                     (const char *)sqlite3_column_text(q, 2));
+            found = 1;
+        } else if (!a || strcmp(a, "ok") != 0) {
+            snprintf(out, size, "integrity_check: %s", a ? a : "failed");
+            found = 1;
+        }
+    }
+    sqlite3_finalize(q);
+    return found;
+}
+
+/* Walk the chain: contiguous numbers, each hash recomputed from the one before. */
+static int walk(bgi_conn *c, bg_store_check *out, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    char prev[65];
+    int rc = bgi_prepare(c, "SELECT seq, kind, row_id, hash FROM chain ORDER BY seq", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    memset(prev, '0', 64);
+    prev[64] = '\0';
+    while (rc == BG_OK && !out->bad && sqlite3_step(q) == SQLITE_ROW) {
+        long long seq = sqlite3_column_int64(q, 0), id = sqlite3_column_int64(q, 2);
+        const char *kind = (const char *)sqlite3_column_text(q, 1);
+        char stored[65], hex[65];
+        bg_error e2 = BG_ERROR_INIT;
+        int k = kind ? kind_index(kind) : -1;
+        bgi_copy_text(stored, sizeof stored, q, 3);
+        out->bad_seq = seq;
+        if (seq != out->records + 1) {
+            snprintf(out->problem, sizeof out->problem, "record %lld follows record %lld: "
+                     "records of the chain are missing", seq, out->records);
+            out->bad = 1;
+        } else if (k < 0) {
+            snprintf(out->problem, sizeof out->problem, "record %lld names no known table",
+                     seq);
+            out->bad = 1;
+        } else if ((rc = record_hash(c, k, id, prev, hex, &e2)) == BG_EINVAL) {
+            snprintf(out->problem, sizeof out->problem, "record %lld: %.400s (deleted after it "
+                     "was recorded)", seq, e2.msg);
+            out->bad = 1, rc = BG_OK;
+        } else if (rc != BG_OK) {
+            *err = e2;
+        } else if (strcmp(hex, stored) != 0) {
+            snprintf(out->problem, sizeof out->problem, "record %lld (%s %lld) does not match "
+                     "its hash: its content or an earlier record's was changed after it was "
+                     "recorded", seq, kinds[k], id);
+            snprintf(out->bad_kind, sizeof out->bad_kind, "%s", kinds[k]);
+            out->bad_id = id, out->bad = 1;
+        } else {
+            memcpy(prev, hex, sizeof prev);
+            out->records = seq;
+        }
+    }
+    sqlite3_finalize(q);
+    memcpy(out->head, prev, sizeof out->head);
+    return rc;
+}
+
+/* Every row of every chained table is in the chain. */
+static int unchained(bgi_conn *c, bg_store_check *out, bg_error *err)
+{
+    for (int k = 0; k < BGI_CHAIN_KINDS && !out->bad; k++) {
+        char sql[200];
+        sqlite3_stmt *q = NULL;
+        snprintf(sql, sizeof sql, "SELECT rowid FROM %s WHERE rowid NOT IN (SELECT row_id FROM "
+                 "chain WHERE kind = '%s') ORDER BY rowid LIMIT 1", kinds[k], kinds[k]);
+        int rc = bgi_prepare(c, sql, &q, err);
+        if (rc != BG_OK)
+            return rc;
+        if (sqlite3_step(q) == SQLITE_ROW) {
+            out->bad_id = sqlite3_column_int64(q, 0), out->bad = 1;
+            snprintf(out->bad_kind, sizeof out->bad_kind, "%s", kinds[k]);
+            snprintf(out->problem, sizeof out->problem, "%s %lld is not in the record chain "
+                     "(added outside bandgap)", kinds[k], out->bad_id);
+        }
+        sqlite3_finalize(q);
+    }
+    return BG_OK;
+}
+
+int bgi_sqlite_verify(bgi_conn *c, bg_store_check *out, bg_error *err)
+{
+    int found;
+    memset(out, 0, sizeof *out);
+    if ((found = pragma_problem(c, "PRAGMA integrity_check", 0, out->problem,
+                                sizeof out->problem, err)) != 0)
+        return found < 0 ? BG_EDB : (out->bad = 1, BG_OK);
+    out->integrity_ok = 1;
+    if ((found = pragma_problem(c, "PRAGMA foreign_key_check", 1, out->problem,
+                                sizeof out->problem, err)) != 0)
+        return found < 0 ? BG_EDB : (out->bad = 1, BG_OK);
+    out->foreign_keys_ok = 1;
+    int rc = walk(c, out, err);
+    if (rc == BG_OK && !out->bad)
+        rc = unchained(c, out, err);
+    return rc;
+}

@@ -1,0 +1,144 @@
+#!/bin/sh
+# SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
+# The record defends itself (issue 13): every output file appears whole or not at all (a write
+# that fails, through a file size limit or a full device, and a report killed at random
+# moments leave the old file or none, and no temporary file except one named *.tmp.*); an init
+# that fails leaves no file; the finite-number schema keeps every row, id, index and trigger of
+# an older file and refuses infinities in every REAL column, naming the check.
+# Usage: records.sh BANDGAP
+BIN=$1
+HERE=$(cd "$(dirname "$0")" && pwd)
+T=$(mktemp -d)
+trap 'rm -rf "$T"' EXIT
+status=0
+bad() { echo "records: $*"; status=1; }
+B() { "$BIN" --db "$T/r.db" "$@"; }
+# run the program with writes limited to 1-2 KiB (ulimit -f counts 512- or 1024-byte blocks),
+# SIGXFSZ ignored so that the write fails with EFBIG instead of killing it
+limited() { ( trap '' XFSZ; ulimit -f 2; exec "$BIN" "$@" ); }
+
+export SOURCE_DATE_EPOCH=1764547200
+B init > /dev/null
+B lot add L --part P --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1% > /dev/null
+B probe add P-1 --lot L > /dev/null
+B import "$HERE/cli/lib/bath.csv" --probe P-1 --at 2026-11-20T09:00:00Z > /dev/null
+B fit --probe P-1 --model sh3 > /dev/null 2>&1
+B report --run 1 -o "$T/first.html" > /dev/null 2>&1 || bad "setup: report failed"
+
+# 1. a write that fails leaves the old content: report --get, lut -o, lut --report, export -o
+printf 'OLD\n' > "$T/out"
+for what in report lut lut-report export; do
+    case $what in
+    report) limited --db "$T/r.db" report --get 1 -o "$T/out" ;;
+    lut) limited --db "$T/r.db" lut --probe P-1 --range 0C:50C --step 1 --fixed 10k -o "$T/out" ;;
+    lut-report) limited --db "$T/r.db" lut --probe P-1 --range 0C:50C --step 16 --fixed 10k \
+                    --report "$T/out" ;;
+    export) limited --db "$T/r.db" export --probe P-1 --json -o "$T/out" ;;
+    esac > /dev/null 2> "$T/err"
+    rc=$?
+    [ "$rc" -eq 74 ] || bad "$what: a failed write exited $rc, expected 74: $(cat "$T/err")"
+    [ "$(cat "$T/out")" = OLD ] || bad "$what: a failed write changed the old file"
+    [ "$(ls "$T" | grep -c '\.tmp\.')" = 0 ] || bad "$what: a temporary file was left: $(ls "$T")"
+done
+# a new file that cannot be written is not made at all
+limited --db "$T/r.db" report --get 1 -o "$T/new.html" > /dev/null 2>&1
+[ ! -e "$T/new.html" ] || bad "a failed report left new.html ($(wc -c < "$T/new.html") bytes)"
+# a device is written directly, and its error is reported
+if [ -w /dev/full ]; then
+    B lut --probe P-1 --range 0C:50C --step 16 --fixed 10k -o /dev/full > /dev/null 2>&1
+    rc=$?
+    [ "$rc" -eq 74 ] || bad "lut -o /dev/full exited $rc, expected 74"
+fi
+echo "records: failed writes left the old files and no temporary file"
+
+# 2. report --get killed at random moments: the old file or the whole report, never a part
+B report --get 1 -o "$T/whole.html" > /dev/null
+printf 'OLD\n' > "$T/k.html"
+for i in 1 2 3 4 5 6 7 8 9 10 11 12; do
+    "$BIN" --db "$T/r.db" report --get 1 -o "$T/k.html" > /dev/null 2>&1 &
+    pid=$!
+    sleep "$(awk -v s="$i" 'BEGIN { srand(s * 7919); printf "%.3f", rand() * 0.03 }')"
+    kill -9 "$pid" 2>/dev/null
+    wait "$pid" 2>/dev/null
+    if [ "$(cat "$T/k.html")" != OLD ] && ! cmp -s "$T/k.html" "$T/whole.html"; then
+        bad "kill $i: k.html is neither the old file nor the whole report"
+    fi
+    for f in "$T"/*; do
+        case $f in *.tmp.*) rm -f "$f" ;; esac # a killed write may leave one, named so
+    done
+done
+[ -s "$T/k.html" ] || bad "after the kills k.html is empty"
+echo "records: killed reports left the old file or the whole one"
+
+# 3. init: a new database that cannot be initialised is removed; an existing one is kept
+limited --db "$T/full.db" init > /dev/null 2>&1 && bad "init under a 2 KiB limit succeeded"
+[ ! -e "$T/full.db" ] || bad "a failed init left full.db"
+[ "$(ls "$T" | grep -c 'full\.db')" = 0 ] || bad "a failed init left: $(ls "$T" | grep full)"
+cp "$T/r.db" "$T/keep.db"
+before=$(sha256sum < "$T/keep.db")
+limited --db "$T/keep.db" init > /dev/null 2>&1
+[ "$(sha256sum < "$T/keep.db")" = "$before" ] || bad "init changed an existing database"
+echo "records: a failed init left no file"
+
+# 4. the finite-number schema, from a version-5 file with one row in every table
+V5="$T/v5.db"
+for f in "$HERE"/../db/00[1-5]-*.sql; do cat "$f"; done | sqlite3 "$V5" > /dev/null
+sqlite3 "$V5" "PRAGMA application_id = 1111974256; PRAGMA user_version = 5;
+INSERT INTO lot VALUES (1, 'L', 'P', 10000, 3950, 298.15, 358.15, 0.01, 0.01, NULL, 't');
+INSERT INTO probe VALUES (7, 'S', 1, NULL, 't');
+INSERT INTO reference VALUES (3, 'R', 'C', NULL, 'linear', -0.17, 0.002, 293.15, NULL, NULL,
+                              NULL, NULL, NULL, 't');
+INSERT INTO run (id, probe_id, reference_id, started_at, source, t_raw_unit, first_reading,
+                 nreadings, imported_at, measuring_current_a)
+    VALUES (5, 7, 3, 't', 'f.csv', 'C', 11, 1, 't', 1e-5);
+INSERT INTO reading VALUES (11, 5, 2, 25.0, 298.15, 10000.5, 0.002, 0, NULL, NULL);
+INSERT INTO exclusion VALUES (11, 'why', 'who', 't');
+INSERT INTO fit VALUES (9, 5, 'beta', 298.15, 2, 10000, 3950, NULL, NULL, NULL, NULL, NULL, 1, 0,
+                        1, 0.5, NULL, 1.5, 2.5, 298.15, 298.15, '[11]', '0', 't');
+INSERT INTO artifact VALUES (4, 'report', 9, '{}', x'3c703e', 0.01, NULL, '0', 't');
+INSERT INTO part_spec (id, part, tol_k, tol_lo_k, tol_hi_k, created_at)
+    VALUES (2, 'P', 0.2, 273.15, 343.15, 't');"
+dump() { # every row of every table, and the schema of indexes, triggers, views and probe
+    for t in lot probe reference run reading exclusion fit artifact part_spec; do
+        sqlite3 "$1" "SELECT '$t', * FROM $t ORDER BY rowid"
+    done
+    sqlite3 "$1" "SELECT type, name, tbl_name, sql FROM sqlite_schema
+                  WHERE (type IN ('index', 'trigger', 'view') OR name IN ('probe', 'exclusion'))
+                    AND tbl_name <> 'chain' AND name NOT IN ('lot_keep', 'lot_stay',
+                    'probe_keep', 'probe_stay', 'reference_keep', 'reference_stay')
+                  ORDER BY type, name" # (leaving out what 007-record-chain.sql adds)
+}
+dump "$V5" > "$T/before.txt"
+cp "$V5" "$T/inf.db"
+"$BIN" --db "$V5" lot list > /dev/null 2>&1 || bad "the upgrade from version 5 failed"
+dump "$V5" > "$T/after.txt"
+cmp -s "$T/before.txt" "$T/after.txt" ||
+    bad "the upgrade changed rows, ids, indexes or triggers: $(diff "$T/before.txt" "$T/after.txt")"
+"$BIN" --db "$V5" verify > /dev/null 2>&1 || bad "the upgraded version 5 database does not verify"
+[ "$(sqlite3 "$V5" 'PRAGMA integrity_check')" = ok ] || bad "integrity_check after the upgrade"
+[ -z "$(sqlite3 "$V5" 'PRAGMA foreign_key_check')" ] || bad "foreign_key_check after the upgrade"
+# every REAL column refuses +Inf (9e999 in SQL) and -Inf, naming its check
+for tc in lot:r25_ohm lot:beta_k lot:pair_t1_k lot:pair_t2_k reference:lin_c0_k \
+          reference:lin_c1 reference:lin_t0_k run:measuring_current_a reading:t_raw reading:t_k \
+          reading:r_ohm reading:u_t_k reading:u_r_ohm fit:t0_k fit:c0 fit:c1 fit:chi2 \
+          fit:rms_mk fit:max_abs_mk fit:t_min_k fit:t_max_k artifact:max_error_k \
+          part_spec:tol_k part_spec:limit_k part_spec:rate_k; do
+    t=${tc%%:*} c=${tc#*:}
+    # a copy of the stored row with a new id and the value infinite: only that check can fail
+    cols=$(sqlite3 "$V5" "SELECT group_concat(name, ', ') FROM pragma_table_info('$t')
+                          WHERE name NOT IN ('id', '$c')")
+    out=$(sqlite3 "$V5" "INSERT INTO $t (id, $c, $cols) SELECT 1000, 9e999, $cols FROM $t
+                         LIMIT 1" 2>&1)
+    case $out in
+    *"CHECK constraint failed: ${c}_finite"*) ;;
+    *) bad "$t.$c = +Inf: $out" ;;
+    esac
+done
+# an older file with an infinite value is not upgraded and stays as it was
+sqlite3 "$T/inf.db" "UPDATE lot SET r25_ohm = 9e999"
+before=$(sha256sum < "$T/inf.db")
+"$BIN" --db "$T/inf.db" lot list > /dev/null 2> "$T/err" && bad "an Inf row was upgraded"
+grep -q "r25_ohm_finite" "$T/err" || bad "the failed upgrade does not name the check: $(cat "$T/err")"
+[ "$(sha256sum < "$T/inf.db")" = "$before" ] || bad "a failed upgrade changed the file"
+echo "records: the finite-number schema keeps the record and refuses infinities"
+exit $status
