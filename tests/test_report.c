@@ -326,6 +326,25 @@ static void calibration_report_absurd_range(void **state)
     }
 }
 
+/* The record chain's head is the caller's text: a hash that is not hex is shown escaped,
+** in the attribute and in the text (found by the writers fuzz target). */
+static void chain_head_escaped(void **state)
+{
+    (void)state;
+    bg_calib_report r;
+    bg_error err = BG_ERROR_INIT;
+    build_calib(&r, 7);
+    assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
+    bg_chain_head chain = { 12, "\"><img src=x onerror=1>" };
+    bg_report_head h = { 1, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL, &chain };
+    char *html = render("calibration", &r, &h);
+    assert_null(strstr(html, "<img"));
+    assert_non_null(strstr(html, "data-head=\"&quot;&gt;&lt;img src=x onerror=1&gt;\""));
+    assert_non_null(strstr(html, "head &quot;&gt;&lt;img src=x onerror=1&gt; (bandgap verify"));
+    free(html);
+    bg_calib_report_release(&r);
+}
+
 static void lot_report(void **state)
 {
     (void)state;
@@ -514,6 +533,7 @@ int main(void)
         cmocka_unit_test(unclean_text_never_raw),
         cmocka_unit_test(calibration_report_huge_reading),
         cmocka_unit_test(calibration_report_absurd_range),
+        cmocka_unit_test(chain_head_escaped),
         cmocka_unit_test(lot_report),
         cmocka_unit_test(table_report),
         cmocka_unit_test(table_report_24_bits),
