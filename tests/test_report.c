@@ -3,6 +3,8 @@
 ** here, its numbers read back from the HTML bytes (the data-v attribute every number carries)
 ** and compared with values computed independently (scipy, or the closed form named beside
 ** each); hostile text appears only escaped.  The probes and values are invented. */
+#include <float.h>
+
 #include "testutil.h"
 
 static const char *hostile = "<img src=x onerror=1>";
@@ -279,6 +281,70 @@ static void calibration_report_without_covariance(void **state)
     bg_calib_report_release(&r);
 }
 
+/* A reading at the largest double (as a damaged record could hold): the residual and the
+** chart's axis overflow to infinity, and the page still ends, with a bounded number of axis
+** ticks (found by the writers fuzz target: the tick loops never ended and filled memory). */
+static void calibration_report_huge_reading(void **state)
+{
+    (void)state;
+    bg_calib_report r;
+    bg_error err = BG_ERROR_INIT;
+    build_calib(&r, 7);
+    r.readings[8].t_k = DBL_MAX;
+    assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
+    bg_report_head h = { 1, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL, NULL };
+    char *html = render("calibration", &r, &h);
+    assert_true(count(html, "stroke=\"#ccc\"") <= 2 * 64 * 2); /* two charts, two axes */
+    assert_non_null(strstr(html, "</html>"));
+    free(html);
+    bg_calib_report_release(&r);
+}
+
+/* A fit whose calibrated range is absurd (as a damaged record could hold): the R-T table
+** keeps at most 24 rows, and a range that is not finite is refused (found by the writers fuzz
+** target: the table's loop never ended). */
+static void calibration_report_absurd_range(void **state)
+{
+    (void)state;
+    /* the second range is one step of the doubles at 1e20 K (16384 K): its round step of
+    ** 5000 K is lost in rounding */
+    const double lo[] = { 273.15, 1e20, 273.15 }, hi[] = { 1e300, nextafter(1e20, 1e21), INFINITY };
+    for (int k = 0; k < 3; k++) {
+        bg_calib_report r;
+        bg_error err = BG_ERROR_INIT;
+        build_calib(&r, 7);
+        r.fit.t_min_k = lo[k], r.fit.t_max_k = hi[k];
+        int rc = bg_calib_report_compute(&r, &err);
+        if (k < 2) {
+            assert_int_equal(rc, BG_OK);
+            assert_true(r.nrt >= 2 && r.nrt <= 24);
+        } else {
+            assert_int_equal(rc, BG_EINVAL);
+            assert_non_null(strstr(err.msg, "fit 34: its calibrated range"));
+        }
+        bg_calib_report_release(&r);
+    }
+}
+
+/* The record chain's head is the caller's text: a hash that is not hex is shown escaped,
+** in the attribute and in the text (found by the writers fuzz target). */
+static void chain_head_escaped(void **state)
+{
+    (void)state;
+    bg_calib_report r;
+    bg_error err = BG_ERROR_INIT;
+    build_calib(&r, 7);
+    assert_int_equal(bg_calib_report_compute(&r, &err), BG_OK);
+    bg_chain_head chain = { 12, "\"><img src=x onerror=1>" };
+    bg_report_head h = { 1, "2026-03-02T10:00:00Z", NULL, NULL, 0, NULL, &chain };
+    char *html = render("calibration", &r, &h);
+    assert_null(strstr(html, "<img"));
+    assert_non_null(strstr(html, "data-head=\"&quot;&gt;&lt;img src=x onerror=1&gt;\""));
+    assert_non_null(strstr(html, "head &quot;&gt;&lt;img src=x onerror=1&gt; (bandgap verify"));
+    free(html);
+    bg_calib_report_release(&r);
+}
+
 static void lot_report(void **state)
 {
     (void)state;
@@ -300,6 +366,20 @@ static void lot_report(void **state)
     assert_non_null(strstr(html, "A &amp; B"));
     assert_null(strstr(html, "<img"));
     assert_non_null(strstr(html, hostile_esc));
+    free(html);
+    /* deviations that are no number or huge (a damaged record's) in the histogram: no bin
+    ** for NaN, the last bin for 1e300, and no undefined conversion to int (the sanitizer
+    ** suite aborts on one; found by the writers fuzz target) */
+    char serials[2][BG_TEXT] = { "P-1", "P-2" };
+    double dev[2] = { NAN, 1e300 }, b[2] = { 3950.0, 3951.0 };
+    long long ids[2] = { 1, 2 };
+    unsigned flags[2] = { 0, 0 };
+    qs.stats.n = 2, qs.stats.serial = serials, qs.stats.fit_id = ids;
+    qs.stats.r25_dev_pct = dev, qs.stats.b_k = b, qs.stats.max_abs_dev_mk = b;
+    qs.stats.tol_dev_mk = b, qs.stats.flags = flags;
+    qs.stats.r25_dev.min = -1.0, qs.stats.r25_dev.max = 1.0;
+    html = render("lot", &r, &h);
+    assert_non_null(strstr(html, "data-chart=\"histogram\""));
     free(html);
 }
 
@@ -380,6 +460,13 @@ static void table_report(void **state)
     assert_int_equal(count(html, bands), 1);
     assert_int_equal(count(html, "<polyline"), 0);
     free(html);
+    /* the time of generation is the caller's text: shown only escaped (found by the writers
+    ** fuzz target) */
+    bg_report_head hh = { 0, "<img src=x onerror=1>", NULL, NULL, 0, NULL, NULL };
+    html = render("table", &r, &hh);
+    assert_null(strstr(html, "<img"));
+    assert_non_null(strstr(html, "<td>&lt;img src=x onerror=1&gt; by bandgap"));
+    free(html);
     /* every term given (an invented covariance of R0 and B): no "not given", no footnote */
     bg_lut_result_release(&r);
     double cov[4] = { 25.0, 0.0, 0.0, 100.0 };
@@ -444,6 +531,9 @@ int main(void)
         cmocka_unit_test(calibration_report),
         cmocka_unit_test(calibration_report_without_covariance),
         cmocka_unit_test(unclean_text_never_raw),
+        cmocka_unit_test(calibration_report_huge_reading),
+        cmocka_unit_test(calibration_report_absurd_range),
+        cmocka_unit_test(chain_head_escaped),
         cmocka_unit_test(lot_report),
         cmocka_unit_test(table_report),
         cmocka_unit_test(table_report_24_bits),

@@ -104,7 +104,7 @@ BG_API void bg_calib_report_release(bg_calib_report *r);
 ** by 'rule' (Student's t for the fit's degrees of freedom at 95.45 % by default, as 'fit'
 ** prints it) and the R-T table (the validity range's two ends and the multiples of a round
 ** step between them).
-** BG_ENOMEM with a message. */
+** BG_ENOMEM, or BG_EINVAL for a fit whose range is not finite, with a message. */
 BG_API int bg_calib_report_compute(bg_calib_report *r, bg_error *err);
 
 /* Load run 'run_id' and its fit 'fit_id' (0: the run's newest fit), probe, lot, reference

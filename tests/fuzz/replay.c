@@ -5,6 +5,7 @@
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <unistd.h>
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
 
@@ -22,6 +23,7 @@ int main(int argc, char **argv)
         fclose(f);
         LLVMFuzzerTestOneInput(buf, n);
     }
-    printf("replayed %d inputs\n", argc - 1);
+    /* to the descriptor: a target may have pointed 'stdout' elsewhere (fuzz_quiet) */
+    dprintf(STDOUT_FILENO, "replayed %d inputs\n", argc - 1);
     return 0;
 }

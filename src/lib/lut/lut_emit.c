@@ -20,17 +20,27 @@ static int ident_ok(const char *s)
     return 1;
 }
 
-/* Text inside the provenance comment: no comment start or end, no line breaks, ASCII only. */
+/* Text inside the provenance comment: no comment start or end, no line breaks, ASCII only,
+** and no trigraph (gcc -Wall reports one that splices lines, "??/" before a newline). */
+static int comment_char(unsigned char ch)
+{
+    return ch < 0x20 || ch >= 0x7f ? '?' : ch;
+}
+
 static void comment_text(FILE *f, const char *s)
 {
+    int prev = 0;
     for (; *s; s++) {
         unsigned char ch = (unsigned char)*s;
-        if ((ch == '*' && s[1] == '/') || (ch == '/' && s[1] == '*'))
-            fputc(ch, f), fputc(' ', f);
-        else if (ch < 0x20 || ch >= 0x7f)
-            fputc('?', f);
-        else
-            fputc(ch, f);
+        int out = comment_char(ch);
+        if ((ch == '*' && s[1] == '/') || (ch == '/' && s[1] == '*')) {
+            fputc(ch, f), fputc(' ', f), prev = ' ';
+            continue;
+        }
+        if (out == '?' && prev == '?' && s[1] &&
+            strchr("=/'()!<>-", comment_char((unsigned char)s[1])))
+            fputc(' ', f);
+        fputc(out, f), prev = out;
     }
 }
 

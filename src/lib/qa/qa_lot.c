@@ -240,6 +240,21 @@ static int nominal(bg_store *st, bg_qa_lot *l, bg_model *nom, bg_error *err)
     return BG_OK;
 }
 
+/* The stored lot's nominal values and tolerances, which every statistic divides by or scales
+** with: a row the program could not have written (a damaged or edited file) is refused. */
+static int lot_check(const bg_lot *lot, bg_error *err)
+{
+    if (!(lot->r25_ohm > 0.0 && isfinite(lot->r25_ohm) && lot->beta_k > 0.0 &&
+          isfinite(lot->beta_k) && lot->tol_r25 >= 0.0 && lot->tol_r25 < 1.0 &&
+          lot->tol_beta >= 0.0 && lot->tol_beta < 1.0 && lot->pair_t1_k > 0.0 &&
+          isfinite(lot->pair_t1_k) && lot->pair_t2_k > 0.0 && isfinite(lot->pair_t2_k)))
+        return bg_error_set(err, BG_EINVAL, "lot '%s': the stored nominal R25 %g ohm, B %g K, "
+                            "pair %g K/%g K or tolerances %g, %g are not valid (a damaged "
+                            "record)", lot->code, lot->r25_ohm, lot->beta_k, lot->pair_t1_k,
+                            lot->pair_t2_k, lot->tol_r25, lot->tol_beta);
+    return BG_OK;
+}
+
 int bg_qa_lot_stats(bg_store *st, const char *code, const bg_qa_opts *o, bg_qa_lot *out,
                     bg_error *err)
 {
@@ -247,7 +262,9 @@ int bg_qa_lot_stats(bg_store *st, const char *code, const bg_qa_opts *o, bg_qa_l
     bg_model nom;
     int rc;
 
-    if ((rc = bg_store_lot_get(st, code, &out->lot, err)) != BG_OK ||
+    if ((rc = bg_store_lot_get(st, code, &out->lot, err)) != BG_OK)
+        goto done;
+    if ((rc = lot_check(&out->lot, err)) != BG_OK ||
         (rc = bg_store_lot_latest_fits(st, code, o->since, latest_cb, &d, err)) != BG_OK)
         goto done;
     if (d.oom) {

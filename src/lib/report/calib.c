@@ -54,16 +54,23 @@ static int compute_rt(bg_calib_report *r, bg_error *err)
     static const double steps[] = { 1, 2, 5, 10, 20, 25, 50 };
     const bg_fit_row *ft = &r->fit;
     double span = ft->t_max_k - ft->t_min_k, step = 1.0;
+    if (!(isfinite(span) && span >= 0.0))
+        return bg_error_set(err, BG_EINVAL, "fit %lld: its calibrated range %g .. %g K is not "
+                            "a range (a damaged record)", ft->id, ft->t_min_k, ft->t_max_k);
     for (size_t i = 0; i < sizeof steps / sizeof steps[0]; i++)
         if (span / steps[i] <= 22.0) {
             step = steps[i];
             break;
         }
+    while (span / step > 22.0) /* wider than any real range: 500, 5000 ... */
+        step *= 10.0;
     r->rt_step_c = step;
     r->rt_from_c = cdeg(ft->t_min_k), r->rt_to_c = cdeg(ft->t_max_k);
     double first = ceil((r->rt_from_c + 0.25 * step) / step) * step;
     size_t inner = 0;
-    for (double t = first; t < r->rt_to_c - 0.25 * step; t += step)
+    /* at most 22 rows between the ends; the bound also ends the loop where the step is lost
+    ** in rounding (temperatures of 1e17 K and more) */
+    for (double t = first; t < r->rt_to_c - 0.25 * step && inner < 22; t += step)
         inner++;
     size_t n = span > 0.0 ? inner + 2 : 1;
     if (!(r->rt = malloc(n * sizeof *r->rt)))

@@ -227,7 +227,7 @@ static void nice(double lo, double hi, double *a, double *b, double *step, int i
         *a = lo, *b = hi;
 }
 
-enum { W = 640, H = 300, ML = 62, MR = 14, MT = 12, MB = 40 };
+enum { W = 640, H = 300, ML = 62, MR = 14, MT = 12, MB = 40, MAXTICK = 64 };
 
 static double sx(const bgi_html_chart *c, double x)
 {
@@ -250,7 +250,11 @@ static void chart_begin(FILE *f, bgi_html_chart *c, double xlo, double xhi, doub
     bgi_html_esc(f, c->title);
     fprintf(f, "\">\n<rect x=\"%d\" y=\"%d\" width=\"%d\" height=\"%d\" fill=\"none\" "
                "stroke=\"#111\" stroke-width=\"0.8\"/>\n", ML, MT, W - ML - MR, H - MT - MB);
-    for (double v = c->xint ? ceil(c->x0) : c->x0; v <= c->x1 + xs * 1e-9; v += xs) {
+    /* At most MAXTICK ticks an axis: with limits that are huge or not finite (a damaged
+    ** record's values) a step can be lost in rounding, and the loop would never end. */
+    int k = 0;
+    for (double v = c->xint ? ceil(c->x0) : c->x0; v <= c->x1 + xs * 1e-9 && k < MAXTICK;
+         v += xs, k++) {
         double X = sx(c, v);
         fprintf(f, "<line x1=\"%.2f\" y1=\"%d\" x2=\"%.2f\" y2=\"%d\" stroke=\"#ccc\" "
                    "stroke-width=\"0.5\"/><text x=\"%.2f\" y=\"%d\" text-anchor=\"middle\">",
@@ -261,7 +265,8 @@ static void chart_begin(FILE *f, bgi_html_chart *c, double xlo, double xhi, doub
             fprintf(f, "%g", fabs(v) < xs * 1e-9 ? 0.0 : v);
         fputs("</text>\n", f);
     }
-    for (double v = c->y0; v <= c->y1 + ys * 1e-9; v += ys) {
+    k = 0;
+    for (double v = c->y0; v <= c->y1 + ys * 1e-9 && k < MAXTICK; v += ys, k++) {
         double Y = sy(c, v);
         fprintf(f, "<line x1=\"%d\" y1=\"%.2f\" x2=\"%d\" y2=\"%.2f\" stroke=\"#ccc\" "
                    "stroke-width=\"0.5\"/><text x=\"%d\" y=\"%.2f\" text-anchor=\"end\">%g"

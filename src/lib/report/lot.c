@@ -123,9 +123,10 @@ static void histogram(FILE *f, const bg_qa_lot *l)
     for (int k = 0; k <= NBIN; k++)
         edges[k] = lo + (hi - lo) * k / NBIN;
     for (size_t i = 0; i < l->n; i++) {
-        int k = hi > lo ? (int)floor((l->r25_dev_pct[i] - lo) / (hi - lo) * NBIN) : 0;
-        k = k < 0 ? 0 : k >= NBIN ? NBIN - 1 : k;
-        cnt[k]++;
+        double q = hi > lo ? (l->r25_dev_pct[i] - lo) / (hi - lo) * NBIN : 0.0;
+        if (isnan(q)) /* no number (a damaged record's): no bin; clamp before converting */
+            continue;
+        cnt[q < 1.0 ? 0 : q >= NBIN ? NBIN - 1 : (int)q]++;
     }
     for (int k = 0; k < NBIN; k++)
         top = cnt[k] > top ? cnt[k] : top;

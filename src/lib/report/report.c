@@ -77,11 +77,16 @@ void bgi_report_begin(FILE *f, const bg_report_kind *k, const bg_report_head *h,
     char by[64];
     snprintf(by, sizeof by, "bandgap %s", bg_version());
     bgi_report_kv(f, "Issued by", by);
-    if (h->chain)
+    if (h->chain) { /* the hash is the caller's text: escaped like any other */
+        char hash[sizeof h->chain->hash];
+        snprintf(hash, sizeof hash, "%.64s", h->chain->hash);
         fprintf(f, "<tr><th>Record chain</th><td id=\"chain\" data-records=\"%lld\" "
-                   "data-head=\"%s\">issued on record %lld, head %.64s (bandgap verify "
-                   "checks it)</td></tr>\n", h->chain->records, h->chain->hash,
-                h->chain->records, h->chain->hash);
+                   "data-head=\"", h->chain->records);
+        bgi_html_esc(f, hash);
+        fprintf(f, "\">issued on record %lld, head ", h->chain->records);
+        bgi_html_esc(f, hash);
+        fputs(" (bandgap verify checks it)</td></tr>\n", f);
+    }
     fputs("</table>\n", f);
 }
 

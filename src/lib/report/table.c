@@ -18,8 +18,9 @@ static void table_head(FILE *f, const bg_lut_result *r, const bg_report_head *h)
     bg_model_name(&s->model, name, sizeof name);
     bg_lut_value_unit(s, vu, sizeof vu);
     fputs("<h1>Firmware table report</h1>\n<table class=\"kv\" id=\"table\">\n", f);
-    fprintf(f, "<tr><th>Generated</th><td>%s by bandgap %s</td></tr>\n", h->issued ? h->issued
-            : "", bg_version());
+    fputs("<tr><th>Generated</th><td>", f);
+    bgi_html_esc(f, h->issued ? h->issued : "");
+    fprintf(f, " by bandgap %s</td></tr>\n", bg_version());
     fprintf(f, "<tr><th>Model</th><td>%s", name);
     for (size_t i = 0; i < bg_model_npar(&s->model); i++)
         fprintf(f, " %s = %.9e", bg_model_coef_name(&s->model, i), s->model.coef[i]);

@@ -72,7 +72,8 @@ int bgi_sqlite_artifact_get(bgi_conn *c, long long id, bg_artifact *a, bg_error 
         a->id = id;
         bgi_copy_text(a->kind, sizeof a->kind, q, 0);
         a->fit_id = sqlite3_column_int64(q, 1);
-        a->spec = strdup((const char *)sqlite3_column_text(q, 2));
+        const char *spec = (const char *)sqlite3_column_text(q, 2); /* NULL if forged */
+        a->spec = strdup(spec ? spec : "");
         a->len = (size_t)sqlite3_column_bytes(q, 3);
         a->content = malloc(a->len + 1);
         if (a->content) {
