@@ -10,6 +10,7 @@
 #include <gsl/gsl_rng.h>
 
 #include "testutil.h"
+#include "../src/lib/fit/fit_int.h"
 
 /* ---- NIST StRD through the linear core ---- */
 
@@ -1072,6 +1073,56 @@ static void batch_own_finish_matches(void **state)
     }
 }
 
+/* Each of the batch's kernels (portable C11, and AVX2 where this build and processor have it)
+** against the per-probe path, and the two against each other bit for bit: they do the same
+** operations in the same order on every lane. */
+static void batch_kernels_agree(void **state)
+{
+    (void)state;
+    static const char *models[] = { "sh3", "beta", "sh4" };
+    static const int kernels[] = { BGI_KERNEL_PORTABLE, BGI_KERNEL_AVX2 };
+    bg_point *pts = invented_lot(37, 10, 7700);
+    pts[6 * 10 + 4].t_k += 0.4;                              /* a blunder: outlier note */
+    for (size_t mk = 0; mk < 3; mk++)
+        for (int refine = 0; refine < 2; refine++) {
+            bg_fit out[2][37];
+            bg_error errs[2][37];
+            bg_model m;
+            assert_int_equal(bg_model_parse(models[mk], &m, NULL), BG_OK);
+            bg_fit_opts o = bg_fit_default_opts(&m);
+            o.refine = refine;
+            memset(out, 0, sizeof out);
+            for (size_t k = 0; k < 2; k++) {
+                bg_fitter *fr = bg_fitter_new();
+                if (!bgi_batch_kernel_usable(kernels[k])) {
+                    print_message("batch kernel %d: not in this build or processor, not run\n",
+                                  kernels[k]);
+                    bg_fitter_free(fr);
+                    continue;
+                }
+                fr->batch_kernel = kernels[k];
+                run_batch_and_check(fr, pts, 37, 10, &o);
+                assert_int_equal(bg_fitter_run_batch(fr, pts, 37, 10, &o, NULL, out[k], errs[k]),
+                                 BG_OK);
+                bg_fitter_free(fr);
+            }
+            if (bgi_batch_kernel_usable(BGI_KERNEL_AVX2))
+                for (size_t p = 0; p < 37; p++) {
+                    assert_int_equal(errs[0][p].code, errs[1][p].code);
+                    assert_memory_equal(out[0][p].model.coef, out[1][p].model.coef,
+                                        sizeof out[0][p].model.coef);
+                    assert_memory_equal(out[0][p].cov, out[1][p].cov, sizeof out[0][p].cov);
+                    assert_memory_equal(out[0][p].student, out[1][p].student,
+                                        10 * sizeof(double));
+                    assert_memory_equal(&out[0][p].chi2, &out[1][p].chi2, sizeof(double));
+                }
+            for (size_t k = 0; k < 2; k++)
+                for (size_t p = 0; p < 37; p++)
+                    bg_fit_release(&out[k][p]);
+        }
+    free(pts);
+}
+
 /* One batch result against an independent value: the weighted linear sh3 fit of an invented
 ** probe, coefficients from numpy.linalg.lstsq on the rows scaled by T^2/u (numpy 1.24,
 ** /usr/bin/python3). */
@@ -1139,6 +1190,7 @@ int main(void)
         cmocka_unit_test(batch_matches_per_probe),
         cmocka_unit_test(batch_degenerate_probes),
         cmocka_unit_test(batch_own_finish_matches),
+        cmocka_unit_test(batch_kernels_agree),
         cmocka_unit_test(batch_linear_numpy),
     };
     return cmocka_run_group_tests_name("fit", tests, NULL, NULL);
