@@ -10,6 +10,7 @@
 ** follow (step halving, a refused design, u(R) carried through the slope) is left to
 ** bg_fitter_run for that probe alone.  The results come out through fit.c's own finishing
 ** code, so they equal the per-probe path's. */
+#include <float.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -61,6 +62,65 @@ BG_INLINE void pivot_swap(double *restrict A, struct qr_lanes *q, const double *
         }
 }
 
+/* pivot_swap when every lane takes column 'j'. */
+BG_INLINE void pivot_all(double *restrict A, struct qr_lanes *q, size_t n, size_t k, size_t j)
+{
+    double *restrict ck = A + k * n * LANES, *restrict cj = A + j * n * LANES;
+    EACH(l) {
+        double pk = q->perm[k][l], wk = q->work[k][l];
+        q->perm[k][l] = q->perm[j][l], q->perm[j][l] = pk;
+        q->work[k][l] = q->work[j][l], q->work[j][l] = wk;
+    }
+    for (size_t i = 0; i < n * LANES; i++) {
+        double vk = ck[i];
+        ck[i] = cj[i], cj[i] = vk;
+    }
+}
+
+/* Undo the pivoting (the end of qr_lanes): position i holds column perm[i], whose norm is
+** cs[i]; the solution into 'c', the covariance from R^-1 ('q->Ri') into 'cov'.  When every
+** lane has the same permutation (the usual case) it is applied as indices, without selects. */
+BG_INLINE void unpivot_lanes(const struct qr_lanes *q, size_t p, lane *c, lane *cov)
+{
+    lane cs[MAXB];
+    size_t pm[MAXB];
+    int same = 1;
+    for (size_t i = 0; i < p; i++) {
+        EACH(l) same &= q->perm[i][l] == q->perm[i][0];
+        pm[i] = (size_t)q->perm[i][0];
+    }
+    for (size_t i = 0; i < p; i++)
+        for (size_t col = 0; col < p; col++)
+            EACH(l) cs[i][l] = q->perm[i][l] == (double)col ? q->colscale[col][l] : cs[i][l];
+    for (size_t i = 0; i < p; i++) {
+        lane v;
+        EACH(l) v[l] = q->z[i][l] / cs[i][l];
+        if (same)
+            EACH(l) c[pm[i]][l] = v[l];
+        else
+            for (size_t col = 0; col < p; col++)
+                EACH(l) c[col][l] = q->perm[i][l] == (double)col ? v[l] : c[col][l];
+        for (size_t j = i; j < p; j++) {
+            lane s = { 0 };
+            for (size_t k = j; k < p; k++)
+                EACH(l) s[l] += q->Ri[i * p + k][l] * q->Ri[j * p + k][l];
+            EACH(l) s[l] /= cs[i][l] * cs[j][l];
+            if (same) {
+                EACH(l) cov[pm[i] * p + pm[j]][l] = s[l];
+                EACH(l) cov[pm[j] * p + pm[i]][l] = s[l];
+                continue;
+            }
+            for (size_t ci = 0; ci < p; ci++)
+                for (size_t cj = 0; cj < p; cj++)
+                    EACH(l) {
+                        int m = q->perm[i][l] == (double)ci && q->perm[j][l] == (double)cj;
+                        cov[ci * p + cj][l] = m ? s[l] : cov[ci * p + cj][l];
+                        cov[cj * p + ci][l] = m ? s[l] : cov[cj * p + ci][l];
+                    }
+        }
+    }
+}
+
 /* Long on purpose: linfit.c's qr_core for LANES probes at once, step for step (equilibration,
 ** pivoted Householder sweep, condition estimate, back substitution, (R^T R)^-1), with the
 ** lane loop innermost; split up it would pass the same scratch to every part and lose the
@@ -94,8 +154,13 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
                 int m = q->work[j][l] > bw[l];
                 best[l] = m ? (double)j : best[l], bw[l] = m ? q->work[j][l] : bw[l];
             }
-        for (size_t j = k + 1; j < p; j++)
-            pivot_swap(A, q, best, n, k, j);
+        int same = 1;
+        EACH(l) same &= best[l] == best[0];
+        if (!same)
+            for (size_t j = k + 1; j < p; j++)
+                pivot_swap(A, q, best, n, k, j);
+        else if ((size_t)best[0] != k) /* every lane pivots alike, the usual case: no selects */
+            pivot_all(A, q, n, k, (size_t)best[0]);
         double *restrict v = A + k * n * LANES;
         for (size_t i = k; i < n; i++)
             EACH(l) norm2[l] += v[i * LANES + l] * v[i * LANES + l];
@@ -158,30 +223,7 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
             EACH(l) q->Ri[ii * p + j][l] = -s[l] / q->R[ii * p + ii][l];
         }
     }
-    /* Undo the pivoting lane by lane: position i holds column perm[i], whose norm is cs[i]. */
-    lane cs[MAXB];
-    for (size_t i = 0; i < p; i++)
-        for (size_t col = 0; col < p; col++)
-            EACH(l) cs[i][l] = q->perm[i][l] == (double)col ? q->colscale[col][l] : cs[i][l];
-    for (size_t i = 0; i < p; i++) {
-        lane v;
-        EACH(l) v[l] = q->z[i][l] / cs[i][l];
-        for (size_t col = 0; col < p; col++)
-            EACH(l) c[col][l] = q->perm[i][l] == (double)col ? v[l] : c[col][l];
-        for (size_t j = i; j < p; j++) {
-            lane s = { 0 };
-            for (size_t k = j; k < p; k++)
-                EACH(l) s[l] += q->Ri[i * p + k][l] * q->Ri[j * p + k][l];
-            EACH(l) s[l] /= cs[i][l] * cs[j][l];
-            for (size_t ci = 0; ci < p; ci++)
-                for (size_t cj = 0; cj < p; cj++)
-                    EACH(l) {
-                        int m = q->perm[i][l] == (double)ci && q->perm[j][l] == (double)cj;
-                        cov[ci * p + cj][l] = m ? s[l] : cov[ci * p + cj][l];
-                        cov[cj * p + ci][l] = m ? s[l] : cov[cj * p + ci][l];
-                    }
-        }
-    }
+    unpivot_lanes(q, p, c, cov);
     for (size_t j = 0; j < p; j++)
         EACH(l) scale[j][l] = q->colscale[j][l];
 }
@@ -284,7 +326,7 @@ BG_INLINE void refine_lanes(struct lanes *z, struct qr_lanes *q, const bg_fit_op
 ** studentized residuals into z->b ([i][l], free once the solve is done); flag[l] becomes 1
 ** where a residual exceeds the outlier limit (a note is due: bgi_fit_finish writes it). */
 struct fin_lanes {
-    lane chi2, ss, mx, tmin, tmax, flag, weighted;
+    lane chi2, ss, mx, tmin, tmax, lmin, lmax, flag, weighted;
 };
 
 BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, size_t dof,
@@ -295,8 +337,9 @@ BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, siz
     double *restrict st = z->b, floor_k = o->resolution_k / sqrt(12.0);
     double dd = (double)(dof - 1);
     int dof_ok = dof > 1;
-    lane chi2 = { 0 }, ss = { 0 }, mx = { 0 }, tmin, tmax, wt, flag = { 0 };
+    lane chi2 = { 0 }, ss = { 0 }, mx = { 0 }, tmin, tmax, lmin, lmax, wt, flag = { 0 };
     EACH(l) tmin[l] = INFINITY, tmax[l] = -INFINITY, wt[l] = f->weighted[l];
+    EACH(l) lmin[l] = INFINITY, lmax[l] = -INFINITY;
     for (size_t i = 0; i < n; i++)
         EACH(l) {
             double t = T[i * LANES + l], r = t - tm[i * LANES + l], u = U[i * LANES + l];
@@ -306,6 +349,8 @@ BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, siz
             mx[l] = a > mx[l] ? a : mx[l];
             tmin[l] = t < tmin[l] ? t : tmin[l];
             tmax[l] = t > tmax[l] ? t : tmax[l];
+            double L = z->L[i * LANES + l]; /* for fit.c's monotonic_note */
+            lmin[l] = L < lmin[l] ? L : lmin[l], lmax[l] = L > lmax[l] ? L : lmax[l];
         }
     for (size_t i = 0; i < n; i++) {
         lane h = { 0 };
@@ -337,18 +382,16 @@ BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, siz
     EACH(l) {
         f->chi2[l] = chi2[l], f->ss[l] = ss[l], f->mx[l] = mx[l];
         f->tmin[l] = tmin[l], f->tmax[l] = tmax[l], f->flag[l] = flag[l];
+        f->lmin[l] = lmin[l], f->lmax[l] = lmax[l];
     }
 }
 
 /* fit.c's monotonic_note's test on lane 'l' with the basis coefficients 'a' in power slots:
 ** 1 when the slope stays positive over the calibrated range. */
-static int monotonic_lane(const struct lanes *z, size_t l, const bg_fit_opts *o, const double *a)
+static int monotonic_lane(const struct fin_lanes *f, size_t l, const bg_fit_opts *o,
+                          const double *a)
 {
-    double lmin = INFINITY, lmax = -INFINITY;
-    for (size_t i = 0; i < z->n; i++) {
-        double L = z->L[i * LANES + l];
-        lmin = L < lmin ? L : lmin, lmax = L > lmax ? L : lmax;
-    }
+    double lmin = f->lmin[l], lmax = f->lmax[l];
     int steps = (bg_model_flags(&o->model) & BG_MODEL_SLOPE_MONOTONIC) ? 1 : 64;
     for (int s = 0; s <= steps; s++) {
         double L = lmin + (lmax - lmin) * s / (double)steps, d = 0.0, pwr = 1.0;
@@ -422,7 +465,7 @@ static int finish_lane(const struct fin_job *fj, size_t l, const bg_point *pts, 
         out->model.coef[j] = 0.0;
     if (bg_model_check_finite(&out->model, out->cov, NULL) != BG_OK)
         return 0;
-    return monotonic_lane(z, l, o, a);
+    return monotonic_lane(fj->f, l, o, a);
 }
 
 enum { LANE_BATCH, LANE_ALONE, LANE_DONE };
@@ -604,18 +647,19 @@ static int out_reserve(bg_fit *f, size_t n)
 static int quick_check(const bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
                        size_t npar, int *weighted, bg_fit *out)
 {
-    int any_u = 0, all_u = 1;
+    int ok = 1, any_u = 0, all_u = 1;
+    double prev = 0.0; /* above 0 K, and each point above the last */
     if (fr->cap < n || n < npar || n == 0 || out_reserve(out, n) != BG_OK)
         return 0;
-    for (size_t i = 0; i < n; i++) {
-        const bg_point *p = &pts[i];
-        if (!isfinite(p->t_k) || !isfinite(p->r_ohm) || !isfinite(p->u_t_k) ||
-            !isfinite(p->u_r_ohm) || !(p->r_ohm > 0.0) || !(p->t_k > 0.0) || p->u_t_k < 0.0 ||
-            p->u_r_ohm < 0.0 || (i > 0 && !(p->t_k > pts[i - 1].t_k)))
-            return 0;
-        int has = p->u_t_k > 0.0 || p->u_r_ohm > 0.0;
-        any_u |= has, all_u &= has;
+    for (size_t i = 0; i < n; i++) { /* without branches: isfinite(x) is |x| <= DBL_MAX */
+        double t = pts[i].t_k, r = pts[i].r_ohm, ut = pts[i].u_t_k, ur = pts[i].u_r_ohm;
+        ok &= (fabs(t) <= DBL_MAX) & (fabs(r) <= DBL_MAX) & (fabs(ut) <= DBL_MAX) &
+              (fabs(ur) <= DBL_MAX) & (r > 0.0) & (t > prev) & (ut >= 0.0) & (ur >= 0.0);
+        int has = (ut > 0.0) | (ur > 0.0);
+        any_u |= has, all_u &= has, prev = t;
     }
+    if (!ok)
+        return 0;
     if (any_u && !all_u)
         return 0;
     size_t nd = 1, start = 0;
