@@ -10,6 +10,7 @@
 #include <gsl/gsl_rng.h>
 
 #include "testutil.h"
+#include "../src/lib/fit/fit_int.h"
 
 /* ---- NIST StRD through the linear core ---- */
 
@@ -899,9 +900,26 @@ static void check_against_alone(bg_fitter *fr, const bg_point *pts, size_t n,
             d = fmax(d, rel_diff(got->cov[k], f.cov[k]));
         d = fmax(d, fmax(rel_diff(got->chi2, f.chi2), rel_diff(got->rcond, f.rcond)));
         d = fmax(d, rel_diff(got->cov_scale, f.cov_scale));
-        for (size_t i = 0; i < n; i++)
+        /* every other field of the result, since the batch writes its own */
+        assert_int_equal(got->npar, f.npar);
+        assert_int_equal(got->dof, f.dof);
+        assert_int_equal(got->weighted, f.weighted);
+        assert_int_equal(got->ndistinct, f.ndistinct);
+        for (size_t k = 0; k < BG_MODEL_MAXPAR; k++)
+            d = fmax(d, rel_diff(got->model.coef[k], f.model.coef[k]));
+        for (size_t k = 0; k < BG_MODEL_MAXPAR * BG_MODEL_MAXPAR; k++)
+            d = fmax(d, fmax(rel_diff(got->cov[k], f.cov[k]), rel_diff(got->pcov[k], f.pcov[k])));
+        d = fmax(d, fmax(rel_diff(got->reduced_chi2, f.reduced_chi2),
+                         rel_diff(got->p_value, f.p_value)));
+        d = fmax(d, fmax(rel_diff(got->rms_mk, f.rms_mk), rel_diff(got->max_abs_mk, f.max_abs_mk)));
+        d = fmax(d, fmax(rel_diff(got->aic, f.aic), rel_diff(got->bic, f.bic)));
+        d = fmax(d, fmax(rel_diff(got->t_min_k, f.t_min_k), rel_diff(got->t_max_k, f.t_max_k)));
+        for (size_t i = 0; i < n; i++) {
             d = fmax(d, fmax(rel_diff(got->resid_mk[i], f.resid_mk[i]),
                              rel_diff(got->student[i], f.student[i])));
+            d = fmax(d, rel_diff(got->u_k[i], f.u_k[i]));
+            assert_int_equal(got->line[i], f.line[i]);
+        }
         assert_true(d <= 1e-12);
     }
     bg_fit_release(&f);
@@ -1010,6 +1028,101 @@ static void batch_degenerate_probes(void **state)
     bg_fitter_free(fr);
 }
 
+/* The batch's own guard rails and finish (points in rising temperature, nothing to remark)
+** against the per-probe path, and each way out of them: points in another order, a repeated
+** reading, no uncertainties, uncertainties overstated (chi2 too small) and understated (too
+** large), one degree of freedom (no studentized residuals), a fresh fitter (no chi2 limits
+** known yet), a lot given coldest last. */
+static void batch_own_finish_matches(void **state)
+{
+    (void)state;
+    bg_model m;
+    bg_model_parse("sh3", &m, NULL);
+    bg_fit_opts o = bg_fit_default_opts(&m);
+    for (int refine = 1; refine >= 0; refine--) {
+        bg_fitter *fr = bg_fitter_new();
+        o.refine = refine;
+        bg_point *pts = invented_lot(24, 10, 7400);
+        bg_point t = pts[1 * 10 + 3];                       /* probe 1: two readings swapped */
+        pts[1 * 10 + 3] = pts[1 * 10 + 6], pts[1 * 10 + 6] = t;
+        pts[3 * 10 + 5] = pts[3 * 10 + 4];                  /* probe 3: a repeated reading */
+        for (size_t i = 0; i < 10; i++) {
+            pts[5 * 10 + i].u_t_k = 0.0;                    /* probe 5: no uncertainties */
+            pts[9 * 10 + i].u_t_k = 0.5;                    /* probe 9: overstated */
+            pts[10 * 10 + i].u_t_k = 1e-5;                  /* probe 10: understated */
+        }
+        run_batch_and_check(fr, pts, 24, 10, &o);
+        for (size_t p = 0; p < 24; p++)                     /* every probe coldest last */
+            for (size_t i = 0; i < 5; i++) {
+                bg_point x = pts[p * 10 + i];
+                pts[p * 10 + i] = pts[p * 10 + 9 - i], pts[p * 10 + 9 - i] = x;
+            }
+        run_batch_and_check(fr, pts, 24, 10, &o);
+        free(pts);
+        pts = invented_lot(17, 4, 7500);                    /* one degree of freedom */
+        run_batch_and_check(fr, pts, 17, 4, &o);
+        free(pts);
+        for (size_t s = 0; s < 2; s++) {                    /* no uncertainty anywhere */
+            pts = invented_lot(16, 10, 7600 + s);
+            for (size_t k = 0; k < 160; k++)
+                pts[k].u_t_k = 0.0;
+            run_batch_and_check(fr, pts, 16, 10, &o);
+            free(pts);
+        }
+        bg_fitter_free(fr);
+    }
+}
+
+/* Each of the batch's kernels (portable C11, and AVX2 where this build and processor have it)
+** against the per-probe path, and the two against each other bit for bit: they do the same
+** operations in the same order on every lane. */
+static void batch_kernels_agree(void **state)
+{
+    (void)state;
+    static const char *models[] = { "sh3", "beta", "sh4" };
+    static const int kernels[] = { BGI_KERNEL_PORTABLE, BGI_KERNEL_AVX2 };
+    bg_point *pts = invented_lot(37, 10, 7700);
+    pts[6 * 10 + 4].t_k += 0.4;                              /* a blunder: outlier note */
+    for (size_t mk = 0; mk < 3; mk++)
+        for (int refine = 0; refine < 2; refine++) {
+            bg_fit out[2][37];
+            bg_error errs[2][37];
+            bg_model m;
+            assert_int_equal(bg_model_parse(models[mk], &m, NULL), BG_OK);
+            bg_fit_opts o = bg_fit_default_opts(&m);
+            o.refine = refine;
+            memset(out, 0, sizeof out);
+            for (size_t k = 0; k < 2; k++) {
+                bg_fitter *fr = bg_fitter_new();
+                if (!bgi_batch_kernel_usable(kernels[k])) {
+                    print_message("batch kernel %d: not in this build or processor, not run\n",
+                                  kernels[k]);
+                    bg_fitter_free(fr);
+                    continue;
+                }
+                fr->batch_kernel = kernels[k];
+                run_batch_and_check(fr, pts, 37, 10, &o);
+                assert_int_equal(bg_fitter_run_batch(fr, pts, 37, 10, &o, NULL, out[k], errs[k]),
+                                 BG_OK);
+                bg_fitter_free(fr);
+            }
+            if (bgi_batch_kernel_usable(BGI_KERNEL_AVX2))
+                for (size_t p = 0; p < 37; p++) {
+                    assert_int_equal(errs[0][p].code, errs[1][p].code);
+                    assert_memory_equal(out[0][p].model.coef, out[1][p].model.coef,
+                                        sizeof out[0][p].model.coef);
+                    assert_memory_equal(out[0][p].cov, out[1][p].cov, sizeof out[0][p].cov);
+                    assert_memory_equal(out[0][p].student, out[1][p].student,
+                                        10 * sizeof(double));
+                    assert_memory_equal(&out[0][p].chi2, &out[1][p].chi2, sizeof(double));
+                }
+            for (size_t k = 0; k < 2; k++)
+                for (size_t p = 0; p < 37; p++)
+                    bg_fit_release(&out[k][p]);
+        }
+    free(pts);
+}
+
 /* One batch result against an independent value: the weighted linear sh3 fit of an invented
 ** probe, coefficients from numpy.linalg.lstsq on the rows scaled by T^2/u (numpy 1.24,
 ** /usr/bin/python3). */
@@ -1076,6 +1189,8 @@ int main(void)
         cmocka_unit_test(coefficient_uncertainties),
         cmocka_unit_test(batch_matches_per_probe),
         cmocka_unit_test(batch_degenerate_probes),
+        cmocka_unit_test(batch_own_finish_matches),
+        cmocka_unit_test(batch_kernels_agree),
         cmocka_unit_test(batch_linear_numpy),
     };
     return cmocka_run_group_tests_name("fit", tests, NULL, NULL);

@@ -10,6 +10,7 @@
 ** follow (step halving, a refused design, u(R) carried through the slope) is left to
 ** bg_fitter_run for that probe alone.  The results come out through fit.c's own finishing
 ** code, so they equal the per-probe path's. */
+#include <float.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -61,6 +62,65 @@ BG_INLINE void pivot_swap(double *restrict A, struct qr_lanes *q, const double *
         }
 }
 
+/* pivot_swap when every lane takes column 'j'. */
+BG_INLINE void pivot_all(double *restrict A, struct qr_lanes *q, size_t n, size_t k, size_t j)
+{
+    double *restrict ck = A + k * n * LANES, *restrict cj = A + j * n * LANES;
+    EACH(l) {
+        double pk = q->perm[k][l], wk = q->work[k][l];
+        q->perm[k][l] = q->perm[j][l], q->perm[j][l] = pk;
+        q->work[k][l] = q->work[j][l], q->work[j][l] = wk;
+    }
+    for (size_t i = 0; i < n * LANES; i++) {
+        double vk = ck[i];
+        ck[i] = cj[i], cj[i] = vk;
+    }
+}
+
+/* Undo the pivoting (the end of qr_lanes): position i holds column perm[i], whose norm is
+** cs[i]; the solution into 'c', the covariance from R^-1 ('q->Ri') into 'cov'.  When every
+** lane has the same permutation (the usual case) it is applied as indices, without selects. */
+BG_INLINE void unpivot_lanes(const struct qr_lanes *q, size_t p, lane *c, lane *cov)
+{
+    lane cs[MAXB];
+    size_t pm[MAXB];
+    int same = 1;
+    for (size_t i = 0; i < p; i++) {
+        EACH(l) same &= q->perm[i][l] == q->perm[i][0];
+        pm[i] = (size_t)q->perm[i][0];
+    }
+    for (size_t i = 0; i < p; i++)
+        for (size_t col = 0; col < p; col++)
+            EACH(l) cs[i][l] = q->perm[i][l] == (double)col ? q->colscale[col][l] : cs[i][l];
+    for (size_t i = 0; i < p; i++) {
+        lane v;
+        EACH(l) v[l] = q->z[i][l] / cs[i][l];
+        if (same)
+            EACH(l) c[pm[i]][l] = v[l];
+        else
+            for (size_t col = 0; col < p; col++)
+                EACH(l) c[col][l] = q->perm[i][l] == (double)col ? v[l] : c[col][l];
+        for (size_t j = i; j < p; j++) {
+            lane s = { 0 };
+            for (size_t k = j; k < p; k++)
+                EACH(l) s[l] += q->Ri[i * p + k][l] * q->Ri[j * p + k][l];
+            EACH(l) s[l] /= cs[i][l] * cs[j][l];
+            if (same) {
+                EACH(l) cov[pm[i] * p + pm[j]][l] = s[l];
+                EACH(l) cov[pm[j] * p + pm[i]][l] = s[l];
+                continue;
+            }
+            for (size_t ci = 0; ci < p; ci++)
+                for (size_t cj = 0; cj < p; cj++)
+                    EACH(l) {
+                        int m = q->perm[i][l] == (double)ci && q->perm[j][l] == (double)cj;
+                        cov[ci * p + cj][l] = m ? s[l] : cov[ci * p + cj][l];
+                        cov[cj * p + ci][l] = m ? s[l] : cov[cj * p + ci][l];
+                    }
+        }
+    }
+}
+
 /* Long on purpose: linfit.c's qr_core for LANES probes at once, step for step (equilibration,
 ** pivoted Householder sweep, condition estimate, back substitution, (R^T R)^-1), with the
 ** lane loop innermost; split up it would pass the same scratch to every part and lose the
@@ -94,8 +154,13 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
                 int m = q->work[j][l] > bw[l];
                 best[l] = m ? (double)j : best[l], bw[l] = m ? q->work[j][l] : bw[l];
             }
-        for (size_t j = k + 1; j < p; j++)
-            pivot_swap(A, q, best, n, k, j);
+        int same = 1;
+        EACH(l) same &= best[l] == best[0];
+        if (!same)
+            for (size_t j = k + 1; j < p; j++)
+                pivot_swap(A, q, best, n, k, j);
+        else if ((size_t)best[0] != k) /* every lane pivots alike, the usual case: no selects */
+            pivot_all(A, q, n, k, (size_t)best[0]);
         double *restrict v = A + k * n * LANES;
         for (size_t i = k; i < n; i++)
             EACH(l) norm2[l] += v[i * LANES + l] * v[i * LANES + l];
@@ -158,30 +223,7 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
             EACH(l) q->Ri[ii * p + j][l] = -s[l] / q->R[ii * p + ii][l];
         }
     }
-    /* Undo the pivoting lane by lane: position i holds column perm[i], whose norm is cs[i]. */
-    lane cs[MAXB];
-    for (size_t i = 0; i < p; i++)
-        for (size_t col = 0; col < p; col++)
-            EACH(l) cs[i][l] = q->perm[i][l] == (double)col ? q->colscale[col][l] : cs[i][l];
-    for (size_t i = 0; i < p; i++) {
-        lane v;
-        EACH(l) v[l] = q->z[i][l] / cs[i][l];
-        for (size_t col = 0; col < p; col++)
-            EACH(l) c[col][l] = q->perm[i][l] == (double)col ? v[l] : c[col][l];
-        for (size_t j = i; j < p; j++) {
-            lane s = { 0 };
-            for (size_t k = j; k < p; k++)
-                EACH(l) s[l] += q->Ri[i * p + k][l] * q->Ri[j * p + k][l];
-            EACH(l) s[l] /= cs[i][l] * cs[j][l];
-            for (size_t ci = 0; ci < p; ci++)
-                for (size_t cj = 0; cj < p; cj++)
-                    EACH(l) {
-                        int m = q->perm[i][l] == (double)ci && q->perm[j][l] == (double)cj;
-                        cov[ci * p + cj][l] = m ? s[l] : cov[ci * p + cj][l];
-                        cov[cj * p + ci][l] = m ? s[l] : cov[cj * p + ci][l];
-                    }
-        }
-    }
+    unpivot_lanes(q, p, c, cov);
     for (size_t j = 0; j < p; j++)
         EACH(l) scale[j][l] = q->colscale[j][l];
 }
@@ -279,6 +321,153 @@ BG_INLINE void refine_lanes(struct lanes *z, struct qr_lanes *q, const bg_fit_op
     EACH(l) z->halve[l] = z->run[l] != 0.0 ? 1.0 : z->halve[l]; /* not converged */
 }
 
+
+/* fit.c's fit_statistics and studentize across the lanes: the sums in the same order, the
+** studentized residuals into z->b ([i][l], free once the solve is done); flag[l] becomes 1
+** where a residual exceeds the outlier limit (a note is due: bgi_fit_finish writes it). */
+struct fin_lanes {
+    lane chi2, ss, mx, tmin, tmax, lmin, lmax, flag, weighted;
+};
+
+BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, size_t dof,
+                            struct fin_lanes *f)
+{
+    size_t n = z->n;
+    const double *restrict T = z->t, *restrict tm = z->tm, *restrict U = z->u, *restrict G = z->G;
+    double *restrict st = z->b, floor_k = o->resolution_k / sqrt(12.0);
+    double dd = (double)(dof - 1);
+    int dof_ok = dof > 1;
+    lane chi2 = { 0 }, ss = { 0 }, mx = { 0 }, tmin, tmax, lmin, lmax, wt, flag = { 0 };
+    EACH(l) tmin[l] = INFINITY, tmax[l] = -INFINITY, wt[l] = f->weighted[l];
+    EACH(l) lmin[l] = INFINITY, lmax[l] = -INFINITY;
+    for (size_t i = 0; i < n; i++)
+        EACH(l) {
+            double t = T[i * LANES + l], r = t - tm[i * LANES + l], u = U[i * LANES + l];
+            double a = fabs(r);
+            chi2[l] += (r / u) * (r / u);
+            ss[l] += r * r;
+            mx[l] = a > mx[l] ? a : mx[l];
+            tmin[l] = t < tmin[l] ? t : tmin[l];
+            tmax[l] = t > tmax[l] ? t : tmax[l];
+            double L = z->L[i * LANES + l]; /* for fit.c's monotonic_note */
+            lmin[l] = L < lmin[l] ? L : lmin[l], lmax[l] = L > lmax[l] ? L : lmax[l];
+        }
+    for (size_t i = 0; i < n; i++) {
+        lane h = { 0 };
+        const double *restrict g = G + i * p * LANES;
+        for (size_t j = 0; j < p; j++) { /* fit.c's hat, in its order */
+            lane row = { 0 };
+            for (size_t k = 0; k < p; k++)
+                EACH(l) row[l] += z->cov[j * p + k][l] * g[k * LANES + l];
+            EACH(l) h[l] += g[j * LANES + l] * row[l];
+        }
+        /* fmax(x, fl^2) as a select (fl^2 is no NaN); the square root below, per element,
+        ** since it is a library call that stops the vectoriser. */
+        EACH(l) {
+            double tmi = tm[i * LANES + l], u = U[i * LANES + l], w = tmi * tmi / u;
+            double hh = h[l] * (w * w), r = (T[i * LANES + l] - tmi) / u, fl = floor_k / u;
+            double x = (chi2[l] - r * r / (1.0 - hh)) / dd, m = x > fl * fl ? x : fl * fl;
+            double s2 = (dof_ok & (1.0 - hh > 1e-10)) ? m : NAN;
+            s2 = ((wt[l] != 0.0) & (s2 < 1.0)) ? 1.0 : s2;
+            double q = s2 * (1.0 - hh);
+            st[i * LANES + l] = s2 > 0.0 ? q : NAN;
+            z->A[i * LANES + l] = r;
+        }
+    }
+    for (size_t k = 0; k < n * LANES; k++) {
+        double q = st[k];
+        st[k] = q == q ? z->A[k] / sqrt(q) : NAN;
+        flag[k % LANES] = fabs(st[k]) > o->student_limit ? 1.0 : flag[k % LANES];
+    }
+    EACH(l) {
+        f->chi2[l] = chi2[l], f->ss[l] = ss[l], f->mx[l] = mx[l];
+        f->tmin[l] = tmin[l], f->tmax[l] = tmax[l], f->flag[l] = flag[l];
+        f->lmin[l] = lmin[l], f->lmax[l] = lmax[l];
+    }
+}
+
+/* fit.c's monotonic_note's test on lane 'l' with the basis coefficients 'a' in power slots:
+** 1 when the slope stays positive over the calibrated range. */
+static int monotonic_lane(const struct fin_lanes *f, size_t l, const bg_fit_opts *o,
+                          const double *a)
+{
+    double lmin = f->lmin[l], lmax = f->lmax[l];
+    int steps = (bg_model_flags(&o->model) & BG_MODEL_SLOPE_MONOTONIC) ? 1 : 64;
+    for (int s = 0; s <= steps; s++) {
+        double L = lmin + (lmax - lmin) * s / (double)steps, d = 0.0, pwr = 1.0;
+        for (size_t k = 1; k < MAXB; k++, pwr *= L)
+            d += (double)k * a[k] * pwr;
+        if (!(d > 0.0))
+            return 0;
+    }
+    return 1;
+}
+
+/* What finish_lane needs besides the lane. */
+struct fin_job {
+    bg_fitter *fr;
+    const struct lanes *z;
+    const struct fin_lanes *f;
+    const bg_fit_opts *o;
+    const unsigned *pw;
+    size_t npar;
+};
+
+/* Lane 'l''s results into 'out' exactly as bgi_fit_finish writes them, when it has nothing to
+** remark.  Returns 0 when a note or an error is due (no degrees of freedom, an outlier, chi2
+** beyond a limit or a limit not yet known, a non-finite result, a curve not monotonic): then
+** bgi_fit_finish does the lane over and says so. */
+static int finish_lane(const struct fin_job *fj, size_t l, const bg_point *pts, unsigned iters,
+                       bg_fit *out)
+{
+    const struct lanes *z = fj->z;
+    const bg_fitter *fr = fj->fr;
+    const bg_fit_opts *o = fj->o;
+    size_t n = z->n, nb = z->nb, dof = n - fj->npar;
+    double chi2 = fj->f->chi2[l], ss = fj->f->ss[l], c[MAXB], cv[MAXB * MAXB], a[MAXB];
+    int weighted = fj->f->weighted[l] != 0.0;
+    if (dof == 0 || fj->f->flag[l] != 0.0)
+        return 0;
+    if (weighted && (dof >= NCRIT || fr->crit[dof] == 0.0 || fr->crit_lo[dof] == 0.0 ||
+                     chi2 > fr->crit[dof] || chi2 < fr->crit_lo[dof]))
+        return 0;
+    out->model = o->model;
+    out->n = n, out->npar = fj->npar, out->dof = dof, out->weighted = weighted;
+    out->iterations = iters, out->rcond = z->rcond[l];
+    for (size_t i = 0; i < n; i++) {
+        out->resid_mk[i] = 1e3 * (pts[i].t_k - z->tm[i * LANES + l]);
+        out->u_k[i] = z->u[i * LANES + l], out->line[i] = pts[i].line;
+        out->student[i] = z->b[i * LANES + l];
+    }
+    out->chi2 = chi2, out->t_min_k = fj->f->tmin[l], out->t_max_k = fj->f->tmax[l];
+    out->rms_mk = 1e3 * sqrt(ss / (double)n), out->max_abs_mk = 1e3 * fj->f->mx[l];
+    out->reduced_chi2 = chi2 / (double)dof, out->p_value = NAN;
+    out->cov_scale = weighted ? (o->inflate ? fmax(1.0, out->reduced_chi2) : 1.0)
+                              : out->reduced_chi2;
+    double dn = (double)n, k = (double)out->npar;
+    double m2ll = weighted ? chi2 : dn * log(fmax(ss, dn * 1e-18) / dn);
+    out->aic = m2ll + 2.0 * k, out->bic = m2ll + k * log(dn);
+    /* fit.c's fit_coefficients */
+    memset(a, 0, sizeof a);
+    for (size_t j = 0; j < nb; j++)
+        c[j] = z->c[j][l], a[fj->pw[j]] = c[j];
+    for (size_t i = 0; i < nb * nb; i++)
+        cv[i] = z->cov[i][l];
+    for (size_t i = 0; i < MAXB * MAXB; i++)
+        out->pcov[i] = 0.0, out->cov[i] = 0.0;
+    for (size_t i = 0; i < nb; i++)
+        for (size_t j = 0; j < nb; j++)
+            out->pcov[fj->pw[i] * MAXB + fj->pw[j]] = cv[i * nb + j] * out->cov_scale;
+    bg_model_from_basis(&out->model, c, cv, out->cov);
+    for (size_t i = 0; i < out->npar * out->npar; i++)
+        out->cov[i] *= out->cov_scale;
+    for (size_t j = out->npar; j < MAXB; j++)
+        out->model.coef[j] = 0.0;
+    if (bg_model_check_finite(&out->model, out->cov, NULL) != BG_OK)
+        return 0;
+    return monotonic_lane(fj->f, l, o, a);
+}
+
 enum { LANE_BATCH, LANE_ALONE, LANE_DONE };
 
 /* Room for the lanes of 'n' points and 'nb' columns in the fitter's batch area. */
@@ -337,7 +526,7 @@ static void unload_lane(bg_fitter *fr, const struct lanes *z, size_t l, bg_linfi
 
 /* The numerical work of the lanes in mode LANE_BATCH; a lane the batch cannot follow turns
 ** LANE_ALONE. */
-static void fit_lanes(struct lanes *z, const bg_fit_opts *o, int *mode, unsigned *iters)
+BG_INLINE void fit_lanes(struct lanes *z, const bg_fit_opts *o, int *mode, unsigned *iters)
 {
     struct qr_lanes q;
     lane all;
@@ -368,6 +557,127 @@ static void fit_lanes(struct lanes *z, const bg_fit_opts *o, int *mode, unsigned
             mode[l] = LANE_ALONE;
 }
 
+/* The numerical work of a block: fit_lanes, then finish_lanes on the lanes.  Compiled twice:
+** as portable C11, and, where GCC or Clang target x86, once more for AVX2 (4 lanes to a vector
+** instead of SSE2's 2), chosen at run time by what the processor runs.  Both do the same
+** operations in the same order on each lane (AVX2 does not bring FMA, and ISO C mode does
+** not contract), so they give the same numbers; the tests run both. */
+BG_INLINE void kernel_body(struct lanes *z, const bg_fit_opts *o, int *mode, unsigned *iters,
+                           struct fin_lanes *f)
+{
+    size_t dof = z->n - bg_model_npar(&o->model);
+    fit_lanes(z, o, mode, iters);
+    switch (z->nb) { /* the column count as a constant, so that the loops over it unroll */
+    case 2: finish_lanes(z, o, 2, dof, f); break;
+    case 3: finish_lanes(z, o, 3, dof, f); break;
+    case 4: finish_lanes(z, o, 4, dof, f); break;
+    default: finish_lanes(z, o, z->nb, dof, f);
+    }
+}
+
+static void kernel_portable(struct lanes *z, const bg_fit_opts *o, int *mode, unsigned *iters,
+                            struct fin_lanes *f)
+{
+    kernel_body(z, o, mode, iters, f);
+}
+
+#if defined(__GNUC__) && (defined(__x86_64__) || defined(__i386__))
+#define BG_HAVE_AVX2 1
+__attribute__((target("avx2"))) static void kernel_avx2(struct lanes *z, const bg_fit_opts *o,
+                                                        int *mode, unsigned *iters,
+                                                        struct fin_lanes *f)
+{
+    kernel_body(z, o, mode, iters, f);
+}
+#endif
+
+int bgi_batch_kernel_usable(int kernel)
+{
+    switch (kernel) {
+    case BGI_KERNEL_AUTO:
+    case BGI_KERNEL_PORTABLE: return 1;
+#ifdef BG_HAVE_AVX2
+    case BGI_KERNEL_AVX2: __builtin_cpu_init(); return __builtin_cpu_supports("avx2") != 0;
+#endif
+    default: return 0;
+    }
+}
+
+/* The kernel 'fr->batch_kernel' asks for, or by the processor when BGI_KERNEL_AUTO (one the
+** processor cannot run counts as BGI_KERNEL_PORTABLE). */
+static void run_kernel(const bg_fitter *fr, struct lanes *z, const bg_fit_opts *o, int *mode,
+                       unsigned *iters, struct fin_lanes *f)
+{
+#ifdef BG_HAVE_AVX2
+    int k = fr->batch_kernel == BGI_KERNEL_AUTO ? BGI_KERNEL_AVX2 : fr->batch_kernel;
+    if (k == BGI_KERNEL_AVX2 && bgi_batch_kernel_usable(BGI_KERNEL_AVX2)) {
+        kernel_avx2(z, o, mode, iters, f);
+        return;
+    }
+#else
+    (void)fr;
+#endif
+    kernel_portable(z, o, mode, iters, f);
+}
+
+/* Room for 'n' points in 'f' (as fit.c's fit_reserve: the result's arrays grow, never shrink). */
+static int out_reserve(bg_fit *f, size_t n)
+{
+    if (n <= f->cap)
+        return BG_OK;
+    double *r = realloc(f->resid_mk, n * sizeof *r);
+    if (r) f->resid_mk = r;
+    double *s = realloc(f->student, n * sizeof *s);
+    if (s) f->student = s;
+    double *u = realloc(f->u_k, n * sizeof *u);
+    if (u) f->u_k = u;
+    size_t *ln = realloc(f->line, n * sizeof *ln);
+    if (ln) f->line = ln;
+    if (!r || !s || !u || !ln)
+        return BG_ENOMEM;
+    f->cap = n;
+    return BG_OK;
+}
+
+/* bgi_fit_check's guard rails in one pass for points given in rising temperature, the usual
+** order of a calibration: then the sorted order is the given one, no two readings repeat, and
+** the distinct temperatures and the NTC direction are counted on the points as they are.
+** Returns 1 when the probe passes (setting '*weighted', out->ndistinct, no notes), 0 when
+** bgi_fit_check must decide (another order, or anything it would remark on). */
+static int quick_check(const bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                       size_t npar, int *weighted, bg_fit *out)
+{
+    int ok = 1, any_u = 0, all_u = 1;
+    double prev = 0.0; /* above 0 K, and each point above the last */
+    if (fr->cap < n || n < npar || n == 0 || out_reserve(out, n) != BG_OK)
+        return 0;
+    for (size_t i = 0; i < n; i++) { /* without branches: isfinite(x) is |x| <= DBL_MAX */
+        double t = pts[i].t_k, r = pts[i].r_ohm, ut = pts[i].u_t_k, ur = pts[i].u_r_ohm;
+        ok &= (fabs(t) <= DBL_MAX) & (fabs(r) <= DBL_MAX) & (fabs(ut) <= DBL_MAX) &
+              (fabs(ur) <= DBL_MAX) & (r > 0.0) & (t > prev) & (ut >= 0.0) & (ur >= 0.0);
+        int has = (ut > 0.0) | (ur > 0.0);
+        any_u |= has, all_u &= has, prev = t;
+    }
+    if (!ok)
+        return 0;
+    if (any_u && !all_u)
+        return 0;
+    size_t nd = 1, start = 0;
+    for (size_t j = 1; j < n; j++)
+        if (pts[j].t_k - pts[start].t_k > o->setpoint_gap_k)
+            nd++, start = j;
+    if (nd < npar)
+        return 0;
+    for (size_t j = 1, i = 0; j < n; j++) {
+        while (i + 1 < j && pts[j].t_k - pts[i + 1].t_k > o->mono_gap_k)
+            i++;
+        if (pts[j].t_k - pts[i].t_k > o->mono_gap_k && !(pts[j].r_ohm < pts[i].r_ohm))
+            return 0;
+    }
+    *weighted = any_u, out->nnotes = 0, out->ndistinct = nd;
+    return 1;
+}
+
 /* What bg_fitter_run_batch was given. */
 struct batch_job {
     const bg_point *pts;
@@ -378,6 +688,28 @@ struct batch_job {
     bg_error *errs;
 };
 
+/* The finish of the lanes fitted here (fit_lanes done): across the lanes, then per lane into
+** its result; a lane with something to remark goes through bgi_fit_finish. */
+static void finish_block(bg_fitter *fr, struct lanes *z, const struct batch_job *jb, size_t p0,
+                         const int *mode, const int *weighted, const unsigned *iters,
+                         const struct fin_lanes *f)
+{
+    unsigned pw[MAXB];
+    size_t npar = bg_model_npar(&jb->o->model), n = z->n;
+    bg_fit_opts op = *jb->o;
+    bg_model_basis(&op.model, pw);
+    struct fin_job fj = { fr, z, f, jb->o, pw, npar };
+    for (size_t l = 0; l < LANES; l++) {
+        size_t p = p0 + l;
+        if (mode[l] != LANE_BATCH || finish_lane(&fj, l, jb->pts + p * n, iters[l], &jb->out[p]))
+            continue;
+        struct bgi_solution sol = { .iters = iters[l], .weighted = weighted[l] };
+        op.source = jb->sources ? jb->sources[p] : jb->o->source;
+        unload_lane(fr, z, l, &sol.lf);
+        bgi_fit_finish(fr, jb->pts + p * n, n, &op, &sol, &jb->out[p], &jb->errs[p]);
+    }
+}
+
 /* The probes p0 .. p0 + m - 1 (m <= LANES). */
 static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size_t m)
 {
@@ -387,6 +719,7 @@ static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size
     size_t first = LANES, n = jb->n;
     const bg_point *pts = jb->pts;
     bg_fit_opts op = *jb->o;
+    size_t npar = bg_model_npar(&op.model);
 
     z.n = n, z.nb = bg_model_basis(&op.model, pw);
     for (size_t l = 0; l < LANES; l++) {
@@ -396,8 +729,9 @@ static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size
             continue;
         op.source = jb->sources ? jb->sources[p] : jb->o->source;
         jb->errs[p].code = BG_OK, jb->errs[p].msg[0] = '\0';
-        if (bgi_fit_check(fr, pts + p * n, n, &op, &weighted[l], &jb->out[p], &jb->errs[p]) !=
-            BG_OK)
+        if (!quick_check(fr, pts + p * n, n, &op, npar, &weighted[l], &jb->out[p]) &&
+            bgi_fit_check(fr, pts + p * n, n, &op, &weighted[l], &jb->out[p], &jb->errs[p]) !=
+                BG_OK)
             continue;
         mode[l] = LANE_BATCH;
         for (size_t i = 0; i < n && weighted[l]; i++)
@@ -410,17 +744,16 @@ static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size
         double *v = fr->batch;
         z.t = v, z.u = v + n * LANES, z.L = v + 2 * n * LANES, z.tm = v + 3 * n * LANES;
         z.b = v + 4 * n * LANES, z.G = v + 5 * n * LANES, z.A = z.G + z.nb * n * LANES;
+        struct fin_lanes f;
         load_lanes(&z, pts, p0, mode, weighted, first, pw);
-        fit_lanes(&z, jb->o, mode, iters);
+        EACH(l) f.weighted[l] = weighted[mode[l] == LANE_BATCH ? l : first] ? 1.0 : 0.0;
+        run_kernel(fr, &z, jb->o, mode, iters, &f);
+        finish_block(fr, &z, jb, p0, mode, weighted, iters, &f);
     }
     for (size_t l = 0; l < m; l++) {
         size_t p = p0 + l;
         op.source = jb->sources ? jb->sources[p] : jb->o->source;
-        if (mode[l] == LANE_BATCH) {
-            struct bgi_solution sol = { .iters = iters[l], .weighted = weighted[l] };
-            unload_lane(fr, &z, l, &sol.lf);
-            bgi_fit_finish(fr, pts + p * n, n, &op, &sol, &jb->out[p], &jb->errs[p]);
-        } else if (mode[l] == LANE_ALONE)
+        if (mode[l] == LANE_ALONE)
             bg_fitter_run(fr, pts + p * n, n, &op, &jb->out[p], &jb->errs[p]);
     }
 }

@@ -29,7 +29,15 @@ struct bg_fitter {
     int lev_one_step;   /* 1: lev[] from the Gauss-Newton Jacobian (refined fit); 0: linear */
     double *batch;      /* the batch's lanes (fit_batch.c), 'batch_cap' doubles */
     size_t batch_cap;
+    int batch_kernel;   /* the batch's kernel: BGI_KERNEL_AUTO (0, by the processor) or one */
 };
+
+/* The batch's kernels (fit_batch.c): the same code compiled as portable C11 and, where the
+** compiler can, for AVX2; AUTO takes AVX2 when the processor runs it. */
+enum { BGI_KERNEL_AUTO, BGI_KERNEL_PORTABLE, BGI_KERNEL_AVX2 };
+
+/* 1 when this build and processor can run 'kernel'. */
+int bgi_batch_kernel_usable(int kernel);
 
 /* The first part of bg_fitter_run: the model's basis, the number of points, room for 'n'
 ** points in 'fr' and 'out', and the guard rails on the data (notes of repeated readings into
