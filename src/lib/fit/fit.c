@@ -196,17 +196,28 @@ static void basis_row(double L, const unsigned *pw, size_t nb, double *g)
         g[j] = pows[pw[j]];
 }
 
+/* By temperature, equal temperatures in the order of the readings (a total order, so the
+** result does not depend on the qsort at hand). */
 static int cmp_t(const void *a, const void *b)
 {
     const struct tsort *x = a, *y = b;
-    return (x->t > y->t) - (x->t < y->t);
+    if (x->t != y->t)
+        return (x->t > y->t) - (x->t < y->t);
+    return (x->i > y->i) - (x->i < y->i);
 }
 
-/* Sort the points by temperature into fr->sorted. */
+/* Sort the points by temperature into fr->sorted (readings already in rising temperature,
+** as a slow ramp gives them, are left as they are in O(n)). */
 static void sort_points(bg_fitter *fr, const bg_point *pts, size_t n)
 {
-    for (size_t i = 0; i < n; i++)
+    size_t rising = 1;
+    for (size_t i = 0; i < n; i++) {
         fr->sorted[i].t = pts[i].t_k, fr->sorted[i].r = pts[i].r_ohm, fr->sorted[i].i = i;
+        if (i > 0 && !(pts[i - 1].t_k <= pts[i].t_k))
+            rising = 0;
+    }
+    if (rising)
+        return;
     if (n <= 32) { /* insertion sort: the usual calibration has a dozen points */
         for (size_t i = 1; i < n; i++) {
             struct tsort v = fr->sorted[i];
