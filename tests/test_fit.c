@@ -1159,10 +1159,58 @@ static void batch_linear_numpy(void **state)
     bg_fitter_free(fr);
 }
 
+/* Readings in rising temperature (left in place) and the same readings shuffled (sorted by
+** qsort) give the same fit and the same notes: equal temperatures keep the readings' order.
+** Invented sh3 coefficients; 40 readings, two of them repeated. */
+static void sorted_or_not_same_fit(void **state)
+{
+    (void)state;
+    enum { N = 40 };
+    bg_point a[N], b[N];
+    bg_fit fa = BG_FIT_INIT, fb = BG_FIT_INIT;
+    bg_model m;
+    bg_model_parse("sh3", &m, NULL);
+    bg_fit_opts o = bg_fit_default_opts(&m);
+    o.source = "ramp.csv";
+    for (size_t i = 0; i < N; i++) {
+        double L = log(100000.0) - 4.6 * (double)i / N;
+        memset(&a[i], 0, sizeof a[i]);
+        a[i].r_ohm = exp(L);
+        a[i].t_k = 1.0 / (1.1384e-3 + 2.3245e-4 * L + 9.4871e-8 * L * L * L) +
+                   1e-3 * (double)((i * 7) % 5) / 5.0;
+        a[i].u_t_k = 0.002;
+        a[i].line = i + 2;
+    }
+    a[11].t_k = a[10].t_k, a[11].r_ohm = a[10].r_ohm; /* repeated readings */
+    a[31].t_k = a[30].t_k, a[31].r_ohm = a[30].r_ohm;
+    for (size_t i = 1; i < N; i++) /* still rising */
+        assert_true(a[i - 1].t_k <= a[i].t_k);
+    for (size_t i = 0; i < N; i++)
+        b[i] = a[(i * 17) % N]; /* 17 and 40 coprime: a permutation */
+    assert_int_equal(bg_fit_points(a, N, &o, &fa, NULL), BG_OK);
+    assert_int_equal(bg_fit_points(b, N, &o, &fb, NULL), BG_OK);
+    assert_int_equal(fa.nnotes, fb.nnotes);
+    size_t rep = 0;
+    for (size_t i = 0; i < fa.nnotes; i++)
+        rep += fa.notes[i].kind == BG_NOTE_REPEATED;
+    assert_int_equal(rep, 2);
+    for (size_t i = 0; i < fb.nnotes; i++) /* named in the order the readings come */
+        rep -= fb.notes[i].kind == BG_NOTE_REPEATED;
+    assert_int_equal(rep, 0);
+    assert_string_equal(fa.notes[0].msg, "ramp.csv:13: the same temperature and resistance as "
+                                         "ramp.csv:12: a repeated reading, kept (check that it "
+                                         "was not entered twice)");
+    for (size_t k = 0; k < fa.npar; k++)
+        assert_close(fa.model.coef[k], fb.model.coef[k], 1e-9, 0.0);
+    bg_fit_release(&fa);
+    bg_fit_release(&fb);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
     const struct CMUnitTest tests[] = {
+        cmocka_unit_test(sorted_or_not_same_fit),
         cmocka_unit_test(nist_pontius),
         cmocka_unit_test(nist_filip),
         cmocka_unit_test(gum_h3_thermometer),

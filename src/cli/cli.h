@@ -219,7 +219,10 @@ void cli_print_eval(const bg_curve_src *src, const bg_curve *c, bg_temp_unit uni
 
 /* ---- calibration results (print_fit.c), shared by 'fit' and 'demo' ---- */
 /* The fit's warnings and the check temperatures' on stderr, then the report (text or JSON). */
-void print_fit(const bg_calib_result *r, bg_temp_unit unit, int json);
+/* Text: every residual up to CLI_RESID_ALL_MAX readings (or with 'all_residuals'); above,
+** the CLI_RESID_TOP largest and a count by |studentized residual|. */
+enum { CLI_RESID_ALL_MAX = 1000, CLI_RESID_TOP = 20 };
+void print_fit(const bg_calib_result *r, bg_temp_unit unit, int json, int all_residuals);
 void print_fit_warnings(const bg_calib_result *r, bg_temp_unit unit);
 /* The lot's warnings and failures on stderr; then, when 'rc' is BG_OK, its table (text or
 ** JSON), else 'err'.  Returns 'rc'. */

@@ -66,7 +66,7 @@ static int demo_fit(struct cli_ctx *dctx, const char *serial, const char *lot_co
         rc = bg_calibrate_lot(st, lot_code, &rq, &lot, &err);
         rc = print_fit_lot(&lot, rc, &err, 0);
     } else if ((rc = bg_calibrate_probe(st, serial, 0, &rq, &r, &err)) == BG_OK)
-        print_fit(&r, BG_UNIT_C, 0);
+        print_fit(&r, BG_UNIT_C, 0, 0);
     else
         cli_fail(NULL, &err);
     bg_calib_lot_release(&lot);

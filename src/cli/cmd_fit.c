@@ -34,6 +34,8 @@ static const char fit_usage[] =
     "                   studentized by a scale below DT / sqrt(12) (default 10uK), so\n"
     "                   noise-free readings raise no outlier warning\n"
     "  --unit U         unit for printed temperatures: C (default), K or F\n"
+    "  --residuals all  print every residual; above 1000 readings the text shows the\n"
+    "                   20 largest and a count by studentized residual (--json: all)\n"
     "  --json           one JSON object\n"
     "  --probe SERIAL   fit the probe's latest run (or --run N) in the database and store\n"
     "                   the fit; the readings excluded with 'bandgap exclude' are left out.\n"
@@ -50,7 +52,7 @@ static const char fit_usage[] =
     "food-safety or process-safety use follow local regulations and accredited practice.\n";
 
 enum { O_MODEL = 1, O_T0, O_PAIR, O_UTEMP, O_AT, O_LINEAR, O_NOINFL, O_UNIT, O_JSON, O_PROBE,
-       O_RUN, O_LOT, O_DRY, O_AGAIN, O_COVK, O_RESOL };
+       O_RUN, O_LOT, O_DRY, O_AGAIN, O_COVK, O_RESOL, O_RESID };
 
 /* The options of 'fit' beyond the library's request. */
 struct fit_cli {
@@ -58,6 +60,7 @@ struct fit_cli {
     bg_temp_unit unit;
     const char *serial, *lot;
     long long run_id;
+    int all_residuals;
 };
 
 static const struct option fit_opts[] = {
@@ -69,7 +72,8 @@ static const struct option fit_opts[] = {
     { "probe", required_argument, NULL, O_PROBE }, { "run", required_argument, NULL, O_RUN },
     { "lot", required_argument, NULL, O_LOT },     { "dry-run", no_argument, NULL, O_DRY },
     { "store-again", no_argument, NULL, O_AGAIN }, { "coverage-k", required_argument, NULL, O_COVK },
-    { "resolution", required_argument, NULL, O_RESOL }, { NULL, 0, NULL, 0 },
+    { "resolution", required_argument, NULL, O_RESOL },
+    { "residuals", required_argument, NULL, O_RESID }, { NULL, 0, NULL, 0 },
 };
 
 /* Take one option; BG_OK, or the usage error's code. */
@@ -125,6 +129,11 @@ static int fit_option(struct fit_cli *fc, int c, char **argv, double *at_k, stru
             return cli_usage_error("fit", "--unit: %s", err.msg);
         return BG_OK;
     case O_JSON: ctx->json = 1; return BG_OK;
+    case O_RESID:
+        if (strcmp(optarg, "all") != 0)
+            return cli_usage_error("fit", "--residuals: '%s': the only value is 'all'", optarg);
+        fc->all_residuals = 1;
+        return BG_OK;
     case O_PROBE: fc->serial = optarg; return BG_OK;
     case O_LOT: fc->lot = optarg; return BG_OK;
     case O_RUN:
@@ -180,7 +189,7 @@ static int fit_run(const struct fit_cli *fc, const char *path, struct cli_ctx *c
         rc = path ? bg_calibrate_file(path, &fc->rq, &r, &err)
                   : bg_calibrate_probe(st, fc->serial, fc->run_id, &fc->rq, &r, &err);
         if (rc == BG_OK)
-            print_fit(&r, fc->unit, ctx->json);
+            print_fit(&r, fc->unit, ctx->json, fc->all_residuals);
         else
             cli_fail(NULL, &err);
     }

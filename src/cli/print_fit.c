@@ -222,8 +222,43 @@ static const char *t_heading(bg_temp_unit un)
     return bg_units_symbol(un, 1)[0] == 'K' ? "T/K" : un == BG_UNIT_F ? "T/degF" : "T/degC";
 }
 
+static void resid_line(const bg_calib_result *r, size_t i, bg_temp_unit un)
+{
+    const bg_point *p = &r->pts[i];
+    char b1[64];
+    printf("  %6zu  %12.4f  %12s  %11.4f  %8.2f\n", p->line, bg_units_from_k(p->t_k, un),
+           bg_units_format_ohms(p->r_ohm, 7, b1, sizeof b1), r->fit.resid_mk[i],
+           r->fit.student[i]);
+}
+
+/* Above CLI_RESID_ALL_MAX readings: the CLI_RESID_TOP largest |residuals| (largest first),
+** then how many studentized residuals fall in each band, and how to see them all. */
+static void text_resid_summary(const bg_calib_result *r, bg_temp_unit un)
+{
+    const bg_fit *f = &r->fit;
+    size_t top[CLI_RESID_TOP], ntop = 0, band[4] = { 0, 0, 0, 0 };
+    for (size_t i = 0; i < f->n; i++) {
+        double a = fabs(f->resid_mk[i]), s = fabs(f->student[i]);
+        size_t k = ntop < CLI_RESID_TOP ? ntop++ : CLI_RESID_TOP;
+        while (k > 0 && fabs(f->resid_mk[top[k - 1]]) < a) { /* ties: the earlier line first */
+            if (k < CLI_RESID_TOP)
+                top[k] = top[k - 1];
+            k--;
+        }
+        if (k < CLI_RESID_TOP)
+            top[k] = i;
+        band[!(s < 1.0) + !(s < 2.0) + !(s < 3.0)]++; /* NaN counts as 3 and above */
+    }
+    for (size_t k = 0; k < ntop; k++)
+        resid_line(r, top[k], un);
+    printf("  (%zu readings: the %zu largest |residuals| are shown, largest first; every "
+           "one with --residuals all or --json)\n", f->n, ntop);
+    printf("  |student| below 1: %zu, 1 to 2: %zu, 2 to 3: %zu, 3 and above: %zu\n", band[0],
+           band[1], band[2], band[3]);
+}
+
 /* The readings, the model with its coefficients, the weights and the residuals. */
-static void text_fit(const bg_calib_result *r, bg_temp_unit un)
+static void text_fit(const bg_calib_result *r, bg_temp_unit un, int all_residuals)
 {
     const bg_fit *f = &r->fit;
     char name[16], b1[64], b2[64];
@@ -255,10 +290,11 @@ static void text_fit(const bg_calib_result *r, bg_temp_unit un)
     printf("\nresiduals (measured - fitted):\n");
     printf("  %6s  %12s  %12s  %11s  %8s\n", "line", t_heading(un), "R/ohm", "resid/mK",
            "student");
-    for (size_t i = 0; i < f->n; i++) {
-        const bg_point *p = &r->pts[i];
-        printf("  %6zu  %12.4f  %12s  %11.4f  %8.2f\n", p->line, bg_units_from_k(p->t_k, un),
-               bg_units_format_ohms(p->r_ohm, 7, b1, sizeof b1), f->resid_mk[i], f->student[i]);
+    if (f->n <= CLI_RESID_ALL_MAX || all_residuals) {
+        for (size_t i = 0; i < f->n; i++)
+            resid_line(r, i, un);
+    } else {
+        text_resid_summary(r, un);
     }
     printf("  RMS %.4f mK, max |residual| %.4f mK\n", f->rms_mk, f->max_abs_mk);
 }
@@ -336,13 +372,13 @@ static void text_comparison(const bg_calib_result *r)
         printf("  fitted: %s (as asked), not the recommended model\n", fitted);
 }
 
-static void print_fit_text(const bg_calib_result *r, bg_temp_unit un)
+static void print_fit_text(const bg_calib_result *r, bg_temp_unit un, int all_residuals)
 {
     char b1[64], b2[64];
 
     if (r->run_id)
         printf("probe %s, %s (%s)\n", r->serial, r->source, r->started_at);
-    text_fit(r, un);
+    text_fit(r, un, all_residuals);
     text_curve(r, un);
     text_comparison(r);
     printf("\nValid only inside the calibrated range (%s .. %s) and within the stated\n"
@@ -364,13 +400,13 @@ static void print_fit_text(const bg_calib_result *r, bg_temp_unit un)
         printf("not stored (a preview, --dry-run)\n");
 }
 
-void print_fit(const bg_calib_result *r, bg_temp_unit unit, int json)
+void print_fit(const bg_calib_result *r, bg_temp_unit unit, int json, int all_residuals)
 {
     print_fit_warnings(r, unit);
     if (json)
         print_fit_json(r);
     else
-        print_fit_text(r, unit);
+        print_fit_text(r, unit, all_residuals);
 }
 
 /* ---- a lot ---- */

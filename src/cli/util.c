@@ -129,27 +129,7 @@ int cli_parse_temps(const char *s, double *t_k, size_t max, size_t *n, bg_error 
     }
 }
 
-/* ---- numbers ---- */
-
-/* The fewest significant digits that strtod reads back as exactly 'v'.  A normal double
-** carries more than 15.9 decimal digits, so a decimal of at most 15 digits that rounds to it
-** is its nearest 15-digit decimal and "%.15g" finds it (trailing zeros dropped); then 16 and
-** 17, and 17 always reads back (IEEE 754-2008, 5.12.2).  A subnormal carries fewer digits
-** (5e-324 has one), so for those every precision from 1 is tried.  The nearest decimal with
-** the fewest digits is what Python's repr() gives (tests/cli/export/shortest checks both). */
-char *cli_num(char *buf, size_t size, double v)
-{
-    if (!isfinite(v)) {
-        snprintf(buf, size, "%s", isnan(v) ? "nan" : v > 0 ? "inf" : "-inf");
-        return buf;
-    }
-    for (int prec = v != 0.0 && fabs(v) < DBL_MIN ? 1 : 15; prec <= 17; prec++) {
-        snprintf(buf, size, "%.*g", prec, v);
-        if (strtod(buf, NULL) == v)
-            break;
-    }
-    return buf;
-}
+/* ---- numbers: cli_num is in num.c ---- */
 
 /* ---- JSON ---- */
 

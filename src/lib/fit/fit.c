@@ -196,17 +196,28 @@ static void basis_row(double L, const unsigned *pw, size_t nb, double *g)
         g[j] = pows[pw[j]];
 }
 
+/* By temperature, equal temperatures in the order of the readings (a total order, so the
+** result does not depend on the qsort at hand). */
 static int cmp_t(const void *a, const void *b)
 {
     const struct tsort *x = a, *y = b;
-    return (x->t > y->t) - (x->t < y->t);
+    if (x->t != y->t)
+        return (x->t > y->t) - (x->t < y->t);
+    return (x->i > y->i) - (x->i < y->i);
 }
 
-/* Sort the points by temperature into fr->sorted. */
+/* Sort the points by temperature into fr->sorted (readings already in rising temperature,
+** as a slow ramp gives them, are left as they are in O(n)). */
 static void sort_points(bg_fitter *fr, const bg_point *pts, size_t n)
 {
-    for (size_t i = 0; i < n; i++)
+    size_t rising = 1;
+    for (size_t i = 0; i < n; i++) {
         fr->sorted[i].t = pts[i].t_k, fr->sorted[i].r = pts[i].r_ohm, fr->sorted[i].i = i;
+        if (i > 0 && !(pts[i - 1].t_k <= pts[i].t_k))
+            rising = 0;
+    }
+    if (rising)
+        return;
     if (n <= 32) { /* insertion sort: the usual calibration has a dozen points */
         for (size_t i = 1; i < n; i++) {
             struct tsort v = fr->sorted[i];
@@ -799,7 +810,7 @@ int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
 {
     static const char *names[BG_CMP_MAX] = { "beta", "sh3", "poly:2", "sh4", "poly:4", "poly:5" };
     bg_fit f = BG_FIT_INIT;
-    bg_error e2 = BG_ERROR_INIT;
+    bg_error e2 = BG_ERROR_INIT, first_bad = BG_ERROR_INIT;
     int rc = BG_OK;
     double best = INFINITY;
 
@@ -818,10 +829,10 @@ int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
             continue;
         }
         if (bg_fitter_run(fr, pts, n, &oo, &f, &e2) != BG_OK) {
-            if (e2.code == BG_EINVAL) { /* bad data fails every model alike */
-                rc = bg_error_set(err, e2.code, "%s", e2.msg);
-                goto done;
-            }
+            /* Bad data fail every model alike; a design too ill-conditioned for one model
+            ** (many coefficients on a narrow range) leaves that model out of the choice. */
+            if (e2.code == BG_EINVAL && first_bad.code == BG_OK)
+                first_bad = e2;
             snprintf(row->why, sizeof row->why, "%.150s", e2.msg);
             continue;
         }
@@ -846,6 +857,10 @@ int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
         if (row->ok && row->bic <= best + 2.0 &&
             (out->chosen < 0 || row->npar < out->row[out->chosen].npar))
             out->chosen = (int)m;
+    }
+    if (out->chosen < 0 && first_bad.code != BG_OK) {
+        rc = bg_error_set(err, first_bad.code, "%s", first_bad.msg);
+        goto done;
     }
     if (out->chosen < 0) {
         rc = bg_error_set(err, BG_EINVAL, "no model could be compared on %zu points "
