@@ -1281,6 +1281,148 @@ static void statement_cache_survives_failure_and_rollback(void **state)
     bg_store_close(st);
 }
 
+/* ---- versions: a reference recalibrated ---- */
+
+struct t_of {
+    double t_k[8];
+    size_t n;
+};
+
+static int t_of_cb(const bg_reading_row *g, void *ctx)
+{
+    struct t_of *t = ctx;
+    if (t->n < 8)
+        t->t_k[t->n++] = g->t_k;
+    return 0;
+}
+
+static int count_versions(const bg_ref_version *rv, void *ctx)
+{
+    (void)rv;
+    ++*(int *)ctx;
+    return 0;
+}
+
+static long long import_at(bg_store *st, const char *started_at, int new_run)
+{
+    bg_readings rs = make_readings();
+    bg_run meta;
+    long long run = 0;
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.serial, "P1");
+    strcpy(meta.ref_ident, "S9");
+    strcpy(meta.started_at, started_at);
+    meta.new_run = new_run;
+    bg_error err = BG_ERROR_INIT;
+    int rc = bg_store_import(st, &rs, &meta, &run, &err);
+    if (rc != BG_OK)
+        fprintf(stderr, "%s\n", err.msg);
+    assert_int_equal(rc, BG_OK);
+    bg_readings_release(&rs);
+    return run;
+}
+
+/* An import before a recalibration is corrected with the old certificate's linear correction
+** and one after it with the new one; the due date checked is the version's; each run records
+** its version; the refused versions write nothing; the versions are chained. */
+static void reference_recalibration_versions(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("refver.db");
+    bg_error err = BG_ERROR_INIT;
+    bg_ref ref;
+    bg_ref_version rv, at;
+    bg_run r;
+    bg_store_check chk;
+    struct t_of t1 = { { 0 }, 0 }, t2 = { { 0 }, 0 };
+    long long vid = 0, run1, run2;
+    int n = 0;
+
+    bg_store_set_clock(st, 1793577600); /* 2026-11-02T00:00:00Z */
+    memset(&ref, 0, sizeof ref);
+    strcpy(ref.ident, "S9");
+    strcpy(ref.certificate, "C-1");
+    strcpy(ref.due_date, "2026-11-30");
+    ref.kind = BG_REF_LINEAR, ref.lin_c0_k = -0.1712, ref.lin_c1 = 0.00218, ref.lin_t0_k = 293.15;
+    assert_int_equal(bg_store_ref_add(st, &ref, NULL, NULL), BG_OK);
+    run1 = import_at(st, "2026-11-24T08:00:00Z", 0);
+
+    memset(&rv, 0, sizeof rv);
+    rv.ref = ref;
+    strcpy(rv.ref.certificate, "C-2");
+    strcpy(rv.ref.due_date, "2027-12-31");
+    rv.ref.lin_c0_k = 0.05, rv.ref.lin_c1 = 0.001;
+    strcpy(rv.v.why, "recalibrated");
+    strcpy(rv.v.by, "ana");
+    /* refused: before the reference was created, no reason, an unknown reference */
+    strcpy(rv.v.valid_from, "2026-10-01");
+    assert_int_equal(bg_store_ref_set(st, &rv, &vid, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "before the record was created"));
+    strcpy(rv.v.valid_from, "2026-12-01T00:00:00Z");
+    rv.v.why[0] = '\0';
+    assert_int_equal(bg_store_ref_set(st, &rv, &vid, &err), BG_EINVAL);
+    strcpy(rv.v.why, "recalibrated");
+    strcpy(rv.ref.ident, "S8");
+    assert_int_equal(bg_store_ref_set(st, &rv, &vid, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "did you mean 'S9'"));
+    assert_int_equal(bg_store_ref_versions(st, "S9", count_versions, &n, NULL), BG_OK);
+    assert_int_equal(n, 1);
+    strcpy(rv.ref.ident, "S9");
+    assert_int_equal(bg_store_ref_set(st, &rv, &vid, NULL), BG_OK);
+    assert_true(vid > 0);
+    /* a second version may not begin before the first */
+    strcpy(rv.v.valid_from, "2026-11-15");
+    assert_int_equal(bg_store_ref_set(st, &rv, NULL, &err), BG_EINVAL);
+
+    /* the version in force */
+    assert_int_equal(bg_store_ref_at(st, "S9", "2026-11-30T23:59:59Z", &at, NULL), BG_OK);
+    assert_int_equal(at.v.id, 0);
+    assert_string_equal(at.ref.certificate, "C-1");
+    assert_int_equal(bg_store_ref_at(st, "S9", "2026-12-01T00:00:00Z", &at, NULL), BG_OK);
+    assert_int_equal(at.v.id, vid);
+    assert_string_equal(at.ref.certificate, "C-2");
+    assert_string_equal(at.v.by, "ana");
+    assert_int_equal(bg_store_ref_get(st, "S9", &ref, NULL), BG_OK); /* now: 2026-11-02 */
+    assert_string_equal(ref.certificate, "C-1");
+    n = 0;
+    assert_int_equal(bg_store_ref_versions(st, "S9", count_versions, &n, NULL), BG_OK);
+    assert_int_equal(n, 2);
+
+    /* after the recalibration: the new correction and due date (the old one, 2026-11-30, is
+    ** past on 2026-12-05: no reason is needed because the version's due date is used) */
+    run2 = import_at(st, "2026-12-05T08:00:00Z", 1);
+    assert_int_equal(bg_store_run_get(st, run1, &r, NULL), BG_OK);
+    assert_int_equal(r.ref_version, 0);
+    assert_string_equal(r.ref_due_date, "2026-11-30");
+    assert_int_equal(bg_store_run_get(st, run2, &r, NULL), BG_OK);
+    assert_int_equal(r.ref_version, vid);
+    assert_string_equal(r.ref_due_date, "2027-12-31");
+    assert_int_equal(bg_store_ref_version(st, "S9", vid, &at, NULL), BG_OK);
+    assert_string_equal(at.ref.certificate, "C-2");
+    assert_int_equal(bg_store_reading_each(st, run1, t_of_cb, &t1, NULL), BG_OK);
+    assert_int_equal(bg_store_reading_each(st, run2, t_of_cb, &t2, NULL), BG_OK);
+    assert_int_equal(t1.n, 5);
+    assert_int_equal(t2.n, 5);
+    /* derived by hand from t = t_read + c0 + c1 (t_read - t0), t_read = 25.0001 degC =
+    ** 298.1501 K, t0 = 293.15 K: old 298.1501 - 0.1712 + 0.00218 * 5.0001 = 297.989800218 K;
+    ** new 298.1501 + 0.05 + 0.001 * 5.0001 = 298.2051001 K */
+    assert_close(t1.t_k[1], 297.989800218, 0, 1e-9);
+    assert_close(t2.t_k[1], 298.2051001, 0, 1e-9);
+
+    /* versions refuse edits and deletes; the record verifies, the versions in its chain */
+    sqlite3 *db;
+    assert_int_equal(sqlite3_open(path_of("refver.db"), &db), SQLITE_OK);
+    assert_int_not_equal(sqlite3_exec(db, "UPDATE reference_version SET lin_c0_k = 0", NULL,
+                                      NULL, NULL), SQLITE_OK);
+    assert_int_not_equal(sqlite3_exec(db, "DELETE FROM reference_version", NULL, NULL, NULL),
+                         SQLITE_OK);
+    sqlite3_close(db);
+    assert_int_equal(bg_store_verify(st, &chk, NULL), BG_OK);
+    assert_int_equal(chk.bad, 0);
+    assert_int_equal(chk.records, 6); /* lot, probe, reference, run, version, run */
+    bg_store_close(st);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -1306,6 +1448,7 @@ int main(void)
         cmocka_unit_test(export_walk_matches_per_probe_listings),
         cmocka_unit_test(lot_reads_run_a_fixed_number_of_statements),
         cmocka_unit_test(statement_cache_survives_failure_and_rollback),
+        cmocka_unit_test(reference_recalibration_versions),
     };
     return cmocka_run_group_tests_name("store", tests, setup, teardown);
 }
