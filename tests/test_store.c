@@ -1423,6 +1423,86 @@ static void reference_recalibration_versions(void **state)
     bg_store_close(st);
 }
 
+/* ---- versions: a lot's tolerance corrected ---- */
+
+/* Probe P1 of lot L1 calibrated on 2027-01-10 and again on 2027-06-10 with every resistance
+** 0.3 % higher (an as-found error of some 70 to 110 mK); the lot's R25 tolerance (1 %) is
+** corrected to 0.1 % from 'from'.  The drift verdict of the second calibration, with the
+** default limit from the tolerance, into '*c'. */
+static void drift_under_version(const char *name, const char *from, bg_qa_compare *c,
+                                double *probe_limit_k)
+{
+    bg_store *st = NULL;
+    bg_lot lot;
+    bg_lot_version lv;
+    bg_qa_probe p = BG_QA_PROBE_INIT;
+    bg_qa_opts o = bg_qa_default_opts();
+    bg_error err = BG_ERROR_INIT;
+    unlink(path_of(name));
+    assert_int_equal(bg_store_open(path_of(name), BG_STORE_CREATE, &st, NULL), BG_OK);
+    bg_store_set_clock(st, 1796083200); /* 2026-12-01T00:00:00Z: the lot's creation, "now" */
+    memset(&lot, 0, sizeof lot);
+    strcpy(lot.code, "L1");
+    strcpy(lot.part, "NTC");
+    lot.r25_ohm = 10000, lot.beta_k = 3950, lot.pair_t1_k = 298.15, lot.pair_t2_k = 358.15;
+    lot.tol_r25 = 0.01, lot.tol_beta = 0.01;
+    assert_int_equal(bg_store_lot_add(st, &lot, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "P1", "L1", NULL, NULL, NULL), BG_OK);
+    add_run(st, "P1", "2027-01-10T08:00:00Z", 1.0, "sh3");
+    add_run(st, "P1", "2027-06-10T08:00:00Z", 1.003, "sh3");
+    memset(&lv, 0, sizeof lv);
+    strcpy(lv.lot.code, "L1");
+    lv.lot.tol_r25 = 0.001, lv.lot.tol_beta = -1.0;
+    strcpy(lv.v.valid_from, from);
+    strcpy(lv.v.why, "tolerance corrected");
+    strcpy(lv.v.by, "ana");
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, NULL), BG_OK);
+    /* refused: no reason, nothing changed, before the lot was created, an unknown lot */
+    lv.v.why[0] = '\0';
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, &err), BG_EINVAL);
+    strcpy(lv.v.why, "again");
+    strcpy(lv.v.valid_from, "2027-12-01T00:00:00Z");
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "changes nothing"));
+    strcpy(lv.v.valid_from, "2000-01-01");
+    lv.lot.tol_r25 = 0.002;
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "before the record was created"));
+    strcpy(lv.lot.code, "L9");
+    strcpy(lv.v.valid_from, "");
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "unknown lot 'L9'"));
+    assert_int_equal(bg_qa_probe_drift(st, "P1", &o, &p, NULL), BG_OK);
+    assert_int_equal(p.nprev, 1);
+    *c = p.since_previous[0];
+    *probe_limit_k = p.limit_k;
+    bg_qa_probe_release(&p);
+    bg_store_check chk;
+    assert_int_equal(bg_store_verify(st, &chk, NULL), BG_OK);
+    assert_int_equal(chk.bad, 0);
+    bg_store_close(st);
+}
+
+/* The same as-found error judged against the tolerance in force at the calibration: the
+** corrected 0.1 % from before it (flagged), or from after it (not flagged: the 1 % in force
+** then).  Limits derived by hand from limit = tol_R25 T25^2 / B (the default of
+** docs/commands/drift.md): 0.001 * 298.15^2 / 3950 = 0.022504664 K and 0.01 * ... =
+** 0.22504664 K. */
+static void drift_verdict_uses_lot_version(void **state)
+{
+    (void)state;
+    bg_qa_compare c;
+    double plim;
+    drift_under_version("lotv1.db", "2027-03-01T00:00:00Z", &c, &plim);
+    assert_close(c.limit_k, 0.022504664, 0, 1e-9);
+    assert_true(c.d.max_abs_err_mk > 22.6 && c.d.max_abs_err_mk < 225.0);
+    assert_int_equal(c.flag_limit, 1);
+    drift_under_version("lotv2.db", "2027-07-01T00:00:00Z", &c, &plim);
+    assert_close(c.limit_k, 0.22504664, 0, 1e-8);
+    assert_int_equal(c.flag_limit, 0);
+    assert_close(plim, 0.22504664, 0, 1e-8); /* now (before 2027-07-01): the 1 % */
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -1449,6 +1529,7 @@ int main(void)
         cmocka_unit_test(lot_reads_run_a_fixed_number_of_statements),
         cmocka_unit_test(statement_cache_survives_failure_and_rollback),
         cmocka_unit_test(reference_recalibration_versions),
+        cmocka_unit_test(drift_verdict_uses_lot_version),
     };
     return cmocka_run_group_tests_name("store", tests, setup, teardown);
 }

@@ -139,6 +139,27 @@ BG_API int bg_store_ref_versions(bg_store *st, const char *ident, bg_ref_version
 BG_API int bg_store_ref_at(bg_store *st, const char *ident, const char *when,
                            bg_ref_version *out, bg_error *err);
 
+/* A version of a lot: 'lot' holds the code and, for this version, the tolerances and note
+** (the nominal curve and the rest are the row's). */
+typedef struct bg_lot_version {
+    bg_version_head v;
+    bg_lot lot;
+} bg_lot_version;
+
+/* Add a version of lot 'lv->lot.code' valid from 'lv->v.valid_from' ("": now), with its
+** reason and author: the tolerances 'tol_r25' and 'tol_beta' (a negative value keeps the one
+** in force before) and the note ("" keeps it).  Errors as bg_store_ref_set, and BG_EINVAL
+** for a tolerance outside [0, 1) or a version that changes nothing. */
+BG_API int bg_store_lot_set(bg_store *st, const bg_lot_version *lv, long long *id,
+                            bg_error *err);
+typedef int (*bg_lot_version_cb)(const bg_lot_version *lv, void *ctx);
+/* Every version of lot 'code', the first (the row itself) first. */
+BG_API int bg_store_lot_versions(bg_store *st, const char *code, bg_lot_version_cb cb,
+                                 void *ctx, bg_error *err);
+/* The version of lot 'code' in force at 'when' (ISO 8601; NULL or "": now). */
+BG_API int bg_store_lot_at(bg_store *st, const char *code, const char *when,
+                           bg_lot_version *out, bg_error *err);
+
 /* ---- runs and readings ---- */
 
 typedef struct bg_run {

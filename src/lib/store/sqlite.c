@@ -724,4 +724,5 @@ const struct bgi_store_backend bgi_store_sqlite = {
     bgi_sqlite_chain_append, bgi_sqlite_chain_head, bgi_sqlite_verify, bgi_sqlite_chain_check,
     bgi_sqlite_lot_histories, bgi_sqlite_export_each,
     bgi_sqlite_ref_version_add, bgi_sqlite_ref_version_each,
+    bgi_sqlite_lot_version_add, bgi_sqlite_lot_version_each,
 };

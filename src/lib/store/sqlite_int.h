@@ -50,6 +50,10 @@ int bgi_sqlite_ref_version_add(bgi_conn *c, long long ref_id, const bg_ref_versi
                                const char *now, long long *id, bg_error *err);
 int bgi_sqlite_ref_version_each(bgi_conn *c, long long ref_id, bg_ref_version_cb cb, void *ctx,
                                 bg_error *err);
+int bgi_sqlite_lot_version_add(bgi_conn *c, long long lot_id, const bg_lot_version *lv,
+                               const char *now, long long *id, bg_error *err);
+int bgi_sqlite_lot_version_each(bgi_conn *c, long long lot_id, bg_lot_version_cb cb, void *ctx,
+                                bg_error *err);
 int bgi_sqlite_lot_get(bgi_conn *c, const char *code, bg_lot *out, bg_error *err);
 int bgi_sqlite_probe_get(bgi_conn *c, const char *serial, bg_probe *out, bg_error *err);
 int bgi_sqlite_probe_id(bgi_conn *c, const char *serial, long long *id, bg_error *err);

@@ -89,3 +89,56 @@ int bgi_sqlite_ref_version_each(bgi_conn *c, long long ref_id, bg_ref_version_cb
     sqlite3_finalize(q);
     return rc;
 }
+
+int bgi_sqlite_lot_version_add(bgi_conn *c, long long lot_id, const bg_lot_version *lv,
+                               const char *now, long long *id, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "INSERT INTO lot_version(lot_id, valid_from, tol_r25, tol_beta, "
+                         "note, why, by_whom, created_at) VALUES (?,?,?,?,?,?,?,?)", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, lot_id);
+    sqlite3_bind_text(q, 2, lv->v.valid_from, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_double(q, 3, lv->lot.tol_r25);
+    sqlite3_bind_double(q, 4, lv->lot.tol_beta);
+    bgi_bind_text_or_null(q, 5, lv->lot.note);
+    sqlite3_bind_text(q, 6, lv->v.why, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 7, lv->v.by, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 8, now, -1, SQLITE_TRANSIENT);
+    if (sqlite3_step(q) != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot add the lot version");
+    else if (id)
+        *id = sqlite3_last_insert_rowid(c->db);
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bgi_sqlite_lot_version_each(bgi_conn *c, long long lot_id, bg_lot_version_cb cb, void *ctx,
+                                bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    bg_lot_version lv;
+    int rc = bgi_prepare(c, "SELECT id, valid_from, tol_r25, tol_beta, note, why, by_whom, "
+                         "created_at FROM lot_version WHERE lot_id = ? ORDER BY id", &q, err), s;
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, lot_id);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        memset(&lv, 0, sizeof lv);
+        lv.v.id = sqlite3_column_int64(q, 0);
+        bgi_copy_text(lv.v.valid_from, sizeof lv.v.valid_from, q, 1);
+        lv.lot.tol_r25 = sqlite3_column_double(q, 2);
+        lv.lot.tol_beta = sqlite3_column_double(q, 3);
+        bgi_copy_text(lv.lot.note, sizeof lv.lot.note, q, 4);
+        bgi_copy_text(lv.v.why, sizeof lv.v.why, q, 5);
+        bgi_copy_text(lv.v.by, sizeof lv.v.by, q, 6);
+        bgi_copy_text(lv.v.created_at, sizeof lv.v.created_at, q, 7);
+        if (cb(&lv, ctx))
+            break;
+    }
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read lot versions");
+    sqlite3_finalize(q);
+    return rc;
+}

@@ -293,15 +293,6 @@ int bg_store_lot_add(bg_store *st, const bg_lot *lot, long long *id, bg_error *e
     return tx_end(st, own, rc, err);
 }
 
-int bg_store_lot_get(bg_store *st, const char *code, bg_lot *out, bg_error *err)
-{
-    return did_you_mean(st, BGI_NAME_LOT, code, st->be->lot_get(st->conn, code, out, err), err);
-}
-
-int bg_store_lot_each(bg_store *st, bg_lot_cb cb, void *ctx, bg_error *err)
-{
-    return st->be->lot_each(st->conn, cb, ctx, err);
-}
 
 int bg_store_part_lots(bg_store *st, const char *part, bg_lot_cb cb, void *ctx, bg_error *err)
 {
@@ -437,8 +428,9 @@ static int ref_version_find(bg_store *st, const char *ident, const char *when, l
     w->row = row, w->want = want;
     ref_first_version(row, &w->found);
     w->have = want <= 0;
-    if ((rc = bg_time_parse(row->created_at, &w->newest, err)) != BG_OK ||
-        (want < 0 && (rc = time_or_now(st, when, &w->at, err)) != BG_OK) ||
+    if (bg_time_parse(row->created_at, &w->newest, NULL) != BG_OK)
+        w->newest = -INFINITY; /* (a row written outside bandgap: bg_store_ref_set says so) */
+    if ((want < 0 && (rc = time_or_now(st, when, &w->at, err)) != BG_OK) ||
         (want != 0 && (rc = st->be->ref_version_each(st->conn, row->id, ref_walk_cb, w, err))
          != BG_OK))
         return rc;
@@ -606,6 +598,187 @@ int bg_store_ref_each(bg_store *st, bg_ref_cb cb, void *ctx, bg_error *err)
         rc = bg_error_set(err, BG_ENOMEM, "out of memory");
     for (size_t i = 0; i < rows.n && rc == BG_OK; i++)
         if ((rc = ref_now(st, &rows.v[i], err)) == BG_OK && cb(&rows.v[i], ctx))
+            break;
+    free(rows.v);
+    return rc;
+}
+
+/* ---- versions of a lot ---- */
+
+/* The lot row 'row' with version 'v' (its tolerances and note). */
+static void lot_whole(const bg_lot *row, const bg_lot_version *v, bg_lot_version *out)
+{
+    out->v = v->v;
+    out->lot = *row;
+    out->lot.tol_r25 = v->lot.tol_r25, out->lot.tol_beta = v->lot.tol_beta;
+    memcpy(out->lot.note, v->lot.note, sizeof out->lot.note);
+}
+
+struct lot_walk {
+    const bg_lot *row;
+    double at;
+    bg_lot_version_cb cb;
+    void *ctx;
+    bg_lot_version found;
+    double newest;
+};
+
+static int lot_walk_cb(const bg_lot_version *v, void *ctx)
+{
+    struct lot_walk *w = ctx;
+    double t = 0.0;
+    bg_lot_version whole;
+    lot_whole(w->row, v, &whole);
+    if (w->cb)
+        return w->cb(&whole, w->ctx);
+    if (bg_time_parse(v->v.valid_from, &t, NULL) == BG_OK && t > w->newest)
+        w->newest = t;
+    if (t <= w->at)
+        w->found = whole;
+    return 0;
+}
+
+/* The version of the lot row 'row' in force at 'when' (NULL or "": now). */
+static int lot_version_find(bg_store *st, const bg_lot *row, const char *when,
+                            struct lot_walk *w, bg_error *err)
+{
+    int rc;
+    memset(w, 0, sizeof *w);
+    w->row = row;
+    w->found.lot = *row;
+    snprintf(w->found.v.valid_from, sizeof w->found.v.valid_from, "%s", row->created_at);
+    snprintf(w->found.v.created_at, sizeof w->found.v.created_at, "%s", row->created_at);
+    if (bg_time_parse(row->created_at, &w->newest, NULL) != BG_OK)
+        w->newest = -INFINITY; /* (a row written outside bandgap: bg_store_lot_set says so) */
+    if ((rc = time_or_now(st, when, &w->at, err)) != BG_OK)
+        return rc;
+    return st->be->lot_version_each(st->conn, row->id, lot_walk_cb, w, err);
+}
+
+int bg_store_lot_at(bg_store *st, const char *code, const char *when, bg_lot_version *out,
+                    bg_error *err)
+{
+    struct lot_walk w;
+    bg_lot row;
+    int rc = st->be->lot_get(st->conn, code, &row, err);
+    if (rc == BG_OK && (rc = lot_version_find(st, &row, when, &w, err)) == BG_OK)
+        *out = w.found;
+    return did_you_mean(st, BGI_NAME_LOT, code, rc, err);
+}
+
+int bg_store_lot_versions(bg_store *st, const char *code, bg_lot_version_cb cb, void *ctx,
+                          bg_error *err)
+{
+    struct lot_walk w;
+    bg_lot row;
+    bg_lot_version first;
+    int rc = st->be->lot_get(st->conn, code, &row, err);
+    if (rc != BG_OK)
+        return did_you_mean(st, BGI_NAME_LOT, code, rc, err);
+    memset(&first, 0, sizeof first);
+    first.lot = row;
+    snprintf(first.v.valid_from, sizeof first.v.valid_from, "%s", row.created_at);
+    snprintf(first.v.created_at, sizeof first.v.created_at, "%s", row.created_at);
+    if (cb(&first, ctx))
+        return BG_OK;
+    memset(&w, 0, sizeof w);
+    w.row = &row, w.cb = cb, w.ctx = ctx;
+    return st->be->lot_version_each(st->conn, row.id, lot_walk_cb, &w, err);
+}
+
+int bg_store_lot_set(bg_store *st, const bg_lot_version *lv, long long *id, bg_error *err)
+{
+    char now[BG_TIME], what[BG_TEXT + 16];
+    bg_lot_version add = *lv;
+    struct lot_walk w;
+    bg_lot row;
+    long long row_id = 0;
+    int rc, own;
+
+    if ((rc = check_why_by(&lv->v, err)) != BG_OK ||
+        (rc = check_text("note", lv->lot.note, BG_NOTE, 0, err)) != BG_OK)
+        return rc;
+    if (!(lv->lot.tol_r25 < 1.0 && lv->lot.tol_beta < 1.0) || isnan(lv->lot.tol_r25) ||
+        isnan(lv->lot.tol_beta))
+        return bg_error_set(err, BG_EINVAL, "lot '%s': tolerances must be between 0 and 100 %%",
+                            lv->lot.code);
+    if (!add.v.valid_from[0])
+        snprintf(add.v.valid_from, sizeof add.v.valid_from, "%s",
+                 bg_store_time(st, now, sizeof now));
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    snprintf(what, sizeof what, "lot '%s'", lv->lot.code);
+    if ((rc = st->be->lot_get(st->conn, lv->lot.code, &row, err)) == BG_OK &&
+        (rc = lot_version_find(st, &row, add.v.valid_from, &w, err)) == BG_OK &&
+        (rc = check_valid_from(add.v.valid_from, row.created_at, w.newest, what, err)) == BG_OK) {
+        const bg_lot *was = &w.found.lot;
+        if (add.lot.tol_r25 < 0.0)
+            add.lot.tol_r25 = was->tol_r25;
+        if (add.lot.tol_beta < 0.0)
+            add.lot.tol_beta = was->tol_beta;
+        if (!add.lot.note[0])
+            memcpy(add.lot.note, was->note, sizeof add.lot.note);
+        if (add.lot.tol_r25 == was->tol_r25 && add.lot.tol_beta == was->tol_beta &&
+            strcmp(add.lot.note, was->note) == 0)
+            rc = bg_error_set(err, BG_EINVAL, "%s: the version changes nothing (give "
+                              "--tol-r25, --tol-beta or --note)", what);
+        else
+            rc = st->be->lot_version_add(st->conn, row.id, &add,
+                                         bg_store_time(st, now, sizeof now), &row_id, err);
+    }
+    rc = chained(st, "lot_version", row_id, rc, err);
+    if (rc == BG_OK && id)
+        *id = row_id;
+    return did_you_mean(st, BGI_NAME_LOT, lv->lot.code, tx_end(st, own, rc, err), err);
+}
+
+/* A lot row as in force now. */
+static int lot_now(bg_store *st, bg_lot *l, bg_error *err)
+{
+    struct lot_walk w;
+    int rc = lot_version_find(st, l, NULL, &w, err);
+    if (rc == BG_OK)
+        *l = w.found.lot;
+    return rc;
+}
+
+int bg_store_lot_get(bg_store *st, const char *code, bg_lot *out, bg_error *err)
+{
+    int rc = st->be->lot_get(st->conn, code, out, err);
+    if (rc == BG_OK)
+        rc = lot_now(st, out, err);
+    return did_you_mean(st, BGI_NAME_LOT, code, rc, err);
+}
+
+/* bg_store_lot_each: each lot as in force now (rows collected first). */
+struct lot_rows {
+    bg_lot *v;
+    size_t n, cap;
+    int nomem;
+};
+
+static int lot_rows_cb(const bg_lot *l, void *ctx)
+{
+    struct lot_rows *rows = ctx;
+    if (rows->n == rows->cap) {
+        size_t cap = rows->cap ? 2 * rows->cap : 8;
+        bg_lot *v = realloc(rows->v, cap * sizeof *v);
+        if (!v)
+            return rows->nomem = 1;
+        rows->v = v, rows->cap = cap;
+    }
+    rows->v[rows->n++] = *l;
+    return 0;
+}
+
+int bg_store_lot_each(bg_store *st, bg_lot_cb cb, void *ctx, bg_error *err)
+{
+    struct lot_rows rows = { NULL, 0, 0, 0 };
+    int rc = st->be->lot_each(st->conn, lot_rows_cb, &rows, err);
+    if (rc == BG_OK && rows.nomem)
+        rc = bg_error_set(err, BG_ENOMEM, "out of memory");
+    for (size_t i = 0; i < rows.n && rc == BG_OK; i++)
+        if ((rc = lot_now(st, &rows.v[i], err)) == BG_OK && cb(&rows.v[i], ctx))
             break;
     free(rows.v);
     return rc;

@@ -193,6 +193,11 @@ struct bgi_store_backend {
                            const char *now, long long *id, bg_error *err);
     int (*ref_version_each)(bgi_conn *c, long long ref_id, bg_ref_version_cb cb, void *ctx,
                             bg_error *err);
+    /* the same for lots ('lv->lot' holds only the version's tolerances and note) */
+    int (*lot_version_add)(bgi_conn *c, long long lot_id, const bg_lot_version *lv,
+                           const char *now, long long *id, bg_error *err);
+    int (*lot_version_each)(bgi_conn *c, long long lot_id, bg_lot_version_cb cb, void *ctx,
+                            bg_error *err);
 };
 
 /* The backends (sqlite.c, ...); store.c lists them by scheme. */
