@@ -1503,6 +1503,55 @@ static void drift_verdict_uses_lot_version(void **state)
     assert_close(plim, 0.22504664, 0, 1e-8); /* now (before 2027-07-01): the 1 % */
 }
 
+/* Lot statistics judge a probe against the tolerances in force at its calibration: lot L1's
+** B tolerance widened from 1 % to 2 % from 'from'; P1 calibrated on 2027-01-10 with a B
+** (25/85) between 1 % and 2 % above the nominal 3950 K (checked below).  Returns the number
+** of probes out of tolerance. */
+static size_t lot_out_under_version(const char *name, const char *from)
+{
+    bg_store *st = NULL;
+    bg_lot lot;
+    bg_lot_version lv;
+    bg_qa_lot l;
+    bg_qa_opts o = bg_qa_default_opts();
+    unlink(path_of(name));
+    assert_int_equal(bg_store_open(path_of(name), BG_STORE_CREATE, &st, NULL), BG_OK);
+    bg_store_set_clock(st, 1796083200); /* 2026-12-01T00:00:00Z */
+    memset(&lot, 0, sizeof lot);
+    strcpy(lot.code, "L1");
+    strcpy(lot.part, "NTC");
+    lot.r25_ohm = 10000, lot.beta_k = 3950, lot.pair_t1_k = 298.15, lot.pair_t2_k = 358.15;
+    lot.tol_r25 = 0.01, lot.tol_beta = 0.01;
+    assert_int_equal(bg_store_lot_add(st, &lot, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "P1", "L1", NULL, NULL, NULL), BG_OK);
+    add_run(st, "P1", "2027-01-10T08:00:00Z", 1.0, "sh3");
+    memset(&lv, 0, sizeof lv);
+    strcpy(lv.lot.code, "L1");
+    lv.lot.tol_r25 = -1.0, lv.lot.tol_beta = 0.02;
+    strcpy(lv.v.valid_from, from);
+    strcpy(lv.v.why, "tolerance corrected");
+    strcpy(lv.v.by, "ana");
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, NULL), BG_OK);
+    memset(&l, 0, sizeof l);
+    assert_int_equal(bg_qa_lot_stats(st, "L1", &o, &l, NULL), BG_OK);
+    assert_int_equal(l.n, 1);
+    /* within the R25 tolerance; B above the nominal by more than 1 % and less than 2 % */
+    assert_true(fabs(l.r25_dev_pct[0]) < 1.0);
+    assert_true(l.b_k[0] > 1.01 * 3950 && l.b_k[0] < 1.02 * 3950);
+    size_t nout = l.nout;
+    assert_int_equal(!!(l.flags[0] & BG_QA_OUT_OF_TOL), nout);
+    bg_qa_lot_release(&l);
+    bg_store_close(st);
+    return nout;
+}
+
+static void lot_stats_use_lot_version(void **state)
+{
+    (void)state;
+    assert_int_equal(lot_out_under_version("lotv3.db", "2027-01-01T00:00:00Z"), 0);
+    assert_int_equal(lot_out_under_version("lotv4.db", "2027-02-01T00:00:00Z"), 1);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -1530,6 +1579,7 @@ int main(void)
         cmocka_unit_test(statement_cache_survives_failure_and_rollback),
         cmocka_unit_test(reference_recalibration_versions),
         cmocka_unit_test(drift_verdict_uses_lot_version),
+        cmocka_unit_test(lot_stats_use_lot_version),
     };
     return cmocka_run_group_tests_name("store", tests, setup, teardown);
 }
