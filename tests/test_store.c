@@ -1408,6 +1408,24 @@ static void reference_recalibration_versions(void **state)
     ** new 298.1501 + 0.05 + 0.001 * 5.0001 = 298.2051001 K */
     assert_close(t1.t_k[1], 297.989800218, 0, 1e-9);
     assert_close(t2.t_k[1], 298.2051001, 0, 1e-9);
+    /* a calibration report shows the certificate each run was corrected with */
+    for (int k = 0; k < 2; k++) {
+        long long run = k ? run2 : run1, fid;
+        bg_store_points sp = BG_STORE_POINTS_INIT;
+        bg_fit f = BG_FIT_INIT;
+        bg_model mod;
+        bg_calib_report rep = BG_CALIB_REPORT_INIT;
+        assert_int_equal(bg_model_parse("sh3", &mod, NULL), BG_OK);
+        bg_fit_opts fo = bg_fit_default_opts(&mod);
+        assert_int_equal(bg_store_run_points(st, run, &sp, NULL), BG_OK);
+        assert_int_equal(bg_fit_points(sp.pts, sp.n, &fo, &f, NULL), BG_OK);
+        assert_int_equal(bg_store_fit_save(st, run, &f, sp.ids, &fid, NULL), BG_OK);
+        assert_int_equal(bg_calib_report_load(st, run, fid, 0.0, &rep, NULL), BG_OK);
+        assert_string_equal(rep.ref.certificate, k ? "C-2" : "C-1");
+        bg_calib_report_release(&rep);
+        bg_fit_release(&f);
+        bg_store_points_release(&sp);
+    }
 
     /* versions refuse edits and deletes; the record verifies, the versions in its chain */
     sqlite3 *db;
@@ -1419,7 +1437,7 @@ static void reference_recalibration_versions(void **state)
     sqlite3_close(db);
     assert_int_equal(bg_store_verify(st, &chk, NULL), BG_OK);
     assert_int_equal(chk.bad, 0);
-    assert_int_equal(chk.records, 6); /* lot, probe, reference, run, version, run */
+    assert_int_equal(chk.records, 8); /* lot, probe, reference, run, version, run, 2 fits */
     bg_store_close(st);
 }
 
