@@ -100,13 +100,18 @@ INSERT INTO part_spec (id, part, tol_k, tol_lo_k, tol_hi_k, created_at)
     VALUES (2, 'P', 0.2, 273.15, 343.15, 't');"
 dump() { # every row of every table, and the schema of indexes, triggers, views and probe
     for t in lot probe reference run reading exclusion fit artifact part_spec; do
-        sqlite3 "$1" "SELECT '$t', * FROM $t ORDER BY rowid"
+        # (leaving out the column 008-versions.sql adds, NULL in an upgraded row)
+        cols=$(sqlite3 "$1" "SELECT group_concat(name, ', ') FROM pragma_table_info('$t')
+                             WHERE name <> 'reference_version_id'")
+        sqlite3 "$1" "SELECT '$t', $cols FROM $t ORDER BY rowid"
     done
     sqlite3 "$1" "SELECT type, name, tbl_name, sql FROM sqlite_schema
                   WHERE (type IN ('index', 'trigger', 'view') OR name IN ('probe', 'exclusion'))
                     AND tbl_name <> 'chain' AND name NOT IN ('lot_keep', 'lot_stay',
                     'probe_keep', 'probe_stay', 'reference_keep', 'reference_stay')
-                  ORDER BY type, name" # (leaving out what 007-record-chain.sql adds)
+                    AND tbl_name NOT IN ('reference_version', 'lot_version', 'probe_version')
+                  ORDER BY type, name" # (leaving out what 007-record-chain.sql and
+                                       # 008-versions.sql add)
 }
 dump "$V5" > "$T/before.txt"
 cp "$V5" "$T/inf.db"

@@ -1311,6 +1311,295 @@ static void statement_cache_survives_failure_and_rollback(void **state)
     bg_store_close(st);
 }
 
+/* ---- versions: a reference recalibrated ---- */
+
+struct t_of {
+    double t_k[8];
+    size_t n;
+};
+
+static int t_of_cb(const bg_reading_row *g, void *ctx)
+{
+    struct t_of *t = ctx;
+    if (t->n < 8)
+        t->t_k[t->n++] = g->t_k;
+    return 0;
+}
+
+static int count_versions(const bg_ref_version *rv, void *ctx)
+{
+    (void)rv;
+    ++*(int *)ctx;
+    return 0;
+}
+
+static long long import_at(bg_store *st, const char *started_at, int new_run)
+{
+    bg_readings rs = make_readings();
+    bg_run meta;
+    long long run = 0;
+    memset(&meta, 0, sizeof meta);
+    strcpy(meta.serial, "P1");
+    strcpy(meta.ref_ident, "S9");
+    strcpy(meta.started_at, started_at);
+    meta.new_run = new_run;
+    bg_error err = BG_ERROR_INIT;
+    int rc = bg_store_import(st, &rs, &meta, &run, &err);
+    if (rc != BG_OK)
+        fprintf(stderr, "%s\n", err.msg);
+    assert_int_equal(rc, BG_OK);
+    bg_readings_release(&rs);
+    return run;
+}
+
+/* An import before a recalibration is corrected with the old certificate's linear correction
+** and one after it with the new one; the due date checked is the version's; each run records
+** its version; the refused versions write nothing; the versions are chained. */
+static void reference_recalibration_versions(void **state)
+{
+    (void)state;
+    bg_store *st = fresh("refver.db");
+    bg_error err = BG_ERROR_INIT;
+    bg_ref ref;
+    bg_ref_version rv, at;
+    bg_run r;
+    bg_store_check chk;
+    struct t_of t1 = { { 0 }, 0 }, t2 = { { 0 }, 0 };
+    long long vid = 0, run1, run2;
+    int n = 0;
+
+    bg_store_set_clock(st, 1793577600); /* 2026-11-02T00:00:00Z */
+    memset(&ref, 0, sizeof ref);
+    strcpy(ref.ident, "S9");
+    strcpy(ref.certificate, "C-1");
+    strcpy(ref.due_date, "2026-11-30");
+    ref.kind = BG_REF_LINEAR, ref.lin_c0_k = -0.1712, ref.lin_c1 = 0.00218, ref.lin_t0_k = 293.15;
+    assert_int_equal(bg_store_ref_add(st, &ref, NULL, NULL), BG_OK);
+    run1 = import_at(st, "2026-11-24T08:00:00Z", 0);
+
+    memset(&rv, 0, sizeof rv);
+    rv.ref = ref;
+    strcpy(rv.ref.certificate, "C-2");
+    strcpy(rv.ref.due_date, "2027-12-31");
+    rv.ref.lin_c0_k = 0.05, rv.ref.lin_c1 = 0.001;
+    strcpy(rv.v.why, "recalibrated");
+    strcpy(rv.v.by, "ana");
+    /* refused: before the reference was created, no reason, an unknown reference */
+    strcpy(rv.v.valid_from, "2026-10-01");
+    assert_int_equal(bg_store_ref_set(st, &rv, &vid, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "before the record was created"));
+    strcpy(rv.v.valid_from, "2026-12-01T00:00:00Z");
+    rv.v.why[0] = '\0';
+    assert_int_equal(bg_store_ref_set(st, &rv, &vid, &err), BG_EINVAL);
+    strcpy(rv.v.why, "recalibrated");
+    strcpy(rv.ref.ident, "S8");
+    assert_int_equal(bg_store_ref_set(st, &rv, &vid, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "did you mean 'S9'"));
+    assert_int_equal(bg_store_ref_versions(st, "S9", count_versions, &n, NULL), BG_OK);
+    assert_int_equal(n, 1);
+    strcpy(rv.ref.ident, "S9");
+    assert_int_equal(bg_store_ref_set(st, &rv, &vid, NULL), BG_OK);
+    assert_true(vid > 0);
+    /* a second version may not begin before the first */
+    strcpy(rv.v.valid_from, "2026-11-15");
+    assert_int_equal(bg_store_ref_set(st, &rv, NULL, &err), BG_EINVAL);
+
+    /* the version in force */
+    assert_int_equal(bg_store_ref_at(st, "S9", "2026-11-30T23:59:59Z", &at, NULL), BG_OK);
+    assert_int_equal(at.v.id, 0);
+    assert_string_equal(at.ref.certificate, "C-1");
+    assert_int_equal(bg_store_ref_at(st, "S9", "2026-12-01T00:00:00Z", &at, NULL), BG_OK);
+    assert_int_equal(at.v.id, vid);
+    assert_string_equal(at.ref.certificate, "C-2");
+    assert_string_equal(at.v.by, "ana");
+    assert_int_equal(bg_store_ref_get(st, "S9", &ref, NULL), BG_OK); /* now: 2026-11-02 */
+    assert_string_equal(ref.certificate, "C-1");
+    n = 0;
+    assert_int_equal(bg_store_ref_versions(st, "S9", count_versions, &n, NULL), BG_OK);
+    assert_int_equal(n, 2);
+
+    /* after the recalibration: the new correction and due date (the old one, 2026-11-30, is
+    ** past on 2026-12-05: no reason is needed because the version's due date is used) */
+    run2 = import_at(st, "2026-12-05T08:00:00Z", 1);
+    assert_int_equal(bg_store_run_get(st, run1, &r, NULL), BG_OK);
+    assert_int_equal(r.ref_version, 0);
+    assert_string_equal(r.ref_due_date, "2026-11-30");
+    assert_int_equal(bg_store_run_get(st, run2, &r, NULL), BG_OK);
+    assert_int_equal(r.ref_version, vid);
+    assert_string_equal(r.ref_due_date, "2027-12-31");
+    assert_int_equal(bg_store_ref_version(st, "S9", vid, &at, NULL), BG_OK);
+    assert_string_equal(at.ref.certificate, "C-2");
+    assert_int_equal(bg_store_reading_each(st, run1, t_of_cb, &t1, NULL), BG_OK);
+    assert_int_equal(bg_store_reading_each(st, run2, t_of_cb, &t2, NULL), BG_OK);
+    assert_int_equal(t1.n, 5);
+    assert_int_equal(t2.n, 5);
+    /* derived by hand from t = t_read + c0 + c1 (t_read - t0), t_read = 25.0001 degC =
+    ** 298.1501 K, t0 = 293.15 K: old 298.1501 - 0.1712 + 0.00218 * 5.0001 = 297.989800218 K;
+    ** new 298.1501 + 0.05 + 0.001 * 5.0001 = 298.2051001 K */
+    assert_close(t1.t_k[1], 297.989800218, 0, 1e-9);
+    assert_close(t2.t_k[1], 298.2051001, 0, 1e-9);
+    /* a calibration report shows the certificate each run was corrected with */
+    for (int k = 0; k < 2; k++) {
+        long long run = k ? run2 : run1, fid;
+        bg_store_points sp = BG_STORE_POINTS_INIT;
+        bg_fit f = BG_FIT_INIT;
+        bg_model mod;
+        bg_calib_report rep = BG_CALIB_REPORT_INIT;
+        assert_int_equal(bg_model_parse("sh3", &mod, NULL), BG_OK);
+        bg_fit_opts fo = bg_fit_default_opts(&mod);
+        assert_int_equal(bg_store_run_points(st, run, &sp, NULL), BG_OK);
+        assert_int_equal(bg_fit_points(sp.pts, sp.n, &fo, &f, NULL), BG_OK);
+        assert_int_equal(bg_store_fit_save(st, run, &f, sp.ids, &fid, NULL), BG_OK);
+        assert_int_equal(bg_calib_report_load(st, run, fid, 0.0, &rep, NULL), BG_OK);
+        assert_string_equal(rep.ref.certificate, k ? "C-2" : "C-1");
+        bg_calib_report_release(&rep);
+        bg_fit_release(&f);
+        bg_store_points_release(&sp);
+    }
+
+    /* versions refuse edits and deletes; the record verifies, the versions in its chain */
+    sqlite3 *db;
+    assert_int_equal(sqlite3_open(path_of("refver.db"), &db), SQLITE_OK);
+    assert_int_not_equal(sqlite3_exec(db, "UPDATE reference_version SET lin_c0_k = 0", NULL,
+                                      NULL, NULL), SQLITE_OK);
+    assert_int_not_equal(sqlite3_exec(db, "DELETE FROM reference_version", NULL, NULL, NULL),
+                         SQLITE_OK);
+    sqlite3_close(db);
+    assert_int_equal(bg_store_verify(st, &chk, NULL), BG_OK);
+    assert_int_equal(chk.bad, 0);
+    assert_int_equal(chk.records, 8); /* lot, probe, reference, run, version, run, 2 fits */
+    bg_store_close(st);
+}
+
+/* ---- versions: a lot's tolerance corrected ---- */
+
+/* Probe P1 of lot L1 calibrated on 2027-01-10 and again on 2027-06-10 with every resistance
+** 0.3 % higher (an as-found error of some 70 to 110 mK); the lot's R25 tolerance (1 %) is
+** corrected to 0.1 % from 'from'.  The drift verdict of the second calibration, with the
+** default limit from the tolerance, into '*c'. */
+static void drift_under_version(const char *name, const char *from, bg_qa_compare *c,
+                                double *probe_limit_k)
+{
+    bg_store *st = NULL;
+    bg_lot lot;
+    bg_lot_version lv;
+    bg_qa_probe p = BG_QA_PROBE_INIT;
+    bg_qa_opts o = bg_qa_default_opts();
+    bg_error err = BG_ERROR_INIT;
+    unlink(path_of(name));
+    assert_int_equal(bg_store_open(path_of(name), BG_STORE_CREATE, &st, NULL), BG_OK);
+    bg_store_set_clock(st, 1796083200); /* 2026-12-01T00:00:00Z: the lot's creation, "now" */
+    memset(&lot, 0, sizeof lot);
+    strcpy(lot.code, "L1");
+    strcpy(lot.part, "NTC");
+    lot.r25_ohm = 10000, lot.beta_k = 3950, lot.pair_t1_k = 298.15, lot.pair_t2_k = 358.15;
+    lot.tol_r25 = 0.01, lot.tol_beta = 0.01;
+    assert_int_equal(bg_store_lot_add(st, &lot, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "P1", "L1", NULL, NULL, NULL), BG_OK);
+    add_run(st, "P1", "2027-01-10T08:00:00Z", 1.0, "sh3");
+    add_run(st, "P1", "2027-06-10T08:00:00Z", 1.003, "sh3");
+    memset(&lv, 0, sizeof lv);
+    strcpy(lv.lot.code, "L1");
+    lv.lot.tol_r25 = 0.001, lv.lot.tol_beta = -1.0;
+    strcpy(lv.v.valid_from, from);
+    strcpy(lv.v.why, "tolerance corrected");
+    strcpy(lv.v.by, "ana");
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, NULL), BG_OK);
+    /* refused: no reason, nothing changed, before the lot was created, an unknown lot */
+    lv.v.why[0] = '\0';
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, &err), BG_EINVAL);
+    strcpy(lv.v.why, "again");
+    strcpy(lv.v.valid_from, "2027-12-01T00:00:00Z");
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "changes nothing"));
+    strcpy(lv.v.valid_from, "2000-01-01");
+    lv.lot.tol_r25 = 0.002;
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "before the record was created"));
+    strcpy(lv.lot.code, "L9");
+    strcpy(lv.v.valid_from, "");
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "unknown lot 'L9'"));
+    assert_int_equal(bg_qa_probe_drift(st, "P1", &o, &p, NULL), BG_OK);
+    assert_int_equal(p.nprev, 1);
+    *c = p.since_previous[0];
+    *probe_limit_k = p.limit_k;
+    bg_qa_probe_release(&p);
+    bg_store_check chk;
+    assert_int_equal(bg_store_verify(st, &chk, NULL), BG_OK);
+    assert_int_equal(chk.bad, 0);
+    bg_store_close(st);
+}
+
+/* The same as-found error judged against the tolerance in force at the calibration: the
+** corrected 0.1 % from before it (flagged), or from after it (not flagged: the 1 % in force
+** then).  Limits derived by hand from limit = tol_R25 T25^2 / B (the default of
+** docs/commands/drift.md): 0.001 * 298.15^2 / 3950 = 0.022504664 K and 0.01 * ... =
+** 0.22504664 K. */
+static void drift_verdict_uses_lot_version(void **state)
+{
+    (void)state;
+    bg_qa_compare c;
+    double plim;
+    drift_under_version("lotv1.db", "2027-03-01T00:00:00Z", &c, &plim);
+    assert_close(c.limit_k, 0.022504664, 0, 1e-9);
+    assert_true(c.d.max_abs_err_mk > 22.6 && c.d.max_abs_err_mk < 225.0);
+    assert_int_equal(c.flag_limit, 1);
+    drift_under_version("lotv2.db", "2027-07-01T00:00:00Z", &c, &plim);
+    assert_close(c.limit_k, 0.22504664, 0, 1e-8);
+    assert_int_equal(c.flag_limit, 0);
+    assert_close(plim, 0.22504664, 0, 1e-8); /* now (before 2027-07-01): the 1 % */
+}
+
+/* Lot statistics judge a probe against the tolerances in force at its calibration: lot L1's
+** B tolerance widened from 1 % to 2 % from 'from'; P1 calibrated on 2027-01-10 with a B
+** (25/85) between 1 % and 2 % above the nominal 3950 K (checked below).  Returns the number
+** of probes out of tolerance. */
+static size_t lot_out_under_version(const char *name, const char *from)
+{
+    bg_store *st = NULL;
+    bg_lot lot;
+    bg_lot_version lv;
+    bg_qa_lot l;
+    bg_qa_opts o = bg_qa_default_opts();
+    unlink(path_of(name));
+    assert_int_equal(bg_store_open(path_of(name), BG_STORE_CREATE, &st, NULL), BG_OK);
+    bg_store_set_clock(st, 1796083200); /* 2026-12-01T00:00:00Z */
+    memset(&lot, 0, sizeof lot);
+    strcpy(lot.code, "L1");
+    strcpy(lot.part, "NTC");
+    lot.r25_ohm = 10000, lot.beta_k = 3950, lot.pair_t1_k = 298.15, lot.pair_t2_k = 358.15;
+    lot.tol_r25 = 0.01, lot.tol_beta = 0.01;
+    assert_int_equal(bg_store_lot_add(st, &lot, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "P1", "L1", NULL, NULL, NULL), BG_OK);
+    add_run(st, "P1", "2027-01-10T08:00:00Z", 1.0, "sh3");
+    memset(&lv, 0, sizeof lv);
+    strcpy(lv.lot.code, "L1");
+    lv.lot.tol_r25 = -1.0, lv.lot.tol_beta = 0.02;
+    strcpy(lv.v.valid_from, from);
+    strcpy(lv.v.why, "tolerance corrected");
+    strcpy(lv.v.by, "ana");
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, NULL), BG_OK);
+    memset(&l, 0, sizeof l);
+    assert_int_equal(bg_qa_lot_stats(st, "L1", &o, &l, NULL), BG_OK);
+    assert_int_equal(l.n, 1);
+    /* within the R25 tolerance; B above the nominal by more than 1 % and less than 2 % */
+    assert_true(fabs(l.r25_dev_pct[0]) < 1.0);
+    assert_true(l.b_k[0] > 1.01 * 3950 && l.b_k[0] < 1.02 * 3950);
+    size_t nout = l.nout;
+    assert_int_equal(!!(l.flags[0] & BG_QA_OUT_OF_TOL), nout);
+    bg_qa_lot_release(&l);
+    bg_store_close(st);
+    return nout;
+}
+
+static void lot_stats_use_lot_version(void **state)
+{
+    (void)state;
+    assert_int_equal(lot_out_under_version("lotv3.db", "2027-01-01T00:00:00Z"), 0);
+    assert_int_equal(lot_out_under_version("lotv4.db", "2027-02-01T00:00:00Z"), 1);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -1337,6 +1626,9 @@ int main(void)
         cmocka_unit_test(export_walk_matches_per_probe_listings),
         cmocka_unit_test(lot_reads_run_a_fixed_number_of_statements),
         cmocka_unit_test(statement_cache_survives_failure_and_rollback),
+        cmocka_unit_test(reference_recalibration_versions),
+        cmocka_unit_test(drift_verdict_uses_lot_version),
+        cmocka_unit_test(lot_stats_use_lot_version),
     };
     return cmocka_run_group_tests_name("store", tests, setup, teardown);
 }

@@ -74,6 +74,9 @@ typedef struct bg_qa_compare {
     size_t from, to;
     bg_drift d;                  /* as-found error, change of R25 and B, years, rate */
     int flag_limit, flag_rate;   /* max |as-found| above the limit; rate above the rate limit */
+    double limit_k, rate_k;      /* the limits this comparison was judged against: a default
+                                 ** from the lot's tolerance is the lot version's in force at
+                                 ** the later calibration's start */
 } bg_qa_compare;
 
 typedef struct bg_qa_probe {
@@ -91,6 +94,9 @@ typedef struct bg_qa_probe {
     bg_qa_compare *since_first;  /* calibration i >= 2 against the first: nfirst of n - 2 */
     size_t nfirst;
     int flagged;                 /* a flag in any comparison */
+    double *limit_at;            /* bg_qa_probe_drift: the default limit (K) from the lot
+                                 ** version in force at each calibration's start (n of them);
+                                 ** NULL: limit_k for every comparison */
 } bg_qa_probe;
 #define BG_QA_PROBE_INIT { 0 }
 

@@ -99,7 +99,9 @@ BG_API int bg_store_probe_add(bg_store *st, const char *serial, const char *lot_
                               const char *note, long long *id, bg_error *err);
 BG_API int bg_store_ref_add(bg_store *st, const bg_ref *ref, long long *id, bg_error *err);
 
-/* Look up by code / serial / ident: BG_EINVAL "unknown ..." when absent. */
+/* Look up by code / serial / ident: BG_EINVAL "unknown ..." when absent.  A reference comes
+** as in force now (the certificate, due date and correction of its newest version valid now;
+** bg_store_ref_versions lists them); so does each of bg_store_ref_each. */
 BG_API int bg_store_lot_get(bg_store *st, const char *code, bg_lot *out, bg_error *err);
 BG_API int bg_store_probe_get(bg_store *st, const char *serial, bg_probe *out, bg_error *err);
 BG_API int bg_store_ref_get(bg_store *st, const char *ident, bg_ref *out, bg_error *err);
@@ -112,6 +114,68 @@ BG_API int bg_store_lot_each(bg_store *st, bg_lot_cb cb, void *ctx, bg_error *er
 BG_API int bg_store_probe_each(bg_store *st, const char *lot_code, bg_probe_cb cb, void *ctx,
                                bg_error *err);
 BG_API int bg_store_ref_each(bg_store *st, bg_ref_cb cb, void *ctx, bg_error *err);
+
+/* ---- versions: a reference recalibrated, a lot's tolerances corrected, a probe moved ----
+** A change is a new version, never an edit: what it changes, from when it is valid, who
+** recorded it, when and why.  The first version of each is its row itself (version id 0,
+** valid from its creation).  A verdict uses the version in force at the time of the
+** calibration it judges: the newest version valid from at or before that time, else the row
+** itself. */
+
+typedef struct bg_version_head {
+    long long id;                          /* 0: the first version, the row itself */
+    char valid_from[BG_TIME];              /* ISO 8601; "" on adding: now */
+    char why[BG_NOTE], by[BG_TEXT];        /* the reason and who recorded it ("" for id 0) */
+    char created_at[BG_TIME];              /* when it was recorded */
+} bg_version_head;
+
+/* A version of a reference thermometer: 'ref' holds the identifier and, for this version, the
+** certificate, due date and correction (the id, note and creation time are the row's). */
+typedef struct bg_ref_version {
+    bg_version_head v;
+    bg_ref ref;
+} bg_ref_version;
+
+/* Add a version of reference 'rv->ref.ident' (a recalibration: certificate, due date and
+** correction, all of them, as bg_store_ref_add checks them), valid from 'rv->v.valid_from'
+** ("": now), with its reason 'why' and who 'by'; fills '*id'.  BG_EINVAL for an unknown
+** reference (with "did you mean"), an empty reason or name, a validity that is not an ISO 8601
+** time or is earlier than the reference's creation or than its newest version's validity;
+** nothing is written then. */
+BG_API int bg_store_ref_set(bg_store *st, const bg_ref_version *rv, long long *id,
+                            bg_error *err);
+/* Version 'version' of reference 'ident' (0: the row itself): what a run records it was
+** corrected with (bg_run.ref_version).  BG_EINVAL when the reference has no such version. */
+BG_API int bg_store_ref_version(bg_store *st, const char *ident, long long version,
+                                bg_ref_version *out, bg_error *err);
+/* Every version of reference 'ident', the first (the row itself) first. */
+typedef int (*bg_ref_version_cb)(const bg_ref_version *rv, void *ctx);
+BG_API int bg_store_ref_versions(bg_store *st, const char *ident, bg_ref_version_cb cb,
+                                 void *ctx, bg_error *err);
+/* The version of reference 'ident' in force at 'when' (ISO 8601; NULL or "": now). */
+BG_API int bg_store_ref_at(bg_store *st, const char *ident, const char *when,
+                           bg_ref_version *out, bg_error *err);
+
+/* A version of a lot: 'lot' holds the code and, for this version, the tolerances and note
+** (the nominal curve and the rest are the row's). */
+typedef struct bg_lot_version {
+    bg_version_head v;
+    bg_lot lot;
+} bg_lot_version;
+
+/* Add a version of lot 'lv->lot.code' valid from 'lv->v.valid_from' ("": now), with its
+** reason and author: the tolerances 'tol_r25' and 'tol_beta' (a negative value keeps the one
+** in force before) and the note ("" keeps it).  Errors as bg_store_ref_set, and BG_EINVAL
+** for a tolerance outside [0, 1) or a version that changes nothing. */
+BG_API int bg_store_lot_set(bg_store *st, const bg_lot_version *lv, long long *id,
+                            bg_error *err);
+typedef int (*bg_lot_version_cb)(const bg_lot_version *lv, void *ctx);
+/* Every version of lot 'code', the first (the row itself) first. */
+BG_API int bg_store_lot_versions(bg_store *st, const char *code, bg_lot_version_cb cb,
+                                 void *ctx, bg_error *err);
+/* The version of lot 'code' in force at 'when' (ISO 8601; NULL or "": now). */
+BG_API int bg_store_lot_at(bg_store *st, const char *code, const char *when,
+                           bg_lot_version *out, bg_error *err);
 
 /* ---- runs and readings ---- */
 
@@ -134,6 +198,10 @@ typedef struct bg_run {
     int new_run;                /* import only: import readings identical to an earlier run's
                                 ** of the probe as a new run on purpose */
     double measuring_current_a, measuring_voltage_v; /* the probe read with; 0: not given */
+    /* schema 8 */
+    long long ref_version;      /* the reference version the readings were corrected with,
+                                ** the one in force at the run's start (0: the reference's
+                                ** own row, or no reference) */
 } bg_run;
 
 /* Create a run of probe 'meta->serial' from the readings 'rs' in one transaction.  Uses

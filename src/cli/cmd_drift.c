@@ -121,9 +121,9 @@ static void compare_text(const bg_qa_probe *p, const bg_qa_compare *c)
     printf("    max |as-found| %.3f mK, R25 %+.4f %%, B %+.3f K, %s\n", d->max_abs_err_mk,
            d->d_r25_pct, d->d_b_k, rate);
     if (c->flag_limit)
-        printf("    FLAG: |as-found| beyond the limit of %.1f mK\n", 1e3 * p->limit_k);
+        printf("    FLAG: |as-found| beyond the limit of %.1f mK\n", 1e3 * c->limit_k);
     if (c->flag_rate)
-        printf("    FLAG: drift rate beyond the limit of %.1f mK/year\n", 1e3 * p->rate_k);
+        printf("    FLAG: drift rate beyond the limit of %.1f mK/year\n", 1e3 * c->rate_k);
 }
 
 /* Text and CSV show what was computed before an error too, as far as it got. */

@@ -1,7 +1,9 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* bandgap lot add|list|show: production lots with their nominal curve and tolerances. */
+/* bandgap lot add|set|list|show: production lots with their nominal curve and tolerances,
+** and their versions (a corrected tolerance adds one). */
 #include <getopt.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "cli.h"
@@ -9,27 +11,36 @@
 static const char lot_usage[] =
     "Usage: bandgap lot add CODE --part P --r25 OHMS --beta B [--pair T1/T2]\n"
     "                   --tol-r25 REL --tol-beta REL [--note TEXT]\n"
+    "       bandgap lot set CODE [--tol-r25 REL] [--tol-beta REL] [--note TEXT] --why TEXT\n"
+    "                   [--by NAME] [--from TIME]\n"
     "       bandgap lot list [--json]\n"
     "       bandgap lot show CODE [--json]\n"
     "A production lot: part number, nominal R25 (10k, 4k7, 470R, 3000ohm) and B in kelvin\n"
     "(3950K) for the pair (default 25/85, in degC), and their tolerances with their unit\n"
-    "(1%, 0.5% or 5000ppm; a bare number is refused).  Codes are stored exactly as given.\n";
+    "(1%, 0.5% or 5000ppm; a bare number is refused).  Codes are stored exactly as given.\n"
+    "set corrects the tolerances or the note as a new version (what is not given is kept),\n"
+    "valid from TIME (ISO 8601; default now), with the reason and who (default $USER): each\n"
+    "calibration is judged against the tolerances in force at its start.\n";
 
 struct lot_args {
     bg_lot lot;
     int have_r25, have_beta, have_tr, have_tb;
+    const char *why, *by, *from;
 };
 
 /* Parse the options into 'a'; -1 after --help. */
 static int lot_parse(int argc, char **argv, struct lot_args *a, struct cli_ctx *ctx)
 {
-    enum { O_PART = 1, O_R25, O_BETA, O_PAIR, O_TOLR, O_TOLB, O_NOTE, O_JSON };
+    enum { O_PART = 1, O_R25, O_BETA, O_PAIR, O_TOLR, O_TOLB, O_NOTE, O_JSON, O_WHY, O_BY,
+           O_FROM };
     static const struct option opts[] = {
         { "part", required_argument, NULL, O_PART }, { "r25", required_argument, NULL, O_R25 },
         { "beta", required_argument, NULL, O_BETA }, { "pair", required_argument, NULL, O_PAIR },
         { "tol-r25", required_argument, NULL, O_TOLR },
         { "tol-beta", required_argument, NULL, O_TOLB },
         { "note", required_argument, NULL, O_NOTE }, { "json", no_argument, NULL, O_JSON },
+        { "why", required_argument, NULL, O_WHY },   { "by", required_argument, NULL, O_BY },
+        { "from", required_argument, NULL, O_FROM },
         { "help", no_argument, NULL, 'h' },          { NULL, 0, NULL, 0 },
     };
     bg_error err = BG_ERROR_INIT;
@@ -69,12 +80,19 @@ static int lot_parse(int argc, char **argv, struct lot_args *a, struct cli_ctx *
             snprintf(lot->note, sizeof lot->note, "%s", optarg);
             break;
         case O_JSON: ctx->json = 1; break;
+        case O_WHY: a->why = optarg; break;
+        case O_BY: a->by = optarg; break;
+        case O_FROM:
+            if (strlen(optarg) >= BG_TIME || !bg_csv_valid_time(optarg))
+                return cli_usage_error("lot", "--from: '%s': not an ISO 8601 date-time", optarg);
+            a->from = optarg;
+            break;
         case ':': return cli_usage_error("lot", "option '%s' needs a value", argv[optind - 1]);
         default: return cli_unknown_option("lot", argv[optind - 1], opts);
         }
     }
     if (optind >= argc)
-        return cli_usage_error("lot", "say add, list or show");
+        return cli_usage_error("lot", "say add, set, list or show");
     return BG_OK;
 }
 
@@ -111,6 +129,82 @@ static int lot_add(struct lot_args *a, const char *code, struct cli_ctx *ctx)
     return rc;
 }
 
+static int lot_set(struct lot_args *a, const char *code, struct cli_ctx *ctx)
+{
+    bg_error err = BG_ERROR_INIT;
+    bg_lot_version lv;
+    bg_store *st = NULL;
+    long long id;
+    int rc;
+
+    if (a->lot.part[0] || a->have_r25 || a->have_beta)
+        return cli_usage_error("lot", "set changes --tol-r25, --tol-beta and --note only (the "
+                               "nominal curve of a lot is not changed)");
+    if (!a->why || !*a->why)
+        return cli_usage_error("lot", "set needs --why TEXT (the reason for the new version)");
+    if (!a->by || !*a->by)
+        return cli_usage_error("lot", "set needs --by NAME ($USER is not set)");
+    memset(&lv, 0, sizeof lv);
+    if (strlen(code) >= sizeof lv.lot.code || strlen(a->why) >= sizeof lv.v.why ||
+        strlen(a->by) >= sizeof lv.v.by)
+        return cli_usage_error("lot", "the lot code, --why or --by is too long");
+    snprintf(lv.lot.code, sizeof lv.lot.code, "%s", code);
+    lv.lot.tol_r25 = a->have_tr ? a->lot.tol_r25 : -1.0;
+    lv.lot.tol_beta = a->have_tb ? a->lot.tol_beta : -1.0;
+    memcpy(lv.lot.note, a->lot.note, sizeof lv.lot.note);
+    snprintf(lv.v.why, sizeof lv.v.why, "%s", a->why);
+    snprintf(lv.v.by, sizeof lv.v.by, "%s", a->by);
+    if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
+        return rc;
+    if (a->from)
+        snprintf(lv.v.valid_from, sizeof lv.v.valid_from, "%s", a->from);
+    else /* valid from now: the time is said below */
+        bg_store_time(st, lv.v.valid_from, sizeof lv.v.valid_from);
+    if ((rc = bg_store_lot_set(st, &lv, &id, &err)) != BG_OK) {
+        cli_fail("lot set", &err);
+    } else if (ctx->json) {
+        json_out j;
+        json_begin(&j, stdout);
+        json_obj(&j, NULL);
+        json_str(&j, "code", lv.lot.code);
+        json_int(&j, "version", id);
+        json_str(&j, "valid_from", lv.v.valid_from);
+        json_obj_end(&j);
+        json_end(&j);
+    } else {
+        printf("added version %lld of lot %s, valid from %s\n", id, lv.lot.code,
+               lv.v.valid_from);
+    }
+    bg_store_close(st);
+    return rc;
+}
+
+/* The later versions of a lot (version 0 is the lot shown above them). */
+static int print_lot_version(const bg_lot_version *lv, void *ctx)
+{
+    json_out *j = ctx;
+    if (lv->v.id == 0)
+        return 0;
+    if (!j) {
+        printf("  version %lld, valid from %s: tolerance R25 %.4g %%, B %.4g %%%s%s\n"
+               "    recorded %s by %s: %s\n", lv->v.id, lv->v.valid_from,
+               100.0 * lv->lot.tol_r25, 100.0 * lv->lot.tol_beta, lv->lot.note[0] ? "; note: "
+               : "", lv->lot.note, lv->v.created_at, lv->v.by, lv->v.why);
+        return 0;
+    }
+    json_obj(j, NULL);
+    json_int(j, "version", lv->v.id);
+    json_str(j, "valid_from", lv->v.valid_from);
+    json_num(j, "tol_r25", lv->lot.tol_r25);
+    json_num(j, "tol_beta", lv->lot.tol_beta);
+    json_str(j, "note", lv->lot.note[0] ? lv->lot.note : NULL);
+    json_str(j, "why", lv->v.why);
+    json_str(j, "by", lv->v.by);
+    json_str(j, "recorded_at", lv->v.created_at);
+    json_obj_end(j);
+    return 0;
+}
+
 struct list_ctx { json_out *j; size_t n; };
 
 static int list_one(const bg_lot *l, void *p)
@@ -131,12 +225,18 @@ static int lot_show(bg_store *st, const char *code, json_out *j, bg_error *err)
         cli_print_lot(NULL, NULL, &lot);
         if (lot.note[0])
             printf("  note: %s\n", lot.note);
+        if ((rc = bg_store_lot_versions(st, lot.code, print_lot_version, NULL, err)) != BG_OK)
+            return rc;
         return bg_store_probe_each(st, lot.code, cli_print_lot_probe, NULL, err);
     }
     json_obj(j, NULL);
     cli_print_lot(j, "lot", &lot);
+    json_arr(j, "versions");
+    rc = bg_store_lot_versions(st, lot.code, print_lot_version, j, err);
+    json_arr_end(j);
     json_arr(j, "probes");
-    rc = bg_store_probe_each(st, lot.code, cli_print_lot_probe, j, err);
+    if (rc == BG_OK)
+        rc = bg_store_probe_each(st, lot.code, cli_print_lot_probe, j, err);
     json_arr_end(j);
     json_obj_end(j);
     json_end(j);
@@ -181,6 +281,7 @@ int cmd_lot(int argc, char **argv, struct cli_ctx *ctx)
     int rc;
 
     memset(&a, 0, sizeof a);
+    a.by = getenv("USER");
     a.lot.pair_t1_k = 298.15, a.lot.pair_t2_k = 358.15;
     if ((rc = lot_parse(argc, argv, &a, ctx)) != BG_OK)
         return rc < 0 ? BG_OK : rc;
@@ -188,7 +289,14 @@ int cmd_lot(int argc, char **argv, struct cli_ctx *ctx)
     if (strcmp(verb, "add") == 0) {
         if (optind + 2 != argc)
             return cli_usage_error("lot", "add takes one lot code");
+        if (a.why || a.from)
+            return cli_usage_error("lot", "--why and --from are for set");
         return lot_add(&a, argv[optind + 1], ctx);
+    }
+    if (strcmp(verb, "set") == 0) {
+        if (optind + 2 != argc)
+            return cli_usage_error("lot", "set takes one lot code");
+        return lot_set(&a, argv[optind + 1], ctx);
     }
     if (strcmp(verb, "list") == 0 || strcmp(verb, "show") == 0) {
         int show = verb[0] == 's';
@@ -197,5 +305,5 @@ int cmd_lot(int argc, char **argv, struct cli_ctx *ctx)
                                                : "list takes no arguments");
         return lot_list_show(show ? argv[optind + 1] : NULL, ctx);
     }
-    return cli_usage_error("lot", "unknown action '%s' (add, list or show)", verb);
+    return cli_usage_error("lot", "unknown action '%s' (add, set, list or show)", verb);
 }

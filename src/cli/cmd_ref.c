@@ -1,7 +1,9 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* bandgap ref add|list: reference thermometers, their certificates and corrections. */
+/* bandgap ref add|set|show|list: reference thermometers, their certificates and corrections,
+** and their versions (a recalibration adds one). */
 #include <getopt.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "cli.h"
@@ -9,6 +11,9 @@
 static const char ref_usage[] =
     "Usage: bandgap ref add ID --cert TEXT [--due DATE] [--linear Y1,Y2,T0 | --cvd R0,A,B,C]\n"
     "                  [--note TEXT]\n"
+    "       bandgap ref set ID --cert TEXT [--due DATE] (--linear Y1,Y2,T0 | --cvd R0,A,B,C |\n"
+    "                  --no-correction) --why TEXT [--by NAME] [--from TIME]\n"
+    "       bandgap ref show ID [--json]\n"
     "       bandgap ref list [--json]\n"
     "A reference thermometer with its calibration certificate and, optionally, a correction\n"
     "applied to every reading imported with --ref ID:\n"
@@ -17,7 +22,19 @@ static const char ref_usage[] =
     "                      (the form of the GUM, JCGM 100:2008 H.3)\n"
     "  --cvd R0,A,B,C      the reference is a platinum resistance thermometer read in ohm (the\n"
     "                      readings file has a ref_ohms column); IEC 60751 Callendar-Van Dusen\n"
-    "                      coefficients, R0 with its unit (100R), A, B, C per degC^n\n";
+    "                      coefficients, R0 with its unit (100R), A, B, C per degC^n\n"
+    "set records a recalibration as a new version (the earlier ones stay): its certificate,\n"
+    "due date (none unless --due) and correction (stated: --no-correction for none), valid\n"
+    "from TIME (ISO 8601; default now), with the reason and who (default $USER).  An import\n"
+    "corrects its readings with the version in force at the run's start and records which.\n"
+    "show lists the versions; list shows each reference as in force now.\n";
+
+/* What the options say: the reference (or version) and, for set, its reason and validity. */
+struct ref_opts {
+    bg_ref_version rv;
+    const char *why, *by, *from;
+    int no_correction;
+};
 
 /* Copy the part of 's' before its first comma into 'buf' and return what follows the comma
 ** (NULL when there is no comma or the part does not fit). */
@@ -73,16 +90,20 @@ static int parse_cvd(const char *s, bg_ref *ref)
     return BG_OK;
 }
 
-/* Parse the options into 'ref'; -1 after --help. */
-static int ref_parse(int argc, char **argv, bg_ref *ref, struct cli_ctx *ctx)
+/* Parse the options into 'o'; -1 after --help. */
+static int ref_parse(int argc, char **argv, struct ref_opts *o, struct cli_ctx *ctx)
 {
-    enum { O_CERT = 1, O_DUE, O_LIN, O_CVD, O_NOTE, O_JSON };
+    enum { O_CERT = 1, O_DUE, O_LIN, O_CVD, O_NOTE, O_JSON, O_WHY, O_BY, O_FROM, O_NONE };
     static const struct option opts[] = {
         { "cert", required_argument, NULL, O_CERT }, { "due", required_argument, NULL, O_DUE },
         { "linear", required_argument, NULL, O_LIN }, { "cvd", required_argument, NULL, O_CVD },
         { "note", required_argument, NULL, O_NOTE }, { "json", no_argument, NULL, O_JSON },
+        { "why", required_argument, NULL, O_WHY },   { "by", required_argument, NULL, O_BY },
+        { "from", required_argument, NULL, O_FROM },
+        { "no-correction", no_argument, NULL, O_NONE },
         { "help", no_argument, NULL, 'h' },          { NULL, 0, NULL, 0 },
     };
+    bg_ref *ref = &o->rv.ref;
     int c, rc;
 
     opterr = 0;
@@ -100,8 +121,8 @@ static int ref_parse(int argc, char **argv, bg_ref *ref, struct cli_ctx *ctx)
             snprintf(ref->due_date, sizeof ref->due_date, "%s", optarg);
             break;
         case O_LIN: case O_CVD:
-            if (ref->kind != BG_REF_NONE)
-                return cli_usage_error("ref", "give either --linear or --cvd");
+            if (ref->kind != BG_REF_NONE || o->no_correction)
+                return cli_usage_error("ref", "give one of --linear, --cvd and --no-correction");
             if ((rc = c == O_LIN ? parse_linear(optarg, ref) : parse_cvd(optarg, ref)) != BG_OK)
                 return rc;
             break;
@@ -111,12 +132,24 @@ static int ref_parse(int argc, char **argv, bg_ref *ref, struct cli_ctx *ctx)
             snprintf(ref->note, sizeof ref->note, "%s", optarg);
             break;
         case O_JSON: ctx->json = 1; break;
+        case O_WHY: o->why = optarg; break;
+        case O_BY: o->by = optarg; break;
+        case O_FROM:
+            if (strlen(optarg) >= sizeof o->rv.v.valid_from || !bg_csv_valid_time(optarg))
+                return cli_usage_error("ref", "--from: '%s': not an ISO 8601 date-time", optarg);
+            o->from = optarg;
+            break;
+        case O_NONE:
+            if (ref->kind != BG_REF_NONE)
+                return cli_usage_error("ref", "give one of --linear, --cvd and --no-correction");
+            o->no_correction = 1;
+            break;
         case ':': return cli_usage_error("ref", "option '%s' needs a value", argv[optind - 1]);
         default: return cli_unknown_option("ref", argv[optind - 1], opts);
         }
     }
     if (optind >= argc)
-        return cli_usage_error("ref", "say add or list");
+        return cli_usage_error("ref", "say add, set, show or list");
     return BG_OK;
 }
 
@@ -169,23 +202,165 @@ static int ref_list(struct cli_ctx *ctx)
     return rc;
 }
 
-int cmd_ref(int argc, char **argv, struct cli_ctx *ctx)
+/* The values of a reference or version, for people. */
+static void print_values(const bg_ref *r)
 {
-    bg_ref ref;
+    printf("certificate %s, due %s, correction %s", r->certificate, cli_or_dash(r->due_date),
+           bg_ref_kind_name(r->kind));
+    if (r->kind == BG_REF_LINEAR)
+        printf(" (y1 %.6g K, y2 %.6g, t0 %.4g degC)", r->lin_c0_k, r->lin_c1,
+               r->lin_t0_k - BG_ZERO_C_K);
+    else if (r->kind == BG_REF_CVD)
+        printf(" (R0 %.6g ohm, A %.6g, B %.6g, C %.6g)", r->cvd_r0_ohm, r->cvd_a, r->cvd_b,
+               r->cvd_c);
+}
+
+static int ref_set(struct ref_opts *o, const char *ident, struct cli_ctx *ctx)
+{
+    bg_error err = BG_ERROR_INIT;
+    bg_ref_version *rv = &o->rv;
+    bg_store *st = NULL;
+    long long id;
     int rc;
 
-    memset(&ref, 0, sizeof ref);
-    if ((rc = ref_parse(argc, argv, &ref, ctx)) != BG_OK)
+    if (strlen(ident) >= sizeof rv->ref.ident)
+        return cli_usage_error("ref", "identifier is too long");
+    snprintf(rv->ref.ident, sizeof rv->ref.ident, "%s", ident);
+    if (!rv->ref.certificate[0])
+        return cli_usage_error("ref", "set needs --cert (the new calibration certificate)");
+    if (rv->ref.kind == BG_REF_NONE && !o->no_correction)
+        return cli_usage_error("ref", "set needs the correction of the new certificate: "
+                               "--linear, --cvd or --no-correction");
+    if (!o->why || !*o->why)
+        return cli_usage_error("ref", "set needs --why TEXT (the reason for the new version)");
+    if (rv->ref.note[0])
+        return cli_usage_error("ref", "--note is for add (a version records --why)");
+    if (!o->by || !*o->by)
+        return cli_usage_error("ref", "set needs --by NAME ($USER is not set)");
+    if (strlen(o->why) >= sizeof rv->v.why || strlen(o->by) >= sizeof rv->v.by)
+        return cli_usage_error("ref", "--why or --by is too long");
+    snprintf(rv->v.why, sizeof rv->v.why, "%s", o->why);
+    snprintf(rv->v.by, sizeof rv->v.by, "%s", o->by);
+    snprintf(rv->v.valid_from, sizeof rv->v.valid_from, "%s", o->from ? o->from : "");
+    if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
+        return rc;
+    if (!rv->v.valid_from[0]) /* valid from now: the time is said below */
+        bg_store_time(st, rv->v.valid_from, sizeof rv->v.valid_from);
+    if ((rc = bg_store_ref_set(st, rv, &id, &err)) != BG_OK) {
+        cli_fail("ref set", &err);
+    } else if (ctx->json) {
+        json_out j;
+        json_begin(&j, stdout);
+        json_obj(&j, NULL);
+        json_str(&j, "ident", rv->ref.ident);
+        json_int(&j, "version", id);
+        json_str(&j, "valid_from", rv->v.valid_from);
+        json_obj_end(&j);
+        json_end(&j);
+    } else {
+        printf("added version %lld of reference %s, valid from %s: ", id, rv->ref.ident,
+               rv->v.valid_from);
+        print_values(&rv->ref);
+        printf("\n");
+    }
+    bg_store_close(st);
+    return rc;
+}
+
+static int print_version(const bg_ref_version *rv, void *ctx)
+{
+    json_out *j = ctx;
+    const bg_ref *r = &rv->ref;
+    if (!j) {
+        if (rv->v.id == 0)
+            printf("reference %s\n", r->ident);
+        printf("version %lld, valid from %s: ", rv->v.id, rv->v.valid_from);
+        print_values(r);
+        if (rv->v.id)
+            printf("\n  recorded %s by %s: %s", rv->v.created_at, rv->v.by, rv->v.why);
+        printf("\n");
+        return 0;
+    }
+    json_obj(j, NULL);
+    json_int(j, "version", rv->v.id);
+    json_str(j, "valid_from", rv->v.valid_from);
+    json_str(j, "certificate", r->certificate);
+    json_str(j, "due_date", r->due_date[0] ? r->due_date : NULL);
+    json_str(j, "correction", bg_ref_kind_name(r->kind));
+    if (r->kind == BG_REF_LINEAR) {
+        json_num(j, "y1_k", r->lin_c0_k);
+        json_num(j, "y2", r->lin_c1);
+        json_num(j, "t0_k", r->lin_t0_k);
+    } else if (r->kind == BG_REF_CVD) {
+        json_num(j, "r0_ohm", r->cvd_r0_ohm);
+        json_num(j, "a", r->cvd_a);
+        json_num(j, "b", r->cvd_b);
+        json_num(j, "c", r->cvd_c);
+    }
+    json_str(j, "why", rv->v.id ? rv->v.why : NULL);
+    json_str(j, "by", rv->v.id ? rv->v.by : NULL);
+    json_str(j, "recorded_at", rv->v.created_at);
+    json_obj_end(j);
+    return 0;
+}
+
+static int ref_show(const char *ident, struct cli_ctx *ctx)
+{
+    bg_error err = BG_ERROR_INIT;
+    bg_store *st = NULL;
+    json_out j;
+    int rc;
+
+    if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
+        return rc;
+    if (ctx->json) {
+        json_begin(&j, stdout);
+        json_obj(&j, NULL);
+        json_str(&j, "ident", ident);
+        json_arr(&j, "versions");
+    }
+    rc = bg_store_ref_versions(st, ident, print_version, ctx->json ? &j : NULL, &err);
+    if (ctx->json) {
+        json_arr_end(&j);
+        json_obj_end(&j);
+        json_end(&j);
+    }
+    if (rc != BG_OK)
+        cli_fail("ref show", &err);
+    bg_store_close(st);
+    return rc;
+}
+
+int cmd_ref(int argc, char **argv, struct cli_ctx *ctx)
+{
+    struct ref_opts o;
+    int rc;
+
+    memset(&o, 0, sizeof o);
+    o.by = getenv("USER");
+    if ((rc = ref_parse(argc, argv, &o, ctx)) != BG_OK)
         return rc < 0 ? BG_OK : rc;
     if (strcmp(argv[optind], "add") == 0) {
         if (optind + 2 != argc)
             return cli_usage_error("ref", "add takes one identifier");
-        return ref_add(&ref, argv[optind + 1], ctx);
+        if (o.why || o.from || o.no_correction)
+            return cli_usage_error("ref", "--why, --from and --no-correction are for set");
+        return ref_add(&o.rv.ref, argv[optind + 1], ctx);
+    }
+    if (strcmp(argv[optind], "set") == 0) {
+        if (optind + 2 != argc)
+            return cli_usage_error("ref", "set takes one identifier");
+        return ref_set(&o, argv[optind + 1], ctx);
+    }
+    if (strcmp(argv[optind], "show") == 0) {
+        if (optind + 2 != argc)
+            return cli_usage_error("ref", "show takes one identifier");
+        return ref_show(argv[optind + 1], ctx);
     }
     if (strcmp(argv[optind], "list") == 0) {
         if (optind + 1 != argc)
             return cli_usage_error("ref", "list takes no arguments");
         return ref_list(ctx);
     }
-    return cli_usage_error("ref", "unknown action '%s' (add or list)", argv[optind]);
+    return cli_usage_error("ref", "unknown action '%s' (add, set, show or list)", argv[optind]);
 }

@@ -35,6 +35,8 @@ void cli_json_run_fields(json_out *j, const bg_run *r)
     json_int(j, "run", r->id);
     json_str(j, "probe", r->serial);
     json_str(j, "reference", r->ref_ident[0] ? r->ref_ident : NULL);
+    if (r->ref_version) /* corrected with a later version of the reference (0: its row) */
+        json_int(j, "ref_version", r->ref_version);
     json_str(j, "operator", r->operator_name[0] ? r->operator_name : NULL);
     json_str(j, "medium", r->medium[0] ? r->medium : NULL);
     json_str(j, "ambient", r->ambient[0] ? r->ambient : NULL);
@@ -269,9 +271,13 @@ void cli_print_run_head(const bg_run *r)
     printf("run %lld of probe %s, started %s, imported %s from %s\n", r->id, r->serial,
            r->started_at, r->imported_at, r->source);
     char ms[BG_TEXT + 32];
-    printf("  reference %s, operator %s, medium %s, ambient %s, %s\n",
-           cli_or_dash(r->ref_ident), cli_or_dash(r->operator_name), cli_or_dash(r->medium),
-           cli_or_dash(r->ambient), bg_store_run_measuring(r, ms, sizeof ms));
+    char rv[48] = "";
+    if (r->ref_version)
+        snprintf(rv, sizeof rv, " (version %lld)", r->ref_version);
+    printf("  reference %s%s, operator %s, medium %s, ambient %s, %s\n",
+           cli_or_dash(r->ref_ident), rv, cli_or_dash(r->operator_name),
+           cli_or_dash(r->medium), cli_or_dash(r->ambient),
+           bg_store_run_measuring(r, ms, sizeof ms));
     if (r->note[0])
         printf("  note: %s\n", r->note);
     if (r->ref_overdue[0])

@@ -222,6 +222,40 @@ static int alloc_values(bg_qa_lot *l, bg_error *err)
     return BG_OK;
 }
 
+static int count_lot_version(const bg_lot_version *lv, void *ctx)
+{
+    (void)lv;
+    ++*(size_t *)ctx;
+    return 0;
+}
+
+/* A probe is out of tolerance against the tolerances of the lot version in force at its
+** calibration's start (bg_store_lot_at): a corrected tolerance judges the calibrations from
+** its validity on, and leaves the earlier ones as they were.  A lot without later versions
+** is not read again.  (Cpk and the band use the tolerances in force now.) */
+static int tolerances_in_force(bg_store *st, bg_qa_lot *l, const bg_fit_row *fit,
+                               bg_error *err)
+{
+    size_t nver = 0;
+    int rc = bg_store_lot_versions(st, l->lot.code, count_lot_version, &nver, err);
+    if (rc != BG_OK || nver < 2)
+        return rc;
+    l->nout = 0;
+    for (size_t i = 0; i < l->n; i++) {
+        bg_run run;
+        bg_lot_version lv;
+        if ((rc = bg_store_run_get(st, fit[i].run_id, &run, err)) != BG_OK ||
+            (rc = bg_store_lot_at(st, l->lot.code, run.started_at, &lv, err)) != BG_OK)
+            return rc;
+        l->flags[i] &= ~(unsigned)BG_QA_OUT_OF_TOL;
+        if (fabs(l->r25_dev_pct[i]) > 100.0 * lv.lot.tol_r25 ||
+            fabs(l->b_k[i] - l->lot.beta_k) > l->lot.beta_k * lv.lot.tol_beta)
+            l->flags[i] |= BG_QA_OUT_OF_TOL, l->nout++;
+    }
+    l->flagged = l->nout > 0 || l->nband > 0 || l->outlier_r25 || l->outlier_b;
+    return BG_OK;
+}
+
 /* The nominal curve: the part's, else the lot's R25 and B as a beta curve (no verdict). */
 static int nominal(bg_store *st, bg_qa_lot *l, bg_model *nom, bg_error *err)
 {
@@ -285,6 +319,8 @@ int bg_qa_lot_stats(bg_store *st, const char *code, const bg_qa_opts *o, bg_qa_l
         if ((rc = one_probe(out, i, &d.fit[i], &nom, err)) != BG_OK)
             goto done;
     summarize(out, o->alpha);
+    if ((rc = tolerances_in_force(st, out, d.fit, err)) != BG_OK)
+        goto done;
     band(out, &nom);
 done:
     free(d.fit);

@@ -86,8 +86,13 @@ static int compare(const bg_qa_probe *p, size_t a, size_t b, const bg_qa_opts *o
     if ((rc = bg_drift_compare(&fa->model, &fb->model, &where, years, &c->d, err)) != BG_OK)
         return rc;
     c->from = a, c->to = b;
-    c->flag_limit = c->d.max_abs_err_mk > 1e3 * p->limit_k;
-    c->flag_rate = isfinite(c->d.rate_mk_per_year) && c->d.rate_mk_per_year > 1e3 * p->rate_k;
+    c->limit_k = p->limit_k, c->rate_k = p->rate_k;
+    if (p->limit_at && p->limit_from == BG_QA_FROM_DEFAULT)
+        c->limit_k = p->limit_at[b];
+    if (p->limit_at && p->rate_from == BG_QA_FROM_DEFAULT)
+        c->rate_k = c->limit_k;
+    c->flag_limit = c->d.max_abs_err_mk > 1e3 * c->limit_k;
+    c->flag_rate = isfinite(c->d.rate_mk_per_year) && c->d.rate_mk_per_year > 1e3 * c->rate_k;
     return BG_OK;
 }
 
@@ -133,6 +138,25 @@ int bgi_qa_probe_compare(bg_qa_probe *p, const bg_qa_opts *o, bg_error *err)
     return BG_OK;
 }
 
+/* A default limit comes from the lot's R25 tolerance in force at each calibration's start
+** (bg_store_lot_at): a lot version that corrects the tolerance judges the calibrations from
+** its validity on, and leaves the earlier verdicts as they were. */
+static int limits_in_force(bg_store *st, bg_qa_probe *p, bg_error *err)
+{
+    bg_lot_version lv;
+    int rc;
+    if (p->limit_from != BG_QA_FROM_DEFAULT || p->n == 0)
+        return BG_OK;
+    if (!(p->limit_at = malloc(p->n * sizeof *p->limit_at)))
+        return bg_error_set(err, BG_ENOMEM, "out of memory for %zu calibrations", p->n);
+    for (size_t i = 0; i < p->n; i++) {
+        if ((rc = bg_store_lot_at(st, p->lot.code, p->started_at[i], &lv, err)) != BG_OK)
+            return rc;
+        p->limit_at[i] = bg_qa_tol_limit_k(&lv.lot);
+    }
+    return BG_OK;
+}
+
 int bg_qa_probe_drift(bg_store *st, const char *serial, const bg_qa_opts *o, bg_qa_probe *out,
                       bg_error *err)
 {
@@ -153,6 +177,8 @@ int bg_qa_probe_drift(bg_store *st, const char *serial, const bg_qa_opts *o, bg_
         return rc;
     bgi_qa_limits(o, &spec, out);
     out->have_history = 1;
+    if ((rc = limits_in_force(st, out, err)) != BG_OK)
+        return rc;
     return bgi_qa_probe_compare(out, o, err);
 }
 
@@ -164,5 +190,6 @@ void bg_qa_probe_release(bg_qa_probe *p)
     free(p->started_at);
     free(p->since_previous);
     free(p->since_first);
+    free(p->limit_at);
     memset(p, 0, sizeof *p);
 }

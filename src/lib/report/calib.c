@@ -174,12 +174,19 @@ static int load(bg_store *st, long long run_id, long long fit_id, bg_calib_repor
         return rc;
     if (r->fit.run_id != run_id)
         return bg_error_set(err, BG_EINVAL, "fit %lld is not a fit of run %lld", fit_id, run_id);
+    /* the lot and the reference as they were for this run: the lot version in force at its
+    ** start, the reference version its readings were corrected with */
+    bg_lot_version lv;
     if ((rc = bg_store_probe_get(st, r->run.serial, &r->probe, err)) != BG_OK ||
-        (rc = bg_store_lot_get(st, r->probe.lot_code, &r->lot, err)) != BG_OK)
+        (rc = bg_store_lot_at(st, r->probe.lot_code, r->run.started_at, &lv, err)) != BG_OK)
         return rc;
+    r->lot = lv.lot;
     if (r->run.reference_id) {
-        if ((rc = bg_store_ref_get(st, r->run.ref_ident, &r->ref, err)) != BG_OK)
+        bg_ref_version rv;
+        if ((rc = bg_store_ref_version(st, r->run.ref_ident, r->run.ref_version, &rv, err))
+            != BG_OK)
             return rc;
+        r->ref = rv.ref;
         r->have_ref = 1;
     }
     struct reading_buf b = { r, 0 };

@@ -244,6 +244,8 @@ static int migrate(bgi_conn *c, bg_error *err)
 {
     sqlite3_exec(c->db, "PRAGMA foreign_keys = OFF", NULL, NULL, NULL);
     int rc = migrate_steps(c, err);
+    /* a migration may add columns to a chained table: its column order is read again */
+    memset(c->chain_ncol, 0, sizeof c->chain_ncol);
     if (sqlite3_exec(c->db, "PRAGMA foreign_keys = ON", NULL, NULL, NULL) != SQLITE_OK && !rc)
         rc = bgi_db_fail(c, err, "cannot turn foreign keys on");
     return rc;
@@ -816,4 +818,6 @@ const struct bgi_store_backend bgi_store_sqlite = {
     sq_names,
     bgi_sqlite_chain_append, bgi_sqlite_chain_head, bgi_sqlite_verify, bgi_sqlite_chain_check,
     bgi_sqlite_lot_histories, bgi_sqlite_export_each,
+    bgi_sqlite_ref_version_add, bgi_sqlite_ref_version_each,
+    bgi_sqlite_lot_version_add, bgi_sqlite_lot_version_each,
 };

@@ -21,7 +21,9 @@
 #include "sqlite_int.h"
 
 static const char *const kinds[BGI_CHAIN_KINDS] = { "lot", "probe", "reference", "part_spec",
-                                                    "run", "exclusion", "fit", "artifact" };
+                                                    "run", "exclusion", "fit", "artifact",
+                                                    "reference_version", "lot_version",
+                                                    "probe_version" };
 
 static int kind_index(const char *kind)
 {
@@ -217,13 +219,24 @@ int bgi_sqlite_chain_check(bgi_conn *c, const char *kind, long long id, bg_error
 }
 
 /* Chain the rows of a database made before the chain: table by table, in id order (run
-** inside the upgrade's transaction). */
+** inside the upgrade's transaction).  The tables of later schema versions (the versions of
+** schema 8) do not exist yet then, and are skipped. */
 int bgi_sqlite_chain_backfill(bgi_conn *c, bg_error *err)
 {
     int rc = BG_OK;
     for (int k = 0; k < BGI_CHAIN_KINDS && rc == BG_OK; k++) {
-        char sql[80];
+        char sql[96];
         sqlite3_stmt *q = NULL;
+        int exists = 0;
+        snprintf(sql, sizeof sql, "SELECT 1 FROM sqlite_schema WHERE type = 'table' AND "
+                 "name = '%s'", kinds[k]);
+        if ((rc = bgi_prepare(c, sql, &q, err)) != BG_OK)
+            return rc;
+        exists = sqlite3_step(q) == SQLITE_ROW;
+        sqlite3_finalize(q);
+        q = NULL;
+        if (!exists)
+            continue;
         snprintf(sql, sizeof sql, "SELECT rowid FROM %s ORDER BY rowid", kinds[k]);
         if ((rc = bgi_prepare(c, sql, &q, err)) != BG_OK)
             return rc;

@@ -16,8 +16,12 @@
     "(SELECT count(*) FROM exclusion e WHERE e.reading_id BETWEEN r.first_reading " \
     "  AND r.first_reading + r.nreadings - 1), " \
     "(SELECT count(*) FROM fit f WHERE f.run_id = r.id), " \
-    "r.readings_sha256, coalesce(r.repeats_run, 0), x.due_date, r.ref_overdue, " \
-    "coalesce(r.measuring_current_a, 0), coalesce(r.measuring_voltage_v, 0)"
+    "r.readings_sha256, coalesce(r.repeats_run, 0), " \
+    "CASE WHEN r.reference_version_id IS NULL THEN x.due_date ELSE " \
+    "  (SELECT v.due_date FROM reference_version v WHERE v.id = r.reference_version_id) END, " \
+    "r.ref_overdue, " \
+    "coalesce(r.measuring_current_a, 0), coalesce(r.measuring_voltage_v, 0), " \
+    "coalesce(r.reference_version_id, 0)"
 
 static void run_row(sqlite3_stmt *q, bg_run *r)
 {
@@ -45,6 +49,7 @@ static void run_row(sqlite3_stmt *q, bg_run *r)
     r->new_run = 0;
     r->measuring_current_a = sqlite3_column_double(q, 20);
     r->measuring_voltage_v = sqlite3_column_double(q, 21);
+    r->ref_version = sqlite3_column_int64(q, 22);
 }
 
 static void reading_row(sqlite3_stmt *q, bg_reading_row *g)

@@ -9,7 +9,7 @@
 #include "store_int.h"
 
 /* The record chain (sqlite_chain.c): the chained tables, and the most columns a row has. */
-#define BGI_CHAIN_KINDS 8
+#define BGI_CHAIN_KINDS 11
 #define BGI_CHAIN_MAXCOL 48
 
 enum { STMT_INSERT_READING, STMT_INSERT_READINGS, STMT_RUN_POINTS, STMT_INSERT_FIT,
@@ -59,6 +59,14 @@ void bgi_copy_text(char *dst, size_t size, sqlite3_stmt *stmt, int col);
 void bgi_bind_text_or_null(sqlite3_stmt *stmt, int i, const char *s);
 
 /* The backend's functions shared between its files (the table is in sqlite.c). */
+int bgi_sqlite_ref_version_add(bgi_conn *c, long long ref_id, const bg_ref_version *rv,
+                               const char *now, long long *id, bg_error *err);
+int bgi_sqlite_ref_version_each(bgi_conn *c, long long ref_id, bg_ref_version_cb cb, void *ctx,
+                                bg_error *err);
+int bgi_sqlite_lot_version_add(bgi_conn *c, long long lot_id, const bg_lot_version *lv,
+                               const char *now, long long *id, bg_error *err);
+int bgi_sqlite_lot_version_each(bgi_conn *c, long long lot_id, bg_lot_version_cb cb, void *ctx,
+                                bg_error *err);
 int bgi_sqlite_lot_get(bgi_conn *c, const char *code, bg_lot *out, bg_error *err);
 int bgi_sqlite_probe_get(bgi_conn *c, const char *serial, bg_probe *out, bg_error *err);
 int bgi_sqlite_probe_id(bgi_conn *c, const char *serial, long long *id, bg_error *err);

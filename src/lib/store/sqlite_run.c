@@ -31,8 +31,9 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
         (rc = bgi_prepare(c, "INSERT INTO run(probe_id, reference_id, operator, medium, "
                           "ambient, excitation, started_at, source, note, imported_at, "
                           "t_raw_unit, first_reading, nreadings, readings_sha256, "
-                          "repeats_run, ref_overdue, measuring_current_a, measuring_voltage_v) "
-                          "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
+                          "repeats_run, ref_overdue, measuring_current_a, measuring_voltage_v, "
+                          "reference_version_id) "
+                          "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, imp->probe_id);
     if (imp->ref_id)
@@ -60,6 +61,8 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
         sqlite3_bind_double(q, 17, meta->measuring_current_a);
     if (meta->measuring_voltage_v > 0.0)
         sqlite3_bind_double(q, 18, meta->measuring_voltage_v);
+    if (imp->ref_version)
+        sqlite3_bind_int64(q, 19, imp->ref_version);
     if (sqlite3_step(q) != SQLITE_DONE)
         rc = bgi_db_fail(c, err, "cannot create the run");
     else
@@ -183,8 +186,12 @@ int bgi_sqlite_import(bgi_conn *c, const struct bgi_import *imp, long long *run_
     "(SELECT count(*) FROM exclusion e WHERE e.reading_id BETWEEN r.first_reading " \
     "  AND r.first_reading + r.nreadings - 1), " \
     "(SELECT count(*) FROM fit f WHERE f.run_id = r.id), " \
-    "r.readings_sha256, coalesce(r.repeats_run, 0), x.due_date, r.ref_overdue, " \
-    "coalesce(r.measuring_current_a, 0), coalesce(r.measuring_voltage_v, 0)"
+    "r.readings_sha256, coalesce(r.repeats_run, 0), " \
+    "CASE WHEN r.reference_version_id IS NULL THEN x.due_date ELSE " \
+    "  (SELECT v.due_date FROM reference_version v WHERE v.id = r.reference_version_id) END, " \
+    "r.ref_overdue, " \
+    "coalesce(r.measuring_current_a, 0), coalesce(r.measuring_voltage_v, 0), " \
+    "coalesce(r.reference_version_id, 0)"
 #define RUN_FROM " FROM run r JOIN probe p ON r.probe_id = p.id " \
     "LEFT JOIN reference x ON r.reference_id = x.id "
 
@@ -213,6 +220,7 @@ static void run_row(sqlite3_stmt *q, bg_run *r)
     r->new_run = 0;
     r->measuring_current_a = sqlite3_column_double(q, 20);
     r->measuring_voltage_v = sqlite3_column_double(q, 21);
+    r->ref_version = sqlite3_column_int64(q, 22);
 }
 
 int bgi_sqlite_run_get(bgi_conn *c, long long run_id, bg_run *out, bg_error *err)

@@ -311,15 +311,6 @@ int bg_store_lot_add(bg_store *st, const bg_lot *lot, long long *id, bg_error *e
     return tx_end(st, own, rc, err);
 }
 
-int bg_store_lot_get(bg_store *st, const char *code, bg_lot *out, bg_error *err)
-{
-    return did_you_mean(st, BGI_NAME_LOT, code, st->be->lot_get(st->conn, code, out, err), err);
-}
-
-int bg_store_lot_each(bg_store *st, bg_lot_cb cb, void *ctx, bg_error *err)
-{
-    return st->be->lot_each(st->conn, cb, ctx, err);
-}
 
 int bg_store_part_lots(bg_store *st, const char *part, bg_lot_cb cb, void *ctx, bg_error *err)
 {
@@ -384,15 +375,431 @@ int bg_store_ref_add(bg_store *st, const bg_ref *ref, long long *id, bg_error *e
     return tx_end(st, own, rc, err);
 }
 
+/* ---- versions of a reference thermometer ---- */
+
+/* The seconds of 'iso' (NULL or "": the handle's now). */
+static int time_or_now(bg_store *st, const char *iso, double *t, bg_error *err)
+{
+    char now[BG_TIME];
+    if (!iso || !iso[0])
+        iso = bg_store_time(st, now, sizeof now);
+    return bg_time_parse(iso, t, err);
+}
+
+/* The first version of a reference: its row. */
+static void ref_first_version(const bg_ref *row, bg_ref_version *out)
+{
+    memset(out, 0, sizeof *out);
+    out->ref = *row;
+    snprintf(out->v.valid_from, sizeof out->v.valid_from, "%s", row->created_at);
+    snprintf(out->v.created_at, sizeof out->v.created_at, "%s", row->created_at);
+}
+
+/* A version of the reference row 'row' made whole: the row's identity with the version's
+** certificate, due date and correction. */
+static void ref_whole(const bg_ref *row, const bg_ref_version *v, bg_ref_version *out)
+{
+    *out = *v;
+    out->ref.id = row->id;
+    memcpy(out->ref.ident, row->ident, sizeof out->ref.ident);
+    memcpy(out->ref.note, row->note, sizeof out->ref.note);
+    memcpy(out->ref.created_at, row->created_at, sizeof out->ref.created_at);
+}
+
+/* What a walk over a reference's versions looks for: the one in force at 'at' (want < 0), the
+** one with id 'want' (>= 0), or each one for 'cb'. */
+struct ref_walk {
+    const bg_ref *row;
+    double at;
+    long long want;
+    bg_ref_version_cb cb;
+    void *ctx;
+    bg_ref_version found;
+    int have, stopped;
+    double newest;            /* the newest version's validity (seconds) */
+};
+
+static int ref_walk_cb(const bg_ref_version *v, void *ctx)
+{
+    struct ref_walk *w = ctx;
+    double t = 0.0;
+    bg_ref_version whole;
+    ref_whole(w->row, v, &whole);
+    if (w->cb)
+        return w->stopped = w->cb(&whole, w->ctx);
+    if (bg_time_parse(v->v.valid_from, &t, NULL) == BG_OK && t > w->newest)
+        w->newest = t;
+    if (w->want >= 0 ? v->v.id == w->want : t <= w->at)
+        w->found = whole, w->have = 1;
+    return 0;
+}
+
+/* Reference 'ident' (its row into '*row') and the version 'want' of it, or (want < 0) the
+** one in force at 'when' (NULL or "": now), into 'out'.  No "did you mean" here. */
+static int ref_version_find(bg_store *st, const char *ident, const char *when, long long want,
+                            bg_ref *row, struct ref_walk *w, bg_error *err)
+{
+    int rc;
+    memset(w, 0, sizeof *w);
+    if ((rc = st->be->ref_get(st->conn, ident, row, err)) != BG_OK)
+        return rc;
+    w->row = row, w->want = want;
+    ref_first_version(row, &w->found);
+    w->have = want <= 0;
+    if (bg_time_parse(row->created_at, &w->newest, NULL) != BG_OK)
+        w->newest = -INFINITY; /* (a row written outside bandgap: bg_store_ref_set says so) */
+    if ((want < 0 && (rc = time_or_now(st, when, &w->at, err)) != BG_OK) ||
+        (want != 0 && (rc = st->be->ref_version_each(st->conn, row->id, ref_walk_cb, w, err))
+         != BG_OK))
+        return rc;
+    if (!w->have)
+        return bg_error_set(err, BG_EINVAL, "reference '%s' has no version %lld", ident, want);
+    return BG_OK;
+}
+
+int bg_store_ref_at(bg_store *st, const char *ident, const char *when, bg_ref_version *out,
+                    bg_error *err)
+{
+    struct ref_walk w;
+    bg_ref row;
+    int rc = ref_version_find(st, ident, when, -1, &row, &w, err);
+    if (rc == BG_OK)
+        *out = w.found;
+    return did_you_mean(st, BGI_NAME_REF, ident, rc, err);
+}
+
+int bg_store_ref_version(bg_store *st, const char *ident, long long version,
+                         bg_ref_version *out, bg_error *err)
+{
+    struct ref_walk w;
+    bg_ref row;
+    int rc = ref_version_find(st, ident, NULL, version < 0 ? 0 : version, &row, &w, err);
+    if (rc == BG_OK)
+        *out = w.found;
+    return did_you_mean(st, BGI_NAME_REF, ident, rc, err);
+}
+
+int bg_store_ref_versions(bg_store *st, const char *ident, bg_ref_version_cb cb, void *ctx,
+                          bg_error *err)
+{
+    struct ref_walk w;
+    bg_ref row;
+    bg_ref_version first;
+    int rc = st->be->ref_get(st->conn, ident, &row, err);
+    if (rc != BG_OK)
+        return did_you_mean(st, BGI_NAME_REF, ident, rc, err);
+    ref_first_version(&row, &first);
+    if (cb(&first, ctx))
+        return BG_OK;
+    memset(&w, 0, sizeof w);
+    w.row = &row, w.cb = cb, w.ctx = ctx;
+    return st->be->ref_version_each(st->conn, row.id, ref_walk_cb, &w, err);
+}
+
+/* A version's validity: a valid time, not before the record's creation nor before the
+** version before it ('newest', seconds); 'what' names the record for the message. */
+static int check_valid_from(const char *valid_from, const char *created_at, double newest,
+                            const char *what, bg_error *err)
+{
+    double t, born;
+    int rc;
+    if (!bg_csv_valid_time(valid_from))
+        return bg_error_set(err, BG_EINVAL, "valid from '%s': not an ISO 8601 date-time",
+                            valid_from);
+    if ((rc = bg_time_parse(valid_from, &t, err)) != BG_OK ||
+        (rc = bg_time_parse(created_at, &born, err)) != BG_OK)
+        return rc;
+    if (t < born)
+        return bg_error_set(err, BG_EINVAL, "%s: a version valid from %s would begin before "
+                            "the record was created (%s): refused", what, valid_from,
+                            created_at);
+    if (t < newest)
+        return bg_error_set(err, BG_EINVAL, "%s: a version valid from %s would begin before "
+                            "the newest version's validity: refused (versions follow one "
+                            "another in time)", what, valid_from);
+    return BG_OK;
+}
+
+/* The reason and author of a new version. */
+static int check_why_by(const bg_version_head *v, bg_error *err)
+{
+    int rc;
+    if ((rc = check_text("reason", v->why, BG_NOTE, 1, err)) != BG_OK ||
+        (rc = check_text("name", v->by, BG_TEXT, 1, err)) != BG_OK)
+        return rc;
+    if (v->valid_from[0] && !bg_csv_valid_time(v->valid_from))
+        return bg_error_set(err, BG_EINVAL, "valid from '%s': not an ISO 8601 date-time",
+                            v->valid_from);
+    return BG_OK;
+}
+
+int bg_store_ref_set(bg_store *st, const bg_ref_version *rv, long long *id, bg_error *err)
+{
+    char now[BG_TIME], what[BG_TEXT + 16];
+    const bg_ref *ref = &rv->ref;
+    bg_ref_version add = *rv;
+    struct ref_walk w;
+    bg_ref row;
+    long long row_id = 0;
+    int rc, own;
+
+    if ((rc = check_why_by(&rv->v, err)) != BG_OK ||
+        (rc = check_text("certificate", ref->certificate, BG_TEXT, 1, err)) != BG_OK)
+        return rc;
+    if (ref->due_date[0] && !bg_csv_valid_time(ref->due_date))
+        return bg_error_set(err, BG_EINVAL, "due date '%s': not an ISO 8601 date",
+                            ref->due_date);
+    if ((rc = bg_ref_check(ref, err)) != BG_OK)
+        return rc;
+    if (!add.v.valid_from[0])
+        snprintf(add.v.valid_from, sizeof add.v.valid_from, "%s",
+                 bg_store_time(st, now, sizeof now));
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    snprintf(what, sizeof what, "reference '%s'", ref->ident);
+    if ((rc = ref_version_find(st, ref->ident, NULL, -1, &row, &w, err)) == BG_OK &&
+        (rc = check_valid_from(add.v.valid_from, row.created_at, w.newest, what, err)) == BG_OK)
+        rc = st->be->ref_version_add(st->conn, row.id, &add, bg_store_time(st, now, sizeof now),
+                                     &row_id, err);
+    rc = chained(st, "reference_version", row_id, rc, err);
+    if (rc == BG_OK && id)
+        *id = row_id;
+    return did_you_mean(st, BGI_NAME_REF, ref->ident, tx_end(st, own, rc, err), err);
+}
+
+/* The reference as in force now, over its row. */
+static int ref_now(bg_store *st, bg_ref *r, bg_error *err)
+{
+    struct ref_walk w;
+    bg_ref row;
+    int rc = ref_version_find(st, r->ident, NULL, -1, &row, &w, err);
+    if (rc == BG_OK)
+        *r = w.found.ref;
+    return rc;
+}
+
 int bg_store_ref_get(bg_store *st, const char *ident, bg_ref *out, bg_error *err)
 {
-    return did_you_mean(st, BGI_NAME_REF, ident, st->be->ref_get(st->conn, ident, out, err),
-                        err);
+    int rc = st->be->ref_get(st->conn, ident, out, err);
+    if (rc == BG_OK)
+        rc = ref_now(st, out, err);
+    return did_you_mean(st, BGI_NAME_REF, ident, rc, err);
+}
+
+/* bg_store_ref_each: each reference as in force now.  The rows are collected first (a
+** reference's versions are read with another statement). */
+struct ref_rows {
+    bg_ref *v;
+    size_t n, cap;
+    int nomem;
+};
+
+static int ref_rows_cb(const bg_ref *r, void *ctx)
+{
+    struct ref_rows *rows = ctx;
+    if (rows->n == rows->cap) {
+        size_t cap = rows->cap ? 2 * rows->cap : 8;
+        bg_ref *v = realloc(rows->v, cap * sizeof *v);
+        if (!v)
+            return rows->nomem = 1;
+        rows->v = v, rows->cap = cap;
+    }
+    rows->v[rows->n++] = *r;
+    return 0;
 }
 
 int bg_store_ref_each(bg_store *st, bg_ref_cb cb, void *ctx, bg_error *err)
 {
-    return st->be->ref_each(st->conn, cb, ctx, err);
+    struct ref_rows rows = { NULL, 0, 0, 0 };
+    int rc = st->be->ref_each(st->conn, ref_rows_cb, &rows, err);
+    if (rc == BG_OK && rows.nomem)
+        rc = bg_error_set(err, BG_ENOMEM, "out of memory");
+    for (size_t i = 0; i < rows.n && rc == BG_OK; i++)
+        if ((rc = ref_now(st, &rows.v[i], err)) == BG_OK && cb(&rows.v[i], ctx))
+            break;
+    free(rows.v);
+    return rc;
+}
+
+/* ---- versions of a lot ---- */
+
+/* The lot row 'row' with version 'v' (its tolerances and note). */
+static void lot_whole(const bg_lot *row, const bg_lot_version *v, bg_lot_version *out)
+{
+    out->v = v->v;
+    out->lot = *row;
+    out->lot.tol_r25 = v->lot.tol_r25, out->lot.tol_beta = v->lot.tol_beta;
+    memcpy(out->lot.note, v->lot.note, sizeof out->lot.note);
+}
+
+struct lot_walk {
+    const bg_lot *row;
+    double at;
+    bg_lot_version_cb cb;
+    void *ctx;
+    bg_lot_version found;
+    double newest;
+};
+
+static int lot_walk_cb(const bg_lot_version *v, void *ctx)
+{
+    struct lot_walk *w = ctx;
+    double t = 0.0;
+    bg_lot_version whole;
+    lot_whole(w->row, v, &whole);
+    if (w->cb)
+        return w->cb(&whole, w->ctx);
+    if (bg_time_parse(v->v.valid_from, &t, NULL) == BG_OK && t > w->newest)
+        w->newest = t;
+    if (t <= w->at)
+        w->found = whole;
+    return 0;
+}
+
+/* The version of the lot row 'row' in force at 'when' (NULL or "": now). */
+static int lot_version_find(bg_store *st, const bg_lot *row, const char *when,
+                            struct lot_walk *w, bg_error *err)
+{
+    int rc;
+    memset(w, 0, sizeof *w);
+    w->row = row;
+    w->found.lot = *row;
+    snprintf(w->found.v.valid_from, sizeof w->found.v.valid_from, "%s", row->created_at);
+    snprintf(w->found.v.created_at, sizeof w->found.v.created_at, "%s", row->created_at);
+    if (bg_time_parse(row->created_at, &w->newest, NULL) != BG_OK)
+        w->newest = -INFINITY; /* (a row written outside bandgap: bg_store_lot_set says so) */
+    if ((rc = time_or_now(st, when, &w->at, err)) != BG_OK)
+        return rc;
+    return st->be->lot_version_each(st->conn, row->id, lot_walk_cb, w, err);
+}
+
+int bg_store_lot_at(bg_store *st, const char *code, const char *when, bg_lot_version *out,
+                    bg_error *err)
+{
+    struct lot_walk w;
+    bg_lot row;
+    int rc = st->be->lot_get(st->conn, code, &row, err);
+    if (rc == BG_OK && (rc = lot_version_find(st, &row, when, &w, err)) == BG_OK)
+        *out = w.found;
+    return did_you_mean(st, BGI_NAME_LOT, code, rc, err);
+}
+
+int bg_store_lot_versions(bg_store *st, const char *code, bg_lot_version_cb cb, void *ctx,
+                          bg_error *err)
+{
+    struct lot_walk w;
+    bg_lot row;
+    bg_lot_version first;
+    int rc = st->be->lot_get(st->conn, code, &row, err);
+    if (rc != BG_OK)
+        return did_you_mean(st, BGI_NAME_LOT, code, rc, err);
+    memset(&first, 0, sizeof first);
+    first.lot = row;
+    snprintf(first.v.valid_from, sizeof first.v.valid_from, "%s", row.created_at);
+    snprintf(first.v.created_at, sizeof first.v.created_at, "%s", row.created_at);
+    if (cb(&first, ctx))
+        return BG_OK;
+    memset(&w, 0, sizeof w);
+    w.row = &row, w.cb = cb, w.ctx = ctx;
+    return st->be->lot_version_each(st->conn, row.id, lot_walk_cb, &w, err);
+}
+
+int bg_store_lot_set(bg_store *st, const bg_lot_version *lv, long long *id, bg_error *err)
+{
+    char now[BG_TIME], what[BG_TEXT + 16];
+    bg_lot_version add = *lv;
+    struct lot_walk w;
+    bg_lot row;
+    long long row_id = 0;
+    int rc, own;
+
+    if ((rc = check_why_by(&lv->v, err)) != BG_OK ||
+        (rc = check_text("note", lv->lot.note, BG_NOTE, 0, err)) != BG_OK)
+        return rc;
+    if (!(lv->lot.tol_r25 < 1.0 && lv->lot.tol_beta < 1.0) || isnan(lv->lot.tol_r25) ||
+        isnan(lv->lot.tol_beta))
+        return bg_error_set(err, BG_EINVAL, "lot '%s': tolerances must be between 0 and 100 %%",
+                            lv->lot.code);
+    if (!add.v.valid_from[0])
+        snprintf(add.v.valid_from, sizeof add.v.valid_from, "%s",
+                 bg_store_time(st, now, sizeof now));
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    snprintf(what, sizeof what, "lot '%s'", lv->lot.code);
+    if ((rc = st->be->lot_get(st->conn, lv->lot.code, &row, err)) == BG_OK &&
+        (rc = lot_version_find(st, &row, add.v.valid_from, &w, err)) == BG_OK &&
+        (rc = check_valid_from(add.v.valid_from, row.created_at, w.newest, what, err)) == BG_OK) {
+        const bg_lot *was = &w.found.lot;
+        if (add.lot.tol_r25 < 0.0)
+            add.lot.tol_r25 = was->tol_r25;
+        if (add.lot.tol_beta < 0.0)
+            add.lot.tol_beta = was->tol_beta;
+        if (!add.lot.note[0])
+            memcpy(add.lot.note, was->note, sizeof add.lot.note);
+        if (add.lot.tol_r25 == was->tol_r25 && add.lot.tol_beta == was->tol_beta &&
+            strcmp(add.lot.note, was->note) == 0)
+            rc = bg_error_set(err, BG_EINVAL, "%s: the version changes nothing (give "
+                              "--tol-r25, --tol-beta or --note)", what);
+        else
+            rc = st->be->lot_version_add(st->conn, row.id, &add,
+                                         bg_store_time(st, now, sizeof now), &row_id, err);
+    }
+    rc = chained(st, "lot_version", row_id, rc, err);
+    if (rc == BG_OK && id)
+        *id = row_id;
+    return did_you_mean(st, BGI_NAME_LOT, lv->lot.code, tx_end(st, own, rc, err), err);
+}
+
+/* A lot row as in force now. */
+static int lot_now(bg_store *st, bg_lot *l, bg_error *err)
+{
+    struct lot_walk w;
+    int rc = lot_version_find(st, l, NULL, &w, err);
+    if (rc == BG_OK)
+        *l = w.found.lot;
+    return rc;
+}
+
+int bg_store_lot_get(bg_store *st, const char *code, bg_lot *out, bg_error *err)
+{
+    int rc = st->be->lot_get(st->conn, code, out, err);
+    if (rc == BG_OK)
+        rc = lot_now(st, out, err);
+    return did_you_mean(st, BGI_NAME_LOT, code, rc, err);
+}
+
+/* bg_store_lot_each: each lot as in force now (rows collected first). */
+struct lot_rows {
+    bg_lot *v;
+    size_t n, cap;
+    int nomem;
+};
+
+static int lot_rows_cb(const bg_lot *l, void *ctx)
+{
+    struct lot_rows *rows = ctx;
+    if (rows->n == rows->cap) {
+        size_t cap = rows->cap ? 2 * rows->cap : 8;
+        bg_lot *v = realloc(rows->v, cap * sizeof *v);
+        if (!v)
+            return rows->nomem = 1;
+        rows->v = v, rows->cap = cap;
+    }
+    rows->v[rows->n++] = *l;
+    return 0;
+}
+
+int bg_store_lot_each(bg_store *st, bg_lot_cb cb, void *ctx, bg_error *err)
+{
+    struct lot_rows rows = { NULL, 0, 0, 0 };
+    int rc = st->be->lot_each(st->conn, lot_rows_cb, &rows, err);
+    if (rc == BG_OK && rows.nomem)
+        rc = bg_error_set(err, BG_ENOMEM, "out of memory");
+    for (size_t i = 0; i < rows.n && rc == BG_OK; i++)
+        if ((rc = lot_now(st, &rows.v[i], err)) == BG_OK && cb(&rows.v[i], ctx))
+            break;
+    free(rows.v);
+    return rc;
 }
 
 /* ---- runs and readings ----
@@ -659,8 +1066,15 @@ static int import_run(bg_store *st, struct import_src *s, const struct import_sc
 
     if ((rc = st->be->probe_id(st->conn, meta->serial, &imp->probe_id, err)) != BG_OK)
         return did_you_mean(st, BGI_NAME_PROBE, meta->serial, rc, err);
-    if (have_ref && (rc = st->be->ref_get(st->conn, meta->ref_ident, &ref, err)) != BG_OK)
-        return did_you_mean(st, BGI_NAME_REF, meta->ref_ident, rc, err);
+    if (have_ref) {
+        /* the correction and due date of the version in force at the run's start */
+        struct ref_walk w;
+        if ((rc = ref_version_find(st, meta->ref_ident, imp->started_at, -1, &ref, &w, err))
+            != BG_OK)
+            return did_you_mean(st, BGI_NAME_REF, meta->ref_ident, rc, err);
+        ref = w.found.ref;
+        imp->ref_version = w.found.v.id;
+    }
     if (shape->ref_ohms && !(have_ref && ref.kind == BG_REF_CVD))
         return bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs a reference "
                             "thermometer with Callendar-Van Dusen coefficients (--ref)",

@@ -49,6 +49,8 @@ struct bgi_import {
     char sha256[65];
     long long repeats_run;
     const char *ref_overdue;
+    /* schema 8: the reference version the readings are corrected with (0: the row itself) */
+    long long ref_version;
 };
 
 /* An artifact to store under 'id' (from artifact_next). */
@@ -65,7 +67,7 @@ enum bgi_name_kind { BGI_NAME_PROBE, BGI_NAME_LOT, BGI_NAME_REF, BGI_NAME_PART }
 /* Called with each name; nonzero stops the walk. */
 typedef int (*bgi_name_cb)(const char *name, void *ctx);
 
-#define BGI_STORE_BACKEND_VERSION 6
+#define BGI_STORE_BACKEND_VERSION 7
 /* The busy timeout (ms) rides in the backend open's 'flags' above the public flags. */
 #define BGI_OPEN_BUSY_SHIFT 8
 
@@ -185,6 +187,20 @@ struct bgi_store_backend {
                          bg_lot_histories_cb cb, void *ctx, bg_error *err);
     int (*export_each)(bgi_conn *c, const char *serial, long long lot_id,
                        const bg_export_cbs *cbs, void *ctx, bg_error *err);
+
+    /* version 7: versions (schema db/008-versions.sql).  Add a version of the reference row
+    ** 'ref_id' (inside the write transaction; 'rv->v.valid_from' is set), and each version
+    ** of it in id order, without the row itself ('rv->ref' holds only the version's
+    ** certificate, due date and correction). */
+    int (*ref_version_add)(bgi_conn *c, long long ref_id, const bg_ref_version *rv,
+                           const char *now, long long *id, bg_error *err);
+    int (*ref_version_each)(bgi_conn *c, long long ref_id, bg_ref_version_cb cb, void *ctx,
+                            bg_error *err);
+    /* the same for lots ('lv->lot' holds only the version's tolerances and note) */
+    int (*lot_version_add)(bgi_conn *c, long long lot_id, const bg_lot_version *lv,
+                           const char *now, long long *id, bg_error *err);
+    int (*lot_version_each)(bgi_conn *c, long long lot_id, bg_lot_version_cb cb, void *ctx,
+                            bg_error *err);
 };
 
 /* The backends (sqlite.c, ...); store.c lists them by scheme. */
