@@ -11,7 +11,7 @@ reissue reason, part source) and once with hostile text in their place: markup t
 add elements or attributes, quotes and ampersands, comment and CDATA delimiters, the C
 comment end, template and shell syntax, non-ASCII letters and signs.  The calibration, lot
 and table reports of both are loaded in Chromium (WebDriver, as tests/reports_check.py) and
-read back as a list of elements (tag and attribute names, in document order) and of text
+read back (tests/webdriver.py) as a list of elements (tag and attribute names, in document order) and of text
 nodes.  Checked:
   - the hostile pages have exactly the elements and attributes of the plain ones: the text
     added no markup;
@@ -23,7 +23,9 @@ nodes.  Checked:
   - each field refuses a control character, a bidirectional override and invalid UTF-8 with
     a message naming the field, exit 65, and the database unchanged.
 Prints "ok NAME" / "not ok NAME" lines."""
-import csv, hashlib, io, json, os, re, socket, subprocess, sys, time, urllib.request
+import csv, hashlib, io, json, os, re, subprocess, sys
+
+from webdriver import Browser
 
 bandgap, work = sys.argv[1:3]
 fails = 0
@@ -207,23 +209,6 @@ check("door: the database is unchanged by the refusals",
       hashlib.sha256(open(evil_db, "rb").read()).hexdigest() == digest)
 
 # ---- the browser ----
-sock = socket.socket()
-sock.bind(("127.0.0.1", 0))
-port = sock.getsockname()[1]
-sock.close()
-drv = subprocess.Popen(["chromedriver", "--port=%d" % port], stdout=subprocess.DEVNULL,
-                       stderr=subprocess.DEVNULL)
-base = "http://127.0.0.1:%d" % port
-
-
-def wd(method, path, body=None):
-    data = json.dumps(body).encode() if body is not None else None
-    req = urllib.request.Request(base + path, data=data, method=method,
-                                 headers={"Content-Type": "application/json"})
-    with urllib.request.urlopen(req, timeout=120) as r:
-        return json.loads(r.read())["value"]
-
-
 SHAPE = """
 const els = [], texts = [];
 const walk = n => {
@@ -239,26 +224,13 @@ const walk = n => {
 walk(document.documentElement);
 return { els: els, texts: texts, title: document.title };
 """
-try:
-    for _ in range(100):
-        try:
-            wd("GET", "/status")
-            break
-        except Exception:
-            time.sleep(0.1)
-    caps = {"capabilities": {"alwaysMatch": {
-        "browserName": "chrome",
-        "goog:chromeOptions": {"binary": "/usr/bin/chromium",
-                               "args": ["--headless=new", "--no-sandbox", "--disable-gpu",
-                                        "--disable-dev-shm-usage"]},
-        "goog:loggingPrefs": {"browser": "ALL"}}}}
-    sid = wd("POST", "/session", caps)["sessionId"]
+with Browser() as browser:
 
     def shape(path):
-        wd("POST", "/session/%s/se/log" % sid, {"type": "browser"})
-        wd("POST", "/session/%s/url" % sid, {"url": "file://" + os.path.abspath(path)})
-        s = wd("POST", "/session/%s/execute/sync" % sid, {"script": SHAPE, "args": []})
-        s["errors"] = [e for e in wd("POST", "/session/%s/se/log" % sid, {"type": "browser"})
+        browser.cmd("POST", "/se/log", {"type": "browser"})
+        browser.cmd("POST", "/url", {"url": "file://" + os.path.abspath(path)})
+        s = browser.cmd("POST", "/execute/sync", {"script": SHAPE, "args": []})
+        s["errors"] = [e for e in browser.cmd("POST", "/se/log", {"type": "browser"})
                        if e.get("level") == "SEVERE"]
         return s
 
@@ -284,8 +256,4 @@ try:
         check("%s report: hostile fields shown (%d of %d)" % (name, used, len(HOSTILE)),
               used >= (1 if name == "table" else 3))
         check("%s report: no console errors" % name, not b["errors"], json.dumps(b["errors"]))
-    wd("DELETE", "/session/%s" % sid)
-finally:
-    drv.terminate()
-    drv.wait(timeout=30)
 sys.exit(1 if fails else 0)

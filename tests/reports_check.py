@@ -14,8 +14,9 @@ numbers the report shows carry their full value in data-v; they must equal those
 `curve`, `export`, `drift` and `lut --format json` for the same data, and the residuals equal
 T_ref - T(R) recomputed here with numpy from the Steinhart-Hart equation (Steinhart & Hart
 1968, the fitted model).  Prints "ok NAME" / "not ok NAME" lines."""
-import base64, json, os, re, socket, subprocess, sys, time, urllib.request, zlib
+import base64, json, os, re, subprocess, sys, zlib
 from html.parser import HTMLParser
+from webdriver import Browser
 import numpy as np
 from scipy import constants, stats
 
@@ -76,36 +77,9 @@ for path in (run_html, lot_html, table_html):
           and "Content-Security-Policy" in text)
 
 # ---- the browser -----------------------------------------------------------------------------
-sock = socket.socket()
-sock.bind(("127.0.0.1", 0))
-port = sock.getsockname()[1]
-sock.close()
-drv = subprocess.Popen(["chromedriver", "--port=%d" % port], stdout=subprocess.DEVNULL,
-                       stderr=subprocess.DEVNULL)
-base = "http://127.0.0.1:%d" % port
-
-
-def wd(method, path, body=None):
-    data = json.dumps(body).encode() if body is not None else None
-    req = urllib.request.Request(base + path, data=data, method=method,
-                                 headers={"Content-Type": "application/json"})
-    with urllib.request.urlopen(req, timeout=120) as r:
-        return json.loads(r.read())["value"]
-
-
-for _ in range(100):
-    try:
-        wd("GET", "/status")
-        break
-    except Exception:
-        time.sleep(0.1)
-caps = {"capabilities": {"alwaysMatch": {
-    "browserName": "chrome",
-    "goog:chromeOptions": {"binary": "/usr/bin/chromium",
-                           "args": ["--headless=new", "--no-sandbox", "--disable-gpu",
-                                    "--disable-dev-shm-usage", "--window-size=900,1400"]},
-    "goog:loggingPrefs": {"browser": "ALL", "performance": "ALL"}}}}
-sid = wd("POST", "/session", caps)["sessionId"]
+browser = Browser(["--window-size=900,1400"], {"browser": "ALL", "performance": "ALL"})
+wd = browser.wd
+sid = browser.sid
 
 JS = """
 const out = {};
@@ -441,9 +415,5 @@ def checks():
 try:
     checks()
 finally:
-    try:
-        wd("DELETE", "/session/%s" % sid)
-    finally:
-        drv.terminate()
-        drv.wait(timeout=30)
+    browser.close()
 sys.exit(1 if fails else 0)

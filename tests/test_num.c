@@ -1,5 +1,5 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* cli_num (src/cli/num.c, the shortest-digits conversion of U. Adams, "Ryu", PLDI 2018)
+/* bg_num_shortest (src/lib/core/shortest.c, the shortest-digits conversion of U. Adams, "Ryu", PLDI 2018)
 ** against the formatter it replaced, kept here: snprintf "%.{15,16,17}g" ("%.{1..17}g" for
 ** subnormals), the first that strtod reads back.  The two must write the same bytes for
 ** millions of doubles: random bit patterns (all exponents), subnormals, powers of ten and of
@@ -14,7 +14,7 @@
 #include <string.h>
 
 #include "testutil.h"
-#include "../src/cli/num.c"
+#include "../src/lib/core/shortest.c"
 
 static char *old_num(char *buf, size_t size, double v)
 {
@@ -56,8 +56,8 @@ static uint64_t to_bits(double v)
 static size_t n_checked;
 static void same(double v)
 {
-    char a[CLI_NUM], b[CLI_NUM];
-    cli_num(a, sizeof a, v);
+    char a[BG_NUM_SHORTEST], b[BG_NUM_SHORTEST];
+    bg_num_shortest(a, sizeof a, v);
     old_num(b, sizeof b, v);
     if (strcmp(a, b) != 0)
         fail_msg("%016" PRIx64 ": new '%s', old '%s'", to_bits(v), a, b);
@@ -92,16 +92,16 @@ static void random_bit_patterns(void **state)
 static void special_values(void **state)
 {
     (void)state;
-    char buf[CLI_NUM];
+    char buf[BG_NUM_SHORTEST];
     double specials[] = { 0.0, -0.0, DBL_MIN, DBL_MAX, DBL_TRUE_MIN, DBL_EPSILON, 0.1, 1.0 / 3 };
     for (size_t i = 0; i < sizeof specials / sizeof specials[0]; i++)
         same_near(specials[i]);
-    assert_string_equal(cli_num(buf, sizeof buf, NAN), "nan");
-    assert_string_equal(cli_num(buf, sizeof buf, -INFINITY), "-inf");
-    assert_string_equal(cli_num(buf, sizeof buf, -0.0), "-0");
-    assert_string_equal(cli_num(buf, sizeof buf, 1e15), "1e+15"); /* "%.15g" style */
-    assert_string_equal(cli_num(buf, sizeof buf, 5e-324), "5e-324");
-    assert_string_equal(cli_num(buf, sizeof buf, 0.0025), "0.0025");
+    assert_string_equal(bg_num_shortest(buf, sizeof buf, NAN), "nan");
+    assert_string_equal(bg_num_shortest(buf, sizeof buf, -INFINITY), "-inf");
+    assert_string_equal(bg_num_shortest(buf, sizeof buf, -0.0), "-0");
+    assert_string_equal(bg_num_shortest(buf, sizeof buf, 1e15), "1e+15"); /* "%.15g" style */
+    assert_string_equal(bg_num_shortest(buf, sizeof buf, 5e-324), "5e-324");
+    assert_string_equal(bg_num_shortest(buf, sizeof buf, 0.0025), "0.0025");
     for (int e = -323; e <= 308; e++) { /* powers of ten, read as the decimal says */
         char t[16];
         snprintf(t, sizeof t, "1e%d", e);
@@ -118,7 +118,7 @@ static void special_values(void **state)
         same(strtod(t, NULL));
     }
     snprintf(buf, 4, "%s", "x"); /* a short buffer is cut as snprintf cuts */
-    cli_num(buf, 4, 0.123456);
+    bg_num_shortest(buf, 4, 0.123456);
     assert_string_equal(buf, "0.1");
 }
 
@@ -164,13 +164,13 @@ static void python_repr(void **state)
     size_t n = 0, powers_of_two = 0;
     while (fgets(line, sizeof line, f)) {
         uint64_t bits;
-        char repr[64], ours[CLI_NUM], d1[40], d2[40];
+        char repr[64], ours[BG_NUM_SHORTEST], d1[40], d2[40];
         int x1, x2;
         if (line[0] == '#')
             continue;
         assert_int_equal(sscanf(line, "%" SCNx64 " %63s", &bits, repr), 2);
         double v = from_bits(bits);
-        cli_num(ours, sizeof ours, v);
+        bg_num_shortest(ours, sizeof ours, v);
         assert_true(strtod(ours, NULL) == v);
         digits_of(ours, d1, &x1);
         digits_of(repr, d2, &x2);

@@ -38,13 +38,10 @@ void cli_safe_streams(void);
 /* A list of numbers "1.4e-3,2.37e-4" into 'v' (at most 'max'); BG_EINVAL on bad text. */
 int cli_parse_list(const char *s, double *v, size_t max, size_t *n, bg_error *err);
 
-/* A double in the shortest form that reads back exactly (at most 17 significant digits,
-** "%g" style: "0.0025", "1e+23", "-0") into 'buf' (CLI_NUM bytes or more); returns 'buf'.
-** NaN and infinities give "nan", "inf", "-inf": callers that must not write them test first. */
-enum { CLI_NUM = 32 };
-char *cli_num(char *buf, size_t size, double v);
+/* Numbers are written in the shortest form that reads back: bg_num_shortest (json.h). */
+enum { CLI_NUM = BG_NUM_SHORTEST };
 
-/* ---- JSON output: numbers in the shortest form that round-trips (cli_num); NaN and
+/* ---- JSON output: numbers in the shortest form that round-trips (bg_num_shortest); NaN and
 ** infinities become null ---- */
 typedef struct json_out {
     FILE *f;

@@ -1,6 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* bandgap export: readings and fits of a probe or a lot, lossless (each number in the shortest
-** form that reads back exactly, cli_num), as one CSV table or one JSON object. */
+** form that reads back exactly, bg_num_shortest), as one CSV table or one JSON object. */
 #include <errno.h>
 #include <getopt.h>
 #include <math.h>
@@ -51,7 +51,7 @@ static void csv_num(FILE *f, double v)
 {
     char b[CLI_NUM];
     if (isfinite(v))
-        fputs(cli_num(b, sizeof b, v), f);
+        fputs(bg_num_shortest(b, sizeof b, v), f);
     fputc(',', f);
 }
 

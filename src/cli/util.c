@@ -129,8 +129,6 @@ int cli_parse_temps(const char *s, double *t_k, size_t max, size_t *n, bg_error 
     }
 }
 
-/* ---- numbers: cli_num is in num.c ---- */
-
 /* ---- JSON ---- */
 
 static void sep(json_out *j, const char *key)
@@ -188,7 +186,7 @@ void json_num(json_out *j, const char *key, double v)
     sep(j, key);
     char b[CLI_NUM];
     if (isfinite(v))
-        fputs(cli_num(b, sizeof b, v), j->f);
+        fputs(bg_num_shortest(b, sizeof b, v), j->f);
     else
         fputs("null", j->f);
 }

@@ -70,7 +70,7 @@ static const struct opt_case cases[] = {
 #define NCASES (sizeof cases / sizeof cases[0])
 
 /* A database path that cannot exist, so that no command can create or open one. */
-static struct cli_ctx ctx = { "/nonexistent-bandgap-fuzz/none.db", 0 };
+static struct cli_ctx ctx = { "/nonexistent-bandgap-fuzz/none.db", 0, -1.0 };
 
 static void run_cmd(cmd_fn fn, int argc, char **argv)
 {

@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
 # SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
 # Writes tests/ref/repr_sample.txt: doubles (IEEE 754 bit patterns in hex) with Python's repr(),
-# the shortest decimal that reads back (an independent reference for src/cli/num.c).
+# the shortest decimal that reads back (an independent reference for src/lib/core/shortest.c).
 # python3 tests/ref/repr_sample.py > tests/ref/repr_sample.txt
 import random
 import struct

@@ -1,6 +1,6 @@
 #!/usr/bin/env python3
 # SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
-# Writes src/cli/num_pow5.h: python3 tests/ref/ryu_tables.py > src/cli/num_pow5.h
+# Writes src/lib/core/pow5_int.h: python3 tests/ref/ryu_tables.py > src/lib/core/pow5_int.h
 # emits the two 128-bit tables of Ryu (Adams, PLDI 2018), computed exactly with Python integers
 def bl(x): return x.bit_length()
 print("/* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */")

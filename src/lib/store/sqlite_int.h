@@ -135,6 +135,32 @@ int bgi_sqlite_part_spec_add(bgi_conn *c, const bg_part_spec *p, const char *now
 int bgi_sqlite_part_spec_each(bgi_conn *c, const char *part, int newest_only,
                               bg_part_spec_cb cb, void *ctx, bg_error *err);
 
+/* A run row as bg_store_run_get gives it, and a reading row with its exclusion (aliases: r
+** run, p probe, x reference, g reading, e exclusion); their readers (sqlite_run.c). */
+#define BGI_RUN_COLS "r.id, r.probe_id, coalesce(r.reference_id, 0), p.serial, " \
+    "coalesce(x.ident, ''), r.operator, r.medium, r.ambient, r.excitation, r.started_at, " \
+    "r.source, r.note, r.imported_at, " \
+    "r.nreadings, " \
+    "(SELECT count(*) FROM exclusion e WHERE e.reading_id BETWEEN r.first_reading " \
+    "  AND r.first_reading + r.nreadings - 1), " \
+    "(SELECT count(*) FROM fit f WHERE f.run_id = r.id), " \
+    "r.readings_sha256, coalesce(r.repeats_run, 0), " \
+    "CASE WHEN r.reference_version_id IS NULL THEN x.due_date ELSE " \
+    "  (SELECT v.due_date FROM reference_version v WHERE v.id = r.reference_version_id) END, " \
+    "r.ref_overdue, " \
+    "coalesce(r.measuring_current_a, 0), coalesce(r.measuring_voltage_v, 0), " \
+    "coalesce(r.reference_version_id, 0)"
+#define BGI_RUN_FROM " FROM run r JOIN probe p ON r.probe_id = p.id " \
+    "LEFT JOIN reference x ON r.reference_id = x.id "
+#define BGI_READING_COLS "g.id, g.run_id, g.line, g.t_raw, r.t_raw_unit, g.t_k, g.r_ohm, " \
+    "g.u_t_k, g.u_r_ohm, g.time, g.note, e.reading_id IS NOT NULL, e.reason, e.by_whom, e.at"
+/* The readings of run ?1 in id order, each with its exclusion (through the run's id range). */
+#define BGI_READINGS_OF_RUN "SELECT " BGI_READING_COLS " FROM run r JOIN reading g ON g.id " \
+    "BETWEEN r.first_reading AND r.first_reading + r.nreadings - 1 AND g.run_id = r.id " \
+    "LEFT JOIN exclusion e ON e.reading_id = g.id WHERE r.id = ?1 ORDER BY g.id"
+void bgi_run_row(sqlite3_stmt *q, bg_run *r);
+void bgi_reading_row(sqlite3_stmt *q, bg_reading_row *g);
+
 /* The record chain (sqlite_chain.c). */
 int bgi_sqlite_chain_head(bgi_conn *c, long long *seq, char hex[65], bg_error *err);
 int bgi_sqlite_chain_append(bgi_conn *c, const char *kind, long long id, bg_error *err);

@@ -179,24 +179,9 @@ int bgi_sqlite_import(bgi_conn *c, const struct bgi_import *imp, long long *run_
     return BG_OK;
 }
 
-#define RUN_COLS "r.id, r.probe_id, coalesce(r.reference_id, 0), p.serial, " \
-    "coalesce(x.ident, ''), r.operator, r.medium, r.ambient, r.excitation, r.started_at, " \
-    "r.source, r.note, r.imported_at, " \
-    "r.nreadings, " \
-    "(SELECT count(*) FROM exclusion e WHERE e.reading_id BETWEEN r.first_reading " \
-    "  AND r.first_reading + r.nreadings - 1), " \
-    "(SELECT count(*) FROM fit f WHERE f.run_id = r.id), " \
-    "r.readings_sha256, coalesce(r.repeats_run, 0), " \
-    "CASE WHEN r.reference_version_id IS NULL THEN x.due_date ELSE " \
-    "  (SELECT v.due_date FROM reference_version v WHERE v.id = r.reference_version_id) END, " \
-    "r.ref_overdue, " \
-    "coalesce(r.measuring_current_a, 0), coalesce(r.measuring_voltage_v, 0), " \
-    "coalesce(r.reference_version_id, 0)"
-#define RUN_FROM " FROM run r JOIN probe p ON r.probe_id = p.id " \
-    "LEFT JOIN reference x ON r.reference_id = x.id "
-
-static void run_row(sqlite3_stmt *q, bg_run *r)
+void bgi_run_row(sqlite3_stmt *q, bg_run *r)
 {
+    memset(r, 0, sizeof *r);
     r->id = sqlite3_column_int64(q, 0);
     r->probe_id = sqlite3_column_int64(q, 1);
     r->reference_id = sqlite3_column_int64(q, 2);
@@ -223,16 +208,35 @@ static void run_row(sqlite3_stmt *q, bg_run *r)
     r->ref_version = sqlite3_column_int64(q, 22);
 }
 
+void bgi_reading_row(sqlite3_stmt *q, bg_reading_row *g)
+{
+    g->id = sqlite3_column_int64(q, 0);
+    g->run_id = sqlite3_column_int64(q, 1);
+    g->line = (size_t)sqlite3_column_int64(q, 2);
+    g->t_raw = sqlite3_column_double(q, 3);
+    bgi_copy_text(g->t_raw_unit, sizeof g->t_raw_unit, q, 4);
+    g->t_k = sqlite3_column_double(q, 5);
+    g->r_ohm = sqlite3_column_double(q, 6);
+    g->u_t_k = sqlite3_column_double(q, 7);
+    g->u_r_ohm = sqlite3_column_double(q, 8);
+    bgi_copy_text(g->time, sizeof g->time, q, 9);
+    bgi_copy_text(g->note, sizeof g->note, q, 10);
+    g->excluded = sqlite3_column_int(q, 11);
+    bgi_copy_text(g->excl_reason, sizeof g->excl_reason, q, 12);
+    bgi_copy_text(g->excl_by, sizeof g->excl_by, q, 13);
+    bgi_copy_text(g->excl_at, sizeof g->excl_at, q, 14);
+}
+
 int bgi_sqlite_run_get(bgi_conn *c, long long run_id, bg_run *out, bg_error *err)
 {
     sqlite3_stmt *q = NULL;
-    int rc = bgi_prepare(c, "SELECT " RUN_COLS RUN_FROM "WHERE r.id = ?", &q, err);
+    int rc = bgi_prepare(c, "SELECT " BGI_RUN_COLS BGI_RUN_FROM "WHERE r.id = ?", &q, err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, run_id);
     int s = sqlite3_step(q);
     if (s == SQLITE_ROW)
-        run_row(q, out);
+        bgi_run_row(q, out);
     else if (s == SQLITE_DONE)
         rc = bg_error_set(err, BG_EINVAL, "no run %lld", run_id);
     else
@@ -300,7 +304,7 @@ int bgi_sqlite_run_each(bgi_conn *c, const char *serial, const char *lot_code, b
     int rc = bgi_sqlite_check_filter(c, serial, lot_code, err), s;
     if (rc != BG_OK)
         return rc;
-    rc = bgi_prepare(c, "SELECT " RUN_COLS RUN_FROM "JOIN lot l ON p.lot_id = l.id "
+    rc = bgi_prepare(c, "SELECT " BGI_RUN_COLS BGI_RUN_FROM "JOIN lot l ON p.lot_id = l.id "
                      "WHERE (?1 IS NULL OR p.serial = ?1) AND (?2 IS NULL OR l.code = ?2) "
                      "ORDER BY r.id", &q, err);
     if (rc != BG_OK)
@@ -308,7 +312,7 @@ int bgi_sqlite_run_each(bgi_conn *c, const char *serial, const char *lot_code, b
     bgi_bind_text_or_null(q, 1, serial);
     bgi_bind_text_or_null(q, 2, lot_code);
     while ((s = sqlite3_step(q)) == SQLITE_ROW) {
-        run_row(q, &r);
+        bgi_run_row(q, &r);
         if (cb(&r, ctx))
             break;
     }
@@ -323,31 +327,12 @@ int bgi_sqlite_reading_each(bgi_conn *c, long long run_id, bg_reading_cb cb, voi
 {
     sqlite3_stmt *q = NULL;
     bg_reading_row row;
-    int rc = bgi_prepare(c, "SELECT g.id, g.run_id, g.line, g.t_raw, r.t_raw_unit, g.t_k, "
-                         "g.r_ohm, g.u_t_k, g.u_r_ohm, g.time, g.note, e.reading_id IS NOT NULL, "
-                         "e.reason, e.by_whom, e.at FROM run r JOIN reading g ON g.id BETWEEN "
-                         "r.first_reading AND r.first_reading + r.nreadings - 1 AND g.run_id = "
-                         "r.id LEFT JOIN exclusion e ON e.reading_id = g.id WHERE r.id = ? "
-                         "ORDER BY g.id", &q, err), s;
+    int rc = bgi_prepare(c, BGI_READINGS_OF_RUN, &q, err), s;
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, run_id);
     while ((s = sqlite3_step(q)) == SQLITE_ROW) {
-        row.id = sqlite3_column_int64(q, 0);
-        row.run_id = sqlite3_column_int64(q, 1);
-        row.line = (size_t)sqlite3_column_int64(q, 2);
-        row.t_raw = sqlite3_column_double(q, 3);
-        bgi_copy_text(row.t_raw_unit, sizeof row.t_raw_unit, q, 4);
-        row.t_k = sqlite3_column_double(q, 5);
-        row.r_ohm = sqlite3_column_double(q, 6);
-        row.u_t_k = sqlite3_column_double(q, 7);
-        row.u_r_ohm = sqlite3_column_double(q, 8);
-        bgi_copy_text(row.time, sizeof row.time, q, 9);
-        bgi_copy_text(row.note, sizeof row.note, q, 10);
-        row.excluded = sqlite3_column_int(q, 11);
-        bgi_copy_text(row.excl_reason, sizeof row.excl_reason, q, 12);
-        bgi_copy_text(row.excl_by, sizeof row.excl_by, q, 13);
-        bgi_copy_text(row.excl_at, sizeof row.excl_at, q, 14);
+        bgi_reading_row(q, &row);
         if (cb(&row, ctx))
             break;
     }

@@ -594,16 +594,26 @@ struct ref_rows {
     int nomem;
 };
 
+/* 'v' (n elements of 'size' bytes, room for '*cap') with room for one more: the same or a
+** grown array (capacity doubling), NULL when out of memory ('v' is then left as it was). */
+static void *room(void *v, size_t *cap, size_t n, size_t size)
+{
+    if (n < *cap)
+        return v;
+    size_t c = *cap ? 2 * *cap : 8;
+    void *w = realloc(v, c * size);
+    if (w)
+        *cap = c;
+    return w;
+}
+
 static int ref_rows_cb(const bg_ref *r, void *ctx)
 {
     struct ref_rows *rows = ctx;
-    if (rows->n == rows->cap) {
-        size_t cap = rows->cap ? 2 * rows->cap : 8;
-        bg_ref *v = realloc(rows->v, cap * sizeof *v);
-        if (!v)
-            return rows->nomem = 1;
-        rows->v = v, rows->cap = cap;
-    }
+    bg_ref *v = room(rows->v, &rows->cap, rows->n, sizeof *v);
+    if (!v)
+        return rows->nomem = 1;
+    rows->v = v;
     rows->v[rows->n++] = *r;
     return 0;
 }
@@ -778,13 +788,10 @@ struct lot_rows {
 static int lot_rows_cb(const bg_lot *l, void *ctx)
 {
     struct lot_rows *rows = ctx;
-    if (rows->n == rows->cap) {
-        size_t cap = rows->cap ? 2 * rows->cap : 8;
-        bg_lot *v = realloc(rows->v, cap * sizeof *v);
-        if (!v)
-            return rows->nomem = 1;
-        rows->v = v, rows->cap = cap;
-    }
+    bg_lot *v = room(rows->v, &rows->cap, rows->n, sizeof *v);
+    if (!v)
+        return rows->nomem = 1;
+    rows->v = v;
     rows->v[rows->n++] = *l;
     return 0;
 }

@@ -1,9 +1,9 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* cli_num: a double in the fewest significant digits that read back exactly, "%g" style.
+/* bg_num_shortest: a double in the fewest significant digits that read back exactly, "%g" style.
 **
 ** The digits come from the Ryu algorithm (U. Adams, "Ryu: fast float-to-string conversion",
 ** PLDI 2018): the value and the two ends of the interval of decimals that round to it are
-** scaled by a power of 10 with 128-bit products (tables in num_pow5.h, written by
+** scaled by a power of 10 with 128-bit products (tables in pow5_int.h, written by
 ** tests/ref/ryu_tables.py), then digits are removed while the interval still holds a shorter
 ** decimal; the last one is rounded to nearest, ties to even.  It gives the shortest decimal
 ** that reads back, the nearest to the value among those.
@@ -22,8 +22,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "cli.h"
-#include "num_pow5.h"
+#include "bandgap/json.h"
+#include "pow5_int.h"
 
 __extension__ typedef unsigned __int128 num_u128;
 
@@ -150,7 +150,7 @@ static char *by_snprintf(char *buf, size_t size, double v)
 ** "%.{prec}g" writes it with trailing zeros dropped. */
 static void write_g(char *buf, size_t size, int neg, const char *digits, int n, int x, int prec)
 {
-    char t[CLI_NUM + 8];
+    char t[BG_NUM_SHORTEST + 8];
     int k = 0;
     if (neg)
         t[k++] = '-';
@@ -193,7 +193,7 @@ static void write_g(char *buf, size_t size, int neg, const char *digits, int n, 
     buf[len] = '\0';
 }
 
-char *cli_num(char *buf, size_t size, double v)
+char *bg_num_shortest(char *buf, size_t size, double v)
 {
     if (!isfinite(v)) {
         snprintf(buf, size, "%s", isnan(v) ? "nan" : v > 0 ? "inf" : "-inf");
