@@ -24,7 +24,7 @@ PKG_LIBS   = $(shell pkg-config --libs gsl sqlite3 nettle 2>/dev/null) -lm
 CMOCKA     = $(shell pkg-config --cflags --libs cmocka 2>/dev/null)
 CFLAGS_ALL = $(STD) $(WARN) $(OPT) -fvisibility=hidden -Iinclude -DBG_VERSION='"$(VERSION)"' \
              $(PKG_CFLAGS)
-DEBIAN_PKGS = libgsl-dev libsqlite3-dev nettle-dev libcmocka-dev pkg-config python3-numpy python3-scipy \
+DEBIAN_PKGS = libgsl-dev libsqlite3-dev nettle-dev libcmocka-dev pkg-config python3-numpy python3-scipy python3-mpmath \
               mandoc sqlite3 clang libclang-rt-14-dev chromium chromium-driver libxml2-utils time
 
 LIB_SRC = $(wildcard src/lib/*/*.c)
