@@ -54,7 +54,7 @@ all: deps $(BUILD)/libbandgap.a $(SHARED) $(BUILD)/bandgap
 deps:
 	@missing=""; \
 	for p in gsl sqlite3 nettle cmocka; do pkg-config --exists $$p 2>/dev/null || missing=yes; done; \
-	$(PYTHON) -c 'import numpy, scipy' 2>/dev/null || missing=yes; \
+	$(PYTHON) -c 'import numpy, scipy, mpmath' 2>/dev/null || missing=yes; \
 	for c in mandoc sqlite3 clang chromium chromedriver xmllint; do \
 	  command -v $$c >/dev/null 2>&1 || missing=yes; done; \
 	[ -x /usr/bin/time ] || missing=yes; \
