@@ -100,9 +100,10 @@ INSERT INTO part_spec (id, part, tol_k, tol_lo_k, tol_hi_k, created_at)
     VALUES (2, 'P', 0.2, 273.15, 343.15, 't');"
 dump() { # every row of every table, and the schema of indexes, triggers, views and probe
     for t in lot probe reference run reading exclusion fit artifact part_spec; do
-        # (leaving out the column 008-versions.sql adds, NULL in an upgraded row)
+        # (leaving out the columns 008-versions.sql and 009-its90-reference.sql add, NULL in
+        # an upgraded row)
         cols=$(sqlite3 "$1" "SELECT group_concat(name, ', ') FROM pragma_table_info('$t')
-                             WHERE name <> 'reference_version_id'")
+                             WHERE name <> 'reference_version_id' AND name NOT LIKE 'its90_%'")
         sqlite3 "$1" "SELECT '$t', $cols FROM $t ORDER BY rowid"
     done
     sqlite3 "$1" "SELECT type, name, tbl_name, sql FROM sqlite_schema

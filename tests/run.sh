@@ -56,6 +56,8 @@ hw=$(mktemp -d)
 tally hostile "$BUILD/hostile.log" $?
 "$PYTHON" tests/chain_check.py "$BUILD/bandgap" "$hw" > "$BUILD/chain.log" 2>&1
 tally chain "$BUILD/chain.log" $?
+"$PYTHON" tests/its90_check.py "$BUILD/bandgap" "$hw" > "$BUILD/its90.log" 2>&1
+tally its90 "$BUILD/its90.log" $?
 rm -rf "$hw"
 "$PYTHON" tests/layout.py "$BUILD" > "$BUILD/layout.log" 2>&1
 tally layout "$BUILD/layout.log" $?

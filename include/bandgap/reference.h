@@ -1,7 +1,9 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* Reference thermometers and their corrections: a linear correction from a calibration
-** certificate, or a platinum thermometer read in ohm through its Callendar-Van Dusen
-** coefficients (IEC 60751). */
+** certificate, a platinum thermometer read in ohm through its Callendar-Van Dusen
+** coefficients (IEC 60751), or a standard platinum thermometer read in ohm through ITS-90
+** (its resistance at the triple point of water and the deviation function of its
+** sub-range). */
 #ifndef BANDGAP_REFERENCE_H
 #define BANDGAP_REFERENCE_H
 
@@ -13,7 +15,31 @@
 #define BG_REF_NOTE 1024  /* notes: at most 1023 bytes */
 #define BG_REF_TIME 40
 
-typedef enum bg_ref_kind { BG_REF_NONE = 0, BG_REF_LINEAR, BG_REF_CVD } bg_ref_kind;
+/* The sub-ranges of the scale a bath calibration uses, with the deviation function
+** W - W_r = dW(W) of each (the text's section 3.3) and its calibration points:
+**   AR_TPW  83.8058 .. 273.16 K   a(W-1) + b(W-1) ln W                       Ar, Hg
+**   HG_TPW  234.3156 .. 273.16 K  a(W-1)                                    Hg
+**   HG_GA   234.3156 .. 302.9146 K a(W-1) + b(W-1)^2                         Hg, Ga
+**   TPW_GA  273.15 .. 302.9146 K  a(W-1)                                    Ga
+**   TPW_IN  273.15 .. 429.7485 K  a(W-1)                                    In
+**   TPW_SN  273.15 .. 505.078 K   a(W-1) + b(W-1)^2                         In, Sn
+**   TPW_ZN  273.15 .. 692.677 K   a(W-1) + b(W-1)^2                         Sn, Zn
+**   TPW_AL  273.15 .. 933.473 K   a(W-1) + b(W-1)^2 + c(W-1)^3              Sn, Zn, Al
+**   TPW_AG  273.15 .. 1234.93 K   as TPW_AL + d(W - W(Al))^2 above Al        Sn, Zn, Al, Ag
+** (the triple point of water, W = 1, is a calibration point of every one). */
+typedef enum bg_its90_range {
+    BG_ITS90_AR_TPW = 0, BG_ITS90_HG_TPW, BG_ITS90_HG_GA, BG_ITS90_TPW_GA, BG_ITS90_TPW_IN,
+    BG_ITS90_TPW_SN, BG_ITS90_TPW_ZN, BG_ITS90_TPW_AL, BG_ITS90_TPW_AG, BG_ITS90_NRANGE
+} bg_its90_range;
+
+/* A thermometer's deviation function on one sub-range: its coefficients, and for TPW_AG the
+** thermometer's own W at the aluminium point (w_al). */
+typedef struct bg_its90_dev {
+    bg_its90_range range;
+    double a, b, c, d, w_al;
+} bg_its90_dev;
+
+typedef enum bg_ref_kind { BG_REF_NONE = 0, BG_REF_LINEAR, BG_REF_CVD, BG_REF_ITS90 } bg_ref_kind;
 
 typedef struct bg_ref {
     long long id;
@@ -21,19 +47,24 @@ typedef struct bg_ref {
     bg_ref_kind kind;
     double lin_c0_k, lin_c1, lin_t0_k;       /* t = t_read + c0 + c1 (t_read - t0) */
     double cvd_r0_ohm, cvd_a, cvd_b, cvd_c;  /* IEC 60751 */
+    double its90_rtpw_ohm;                   /* ITS-90: R(273.16 K), and the deviation */
+    bg_its90_dev its90;                      /* function of the calibrated sub-range */
     char note[BG_REF_NOTE], created_at[BG_REF_TIME];
 } bg_ref;
 
-/* The correction's name as stored and shown: "none", "linear", "cvd". */
+/* The correction's name as stored and shown: "none", "linear", "cvd", "its90". */
 BG_API const char *bg_ref_kind_name(bg_ref_kind kind);
 
 /* Check a reference's values: BG_EINVAL naming the reference when a linear correction has a
-** non-finite c0 or c1 or t0 <= 0, or a CVD one has R0 <= 0 or A zero or not finite. */
+** non-finite c0 or c1 or t0 <= 0, a CVD one has R0 <= 0 or A zero or not finite, or an
+** ITS-90 one has R(273.16 K) <= 0, an unknown sub-range, a non-finite coefficient, a
+** coefficient its sub-range does not have that is not 0, or (TPW-Ag) W(Al) not above 1. */
 BG_API int bg_ref_check(const bg_ref *ref, bg_error *err);
 
 /* The true temperature (K) of one reading of reference 'ref' (NULL: no reference).
 ** 'raw' is the reference's reading: a temperature in K read off the thermometer, or with
-** 'raw_is_ohm' its platinum resistance in ohm (needs a BG_REF_CVD reference).  A linear
+** 'raw_is_ohm' its platinum resistance in ohm (needs a BG_REF_CVD or BG_REF_ITS90 reference:
+** ITS-90 reads W = R / R(273.16 K) through bg_its90_t_from_w).  A linear
 ** reference adds c0 + c1 (t - t0); BG_REF_NONE and NULL keep the reading.  BG_EINVAL when the
 ** result is at or below 0 K, or as bg_cvd_t_from_r. */
 BG_API int bg_ref_correct(const bg_ref *ref, int raw_is_ohm, double raw, double *t_k,
@@ -66,30 +97,6 @@ BG_API int bg_its90_wr(double t90_k, double *wr, bg_error *err);
 ** (the published inverses alone are equivalent only to 0.1 mK and 0.13 mK).  BG_EINVAL for a
 ** W_r outside W_r(13.8033 K) .. W_r(1234.93 K). */
 BG_API int bg_its90_t_from_wr(double wr, double *t90_k, bg_error *err);
-
-/* The sub-ranges of the scale a bath calibration uses, with the deviation function
-** W - W_r = dW(W) of each (the text's section 3.3) and its calibration points:
-**   AR_TPW  83.8058 .. 273.16 K   a(W-1) + b(W-1) ln W                       Ar, Hg
-**   HG_TPW  234.3156 .. 273.16 K  a(W-1)                                    Hg
-**   HG_GA   234.3156 .. 302.9146 K a(W-1) + b(W-1)^2                         Hg, Ga
-**   TPW_GA  273.15 .. 302.9146 K  a(W-1)                                    Ga
-**   TPW_IN  273.15 .. 429.7485 K  a(W-1)                                    In
-**   TPW_SN  273.15 .. 505.078 K   a(W-1) + b(W-1)^2                         In, Sn
-**   TPW_ZN  273.15 .. 692.677 K   a(W-1) + b(W-1)^2                         Sn, Zn
-**   TPW_AL  273.15 .. 933.473 K   a(W-1) + b(W-1)^2 + c(W-1)^3              Sn, Zn, Al
-**   TPW_AG  273.15 .. 1234.93 K   as TPW_AL + d(W - W(Al))^2 above Al        Sn, Zn, Al, Ag
-** (the triple point of water, W = 1, is a calibration point of every one). */
-typedef enum bg_its90_range {
-    BG_ITS90_AR_TPW = 0, BG_ITS90_HG_TPW, BG_ITS90_HG_GA, BG_ITS90_TPW_GA, BG_ITS90_TPW_IN,
-    BG_ITS90_TPW_SN, BG_ITS90_TPW_ZN, BG_ITS90_TPW_AL, BG_ITS90_TPW_AG, BG_ITS90_NRANGE
-} bg_its90_range;
-
-/* A thermometer's deviation function on one sub-range: its coefficients, and for TPW_AG the
-** thermometer's own W at the aluminium point (w_al). */
-typedef struct bg_its90_dev {
-    bg_its90_range range;
-    double a, b, c, d, w_al;
-} bg_its90_dev;
 
 /* The sub-range's name ("Ar-TPW", "TPW-Zn", ...) and, into 'lo_k'/'hi_k', its limits. */
 BG_API const char *bg_its90_range_name(bg_its90_range range, double *lo_k, double *hi_k);

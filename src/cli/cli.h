@@ -201,6 +201,10 @@ int cli_print_probe_fit(const bg_fit_row *f, void *ctx);
 int cli_print_run_line(const bg_run *r, void *ctx);
 int cli_print_fit_line(const bg_fit_row *f, void *ctx);
 int cli_print_ref(const bg_ref *r, void *ctx);
+/* A reference's certificate, due date and correction with its values: as text (no newline),
+** and as members of the open JSON object 'j'. */
+void cli_ref_values_text(const bg_ref *r);
+void cli_ref_values_json(json_out *j, const bg_ref *r);
 int cli_print_reading(const bg_reading_row *g, void *ctx);
 /* A run's header for 'show run' (the readings follow through cli_print_reading). */
 void cli_print_run_head(const bg_run *r);

@@ -9,10 +9,10 @@
 #include "cli.h"
 
 static const char ref_usage[] =
-    "Usage: bandgap ref add ID --cert TEXT [--due DATE] [--linear Y1,Y2,T0 | --cvd R0,A,B,C]\n"
-    "                  [--note TEXT]\n"
+    "Usage: bandgap ref add ID --cert TEXT [--due DATE] [--linear Y1,Y2,T0 | --cvd R0,A,B,C |\n"
+    "                  --its90 RANGE,RTPW,a[,b[,c[,d,W_AL]]]] [--note TEXT]\n"
     "       bandgap ref set ID --cert TEXT [--due DATE] (--linear Y1,Y2,T0 | --cvd R0,A,B,C |\n"
-    "                  --no-correction) --why TEXT [--by NAME] [--from TIME]\n"
+    "                  --its90 ... | --no-correction) --why TEXT [--by NAME] [--from TIME]\n"
     "       bandgap ref show ID [--json]\n"
     "       bandgap ref list [--json]\n"
     "A reference thermometer with its calibration certificate and, optionally, a correction\n"
@@ -90,10 +90,42 @@ static int parse_cvd(const char *s, bg_ref *ref)
     return BG_OK;
 }
 
+/* --its90 RANGE,RTPW,a[,b[,c[,d,W_AL]]]: exactly the coefficients the sub-range has. */
+static int parse_its90(const char *s, bg_ref *ref)
+{
+    bg_error err = BG_ERROR_INIT;
+    char range[32], rtpw[64];
+    const char *rest = first_field(s, range, sizeof range), *coefs = NULL;
+    double v[5] = { 0 }, pts[4];
+    size_t n = 0;
+    if (rest)
+        coefs = first_field(rest, rtpw, sizeof rtpw);
+    if (!coefs)
+        return cli_usage_error("ref", "--its90: '%s': expected RANGE,RTPW,a[,b[,c[,d,W_AL]]], "
+                               "e.g. TPW-Zn,25.5012R,-1.2e-4,3.1e-6", s);
+    if (bg_its90_range_parse(range, &ref->its90.range, &err) != BG_OK)
+        return cli_usage_error("ref", "--its90: %s", err.msg);
+    if (bg_units_parse_ohms(rtpw, &ref->its90_rtpw_ohm, &err) != BG_OK)
+        return cli_usage_error("ref", "--its90: RTPW: %s", err.msg);
+    size_t want = bg_its90_range_points(ref->its90.range, pts);
+    want += ref->its90.range == BG_ITS90_TPW_AG; /* W at the aluminium point */
+    if (cli_parse_list(coefs, v, 5, &n, &err) != BG_OK)
+        return cli_usage_error("ref", "--its90: coefficients: %s", err.msg);
+    if (n != want)
+        return cli_usage_error("ref", "--its90: sub-range %s takes %zu value%s after RTPW (%s), "
+                               "not %zu", range, want, want == 1 ? "" : "s",
+                               want == 1 ? "a" : want == 2 ? "a,b" : want == 3 ? "a,b,c"
+                                                                   : "a,b,c,d,W_AL", n);
+    ref->its90.a = v[0], ref->its90.b = v[1], ref->its90.c = v[2], ref->its90.d = v[3];
+    ref->its90.w_al = v[4];
+    ref->kind = BG_REF_ITS90;
+    return BG_OK;
+}
+
 /* Parse the options into 'o'; -1 after --help. */
 static int ref_parse(int argc, char **argv, struct ref_opts *o, struct cli_ctx *ctx)
 {
-    enum { O_CERT = 1, O_DUE, O_LIN, O_CVD, O_NOTE, O_JSON, O_WHY, O_BY, O_FROM, O_NONE };
+    enum { O_CERT = 1, O_DUE, O_LIN, O_CVD, O_NOTE, O_JSON, O_WHY, O_BY, O_FROM, O_NONE, O_ITS };
     static const struct option opts[] = {
         { "cert", required_argument, NULL, O_CERT }, { "due", required_argument, NULL, O_DUE },
         { "linear", required_argument, NULL, O_LIN }, { "cvd", required_argument, NULL, O_CVD },
@@ -101,7 +133,8 @@ static int ref_parse(int argc, char **argv, struct ref_opts *o, struct cli_ctx *
         { "why", required_argument, NULL, O_WHY },   { "by", required_argument, NULL, O_BY },
         { "from", required_argument, NULL, O_FROM },
         { "no-correction", no_argument, NULL, O_NONE },
-        { "help", no_argument, NULL, 'h' },          { NULL, 0, NULL, 0 },
+        { "its90", required_argument, NULL, O_ITS }, { "help", no_argument, NULL, 'h' },
+        { NULL, 0, NULL, 0 },
     };
     bg_ref *ref = &o->rv.ref;
     int c, rc;
@@ -120,10 +153,14 @@ static int ref_parse(int argc, char **argv, struct ref_opts *o, struct cli_ctx *
                 return cli_usage_error("ref", "--due: '%s': not an ISO 8601 date", optarg);
             snprintf(ref->due_date, sizeof ref->due_date, "%s", optarg);
             break;
-        case O_LIN: case O_CVD:
+        case O_LIN: case O_CVD: case O_ITS:
             if (ref->kind != BG_REF_NONE || o->no_correction)
-                return cli_usage_error("ref", "give one of --linear, --cvd and --no-correction");
-            if ((rc = c == O_LIN ? parse_linear(optarg, ref) : parse_cvd(optarg, ref)) != BG_OK)
+                return cli_usage_error("ref", "give one of --linear, --cvd, --its90 and "
+                                       "--no-correction");
+            rc = c == O_LIN ? parse_linear(optarg, ref)
+               : c == O_CVD ? parse_cvd(optarg, ref)
+                            : parse_its90(optarg, ref);
+            if (rc != BG_OK)
                 return rc;
             break;
         case O_NOTE:
@@ -141,7 +178,8 @@ static int ref_parse(int argc, char **argv, struct ref_opts *o, struct cli_ctx *
             break;
         case O_NONE:
             if (ref->kind != BG_REF_NONE)
-                return cli_usage_error("ref", "give one of --linear, --cvd and --no-correction");
+                return cli_usage_error("ref", "give one of --linear, --cvd, --its90 and "
+                                       "--no-correction");
             o->no_correction = 1;
             break;
         case ':': return cli_usage_error("ref", "option '%s' needs a value", argv[optind - 1]);
@@ -202,19 +240,6 @@ static int ref_list(struct cli_ctx *ctx)
     return rc;
 }
 
-/* The values of a reference or version, for people. */
-static void print_values(const bg_ref *r)
-{
-    printf("certificate %s, due %s, correction %s", r->certificate, cli_or_dash(r->due_date),
-           bg_ref_kind_name(r->kind));
-    if (r->kind == BG_REF_LINEAR)
-        printf(" (y1 %.6g K, y2 %.6g, t0 %.4g degC)", r->lin_c0_k, r->lin_c1,
-               r->lin_t0_k - BG_ZERO_C_K);
-    else if (r->kind == BG_REF_CVD)
-        printf(" (R0 %.6g ohm, A %.6g, B %.6g, C %.6g)", r->cvd_r0_ohm, r->cvd_a, r->cvd_b,
-               r->cvd_c);
-}
-
 static int ref_set(struct ref_opts *o, const char *ident, struct cli_ctx *ctx)
 {
     bg_error err = BG_ERROR_INIT;
@@ -230,7 +255,7 @@ static int ref_set(struct ref_opts *o, const char *ident, struct cli_ctx *ctx)
         return cli_usage_error("ref", "set needs --cert (the new calibration certificate)");
     if (rv->ref.kind == BG_REF_NONE && !o->no_correction)
         return cli_usage_error("ref", "set needs the correction of the new certificate: "
-                               "--linear, --cvd or --no-correction");
+                               "--linear, --cvd, --its90 or --no-correction");
     if (!o->why || !*o->why)
         return cli_usage_error("ref", "set needs --why TEXT (the reason for the new version)");
     if (rv->ref.note[0])
@@ -260,7 +285,7 @@ static int ref_set(struct ref_opts *o, const char *ident, struct cli_ctx *ctx)
     } else {
         printf("added version %lld of reference %s, valid from %s: ", id, rv->ref.ident,
                rv->v.valid_from);
-        print_values(&rv->ref);
+        cli_ref_values_text(&rv->ref);
         printf("\n");
     }
     bg_store_close(st);
@@ -275,7 +300,7 @@ static int print_version(const bg_ref_version *rv, void *ctx)
         if (rv->v.id == 0)
             printf("reference %s\n", r->ident);
         printf("version %lld, valid from %s: ", rv->v.id, rv->v.valid_from);
-        print_values(r);
+        cli_ref_values_text(r);
         if (rv->v.id)
             printf("\n  recorded %s by %s: %s", rv->v.created_at, rv->v.by, rv->v.why);
         printf("\n");
@@ -284,19 +309,7 @@ static int print_version(const bg_ref_version *rv, void *ctx)
     json_obj(j, NULL);
     json_int(j, "version", rv->v.id);
     json_str(j, "valid_from", rv->v.valid_from);
-    json_str(j, "certificate", r->certificate);
-    json_str(j, "due_date", r->due_date[0] ? r->due_date : NULL);
-    json_str(j, "correction", bg_ref_kind_name(r->kind));
-    if (r->kind == BG_REF_LINEAR) {
-        json_num(j, "y1_k", r->lin_c0_k);
-        json_num(j, "y2", r->lin_c1);
-        json_num(j, "t0_k", r->lin_t0_k);
-    } else if (r->kind == BG_REF_CVD) {
-        json_num(j, "r0_ohm", r->cvd_r0_ohm);
-        json_num(j, "a", r->cvd_a);
-        json_num(j, "b", r->cvd_b);
-        json_num(j, "c", r->cvd_c);
-    }
+    cli_ref_values_json(j, r);
     json_str(j, "why", rv->v.id ? rv->v.why : NULL);
     json_str(j, "by", rv->v.id ? rv->v.by : NULL);
     json_str(j, "recorded_at", rv->v.created_at);

@@ -215,38 +215,73 @@ int cli_print_fit_line(const bg_fit_row *f, void *ctx)
     return 0;
 }
 
+void cli_ref_values_text(const bg_ref *r)
+{
+    printf("certificate %s, due %s, correction %s", r->certificate, cli_or_dash(r->due_date),
+           bg_ref_kind_name(r->kind));
+    if (r->kind == BG_REF_LINEAR) {
+        printf(" (y1 %.6g K, y2 %.6g, t0 %.4g degC)", r->lin_c0_k, r->lin_c1,
+               r->lin_t0_k - BG_ZERO_C_K);
+    } else if (r->kind == BG_REF_CVD) {
+        printf(" (R0 %.6g ohm, A %.6g, B %.6g, C %.6g)", r->cvd_r0_ohm, r->cvd_a, r->cvd_b,
+               r->cvd_c);
+    } else if (r->kind == BG_REF_ITS90) {
+        const bg_its90_dev *d = &r->its90;
+        double pts[4];
+        size_t n = bg_its90_range_points(d->range, pts);
+        const double v[4] = { d->a, d->b, d->c, d->d };
+        printf(" (sub-range %s, R(273.16 K) %.9g ohm", bg_its90_range_name(d->range, NULL, NULL),
+               r->its90_rtpw_ohm);
+        for (size_t i = 0; i < n; i++)
+            printf(", %c %.9g", "abcd"[i], v[i]);
+        if (d->range == BG_ITS90_TPW_AG)
+            printf(", W(Al) %.9g", d->w_al);
+        printf(")");
+    }
+}
+
+void cli_ref_values_json(json_out *j, const bg_ref *r)
+{
+    json_str(j, "certificate", r->certificate);
+    json_str(j, "due_date", r->due_date[0] ? r->due_date : NULL);
+    json_str(j, "correction", bg_ref_kind_name(r->kind));
+    if (r->kind == BG_REF_LINEAR) {
+        json_num(j, "y1_k", r->lin_c0_k);
+        json_num(j, "y2", r->lin_c1);
+        json_num(j, "t0_k", r->lin_t0_k);
+    } else if (r->kind == BG_REF_CVD) {
+        json_num(j, "r0_ohm", r->cvd_r0_ohm);
+        json_num(j, "a", r->cvd_a);
+        json_num(j, "b", r->cvd_b);
+        json_num(j, "c", r->cvd_c);
+    } else if (r->kind == BG_REF_ITS90) {
+        const bg_its90_dev *d = &r->its90;
+        double pts[4];
+        size_t n = bg_its90_range_points(d->range, pts);
+        const double v[4] = { d->a, d->b, d->c, d->d };
+        static const char *const names[4] = { "a", "b", "c", "d" };
+        json_str(j, "its90_range", bg_its90_range_name(d->range, NULL, NULL));
+        json_num(j, "rtpw_ohm", r->its90_rtpw_ohm);
+        for (size_t i = 0; i < n; i++)
+            json_num(j, names[i], v[i]);
+        if (d->range == BG_ITS90_TPW_AG)
+            json_num(j, "w_al", d->w_al);
+    }
+}
+
 int cli_print_ref(const bg_ref *r, void *ctx)
 {
     json_out *j = ctx;
-    static const char *const kinds[] = { "none", "linear", "cvd" };
     if (j) {
         json_obj(j, NULL);
         json_int(j, "id", r->id);
         json_str(j, "ident", r->ident);
-        json_str(j, "certificate", r->certificate);
-        json_str(j, "due_date", r->due_date[0] ? r->due_date : NULL);
-        json_str(j, "correction", kinds[r->kind]);
-        if (r->kind == BG_REF_LINEAR) {
-            json_num(j, "y1_k", r->lin_c0_k);
-            json_num(j, "y2", r->lin_c1);
-            json_num(j, "t0_k", r->lin_t0_k);
-        } else if (r->kind == BG_REF_CVD) {
-            json_num(j, "r0_ohm", r->cvd_r0_ohm);
-            json_num(j, "a", r->cvd_a);
-            json_num(j, "b", r->cvd_b);
-            json_num(j, "c", r->cvd_c);
-        }
+        cli_ref_values_json(j, r);
         json_obj_end(j);
         return 0;
     }
-    printf("%-16s certificate %s, due %s, correction %s", r->ident, r->certificate,
-           cli_or_dash(r->due_date), kinds[r->kind]);
-    if (r->kind == BG_REF_LINEAR)
-        printf(" (y1 %.6g K, y2 %.6g, t0 %.4g degC)", r->lin_c0_k, r->lin_c1,
-               r->lin_t0_k - BG_ZERO_C_K);
-    else if (r->kind == BG_REF_CVD)
-        printf(" (R0 %.6g ohm, A %.6g, B %.6g, C %.6g)", r->cvd_r0_ohm, r->cvd_a, r->cvd_b,
-               r->cvd_c);
+    printf("%-16s ", r->ident);
+    cli_ref_values_text(r);
     printf("\n");
     return 0;
 }

@@ -336,7 +336,7 @@ int bg_calibrate_file(const char *path, const bg_calib_request *rq, bg_calib_res
         return rc;
     if (rs.ref_ohms)
         rc = bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs the reference "
-                          "thermometer's Callendar-Van Dusen coefficients: import the file with "
+                          "thermometer's Callendar-Van Dusen or ITS-90 coefficients: import the file with "
                           "'bandgap import FILE --probe SERIAL --ref ID'", path);
     else if (!(pts = grow(NULL, rs.n, sizeof *pts)))
         rc = bg_error_set(err, BG_ENOMEM, "out of memory");

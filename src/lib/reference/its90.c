@@ -7,9 +7,11 @@
 ** same text) check the constants (tests/test_its90.c). */
 #include <math.h>
 #include <stddef.h>
+#include <string.h>
 #include <strings.h>
 
 #include "bandgap/reference.h"
+#include "bandgap/suggest.h"
 
 /* Table 4: A_i of (9a), B_i of (9b), C_i of (10a), D_i of (10b). */
 static const double its_a[13] = { -2.13534729, 3.18324720,  -1.80143597, 0.71727204, 0.50344027,
@@ -156,6 +158,13 @@ int bg_its90_range_parse(const char *name, bg_its90_range *range, bg_error *err)
             *range = (bg_its90_range)i;
             return BG_OK;
         }
+    const char *names[BG_ITS90_NRANGE], *near;
+    for (int i = 0; i < BG_ITS90_NRANGE; i++)
+        names[i] = ranges[i].name;
+    near = name ? bg_suggest(name, strlen(name), names, BG_ITS90_NRANGE) : NULL;
+    if (near)
+        return bg_error_set(err, BG_EINVAL, "unknown ITS-90 sub-range '%s' (did you mean '%s'?)",
+                            name, near);
     return bg_error_set(err, BG_EINVAL, "unknown ITS-90 sub-range '%s' (known: Ar-TPW, Hg-TPW, "
                         "Hg-Ga, TPW-Ga, TPW-In, TPW-Sn, TPW-Zn, TPW-Al, TPW-Ag)",
                         name ? name : "");

@@ -238,6 +238,12 @@ static void item_and_reference(FILE *f, const bg_calib_report *r)
             snprintf(buf, sizeof buf, "read as a platinum resistance, IEC 60751 "
                      "Callendar-Van Dusen: R0 %.9g \xce\xa9, A %.9e, B %.9e, C %.9e",
                      ref->cvd_r0_ohm, ref->cvd_a, ref->cvd_b, ref->cvd_c);
+        else if (ref->kind == BG_REF_ITS90)
+            snprintf(buf, sizeof buf, "read as a standard platinum resistance, ITS-90 "
+                     "(Preston-Thomas 1990) sub-range %s: R(273.16 K) %.9g \xce\xa9, "
+                     "a %.9e, b %.9e, c %.9e, d %.9e",
+                     bg_its90_range_name(ref->its90.range, NULL, NULL), ref->its90_rtpw_ohm,
+                     ref->its90.a, ref->its90.b, ref->its90.c, ref->its90.d);
         else
             snprintf(buf, sizeof buf, "none (readings used as given)");
         bgi_report_kv(f, "Correction applied on import", buf);

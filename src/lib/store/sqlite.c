@@ -636,6 +636,47 @@ static int sq_probe_each(bgi_conn *c, const char *lot_code, bg_probe_cb cb, void
 
 /* ---- reference thermometers ---- */
 
+/* The ITS-90 columns of a reference or reference version (db/009), bound from 'first' on:
+** R(273.16 K), sub-range, a, b, c, d, W(Al); NULL unless the correction is 'its90'. */
+void bgi_bind_its90(sqlite3_stmt *q, int first, const bg_ref *ref)
+{
+    for (int i = 0; i < BGI_ITS90_NCOLS; i++)
+        sqlite3_bind_null(q, first + i);
+    if (ref->kind != BG_REF_ITS90)
+        return;
+    const bg_its90_dev *d = &ref->its90;
+    sqlite3_bind_double(q, first, ref->its90_rtpw_ohm);
+    sqlite3_bind_text(q, first + 1, bg_its90_range_name(d->range, NULL, NULL), -1, SQLITE_STATIC);
+    sqlite3_bind_double(q, first + 2, d->a);
+    sqlite3_bind_double(q, first + 3, d->b);
+    sqlite3_bind_double(q, first + 4, d->c);
+    sqlite3_bind_double(q, first + 5, d->d);
+    if (d->range == BG_ITS90_TPW_AG)
+        sqlite3_bind_double(q, first + 6, d->w_al);
+}
+
+/* The correction named 'kind' in column 'kcol' and, for ITS-90, the columns from 'first'. */
+void bgi_ref_correction_row(sqlite3_stmt *q, int kcol, int first, bg_ref *r)
+{
+    char kind[16], range[16];
+    bgi_copy_text(kind, sizeof kind, q, kcol);
+    r->kind = strcmp(kind, "linear") == 0 ? BG_REF_LINEAR
+            : strcmp(kind, "cvd") == 0    ? BG_REF_CVD
+            : strcmp(kind, "its90") == 0  ? BG_REF_ITS90
+                                          : BG_REF_NONE;
+    if (r->kind != BG_REF_ITS90)
+        return;
+    r->its90_rtpw_ohm = sqlite3_column_double(q, first);
+    bgi_copy_text(range, sizeof range, q, first + 1);
+    if (bg_its90_range_parse(range, &r->its90.range, NULL) != BG_OK)
+        r->its90.range = BG_ITS90_NRANGE; /* refused by bg_ref_check where it is used */
+    r->its90.a = sqlite3_column_double(q, first + 2);
+    r->its90.b = sqlite3_column_double(q, first + 3);
+    r->its90.c = sqlite3_column_double(q, first + 4);
+    r->its90.d = sqlite3_column_double(q, first + 5);
+    r->its90.w_al = sqlite3_column_double(q, first + 6);
+}
+
 static int sq_ref_add(bgi_conn *c, const bg_ref *ref, const char *now, long long *id,
                       bg_error *err)
 {
@@ -644,7 +685,8 @@ static int sq_ref_add(bgi_conn *c, const bg_ref *ref, const char *now, long long
 
     rc = bgi_prepare(c, "INSERT INTO reference(ident, certificate, due_date, correction, "
                      "lin_c0_k, lin_c1, lin_t0_k, cvd_r0_ohm, cvd_a, cvd_b, cvd_c, note, "
-                     "created_at) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err);
+                     "created_at, " BGI_ITS90_COLS ") VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,"
+                     "?,?,?,?,?,?,?)", &q, err);
     if (rc == BG_OK) {
         sqlite3_bind_text(q, 1, ref->ident, -1, SQLITE_TRANSIENT);
         sqlite3_bind_text(q, 2, ref->certificate, -1, SQLITE_TRANSIENT);
@@ -664,6 +706,7 @@ static int sq_ref_add(bgi_conn *c, const bg_ref *ref, const char *now, long long
         }
         bgi_bind_text_or_null(q, 12, ref->note);
         sqlite3_bind_text(q, 13, now, -1, SQLITE_TRANSIENT);
+        bgi_bind_its90(q, 14, ref);
         int s = sqlite3_step(q);
         if (s == SQLITE_CONSTRAINT_UNIQUE)
             rc = bg_error_set(err, BG_EINVAL, "reference '%s' already exists", ref->ident);
@@ -677,19 +720,16 @@ static int sq_ref_add(bgi_conn *c, const bg_ref *ref, const char *now, long long
 }
 
 #define REF_COLS "id, ident, certificate, due_date, correction, lin_c0_k, lin_c1, lin_t0_k, " \
-                 "cvd_r0_ohm, cvd_a, cvd_b, cvd_c, note, created_at"
+                 "cvd_r0_ohm, cvd_a, cvd_b, cvd_c, note, created_at, " BGI_ITS90_COLS
 
 static void ref_row(sqlite3_stmt *q, bg_ref *r)
 {
-    char kind[16];
     memset(r, 0, sizeof *r);
     r->id = sqlite3_column_int64(q, 0);
     bgi_copy_text(r->ident, sizeof r->ident, q, 1);
     bgi_copy_text(r->certificate, sizeof r->certificate, q, 2);
     bgi_copy_text(r->due_date, sizeof r->due_date, q, 3);
-    bgi_copy_text(kind, sizeof kind, q, 4);
-    r->kind = strcmp(kind, "linear") == 0 ? BG_REF_LINEAR
-            : strcmp(kind, "cvd") == 0 ? BG_REF_CVD : BG_REF_NONE;
+    bgi_ref_correction_row(q, 4, 14, r);
     r->lin_c0_k = sqlite3_column_double(q, 5);
     r->lin_c1 = sqlite3_column_double(q, 6);
     r->lin_t0_k = sqlite3_column_double(q, 7);

@@ -56,6 +56,13 @@ int bgi_cached(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, bg_err
 int bgi_stmt(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, bg_error *err);
 void bgi_stmt_done(bgi_conn *c, int which, sqlite3_stmt *q);
 void bgi_copy_text(char *dst, size_t size, sqlite3_stmt *stmt, int col);
+
+/* The ITS-90 columns of 'reference' and 'reference_version' (db/009), in this order. */
+#define BGI_ITS90_COLS "its90_rtpw_ohm, its90_range, its90_a, its90_b, its90_c, its90_d, " \
+                       "its90_w_al"
+#define BGI_ITS90_NCOLS 7
+void bgi_bind_its90(sqlite3_stmt *q, int first, const bg_ref *ref);
+void bgi_ref_correction_row(sqlite3_stmt *q, int kcol, int first, bg_ref *r);
 void bgi_bind_text_or_null(sqlite3_stmt *stmt, int i, const char *s);
 
 /* The backend's functions shared between its files (the table is in sqlite.c). */

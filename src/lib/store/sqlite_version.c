@@ -13,8 +13,9 @@ int bgi_sqlite_ref_version_add(bgi_conn *c, long long ref_id, const bg_ref_versi
     sqlite3_stmt *q = NULL;
     int rc = bgi_prepare(c, "INSERT INTO reference_version(reference_id, valid_from, "
                          "certificate, due_date, correction, lin_c0_k, lin_c1, lin_t0_k, "
-                         "cvd_r0_ohm, cvd_a, cvd_b, cvd_c, why, by_whom, created_at) "
-                         "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err);
+                         "cvd_r0_ohm, cvd_a, cvd_b, cvd_c, why, by_whom, created_at, "
+                         BGI_ITS90_COLS ") VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+                         &q, err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, ref_id);
@@ -35,6 +36,7 @@ int bgi_sqlite_ref_version_add(bgi_conn *c, long long ref_id, const bg_ref_versi
     sqlite3_bind_text(q, 13, rv->v.why, -1, SQLITE_TRANSIENT);
     sqlite3_bind_text(q, 14, rv->v.by, -1, SQLITE_TRANSIENT);
     sqlite3_bind_text(q, 15, now, -1, SQLITE_TRANSIENT);
+    bgi_bind_its90(q, 16, ref);
     if (sqlite3_step(q) != SQLITE_DONE)
         rc = bgi_db_fail(c, err, "cannot add the reference version");
     else if (id)
@@ -45,16 +47,13 @@ int bgi_sqlite_ref_version_add(bgi_conn *c, long long ref_id, const bg_ref_versi
 
 static void ref_version_row(sqlite3_stmt *q, bg_ref_version *rv)
 {
-    char kind[16];
     bg_ref *r = &rv->ref;
     memset(rv, 0, sizeof *rv);
     rv->v.id = sqlite3_column_int64(q, 0);
     bgi_copy_text(rv->v.valid_from, sizeof rv->v.valid_from, q, 1);
     bgi_copy_text(r->certificate, sizeof r->certificate, q, 2);
     bgi_copy_text(r->due_date, sizeof r->due_date, q, 3);
-    bgi_copy_text(kind, sizeof kind, q, 4);
-    r->kind = strcmp(kind, "linear") == 0 ? BG_REF_LINEAR
-            : strcmp(kind, "cvd") == 0 ? BG_REF_CVD : BG_REF_NONE;
+    bgi_ref_correction_row(q, 4, 15, r);
     r->lin_c0_k = sqlite3_column_double(q, 5);
     r->lin_c1 = sqlite3_column_double(q, 6);
     r->lin_t0_k = sqlite3_column_double(q, 7);
@@ -74,7 +73,8 @@ int bgi_sqlite_ref_version_each(bgi_conn *c, long long ref_id, bg_ref_version_cb
     bg_ref_version rv;
     int rc = bgi_prepare(c, "SELECT id, valid_from, certificate, due_date, correction, "
                          "lin_c0_k, lin_c1, lin_t0_k, cvd_r0_ohm, cvd_a, cvd_b, cvd_c, why, "
-                         "by_whom, created_at FROM reference_version WHERE reference_id = ? "
+                         "by_whom, created_at, " BGI_ITS90_COLS " FROM reference_version "
+                         "WHERE reference_id = ? "
                          "ORDER BY id", &q, err), s;
     if (rc != BG_OK)
         return rc;

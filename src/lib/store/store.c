@@ -1082,11 +1082,12 @@ static int import_run(bg_store *st, struct import_src *s, const struct import_sc
         ref = w.found.ref;
         imp->ref_version = w.found.v.id;
     }
-    if (shape->ref_ohms && !(have_ref && ref.kind == BG_REF_CVD))
+    int read_in_ohm = have_ref && (ref.kind == BG_REF_CVD || ref.kind == BG_REF_ITS90);
+    if (shape->ref_ohms && !read_in_ohm)
         return bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs a reference "
-                            "thermometer with Callendar-Van Dusen coefficients (--ref)",
+                            "thermometer with Callendar-Van Dusen or ITS-90 coefficients (--ref)",
                             imp->src);
-    if (!shape->ref_ohms && have_ref && ref.kind == BG_REF_CVD)
+    if (!shape->ref_ohms && read_in_ohm)
         return bg_error_set(err, BG_EINVAL, "%s: reference '%s' is read as a platinum "
                             "resistance: the file needs a 'ref_ohms' column", imp->src,
                             ref.ident);
