@@ -16,6 +16,7 @@ static const char lut_usage[] =
     "                   [--resolution 0.1|0.01|0.001|qN|float] [--kelvin] [--format c|csv|json|codes]\n"
     "                   [--symbol PREFIX] [-o FILE] [--report FILE.html] [--timestamp]\n"
     "                   [--allow-extrapolation] [--oncurve-count]\n"
+    "                   [--target host|avr|cortex-m0|cortex-m4]\n"
     "A table that turns ADC codes into temperatures, its error measured over every code of\n"
     "the range.  Strategies: uniform (values every CODES codes, a power of two, read with\n"
     "integer interpolation; --max-error picks the largest step within DT); minimal (the\n"
@@ -68,7 +69,7 @@ static int parse_range(const char *s, double *lo, double *hi, bg_error *err)
 enum { O_FIT = 1, O_PROBE, O_FIXED, O_SIDE, O_PAR, O_SER, O_BITS, O_FS, O_CUR, O_VREF,
        O_OHMSIN, O_OPC, O_RANGE, O_STEP, O_MAXERR, O_RES, O_KELVIN, O_FORMAT, O_SYMBOL,
        O_OUT, O_EXTRA, O_JSON, O_BAT, O_FTOL, O_EXC, O_DISS, O_STRAT, O_REPORT, O_SUPPLY,
-       O_STAMP, O_COVK, O_ONCURVE };
+       O_STAMP, O_COVK, O_TARGET, O_ONCURVE };
 
 static const struct option lut_opts[] = {
     CLI_INLINE_OPTIONS,
@@ -93,6 +94,7 @@ static const struct option lut_opts[] = {
     { "report", required_argument, NULL, O_REPORT },
     { "timestamp", no_argument, NULL, O_STAMP },
     { "oncurve-count", no_argument, NULL, O_ONCURVE },
+    { "target", required_argument, NULL, O_TARGET },
     { "coverage-k", required_argument, NULL, O_COVK },
     { "json", no_argument, NULL, O_JSON },           { "help", no_argument, NULL, 'h' },
     { NULL, 0, NULL, 0 },
@@ -205,6 +207,10 @@ static int other_option(struct lut_args *a, int c, const char *arg)
     case O_STAMP: a->rq.spec.stamp = bg_time_format(cli_clock(), a->stamp, sizeof a->stamp); break;
     case O_KELVIN: a->rq.spec.kelvin = 1; break;
     case O_ONCURVE: a->rq.oncurve_count = 1; break;
+    case O_TARGET:
+        if (bg_lut_target_parse(arg, &a->rq.spec.target, &err) != BG_OK)
+            return cli_usage_error("lut", "--target: %s", err.msg);
+        break;
     case O_FORMAT: case O_JSON:
         if (c == O_JSON)
             arg = "json";

@@ -21,14 +21,22 @@ then
     echo "not ok firmware $name: bandgap lut failed"; sed 's/^/# /' "$d/lut.err"; exit 0
 fi
 vt=int; [ "$res" = float ] && vt=float
-for tg in $TARGETS; do
+case $extra in
+*"--target avr"*) targets=avr hooks="" ;;
+*"--target cortex-m0"*) targets=m0 hooks="" ;;
+*"--target cortex-m4"*) targets="m3 m4" hooks="" ;;
+*) targets=$TARGETS hooks="-include $HERE/avr_hooks.h" ;;
+esac
+for tg in $targets; do
     # float on the AVR: avr-libc's soft float is not IEEE round-to-nearest in every operation
     # (see docs/firmware-guide.md): host and Cortex-M only
     [ "$tg" = avr ] && [ "$vt" = float ] && continue
     o=$d/$tg
     case $tg in
     avr) cc="avr-gcc -mmcu=atmega328p"
-         flags="-Os -std=gnu99 -Wall -Wextra -Werror -include $HERE/avr_hooks.h" ;;
+         flags="-Os -std=gnu99 -Wall -Wextra -Werror $hooks"
+         # a table emitted for the AVR carries its own hooks: strict C99 there
+         [ -z "$hooks" ] && flags="-Os -std=c99 -Wall -Wextra -pedantic -Werror -Wconversion" ;;
     m0) cc="arm-none-eabi-gcc -mcpu=cortex-m0 -mthumb" ;;
     m3) cc="arm-none-eabi-gcc -mcpu=cortex-m3 -mthumb" ;;
     m4) cc="arm-none-eabi-gcc -mcpu=cortex-m4 -mthumb -mfloat-abi=hard -mfpu=fpv4-sp-d16" ;;

@@ -49,7 +49,8 @@ done
 [ $fail -eq 0 ] || exit 1
 # The timer the AVR cycle counts rest on: 1000 cycles of __builtin_avr_delay_cycles must read
 # as exactly 1000 more than two back-to-back reads (the first line of every AVR run).
-# The cases: NAME:STRATEGY:RESOLUTION:BOUND:EXTRA (the bound at least one LSB of the format)
+# The cases: NAME:STRATEGY:RESOLUTION:BOUND:EXTRA (the bound at least one LSB of the format);
+# a table emitted --target T runs on T's core only (cortex-m4 on the M3 and the M4).
 : > "$W/cases"
 for st in uniform minimal indexed; do
     for res in 0.1 0.01 0.001 q1 q2 q3 q4 q5 q6 q7 q8 q9 q10 q11 q12 q13 q14 q15 q16 float; do
@@ -58,6 +59,15 @@ for st in uniform minimal indexed; do
     done
     # the other side of the divider, in kelvin: a rising curve
     echo "$st-high-kelvin-q8:$st:q8:0.05C:--sensor-side=high --kelvin" >> "$W/cases"
+    # emitted for a target (--target): its own arithmetic, on its own core
+    for res in 0.1 0.01 0.001 q4 q8 q12 q16; do
+        case $res in q4) b=0.0625C ;; *) b=0.05C ;; esac
+        for tg in avr cortex-m0 cortex-m4; do
+            echo "$st-$res-for-$tg:$st:$res:$b:--target $tg" >> "$W/cases"
+        done
+    done
+    echo "$st-float-for-cortex-m4:$st:float:0.05C:--target cortex-m4" >> "$W/cases"
+    echo "$st-high-kelvin-q8-for-avr:$st:q8:0.05C:--sensor-side=high --kelvin --target avr" >> "$W/cases"
 done
 export BANDGAP W TARGETS
 xargs -d '\n' -P "${FW_JOBS:-2}" -n 1 sh "$HERE/one.sh" < "$W/cases" > "$W/results.log" 2>&1
