@@ -25,7 +25,8 @@ CMOCKA     = $(shell pkg-config --cflags --libs cmocka 2>/dev/null)
 CFLAGS_ALL = $(STD) $(WARN) $(OPT) -fvisibility=hidden -Iinclude -DBG_VERSION='"$(VERSION)"' \
              $(PKG_CFLAGS)
 DEBIAN_PKGS = libgsl-dev libsqlite3-dev nettle-dev libcmocka-dev pkg-config python3-numpy python3-scipy python3-mpmath \
-              mandoc sqlite3 clang libclang-rt-14-dev chromium chromium-driver libxml2-utils time
+              mandoc sqlite3 clang libclang-rt-14-dev chromium chromium-driver libxml2-utils time \
+              gcc-avr avr-libc simavr gcc-arm-none-eabi libnewlib-arm-none-eabi qemu-system-arm
 
 LIB_SRC = $(wildcard src/lib/*/*.c)
 LIB_INT = $(wildcard src/lib/*/*_int.h src/lib/*/*_priv.h)
@@ -55,9 +56,12 @@ deps:
 	@missing=""; \
 	for p in gsl sqlite3 nettle cmocka; do pkg-config --exists $$p 2>/dev/null || missing=yes; done; \
 	$(PYTHON) -c 'import numpy, scipy, mpmath' 2>/dev/null || missing=yes; \
-	for c in mandoc sqlite3 clang chromium chromedriver xmllint; do \
+	for c in mandoc sqlite3 clang chromium chromedriver xmllint avr-gcc simavr arm-none-eabi-gcc \
+	  qemu-system-arm; do \
 	  command -v $$c >/dev/null 2>&1 || missing=yes; done; \
 	[ -x /usr/bin/time ] || missing=yes; \
+	[ -f /usr/lib/avr/include/avr/pgmspace.h ] && [ -f /usr/lib/arm-none-eabi/newlib/libm.a ] || \
+	  missing=yes; \
 	if [ -n "$$missing" ]; then \
 	  if [ "$$(id -u)" = 0 ]; then SUDO=""; \
 	  elif command -v sudo >/dev/null 2>&1 && sudo -n true 2>/dev/null; then SUDO="sudo"; \

@@ -1,7 +1,8 @@
 #!/bin/sh
 # SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
 # Run the whole test suite against the build in $BUILD: unit tests (cmocka), CLI golden
-# tests, the HTML reports in Chromium, the numpy cross-check, the meta checks and the
+# tests, the HTML reports in Chromium, the numpy cross-check, the firmware tables on AVR and
+# Cortex-M simulators (tests/firmware), the meta checks and the
 # shape of the tree (tests/layout.py).  Ends with "N passed, N failed".
 BUILD=${BUILD:-build}
 PYTHON=${PYTHON:-/usr/bin/python3}
@@ -59,6 +60,9 @@ tally chain "$BUILD/chain.log" $?
 "$PYTHON" tests/its90_check.py "$BUILD/bandgap" "$hw" > "$BUILD/its90.log" 2>&1
 tally its90 "$BUILD/its90.log" $?
 rm -rf "$hw"
+# the emitted tables on an ATmega328P (simavr) and Cortex-M0/M3/M4 (QEMU), every code
+sh tests/firmware/run.sh "$BUILD/bandgap" "$BUILD/firmware" > "$BUILD/firmware.log" 2>&1
+tally firmware "$BUILD/firmware.log" $?
 "$PYTHON" tests/layout.py "$BUILD" > "$BUILD/layout.log" 2>&1
 tally layout "$BUILD/layout.log" $?
 "$PYTHON" tests/xcheck_numpy.py "$BUILD/bandgap"

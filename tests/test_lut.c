@@ -570,6 +570,58 @@ static void budget_by_hand(void **state)
     bg_lut_release(&t);
 }
 
+/* Tables for a target (lut --target): the names both ways; segments at 8 fractional bits
+** with every slope in int16_t, compiled here and checked code by code against the beta
+** equation computed here and against the flash they claim (the narrow slopes: 6 bytes a
+** segment beside the start); the AVR file reads its tables from flash with sign-keeping
+** reads (the firmware check in tests/firmware runs it on an ATmega328P). */
+static void targets(void **state)
+{
+    (void)state;
+    const char *names[] = { "host", "avr", "cortex-m0", "cortex-m4" };
+    for (int k = 0; k < 4; k++) {
+        bg_lut_target tg = BG_LUT_HOST;
+        assert_int_equal(bg_lut_target_parse(names[k], &tg, NULL), BG_OK);
+        assert_int_equal((int)tg, k);
+        assert_string_equal(bg_lut_target_name(tg), names[k]);
+    }
+    bg_lut_target bad;
+    bg_error err = BG_ERROR_INIT;
+    assert_int_equal(bg_lut_target_parse("pic16", &bad, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "avr"));
+    for (int k = 1; k < 4; k++)
+        for (int st = BG_LUT_MINIMAL; st <= BG_LUT_INDEXED; st++) {
+            bg_lut_spec s = spec_10k(0, BG_LUT_CENTI);
+            bg_lut t = BG_LUT_INIT, h = BG_LUT_INIT;
+            s.strategy = (bg_lut_strategy)st, s.max_err_k = 0.05, s.frac_bits = -1;
+            assert_int_equal(bg_lut_build(&s, &h, NULL), BG_OK);
+            s.target = (bg_lut_target)k;
+            assert_int_equal(bg_lut_build(&s, &t, NULL), BG_OK);
+            assert_int_equal(h.narrow, 0);
+            assert_int_equal(t.narrow, 1);
+            assert_int_equal(t.frac, 8);
+            for (size_t i = 0; i < t.n; i++)
+                assert_true(t.sm[i] >= -32768 && t.sm[i] <= 32767);
+            assert_true(t.max_err_k <= 0.05 + 1e-12);
+            assert_true(t.bytes < h.bytes);
+            if (k != BG_LUT_AVR) {
+                compile_and_compare(&t, &s);
+            } else {
+                char *buf = NULL;
+                size_t len = 0;
+                FILE *f = open_memstream(&buf, &len);
+                assert_int_equal(bg_lut_emit_c(&t, &s, "ntc", "test", f, NULL), BG_OK);
+                fclose(f);
+                assert_non_null(strstr(buf, "#include <avr/pgmspace.h>"));
+                assert_non_null(strstr(buf, "#define NTC_ATTR PROGMEM"));
+                assert_non_null(strstr(buf, "#define NTC_READ_S16(p) ((int16_t)pgm_read_word(p))"));
+                assert_non_null(strstr(buf, "static const int16_t ntc_slope["));
+                free(buf);
+            }
+            bg_lut_release(&t), bg_lut_release(&h);
+        }
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -586,6 +638,7 @@ int main(void)
         cmocka_unit_test(float_segments_keep_the_bound),
         cmocka_unit_test(bad_requests),
         cmocka_unit_test(budget_by_hand),
+        cmocka_unit_test(targets),
     };
     return cmocka_run_group_tests_name("lut", tests, NULL, NULL);
 }

@@ -35,6 +35,21 @@ typedef enum bg_lut_strategy {
     BG_LUT_INDEXED
 } bg_lut_strategy;
 
+/* What the emitted C is written for (lut_emit.c, lut_target.c):
+**  - host: portable C99, program-memory hooks left to the user;
+**  - avr: 8-bit AVR (avr-gcc, avr-libc): tables in flash (PROGMEM) read with pgm_read_* that
+**    keep the sign, 16-bit arithmetic where the values allow, segment slopes in int16_t at 8
+**    fractional bits where they fit (a 16 x 16 multiply and a byte move instead of a 32-bit
+**    multiply and shift);
+**  - cortex-m0, cortex-m4: 32-bit C with the same narrow slopes where they fit (fewer bytes;
+**    both cores have a single-instruction 32 x 32 -> 32 multiply, so the arithmetic stays). */
+typedef enum bg_lut_target {
+    BG_LUT_HOST = 0,
+    BG_LUT_AVR,
+    BG_LUT_CORTEX_M0,
+    BG_LUT_CORTEX_M4
+} bg_lut_target;
+
 typedef struct bg_lut_spec {
     bg_circuit circuit;
     bg_model model;
@@ -52,6 +67,7 @@ typedef struct bg_lut_spec {
                              ** with the square of the codes) */
     const char *source;      /* where the model came from, for the provenance; NULL: inline */
     const char *stamp;       /* a time for the provenance; NULL: none (reproducible output) */
+    bg_lut_target target;    /* what the emitted C is for (0: host, portable) */
 } bg_lut_spec;
 
 enum { BG_LUT_ONCURVE_AUTO = -1, BG_LUT_ONCURVE_AUTO_CODES = 16384 };
@@ -75,6 +91,8 @@ typedef struct bg_lut {
     float *syf, *smf;
     unsigned frac;
     int32_t yoff;
+    int narrow;              /* 1: every slope fits int16_t (built for a target, frac 8) and
+                             ** the emitted slopes are int16_t */
     /* indexed: idx[(code - code_lo) >> ishift] is the segment of the bucket's first code;
     ** at most 'icmp' (1 or 2) comparisons with the next starts finish the lookup */
     uint16_t *idx;
@@ -114,6 +132,9 @@ BG_API int bg_lut_build_smallest(const bg_lut_spec *spec, bg_lut *out, size_t by
                                  bg_error *err);
 
 BG_API const char *bg_lut_strategy_name(bg_lut_strategy s);
+/* "host", "avr", "cortex-m0", "cortex-m4" and back (BG_EINVAL "say ..." otherwise). */
+BG_API const char *bg_lut_target_name(bg_lut_target t);
+BG_API int bg_lut_target_parse(const char *s, bg_lut_target *out, bg_error *err);
 /* The strategy named 's' ("uniform", "minimal", "indexed"): BG_EINVAL "say ..." otherwise. */
 BG_API int bg_lut_strategy_parse(const char *s, bg_lut_strategy *out, bg_error *err);
 /* A value format's name ("0.1", "0.01", "0.001", "q12", "float") into 'buf'; returns 'buf'. */

@@ -226,6 +226,27 @@ int bgi_lut_make_bands(const bg_lut *t, const double *tk, double cpk, double off
     return BG_OK;
 }
 
+/* Segments for a target other than the host: 8 fractional bits first, so that the emitted
+** slopes are int16_t and the shift a byte move; kept when every slope fits 16 bits (and the
+** codes 16 bits), otherwise the automatic bits as for the host. */
+static int target_segments(const bg_lut_spec *s, bg_lut *out, const bgi_band *b, bg_error *err)
+{
+    out->narrow = 0;
+    if (s->target != BG_LUT_HOST && s->frac_bits < 0 && out->code_hi + 1 <= 65535 &&
+        bgi_lut_segments(out, b, 8, NULL) == BG_OK) {
+        int fits = 1;
+        for (size_t i = 0; i < out->n; i++)
+            fits = fits && out->sm[i] >= -32768 && out->sm[i] <= 32767;
+        if (fits) {
+            out->narrow = 1;
+            return BG_OK;
+        }
+    }
+    free(out->sx), free(out->sy), free(out->sm);
+    out->sx = NULL, out->sy = NULL, out->sm = NULL, out->n = 0;
+    return bgi_lut_segments(out, b, s->frac_bits, err);
+}
+
 static int build_segments(const bg_lut_spec *s, const double *tk, bg_lut *out, bg_error *err)
 {
     size_t nc = (size_t)(out->code_hi - out->code_lo + 1);
@@ -265,7 +286,7 @@ static int build_segments(const bg_lut_spec *s, const double *tk, bg_lut *out, b
     } else {
         rc = bgi_lut_make_bands(out, tk, out->counts_per_k, out->offset_k, s->max_err_k, b, err);
         if (rc == BG_OK)
-            rc = bgi_lut_segments(out, b, s->frac_bits, err);
+            rc = target_segments(s, out, b, err);
         /* the count's time grows with the square of the codes: by default only on small
         ** ranges, and the result says when it was left out */
         int count = s->oncurve_min > 0 ||
@@ -282,7 +303,7 @@ static int build_segments(const bg_lut_spec *s, const double *tk, bg_lut *out, b
     if (rc != BG_OK)
         return rc;
     size_t xb = out->code_hi + 1 <= 65535 ? 2u : 4u;
-    out->bytes = out->n * (xb + 8u) + xb;
+    out->bytes = out->n * (xb + (out->narrow ? 6u : 8u)) + xb;
     if (s->strategy == BG_LUT_INDEXED) {
         if (out->n > 65535)
             return bg_error_set(err, BG_EINVAL, "%zu segments: too many to index", out->n);

@@ -4,6 +4,7 @@
 ** 32-bit arithmetic through int32_t/uint32_t (safe with a 16-bit int), right shifts of
 ** unsigned values only, and hooks to place the tables in program memory. */
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "bandgap/lut.h"
@@ -114,14 +115,30 @@ static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FI
     if (t->format == BG_LUT_FLOAT)
         fprintf(f, " * Float arithmetic one operation at a time: on targets with a fused\n"
                    " * multiply-add, compile with -ffp-contract=off to get these exact values.\n");
-    fprintf(f, " */\n#include <stdint.h>\n\n");
-    fprintf(f, "#ifndef %s_ATTR\n#define %s_ATTR /* e.g. PROGMEM on AVR */\n#endif\n", up, up);
+    if (s->target != BG_LUT_HOST)
+        fprintf(f, " * Written for %s%s.\n", bg_lut_target_name(s->target),
+                s->target == BG_LUT_AVR ? ": tables in program memory, read with pgm_read_*"
+                                          " (avr-libc)" : "");
+    fprintf(f, " */\n#include <stdint.h>\n%s\n", s->target == BG_LUT_AVR ?
+            "#include <avr/pgmspace.h>\n" : "");
+    if (s->target == BG_LUT_AVR)
+        fprintf(f, "#ifndef %s_ATTR\n#define %s_ATTR PROGMEM\n#endif\n", up, up);
+    else
+        fprintf(f, "#ifndef %s_ATTR\n#define %s_ATTR /* e.g. PROGMEM on AVR */\n#endif\n", up,
+                up);
 }
 
-static void hook(FILE *f, const char *up, const char *name, const char *avr)
+/* A read hook: (*(p)) with the AVR reading named in a comment, or on the AVR that reading
+** with the cast that keeps the entry's type ('cast', "" for none). */
+static void hook(FILE *f, const bg_lut_spec *s, const char *up, const char *name,
+                 const char *avr, const char *cast)
 {
-    fprintf(f, "#ifndef %s_%s\n#define %s_%s(p) (*(p)) /* e.g. %s(p) on AVR */\n#endif\n", up,
-            name, up, name, avr);
+    if (s->target == BG_LUT_AVR)
+        fprintf(f, "#ifndef %s_%s\n#define %s_%s(p) (%s%s(p))\n#endif\n", up, name, up, name,
+                cast, avr);
+    else
+        fprintf(f, "#ifndef %s_%s\n#define %s_%s(p) (*(p)) /* e.g. %s%s(p) on AVR */\n#endif\n",
+                up, name, up, name, cast, avr);
 }
 
 static void sentinels(const bg_lut *t, const char *up, FILE *f)
@@ -152,12 +169,47 @@ static void longs(FILE *f, const char *decl, size_t n, const long *v, const int3
     fprintf(f, "};\n");
 }
 
+/* The uniform lookup's body for the AVR when every step between breakpoints times the
+** largest fraction fits 16 bits: 16-bit arithmetic only (int is 16 bits there), the same
+** values as the 32-bit body.  0 (nothing written) when it does not fit. */
+static int uniform_body_avr(const bg_lut *t, const char *sym, const char *up, FILE *f)
+{
+    long maxd = 0, fmax = (1L << t->shift) - 1;
+    if (t->format == BG_LUT_FLOAT || t->wide || t->shift == 0 || t->code_hi > 65535)
+        return 0;
+    for (size_t i = 0; i + 1 < t->n; i++) {
+        long d = (long)t->y[i + 1] - (long)t->y[i];
+        maxd = labs(d) > maxd ? labs(d) : maxd;
+    }
+    if (maxd * fmax + (1L << (t->shift - 1)) > 32767)
+        return 0;
+    fprintf(f, "    uint16_t off, i;\n    int16_t y0, d, p, q;\n");
+    fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_CODE_BELOW_RANGE;\n", up, up);
+    fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_CODE_ABOVE_RANGE;\n", up, up);
+    fprintf(f, "    off = (uint16_t)((uint16_t)code - (uint16_t)%s_CODE_LO);\n", up);
+    fprintf(f, "    i = (uint16_t)(off >> %s_SHIFT);\n", up);
+    fprintf(f, "    y0 = %s_READ(&%s_table[i]);\n", up, sym);
+    fprintf(f, "    off &= (uint16_t)((1u << %s_SHIFT) - 1u);\n", up);
+    fprintf(f, "    if (off == 0u)\n        return y0;\n");
+    fprintf(f, "    /* |d| <= %ld and the fraction below 2^%u: the product fits 16 bits */\n",
+            maxd, t->shift);
+    fprintf(f, "    d = (int16_t)(%s_READ(&%s_table[i + 1u]) - y0);\n", up, sym);
+    fprintf(f, "    p = (int16_t)(d * (int16_t)off);\n");
+    fprintf(f, "    /* round half away from zero; shift only non-negative values */\n"
+               "    if (p >= 0)\n        q = (int16_t)(((uint16_t)p + (1u << (%s_SHIFT - 1))) >> "
+               "%s_SHIFT);\n    else\n        q = (int16_t)-(int16_t)(((uint16_t)-p + (1u << "
+               "(%s_SHIFT - 1))) >> %s_SHIFT);\n", up, up, up, up);
+    fprintf(f, "    return (int16_t)(y0 + q); /* between two entries: fits 16 bits */\n}\n");
+    return 1;
+}
+
 static void emit_uniform(const bg_lut *t, const bg_lut_spec *s, const char *sym, const char *up,
                          FILE *f)
 {
     int flt = t->format == BG_LUT_FLOAT;
     const char *ty = flt ? "float" : t->wide ? "int32_t" : "int16_t";
-    hook(f, up, "READ", flt ? "pgm_read_float" : t->wide ? "pgm_read_dword" : "pgm_read_word");
+    hook(f, s, up, "READ", flt ? "pgm_read_float" : t->wide ? "pgm_read_dword" : "pgm_read_word",
+         flt ? "" : t->wide ? "(int32_t)" : "(int16_t)");
     fprintf(f, "\n#define %s_CODE_LO %ldL\n#define %s_CODE_HI %ldL\n#define %s_SHIFT %u\n", up,
             t->code_lo, up, t->code_hi, up, t->shift);
     if (!flt) {
@@ -181,6 +233,8 @@ static void emit_uniform(const bg_lut *t, const bg_lut_spec *s, const char *sym,
             flt ? "" : "in counts ", up, up);
     fprintf(f, "%s %s_lookup(uint32_t code);\n", flt ? "float" : "int32_t", sym);
     fprintf(f, "%s %s_lookup(uint32_t code)\n{\n", flt ? "float" : "int32_t", sym);
+    if (s->target == BG_LUT_AVR && uniform_body_avr(t, sym, up, f))
+        return;
     if (flt)
         fprintf(f, "    uint32_t off, i, f;\n    float y0, d, w, p;\n");
     else
@@ -210,57 +264,10 @@ static void emit_uniform(const bg_lut *t, const bg_lut_spec *s, const char *sym,
     fprintf(f, "    return y0 + q;\n}\n");
 }
 
-static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym,
-                          const char *up, FILE *f)
+/* The lookup's body, 32-bit arithmetic (any target). */
+static void segment_body(const bg_lut *t, const char *sym, const char *up, FILE *f)
 {
-    int flt = t->format == BG_LUT_FLOAT, wide_x = t->code_hi + 1 > 65535;
-    int idx8 = t->n <= 256;
-    char decl[160], vf[64];
-    const char *xt = wide_x ? "uint32_t" : "uint16_t";
-    hook(f, up, "READ_CODE", wide_x ? "pgm_read_dword" : "pgm_read_word");
-    hook(f, up, flt ? "READ_F32" : "READ_S32", flt ? "pgm_read_float" : "pgm_read_dword");
-    if (t->strategy == BG_LUT_INDEXED)
-        hook(f, up, "READ_INDEX", idx8 ? "pgm_read_byte" : "pgm_read_word");
-    fprintf(f, "\n#define %s_CODE_LO %ldL\n#define %s_CODE_HI %ldL\n#define %s_SEGMENTS %zuu\n",
-            up, t->code_lo, up, t->code_hi, up, t->n);
-    value_format(s, vf, sizeof vf);
-    if (!flt)
-        fprintf(f, "#define %s_COUNTS_PER_DEGREE %.0f /* %s */\n#define %s_FRAC %u\n"
-                   "#define %s_VALUE_OFFSET %ldL\n", up, t->counts_per_k, vf, up, t->frac, up,
-                (long)t->yoff);
-    if (t->strategy == BG_LUT_INDEXED)
-        fprintf(f, "#define %s_INDEX_SHIFT %u\n", up, t->ishift);
-    sentinels(t, up, f);
-    fprintf(f, "/* the first code of each segment, then %s_CODE_HI + 1 */\n", up);
-    snprintf(decl, sizeof decl, "static const %s %s_start[%zu] %s_ATTR", xt, sym, t->n + 1, up);
-    longs(f, decl, t->n + 1, t->sx, NULL, NULL, NULL);
-    if (flt) {
-        fprintf(f, "/* the value at the segment's first code, and per code after it */\n");
-        snprintf(decl, sizeof decl, "static const float %s_base[%zu] %s_ATTR", sym, t->n, up);
-        longs(f, decl, t->n, NULL, NULL, t->syf, NULL);
-        snprintf(decl, sizeof decl, "static const float %s_slope[%zu] %s_ATTR", sym, t->n, up);
-        longs(f, decl, t->n, NULL, NULL, t->smf, NULL);
-    } else {
-        fprintf(f, "/* at the segment's first code, and per code after it: 2^-%u counts above "
-                   "%s_VALUE_OFFSET */\n", t->frac, up);
-        snprintf(decl, sizeof decl, "static const int32_t %s_base[%zu] %s_ATTR", sym, t->n, up);
-        longs(f, decl, t->n, NULL, t->sy, NULL, NULL);
-        snprintf(decl, sizeof decl, "static const int32_t %s_slope[%zu] %s_ATTR", sym, t->n, up);
-        longs(f, decl, t->n, NULL, t->sm, NULL, NULL);
-    }
-    if (t->strategy == BG_LUT_INDEXED) {
-        fprintf(f, "/* the segment of code %s_CODE_LO + k 2^%s_INDEX_SHIFT; at most %s more\n"
-                   " * segment%s inside each such bucket */\n", up, up,
-                t->icmp > 1 ? "two" : "one", t->icmp > 1 ? "s start" : " starts");
-        snprintf(decl, sizeof decl, "static const %s %s_index[%zu] %s_ATTR",
-                 idx8 ? "uint8_t" : "uint16_t", sym, t->nidx, up);
-        longs(f, decl, t->nidx, NULL, NULL, NULL, t->idx);
-    }
-    fprintf(f, "\n/* Temperature %sfor an ADC code, or %s_CODE_BELOW_RANGE /\n"
-               " * %s_CODE_ABOVE_RANGE when the code is outside the range. */\n",
-            flt ? "" : "in counts ", up, up);
-    fprintf(f, "%s %s_lookup(uint32_t code);\n", flt ? "float" : "int32_t", sym);
-    fprintf(f, "%s %s_lookup(uint32_t code)\n{\n", flt ? "float" : "int32_t", sym);
+    int flt = t->format == BG_LUT_FLOAT;
     if (t->strategy == BG_LUT_MINIMAL)
         fprintf(f, "    uint32_t i = 0u, hi = %s_SEGMENTS - 1u, mid;\n", up);
     else
@@ -288,10 +295,119 @@ static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym
                    "    return %s_READ_F32(&%s_base[i]) + p;\n}\n", up, sym, up, sym, up, sym);
     else
         fprintf(f, "    /* in 0 .. 2^30 by construction: shift a non-negative value */\n"
-                   "    v = %s_READ_S32(&%s_base[i]) + %s_READ_S32(&%s_slope[i]) *\n"
+                   "    v = %s_READ_S32(&%s_base[i]) + (int32_t)%s_READ_S%s(&%s_slope[i]) *\n"
                    "        (int32_t)(code - (uint32_t)%s_READ_CODE(&%s_start[i]));\n"
                    "    return %s_VALUE_OFFSET + (int32_t)((uint32_t)v >> %s_FRAC);\n}\n",
-                up, sym, up, sym, up, sym, up, up);
+                up, sym, up, t->narrow ? "16" : "32", sym, up, sym, up, up);
+}
+
+/* The lookup's body for the AVR (16-bit int): the code in 16 bits once it is inside the
+** range, the segment number in 8 bits when there are fewer than 256, and a 16 x 16 -> 32
+** multiply when the slopes are narrow.  The same values as segment_body at every code. */
+static void segment_body_avr(const bg_lut *t, const char *sym, const char *up, FILE *f)
+{
+    const char *it = t->n <= 255 ? "uint8_t" : "uint16_t";
+    if (t->strategy == BG_LUT_MINIMAL)
+        fprintf(f, "    %s i = 0u, hi = %s_SEGMENTS - 1u, mid;\n", it, up);
+    else
+        fprintf(f, "    %s i;\n", it);
+    fprintf(f, "    uint16_t c;\n    uint32_t v;\n");
+    fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_CODE_BELOW_RANGE;\n", up, up);
+    fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_CODE_ABOVE_RANGE;\n", up, up);
+    fprintf(f, "    c = (uint16_t)code;\n");
+    if (t->strategy == BG_LUT_MINIMAL)
+        fprintf(f, "    while (i < hi) { /* the last segment starting at or below code */\n"
+                   "        mid = (%s)(((unsigned)i + (unsigned)hi + 1u) >> 1);\n"
+                   "        if (%s_READ_CODE(&%s_start[mid]) <= c)\n"
+                   "            i = mid;\n        else\n            hi = (%s)((unsigned)mid - 1u);\n    }\n",
+                it, up, sym, it);
+    else {
+        fprintf(f, "    i = (%s)%s_READ_INDEX(&%s_index[(uint16_t)(c - (uint16_t)%s_CODE_LO) >> "
+                   "%s_INDEX_SHIFT]);\n", it, up, sym, up, up);
+        for (unsigned k = 0; k < t->icmp; k++)
+            fprintf(f, "    if (c >= %s_READ_CODE(&%s_start[i + 1u]))\n        i++;\n", up, sym);
+    }
+    fprintf(f, "    /* in 0 .. 2^30 by construction: the sum is taken modulo 2^32 */\n"
+               "    v = (uint32_t)%s_READ_S32(&%s_base[i]) + (uint32_t)(", up, sym);
+    if (t->narrow)
+        fprintf(f, "(int32_t)%s_READ_S16(&%s_slope[i]) *\n"
+                   "        (int32_t)(uint16_t)(c - %s_READ_CODE(&%s_start[i])));\n", up, sym, up, sym);
+    else
+        fprintf(f, "%s_READ_S32(&%s_slope[i]) *\n"
+                   "        (int32_t)(uint16_t)(c - %s_READ_CODE(&%s_start[i])));\n", up, sym, up, sym);
+    /* every value in 16 bits: the offset and the shifted sum added in 16 bits */
+    long long top = 0;
+    for (size_t i = 0; i < t->n; i++) {
+        long long last = (long long)t->sy[i] + (long long)t->sm[i] * (t->sx[i + 1] - 1 - t->sx[i]);
+        top = (t->sy[i] > top ? t->sy[i] : top), top = last > top ? last : top;
+    }
+    top >>= t->frac;
+    if (t->yoff >= -32768 && top <= 32767 && t->yoff + top <= 32767)
+        fprintf(f, "    return (int16_t)((int16_t)%s_VALUE_OFFSET + (int16_t)(v >> %s_FRAC));\n}\n",
+                up, up);
+    else
+        fprintf(f, "    return %s_VALUE_OFFSET + (int32_t)(v >> %s_FRAC);\n}\n", up, up);
+}
+
+static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym,
+                          const char *up, FILE *f)
+{
+    int flt = t->format == BG_LUT_FLOAT, wide_x = t->code_hi + 1 > 65535;
+    int idx8 = t->n <= 256;
+    char decl[160], vf[64];
+    const char *xt = wide_x ? "uint32_t" : "uint16_t";
+    hook(f, s, up, "READ_CODE", wide_x ? "pgm_read_dword" : "pgm_read_word", "");
+    hook(f, s, up, flt ? "READ_F32" : "READ_S32", flt ? "pgm_read_float" : "pgm_read_dword",
+         flt ? "" : "(int32_t)");
+    if (t->narrow)
+        hook(f, s, up, "READ_S16", "pgm_read_word", "(int16_t)");
+    if (t->strategy == BG_LUT_INDEXED)
+        hook(f, s, up, "READ_INDEX", idx8 ? "pgm_read_byte" : "pgm_read_word", "");
+    fprintf(f, "\n#define %s_CODE_LO %ldL\n#define %s_CODE_HI %ldL\n#define %s_SEGMENTS %zuu\n",
+            up, t->code_lo, up, t->code_hi, up, t->n);
+    value_format(s, vf, sizeof vf);
+    if (!flt)
+        fprintf(f, "#define %s_COUNTS_PER_DEGREE %.0f /* %s */\n#define %s_FRAC %u\n"
+                   "#define %s_VALUE_OFFSET %ldL\n", up, t->counts_per_k, vf, up, t->frac, up,
+                (long)t->yoff);
+    if (t->strategy == BG_LUT_INDEXED)
+        fprintf(f, "#define %s_INDEX_SHIFT %u\n", up, t->ishift);
+    sentinels(t, up, f);
+    fprintf(f, "/* the first code of each segment, then %s_CODE_HI + 1 */\n", up);
+    snprintf(decl, sizeof decl, "static const %s %s_start[%zu] %s_ATTR", xt, sym, t->n + 1, up);
+    longs(f, decl, t->n + 1, t->sx, NULL, NULL, NULL);
+    if (flt) {
+        fprintf(f, "/* the value at the segment's first code, and per code after it */\n");
+        snprintf(decl, sizeof decl, "static const float %s_base[%zu] %s_ATTR", sym, t->n, up);
+        longs(f, decl, t->n, NULL, NULL, t->syf, NULL);
+        snprintf(decl, sizeof decl, "static const float %s_slope[%zu] %s_ATTR", sym, t->n, up);
+        longs(f, decl, t->n, NULL, NULL, t->smf, NULL);
+    } else {
+        fprintf(f, "/* at the segment's first code, and per code after it: 2^-%u counts above "
+                   "%s_VALUE_OFFSET */\n", t->frac, up);
+        snprintf(decl, sizeof decl, "static const int32_t %s_base[%zu] %s_ATTR", sym, t->n, up);
+        longs(f, decl, t->n, NULL, t->sy, NULL, NULL);
+        snprintf(decl, sizeof decl, "static const %s %s_slope[%zu] %s_ATTR",
+                 t->narrow ? "int16_t" : "int32_t", sym, t->n, up);
+        longs(f, decl, t->n, NULL, t->sm, NULL, NULL);
+    }
+    if (t->strategy == BG_LUT_INDEXED) {
+        fprintf(f, "/* the segment of code %s_CODE_LO + k 2^%s_INDEX_SHIFT; at most %s more\n"
+                   " * segment%s inside each such bucket */\n", up, up,
+                t->icmp > 1 ? "two" : "one", t->icmp > 1 ? "s start" : " starts");
+        snprintf(decl, sizeof decl, "static const %s %s_index[%zu] %s_ATTR",
+                 idx8 ? "uint8_t" : "uint16_t", sym, t->nidx, up);
+        longs(f, decl, t->nidx, NULL, NULL, NULL, t->idx);
+    }
+    fprintf(f, "\n/* Temperature %sfor an ADC code, or %s_CODE_BELOW_RANGE /\n"
+               " * %s_CODE_ABOVE_RANGE when the code is outside the range. */\n",
+            flt ? "" : "in counts ", up, up);
+    fprintf(f, "%s %s_lookup(uint32_t code);\n", flt ? "float" : "int32_t", sym);
+    fprintf(f, "%s %s_lookup(uint32_t code)\n{\n", flt ? "float" : "int32_t", sym);
+    if (s->target == BG_LUT_AVR && !flt && !wide_x)
+        segment_body_avr(t, sym, up, f);
+    else
+        segment_body(t, sym, up, f);
 }
 
 int bg_lut_emit_c(const bg_lut *t, const bg_lut_spec *s, const char *sym, const char *version,

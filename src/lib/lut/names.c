@@ -19,6 +19,23 @@ int bg_lut_strategy_parse(const char *s, bg_lut_strategy *out, bg_error *err)
     return bg_error_set(err, BG_EINVAL, "say uniform, minimal or indexed");
 }
 
+static const char *const target_names[] = { "host", "avr", "cortex-m0", "cortex-m4" };
+
+const char *bg_lut_target_name(bg_lut_target t)
+{
+    return (unsigned)t < sizeof target_names / sizeof target_names[0] ? target_names[t] : "";
+}
+
+int bg_lut_target_parse(const char *s, bg_lut_target *out, bg_error *err)
+{
+    for (size_t i = 0; s && i < sizeof target_names / sizeof target_names[0]; i++)
+        if (strcmp(s, target_names[i]) == 0) {
+            *out = (bg_lut_target)i;
+            return BG_OK;
+        }
+    return bg_error_set(err, BG_EINVAL, "say host, avr, cortex-m0 or cortex-m4");
+}
+
 static const struct {
     bg_lut_format format;
     const char *name;

@@ -1,0 +1,103 @@
+#!/bin/sh
+# SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
+# make bench, firmware part: what a table costs on the targets of tests/firmware/run.sh, beside
+# Steinhart-Hart with the C library's logf (sh_logf.c) on the same target.  Counts, not times:
+#   avr: cycles per call on an ATmega328P under simavr, read from Timer1 (prescaler 1) around
+#        the call, less two back-to-back reads (run.sh checks the timer reads 1000 cycles of
+#        delay as exactly 1000); mean and largest over the codes inside the range;
+#   m0, m3, m4: instructions per call under QEMU, one instruction per block (-singlestep) with
+#        every executed block logged (-d exec,nochain): those outside main between two marks;
+#   flash and RAM: the harness image with the table less the same image with a lookup that
+#        does nothing (stub.c), from the cross toolchain's size -A (.text, .data, .rodata;
+#        .data and .bss for RAM), so the table's data, its code and the helpers it pulls in;
+#        the lookup's own stack frame from -fstack-usage.
+# Table: 10k NTC, B 3950 K, 10k low-side divider, 12 bits, -40 .. 125 degC, within 0.05 K
+# (invented scenario).  Compiler flags: -Os.
+# Usage: cost.sh BANDGAP WORKDIR [TARGET-OPTION...]  (e.g. --target avr, once that exists)
+BANDGAP=$(cd "$(dirname "$1")" && pwd)/$(basename "$1")
+mkdir -p "$2" && W=$(cd "$2" && pwd) || exit 73
+HERE=$(cd "$(dirname "$0")" && pwd)
+shift 2
+EXTRA="$*"
+PY=${PYTHON:-/usr/bin/python3}
+set -e
+rm -f "$W"/*
+cc_of() {
+    case $1 in
+    avr) echo "avr-gcc -mmcu=atmega328p" ;;
+    m0) echo "arm-none-eabi-gcc -mcpu=cortex-m0 -mthumb" ;;
+    m3) echo "arm-none-eabi-gcc -mcpu=cortex-m3 -mthumb" ;;
+    m4) echo "arm-none-eabi-gcc -mcpu=cortex-m4 -mthumb -mfloat-abi=hard -mfpu=fpv4-sp-d16" ;;
+    esac
+}
+machine() { case $1 in m0) echo microbit ;; m3) echo mps2-an385 ;; m4) echo mps2-an386 ;; esac; }
+# link TARGET VT OBJ ELF: the harness around OBJ
+link() {
+    cc=$(cc_of "$1")
+    def="-DLOOKUP=t_lookup -DNCODES=4096UL"; [ "$2" = float ] && def="$def -DVALUE_FLOAT"
+    if [ "$1" = avr ]; then
+        [ -f "$W/avr_main_$2.o" ] || $cc -Os -std=gnu99 $def -c "$HERE/avr_main.c" -o "$W/avr_main_$2.o"
+        $cc -Wl,--section-start=.mmcu=0x910000 "$W/avr_main_$2.o" "$3" -o "$4"
+    else
+        [ -f "$W/start_$1.o" ] || $cc -Os -fno-tree-loop-distribute-patterns -c "$HERE/arm_start.c" -o "$W/start_$1.o"
+        [ -f "$W/main_$1_$2.o" ] || $cc -Os -std=c99 -DMARKS $def -c "$HERE/arm_main.c" -o "$W/main_$1_$2.o"
+        $cc -nostartfiles -nostdlib -T "$HERE/arm.ld" "$W/start_$1.o" "$W/main_$1_$2.o" "$3" \
+            -Wl,--start-group -lc -lm -lgcc -Wl,--end-group -o "$4"
+    fi
+}
+# sizes ELF: "flash ram"
+sizes() {
+    size=avr-size; case $1 in *avr*) ;; *) size=arm-none-eabi-size ;; esac
+    $size -A "$1" | awk '$1 == ".text" || $1 == ".rodata" || $1 == ".data" { f += $2 }
+                         $1 == ".data" || $1 == ".bss" { r += $2 } END { print f + 0, r + 0 }'
+}
+# run TARGET ELF CODES: "mean max" cycles (avr) or instructions (Cortex-M) per call
+run() {
+    if [ "$1" = avr ]; then
+        timeout 120 simavr -m atmega328p -f 16000000 "$2" > "$2.out" 2>&1
+        "$PY" "$HERE/cost.py" avr "$2.out" "$3"
+    else
+        timeout 300 qemu-system-arm -M "$(machine "$1")" -display none -monitor none -serial none \
+            -semihosting-config enable=on,target=native -singlestep -d exec,nochain \
+            -D /dev/stdout -kernel "$2" 2> /dev/null | "$PY" "$HERE/cost.py" trace "$3"
+    fi
+}
+lut() { "$BANDGAP" lut --r25 10k --beta 3950K --fixed 10k --adc-bits 12 --range -40C:125C \
+            --max-error 0.05C "$@" > /dev/null 2>&1; }
+lut --strategy indexed --format codes -o "$W/ref.codes"
+printf '%-6s %-22s %8s %8s %7s %7s %10s %8s\n' target table table_B flash_B ram_B stack_B \
+    per_call max
+for tg in avr m0 m3 m4; do
+    cc=$(cc_of $tg)
+    for vt in int float; do
+        $cc -Os -c "$HERE/stub.c" $([ $vt = float ] && echo -DVALUE_FLOAT) -o "$W/stub_${tg}_$vt.o"
+        link $tg $vt "$W/stub_${tg}_$vt.o" "$W/stub_${tg}_$vt.elf"
+    done
+    unit=instructions; [ $tg = avr ] && unit=cycles
+    for c in uniform:0.01 minimal:0.01 indexed:0.01 uniform:q8 minimal:q8 indexed:q8 \
+             uniform:0.1 indexed:0.1 indexed:q16 uniform:float indexed:float sh:logf stub:int; do
+        st=${c%%:*} res=${c#*:}
+        vt=int; [ "$res" = float ] && vt=float
+        [ $tg = avr ] && [ $vt = float ] && continue
+        n=$W/$tg-$st-$res
+        case $st in
+        sh) cp "$HERE/sh_logf.c" "$n.c"; tb=0 ;;
+        stub) cp "$HERE/stub.c" "$n.c"; tb=0 ;;
+        *) lut --strategy "$st" --resolution "$res" --symbol t --format json -o "$n.json"
+           tb=$(sed -n 's/.*"bytes": *\([0-9]*\).*/\1/p' "$n.json" | head -1)
+           # shellcheck disable=SC2086
+           lut --strategy "$st" --resolution "$res" --symbol t $EXTRA -o "$n.c" ;;
+        esac
+        flags="-Os -std=c99 -ffp-contract=off -fstack-usage"
+        [ $tg = avr ] && flags="-Os -std=gnu99 -fstack-usage -include $HERE/avr_hooks.h"
+        (cd "$W" && $cc $flags -c "$n.c" -o "$n.o")
+        link $tg $vt "$n.o" "$n.elf"
+        set -- $(sizes "$n.elf") $(sizes "$W/stub_${tg}_$vt.elf")
+        stack=$(awk -F '\t' '$1 ~ /t_lookup$/ { print $2 }' "$n.su")
+        per=$(run $tg "$n.elf" "$W/ref.codes")
+        printf '%-6s %-22s %8s %8s %7s %7s %10s %8s\n' $tg "$st $res" "$tb" "$(($1 - $3))" \
+            "$(($2 - $4))" "$stack" "${per% *}" "${per#* }"
+        echo "$tg $st $res $tb $(($1 - $3)) $(($2 - $4)) $stack $per" >> "$W/cost.txt"
+    done
+    echo "($tg: per_call in $unit per conversion, mean over the codes inside the range; max: the largest)"
+done
