@@ -46,6 +46,12 @@ typedef struct bg_calib_request {
     bg_calib_progress_fn progress; /* bg_calibrate_lot only (default NULL) */
     void *progress_ctx;
     unsigned store_flags;       /* bg_calibrate_probe only: BG_CALIB_* below (default 0) */
+    int quantity;               /* what the readings are (a bg_quantity of model.h; default 0,
+                                ** resistance; bg_calibrate_file takes the file's): a named
+                                ** model must read it, and "auto" compares the kinds that do */
+    const char *const *param_names; /* 'nparams' kind parameters ("p", "lsb_k") and their */
+    const double *param_values;     /* values for the model (bg_model_set_param); default none */
+    size_t nparams;
 } bg_calib_request;
 
 enum {

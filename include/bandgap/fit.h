@@ -35,6 +35,9 @@ typedef struct bg_fit_opts {
                            ** 1e-6 K: finer than thermometer readouts in use, coarser than the
                            ** fit's own rounding, about 1e-10 K) */
     const char *source;    /* file name used in messages (not kept); NULL = "point" */
+    int quantity;          /* bg_fit_compare: what the points' readings are (a bg_quantity;
+                           ** default 0, resistance); the candidates read it, with the
+                           ** parameters of 'model' copied to those of the same name */
 } bg_fit_opts;
 
 /* The defaults above for 'model' (sh3 when NULL). */
@@ -202,7 +205,9 @@ typedef struct bg_cmp {
 } bg_cmp;
 
 /* Fit the candidates beta, sh3, poly:2, sh4, poly:4, poly:5 with the options 'o' (its model is
-** ignored) and choose one: among the models whose BIC is within 2 of the lowest, the one with
+** ignored but for its parameters) and choose one -- for resistances that fall as the
+** temperature rises; for other readings, or resistances that rise, the kinds
+** bg_model_candidates lists for o->quantity and that direction: among the models whose BIC is within 2 of the lowest, the one with
 ** fewest coefficients (Kass & Raftery 1995).  A model needs at least npar + 2 points to be
 ** compared (one degree of freedom after leaving a point out).  BG_EINVAL when no candidate can
 ** be fitted. */
