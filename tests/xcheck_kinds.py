@@ -240,4 +240,77 @@ for deg in (3, 5):
         # the series reproduces the invented curve to its stated residuals
         check("cheb:%d residuals" % deg, j["residuals_mk"], 1e3 * (Tc - ref(Vc)), 0, 1e-5)
 
+# ---- Chebyshev in ranges: a smooth invented curve over 30 .. 330 K that one 6-term series
+# cannot hold to 5 mK; each range's series against numpy's on the same readings ------------
+Tw = np.linspace(30, 330, 121)
+Vw = 1.10 - 2.0e-3 * (Tw - 30) + 0.05 * np.exp(-(Tw - 30) / 40.0)
+with tempfile.NamedTemporaryFile("w", suffix=".csv", delete=False) as f:
+    f.write("temp_k,volts\n")
+    for t, v in zip(Tw, Vw):
+        f.write("%r,%r\n" % (float(t), float(v)))
+    wpath = f.name
+one = subprocess.run([BIN, "fit", wpath, "--model", "cheb:5", "--json"], capture_output=True,
+                     text=True)
+p = subprocess.run([BIN, "fit", wpath, "--model", "cheb:5", "--bound", "5mK", "--json"],
+                   capture_output=True, text=True)
+os.unlink(wpath)
+if p.returncode != 0 or one.returncode != 0:
+    failures += 1
+    print("xcheck_kinds FAIL cheb ranges: exit %d %d: %s" % (one.returncode, p.returncode,
+                                                             p.stderr.strip()))
+else:
+    whole = json.loads(one.stdout)
+    sp = json.loads(p.stdout)
+    if not (whole["max_abs_mk"] > 5.0 and sp["all_hold"] and len(sp["ranges"]) >= 2):
+        failures += 1
+        print("xcheck_kinds FAIL cheb ranges: one series %.3g mK, %d ranges, all hold %s"
+              % (whole["max_abs_mk"], len(sp["ranges"]), sp["all_hold"]))
+    for k, r in enumerate(sp["ranges"]):
+        sel = (Vw >= r["x_lo"]) & (Vw <= r["x_hi"])
+        ref = npcheb.Chebyshev.fit(Vw[sel], Tw[sel], 5, domain=[r["x_lo"], r["x_hi"]])
+        check("cheb range %d vs numpy" % k, r["coefficients"], ref.coef, 1e-7,
+              1e-8 * np.max(np.abs(ref.coef)))
+        # the series reproduces the invented curve inside its range to the bound
+        err = np.max(np.abs(npcheb.chebval((2 * Vw[sel] - r["x_lo"] - r["x_hi"]) /
+                                           (r["x_hi"] - r["x_lo"]), r["coefficients"]) - Tw[sel]))
+        check("cheb range %d holds 5 mK" % k, err <= 5e-3, True, 0)
+        if k > 0 and sp["ranges"][k - 1]["x_hi"] != r["x_lo"]:
+            failures += 1
+            print("xcheck_kinds FAIL cheb ranges do not meet at a reading")
+
+# ---- eval and curve for the other kinds, against the equations evaluated here -------------
+def run_json(*args):
+    p = subprocess.run([BIN, *args, "--json"], capture_output=True, text=True)
+    if p.returncode != 0:
+        global failures
+        failures += 1
+        print("xcheck_kinds FAIL %s: exit %d: %s" % (args, p.returncode, p.stderr.strip()))
+        return None
+    return json.loads(p.stdout)
+
+
+j = run_json("eval", "--model", "vbe", "--coef", "1.2063,0.6021,3.6", "--temp", "350K",
+             "--reading", "0.5")
+if j:
+    c = [1.2063, 0.6021, 3.6]
+    check("eval vbe V(350 K)", j["results"][0]["volts"], vbe(c)(np.array([350.0]))[0], 1e-13)
+    check("eval vbe T(0.5 V)", vbe(c)(np.array([j["results"][1]["t_k"]]))[0], 0.5, 1e-12)
+j = run_json("eval", "--model", "dvbe", "--coef", "1,0", "--param", "p=8", "--temp", "300K")
+if j:  # (k/q) ln 8 at 300 K, k and e exact (2019 SI)
+    check("eval dvbe ideal", j["results"][0]["volts"], K_B / Q_E * math.log(8) * 300.0, 1e-14)
+j = run_json("curve", "--model", "cvd", "--coef", "100,3.9083e-3,-5.775e-7,-4.183e-12",
+             "--from", "-200C", "--to", "850C", "--step", "50K")
+if j:  # the IEC 60751 equation with its published constants (refdata 3)
+    tt = np.array([r["t_k"] for r in j["rows"]]) - 273.15
+    check("curve cvd = IEC 60751 equation", [r["ohms"] for r in j["rows"]],
+          cvd_r(tt, [100, 3.9083e-3, -5.775e-7, -4.183e-12]), 1e-14)
+j = run_json("curve", "--model", "cheb:3", "--coef", "200,-120,6,-0.5", "--param", "x_lo=0.3",
+             "--param", "x_hi=1.1", "--readings", "0.3,0.55,0.8,1.1")
+if j:
+    ref = npcheb.Chebyshev([200, -120, 6, -0.5], domain=[0.3, 1.1])
+    check("curve cheb:3 = numpy Chebyshev", [r["t_k"] for r in j["rows"]],
+          ref(np.array([0.3, 0.55, 0.8, 1.1])), 1e-14)
+    check("curve cheb:3 dT/dV = numpy deriv", [r["dtdx"] for r in j["rows"]],
+          ref.deriv()(np.array([0.3, 0.55, 0.8, 1.1])), 1e-12)
+
 sys.exit(1 if failures else 0)

@@ -129,6 +129,12 @@ BG_API int bg_calibrate(const bg_point *pts, size_t n, const char *source,
 BG_API int bg_calibrate_file(const char *path, const bg_calib_request *rq, bg_calib_result *out,
                              bg_error *err);
 
+/* The readings file 'path' fitted by the request's model (a named one, not "auto") in ranges
+** that each hold 'bound_k' (bg_fit_split): the file read and checked as bg_calibrate_file
+** does, the default u(T) applied.  BG_EINVAL for "auto" or as bg_fit_split. */
+BG_API int bg_calibrate_file_split(const char *path, const bg_calib_request *rq, double bound_k,
+                                   bg_fit_ranges *out, bg_error *err);
+
 /* Calibrate run 'run_id' of probe 'serial' (0: its latest run), leaving out the excluded
 ** readings, and store the fit; '*out' gets fit_id, run_id, serial, started_at, stored,
 ** same_fit_id and run_fit_id too.  A fit identical to one the run already has (the same

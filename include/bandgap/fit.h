@@ -180,6 +180,31 @@ BG_API int bg_coverage_eval(const bg_coverage_rule *rule, double nu_eff, bg_cove
 ** a u[i] or nu[i] is negative or NaN, or nu[i] is 0 for u[i] > 0. */
 BG_API double bg_coverage_nu_eff(const double *u, const double *nu, size_t n);
 
+/* ---- Ranges: one series per range where one cannot hold a bound (fit_split.c) -------- */
+
+typedef struct bg_fit_range {
+    bg_fit fit;          /* the fit over this range's readings */
+    double x_lo, x_hi;   /* the range in the reading (its first and last reading) */
+    int holds;           /* 1: every |residual| is within the bound */
+} bg_fit_range;
+
+typedef struct bg_fit_ranges {
+    bg_fit_range *range; /* 'n' ranges in rising reading; neighbours share one reading */
+    size_t n, cap;
+    int all_hold;        /* 1: every range holds the bound */
+    double bound_k;
+} bg_fit_ranges;
+
+/* Fit 'o->model' to the 'n' points over their whole range, and halve any range whose largest
+** |residual| exceeds 'bound_k' at its middle reading (shared by the two halves) until every
+** range holds it, or a range has too few readings to halve (fewer than 2 npar + 1) or six
+** halvings were made: that range keeps its fit with 'holds' 0.  '*out' is filled (release
+** with bg_fit_split_release), or left empty on an error (as bg_fitter_run's, or BG_EINVAL for
+** a bound that is not above 0). */
+BG_API int bg_fit_split(bg_fitter *fitter, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                        double bound_k, bg_fit_ranges *out, bg_error *err);
+BG_API void bg_fit_split_release(bg_fit_ranges *s);
+
 /* ---- Model comparison ----------------------------------------------------------------------- */
 
 #define BG_CMP_MAX 6

@@ -20,6 +20,8 @@ static const char fit_usage[] =
     "                   cvd, cvd2 (platinum), vbe, dvbe, cheb:N (junction volts), ic,\n"
     "                   ic:N (reported_c), ic-code (code); see docs/methods.md\n"
     "  --param N=V      a kind's held parameter: p=8 (dvbe), lsb_k=0.0625 (ic, ic-code)\n"
+    "  --bound DT       fit in ranges, each holding |residual| <= DT (e.g. 10mK): a range\n"
+    "                   that does not is halved at its middle reading (a named model)\n"
     "  --t0 TEMP        beta model: reference temperature of R0 (default 25C)\n"
     "  --pair T1/T2     B value reported for this pair (default 25/85, degC)\n"
     "  --u-temp DT      standard uncertainty for readings without a u_temp_k column\n"
@@ -56,7 +58,7 @@ static const char fit_usage[] =
     "food-safety or process-safety use follow local regulations and accredited practice.\n";
 
 enum { O_MODEL = 1, O_T0, O_PAIR, O_UTEMP, O_AT, O_LINEAR, O_NOINFL, O_UNIT, O_JSON, O_PROBE,
-       O_RUN, O_LOT, O_DRY, O_AGAIN, O_COVK, O_RESOL, O_RESID, O_PARAM };
+       O_RUN, O_LOT, O_DRY, O_AGAIN, O_COVK, O_RESOL, O_RESID, O_PARAM, O_BOUND };
 
 /* The options of 'fit' beyond the library's request. */
 struct fit_cli {
@@ -65,6 +67,7 @@ struct fit_cli {
     const char *serial, *lot;
     long long run_id;
     int all_residuals;
+    double bound_k;        /* --bound: fit in ranges that each hold it; 0: one fit */
     const char **pnames;   /* --param NAME=VALUE, room for every argument */
     double *pvalues;
 };
@@ -80,7 +83,7 @@ static const struct option fit_opts[] = {
     { "store-again", no_argument, NULL, O_AGAIN }, { "coverage-k", required_argument, NULL, O_COVK },
     { "resolution", required_argument, NULL, O_RESOL },
     { "residuals", required_argument, NULL, O_RESID }, { "param", required_argument, NULL, O_PARAM },
-    { NULL, 0, NULL, 0 },
+    { "bound", required_argument, NULL, O_BOUND }, { NULL, 0, NULL, 0 },
 };
 
 /* Take one option; BG_OK, or the usage error's code. */
@@ -153,6 +156,11 @@ static int fit_option(struct fit_cli *fc, int c, char **argv, double *at_k, stru
         fc->pnames[rq->nparams++] = optarg;
         return BG_OK;
     }
+    case O_BOUND:
+        if (bg_units_parse_tdiff(optarg, &fc->bound_k, &err) != BG_OK || !(fc->bound_k > 0.0))
+            return cli_usage_error("fit", "--bound: %s", err.msg[0] ? err.msg :
+                                   "must be above 0");
+        return BG_OK;
     case O_PROBE: fc->serial = optarg; return BG_OK;
     case O_LOT: fc->lot = optarg; return BG_OK;
     case O_RUN:
@@ -171,6 +179,8 @@ static int fit_check_args(const struct fit_cli *fc, int argc)
         return cli_usage_error("fit", "--dry-run and --store-again go with --probe");
     if (fc->rq.store_flags == (BG_CALIB_DRY_RUN | BG_CALIB_STORE_SAME))
         return cli_usage_error("fit", "give --dry-run or --store-again, not both");
+    if ((fc->serial || fc->lot) && fc->bound_k > 0.0)
+        return cli_usage_error("fit", "--bound goes with a readings file");
     if (fc->serial || fc->lot) {
         if (fc->serial && fc->lot)
             return cli_usage_error("fit", "give --probe or --lot, not both");
@@ -182,6 +192,8 @@ static int fit_check_args(const struct fit_cli *fc, int argc)
     }
     if (fc->run_id)
         return cli_usage_error("fit", "--run goes with --probe");
+    if (fc->bound_k > 0.0 && (fc->rq.ncheck || fc->all_residuals))
+        return cli_usage_error("fit", "--bound does not go with --at or --residuals");
     if (optind + 1 != argc)
         return cli_usage_error("fit", optind >= argc ? "no readings file given (or --probe, "
                                "--lot)" : "more than one readings file given");
@@ -197,6 +209,16 @@ static int fit_run(const struct fit_cli *fc, const char *path, struct cli_ctx *c
     bg_calib_lot lot = BG_CALIB_LOT_INIT;
     int rc;
 
+    if (path && fc->bound_k > 0.0) {
+        bg_fit_ranges sp;
+        rc = bg_calibrate_file_split(path, &fc->rq, fc->bound_k, &sp, &err);
+        if (rc == BG_OK)
+            print_fit_split(&sp, fc->unit, ctx->json);
+        else
+            cli_fail(NULL, &err);
+        bg_fit_split_release(&sp);
+        return rc;
+    }
     if (!path && (rc = cli_open_store(ctx, 0, &st)) != BG_OK)
         return rc;
     if (fc->lot) {

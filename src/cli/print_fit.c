@@ -610,3 +610,71 @@ int print_fit_progress(size_t done, size_t total, void *ctx)
     cli_progress("fitting", done, total);
     return 0;
 }
+
+/* ---- a fit in ranges ---- */
+
+static void split_json(const bg_fit_ranges *s)
+{
+    json_out j;
+    char name[16];
+    json_begin(&j, stdout);
+    json_obj(&j, NULL);
+    json_num(&j, "bound_k", s->bound_k);
+    json_bool(&j, "all_hold", s->all_hold);
+    json_arr(&j, "ranges");
+    for (size_t i = 0; i < s->n; i++) {
+        const bg_fit *f = &s->range[i].fit;
+        json_obj(&j, NULL);
+        json_str(&j, "model", bg_model_name(&f->model, name, sizeof name));
+        json_num(&j, "x_lo", s->range[i].x_lo);
+        json_num(&j, "x_hi", s->range[i].x_hi);
+        json_num(&j, "t_min_k", f->t_min_k);
+        json_num(&j, "t_max_k", f->t_max_k);
+        json_bool(&j, "holds", s->range[i].holds);
+        json_nums(&j, "coefficients", f->model.coef, f->npar);
+        json_arr(&j, "u_coefficients");
+        for (size_t k = 0; k < f->npar; k++)
+            json_num(&j, NULL, bg_fit_coef_u(f, k));
+        json_arr_end(&j);
+        json_kind(&j, f);
+        json_int(&j, "n", (long long)f->n);
+        json_num(&j, "rms_mk", f->rms_mk);
+        json_num(&j, "max_abs_mk", f->max_abs_mk);
+        json_obj_end(&j);
+    }
+    json_arr_end(&j);
+    json_obj_end(&j);
+    json_end(&j);
+}
+
+void print_fit_split(const bg_fit_ranges *s, bg_temp_unit unit, int json)
+{
+    char name[16], b1[64], b2[64];
+    if (json) {
+        split_json(s);
+        return;
+    }
+    printf("%zu range%s, each to hold |residual| <= %.4g mK: %s\n", s->n, s->n == 1 ? "" : "s",
+           1e3 * s->bound_k, s->all_hold ? "all hold it" : "NOT ALL HOLD IT (see below)");
+    for (size_t i = 0; i < s->n; i++) {
+        const bg_fit *f = &s->range[i].fit;
+        bg_quantity q = bg_model_quantity(&f->model);
+        printf("\nrange %zu: %s %.7g .. %.7g %s (%s .. %s), %zu readings, model %s\n", i + 1,
+               bg_quantity_symbol(q), s->range[i].x_lo, s->range[i].x_hi, bg_quantity_unit(q),
+               bg_units_format_temp(f->t_min_k, unit, 3, b1, sizeof b1),
+               bg_units_format_temp(f->t_max_k, unit, 3, b2, sizeof b2), f->n,
+               bg_model_name(&f->model, name, sizeof name));
+        for (size_t k = 0; k < bg_model_nparam(&f->model); k++)
+            printf("  %s = %.10g (held)\n", bg_model_param_name(&f->model, k),
+                   bg_model_param(&f->model, k));
+        for (size_t k = 0; k < f->npar; k++)
+            printf("  %-5s = %18.10e   u = %.2e\n", bg_model_coef_name(&f->model, k),
+                   f->model.coef[k], bg_fit_coef_u(f, k));
+        printf("  RMS %.4f mK, max |residual| %.4f mK%s\n", f->rms_mk, f->max_abs_mk,
+               s->range[i].holds ? "" : "   EXCEEDS THE BOUND: too few readings to split "
+               "further");
+        for (size_t k = 0; k < f->nnotes; k++)
+            printf("  note: %s\n", f->notes[k].msg);
+    }
+    printf("\nValid only inside each range; neighbouring ranges share their end reading.\n");
+}

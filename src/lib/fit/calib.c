@@ -392,6 +392,41 @@ int bg_calibrate_file(const char *path, const bg_calib_request *rq, bg_calib_res
     return rc;
 }
 
+int bg_calibrate_file_split(const char *path, const bg_calib_request *rq, double bound_k,
+                            bg_fit_ranges *out, bg_error *err)
+{
+    bg_readings rs = BG_READINGS_INIT;
+    bg_calib_request q = *rq;
+    bg_point *pts = NULL;
+    bg_fitter *fr = NULL;
+    bg_fit_opts o;
+    int rc, is_auto = 0;
+
+    memset(out, 0, sizeof *out);
+    if ((rc = bg_csv_read_file(path, &rs, err)) != BG_OK)
+        return rc;
+    q.quantity = rs.quantity;
+    if (rs.ref_ohms)
+        rc = bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs the reference "
+                          "thermometer's coefficients: import the file first", path);
+    else if ((rc = same_excitation(&rs, path, err)) == BG_OK &&
+             (rc = request_opts(&q, &o, &is_auto, err)) == BG_OK && is_auto)
+        rc = bg_error_set(err, BG_EINVAL, "fitting in ranges needs a named model (e.g. "
+                          "cheb:5), not 'auto'");
+    if (rc == BG_OK && (!(pts = grow(NULL, rs.n, sizeof *pts)) || !(fr = bg_fitter_new())))
+        rc = bg_error_set(err, BG_ENOMEM, "out of memory");
+    if (rc == BG_OK) {
+        bg_readings_points(&rs, pts);
+        apply_default_u(pts, rs.n, q.u_t_default_k);
+        o.source = strcmp(path, "-") == 0 ? "<stdin>" : path;
+        rc = bg_fit_split(fr, pts, rs.n, &o, bound_k, out, err);
+    }
+    bg_fitter_free(fr);
+    free(pts);
+    bg_readings_release(&rs);
+    return rc;
+}
+
 /* The override of run 'run' (its reference used past its due date) as the result's record
 ** and a note of its fit, so that every printer of the fit shows it. */
 static int note_ref_overdue(bg_calib_result *out, const bg_run *run, bg_error *err)
