@@ -86,7 +86,8 @@ static void kinds_derivatives(void **state)
                 mp.coef[j] = c + hc, mm.coef[j] = c - hc;
                 assert_int_equal(bg_model_t_from_x(&mp, x, &tp, NULL), BG_OK);
                 assert_int_equal(bg_model_t_from_x(&mm, x, &tm, NULL), BG_OK);
-                assert_close_at(g[j], (tp - tm) / (2.0 * hc), 1e-5, 1e-13 * t / hc, KC[k].name, __FILE__, __LINE__);
+                assert_close_at(g[j], (tp - tm) / (2.0 * hc), 1e-5, 1e-13 * t / hc,
+                                KC[k].name, __FILE__, __LINE__);
             }
         }
     }
@@ -195,14 +196,14 @@ static void fit_direction_rails(void **state)
     o = bg_fit_default_opts(&m);
     o.source = "p.csv";
     assert_int_equal(bg_fit_points(pts, 5, &o, &f, &err), BG_EINVAL);
-    assert_non_null(strstr(err.msg, "p.csv:3: the ohms falls or stays"));
+    assert_non_null(strstr(err.msg, "p.csv:3: the ohms reading falls or stays"));
     for (int i = 0; i < 5; i++)
         pts[i].r_ohm = 0.6 + 0.002 * i;
     assert_int_equal(bg_model_parse("vbe", &m, NULL), BG_OK);
     o = bg_fit_default_opts(&m);
     o.source = "v.csv";
     assert_int_equal(bg_fit_points(pts, 5, &o, &f, &err), BG_EINVAL);
-    assert_non_null(strstr(err.msg, "v.csv:3: the volts rises or stays"));
+    assert_non_null(strstr(err.msg, "v.csv:3: the volts reading rises or stays"));
     bg_fit_release(&f);
 }
 

@@ -181,7 +181,9 @@ static void model_errors(void **state)
     bg_error err = BG_ERROR_INIT;
     double c[3] = { 1.4e-3, 2.37e-4, NAN }, r;
     assert_int_equal(bg_model_parse("sh5", &m, &err), BG_EINVAL);
-    assert_string_equal(err.msg, "unknown model 'sh5' (known: sh3, sh4, beta, poly:1 .. poly:5, ptc, ptc-lin, cvd, cvd2, vbe, dvbe, ic, ic:0, ic:1, ic-code, cheb:1 .. cheb:5)");
+    assert_string_equal(err.msg, "unknown model 'sh5' (known: sh3, sh4, beta, poly:1 .. poly:5, "
+                        "ptc, ptc-lin, cvd, cvd2, vbe, dvbe, ic, ic:0, ic:1, ic-code, "
+                        "cheb:1 .. cheb:5)");
     assert_int_equal(bg_model_parse("poly:6", &m, &err), BG_EINVAL);
     assert_int_equal(bg_model_parse("sh3", &m, &err), BG_OK);
     assert_int_equal(bg_model_set_coef(&m, c, 2, &err), BG_EINVAL);

@@ -232,8 +232,8 @@ typedef struct bg_cmp {
 /* Fit the candidates beta, sh3, poly:2, sh4, poly:4, poly:5 with the options 'o' (its model is
 ** ignored but for its parameters) and choose one -- for resistances that fall as the
 ** temperature rises; for other readings, or resistances that rise, the kinds
-** bg_model_candidates lists for o->quantity and that direction: among the models whose BIC is within 2 of the lowest, the one with
-** fewest coefficients (Kass & Raftery 1995).  A model needs at least npar + 2 points to be
+** bg_model_candidates lists for o->quantity and that direction: among the models whose BIC
+** is within 2 of the lowest, the one with fewest coefficients (Kass & Raftery 1995).  A model needs at least npar + 2 points to be
 ** compared (one degree of freedom after leaving a point out).  BG_EINVAL when no candidate can
 ** be fitted. */
 BG_API int bg_fit_compare(bg_fitter *fitter, const bg_point *pts, size_t n, const bg_fit_opts *o,

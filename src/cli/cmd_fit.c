@@ -82,7 +82,8 @@ static const struct option fit_opts[] = {
     { "lot", required_argument, NULL, O_LOT },     { "dry-run", no_argument, NULL, O_DRY },
     { "store-again", no_argument, NULL, O_AGAIN }, { "coverage-k", required_argument, NULL, O_COVK },
     { "resolution", required_argument, NULL, O_RESOL },
-    { "residuals", required_argument, NULL, O_RESID }, { "param", required_argument, NULL, O_PARAM },
+    { "residuals", required_argument, NULL, O_RESID },
+    { "param", required_argument, NULL, O_PARAM },
     { "bound", required_argument, NULL, O_BOUND }, { NULL, 0, NULL, 0 },
 };
 

@@ -335,7 +335,8 @@ static void text_fit(const bg_calib_result *r, bg_temp_unit un, int all_residual
            bg_model_name(&f->model, name, sizeof name), fitted_how(r),
            bg_model_formula(&f->model), is_ntc(f) ? "L = ln(R / 1 ohm), " : "");
     if (!is_ntc(f))
-        printf("  reads: %s in %s (column '%s')\n", bg_quantity_symbol(bg_model_quantity(&f->model)),
+        printf("  reads: %s in %s (column '%s')\n",
+               bg_quantity_symbol(bg_model_quantity(&f->model)),
                bg_quantity_unit(bg_model_quantity(&f->model)),
                bg_quantity_column(bg_model_quantity(&f->model)));
     if (bg_model_flags(&f->model) & BG_MODEL_HAS_T0)

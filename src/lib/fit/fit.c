@@ -325,8 +325,8 @@ static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
             i++;
         const struct tsort *a = &fr->sorted[i];
         if (dir > 0 && b->t - a->t > o->mono_gap_k && !(b->r > a->r))
-            return bg_error_set(err, BG_EINVAL, "%s: the %s falls or stays as the temperature "
-                                "rises (%.6g %s at %.3f K, %s has %.6g %s at %.3f K): model "
+            return bg_error_set(err, BG_EINVAL, "%s: the %s reading falls or stays as the "
+                                "temperature rises (%.6g %s at %.3f K, %s has %.6g %s at %.3f K): model "
                                 "'%s' reads a quantity that rises with temperature, or columns "
                                 "swapped", where(o, &pts[b->i], b->i, w1, sizeof w1),
                                 bg_quantity_column(qty), b->r, bg_quantity_unit(qty), b->t,
@@ -335,8 +335,8 @@ static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
                                 sizeof w3));
         if (dir < 0 && qty != BG_QTY_RESISTANCE && b->t - a->t > o->mono_gap_k &&
             !(b->r < a->r))
-            return bg_error_set(err, BG_EINVAL, "%s: the %s rises or stays as the temperature "
-                                "rises (%.6g %s at %.3f K, %s has %.6g %s at %.3f K): model "
+            return bg_error_set(err, BG_EINVAL, "%s: the %s reading rises or stays as the "
+                                "temperature rises (%.6g %s at %.3f K, %s has %.6g %s at %.3f K): model "
                                 "'%s' reads a quantity that falls with temperature, or columns "
                                 "swapped", where(o, &pts[b->i], b->i, w1, sizeof w1),
                                 bg_quantity_column(qty), b->r, bg_quantity_unit(qty), b->t,
