@@ -220,6 +220,44 @@ if j:
     j2 = run_fit("temp_k,volts", list(zip(Tjf, [float(v) for v in Vj])), "vbe")
     if j2:
         check("vbe noise-free", j2["coefficients"], [float(VG0), float(V0), float(ETA)], 1e-7)
+    # with stated uncertainties: u(T) = 5 mK, u(V) = 2 uV carried through the slope dT/dV
+    # (docs/methods.md), chi2 and the covariance scaled by max(1, chi2/dof) as for the NTC fit
+    uT, uV = 5e-3, 2e-6
+    rows = [(t, v, uT, uV) for t, v in zip(Tjf, Vjf)]
+    with tempfile.NamedTemporaryFile("w", suffix=".csv", delete=False) as f:
+        f.write("temp_k,volts,u_temp_k,u_volts\n")
+        for r in rows:
+            f.write(",".join(repr(float(v)) for v in r) + "\n")
+        wp = f.name
+    pw = subprocess.run([BIN, "fit", wp, "--model", "vbe", "--json"], capture_output=True,
+                        text=True)
+    os.unlink(wp)
+    if pw.returncode != 0:
+        failures += 1
+        print("xcheck_kinds FAIL vbe weighted: %s" % pw.stderr.strip())
+    else:
+        jw = json.loads(pw.stdout)
+        c = np.array(j["coefficients"])
+        h = 1e-4
+        dTdV = 1.0 / ((vbe(c)(Tjf + h) - vbe(c)(Tjf - h)) / (2 * h))
+        u = np.sqrt(uT ** 2 + (dTdV * uV) ** 2)
+        res = least_squares(lambda cc: (Tjf - newton_t(vbe(cc), Vjf, 300.0)) / u, c,
+                            xtol=1e-15, ftol=1e-15, gtol=1e-15, method='lm')
+        cw = res.x
+        Tm = newton_t(vbe(cw), Vjf, 300.0)
+        dxdt = (vbe(cw)(Tm + h) - vbe(cw)(Tm - h)) / (2 * h)
+        J = np.empty((len(Tjf), 3))
+        for k in range(3):
+            e = np.zeros(3)
+            e[k] = 1e-6 * abs(cw[k])
+            J[:, k] = -((vbe(cw + e)(Tm) - vbe(cw - e)(Tm)) / (2 * e[k])) / dxdt / u
+        chi2 = float(np.sum(((Tjf - Tm) / u) ** 2))
+        covw = np.linalg.inv(J.T @ J) * max(1.0, chi2 / (len(Tjf) - 3))
+        check("vbe weighted coefficients", jw["coefficients"], cw, 1e-7)
+        check("vbe weighted chi2", jw["chi2"], chi2, 1e-4)
+        check("vbe weighted covariance", np.array(jw["covariance"]), covw, 1e-3,
+              1e-6 * np.sqrt(np.outer(np.diag(covw), np.diag(covw))))
+        check("vbe weighted u_k", jw["u_k"], u, 1e-6)
 # difference of two junctions, p = 8: gain 0.998, offset 0.3 mV (invented)
 dV = 0.998 * (K_B / Q_E) * math.log(8) * Tjf + 3e-4 + rng.normal(0, 1e-6, len(Tjf))
 kind_case("dvbe", "temp_k,volts", Tjf, dV,
