@@ -67,6 +67,8 @@ tally firmware "$BUILD/firmware.log" $?
 tally layout "$BUILD/layout.log" $?
 "$PYTHON" tests/xcheck_numpy.py "$BUILD/bandgap"
 count $? xcheck_numpy
+"$PYTHON" tests/xcheck_kinds.py "$BUILD/bandgap"
+count $? xcheck_kinds
 "$PYTHON" tests/bench/timing_check.py > "$BUILD/timing-check.log" 2>&1
 tally timing "$BUILD/timing-check.log" $?
 

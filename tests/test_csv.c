@@ -65,7 +65,8 @@ static void rejections(void **state)
     (void)state;
     expect_error("temp,ohms\n25,10000\n",
                  "bath.csv:1: unknown column 'temp' (known columns: temp_c, temp_k, temp_f, "
-                 "ref_ohms, ohms, u_temp_k, u_ohms, time, note)");
+                 "ref_ohms, ohms, u_temp_k, u_ohms, time, note, volts, reported_c, code, u_volts, "
+                 "excite_a)");
     expect_error("ohms,note\n1,x\n", "bath.csv:1: no temperature column (temp_c, temp_k, "
                                      "temp_f or ref_ohms)");
     expect_error("temp_c,temp_k,ohms\n", "bath.csv:1: more than one temperature column "
@@ -115,10 +116,12 @@ static void unit_in_value_and_did_you_mean(void **state)
     expect_error("temp_c,ohms\n25,10x5\n", "bath.csv:2: field 'ohms': not a number: '10x5'");
     expect_error("temp_c,ohm\n25,10000\n",
                  "bath.csv:1: unknown column 'ohm' (did you mean 'ohms'? known columns: temp_c, "
-                 "temp_k, temp_f, ref_ohms, ohms, u_temp_k, u_ohms, time, note)");
+                 "temp_k, temp_f, ref_ohms, ohms, u_temp_k, u_ohms, time, note, volts, reported_c, "
+                 "code, u_volts, excite_a)");
     expect_error("tmep_c,ohms\n25,10000\n",
                  "bath.csv:1: unknown column 'tmep_c' (did you mean 'temp_c'? known columns: "
-                 "temp_c, temp_k, temp_f, ref_ohms, ohms, u_temp_k, u_ohms, time, note)");
+                 "temp_c, temp_k, temp_f, ref_ohms, ohms, u_temp_k, u_ohms, time, note, volts, "
+                 "reported_c, code, u_volts, excite_a)");
 }
 
 /* bg_suggest: edit distance with neighbour swaps as one edit (Damerau 1964), limits by length;

@@ -181,7 +181,9 @@ static void model_errors(void **state)
     bg_error err = BG_ERROR_INIT;
     double c[3] = { 1.4e-3, 2.37e-4, NAN }, r;
     assert_int_equal(bg_model_parse("sh5", &m, &err), BG_EINVAL);
-    assert_string_equal(err.msg, "unknown model 'sh5' (known: sh3, sh4, beta, poly:1 .. poly:5)");
+    assert_string_equal(err.msg, "unknown model 'sh5' (known: sh3, sh4, beta, poly:1 .. poly:5, "
+                        "ptc, ptc-lin, cvd, cvd2, vbe, dvbe, ic, ic:0, ic:1, ic-code, "
+                        "cheb:1 .. cheb:5)");
     assert_int_equal(bg_model_parse("poly:6", &m, &err), BG_EINVAL);
     assert_int_equal(bg_model_parse("sh3", &m, &err), BG_OK);
     assert_int_equal(bg_model_set_coef(&m, c, 2, &err), BG_EINVAL);
@@ -257,8 +259,17 @@ static void model_table_each_kind_once(void **state)
         assert_int_equal(found, 1);
         assert_true(strlen(bg_model_formula(&m)) > 4);
     }
-    for (size_t i = 0; i < nt; i++)
+    /* every NTC row is reached here; the other kinds are tested in tests/xcheck_kinds.py */
+    for (size_t i = 0; i < nt; i++) {
+        bg_model m;
+        char nm[32];
+        snprintf(nm, sizeof nm, "%s:1", bg_model_type_name(bg_model_type_at(i)));
+        if ((bg_model_parse(bg_model_type_name(bg_model_type_at(i)), &m, NULL) == BG_OK ||
+             bg_model_parse(nm, &m, NULL) == BG_OK) &&
+            !(bg_model_flags(&m) & BG_MODEL_INV_POLY))
+            continue;
         assert_true(hits[i] > 0);
+    }
     /* a zeroed model is sh3, as it was when the kind was an enumeration starting there */
     bg_model z;
     memset(&z, 0, sizeof z);

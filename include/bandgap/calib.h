@@ -46,6 +46,12 @@ typedef struct bg_calib_request {
     bg_calib_progress_fn progress; /* bg_calibrate_lot only (default NULL) */
     void *progress_ctx;
     unsigned store_flags;       /* bg_calibrate_probe only: BG_CALIB_* below (default 0) */
+    int quantity;               /* what the readings are (a bg_quantity of model.h; default 0,
+                                ** resistance; bg_calibrate_file takes the file's): a named
+                                ** model must read it, and "auto" compares the kinds that do */
+    const char *const *param_names; /* 'nparams' kind parameters ("p", "lsb_k") and their */
+    const double *param_values;     /* values for the model (bg_model_set_param); default none */
+    size_t nparams;
 } bg_calib_request;
 
 enum {
@@ -122,6 +128,12 @@ BG_API int bg_calibrate(const bg_point *pts, size_t n, const char *source,
 ** needs a reference thermometer from the database. */
 BG_API int bg_calibrate_file(const char *path, const bg_calib_request *rq, bg_calib_result *out,
                              bg_error *err);
+
+/* The readings file 'path' fitted by the request's model (a named one, not "auto") in ranges
+** that each hold 'bound_k' (bg_fit_split): the file read and checked as bg_calibrate_file
+** does, the default u(T) applied.  BG_EINVAL for "auto" or as bg_fit_split. */
+BG_API int bg_calibrate_file_split(const char *path, const bg_calib_request *rq, double bound_k,
+                                   bg_fit_ranges *out, bg_error *err);
 
 /* Calibrate run 'run_id' of probe 'serial' (0: its latest run), leaving out the excluded
 ** readings, and store the fit; '*out' gets fit_id, run_id, serial, started_at, stored,

@@ -35,6 +35,9 @@ typedef struct bg_fit_opts {
                            ** 1e-6 K: finer than thermometer readouts in use, coarser than the
                            ** fit's own rounding, about 1e-10 K) */
     const char *source;    /* file name used in messages (not kept); NULL = "point" */
+    int quantity;          /* bg_fit_compare: what the points' readings are (a bg_quantity;
+                           ** default 0, resistance); the candidates read it, with the
+                           ** parameters of 'model' copied to those of the same name */
 } bg_fit_opts;
 
 /* The defaults above for 'model' (sh3 when NULL). */
@@ -177,6 +180,31 @@ BG_API int bg_coverage_eval(const bg_coverage_rule *rule, double nu_eff, bg_cove
 ** a u[i] or nu[i] is negative or NaN, or nu[i] is 0 for u[i] > 0. */
 BG_API double bg_coverage_nu_eff(const double *u, const double *nu, size_t n);
 
+/* ---- Ranges: one series per range where one cannot hold a bound (fit_split.c) -------- */
+
+typedef struct bg_fit_range {
+    bg_fit fit;          /* the fit over this range's readings */
+    double x_lo, x_hi;   /* the range in the reading (its first and last reading) */
+    int holds;           /* 1: every |residual| is within the bound */
+} bg_fit_range;
+
+typedef struct bg_fit_ranges {
+    bg_fit_range *range; /* 'n' ranges in rising reading; neighbours share one reading */
+    size_t n, cap;
+    int all_hold;        /* 1: every range holds the bound */
+    double bound_k;
+} bg_fit_ranges;
+
+/* Fit 'o->model' to the 'n' points over their whole range, and halve any range whose largest
+** |residual| exceeds 'bound_k' at its middle reading (shared by the two halves) until every
+** range holds it, or a range has too few readings to halve (fewer than 2 npar + 1) or six
+** halvings were made: that range keeps its fit with 'holds' 0.  '*out' is filled (release
+** with bg_fit_split_release), or left empty on an error (as bg_fitter_run's, or BG_EINVAL for
+** a bound that is not above 0). */
+BG_API int bg_fit_split(bg_fitter *fitter, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                        double bound_k, bg_fit_ranges *out, bg_error *err);
+BG_API void bg_fit_split_release(bg_fit_ranges *s);
+
 /* ---- Model comparison ----------------------------------------------------------------------- */
 
 #define BG_CMP_MAX 6
@@ -202,8 +230,10 @@ typedef struct bg_cmp {
 } bg_cmp;
 
 /* Fit the candidates beta, sh3, poly:2, sh4, poly:4, poly:5 with the options 'o' (its model is
-** ignored) and choose one: among the models whose BIC is within 2 of the lowest, the one with
-** fewest coefficients (Kass & Raftery 1995).  A model needs at least npar + 2 points to be
+** ignored but for its parameters) and choose one -- for resistances that fall as the
+** temperature rises; for other readings, or resistances that rise, the kinds
+** bg_model_candidates lists for o->quantity and that direction: among the models whose BIC
+** is within 2 of the lowest, the one with fewest coefficients (Kass & Raftery 1995).  A model needs at least npar + 2 points to be
 ** compared (one degree of freedom after leaving a point out).  BG_EINVAL when no candidate can
 ** be fitted. */
 BG_API int bg_fit_compare(bg_fitter *fitter, const bg_point *pts, size_t n, const bg_fit_opts *o,

@@ -109,8 +109,13 @@ struct cli_inline {
     size_t ncoef;
     int have_coef;
     double r25, beta, t0_k;
+    char pname[8][32];  /* --param NAME=VALUE (eval and curve) */
+    double pval[8];
+    size_t nparam;
 };
-enum { CLI_IN_MODEL = 200, CLI_IN_COEF, CLI_IN_R25, CLI_IN_BETA, CLI_IN_T0 };
+enum { CLI_IN_MODEL = 200, CLI_IN_COEF, CLI_IN_R25, CLI_IN_BETA, CLI_IN_T0, CLI_IN_PARAM };
+/* --param NAME=VALUE, the held parameters of a kind (eval and curve). */
+#define CLI_INLINE_PARAM_OPTION { "param", required_argument, NULL, CLI_IN_PARAM }
 #define CLI_INLINE_OPTIONS                                                                     \
     { "model", required_argument, NULL, CLI_IN_MODEL },                                        \
     { "coef", required_argument, NULL, CLI_IN_COEF },                                          \
@@ -230,6 +235,8 @@ void print_fit_warnings(const bg_calib_result *r, bg_temp_unit unit);
 int print_fit_lot(const bg_calib_lot *lot, int rc, const bg_error *err, int json);
 /* A bg_calib_progress_fn showing cli_progress("fitting"). */
 int print_fit_progress(size_t done, size_t total, void *ctx);
+/* A fit in ranges that each hold a bound (fit FILE --bound). */
+void print_fit_split(const bg_fit_ranges *s, bg_temp_unit unit, int json);
 
 /* ---- the printers of 'lut' (print_lut.c) ---- */
 /* The table as CSV or JSON (the JSON carries the budget). */

@@ -21,7 +21,10 @@ static const char curve_usage[] =
     "with degrees of freedom, the expanded uncertainty U = k u of the curve, k from Student's\n"
     "t for the fit's degrees of freedom at 95.45 % coverage (--coverage-k K: a fixed k, e.g.\n"
     "2, with its coverage probability stated).  Rows outside the calibrated range are marked\n"
-    "EXTRAPOLATED and have no U: they are not calibrated values.\n";
+    "EXTRAPOLATED and have no U: they are not calibrated values.\n"
+    "Other kinds (ptc, cvd, vbe, dvbe, ic, cheb:N; docs/methods.md): --readings X1,X2,...\n"
+    "gives readings in the model's quantity (V, reported degC, code) instead of --ohms, and\n"
+    "--param NAME=VALUE a held parameter (p=8, lsb_k=0.0625, x_lo=0.3, x_hi=1.1).\n";
 
 struct curve_args {
     struct cli_source src;
@@ -29,15 +32,17 @@ struct curve_args {
     enum cli_format fmt;
     bg_temp_unit unit;
     const char *ohms;
+    int plain;          /* --readings: plain numbers in the model's quantity, not ohms */
     double from, to, step;
     double coverage_k;
 };
 
 static int curve_parse(int argc, char **argv, struct curve_args *a)
 {
-    enum { O_FROM = 1, O_TO, O_STEP, O_OHMS, O_UNIT, O_COVK };
+    enum { O_FROM = 1, O_TO, O_STEP, O_OHMS, O_UNIT, O_COVK, O_READINGS };
     static const struct option opts[] = {
-        CLI_SOURCE_OPTIONS, CLI_OUTPUT_OPTIONS,
+        CLI_SOURCE_OPTIONS, CLI_OUTPUT_OPTIONS, CLI_INLINE_PARAM_OPTION,
+        { "readings", required_argument, NULL, O_READINGS },
         { "from", required_argument, NULL, O_FROM },   { "to", required_argument, NULL, O_TO },
         { "step", required_argument, NULL, O_STEP },   { "ohms", required_argument, NULL, O_OHMS },
         { "unit", required_argument, NULL, O_UNIT },   { "help", no_argument, NULL, 'h' },
@@ -68,7 +73,8 @@ static int curve_parse(int argc, char **argv, struct curve_args *a)
             if (bg_units_parse_tdiff(optarg, &a->step, &err) != BG_OK)
                 return cli_usage_error("curve", "--step: %s", err.msg);
             break;
-        case O_OHMS: a->ohms = optarg; break;
+        case O_OHMS: a->ohms = optarg, a->plain = 0; break;
+        case O_READINGS: a->ohms = optarg, a->plain = 1; break;
         case O_COVK: {
             char *end;
             a->coverage_k = strtod(optarg, &end);
@@ -91,7 +97,7 @@ static int curve_parse(int argc, char **argv, struct curve_args *a)
 }
 
 /* The resistances of --ohms ("10k,4k7") into a new array '*r' of '*n'. */
-static int parse_ohms(const char *s, double **r, size_t *n)
+static int parse_ohms(const char *s, int plain, double **r, size_t *n)
 {
     bg_error err = BG_ERROR_INIT;
     char buf[64];
@@ -110,7 +116,13 @@ static int parse_ohms(const char *s, double **r, size_t *n)
             return cli_usage_error("curve", "--ohms: expected resistances like 10k,4k7");
         memcpy(buf, p, len);
         buf[len] = '\0';
-        if (bg_units_parse_ohms(buf, &(*r)[(*n)++], &err) != BG_OK)
+        if (plain) {
+            char *end;
+            double v = strtod(buf, &end);
+            if (end == buf || *end || !isfinite(v))
+                return cli_usage_error("curve", "--readings: '%s': not a number", buf);
+            (*r)[(*n)++] = v;
+        } else if (bg_units_parse_ohms(buf, &(*r)[(*n)++], &err) != BG_OK)
             return cli_usage_error("curve", "--ohms: %s", err.msg);
         if (!cm)
             return BG_OK;
@@ -132,7 +144,7 @@ static int curve_compute(struct curve_args *a, struct cli_ctx *ctx, bg_curve_src
     if (a->ohms) {
         if (isfinite(a->from) || isfinite(a->to) || isfinite(a->step))
             return cli_usage_error("curve", "give --ohms or --from/--to/--step, not both");
-        if ((rc = parse_ohms(a->ohms, &r, &n)) != BG_OK)
+        if ((rc = parse_ohms(a->ohms, a->plain, &r, &n)) != BG_OK)
             goto done;
     } else {
         if (!isfinite(a->from) || !isfinite(a->to) || !isfinite(a->step))

@@ -2,6 +2,7 @@
 /* bandgap eval: evaluate a model given inline, resistance to temperature and back: the
 ** values come from bg_curve_eval and are printed by cli_print_eval. */
 #include <getopt.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 
@@ -23,6 +24,9 @@ static const char eval_usage[] =
     "  --temp TEMP    a temperature to convert, with unit: 25C, 298.15K, 77F (repeatable)\n"
     "  --unit U       unit for printed temperatures: C (default), K or F\n"
     "  --json         one JSON object\n"
+    "Other kinds (ptc, cvd, vbe, dvbe, ic, cheb:N; docs/methods.md): --reading X converts a\n"
+    "reading in the model's quantity (V, reported degC, code; --ohms for a resistance);\n"
+    "--param NAME=VALUE sets a held parameter (p=8, lsb_k=0.0625, x_lo=0.3).\n"
     "L = ln(R / 1 ohm), T in kelvin.  A model evaluated outside the range it was calibrated\n"
     "over gives numbers without meaning: this command does not know that range.\n";
 
@@ -54,9 +58,10 @@ static int add_query(struct eval_args *a, bg_curve_given given, double value)
 /* Parse the options into 'a'; -1 after --help. */
 static int eval_parse(int argc, char **argv, struct eval_args *a, struct cli_ctx *ctx)
 {
-    enum { O_PAIR = 1, O_OHMS, O_TEMP, O_UNIT, O_JSON };
+    enum { O_PAIR = 1, O_OHMS, O_TEMP, O_UNIT, O_JSON, O_READING };
     static const struct option opts[] = {
-        CLI_INLINE_OPTIONS,
+        CLI_INLINE_OPTIONS, CLI_INLINE_PARAM_OPTION,
+        { "reading", required_argument, NULL, O_READING },
         { "pair", required_argument, NULL, O_PAIR },   { "ohms", required_argument, NULL, O_OHMS },
         { "temp", required_argument, NULL, O_TEMP },   { "unit", required_argument, NULL, O_UNIT },
         { "json", no_argument, NULL, O_JSON },         { "help", no_argument, NULL, 'h' },
@@ -71,6 +76,7 @@ static int eval_parse(int argc, char **argv, struct eval_args *a, struct cli_ctx
         switch (c) {
         case 'h': fputs(eval_usage, stdout); return -1;
         case CLI_IN_MODEL: case CLI_IN_COEF: case CLI_IN_R25: case CLI_IN_BETA: case CLI_IN_T0:
+        case CLI_IN_PARAM:
             if ((rc = cli_inline_option(&a->in, c, optarg, "eval")) != BG_OK)
                 return rc;
             break;
@@ -87,6 +93,16 @@ static int eval_parse(int argc, char **argv, struct eval_args *a, struct cli_ctx
                 BG_OK)
                 return rc;
             break;
+        case O_READING: {
+            char *end;
+            v = strtod(optarg, &end);
+            if (end == optarg || *end || !isfinite(v))
+                return cli_usage_error("eval", "--reading: '%s': a number in the model's "
+                                       "quantity (volts, reported degC, code)", optarg);
+            if ((rc = add_query(a, BG_CURVE_AT_OHMS, v)) != BG_OK)
+                return rc;
+            break;
+        }
         case O_UNIT:
             if (bg_units_parse_unit(optarg, &a->unit, &err) != BG_OK)
                 return cli_usage_error("eval", "--unit: %s", err.msg);
@@ -113,7 +129,7 @@ static int eval_compute(struct eval_args *a, bg_curve_src *src, bg_curve *c)
     if (bg_model_flags(&m) & BG_MODEL_R0_BETA)
         m.pair_t1_k = a->p1, m.pair_t2_k = a->p2;
     if (a->nq == 0)
-        return cli_usage_error("eval", "give at least one --ohms or --temp");
+        return cli_usage_error("eval", "give at least one --ohms, --reading or --temp");
     *src = bg_curve_src_of_model(&m);
     src->b_pair_t1_k = a->p1, src->b_pair_t2_k = a->p2;
     if (bg_curve_eval(src, a->q, a->nq, c, &err) != BG_OK)

@@ -16,7 +16,12 @@ static const char fit_usage[] =
     "the coefficients with standard uncertainties, the residuals, the curve's expanded\n"
     "uncertainty across the calibrated range, and a comparison of models.\n\n"
     "  --model M        sh3, sh4, beta, poly:N (N = 1..5) or auto (default: auto, which\n"
-    "                   picks by BIC and says why)\n"
+    "                   picks by BIC and says why); for other sensors: ptc, ptc-lin,\n"
+    "                   cvd, cvd2 (platinum), vbe, dvbe, cheb:N (junction volts), ic,\n"
+    "                   ic:N (reported_c), ic-code (code); see docs/methods.md\n"
+    "  --param N=V      a kind's held parameter: p=8 (dvbe), lsb_k=0.0625 (ic, ic-code)\n"
+    "  --bound DT       fit in ranges, each holding |residual| <= DT (e.g. 10mK): a range\n"
+    "                   that does not is halved at its middle reading (a named model)\n"
     "  --t0 TEMP        beta model: reference temperature of R0 (default 25C)\n"
     "  --pair T1/T2     B value reported for this pair (default 25/85, degC)\n"
     "  --u-temp DT      standard uncertainty for readings without a u_temp_k column\n"
@@ -46,13 +51,14 @@ static const char fit_usage[] =
     "                   (it then becomes the run's newest, chosen fit again)\n"
     "  --lot CODE       fit the latest run of every probe of the lot in one transaction:\n"
     "                   all fits are stored, or none when any probe fails\n"
-    "Readings CSV: a header naming columns temp_c|temp_k|temp_f, ohms, and optionally\n"
-    "u_temp_k, u_ohms, time, note (docs/readings-csv.md).\n"
+    "Readings CSV: a header naming columns temp_c|temp_k|temp_f, ohms (or volts,\n"
+    "reported_c, code), and optionally u_temp_k, u_ohms|u_volts, excite_a, time, note\n"
+    "(docs/readings-csv.md).\n"
     "Results hold only inside the calibrated range and the stated uncertainty; for medical,\n"
     "food-safety or process-safety use follow local regulations and accredited practice.\n";
 
 enum { O_MODEL = 1, O_T0, O_PAIR, O_UTEMP, O_AT, O_LINEAR, O_NOINFL, O_UNIT, O_JSON, O_PROBE,
-       O_RUN, O_LOT, O_DRY, O_AGAIN, O_COVK, O_RESOL, O_RESID };
+       O_RUN, O_LOT, O_DRY, O_AGAIN, O_COVK, O_RESOL, O_RESID, O_PARAM, O_BOUND };
 
 /* The options of 'fit' beyond the library's request. */
 struct fit_cli {
@@ -61,6 +67,9 @@ struct fit_cli {
     const char *serial, *lot;
     long long run_id;
     int all_residuals;
+    double bound_k;        /* --bound: fit in ranges that each hold it; 0: one fit */
+    const char **pnames;   /* --param NAME=VALUE, room for every argument */
+    double *pvalues;
 };
 
 static const struct option fit_opts[] = {
@@ -73,7 +82,9 @@ static const struct option fit_opts[] = {
     { "lot", required_argument, NULL, O_LOT },     { "dry-run", no_argument, NULL, O_DRY },
     { "store-again", no_argument, NULL, O_AGAIN }, { "coverage-k", required_argument, NULL, O_COVK },
     { "resolution", required_argument, NULL, O_RESOL },
-    { "residuals", required_argument, NULL, O_RESID }, { NULL, 0, NULL, 0 },
+    { "residuals", required_argument, NULL, O_RESID },
+    { "param", required_argument, NULL, O_PARAM },
+    { "bound", required_argument, NULL, O_BOUND }, { NULL, 0, NULL, 0 },
 };
 
 /* Take one option; BG_OK, or the usage error's code. */
@@ -134,6 +145,23 @@ static int fit_option(struct fit_cli *fc, int c, char **argv, double *at_k, stru
             return cli_usage_error("fit", "--residuals: '%s': the only value is 'all'", optarg);
         fc->all_residuals = 1;
         return BG_OK;
+    case O_PARAM: {
+        char *eq = strchr(optarg, '='), *end;
+        if (!eq || eq == optarg)
+            return cli_usage_error("fit", "--param: '%s': write NAME=VALUE (p=8, lsb_k=0.0625)",
+                                   optarg);
+        *eq = '\0';
+        fc->pvalues[rq->nparams] = strtod(eq + 1, &end);
+        if (end == eq + 1 || *end)
+            return cli_usage_error("fit", "--param %s: '%s': not a number", optarg, eq + 1);
+        fc->pnames[rq->nparams++] = optarg;
+        return BG_OK;
+    }
+    case O_BOUND:
+        if (bg_units_parse_tdiff(optarg, &fc->bound_k, &err) != BG_OK || !(fc->bound_k > 0.0))
+            return cli_usage_error("fit", "--bound: %s", err.msg[0] ? err.msg :
+                                   "must be above 0");
+        return BG_OK;
     case O_PROBE: fc->serial = optarg; return BG_OK;
     case O_LOT: fc->lot = optarg; return BG_OK;
     case O_RUN:
@@ -152,6 +180,8 @@ static int fit_check_args(const struct fit_cli *fc, int argc)
         return cli_usage_error("fit", "--dry-run and --store-again go with --probe");
     if (fc->rq.store_flags == (BG_CALIB_DRY_RUN | BG_CALIB_STORE_SAME))
         return cli_usage_error("fit", "give --dry-run or --store-again, not both");
+    if ((fc->serial || fc->lot) && fc->bound_k > 0.0)
+        return cli_usage_error("fit", "--bound goes with a readings file");
     if (fc->serial || fc->lot) {
         if (fc->serial && fc->lot)
             return cli_usage_error("fit", "give --probe or --lot, not both");
@@ -163,6 +193,8 @@ static int fit_check_args(const struct fit_cli *fc, int argc)
     }
     if (fc->run_id)
         return cli_usage_error("fit", "--run goes with --probe");
+    if (fc->bound_k > 0.0 && (fc->rq.ncheck || fc->all_residuals))
+        return cli_usage_error("fit", "--bound does not go with --at or --residuals");
     if (optind + 1 != argc)
         return cli_usage_error("fit", optind >= argc ? "no readings file given (or --probe, "
                                "--lot)" : "more than one readings file given");
@@ -178,6 +210,16 @@ static int fit_run(const struct fit_cli *fc, const char *path, struct cli_ctx *c
     bg_calib_lot lot = BG_CALIB_LOT_INIT;
     int rc;
 
+    if (path && fc->bound_k > 0.0) {
+        bg_fit_ranges sp;
+        rc = bg_calibrate_file_split(path, &fc->rq, fc->bound_k, &sp, &err);
+        if (rc == BG_OK)
+            print_fit_split(&sp, fc->unit, ctx->json);
+        else
+            cli_fail(NULL, &err);
+        bg_fit_split_release(&sp);
+        return rc;
+    }
     if (!path && (rc = cli_open_store(ctx, 0, &st)) != BG_OK)
         return rc;
     if (fc->lot) {
@@ -205,23 +247,28 @@ int cmd_fit(int argc, char **argv, struct cli_ctx *ctx)
     double *at_k = malloc((size_t)(argc > 0 ? argc : 1) * sizeof *at_k);
     int c, rc = BG_OK;
 
-    if (!at_k)
-        return cli_fail(NULL, &(bg_error){ BG_ENOMEM, "out of memory" });
     memset(&fc, 0, sizeof fc);
+    fc.pnames = malloc((size_t)(argc > 0 ? argc : 1) * sizeof *fc.pnames);
+    fc.pvalues = malloc((size_t)(argc > 0 ? argc : 1) * sizeof *fc.pvalues);
+    if (!at_k || !fc.pnames || !fc.pvalues) {
+        free(at_k), free(fc.pnames), free(fc.pvalues);
+        return cli_fail(NULL, &(bg_error){ BG_ENOMEM, "out of memory" });
+    }
     fc.rq = bg_calib_default_request();
     fc.rq.check_t_k = at_k;
+    fc.rq.param_names = fc.pnames, fc.rq.param_values = fc.pvalues;
     fc.unit = BG_UNIT_C;
     opterr = 0;
     while (rc == BG_OK && (c = getopt_long(argc, argv, ":h", fit_opts, NULL)) != -1) {
         if (c == 'h') {
             fputs(fit_usage, stdout);
-            free(at_k);
+            free(at_k), free(fc.pnames), free(fc.pvalues);
             return BG_OK;
         }
         rc = fit_option(&fc, c, argv, at_k, ctx);
     }
     if (rc == BG_OK && (rc = fit_check_args(&fc, argc)) == BG_OK)
         rc = fit_run(&fc, fc.serial || fc.lot ? NULL : argv[optind], ctx);
-    free(at_k);
+    free(at_k), free(fc.pnames), free(fc.pvalues);
     return rc;
 }

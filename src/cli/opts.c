@@ -16,6 +16,25 @@ void cli_inline_init(struct cli_inline *in)
     in->ncoef = 0;
     in->have_coef = 0;
     in->r25 = NAN, in->beta = NAN, in->t0_k = BG_T0_DEFAULT_K;
+    in->nparam = 0;
+}
+
+/* --param NAME=VALUE into 'in'. */
+static int inline_param(struct cli_inline *in, const char *arg, const char *cmd)
+{
+    const char *eq = strchr(arg, '=');
+    char *end;
+    size_t len = eq ? (size_t)(eq - arg) : 0;
+    if (!eq || len == 0 || len >= sizeof in->pname[0])
+        return cli_usage_error(cmd, "--param: '%s': write NAME=VALUE (p=8, lsb_k=0.0625)", arg);
+    if (in->nparam == sizeof in->pval / sizeof in->pval[0])
+        return cli_usage_error(cmd, "--param: at most %zu", in->nparam);
+    in->pval[in->nparam] = strtod(eq + 1, &end);
+    if (end == eq + 1 || *end)
+        return cli_usage_error(cmd, "--param: '%s': not a number after '='", arg);
+    memcpy(in->pname[in->nparam], arg, len);
+    in->pname[in->nparam++][len] = '\0';
+    return BG_OK;
 }
 
 int cli_inline_given(const struct cli_inline *in)
@@ -41,6 +60,8 @@ int cli_inline_option(struct cli_inline *in, int opt, const char *arg, const cha
         if (bg_units_parse_si(arg, "K", &in->beta, &err) != BG_OK)
             return cli_usage_error(cmd, "--beta: %s", err.msg);
         return BG_OK;
+    case CLI_IN_PARAM:
+        return inline_param(in, arg, cmd);
     default:
         if (bg_units_parse_temp(arg, BG_UNIT_NONE, &in->t0_k, &err) != BG_OK)
             return cli_usage_error(cmd, "--t0: %s", err.msg);
@@ -75,6 +96,11 @@ int cli_inline_model(const struct cli_inline *in, const char *cmd, bg_model *m)
     else if (beta_given)
         return cli_usage_error(cmd, "--r25 and --beta go with the beta model instead of --coef");
     if (bg_model_set_coef(m, coef, n, &err) != BG_OK)
+        return cli_usage_error(cmd, "%s", err.msg);
+    for (size_t i = 0; i < in->nparam; i++)
+        if (bg_model_set_param(m, in->pname[i], in->pval[i], &err) != BG_OK)
+            return cli_usage_error(cmd, "--param: %s", err.msg);
+    if (bg_model_check_params(m, &err) != BG_OK)
         return cli_usage_error(cmd, "%s", err.msg);
     return BG_OK;
 }
@@ -136,6 +162,7 @@ int cli_source_option(struct cli_source *s, int opt, const char *arg, const char
 {
     switch (opt) {
     case CLI_IN_MODEL: case CLI_IN_COEF: case CLI_IN_R25: case CLI_IN_BETA: case CLI_IN_T0:
+    case CLI_IN_PARAM:
         *rc = cli_inline_option(&s->in, opt, arg, cmd);
         return 1;
     case CLI_SRC_FIT:

@@ -6,6 +6,29 @@
 
 #include "cli.h"
 
+/* 1 for the NTC kinds, whose output is as it always was. */
+static int ntc(const bg_model *m)
+{
+    return (bg_model_flags(m) & BG_MODEL_INV_POLY) != 0;
+}
+
+/* The reading column's heading and the slope's ("R/ohm", "dT/dR K/ohm"; "V/V", "dT/dV K/V"). */
+static void headings(const bg_model *m, char *x, size_t xs, char *d, size_t ds)
+{
+    bg_quantity q = bg_model_quantity(m);
+    snprintf(x, xs, "%s/%s", bg_quantity_symbol(q), bg_quantity_unit(q));
+    snprintf(d, ds, "dT/d%s K/%s", bg_quantity_symbol(q), bg_quantity_unit(q));
+}
+
+/* A reading as text: a resistance as ohms are written, anything else %.7g. */
+static const char *xtext(const bg_model *m, double x, int sig, char *buf, size_t size)
+{
+    if (bg_model_quantity(m) == BG_QTY_RESISTANCE)
+        return bg_units_format_ohms(x, sig, buf, size);
+    snprintf(buf, size, "%.7g", x);
+    return buf;
+}
+
 static void curve_json(const bg_curve_src *src, const struct cli_fit_used *used,
                        const bg_curve *c)
 {
@@ -33,8 +56,8 @@ static void curve_json(const bg_curve_src *src, const struct cli_fit_used *used,
         const bg_curve_row *r = &c->rows[i];
         json_obj(&j, NULL);
         json_num(&j, "t_k", r->t_k);
-        json_num(&j, "ohms", r->r_ohm);
-        json_num(&j, "dtdr_k_per_ohm", r->dtdr_k_per_ohm);
+        json_num(&j, bg_quantity_column(bg_model_quantity(&src->model)), r->r_ohm);
+        json_num(&j, ntc(&src->model) ? "dtdr_k_per_ohm" : "dtdx", r->dtdr_k_per_ohm);
         json_num(&j, "alpha_per_k", r->alpha_per_k);
         json_num(&j, "U_k", r->U_k);
         json_bool(&j, "extrapolated", r->extrapolated);
@@ -45,9 +68,13 @@ static void curve_json(const bg_curve_src *src, const struct cli_fit_used *used,
     json_end(&j);
 }
 
-static void curve_csv(const bg_curve *c)
+static void curve_csv(const bg_model *m, const bg_curve *c)
 {
-    printf("t_k,ohms,dtdr_k_per_ohm,alpha_per_k,U_k,extrapolated\n");
+    if (ntc(m))
+        printf("t_k,ohms,dtdr_k_per_ohm,alpha_per_k,U_k,extrapolated\n");
+    else
+        printf("t_k,%s,dtdx,alpha_per_k,U_k,extrapolated\n",
+               bg_quantity_column(bg_model_quantity(m)));
     for (size_t i = 0; i < c->n; i++) {
         const bg_curve_row *r = &c->rows[i];
         printf("%.17g,%.17g,%.17g,%.17g,", r->t_k, r->r_ohm, r->dtdr_k_per_ohm, r->alpha_per_k);
@@ -77,7 +104,9 @@ static void curve_text(const bg_curve_src *src, const struct cli_fit_used *used,
         printf("U = k u with k = %.2f from Student's t for %zu degrees of freedom (coverage "
                "probability %.2f %%); no U where extrapolated\n", c->cover.k, src->dof,
                100.0 * c->cover.p);
-    printf("%12s %14s %14s %10s %11s\n", us, "R/ohm", "dT/dR K/ohm", "alpha %/K",
+    char xh[32], dh[32];
+    headings(&src->model, xh, sizeof xh, dh, sizeof dh);
+    printf("%12s %14s %14s %10s %11s\n", us, xh, dh, "alpha %/K",
            src->has_cov ? "U/mK" : "");
     for (size_t i = 0; i < c->n; i++) {
         const bg_curve_row *r = &c->rows[i];
@@ -87,7 +116,7 @@ static void curve_text(const bg_curve_src *src, const struct cli_fit_used *used,
         else if (src->has_cov)
             snprintf(ub, sizeof ub, "-");
         printf("%12.3f %14s %14.6g %10.4f %11s%s\n", bg_units_from_k(r->t_k, unit),
-               bg_units_format_ohms(r->r_ohm, 7, rb, sizeof rb), r->dtdr_k_per_ohm,
+               xtext(&src->model, r->r_ohm, 7, rb, sizeof rb), r->dtdr_k_per_ohm,
                100.0 * r->alpha_per_k, ub, r->extrapolated ? "  EXTRAPOLATED" : "");
     }
 }
@@ -98,7 +127,7 @@ void cli_print_curve(const bg_curve_src *src, const struct cli_fit_used *used,
     if (fmt == CLI_FMT_JSON)
         curve_json(src, used, c);
     else if (fmt == CLI_FMT_CSV)
-        curve_csv(c);
+        curve_csv(&src->model, c);
     else
         curve_text(src, used, c, unit);
 }
@@ -123,8 +152,9 @@ static void eval_json(const bg_curve_src *src, const bg_curve *c)
     for (size_t i = 0; i < c->n; i++) {
         const bg_curve_row *r = &c->rows[i];
         json_obj(&j, NULL);
-        json_str(&j, "given", r->given == BG_CURVE_AT_TEMP ? "temperature" : "resistance");
-        json_num(&j, "ohms", r->r_ohm);
+        json_str(&j, "given", r->given == BG_CURVE_AT_TEMP ? "temperature"
+                              : ntc(m) ? "resistance" : "reading");
+        json_num(&j, bg_quantity_column(bg_model_quantity(m)), r->r_ohm);
         json_num(&j, "t_k", r->t_k);
         json_num(&j, "t_c", bg_units_from_k(r->t_k, BG_UNIT_C));
         json_num(&j, "dtdr_k_per_ohm", r->dtdr_k_per_ohm);
@@ -149,13 +179,15 @@ void cli_print_eval(const bg_curve_src *src, const bg_curve *c, bg_temp_unit uni
         eval_json(src, c);
         return;
     }
-    printf("%12s  %12s  %13s  %9s  %9s\n", "R/ohm", bg_units_symbol(unit, 1)[0] == 'K' ?
-           "T/K" : unit == BG_UNIT_F ? "T/degF" : "T/degC", "dT/dR K/ohm", "alpha %/K",
+    char xh[32], dh[32];
+    headings(&src->model, xh, sizeof xh, dh, sizeof dh);
+    printf("%12s  %12s  %13s  %9s  %9s\n", xh, bg_units_symbol(unit, 1)[0] == 'K' ?
+           "T/K" : unit == BG_UNIT_F ? "T/degF" : "T/degC", dh, "alpha %/K",
            "beta/K");
     for (size_t i = 0; i < c->n; i++) {
         const bg_curve_row *r = &c->rows[i];
         printf("%12s  %12.3f  %13.6g  %9.4f  %9.2f\n",
-               bg_units_format_ohms(r->r_ohm, 6, b1, sizeof b1),
+               xtext(&src->model, r->r_ohm, 6, b1, sizeof b1),
                bg_units_from_k(r->t_k, unit), r->dtdr_k_per_ohm, 100.0 * r->alpha_per_k,
                r->beta_local_k);
     }

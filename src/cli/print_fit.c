@@ -41,7 +41,51 @@ static const char *recommended(const bg_calib_result *r, char *buf, size_t size)
     return bg_model_name(&r->cmp.row[r->cmp.chosen].model, buf, size);
 }
 
+/* 1 for the NTC kinds, whose output is as it always was. */
+static int is_ntc(const bg_fit *f)
+{
+    return (bg_model_flags(&f->model) & BG_MODEL_INV_POLY) != 0;
+}
+
+/* A reading of the fit's quantity as text: a resistance as ohms are written, else %.7g. */
+static const char *reading_text(const bg_fit *f, double x, char *buf, size_t size)
+{
+    if (bg_model_quantity(&f->model) == BG_QTY_RESISTANCE)
+        return bg_units_format_ohms(x, 7, buf, size);
+    snprintf(buf, size, "%.7g", x);
+    return buf;
+}
+
 /* ---- JSON ---- */
+
+/* What other kinds add: the quantity read, the kind's parameters and the derived values. */
+static void json_kind(json_out *j, const bg_fit *f)
+{
+    bg_derived d[8];
+    size_t nd = bg_model_derived(&f->model, f->dof ? f->cov : NULL, f->t_min_k, f->t_max_k, d,
+                                 8);
+    bg_quantity q = bg_model_quantity(&f->model);
+    json_str(j, "quantity", bg_quantity_column(q));
+    json_str(j, "unit", bg_quantity_unit(q));
+    json_int(j, "direction", bg_model_direction(&f->model));
+    json_obj(j, "parameters");
+    for (size_t i = 0; i < bg_model_nparam(&f->model); i++)
+        json_num(j, bg_model_param_name(&f->model, i), bg_model_param(&f->model, i));
+    json_obj_end(j);
+    json_arr(j, "derived");
+    for (size_t i = 0; i < nd && i < 8; i++) {
+        json_obj(j, NULL);
+        json_str(j, "name", d[i].name);
+        json_num(j, "value", d[i].value);
+        json_num(j, "u", d[i].u);
+        json_str(j, "unit", d[i].unit);
+        if (d[i].text[0])
+            json_str(j, "text", d[i].text);
+        json_str(j, "note", d[i].note);
+        json_obj_end(j);
+    }
+    json_arr_end(j);
+}
 
 /* The fit itself: model, coefficients, covariance and statistics. */
 static void json_fit(json_out *j, const bg_calib_result *r)
@@ -74,6 +118,8 @@ static void json_fit(json_out *j, const bg_calib_result *r)
         json_null(j, "covariance");
     if (bg_model_flags(&f->model) & BG_MODEL_HAS_T0)
         json_num(j, "t0_k", f->model.t0_k);
+    if (!is_ntc(f))
+        json_kind(j, f);
     json_int(j, "n", (long long)f->n);
     json_int(j, "dof", (long long)f->dof);
     json_bool(j, "weighted", f->weighted);
@@ -136,7 +182,7 @@ static void json_curve(json_out *j, const bg_calib_result *r)
         for (size_t i = 0; i < r->nchecks; i++) {
             json_obj(j, NULL);
             json_num(j, "t_k", r->checks[i].t_k);
-            json_num(j, "ohms", r->checks[i].r_ohm);
+            json_num(j, bg_quantity_column(bg_model_quantity(&f->model)), r->checks[i].r_ohm);
             json_num(j, "u_k", r->checks[i].u_k);
             json_num(j, "U_k", r->checks[i].U_k);
             json_bool(j, "extrapolated", r->checks[i].extrapolated);
@@ -227,7 +273,7 @@ static void resid_line(const bg_calib_result *r, size_t i, bg_temp_unit un)
     const bg_point *p = &r->pts[i];
     char b1[64];
     printf("  %6zu  %12.4f  %12s  %11.4f  %8.2f\n", p->line, bg_units_from_k(p->t_k, un),
-           bg_units_format_ohms(p->r_ohm, 7, b1, sizeof b1), r->fit.resid_mk[i],
+           reading_text(&r->fit, p->r_ohm, b1, sizeof b1), r->fit.resid_mk[i],
            r->fit.student[i]);
 }
 
@@ -257,6 +303,25 @@ static void text_resid_summary(const bg_calib_result *r, bg_temp_unit un)
            band[1], band[2], band[3]);
 }
 
+/* The quantities derived from the coefficients (other kinds than the NTC ones). */
+static void text_derived(const bg_fit *f)
+{
+    bg_derived d[8];
+    size_t nd = bg_model_derived(&f->model, f->dof ? f->cov : NULL, f->t_min_k, f->t_max_k, d,
+                                 8);
+    for (size_t i = 0; i < nd && i < 8; i++) {
+        if (d[i].text[0])
+            printf("  %s: %s\n", d[i].name, d[i].text);
+        else if (isfinite(d[i].u))
+            printf("  %s = %.7g %s, u = %.2g %s\n", d[i].name, d[i].value, d[i].unit, d[i].u,
+                   d[i].unit);
+        else
+            printf("  %s = %.7g %s\n", d[i].name, d[i].value, d[i].unit);
+        if (d[i].note[0])
+            printf("      (%s)\n", d[i].note);
+    }
+}
+
 /* The readings, the model with its coefficients, the weights and the residuals. */
 static void text_fit(const bg_calib_result *r, bg_temp_unit un, int all_residuals)
 {
@@ -266,11 +331,19 @@ static void text_fit(const bg_calib_result *r, bg_temp_unit un, int all_residual
     printf("readings: %s, %zu points, %s .. %s\n", r->source, f->n,
            bg_units_format_temp(f->t_min_k, un, 3, b1, sizeof b1),
            bg_units_format_temp(f->t_max_k, un, 3, b2, sizeof b2));
-    printf("fitted: %s (%s)   %s,  L = ln(R / 1 ohm), T in K\n",
+    printf("fitted: %s (%s)   %s,  %sT in K\n",
            bg_model_name(&f->model, name, sizeof name), fitted_how(r),
-           bg_model_formula(&f->model));
+           bg_model_formula(&f->model), is_ntc(f) ? "L = ln(R / 1 ohm), " : "");
+    if (!is_ntc(f))
+        printf("  reads: %s in %s (column '%s')\n",
+               bg_quantity_symbol(bg_model_quantity(&f->model)),
+               bg_quantity_unit(bg_model_quantity(&f->model)),
+               bg_quantity_column(bg_model_quantity(&f->model)));
     if (bg_model_flags(&f->model) & BG_MODEL_HAS_T0)
         printf("  T0 = %s\n", bg_units_format_temp(f->model.t0_k, un, 3, b1, sizeof b1));
+    for (size_t i = 0; i < bg_model_nparam(&f->model); i++)
+        printf("  %s = %.10g (held)\n", bg_model_param_name(&f->model, i),
+               bg_model_param(&f->model, i));
     for (size_t i = 0; i < f->npar; i++) {
         double u = bg_fit_coef_u(f, i);
         if (isfinite(u))
@@ -280,6 +353,7 @@ static void text_fit(const bg_calib_result *r, bg_temp_unit un, int all_residual
             printf("  %-5s = %18.10e   u = n/a\n", bg_model_coef_name(&f->model, i),
                    f->model.coef[i]);
     }
+    text_derived(f);
     if (f->weighted)
         printf("weights: stated uncertainties; chi2 = %.4g for %zu dof (reduced %.4g, p = %.3g)"
                "%s\n", f->chi2, f->dof, f->reduced_chi2, bg_fit_p_value(f),
@@ -288,7 +362,10 @@ static void text_fit(const bg_calib_result *r, bg_temp_unit un, int all_residual
         printf("weights: equal (no uncertainties given); covariance from the residual "
                "scatter, %zu dof\n", f->dof);
     printf("\nresiduals (measured - fitted):\n");
-    printf("  %6s  %12s  %12s  %11s  %8s\n", "line", t_heading(un), "R/ohm", "resid/mK",
+    char xh[32];
+    snprintf(xh, sizeof xh, "%s/%s", bg_quantity_symbol(bg_model_quantity(&f->model)),
+             bg_quantity_unit(bg_model_quantity(&f->model)));
+    printf("  %6s  %12s  %12s  %11s  %8s\n", "line", t_heading(un), xh, "resid/mK",
            "student");
     if (f->n <= CLI_RESID_ALL_MAX || all_residuals) {
         for (size_t i = 0; i < f->n; i++)
@@ -330,14 +407,15 @@ static void text_curve(const bg_calib_result *r, bg_temp_unit un)
             continue;
         if (isfinite(c->U_k))
             snprintf(b3, sizeof b3, "%.4f mK", 1e3 * c->U_k);
+        bg_quantity q = bg_model_quantity(&f->model);
         if (c->extrapolated)
-            printf("at %s: R = %s ohm, U: none   EXTRAPOLATED: outside the calibrated range\n",
-                   bg_units_format_temp(c->t_k, un, 3, b1, sizeof b1),
-                   bg_units_format_ohms(c->r_ohm, 7, b2, sizeof b2));
+            printf("at %s: %s = %s %s, U: none   EXTRAPOLATED: outside the calibrated range\n",
+                   bg_units_format_temp(c->t_k, un, 3, b1, sizeof b1), bg_quantity_symbol(q),
+                   reading_text(f, c->r_ohm, b2, sizeof b2), bg_quantity_unit(q));
         else
-            printf("at %s: R = %s ohm, U = %s\n",
-                   bg_units_format_temp(c->t_k, un, 3, b1, sizeof b1),
-                   bg_units_format_ohms(c->r_ohm, 7, b2, sizeof b2), b3);
+            printf("at %s: %s = %s %s, U = %s\n",
+                   bg_units_format_temp(c->t_k, un, 3, b1, sizeof b1), bg_quantity_symbol(q),
+                   reading_text(f, c->r_ohm, b2, sizeof b2), bg_quantity_unit(q), b3);
     }
 }
 
@@ -532,4 +610,72 @@ int print_fit_progress(size_t done, size_t total, void *ctx)
     (void)ctx;
     cli_progress("fitting", done, total);
     return 0;
+}
+
+/* ---- a fit in ranges ---- */
+
+static void split_json(const bg_fit_ranges *s)
+{
+    json_out j;
+    char name[16];
+    json_begin(&j, stdout);
+    json_obj(&j, NULL);
+    json_num(&j, "bound_k", s->bound_k);
+    json_bool(&j, "all_hold", s->all_hold);
+    json_arr(&j, "ranges");
+    for (size_t i = 0; i < s->n; i++) {
+        const bg_fit *f = &s->range[i].fit;
+        json_obj(&j, NULL);
+        json_str(&j, "model", bg_model_name(&f->model, name, sizeof name));
+        json_num(&j, "x_lo", s->range[i].x_lo);
+        json_num(&j, "x_hi", s->range[i].x_hi);
+        json_num(&j, "t_min_k", f->t_min_k);
+        json_num(&j, "t_max_k", f->t_max_k);
+        json_bool(&j, "holds", s->range[i].holds);
+        json_nums(&j, "coefficients", f->model.coef, f->npar);
+        json_arr(&j, "u_coefficients");
+        for (size_t k = 0; k < f->npar; k++)
+            json_num(&j, NULL, bg_fit_coef_u(f, k));
+        json_arr_end(&j);
+        json_kind(&j, f);
+        json_int(&j, "n", (long long)f->n);
+        json_num(&j, "rms_mk", f->rms_mk);
+        json_num(&j, "max_abs_mk", f->max_abs_mk);
+        json_obj_end(&j);
+    }
+    json_arr_end(&j);
+    json_obj_end(&j);
+    json_end(&j);
+}
+
+void print_fit_split(const bg_fit_ranges *s, bg_temp_unit unit, int json)
+{
+    char name[16], b1[64], b2[64];
+    if (json) {
+        split_json(s);
+        return;
+    }
+    printf("%zu range%s, each to hold |residual| <= %.4g mK: %s\n", s->n, s->n == 1 ? "" : "s",
+           1e3 * s->bound_k, s->all_hold ? "all hold it" : "NOT ALL HOLD IT (see below)");
+    for (size_t i = 0; i < s->n; i++) {
+        const bg_fit *f = &s->range[i].fit;
+        bg_quantity q = bg_model_quantity(&f->model);
+        printf("\nrange %zu: %s %.7g .. %.7g %s (%s .. %s), %zu readings, model %s\n", i + 1,
+               bg_quantity_symbol(q), s->range[i].x_lo, s->range[i].x_hi, bg_quantity_unit(q),
+               bg_units_format_temp(f->t_min_k, unit, 3, b1, sizeof b1),
+               bg_units_format_temp(f->t_max_k, unit, 3, b2, sizeof b2), f->n,
+               bg_model_name(&f->model, name, sizeof name));
+        for (size_t k = 0; k < bg_model_nparam(&f->model); k++)
+            printf("  %s = %.10g (held)\n", bg_model_param_name(&f->model, k),
+                   bg_model_param(&f->model, k));
+        for (size_t k = 0; k < f->npar; k++)
+            printf("  %-5s = %18.10e   u = %.2e\n", bg_model_coef_name(&f->model, k),
+                   f->model.coef[k], bg_fit_coef_u(f, k));
+        printf("  RMS %.4f mK, max |residual| %.4f mK%s\n", f->rms_mk, f->max_abs_mk,
+               s->range[i].holds ? "" : "   EXCEEDS THE BOUND: too few readings to split "
+               "further");
+        for (size_t k = 0; k < f->nnotes; k++)
+            printf("  note: %s\n", f->notes[k].msg);
+    }
+    printf("\nValid only inside each range; neighbouring ranges share their end reading.\n");
 }

@@ -8,15 +8,18 @@
 #include <sys/stat.h>
 
 #include "bandgap/csv.h"
+#include "bandgap/model.h"
 #include "bandgap/text.h"
 #include "bandgap/suggest.h"
 #include "num_int.h"
 
 enum col { C_TEMP_C, C_TEMP_K, C_TEMP_F, C_REF_OHMS, C_OHMS, C_U_T, C_U_R, C_TIME, C_NOTE,
-           C_COUNT };
+           C_VOLTS, C_REPORTED, C_CODE, C_U_VOLTS, C_EXCITE, C_COUNT };
 static const char *col_names[C_COUNT] = { "temp_c", "temp_k", "temp_f", "ref_ohms", "ohms",
-                                          "u_temp_k", "u_ohms", "time", "note" };
-#define KNOWN_COLUMNS "temp_c, temp_k, temp_f, ref_ohms, ohms, u_temp_k, u_ohms, time, note"
+                                          "u_temp_k", "u_ohms", "time", "note", "volts",
+                                          "reported_c", "code", "u_volts", "excite_a" };
+#define KNOWN_COLUMNS "temp_c, temp_k, temp_f, ref_ohms, ohms, u_temp_k, u_ohms, time, note, " \
+                      "volts, reported_c, code, u_volts, excite_a"
 #define MAX_COLS 64
 
 void bg_readings_init(bg_readings *rs)
@@ -253,9 +256,23 @@ static int parse_header(parser *ps, const field *f, int nf, int *map, int *where
                             ps->name, ps->line,
                             ntemp ? "more than one temperature column"
                                   : "no temperature column");
-    if (where_col[C_OHMS] < 0)
+    int nread = (where_col[C_OHMS] >= 0) + (where_col[C_VOLTS] >= 0) +
+                (where_col[C_REPORTED] >= 0) + (where_col[C_CODE] >= 0);
+    if (nread == 0)
         return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: no resistance column 'ohms'",
                             ps->name, ps->line);
+    if (nread > 1)
+        return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: more than one reading column (give "
+                            "one of ohms, volts, reported_c, code)", ps->name, ps->line);
+    if (where_col[C_U_R] >= 0 && where_col[C_OHMS] < 0)
+        return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: column 'u_ohms' goes with 'ohms'",
+                            ps->name, ps->line);
+    if (where_col[C_U_VOLTS] >= 0 && where_col[C_VOLTS] < 0)
+        return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: column 'u_volts' goes with 'volts'",
+                            ps->name, ps->line);
+    if (where_col[C_EXCITE] >= 0 && where_col[C_VOLTS] < 0)
+        return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: column 'excite_a' (the excitation "
+                            "current of a junction) goes with 'volts'", ps->name, ps->line);
     return BG_OK;
 }
 
@@ -405,6 +422,11 @@ static int read_header(bg_csv_reader *rd, bg_error *err)
     sh->ref_ohms = where_col[C_REF_OHMS] >= 0;
     sh->has_u_t = where_col[C_U_T] >= 0, sh->has_u_r = where_col[C_U_R] >= 0;
     sh->has_time = where_col[C_TIME] >= 0, sh->has_note = where_col[C_NOTE] >= 0;
+    sh->quantity = where_col[C_VOLTS] >= 0      ? BG_QTY_VOLTAGE
+                 : where_col[C_REPORTED] >= 0   ? BG_QTY_REPORTED_T
+                 : where_col[C_CODE] >= 0       ? BG_QTY_CODE : BG_QTY_RESISTANCE;
+    sh->has_u_r = sh->has_u_r || where_col[C_U_VOLTS] >= 0;
+    sh->has_excite = where_col[C_EXCITE] >= 0;
     return BG_OK;
 }
 
@@ -534,9 +556,27 @@ static int parse_field(bg_csv_reader *rd, const field *f, int c, bg_reading *r)
     double v = 0.0;
     int rc;
 
-    if (c <= C_U_R && (rc = number(ps, f, col, &v)) != BG_OK)
+    if ((c <= C_U_R || c >= C_VOLTS) && (rc = number(ps, f, col, &v)) != BG_OK)
         return rc;
     switch (c) {
+    case C_VOLTS: case C_REPORTED: case C_CODE:
+        if (!isfinite(v))
+            return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field '%s': not a finite number",
+                                ps->name, ps->line, col);
+        r->pt.r_ohm = v; /* the reading in the quantity of the file (readings.h) */
+        return BG_OK;
+    case C_U_VOLTS:
+        if (!(v >= 0.0))
+            return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'u_volts': must not be "
+                                "negative", ps->name, ps->line);
+        r->pt.u_r_ohm = v;
+        return BG_OK;
+    case C_EXCITE:
+        if (!(v > 0.0))
+            return bg_error_set(ps->err, BG_EINVAL, "%s:%zu: field 'excite_a': must be greater "
+                                "than 0", ps->name, ps->line);
+        r->excite_a = v;
+        return BG_OK;
     case C_TEMP_C: case C_TEMP_K: case C_TEMP_F:
         r->t_raw = v;
         r->pt.t_k = bg_units_to_k(v, c == C_TEMP_C ? BG_UNIT_C : c == C_TEMP_K ? BG_UNIT_K

@@ -98,6 +98,26 @@ static int request_opts(const bg_calib_request *rq, bg_fit_opts *o, int *is_auto
     *is_auto = strcmp(rq->model, "auto") == 0;
     if (!*is_auto && bg_model_parse(rq->model, &o->model, err) != BG_OK)
         return BG_EINVAL;
+    if (*is_auto && rq->quantity != BG_QTY_RESISTANCE) {
+        /* the parameters go to the candidates through the first of them */
+        const char *first[1];
+        if (bg_model_candidates((bg_quantity)rq->quantity, 0, first, 1) == 0)
+            return bg_error_set(err, BG_EINVAL, "no model reads %s",
+                                bg_quantity_column((bg_quantity)rq->quantity));
+        bg_model_parse(first[0], &o->model, NULL);
+    }
+    o->quantity = rq->quantity;
+    if (!*is_auto && (int)bg_model_quantity(&o->model) != rq->quantity)
+        return bg_error_set(err, BG_EINVAL, "model '%s' reads %s (column '%s'), but the "
+                            "readings are %s (column '%s')", rq->model,
+                            bg_quantity_unit(bg_model_quantity(&o->model)),
+                            bg_quantity_column(bg_model_quantity(&o->model)),
+                            bg_quantity_unit((bg_quantity)rq->quantity),
+                            bg_quantity_column((bg_quantity)rq->quantity));
+    for (size_t i = 0; i < rq->nparams; i++)
+        if (bg_model_set_param(&o->model, rq->param_names[i], rq->param_values[i], err) !=
+            BG_OK)
+            return BG_EINVAL;
     o->model.t0_k = rq->t0_k;
     o->refine = !rq->linear_only;
     o->inflate = !rq->no_inflate;
@@ -111,7 +131,8 @@ static int request_opts(const bg_calib_request *rq, bg_fit_opts *o, int *is_auto
 /* The kind of model with the most coefficients that 'n' readings fit with a degree of freedom
 ** left (or, failing that, with none), below 'below' coefficients: its name into 'buf' and its
 ** number of coefficients, or 0 when none fits. */
-static size_t fewer_coefficients(size_t n, size_t below, char *buf, size_t size)
+static size_t fewer_coefficients(const bg_model *like, size_t n, size_t below, char *buf,
+                                 size_t size)
 {
     size_t best = 0;
     for (int exact = 0; exact < 2 && best == 0; exact++)
@@ -119,6 +140,12 @@ static size_t fewer_coefficients(size_t n, size_t below, char *buf, size_t size)
             bg_model m;
             const char *name = bg_model_type_name(bg_model_type_at(i));
             if (bg_model_parse(name, &m, NULL) != BG_OK) /* a kind that needs a degree */
+                continue;
+            /* of the same quantity and family (NTC or not) */
+            if (bg_model_quantity(&m) != bg_model_quantity(like) ||
+                bg_model_direction(&m) != bg_model_direction(like) ||
+                (bg_model_flags(&m) & BG_MODEL_INV_POLY) !=
+                    (bg_model_flags(like) & BG_MODEL_INV_POLY))
                 continue;
             size_t np = bg_model_npar(&m);
             if (np < below && (exact ? np == n : np < n) && np > best) {
@@ -135,7 +162,7 @@ static int too_few(size_t n, const char *source, int is_auto, const bg_fit_opts 
 {
     char name[16], alt[64], hint[200] = "";
     size_t npar = bg_model_npar(&o->model), need = is_auto ? 4 : npar;
-    size_t np = fewer_coefficients(n, is_auto ? SIZE_MAX : npar, alt, sizeof alt);
+    size_t np = fewer_coefficients(&o->model, n, is_auto ? SIZE_MAX : npar, alt, sizeof alt);
 
     if (n == 0)
         return bg_error_set(err, BG_EINVAL, "%s: no readings (a header only?)", source);
@@ -208,7 +235,8 @@ static void derive_brief(bg_calib_result *out, const bg_point *pts, size_t n,
                                fmax(t1_k, t2_k) > f->t_max_k + RANGE_TOL_K;
     if (bg_model_b_pair(&f->model, t1_k, t2_k, &out->b_pair_k, NULL) != BG_OK)
         out->b_pair_k = NAN;
-    if (bg_model_r_from_t(&f->model, BG_T0_DEFAULT_K, &out->r25_ohm, NULL) != BG_OK)
+    if (bg_model_quantity(&f->model) != BG_QTY_RESISTANCE ||
+        bg_model_r_from_t(&f->model, BG_T0_DEFAULT_K, &out->r25_ohm, NULL) != BG_OK)
         out->r25_ohm = NAN;
     /* Taken at the readings, which include both ends of the range, where u(T) of these curves
     ** is largest. */
@@ -325,6 +353,19 @@ int bg_calibrate(const bg_point *pts, size_t n, const char *source, const bg_cal
     return rc;
 }
 
+/* A junction is calibrated at one constant current: an excitation current that changes from
+** reading to reading (by more than 1e-6 relative) is refused, naming the line. */
+static int same_excitation(const bg_readings *rs, const char *path, bg_error *err)
+{
+    for (size_t i = 1; rs->has_excite && i < rs->n; i++)
+        if (fabs(rs->v[i].excite_a - rs->v[0].excite_a) > 1e-6 * rs->v[0].excite_a)
+            return bg_error_set(err, BG_EINVAL, "%s:%zu: field 'excite_a': %g A, but line %zu "
+                                "has %g A: a junction's model holds at one constant current; "
+                                "calibrate each current apart", path, rs->v[i].pt.line,
+                                rs->v[i].excite_a, rs->v[0].pt.line, rs->v[0].excite_a);
+    return BG_OK;
+}
+
 int bg_calibrate_file(const char *path, const bg_calib_request *rq, bg_calib_result *out,
                       bg_error *err)
 {
@@ -340,10 +381,47 @@ int bg_calibrate_file(const char *path, const bg_calib_request *rq, bg_calib_res
                           "'bandgap import FILE --probe SERIAL --ref ID'", path);
     else if (!(pts = grow(NULL, rs.n, sizeof *pts)))
         rc = bg_error_set(err, BG_ENOMEM, "out of memory");
-    else {
+    else if ((rc = same_excitation(&rs, path, err)) == BG_OK) {
+        bg_calib_request q = *rq;
+        q.quantity = rs.quantity;
         bg_readings_points(&rs, pts);
-        rc = bg_calibrate(pts, rs.n, strcmp(path, "-") == 0 ? "<stdin>" : path, rq, out, err);
+        rc = bg_calibrate(pts, rs.n, strcmp(path, "-") == 0 ? "<stdin>" : path, &q, out, err);
     }
+    free(pts);
+    bg_readings_release(&rs);
+    return rc;
+}
+
+int bg_calibrate_file_split(const char *path, const bg_calib_request *rq, double bound_k,
+                            bg_fit_ranges *out, bg_error *err)
+{
+    bg_readings rs = BG_READINGS_INIT;
+    bg_calib_request q = *rq;
+    bg_point *pts = NULL;
+    bg_fitter *fr = NULL;
+    bg_fit_opts o;
+    int rc, is_auto = 0;
+
+    memset(out, 0, sizeof *out);
+    if ((rc = bg_csv_read_file(path, &rs, err)) != BG_OK)
+        return rc;
+    q.quantity = rs.quantity;
+    if (rs.ref_ohms)
+        rc = bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs the reference "
+                          "thermometer's coefficients: import the file first", path);
+    else if ((rc = same_excitation(&rs, path, err)) == BG_OK &&
+             (rc = request_opts(&q, &o, &is_auto, err)) == BG_OK && is_auto)
+        rc = bg_error_set(err, BG_EINVAL, "fitting in ranges needs a named model (e.g. "
+                          "cheb:5), not 'auto'");
+    if (rc == BG_OK && (!(pts = grow(NULL, rs.n, sizeof *pts)) || !(fr = bg_fitter_new())))
+        rc = bg_error_set(err, BG_ENOMEM, "out of memory");
+    if (rc == BG_OK) {
+        bg_readings_points(&rs, pts);
+        apply_default_u(pts, rs.n, q.u_t_default_k);
+        o.source = strcmp(path, "-") == 0 ? "<stdin>" : path;
+        rc = bg_fit_split(fr, pts, rs.n, &o, bound_k, out, err);
+    }
+    bg_fitter_free(fr);
     free(pts);
     bg_readings_release(&rs);
     return rc;

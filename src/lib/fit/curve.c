@@ -75,12 +75,27 @@ static int row_eval(const bg_curve_src *src, double k, const bg_curve_query *q,
     }
     if (rc == BG_OK)
         rc = bg_model_dtdr(m, row->r_ohm, &row->dtdr_k_per_ohm, err);
+    if (rc == BG_OK && !(bg_model_flags(m) & BG_MODEL_INV_POLY)) {
+        /* a kind other than the NTC ones: alpha for a resistance, no local beta */
+        row->beta_local_k = NAN;
+        if (bg_model_quantity(m) != BG_QTY_RESISTANCE ||
+            bg_model_alpha(m, row->t_k, &row->alpha_per_k, NULL) != BG_OK)
+            row->alpha_per_k = NAN;
+        if (src->has_cov && bg_model_u_t(m, src->cov, row->t_k, &row->u_k, NULL) != BG_OK)
+            row->u_k = NAN;
+        row->extrapolated = src->has_range && (row->t_k < src->t_min_k - RANGE_TOL_K ||
+                                               row->t_k > src->t_max_k + RANGE_TOL_K);
+        row->U_k = row->extrapolated ? NAN : k * row->u_k;
+        row->ok = 1;
+        return BG_OK;
+    }
     if (rc == BG_OK)
         rc = bg_model_alpha(m, row->t_k, &row->alpha_per_k, err);
     if (rc == BG_OK)
         rc = bg_model_beta_local(m, row->t_k, &row->beta_local_k, err);
     if (rc != BG_OK)
         return rc;
+    /* (other kinds: alpha and the local beta are not theirs, NaN; see curve_kind) */
     if (src->has_cov && bg_model_u_t(m, src->cov, row->t_k, &row->u_k, NULL) != BG_OK)
         row->u_k = NAN;
     row->extrapolated = src->has_range && (row->t_k < src->t_min_k - RANGE_TOL_K ||

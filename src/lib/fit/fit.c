@@ -186,6 +186,17 @@ static void add_note(bg_fit *f, bg_note_kind kind, size_t line, const char *fmt,
     va_end(ap);
 }
 
+size_t bgi_fit_basis(const bg_model *m, unsigned pw[BG_MODEL_MAXPAR])
+{
+    size_t nb = bg_model_basis(m, pw);
+    if (nb == 0 && bg_model_lin_form(m) >= 0) {
+        nb = bg_model_npar(m);
+        for (size_t j = 0; j < nb; j++)
+            pw[j] = (unsigned)j;
+    }
+    return nb;
+}
+
 static void basis_row(double L, const unsigned *pw, size_t nb, double *g)
 {
     double pows[MAXB];
@@ -264,7 +275,8 @@ static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
                         int *weighted, bg_fit *out, bg_error *err)
 {
     char w1[300], w2[300];
-    int any_u = 0;
+    int any_u = 0, dir = bg_model_direction(&o->model);
+    bg_quantity qty = bg_model_quantity(&o->model);
 
     for (size_t i = 0; i < n; i++) {
         const bg_point *p = &pts[i];
@@ -272,7 +284,7 @@ static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
             !isfinite(p->u_r_ohm))
             return bg_error_set(err, BG_EINVAL, "%s: value is not a finite number",
                                 where(o, p, i, w1, sizeof w1));
-        if (!(p->r_ohm > 0.0))
+        if (!(p->r_ohm > 0.0) && qty == BG_QTY_RESISTANCE)
             return bg_error_set(err, BG_EINVAL, "%s: resistance must be greater than 0 ohm",
                                 where(o, p, i, w1, sizeof w1));
         if (!(p->t_k > 0.0))
@@ -303,14 +315,35 @@ static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
                             out->ndistinct == 1 ? "" : "s", o->setpoint_gap_k,
                             bg_model_name(&o->model, name, sizeof name), npar, npar);
     }
-    /* An NTC's resistance falls as it warms: each point is compared with the nearest point
-    ** that is colder by more than 'mono_gap_k' (closer pairs may cross within noise). */
+    /* An NTC's resistance falls as it warms (a PTC's, a platinum thermometer's rises; each
+    ** kind states its direction): each point is compared with the nearest point that is
+    ** colder by more than 'mono_gap_k' (closer pairs may cross within noise). */
+    char w3[16];
     for (size_t j = 1, i = 0; j < n; j++) {
         const struct tsort *b = &fr->sorted[j];
         while (i + 1 < j && b->t - fr->sorted[i + 1].t > o->mono_gap_k)
             i++;
         const struct tsort *a = &fr->sorted[i];
-        if (b->t - a->t > o->mono_gap_k && !(b->r < a->r))
+        if (dir > 0 && b->t - a->t > o->mono_gap_k && !(b->r > a->r))
+            return bg_error_set(err, BG_EINVAL, "%s: the %s reading falls or stays as the "
+                                "temperature rises (%.6g %s at %.3f K, %s has %.6g %s at %.3f K): model "
+                                "'%s' reads a quantity that rises with temperature, or columns "
+                                "swapped", where(o, &pts[b->i], b->i, w1, sizeof w1),
+                                bg_quantity_column(qty), b->r, bg_quantity_unit(qty), b->t,
+                                where(o, &pts[a->i], a->i, w2, sizeof w2), a->r,
+                                bg_quantity_unit(qty), a->t, bg_model_name(&o->model, w3,
+                                sizeof w3));
+        if (dir < 0 && qty != BG_QTY_RESISTANCE && b->t - a->t > o->mono_gap_k &&
+            !(b->r < a->r))
+            return bg_error_set(err, BG_EINVAL, "%s: the %s reading rises or stays as the "
+                                "temperature rises (%.6g %s at %.3f K, %s has %.6g %s at %.3f K): model "
+                                "'%s' reads a quantity that falls with temperature, or columns "
+                                "swapped", where(o, &pts[b->i], b->i, w1, sizeof w1),
+                                bg_quantity_column(qty), b->r, bg_quantity_unit(qty), b->t,
+                                where(o, &pts[a->i], a->i, w2, sizeof w2), a->r,
+                                bg_quantity_unit(qty), a->t, bg_model_name(&o->model, w3,
+                                sizeof w3));
+        if (dir < 0 && qty == BG_QTY_RESISTANCE && b->t - a->t > o->mono_gap_k && !(b->r < a->r))
             return bg_error_set(err, BG_EINVAL, "%s: resistance rises with temperature "
                                 "(%.6g ohm at %.3f K, %s has %.6g ohm at %.3f K): not an NTC, "
                                 "or columns swapped", where(o, &pts[b->i], b->i, w1, sizeof w1),
@@ -529,6 +562,27 @@ static void monotonic_note(const bg_fitter *fr, const bg_fit_opts *o, const doub
     }
 }
 
+/* The same for a kind of another form: dT/dx must keep the sign of the kind's direction
+** over the readings' range (65 points). */
+static void monotonic_note_x(const bg_point *pts, const bg_fit_opts *o, const char *name,
+                             bg_fit *out)
+{
+    double lo = INFINITY, hi = -INFINITY, d;
+    int dir = bg_model_direction(&out->model);
+    for (size_t i = 0; i < out->n; i++)
+        lo = fmin(lo, pts[i].r_ohm), hi = fmax(hi, pts[i].r_ohm);
+    for (int s = 0; s <= 64; s++) {
+        double x = lo + (hi - lo) * s / 64.0;
+        if (bg_model_dtdx(&out->model, x, &d, NULL) != BG_OK || !(d * dir > 0.0)) {
+            add_note(out, BG_NOTE_MONOTONIC, 0, "%s: the fitted '%s' curve is not monotonic "
+                     "inside the calibrated range (near %.6g %s): too many coefficients for "
+                     "these points?", o->source ? o->source : "fit", name, x,
+                     bg_quantity_unit(bg_model_quantity(&out->model)));
+            return;
+        }
+    }
+}
+
 /* The weighted linear fit in 1/T that starts the refinement: first with u(T) alone (1 K when
 ** none is given), then, when readings state u(R), again with u(R) carried through the first
 ** fit's slope.  Fills fr->L, fr->G and fr->u, and 'lf'. */
@@ -642,7 +696,7 @@ int bgi_fit_check(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
 {
     char name[16];
     unsigned pw[MAXB];
-    size_t nb = bg_model_basis(&o->model, pw), npar = bg_model_npar(&o->model);
+    size_t nb = bgi_fit_basis(&o->model, pw), npar = bg_model_npar(&o->model);
 
     bg_model_name(&o->model, name, sizeof name);
     if (nb == 0)
@@ -664,7 +718,7 @@ int bgi_fit_finish(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
     int weighted = sol->weighted;
     char name[16];
     unsigned pw[MAXB];
-    size_t nb = bg_model_basis(&o->model, pw), npar = bg_model_npar(&o->model);
+    size_t nb = bgi_fit_basis(&o->model, pw), npar = bg_model_npar(&o->model);
     double a[MAXB];
     int rc;
 
@@ -687,7 +741,10 @@ int bgi_fit_finish(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
         chi2_notes(fr, o, out);
     if ((rc = check_finite(out, name, err)) != BG_OK)
         return rc;
-    monotonic_note(fr, o, a, name, out);
+    if (bg_model_basis(&o->model, pw) == 0)
+        monotonic_note_x(pts, o, name, out);
+    else
+        monotonic_note(fr, o, a, name, out);
     return BG_OK;
 }
 
@@ -701,6 +758,8 @@ int bg_fitter_run(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
     bg_linfit lf;
     int rc;
 
+    if (nb == 0 && bg_model_lin_form(&o->model) >= 0)
+        return bgi_fit_generic(fr, pts, n, o, out, err);
     bg_model_name(&o->model, name, sizeof name);
     if ((rc = bgi_fit_check(fr, pts, n, o, &sol.weighted, out, err)) != BG_OK ||
         (rc = fit_start(fr, pts, n, o, sol.weighted, &lf, err)) != BG_OK)
@@ -749,6 +808,16 @@ static double u_of_l(const bg_fit *fit, double L, double t_k)
 int bg_fit_u_t(const bg_fit *fit, double t_k, double *u_k, int *extrapolated, bg_error *err)
 {
     double r;
+    if (!(bg_model_flags(&fit->model) & BG_MODEL_INV_POLY)) {
+        int rc = BG_OK;
+        if (extrapolated)
+            *extrapolated = t_k < fit->t_min_k || t_k > fit->t_max_k;
+        if (fit->dof == 0)
+            *u_k = NAN;
+        else
+            rc = bg_model_u_t(&fit->model, fit->cov, t_k, u_k, err);
+        return rc;
+    }
     int rc = bg_model_r_from_t(&fit->model, t_k, &r, err);
     if (rc != BG_OK)
         return rc;
@@ -764,6 +833,8 @@ int bg_fit_u_at_r(const bg_fit *fit, double r_ohm, double *u_k, bg_error *err)
     int rc = bg_model_t_from_r(&fit->model, r_ohm, &t_k, err);
     if (rc != BG_OK)
         return rc;
+    if (!(bg_model_flags(&fit->model) & BG_MODEL_INV_POLY))
+        return bg_fit_u_t(fit, t_k, u_k, NULL, err);
     *u_k = u_of_l(fit, log(r_ohm), t_k);
     return BG_OK;
 }
@@ -805,23 +876,56 @@ static size_t loo_ss(const bg_fitter *fr, const bg_point *pts, size_t n, double 
     return n;
 }
 
+/* The candidates of a comparison when they are not the NTC kinds: readings other than
+** resistances, or resistances that rise with temperature (by the sign of their covariance
+** with it); 0 for the NTC kinds. */
+static size_t candidates(const bg_point *pts, size_t n, const bg_fit_opts *o,
+                         const char **names)
+{
+    double tm = 0.0, xm = 0.0, sxy = 0.0;
+    for (size_t i = 0; i < n; i++)
+        tm += pts[i].t_k / (double)n, xm += pts[i].r_ohm / (double)n;
+    for (size_t i = 0; i < n; i++)
+        sxy += (pts[i].t_k - tm) * (pts[i].r_ohm - xm);
+    if (o->quantity == BG_QTY_RESISTANCE && !(sxy > 0.0))
+        return 0;
+    size_t k = bg_model_candidates((bg_quantity)o->quantity, sxy > 0.0 ? +1 : -1, names,
+                                   BG_CMP_MAX);
+    return k < BG_CMP_MAX ? k : BG_CMP_MAX;
+}
+
+/* The parameters of 'from' into those of 'to' with the same name. */
+static void copy_params(const bg_model *from, bg_model *to)
+{
+    for (size_t i = 0; i < bg_model_nparam(to); i++)
+        for (size_t j = 0; j < bg_model_nparam(from); j++)
+            if (strcmp(bg_model_param_name(to, i), bg_model_param_name(from, j)) == 0)
+                bg_model_set_param(to, bg_model_param_name(to, i), bg_model_param(from, j),
+                                   NULL);
+}
+
 int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
                    bg_cmp *out, bg_error *err)
 {
-    static const char *names[BG_CMP_MAX] = { "beta", "sh3", "poly:2", "sh4", "poly:4", "poly:5" };
+    static const char *ntc[BG_CMP_MAX] = { "beta", "sh3", "poly:2", "sh4", "poly:4", "poly:5" };
+    const char *names[BG_CMP_MAX];
+    size_t ncand = candidates(pts, n, o, names);
     bg_fit f = BG_FIT_INIT;
     bg_error e2 = BG_ERROR_INIT, first_bad = BG_ERROR_INIT;
     int rc = BG_OK;
     double best = INFINITY;
 
+    if (ncand == 0)
+        memcpy(names, ntc, sizeof ntc), ncand = BG_CMP_MAX;
     memset(out, 0, sizeof *out);
     out->chosen = -1;
     out->loo_one_step = o->refine != 0;
-    for (size_t m = 0; m < BG_CMP_MAX; m++) {
+    for (size_t m = 0; m < ncand; m++) {
         bg_cmp_row *row = &out->row[out->nrows++];
         bg_fit_opts oo = *o;
         bg_model_parse(names[m], &row->model, NULL);
         row->model.t0_k = o->model.t0_k > 0.0 ? o->model.t0_k : BG_T0_DEFAULT_K;
+        copy_params(&o->model, &row->model);
         oo.model = row->model;
         row->npar = bg_model_npar(&row->model);
         if (n < row->npar + 2) {

@@ -58,4 +58,12 @@ struct bgi_solution {
 int bgi_fit_finish(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
                    const struct bgi_solution *sol, bg_fit *out, bg_error *err);
 
+/* The fit of a kind that is not 1/T = sum a_i L^i (fit_gen.c), called by bg_fitter_run. */
+int bgi_fit_generic(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                    bg_fit *out, bg_error *err);
+
+/* The basis of 'm' as the fit uses it: the powers of L of an NTC kind, or 0 .. npar-1 (the
+** coefficients themselves) for the other kinds; its size. */
+size_t bgi_fit_basis(const bg_model *m, unsigned pw[BG_MODEL_MAXPAR]);
+
 #endif

@@ -49,10 +49,58 @@ struct bg_model_type {
     /* Basis coefficients and covariance to the model's (see bg_model_from_basis); or NULL:
     ** they are the model's coefficients. */
     void (*from_basis)(bg_model *m, const double *c, const double *cov_c, double *cov);
+
+    /* ---- Kinds other than 1/T = sum a_i L^i (NULL for those) ---- */
+    bg_quantity quantity;  /* what the kind reads (0: resistance) */
+    int direction;         /* -1: the reading falls as T rises, +1 rises (0: -1, the NTC) */
+    /* The kind's parameters beyond T0 (stored in m->par[i]), NULL-terminated; or NULL. */
+    const char *const *params;
+    /* BG_OK when the parameters are usable (a ratio p > 1, an x range of width > 0). */
+    int (*check_params)(const bg_model *m, bg_error *err);
+    /* Names a comparison tries for this kind's quantity and direction, NULL-terminated. */
+    const char *const *candidates;
+    /* The kind's function, one of two forms (the other NULL):
+    ** xfun: x = f(T; c) at 't_k' > 0, with df/dT and, unless 'dxdc' is NULL, df/dc
+    **       (npar values); T(x) is solved for by bgi_solve_t.
+    ** tfun: T = g(x; c) at reading 'x', with dg/dx and, unless 'dtdc' is NULL, dg/dc; x(T)
+    **       is solved for from the first guess 'x_guess' gives.
+    ** Each returns BG_OK, or BG_EINVAL where the model is not defined. */
+    int (*xfun)(const bg_model *m, double t_k, double *x, double *dxdt, double *dxdc);
+    int (*tfun)(const bg_model *m, double x, double *t_k, double *dtdx, double *dtdc);
+    double (*x_guess)(const bg_model *m, double t_k);
+    /* The start of the fit: the kind is linear in 'lin_npar' basis coefficients either as
+    ** T = sum c_j phi_j(x) (lin_in_x 1: a linear least-squares fit in temperature is the
+    ** whole fit) or as x = sum c_j phi_j(T) (lin_in_x 0: a linear fit of x starts the
+    ** nonlinear least squares in temperature).  'lin_row' writes phi(v) for v = x or T;
+    ** 'from_lin' turns the basis coefficients into the model's (NULL: they are the same). */
+    int lin_in_x;
+    void (*lin_row)(const bg_model *m, double v, double *phi);
+    int (*from_lin)(bg_model *m, const double *c, bg_error *err);
+    /* Whether reading 'x' lies in the kind's domain (a resistance > 0); or NULL: any finite. */
+    int (*x_ok)(const bg_model *m, double x);
+    /* Of a T = g(x) kind: the part of T with no coefficient in it, h(x) (T = h(x) +
+    ** sum c_j phi_j(x)); or NULL: none. */
+    double (*lin_fixed)(const bg_model *m, double x);
+    /* Parameters the fit sets from the readings (a Chebyshev series' x range), given the
+    ** smallest and largest reading; or NULL. */
+    void (*fit_params)(bg_model *m, double x_min, double x_max);
+    /* Quantities derived from the coefficients (see bg_model_derived); or NULL. */
+    size_t (*derived)(const bg_model *m, const double *cov, double t_min_k, double t_max_k,
+                      bg_derived *out, size_t max);
 };
 
 /* The kinds, one file each (the table is in model.c). */
 extern const bg_model_type bgi_model_sh3, bgi_model_sh4, bgi_model_beta, bgi_model_poly;
+extern const bg_model_type bgi_model_ptc, bgi_model_ptc_lin, bgi_model_cvd, bgi_model_cvd2;
+extern const bg_model_type bgi_model_vbe, bgi_model_dvbe, bgi_model_ic, bgi_model_ic_code;
+extern const bg_model_type bgi_model_cheb;
+
+/* CODATA 2018 (the 2019 SI): k and e are exact. */
+#define BGI_K_BOLTZMANN 1.380649e-23  /* J/K */
+#define BGI_Q_ELEMENTARY 1.602176634e-19 /* C */
+#define BGI_K_OVER_Q (BGI_K_BOLTZMANN / BGI_Q_ELEMENTARY) /* V/K */
+
+
 
 /* f(L) = sum a_i L^i and f'(L) by Horner's rule. */
 static inline double bgi_poly_eval(const double a[BG_MODEL_MAXPAR], double L, double *dfdl)

@@ -1082,6 +1082,11 @@ static int import_run(bg_store *st, struct import_src *s, const struct import_sc
         ref = w.found.ref;
         imp->ref_version = w.found.v.id;
     }
+    if (shape->quantity != BG_QTY_RESISTANCE) /* the record's runs hold resistances */
+        return bg_error_set(err, BG_EINVAL, "%s: column '%s': the record holds resistances "
+                            "('ohms') only; fit this file directly with 'bandgap fit %s "
+                            "--model ...'", imp->src, bg_quantity_column((bg_quantity)
+                            shape->quantity), imp->src);
     int read_in_ohm = have_ref && (ref.kind == BG_REF_CVD || ref.kind == BG_REF_ITS90);
     if (shape->ref_ohms && !read_in_ohm)
         return bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs a reference "
