@@ -83,6 +83,10 @@ if [ "$ROOT" = 1 ] && mount -t tmpfs -o size=512k tmpfs "$F" 2>/dev/null; then
     [ "$(sum "$F/f.db")" = "$(sum "$S")" ] || bad "full disk: the database changed"
     expect "full disk: init" 74 "cannot create database '$F/new.db': .*is full" "$F/f.db" \
         --db "$F/new.db" init
+    # the message names the database asked for, not the temporary file init writes first
+    grep -q "new\.db\.tmp\." "$T/err" && bad "full disk: init names its temporary file: $(cat "$T/err")"
+    grep -q "the disk holding '$F/new.db' is full" "$T/err" ||
+        bad "full disk: init does not name the database's disk: $(cat "$T/err")"
     [ -e "$F/new.db" ] && bad "full disk: init left '$F/new.db'"
     ls "$F" | grep -q tmp && bad "full disk: init left a temporary file: $(ls "$F")"
 else

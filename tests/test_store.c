@@ -1760,6 +1760,16 @@ static void probe_move_counts_runs_by_their_start(void **state)
     bg_qa_lot_summary_release(&sa);
     bg_qa_lot_summary_release(&sb);
 
+    /* a calibration report names the lot of its run's start */
+    for (int k = 0; k < 2; k++) {
+        bg_calib_report rep = BG_CALIB_REPORT_INIT;
+        assert_int_equal(bg_calib_report_load(st, k ? r2 : r1, 0, 0.0, &rep, NULL), BG_OK);
+        assert_string_equal(rep.probe.lot_code, k ? "B" : "A");
+        assert_string_equal(rep.lot.code, k ? "B" : "A");
+        assert_close(rep.lot.tol_r25, k ? 0.02 : 0.01, 0, 0);
+        bg_calib_report_release(&rep);
+    }
+
     /* drift --probe P1: the second calibration judged by B's tolerance in force then */
     bg_qa_probe d = BG_QA_PROBE_INIT;
     bg_qa_opts o = bg_qa_default_opts();
@@ -1833,6 +1843,35 @@ static void lot_report_drift_uses_lot_version(void **state)
     bg_store_close(st);
 }
 
+/* A stored fit row that bandgap could not have written (its model changed behind its back,
+** triggers dropped) fails a listing with a message that names the row. */
+static int count_fits_cb(const bg_fit_row *f, void *ctx)
+{
+    (void)f;
+    ++*(int *)ctx;
+    return 0;
+}
+
+static void unreadable_fit_row_is_named(void **state)
+{
+    (void)state;
+    bg_store *st = NULL;
+    bg_error err = BG_ERROR_INIT;
+    int n = 0;
+    unlink(path_of("badfit.db"));
+    assert_int_equal(bg_store_open(path_of("badfit.db"), BG_STORE_CREATE, &st, NULL), BG_OK);
+    add_lot(st, "A", "NTC", 0.01);
+    assert_int_equal(bg_store_probe_add(st, "P1", "A", NULL, NULL, NULL), BG_OK);
+    add_run(st, "P1", "2027-01-10T08:00:00Z", 1.0, "sh3 beta");
+    bg_store_close(st);
+    sql("badfit.db", "DROP TRIGGER fit_keep; UPDATE fit SET model = 'zz' WHERE id = 2;");
+    assert_int_equal(bg_store_open(path_of("badfit.db"), 0, &st, NULL), BG_OK);
+    assert_int_equal(bg_store_fit_each(st, NULL, NULL, count_fits_cb, &n, &err), BG_EINVAL);
+    assert_int_equal(n, 1); /* fit 1 was listed */
+    assert_non_null(strstr(err.msg, "fit 2 (run 1) is unreadable: unknown model 'zz'"));
+    bg_store_close(st);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -1864,6 +1903,7 @@ int main(void)
         cmocka_unit_test(lot_stats_use_lot_version),
         cmocka_unit_test(probe_move_counts_runs_by_their_start),
         cmocka_unit_test(lot_report_drift_uses_lot_version),
+        cmocka_unit_test(unreadable_fit_row_is_named),
     };
     return cmocka_run_group_tests_name("store", tests, setup, teardown);
 }

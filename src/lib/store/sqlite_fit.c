@@ -135,14 +135,17 @@ static int row_model(sqlite3_stmt *q, int col, bg_fit_row *f, bg_error *err)
 {
     char name[16];
     bgi_copy_text(name, sizeof name, q, col);
-    if (bg_model_parse(name, &f->model, err) != BG_OK)
+    if (bg_model_parse(name, &f->model, err) != BG_OK) {
+        /* a row bandgap could not have written: name it, for 'bandgap verify' and the fix */
+        bg_error_prefix(err, "fit %lld (run %lld) is unreadable", f->id, f->run_id);
         return BG_EINVAL;
+    }
     if (sqlite3_column_type(q, col + 1) != SQLITE_NULL)
         f->model.t0_k = sqlite3_column_double(q, col + 1);
     f->npar = (size_t)sqlite3_column_int64(q, col + 2);
     if (f->npar != bg_model_npar(&f->model))
-        return bg_error_set(err, BG_EDB, "fit %lld: %zu coefficients for model '%s'", f->id,
-                            f->npar, name);
+        return bg_error_set(err, BG_EDB, "fit %lld (run %lld) is unreadable: %zu coefficients "
+                            "for model '%s'", f->id, f->run_id, f->npar, name);
     for (size_t i = 0; i < f->npar; i++)
         f->model.coef[i] = sqlite3_column_double(q, col + 3 + (int)i);
     return BG_OK;
