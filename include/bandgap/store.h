@@ -386,7 +386,12 @@ BG_API int bg_store_fit_find_same(bg_store *st, long long run_id, const bg_fit *
 BG_API int bg_store_current_fit(bg_store *st, const char *serial, bg_fit_row *fit, bg_run *run,
                                 bg_error *err);
 
-/* ---- calibration history for QA ---- */
+/* ---- calibration history for QA ----
+** A lot's runs are those that count toward it: a run counts toward the lot its probe belonged
+** to when the run started (bg_store_probe_at; a probe moved with bg_store_probe_move takes its
+** later runs to its new lot).  A lot's probes in the lot-wide reads below, and in
+** bg_store_lot_points_each and the lot filters of bg_store_run_each and bg_store_fit_each, are
+** those in the lot now or with a run that counts toward it, each with those runs only. */
 
 /* For each run of probe 'serial' started at or after 'since' (NULL or "" for all), oldest
 ** first: its newest fit, or NULL when the run has not been fitted; 'started_at' is the run's. */
