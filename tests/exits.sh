@@ -83,6 +83,10 @@ if [ "$ROOT" = 1 ] && mount -t tmpfs -o size=512k tmpfs "$F" 2>/dev/null; then
     [ "$(sum "$F/f.db")" = "$(sum "$S")" ] || bad "full disk: the database changed"
     expect "full disk: init" 74 "cannot create database '$F/new.db': .*is full" "$F/f.db" \
         --db "$F/new.db" init
+    # the message names the database asked for, not the temporary file init writes first
+    grep -q "new\.db\.tmp\." "$T/err" && bad "full disk: init names its temporary file: $(cat "$T/err")"
+    grep -q "the disk holding '$F/new.db' is full" "$T/err" ||
+        bad "full disk: init does not name the database's disk: $(cat "$T/err")"
     [ -e "$F/new.db" ] && bad "full disk: init left '$F/new.db'"
     ls "$F" | grep -q tmp && bad "full disk: init left a temporary file: $(ls "$F")"
 else
@@ -162,5 +166,26 @@ sqlite3 "$C" "CREATE TRIGGER invented_refusal BEFORE INSERT ON exclusion BEGIN
     SELECT RAISE(ABORT, 'invented rule: no exclusions here'); END;" || bad "cannot add the trigger"
 expect "constraint" 65 "cannot record the exclusion: .*invented rule: no exclusions here" "$C" \
     exclude 3 --why "invented reason" --by "A. Tester"
+
+# 6. A damaged database file: 74 (EX_IOERR) naming the file, whatever the command, and the file
+# left as it was.  The bytes are not the database that was written (a failing disk, a truncated
+# copy, another program writing into it): a storage failure like an i/o error, not input the
+# user can correct (65), and not a fault of the program (70).  Pages 3 to 6 overwritten with an
+# invented pattern make SQLite report SQLITE_CORRUPT; a header overwritten, SQLITE_NOTADB.
+D="$T/damaged.db"
+cp "$S" "$D"
+PS=$(sqlite3 "$S" "PRAGMA page_size")
+head -c $((PS * 4)) /dev/zero | tr '\0' 'X' | dd of="$D" bs="$PS" seek=2 conv=notrunc 2>/dev/null
+for args in "lot list" "list runs" "drift --lot L" "probe move P-1 --lot L --why invented"; do
+    # shellcheck disable=SC2086 # the words of the command
+    expect "damaged file: $args" 74 "the database file '.*damaged\.db' is damaged \(database disk image is malformed\)" "$D" $args
+done
+expect "damaged file: import" 74 "'.*damaged\.db' is damaged" "$D" import "$HERE/cli/lib/bath.csv" \
+    --probe P-1 --new-run
+H="$T/header.db"
+cp "$S" "$H"
+printf 'INVENTED DAMAGE!' | dd of="$H" bs=1 seek=0 conv=notrunc 2>/dev/null
+expect "damaged header" 74 "'.*header\.db' is not a database file, or its header is damaged" "$H" \
+    lot list
 
 exit $status

@@ -147,4 +147,96 @@ before=$(sha256sum < "$T/inf.db")
 grep -q "r25_ohm_finite" "$T/err" || bad "the failed upgrade does not name the check: $(cat "$T/err")"
 [ "$(sha256sum < "$T/inf.db")" = "$before" ] || bad "a failed upgrade changed the file"
 echo "records: the finite-number schema keeps the record and refuses infinities"
+
+# 5. Who made a change, with $USER unset: the login name of the effective user id (and the
+# output says so), else "uid N"; never a made-up name.  exclude, lot set, ref set, probe move.
+W="$T/who.db"
+cp "$T/r.db" "$W"
+"$BIN" --db "$W" lot add L2 --part P --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1% > /dev/null
+"$BIN" --db "$W" ref add R-1 --cert "C-1" --linear 0K,0,20C > /dev/null
+me=$(id -un) uid=$(id -u)
+who_check() { # WHAT TABLE: the command just run with $USER unset
+    grep -q "recorded by '$me', the login name of user id $uid (\$USER is not set)" "$T/err" ||
+        bad "$1: the output does not say which name was used: $(cat "$T/err")"
+    got=$(sqlite3 "$W" "SELECT by_whom FROM $2 ORDER BY rowid DESC LIMIT 1")
+    [ "$got" = "$me" ] || bad "$1: stored '$got' as who, expected '$me'"
+}
+env -u USER "$BIN" --db "$W" exclude 3 --why "invented reason" > /dev/null 2> "$T/err"
+who_check exclude exclusion
+env -u USER "$BIN" --db "$W" lot set L --tol-r25 2% --why "invented reason" > /dev/null 2> "$T/err"
+who_check "lot set" lot_version
+env -u USER "$BIN" --db "$W" ref set R-1 --cert C-2 --no-correction --why "invented reason" \
+    > /dev/null 2> "$T/err"
+who_check "ref set" reference_version
+env -u USER "$BIN" --db "$W" probe move P-1 --lot L2 --why "invented reason" > /dev/null 2> "$T/err"
+who_check "probe move" probe_version
+# with $USER set, or --by, nothing is said and that name is stored
+USER=invented-user "$BIN" --db "$W" exclude 4 --why "invented reason" > /dev/null 2> "$T/err"
+[ -s "$T/err" ] && bad "exclude with \$USER said: $(cat "$T/err")"
+[ "$(sqlite3 "$W" "SELECT by_whom FROM exclusion WHERE reading_id = 4")" = invented-user ] ||
+    bad "exclude did not store \$USER"
+# a user id without a login name: "uid N" (needs root to take another user id)
+if [ "$(id -u)" = 0 ] && command -v setpriv > /dev/null && ! getent passwd 54321 > /dev/null; then
+    chmod 777 "$T" && chmod 666 "$W"
+    env -u USER setpriv --reuid=54321 --regid=54321 --clear-groups "$BIN" --db "$W" exclude 5 \
+        --why "invented reason" > /dev/null 2> "$T/err" || bad "exclude as uid 54321: $(cat "$T/err")"
+    [ "$(sqlite3 "$W" "SELECT by_whom FROM exclusion WHERE reading_id = 5")" = "uid 54321" ] ||
+        bad "a user id without a name was not stored as 'uid 54321'"
+    grep -q "recorded by 'uid 54321', the user id: \$USER is not set and user id 54321 has no login name" "$T/err" ||
+        bad "exclude as uid 54321 does not say so: $(cat "$T/err")"
+    chmod 755 "$T"
+else
+    echo "records: uid without a login name: skipped (needs root and setpriv)"
+fi
+echo "records: who made a change is the login name when \$USER is unset, and said"
+
+# 6. probe move: every refusal leaves the database byte for byte as it was (the dump and the
+# file), with its exit status; a move that would change the runs an issued lot report counted
+# is refused; a move valid from after them is not.
+M="$T/move.db"
+Bm() { "$BIN" --db "$M" "$@"; }
+Bm init > /dev/null
+Bm lot add A --part P --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1% > /dev/null
+Bm lot add B --part P --r25 10k --beta 3950K --tol-r25 2% --tol-beta 2% > /dev/null
+Bm lot add O --part Q --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1% > /dev/null
+Bm probe add P-1 --lot A > /dev/null
+Bm probe add P-2 --lot A > /dev/null
+Bm import "$HERE/cli/lib/bath.csv" --probe P-1 --at 2026-11-20T09:00:00Z > /dev/null
+Bm import "$HERE/cli/lib/bath.csv" --probe P-2 --at 2026-11-20T09:00:00Z > /dev/null
+Bm fit --lot A --model sh3 > /dev/null
+Bm report --lot A -o "$T/lot-a.html" > /dev/null 2>&1 || bad "probe move: setup: lot report failed"
+refused() { # RC PATTERN ARGS...
+    want=$1 pat=$2
+    shift 2
+    d0=$(sqlite3 "$M" .dump | sha256sum) f0=$(sha256sum < "$M")
+    Bm probe move "$@" > /dev/null 2> "$T/err"
+    rc=$?
+    [ "$rc" -eq "$want" ] || bad "probe move $*: exited $rc, expected $want: $(cat "$T/err")"
+    grep -Eq "$pat" "$T/err" || bad "probe move $*: message does not say '$pat': $(cat "$T/err")"
+    [ "$(sqlite3 "$M" .dump | sha256sum)" = "$d0" ] && [ "$(sha256sum < "$M")" = "$f0" ] ||
+        bad "probe move $*: the database changed"
+}
+refused 65 "unknown lot 'Z'" P-1 --lot Z --why "invented reason"
+refused 65 "unknown probe 'P-9'" P-9 --lot B --why "invented reason"
+refused 65 "already in lot 'A'" P-1 --lot A --why "invented reason"
+refused 65 "only between lots of its part" P-1 --lot O --why "invented reason"
+refused 64 "move needs --why" P-1 --lot B
+refused 64 "move needs --why" P-1 --lot B --why ""
+refused 64 "move needs --lot" P-1 --why "invented reason"
+refused 64 "not an ISO 8601" P-1 --lot B --why "invented reason" --from yesterday
+refused 65 "later than now" P-1 --lot B --why "invented reason" --from 2030-01-01
+refused 65 "before the record was created" P-1 --lot B --why "invented reason" --from 2020-01-01
+refused 65 "invalid|control" P-1 --lot B --why "$(printf 'invented\033]0;title\007')"
+# the run of 2026-11-20 counted in lot A's issued report: moving it away is refused (now is
+# 2025-12-01, before that run)
+refused 65 "lot 'A' has an issued lot report \\(report [0-9]+\\)" P-1 --lot B --why "invented reason"
+# P-2 moved from after its run: allowed; the report's runs stay with lot A
+SOURCE_DATE_EPOCH=1795651200 Bm probe move P-2 --lot B --why "invented reason" \
+    --from 2026-11-25T00:00:00Z > "$T/out" 2>&1 || bad "probe move after the run: $(cat "$T/out")"
+grep -q "moved probe P-2 from lot A to lot B, valid from 2026-11-25T00:00:00Z" "$T/out" ||
+    bad "probe move after the run said: $(cat "$T/out")"
+[ "$(Bm drift --lot A --json | python3 -c "import json,sys; print(len(json.load(sys.stdin)['probes']))")" = 2 ] ||
+    bad "lot A no longer counts P-2's run of 2026-11-20"
+Bm verify > /dev/null || bad "probe move: the record does not verify"
+echo "records: probe move refusals leave the database as it was"
 exit $status

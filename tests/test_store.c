@@ -1600,6 +1600,278 @@ static void lot_stats_use_lot_version(void **state)
     assert_int_equal(lot_out_under_version("lotv4.db", "2027-02-01T00:00:00Z"), 1);
 }
 
+/* ---- versions: a probe moved to another lot ---- */
+
+static void add_lot(bg_store *st, const char *code, const char *part, double tol_r25)
+{
+    bg_lot lot;
+    memset(&lot, 0, sizeof lot);
+    snprintf(lot.code, sizeof lot.code, "%s", code);
+    snprintf(lot.part, sizeof lot.part, "%s", part);
+    lot.r25_ohm = 10000, lot.beta_k = 3950, lot.pair_t1_k = 298.15, lot.pair_t2_k = 358.15;
+    lot.tol_r25 = tol_r25, lot.tol_beta = 0.01;
+    assert_int_equal(bg_store_lot_add(st, &lot, NULL, NULL), BG_OK);
+}
+
+static void move_of(bg_probe_version *pv, const char *serial, const char *lot, const char *from)
+{
+    memset(pv, 0, sizeof *pv);
+    snprintf(pv->probe.serial, sizeof pv->probe.serial, "%s", serial);
+    snprintf(pv->probe.lot_code, sizeof pv->probe.lot_code, "%s", lot);
+    snprintf(pv->v.valid_from, sizeof pv->v.valid_from, "%s", from);
+    strcpy(pv->v.why, "relabelled after sorting");
+    strcpy(pv->v.by, "ana");
+}
+
+/* A refused move: BG_EINVAL naming 'why', and the record exactly as it was (its chain head). */
+static void move_refused(bg_store *st, const bg_probe_version *pv, const char *why)
+{
+    long long n0, n1;
+    char h0[65], h1[65];
+    bg_error err = BG_ERROR_INIT;
+    assert_int_equal(bg_store_chain_head(st, &n0, h0, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_move(st, pv, NULL, &err), BG_EINVAL);
+    if (!strstr(err.msg, why))
+        fail_msg("'%s' does not say '%s'", err.msg, why);
+    assert_int_equal(bg_store_chain_head(st, &n1, h1, NULL), BG_OK);
+    assert_int_equal(n0, n1);
+    assert_string_equal(h0, h1);
+}
+
+struct hist_count { const char *serial; size_t n; long long run; int seen; };
+
+static int count_hist(const char *serial, const bg_fit_row *fits, char (*started_at)[BG_TIME],
+                      size_t n, size_t unfitted, void *ctx)
+{
+    struct hist_count *h = ctx;
+    (void)started_at, (void)unfitted;
+    if (strcmp(serial, h->serial) == 0)
+        h->seen = 1, h->n = n, h->run = n ? fits[n - 1].run_id : 0;
+    return 0;
+}
+
+static int latest_of(const char *serial, const bg_fit_row *fit, void *ctx)
+{
+    struct hist_count *h = ctx;
+    if (strcmp(serial, h->serial) == 0)
+        h->seen = 1, h->run = fit ? fit->run_id : 0;
+    return 0;
+}
+
+/* Which lot each run counts toward after a move: P1 of lot A (R25 tolerance 1 %) calibrated on
+** 2027-01-10, moved to lot B (2 %) from 2027-02-01, calibrated again on 2027-06-10 with every
+** resistance 0.3 % higher; P2 stays in A with the same two calibrations.  The first run counts
+** toward A, the second toward B, in every lot-wide read and verdict; drift --probe judges each
+** calibration by the tolerance of the lot it counts toward.  Limits by hand from
+** limit = tol_R25 T25^2 / B (docs/commands/drift.md): 0.01 * 298.15^2 / 3950 = 0.22504664 K,
+** 0.02 * ... = 0.45009328 K, 0.001 * ... = 0.022504664 K. */
+static void probe_move_counts_runs_by_their_start(void **state)
+{
+    (void)state;
+    bg_store *st = NULL;
+    bg_probe_version pv, at;
+    bg_probe_move_result res;
+    bg_probe p;
+    bg_lot lot;
+    bg_store_check chk;
+    unlink(path_of("move.db"));
+    assert_int_equal(bg_store_open(path_of("move.db"), BG_STORE_CREATE, &st, NULL), BG_OK);
+    bg_store_set_clock(st, 1796083200); /* 2026-12-01T00:00:00Z: the records' creation */
+    add_lot(st, "A", "NTC", 0.01);
+    add_lot(st, "B", "NTC", 0.02);
+    add_lot(st, "C", "OTHER", 0.01);
+    assert_int_equal(bg_store_probe_add(st, "P1", "A", NULL, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "P2", "A", NULL, NULL, NULL), BG_OK);
+    long long r1 = add_run(st, "P1", "2027-01-10T08:00:00Z", 1.0, "sh3");
+    add_run(st, "P2", "2027-01-10T08:00:00Z", 1.0, "sh3");
+    bg_store_set_clock(st, 1803859200); /* 2027-03-01T00:00:00Z: now */
+
+    /* refused, nothing written: unknown lot or probe, the same lot, another part, no reason,
+    ** later than now, before the probe's creation, not a time */
+    move_of(&pv, "P1", "X", "2027-02-01T00:00:00Z");
+    move_refused(st, &pv, "unknown lot 'X'");
+    move_of(&pv, "P9", "B", "2027-02-01T00:00:00Z");
+    move_refused(st, &pv, "unknown probe 'P9'");
+    move_of(&pv, "P1", "A", "2027-02-01T00:00:00Z");
+    move_refused(st, &pv, "already in lot 'A'");
+    move_of(&pv, "P1", "C", "2027-02-01T00:00:00Z");
+    move_refused(st, &pv, "only between lots of its part");
+    move_of(&pv, "P1", "B", "2027-02-01T00:00:00Z");
+    pv.v.why[0] = '\0';
+    move_refused(st, &pv, "reason must not be empty");
+    move_of(&pv, "P1", "B", "2027-03-02T00:00:00Z");
+    move_refused(st, &pv, "later than now");
+    move_of(&pv, "P1", "B", "2026-11-30T00:00:00Z");
+    move_refused(st, &pv, "before the record was created");
+    move_of(&pv, "P1", "B", "2027-02-30");
+    move_refused(st, &pv, "not an ISO 8601");
+
+    move_of(&pv, "P1", "B", "2027-02-01T00:00:00Z");
+    assert_int_equal(bg_store_probe_move(st, &pv, &res, NULL), BG_OK);
+    assert_string_equal(res.from_lot, "A");
+    assert_int_equal(res.runs_moved, 0); /* its run started before the move */
+    move_of(&pv, "P1", "A", "2027-01-31T00:00:00Z"); /* before the newest version */
+    move_refused(st, &pv, "before the newest version");
+    long long r2 = add_run(st, "P1", "2027-06-10T08:00:00Z", 1.003, "sh3");
+    add_run(st, "P2", "2027-06-10T08:00:00Z", 1.003, "sh3");
+
+    /* the lot in force at each time; the probe is in B now */
+    assert_int_equal(bg_store_probe_at(st, "P1", "2027-01-10T08:00:00Z", &at, NULL), BG_OK);
+    assert_string_equal(at.probe.lot_code, "A");
+    assert_int_equal(at.v.id, 0);
+    assert_int_equal(bg_store_probe_at(st, "P1", "2027-02-01T01:00:00+01:00", &at, NULL), BG_OK);
+    assert_string_equal(at.probe.lot_code, "B"); /* the same instant as the validity */
+    assert_int_equal(bg_store_probe_at(st, "P1", "2027-01-31T23:59:59Z", &at, NULL), BG_OK);
+    assert_string_equal(at.probe.lot_code, "A");
+    assert_int_equal(bg_store_probe_get(st, "P1", &p, NULL), BG_OK);
+    assert_string_equal(p.lot_code, "B");
+    assert_int_equal(bg_store_lot_get(st, "A", &lot, NULL), BG_OK);
+    assert_int_equal(lot.nprobes, 1);
+    assert_int_equal(bg_store_lot_get(st, "B", &lot, NULL), BG_OK);
+    assert_int_equal(lot.nprobes, 1);
+
+    /* lot-wide reads: run 1 counts toward A, run 2 toward B */
+    struct hist_count h = { "P1", 0, 0, 0 };
+    assert_int_equal(bg_store_lot_histories(st, "A", NULL, count_hist, &h, NULL), BG_OK);
+    assert_true(h.seen && h.n == 1 && h.run == r1);
+    memset(&h, 0, sizeof h), h.serial = "P1";
+    assert_int_equal(bg_store_lot_histories(st, "B", NULL, count_hist, &h, NULL), BG_OK);
+    assert_true(h.seen && h.n == 1 && h.run == r2);
+    memset(&h, 0, sizeof h), h.serial = "P1";
+    assert_int_equal(bg_store_lot_latest_fits(st, "A", NULL, latest_of, &h, NULL), BG_OK);
+    assert_true(h.seen && h.run == r1);
+    memset(&h, 0, sizeof h), h.serial = "P1";
+    assert_int_equal(bg_store_lot_latest_fits(st, "B", NULL, latest_of, &h, NULL), BG_OK);
+    assert_true(h.seen && h.run == r2);
+
+    /* the lot report: in A, P1 has one calibration and P2 two; in B, P1 has one */
+    bg_qa_lot_summary sa = BG_QA_LOT_SUMMARY_INIT, sb = BG_QA_LOT_SUMMARY_INIT;
+    assert_int_equal(bg_qa_lot_summarize(st, "A", NULL, &sa, NULL), BG_OK);
+    assert_int_equal(sa.nprobes, 2);
+    assert_string_equal(sa.probes[0].serial, "P1");
+    assert_int_equal(sa.probes[0].n, 1);
+    assert_int_equal(sa.probes[1].n, 2);
+    assert_int_equal(sa.stats.n, 2);
+    assert_int_equal(bg_qa_lot_summarize(st, "B", NULL, &sb, NULL), BG_OK);
+    assert_int_equal(sb.nprobes, 1);
+    assert_int_equal(sb.probes[0].n, 1);
+    assert_int_equal(sb.stats.n, 1);
+    assert_int_equal(sb.stats.fit_id[0] > 0, 1);
+    bg_qa_lot_summary_release(&sa);
+    bg_qa_lot_summary_release(&sb);
+
+    /* a calibration report names the lot of its run's start */
+    for (int k = 0; k < 2; k++) {
+        bg_calib_report rep = BG_CALIB_REPORT_INIT;
+        assert_int_equal(bg_calib_report_load(st, k ? r2 : r1, 0, 0.0, &rep, NULL), BG_OK);
+        assert_string_equal(rep.probe.lot_code, k ? "B" : "A");
+        assert_string_equal(rep.lot.code, k ? "B" : "A");
+        assert_close(rep.lot.tol_r25, k ? 0.02 : 0.01, 0, 0);
+        bg_calib_report_release(&rep);
+    }
+
+    /* drift --probe P1: the second calibration judged by B's tolerance in force then */
+    bg_qa_probe d = BG_QA_PROBE_INIT;
+    bg_qa_opts o = bg_qa_default_opts();
+    assert_int_equal(bg_qa_probe_drift(st, "P1", &o, &d, NULL), BG_OK);
+    assert_int_equal(d.n, 2);
+    assert_close(d.limit_at[0], 0.22504664, 0, 1e-8);
+    assert_close(d.limit_at[1], 0.45009328, 0, 1e-8);
+    assert_close(d.since_previous[0].limit_k, 0.45009328, 0, 1e-8);
+    bg_qa_probe_release(&d);
+
+    /* a move that takes a recorded run along: P2's run of 2027-06-10 now counts toward B */
+    move_of(&pv, "P2", "B", "2027-02-15T00:00:00Z");
+    assert_int_equal(bg_store_probe_move(st, &pv, &res, NULL), BG_OK);
+    assert_int_equal(res.runs_moved, 1);
+    assert_int_equal(bg_qa_lot_summarize(st, "B", NULL, &sb, NULL), BG_OK);
+    assert_int_equal(sb.nprobes, 2);
+    assert_int_equal(sb.probes[1].n, 1);
+    bg_qa_lot_summary_release(&sb);
+
+    /* versions refuse edits and deletes, the probe row too; the record verifies */
+    sqlite3 *db;
+    assert_int_equal(sqlite3_open(path_of("move.db"), &db), SQLITE_OK);
+    assert_int_not_equal(sqlite3_exec(db, "UPDATE probe_version SET lot_id = 1", NULL, NULL,
+                                      NULL), SQLITE_OK);
+    assert_int_not_equal(sqlite3_exec(db, "DELETE FROM probe_version", NULL, NULL, NULL),
+                         SQLITE_OK);
+    assert_int_not_equal(sqlite3_exec(db, "UPDATE probe SET lot_id = 2", NULL, NULL, NULL),
+                         SQLITE_OK);
+    assert_int_not_equal(sqlite3_exec(db, "DELETE FROM probe", NULL, NULL, NULL), SQLITE_OK);
+    sqlite3_close(db);
+    assert_int_equal(bg_store_verify(st, &chk, NULL), BG_OK);
+    assert_int_equal(chk.bad, 0);
+    bg_store_close(st);
+}
+
+/* The lot report's drift verdicts use the lot tolerance in force at each calibration: lot A's
+** R25 tolerance corrected from 1 % to 0.1 % from 2027-04-01 (after now, 2027-03-01): the
+** comparison of P2's calibrations (the later one on 2027-06-10) is judged against 0.1 %
+** (0.022504664 K, flagged: its as-found error is some 70 to 110 mK) while the limit in force
+** now stays 1 % (0.22504664 K); the same as drift --probe. */
+static void lot_report_drift_uses_lot_version(void **state)
+{
+    (void)state;
+    bg_store *st = NULL;
+    bg_lot_version lv;
+    unlink(path_of("repver.db"));
+    assert_int_equal(bg_store_open(path_of("repver.db"), BG_STORE_CREATE, &st, NULL), BG_OK);
+    bg_store_set_clock(st, 1796083200);
+    add_lot(st, "A", "NTC", 0.01);
+    assert_int_equal(bg_store_probe_add(st, "P2", "A", NULL, NULL, NULL), BG_OK);
+    add_run(st, "P2", "2027-01-10T08:00:00Z", 1.0, "sh3");
+    add_run(st, "P2", "2027-06-10T08:00:00Z", 1.003, "sh3");
+    bg_store_set_clock(st, 1803859200);
+    memset(&lv, 0, sizeof lv);
+    strcpy(lv.lot.code, "A");
+    lv.lot.tol_r25 = 0.001, lv.lot.tol_beta = -1.0;
+    strcpy(lv.v.valid_from, "2027-04-01T00:00:00Z");
+    strcpy(lv.v.why, "tolerance corrected");
+    strcpy(lv.v.by, "ana");
+    assert_int_equal(bg_store_lot_set(st, &lv, NULL, NULL), BG_OK);
+    bg_qa_lot_summary s = BG_QA_LOT_SUMMARY_INIT;
+    assert_int_equal(bg_qa_lot_summarize(st, "A", NULL, &s, NULL), BG_OK);
+    assert_close(s.limit_k, 0.22504664, 0, 1e-8);
+    assert_int_equal(s.probes[0].nprev, 1);
+    const bg_qa_compare *c = &s.probes[0].since_previous[0];
+    assert_close(c->limit_k, 0.022504664, 0, 1e-9);
+    assert_true(c->d.max_abs_err_mk > 22.6 && c->d.max_abs_err_mk < 225.0);
+    assert_int_equal(c->flag_limit, 1);
+    assert_int_equal(s.flagged, 1);
+    bg_qa_lot_summary_release(&s);
+    bg_store_close(st);
+}
+
+/* A stored fit row that bandgap could not have written (its model changed behind its back,
+** triggers dropped) fails a listing with a message that names the row. */
+static int count_fits_cb(const bg_fit_row *f, void *ctx)
+{
+    (void)f;
+    ++*(int *)ctx;
+    return 0;
+}
+
+static void unreadable_fit_row_is_named(void **state)
+{
+    (void)state;
+    bg_store *st = NULL;
+    bg_error err = BG_ERROR_INIT;
+    int n = 0;
+    unlink(path_of("badfit.db"));
+    assert_int_equal(bg_store_open(path_of("badfit.db"), BG_STORE_CREATE, &st, NULL), BG_OK);
+    add_lot(st, "A", "NTC", 0.01);
+    assert_int_equal(bg_store_probe_add(st, "P1", "A", NULL, NULL, NULL), BG_OK);
+    add_run(st, "P1", "2027-01-10T08:00:00Z", 1.0, "sh3 beta");
+    bg_store_close(st);
+    sql("badfit.db", "DROP TRIGGER fit_keep; UPDATE fit SET model = 'zz' WHERE id = 2;");
+    assert_int_equal(bg_store_open(path_of("badfit.db"), 0, &st, NULL), BG_OK);
+    assert_int_equal(bg_store_fit_each(st, NULL, NULL, count_fits_cb, &n, &err), BG_EINVAL);
+    assert_int_equal(n, 1); /* fit 1 was listed */
+    assert_non_null(strstr(err.msg, "fit 2 (run 1) is unreadable: unknown model 'zz'"));
+    bg_store_close(st);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
@@ -1629,6 +1901,9 @@ int main(void)
         cmocka_unit_test(reference_recalibration_versions),
         cmocka_unit_test(drift_verdict_uses_lot_version),
         cmocka_unit_test(lot_stats_use_lot_version),
+        cmocka_unit_test(probe_move_counts_runs_by_their_start),
+        cmocka_unit_test(lot_report_drift_uses_lot_version),
+        cmocka_unit_test(unreadable_fit_row_is_named),
     };
     return cmocka_run_group_tests_name("store", tests, setup, teardown);
 }

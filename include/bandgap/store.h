@@ -177,6 +177,46 @@ BG_API int bg_store_lot_versions(bg_store *st, const char *code, bg_lot_version_
 BG_API int bg_store_lot_at(bg_store *st, const char *code, const char *when,
                            bg_lot_version *out, bg_error *err);
 
+/* A version of a probe: the lot it belongs to from 'v.valid_from' on (a move).  'probe'
+** holds the serial and, for this version, the lot ('lot_id', 'lot_code'); the rest is the
+** row's.  The first version (id 0) is the row itself, the lot the probe was added to. */
+typedef struct bg_probe_version {
+    bg_version_head v;
+    bg_probe probe;
+} bg_probe_version;
+
+/* What a move changed: the recorded calibration runs of the probe that started at or after
+** the move's validity, which counted toward 'from_lot' and now count toward the new lot. */
+typedef struct bg_probe_move_result {
+    long long id;                  /* the new version */
+    char from_lot[BG_TEXT];        /* the lot the probe was in at the move's validity */
+    char valid_from[BG_TIME];
+    size_t runs_moved;             /* recorded runs that now count toward the new lot */
+} bg_probe_move_result;
+
+/* Move probe 'pv->probe.serial' to lot 'pv->probe.lot_code' from 'pv->v.valid_from' ("":
+** now) on, with the reason 'why' and who 'by': a new version of the probe, never an edit (the
+** probe row keeps the lot it was added to).  A calibration run counts toward the lot its
+** probe belonged to when the run started (bg_store_probe_at): runs started before the
+** validity stay with the lot they counted toward.  BG_EINVAL, with nothing written, for an
+** unknown probe or lot (with "did you mean"), an empty reason or name, a validity that is not
+** an ISO 8601 time, is later than now (a move is recorded once it has happened), or is
+** earlier than the probe's creation or its newest version's validity; a move to the lot the
+** probe is already in; a lot of another part; and a move that would take recorded runs
+** (started at or after the validity) from or to a lot that has an issued lot report (the
+** report's verdicts would no longer match the record: record the move valid from after those
+** runs instead).  '*res' (may be NULL) says what changed. */
+BG_API int bg_store_probe_move(bg_store *st, const bg_probe_version *pv,
+                               bg_probe_move_result *res, bg_error *err);
+typedef int (*bg_probe_version_cb)(const bg_probe_version *pv, void *ctx);
+/* Every version of probe 'serial', the first (the row itself) first. */
+BG_API int bg_store_probe_versions(bg_store *st, const char *serial, bg_probe_version_cb cb,
+                                   void *ctx, bg_error *err);
+/* The version of probe 'serial' in force at 'when' (ISO 8601; NULL or "": now): the lot it
+** belonged to then. */
+BG_API int bg_store_probe_at(bg_store *st, const char *serial, const char *when,
+                             bg_probe_version *out, bg_error *err);
+
 /* ---- runs and readings ---- */
 
 typedef struct bg_run {
@@ -285,7 +325,8 @@ BG_API int bg_store_lot_points_each(bg_store *st, const char *lot_code, bg_lot_p
                                     void *ctx, bg_error *err);
 
 /* Exclude a reading from future fits: who, when (now) and why are recorded; the reading row
-** stays.  BG_EINVAL for an unknown or already excluded reading or an empty reason. */
+** stays.  BG_EINVAL for an unknown or already excluded reading or an empty reason or name
+** (the library never invents who made a change). */
 BG_API int bg_store_exclude(bg_store *st, long long reading_id, const char *why,
                             const char *by, bg_error *err);
 
@@ -345,7 +386,12 @@ BG_API int bg_store_fit_find_same(bg_store *st, long long run_id, const bg_fit *
 BG_API int bg_store_current_fit(bg_store *st, const char *serial, bg_fit_row *fit, bg_run *run,
                                 bg_error *err);
 
-/* ---- calibration history for QA ---- */
+/* ---- calibration history for QA ----
+** A lot's runs are those that count toward it: a run counts toward the lot its probe belonged
+** to when the run started (bg_store_probe_at; a probe moved with bg_store_probe_move takes its
+** later runs to its new lot).  A lot's probes in the lot-wide reads below, and in
+** bg_store_lot_points_each and the lot filters of bg_store_run_each and bg_store_fit_each, are
+** those in the lot now or with a run that counts toward it, each with those runs only. */
 
 /* For each run of probe 'serial' started at or after 'since' (NULL or "" for all), oldest
 ** first: its newest fit, or NULL when the run has not been fitted; 'started_at' is the run's. */

@@ -24,6 +24,12 @@ void cli_error(const char *fmt, ...) BG_PRINTF(1, 2);
 /* Print "bandgap: warning: MESSAGE" to stderr. */
 void cli_warn(const char *fmt, ...) BG_PRINTF(1, 2);
 /* Print a usage error and the hint "Try 'bandgap CMD --help'"; returns CLI_EUSAGE. */
+/* Who records a change: 'given' (--by) when not NULL, else $USER when set and not empty,
+** else the login name of the effective user id, else "uid N"; into 'buf' (returned).  'how'
+** gets "" for --by and $USER, else which of the last two was used, for cli_who_note. */
+const char *cli_who(const char *given, char *buf, size_t size, char *how, size_t hsize);
+/* After the change was recorded: say on stderr who it was recorded as, unless --by or $USER. */
+void cli_who_note(const char *who, const char *how);
 int cli_usage_error(const char *cmd, const char *fmt, ...) BG_PRINTF(2, 3);
 /* The usage error for the unknown option 'arg' of command 'cmd' (NULL: the program), with the
 ** nearest name of 'opts' (a getopt_long table) as "did you mean" (bg_suggest); CLI_EUSAGE. */

@@ -9,8 +9,9 @@
 static const char exclude_usage[] =
     "Usage: bandgap exclude READING --why TEXT [--by NAME]\n"
     "Exclude reading READING (its id, as 'bandgap show run N' prints it) from future fits.\n"
-    "The reading stays in the database with the reason, the name (default $USER) and the\n"
-    "time; fits already made are not changed.  Fit again to get a new fit without it.\n";
+    "The reading stays in the database with the reason, the name (default $USER, else the\n"
+    "login name of the user id) and the time; fits already made are not changed.  Fit again\n"
+    "to get a new fit without it.\n";
 
 int cmd_exclude(int argc, char **argv, struct cli_ctx *ctx)
 {
@@ -21,7 +22,8 @@ int cmd_exclude(int argc, char **argv, struct cli_ctx *ctx)
     };
     bg_error err = BG_ERROR_INIT;
     bg_store *st = NULL;
-    const char *why = NULL, *by = getenv("USER");
+    const char *why = NULL, *by = NULL;
+    char who[BG_TEXT], how[128];
     long long id;
     int c, rc;
 
@@ -40,9 +42,12 @@ int cmd_exclude(int argc, char **argv, struct cli_ctx *ctx)
         return cli_usage_error("exclude", "give one reading id (a positive number)");
     if (!why || !*why)
         return cli_usage_error("exclude", "--why TEXT is required");
+    by = cli_who(by, who, sizeof who, how, sizeof how);
     if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
         return rc;
     rc = bg_store_exclude(st, id, why, by, &err);
+    if (rc == BG_OK)
+        cli_who_note(by, how);
     if (rc != BG_OK)
         cli_fail("exclude", &err);
     else if (ctx->json)

@@ -44,6 +44,23 @@ static void remove_tmp(const char *tmp)
     }
 }
 
+/* 'msg' about the temporary file 'tmp' made about 'file' instead (in the same directory, on
+** the same disk): the user named 'file' and never sees the temporary one. */
+static void about_file(char *msg, size_t size, const char *tmp, const char *file)
+{
+    char out[sizeof ((bg_error *)0)->msg];
+    size_t n = 0, lt = strlen(tmp), lf = strlen(file);
+    for (const char *s = msg; *s && n + 1 < sizeof out;) {
+        if (strncmp(s, tmp, lt) == 0 && n + lf < sizeof out) {
+            memcpy(out + n, file, lf);
+            n += lf, s += lt;
+        } else
+            out[n++] = *s++;
+    }
+    out[n] = '\0';
+    snprintf(msg, size, "%s", out);
+}
+
 /* Create the new database 'file' whole: initialise it under a temporary name in the same
 ** directory and link it to 'file' only when complete, so that a failed init leaves no file
 ** behind, and a file another process made meanwhile is never replaced ('*existed' is then set
@@ -88,8 +105,10 @@ static int create_new(struct cli_ctx *ctx, const char *file, int *existed)
         o.busy_timeout_s = ctx->busy_timeout_s;
     rc = bg_store_open_with(tmp, BG_STORE_CREATE, &o, &st, &err);
     bg_store_close(st);
-    if (rc != BG_OK)
-        cli_error("cannot create database '%s': %s", ctx->db_path, err.msg); else if (link(path, file) != 0) {
+    if (rc != BG_OK) {
+        about_file(err.msg, sizeof err.msg, path, file);
+        cli_error("cannot create database '%s': %s", ctx->db_path, err.msg);
+    } else if (link(path, file) != 0) {
         if (errno == EEXIST)
             *existed = 1;
         else {

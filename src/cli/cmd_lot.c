@@ -19,8 +19,9 @@ static const char lot_usage[] =
     "(3950K) for the pair (default 25/85, in degC), and their tolerances with their unit\n"
     "(1%, 0.5% or 5000ppm; a bare number is refused).  Codes are stored exactly as given.\n"
     "set corrects the tolerances or the note as a new version (what is not given is kept),\n"
-    "valid from TIME (ISO 8601; default now), with the reason and who (default $USER): each\n"
-    "calibration is judged against the tolerances in force at its start.\n";
+    "valid from TIME (ISO 8601; default now), with the reason and who (default $USER, else\n"
+    "the login name of the user id): each calibration is judged against the tolerances in\n"
+    "force at its start.\n";
 
 struct lot_args {
     bg_lot lot;
@@ -142,8 +143,10 @@ static int lot_set(struct lot_args *a, const char *code, struct cli_ctx *ctx)
                                "nominal curve of a lot is not changed)");
     if (!a->why || !*a->why)
         return cli_usage_error("lot", "set needs --why TEXT (the reason for the new version)");
-    if (!a->by || !*a->by)
-        return cli_usage_error("lot", "set needs --by NAME ($USER is not set)");
+    char who[BG_TEXT], how[128];
+    a->by = cli_who(a->by, who, sizeof who, how, sizeof how);
+    if (!*a->by)
+        return cli_usage_error("lot", "--by needs a name");
     memset(&lv, 0, sizeof lv);
     if (strlen(code) >= sizeof lv.lot.code || strlen(a->why) >= sizeof lv.v.why ||
         strlen(a->by) >= sizeof lv.v.by)
@@ -162,7 +165,7 @@ static int lot_set(struct lot_args *a, const char *code, struct cli_ctx *ctx)
         bg_store_time(st, lv.v.valid_from, sizeof lv.v.valid_from);
     if ((rc = bg_store_lot_set(st, &lv, &id, &err)) != BG_OK) {
         cli_fail("lot set", &err);
-    } else if (ctx->json) {
+    } else if (cli_who_note(lv.v.by, how), ctx->json) {
         json_out j;
         json_begin(&j, stdout);
         json_obj(&j, NULL);
@@ -281,7 +284,7 @@ int cmd_lot(int argc, char **argv, struct cli_ctx *ctx)
     int rc;
 
     memset(&a, 0, sizeof a);
-    a.by = getenv("USER");
+    a.by = NULL;
     a.lot.pair_t1_k = 298.15, a.lot.pair_t2_k = 358.15;
     if ((rc = lot_parse(argc, argv, &a, ctx)) != BG_OK)
         return rc < 0 ? BG_OK : rc;

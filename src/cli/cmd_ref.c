@@ -25,8 +25,9 @@ static const char ref_usage[] =
     "                      coefficients, R0 with its unit (100R), A, B, C per degC^n\n"
     "set records a recalibration as a new version (the earlier ones stay): its certificate,\n"
     "due date (none unless --due) and correction (stated: --no-correction for none), valid\n"
-    "from TIME (ISO 8601; default now), with the reason and who (default $USER).  An import\n"
-    "corrects its readings with the version in force at the run's start and records which.\n"
+    "from TIME (ISO 8601; default now), with the reason and who (default $USER, else the\n"
+    "login name of the user id).  An import corrects its readings with the version in force\n"
+    "at the run's start and records which.\n"
     "show lists the versions; list shows each reference as in force now.\n";
 
 /* What the options say: the reference (or version) and, for set, its reason and validity. */
@@ -260,8 +261,10 @@ static int ref_set(struct ref_opts *o, const char *ident, struct cli_ctx *ctx)
         return cli_usage_error("ref", "set needs --why TEXT (the reason for the new version)");
     if (rv->ref.note[0])
         return cli_usage_error("ref", "--note is for add (a version records --why)");
-    if (!o->by || !*o->by)
-        return cli_usage_error("ref", "set needs --by NAME ($USER is not set)");
+    char who[BG_TEXT], how[128];
+    o->by = cli_who(o->by, who, sizeof who, how, sizeof how);
+    if (!*o->by)
+        return cli_usage_error("ref", "--by needs a name");
     if (strlen(o->why) >= sizeof rv->v.why || strlen(o->by) >= sizeof rv->v.by)
         return cli_usage_error("ref", "--why or --by is too long");
     snprintf(rv->v.why, sizeof rv->v.why, "%s", o->why);
@@ -273,7 +276,7 @@ static int ref_set(struct ref_opts *o, const char *ident, struct cli_ctx *ctx)
         bg_store_time(st, rv->v.valid_from, sizeof rv->v.valid_from);
     if ((rc = bg_store_ref_set(st, rv, &id, &err)) != BG_OK) {
         cli_fail("ref set", &err);
-    } else if (ctx->json) {
+    } else if (cli_who_note(rv->v.by, how), ctx->json) {
         json_out j;
         json_begin(&j, stdout);
         json_obj(&j, NULL);
@@ -350,7 +353,7 @@ int cmd_ref(int argc, char **argv, struct cli_ctx *ctx)
     int rc;
 
     memset(&o, 0, sizeof o);
-    o.by = getenv("USER");
+    o.by = NULL;
     if ((rc = ref_parse(argc, argv, &o, ctx)) != BG_OK)
         return rc < 0 ? BG_OK : rc;
     if (strcmp(argv[optind], "add") == 0) {

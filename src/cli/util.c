@@ -12,6 +12,7 @@
 #include <string.h>
 #include <time.h>
 #include <fcntl.h>
+#include <pwd.h>
 #include <sys/stat.h>
 #include <unistd.h>
 
@@ -35,6 +36,36 @@ void cli_warn(const char *fmt, ...)
     vfprintf(stderr, fmt, ap);
     fputc('\n', stderr);
     va_end(ap);
+}
+
+const char *cli_who(const char *given, char *buf, size_t size, char *how, size_t hsize)
+{
+    const char *user = getenv("USER");
+    uid_t uid = geteuid();
+    struct passwd *pw;
+    how[0] = '\0';
+    if (given || (user && *user)) {
+        snprintf(buf, size, "%s", given ? given : user);
+        return buf;
+    }
+    pw = getpwuid(uid);
+    if (pw && pw->pw_name && *pw->pw_name) {
+        snprintf(buf, size, "%s", pw->pw_name);
+        snprintf(how, hsize, "the login name of user id %lu ($USER is not set)",
+                 (unsigned long)uid);
+    } else {
+        snprintf(buf, size, "uid %lu", (unsigned long)uid);
+        snprintf(how, hsize, "the user id: $USER is not set and user id %lu has no login name",
+                 (unsigned long)uid);
+    }
+    return buf;
+}
+
+void cli_who_note(const char *who, const char *how)
+{
+    if (how[0])
+        fprintf(stderr, "bandgap: note: recorded by '%s', %s; give --by NAME to name "
+                "someone else\n", who, how);
 }
 
 int cli_usage_error(const char *cmd, const char *fmt, ...)

@@ -13,4 +13,18 @@ void bgi_qa_limits(const bg_qa_opts *o, const bg_part_spec *spec, bg_qa_probe *p
 ** bg_qa_probe_drift makes them; sets 'flagged'.  Errors as bg_qa_probe_drift's. */
 int bgi_qa_probe_compare(bg_qa_probe *p, const bg_qa_opts *o, bg_error *err);
 
+/* A lot's versions (bg_store_lot_versions), the row first: each version's lot as in force
+** and the seconds of its validity (-inf for the first). */
+struct bgi_lot_versions {
+    bg_lot *lot;
+    double *t;
+    size_t n, cap;
+    int oom;
+};
+int bgi_qa_lot_versions_load(bg_store *st, const char *code, struct bgi_lot_versions *v,
+                             bg_error *err);
+/* The version in force at 'when' (the first when 'when' is no time); NULL when none loaded. */
+const bg_lot *bgi_qa_lot_version_at(const struct bgi_lot_versions *v, const char *when);
+void bgi_qa_lot_versions_free(struct bgi_lot_versions *v);
+
 #endif

@@ -9,7 +9,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "bandgap/qa.h"
+#include "qa_int.h"
 
 /* The newest fit of each probe, collected in buffers that grow. */
 struct latest {
@@ -222,38 +222,80 @@ static int alloc_values(bg_qa_lot *l, bg_error *err)
     return BG_OK;
 }
 
-static int count_lot_version(const bg_lot_version *lv, void *ctx)
+/* The start of each run that counts toward the lot, by run id (bg_store_run_each gives them in
+** id order). */
+struct run_starts {
+    long long *id;
+    char (*at)[BG_TIME];
+    size_t n, cap;
+    int oom;
+};
+
+static int keep_start(const bg_run *r, void *ctx)
 {
-    (void)lv;
-    ++*(size_t *)ctx;
+    struct run_starts *s = ctx;
+    if (s->n == s->cap) {
+        size_t cap = s->cap ? 2 * s->cap : 64;
+        long long *id = realloc(s->id, cap * sizeof *id);
+        if (id)
+            s->id = id;
+        char (*at)[BG_TIME] = realloc(s->at, cap * sizeof *at);
+        if (at)
+            s->at = at;
+        if (!id || !at)
+            return s->oom = 1;
+        s->cap = cap;
+    }
+    s->id[s->n] = r->id;
+    memcpy(s->at[s->n++], r->started_at, BG_TIME);
     return 0;
 }
 
+static const char *start_of(const struct run_starts *s, long long run_id)
+{
+    size_t lo = 0, hi = s->n;
+    while (lo < hi) {
+        size_t mid = lo + (hi - lo) / 2;
+        if (s->id[mid] < run_id)
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    return lo < s->n && s->id[lo] == run_id ? s->at[lo] : "";
+}
+
 /* A probe is out of tolerance against the tolerances of the lot version in force at its
-** calibration's start (bg_store_lot_at): a corrected tolerance judges the calibrations from
-** its validity on, and leaves the earlier ones as they were.  A lot without later versions
-** is not read again.  (Cpk and the band use the tolerances in force now.) */
+** calibration's start: a corrected tolerance judges the calibrations from its validity on, and
+** leaves the earlier ones as they were.  The versions are read once and the runs' starts in
+** one query; a lot without later versions is not read again.  (Cpk and the band use the
+** tolerances in force now.) */
 static int tolerances_in_force(bg_store *st, bg_qa_lot *l, const bg_fit_row *fit,
                                bg_error *err)
 {
-    size_t nver = 0;
-    int rc = bg_store_lot_versions(st, l->lot.code, count_lot_version, &nver, err);
-    if (rc != BG_OK || nver < 2)
-        return rc;
-    l->nout = 0;
-    for (size_t i = 0; i < l->n; i++) {
-        bg_run run;
-        bg_lot_version lv;
-        if ((rc = bg_store_run_get(st, fit[i].run_id, &run, err)) != BG_OK ||
-            (rc = bg_store_lot_at(st, l->lot.code, run.started_at, &lv, err)) != BG_OK)
-            return rc;
-        l->flags[i] &= ~(unsigned)BG_QA_OUT_OF_TOL;
-        if (fabs(l->r25_dev_pct[i]) > 100.0 * lv.lot.tol_r25 ||
-            fabs(l->b_k[i] - l->lot.beta_k) > l->lot.beta_k * lv.lot.tol_beta)
-            l->flags[i] |= BG_QA_OUT_OF_TOL, l->nout++;
+    struct bgi_lot_versions lv;
+    struct run_starts rs = { NULL, NULL, 0, 0, 0 };
+    int rc = bgi_qa_lot_versions_load(st, l->lot.code, &lv, err);
+    if (rc == BG_OK && lv.n >= 2) {
+        rc = bg_store_run_each(st, NULL, l->lot.code, keep_start, &rs, err);
+        if (rc == BG_OK && rs.oom)
+            rc = bg_error_set(err, BG_ENOMEM, "out of memory reading the runs of lot '%s'",
+                              l->lot.code);
     }
-    l->flagged = l->nout > 0 || l->nband > 0 || l->outlier_r25 || l->outlier_b;
-    return BG_OK;
+    if (rc == BG_OK && lv.n >= 2) {
+        l->nout = 0;
+        for (size_t i = 0; i < l->n; i++) {
+            const bg_lot *v = bgi_qa_lot_version_at(&lv, start_of(&rs, fit[i].run_id));
+            l->flags[i] &= ~(unsigned)BG_QA_OUT_OF_TOL;
+            if (fabs(l->r25_dev_pct[i]) > 100.0 * v->tol_r25 ||
+                fabs(l->b_k[i] - l->lot.beta_k) > l->lot.beta_k * v->tol_beta)
+                l->flags[i] |= BG_QA_OUT_OF_TOL, l->nout++;
+        }
+        l->flagged = l->nout > 0 || l->nband > 0 || l->outlier_r25 || l->outlier_b;
+    }
+    bgi_qa_lot_versions_free(&lv);
+    free(rs.id);
+    free(rs.at);
+    return rc;
 }
 
 /* The nominal curve: the part's, else the lot's R25 and B as a beta curve (no verdict). */

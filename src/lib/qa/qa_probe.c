@@ -138,19 +138,22 @@ int bgi_qa_probe_compare(bg_qa_probe *p, const bg_qa_opts *o, bg_error *err)
     return BG_OK;
 }
 
-/* A default limit comes from the lot's R25 tolerance in force at each calibration's start
-** (bg_store_lot_at): a lot version that corrects the tolerance judges the calibrations from
-** its validity on, and leaves the earlier verdicts as they were. */
+/* A default limit comes from the R25 tolerance in force at each calibration's start, of the
+** lot the probe belonged to then (bg_store_probe_at, bg_store_lot_at): a lot version that
+** corrects the tolerance judges the calibrations from its validity on, and a probe moved to
+** another lot is judged by the lot each calibration counts toward. */
 static int limits_in_force(bg_store *st, bg_qa_probe *p, bg_error *err)
 {
     bg_lot_version lv;
+    bg_probe_version pv;
     int rc;
     if (p->limit_from != BG_QA_FROM_DEFAULT || p->n == 0)
         return BG_OK;
     if (!(p->limit_at = malloc(p->n * sizeof *p->limit_at)))
         return bg_error_set(err, BG_ENOMEM, "out of memory for %zu calibrations", p->n);
     for (size_t i = 0; i < p->n; i++) {
-        if ((rc = bg_store_lot_at(st, p->lot.code, p->started_at[i], &lv, err)) != BG_OK)
+        if ((rc = bg_store_probe_at(st, p->serial, p->started_at[i], &pv, err)) != BG_OK ||
+            (rc = bg_store_lot_at(st, pv.probe.lot_code, p->started_at[i], &lv, err)) != BG_OK)
             return rc;
         p->limit_at[i] = bg_qa_tol_limit_k(&lv.lot);
     }

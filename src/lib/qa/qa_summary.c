@@ -11,9 +11,23 @@
 struct probes_ctx {
     bg_qa_lot_summary *out;
     const bg_qa_opts *o;
+    const struct bgi_lot_versions *lv;
     bg_error *err;
     int rc;
 };
+
+/* A default limit comes from the lot's R25 tolerance in force at each calibration's start, as
+** drift --probe takes it: every calibration in the lot's histories counts toward this lot. */
+static int limits_at(const struct bgi_lot_versions *lv, bg_qa_probe *p, bg_error *err)
+{
+    if (p->limit_from != BG_QA_FROM_DEFAULT || p->n == 0 || lv->n < 2)
+        return BG_OK;
+    if (!(p->limit_at = malloc(p->n * sizeof *p->limit_at)))
+        return bg_error_set(err, BG_ENOMEM, "out of memory for %zu calibrations", p->n);
+    for (size_t i = 0; i < p->n; i++)
+        p->limit_at[i] = bg_qa_tol_limit_k(bgi_qa_lot_version_at(lv, p->started_at[i]));
+    return BG_OK;
+}
 
 static int probe_cb(const char *serial, const bg_fit_row *fits, char (*started_at)[BG_TIME],
                     size_t n, size_t unfitted, void *vctx)
@@ -49,7 +63,8 @@ static int probe_cb(const char *serial, const bg_fit_row *fits, char (*started_a
     p->unfitted = unfitted;
     bgi_qa_limits(c->o, &out->stats.spec, p);
     p->have_history = 1;
-    if ((c->rc = bgi_qa_probe_compare(p, c->o, c->err)) != BG_OK)
+    if ((c->rc = limits_at(c->lv, p, c->err)) != BG_OK ||
+        (c->rc = bgi_qa_probe_compare(p, c->o, c->err)) != BG_OK)
         return 1;
     out->flagged |= p->flagged;
     out->limit_k = p->limit_k, out->rate_k = p->rate_k; /* the same for every probe */
@@ -57,14 +72,20 @@ static int probe_cb(const char *serial, const bg_fit_row *fits, char (*started_a
     return 0;
 }
 
-/* Every probe of the lot, by serial, compared with its previous calibration only. */
+/* Every probe of the lot, by serial, compared with its previous calibration only: the probes
+** and calibrations that count toward the lot (a calibration run counts toward the lot its probe
+** belonged to when the run started). */
 static int probes(bg_store *st, const char *code, const bg_qa_opts *qo, bg_qa_lot_summary *out,
                   bg_error *err)
 {
     bg_qa_opts o = *qo;
+    struct bgi_lot_versions lv;
     o.since_first = 0;
-    struct probes_ctx c = { out, &o, err, BG_OK };
-    int rc = bg_store_lot_histories(st, code, o.since, probe_cb, &c, err);
+    struct probes_ctx c = { out, &o, &lv, err, BG_OK };
+    int rc = bgi_qa_lot_versions_load(st, code, &lv, err);
+    if (rc == BG_OK)
+        rc = bg_store_lot_histories(st, code, o.since, probe_cb, &c, err);
+    bgi_qa_lot_versions_free(&lv);
     return rc != BG_OK ? rc : c.rc;
 }
 

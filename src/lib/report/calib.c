@@ -174,12 +174,17 @@ static int load(bg_store *st, long long run_id, long long fit_id, bg_calib_repor
         return rc;
     if (r->fit.run_id != run_id)
         return bg_error_set(err, BG_EINVAL, "fit %lld is not a fit of run %lld", fit_id, run_id);
-    /* the lot and the reference as they were for this run: the lot version in force at its
-    ** start, the reference version its readings were corrected with */
+    /* the lot and the reference as they were for this run: the lot the probe belonged to at
+    ** its start (a probe moved since counts this run toward its earlier lot), that lot's
+    ** version in force then, the reference version its readings were corrected with */
     bg_lot_version lv;
+    bg_probe_version pv;
     if ((rc = bg_store_probe_get(st, r->run.serial, &r->probe, err)) != BG_OK ||
-        (rc = bg_store_lot_at(st, r->probe.lot_code, r->run.started_at, &lv, err)) != BG_OK)
+        (rc = bg_store_probe_at(st, r->run.serial, r->run.started_at, &pv, err)) != BG_OK ||
+        (rc = bg_store_lot_at(st, pv.probe.lot_code, r->run.started_at, &lv, err)) != BG_OK)
         return rc;
+    r->probe.lot_id = pv.probe.lot_id;
+    memcpy(r->probe.lot_code, pv.probe.lot_code, sizeof r->probe.lot_code);
     r->lot = lv.lot;
     if (r->run.reference_id) {
         bg_ref_version rv;

@@ -80,6 +80,18 @@ int bgi_status_fail(sqlite3 *db, const char *path, int busy_ms, int xrc, bg_erro
         return bg_error_set(err, BG_EINVAL, "%s: the record refuses it: %s", what, msg);
     case SQLITE_NOMEM:
         return bg_error_set(err, BG_ENOMEM, "%s: out of memory", what);
+    case SQLITE_CORRUPT:
+    case SQLITE_NOTADB:
+        /* the bytes of the file are not the database that was written: storage trouble (a
+        ** failing disk, a truncated copy, another program writing into it), reported as an
+        ** i/o error is; nothing is written to it */
+        if ((xrc & 0xff) == SQLITE_NOTADB)
+            return bg_error_set(err, BG_EIO, "%s: '%s' is not a database file, or its header "
+                                "is damaged: if it is the database, restore it from a backup",
+                                what, path ? path : "");
+        return bg_error_set(err, BG_EIO, "%s: the database file '%s' is damaged (%s): restore "
+                            "it from a backup ('bandgap --db %s verify' says what is found)",
+                            what, path ? path : "", msg, path ? path : "FILE");
     default:
         return bg_error_set(err, BG_EDB, "%s: %s", what, msg);
     }
@@ -341,9 +353,10 @@ static int sq_open(const char *path, int flags, bgi_conn **out, char *backup, si
     sqlite3_db_config(c->db, SQLITE_DBCONFIG_DQS_DML, 0, NULL);
     sqlite3_db_config(c->db, SQLITE_DBCONFIG_DQS_DDL, 0, NULL);
     sqlite3_db_config(c->db, SQLITE_DBCONFIG_TRUSTED_SCHEMA, 0, NULL);
-    if (sqlite3_exec(c->db, "PRAGMA foreign_keys = ON; PRAGMA synchronous = FULL;", NULL,
+    if (bgi_sqlite_time_function(c->db) != SQLITE_OK ||
+        sqlite3_exec(c->db, "PRAGMA foreign_keys = ON; PRAGMA synchronous = FULL;", NULL,
                      NULL, NULL) != SQLITE_OK) {
-        rc = bgi_db_fail(c, err, "cannot set up the connection");
+        rc = bgi_db_fail(c, err, "cannot open the database");
         rc = exists ? not_ours(path, rc, err) : rc;
         goto fail;
     }
@@ -483,7 +496,7 @@ static int sq_lot_add(bgi_conn *c, const bg_lot *lot, const char *now, long long
 
 #define LOT_COLS "l.id, l.code, l.part, l.r25_ohm, l.beta_k, l.pair_t1_k, l.pair_t2_k, " \
                  "l.tol_r25, l.tol_beta, l.note, l.created_at, " \
-                 "(SELECT count(*) FROM probe p WHERE p.lot_id = l.id)"
+                 "(SELECT count(*) FROM probe p WHERE " BGI_PROBE_NOW_IN("p", "l.id") ")"
 
 static void lot_row(sqlite3_stmt *q, bg_lot *l)
 {
@@ -591,7 +604,7 @@ int bgi_sqlite_probe_get(bgi_conn *c, const char *serial, bg_probe *out, bg_erro
 {
     sqlite3_stmt *q = NULL;
     int rc = bgi_stmt(c, STMT_PROBE_GET, "SELECT " PROBE_COLS " FROM probe p JOIN lot l ON "
-                      "p.lot_id = l.id WHERE p.serial = ?", &q, err);
+                      "l.id = " BGI_LOT_NOW("p") " WHERE p.serial = ?", &q, err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_text(q, 1, serial, -1, SQLITE_TRANSIENT);
@@ -618,8 +631,8 @@ static int sq_probe_each(bgi_conn *c, const char *lot_code, bg_probe_cb cb, void
         if ((rc = bgi_sqlite_lot_get(c, lot_code, &lot, err)) != BG_OK)
             return rc;
     }
-    rc = bgi_prepare(c, "SELECT " PROBE_COLS " FROM probe p JOIN lot l ON p.lot_id = l.id "
-                     "WHERE ?1 IS NULL OR l.code = ?1 ORDER BY p.serial", &q, err);
+    rc = bgi_prepare(c, "SELECT " PROBE_COLS " FROM probe p JOIN lot l ON l.id = "
+                     BGI_LOT_NOW("p") " WHERE ?1 IS NULL OR l.code = ?1 ORDER BY p.serial", &q, err);
     if (rc != BG_OK)
         return rc;
     bgi_bind_text_or_null(q, 1, lot_code);
@@ -860,4 +873,5 @@ const struct bgi_store_backend bgi_store_sqlite = {
     bgi_sqlite_lot_histories, bgi_sqlite_export_each,
     bgi_sqlite_ref_version_add, bgi_sqlite_ref_version_each,
     bgi_sqlite_lot_version_add, bgi_sqlite_lot_version_each,
+    bgi_sqlite_probe_version_add, bgi_sqlite_probe_version_each,
 };

@@ -107,10 +107,12 @@ int bgi_sqlite_export_each(bgi_conn *c, const char *serial, long long lot_id,
     int own = sqlite3_get_autocommit(c->db);
     if (own && sqlite3_exec(c->db, "BEGIN", NULL, NULL, NULL) != SQLITE_OK)
         return bgi_db_fail(c, err, "cannot start a read transaction");
+    /* a lot's probes: those in it now */
     rc = bgi_prepare(c, serial ? "SELECT " BGI_PROBE_COLS " FROM probe p JOIN lot l ON "
-                     "p.lot_id = l.id WHERE p.serial = ?1" :
-                     "SELECT " BGI_PROBE_COLS " FROM probe p JOIN lot l ON p.lot_id = l.id "
-                     "WHERE p.lot_id = ?2 ORDER BY p.serial", &q, err);
+                     "l.id = " BGI_LOT_NOW("p") " WHERE p.serial = ?1" :
+                     "SELECT " BGI_PROBE_COLS " FROM probe p JOIN lot l ON l.id = "
+                     BGI_LOT_NOW("p") " WHERE " BGI_PROBE_NOW_IN("p", "?2") " ORDER BY p.serial",
+                     &q, err);
     if (rc == BG_OK) {
         if (serial)
             sqlite3_bind_text(q, 1, serial, -1, SQLITE_TRANSIENT);

@@ -135,14 +135,17 @@ static int row_model(sqlite3_stmt *q, int col, bg_fit_row *f, bg_error *err)
 {
     char name[16];
     bgi_copy_text(name, sizeof name, q, col);
-    if (bg_model_parse(name, &f->model, err) != BG_OK)
+    if (bg_model_parse(name, &f->model, err) != BG_OK) {
+        /* a row bandgap could not have written: name it, for 'bandgap verify' and the fix */
+        bg_error_prefix(err, "fit %lld (run %lld) is unreadable", f->id, f->run_id);
         return BG_EINVAL;
+    }
     if (sqlite3_column_type(q, col + 1) != SQLITE_NULL)
         f->model.t0_k = sqlite3_column_double(q, col + 1);
     f->npar = (size_t)sqlite3_column_int64(q, col + 2);
     if (f->npar != bg_model_npar(&f->model))
-        return bg_error_set(err, BG_EDB, "fit %lld: %zu coefficients for model '%s'", f->id,
-                            f->npar, name);
+        return bg_error_set(err, BG_EDB, "fit %lld (run %lld) is unreadable: %zu coefficients "
+                            "for model '%s'", f->id, f->run_id, f->npar, name);
     for (size_t i = 0; i < f->npar; i++)
         f->model.coef[i] = sqlite3_column_double(q, col + 3 + (int)i);
     return BG_OK;
@@ -213,7 +216,9 @@ int bgi_sqlite_fit_each(bgi_conn *c, const char *serial, const char *lot_code, b
     int rc = bgi_sqlite_check_filter(c, serial, lot_code, err), s;
     if (rc != BG_OK)
         return rc;
-    rc = bgi_prepare(c, "SELECT " FIT_COLS FIT_FROM "JOIN lot l ON p.lot_id = l.id "
+    /* a lot's fits: those of the runs that count toward it */
+    rc = bgi_prepare(c, "SELECT " FIT_COLS FIT_FROM "JOIN lot l ON l.id = "
+                     BGI_LOT_AT_RUN("r", "p") " "
                      "WHERE (?1 IS NULL OR p.serial = ?1) AND (?2 IS NULL OR l.code = ?2) "
                      "ORDER BY f.id", &q, err);
     if (rc != BG_OK)
@@ -324,8 +329,9 @@ int bgi_sqlite_lot_points_each(bgi_conn *c, const bg_lot *lot, bg_lot_points_cb 
     /* First the lot's probes with their newest runs, in the order the probes were added;
     ** then each run's points by the range of its reading ids. */
     rc = bgi_prepare(c, "SELECT p.id, p.serial, coalesce((SELECT r.id FROM run r WHERE "
-                     "r.probe_id = p.id ORDER BY r.started_at DESC, r.id DESC LIMIT 1), 0) "
-                     "FROM probe p WHERE p.lot_id = ? ORDER BY p.id", &q, err);
+                     "r.probe_id = p.id AND " BGI_LOT_AT_RUN("r", "p") " = ?1 ORDER BY "
+                     "r.started_at DESC, r.id DESC LIMIT 1), 0) FROM probe p WHERE "
+                     BGI_PROBE_OF("p", "?1") " ORDER BY p.id", &q, err);
     if (rc != BG_OK)
         goto end;
     sqlite3_bind_int64(q, 1, lot->id);
@@ -412,9 +418,9 @@ int bgi_sqlite_lot_latest_fits(bgi_conn *c, long long lot_id, const char *since,
     rc = bgi_stmt(c, STMT_LOT_LATEST, "SELECT p.serial, " FIT_COLS " FROM probe p LEFT JOIN "
                   "fit f ON f.id = (SELECT max(f2.id) FROM fit f2 WHERE f2.run_id = (SELECT "
                   "r2.id FROM run r2 WHERE r2.probe_id = p.id AND (?2 IS NULL OR "
-                  "r2.started_at >= ?2) ORDER BY r2.started_at DESC, r2.id DESC LIMIT 1)) "
-                  "LEFT JOIN run r ON r.id = f.run_id WHERE p.lot_id = ?1 ORDER BY p.id", &q,
-                  err);
+                  "r2.started_at >= ?2) AND " BGI_LOT_AT_RUN("r2", "p") " = ?1 ORDER BY "
+                  "r2.started_at DESC, r2.id DESC LIMIT 1)) LEFT JOIN run r ON r.id = "
+                  "f.run_id WHERE " BGI_PROBE_OF("p", "?1") " ORDER BY p.id", &q, err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, lot_id);
@@ -471,7 +477,8 @@ int bgi_sqlite_lot_histories(bgi_conn *c, long long lot_id, const char *since,
     ** the run's id and start, the fit (FIT_COLS) from column 4 */
     rc = bgi_stmt(c, STMT_LOT_HISTORIES, "SELECT p.id, p.serial, r.id, r.started_at, "
                   FIT_COLS " FROM probe p LEFT JOIN run r ON r.probe_id = p.id AND (?2 IS NULL "
-                  "OR r.started_at >= ?2) " NEWEST_FIT "WHERE p.lot_id = ?1 "
+                  "OR r.started_at >= ?2) AND " BGI_LOT_AT_RUN("r", "p") " = ?1 " NEWEST_FIT
+                  "WHERE " BGI_PROBE_OF("p", "?1") " "
                   "ORDER BY p.serial, r.started_at, r.id", &q, err);
     if (rc != BG_OK)
         return rc;
@@ -552,10 +559,11 @@ int bgi_sqlite_lot_history(bgi_conn *c, long long lot_id, const char *since,
     ** replaces the ones before it below (cheaper than asking SQL for it per row); the
     ** serials from the lot's probes in the same order */
     if ((rc = bgi_prepare(c, "SELECT " HIST_COLS FIT_FROM
-                          "WHERE p.lot_id = ?1 AND (?2 IS NULL OR r.started_at >= ?2) "
+                          "WHERE " BGI_PROBE_WAS_IN("p", "?1") " AND " BGI_LOT_AT_RUN("r", "p")
+                          " = ?1 AND (?2 IS NULL OR r.started_at >= ?2) "
                           "ORDER BY p.id, r.started_at, r.id, f.id", &q, err)) != BG_OK ||
-        (rc = bgi_prepare(c, "SELECT id, serial FROM probe WHERE lot_id = ? ORDER BY id", &pq,
-                          err)) != BG_OK) {
+        (rc = bgi_prepare(c, "SELECT p.id, p.serial FROM probe p WHERE "
+                          BGI_PROBE_WAS_IN("p", "?1") " ORDER BY p.id", &pq, err)) != BG_OK) {
         sqlite3_finalize(q);
         return rc;
     }

@@ -113,8 +113,37 @@ int bgi_sqlite_lot_latest_fits(bgi_conn *c, long long lot_id, const char *since,
                                bg_latest_cb cb, void *ctx, bg_error *err);
 int bgi_sqlite_lot_history(bgi_conn *c, long long lot_id, const char *since,
                            bg_lot_history_cb cb, void *ctx, bg_error *err);
-/* The columns of a probe row (p: the probe, l: its lot) and the row. */
-#define BGI_PROBE_COLS "p.id, p.lot_id, p.serial, l.code, p.note, p.created_at, " \
+/* Schema 8, a probe moved to another lot (probe_version), in SQL over the probe alias 'p':
+** the lot it is in now (its newest move, else its row's lot: a move is never valid later than
+** when it was recorded), and the lot a run of it (alias 'r') counts toward: the lot the probe
+** belonged to when the run started (the newest move valid from at or before the run's start,
+** the two times compared as instants by bgi_time(), registered on each connection; else the
+** row's lot).  BGI_PROBE_NOW_IN(p, LOT): probe p is in lot LOT (an SQL expression) now;
+** BGI_PROBE_OF(p, LOT): p is in LOT now or has a run that counts toward it.  Both find the
+** candidates by index (probe_lot, probe_version_lot) before they look at moves. */
+#define BGI_LOT_NOW(p) "coalesce((SELECT pv.lot_id FROM probe_version pv WHERE pv.probe_id = " \
+    p ".id ORDER BY pv.id DESC LIMIT 1), " p ".lot_id)"
+#define BGI_LOT_AT_RUN(r, p) "coalesce((SELECT pv.lot_id FROM probe_version pv WHERE " \
+    "pv.probe_id = " p ".id AND bgi_time(pv.valid_from) <= bgi_time(" r ".started_at) " \
+    "ORDER BY pv.id DESC LIMIT 1), " p ".lot_id)"
+#define BGI_PROBE_WAS_IN(p, lot) "(" p ".lot_id = " lot " OR " p ".id IN (SELECT " \
+    "pv.probe_id FROM probe_version pv WHERE pv.lot_id = " lot "))"
+#define BGI_PROBE_NOW_IN(p, lot) "(" BGI_PROBE_WAS_IN(p, lot) " AND " BGI_LOT_NOW(p) " = " \
+    lot ")"
+#define BGI_PROBE_OF(p, lot) "(" BGI_PROBE_WAS_IN(p, lot) " AND (" BGI_LOT_NOW(p) " = " lot \
+    " OR EXISTS (SELECT 1 FROM run rr WHERE rr.probe_id = " p ".id AND " \
+    BGI_LOT_AT_RUN("rr", p) " = " lot ")))"
+/* Register bgi_time(TEXT) on connection 'db': an ISO 8601 time as seconds since the epoch
+** (bg_time_parse, so SQL compares times as the library does), NULL when it is not one. */
+int bgi_sqlite_time_function(sqlite3 *db);
+/* A probe's versions (sqlite_version.c): add one (pv->probe.lot_id set), and each in id
+** order, the row itself first (id 0, its lot and creation time), with the lot codes. */
+int bgi_sqlite_probe_version_add(bgi_conn *c, long long probe_id, const bg_probe_version *pv,
+                                 const char *now, long long *id, bg_error *err);
+int bgi_sqlite_probe_version_each(bgi_conn *c, long long probe_id, bg_probe_version_cb cb,
+                                  void *ctx, bg_error *err);
+/* The columns of a probe row (p: the probe, l: its lot, the lot it is in now) and the row. */
+#define BGI_PROBE_COLS "p.id, l.id, p.serial, l.code, p.note, p.created_at, " \
     "(SELECT count(*) FROM run r WHERE r.probe_id = p.id), " \
     "(SELECT count(*) FROM fit f JOIN run r ON f.run_id = r.id WHERE r.probe_id = p.id)"
 void bgi_sqlite_probe_row(sqlite3_stmt *q, bg_probe *p);

@@ -304,7 +304,9 @@ int bgi_sqlite_run_each(bgi_conn *c, const char *serial, const char *lot_code, b
     int rc = bgi_sqlite_check_filter(c, serial, lot_code, err), s;
     if (rc != BG_OK)
         return rc;
-    rc = bgi_prepare(c, "SELECT " BGI_RUN_COLS BGI_RUN_FROM "JOIN lot l ON p.lot_id = l.id "
+    /* a lot's runs: those that count toward it */
+    rc = bgi_prepare(c, "SELECT " BGI_RUN_COLS BGI_RUN_FROM "JOIN lot l ON l.id = "
+                     BGI_LOT_AT_RUN("r", "p") " "
                      "WHERE (?1 IS NULL OR p.serial = ?1) AND (?2 IS NULL OR l.code = ?2) "
                      "ORDER BY r.id", &q, err);
     if (rc != BG_OK)

@@ -142,3 +142,84 @@ int bgi_sqlite_lot_version_each(bgi_conn *c, long long lot_id, bg_lot_version_cb
     sqlite3_finalize(q);
     return rc;
 }
+
+/* bgi_time(TEXT): the seconds of an ISO 8601 time as bg_time_parse reads it, NULL when the
+** value is not one; SQL compares a move's validity with a run's start through it. */
+static void time_fn(sqlite3_context *ctx, int argc, sqlite3_value **argv)
+{
+    const unsigned char *s = sqlite3_value_text(argv[0]);
+    double t;
+    (void)argc;
+    if (s && bg_time_parse((const char *)s, &t, NULL) == BG_OK)
+        sqlite3_result_double(ctx, t);
+    else
+        sqlite3_result_null(ctx);
+}
+
+int bgi_sqlite_time_function(sqlite3 *db)
+{
+    return sqlite3_create_function_v2(db, "bgi_time", 1,
+                                      SQLITE_UTF8 | SQLITE_DETERMINISTIC | SQLITE_INNOCUOUS,
+                                      NULL, time_fn, NULL, NULL, NULL);
+}
+
+int bgi_sqlite_probe_version_add(bgi_conn *c, long long probe_id, const bg_probe_version *pv,
+                                 const char *now, long long *id, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "INSERT INTO probe_version(probe_id, valid_from, lot_id, why, "
+                         "by_whom, created_at) VALUES (?,?,?,?,?,?)", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, probe_id);
+    sqlite3_bind_text(q, 2, pv->v.valid_from, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_int64(q, 3, pv->probe.lot_id);
+    sqlite3_bind_text(q, 4, pv->v.why, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 5, pv->v.by, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 6, now, -1, SQLITE_TRANSIENT);
+    if (sqlite3_step(q) != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot add the probe version");
+    else if (id)
+        *id = sqlite3_last_insert_rowid(c->db);
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bgi_sqlite_probe_version_each(bgi_conn *c, long long probe_id, bg_probe_version_cb cb,
+                                  void *ctx, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    bg_probe_version pv;
+    /* the row itself (version 0), then the versions; columns: version id, valid from, lot id
+    ** and code, why, by, recorded at, the probe's serial, note and creation time */
+    int rc = bgi_prepare(c, "SELECT 0, p.created_at, p.lot_id, l.code, NULL, NULL, "
+                         "p.created_at, p.serial, p.note, p.created_at FROM probe p JOIN lot l "
+                         "ON l.id = p.lot_id WHERE p.id = ?1 UNION ALL SELECT v.id, "
+                         "v.valid_from, v.lot_id, l.code, v.why, v.by_whom, v.created_at, "
+                         "p.serial, p.note, p.created_at FROM probe_version v JOIN lot l ON "
+                         "l.id = v.lot_id JOIN probe p ON p.id = v.probe_id WHERE v.probe_id = "
+                         "?1 ORDER BY 1", &q, err), s;
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, probe_id);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        memset(&pv, 0, sizeof pv);
+        pv.v.id = sqlite3_column_int64(q, 0);
+        bgi_copy_text(pv.v.valid_from, sizeof pv.v.valid_from, q, 1);
+        pv.probe.id = probe_id;
+        pv.probe.lot_id = sqlite3_column_int64(q, 2);
+        bgi_copy_text(pv.probe.lot_code, sizeof pv.probe.lot_code, q, 3);
+        bgi_copy_text(pv.v.why, sizeof pv.v.why, q, 4);
+        bgi_copy_text(pv.v.by, sizeof pv.v.by, q, 5);
+        bgi_copy_text(pv.v.created_at, sizeof pv.v.created_at, q, 6);
+        bgi_copy_text(pv.probe.serial, sizeof pv.probe.serial, q, 7);
+        bgi_copy_text(pv.probe.note, sizeof pv.probe.note, q, 8);
+        bgi_copy_text(pv.probe.created_at, sizeof pv.probe.created_at, q, 9);
+        if (cb(&pv, ctx))
+            break;
+    }
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read probe versions");
+    sqlite3_finalize(q);
+    return rc;
+}

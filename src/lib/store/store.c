@@ -809,6 +809,193 @@ int bg_store_lot_each(bg_store *st, bg_lot_cb cb, void *ctx, bg_error *err)
     return rc;
 }
 
+/* ---- versions of a probe: its moves from lot to lot ---- */
+
+/* A walk over a probe's versions: the one in force at 'at', the newest validity, or each for
+** 'cb'. */
+struct probe_walk {
+    double at;
+    bg_probe_version_cb cb;
+    void *ctx;
+    bg_probe_version found, newest;
+    double newest_t;
+};
+
+static int probe_walk_cb(const bg_probe_version *v, void *ctx)
+{
+    struct probe_walk *w = ctx;
+    double t = -INFINITY;
+    if (w->cb)
+        return w->cb(v, w->ctx);
+    if (v->v.id == 0) { /* the row: in force before any move, whatever the time */
+        w->found = w->newest = *v;
+        if (bg_time_parse(v->v.valid_from, &w->newest_t, NULL) != BG_OK)
+            w->newest_t = -INFINITY;
+        return 0;
+    }
+    if (bg_time_parse(v->v.valid_from, &t, NULL) == BG_OK && t > w->newest_t)
+        w->newest_t = t;
+    w->newest = *v;
+    if (t <= w->at)
+        w->found = *v;
+    return 0;
+}
+
+/* Probe 'serial': its row id, and the walk over its versions at 'when' (NULL or "": now). */
+static int probe_version_find(bg_store *st, const char *serial, const char *when,
+                              long long *pid, struct probe_walk *w, bg_error *err)
+{
+    int rc;
+    memset(w, 0, sizeof *w);
+    if (!st->be->probe_version_each)
+        return bg_error_set(err, BG_EDB, "the '%s' database does not keep probe versions",
+                            st->be->scheme);
+    if ((rc = st->be->probe_id(st->conn, serial, pid, err)) != BG_OK ||
+        (rc = time_or_now(st, when, &w->at, err)) != BG_OK)
+        return rc;
+    return st->be->probe_version_each(st->conn, *pid, probe_walk_cb, w, err);
+}
+
+int bg_store_probe_at(bg_store *st, const char *serial, const char *when, bg_probe_version *out,
+                      bg_error *err)
+{
+    struct probe_walk w;
+    long long pid;
+    int rc = probe_version_find(st, serial, when, &pid, &w, err);
+    if (rc == BG_OK)
+        *out = w.found;
+    return did_you_mean(st, BGI_NAME_PROBE, serial, rc, err);
+}
+
+int bg_store_probe_versions(bg_store *st, const char *serial, bg_probe_version_cb cb, void *ctx,
+                            bg_error *err)
+{
+    struct probe_walk w;
+    long long pid;
+    int rc = st->be->probe_id(st->conn, serial, &pid, err);
+    if (rc != BG_OK)
+        return did_you_mean(st, BGI_NAME_PROBE, serial, rc, err);
+    if (!st->be->probe_version_each)
+        return bg_error_set(err, BG_EDB, "the '%s' database does not keep probe versions",
+                            st->be->scheme);
+    memset(&w, 0, sizeof w);
+    w.cb = cb, w.ctx = ctx;
+    return st->be->probe_version_each(st->conn, pid, probe_walk_cb, &w, err);
+}
+
+/* The recorded runs of a probe that start at or after 'from' (seconds). */
+struct runs_after {
+    double from;
+    size_t n;
+};
+
+static int runs_after_cb(const char *started_at, long long run_id, const bg_fit_row *fit,
+                         void *ctx)
+{
+    struct runs_after *ra = ctx;
+    double t;
+    (void)run_id, (void)fit;
+    if (bg_time_parse(started_at, &t, NULL) == BG_OK && t >= ra->from)
+        ra->n++;
+    return 0;
+}
+
+/* A lot whose recorded verdicts a move would change must not have an issued lot report. */
+static int check_no_lot_report(bg_store *st, const char *serial, const char *code, size_t n,
+                               bg_error *err)
+{
+    char subject[BG_TEXT + 8];
+    long long next, latest = 0;
+    snprintf(subject, sizeof subject, "lot %s", code);
+    int rc = st->be->artifact_next(st->conn, "report-lot", subject, &next, &latest, err);
+    if (rc == BG_OK && latest)
+        rc = bg_error_set(err, BG_EINVAL, "probe '%s': the move would change the lot that %zu "
+                          "recorded run%s count%s toward, and lot '%s' has an issued lot report "
+                          "(report %lld) whose verdicts would no longer match the record: "
+                          "refused (record the move valid from after the probe's last run)",
+                          serial, n, n == 1 ? "" : "s", n == 1 ? "s" : "", code, latest);
+    return rc;
+}
+
+/* Inside the move's transaction: every check, then the version. */
+static int probe_move_tx(bg_store *st, const bg_probe_version *pv, bg_probe_move_result *res,
+                         bg_error *err)
+{
+    const char *serial = pv->probe.serial, *code = pv->probe.lot_code;
+    char now[BG_TIME], what[BG_TEXT + 16];
+    struct probe_walk w;
+    struct runs_after ra = { 0.0, 0 };
+    bg_probe_version add = *pv;
+    bg_lot to, from;
+    long long pid;
+    int rc;
+
+    snprintf(what, sizeof what, "probe '%s'", serial);
+    if ((rc = probe_version_find(st, serial, pv->v.valid_from, &pid, &w, err)) != BG_OK ||
+        (rc = check_valid_from(pv->v.valid_from, w.found.probe.created_at, w.newest_t, what,
+                               err)) != BG_OK)
+        return rc;
+    if ((rc = st->be->lot_get(st->conn, code, &to, err)) != BG_OK ||
+        (rc = st->be->lot_get(st->conn, w.found.probe.lot_code, &from, err)) != BG_OK)
+        return rc;
+    if (to.id == from.id)
+        return bg_error_set(err, BG_EINVAL, "%s is already in lot '%s' at %s: the move changes "
+                            "nothing", what, code, pv->v.valid_from);
+    if (strcmp(to.part, from.part) != 0)
+        return bg_error_set(err, BG_EINVAL, "%s: lot '%s' is of part '%s', not '%s' as lot '%s': "
+                            "a probe moves only between lots of its part", what, code, to.part,
+                            from.part, from.code);
+    if ((rc = bg_time_parse(pv->v.valid_from, &ra.from, err)) != BG_OK ||
+        (rc = st->be->probe_history(st->conn, pid, NULL, runs_after_cb, &ra, err)) != BG_OK)
+        return rc;
+    if (ra.n && ((rc = check_no_lot_report(st, serial, from.code, ra.n, err)) != BG_OK ||
+                 (rc = check_no_lot_report(st, serial, to.code, ra.n, err)) != BG_OK))
+        return rc;
+    add.probe.lot_id = to.id;
+    if ((rc = st->be->probe_version_add(st->conn, pid, &add, bg_store_time(st, now, sizeof now),
+                                        &res->id, err)) != BG_OK)
+        return rc;
+    snprintf(res->from_lot, sizeof res->from_lot, "%s", from.code);
+    snprintf(res->valid_from, sizeof res->valid_from, "%s", pv->v.valid_from);
+    res->runs_moved = ra.n;
+    return BG_OK;
+}
+
+int bg_store_probe_move(bg_store *st, const bg_probe_version *pv, bg_probe_move_result *res,
+                        bg_error *err)
+{
+    char now[BG_TIME];
+    bg_probe_version add = *pv;
+    bg_probe_move_result r;
+    double t, tnow;
+    int rc, own;
+
+    memset(&r, 0, sizeof r);
+    if ((rc = check_why_by(&pv->v, err)) != BG_OK ||
+        (rc = check_text("serial", pv->probe.serial, BG_TEXT, 1, err)) != BG_OK ||
+        (rc = check_text("lot code", pv->probe.lot_code, BG_TEXT, 1, err)) != BG_OK)
+        return rc;
+    bg_store_time(st, now, sizeof now);
+    if (!add.v.valid_from[0])
+        snprintf(add.v.valid_from, sizeof add.v.valid_from, "%s", now);
+    if ((rc = bg_time_parse(add.v.valid_from, &t, err)) != BG_OK ||
+        (rc = bg_time_parse(now, &tnow, err)) != BG_OK)
+        return rc;
+    if (t > tnow)
+        return bg_error_set(err, BG_EINVAL, "probe '%s': a move valid from %s is later than now "
+                            "(%s): refused (record a move once it has happened)",
+                            pv->probe.serial, add.v.valid_from, now);
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    rc = probe_move_tx(st, &add, &r, err);
+    rc = chained(st, "probe_version", r.id, rc, err);
+    rc = tx_end(st, own, rc, err);
+    if (rc == BG_OK && res)
+        *res = r;
+    rc = did_you_mean(st, BGI_NAME_PROBE, pv->probe.serial, rc, err);
+    return did_you_mean(st, BGI_NAME_LOT, pv->probe.lot_code, rc, err);
+}
+
 /* ---- runs and readings ----
 ** An import holds one reading at a time, whatever the file's size, and reads its readings
 ** twice.  The first pass parses and checks every line and finds what the run's row needs
@@ -1269,7 +1456,7 @@ int bg_store_exclude(bg_store *st, long long reading_id, const char *why, const 
     int rc, own;
 
     if ((rc = check_text("reason", why, BG_NOTE, 1, err)) != BG_OK ||
-        (rc = check_text("name", by, BG_TEXT, 0, err)) != BG_OK)
+        (rc = check_text("name", by, BG_TEXT, 1, err)) != BG_OK)
         return rc;
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;

@@ -201,6 +201,22 @@ struct bgi_store_backend {
                            const char *now, long long *id, bg_error *err);
     int (*lot_version_each)(bgi_conn *c, long long lot_id, bg_lot_version_cb cb, void *ctx,
                             bg_error *err);
+
+    /* (after version 7) a probe moved to another lot: add a version of probe 'probe_id'
+    ** ('pv->probe.lot_id' is the new lot, 'pv->v.valid_from' set; inside the write
+    ** transaction), and each version in id order, the row itself first (id 0: the lot it
+    ** was added to, valid from its creation), with the lots' ids and codes.  From this
+    ** version on, what a lot-wide read calls the lot's probes and runs follows the moves:
+    ** probe_get, probe_each and the lot's probe count give the lot a probe is in now (its
+    ** newest version); lot_latest_fits, lot_histories, lot_history, lot_points_each and the
+    ** lot filters of run_each and fit_each take the runs that count toward the lot (whose
+    ** probe belonged to it when the run started: the newest version valid from at or before
+    ** the run's start, compared as times, else the row's lot), of the probes that are in the
+    ** lot now or have such a run. */
+    int (*probe_version_add)(bgi_conn *c, long long probe_id, const bg_probe_version *pv,
+                             const char *now, long long *id, bg_error *err);
+    int (*probe_version_each)(bgi_conn *c, long long probe_id, bg_probe_version_cb cb,
+                              void *ctx, bg_error *err);
 };
 
 /* The backends (sqlite.c, ...); store.c lists them by scheme. */
