@@ -246,8 +246,8 @@ static void target_line(const bg_lut_result *r, FILE *b)
     if (r->spec.target == BG_LUT_HOST)
         return;
     if (bg_lut_cost_on(&r->table, r->spec.target, &c, NULL) != BG_OK || c.per_call <= 0) {
-        fprintf(b, "on %s: %zu bytes of table; float tables are neither measured nor checked on "
-                   "this core (host only)\n", bg_lut_target_name(r->spec.target), c.table_bytes);
+        fprintf(b, "on %s: %zu bytes of table; its code and time there were not measured\n",
+                bg_lut_target_name(r->spec.target), c.table_bytes);
         return;
     }
     fprintf(b, "on %s: %zu bytes of flash (table %zu, lookup code %zu), about %.0f %s per "

@@ -82,7 +82,7 @@ for tg in avr m0 m3 m4; do
              uniform:float:$tt minimal:float:$tt indexed:float:$tt sh:logf:- stub:int:-; do
         st=${c%%:*} rest=${c#*:} res=${rest%%:*} emit=${rest#*:}
         vt=int; [ "$res" = float ] && vt=float
-        [ $tg = avr ] && [ $vt = float ] && continue
+        [ $tg = avr ] && [ $vt = float ] && [ "$emit" = host ] && continue
         [ "$emit" = "$tt" ] && [ $vt = float ] && [ $tg = m3 ] && continue
         n=$W/$tg-$st-$res-$emit
         case $st in

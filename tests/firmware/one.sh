@@ -28,9 +28,6 @@ case $extra in
 *) targets=$TARGETS hooks="-include $HERE/avr_hooks.h" ;;
 esac
 for tg in $targets; do
-    # float on the AVR: avr-libc's soft float is not IEEE round-to-nearest in every operation
-    # (see docs/firmware-guide.md): host and Cortex-M only
-    [ "$tg" = avr ] && [ "$vt" = float ] && continue
     o=$d/$tg
     case $tg in
     avr) cc="avr-gcc -mmcu=atmega328p"

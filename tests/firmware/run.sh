@@ -8,8 +8,8 @@
 #   m3:  a Cortex-M3 under QEMU (mps2-an385),
 #   m4:  a Cortex-M4 with its single-precision FPU under QEMU (mps2-an386),
 # and compared bit for bit with the library's own values (bandgap lut --format codes).
-# Float runs on the Cortex-M targets (the M4's FPU, libgcc's soft float on M0 and M3), not
-# on the AVR.  Prints "ok firmware NAME TARGET" / "not ok ..." per table and target.
+# Float runs on every core (the M4's FPU, libgcc's soft float on M0 and M3, avr-libc's on
+# the AVR).  Prints "ok firmware NAME TARGET" / "not ok ..." per table and target.
 # Usage: run.sh BANDGAP WORKDIR    (FW_JOBS parallel tables, default 2)
 BANDGAP=$(cd "$(dirname "$1")" && pwd)/$(basename "$1")
 W=$2
@@ -73,6 +73,7 @@ for st in uniform minimal indexed; do
         done
     done
     echo "$st-float-for-cortex-m4:$st:float:0.05C:--target cortex-m4" >> "$W/cases"
+    echo "$st-float-for-avr:$st:float:0.05C:--target avr" >> "$W/cases"
     echo "$st-high-kelvin-q8-for-avr:$st:q8:0.05C:--sensor-side=high --kelvin --target avr" >> "$W/cases"
 done
 export BANDGAP W TARGETS

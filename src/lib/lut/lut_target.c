@@ -33,7 +33,7 @@ static const struct {
     [BG_LUT_AVR] = { "cycles", "avr-gcc 5.4.0 -Os, avr-libc 2.0.0, simavr 1.6 (ATmega328P)",
                      { { 108.5, 180 }, { 292.0, 260 }, { 210.0, 271 } },
                      { { 261.7, 402 }, { 395.7, 294 }, { 298.0, 293 } },
-                     { { 0, 0 }, { 0, 0 }, { 0, 0 } }, { 42.0, 76 } },
+                     { { 705.4, 1000 }, { 800.0, 1066 }, { 521.3, 1019 } }, { 42.0, 76 } },
     [BG_LUT_CORTEX_M0] = { "instructions", "arm-none-eabi-gcc 12.2.1 -Os, newlib 3.3.0, QEMU 7.2 "
                            "micro:bit (Cortex-M0)",
                            { { 29.4, 86 }, { 78.8, 98 }, { 42.2, 117 } },
@@ -44,7 +44,7 @@ static const struct {
                            "-mfloat-abi=hard, newlib 3.3.0, QEMU 7.2 mps2-an386 (Cortex-M4F)",
                            { { 22.5, 74 }, { 68.8, 94 }, { 32.0, 97 } },
                            { { 22.5, 74 }, { 67.8, 90 }, { 33.0, 97 } },
-                           { { 17.4, 72 }, { 0, 0 }, { 32.0, 105 } }, { 9.0, 38 } },
+                           { { 17.4, 72 }, { 67.8, 98 }, { 32.0, 105 } }, { 9.0, 38 } },
 };
 
 int bgi_lut_uniform16(const bg_lut *t)
@@ -81,7 +81,7 @@ int bg_lut_cost_on(const bg_lut *t, bg_lut_target target, bg_lut_target_cost *ou
         p = t->narrow ? &costs[target].narrow[t->strategy] : &costs[target].wide[t->strategy];
     out->unit = costs[target].unit, out->measured = costs[target].measured;
     if (p->code_bytes == 0)
-        return BG_OK; /* not measured (float on the AVR; a minimal float table) */
+        return BG_OK; /* not measured */
     out->code_bytes = p->code_bytes;
     out->flash_bytes = t->bytes + p->code_bytes;
     out->per_call = p->per_call;
