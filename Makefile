@@ -44,7 +44,7 @@ HEADERS = $(wildcard include/bandgap/*.h)
 DEMO_CSV = $(sort $(wildcard db/demo/*.csv))
 MIGRATIONS = $(sort $(wildcard db/[0-9][0-9][0-9]-*.sql))
 
-.PHONY: all deps test check sanitize demo bench install uninstall clean headers fmt fuzz \
+.PHONY: all deps test check sanitize demo bench bench-firmware install uninstall clean headers fmt fuzz \
         fuzz-replay install-check
 
 # The sanitizer build makes no shared library (its runtime is linked into programs only).
@@ -250,6 +250,10 @@ demo: all
 
 bench: all
 	@sh tests/bench/run.sh $(BUILD) $(PYTHON) $(CC) "$(CFLAGS_ALL)" "$(PKG_LIBS)"
+
+# the firmware part of the bench alone: cycles, instructions and flash on the targets
+bench-firmware: all
+	@PYTHON=$(PYTHON) sh tests/firmware/cost.sh $(BUILD)/bandgap $(BUILD)/bench/firmware
 
 # ---- install --------------------------------------------------------------------------------
 # GNU directory variables; DESTDIR only prefixes the installed paths, never their contents.

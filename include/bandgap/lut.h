@@ -50,6 +50,14 @@ typedef enum bg_lut_target {
     BG_LUT_CORTEX_M4
 } bg_lut_target;
 
+/* What the automatic strategy choice minimises on a target other than the host (lut_target.c):
+** flash (table + lookup code), time per conversion, or flash + time_weight x time. */
+typedef enum bg_lut_optimize {
+    BG_LUT_OPT_FLASH = 0,
+    BG_LUT_OPT_TIME,
+    BG_LUT_OPT_WEIGHTED
+} bg_lut_optimize;
+
 typedef struct bg_lut_spec {
     bg_circuit circuit;
     bg_model model;
@@ -68,6 +76,8 @@ typedef struct bg_lut_spec {
     const char *source;      /* where the model came from, for the provenance; NULL: inline */
     const char *stamp;       /* a time for the provenance; NULL: none (reproducible output) */
     bg_lut_target target;    /* what the emitted C is for (0: host, portable) */
+    bg_lut_optimize optimize; /* the automatic choice on a target: see bg_lut_target_cost */
+    double time_weight;      /* BG_LUT_OPT_WEIGHTED: bytes per cycle (or instruction) */
 } bg_lut_spec;
 
 enum { BG_LUT_ONCURVE_AUTO = -1, BG_LUT_ONCURVE_AUTO_CODES = 16384 };
@@ -148,6 +158,24 @@ BG_API int bg_lut_format_parse(const char *s, bg_lut_format *format, unsigned *q
 ** error, BG_EINVAL for a bad symbol.  (lut_emit.c) */
 BG_API int bg_lut_emit_c(const bg_lut *t, const bg_lut_spec *spec, const char *symbol,
                          const char *version, FILE *f, bg_error *err);
+
+/* ---- the cost on a target (lut_target.c) ---- */
+
+typedef struct bg_lut_target_cost {
+    size_t table_bytes;      /* the table's data (bg_lut.bytes) */
+    size_t code_bytes;       /* the lookup function and the helpers it pulls in (measured) */
+    size_t flash_bytes;      /* both */
+    double per_call;         /* mean cycles (AVR) or instructions (Cortex-M) per conversion,
+                             ** measured on a reference table; 0: not measured */
+    const char *unit;        /* "cycles" or "instructions"; NULL for the host */
+    const char *measured;    /* the toolchain, flags and simulator that measured them */
+} bg_lut_target_cost;
+
+/* What table 't' costs on 'target': its flash and its time per conversion, from
+** measurements on that core (make bench-firmware); the host has no figures (code_bytes 0,
+** per_call 0, unit NULL).  For a minimal table the time is scaled by its search steps. */
+BG_API int bg_lut_cost_on(const bg_lut *t, bg_lut_target target, bg_lut_target_cost *out,
+                           bg_error *err);
 
 /* ---- the error budget of a table in its circuit ---- */
 

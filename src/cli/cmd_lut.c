@@ -17,6 +17,7 @@ static const char lut_usage[] =
     "                   [--symbol PREFIX] [-o FILE] [--report FILE.html] [--timestamp]\n"
     "                   [--allow-extrapolation] [--oncurve-count]\n"
     "                   [--target host|avr|cortex-m0|cortex-m4]\n"
+    "                   [--optimize flash|time|weighted:W]\n"
     "A table that turns ADC codes into temperatures, its error measured over every code of\n"
     "the range.  Strategies: uniform (values every CODES codes, a power of two, read with\n"
     "integer interpolation; --max-error picks the largest step within DT); minimal (the\n"
@@ -50,7 +51,10 @@ static const char lut_usage[] =
     "--target avr|cortex-m0|cortex-m4 writes the C for that core (host: portable C99): on the\n"
     "AVR the tables in flash read with pgm_read_*, 16-bit arithmetic where the values allow;\n"
     "on every target int16_t segment slopes where they fit.  make check runs each on its\n"
-    "core in a simulator, every code, against the library's values.\n"
+    "core in a simulator, every code, against the library's values.  With a target the\n"
+    "automatic choice minimises --optimize flash (table and code, the default), time (per\n"
+    "conversion) or weighted:W (flash + W x time), from measurements on that core, printed\n"
+    "with the toolchain that measured them.\n"
     "--format codes lists every ADC code with what the emitted function returns for it (the\n"
     "sentinel outside the range): the reference to check a port of the table against.\n"
     "--report FILE.html also writes a table report: the error at every code against\n"
@@ -73,7 +77,7 @@ static int parse_range(const char *s, double *lo, double *hi, bg_error *err)
 enum { O_FIT = 1, O_PROBE, O_FIXED, O_SIDE, O_PAR, O_SER, O_BITS, O_FS, O_CUR, O_VREF,
        O_OHMSIN, O_OPC, O_RANGE, O_STEP, O_MAXERR, O_RES, O_KELVIN, O_FORMAT, O_SYMBOL,
        O_OUT, O_EXTRA, O_JSON, O_BAT, O_FTOL, O_EXC, O_DISS, O_STRAT, O_REPORT, O_SUPPLY,
-       O_STAMP, O_COVK, O_TARGET, O_ONCURVE };
+       O_STAMP, O_COVK, O_TARGET, O_OPTIMIZE, O_ONCURVE };
 
 static const struct option lut_opts[] = {
     CLI_INLINE_OPTIONS,
@@ -99,6 +103,7 @@ static const struct option lut_opts[] = {
     { "timestamp", no_argument, NULL, O_STAMP },
     { "oncurve-count", no_argument, NULL, O_ONCURVE },
     { "target", required_argument, NULL, O_TARGET },
+    { "optimize", required_argument, NULL, O_OPTIMIZE },
     { "coverage-k", required_argument, NULL, O_COVK },
     { "json", no_argument, NULL, O_JSON },           { "help", no_argument, NULL, 'h' },
     { NULL, 0, NULL, 0 },
@@ -110,7 +115,7 @@ struct lut_args {
     struct cli_inline in;
     const char *probe, *format, *symbol, *out_path, *report;
     long step;
-    int have_range, side_set, current, ohms_in, help, format_set;
+    int have_range, side_set, current, ohms_in, help, format_set, optimize_set;
     char stamp[BG_TIME];
     double bat[16];
     bg_fit_row fit;
@@ -211,6 +216,24 @@ static int other_option(struct lut_args *a, int c, const char *arg)
     case O_STAMP: a->rq.spec.stamp = bg_time_format(cli_clock(), a->stamp, sizeof a->stamp); break;
     case O_KELVIN: a->rq.spec.kelvin = 1; break;
     case O_ONCURVE: a->rq.oncurve_count = 1; break;
+    case O_OPTIMIZE:
+        if (strcmp(arg, "flash") == 0)
+            a->rq.spec.optimize = BG_LUT_OPT_FLASH;
+        else if (strcmp(arg, "time") == 0)
+            a->rq.spec.optimize = BG_LUT_OPT_TIME;
+        else if (strncmp(arg, "weighted:", 9) == 0) {
+            char *end;
+            errno = 0;
+            double w = strtod(arg + 9, &end);
+            if (end == arg + 9 || *end || errno || !(w >= 0.0) || !isfinite(w))
+                return cli_usage_error("lut", "--optimize weighted:W: W is the bytes one cycle "
+                                       "(or instruction) is worth, a number >= 0, not '%s'",
+                                       arg + 9);
+            a->rq.spec.optimize = BG_LUT_OPT_WEIGHTED, a->rq.spec.time_weight = w;
+        } else
+            return cli_usage_error("lut", "--optimize: say flash, time or weighted:W");
+        a->optimize_set = 1;
+        break;
     case O_TARGET:
         if (bg_lut_target_parse(arg, &a->rq.spec.target, &err) != BG_OK)
             return cli_usage_error("lut", "--target: %s", err.msg);
@@ -451,6 +474,13 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
     if (a.step > 0 && a.rq.strategy > BG_LUT_UNIFORM)
         return cli_usage_error("lut", "--step is for the uniform strategy; the others take "
                                "--max-error");
+    if (a.optimize_set && (a.step > 0 || a.rq.strategy >= 0))
+        return cli_usage_error("lut", "--optimize is for the automatic choice: give "
+                               "--max-error without --strategy or --step");
+    if (a.optimize_set && a.rq.spec.target == BG_LUT_HOST && a.rq.spec.optimize != BG_LUT_OPT_FLASH)
+        return cli_usage_error("lut", "--optimize %s needs --target avr, cortex-m0 or cortex-m4: "
+                               "times are measured on those cores, not on the host",
+                               a.rq.spec.optimize == BG_LUT_OPT_TIME ? "time" : "weighted");
     a.rq.step_codes = a.step > 0 ? a.step : 0;
     a.rq.error_curve = a.report != NULL;
     if (bg_lut_make(&a.rq, &r, &err) != BG_OK)

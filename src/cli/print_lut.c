@@ -86,6 +86,23 @@ static void json_coverage(json_out *j, const bg_lut_result *r)
     json_obj_end(j);
 }
 
+/* "target": the core the C is for and, beside the host, its measured cost there. */
+static void json_target(json_out *j, const bg_lut_result *r)
+{
+    bg_lut_target_cost c;
+    json_obj(j, "target");
+    json_str(j, "name", bg_lut_target_name(r->spec.target));
+    if (r->spec.target != BG_LUT_HOST && bg_lut_cost_on(&r->table, r->spec.target, &c, NULL) ==
+        BG_OK && c.per_call > 0) {
+        json_int(j, "flash_bytes", (long long)c.flash_bytes);
+        json_int(j, "code_bytes", (long long)c.code_bytes);
+        json_num(j, "per_conversion", c.per_call);
+        json_str(j, "per_conversion_unit", c.unit);
+        json_str(j, "measured_with", c.measured);
+    }
+    json_obj_end(j);
+}
+
 void lut_print_json(const bg_lut_result *r, FILE *f)
 {
     const bg_lut *t = &r->table;
@@ -112,6 +129,7 @@ void lut_print_json(const bg_lut_result *r, FILE *f)
     }
     json_int(&j, "entries", (long long)t->n);
     json_int(&j, "bytes", (long long)t->bytes);
+    json_target(&j, r);
     if (t->strategy != BG_LUT_UNIFORM && t->oncurve_min)
         json_int(&j, "oncurve_min_entries", (long long)t->oncurve_min);
     else if (t->oncurve_skipped)
@@ -183,7 +201,7 @@ void lut_print_json(const bg_lut_result *r, FILE *f)
     json_end(&j);
 }
 
-static void summary(const bg_lut *t, const size_t *sizes, const char *pre, FILE *b)
+static void summary(const bg_lut *t, const size_t *sizes, int host, const char *pre, FILE *b)
 {
     if (t->strategy == BG_LUT_UNIFORM)
         fprintf(b, "%s%zu entries every %lu codes (uniform, %zu bytes)", pre, t->n,
@@ -200,7 +218,7 @@ static void summary(const bg_lut *t, const size_t *sizes, const char *pre, FILE 
         fprintf(b, "with values on the curve: not counted (more than %d codes; "
                 "--oncurve-count counts it)\n", BG_LUT_ONCURVE_AUTO_CODES);
     if (sizes) {
-        fprintf(b, "chosen as the smallest:");
+        fprintf(b, host ? "chosen as the smallest:" : "table bytes by strategy:");
         for (int k = 0; k < 3; k++) {
             if (sizes[k])
                 fprintf(b, " %s %zu bytes", bg_lut_strategy_name((bg_lut_strategy)k), sizes[k]);
@@ -220,10 +238,33 @@ static void term(FILE *b, int width, double v)
         fprintf(b, " %*s", width, "not given");
 }
 
+/* The cost on the target the C is for, as measured there (nothing for the host). */
+static void target_line(const bg_lut_result *r, FILE *b)
+{
+    bg_lut_target_cost c;
+    static const char *crit[] = { "the least flash", "the least time", "the least weighted cost" };
+    if (r->spec.target == BG_LUT_HOST)
+        return;
+    if (bg_lut_cost_on(&r->table, r->spec.target, &c, NULL) != BG_OK || c.per_call <= 0) {
+        fprintf(b, "on %s: %zu bytes of table; its code and time there were not measured\n",
+                bg_lut_target_name(r->spec.target), c.table_bytes);
+        return;
+    }
+    fprintf(b, "on %s: %zu bytes of flash (table %zu, lookup code %zu), about %.0f %s per "
+               "conversion%s\n(measured on a reference table by make bench-firmware: %s)\n",
+            bg_lut_target_name(r->spec.target), c.flash_bytes, c.table_bytes, c.code_bytes,
+            c.per_call, c.unit, r->table.strategy == BG_LUT_MINIMAL ? ", scaled by its search "
+            "steps" : "", c.measured);
+    if (r->chosen)
+        fprintf(b, "strategy chosen for %s on %s\n", crit[r->spec.optimize],
+                bg_lut_target_name(r->spec.target));
+}
+
 void lut_print_summary(const bg_lut_result *r, const char *pre, FILE *b)
 {
     unsigned all = BG_BUDGET_FIT | BG_BUDGET_RESISTOR | BG_BUDGET_SELFHEAT;
-    summary(&r->table, r->chosen ? r->sizes : NULL, pre, b);
+    summary(&r->table, r->chosen ? r->sizes : NULL, r->spec.target == BG_LUT_HOST, pre, b);
+    target_line(r, b);
     fprintf(b, "error budget (K): %10s %8s %8s %10s %10s %10s %8s %8s\n", "T/degC", "table",
             "ADC", "fit U", "resistor", "self-heat", "RSS", "sum");
     for (size_t i = 0; i <= r->nbudget; i++) {

@@ -248,3 +248,12 @@ if command -v valgrind >/dev/null 2>&1; then
         printf "instructions per conversion over all 4096 codes (host, -O2, an empty loop subtracted): uniform %.1f, minimal %.1f, indexed %.1f (target <= 40), Steinhart-Hart with logf %.1f; indexed/logf ratio %.2f\n",
             n["uniform"], n["minimal"], n["indexed"], n["logf"], n["indexed"] / n["logf"] }'
 fi
+
+# ---- firmware tables on the targets: cycles, instructions, flash (tests/firmware/cost.sh) ----
+if command -v avr-gcc > /dev/null 2>&1 && command -v qemu-system-arm > /dev/null 2>&1; then
+    echo "firmware tables on an ATmega328P (simavr) and Cortex-M0/M3/M4 (QEMU): counts, not times"
+    PYTHON=$PYTHON sh tests/firmware/cost.sh "$bg" "$out/firmware"
+else
+    echo "firmware tables on the targets: not run (make deps installs the cross toolchains)"
+fi
+

@@ -8,8 +8,8 @@
 #   m3:  a Cortex-M3 under QEMU (mps2-an385),
 #   m4:  a Cortex-M4 with its single-precision FPU under QEMU (mps2-an386),
 # and compared bit for bit with the library's own values (bandgap lut --format codes).
-# Float runs on the Cortex-M targets (the M4's FPU, libgcc's soft float on M0 and M3), not
-# on the AVR.  Prints "ok firmware NAME TARGET" / "not ok ..." per table and target.
+# Float runs on every core (the M4's FPU, libgcc's soft float on M0 and M3, avr-libc's on
+# the AVR).  Prints "ok firmware NAME TARGET" / "not ok ..." per table and target.
 # Usage: run.sh BANDGAP WORKDIR    (FW_JOBS parallel tables, default 2)
 BANDGAP=$(cd "$(dirname "$1")" && pwd)/$(basename "$1")
 W=$2
@@ -46,6 +46,12 @@ for vt in int float; do
             -fno-tree-loop-distribute-patterns -c "$HERE/arm_start.c" -o "$W/arm_start_$tg.o"
     done
 done
+# the AVR image with a do-nothing lookup: a table's flash is the difference
+build avr-gcc -mmcu=atmega328p -Os -c "$HERE/stub.c" -o "$W/avr_stub.o"
+build avr-gcc -mmcu=atmega328p -Wl,--section-start=.mmcu=0x910000 "$W/avr_main_int.o" \
+    "$W/avr_stub.o" -o "$W/avr_stub.elf"
+avr-size -A "$W/avr_stub.elf" | awk '$1 == ".text" || $1 == ".data" { f += $2 } END { print f }' \
+    > "$W/avr_stub_flash"
 [ $fail -eq 0 ] || exit 1
 # The timer the AVR cycle counts rest on: 1000 cycles of __builtin_avr_delay_cycles must read
 # as exactly 1000 more than two back-to-back reads (the first line of every AVR run).
@@ -67,6 +73,7 @@ for st in uniform minimal indexed; do
         done
     done
     echo "$st-float-for-cortex-m4:$st:float:0.05C:--target cortex-m4" >> "$W/cases"
+    echo "$st-float-for-avr:$st:float:0.05C:--target avr" >> "$W/cases"
     echo "$st-high-kelvin-q8-for-avr:$st:q8:0.05C:--sensor-side=high --kelvin --target avr" >> "$W/cases"
 done
 export BANDGAP W TARGETS

@@ -438,7 +438,7 @@ int bg_lut_build_smallest(const bg_lut_spec *s, bg_lut *out, size_t bytes[3], bg
         if (cand.oncurve_min)
             oncurve = cand.oncurve_min;
         skipped |= cand.oncurve_skipped;
-        if (!found || cand.bytes < out->bytes) {
+        if (!found || bgi_lut_choice_cost(s, &cand) < bgi_lut_choice_cost(s, out)) {
             bg_lut_release(out);
             *out = cand, found = 1;
         } else

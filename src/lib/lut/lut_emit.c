@@ -9,6 +9,7 @@
 
 #include "bandgap/lut.h"
 #include "bandgap/units.h"
+#include "lut_int.h"
 
 static int ident_ok(const char *s)
 {
@@ -174,15 +175,13 @@ static void longs(FILE *f, const char *decl, size_t n, const long *v, const int3
 ** values as the 32-bit body.  0 (nothing written) when it does not fit. */
 static int uniform_body_avr(const bg_lut *t, const char *sym, const char *up, FILE *f)
 {
-    long maxd = 0, fmax = (1L << t->shift) - 1;
-    if (t->format == BG_LUT_FLOAT || t->wide || t->shift == 0 || t->code_hi > 65535)
+    long maxd = 0;
+    if (!bgi_lut_uniform16(t))
         return 0;
     for (size_t i = 0; i + 1 < t->n; i++) {
-        long d = (long)t->y[i + 1] - (long)t->y[i];
-        maxd = labs(d) > maxd ? labs(d) : maxd;
+        long d = labs((long)t->y[i + 1] - (long)t->y[i]);
+        maxd = d > maxd ? d : maxd;
     }
-    if (maxd * fmax + (1L << (t->shift - 1)) > 32767)
-        return 0;
     fprintf(f, "    uint16_t off, i;\n    int16_t y0, d, p, q;\n");
     fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_CODE_BELOW_RANGE;\n", up, up);
     fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_CODE_ABOVE_RANGE;\n", up, up);

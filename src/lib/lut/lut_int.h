@@ -38,4 +38,11 @@ int bgi_lut_oncurve_ok(const long long *on, const bgi_band *band, size_t i, size
 ** ishift, icmp. */
 int bgi_lut_index(bg_lut *t, bg_error *err);
 
+/* Whether a uniform table's interpolation fits 16-bit arithmetic (the AVR form); lut_target.c */
+int bgi_lut_uniform16(const bg_lut *t);
+
+/* What the automatic choice minimises for spec 's' (its target and optimize): table bytes on
+** the host, otherwise the target's flash, time or weighted sum (lut_target.c). */
+double bgi_lut_choice_cost(const bg_lut_spec *s, const bg_lut *t);
+
 #endif
