@@ -31,7 +31,8 @@ DEBIAN_PKGS = libgsl-dev libsqlite3-dev nettle-dev libcmocka-dev pkg-config pyth
 LIB_SRC = $(wildcard src/lib/*/*.c)
 LIB_INT = $(wildcard src/lib/*/*_int.h src/lib/*/*_priv.h)
 CLI_SRC = $(wildcard src/cli/*.c)
-LIB_OBJ = $(LIB_SRC:src/lib/%.c=$(BUILD)/obj/lib/%.o) $(BUILD)/obj/lib/migrations.o
+LIB_OBJ = $(LIB_SRC:src/lib/%.c=$(BUILD)/obj/lib/%.o) $(BUILD)/obj/lib/migrations.o \
+          $(BUILD)/obj/lib/pg_migrations.o
 # The shared library is built from position-independent copies of the same objects, so the
 # static library and the program keep their code as it was.
 PIC_OBJ = $(LIB_OBJ:$(BUILD)/obj/lib/%.o=$(BUILD)/pic/lib/%.o)
@@ -43,6 +44,7 @@ TESTS   = $(patsubst tests/%.c,$(BUILD)/tests/%,$(wildcard tests/test_*.c))
 HEADERS = $(wildcard include/bandgap/*.h)
 DEMO_CSV = $(sort $(wildcard db/demo/*.csv))
 MIGRATIONS = $(sort $(wildcard db/[0-9][0-9][0-9]-*.sql))
+PG_MIGRATIONS = $(sort $(wildcard db/pg/[0-9][0-9][0-9]-*.sql))
 
 .PHONY: all deps test check sanitize demo bench install uninstall clean headers fmt fuzz \
         fuzz-replay install-check
@@ -94,6 +96,20 @@ $(BUILD)/migrations.c: $(MIGRATIONS) tests/embed.awk Makefile
 	@mkdir -p $(@D)
 	awk -v type='struct bgi_sql_file' -v var=bgi_migrations -v hdr=store/store_int.h \
 	    -f tests/embed.awk $(MIGRATIONS) > $@
+
+# The PostgreSQL backend's migrations (db/pg/, numbered as the SQLite ones).
+$(BUILD)/pg_migrations.c: $(PG_MIGRATIONS) tests/embed.awk Makefile
+	@mkdir -p $(@D)
+	awk -v type='struct bgi_sql_file' -v var=bgi_pg_migrations -v hdr=store/store_int.h \
+	    -f tests/embed.awk $(PG_MIGRATIONS) > $@
+
+$(BUILD)/obj/lib/pg_migrations.o: $(BUILD)/pg_migrations.c src/lib/store/store_int.h | deps
+	@mkdir -p $(@D)
+	$(CC) $(CFLAGS_ALL) -Isrc/lib -c $< -o $@
+
+$(BUILD)/pic/lib/pg_migrations.o: $(BUILD)/pg_migrations.c src/lib/store/store_int.h | deps
+	@mkdir -p $(@D)
+	$(CC) $(CFLAGS_ALL) -fPIC -Isrc/lib -c $< -o $@
 
 $(BUILD)/obj/lib/migrations.o: $(BUILD)/migrations.c src/lib/store/store_int.h | deps
 	@mkdir -p $(@D)
@@ -170,7 +186,7 @@ sanitize: deps
 # well formed).  The library is compiled once for all of them into $(BUILD)/fuzz/obj.
 FUZZ_TIME ?= 60
 FUZZ_TARGETS = csv units options fit store writers
-FUZZ_LIB = $(LIB_SRC) $(BUILD)/migrations.c
+FUZZ_LIB = $(LIB_SRC) $(BUILD)/migrations.c $(BUILD)/pg_migrations.c
 FUZZ_CLI = $(filter-out src/cli/main.c src/cli/cmd_demo.c,$(CLI_SRC))
 FUZZ_SRC_options = $(FUZZ_CLI)
 CLANG ?= $(shell command -v clang-14 || command -v clang)
@@ -187,6 +203,10 @@ $(BUILD)/fuzz/obj/src/%.o: src/%.c $(HEADERS) $(LIB_INT) src/cli/cli.h | deps
 	@$(CLANG) $(FUZZ_CFLAGS) -fsanitize=fuzzer-no-link,address,undefined -c $< -o $@
 
 $(BUILD)/fuzz/obj/migrations.o: $(BUILD)/migrations.c | deps
+	@mkdir -p $(@D)
+	@$(CLANG) $(FUZZ_CFLAGS) -fsanitize=fuzzer-no-link,address,undefined -c $< -o $@
+
+$(BUILD)/fuzz/obj/pg_migrations.o: $(BUILD)/pg_migrations.c | deps
 	@mkdir -p $(@D)
 	@$(CLANG) $(FUZZ_CFLAGS) -fsanitize=fuzzer-no-link,address,undefined -c $< -o $@
 
@@ -260,7 +280,7 @@ $(BUILD)/bandgap.pc: Makefile
 	@mkdir -p $(@D)
 	printf '%s\n' 'prefix=$(prefix)' 'libdir=$(libdir)' 'includedir=$(includedir)' '' \
 	    'Name: bandgap' 'Description: calibration of NTC thermistors' 'Version: $(VERSION)' \
-	    'Requires.private: gsl sqlite3 nettle' 'Libs: -L$${libdir} -lbandgap' 'Libs.private: -lm' \
+	    'Requires.private: gsl sqlite3 nettle libpq' 'Libs: -L$${libdir} -lbandgap' 'Libs.private: -lm' \
 	    'Cflags: -I$${includedir}' > $@
 
 install: all $(BUILD)/bandgap.pc

@@ -80,6 +80,7 @@ static int exit_status(int rc)
     case BG_EIO: return EX_IOERR;
     case BG_ECANTCREAT: return EX_CANTCREAT;
     case BG_EBUSY: return EX_TEMPFAIL;
+    case BG_EUNAVAIL: return EX_UNAVAILABLE;
     case CLI_EUSAGE: return EX_USAGE;
     case CLI_ECANTCREAT: return EX_CANTCREAT;
     case CLI_FLAGGED: return 1; /* drift: something was flagged */
