@@ -597,11 +597,41 @@ static void lot_row(const PGresult *res, int r, bg_lot *l)
     l->nprobes = pgv_ll(res, r, 11);
 }
 
-/* A query of one text parameter (NULL: NULL). */
+/* 's' is well-formed UTF-8 (RFC 3629: no overlong forms, surrogates or values past
+** U+10FFFF), as the server's UTF-8 encoding requires of every text. */
+static int valid_utf8(const char *s)
+{
+    const unsigned char *p = (const unsigned char *)s;
+    while (*p) {
+        unsigned c = *p++, need, min;
+        unsigned long v;
+        if (c < 0x80)
+            continue;
+        if (c >= 0xC2 && c <= 0xDF)
+            need = 1, min = 0x80, v = c & 0x1F;
+        else if (c >= 0xE0 && c <= 0xEF)
+            need = 2, min = 0x800, v = c & 0x0F;
+        else if (c >= 0xF0 && c <= 0xF4)
+            need = 3, min = 0x10000, v = c & 0x07;
+        else
+            return 0;
+        for (unsigned i = 0; i < need; i++, p++) {
+            if ((*p & 0xC0) != 0x80)
+                return 0;
+            v = v << 6 | (*p & 0x3F);
+        }
+        if (v < min || v > 0x10FFFF || (v >= 0xD800 && v <= 0xDFFF))
+            return 0;
+    }
+    return 1;
+}
+
+/* A query of one text parameter (NULL: NULL).  A name that is not UTF-8 names no row (every
+** stored text is checked at the door): it is looked up as NULL, which matches none. */
 static PGresult *by_text(bgi_conn *c, int stmt, const char *sql, const char *key, int *rc,
                          bg_error *err, const char *what)
 {
-    const char *v[1] = { key };
+    const char *v[1] = { key && valid_utf8(key) ? key : NULL };
     struct pgp p = { 1, 1, v, NULL, NULL, NULL };
     return bgi_pg_exec(c, stmt, sql, &p, rc, err, what);
 }
