@@ -14,6 +14,13 @@ BEGIN
 END
 $$;
 
+-- The schema's own record (made by bandgap before this file runs): each migration applied,
+-- once; it is never edited either.
+CREATE TRIGGER bandgap_schema_keep BEFORE UPDATE OR DELETE ON bandgap_schema FOR EACH ROW
+    EXECUTE FUNCTION bandgap_refuse('the schema record is never edited');
+CREATE TRIGGER bandgap_schema_clear BEFORE TRUNCATE ON bandgap_schema FOR EACH STATEMENT
+    EXECUTE FUNCTION bandgap_refuse('the schema record is never deleted');
+
 CREATE TABLE lot (
     id          bigint PRIMARY KEY,
     code        text NOT NULL UNIQUE CHECK (length(code) BETWEEN 1 AND 200),
