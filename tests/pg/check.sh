@@ -120,6 +120,10 @@ rc=$?
 "$BIN" --db postgresql:///nosuchdb lot list > /dev/null 2> "$T/err"
 rc=$?
 [ "$rc" -eq 69 ] || { ok=1; echo "# missing database: rc $rc: $(cat "$T/err")"; }
+# without --db and $BANDGAP_DB, libpq's environment (PGDATABASE here) names the server
+( cd "$T" && unset BANDGAP_DB && PGDATABASE=mig "$BIN" lot list > /dev/null 2> "$T/err" )
+grep -q "schema version 99" "$T/err" || { ok=1; echo "# PGDATABASE: $(cat "$T/err")"; }
+[ ! -e "$T/bandgap.db" ] || { ok=1; echo "# PGDATABASE set, yet a file was made"; }
 result migrations "$ok" "migrations or refusals wrong"
 
 # ---- all or nothing ----
