@@ -46,7 +46,7 @@ DEMO_CSV = $(sort $(wildcard db/demo/*.csv))
 MIGRATIONS = $(sort $(wildcard db/[0-9][0-9][0-9]-*.sql))
 PG_MIGRATIONS = $(sort $(wildcard db/pg/[0-9][0-9][0-9]-*.sql))
 
-.PHONY: all deps test check sanitize demo bench install uninstall clean headers fmt fuzz \
+.PHONY: all deps test check sanitize demo bench bench-pg install uninstall clean headers fmt fuzz \
         fuzz-replay install-check
 
 # The sanitizer build makes no shared library (its runtime is linked into programs only).
@@ -268,6 +268,11 @@ demo: all
 
 bench: all
 	@sh tests/bench/run.sh $(BUILD) $(PYTHON) $(CC) "$(CFLAGS_ALL)" "$(PKG_LIBS)"
+	@sh tests/pg/server.sh sh tests/pg/bench.sh $(BUILD)/bandgap
+
+# The PostgreSQL backend's benchmark alone (a throwaway server, as the tests start it).
+bench-pg: all
+	@sh tests/pg/server.sh sh tests/pg/bench.sh $(BUILD)/bandgap
 
 # ---- install --------------------------------------------------------------------------------
 # GNU directory variables; DESTDIR only prefixes the installed paths, never their contents.

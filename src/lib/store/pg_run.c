@@ -1,6 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* The PostgreSQL backend's runs, readings and exclusions.  An import writes the run and its
-** readings, 64 to a prepared statement, with contiguous ids (given under the writers' lock),
+** readings, 256 to a prepared statement, with contiguous ids (given under the writers' lock),
 ** taking them one at a time from the import's source (store.c checks and corrects them). */
 #include <math.h>
 #include <stdio.h>
@@ -58,7 +58,7 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
     return rc;
 }
 
-enum { BATCH = 64, NCOL = 10 };
+enum { BATCH = 256, NCOL = 10 }; /* 2,560 parameters a statement (the limit is 65,535) */
 
 /* The next reading of 'imp' as the next row of 'p' ('*line' its line); its id 'id'. */
 static int bind_next(const struct bgi_import *imp, struct pgp *p, long long id, long long rid,
