@@ -20,7 +20,7 @@ OPT      = -O1 -g $(SANFLAGS)
 endif
 # Expanded when a recipe runs, i.e. after 'deps' has installed what was missing.
 PKG_CFLAGS = $(shell pkg-config --cflags gsl sqlite3 nettle libpq 2>/dev/null)
-PKG_LIBS   = $(shell pkg-config --libs gsl sqlite3 nettle libpq 2>/dev/null) -lm
+PKG_LIBS   = $(shell pkg-config --libs gsl sqlite3 nettle 2>/dev/null) -lm
 CMOCKA     = $(shell pkg-config --cflags --libs cmocka 2>/dev/null)
 CFLAGS_ALL = $(STD) $(WARN) $(OPT) -fvisibility=hidden -Iinclude -DBG_VERSION='"$(VERSION)"' \
              $(PKG_CFLAGS)
@@ -285,7 +285,7 @@ $(BUILD)/bandgap.pc: Makefile
 	@mkdir -p $(@D)
 	printf '%s\n' 'prefix=$(prefix)' 'libdir=$(libdir)' 'includedir=$(includedir)' '' \
 	    'Name: bandgap' 'Description: calibration of NTC thermistors' 'Version: $(VERSION)' \
-	    'Requires.private: gsl sqlite3 nettle libpq' 'Libs: -L$${libdir} -lbandgap' 'Libs.private: -lm' \
+	    'Requires.private: gsl sqlite3 nettle' 'Libs: -L$${libdir} -lbandgap' 'Libs.private: -lm' \
 	    'Cflags: -I$${includedir}' > $@
 
 install: all $(BUILD)/bandgap.pc

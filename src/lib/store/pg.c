@@ -444,7 +444,8 @@ static void pg_close(bgi_conn *c)
 {
     if (!c)
         return;
-    PQfinish(c->db);
+    if (c->db)
+        PQfinish(c->db);
     free(c->name);
     free(c);
 }
@@ -469,6 +470,8 @@ static int pg_open(const char *target, int flags, bgi_conn **out, char *backup, 
     *out = NULL;
     if (size)
         backup[0] = '\0';
+    if ((rc = bgi_pq_load(err)) != BG_OK)
+        return rc;
     if (!(c = calloc(1, sizeof *c)))
         return bg_error_set(err, BG_ENOMEM, "out of memory");
     c->busy_ms = flags >> BGI_OPEN_BUSY_SHIFT;

@@ -10,6 +10,63 @@
 
 #include "store_int.h"
 
+/* libpq's functions, loaded on first use (pg_load.c): the PQ names below call them. */
+struct bgi_pq_api {
+    int loaded;
+    PGconn *(*connectdbParams)(const char *const *keys, const char *const *vals, int expand);
+    void (*finish)(PGconn *c);
+    ConnStatusType (*status)(const PGconn *c);
+    char *(*errorMessage)(const PGconn *c);
+    char *(*user)(const PGconn *c);
+    PGTransactionStatusType (*transactionStatus)(const PGconn *c);
+    PQnoticeProcessor (*setNoticeProcessor)(PGconn *c, PQnoticeProcessor p, void *arg);
+    PQnoticeReceiver (*setNoticeReceiver)(PGconn *c, PQnoticeReceiver p, void *arg);
+    PGresult *(*exec)(PGconn *c, const char *sql);
+    PGresult *(*execParams)(PGconn *c, const char *sql, int n, const Oid *types,
+                            const char *const *vals, const int *lens, const int *fmts,
+                            int rfmt);
+    PGresult *(*prepare)(PGconn *c, const char *name, const char *sql, int n,
+                         const Oid *types);
+    PGresult *(*execPrepared)(PGconn *c, const char *name, int n, const char *const *vals,
+                              const int *lens, const int *fmts, int rfmt);
+    ExecStatusType (*resultStatus)(const PGresult *r);
+    char *(*resultErrorField)(const PGresult *r, int code);
+    void (*clear)(PGresult *r);
+    int (*ntuples)(const PGresult *r);
+    int (*nfields)(const PGresult *r);
+    char *(*fname)(const PGresult *r, int k);
+    Oid (*ftype)(const PGresult *r, int k);
+    char *(*getvalue)(const PGresult *r, int i, int k);
+    int (*getlength)(const PGresult *r, int i, int k);
+    int (*getisnull)(const PGresult *r, int i, int k);
+    int (*libVersion)(void);
+};
+extern struct bgi_pq_api bgi_pq;
+/* Load libpq once (BG_EUNAVAIL naming why it cannot be). */
+int bgi_pq_load(bg_error *err);
+#define PQconnectdbParams (bgi_pq.connectdbParams)
+#define PQfinish (bgi_pq.finish)
+#define PQstatus (bgi_pq.status)
+#define PQerrorMessage (bgi_pq.errorMessage)
+#define PQuser (bgi_pq.user)
+#define PQtransactionStatus (bgi_pq.transactionStatus)
+#define PQsetNoticeProcessor (bgi_pq.setNoticeProcessor)
+#define PQsetNoticeReceiver (bgi_pq.setNoticeReceiver)
+#define PQexec (bgi_pq.exec)
+#define PQexecParams (bgi_pq.execParams)
+#define PQprepare (bgi_pq.prepare)
+#define PQexecPrepared (bgi_pq.execPrepared)
+#define PQresultStatus (bgi_pq.resultStatus)
+#define PQresultErrorField (bgi_pq.resultErrorField)
+#define PQclear(r) ((r) ? bgi_pq.clear(r) : (void)0)
+#define PQntuples (bgi_pq.ntuples)
+#define PQnfields (bgi_pq.nfields)
+#define PQfname (bgi_pq.fname)
+#define PQftype (bgi_pq.ftype)
+#define PQgetvalue (bgi_pq.getvalue)
+#define PQgetlength (bgi_pq.getlength)
+#define PQgetisnull (bgi_pq.getisnull)
+
 /* The prepared statements kept on the connection (prepared on first use). */
 enum { PGS_INSERT_READINGS, PGS_INSERT_READING, PGS_RUN_POINTS, PGS_INSERT_FITS,
        PGS_INSERT_FIT, PGS_CHAIN_HEAD, PGS_CHAIN_INSERT, PGS_FIT_GET, PGS_FIT_NEWEST,
