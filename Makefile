@@ -19,19 +19,21 @@ ifeq ($(SAN),1)
 OPT      = -O1 -g $(SANFLAGS)
 endif
 # Expanded when a recipe runs, i.e. after 'deps' has installed what was missing.
-PKG_CFLAGS = $(shell pkg-config --cflags gsl sqlite3 nettle 2>/dev/null)
+PKG_CFLAGS = $(shell pkg-config --cflags gsl sqlite3 nettle libpq 2>/dev/null)
 PKG_LIBS   = $(shell pkg-config --libs gsl sqlite3 nettle 2>/dev/null) -lm
 CMOCKA     = $(shell pkg-config --cflags --libs cmocka 2>/dev/null)
 CFLAGS_ALL = $(STD) $(WARN) $(OPT) -fvisibility=hidden -Iinclude -DBG_VERSION='"$(VERSION)"' \
              $(PKG_CFLAGS)
 DEBIAN_PKGS = libgsl-dev libsqlite3-dev nettle-dev libcmocka-dev pkg-config python3-numpy python3-scipy python3-mpmath \
               mandoc sqlite3 clang libclang-rt-14-dev chromium chromium-driver libxml2-utils time \
-              gcc-avr avr-libc simavr gcc-arm-none-eabi libnewlib-arm-none-eabi qemu-system-arm
+              gcc-avr avr-libc simavr gcc-arm-none-eabi libnewlib-arm-none-eabi qemu-system-arm \
+              libpq-dev postgresql
 
 LIB_SRC = $(wildcard src/lib/*/*.c)
 LIB_INT = $(wildcard src/lib/*/*_int.h src/lib/*/*_priv.h)
 CLI_SRC = $(wildcard src/cli/*.c)
-LIB_OBJ = $(LIB_SRC:src/lib/%.c=$(BUILD)/obj/lib/%.o) $(BUILD)/obj/lib/migrations.o
+LIB_OBJ = $(LIB_SRC:src/lib/%.c=$(BUILD)/obj/lib/%.o) $(BUILD)/obj/lib/migrations.o \
+          $(BUILD)/obj/lib/pg_migrations.o
 # The shared library is built from position-independent copies of the same objects, so the
 # static library and the program keep their code as it was.
 PIC_OBJ = $(LIB_OBJ:$(BUILD)/obj/lib/%.o=$(BUILD)/pic/lib/%.o)
@@ -43,8 +45,9 @@ TESTS   = $(patsubst tests/%.c,$(BUILD)/tests/%,$(wildcard tests/test_*.c))
 HEADERS = $(wildcard include/bandgap/*.h)
 DEMO_CSV = $(sort $(wildcard db/demo/*.csv))
 MIGRATIONS = $(sort $(wildcard db/[0-9][0-9][0-9]-*.sql))
+PG_MIGRATIONS = $(sort $(wildcard db/pg/[0-9][0-9][0-9]-*.sql))
 
-.PHONY: all deps test check sanitize demo bench bench-firmware install uninstall clean headers fmt fuzz \
+.PHONY: all deps test check sanitize demo bench bench-firmware bench-pg install uninstall clean headers fmt fuzz \
         fuzz-replay install-check
 
 # The sanitizer build makes no shared library (its runtime is linked into programs only).
@@ -54,7 +57,7 @@ all: deps $(BUILD)/libbandgap.a $(SHARED) $(BUILD)/bandgap
 # ---- dependencies: install the Debian packages that are missing, or say how -----------------
 deps:
 	@missing=""; \
-	for p in gsl sqlite3 nettle cmocka; do pkg-config --exists $$p 2>/dev/null || missing=yes; done; \
+	for p in gsl sqlite3 nettle cmocka libpq; do pkg-config --exists $$p 2>/dev/null || missing=yes; done; \
 	$(PYTHON) -c 'import numpy, scipy, mpmath' 2>/dev/null || missing=yes; \
 	for c in mandoc sqlite3 clang chromium chromedriver xmllint avr-gcc simavr arm-none-eabi-gcc \
 	  qemu-system-arm; do \
@@ -62,6 +65,7 @@ deps:
 	[ -x /usr/bin/time ] || missing=yes; \
 	[ -f /usr/lib/avr/include/avr/pgmspace.h ] && [ -f /usr/lib/arm-none-eabi/newlib/libm.a ] || \
 	  missing=yes; \
+	ls /usr/lib/postgresql/*/bin/initdb >/dev/null 2>&1 || missing=yes; \
 	if [ -n "$$missing" ]; then \
 	  if [ "$$(id -u)" = 0 ]; then SUDO=""; \
 	  elif command -v sudo >/dev/null 2>&1 && sudo -n true 2>/dev/null; then SUDO="sudo"; \
@@ -96,6 +100,20 @@ $(BUILD)/migrations.c: $(MIGRATIONS) tests/embed.awk Makefile
 	@mkdir -p $(@D)
 	awk -v type='struct bgi_sql_file' -v var=bgi_migrations -v hdr=store/store_int.h \
 	    -f tests/embed.awk $(MIGRATIONS) > $@
+
+# The PostgreSQL backend's migrations (db/pg/, numbered as the SQLite ones).
+$(BUILD)/pg_migrations.c: $(PG_MIGRATIONS) tests/embed.awk Makefile
+	@mkdir -p $(@D)
+	awk -v type='struct bgi_sql_file' -v var=bgi_pg_migrations -v hdr=store/store_int.h \
+	    -f tests/embed.awk $(PG_MIGRATIONS) > $@
+
+$(BUILD)/obj/lib/pg_migrations.o: $(BUILD)/pg_migrations.c src/lib/store/store_int.h | deps
+	@mkdir -p $(@D)
+	$(CC) $(CFLAGS_ALL) -Isrc/lib -c $< -o $@
+
+$(BUILD)/pic/lib/pg_migrations.o: $(BUILD)/pg_migrations.c src/lib/store/store_int.h | deps
+	@mkdir -p $(@D)
+	$(CC) $(CFLAGS_ALL) -fPIC -Isrc/lib -c $< -o $@
 
 $(BUILD)/obj/lib/migrations.o: $(BUILD)/migrations.c src/lib/store/store_int.h | deps
 	@mkdir -p $(@D)
@@ -172,7 +190,7 @@ sanitize: deps
 # well formed).  The library is compiled once for all of them into $(BUILD)/fuzz/obj.
 FUZZ_TIME ?= 60
 FUZZ_TARGETS = csv units options fit store writers
-FUZZ_LIB = $(LIB_SRC) $(BUILD)/migrations.c
+FUZZ_LIB = $(LIB_SRC) $(BUILD)/migrations.c $(BUILD)/pg_migrations.c
 FUZZ_CLI = $(filter-out src/cli/main.c src/cli/cmd_demo.c,$(CLI_SRC))
 FUZZ_SRC_options = $(FUZZ_CLI)
 CLANG ?= $(shell command -v clang-14 || command -v clang)
@@ -189,6 +207,10 @@ $(BUILD)/fuzz/obj/src/%.o: src/%.c $(HEADERS) $(LIB_INT) src/cli/cli.h | deps
 	@$(CLANG) $(FUZZ_CFLAGS) -fsanitize=fuzzer-no-link,address,undefined -c $< -o $@
 
 $(BUILD)/fuzz/obj/migrations.o: $(BUILD)/migrations.c | deps
+	@mkdir -p $(@D)
+	@$(CLANG) $(FUZZ_CFLAGS) -fsanitize=fuzzer-no-link,address,undefined -c $< -o $@
+
+$(BUILD)/fuzz/obj/pg_migrations.o: $(BUILD)/pg_migrations.c | deps
 	@mkdir -p $(@D)
 	@$(CLANG) $(FUZZ_CFLAGS) -fsanitize=fuzzer-no-link,address,undefined -c $< -o $@
 
@@ -250,6 +272,11 @@ demo: all
 
 bench: all
 	@sh tests/bench/run.sh $(BUILD) $(PYTHON) $(CC) "$(CFLAGS_ALL)" "$(PKG_LIBS)"
+	@sh tests/pg/server.sh sh tests/pg/bench.sh $(BUILD)/bandgap
+
+# The PostgreSQL backend's benchmark alone (a throwaway server, as the tests start it).
+bench-pg: all
+	@sh tests/pg/server.sh sh tests/pg/bench.sh $(BUILD)/bandgap
 
 # the firmware part of the bench alone: cycles, instructions and flash on the targets
 bench-firmware: all

@@ -42,6 +42,11 @@ tally() {
 sh tests/cli/run.sh "$BUILD/bandgap" > "$BUILD/cli-tests.log" 2>&1
 tally cli "$BUILD/cli-tests.log" $?
 
+# the PostgreSQL backend: a throwaway server started and stopped around its checks (the
+# golden cases on the server, the same record on both backends, roles, faults, load)
+sh tests/pg/server.sh sh tests/pg/check.sh "$BUILD/bandgap" > "$BUILD/pg.log" 2>&1
+tally pg "$BUILD/pg.log" $?
+
 sh tests/faults.sh "$BUILD/bandgap"
 count $? faults
 sh tests/records.sh "$BUILD/bandgap"

@@ -424,10 +424,15 @@ static void scheme_rule(void **state)
     assert_int_equal(bg_store_open("nosuch:x.db", BG_STORE_CREATE, &st, &err), BG_EINVAL);
     assert_null(st);
     assert_string_equal(err.msg, "database 'nosuch:x.db': unknown scheme 'nosuch:' (this "
-                        "bandgap knows 'sqlite:'; write './nosuch:x.db' for a file of that name)");
+                        "bandgap knows 'sqlite:', 'postgresql:' and 'postgres:'; write "
+                        "'./nosuch:x.db' for a file of that name)");
     assert_int_not_equal(stat("nosuch:x.db", &sb), 0);
-    assert_int_equal(bg_store_open("postgresql://bench/cal", 0, &st, &err), BG_EINVAL);
-    assert_non_null(strstr(err.msg, "unknown scheme 'postgresql:'"));
+    /* a server's scheme is known: here no server listens there */
+    assert_int_equal(bg_store_open("postgresql:///cal?host=/nonexistent-bandgap", 0, &st, &err),
+                     BG_EUNAVAIL);
+    assert_non_null(strstr(err.msg, "cannot connect to the database server"));
+    assert_int_equal(bg_store_open("ftp://bench/cal", 0, &st, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "unknown scheme 'ftp:'"));
     assert_int_equal(bg_store_open("sqlite:", BG_STORE_CREATE, &st, &err), BG_EINVAL);
     /* one letter is a drive, not a scheme: a path (missing here) */
     assert_int_equal(bg_store_open("c:none.db", 0, &st, &err), BG_ENOENT);

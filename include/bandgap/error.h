@@ -26,8 +26,10 @@ typedef enum bg_status {
     /* Added after the first eight, which keep their values. */
     BG_ECANTCREAT, /* a file or its directory cannot be written: a read-only database, a
                    ** directory where its journal cannot be created (EX_CANTCREAT) */
-    BG_EBUSY       /* a temporary failure: the database stayed locked by another process
+    BG_EBUSY,      /* a temporary failure: the database stayed locked by another process
                    ** past the busy timeout; trying again may succeed (EX_TEMPFAIL) */
+    BG_EUNAVAIL    /* a service is unavailable: the database server cannot be reached, or
+                   ** the backend does not offer the operation (EX_UNAVAILABLE) */
 } bg_status;
 
 typedef struct bg_error {

@@ -148,6 +148,15 @@ int cmd_init(int argc, char **argv, struct cli_ctx *ctx)
         return cli_usage_error("init", "unexpected argument '%s'", argv[optind]);
     file = sqlite_file(ctx->db_path);
     existed = stat(file ? file : ctx->db_path, &sb) == 0;
+    if (!file && !existed) { /* a server's database: it has bandgap's schema or not yet */
+        bg_error quiet = BG_ERROR_INIT;
+        bg_store_opts o = bg_store_default_opts();
+        if (ctx->busy_timeout_s >= 0)
+            o.busy_timeout_s = ctx->busy_timeout_s;
+        existed = bg_store_open_with(ctx->db_path, 0, &o, &st, &quiet) == BG_OK;
+        bg_store_close(st);
+        st = NULL;
+    }
     if (!existed && file && (rc = create_new(ctx, file, &existed)) != BG_OK)
         return rc;
     if ((rc = cli_open_store(ctx, 1, &st)) != BG_OK)

@@ -46,7 +46,9 @@ static void usage(FILE *f)
     for (size_t i = 0; i < NCOMMANDS; i++)
         fprintf(f, "  %-8s %s\n", commands[i].name, commands[i].summary);
     fprintf(f, "\nGlobal options:\n"
-               "  --db PATH    calibration database (default $BANDGAP_DB or ./bandgap.db)\n"
+               "  --db PATH    calibration database: a file, or postgresql://... on a server\n"
+               "               (default $BANDGAP_DB, else the server PGSERVICE, PGDATABASE\n"
+               "               or PGHOST names, else ./bandgap.db)\n"
                "  --json       machine-readable output\n"
                "  --busy-timeout SECONDS  how long to wait for another process's lock on the\n"
                "               database before giving up with status 75 (default 30)\n"
@@ -80,6 +82,7 @@ static int exit_status(int rc)
     case BG_EIO: return EX_IOERR;
     case BG_ECANTCREAT: return EX_CANTCREAT;
     case BG_EBUSY: return EX_TEMPFAIL;
+    case BG_EUNAVAIL: return EX_UNAVAILABLE;
     case CLI_EUSAGE: return EX_USAGE;
     case CLI_ECANTCREAT: return EX_CANTCREAT;
     case CLI_FLAGGED: return 1; /* drift: something was flagged */
@@ -102,6 +105,20 @@ static int finish(int status)
 
 static int run(int argc, char **argv);
 
+/* The database without --db or $BANDGAP_DB: a PostgreSQL server when libpq's environment
+** names one (PGSERVICE, PGDATABASE or PGHOST; libpq reads them, and a service file), else the
+** file ./bandgap.db. */
+static const char *cli_default_db(void)
+{
+    static const char *const vars[] = { "PGSERVICE", "PGDATABASE", "PGHOST" };
+    for (size_t i = 0; i < sizeof vars / sizeof vars[0]; i++) {
+        const char *v = getenv(vars[i]);
+        if (v && *v)
+            return "postgresql://";
+    }
+    return "bandgap.db";
+}
+
 int main(int argc, char **argv)
 {
     bg_gsl_handler_off();
@@ -122,7 +139,7 @@ static int run(int argc, char **argv)
 
     ctx.db_path = getenv("BANDGAP_DB");
     if (!ctx.db_path || !*ctx.db_path)
-        ctx.db_path = "bandgap.db";
+        ctx.db_path = cli_default_db();
     opterr = 0;
     while ((c = getopt_long(argc, argv, "+:h", opts, NULL)) != -1) {
         switch (c) {

@@ -1,7 +1,8 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* The SQLite backend's record chain (schema db/007-record-chain.sql): each appended record is
 ** chained to the one before it by SHA-256 (GNU Nettle, through sha256.c), and the chain, the
-** database's own checks and the tables are verified together.
+** database's own checks and the tables are verified together.  The encoding is chain.c's,
+** shared with the PostgreSQL backend:
 **
 ** The hash of record number 'seq' is SHA-256 over
 **     "bandgap record chain 1\n" PREV "\n" KIND "\n" ID "\n" ROW [READINGS]
@@ -12,7 +13,6 @@
 ** with TYPE 'i' and VALUE the integer in decimal, 'r' and the IEEE 754 double's 64 bits in 16
 ** hex digits (exact: no rounding), 't' or 'b' and LENGTH ":" and the bytes.  A run's record
 ** adds each of its readings, in id order, as "reading\n" ROW. */
-#include <inttypes.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -20,18 +20,8 @@
 #include "bandgap/bandgap.h"
 #include "sqlite_int.h"
 
-static const char *const kinds[BGI_CHAIN_KINDS] = { "lot", "probe", "reference", "part_spec",
-                                                    "run", "exclusion", "fit", "artifact",
-                                                    "reference_version", "lot_version",
-                                                    "probe_version" };
-
-static int kind_index(const char *kind)
-{
-    for (int i = 0; i < BGI_CHAIN_KINDS; i++)
-        if (strcmp(kinds[i], kind) == 0)
-            return i;
-    return -1;
-}
+#define kinds bgi_chain_kinds
+#define kind_index bgi_chain_kind_index
 
 /* The columns of statement 'q' in the order of their names (insertion sort; a few dozen). */
 static void name_order(sqlite3_stmt *q, int *order, int n)
@@ -46,35 +36,24 @@ static void name_order(sqlite3_stmt *q, int *order, int n)
     }
 }
 
-/* The current row of 'q', canonically encoded, into the hash. */
+/* The current row of 'q', canonically encoded, into the hash (chain.c). */
 static void put_row(struct bgi_sha256 *h, sqlite3_stmt *q, const int *order, int n)
 {
-    char buf[64];
     for (int k = 0; k < n; k++) {
-        int i = order[k], len;
+        int i = order[k];
         int type = sqlite3_column_type(q, i);
         if (type == SQLITE_NULL)
             continue;
         const char *name = sqlite3_column_name(q, i);
-        bgi_sha256_update(h, name, strlen(name) + 1);
-        if (type == SQLITE_INTEGER) {
-            len = snprintf(buf, sizeof buf, "i%lld\n", (long long)sqlite3_column_int64(q, i));
-            bgi_sha256_update(h, buf, (size_t)len);
-        } else if (type == SQLITE_FLOAT) {
-            double v = sqlite3_column_double(q, i);
-            uint64_t bits;
-            memcpy(&bits, &v, sizeof bits);
-            len = snprintf(buf, sizeof buf, "r%016" PRIx64 "\n", bits);
-            bgi_sha256_update(h, buf, (size_t)len);
-        } else {
+        if (type == SQLITE_INTEGER)
+            bgi_chain_int(h, name, (long long)sqlite3_column_int64(q, i));
+        else if (type == SQLITE_FLOAT)
+            bgi_chain_real(h, name, sqlite3_column_double(q, i));
+        else {
             const void *p = type == SQLITE_TEXT ? (const void *)sqlite3_column_text(q, i)
                                                 : sqlite3_column_blob(q, i);
             int nb = sqlite3_column_bytes(q, i);
-            len = snprintf(buf, sizeof buf, "%c%d:", type == SQLITE_TEXT ? 't' : 'b', nb);
-            bgi_sha256_update(h, buf, (size_t)len);
-            if (nb > 0)
-                bgi_sha256_update(h, p, (size_t)nb);
-            bgi_sha256_update(h, "\n", 1);
+            bgi_chain_bytes(h, name, type == SQLITE_TEXT, p, (size_t)nb);
         }
     }
 }
@@ -100,7 +79,7 @@ static int row_stmt(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, b
 static int record_hash(bgi_conn *c, int k, long long id, const char prev[65], char hex[65],
                        bg_error *err)
 {
-    char sql[96], head[128];
+    char sql[96];
     sqlite3_stmt *q;
     struct bgi_sha256 h;
     unsigned char d[32];
@@ -114,10 +93,7 @@ static int record_hash(bgi_conn *c, int k, long long id, const char prev[65], ch
         return s == SQLITE_DONE ? bg_error_set(err, BG_EINVAL, "%s %lld is missing", kinds[k], id)
                                 : bgi_db_fail(c, err, "cannot read a record");
     }
-    bgi_sha256_init(&h);
-    int n = snprintf(head, sizeof head, "bandgap record chain 1\n%s\n%s\n%lld\n", prev,
-                     kinds[k], id);
-    bgi_sha256_update(&h, head, (size_t)n);
+    bgi_chain_start(&h, prev, kinds[k], id);
     put_row(&h, q, c->chain_order[k], c->chain_ncol[k]);
     sqlite3_reset(q);
     if (strcmp(kinds[k], "run") == 0) {
@@ -126,7 +102,7 @@ static int record_hash(bgi_conn *c, int k, long long id, const char prev[65], ch
             return rc;
         sqlite3_bind_int64(q, 1, id);
         while ((s = sqlite3_step(q)) == SQLITE_ROW) {
-            bgi_sha256_update(&h, "reading\n", 8);
+            bgi_chain_reading(&h);
             put_row(&h, q, c->chain_order[BGI_CHAIN_KINDS], c->chain_ncol[BGI_CHAIN_KINDS]);
         }
         sqlite3_reset(q);

@@ -13,7 +13,8 @@
 #include "store_int.h"
 
 /* The backends by scheme; the first is the default for a plain path. */
-static const struct bgi_store_backend *const backends[] = { &bgi_store_sqlite };
+static const struct bgi_store_backend *const backends[] = { &bgi_store_sqlite, &bgi_store_pg,
+                                                            &bgi_store_pg_alias };
 enum { NBACKENDS = sizeof backends / sizeof backends[0] };
 
 static int check_text(const char *what, const char *s, size_t max, int required, bg_error *err)
@@ -65,9 +66,10 @@ static int pick_backend(const char *target, const struct bgi_store_backend **be,
         return BG_OK;
     if (target[n + 1] == '/') /* a URL */
         return bg_error_set(err, BG_EINVAL, "database '%s': unknown scheme '%.*s:' (this "
-                            "bandgap knows 'sqlite:')", target, (int)n, target);
+                            "bandgap knows 'sqlite:', 'postgresql:' and 'postgres:')", target, (int)n, target);
     return bg_error_set(err, BG_EINVAL, "database '%s': unknown scheme '%.*s:' (this bandgap "
-                        "knows 'sqlite:'; write './%s' for a file of that name)", target,
+                        "knows 'sqlite:', 'postgresql:' and 'postgres:'; write './%s' for a file of that "
+                        "name)", target,
                         (int)n, target, target);
 }
 

@@ -221,6 +221,7 @@ struct bgi_store_backend {
 
 /* The backends (sqlite.c, ...); store.c lists them by scheme. */
 extern const struct bgi_store_backend bgi_store_sqlite;
+extern const struct bgi_store_backend bgi_store_pg, bgi_store_pg_alias; /* pg.c */
 
 struct bg_store {
     const struct bgi_store_backend *be;
@@ -252,5 +253,19 @@ struct bgi_sql_file {
     const char *text;
 };
 extern const struct bgi_sql_file bgi_migrations[];
+/* The PostgreSQL backend's migrations (db/pg/NNN-*.sql, numbered as the SQLite ones). */
+extern const struct bgi_sql_file bgi_pg_migrations[];
+
+/* The record chain's canonical encoding (chain.c), shared by every backend: the chained
+** tables, then a record's head, each non-NULL column (in the order of the column names) by
+** its type, and the mark before each reading of a run. */
+#define BGI_CHAIN_NKINDS 11
+extern const char *const bgi_chain_kinds[BGI_CHAIN_NKINDS];
+int bgi_chain_kind_index(const char *kind); /* -1: not chained */
+void bgi_chain_start(struct bgi_sha256 *h, const char prev[65], const char *kind, long long id);
+void bgi_chain_int(struct bgi_sha256 *h, const char *name, long long v);
+void bgi_chain_real(struct bgi_sha256 *h, const char *name, double v);
+void bgi_chain_bytes(struct bgi_sha256 *h, const char *name, int text, const void *p, size_t n);
+void bgi_chain_reading(struct bgi_sha256 *h);
 
 #endif
