@@ -57,6 +57,8 @@ tally hostile "$BUILD/hostile.log" $?
 "$PYTHON" tests/chain_check.py "$BUILD/bandgap" "$hw" > "$BUILD/chain.log" 2>&1
 tally chain "$BUILD/chain.log" $?
 rm -rf "$hw"
+sh tests/sequence.sh "$BUILD/bandgap" "$PYTHON" > "$BUILD/sequence.log" 2>&1
+tally sequence "$BUILD/sequence.log" $?
 "$PYTHON" tests/layout.py "$BUILD" > "$BUILD/layout.log" 2>&1
 tally layout "$BUILD/layout.log" $?
 "$PYTHON" tests/xcheck_numpy.py "$BUILD/bandgap"

@@ -26,8 +26,12 @@ typedef enum bg_status {
     /* Added after the first eight, which keep their values. */
     BG_ECANTCREAT, /* a file or its directory cannot be written: a read-only database, a
                    ** directory where its journal cannot be created (EX_CANTCREAT) */
-    BG_EBUSY       /* a temporary failure: the database stayed locked by another process
+    BG_EBUSY,      /* a temporary failure: the database stayed locked by another process
                    ** past the busy timeout; trying again may succeed (EX_TEMPFAIL) */
+    BG_EUNAVAIL,   /* an instrument does not answer, answers garbage or reports an error
+                   ** (EX_UNAVAILABLE) */
+    BG_ESTOPPED    /* a calibration sequence stopped before its end; it can be resumed
+                   ** (EX_TEMPFAIL) */
 } bg_status;
 
 typedef struct bg_error {

@@ -13,6 +13,7 @@
 #include <nettle/sha2.h>
 
 #include "bandgap/store.h"
+#include "bandgap/bench.h"
 
 /* A backend's connection: each backend defines 'struct bgi_conn' in its own files (the
 ** definitions never meet in one translation unit). */
@@ -201,6 +202,22 @@ struct bgi_store_backend {
                            const char *now, long long *id, bg_error *err);
     int (*lot_version_each)(bgi_conn *c, long long lot_id, bg_lot_version_cb cb, void *ctx,
                             bg_error *err);
+    /* Added after version 7 (the lead sets the version number): calibration sequences
+    ** (schema db/011-sequence.sql, include/bandgap/bench.h).  Add a sequence ('h' without
+    ** id), the newest without an end (found 0: none), a settling record, a reading (a
+    ** duplicate of setpoint, probe and number is BG_EINVAL), each of a sequence's readings in
+    ** setpoint, probe, number order and its settling records in id order, and its end. */
+    int (*seq_add)(bgi_conn *c, const bg_seq_head *h, const char *text, long long ref_id,
+                   long long *id, bg_error *err);
+    int (*seq_unfinished)(bgi_conn *c, bg_seq_head *out, int *found, bg_error *err);
+    int (*seq_settle)(bgi_conn *c, long long seq_id, const bg_seq_settle *s, bg_error *err);
+    int (*seq_reading)(bgi_conn *c, long long seq_id, const bg_seq_reading *r, bg_error *err);
+    int (*seq_readings)(bgi_conn *c, long long seq_id, bg_seq_reading_cb cb, void *ctx,
+                        bg_error *err);
+    int (*seq_settles)(bgi_conn *c, long long seq_id, bg_seq_settle_cb cb, void *ctx,
+                       bg_error *err);
+    int (*seq_end)(bgi_conn *c, long long seq_id, const char *now, long long first_run,
+                   long long last_run, bg_error *err);
 };
 
 /* The backends (sqlite.c, ...); store.c lists them by scheme. */
