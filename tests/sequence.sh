@@ -233,6 +233,9 @@ check "on_timeout = stop: the bath at its safe setpoint" [ "$(last_bath bath.log
     "SOUR:TEMP 20" ]
 check "on_timeout = stop: no run made, readings of setpoint 1 kept" [ "$(q stop.db \
     "SELECT (SELECT count(*) FROM run) || ':' || count(*) FROM sequence_reading")" = "0:9" ]
+"$BIN" --db stop.db sequence run stop.ini > /dev/null 2> again.err
+check "a new run of a file with an unfinished sequence says so" grep -q \
+    "sequence 1 of this file is unfinished; this starts a new one" again.err
 unsim bath
 ports=$(sim bath)
 P=${ports% *} M=${ports#* }
@@ -240,7 +243,7 @@ seqfile stop2.ini "$P" "$M" stop "3 s" "0 C, 40 C, 60 C"
 "$BIN" --db stop.db sequence run stop2.ini --resume > /dev/null 2> resume-changed.err
 rc=$?
 check "resume refused when the file changed (exit $rc)" grep -q \
-    "not the one sequence 1 was started with" resume-changed.err
+    "not the one sequence 2 was started with" resume-changed.err
 unsim bath
 
 # ---- 5. instruments that fail: drop, SCPI error, garbage; the bath safe each time ----
@@ -312,5 +315,29 @@ sed 's/^readings = 3/readings = 3 apples/' lim.ini > bad.ini
 "$BIN" --db lim.db sequence run bad.ini > /dev/null 2> bad.err
 check "a bad value: exit 65 naming bad.ini:4 ($?)" grep -q "bad.ini:4: 'readings'" bad.err
 check "the database unchanged by the bad file" [ "$(sha256sum < lim.db)" = "$before" ]
+unsim bath
+
+# ---- 7. the serial transport (termios) on the simulator's pseudo-terminal ----
+newdb pty.db
+rm -f pty.name
+ports=$(sim bath --pty-file pty.name)
+P=${ports% *}
+i=0
+while [ ! -s pty.name ] && [ $i -lt 200 ]; do sleep 0.05; i=$((i + 1)); done
+seqfile pty.ini "$P" "$P" skip "10 s" "0 C, 20 C"
+"$PY" - pty.ini "$(cat pty.name)" <<'EOF2'
+import sys
+path, dev = sys.argv[1], sys.argv[2]
+s = open(path).read()
+for role in ("meter", "scanner"):
+    head = "[instrument %s]\n" % role
+    a = s.index(head) + len(head)
+    b = s.index("timeout", a)
+    s = s[:a] + "transport = serial\ndevice = %s\nbaud = 115200\n" % dev + s[b:]
+open(path, "w").write(s)
+EOF2
+"$BIN" --db pty.db sequence run pty.ini > pty.out 2> pty.err
+check "meter and scanner on a serial line (a pseudo-terminal): finished (exit $?)" \
+    [ "$(q pty.db "SELECT group_concat(nreadings) FROM run")" = "6,6,6" ]
 unsim bath
 exit 0

@@ -96,7 +96,7 @@ static void seq_live(struct seq_view *v, const bg_seq_status *s)
         snprintf(stats, sizeof stats, " %.0f s; drift %s; scatter %s", s->phase_s,
                  s->have_stats ? "" : "(window filling)", "");
     if (s->phase == BG_SEQ_SETTLING && s->have_stats)
-        snprintf(stats, sizeof stats, " %.0f s; drift %.3f mK/min; scatter %.3f mK",
+        snprintf(stats, sizeof stats, " %.0f s; drift %.4g mK/min; scatter %.4g mK",
                  s->phase_s, s->slope_k_s * 60e3, s->scatter_k * 1e3);
     if (!isnan(s->to_go_s))
         snprintf(togo, sizeof togo, "; ~%.0f min to go", ceil(s->to_go_s / 60.0));

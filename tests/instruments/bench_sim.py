@@ -14,7 +14,8 @@ faster than real time.  The reference readout reads the bath temperature in degC
 bath temperature plus the channel's gradient and its self-heating (10 uA through the probe,
 dissipation constant 2 mW/K), with a relative noise of --r-noise.
 
-With --port2 the same bench also answers on a second port (say, the meter and scanner on one
+With --pty-file it answers on a pseudo-terminal too (a serial line for bandgap's termios
+transport).  With --port2 the same bench also answers on a second port (say, the meter and scanner on one
 and the bath and reference on the other), and --fault-port K limits the faults to one port.
 Faults for tests: --drop-after N closes the connection and stops that port answering at the
 Nth command;
@@ -35,6 +36,7 @@ import socketserver
 import sys
 import threading
 import time
+import tty
 
 # INVENTED probe curves: Steinhart-Hart 1/T = A + B ln R + C (ln R)^3, one per channel.
 PROBES = {
@@ -161,6 +163,29 @@ class Handler(socketserver.StreamRequestHandler):
                 self.wfile.flush()
 
 
+def serve_pty(bench, master):
+    """The bench on a pseudo-terminal's master side, as port 3."""
+    buf = b""
+    while True:
+        try:
+            data = os.read(master, 4096)
+        except OSError:
+            time.sleep(0.01)  # no one has the other side open yet
+            continue
+        buf += data
+        while b"\n" in buf:
+            raw, buf = buf.split(b"\n", 1)
+            line = raw.decode("utf-8", "replace").strip()
+            if not line:
+                continue
+            try:
+                reply = bench.handle(line, 3)
+            except ConnectionError:
+                return
+            if reply is not None:
+                os.write(master, (reply + "\n").encode())
+
+
 class Server(socketserver.ThreadingTCPServer):
     allow_reuse_address = True
     daemon_threads = True
@@ -174,6 +199,8 @@ def main():
     p.add_argument("--fault-port", type=int, default=0,
                    help="faults count commands on this port only (1 or 2; 0: on every port)")
     p.add_argument("--port-file", help="write the port(s) here once listening")
+    p.add_argument("--pty-file", help="also answer on a pseudo-terminal (as port 3): write "
+                   "its device name here")
     p.add_argument("--speed", type=float, default=1.0)
     p.add_argument("--seed", type=int, default=1)
     p.add_argument("--tau", type=float, default=60.0, help="bath time constant, simulated s")
@@ -201,6 +228,13 @@ def main():
         os.replace(args.port_file + ".tmp", args.port_file)
     threads = [threading.Thread(target=s.serve_forever, kwargs={"poll_interval": 0.05},
                                 daemon=True) for s in servers]
+    if args.pty_file:
+        master, slave = os.openpty()
+        tty.setraw(slave)  # no echo, no line editing: a serial line
+        with open(args.pty_file + ".tmp", "w") as f:
+            f.write(os.ttyname(slave) + "\n")
+        os.replace(args.pty_file + ".tmp", args.pty_file)
+        threads.append(threading.Thread(target=serve_pty, args=(bench, master), daemon=True))
     for t in threads:
         t.start()
     deadline = time.monotonic() + args.lifetime  # bounded in time, always

@@ -441,9 +441,14 @@ static int start(struct eng *e, int resume, bg_error *err)
     bg_seq_head head;
     int found = 0, rc;
     const bg_seq *q = e->q;
+    if ((rc = bg_store_seq_unfinished(e->st, &head, &found, err)) != BG_OK)
+        return rc;
+    if (!resume && found && strcmp(head.sha256, q->sha256) == 0) {
+        snprintf(crit, sizeof crit, "sequence %lld of this file is unfinished; this starts a "
+                 "new one ('--resume' would continue it)", head.id);
+        show(e, crit);
+    }
     if (resume) {
-        if ((rc = bg_store_seq_unfinished(e->st, &head, &found, err)) != BG_OK)
-            return rc;
         if (!found)
             return bg_error_set(err, BG_EINVAL, "no unfinished sequence to resume");
         if (strcmp(head.sha256, q->sha256) != 0)
