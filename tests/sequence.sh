@@ -339,5 +339,11 @@ EOF2
 "$BIN" --db pty.db sequence run pty.ini > pty.out 2> pty.err
 check "meter and scanner on a serial line (a pseudo-terminal): finished (exit $?)" \
     [ "$(q pty.db "SELECT group_concat(nreadings) FROM run")" = "6,6,6" ]
+# the USBTMC transport reads and writes its device file blocking; a pseudo-terminal stands in
+newdb tmc.db
+sed 's/^transport = serial/transport = usbtmc/; /^baud = /d' pty.ini > tmc.ini
+"$BIN" --db tmc.db sequence run tmc.ini > tmc.out 2> tmc.err
+check "meter and scanner as a USBTMC device file (a pseudo-terminal): finished (exit $?)" \
+    [ "$(q tmc.db "SELECT group_concat(nreadings) FROM run")" = "6,6,6" ]
 unsim bath
 exit 0

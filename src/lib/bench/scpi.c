@@ -143,7 +143,9 @@ int bg_scpi_open(const bg_instr *in, bg_role role, bg_scpi **out, bg_error *err)
         rc = tcp_connect(s, in, err);
     else if (in->transport == BG_TR_SERIAL)
         rc = serial_open(s, in, err);
-    else if ((s->fd = open(in->device, O_RDWR | O_NONBLOCK)) < 0)
+    /* the Linux USBTMC driver answers a read with a transfer of its own (with the driver's
+    ** timeout) and does not signal POLLIN: that file is read and written blocking */
+    else if ((s->fd = open(in->device, O_RDWR)) < 0)
         rc = lost(s, err, strerror(errno), NULL);
     else
         rc = BG_OK;
@@ -173,7 +175,7 @@ static int send_line(bg_scpi *s, const char *cmd, bg_error *err)
     if (n < 0 || len >= sizeof line)
         return bg_error_set(err, BG_EINVAL, "command '%s' too long", cmd);
     while (off < len) {
-        if (ready(s->fd, POLLOUT, deadline) != 0)
+        if (s->tr != BG_TR_USBTMC && ready(s->fd, POLLOUT, deadline) != 0)
             return lost(s, err, "cannot send", cmd);
         ssize_t w = s->tr == BG_TR_TCP ? send(s->fd, line + off, len - off, MSG_NOSIGNAL)
                                        : write(s->fd, line + off, len - off);
@@ -209,7 +211,7 @@ static int read_line(bg_scpi *s, const char *cmd, char *reply, size_t size, bg_e
         }
         if (s->nbuf == sizeof s->buf)
             return lost(s, err, "reply without an end of line to", cmd);
-        if (ready(s->fd, POLLIN, deadline) != 0) {
+        if (s->tr != BG_TR_USBTMC && ready(s->fd, POLLIN, deadline) != 0) {
             char what[64];
             snprintf(what, sizeof what, "no reply within %g s to", s->timeout_s);
             return lost(s, err, what, cmd);
