@@ -19,12 +19,12 @@ ifeq ($(SAN),1)
 OPT      = -O1 -g $(SANFLAGS)
 endif
 # Expanded when a recipe runs, i.e. after 'deps' has installed what was missing.
-PKG_CFLAGS = $(shell pkg-config --cflags gsl sqlite3 nettle libpq 2>/dev/null)
-PKG_LIBS   = $(shell pkg-config --libs gsl sqlite3 nettle 2>/dev/null) -lm
+PKG_CFLAGS = $(shell pkg-config --cflags gsl sqlite3 nettle inih libpq 2>/dev/null)
+PKG_LIBS   = $(shell pkg-config --libs gsl sqlite3 nettle inih 2>/dev/null) -lm
 CMOCKA     = $(shell pkg-config --cflags --libs cmocka 2>/dev/null)
 CFLAGS_ALL = $(STD) $(WARN) $(OPT) -fvisibility=hidden -Iinclude -DBG_VERSION='"$(VERSION)"' \
              $(PKG_CFLAGS)
-DEBIAN_PKGS = libgsl-dev libsqlite3-dev nettle-dev libcmocka-dev pkg-config python3-numpy python3-scipy python3-mpmath \
+DEBIAN_PKGS = libgsl-dev libsqlite3-dev nettle-dev libinih-dev libcmocka-dev pkg-config python3-numpy python3-scipy python3-mpmath \
               mandoc sqlite3 clang libclang-rt-14-dev chromium chromium-driver libxml2-utils time \
               gcc-avr avr-libc simavr gcc-arm-none-eabi libnewlib-arm-none-eabi qemu-system-arm \
               libpq-dev postgresql
@@ -57,7 +57,7 @@ all: deps $(BUILD)/libbandgap.a $(SHARED) $(BUILD)/bandgap
 # ---- dependencies: install the Debian packages that are missing, or say how -----------------
 deps:
 	@missing=""; \
-	for p in gsl sqlite3 nettle cmocka libpq; do pkg-config --exists $$p 2>/dev/null || missing=yes; done; \
+	for p in gsl sqlite3 nettle inih cmocka libpq; do pkg-config --exists $$p 2>/dev/null || missing=yes; done; \
 	$(PYTHON) -c 'import numpy, scipy, mpmath' 2>/dev/null || missing=yes; \
 	for c in mandoc sqlite3 clang chromium chromedriver xmllint avr-gcc simavr arm-none-eabi-gcc \
 	  qemu-system-arm; do \
@@ -293,7 +293,7 @@ $(BUILD)/bandgap.pc: Makefile
 	@mkdir -p $(@D)
 	printf '%s\n' 'prefix=$(prefix)' 'libdir=$(libdir)' 'includedir=$(includedir)' '' \
 	    'Name: bandgap' 'Description: calibration of NTC thermistors' 'Version: $(VERSION)' \
-	    'Requires.private: gsl sqlite3 nettle' 'Libs: -L$${libdir} -lbandgap' 'Libs.private: -lm' \
+	    'Requires.private: gsl sqlite3 nettle inih' 'Libs: -L$${libdir} -lbandgap' 'Libs.private: -lm' \
 	    'Cflags: -I$${includedir}' > $@
 
 install: all $(BUILD)/bandgap.pc

@@ -111,8 +111,9 @@ dump() { # every row of every table, and the schema of indexes, triggers, views 
                     AND tbl_name <> 'chain' AND name NOT IN ('lot_keep', 'lot_stay',
                     'probe_keep', 'probe_stay', 'reference_keep', 'reference_stay')
                     AND tbl_name NOT IN ('reference_version', 'lot_version', 'probe_version')
-                  ORDER BY type, name" # (leaving out what 007-record-chain.sql and
-                                       # 008-versions.sql add)
+                    AND tbl_name NOT LIKE 'sequence%'
+                  ORDER BY type, name" # (leaving out what 007-record-chain.sql,
+                                       # 008-versions.sql and 010-sequence.sql add)
 }
 dump "$V5" > "$T/before.txt"
 cp "$V5" "$T/inf.db"

@@ -72,6 +72,8 @@ if [ "${SAN:-0}" != 1 ]; then
     sh tests/firmware/run.sh "$BUILD/bandgap" "$BUILD/firmware" > "$BUILD/firmware.log" 2>&1
     tally firmware "$BUILD/firmware.log" $?
 fi
+sh tests/sequence.sh "$BUILD/bandgap" "$PYTHON" > "$BUILD/sequence.log" 2>&1
+tally sequence "$BUILD/sequence.log" $?
 "$PYTHON" tests/layout.py "$BUILD" > "$BUILD/layout.log" 2>&1
 tally layout "$BUILD/layout.log" $?
 "$PYTHON" tests/xcheck_numpy.py "$BUILD/bandgap"

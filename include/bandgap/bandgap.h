@@ -29,6 +29,7 @@
 #include "bandgap/lut.h"
 #include "bandgap/calib.h"
 #include "bandgap/report.h"
+#include "bandgap/bench.h"
 
 /* The library's version, "MAJOR.MINOR.PATCH". */
 BG_API const char *bg_version(void);

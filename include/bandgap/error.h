@@ -28,8 +28,11 @@ typedef enum bg_status {
                    ** directory where its journal cannot be created (EX_CANTCREAT) */
     BG_EBUSY,      /* a temporary failure: the database stayed locked by another process
                    ** past the busy timeout; trying again may succeed (EX_TEMPFAIL) */
-    BG_EUNAVAIL    /* a service is unavailable: the database server cannot be reached, or
-                   ** the backend does not offer the operation (EX_UNAVAILABLE) */
+    BG_EUNAVAIL,   /* a service is unavailable: the database server cannot be reached, the
+                   ** backend does not offer the operation, or an instrument does not answer,
+                   ** answers garbage or reports an error (EX_UNAVAILABLE) */
+    BG_ESTOPPED    /* a calibration sequence stopped before its end; it can be resumed
+                   ** (EX_TEMPFAIL) */
 } bg_status;
 
 typedef struct bg_error {

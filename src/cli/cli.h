@@ -265,6 +265,7 @@ int cmd_part(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_probe(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_ref(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_import(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_sequence(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_list(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_show(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_exclude(int argc, char **argv, struct cli_ctx *ctx);

@@ -34,6 +34,7 @@ static const struct command commands[] = {
     { "eval",    cmd_eval,    "evaluate a model given inline: resistance to temperature and back" },
     { "curve",   cmd_curve,   "the R-T table of a stored fit or an inline model, with U" },
     { "verify",  cmd_verify,  "check the whole record: integrity and the hash chain" },
+    { "sequence", cmd_sequence, "drive the bath and instruments through a calibration sequence" },
     { "demo",    cmd_demo,    "run the whole job on built-in invented data" },
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
@@ -83,6 +84,7 @@ static int exit_status(int rc)
     case BG_ECANTCREAT: return EX_CANTCREAT;
     case BG_EBUSY: return EX_TEMPFAIL;
     case BG_EUNAVAIL: return EX_UNAVAILABLE;
+    case BG_ESTOPPED: return EX_TEMPFAIL;
     case CLI_EUSAGE: return EX_USAGE;
     case CLI_ECANTCREAT: return EX_CANTCREAT;
     case CLI_FLAGGED: return 1; /* drift: something was flagged */

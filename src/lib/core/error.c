@@ -53,6 +53,8 @@ const char *bg_status_name(int code)
     case BG_EDB: return "database error";
     case BG_ECANTCREAT: return "cannot write";
     case BG_EBUSY: return "busy";
+    case BG_EUNAVAIL: return "instrument unavailable";
+    case BG_ESTOPPED: return "stopped";
     default: return "internal error";
     }
 }

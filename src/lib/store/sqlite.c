@@ -874,4 +874,7 @@ const struct bgi_store_backend bgi_store_sqlite = {
     bgi_sqlite_ref_version_add, bgi_sqlite_ref_version_each,
     bgi_sqlite_lot_version_add, bgi_sqlite_lot_version_each,
     bgi_sqlite_probe_version_add, bgi_sqlite_probe_version_each,
+    bgi_sqlite_seq_add, bgi_sqlite_seq_unfinished, bgi_sqlite_seq_settle,
+    bgi_sqlite_seq_reading, bgi_sqlite_seq_readings, bgi_sqlite_seq_settles,
+    bgi_sqlite_seq_end,
 };

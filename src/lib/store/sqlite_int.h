@@ -80,6 +80,18 @@ int bgi_sqlite_probe_id(bgi_conn *c, const char *serial, long long *id, bg_error
 int bgi_sqlite_import(bgi_conn *c, const struct bgi_import *imp, long long *run_id,
                       bg_error *err);
 int bgi_sqlite_run_get(bgi_conn *c, long long run_id, bg_run *out, bg_error *err);
+int bgi_sqlite_seq_add(bgi_conn *c, const bg_seq_head *h, const char *text, long long ref_id,
+                       long long *id, bg_error *err);
+int bgi_sqlite_seq_unfinished(bgi_conn *c, bg_seq_head *out, int *found, bg_error *err);
+int bgi_sqlite_seq_settle(bgi_conn *c, long long seq_id, const bg_seq_settle *s, bg_error *err);
+int bgi_sqlite_seq_reading(bgi_conn *c, long long seq_id, const bg_seq_reading *r,
+                           bg_error *err);
+int bgi_sqlite_seq_readings(bgi_conn *c, long long seq_id, bg_seq_reading_cb cb, void *ctx,
+                            bg_error *err);
+int bgi_sqlite_seq_settles(bgi_conn *c, long long seq_id, bg_seq_settle_cb cb, void *ctx,
+                           bg_error *err);
+int bgi_sqlite_seq_end(bgi_conn *c, long long seq_id, const char *now, long long first_run,
+                       long long last_run, bg_error *err);
 int bgi_sqlite_run_latest(bgi_conn *c, long long probe_id, long long *run_id, bg_error *err);
 int bgi_sqlite_run_by_digest(bgi_conn *c, long long probe_id, const char *sha256,
                              long long *run_id, bg_error *err);

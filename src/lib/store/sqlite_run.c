@@ -425,3 +425,201 @@ int bgi_sqlite_exclude(bgi_conn *c, long long reading_id, const char *why, const
     return rc;
 }
 
+
+/* ---- calibration sequences (db/010-sequence.sql) ---- */
+
+static int step_done(bgi_conn *c, sqlite3_stmt *q, const char *what, bg_error *err)
+{
+    int rc = BG_OK;
+    if (sqlite3_step(q) != SQLITE_DONE) {
+        if ((sqlite3_extended_errcode(c->db) & 0xff) == SQLITE_CONSTRAINT)
+            rc = bg_error_set(err, BG_EINVAL, "%s: %s", what, sqlite3_errmsg(c->db));
+        else
+            rc = bgi_db_fail(c, err, what);
+    }
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bgi_sqlite_seq_add(bgi_conn *c, const bg_seq_head *h, const char *text, long long ref_id,
+                       long long *id, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "INSERT INTO sequence(file, file_sha256, file_text, idn, criterion, "
+                         "reference_id, started_at) VALUES (?,?,?,?,?,?,?)", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_text(q, 1, h->file, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 2, h->sha256, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 3, text, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 4, h->idn, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 5, h->criterion, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_int64(q, 6, ref_id);
+    sqlite3_bind_text(q, 7, h->started_at, -1, SQLITE_TRANSIENT);
+    rc = step_done(c, q, "cannot record the sequence", err);
+    if (rc == BG_OK)
+        *id = sqlite3_last_insert_rowid(c->db);
+    return rc;
+}
+
+int bgi_sqlite_seq_unfinished(bgi_conn *c, bg_seq_head *out, int *found, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "SELECT id, file, file_sha256, started_at, idn, criterion FROM "
+                         "sequence s WHERE NOT EXISTS (SELECT 1 FROM sequence_end e WHERE "
+                         "e.sequence_id = s.id) ORDER BY id DESC LIMIT 1", &q, err), s;
+    if (rc != BG_OK)
+        return rc;
+    memset(out, 0, sizeof *out);
+    *found = 0;
+    if ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        out->id = sqlite3_column_int64(q, 0);
+        bgi_copy_text(out->file, sizeof out->file, q, 1);
+        bgi_copy_text(out->sha256, sizeof out->sha256, q, 2);
+        bgi_copy_text(out->started_at, sizeof out->started_at, q, 3);
+        bgi_copy_text(out->idn, sizeof out->idn, q, 4);
+        bgi_copy_text(out->criterion, sizeof out->criterion, q, 5);
+        *found = 1;
+    } else if (s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read sequences");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+static void bind_real_or_null(sqlite3_stmt *q, int i, double v)
+{
+    if (isfinite(v))
+        sqlite3_bind_double(q, i, v);
+    else
+        sqlite3_bind_null(q, i);
+}
+
+int bgi_sqlite_seq_settle(bgi_conn *c, long long seq_id, const bg_seq_settle *s, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "INSERT INTO sequence_settle(sequence_id, setpoint, setpoint_k, "
+                         "settled, slope_k_s, scatter_k, mean_k, window_s, waited_s, samples, "
+                         "at) VALUES (?,?,?,?,?,?,?,?,?,?,?)", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, seq_id);
+    sqlite3_bind_int64(q, 2, (sqlite3_int64)s->sp);
+    sqlite3_bind_double(q, 3, s->setpoint_k);
+    sqlite3_bind_int(q, 4, s->settled);
+    bind_real_or_null(q, 5, s->slope_k_s);
+    bind_real_or_null(q, 6, s->scatter_k);
+    bind_real_or_null(q, 7, s->mean_k);
+    sqlite3_bind_double(q, 8, s->window_s);
+    sqlite3_bind_double(q, 9, s->waited_s);
+    sqlite3_bind_int64(q, 10, (sqlite3_int64)s->samples);
+    sqlite3_bind_text(q, 11, s->at, -1, SQLITE_TRANSIENT);
+    return step_done(c, q, "cannot record the settling", err);
+}
+
+int bgi_sqlite_seq_reading(bgi_conn *c, long long seq_id, const bg_seq_reading *r,
+                           bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "INSERT INTO sequence_reading(sequence_id, setpoint, probe, k, "
+                         "channel, setpoint_k, r_ohm, ref_raw, time, meter_reply, ref_reply) "
+                         "VALUES (?,?,?,?,?,?,?,?,?,?,?)", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, seq_id);
+    sqlite3_bind_int64(q, 2, (sqlite3_int64)r->sp);
+    sqlite3_bind_int64(q, 3, (sqlite3_int64)r->ch);
+    sqlite3_bind_int64(q, 4, (sqlite3_int64)r->k);
+    sqlite3_bind_text(q, 5, r->channel, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_double(q, 6, r->setpoint_k);
+    sqlite3_bind_double(q, 7, r->r_ohm);
+    sqlite3_bind_double(q, 8, r->ref_raw);
+    sqlite3_bind_text(q, 9, r->time, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 10, r->meter_reply, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(q, 11, r->ref_reply, -1, SQLITE_TRANSIENT);
+    return step_done(c, q, "cannot store the reading", err);
+}
+
+int bgi_sqlite_seq_readings(bgi_conn *c, long long seq_id, bg_seq_reading_cb cb, void *ctx,
+                            bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    bg_seq_reading r;
+    int rc = bgi_prepare(c, "SELECT id, setpoint, probe, k, channel, setpoint_k, r_ohm, ref_raw, "
+                         "time, meter_reply, ref_reply FROM sequence_reading WHERE "
+                         "sequence_id = ? ORDER BY setpoint, probe, k", &q, err), s;
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, seq_id);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        memset(&r, 0, sizeof r);
+        r.id = sqlite3_column_int64(q, 0);
+        r.sp = (size_t)sqlite3_column_int64(q, 1);
+        r.ch = (size_t)sqlite3_column_int64(q, 2);
+        r.k = (size_t)sqlite3_column_int64(q, 3);
+        bgi_copy_text(r.channel, sizeof r.channel, q, 4);
+        r.setpoint_k = sqlite3_column_double(q, 5);
+        r.r_ohm = sqlite3_column_double(q, 6);
+        r.ref_raw = sqlite3_column_double(q, 7);
+        bgi_copy_text(r.time, sizeof r.time, q, 8);
+        bgi_copy_text(r.meter_reply, sizeof r.meter_reply, q, 9);
+        bgi_copy_text(r.ref_reply, sizeof r.ref_reply, q, 10);
+        if (cb(&r, ctx))
+            break;
+    }
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read the sequence's readings");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+static double column_real(sqlite3_stmt *q, int i)
+{
+    return sqlite3_column_type(q, i) == SQLITE_NULL ? NAN : sqlite3_column_double(q, i);
+}
+
+int bgi_sqlite_seq_settles(bgi_conn *c, long long seq_id, bg_seq_settle_cb cb, void *ctx,
+                           bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    bg_seq_settle t;
+    int rc = bgi_prepare(c, "SELECT setpoint, setpoint_k, settled, slope_k_s, scatter_k, mean_k, "
+                         "window_s, waited_s, samples, at FROM sequence_settle WHERE "
+                         "sequence_id = ? ORDER BY id", &q, err), s;
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, seq_id);
+    while ((s = sqlite3_step(q)) == SQLITE_ROW) {
+        memset(&t, 0, sizeof t);
+        t.sp = (size_t)sqlite3_column_int64(q, 0);
+        t.setpoint_k = sqlite3_column_double(q, 1);
+        t.settled = sqlite3_column_int(q, 2);
+        t.slope_k_s = column_real(q, 3);
+        t.scatter_k = column_real(q, 4);
+        t.mean_k = column_real(q, 5);
+        t.window_s = sqlite3_column_double(q, 6);
+        t.waited_s = sqlite3_column_double(q, 7);
+        t.samples = (size_t)sqlite3_column_int64(q, 8);
+        bgi_copy_text(t.at, sizeof t.at, q, 9);
+        if (cb(&t, ctx))
+            break;
+    }
+    if (s != SQLITE_ROW && s != SQLITE_DONE)
+        rc = bgi_db_fail(c, err, "cannot read the sequence's settling records");
+    sqlite3_finalize(q);
+    return rc;
+}
+
+int bgi_sqlite_seq_end(bgi_conn *c, long long seq_id, const char *now, long long first_run,
+                       long long last_run, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "INSERT INTO sequence_end(sequence_id, finished_at, first_run, "
+                         "last_run) VALUES (?,?,?,?)", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, seq_id);
+    sqlite3_bind_text(q, 2, now, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_int64(q, 3, first_run);
+    sqlite3_bind_int64(q, 4, last_run);
+    return step_done(c, q, "cannot mark the sequence finished", err);
+}

@@ -1854,3 +1854,83 @@ int bg_store_verify(bg_store *st, bg_store_check *out, bg_error *err)
 {
     return st->be->verify(st->conn, out, err);
 }
+
+/* ---- calibration sequences (bench.h) ---- */
+
+int bg_store_seq_add(bg_store *st, const bg_seq *seq, const char *idn, const char *criterion,
+                     long long *id, bg_error *err)
+{
+    bg_seq_head h;
+    bg_ref ref;
+    int rc, own;
+    memset(&h, 0, sizeof h);
+    if ((rc = check_text("sequence file name", seq->path, BG_NOTE, 1, err)) != BG_OK ||
+        (rc = check_text("instrument identities", idn, BG_NOTE, 1, err)) != BG_OK ||
+        (rc = check_text("criterion", criterion, BG_NOTE, 1, err)) != BG_OK)
+        return rc;
+    snprintf(h.file, sizeof h.file, "%s", seq->path);
+    memcpy(h.sha256, seq->sha256, sizeof h.sha256);
+    snprintf(h.idn, sizeof h.idn, "%s", idn);
+    snprintf(h.criterion, sizeof h.criterion, "%s", criterion);
+    bg_store_time(st, h.started_at, sizeof h.started_at);
+    if ((rc = bg_store_ref_get(st, seq->ref_ident, &ref, err)) != BG_OK)
+        return rc;
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    rc = st->be->seq_add(st->conn, &h, seq->text, ref.id, id, err);
+    return tx_end(st, own, rc, err);
+}
+
+int bg_store_seq_unfinished(bg_store *st, bg_seq_head *out, int *found, bg_error *err)
+{
+    return st->be->seq_unfinished(st->conn, out, found, err);
+}
+
+int bg_store_seq_settle(bg_store *st, long long seq_id, const bg_seq_settle *s, bg_error *err)
+{
+    int own, rc = tx_begin(st, &own, err);
+    if (rc != BG_OK)
+        return rc;
+    rc = st->be->seq_settle(st->conn, seq_id, s, err);
+    return tx_end(st, own, rc, err);
+}
+
+int bg_store_seq_reading(bg_store *st, long long seq_id, const bg_seq_reading *r, bg_error *err)
+{
+    int own, rc;
+    if ((rc = check_text("meter reply", r->meter_reply, sizeof r->meter_reply, 1, err)) !=
+        BG_OK ||
+        (rc = check_text("reference reply", r->ref_reply, sizeof r->ref_reply, 1, err)) !=
+        BG_OK)
+        return rc;
+    if (!isfinite(r->r_ohm) || !isfinite(r->ref_raw))
+        return bg_error_set(err, BG_EINVAL, "a reading must be a finite number");
+    if ((rc = tx_begin(st, &own, err)) != BG_OK)
+        return rc;
+    rc = st->be->seq_reading(st->conn, seq_id, r, err);
+    return tx_end(st, own, rc, err);
+}
+
+int bg_store_seq_readings(bg_store *st, long long seq_id, bg_seq_reading_cb cb, void *ctx,
+                          bg_error *err)
+{
+    return st->be->seq_readings(st->conn, seq_id, cb, ctx, err);
+}
+
+int bg_store_seq_settles(bg_store *st, long long seq_id, bg_seq_settle_cb cb, void *ctx,
+                         bg_error *err)
+{
+    return st->be->seq_settles(st->conn, seq_id, cb, ctx, err);
+}
+
+int bg_store_seq_end(bg_store *st, long long seq_id, long long first_run, long long last_run,
+                     bg_error *err)
+{
+    char now[BG_TIME];
+    int own, rc = tx_begin(st, &own, err);
+    if (rc != BG_OK)
+        return rc;
+    rc = st->be->seq_end(st->conn, seq_id, bg_store_time(st, now, sizeof now), first_run,
+                         last_run, err);
+    return tx_end(st, own, rc, err);
+}

@@ -13,6 +13,7 @@
 #include <nettle/sha2.h>
 
 #include "bandgap/store.h"
+#include "bandgap/bench.h"
 
 /* A backend's connection: each backend defines 'struct bgi_conn' in its own files (the
 ** definitions never meet in one translation unit). */
@@ -67,7 +68,7 @@ enum bgi_name_kind { BGI_NAME_PROBE, BGI_NAME_LOT, BGI_NAME_REF, BGI_NAME_PART }
 /* Called with each name; nonzero stops the walk. */
 typedef int (*bgi_name_cb)(const char *name, void *ctx);
 
-#define BGI_STORE_BACKEND_VERSION 7
+#define BGI_STORE_BACKEND_VERSION 8
 /* The busy timeout (ms) rides in the backend open's 'flags' above the public flags. */
 #define BGI_OPEN_BUSY_SHIFT 8
 
@@ -202,7 +203,7 @@ struct bgi_store_backend {
     int (*lot_version_each)(bgi_conn *c, long long lot_id, bg_lot_version_cb cb, void *ctx,
                             bg_error *err);
 
-    /* (after version 7) a probe moved to another lot: add a version of probe 'probe_id'
+    /* (version 8) a probe moved to another lot: add a version of probe 'probe_id'
     ** ('pv->probe.lot_id' is the new lot, 'pv->v.valid_from' set; inside the write
     ** transaction), and each version in id order, the row itself first (id 0: the lot it
     ** was added to, valid from its creation), with the lots' ids and codes.  From this
@@ -217,6 +218,22 @@ struct bgi_store_backend {
                              const char *now, long long *id, bg_error *err);
     int (*probe_version_each)(bgi_conn *c, long long probe_id, bg_probe_version_cb cb,
                               void *ctx, bg_error *err);
+    /* (version 8) calibration sequences
+    ** (schema db/010-sequence.sql, include/bandgap/bench.h).  Add a sequence ('h' without
+    ** id), the newest without an end (found 0: none), a settling record, a reading (a
+    ** duplicate of setpoint, probe and number is BG_EINVAL), each of a sequence's readings in
+    ** setpoint, probe, number order and its settling records in id order, and its end. */
+    int (*seq_add)(bgi_conn *c, const bg_seq_head *h, const char *text, long long ref_id,
+                   long long *id, bg_error *err);
+    int (*seq_unfinished)(bgi_conn *c, bg_seq_head *out, int *found, bg_error *err);
+    int (*seq_settle)(bgi_conn *c, long long seq_id, const bg_seq_settle *s, bg_error *err);
+    int (*seq_reading)(bgi_conn *c, long long seq_id, const bg_seq_reading *r, bg_error *err);
+    int (*seq_readings)(bgi_conn *c, long long seq_id, bg_seq_reading_cb cb, void *ctx,
+                        bg_error *err);
+    int (*seq_settles)(bgi_conn *c, long long seq_id, bg_seq_settle_cb cb, void *ctx,
+                       bg_error *err);
+    int (*seq_end)(bgi_conn *c, long long seq_id, const char *now, long long first_run,
+                   long long last_run, bg_error *err);
 };
 
 /* The backends (sqlite.c, ...); store.c lists them by scheme. */
