@@ -269,6 +269,7 @@ test: deps
 # ---- demo and benchmarks --------------------------------------------------------------------
 demo: all
 	$(BUILD)/bandgap demo --dir demo-out
+	sh tests/instruments/demo.sh $(BUILD)/bandgap demo-out $(PYTHON)
 
 bench: all
 	@sh tests/bench/run.sh $(BUILD) $(PYTHON) $(CC) "$(CFLAGS_ALL)" "$(PKG_LIBS)"
