@@ -409,6 +409,28 @@ def checks():
     check("table: budget equals lut --format json",
           numbers(table_html, "budget", "rss") == [b["rss_k"] for b in tj["budget"]] and
           numbers(table_html, "budget", "sum") == [b["sum_k"] for b in tj["budget"]])
+    text = open(table_html, encoding="utf-8").read()
+    check("table: a host table shows no target cost and says why",
+          numbers(table_html, "target", "flash") == [] and tj["target"]["name"] == "host" and
+          re.search(r'id="target">host: portable C99; no cost shown', text) is not None)
+    # the same table emitted for each target: the cost the report shows is lut --format json's
+    for tg in ("avr", "cortex-m0", "cortex-m4"):
+        th, tjp = os.path.join(outdir, "table-%s.html" % tg), os.path.join(outdir, "table-%s.json" % tg)
+        subprocess.run([bandgap, "--db", db, "lut", "--probe", "GH-0417", "--fixed", "10k",
+                        "--adc-bits", "12", "--range", "-15C:55C", "--max-error", "0.05C",
+                        "--target", tg, "--report", th, "--format", "json", "-o", tjp],
+                       check=True, capture_output=True)
+        tt = json.load(open(tjp))["target"]
+        shown = [numbers(th, "target", c) for c in ("flash", "tablebytes", "codebytes", "percall")]
+        want = [[tt["flash_bytes"]], [tt["flash_bytes"] - tt["code_bytes"]], [tt["code_bytes"]],
+                [tt["per_conversion"]]]
+        body = open(th, encoding="utf-8").read()
+        m = re.search(r'<span class="unit">([^<]*)</span>.*?<span class="toolchain">([^<]*)</span>',
+                      body)
+        check("table for %s: flash, code bytes, %s per conversion and toolchain equal lut "
+              "--format json" % (tg, tt.get("per_conversion_unit")),
+              shown == want and m is not None and m.group(1) == tt["per_conversion_unit"] and
+              m.group(2) == tt["measured_with"], "%s %s %s" % (shown, want, m and m.groups()))
 
 
 

@@ -263,41 +263,52 @@ static void emit_uniform(const bg_lut *t, const bg_lut_spec *s, const char *sym,
     fprintf(f, "    return y0 + q;\n}\n");
 }
 
-/* The lookup's body, 32-bit arithmetic (any target). */
-static void segment_body(const bg_lut *t, const char *sym, const char *up, FILE *f)
+/* The lookup's body, 32-bit arithmetic (any target).  Indexed: one unsigned comparison for
+** the range, and a pointer that walks the start codes (no index arithmetic repeated); on
+** the Cortex-M0 that saves 7 of 42 instructions per conversion. */
+static void segment_body(const bg_lut *t, const char *sym, const char *up, const char *xt,
+                         FILE *f)
 {
     int flt = t->format == BG_LUT_FLOAT;
-    if (t->strategy == BG_LUT_MINIMAL)
+    const char *at = "&%s_start[i]";
+    if (t->strategy == BG_LUT_MINIMAL) {
         fprintf(f, "    uint32_t i = 0u, hi = %s_SEGMENTS - 1u, mid;\n", up);
-    else
-        fprintf(f, "    uint32_t i;\n");
-    fprintf(f, flt ? "    float w, p;\n" : "    int32_t v;\n");
-    fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_CODE_BELOW_RANGE;\n", up, up);
-    fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_CODE_ABOVE_RANGE;\n", up, up);
-    if (t->strategy == BG_LUT_MINIMAL)
+        fprintf(f, flt ? "    float w, p;\n" : "    int32_t v;\n");
+        fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_CODE_BELOW_RANGE;\n",
+                up, up);
+        fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_CODE_ABOVE_RANGE;\n",
+                up, up);
         fprintf(f, "    while (i < hi) { /* the last segment starting at or below code */\n"
                    "        mid = (i + hi + 1u) >> 1;\n"
                    "        if ((uint32_t)%s_READ_CODE(&%s_start[mid]) <= code)\n"
                    "            i = mid;\n        else\n            hi = mid - 1u;\n    }\n",
                 up, sym);
-    else
-    {
-        fprintf(f, "    i = (uint32_t)%s_READ_INDEX(&%s_index[(code - (uint32_t)%s_CODE_LO) >> "
-                   "%s_INDEX_SHIFT]);\n", up, sym, up, up);
+    } else {
+        at = "s";
+        fprintf(f, "    const %s *s;\n    uint32_t i;\n", xt);
+        fprintf(f, flt ? "    float w, p;\n" : "    int32_t v;\n");
+        fprintf(f, "    if (code - (uint32_t)%s_CODE_LO > (uint32_t)(%s_CODE_HI - %s_CODE_LO))\n"
+                   "        return code < (uint32_t)%s_CODE_LO ? %s_CODE_BELOW_RANGE : "
+                   "%s_CODE_ABOVE_RANGE;\n", up, up, up, up, up, up);
+        fprintf(f, "    /* the start of the bucket's first segment, then of the code's */\n"
+                   "    s = &%s_start[%s_READ_INDEX(&%s_index[(code - (uint32_t)%s_CODE_LO) >> "
+                   "%s_INDEX_SHIFT])];\n", sym, up, sym, up, up);
         for (unsigned k = 0; k < t->icmp; k++)
-            fprintf(f, "    if (code >= (uint32_t)%s_READ_CODE(&%s_start[i + 1u]))\n        i++;\n",
-                    up, sym);
+            fprintf(f, "    if (code >= (uint32_t)%s_READ_CODE(&s[1]))\n        s++;\n", up);
+        fprintf(f, "    i = (uint32_t)(s - %s_start);\n", sym);
     }
+    char start[64];
+    snprintf(start, sizeof start, at, sym);
     if (flt)
-        fprintf(f, "    w = (float)(code - (uint32_t)%s_READ_CODE(&%s_start[i]));\n"
+        fprintf(f, "    w = (float)(code - (uint32_t)%s_READ_CODE(%s));\n"
                    "    p = %s_READ_F32(&%s_slope[i]) * w;\n"
-                   "    return %s_READ_F32(&%s_base[i]) + p;\n}\n", up, sym, up, sym, up, sym);
+                   "    return %s_READ_F32(&%s_base[i]) + p;\n}\n", up, start, up, sym, up, sym);
     else
         fprintf(f, "    /* in 0 .. 2^30 by construction: shift a non-negative value */\n"
                    "    v = %s_READ_S32(&%s_base[i]) + (int32_t)%s_READ_S%s(&%s_slope[i]) *\n"
-                   "        (int32_t)(code - (uint32_t)%s_READ_CODE(&%s_start[i]));\n"
+                   "        (int32_t)(code - (uint32_t)%s_READ_CODE(%s));\n"
                    "    return %s_VALUE_OFFSET + (int32_t)((uint32_t)v >> %s_FRAC);\n}\n",
-                up, sym, up, t->narrow ? "16" : "32", sym, up, sym, up, up);
+                up, sym, up, t->narrow ? "16" : "32", sym, up, start, up, up);
 }
 
 /* The lookup's body for the AVR (16-bit int): the code in 16 bits once it is inside the
@@ -314,26 +325,49 @@ static void segment_body_avr(const bg_lut *t, const char *sym, const char *up, F
     fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_CODE_BELOW_RANGE;\n", up, up);
     fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_CODE_ABOVE_RANGE;\n", up, up);
     fprintf(f, "    c = (uint16_t)code;\n");
-    if (t->strategy == BG_LUT_MINIMAL)
+    if (t->strategy == BG_LUT_MINIMAL && t->n <= 128)
+        /* i + hi + 1 < 2^8: the midpoint in 8 bits (10 bytes and 22 cycles fewer) */
+        fprintf(f, "    while (i < hi) { /* the last segment starting at or below code */\n"
+                   "        mid = (uint8_t)((uint8_t)((unsigned)i + (unsigned)hi + 1u) >> 1);\n"
+                   "        if (%s_READ_CODE(&%s_start[mid]) <= c)\n"
+                   "            i = mid;\n        else\n            hi = (uint8_t)(mid - 1u);\n    }\n",
+                up, sym);
+    else if (t->strategy == BG_LUT_MINIMAL)
         fprintf(f, "    while (i < hi) { /* the last segment starting at or below code */\n"
                    "        mid = (%s)(((unsigned)i + (unsigned)hi + 1u) >> 1);\n"
                    "        if (%s_READ_CODE(&%s_start[mid]) <= c)\n"
                    "            i = mid;\n        else\n            hi = (%s)((unsigned)mid - 1u);\n    }\n",
                 it, up, sym, it);
     else {
-        fprintf(f, "    i = (%s)%s_READ_INDEX(&%s_index[(uint16_t)(c - (uint16_t)%s_CODE_LO) >> "
-                   "%s_INDEX_SHIFT]);\n", it, up, sym, up, up);
+        if (t->ishift < 8 && t->nidx <= 256)
+            /* the bucket is the high byte of the offset shifted left: a shift by 8 costs
+            ** nothing on an 8-bit core, a right shift by INDEX_SHIFT one loop per bit
+            ** (the offset is below 2^(8 + INDEX_SHIFT), so no bit is lost) */
+            fprintf(f, "    i = (%s)%s_READ_INDEX(&%s_index[(uint8_t)((uint16_t)((uint16_t)"
+                       "(c - (uint16_t)%s_CODE_LO) << (8 - %s_INDEX_SHIFT)) >> 8)]);\n", it, up,
+                    sym, up, up);
+        else
+            fprintf(f, "    i = (%s)%s_READ_INDEX(&%s_index[(uint16_t)(c - (uint16_t)%s_CODE_LO) >> "
+                       "%s_INDEX_SHIFT]);\n", it, up, sym, up, up);
         for (unsigned k = 0; k < t->icmp; k++)
             fprintf(f, "    if (c >= %s_READ_CODE(&%s_start[i + 1u]))\n        i++;\n", up, sym);
     }
+    /* indexed: the product first, the start value then added to the multiply's result
+    ** registers (avr-gcc 5.4 -Os saves no registers for it: 5 cycles fewer); minimal: the
+    ** start value first (6 bytes and 5 cycles fewer there) */
+    char base[192];
+    snprintf(base, sizeof base, "(uint32_t)%s_READ_S32(&%s_base[i])%s", up, sym,
+             t->strategy == BG_LUT_MINIMAL ? " + " : "");
     fprintf(f, "    /* in 0 .. 2^30 by construction: the sum is taken modulo 2^32 */\n"
-               "    v = (uint32_t)%s_READ_S32(&%s_base[i]) + (uint32_t)(", up, sym);
+               "    v = %s(uint32_t)(", t->strategy == BG_LUT_MINIMAL ? base : "");
     if (t->narrow)
         fprintf(f, "(int32_t)%s_READ_S16(&%s_slope[i]) *\n"
                    "        (int32_t)(uint16_t)(c - %s_READ_CODE(&%s_start[i])));\n", up, sym, up, sym);
     else
         fprintf(f, "%s_READ_S32(&%s_slope[i]) *\n"
                    "        (int32_t)(uint16_t)(c - %s_READ_CODE(&%s_start[i])));\n", up, sym, up, sym);
+    if (t->strategy != BG_LUT_MINIMAL)
+        fprintf(f, "    v += %s;\n", base);
     /* every value in 16 bits: the offset and the shifted sum added in 16 bits */
     long long top = 0;
     for (size_t i = 0; i < t->n; i++) {
@@ -406,7 +440,7 @@ static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym
     if (s->target == BG_LUT_AVR && !flt && !wide_x)
         segment_body_avr(t, sym, up, f);
     else
-        segment_body(t, sym, up, f);
+        segment_body(t, sym, up, xt, f);
 }
 
 int bg_lut_emit_c(const bg_lut *t, const bg_lut_spec *s, const char *sym, const char *version,

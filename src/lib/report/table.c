@@ -10,6 +10,40 @@
 #include "report/html_int.h"
 #include "report/report_int.h"
 
+/* The core the C is written for and what the table costs there: flash bytes (table and
+** lookup code), cycles or instructions per conversion, and the toolchain and simulator that
+** measured them (bg_lut_cost_on, the same figures as lut's summary and JSON). */
+static void target_row(FILE *f, const bg_lut_result *r)
+{
+    bg_lut_target_cost c;
+    const char *tn = bg_lut_target_name(r->spec.target);
+    fputs("<tr><th>Target</th><td id=\"target\">", f);
+    if (r->spec.target == BG_LUT_HOST) {
+        fprintf(f, "%s: portable C99; no cost shown, the host's compiler is not known "
+                   "(--target avr, cortex-m0 or cortex-m4 for figures measured there)</td></tr>\n",
+                tn);
+        return;
+    }
+    if (bg_lut_cost_on(&r->table, r->spec.target, &c, NULL) != BG_OK || c.per_call <= 0) {
+        fprintf(f, "%s: %zu bytes of table; its code and time there were not measured</td></tr>"
+                   "\n", tn, r->table.bytes);
+        return;
+    }
+    fprintf(f, "%s: ", tn);
+    bgi_html_num(f, "span", "flash", "%.0f", (double)c.flash_bytes);
+    fputs(" bytes of flash (table ", f);
+    bgi_html_num(f, "span", "tablebytes", "%.0f", (double)c.table_bytes);
+    fputs(", lookup code ", f);
+    bgi_html_num(f, "span", "codebytes", "%.0f", (double)c.code_bytes);
+    fputs("), about ", f);
+    bgi_html_num(f, "span", "percall", "%.0f", c.per_call);
+    fprintf(f, " <span class=\"unit\">%s</span> per conversion%s; measured on a reference table "
+               "by make bench-firmware with <span class=\"toolchain\">", c.unit,
+            r->table.strategy == BG_LUT_MINIMAL ? " (scaled by its search steps)" : "");
+    bgi_html_esc(f, c.measured);
+    fputs("</span></td></tr>\n", f);
+}
+
 static void table_head(FILE *f, const bg_lut_result *r, const bg_report_head *h)
 {
     const bg_lut *t = &r->table;
@@ -44,7 +78,9 @@ static void table_head(FILE *f, const bg_lut_result *r, const bg_report_head *h)
     bgi_html_num(f, "span", "maxerr", "%.4f", t->max_err_k);
     fputs(" K, RMS ", f);
     bgi_html_num(f, "span", "rmserr", "%.4f", t->rms_err_k);
-    fputs(" K over every code (table and output rounding)</td></tr>\n</table>\n", f);
+    fputs(" K over every code (table and output rounding)</td></tr>\n", f);
+    target_row(f, r);
+    fputs("</table>\n", f);
 }
 
 /* A term of the budget: its value, or "not given" when its inputs were not given. */
