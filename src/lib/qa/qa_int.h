@@ -27,9 +27,10 @@ int bgi_qa_lot_versions_load(bg_store *st, const char *code, struct bgi_lot_vers
 const bg_lot *bgi_qa_lot_version_at(const struct bgi_lot_versions *v, const char *when);
 void bgi_qa_lot_versions_free(struct bgi_lot_versions *v);
 
-/* bg_qa_part_charts with the statistics of one lot computed already ('have', by the same
-** options; NULL: none): that lot is charted from them, not computed a second time. */
+/* bg_qa_part_charts with one lot's summary made already ('have': its statistics by the same
+** options and its histories since the same 'since'; NULL: none): that lot is charted from
+** it, not read and computed a second time. */
 int bgi_qa_part_charts_with(bg_store *st, const char *part, const bg_qa_opts *o,
-                            const bg_qa_lot *have, bg_qa_part *out, bg_error *err);
+                            const bg_qa_lot_summary *have, bg_qa_part *out, bg_error *err);
 
 #endif
