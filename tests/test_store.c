@@ -1810,6 +1810,77 @@ static void probe_move_counts_runs_by_their_start(void **state)
     bg_store_close(st);
 }
 
+
+/* A lot-wide read takes the plain probe.lot_id path only for a lot no move concerns
+** (sqlite_fit.c, bgi_sqlite_lot_moved); a lot whose probe moved out before any run, and the lot
+** it moved to, still get the move-aware answer.  P1 of lot A moves to B from 2027-02-01 and is
+** calibrated on 2027-06-10: that run counts toward B only, and P1 is no probe of A any more
+** (the plain lot_id would list it in A with that run); P3 of lot D, untouched, is read the
+** plain way with its run. */
+static int lot_points_seen(const char *serial, long long probe, long long run,
+                           bg_store_points *sp, void *ctx)
+{
+    struct hist_count *h = ctx;
+    (void)probe, (void)sp;
+    if (strcmp(serial, h->serial) == 0)
+        h->seen = 1, h->run = run;
+    return 0;
+}
+
+static int history_seen(const char *serial, const bg_fit_row *fits, char (*when)[BG_TIME],
+                        size_t n, void *ctx)
+{
+    struct hist_count *h = ctx;
+    (void)when;
+    if (strcmp(serial, h->serial) == 0)
+        h->seen = 1, h->n = n, h->run = n ? fits[n - 1].run_id : 0;
+    return 0;
+}
+
+static void lot_reads_plain_only_without_moves(void **state)
+{
+    (void)state;
+    bg_store *st = NULL;
+    bg_probe_version pv;
+    bg_probe_move_result res;
+    unlink(path_of("moved-out.db"));
+    assert_int_equal(bg_store_open(path_of("moved-out.db"), BG_STORE_CREATE, &st, NULL), BG_OK);
+    bg_store_set_clock(st, 1796083200); /* 2026-12-01T00:00:00Z */
+    add_lot(st, "A", "NTC", 0.01);
+    add_lot(st, "B", "NTC", 0.02);
+    add_lot(st, "D", "NTC", 0.01);
+    assert_int_equal(bg_store_probe_add(st, "P1", "A", NULL, NULL, NULL), BG_OK);
+    assert_int_equal(bg_store_probe_add(st, "P3", "D", NULL, NULL, NULL), BG_OK);
+    bg_store_set_clock(st, 1803859200); /* 2027-03-01T00:00:00Z */
+    move_of(&pv, "P1", "B", "2027-02-01T00:00:00Z");
+    assert_int_equal(bg_store_probe_move(st, &pv, &res, NULL), BG_OK);
+    long long r1 = add_run(st, "P1", "2027-06-10T08:00:00Z", 1.0, "sh3");
+    long long r3 = add_run(st, "P3", "2027-06-10T08:00:00Z", 1.0, "sh3");
+
+    for (int k = 0; k < 3; k++) { /* lots A, B, D */
+        const char *code = k == 0 ? "A" : k == 1 ? "B" : "D", *serial = k == 2 ? "P3" : "P1";
+        int want = k != 0;
+        long long run = k == 2 ? r3 : r1;
+        struct hist_count h = { serial, 0, 0, 0 };
+        assert_int_equal(bg_store_lot_latest_fits(st, code, NULL, latest_of, &h, NULL), BG_OK);
+        assert_int_equal(h.seen, want);
+        assert_true(!want || h.run == run);
+        memset(&h, 0, sizeof h), h.serial = serial;
+        assert_int_equal(bg_store_lot_histories(st, code, NULL, count_hist, &h, NULL), BG_OK);
+        assert_int_equal(h.seen, want);
+        assert_true(!want || (h.n == 1 && h.run == run));
+        memset(&h, 0, sizeof h), h.serial = serial;
+        assert_int_equal(bg_store_lot_history(st, code, NULL, history_seen, &h, NULL), BG_OK);
+        assert_int_equal(h.seen, want);
+        assert_true(!want || (h.n == 1 && h.run == run));
+        memset(&h, 0, sizeof h), h.serial = serial;
+        assert_int_equal(bg_store_lot_points_each(st, code, lot_points_seen, &h, NULL), BG_OK);
+        assert_int_equal(h.seen, want);
+        assert_true(!want || h.run == run);
+    }
+    bg_store_close(st);
+}
+
 /* The lot report's drift verdicts use the lot tolerance in force at each calibration: lot A's
 ** R25 tolerance corrected from 1 % to 0.1 % from 2027-04-01 (after now, 2027-03-01): the
 ** comparison of P2's calibrations (the later one on 2027-06-10) is judged against 0.1 %
@@ -1907,6 +1978,7 @@ int main(void)
         cmocka_unit_test(drift_verdict_uses_lot_version),
         cmocka_unit_test(lot_stats_use_lot_version),
         cmocka_unit_test(probe_move_counts_runs_by_their_start),
+        cmocka_unit_test(lot_reads_plain_only_without_moves),
         cmocka_unit_test(lot_report_drift_uses_lot_version),
         cmocka_unit_test(unreadable_fit_row_is_named),
     };

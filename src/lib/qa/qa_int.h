@@ -1,5 +1,5 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
-/* Internal: what the QA files share (qa_probe.c, qa_summary.c). */
+/* Internal: what the QA files share (qa_probe.c, qa_summary.c, qa_part.c). */
 #ifndef BANDGAP_QA_INT_H
 #define BANDGAP_QA_INT_H
 
@@ -26,5 +26,11 @@ int bgi_qa_lot_versions_load(bg_store *st, const char *code, struct bgi_lot_vers
 /* The version in force at 'when' (the first when 'when' is no time); NULL when none loaded. */
 const bg_lot *bgi_qa_lot_version_at(const struct bgi_lot_versions *v, const char *when);
 void bgi_qa_lot_versions_free(struct bgi_lot_versions *v);
+
+/* bg_qa_part_charts with one lot's summary made already ('have': its statistics by the same
+** options and its histories since the same 'since'; NULL: none): that lot is charted from
+** it, not read and computed a second time. */
+int bgi_qa_part_charts_with(bg_store *st, const char *part, const bg_qa_opts *o,
+                            const bg_qa_lot_summary *have, bg_qa_part *out, bg_error *err);
 
 #endif

@@ -7,7 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "bandgap/qa.h"
+#include "qa_int.h"
 
 /* The codes of the part's lots, oldest first. */
 struct codes {
@@ -88,16 +88,45 @@ static int push_skip(bg_qa_part *p, const char *code, const char *why, bg_error 
     return BG_OK;
 }
 
-/* Lot 'code' onto the charts, or into the skipped list when it cannot be charted. */
-static int add_lot(bg_store *st, const char *code, const bg_qa_opts *o, bg_qa_part *p,
-                   bg_error *err)
+static int by_probe_id(const void *a, const void *b)
 {
-    bg_qa_lot l = BG_QA_LOT_INIT;
+    long long x = (*(const bg_qa_probe *const *)a)->fits[0].probe_id;
+    long long y = (*(const bg_qa_probe *const *)b)->fits[0].probe_id;
+    return (x > y) - (x < y);
+}
+
+/* The as-found values of a lot from the histories of its summary (the same calibrations as
+** bg_store_lot_history gives, by the same 'since'), taken in probe id order as that read gives
+** them, so the sums are made in the same order. */
+static int asf_of_summary(const bg_qa_lot_summary *s, struct asf *a)
+{
+    size_t k = 0;
+    const bg_qa_probe **ps = malloc((s->nprobes + 1) * sizeof *ps);
+    if (!ps)
+        return a->oom = 1;
+    for (size_t i = 0; i < s->nprobes; i++)
+        if (s->probes[i].n >= 2)
+            ps[k++] = &s->probes[i];
+    qsort(ps, k, sizeof *ps, by_probe_id);
+    for (size_t i = 0; i < k && !a->oom; i++)
+        asf_cb(ps[i]->serial, ps[i]->fits, ps[i]->started_at, ps[i]->n, a);
+    free(ps);
+    return a->oom;
+}
+
+/* Lot 'code' onto the charts, or into the skipped list when it cannot be charted; its
+** statistics and histories from 'have' when it is this lot's summary, else read here. */
+static int add_lot(bg_store *st, const char *code, const bg_qa_opts *o,
+                   const bg_qa_lot_summary *have, bg_qa_part *p, bg_error *err)
+{
+    bg_qa_lot own = BG_QA_LOT_INIT;
     bg_error e2 = BG_ERROR_INIT;
     struct asf a = { NULL, 0, 0, 0 };
-    int rc = bg_qa_lot_stats(st, code, o, &l, &e2);
-    if (rc == BG_EINVAL || (rc == BG_OK && l.n < 2)) {
-        bg_qa_lot_release(&l);
+    int mine = !(have && strcmp(have->stats.lot.code, code) == 0);
+    const bg_qa_lot *lp = mine ? &own : &have->stats;
+    int rc = mine ? bg_qa_lot_stats(st, code, o, &own, &e2) : BG_OK;
+    if (rc == BG_EINVAL || (rc == BG_OK && lp->n < 2)) {
+        bg_qa_lot_release(&own);
         return push_skip(p, code, e2.msg[0] ? e2.msg : "fewer than 2 fitted probes", err);
     }
     if (rc != BG_OK) {
@@ -105,7 +134,9 @@ static int add_lot(bg_store *st, const char *code, const bg_qa_opts *o, bg_qa_pa
             *err = e2;
         goto done;
     }
-    if ((rc = bg_store_lot_history(st, code, o->since, asf_cb, &a, err)) != BG_OK)
+    if (!mine)
+        asf_of_summary(have, &a);
+    else if ((rc = bg_store_lot_history(st, code, o->since, asf_cb, &a, err)) != BG_OK)
         goto done;
     if (a.oom) {
         rc = bg_error_set(err, BG_ENOMEM, "out of memory reading the history of lot '%s'", code);
@@ -125,15 +156,15 @@ static int add_lot(bg_store *st, const char *code, const bg_qa_opts *o, bg_qa_pa
     bg_stats sa;
     memset(pl, 0, sizeof *pl);
     snprintf(pl->code, BG_TEXT, "%s", code);
-    pl->n = l.n;
-    pl->r25_mean_pct = l.r25_dev.mean, pl->r25_sd_pct = l.r25_dev.sd;
-    pl->b_mean_k = l.b.mean, pl->b_sd_k = l.b.sd;
+    pl->n = lp->n;
+    pl->r25_mean_pct = lp->r25_dev.mean, pl->r25_sd_pct = lp->r25_dev.sd;
+    pl->b_mean_k = lp->b.mean, pl->b_sd_k = lp->b.sd;
     bg_stats_of(a.v, a.n, &sa);
     pl->nasfound = a.n, pl->asfound_mean_mk = sa.mean, pl->asfound_sd_mk = sa.sd;
-    pl->nb_extrap = l.nb_extrap;
+    pl->nb_extrap = lp->nb_extrap;
 done:
     free(a.v);
-    bg_qa_lot_release(&l);
+    bg_qa_lot_release(&own);
     return rc;
 }
 
@@ -234,6 +265,12 @@ static int baseline(bg_store *st, const char *part, const bg_qa_opts *o, bg_qa_p
 int bg_qa_part_charts(bg_store *st, const char *part, const bg_qa_opts *o, bg_qa_part *out,
                       bg_error *err)
 {
+    return bgi_qa_part_charts_with(st, part, o, NULL, out, err);
+}
+
+int bgi_qa_part_charts_with(bg_store *st, const char *part, const bg_qa_opts *o,
+                            const bg_qa_lot_summary *have, bg_qa_part *out, bg_error *err)
+{
     struct codes c = { NULL, 0, 0, 0 };
     int rc;
 
@@ -246,7 +283,7 @@ int bg_qa_part_charts(bg_store *st, const char *part, const bg_qa_opts *o, bg_qa
         goto done;
     }
     for (size_t i = 0; i < c.n; i++)
-        if ((rc = add_lot(st, c.code[i], o, out, err)) != BG_OK)
+        if ((rc = add_lot(st, c.code[i], o, have, out, err)) != BG_OK)
             goto done;
     if (out->nlots < 2) {
         rc = bg_error_set(err, BG_EINVAL, "part '%s': control charts need at least 2 lots "

@@ -106,7 +106,9 @@ int bg_qa_lot_summarize(bg_store *st, const char *code, const bg_qa_opts *qo,
     if ((rc = probes(st, code, &o, out, err)) != BG_OK)
         return rc;
     out->part_err = (bg_error)BG_ERROR_INIT;
-    out->part_rc = bg_qa_part_charts(st, out->stats.lot.part, &o, &out->part, &out->part_err);
+    /* this lot's statistics and histories were read above with the same options: not again */
+    out->part_rc = bgi_qa_part_charts_with(st, out->stats.lot.part, &o, out, &out->part,
+                                           &out->part_err);
     if (out->part_rc == BG_OK)
         out->flagged |= out->part.flagged;
     else if (out->part_rc != BG_EINVAL) {

@@ -313,6 +313,31 @@ int bgi_sqlite_fit_readings(bgi_conn *c, long long fit_id, long long *ids, size_
     return rc;
 }
 
+/* A lot-wide query written once over the lot's relation (sqlite_int.h): AT(r, p) the lot a run
+** counts toward, WAS(p, lot) / OF(p, lot) the candidate probes; the move-aware set
+** (BGI_LOT_AT_RUN ...) or the plain one (BGI_PLAIN_...) when no move concerns the lot. */
+#define LOT_POINTS_SQL(AT, OF) "SELECT p.id, p.serial, coalesce((SELECT r.id FROM run r WHERE " \
+    "r.probe_id = p.id AND " AT("r", "p") " = ?1 ORDER BY r.started_at DESC, r.id DESC " \
+    "LIMIT 1), 0) FROM probe p WHERE " OF("p", "?1") " ORDER BY p.id"
+
+int bgi_sqlite_lot_moved(bgi_conn *c, long long lot_id, int *moved, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_stmt(c, STMT_LOT_MOVED, "SELECT EXISTS (SELECT 1 FROM probe_version pv "
+                      "WHERE pv.lot_id = ?1) OR EXISTS (SELECT 1 FROM probe_version pv JOIN "
+                      "probe p ON p.id = pv.probe_id WHERE p.lot_id = ?1)", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    sqlite3_bind_int64(q, 1, lot_id);
+    *moved = 1; /* the move-aware reading unless the question is answered */
+    if (sqlite3_step(q) == SQLITE_ROW)
+        *moved = sqlite3_column_int(q, 0) != 0;
+    else
+        rc = bgi_db_fail(c, err, "cannot read the lot's probe moves");
+    bgi_stmt_done(c, STMT_LOT_MOVED, q);
+    return rc;
+}
+
 int bgi_sqlite_lot_points_each(bgi_conn *c, const bg_lot *lot, bg_lot_points_cb cb, void *ctx,
                                bg_error *err)
 {
@@ -328,10 +353,11 @@ int bgi_sqlite_lot_points_each(bgi_conn *c, const bg_lot *lot, bg_lot_points_cb 
         return bgi_db_fail(c, err, "cannot start a read transaction");
     /* First the lot's probes with their newest runs, in the order the probes were added;
     ** then each run's points by the range of its reading ids. */
-    rc = bgi_prepare(c, "SELECT p.id, p.serial, coalesce((SELECT r.id FROM run r WHERE "
-                     "r.probe_id = p.id AND " BGI_LOT_AT_RUN("r", "p") " = ?1 ORDER BY "
-                     "r.started_at DESC, r.id DESC LIMIT 1), 0) FROM probe p WHERE "
-                     BGI_PROBE_OF("p", "?1") " ORDER BY p.id", &q, err);
+    int moved = 1;
+    if ((rc = bgi_sqlite_lot_moved(c, lot->id, &moved, err)) != BG_OK)
+        goto end;
+    rc = bgi_prepare(c, moved ? LOT_POINTS_SQL(BGI_LOT_AT_RUN, BGI_PROBE_OF) :
+                     LOT_POINTS_SQL(BGI_PLAIN_AT_RUN, BGI_PLAIN_OF), &q, err);
     if (rc != BG_OK)
         goto end;
     sqlite3_bind_int64(q, 1, lot->id);
@@ -404,6 +430,12 @@ int bgi_sqlite_probe_history(bgi_conn *c, long long pid, const char *since,
     return rc;
 }
 
+#define LOT_LATEST_SQL(AT, OF) "SELECT p.serial, " FIT_COLS " FROM probe p LEFT JOIN fit f " \
+    "ON f.id = (SELECT max(f2.id) FROM fit f2 WHERE f2.run_id = (SELECT r2.id FROM run r2 " \
+    "WHERE r2.probe_id = p.id AND (?2 IS NULL OR r2.started_at >= ?2) AND " AT("r2", "p") \
+    " = ?1 ORDER BY r2.started_at DESC, r2.id DESC LIMIT 1)) LEFT JOIN run r ON r.id = " \
+    "f.run_id WHERE " OF("p", "?1") " ORDER BY p.id"
+
 int bgi_sqlite_lot_latest_fits(bgi_conn *c, long long lot_id, const char *since,
                                bg_latest_cb cb, void *ctx, bg_error *err)
 {
@@ -415,12 +447,12 @@ int bgi_sqlite_lot_latest_fits(bgi_conn *c, long long lot_id, const char *since,
     /* the current fit: the newest fit of the latest run (of those since 'since'), read in the
     ** same query (the run_probe_time and fit_run indexes find both); the serial in column 0,
     ** the fit (FIT_COLS, NULL when none) from column 1 */
-    rc = bgi_stmt(c, STMT_LOT_LATEST, "SELECT p.serial, " FIT_COLS " FROM probe p LEFT JOIN "
-                  "fit f ON f.id = (SELECT max(f2.id) FROM fit f2 WHERE f2.run_id = (SELECT "
-                  "r2.id FROM run r2 WHERE r2.probe_id = p.id AND (?2 IS NULL OR "
-                  "r2.started_at >= ?2) AND " BGI_LOT_AT_RUN("r2", "p") " = ?1 ORDER BY "
-                  "r2.started_at DESC, r2.id DESC LIMIT 1)) LEFT JOIN run r ON r.id = "
-                  "f.run_id WHERE " BGI_PROBE_OF("p", "?1") " ORDER BY p.id", &q, err);
+    int moved = 1, which;
+    if ((rc = bgi_sqlite_lot_moved(c, lot_id, &moved, err)) != BG_OK)
+        return rc;
+    which = moved ? STMT_LOT_LATEST : STMT_LOT_LATEST_PLAIN;
+    rc = bgi_stmt(c, which, moved ? LOT_LATEST_SQL(BGI_LOT_AT_RUN, BGI_PROBE_OF) :
+                  LOT_LATEST_SQL(BGI_PLAIN_AT_RUN, BGI_PLAIN_OF), &q, err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, lot_id);
@@ -435,7 +467,7 @@ int bgi_sqlite_lot_latest_fits(bgi_conn *c, long long lot_id, const char *since,
     }
     if (rc == BG_OK && s != SQLITE_ROW && s != SQLITE_DONE)
         rc = bgi_db_fail(c, err, "cannot read the lot's fits");
-    bgi_stmt_done(c, STMT_LOT_LATEST, q);
+    bgi_stmt_done(c, which, q);
     return rc;
 }
 
@@ -463,6 +495,11 @@ static int hist_buf_push(struct hist_buf *h)
     return BG_OK;
 }
 
+#define LOT_HISTORIES_SQL(AT, OF) "SELECT p.id, p.serial, r.id, r.started_at, " FIT_COLS \
+    " FROM probe p LEFT JOIN run r ON r.probe_id = p.id AND (?2 IS NULL OR r.started_at >= " \
+    "?2) AND " AT("r", "p") " = ?1 " NEWEST_FIT "WHERE " OF("p", "?1") " " \
+    "ORDER BY p.serial, r.started_at, r.id"
+
 int bgi_sqlite_lot_histories(bgi_conn *c, long long lot_id, const char *since,
                              bg_lot_histories_cb cb, void *ctx, bg_error *err)
 {
@@ -475,11 +512,12 @@ int bgi_sqlite_lot_histories(bgi_conn *c, long long lot_id, const char *since,
     /* every probe of the lot (by serial) with each of its runs since 'since' (oldest first;
     ** none: one row of NULLs) and the run's newest fit; columns: the probe's id and serial,
     ** the run's id and start, the fit (FIT_COLS) from column 4 */
-    rc = bgi_stmt(c, STMT_LOT_HISTORIES, "SELECT p.id, p.serial, r.id, r.started_at, "
-                  FIT_COLS " FROM probe p LEFT JOIN run r ON r.probe_id = p.id AND (?2 IS NULL "
-                  "OR r.started_at >= ?2) AND " BGI_LOT_AT_RUN("r", "p") " = ?1 " NEWEST_FIT
-                  "WHERE " BGI_PROBE_OF("p", "?1") " "
-                  "ORDER BY p.serial, r.started_at, r.id", &q, err);
+    int moved = 1, which;
+    if ((rc = bgi_sqlite_lot_moved(c, lot_id, &moved, err)) != BG_OK)
+        return rc;
+    which = moved ? STMT_LOT_HISTORIES : STMT_LOT_HISTORIES_PLAIN;
+    rc = bgi_stmt(c, which, moved ? LOT_HISTORIES_SQL(BGI_LOT_AT_RUN, BGI_PROBE_OF) :
+                  LOT_HISTORIES_SQL(BGI_PLAIN_AT_RUN, BGI_PLAIN_OF), &q, err);
     if (rc != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, lot_id);
@@ -512,7 +550,7 @@ int bgi_sqlite_lot_histories(bgi_conn *c, long long lot_id, const char *since,
     }
     if (rc == BG_OK && !stop && s != SQLITE_DONE)
         rc = bgi_db_fail(c, err, "cannot read the lot's history");
-    bgi_stmt_done(c, STMT_LOT_HISTORIES, q);
+    bgi_stmt_done(c, which, q);
     if (rc == BG_OK && !stop && probe)
         cb(serial, h.fits, h.when, h.n, h.unfitted, ctx);
     free(h.fits);
@@ -544,6 +582,12 @@ static int hist_row(sqlite3_stmt *q, bg_fit_row *f, bg_error *err)
     return BG_OK;
 }
 
+#define LOT_HISTORY_SQL(AT, WAS) "SELECT " HIST_COLS FIT_FROM "WHERE " WAS("p", "?1") \
+    " AND " AT("r", "p") " = ?1 AND (?2 IS NULL OR r.started_at >= ?2) " \
+    "ORDER BY p.id, r.started_at, r.id, f.id"
+#define LOT_SERIALS_SQL(WAS) "SELECT p.id, p.serial FROM probe p WHERE " WAS("p", "?1") \
+    " ORDER BY p.id"
+
 int bgi_sqlite_lot_history(bgi_conn *c, long long lot_id, const char *since,
                            bg_lot_history_cb cb, void *ctx, bg_error *err)
 {
@@ -558,12 +602,13 @@ int bgi_sqlite_lot_history(bgi_conn *c, long long lot_id, const char *since,
     /* every fit of the lot's runs, a run's fits oldest first: the newest one of a run
     ** replaces the ones before it below (cheaper than asking SQL for it per row); the
     ** serials from the lot's probes in the same order */
-    if ((rc = bgi_prepare(c, "SELECT " HIST_COLS FIT_FROM
-                          "WHERE " BGI_PROBE_WAS_IN("p", "?1") " AND " BGI_LOT_AT_RUN("r", "p")
-                          " = ?1 AND (?2 IS NULL OR r.started_at >= ?2) "
-                          "ORDER BY p.id, r.started_at, r.id, f.id", &q, err)) != BG_OK ||
-        (rc = bgi_prepare(c, "SELECT p.id, p.serial FROM probe p WHERE "
-                          BGI_PROBE_WAS_IN("p", "?1") " ORDER BY p.id", &pq, err)) != BG_OK) {
+    int moved = 1;
+    if ((rc = bgi_sqlite_lot_moved(c, lot_id, &moved, err)) != BG_OK)
+        return rc;
+    if ((rc = bgi_prepare(c, moved ? LOT_HISTORY_SQL(BGI_LOT_AT_RUN, BGI_PROBE_WAS_IN) :
+                          LOT_HISTORY_SQL(BGI_PLAIN_AT_RUN, BGI_PLAIN_WAS_IN), &q, err)) != BG_OK ||
+        (rc = bgi_prepare(c, moved ? LOT_SERIALS_SQL(BGI_PROBE_WAS_IN) :
+                          LOT_SERIALS_SQL(BGI_PLAIN_WAS_IN), &pq, err)) != BG_OK) {
         sqlite3_finalize(q);
         return rc;
     }

@@ -16,7 +16,8 @@ enum { STMT_INSERT_READING, STMT_INSERT_READINGS, STMT_RUN_POINTS, STMT_INSERT_F
        STMT_INSERT_FIT_ID, STMT_INSERT_FITS,
        /* the read paths (bgi_stmt) */
        STMT_LOT_GET, STMT_PROBE_GET, STMT_PROBE_ID, STMT_REF_GET, STMT_FIT_GET, STMT_FIT_NEWEST,
-       STMT_PROBE_RUNS, STMT_LOT_LATEST, STMT_LOT_HISTORIES, STMT_PART_SPEC,
+       STMT_PROBE_RUNS, STMT_LOT_LATEST, STMT_LOT_HISTORIES, STMT_LOT_LATEST_PLAIN,
+       STMT_LOT_HISTORIES_PLAIN, STMT_LOT_MOVED, STMT_PART_SPEC,
        STMT_PART_SPEC_NEWEST, STMT_EXPORT_RUNS, STMT_EXPORT_READINGS, STMT_EXPORT_FITS,
        /* the record chain */
        STMT_CHAIN_HEAD, STMT_CHAIN_INSERT,
@@ -145,6 +146,16 @@ int bgi_sqlite_lot_history(bgi_conn *c, long long lot_id, const char *since,
 #define BGI_PROBE_OF(p, lot) "(" BGI_PROBE_WAS_IN(p, lot) " AND (" BGI_LOT_NOW(p) " = " lot \
     " OR EXISTS (SELECT 1 FROM run rr WHERE rr.probe_id = " p ".id AND " \
     BGI_LOT_AT_RUN("rr", p) " = " lot ")))"
+/* The same three over a lot that no move concerns (bgi_sqlite_lot_moved says 0): no probe of
+** it has a version, and no version names it, so every run of a probe of its row counts toward
+** it and no other run does; the plain probe.lot_id gives the same rows by the probe_lot index,
+** without a subquery per row.  A lot-wide read picks one set per command. */
+#define BGI_PLAIN_AT_RUN(r, p) p ".lot_id"
+#define BGI_PLAIN_WAS_IN(p, lot) "(" p ".lot_id = " lot ")"
+#define BGI_PLAIN_OF(p, lot) BGI_PLAIN_WAS_IN(p, lot)
+/* Whether a move concerns lot 'lot_id': a probe version names it, or a probe whose row is in
+** it has a version.  *moved: 1 or 0. */
+int bgi_sqlite_lot_moved(bgi_conn *c, long long lot_id, int *moved, bg_error *err);
 /* Register bgi_time(TEXT) on connection 'db': an ISO 8601 time as seconds since the epoch
 ** (bg_time_parse, so SQL compares times as the library does), NULL when it is not one. */
 int bgi_sqlite_time_function(sqlite3 *db);
