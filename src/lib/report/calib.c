@@ -218,6 +218,13 @@ int bg_calib_report_load(bg_store *st, long long run_id, long long fit_id,
 
 /* ---- the page ---- */
 
+/* The unit of quantity 'q' as the page writes units (SI Brochure: the signs, not "ohm"). */
+static const char *page_unit(bg_quantity q)
+{
+    return q == BG_QTY_RESISTANCE ? "\xce\xa9" : q == BG_QTY_REPORTED_T ? "\xc2\xb0" "C"
+         : bg_quantity_unit(q);
+}
+
 static void item_and_reference(FILE *f, const bg_calib_report *r)
 {
     char b1[32], buf[256];
@@ -232,7 +239,7 @@ static void item_and_reference(FILE *f, const bg_calib_report *r)
     if (r->run.quantity != BG_QTY_RESISTANCE) /* the lot's values are a resistance's */
         snprintf(buf, sizeof buf, "not stated for this sensor (the lot's R25 and B are a "
                  "thermistor's and do not apply to readings in %s)",
-                 bg_quantity_unit((bg_quantity)r->run.quantity));
+                 page_unit((bg_quantity)r->run.quantity));
     bgi_report_kv(f, "Nominal", buf);
     fputs("</table>\n<h2>Reference thermometer</h2>\n<table class=\"kv\" id=\"reference\">\n",
           f);
@@ -312,8 +319,7 @@ static void conditions(FILE *f, const bg_calib_report *r)
     bgi_report_kv(f, "Sensor kind (model)", buf);
     bg_quantity q = (bg_quantity)r->run.quantity;
     snprintf(buf, sizeof buf, "%s in %s (readings column '%s')",
-             bg_store_quantity_name(r->run.quantity), bg_quantity_unit(q),
-             bg_quantity_column(q));
+             bg_store_quantity_name(r->run.quantity), page_unit(q), bg_quantity_column(q));
     bgi_report_kv(f, "Measured quantity", buf);
     snprintf(buf, sizeof buf, "least squares in temperature, model %s, %s; %zu readings used, "
              "%zu degrees of freedom; fit %lld", name, ft->weighted ? "weighted by the stated "
