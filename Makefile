@@ -158,7 +158,7 @@ headers: | deps
 	done
 
 check: all headers $(if $(filter 1,$(SAN)),,install-check) $(TESTS)
-	@BUILD=$(BUILD) SAN=$(SAN) PYTHON=$(PYTHON) sh tests/run.sh
+	@BUILD=$(BUILD) SAN=$(if $(filter 1,$(SAN)),1,0) RUN_ALL=$(RUN_ALL) PYTHON=$(PYTHON) sh tests/run.sh
 
 # Install into a scratch folder and build a program from the installed headers, library and
 # pkg-config file alone, once against the shared library and once against the static one;

@@ -100,20 +100,23 @@ INSERT INTO part_spec (id, part, tol_k, tol_lo_k, tol_hi_k, created_at)
     VALUES (2, 'P', 0.2, 273.15, 343.15, 't');"
 dump() { # every row of every table, and the schema of indexes, triggers, views and probe
     for t in lot probe reference run reading exclusion fit artifact part_spec; do
-        # (leaving out the columns 008-versions.sql and 009-its90-reference.sql add, NULL in
-        # an upgraded row)
+        # (leaving out the columns 008-versions.sql, 009-its90-reference.sql and
+        # 011-run-quantity.sql add, NULL in an upgraded row)
         cols=$(sqlite3 "$1" "SELECT group_concat(name, ', ') FROM pragma_table_info('$t')
-                             WHERE name <> 'reference_version_id' AND name NOT LIKE 'its90_%'")
+                             WHERE name <> 'reference_version_id' AND name NOT LIKE 'its90_%'
+                               AND name NOT IN ('quantity', 'quantity_unit')")
         sqlite3 "$1" "SELECT '$t', $cols FROM $t ORDER BY rowid"
     done
     sqlite3 "$1" "SELECT type, name, tbl_name, sql FROM sqlite_schema
                   WHERE (type IN ('index', 'trigger', 'view') OR name IN ('probe', 'exclusion'))
                     AND tbl_name <> 'chain' AND name NOT IN ('lot_keep', 'lot_stay',
+                    'reading_resistance_positive',
                     'probe_keep', 'probe_stay', 'reference_keep', 'reference_stay')
                     AND tbl_name NOT IN ('reference_version', 'lot_version', 'probe_version')
                     AND tbl_name NOT LIKE 'sequence%'
                   ORDER BY type, name" # (leaving out what 007-record-chain.sql,
-                                       # 008-versions.sql and 010-sequence.sql add)
+                                       # 008-versions.sql, 010-sequence.sql and
+                                       # 011-run-quantity.sql add)
 }
 dump "$V5" > "$T/before.txt"
 cp "$V5" "$T/inf.db"
@@ -240,4 +243,116 @@ grep -q "moved probe P-2 from lot A to lot B, valid from 2026-11-25T00:00:00Z" "
     bad "lot A no longer counts P-2's run of 2026-11-20"
 Bm verify > /dev/null || bad "probe move: the record does not verify"
 echo "records: probe move refusals leave the database as it was"
+# 7. the run-quantity schema (version 11), from a version-10 file with rows in every table and
+# its record chain: a version-11 file made by this program (resistance runs only) is taken
+# back to version 10 by hand (the two run columns dropped, 'reading' made again with its
+# r_ohm > 0 check, the new trigger dropped), then opened: every row, id, chain hash, index and
+# trigger is as it was, and it verifies.
+U="$T/v9.db"
+Bu() { "$BIN" --db "$U" "$@"; }
+Bu init > /dev/null
+Bu lot add L --part P --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1% > /dev/null
+Bu lot add L2 --part P --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1% > /dev/null
+Bu probe add P-1 --lot L > /dev/null
+Bu probe add P-2 --lot L > /dev/null
+Bu ref add R-1 --cert "C-1" --due 2027-06-30 --linear -0.1712K,0.00218,20C > /dev/null
+Bu import "$HERE/cli/lib/bath.csv" --probe P-1 --ref R-1 --at 2026-11-20T09:00:00Z > /dev/null
+Bu import "$HERE/cli/lib/bath.csv" --probe P-2 --at 2026-11-20T10:00:00Z --measuring-current 10uA \
+    > /dev/null
+Bu exclude 3 --why "invented reason" --by "A. Tester" > /dev/null
+Bu fit --lot L --model sh3 > /dev/null
+Bu report --run 1 -o "$T/v9.html" > /dev/null 2>&1
+Bu part set P --model sh3 --coef 1.02228e-3,2.53165e-4,2e-10 --tol 0.3K --over -20/60 \
+    > /dev/null
+SOURCE_DATE_EPOCH=1795651200 Bu lot set L --tol-r25 0.5% --why "invented" --by "A. Tester" \
+    --from 2026-12-01T00:00:00Z > /dev/null
+SOURCE_DATE_EPOCH=1795651200 Bu ref set R-1 --cert "C-2" --due 2027-12-31 \
+    --linear 0.05K,0.001,20C --why "invented" --by "A. Tester" --from 2026-12-01T00:00:00Z \
+    > /dev/null
+SOURCE_DATE_EPOCH=1795651200 Bu probe move P-2 --lot L2 --why "invented" \
+    --from 2026-11-25T00:00:00Z > /dev/null 2>&1
+Bu verify > "$T/verify9-before.txt" 2>&1 || bad "v9 setup: the file does not verify"
+for t in lot lot_version probe probe_version reference reference_version run reading exclusion \
+         fit artifact part_spec chain; do
+    [ "$(sqlite3 "$U" "SELECT count(*) FROM $t")" -gt 0 ] || bad "v9 setup: table $t is empty"
+done
+sqlite3 "$U" "PRAGMA foreign_keys = OFF; PRAGMA legacy_alter_table = ON;
+ALTER TABLE run DROP COLUMN quantity_unit; ALTER TABLE run DROP COLUMN quantity;
+DROP TRIGGER reading_resistance_positive;
+ALTER TABLE reading RENAME TO reading_new;
+$(sed -n '/^CREATE TABLE reading (/,/^) STRICT;/p' "$HERE/../db/006-finite.sql")
+INSERT INTO reading SELECT * FROM reading_new ORDER BY id; DROP TABLE reading_new;
+CREATE TRIGGER reading_keep BEFORE UPDATE ON reading
+    BEGIN SELECT RAISE(ABORT, 'readings are never edited'); END;
+CREATE TRIGGER reading_stay BEFORE DELETE ON reading
+    BEGIN SELECT RAISE(ABORT, 'readings are never deleted'); END;
+PRAGMA user_version = 10;" || bad "v9 setup: the file could not be taken back to version 10"
+sqlite3 "$U" "SELECT sql FROM sqlite_schema WHERE name = 'reading'" | grep -q "r_ohm > 0" ||
+    bad "v9 setup: reading has no r_ohm > 0 check"
+dump9() {
+    for t in lot lot_version probe probe_version reference reference_version run reading \
+             exclusion fit artifact part_spec chain; do
+        cols=$(sqlite3 "$1" "SELECT group_concat(name, ', ') FROM pragma_table_info('$t')
+                             WHERE name NOT IN ('quantity', 'quantity_unit')")
+        sqlite3 "$1" "SELECT '$t', $cols FROM $t ORDER BY rowid"
+    done
+    sqlite3 "$1" "SELECT type, name, tbl_name, sql FROM sqlite_schema
+                  WHERE type IN ('index', 'trigger', 'view')
+                    AND name <> 'reading_resistance_positive' ORDER BY type, name"
+}
+dump9 "$U" > "$T/before9.txt"
+Bu lot list > /dev/null 2> "$T/err" || bad "the upgrade from version 9 failed: $(cat "$T/err")"
+[ "$(sqlite3 "$U" 'PRAGMA user_version')" = 11 ] || bad "the version-9 file was not upgraded"
+dump9 "$U" > "$T/after9.txt"
+cmp -s "$T/before9.txt" "$T/after9.txt" ||
+    bad "the upgrade from 9 changed rows, ids, hashes, indexes or triggers: $(diff "$T/before9.txt" "$T/after9.txt")"
+[ "$(sqlite3 "$U" 'SELECT count(*) FROM run WHERE quantity IS NOT NULL OR quantity_unit IS NOT NULL')" = 0 ] ||
+    bad "an upgraded run has a quantity (NULL: a resistance)"
+Bu verify > "$T/verify9-after.txt" 2>&1 || bad "the upgraded version-9 file does not verify: $(cat "$T/verify9-after.txt")"
+cmp -s "$T/verify9-before.txt" "$T/verify9-after.txt" ||
+    bad "verify says otherwise after the upgrade: $(diff "$T/verify9-before.txt" "$T/verify9-after.txt")"
+[ "$(sqlite3 "$U" 'PRAGMA integrity_check')" = ok ] || bad "integrity_check after the upgrade from 9"
+[ -z "$(sqlite3 "$U" 'PRAGMA foreign_key_check')" ] || bad "foreign_key_check after the upgrade from 9"
+Bu fit --probe P-1 --model sh3 --dry-run > /dev/null 2>&1 || bad "a fit after the upgrade from 9 failed"
+# the record still refuses a resistance <= 0, and takes a reported temperature < 0
+out=$(sqlite3 "$U" "INSERT INTO reading (run_id, line, t_raw, t_k, r_ohm, u_t_k, u_r_ohm)
+                    VALUES (1, 99, 25, 298.15, -1, 0, 0)" 2>&1)
+case $out in *"a resistance must be > 0 ohm"*) ;; *) bad "a negative resistance: $out" ;; esac
+echo "records: the run-quantity schema keeps a version-9 record, its hashes and checks"
+
+# 8. readings of other quantities: import, fits of the wrong kind and bad files refused with
+# the database byte for byte as it was
+K="$T/kinds.db"
+Bk() { "$BIN" --db "$K" "$@"; }
+Bk init > /dev/null
+Bk lot add L --part P --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1% > /dev/null
+Bk probe add P-1 --lot L > /dev/null
+Bk probe add D-1 --lot L > /dev/null
+Bk import "$HERE/cli/lib/bath.csv" --probe P-1 --at 2026-11-20T09:00:00Z > /dev/null
+Bk import "$HERE/cli/lib/junction.csv" --probe D-1 --at 2026-11-21T09:00:00Z > /dev/null ||
+    bad "kinds: a volts file was not imported"
+k_refused() { # RC PATTERN ARGS...
+    want=$1 pat=$2
+    shift 2
+    d0=$(sqlite3 "$K" .dump | sha256sum) f0=$(sha256sum < "$K")
+    Bk "$@" > /dev/null 2> "$T/err"
+    rc=$?
+    [ "$rc" -eq "$want" ] || bad "kinds: $*: exited $rc, expected $want: $(cat "$T/err")"
+    grep -Eq "$pat" "$T/err" || bad "kinds: $*: message does not say '$pat': $(cat "$T/err")"
+    [ "$(sqlite3 "$K" .dump | sha256sum)" = "$d0" ] && [ "$(sha256sum < "$K")" = "$f0" ] ||
+        bad "kinds: $*: the database changed"
+}
+printf 'temp_k,ohms,volts\n273.15,32000,0.65\n298.15,10000,0.60\n' > "$T/mixed.csv"
+printf 'temp_k,volts,excite_a\n273.15,0.65,1e-5\n298.15,0.60,1e-5\n323.15,0.55,2e-5\n' > "$T/exc.csv"
+printf 'temp_k,volts\n273.15,0.65\n298.15,abc\n' > "$T/badv.csv"
+k_refused 65 "model 'sh3' reads ohm .* readings are V" fit --probe D-1 --model sh3
+k_refused 65 "model 'vbe' reads V .* readings are ohm" fit --probe P-1 --model vbe
+k_refused 65 "run [0-9]+ holds readings in V" fit --lot L --model sh3
+k_refused 65 "mixed.csv" import "$T/mixed.csv" --probe D-1
+k_refused 65 "exc.csv:4: field 'excite_a'" import "$T/exc.csv" --probe D-1
+k_refused 65 "badv.csv:3" import "$T/badv.csv" --probe D-1
+k_refused 65 "field 'excite_a'" import "$HERE/cli/lib/junction.csv" --probe D-1 \
+    --measuring-current 20uA --new-run
+Bk verify > /dev/null || bad "kinds: the record does not verify"
+echo "records: other quantities are stored, and refusals leave the database as it was"
 exit $status

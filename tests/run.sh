@@ -44,8 +44,15 @@ tally cli "$BUILD/cli-tests.log" $?
 
 # the PostgreSQL backend: a throwaway server started and stopped around its checks (the
 # golden cases on the server, the same record on both backends, roles, faults, load)
-sh tests/pg/server.sh sh tests/pg/check.sh "$BUILD/bandgap" > "$BUILD/pg.log" 2>&1
-tally pg "$BUILD/pg.log" $?
+# The three heavy integration suites run once each in `make test`: the server backend and
+# the calibration sequences (C talking to libpq and to sockets) under the sanitizer build,
+# the firmware tables (C running on simulators, out of the sanitizers' reach) in the plain
+# one.  RUN_ALL=1 runs all three in either.
+heavy() { [ "${RUN_ALL:-0}" = 1 ] || [ "${SAN:-0}" = "$1" ]; }
+if heavy 1; then
+    sh tests/pg/server.sh sh tests/pg/check.sh "$BUILD/bandgap" > "$BUILD/pg.log" 2>&1
+    tally pg "$BUILD/pg.log" $?
+fi
 
 sh tests/faults.sh "$BUILD/bandgap"
 count $? faults
@@ -68,12 +75,14 @@ rm -rf "$hw"
 # the emitted tables on an ATmega328P (simavr) and Cortex-M0/M3/M4 (QEMU), every code
 # (once, in the plain suite: the emitted C runs on the simulators, where the host's sanitizers
 # do not reach; the sanitizer suite checks the library that writes it)
-if [ "${SAN:-0}" != 1 ]; then
+if heavy 0; then
     sh tests/firmware/run.sh "$BUILD/bandgap" "$BUILD/firmware" > "$BUILD/firmware.log" 2>&1
     tally firmware "$BUILD/firmware.log" $?
 fi
-sh tests/sequence.sh "$BUILD/bandgap" "$PYTHON" > "$BUILD/sequence.log" 2>&1
-tally sequence "$BUILD/sequence.log" $?
+if heavy 1; then
+    sh tests/sequence.sh "$BUILD/bandgap" "$PYTHON" > "$BUILD/sequence.log" 2>&1
+    tally sequence "$BUILD/sequence.log" $?
+fi
 "$PYTHON" tests/layout.py "$BUILD" > "$BUILD/layout.log" 2>&1
 tally layout "$BUILD/layout.log" $?
 "$PYTHON" tests/xcheck_numpy.py "$BUILD/bandgap"

@@ -351,4 +351,63 @@ if j:
     check("curve cheb:3 dT/dV = numpy deriv", [r["dtdx"] for r in j["rows"]],
           ref.deriv()(np.array([0.3, 0.55, 0.8, 1.1])), 1e-12)
 
+# ---- fits of stored runs: import, fit --probe, and the stored fit read back (show fit) ------
+# the same invented junction readings as above, imported as a voltage run at 10 uA, and an
+# invented IC sensor's reported temperatures (some below 0 degC) as a reported-temperature
+# run; each stored fit recomputed by scipy as the file fits are
+with tempfile.TemporaryDirectory() as tmp:
+    db = os.path.join(tmp, "k.db")
+
+    def cli(*args):
+        p = subprocess.run([BIN, "--db", db, *args], capture_output=True, text=True)
+        if p.returncode != 0:
+            global failures
+            failures += 1
+            print("xcheck_kinds FAIL stored: %s: exit %d: %s" % (args, p.returncode,
+                                                                  p.stderr.strip()))
+        return p.stdout
+
+    cli("init")
+    cli("lot", "add", "L", "--part", "P", "--r25", "10k", "--beta", "3950K", "--tol-r25", "1%",
+        "--tol-beta", "1%")
+    cli("probe", "add", "D-1", "--lot", "L")
+    cli("probe", "add", "IC-1", "--lot", "L")
+    jp = os.path.join(tmp, "j.csv")
+    with open(jp, "w") as f:
+        f.write("temp_k,volts,excite_a\n")
+        for t, v in zip(Tjf, Vjf):
+            f.write("%r,%r,1e-5\n" % (float(t), float(v)))
+    cli("import", jp, "--probe", "D-1", "--at", "2026-11-21T09:00:00Z")
+    run = json.loads(cli("--json", "show", "run", "1") or "null")
+    if run and (run["quantity"], run["quantity_unit"], run["measuring_current_a"]) != \
+            ("voltage", "V", 1e-5):
+        failures += 1
+        print("xcheck_kinds FAIL stored run quantity: %s" % run)
+    js = json.loads(cli("--json", "fit", "--probe", "D-1", "--model", "vbe") or "null")
+    if js:
+        c, cov = lsq_in_t(Tjf, Vjf, lambda x, c: newton_t(vbe(c), x, 300.0),
+                          np.array([1.2, 0.6, 3.0]), lambda t, c: vbe(c)(t))
+        check("stored vbe coefficients", js["coefficients"], c, 1e-7)
+        sf = json.loads(cli("--json", "show", "fit", str(js.get("fit_id", 1))) or "null")
+        if sf:
+            check("stored vbe read back", sf["coefficients"], c, 1e-7)
+            if sf["model"] != "vbe":
+                failures += 1
+                print("xcheck_kinds FAIL stored fit names model %s" % sf["model"])
+    # IC sensor: T_true = T_rep + c0 + c1 (T_rep - T_r) + c2 (T_rep - T_r)^2 is linear in c
+    Tic = np.linspace(233.15, 373.15, 9)
+    rep = (Tic - 273.15) - 0.35 - 0.004 * (Tic - 298.15) + rng.normal(0, 0.01, 9)
+    ip = os.path.join(tmp, "ic.csv")
+    with open(ip, "w") as f:
+        f.write("temp_k,reported_c\n")
+        for t, r in zip(Tic, rep):
+            f.write("%r,%r\n" % (float(t), float(r)))
+    cli("import", ip, "--probe", "IC-1", "--at", "2026-11-21T10:00:00Z")
+    ji = json.loads(cli("--json", "fit", "--probe", "IC-1", "--model", "ic") or "null")
+    if ji:
+        d = rep - 25.0  # T_r = 25 degC
+        A = np.column_stack([np.ones_like(d), d, d * d])
+        cc = np.linalg.lstsq(A, (Tic - 273.15) - rep, rcond=None)[0]
+        check("stored ic coefficients (numpy lstsq)", ji["coefficients"], cc, 1e-7, 1e-12)
+
 sys.exit(1 if failures else 0)

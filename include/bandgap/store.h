@@ -242,6 +242,13 @@ typedef struct bg_run {
     long long ref_version;      /* the reference version the readings were corrected with,
                                 ** the one in force at the run's start (0: the reference's
                                 ** own row, or no reference) */
+    /* schema 11 */
+    int quantity;               /* what the readings are: a bg_quantity of model.h (0: a
+                                ** resistance in ohm, every run before schema 11; 1: a voltage
+                                ** in V, its excitation current in measuring_current_a when the
+                                ** file stated one; 2: a reported temperature in degC; 3: a
+                                ** code in LSB); a reading's r_ohm and u_r_ohm are in that
+                                ** quantity.  Import takes it from the file, not from 'meta' */
 } bg_run;
 
 /* Create a run of probe 'meta->serial' from the readings 'rs' in one transaction.  Uses
@@ -258,6 +265,10 @@ typedef struct bg_run {
 ** reference's calibration due date (a date alone: the whole day, UTC) unless
 ** 'meta->ref_overdue' gives the reason, which is then recorded with the run; and a reason
 ** given when the reference is not past its due date. */
+/* The name of a run's quantity (bg_run.quantity): "resistance", "voltage",
+** "reported_temperature" or "code" (the values of run.quantity, NULL there for a resistance). */
+BG_API const char *bg_store_quantity_name(int quantity);
+
 BG_API int bg_store_import(bg_store *st, const bg_readings *rs, const bg_run *meta,
                            long long *run_id, bg_error *err);
 
@@ -299,6 +310,8 @@ typedef struct bg_reading_row {
     char time[BG_TIME], note[BG_NOTE];
     int excluded;
     char excl_reason[BG_NOTE], excl_by[BG_TEXT], excl_at[BG_TIME];
+    int quantity;                  /* the run's quantity (bg_run.quantity): r_ohm and u_r_ohm
+                                   ** are in its unit (schema 11) */
 } bg_reading_row;
 typedef int (*bg_reading_cb)(const bg_reading_row *row, void *ctx);
 BG_API int bg_store_reading_each(bg_store *st, long long run_id, bg_reading_cb cb, void *ctx,

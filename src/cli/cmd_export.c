@@ -22,7 +22,7 @@ static const char export_usage[] =
 static const char csv_header[] =
     "kind,probe,lot,run,reading,line,t_raw,t_raw_unit,t_k,ohms,u_temp_k,u_ohms,time,note,"
     "excluded_reason,fit,model,t0_k,c0,c1,c2,c3,c4,c5,n,dof,chi2,rms_mk,max_abs_mk,"
-    "t_min_k,t_max_k,created_at\n";
+    "t_min_k,t_max_k,created_at,quantity,value,u_value,value_unit\n";
 
 struct ex {
     bg_store *st;
@@ -70,13 +70,18 @@ static int reading_cb(const bg_reading_row *g, void *p)
     csv_num(f, g->t_raw);
     csv_text(f, g->t_raw_unit);
     csv_num(f, g->t_k);
-    csv_num(f, g->r_ohm);
+    int ohm = g->quantity == BG_QTY_RESISTANCE; /* other quantities: in value, u_value */
+    csv_num(f, ohm ? g->r_ohm : NAN);
     csv_num(f, g->u_t_k);
-    csv_num(f, g->u_r_ohm);
+    csv_num(f, ohm ? g->u_r_ohm : NAN);
     csv_text(f, g->time);
     csv_text(f, g->note);
     csv_text(f, g->excluded ? g->excl_reason : "");
-    fputs(",,,,,,,,,,,,,,,,\n", f); /* the 17 fit columns */
+    fputs(",,,,,,,,,,,,,,,,", f); /* the 17 fit columns */
+    csv_text(f, bg_store_quantity_name(g->quantity));
+    csv_num(f, g->r_ohm);
+    csv_num(f, g->u_r_ohm);
+    fprintf(f, "%s\n", bg_quantity_unit((bg_quantity)g->quantity));
     return 0;
 }
 
@@ -126,7 +131,7 @@ static int fit_cb(const bg_fit_row *f, void *p)
     csv_num(o, f->max_abs_mk);
     csv_num(o, f->t_min_k);
     csv_num(o, f->t_max_k);
-    fprintf(o, "%s\n", f->created_at);
+    fprintf(o, "%s,,,,\n", f->created_at); /* the 4 reading value columns */
     return 0;
 }
 

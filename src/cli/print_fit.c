@@ -568,11 +568,15 @@ static void lot_text(const bg_calib_lot *lot)
         }
         char fid[32];
         snprintf(fid, sizeof fid, "%lld%s", row->fit_id, row->identical ? "=" : "");
-        printf("%-20s %6lld %6s %-7s %4zu %10.4f %10.4f %8.4f %5.2f %12s %10.2f%s\n",
+        char bb[32] = "-"; /* R25 and B: an NTC's only ("-" for the other kinds) */
+        if (isfinite(row->b_k))
+            snprintf(bb, sizeof bb, "%.2f", row->b_k);
+        printf("%-20s %6lld %6s %-7s %4zu %10.4f %10.4f %8.4f %5.2f %12s %10s%s\n",
                row->serial, row->run_id, fid,
                bg_model_name(&row->model, name, sizeof name), row->n, row->rms_mk,
                row->max_abs_mk, 1e3 * row->U_max_k, row->cover.k,
-               bg_units_format_ohms(row->r25_ohm, 7, rb, sizeof rb), row->b_k,
+               isfinite(row->r25_ohm) ? bg_units_format_ohms(row->r25_ohm, 7, rb, sizeof rb)
+               : "-", bb,
                row->b_extrapolated ? " *" : "");
         extra |= row->b_extrapolated;
     }

@@ -14,9 +14,13 @@ void cli_json_reading(json_out *j, const bg_reading_row *g)
     json_num(j, "t_raw", g->t_raw);
     json_str(j, "t_raw_unit", g->t_raw_unit);
     json_num(j, "t_k", g->t_k);
-    json_num(j, "ohms", g->r_ohm);
+    /* the reading under its readings file's column: ohms, volts, reported_c or code */
+    const char *col = bg_quantity_column((bg_quantity)g->quantity);
+    char ucol[32];
+    snprintf(ucol, sizeof ucol, "u_%s", col);
+    json_num(j, col, g->r_ohm);
     json_num(j, "u_temp_k", g->u_t_k);
-    json_num(j, "u_ohms", g->u_r_ohm);
+    json_num(j, ucol, g->u_r_ohm);
     json_str(j, "time", g->time[0] ? g->time : NULL);
     json_str(j, "note", g->note[0] ? g->note : NULL);
     if (g->excluded) {
@@ -41,6 +45,8 @@ void cli_json_run_fields(json_out *j, const bg_run *r)
     json_str(j, "medium", r->medium[0] ? r->medium : NULL);
     json_str(j, "ambient", r->ambient[0] ? r->ambient : NULL);
     json_str(j, "excitation", r->excitation[0] ? r->excitation : NULL); /* schema < 4 only */
+    json_str(j, "quantity", bg_store_quantity_name(r->quantity));
+    json_str(j, "quantity_unit", bg_quantity_unit((bg_quantity)r->quantity));
     if (r->measuring_current_a > 0.0)
         json_num(j, "measuring_current_a", r->measuring_current_a);
     else
@@ -293,9 +299,12 @@ int cli_print_reading(const bg_reading_row *g, void *ctx)
         cli_json_reading(j, g);
     } else {
         char rb[32];
+        if (g->quantity != BG_QTY_RESISTANCE) /* V, degC or LSB: the number as stored */
+            snprintf(rb, sizeof rb, "%.8g", g->r_ohm);
         printf("  %8lld %6zu %14.6f %-3s %12.4f %14s %9.4g %9.4g%s%s\n", g->id, g->line,
                g->t_raw, g->t_raw_unit, g->t_k - BG_ZERO_C_K,
-               bg_units_format_ohms(g->r_ohm, 8, rb, sizeof rb), g->u_t_k, g->u_r_ohm,
+               g->quantity != BG_QTY_RESISTANCE ? rb
+               : bg_units_format_ohms(g->r_ohm, 8, rb, sizeof rb), g->u_t_k, g->u_r_ohm,
                g->excluded ? "  EXCLUDED: " : "", g->excluded ? g->excl_reason : "");
     }
     return 0;
@@ -324,8 +333,14 @@ void cli_print_run_head(const bg_run *r)
     printf("  readings SHA-256 %s\n", r->readings_sha256[0] ? r->readings_sha256
            : "- (imported before schema 3)");
     printf("  %lld readings, %lld excluded, %lld fits\n", r->nreadings, r->nexcluded, r->nfits);
-    printf("  %8s %6s %18s %12s %14s %9s %9s\n", "reading", "line", "raw", "T/degC",
-           "R/ohm", "u(T)/K", "u(R)/ohm");
+    bg_quantity q = (bg_quantity)r->quantity;
+    char xh[32], uh[32];
+    printf("  measured: %s in %s (column '%s')\n", bg_store_quantity_name(r->quantity),
+           bg_quantity_unit(q), bg_quantity_column(q));
+    snprintf(xh, sizeof xh, "%s/%s", bg_quantity_symbol(q), bg_quantity_unit(q));
+    snprintf(uh, sizeof uh, "u(%s)/%s", bg_quantity_symbol(q), bg_quantity_unit(q));
+    printf("  %8s %6s %18s %12s %14s %9s %9s\n", "reading", "line", "raw", "T/degC", xh,
+           "u(T)/K", uh);
 }
 
 static void fit_json(const bg_fit_row *f, const long long *ids, size_t nids, const bg_curve *u)

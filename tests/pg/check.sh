@@ -18,8 +18,9 @@
 #   writers       4 writers and 2 readers at once for a bounded time: every command exits 0,
 #                 no row is lost (runs = imports reported), the chain verifies
 #   its90-and-move  an ITS-90 reference and its version, and readings corrected through it,
-#                 read back the same on both backends; probe move is refused on the server
-#                 (exit 69, data unchanged) since its lot-wide reads do not follow moves yet
+#                 read back the same on both backends; probe move and runs of quantities
+#                 other than resistance are refused on the server (exit 69, data unchanged):
+#                 its lot-wide reads do not follow moves yet, it stores resistance runs only
 #   unavailable   a stopped server: a clear message and exit 69
 # Usage: check.sh BANDGAP
 BIN=$(cd "$(dirname "$1")" && pwd)/$(basename "$1")
@@ -301,7 +302,12 @@ rc=$?
 [ "$rc" -eq 69 ] && grep -q "not available on the PostgreSQL backend" "$T/err" ||
     { ok=1; echo "# probe move on the server: rc $rc $(cat "$T/err")"; }
 [ "$(digest refs)" = "$before" ] || { ok=1; echo "# the refused move changed the server's data"; }
-result its90-and-move "$ok" "ITS-90 reference differs between backends, or probe move not refused"
+"$BIN" --db "$U" import "$HERE/../cli/lib/junction.csv" --probe P-1 > /dev/null 2> "$T/err"
+rc=$?
+[ "$rc" -eq 69 ] && grep -q "resistances only" "$T/err" ||
+    { ok=1; echo "# a voltage run on the server: rc $rc $(cat "$T/err")"; }
+[ "$(digest refs)" = "$before" ] || { ok=1; echo "# the refused import changed the server's data"; }
+result its90-and-move "$ok" "ITS-90 reference differs between backends, or a move or a voltage run not refused"
 
 # ---- the server away ----
 ok=0

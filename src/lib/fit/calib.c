@@ -497,7 +497,9 @@ int bg_calibrate_probe(bg_store *st, const char *serial, long long run_id,
     if ((rc = bg_store_run_points(st, run_id, &sp, err)) != BG_OK)
         goto done;
     snprintf(source, sizeof source, "run %lld", run_id);
-    if ((rc = bg_calibrate(sp.pts, sp.n, source, rq, out, err)) != BG_OK ||
+    bg_calib_request q = *rq;
+    q.quantity = run.quantity; /* the model must read what the run measured */
+    if ((rc = bg_calibrate(sp.pts, sp.n, source, &q, out, err)) != BG_OK ||
         (run.ref_overdue[0] && (rc = note_ref_overdue(out, &run, err)) != BG_OK) ||
         (rc = store_probe_fit(st, run_id, &sp, rq->store_flags, out, err)) != BG_OK)
         goto done;
@@ -518,6 +520,9 @@ struct lot_prior {
     size_t nfitted, capf;
     bg_run *overdue;       /* ascending by id */
     size_t noverdue, capo;
+    struct run_qty { long long id; int quantity; } *qty; /* the runs that hold no resistance,
+                                                         ** ascending by id */
+    size_t nqty, capq;
     int oom;               /* a list could not grow: the pass must not go on */
 };
 
@@ -626,6 +631,16 @@ static int prior_fitted(const char *serial, const bg_fit_row *fit, void *ctx)
 static int prior_overdue(const bg_run *run, void *ctx)
 {
     struct lot_prior *p = ctx;
+    if (run->quantity != BG_QTY_RESISTANCE) {
+        if (p->nqty == p->capq) {
+            size_t cap = p->capq ? 2 * p->capq : 8;
+            struct run_qty *v = grow(p->qty, cap, sizeof *v);
+            if (!v)
+                return (p->oom = 1);
+            p->qty = v, p->capq = cap;
+        }
+        p->qty[p->nqty].id = run->id, p->qty[p->nqty++].quantity = run->quantity;
+    }
     if (!run->ref_overdue[0])
         return 0;
     if (p->noverdue == p->capo) {
@@ -651,6 +666,8 @@ static int lot_prior_load(bg_store *st, const char *lot_code, struct lot_prior *
         qsort(p->fitted, p->nfitted, sizeof *p->fitted, cmp_id);
     if (p->noverdue)
         qsort(p->overdue, p->noverdue, sizeof *p->overdue, cmp_id); /* 'id' is bg_run's first */
+    if (p->nqty)
+        qsort(p->qty, p->nqty, sizeof *p->qty, cmp_id); /* 'id' is run_qty's first */
     return rc;
 }
 
@@ -658,6 +675,7 @@ static void lot_prior_release(struct lot_prior *p)
 {
     free(p->fitted);
     free(p->overdue);
+    free(p->qty);
 }
 
 /* Queue the probe's fit, or, when its run already has an identical one, name that one. */
@@ -791,6 +809,18 @@ static int lot_probe(const char *serial, long long probe_id, long long run_id,
         out->nnoruns++;
         return 0;
     }
+    const struct run_qty *rqty = lp->prior.nqty ? bsearch(&run_id, lp->prior.qty, lp->prior.nqty,
+                                                        sizeof *lp->prior.qty, cmp_id) : NULL;
+    int quantity = rqty ? rqty->quantity : BG_QTY_RESISTANCE;
+    if (quantity != lp->o.quantity) { /* a run of another kind of sensor than the model's */
+        bg_error_set(&e2, BG_EINVAL, "run %lld holds readings in %s (column '%s'), but the "
+                     "model reads %s (column '%s')", run_id,
+                     bg_quantity_unit((bg_quantity)quantity),
+                     bg_quantity_column((bg_quantity)quantity),
+                     bg_quantity_unit((bg_quantity)lp->o.quantity),
+                     bg_quantity_column((bg_quantity)lp->o.quantity));
+        return lot_failed(lp, row, &e2) != 0;
+    }
     apply_default_u(sp->pts, sp->n, lp->rq->u_t_default_k);
     if (lp->batch)
         return lot_enqueue(lp, out->nrows - 1, run_id, sp);
@@ -830,14 +860,19 @@ int bg_calibrate_lot(bg_store *st, const char *lot_code, const bg_calib_request 
                      bg_calib_lot *out, bg_error *err)
 {
     struct lot_pass lp;
+    bg_calib_request q = *rq;
+    bg_model named;
     int rc, in_tx = 0;
 
     bg_calib_lot_release(out);
     memset(&lp, 0, sizeof lp);
-    lp.st = st, lp.rq = rq, lp.out = out, lp.err = err;
+    lp.st = st, lp.rq = &q, lp.out = out, lp.err = err;
     out->rule = request_rule(rq);
     bg_calib_result_init(&lp.one);
-    if ((rc = request_opts(rq, &lp.o, &lp.is_auto, err)) != BG_OK)
+    /* a named model reads its own quantity: each probe's run must hold it (lot_probe) */
+    if (q.model && strcmp(q.model, "auto") != 0 && bg_model_parse(q.model, &named, NULL) == BG_OK)
+        q.quantity = (int)bg_model_quantity(&named);
+    if ((rc = request_opts(&q, &lp.o, &lp.is_auto, err)) != BG_OK)
         return rc;
     if (!(lp.fr = bg_fitter_new()) || (!lp.is_auto && !(lp.batch = calloc(1, sizeof *lp.batch))))
     {
@@ -857,6 +892,11 @@ int bg_calibrate_lot(bg_store *st, const char *lot_code, const bg_calib_request 
     in_tx = 1;
     if ((rc = lot_prior_load(st, lot_code, &lp.prior, err)) != BG_OK)
         goto done;
+    if (lp.is_auto && lp.prior.nqty) { /* "auto" compares the kinds of the lot's runs' quantity */
+        q.quantity = lp.prior.qty[0].quantity;
+        if ((rc = request_opts(&q, &lp.o, &lp.is_auto, err)) != BG_OK)
+            goto done;
+    }
     if ((rc = lot_pass_run(&lp, lot_code)) == BG_OK) {
         in_tx = 0; /* a failed commit has rolled back */
         rc = bg_store_commit(st, err);

@@ -114,7 +114,12 @@ int bg_calib_report_compute(bg_calib_report *r, bg_error *err)
     /* an older run's free text is used when it reads as a current ("10 uA", "0.1mA") */
     r->have_current = ex > 0.0 || bg_units_parse_si(r->run.excitation, "A", &ex, NULL) == BG_OK;
     r->excitation_a = r->have_current ? ex : NAN;
-    r->power_w = r->have_current ? ex * ex * r->r_max_ohm : NAN;
+    /* I^2 R for a resistance, I V for a junction's voltage; none for a device that reports */
+    int qty = r->run.quantity;
+    if (qty == BG_QTY_REPORTED_T || qty == BG_QTY_CODE)
+        r->have_current = 0;
+    r->power_w = !r->have_current ? NAN : qty == BG_QTY_VOLTAGE ? ex * r->r_max_ohm
+               : ex * ex * r->r_max_ohm;
     r->selfheat_mk = r->have_current && r->dissipation_w_per_k > 0.0 ?
                      1e3 * r->power_w / r->dissipation_w_per_k : NAN;
     compute_band(r);
@@ -213,6 +218,13 @@ int bg_calib_report_load(bg_store *st, long long run_id, long long fit_id,
 
 /* ---- the page ---- */
 
+/* The unit of quantity 'q' as the page writes units (SI Brochure: the signs, not "ohm"). */
+static const char *page_unit(bg_quantity q)
+{
+    return q == BG_QTY_RESISTANCE ? "\xce\xa9" : q == BG_QTY_REPORTED_T ? "\xc2\xb0" "C"
+         : bg_quantity_unit(q);
+}
+
 static void item_and_reference(FILE *f, const bg_calib_report *r)
 {
     char b1[32], buf[256];
@@ -224,6 +236,10 @@ static void item_and_reference(FILE *f, const bg_calib_report *r)
              "%.3g %%)", bg_units_format_ohms(r->lot.r25_ohm, 6, b1, sizeof b1),
              100.0 * r->lot.tol_r25, cdeg(r->lot.pair_t1_k), cdeg(r->lot.pair_t2_k),
              r->lot.beta_k, 100.0 * r->lot.tol_beta);
+    if (r->run.quantity != BG_QTY_RESISTANCE) /* the lot's values are a resistance's */
+        snprintf(buf, sizeof buf, "not stated for this sensor (the lot's R25 and B are a "
+                 "thermistor's and do not apply to readings in %s)",
+                 page_unit((bg_quantity)r->run.quantity));
     bgi_report_kv(f, "Nominal", buf);
     fputs("</table>\n<h2>Reference thermometer</h2>\n<table class=\"kv\" id=\"reference\">\n",
           f);
@@ -278,10 +294,15 @@ static void conditions(FILE *f, const bg_calib_report *r)
     } else
         bgi_report_kv(f, "Excitation", r->run.excitation); /* free text, schema < 4 */
     fputs("<tr><th>Self-heating estimate</th><td id=\"selfheat\">", f);
-    if (r->have_current) {
+    int qty = r->run.quantity;
+    if (qty == BG_QTY_REPORTED_T || qty == BG_QTY_CODE)
+        fprintf(f, "not estimated (the device reports a temperature or a code: its own "
+                   "dissipation is part of what it reports)");
+    else if (r->have_current) {
         fprintf(f, "at most ");
         bgi_html_num(f, "span", "power-uw", "%.3g", 1e6 * r->power_w);
-        fprintf(f, " &#181;W (I&#178;R at the largest resistance read)");
+        fprintf(f, qty == BG_QTY_VOLTAGE ? " &#181;W (I V at the largest voltage read)"
+                                         : " &#181;W (I&#178;R at the largest resistance read)");
         if (r->dissipation_w_per_k > 0.0) {
             fprintf(f, ", over %.3g mW/K: ", 1e3 * r->dissipation_w_per_k);
             bgi_html_num(f, "span", "selfheat-mk", "%.3g", r->selfheat_mk);
@@ -294,10 +315,52 @@ static void conditions(FILE *f, const bg_calib_report *r)
                    "e.g. 10uA)");
     fputs("</td></tr>\n", f);
     bg_model_name(&ft->model, name, sizeof name);
+    snprintf(buf, sizeof buf, "%s: %s", name, bg_model_formula(&ft->model));
+    bgi_report_kv(f, "Sensor kind (model)", buf);
+    bg_quantity q = (bg_quantity)r->run.quantity;
+    snprintf(buf, sizeof buf, "%s in %s (readings column '%s')",
+             bg_store_quantity_name(r->run.quantity), page_unit(q), bg_quantity_column(q));
+    bgi_report_kv(f, "Measured quantity", buf);
     snprintf(buf, sizeof buf, "least squares in temperature, model %s, %s; %zu readings used, "
              "%zu degrees of freedom; fit %lld", name, ft->weighted ? "weighted by the stated "
              "uncertainties" : "unweighted", ft->n, ft->dof, ft->id);
     bgi_report_kv(f, "Method", buf);
+    fputs("</table>\n", f);
+}
+
+/* The kind's derived values (bg_model_derived: nominal values, the apparent band gap, an
+** IEC 60751 class, trims), with their uncertainties from the covariance; none for a kind
+** that has none. */
+static void derived(FILE *f, const bg_calib_report *r)
+{
+    const bg_fit_row *ft = &r->fit;
+    bg_derived d[8];
+    size_t n = bg_model_derived(&ft->model, ft->has_cov ? ft->cov : NULL, ft->t_min_k,
+                                ft->t_max_k, d, sizeof d / sizeof d[0]);
+    if (n > sizeof d / sizeof d[0])
+        n = sizeof d / sizeof d[0];
+    if (n == 0)
+        return;
+    fputs("<h2>Derived values</h2>\n<table class=\"data\" id=\"derived\">\n<tr><th>quantity"
+          "</th><th class=\"n\">value</th><th class=\"n\">standard uncertainty</th><th>unit"
+          "</th><th>note</th></tr>\n", f);
+    for (size_t i = 0; i < n; i++) {
+        fputs("<tr class=\"derived\"><td>", f);
+        bgi_html_esc(f, d[i].name);
+        fputs("</td>", f);
+        if (d[i].text[0]) {
+            fputs("<td class=\"n value\">", f);
+            bgi_html_esc(f, d[i].text);
+            fputs("</td>", f);
+        } else
+            bgi_html_num(f, "td", "n value", "%.6g", d[i].value);
+        bgi_html_num(f, "td", "n u", "%.2e", d[i].u);
+        fputs("<td>", f);
+        bgi_html_esc(f, d[i].unit);
+        fputs("</td><td>", f);
+        bgi_html_esc(f, d[i].note);
+        fputs("</td></tr>\n", f);
+    }
     fputs("</table>\n", f);
 }
 
@@ -324,6 +387,7 @@ static void model_and_uncertainty(FILE *f, const bg_calib_report *r)
     fprintf(f, " mK, largest ");
     bgi_html_num(f, "span", "maxabs", "%.3f", ft->max_abs_mk);
     fprintf(f, " mK, &#967;&#178; %.4g.</p>\n", ft->chi2);
+    derived(f, r);
 
     fputs("<h2>Uncertainty and validity</h2>\n<table class=\"kv\" id=\"uncertainty\">\n", f);
     fprintf(f, "<tr><th>Validity range</th><td>");
@@ -351,13 +415,25 @@ static void model_and_uncertainty(FILE *f, const bg_calib_report *r)
     fputs("</td></tr>\n</table>\n", f);
 }
 
+/* The column head of the reading in the run's quantity: "R / ohm" (as the sign), "V / V" ... */
+static const char *x_head(const bg_calib_report *r, char *buf, size_t size)
+{
+    bg_quantity q = (bg_quantity)r->run.quantity;
+    if (q == BG_QTY_RESISTANCE)
+        return "R / \xce\xa9";
+    snprintf(buf, size, "%s / %s", bg_quantity_symbol(q),
+             q == BG_QTY_REPORTED_T ? "\xc2\xb0" "C" : bg_quantity_unit(q));
+    return buf;
+}
+
 static int readings(FILE *f, const bg_calib_report *r, bg_error *err)
 {
     size_t n = r->nreadings;
-    fputs("<h2>Readings and residuals</h2>\n<table class=\"data\" id=\"readings\">\n<tr>"
-          "<th class=\"n\">line</th><th class=\"n\">T ref / \xc2\xb0" "C</th><th class=\"n\">"
-          "R / \xce\xa9</th><th class=\"n\">T fit / \xc2\xb0" "C</th><th class=\"n\">residual / mK</th><th>note"
-          "</th></tr>\n", f);
+    char xh[32];
+    fprintf(f, "<h2>Readings and residuals</h2>\n<table class=\"data\" id=\"readings\">\n<tr>"
+            "<th class=\"n\">line</th><th class=\"n\">T ref / \xc2\xb0" "C</th><th class=\"n\">"
+            "%s</th><th class=\"n\">T fit / \xc2\xb0" "C</th><th class=\"n\">residual / mK</th>"
+            "<th>note</th></tr>\n", x_head(r, xh, sizeof xh));
     double *rx = malloc((n + 1) * sizeof *rx);
     int *rf = malloc((n + 1) * sizeof *rf);
     double ylo = 0.0, yhi = 0.0, bx[BG_REPORT_BAND], blo[BG_REPORT_BAND], bhi[BG_REPORT_BAND];
@@ -407,8 +483,15 @@ static int readings(FILE *f, const bg_calib_report *r, bg_error *err)
     return BG_OK;
 }
 
+static void rt_table_x(FILE *f, const bg_calib_report *r, bg_quantity q);
+
 static void rt_table(FILE *f, const bg_calib_report *r)
 {
+    bg_quantity q = (bg_quantity)r->run.quantity;
+    if (q != BG_QTY_RESISTANCE) {
+        rt_table_x(f, r, q);
+        return;
+    }
     fprintf(f, "<h2>Resistance&#8211;temperature table</h2>\n<table class=\"data\" id=\"rt\" "
                "data-from=\"%.17g\" data-to=\"%.17g\" data-step=\"%.17g\">\n<tr><th class=\"n\">"
                "T / \xc2\xb0" "C</th><th class=\"n\">R / \xce\xa9</th><th class=\"n\">&#945; / (%%/K)</th>"
@@ -420,6 +503,30 @@ static void rt_table(FILE *f, const bg_calib_report *r)
         bgi_html_num(f, "td", "n t", "%.2f", w->t_c);
         bgi_html_num(f, "td", "n r", "%.6g", w->r_ohm);
         bgi_html_num(f, "td", "n alpha", "%.4f", 100.0 * w->alpha_per_k);
+        bgi_html_num(f, "td", "n U", "%.2f", 1e3 * w->U_k);
+        fputs("</tr>\n", f);
+    }
+    fputs("</table>\n", f);
+}
+
+/* The table of another quantity: the reading and the slope dx/dT (1 / bg_model_dtdx). */
+static void rt_table_x(FILE *f, const bg_calib_report *r, bg_quantity q)
+{
+    char xh[32];
+    const char *u = q == BG_QTY_REPORTED_T ? "\xc2\xb0" "C" : bg_quantity_unit(q);
+    fprintf(f, "<h2>Reading&#8211;temperature table</h2>\n<table class=\"data\" id=\"rt\" "
+               "data-from=\"%.17g\" data-to=\"%.17g\" data-step=\"%.17g\">\n<tr><th class=\"n\">"
+               "T / \xc2\xb0" "C</th><th class=\"n\">%s</th><th class=\"n\">d%s/dT / (%s/K)"
+               "</th><th class=\"n\">U (k = %.2f) / mK</th></tr>\n", r->rt_from_c, r->rt_to_c,
+            r->rt_step_c, x_head(r, xh, sizeof xh), bg_quantity_symbol(q), u, r->cover.k);
+    for (size_t i = 0; i < r->nrt; i++) {
+        const bg_report_rt_row *w = &r->rt[i];
+        double dtdx = NAN;
+        bg_model_dtdx(&r->fit.model, w->r_ohm, &dtdx, NULL);
+        fputs("<tr class=\"rt\">", f);
+        bgi_html_num(f, "td", "n t", "%.2f", w->t_c);
+        bgi_html_num(f, "td", "n x", "%.6g", w->r_ohm);
+        bgi_html_num(f, "td", "n slope", "%.6g", 1.0 / dtdx);
         bgi_html_num(f, "td", "n U", "%.2f", 1e3 * w->U_k);
         fputs("</tr>\n", f);
     }

@@ -161,6 +161,12 @@ static int insert_readings(bgi_conn *c, const struct bgi_import *imp, long long 
 int bgi_pg_import(bgi_conn *c, const struct bgi_import *imp, long long *run_id, bg_error *err)
 {
     long long first = 1, rid = 0;
+    /* runs of other quantities (schema 11) are not written by this backend yet: refused
+    ** before anything is written, never stored as resistances */
+    if (imp->quantity != BG_QTY_RESISTANCE)
+        return bg_error_set(err, BG_EUNAVAIL, "%s: readings in %s are not stored on the "
+                            "PostgreSQL backend yet (resistances only): import them into a "
+                            "SQLite database", imp->src, bgi_quantity_name(imp->quantity));
     int rc = insert_run(c, imp, &first, &rid, err);
     if (rc == BG_OK)
         rc = insert_readings(c, imp, first, rid, err);
@@ -195,6 +201,7 @@ void bgi_pg_run_row(const PGresult *res, int i, bg_run *r)
     r->measuring_current_a = pgv_dbl(res, i, 20);
     r->measuring_voltage_v = pgv_dbl(res, i, 21);
     r->ref_version = pgv_ll(res, i, 22);
+    r->quantity = BG_QTY_RESISTANCE; /* the only quantity this backend stores (see import) */
 }
 
 void bgi_pg_reading_row(const PGresult *res, int i, bg_reading_row *g)
@@ -214,6 +221,7 @@ void bgi_pg_reading_row(const PGresult *res, int i, bg_reading_row *g)
     pgv_text(g->excl_reason, sizeof g->excl_reason, res, i, 12);
     pgv_text(g->excl_by, sizeof g->excl_by, res, i, 13);
     pgv_text(g->excl_at, sizeof g->excl_at, res, i, 14);
+    g->quantity = BG_QTY_RESISTANCE; /* the only quantity this backend stores (see import) */
 }
 
 /* A query of one integer parameter. */

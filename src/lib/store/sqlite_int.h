@@ -208,11 +208,15 @@ int bgi_sqlite_part_spec_each(bgi_conn *c, const char *part, int newest_only,
     "  (SELECT v.due_date FROM reference_version v WHERE v.id = r.reference_version_id) END, " \
     "r.ref_overdue, " \
     "coalesce(r.measuring_current_a, 0), coalesce(r.measuring_voltage_v, 0), " \
-    "coalesce(r.reference_version_id, 0)"
+    "coalesce(r.reference_version_id, 0), " \
+    "CASE r.quantity WHEN 'voltage' THEN 1 WHEN 'reported_temperature' THEN 2 " \
+    "  WHEN 'code' THEN 3 ELSE 0 END"
 #define BGI_RUN_FROM " FROM run r JOIN probe p ON r.probe_id = p.id " \
     "LEFT JOIN reference x ON r.reference_id = x.id "
 #define BGI_READING_COLS "g.id, g.run_id, g.line, g.t_raw, r.t_raw_unit, g.t_k, g.r_ohm, " \
-    "g.u_t_k, g.u_r_ohm, g.time, g.note, e.reading_id IS NOT NULL, e.reason, e.by_whom, e.at"
+    "g.u_t_k, g.u_r_ohm, g.time, g.note, e.reading_id IS NOT NULL, e.reason, e.by_whom, e.at, " \
+    "CASE r.quantity WHEN 'voltage' THEN 1 WHEN 'reported_temperature' THEN 2 " \
+    "  WHEN 'code' THEN 3 ELSE 0 END"
 /* The readings of run ?1 in id order, each with its exclusion (through the run's id range). */
 #define BGI_READINGS_OF_RUN "SELECT " BGI_READING_COLS " FROM run r JOIN reading g ON g.id " \
     "BETWEEN r.first_reading AND r.first_reading + r.nreadings - 1 AND g.run_id = r.id " \

@@ -32,8 +32,9 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
                           "ambient, excitation, started_at, source, note, imported_at, "
                           "t_raw_unit, first_reading, nreadings, readings_sha256, "
                           "repeats_run, ref_overdue, measuring_current_a, measuring_voltage_v, "
-                          "reference_version_id) "
-                          "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err)) != BG_OK)
+                          "reference_version_id, quantity, quantity_unit) "
+                          "VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)", &q, err))
+        != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, imp->probe_id);
     if (imp->ref_id)
@@ -57,12 +58,19 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
     else
         sqlite3_bind_null(q, 15);
     bgi_bind_text_or_null(q, 16, imp->ref_overdue);
-    if (meta->measuring_current_a > 0.0)
+    if (imp->excite_a > 0.0)
+        sqlite3_bind_double(q, 17, imp->excite_a);
+    else if (meta->measuring_current_a > 0.0)
         sqlite3_bind_double(q, 17, meta->measuring_current_a);
     if (meta->measuring_voltage_v > 0.0)
         sqlite3_bind_double(q, 18, meta->measuring_voltage_v);
     if (imp->ref_version)
         sqlite3_bind_int64(q, 19, imp->ref_version);
+    if (imp->quantity != BG_QTY_RESISTANCE) { /* a resistance stays NULL, as before schema 11 */
+        sqlite3_bind_text(q, 20, bgi_quantity_name(imp->quantity), -1, SQLITE_STATIC);
+        sqlite3_bind_text(q, 21, bg_quantity_unit((bg_quantity)imp->quantity), -1,
+                          SQLITE_STATIC);
+    }
     if (sqlite3_step(q) != SQLITE_DONE)
         rc = bgi_db_fail(c, err, "cannot create the run");
     else
@@ -206,6 +214,7 @@ void bgi_run_row(sqlite3_stmt *q, bg_run *r)
     r->measuring_current_a = sqlite3_column_double(q, 20);
     r->measuring_voltage_v = sqlite3_column_double(q, 21);
     r->ref_version = sqlite3_column_int64(q, 22);
+    r->quantity = sqlite3_column_int(q, 23);
 }
 
 void bgi_reading_row(sqlite3_stmt *q, bg_reading_row *g)
@@ -225,6 +234,7 @@ void bgi_reading_row(sqlite3_stmt *q, bg_reading_row *g)
     bgi_copy_text(g->excl_reason, sizeof g->excl_reason, q, 12);
     bgi_copy_text(g->excl_by, sizeof g->excl_by, q, 13);
     bgi_copy_text(g->excl_at, sizeof g->excl_at, q, 14);
+    g->quantity = sqlite3_column_int(q, 15);
 }
 
 int bgi_sqlite_run_get(bgi_conn *c, long long run_id, bg_run *out, bg_error *err)

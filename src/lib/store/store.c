@@ -1084,13 +1084,15 @@ struct import_scan {
     double last_t;                  /* the latest reading time, s since 1970 (-inf: none) */
     size_t last_line;               /* its line (0: none) */
     char last_when[BG_TIME];        /* and as written */
+    double excite_a;                /* the first reading's excitation current, A (0: none) */
+    size_t excite_line;             /* its line */
     int time_rc;                    /* the first reading time bg_time_parse refused */
     bg_error time_err;              /* and its message */
 };
 
 /* The first pass: every reading parsed and checked, counted, digested and its time taken. */
-static int import_scan(struct import_src *s, const char *unit, struct import_scan *sc,
-                       bg_error *err)
+static int import_scan(struct import_src *s, const char *src, const char *unit,
+                       struct import_scan *sc, bg_error *err)
 {
     struct bgi_sha256 h;
     unsigned char d[32];
@@ -1103,10 +1105,23 @@ static int import_scan(struct import_src *s, const char *unit, struct import_sca
     bgi_sha256_update(&h, "bandgap readings v1\n", 20);
     bgi_sha256_update(&h, unit, strlen(unit));
     bgi_sha256_update(&h, "\n", 1);
+    if (s->shape->quantity != BG_QTY_RESISTANCE) { /* a resistance's form is as before */
+        const char *col = bg_quantity_column((bg_quantity)s->shape->quantity);
+        bgi_sha256_update(&h, col, strlen(col));
+        bgi_sha256_update(&h, "\n", 1);
+    }
     while ((rc = src_next(s, &r, err)) == BG_OK && r) {
         double t;
-        if (sc->n++ == 0)
+        if (sc->n++ == 0) {
             memcpy(sc->first_time, r->time, sizeof r->time);
+            sc->excite_a = s->shape->has_excite ? r->excite_a : 0.0;
+            sc->excite_line = r->pt.line;
+        } else if (s->shape->has_excite &&
+                   fabs(r->excite_a - sc->excite_a) > 1e-6 * sc->excite_a)
+            return bg_error_set(err, BG_EINVAL, "%s:%zu: field 'excite_a': %g A, but line %zu "
+                                "has %g A: a junction's model holds at one constant current; "
+                                "import each current as a run of its own", src,
+                                r->pt.line, r->excite_a, sc->excite_line, sc->excite_a);
         digest_reading(&h, r);
         sc->check = reading_check(sc->check, r);
         if (!r->time[0] || sc->time_rc != BG_OK)
@@ -1271,11 +1286,6 @@ static int import_run(bg_store *st, struct import_src *s, const struct import_sc
         ref = w.found.ref;
         imp->ref_version = w.found.v.id;
     }
-    if (shape->quantity != BG_QTY_RESISTANCE) /* the record's runs hold resistances */
-        return bg_error_set(err, BG_EINVAL, "%s: column '%s': the record holds resistances "
-                            "('ohms') only; fit this file directly with 'bandgap fit %s "
-                            "--model ...'", imp->src, bg_quantity_column((bg_quantity)
-                            shape->quantity), imp->src);
     int read_in_ohm = have_ref && (ref.kind == BG_REF_CVD || ref.kind == BG_REF_ITS90);
     if (shape->ref_ohms && !read_in_ohm)
         return bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs a reference "
@@ -1322,6 +1332,41 @@ static int check_measuring(const bg_run *meta, const char *src, bg_error *err)
     return BG_OK;
 }
 
+/* The file's excitation current (excite_a, a junction's) is the run's measuring current: a
+** different one given beside it, or a measuring voltage, contradicts it. */
+static int check_excitation(const bg_run *meta, const struct import_scan *sc, const char *src,
+                            bg_error *err)
+{
+    char a[32], b[32];
+    if (!(sc->excite_a > 0.0))
+        return BG_OK;
+    if (meta->measuring_voltage_v > 0.0)
+        return bg_error_set(err, BG_EINVAL, "%s:%zu: field 'excite_a': the file states the "
+                            "excitation current, so a measuring voltage cannot be given too",
+                            src, sc->excite_line);
+    if (meta->measuring_current_a > 0.0 &&
+        fabs(meta->measuring_current_a - sc->excite_a) > 1e-6 * sc->excite_a)
+        return bg_error_set(err, BG_EINVAL, "%s:%zu: field 'excite_a': %s, but the measuring "
+                            "current given is %s", src, sc->excite_line,
+                            bg_units_format_si(sc->excite_a, "A", 4, a, sizeof a),
+                            bg_units_format_si(meta->measuring_current_a, "A", 4, b, sizeof b));
+    return BG_OK;
+}
+
+static const char *const quantity_names[BG_QTY_COUNT] = {
+    "resistance", "voltage", "reported_temperature", "code"
+};
+
+const char *bgi_quantity_name(int quantity)
+{
+    return (unsigned)quantity < BG_QTY_COUNT ? quantity_names[quantity] : "?";
+}
+
+const char *bg_store_quantity_name(int quantity)
+{
+    return bgi_quantity_name(quantity);
+}
+
 char *bg_store_run_measuring(const bg_run *r, char *buf, size_t size)
 {
     char v[32];
@@ -1352,7 +1397,7 @@ static int import_src_run(bg_store *st, struct import_src *s, const bg_run *meta
     imp.src = meta->source[0] ? meta->source : "-";
     imp.unit = s->shape->ref_ohms ? "ohm" : bg_units_symbol(s->shape->t_unit, 1);
     imp.ref_overdue = meta->ref_overdue[0] ? meta->ref_overdue : NULL;
-    if ((rc = import_scan(s, imp.unit, &sc, err)) != BG_OK)
+    if ((rc = import_scan(s, imp.src, imp.unit, &sc, err)) != BG_OK)
         return rc;
     if (sc.n == 0)
         return bg_error_set(err, BG_EINVAL, "%s: no readings to import", imp.src);
@@ -1361,8 +1406,11 @@ static int import_src_run(bg_store *st, struct import_src *s, const bg_run *meta
         (rc = check_text("note", meta->note, BG_NOTE, 0, err)) != BG_OK ||
         (rc = check_text("reason", meta->ref_overdue, BG_NOTE, 0, err)) != BG_OK)
         return rc;
-    if ((rc = check_measuring(meta, imp.src, err)) != BG_OK)
+    if ((rc = check_measuring(meta, imp.src, err)) != BG_OK ||
+        (rc = check_excitation(meta, &sc, imp.src, err)) != BG_OK)
         return rc;
+    imp.quantity = s->shape->quantity;
+    imp.excite_a = sc.excite_a;
     if (meta->started_at[0] && !bg_csv_valid_time(meta->started_at))
         return bg_error_set(err, BG_EINVAL, "start time '%s': not an ISO 8601 date-time",
                             meta->started_at);

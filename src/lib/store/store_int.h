@@ -52,7 +52,15 @@ struct bgi_import {
     const char *ref_overdue;
     /* schema 8: the reference version the readings are corrected with (0: the row itself) */
     long long ref_version;
+    /* schema 11: what the readings are (a bg_quantity: run.quantity and run.quantity_unit,
+    ** NULL for a resistance, see bgi_quantity_name) and the excitation current the file
+    ** states for a voltage (A, 0: none; stored as run.measuring_current_a) */
+    int quantity;
+    double excite_a;
 };
+
+/* The name a run's quantity is stored under (run.quantity; "resistance" for 0, stored as NULL). */
+const char *bgi_quantity_name(int quantity);
 
 /* An artifact to store under 'id' (from artifact_next). */
 struct bgi_artifact_row {
