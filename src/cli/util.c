@@ -549,9 +549,14 @@ void cli_progress(const char *what, size_t i, size_t n)
     term = getenv("TERM");
     if (!isatty(STDERR_FILENO) || (term && strcmp(term, "dumb") == 0))
         return;
-    fprintf(stderr, "\r%s [%.*s%*s] %zu/%zu", what, done, "##############################",
-            width - done, "", i, n);
-    if (i == n)
-        fputc('\n', stderr);
+    /* straight to the descriptor: the stderr filter (safeout.c) shows a carriage return as
+    ** "\x0D", and this line is the program's own (a constant and numbers) */
+    char line[160];
+    int len = snprintf(line, sizeof line, "\r%s [%.*s%*s] %zu/%zu%s", what, done,
+                       "##############################", width - done, "", i, n,
+                       i == n ? "\n" : "");
     fflush(stderr);
+    if (len > 0 && write(STDERR_FILENO, line, (size_t)len < sizeof line ? (size_t)len
+                                                                           : sizeof line - 1) < 0)
+        return; /* a progress line that cannot be shown is not an error */
 }
