@@ -329,34 +329,10 @@ int bgi_pg_lot_latest_fits(bgi_conn *c, long long lot_id, const char *since, bg_
     return rc;
 }
 
-/* One probe's history as the histories gather it (the buffers grow). */
-struct hist_buf {
-    bg_fit_row *fits;
-    char (*when)[BG_TIME];
-    size_t n, cap, unfitted;
-};
-
-static int hist_buf_push(struct hist_buf *h)
-{
-    if (h->n < h->cap)
-        return BG_OK;
-    size_t cap = h->cap ? 2 * h->cap : 8;
-    bg_fit_row *f = realloc(h->fits, cap * sizeof *f);
-    if (f)
-        h->fits = f;
-    char (*w)[BG_TIME] = realloc(h->when, cap * sizeof *w);
-    if (w)
-        h->when = w;
-    if (!f || !w)
-        return BG_ENOMEM;
-    h->cap = cap;
-    return BG_OK;
-}
-
 int bgi_pg_lot_histories(bgi_conn *c, long long lot_id, const char *since,
                          bg_lot_histories_cb cb, void *ctx, bg_error *err)
 {
-    struct hist_buf h = { NULL, NULL, 0, 0, 0 };
+    struct bgi_hist_buf h = { NULL, NULL, 0, 0, 0 };
     long long probe = 0;
     char serial[BG_TEXT] = "";
     int rc, stop = 0;
@@ -381,7 +357,7 @@ int bgi_pg_lot_histories(bgi_conn *c, long long lot_id, const char *since,
             h.unfitted++;
             continue;
         }
-        if (hist_buf_push(&h) != BG_OK) {
+        if (bgi_hist_buf_push(&h) != BG_OK) {
             rc = bg_error_set(err, BG_ENOMEM, "out of memory reading the history of probe "
                               "'%s'", serial);
             break;

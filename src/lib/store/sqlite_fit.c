@@ -471,30 +471,6 @@ int bgi_sqlite_lot_latest_fits(bgi_conn *c, long long lot_id, const char *since,
     return rc;
 }
 
-/* One probe's history as bgi_sqlite_lot_histories gathers it (the buffers grow). */
-struct hist_buf {
-    bg_fit_row *fits;
-    char (*when)[BG_TIME];
-    size_t n, cap, unfitted;
-};
-
-static int hist_buf_push(struct hist_buf *h)
-{
-    if (h->n < h->cap)
-        return BG_OK;
-    size_t cap = h->cap ? 2 * h->cap : 8;
-    bg_fit_row *f = realloc(h->fits, cap * sizeof *f);
-    if (f)
-        h->fits = f;
-    char (*w)[BG_TIME] = realloc(h->when, cap * sizeof *w);
-    if (w)
-        h->when = w;
-    if (!f || !w)
-        return BG_ENOMEM;
-    h->cap = cap;
-    return BG_OK;
-}
-
 #define LOT_HISTORIES_SQL(AT, OF) "SELECT p.id, p.serial, r.id, r.started_at, " FIT_COLS \
     " FROM probe p LEFT JOIN run r ON r.probe_id = p.id AND (?2 IS NULL OR r.started_at >= " \
     "?2) AND " AT("r", "p") " = ?1 " NEWEST_FIT "WHERE " OF("p", "?1") " " \
@@ -504,7 +480,7 @@ int bgi_sqlite_lot_histories(bgi_conn *c, long long lot_id, const char *since,
                              bg_lot_histories_cb cb, void *ctx, bg_error *err)
 {
     sqlite3_stmt *q = NULL;
-    struct hist_buf h = { NULL, NULL, 0, 0, 0 };
+    struct bgi_hist_buf h = { NULL, NULL, 0, 0, 0 };
     long long probe = 0;
     char serial[BG_TEXT] = "";
     int rc, s, stop = 0;
@@ -538,7 +514,7 @@ int bgi_sqlite_lot_histories(bgi_conn *c, long long lot_id, const char *since,
             h.unfitted++;
             continue;
         }
-        if (hist_buf_push(&h) != BG_OK) {
+        if (bgi_hist_buf_push(&h) != BG_OK) {
             rc = bg_error_set(err, BG_ENOMEM, "out of memory reading the history of probe "
                               "'%s'", serial);
             break;

@@ -293,4 +293,13 @@ void bgi_chain_real(struct bgi_sha256 *h, const char *name, double v);
 void bgi_chain_bytes(struct bgi_sha256 *h, const char *name, int text, const void *p, size_t n);
 void bgi_chain_reading(struct bgi_sha256 *h);
 
+/* One probe's history as a backend's lot-history read gathers it (fit_row.c): room for one
+** more fit and its time, the buffers doubling; BG_ENOMEM when they cannot grow. */
+struct bgi_hist_buf {
+    bg_fit_row *fits;
+    char (*when)[BG_TIME];
+    size_t n, cap, unfitted;
+};
+int bgi_hist_buf_push(struct bgi_hist_buf *h);
+
 #endif
