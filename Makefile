@@ -258,10 +258,21 @@ fuzz: $(FUZZ_TARGETS:%=$(BUILD)/fuzz/fuzz_%)
 # seconds: 10 in CI (where CI=true), 5 elsewhere: the six targets fuzz for a minute together
 # in CI (half a minute elsewhere), besides building them, which keeps the whole of make test
 # near ten minutes on two cores now that it also runs the firmware, server and sequence suites.
+# The plain and the sanitizer suites build and run side by side, one on each core (their
+# builds, temporary files, servers and simulators are their own); each line of their output
+# carries the suite's name, and each suite's whole log is kept in build*/test.log.
 TEST_FUZZ_TIME = $(if $(CI),10,5)
 test: deps
-	@$(MAKE) --no-print-directory check
-	@$(MAKE) --no-print-directory sanitize
+	@mkdir -p build build-san; rm -f build/test.rc build-san/test.rc
+	@{ { $(MAKE) --no-print-directory check 2>&1; echo $$? > build/test.rc; } \
+	    | tee build/test.log | sed -u 's/^/[plain] /'; } & \
+	 { { $(MAKE) --no-print-directory sanitize 2>&1; echo $$? > build-san/test.rc; } \
+	    | tee build-san/test.log | sed -u 's/^/[sanitize] /'; } & \
+	 wait; \
+	 for s in build build-san; do \
+	   test "$$(cat $$s/test.rc 2>/dev/null)" = 0 || { echo "make test: the suite in $$s failed"; \
+	     grep -E '^(tests:|failing:)' $$s/test.log; exit 1; }; \
+	 done
 	@$(MAKE) --no-print-directory fuzz FUZZ_TIME=$(TEST_FUZZ_TIME)
 	@cat build/summary build-san/summary | awk '{ p += $$1; f += $$2 } \
 	    END { print "plain and sanitizer suites together; fuzz targets clean"; \
