@@ -142,7 +142,10 @@ int bgi_pg_exclude(bgi_conn *c, long long reading_id, const char *why, const cha
                    const char *now, bg_error *err);
 int bgi_pg_run_by_digest(bgi_conn *c, long long probe_id, const char *sha256,
                          long long *run_id, bg_error *err);
-/* The run and reading columns (aliases as sqlite_int.h's) and their readers. */
+/* The run and reading columns (aliases as sqlite_int.h's) and their readers; a run's
+** quantity (run.quantity, schema 11) as its bg_quantity number. */
+#define BGI_PG_QUANTITY "CASE r.quantity WHEN 'voltage' THEN 1 WHEN 'reported_temperature' " \
+    "THEN 2 WHEN 'code' THEN 3 ELSE 0 END"
 #define BGI_PG_RUN_COLS "r.id, r.probe_id, coalesce(r.reference_id, 0), p.serial, " \
     "coalesce(x.ident, ''), r.operator, r.medium, r.ambient, r.excitation, r.started_at, " \
     "r.source, r.note, r.imported_at, r.nreadings, " \
@@ -153,12 +156,12 @@ int bgi_pg_run_by_digest(bgi_conn *c, long long probe_id, const char *sha256,
     "CASE WHEN r.reference_version_id IS NULL THEN x.due_date ELSE " \
     "  (SELECT v.due_date FROM reference_version v WHERE v.id = r.reference_version_id) END, " \
     "r.ref_overdue, coalesce(r.measuring_current_a, 0), coalesce(r.measuring_voltage_v, 0), " \
-    "coalesce(r.reference_version_id, 0)"
+    "coalesce(r.reference_version_id, 0), " BGI_PG_QUANTITY
 #define BGI_PG_RUN_FROM " FROM run r JOIN probe p ON r.probe_id = p.id " \
     "LEFT JOIN reference x ON r.reference_id = x.id "
 #define BGI_PG_READINGS_OF_RUN "SELECT g.id, g.run_id, g.line, g.t_raw, r.t_raw_unit, g.t_k, " \
     "g.r_ohm, g.u_t_k, g.u_r_ohm, g.time, g.note, (e.reading_id IS NOT NULL)::int, e.reason, " \
-    "e.by_whom, e.at FROM run r JOIN reading g ON g.id BETWEEN r.first_reading AND " \
+    "e.by_whom, e.at, " BGI_PG_QUANTITY " FROM run r JOIN reading g ON g.id BETWEEN r.first_reading AND " \
     "r.first_reading + r.nreadings - 1 AND g.run_id = r.id LEFT JOIN exclusion e ON " \
     "e.reading_id = g.id WHERE r.id = $1 ORDER BY g.id"
 void bgi_pg_run_row(const PGresult *res, int r, bg_run *out);

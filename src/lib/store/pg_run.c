@@ -25,7 +25,7 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
     *first = pgv_ll(res, 0, 0);
     *rid = pgv_ll(res, 0, 1);
     PQclear(res);
-    if (pgp_init(&p, 20) != BG_OK)
+    if (pgp_init(&p, 22) != BG_OK)
         return bg_error_set(err, BG_ENOMEM, "out of memory");
     pgp_int(&p, *rid);
     pgp_int(&p, imp->probe_id);
@@ -44,15 +44,20 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
     pgp_text(&p, imp->sha256);
     pgp_int0(&p, imp->repeats_run);
     pgp_text0(&p, imp->ref_overdue);
-    pgp_dbl(&p, meta->measuring_current_a > 0.0 ? meta->measuring_current_a : NAN);
+    pgp_dbl(&p, imp->excite_a > 0.0 ? imp->excite_a
+                : meta->measuring_current_a > 0.0 ? meta->measuring_current_a : NAN);
     pgp_dbl(&p, meta->measuring_voltage_v > 0.0 ? meta->measuring_voltage_v : NAN);
     pgp_int0(&p, imp->ref_version);
+    /* a resistance stays NULL, as before schema 11 (and as on SQLite) */
+    pgp_text(&p, imp->quantity != BG_QTY_RESISTANCE ? bgi_quantity_name(imp->quantity) : NULL);
+    pgp_text(&p, imp->quantity != BG_QTY_RESISTANCE
+                     ? bg_quantity_unit((bg_quantity)imp->quantity) : NULL);
     res = bgi_pg_exec(c, -1, "INSERT INTO run(id, probe_id, reference_id, operator, medium, "
                       "ambient, excitation, started_at, source, note, imported_at, t_raw_unit, "
                       "first_reading, nreadings, readings_sha256, repeats_run, ref_overdue, "
-                      "measuring_current_a, measuring_voltage_v, reference_version_id) VALUES "
-                      "($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, $13, $14, $15, $16, "
-                      "$17, $18, $19, $20)", &p, &rc, err, "cannot create the run");
+                      "measuring_current_a, measuring_voltage_v, reference_version_id, quantity, "
+                      "quantity_unit) VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, "
+                      "$13, $14, $15, $16, $17, $18, $19, $20, $21, $22)", &p, &rc, err, "cannot create the run");
     PQclear(res);
     pgp_free(&p);
     return rc;
@@ -161,12 +166,6 @@ static int insert_readings(bgi_conn *c, const struct bgi_import *imp, long long 
 int bgi_pg_import(bgi_conn *c, const struct bgi_import *imp, long long *run_id, bg_error *err)
 {
     long long first = 1, rid = 0;
-    /* runs of other quantities (schema 11) are not written by this backend yet: refused
-    ** before anything is written, never stored as resistances */
-    if (imp->quantity != BG_QTY_RESISTANCE)
-        return bg_error_set(err, BG_EUNAVAIL, "%s: readings in %s are not stored on the "
-                            "PostgreSQL backend yet (resistances only): import them into a "
-                            "SQLite database", imp->src, bgi_quantity_name(imp->quantity));
     int rc = insert_run(c, imp, &first, &rid, err);
     if (rc == BG_OK)
         rc = insert_readings(c, imp, first, rid, err);
@@ -201,7 +200,7 @@ void bgi_pg_run_row(const PGresult *res, int i, bg_run *r)
     r->measuring_current_a = pgv_dbl(res, i, 20);
     r->measuring_voltage_v = pgv_dbl(res, i, 21);
     r->ref_version = pgv_ll(res, i, 22);
-    r->quantity = BG_QTY_RESISTANCE; /* the only quantity this backend stores (see import) */
+    r->quantity = (int)pgv_ll(res, i, 23);
 }
 
 void bgi_pg_reading_row(const PGresult *res, int i, bg_reading_row *g)
@@ -221,7 +220,7 @@ void bgi_pg_reading_row(const PGresult *res, int i, bg_reading_row *g)
     pgv_text(g->excl_reason, sizeof g->excl_reason, res, i, 12);
     pgv_text(g->excl_by, sizeof g->excl_by, res, i, 13);
     pgv_text(g->excl_at, sizeof g->excl_at, res, i, 14);
-    g->quantity = BG_QTY_RESISTANCE; /* the only quantity this backend stores (see import) */
+    g->quantity = (int)pgv_ll(res, i, 15);
 }
 
 /* A query of one integer parameter. */
