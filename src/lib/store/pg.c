@@ -586,7 +586,7 @@ static int pg_lot_add(bgi_conn *c, const bg_lot *lot, const char *now, long long
 
 #define LOT_COLS "l.id, l.code, l.part, l.r25_ohm, l.beta_k, l.pair_t1_k, l.pair_t2_k, " \
                  "l.tol_r25, l.tol_beta, l.note, l.created_at, " \
-                 "(SELECT count(*) FROM probe p WHERE p.lot_id = l.id)"
+                 "(SELECT count(*) FROM probe p WHERE " BGI_PG_PROBE_NOW_IN("p", "l.id") ")"
 
 static void lot_row(const PGresult *res, int r, bg_lot *l)
 {
@@ -757,7 +757,7 @@ int bgi_pg_probe_get(bgi_conn *c, const char *serial, bg_probe *out, bg_error *e
 {
     int rc;
     PGresult *res = by_text(c, PGS_PROBE_GET, "SELECT " BGI_PG_PROBE_COLS " FROM probe p JOIN "
-                            "lot l ON p.lot_id = l.id WHERE p.serial = $1", serial, &rc, err,
+                            "lot l ON l.id = " BGI_PG_LOT_NOW("p") " WHERE p.serial = $1", serial, &rc, err,
                             "cannot read probes");
     if (!res)
         return rc;
@@ -792,8 +792,8 @@ static int pg_probe_each(bgi_conn *c, const char *lot_code, bg_probe_cb cb, void
     if (rc != BG_OK)
         return rc;
     PGresult *res = by_text(c, -1, "SELECT " BGI_PG_PROBE_COLS " FROM probe p JOIN lot l ON "
-                            "p.lot_id = l.id WHERE $1::text IS NULL OR l.code = $1 ORDER BY "
-                            "p.serial", lot_code, &rc, err, "cannot read probes");
+                            "l.id = " BGI_PG_LOT_NOW("p") " WHERE $1::text IS NULL OR l.code = "
+                            "$1 ORDER BY p.serial", lot_code, &rc, err, "cannot read probes");
     for (int i = 0; res && i < PQntuples(res); i++) {
         bgi_pg_probe_row(res, i, &p);
         if (cb(&p, ctx))
@@ -1047,17 +1047,26 @@ static int pg_lot_version_each(bgi_conn *c, long long lot_id, bg_lot_version_cb 
     return rc;
 }
 
-/* A probe's move to another lot: on this backend the lot-wide reads select probes by their
-** lot now (probe.lot_id), not by the lot each run counted toward at its start as the SQLite
-** backend does (BGI_LOT_AT_RUN), so a move is refused here rather than recorded with verdicts
-** that would differ between the backends. */
+/* A probe's move to another lot (the lot-wide reads follow it: BGI_PG_LOT_AT_RUN ...). */
 static int pg_probe_version_add(bgi_conn *c, long long probe_id, const bg_probe_version *pv,
                                 const char *now, long long *id, bg_error *err)
 {
-    (void)c, (void)probe_id, (void)pv, (void)now, (void)id;
-    return bg_error_set(err, BG_EUNAVAIL, "probe move is not available on the PostgreSQL "
-                        "backend yet (its lot statistics do not follow moves): record it on a "
-                        "SQLite database, or wait for a later version");
+    struct pgp p;
+    int rc;
+    if (pgp_init(&p, 6) != BG_OK)
+        return bg_error_set(err, BG_ENOMEM, "out of memory");
+    pgp_int(&p, probe_id);
+    pgp_text(&p, pv->v.valid_from);
+    pgp_int(&p, pv->probe.lot_id);
+    pgp_text(&p, pv->v.why);
+    pgp_text(&p, pv->v.by);
+    pgp_text(&p, now);
+    rc = insert_id(c, "INSERT INTO probe_version(id, probe_id, valid_from, lot_id, why, "
+                   "by_whom, created_at) SELECT coalesce(max(id), 0) + 1, $1, $2, $3, $4, $5, "
+                   "$6 FROM probe_version RETURNING id", &p, id, err,
+                   "cannot add the probe version");
+    pgp_free(&p);
+    return rc;
 }
 
 static int pg_probe_version_each(bgi_conn *c, long long probe_id, bg_probe_version_cb cb,

@@ -292,7 +292,7 @@ int bgi_pg_run_each(bgi_conn *c, const char *serial, const char *lot_code, bg_ru
     if (rc != BG_OK)
         return rc;
     PGresult *res = bgi_pg_exec(c, -1, "SELECT " BGI_PG_RUN_COLS BGI_PG_RUN_FROM "JOIN lot l "
-                                "ON p.lot_id = l.id WHERE ($1::text IS NULL OR p.serial = $1) "
+                                "ON l.id = " BGI_PG_LOT_AT_RUN("r", "p") " WHERE ($1::text IS NULL OR p.serial = $1) "
                                 "AND ($2::text IS NULL OR l.code = $2) ORDER BY r.id", &p, &rc,
                                 err, "cannot read runs");
     for (int i = 0; res && i < PQntuples(res); i++) {
@@ -364,6 +364,12 @@ int bgi_pg_run_points(bgi_conn *c, long long run_id, bg_store_points *out, bg_er
     return rc;
 }
 
+/* A lot-wide query written once over the lot's relation (pg_int.h): AT(r, p) the lot a run
+** counts toward, OF(p, lot) the candidate probes; the move-aware set or the plain one. */
+#define LOT_POINTS_SQL(AT, OF) "SELECT p.id, p.serial, coalesce((SELECT r.id FROM run r WHERE " \
+    "r.probe_id = p.id AND " AT("r", "p") " = $1 ORDER BY r.started_at DESC, r.id DESC " \
+    "LIMIT 1), 0) FROM probe p WHERE " OF("p", "$1") " ORDER BY p.id"
+
 int bgi_pg_lot_points_each(bgi_conn *c, const bg_lot *lot, bg_lot_points_cb cb, void *ctx,
                            bg_error *err)
 {
@@ -371,11 +377,15 @@ int bgi_pg_lot_points_each(bgi_conn *c, const bg_lot *lot, bg_lot_points_cb cb, 
     int own, rc = bgi_pg_read_begin(c, &own, err);
     if (rc != BG_OK)
         return rc;
-    /* the lot's probes with their newest runs, in the order the probes were added; then each
-    ** run's points */
-    PGresult *res = by_id(c, -1, "SELECT p.id, p.serial, coalesce((SELECT r.id FROM run r "
-                          "WHERE r.probe_id = p.id ORDER BY r.started_at DESC, r.id DESC LIMIT "
-                          "1), 0) FROM probe p WHERE p.lot_id = $1 ORDER BY p.id", lot->id, &rc,
+    /* the lot's probes with their newest runs that count toward it, in the order the probes
+    ** were added; then each run's points */
+    int moved = 1;
+    if ((rc = bgi_pg_lot_moved(c, lot->id, &moved, err)) != BG_OK) {
+        bgi_pg_read_end(c, own);
+        return rc;
+    }
+    PGresult *res = by_id(c, -1, moved ? LOT_POINTS_SQL(BGI_PG_LOT_AT_RUN, BGI_PG_PROBE_OF) :
+                          LOT_POINTS_SQL(BGI_PG_PLAIN_AT_RUN, BGI_PG_PLAIN_OF), lot->id, &rc,
                           err, "cannot read the lot's probes");
     for (int i = 0; res && rc == BG_OK && i < PQntuples(res); i++) {
         long long run = pgv_ll(res, i, 2);
