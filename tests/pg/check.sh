@@ -26,6 +26,9 @@
 #   run-quantities  runs of volts, reported temperatures and codes (and a resistance run)
 #                 imported, fitted (each probe; the mixed lot refused alike) and read back: export, show,
 #                 list, verify (the chain's head) and a run report the same bytes on both
+#   sequences     tests/sequence.sh with BG_SEQ_BACKEND=pg: a whole sequence over SCPI into the
+#                 server, SIGKILL and --resume, an unsettled setpoint, resume and bad files
+#                 refused with the data unchanged (about 40 s)
 #   unavailable   a stopped server: a clear message and exit 69
 # Usage: check.sh BANDGAP
 BIN=$(cd "$(dirname "$1")" && pwd)/$(basename "$1")
@@ -396,6 +399,15 @@ done
   "voltage/V reported_temperature/degC code/LSB -/-" ] ||
     { ok=1; echo "# the server's run.quantity columns are not as written"; }
 result run-quantities "$ok" "runs of volts, reported temperatures or codes differ between backends"
+
+# ---- calibration sequences into the server (tests/sequence.sh's record parts) ----
+BG_SEQ_BACKEND=pg sh "$HERE/../sequence.sh" "$BIN" > "$T/seq.log" 2>&1
+ok=$?
+grep '^not ok' "$T/seq.log" | head -10
+n_seq=$(grep -c '^ok ' "$T/seq.log")
+grep -q '^not ok' "$T/seq.log" && ok=1
+[ "$n_seq" -ge 30 ] || ok=1
+result sequences "$ok" "$(grep -c '^not ok' "$T/seq.log") sequence checks failed, $n_seq passed"
 
 # ---- the server away ----
 ok=0

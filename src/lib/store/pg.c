@@ -1101,60 +1101,6 @@ static int pg_probe_version_each(bgi_conn *c, long long probe_id, bg_probe_versi
     return rc;
 }
 
-/* Calibration sequences (db/pg/010 has their tables): not offered on this backend yet; each
-** call refuses with exit 69 before anything is written. */
-static int seq_refused(bg_error *err)
-{
-    return bg_error_set(err, BG_EUNAVAIL, "calibration sequences are not available on the "
-                        "PostgreSQL backend yet: run the sequence into a SQLite database");
-}
-
-static int pg_seq_add(bgi_conn *c, const bg_seq_head *h, const char *text, long long ref_id,
-                      long long *id, bg_error *err)
-{
-    (void)c, (void)h, (void)text, (void)ref_id, (void)id;
-    return seq_refused(err);
-}
-
-static int pg_seq_unfinished(bgi_conn *c, bg_seq_head *out, int *found, bg_error *err)
-{
-    (void)c, (void)out, (void)found;
-    return seq_refused(err);
-}
-
-static int pg_seq_settle(bgi_conn *c, long long seq_id, const bg_seq_settle *st, bg_error *err)
-{
-    (void)c, (void)seq_id, (void)st;
-    return seq_refused(err);
-}
-
-static int pg_seq_reading(bgi_conn *c, long long seq_id, const bg_seq_reading *r, bg_error *err)
-{
-    (void)c, (void)seq_id, (void)r;
-    return seq_refused(err);
-}
-
-static int pg_seq_readings(bgi_conn *c, long long seq_id, bg_seq_reading_cb cb, void *ctx,
-                           bg_error *err)
-{
-    (void)c, (void)seq_id, (void)cb, (void)ctx;
-    return seq_refused(err);
-}
-
-static int pg_seq_settles(bgi_conn *c, long long seq_id, bg_seq_settle_cb cb, void *ctx,
-                          bg_error *err)
-{
-    (void)c, (void)seq_id, (void)cb, (void)ctx;
-    return seq_refused(err);
-}
-
-static int pg_seq_end(bgi_conn *c, long long seq_id, const char *now, long long first_run,
-                      long long last_run, bg_error *err)
-{
-    (void)c, (void)seq_id, (void)now, (void)first_run, (void)last_run;
-    return seq_refused(err);
-}
-
 /* ---- part specifications ---- */
 
 static void dbl_pos(struct pgp *p, double v)
@@ -1398,8 +1344,8 @@ static int pg_artifact_each(bgi_conn *c, bg_artifact_cb cb, void *ctx, bg_error 
     bgi_pg_lot_histories, bgi_pg_export_each, \
     pg_ref_version_add, pg_ref_version_each, pg_lot_version_add, pg_lot_version_each, \
     pg_probe_version_add, pg_probe_version_each, \
-    pg_seq_add, pg_seq_unfinished, pg_seq_settle, pg_seq_reading, pg_seq_readings, \
-    pg_seq_settles, pg_seq_end, \
+    bgi_pg_seq_add, bgi_pg_seq_unfinished, bgi_pg_seq_settle, bgi_pg_seq_reading, \
+    bgi_pg_seq_readings, bgi_pg_seq_settles, bgi_pg_seq_end, \
 }
 
 const struct bgi_store_backend bgi_store_pg = PG_BACKEND("postgresql");

@@ -1,6 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* Internal: the PostgreSQL backend's connection and the helpers its files share (pg.c,
-** pg_run.c, pg_fit.c, pg_chain.c: the only files that include libpq-fe.h).  Every statement
+** pg_run.c, pg_fit.c, pg_chain.c, pg_seq.c: the only files that include libpq-fe.h).  Every statement
 ** that carries a value is sent with its values as parameters (PQexecParams or a prepared
 ** statement): no value is ever spliced into SQL text. */
 #ifndef BANDGAP_PG_INT_H
@@ -237,6 +237,19 @@ int bgi_pg_fit_row(const PGresult *res, int r, int b, bg_fit_row *f, bg_error *e
 ** transaction is open; '*own' says whether it began one; end it with bgi_pg_read_end. */
 int bgi_pg_read_begin(bgi_conn *c, int *own, bg_error *err);
 void bgi_pg_read_end(bgi_conn *c, int own);
+
+/* Calibration sequences (pg_seq.c; store_int.h's seq_* functions). */
+int bgi_pg_seq_add(bgi_conn *c, const bg_seq_head *h, const char *text, long long ref_id,
+                   long long *id, bg_error *err);
+int bgi_pg_seq_unfinished(bgi_conn *c, bg_seq_head *out, int *found, bg_error *err);
+int bgi_pg_seq_settle(bgi_conn *c, long long seq_id, const bg_seq_settle *s, bg_error *err);
+int bgi_pg_seq_reading(bgi_conn *c, long long seq_id, const bg_seq_reading *r, bg_error *err);
+int bgi_pg_seq_readings(bgi_conn *c, long long seq_id, bg_seq_reading_cb cb, void *ctx,
+                        bg_error *err);
+int bgi_pg_seq_settles(bgi_conn *c, long long seq_id, bg_seq_settle_cb cb, void *ctx,
+                       bg_error *err);
+int bgi_pg_seq_end(bgi_conn *c, long long seq_id, const char *now, long long first_run,
+                   long long last_run, bg_error *err);
 
 int bgi_pg_chain_append(bgi_conn *c, const char *kind, long long id, bg_error *err);
 int bgi_pg_chain_head(bgi_conn *c, long long *records, char hex[65], bg_error *err);
