@@ -757,7 +757,8 @@ int bgi_pg_probe_get(bgi_conn *c, const char *serial, bg_probe *out, bg_error *e
 {
     int rc;
     PGresult *res = by_text(c, PGS_PROBE_GET, "SELECT " BGI_PG_PROBE_COLS " FROM probe p JOIN "
-                            "lot l ON l.id = " BGI_PG_LOT_NOW("p") " WHERE p.serial = $1", serial, &rc, err,
+                            "lot l ON l.id = " BGI_PG_LOT_NOW("p") " WHERE p.serial = $1",
+                            serial, &rc, err,
                             "cannot read probes");
     if (!res)
         return rc;

@@ -201,7 +201,8 @@ int bgi_pg_fit_each(bgi_conn *c, const char *serial, const char *lot_code, bg_fi
     if (rc != BG_OK)
         return rc;
     PGresult *res = bgi_pg_exec(c, -1, "SELECT " FIT_COLS FIT_FROM "JOIN lot l ON l.id = "
-                                BGI_PG_LOT_AT_RUN("r", "p") " WHERE ($1::text IS NULL OR p.serial = $1) AND ($2::text "
+                                BGI_PG_LOT_AT_RUN("r", "p") " WHERE ($1::text IS NULL OR "
+                                "p.serial = $1) AND ($2::text "
                                 "IS NULL OR l.code = $2) ORDER BY f.id", &p, &rc, err,
                                 "cannot read fits");
     for (int i = 0; res && i < PQntuples(res); i++)

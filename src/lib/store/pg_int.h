@@ -1,8 +1,8 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* Internal: the PostgreSQL backend's connection and the helpers its files share (pg.c,
-** pg_run.c, pg_fit.c, pg_chain.c, pg_seq.c: the only files that include libpq-fe.h).  Every statement
-** that carries a value is sent with its values as parameters (PQexecParams or a prepared
-** statement): no value is ever spliced into SQL text. */
+** pg_run.c, pg_fit.c, pg_chain.c, pg_seq.c: the only files that include libpq-fe.h).  Every
+** statement that carries a value is sent with its values as parameters (PQexecParams or a
+** prepared statement): no value is ever spliced into SQL text. */
 #ifndef BANDGAP_PG_INT_H
 #define BANDGAP_PG_INT_H
 
@@ -202,9 +202,9 @@ int bgi_pg_run_by_digest(bgi_conn *c, long long probe_id, const char *sha256,
     "LEFT JOIN reference x ON r.reference_id = x.id "
 #define BGI_PG_READINGS_OF_RUN "SELECT g.id, g.run_id, g.line, g.t_raw, r.t_raw_unit, g.t_k, " \
     "g.r_ohm, g.u_t_k, g.u_r_ohm, g.time, g.note, (e.reading_id IS NOT NULL)::int, e.reason, " \
-    "e.by_whom, e.at, " BGI_PG_QUANTITY " FROM run r JOIN reading g ON g.id BETWEEN r.first_reading AND " \
-    "r.first_reading + r.nreadings - 1 AND g.run_id = r.id LEFT JOIN exclusion e ON " \
-    "e.reading_id = g.id WHERE r.id = $1 ORDER BY g.id"
+    "e.by_whom, e.at, " BGI_PG_QUANTITY " FROM run r JOIN reading g ON g.id BETWEEN " \
+    "r.first_reading AND r.first_reading + r.nreadings - 1 AND g.run_id = r.id LEFT JOIN " \
+    "exclusion e ON e.reading_id = g.id WHERE r.id = $1 ORDER BY g.id"
 void bgi_pg_run_row(const PGresult *res, int r, bg_run *out);
 void bgi_pg_reading_row(const PGresult *res, int r, bg_reading_row *g);
 

@@ -57,7 +57,8 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
                       "first_reading, nreadings, readings_sha256, repeats_run, ref_overdue, "
                       "measuring_current_a, measuring_voltage_v, reference_version_id, quantity, "
                       "quantity_unit) VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, "
-                      "$13, $14, $15, $16, $17, $18, $19, $20, $21, $22)", &p, &rc, err, "cannot create the run");
+                      "$13, $14, $15, $16, $17, $18, $19, $20, $21, $22)", &p, &rc, err,
+                      "cannot create the run");
     PQclear(res);
     pgp_free(&p);
     return rc;
@@ -292,7 +293,8 @@ int bgi_pg_run_each(bgi_conn *c, const char *serial, const char *lot_code, bg_ru
     if (rc != BG_OK)
         return rc;
     PGresult *res = bgi_pg_exec(c, -1, "SELECT " BGI_PG_RUN_COLS BGI_PG_RUN_FROM "JOIN lot l "
-                                "ON l.id = " BGI_PG_LOT_AT_RUN("r", "p") " WHERE ($1::text IS NULL OR p.serial = $1) "
+                                "ON l.id = " BGI_PG_LOT_AT_RUN("r", "p") " WHERE ($1::text IS "
+                                "NULL OR p.serial = $1) "
                                 "AND ($2::text IS NULL OR l.code = $2) ORDER BY r.id", &p, &rc,
                                 err, "cannot read runs");
     for (int i = 0; res && i < PQntuples(res); i++) {
