@@ -9,6 +9,12 @@
 # refused when the file or an instrument changed; a setpoint beyond the medium's limit
 # refused before any instrument is touched, the database unchanged after every refusal.
 # Each simulator lives at most 60 s; the whole file takes about half a minute.
+# With BG_SEQ_BACKEND=pg (inside tests/pg/server.sh, as tests/pg/check.sh runs it) each
+# database is a fresh database on the test server, and the parts that concern the record run
+# (1 the whole sequence, 2 SIGKILL and --resume, 4 the unsettled setpoint and the unfinished
+# sequence, 5's resume refused with the database unchanged, 6 the refusals); SIGINT, the
+# instruments' faults and the transports are the engine's code whichever the backend, and
+# run on SQLite only (about 40 s on the server).
 # Prints "ok NAME" / "not ok NAME".  Usage: sequence.sh BANDGAP [PYTHON]
 BIN=$(cd "$(dirname "$1")" && pwd)/$(basename "$1")
 PY=${2:-/usr/bin/python3}
@@ -52,13 +58,33 @@ unsim() {
     rm -f "$1.pid"
 }
 
+BACKEND=${BG_SEQ_BACKEND:-sqlite}
+PSQL="${BG_PG_BIN:-}/psql -X -q -At -v ON_ERROR_STOP=1"
+# D NAME.db: the database NAME.db names on this backend (a server database seq_NAME)
+D() { if [ "$BACKEND" = pg ]; then echo "postgresql:///seq_${1%.db}"; else echo "$1"; fi; }
+sqlite_only() { [ "$BACKEND" = sqlite ]; }
+# dbsum DB: a digest of the whole database (every table's rows on the server)
+dbsum() {
+    if sqlite_only; then sha256sum < "$1"; return; fi
+    for t in $($PSQL -d "seq_${1%.db}" -c "SELECT tablename FROM pg_tables WHERE schemaname =
+               current_schema() ORDER BY 1"); do
+        $PSQL -d "seq_${1%.db}" -c "SELECT * FROM $t ORDER BY 1"
+    done | sha256sum
+}
 newdb() { # DB: an invented lot of three probes and a reference without correction
-    rm -f "$1"
-    "$BIN" --db "$1" init > /dev/null &&
-    "$BIN" --db "$1" lot add L-SEQ --part NTC-SIM --r25 10k --beta 3950K --pair 25/85 \
+    if sqlite_only; then
+        rm -f "$1"
+    else
+        $PSQL -U "$BG_PG_ADMIN" -d postgres -c "DROP DATABASE IF EXISTS seq_${1%.db}" \
+            2> /dev/null &&
+        $PSQL -U "$BG_PG_ADMIN" -d postgres -c "CREATE DATABASE seq_${1%.db} OWNER
+            bandgap_owner TEMPLATE template0" || return 1
+    fi
+    "$BIN" --db "$(D "$1")" init > /dev/null &&
+    "$BIN" --db "$(D "$1")" lot add L-SEQ --part NTC-SIM --r25 10k --beta 3950K --pair 25/85 \
         --tol-r25 1% --tol-beta 1% > /dev/null &&
-    for p in S-1 S-2 S-3; do "$BIN" --db "$1" probe add $p --lot L-SEQ > /dev/null; done &&
-    "$BIN" --db "$1" ref add REF-0 --cert "CERT 0" --due 2099-01-01 --linear 0K,0,20C \
+    for p in S-1 S-2 S-3; do "$BIN" --db "$(D "$1")" probe add $p --lot L-SEQ > /dev/null; done &&
+    "$BIN" --db "$(D "$1")" ref add REF-0 --cert "CERT 0" --due 2099-01-01 --linear 0K,0,20C \
         > /dev/null
 }
 
@@ -114,7 +140,13 @@ port = $3
 timeout = 2 s
 EOF
 }
-q() { sqlite3 -cmd ".timeout 10000" "$1" "$2"; }
+q() { # DB SQL (SQLite's group_concat(nreadings) read as the server's string_agg, a truth
+      # value as 0 or 1)
+    if sqlite_only; then sqlite3 -cmd ".timeout 10000" "$1" "$2"; return; fi
+    $PSQL -d "seq_${1%.db}" -c "$(printf '%s' "$2" |
+        sed 's/group_concat(nreadings)/string_agg(nreadings::text, $$,$$ ORDER BY id)/;
+             s/(\([a-z_]*\) IS NOT NULL)/(\1 IS NOT NULL)::int/g')"
+}
 last_bath() { grep '^SOUR:TEMP' "$1" | tail -1; }
 
 # ---- 1. a whole sequence: 3 probes at 5 setpoints, fitted, against the invented curves ----
@@ -122,7 +154,7 @@ newdb full.db
 ports=$(sim bath)
 P=${ports% *} M=${ports#* }
 seqfile full.ini "$P" "$M"
-"$BIN" --db full.db sequence run full.ini > full.out 2> full.err
+"$BIN" --db "$(D full.db)" sequence run full.ini > full.out 2> full.err
 rc=$?
 check "a whole sequence finishes (exit $rc)" [ "$rc" = 0 ]
 check "45 readings recorded with time, channel, setpoint and raw replies" [ "$(q full.db \
@@ -131,22 +163,23 @@ check "45 readings recorded with time, channel, setpoint and raw replies" [ "$(q
 check "five settling records, each accepted within the criterion" [ "$(q full.db \
     "SELECT count(*) FROM sequence_settle WHERE settled = 1 AND abs(slope_k_s) <= 0.01
      AND scatter_k <= 0.003 AND samples >= 3")" = 5 ]
-check "the *IDN? replies are recorded" grep -q "bandgap-sim" full.db
+check "the *IDN? replies are recorded" [ "$(q full.db "SELECT count(*) FROM sequence WHERE
+    idn LIKE '%bandgap-sim%'")" = 1 ]
 check "three runs of 15 readings" [ "$(q full.db "SELECT group_concat(nreadings) FROM run")" \
     = "15,15,15" ]
 check "the bath ends at the safe setpoint" [ "$(last_bath bath.log)" = "SOUR:TEMP 20" ]
 check "SYST:ERR? follows every command" [ "$(grep -vc '^SYST:ERR?' bath.log)" = \
     "$(grep -c '^SYST:ERR?' bath.log)" ]
-"$BIN" --db full.db fit --lot L-SEQ --model sh3 > fit.out 2> fit.err
+"$BIN" --db "$(D full.db)" fit --lot L-SEQ --model sh3 > fit.out 2> fit.err
 check "fit --lot works on the recorded runs" [ $? = 0 ]
-"$BIN" --db full.db show run 2 > show.out 2>&1
+"$BIN" --db "$(D full.db)" show run 2 > show.out 2>&1
 check "show works on a recorded run" grep -q "sequence 1" show.out
-"$BIN" --db full.db verify > verify.out 2>&1
+"$BIN" --db "$(D full.db)" verify > verify.out 2>&1
 check "the record verifies after a sequence" [ $? = 0 ]
 # The fitted curves against the simulator's invented curves: T(R) within the bench's stated
 # errors (reference noise 1 mK, channel gradient up to 1 mK, self-heating up to 1.7 mK at
 # 10 uA and 2 mW/K over this range; the invented curves in bench_sim.py).
-"$BIN" --db full.db export --lot L-SEQ --json > export.json
+"$BIN" --db "$(D full.db)" export --lot L-SEQ --json > export.json
 "$PY" - "$SIM" export.json > curves.out 2>&1 <<'EOF'
 import json, math, sys, importlib.util
 spec = importlib.util.spec_from_file_location("bench_sim", sys.argv[1])
@@ -170,7 +203,7 @@ check "fitted curves within 4 mK of the invented ones ($(cat curves.out))" [ $? 
 newdb kill.db
 seqfile kill.ini "$P" "$M"
 for at in 7 26; do
-    "$BIN" --db kill.db sequence run kill.ini $([ $at = 26 ] && echo --resume) \
+    "$BIN" --db "$(D kill.db)" sequence run kill.ini $([ $at = 26 ] && echo --resume) \
         > /dev/null 2>&1 &
     pid=$!
     i=0
@@ -182,20 +215,22 @@ for at in 7 26; do
     check "SIGKILL after $at readings keeps them ($n kept)" [ "$n" -ge $at ]
     check "nothing finished after a SIGKILL" [ "$(q kill.db "SELECT count(*) FROM run")" = 0 ]
 done
-"$BIN" --db kill.db sequence run kill.ini --resume > kill.out 2> kill.err
+"$BIN" --db "$(D kill.db)" sequence run kill.ini --resume > kill.out 2> kill.err
 check "--resume finishes the killed sequence (exit $?)" grep -q "sequence 1 finished (resumed)" kill.out
 check "after the kills: 45 readings, none twice" [ "$(q kill.db "SELECT count(*),
     count(DISTINCT setpoint || '/' || probe || '/' || k) FROM sequence_reading")" = "45|45" ]
 check "after the kills: three runs of 15 readings" [ "$(q kill.db \
     "SELECT group_concat(nreadings) FROM run")" = "15,15,15" ]
-check "after the kills: integrity_check ok" [ "$(q kill.db "PRAGMA integrity_check")" = ok ]
-"$BIN" --db kill.db verify > /dev/null 2>&1
+sqlite_only && check "after the kills: integrity_check ok" [ "$(q kill.db "PRAGMA integrity_check")" = ok ]
+"$BIN" --db "$(D kill.db)" verify > /dev/null 2>&1
 check "after the kills: the record verifies" [ $? = 0 ]
 
+# (the signal handling is the engine's, whichever the backend: on SQLite only)
+if sqlite_only; then
 # ---- 3. SIGINT: the bath to its safe setpoint, resumable ----
 newdb int.db
 seqfile int.ini "$P" "$M"
-"$BIN" --db int.db sequence run int.ini > int.out 2> int.err &
+"$BIN" --db "$(D int.db)" sequence run int.ini > int.out 2> int.err &
 pid=$!
 i=0
 while [ "$(q int.db "SELECT count(*) FROM sequence_reading" 2>/dev/null)" -lt 10 ] &&
@@ -208,8 +243,9 @@ check "SIGINT: the message says stopped and the bath safe" grep -q \
     "stopped at your request.*the bath was set to its safe setpoint 20.00" int.err
 check "SIGINT: the bath's last setpoint is the safe one" [ "$(last_bath bath.log)" = \
     "SOUR:TEMP 20" ]
-"$BIN" --db int.db sequence run int.ini --resume > /dev/null 2>&1
+"$BIN" --db "$(D int.db)" sequence run int.ini --resume > /dev/null 2>&1
 check "SIGINT: --resume finishes" [ "$(q int.db "SELECT count(*) FROM sequence_end")" = 1 ]
+fi
 unsim bath
 
 # ---- 4. a setpoint that never settles: skipped, or the sequence stops ----
@@ -217,7 +253,7 @@ newdb skip.db
 ports=$(sim bath --unsettled-setpoint 40)
 P=${ports% *} M=${ports#* }
 seqfile skip.ini "$P" "$M" skip "3 s" "0 C, 40 C, 60 C"
-"$BIN" --db skip.db sequence run skip.ini > skip.out 2> skip.err
+"$BIN" --db "$(D skip.db)" sequence run skip.ini > skip.out 2> skip.err
 check "an unsettled setpoint is skipped (exit $?)" grep -q "1 setpoint skipped" skip.out
 check "the unsettled setpoint is recorded as such, with its drift and scatter" [ "$(q skip.db \
     "SELECT setpoint || ':' || settled || ':' || (scatter_k IS NOT NULL) FROM sequence_settle
@@ -226,33 +262,34 @@ check "runs without the skipped setpoint: 6 readings each" [ "$(q skip.db \
     "SELECT group_concat(nreadings) FROM run")" = "6,6,6" ]
 newdb stop.db
 seqfile stop.ini "$P" "$M" stop "3 s" "0 C, 40 C, 60 C"
-"$BIN" --db stop.db sequence run stop.ini > stop.out 2> stop.err
+"$BIN" --db "$(D stop.db)" sequence run stop.ini > stop.out 2> stop.err
 rc=$?
 check "on_timeout = stop: exit 75 (got $rc)" [ "$rc" = 75 ]
 check "on_timeout = stop: the bath at its safe setpoint" [ "$(last_bath bath.log)" = \
     "SOUR:TEMP 20" ]
 check "on_timeout = stop: no run made, readings of setpoint 1 kept" [ "$(q stop.db \
     "SELECT (SELECT count(*) FROM run) || ':' || count(*) FROM sequence_reading")" = "0:9" ]
-"$BIN" --db stop.db sequence run stop.ini > /dev/null 2> again.err
+"$BIN" --db "$(D stop.db)" sequence run stop.ini > /dev/null 2> again.err
 check "a new run of a file with an unfinished sequence says so" grep -q \
     "sequence 1 of this file is unfinished; this starts a new one" again.err
 unsim bath
 ports=$(sim bath)
 P=${ports% *} M=${ports#* }
 seqfile stop2.ini "$P" "$M" stop "3 s" "0 C, 40 C, 60 C"
-"$BIN" --db stop.db sequence run stop2.ini --resume > /dev/null 2> resume-changed.err
+"$BIN" --db "$(D stop.db)" sequence run stop2.ini --resume > /dev/null 2> resume-changed.err
 rc=$?
 check "resume refused when the file changed (exit $rc)" grep -q \
     "not the one sequence 2 was started with" resume-changed.err
 unsim bath
 
 # ---- 5. instruments that fail: drop, SCPI error, garbage; the bath safe each time ----
+if sqlite_only; then
 for fault in "drop-after 20" "error-after 20" "garbage-after 22"; do
     newdb fault.db
     ports=$(sim bath --${fault% *} ${fault#* })
     P=${ports% *} M=${ports#* }
     seqfile fault.ini "$P" "$M" skip "10 s" "0 C, 20 C"
-    "$BIN" --db fault.db sequence run fault.ini > fault.out 2> fault.err
+    "$BIN" --db "$(D fault.db)" sequence run fault.ini > fault.out 2> fault.err
     rc=$?
     check "${fault% *}: exit 69 (got $rc)" [ "$rc" = 69 ]
     check "${fault% *}: a clear message and the bath at its safe setpoint" grep -q \
@@ -275,27 +312,28 @@ newdb drop.db
 ports=$(sim bath --drop-after 16)
 P=${ports% *} M=${ports#* }
 seqfile drop.ini "$P" "$M" skip "10 s" "0 C, 20 C"
-"$BIN" --db drop.db sequence run drop.ini > /dev/null 2>&1
+"$BIN" --db "$(D drop.db)" sequence run drop.ini > /dev/null 2>&1
 unsim bath
 sim bath --port "$P" --port2 "$M" > /dev/null
-"$BIN" --db drop.db sequence run drop.ini --resume > /dev/null 2>&1
+"$BIN" --db "$(D drop.db)" sequence run drop.ini --resume > /dev/null 2>&1
 check "a dropped instrument back on its port: --resume finishes" [ "$(q drop.db \
     "SELECT count(*) FROM sequence_end")" = 1 ]
 unsim bath
+fi
 # another instrument answering: resume refused
 newdb idn.db
 ports=$(sim bath --drop-after 16)
 P=${ports% *} M=${ports#* }
 seqfile idn.ini "$P" "$M" skip "10 s" "0 C, 20 C"
-"$BIN" --db idn.db sequence run idn.ini > /dev/null 2>&1
+"$BIN" --db "$(D idn.db)" sequence run idn.ini > /dev/null 2>&1
 unsim bath
 sim bath --port "$P" --port2 "$M" --idn "bandgap-sim,another-bench,0002,1.0" > /dev/null
-before=$(sha256sum < idn.db)
-"$BIN" --db idn.db sequence run idn.ini --resume > /dev/null 2> idn.err
+before=$(dbsum idn.db)
+"$BIN" --db "$(D idn.db)" sequence run idn.ini --resume > /dev/null 2> idn.err
 rc=$?
 check "resume refused when an instrument's *IDN? changed (exit $rc)" grep -q \
     "instruments are not those sequence 1 was started with" idn.err
-check "the database unchanged by the refused resume" [ "$(sha256sum < idn.db)" = "$before" ]
+check "the database unchanged by the refused resume" [ "$(dbsum idn.db)" = "$before" ]
 unsim bath
 
 # ---- 6. refused before anything starts ----
@@ -304,19 +342,20 @@ ports=$(sim bath)
 P=${ports% *} M=${ports#* }
 seqfile lim.ini "$P" "$M" skip "10 s" "0 C, 20 C, 130 C"
 : > bath.log
-before=$(sha256sum < lim.db)
-"$BIN" --db lim.db sequence run lim.ini > /dev/null 2> lim.err
+before=$(dbsum lim.db)
+"$BIN" --db "$(D lim.db)" sequence run lim.ini > /dev/null 2> lim.err
 rc=$?
 check "a setpoint beyond the medium's limit: exit 65 (got $rc)" [ "$rc" = 65 ]
 check "the refusal names the file and line" grep -q "lim.ini:3: setpoint 3 (130.00 °C)" lim.err
 check "no instrument touched before the refusal" [ ! -s bath.log ]
-check "the database unchanged by the refusal" [ "$(sha256sum < lim.db)" = "$before" ]
+check "the database unchanged by the refusal" [ "$(dbsum lim.db)" = "$before" ]
 sed 's/^readings = 3/readings = 3 apples/' lim.ini > bad.ini
-"$BIN" --db lim.db sequence run bad.ini > /dev/null 2> bad.err
+"$BIN" --db "$(D lim.db)" sequence run bad.ini > /dev/null 2> bad.err
 check "a bad value: exit 65 naming bad.ini:4 ($?)" grep -q "bad.ini:4: 'readings'" bad.err
-check "the database unchanged by the bad file" [ "$(sha256sum < lim.db)" = "$before" ]
+check "the database unchanged by the bad file" [ "$(dbsum lim.db)" = "$before" ]
 unsim bath
 
+sqlite_only || exit 0
 # ---- 7. the serial transport (termios) on the simulator's pseudo-terminal ----
 newdb pty.db
 rm -f pty.name
@@ -336,13 +375,13 @@ for role in ("meter", "scanner"):
     s = s[:a] + "transport = serial\ndevice = %s\nbaud = 115200\n" % dev + s[b:]
 open(path, "w").write(s)
 EOF2
-"$BIN" --db pty.db sequence run pty.ini > pty.out 2> pty.err
+"$BIN" --db "$(D pty.db)" sequence run pty.ini > pty.out 2> pty.err
 check "meter and scanner on a serial line (a pseudo-terminal): finished (exit $?)" \
     [ "$(q pty.db "SELECT group_concat(nreadings) FROM run")" = "6,6,6" ]
 # the USBTMC transport reads and writes its device file blocking; a pseudo-terminal stands in
 newdb tmc.db
 sed 's/^transport = serial/transport = usbtmc/; /^baud = /d' pty.ini > tmc.ini
-"$BIN" --db tmc.db sequence run tmc.ini > tmc.out 2> tmc.err
+"$BIN" --db "$(D tmc.db)" sequence run tmc.ini > tmc.out 2> tmc.err
 check "meter and scanner as a USBTMC device file (a pseudo-terminal): finished (exit $?)" \
     [ "$(q tmc.db "SELECT group_concat(nreadings) FROM run")" = "6,6,6" ]
 unsim bath

@@ -1,7 +1,6 @@
 -- SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE)
--- Schema version 10 (as db/010-sequence.sql): the tables of calibration sequences, so that a
--- server's schema keeps the SQLite numbering.  Running a sequence into a server is not
--- offered yet (the backend refuses it with exit 69); the tables stay empty there.
+-- Schema version 10 (as db/010-sequence.sql): the tables of calibration sequences (ids are the
+-- largest plus one, given under the writers' lock, as on SQLite).
 CREATE TABLE sequence (
     id           bigint PRIMARY KEY,
     file         text NOT NULL,

@@ -2,8 +2,7 @@
 -- Schema version 11 (as db/011-run-quantity.sql): what a run measured.  run.quantity is NULL
 -- for a resistance in ohm, else 'voltage', 'reported_temperature' or 'code', with its unit in
 -- run.quantity_unit; a reading's r_ohm holds the reading in the run's quantity, so its > 0
--- check moves to a trigger that applies to resistance runs only.  (The server backend stores
--- resistance runs only for now and refuses the others before writing.)
+-- check moves to a trigger that applies to resistance runs only.
 ALTER TABLE run
     ADD COLUMN quantity text
         CHECK (quantity IS NULL OR quantity IN ('voltage', 'reported_temperature', 'code')),

@@ -15,6 +15,7 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "bandgap/bandgap.h"
 #include "store_int.h"
 
 const char *const bgi_chain_kinds[BGI_CHAIN_NKINDS] = {
@@ -70,4 +71,48 @@ void bgi_chain_bytes(struct bgi_sha256 *h, const char *name, int text, const voi
 void bgi_chain_reading(struct bgi_sha256 *h)
 {
     bgi_sha256_update(h, "reading\n", 8);
+}
+
+int bgi_chain_judge(bgi_conn *c, bgi_chain_hash_fn hash, long long seq, const char *kind,
+                    long long id, const char *stored, char prev[65], bg_store_check *out,
+                    bg_error *err)
+{
+    char hex[65];
+    bg_error e2 = BG_ERROR_INIT;
+    int k = kind ? bgi_chain_kind_index(kind) : -1, rc;
+    out->bad_seq = seq;
+    if (seq != out->records + 1) {
+        snprintf(out->problem, sizeof out->problem, "record %lld follows record %lld: "
+                 "records of the chain are missing", seq, out->records);
+        out->bad = 1;
+        return BG_OK;
+    }
+    if (k < 0) {
+        snprintf(out->problem, sizeof out->problem, "record %lld names no known table", seq);
+        out->bad = 1;
+        return BG_OK;
+    }
+    rc = hash(c, k, id, prev, hex, &e2);
+    if (rc == BG_EINVAL) {
+        snprintf(out->problem, sizeof out->problem, "record %lld: %.400s (deleted after it "
+                 "was recorded)", seq, e2.msg);
+        out->bad = 1;
+        return BG_OK;
+    }
+    if (rc != BG_OK) {
+        if (err)
+            *err = e2;
+        return rc;
+    }
+    if (strcmp(hex, stored) != 0) {
+        snprintf(out->problem, sizeof out->problem, "record %lld (%s %lld) does not match its "
+                 "hash: its content or an earlier record's was changed after it was recorded",
+                 seq, bgi_chain_kinds[k], id);
+        snprintf(out->bad_kind, sizeof out->bad_kind, "%s", bgi_chain_kinds[k]);
+        out->bad_id = id, out->bad = 1;
+        return BG_OK;
+    }
+    memcpy(prev, hex, 65);
+    out->records = seq;
+    return BG_OK;
 }

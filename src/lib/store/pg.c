@@ -586,7 +586,7 @@ static int pg_lot_add(bgi_conn *c, const bg_lot *lot, const char *now, long long
 
 #define LOT_COLS "l.id, l.code, l.part, l.r25_ohm, l.beta_k, l.pair_t1_k, l.pair_t2_k, " \
                  "l.tol_r25, l.tol_beta, l.note, l.created_at, " \
-                 "(SELECT count(*) FROM probe p WHERE p.lot_id = l.id)"
+                 "(SELECT count(*) FROM probe p WHERE " BGI_PG_PROBE_NOW_IN("p", "l.id") ")"
 
 static void lot_row(const PGresult *res, int r, bg_lot *l)
 {
@@ -757,7 +757,8 @@ int bgi_pg_probe_get(bgi_conn *c, const char *serial, bg_probe *out, bg_error *e
 {
     int rc;
     PGresult *res = by_text(c, PGS_PROBE_GET, "SELECT " BGI_PG_PROBE_COLS " FROM probe p JOIN "
-                            "lot l ON p.lot_id = l.id WHERE p.serial = $1", serial, &rc, err,
+                            "lot l ON l.id = " BGI_PG_LOT_NOW("p") " WHERE p.serial = $1",
+                            serial, &rc, err,
                             "cannot read probes");
     if (!res)
         return rc;
@@ -792,8 +793,8 @@ static int pg_probe_each(bgi_conn *c, const char *lot_code, bg_probe_cb cb, void
     if (rc != BG_OK)
         return rc;
     PGresult *res = by_text(c, -1, "SELECT " BGI_PG_PROBE_COLS " FROM probe p JOIN lot l ON "
-                            "p.lot_id = l.id WHERE $1::text IS NULL OR l.code = $1 ORDER BY "
-                            "p.serial", lot_code, &rc, err, "cannot read probes");
+                            "l.id = " BGI_PG_LOT_NOW("p") " WHERE $1::text IS NULL OR l.code = "
+                            "$1 ORDER BY p.serial", lot_code, &rc, err, "cannot read probes");
     for (int i = 0; res && i < PQntuples(res); i++) {
         bgi_pg_probe_row(res, i, &p);
         if (cb(&p, ctx))
@@ -1047,17 +1048,26 @@ static int pg_lot_version_each(bgi_conn *c, long long lot_id, bg_lot_version_cb 
     return rc;
 }
 
-/* A probe's move to another lot: on this backend the lot-wide reads select probes by their
-** lot now (probe.lot_id), not by the lot each run counted toward at its start as the SQLite
-** backend does (BGI_LOT_AT_RUN), so a move is refused here rather than recorded with verdicts
-** that would differ between the backends. */
+/* A probe's move to another lot (the lot-wide reads follow it: BGI_PG_LOT_AT_RUN ...). */
 static int pg_probe_version_add(bgi_conn *c, long long probe_id, const bg_probe_version *pv,
                                 const char *now, long long *id, bg_error *err)
 {
-    (void)c, (void)probe_id, (void)pv, (void)now, (void)id;
-    return bg_error_set(err, BG_EUNAVAIL, "probe move is not available on the PostgreSQL "
-                        "backend yet (its lot statistics do not follow moves): record it on a "
-                        "SQLite database, or wait for a later version");
+    struct pgp p;
+    int rc;
+    if (pgp_init(&p, 6) != BG_OK)
+        return bg_error_set(err, BG_ENOMEM, "out of memory");
+    pgp_int(&p, probe_id);
+    pgp_text(&p, pv->v.valid_from);
+    pgp_int(&p, pv->probe.lot_id);
+    pgp_text(&p, pv->v.why);
+    pgp_text(&p, pv->v.by);
+    pgp_text(&p, now);
+    rc = insert_id(c, "INSERT INTO probe_version(id, probe_id, valid_from, lot_id, why, "
+                   "by_whom, created_at) SELECT coalesce(max(id), 0) + 1, $1, $2, $3, $4, $5, "
+                   "$6 FROM probe_version RETURNING id", &p, id, err,
+                   "cannot add the probe version");
+    pgp_free(&p);
+    return rc;
 }
 
 static int pg_probe_version_each(bgi_conn *c, long long probe_id, bg_probe_version_cb cb,
@@ -1090,60 +1100,6 @@ static int pg_probe_version_each(bgi_conn *c, long long probe_id, bg_probe_versi
     }
     PQclear(res);
     return rc;
-}
-
-/* Calibration sequences (db/pg/010 has their tables): not offered on this backend yet; each
-** call refuses with exit 69 before anything is written. */
-static int seq_refused(bg_error *err)
-{
-    return bg_error_set(err, BG_EUNAVAIL, "calibration sequences are not available on the "
-                        "PostgreSQL backend yet: run the sequence into a SQLite database");
-}
-
-static int pg_seq_add(bgi_conn *c, const bg_seq_head *h, const char *text, long long ref_id,
-                      long long *id, bg_error *err)
-{
-    (void)c, (void)h, (void)text, (void)ref_id, (void)id;
-    return seq_refused(err);
-}
-
-static int pg_seq_unfinished(bgi_conn *c, bg_seq_head *out, int *found, bg_error *err)
-{
-    (void)c, (void)out, (void)found;
-    return seq_refused(err);
-}
-
-static int pg_seq_settle(bgi_conn *c, long long seq_id, const bg_seq_settle *st, bg_error *err)
-{
-    (void)c, (void)seq_id, (void)st;
-    return seq_refused(err);
-}
-
-static int pg_seq_reading(bgi_conn *c, long long seq_id, const bg_seq_reading *r, bg_error *err)
-{
-    (void)c, (void)seq_id, (void)r;
-    return seq_refused(err);
-}
-
-static int pg_seq_readings(bgi_conn *c, long long seq_id, bg_seq_reading_cb cb, void *ctx,
-                           bg_error *err)
-{
-    (void)c, (void)seq_id, (void)cb, (void)ctx;
-    return seq_refused(err);
-}
-
-static int pg_seq_settles(bgi_conn *c, long long seq_id, bg_seq_settle_cb cb, void *ctx,
-                          bg_error *err)
-{
-    (void)c, (void)seq_id, (void)cb, (void)ctx;
-    return seq_refused(err);
-}
-
-static int pg_seq_end(bgi_conn *c, long long seq_id, const char *now, long long first_run,
-                      long long last_run, bg_error *err)
-{
-    (void)c, (void)seq_id, (void)now, (void)first_run, (void)last_run;
-    return seq_refused(err);
 }
 
 /* ---- part specifications ---- */
@@ -1389,8 +1345,8 @@ static int pg_artifact_each(bgi_conn *c, bg_artifact_cb cb, void *ctx, bg_error 
     bgi_pg_lot_histories, bgi_pg_export_each, \
     pg_ref_version_add, pg_ref_version_each, pg_lot_version_add, pg_lot_version_each, \
     pg_probe_version_add, pg_probe_version_each, \
-    pg_seq_add, pg_seq_unfinished, pg_seq_settle, pg_seq_reading, pg_seq_readings, \
-    pg_seq_settles, pg_seq_end, \
+    bgi_pg_seq_add, bgi_pg_seq_unfinished, bgi_pg_seq_settle, bgi_pg_seq_reading, \
+    bgi_pg_seq_readings, bgi_pg_seq_settles, bgi_pg_seq_end, \
 }
 
 const struct bgi_store_backend bgi_store_pg = PG_BACKEND("postgresql");

@@ -177,7 +177,8 @@ int bgi_pg_chain_check(bgi_conn *c, const char *kind, long long id, bg_error *er
     return BG_OK;
 }
 
-/* Walk the chain: contiguous numbers, each hash recomputed from the one before. */
+/* Walk the chain: contiguous numbers, each hash recomputed from the one before (judged by
+** chain.c, as on SQLite). */
 static int walk(bgi_conn *c, bg_store_check *out, bg_error *err)
 {
     char prev[65];
@@ -187,37 +188,10 @@ static int walk(bgi_conn *c, bg_store_check *out, bg_error *err)
     memset(prev, '0', 64);
     prev[64] = '\0';
     for (int i = 0; res && rc == BG_OK && !out->bad && i < PQntuples(res); i++) {
-        long long seq = pgv_ll(res, i, 0), id = pgv_ll(res, i, 2);
-        int k = bgi_chain_kind_index(PQgetvalue(res, i, 1));
-        char stored[65], hex[65];
-        bg_error e2 = BG_ERROR_INIT;
+        char stored[65];
         pgv_text(stored, sizeof stored, res, i, 3);
-        out->bad_seq = seq;
-        if (seq != out->records + 1) {
-            snprintf(out->problem, sizeof out->problem, "record %lld follows record %lld: "
-                     "records of the chain are missing", seq, out->records);
-            out->bad = 1;
-        } else if (k < 0) {
-            snprintf(out->problem, sizeof out->problem, "record %lld names no known table",
-                     seq);
-            out->bad = 1;
-        } else if ((rc = record_hash(c, k, id, prev, hex, &e2)) == BG_EINVAL) {
-            snprintf(out->problem, sizeof out->problem, "record %lld: %.400s (deleted after it "
-                     "was recorded)", seq, e2.msg);
-            out->bad = 1, rc = BG_OK;
-        } else if (rc != BG_OK) {
-            if (err)
-                *err = e2;
-        } else if (strcmp(hex, stored) != 0) {
-            snprintf(out->problem, sizeof out->problem, "record %lld (%s %lld) does not match "
-                     "its hash: its content or an earlier record's was changed after it was "
-                     "recorded", seq, bgi_chain_kinds[k], id);
-            snprintf(out->bad_kind, sizeof out->bad_kind, "%s", bgi_chain_kinds[k]);
-            out->bad_id = id, out->bad = 1;
-        } else {
-            memcpy(prev, hex, sizeof prev);
-            out->records = seq;
-        }
+        rc = bgi_chain_judge(c, record_hash, pgv_ll(res, i, 0), PQgetvalue(res, i, 1),
+                             pgv_ll(res, i, 2), stored, prev, out, err);
     }
     PQclear(res);
     memcpy(out->head, prev, sizeof out->head);

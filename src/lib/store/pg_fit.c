@@ -200,8 +200,9 @@ int bgi_pg_fit_each(bgi_conn *c, const char *serial, const char *lot_code, bg_fi
     int rc = bgi_pg_check_filter(c, serial, lot_code, err);
     if (rc != BG_OK)
         return rc;
-    PGresult *res = bgi_pg_exec(c, -1, "SELECT " FIT_COLS FIT_FROM "JOIN lot l ON p.lot_id = "
-                                "l.id WHERE ($1::text IS NULL OR p.serial = $1) AND ($2::text "
+    PGresult *res = bgi_pg_exec(c, -1, "SELECT " FIT_COLS FIT_FROM "JOIN lot l ON l.id = "
+                                BGI_PG_LOT_AT_RUN("r", "p") " WHERE ($1::text IS NULL OR "
+                                "p.serial = $1) AND ($2::text "
                                 "IS NULL OR l.code = $2) ORDER BY f.id", &p, &rc, err,
                                 "cannot read fits");
     for (int i = 0; res && i < PQntuples(res); i++)
@@ -306,17 +307,47 @@ int bgi_pg_probe_history(bgi_conn *c, long long pid, const char *since, bg_histo
     return rc;
 }
 
+int bgi_pg_lot_moved(bgi_conn *c, long long lot_id, int *moved, bg_error *err)
+{
+    int rc;
+    PGresult *res = by_id(c, -1, "SELECT EXISTS (SELECT 1 FROM probe_version pv WHERE "
+                          "pv.lot_id = $1) OR EXISTS (SELECT 1 FROM probe_version pv JOIN probe "
+                          "p ON p.id = pv.probe_id WHERE p.lot_id = $1)", lot_id, &rc, err,
+                          "cannot read the lot's probe moves");
+    *moved = 1; /* the move-aware reading unless the question is answered */
+    if (res && PQntuples(res) == 1)
+        *moved = strcmp(PQgetvalue(res, 0, 0), "t") == 0;
+    PQclear(res);
+    return rc;
+}
+
+/* The lot-wide queries over the lot's relation (pg_int.h; as sqlite_fit.c's): AT(r, p) the
+** lot a run counts toward, WAS(p, lot) / OF(p, lot) the candidate probes. */
+#define LOT_LATEST_SQL(AT, OF) "SELECT p.serial, " FIT_COLS " FROM probe p LEFT JOIN fit f " \
+    "ON f.id = (SELECT max(f2.id) FROM fit f2 WHERE f2.run_id = (SELECT r2.id FROM run r2 " \
+    "WHERE r2.probe_id = p.id AND ($2::text IS NULL OR r2.started_at >= $2) AND " \
+    AT("r2", "p") " = $1 ORDER BY r2.started_at DESC, r2.id DESC LIMIT 1)) LEFT JOIN run r " \
+    "ON r.id = f.run_id WHERE " OF("p", "$1") " ORDER BY p.id"
+#define LOT_HISTORIES_SQL(AT, OF) "SELECT p.id, p.serial, r.id, r.started_at, " FIT_COLS \
+    " FROM probe p LEFT JOIN run r ON r.probe_id = p.id AND ($2::text IS NULL OR " \
+    "r.started_at >= $2) AND " AT("r", "p") " = $1 " NEWEST_FIT "WHERE " OF("p", "$1") \
+    " ORDER BY p.serial, r.started_at, r.id"
+#define LOT_HISTORY_SQL(AT, WAS) "SELECT f.id, f.run_id, r.probe_id, f.model, f.t0_k, " \
+    "f.npar, f.c0, f.c1, f.c2, f.c3, f.c4, f.c5, f.n, f.dof, f.t_min_k, f.t_max_k, " \
+    "r.started_at, p.serial FROM run r JOIN probe p ON r.probe_id = p.id JOIN fit f ON " \
+    "f.id = (SELECT max(f2.id) FROM fit f2 WHERE f2.run_id = r.id) WHERE " WAS("p", "$1") \
+    " AND " AT("r", "p") " = $1 AND ($2::text IS NULL OR r.started_at >= $2) ORDER BY " \
+    "p.id, r.started_at, r.id"
+
 int bgi_pg_lot_latest_fits(bgi_conn *c, long long lot_id, const char *since, bg_latest_cb cb,
                            void *ctx, bg_error *err)
 {
     bg_fit_row f;
-    int rc;
-    PGresult *res = by_id_since(c, "SELECT p.serial, " FIT_COLS " FROM probe p LEFT JOIN fit f "
-                                "ON f.id = (SELECT max(f2.id) FROM fit f2 WHERE f2.run_id = "
-                                "(SELECT r2.id FROM run r2 WHERE r2.probe_id = p.id AND "
-                                "($2::text IS NULL OR r2.started_at >= $2) ORDER BY "
-                                "r2.started_at DESC, r2.id DESC LIMIT 1)) LEFT JOIN run r ON "
-                                "r.id = f.run_id WHERE p.lot_id = $1 ORDER BY p.id", lot_id,
+    int moved = 1, rc = bgi_pg_lot_moved(c, lot_id, &moved, err);
+    if (rc != BG_OK)
+        return rc;
+    PGresult *res = by_id_since(c, moved ? LOT_LATEST_SQL(BGI_PG_LOT_AT_RUN, BGI_PG_PROBE_OF) :
+                                LOT_LATEST_SQL(BGI_PG_PLAIN_AT_RUN, BGI_PG_PLAIN_OF), lot_id,
                                 since, &rc, err, "cannot read the lot's fits");
     for (int i = 0; res && i < PQntuples(res); i++) {
         int fitted = !pgv_null(res, i, 1);
@@ -335,11 +366,11 @@ int bgi_pg_lot_histories(bgi_conn *c, long long lot_id, const char *since,
     struct bgi_hist_buf h = { NULL, NULL, 0, 0, 0 };
     long long probe = 0;
     char serial[BG_TEXT] = "";
-    int rc, stop = 0;
-    PGresult *res = by_id_since(c, "SELECT p.id, p.serial, r.id, r.started_at, " FIT_COLS
-                                " FROM probe p LEFT JOIN run r ON r.probe_id = p.id AND "
-                                "($2::text IS NULL OR r.started_at >= $2) " NEWEST_FIT
-                                "WHERE p.lot_id = $1 ORDER BY p.serial, r.started_at, r.id",
+    int moved = 1, stop = 0, rc = bgi_pg_lot_moved(c, lot_id, &moved, err);
+    if (rc != BG_OK)
+        return rc;
+    PGresult *res = by_id_since(c, moved ? LOT_HISTORIES_SQL(BGI_PG_LOT_AT_RUN, BGI_PG_PROBE_OF)
+                                : LOT_HISTORIES_SQL(BGI_PG_PLAIN_AT_RUN, BGI_PG_PLAIN_OF),
                                 lot_id, since, &rc, err, "cannot read the lot's history");
     for (int i = 0; res && i < PQntuples(res); i++) {
         long long pid = pgv_ll(res, i, 0);
@@ -403,16 +434,13 @@ int bgi_pg_lot_history(bgi_conn *c, long long lot_id, const char *since, bg_lot_
     char (*when)[BG_TIME] = NULL;
     size_t n = 0, cap = 0;
     long long probe = -1;
-    int rc, stop = 0;
-    /* the newest fit of each run, a probe's runs oldest first */
-    PGresult *res = by_id_since(c, "SELECT f.id, f.run_id, r.probe_id, f.model, f.t0_k, "
-                                "f.npar, f.c0, f.c1, f.c2, f.c3, f.c4, f.c5, f.n, f.dof, "
-                                "f.t_min_k, f.t_max_k, r.started_at, p.serial FROM run r JOIN "
-                                "probe p ON r.probe_id = p.id JOIN fit f ON f.id = (SELECT "
-                                "max(f2.id) FROM fit f2 WHERE f2.run_id = r.id) WHERE p.lot_id "
-                                "= $1 AND ($2::text IS NULL OR r.started_at >= $2) ORDER BY "
-                                "p.id, r.started_at, r.id", lot_id, since, &rc, err,
-                                "cannot read the lot's fits");
+    /* the newest fit of each run that counts toward the lot, a probe's runs oldest first */
+    int moved = 1, stop = 0, rc = bgi_pg_lot_moved(c, lot_id, &moved, err);
+    if (rc != BG_OK)
+        return rc;
+    PGresult *res = by_id_since(c, moved ? LOT_HISTORY_SQL(BGI_PG_LOT_AT_RUN, BGI_PG_PROBE_WAS_IN)
+                                : LOT_HISTORY_SQL(BGI_PG_PLAIN_AT_RUN, BGI_PG_PLAIN_WAS_IN),
+                                lot_id, since, &rc, err, "cannot read the lot's fits");
     for (int i = 0; res && i < PQntuples(res); i++) {
         long long pid = pgv_ll(res, i, 2);
         if (pid != probe) {
@@ -533,11 +561,13 @@ int bgi_pg_export_each(bgi_conn *c, const char *serial, long long lot_id,
     if (rc != BG_OK)
         return rc;
     snprintf(buf, sizeof buf, "%lld", lot_id);
+    /* a lot's probes: those in it now */
     PGresult *res = bgi_pg_exec(c, -1, serial ? "SELECT " BGI_PG_PROBE_COLS " FROM probe p "
-                                "JOIN lot l ON p.lot_id = l.id WHERE p.serial = $1" :
-                                "SELECT " BGI_PG_PROBE_COLS " FROM probe p JOIN lot l ON "
-                                "p.lot_id = l.id WHERE p.lot_id = $1 ORDER BY p.serial", &p,
-                                &rc, err, "cannot read probes");
+                                "JOIN lot l ON l.id = " BGI_PG_LOT_NOW("p") " WHERE p.serial = "
+                                "$1" : "SELECT " BGI_PG_PROBE_COLS " FROM probe p JOIN lot l ON "
+                                "l.id = " BGI_PG_LOT_NOW("p") " WHERE " BGI_PG_PROBE_NOW_IN("p",
+                                "$1::bigint") " ORDER BY p.serial", &p, &rc, err,
+                                "cannot read probes");
     for (int i = 0; res && rc == BG_OK && !stop && i < PQntuples(res); i++) {
         bgi_pg_probe_row(res, i, &pr);
         rc = one_probe(c, &pr, cbs, ctx, &stop, err);

@@ -25,7 +25,7 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
     *first = pgv_ll(res, 0, 0);
     *rid = pgv_ll(res, 0, 1);
     PQclear(res);
-    if (pgp_init(&p, 20) != BG_OK)
+    if (pgp_init(&p, 22) != BG_OK)
         return bg_error_set(err, BG_ENOMEM, "out of memory");
     pgp_int(&p, *rid);
     pgp_int(&p, imp->probe_id);
@@ -44,15 +44,21 @@ static int insert_run(bgi_conn *c, const struct bgi_import *imp, long long *firs
     pgp_text(&p, imp->sha256);
     pgp_int0(&p, imp->repeats_run);
     pgp_text0(&p, imp->ref_overdue);
-    pgp_dbl(&p, meta->measuring_current_a > 0.0 ? meta->measuring_current_a : NAN);
+    pgp_dbl(&p, imp->excite_a > 0.0 ? imp->excite_a
+                : meta->measuring_current_a > 0.0 ? meta->measuring_current_a : NAN);
     pgp_dbl(&p, meta->measuring_voltage_v > 0.0 ? meta->measuring_voltage_v : NAN);
     pgp_int0(&p, imp->ref_version);
+    /* a resistance stays NULL, as before schema 11 (and as on SQLite) */
+    pgp_text(&p, imp->quantity != BG_QTY_RESISTANCE ? bgi_quantity_name(imp->quantity) : NULL);
+    pgp_text(&p, imp->quantity != BG_QTY_RESISTANCE
+                     ? bg_quantity_unit((bg_quantity)imp->quantity) : NULL);
     res = bgi_pg_exec(c, -1, "INSERT INTO run(id, probe_id, reference_id, operator, medium, "
                       "ambient, excitation, started_at, source, note, imported_at, t_raw_unit, "
                       "first_reading, nreadings, readings_sha256, repeats_run, ref_overdue, "
-                      "measuring_current_a, measuring_voltage_v, reference_version_id) VALUES "
-                      "($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, $13, $14, $15, $16, "
-                      "$17, $18, $19, $20)", &p, &rc, err, "cannot create the run");
+                      "measuring_current_a, measuring_voltage_v, reference_version_id, quantity, "
+                      "quantity_unit) VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, "
+                      "$13, $14, $15, $16, $17, $18, $19, $20, $21, $22)", &p, &rc, err,
+                      "cannot create the run");
     PQclear(res);
     pgp_free(&p);
     return rc;
@@ -161,12 +167,6 @@ static int insert_readings(bgi_conn *c, const struct bgi_import *imp, long long 
 int bgi_pg_import(bgi_conn *c, const struct bgi_import *imp, long long *run_id, bg_error *err)
 {
     long long first = 1, rid = 0;
-    /* runs of other quantities (schema 11) are not written by this backend yet: refused
-    ** before anything is written, never stored as resistances */
-    if (imp->quantity != BG_QTY_RESISTANCE)
-        return bg_error_set(err, BG_EUNAVAIL, "%s: readings in %s are not stored on the "
-                            "PostgreSQL backend yet (resistances only): import them into a "
-                            "SQLite database", imp->src, bgi_quantity_name(imp->quantity));
     int rc = insert_run(c, imp, &first, &rid, err);
     if (rc == BG_OK)
         rc = insert_readings(c, imp, first, rid, err);
@@ -201,7 +201,7 @@ void bgi_pg_run_row(const PGresult *res, int i, bg_run *r)
     r->measuring_current_a = pgv_dbl(res, i, 20);
     r->measuring_voltage_v = pgv_dbl(res, i, 21);
     r->ref_version = pgv_ll(res, i, 22);
-    r->quantity = BG_QTY_RESISTANCE; /* the only quantity this backend stores (see import) */
+    r->quantity = (int)pgv_ll(res, i, 23);
 }
 
 void bgi_pg_reading_row(const PGresult *res, int i, bg_reading_row *g)
@@ -221,7 +221,7 @@ void bgi_pg_reading_row(const PGresult *res, int i, bg_reading_row *g)
     pgv_text(g->excl_reason, sizeof g->excl_reason, res, i, 12);
     pgv_text(g->excl_by, sizeof g->excl_by, res, i, 13);
     pgv_text(g->excl_at, sizeof g->excl_at, res, i, 14);
-    g->quantity = BG_QTY_RESISTANCE; /* the only quantity this backend stores (see import) */
+    g->quantity = (int)pgv_ll(res, i, 15);
 }
 
 /* A query of one integer parameter. */
@@ -293,7 +293,8 @@ int bgi_pg_run_each(bgi_conn *c, const char *serial, const char *lot_code, bg_ru
     if (rc != BG_OK)
         return rc;
     PGresult *res = bgi_pg_exec(c, -1, "SELECT " BGI_PG_RUN_COLS BGI_PG_RUN_FROM "JOIN lot l "
-                                "ON p.lot_id = l.id WHERE ($1::text IS NULL OR p.serial = $1) "
+                                "ON l.id = " BGI_PG_LOT_AT_RUN("r", "p") " WHERE ($1::text IS "
+                                "NULL OR p.serial = $1) "
                                 "AND ($2::text IS NULL OR l.code = $2) ORDER BY r.id", &p, &rc,
                                 err, "cannot read runs");
     for (int i = 0; res && i < PQntuples(res); i++) {
@@ -365,6 +366,12 @@ int bgi_pg_run_points(bgi_conn *c, long long run_id, bg_store_points *out, bg_er
     return rc;
 }
 
+/* A lot-wide query written once over the lot's relation (pg_int.h): AT(r, p) the lot a run
+** counts toward, OF(p, lot) the candidate probes; the move-aware set or the plain one. */
+#define LOT_POINTS_SQL(AT, OF) "SELECT p.id, p.serial, coalesce((SELECT r.id FROM run r WHERE " \
+    "r.probe_id = p.id AND " AT("r", "p") " = $1 ORDER BY r.started_at DESC, r.id DESC " \
+    "LIMIT 1), 0) FROM probe p WHERE " OF("p", "$1") " ORDER BY p.id"
+
 int bgi_pg_lot_points_each(bgi_conn *c, const bg_lot *lot, bg_lot_points_cb cb, void *ctx,
                            bg_error *err)
 {
@@ -372,11 +379,15 @@ int bgi_pg_lot_points_each(bgi_conn *c, const bg_lot *lot, bg_lot_points_cb cb, 
     int own, rc = bgi_pg_read_begin(c, &own, err);
     if (rc != BG_OK)
         return rc;
-    /* the lot's probes with their newest runs, in the order the probes were added; then each
-    ** run's points */
-    PGresult *res = by_id(c, -1, "SELECT p.id, p.serial, coalesce((SELECT r.id FROM run r "
-                          "WHERE r.probe_id = p.id ORDER BY r.started_at DESC, r.id DESC LIMIT "
-                          "1), 0) FROM probe p WHERE p.lot_id = $1 ORDER BY p.id", lot->id, &rc,
+    /* the lot's probes with their newest runs that count toward it, in the order the probes
+    ** were added; then each run's points */
+    int moved = 1;
+    if ((rc = bgi_pg_lot_moved(c, lot->id, &moved, err)) != BG_OK) {
+        bgi_pg_read_end(c, own);
+        return rc;
+    }
+    PGresult *res = by_id(c, -1, moved ? LOT_POINTS_SQL(BGI_PG_LOT_AT_RUN, BGI_PG_PROBE_OF) :
+                          LOT_POINTS_SQL(BGI_PG_PLAIN_AT_RUN, BGI_PG_PLAIN_OF), lot->id, &rc,
                           err, "cannot read the lot's probes");
     for (int i = 0; res && rc == BG_OK && i < PQntuples(res); i++) {
         long long run = pgv_ll(res, i, 2);

@@ -20,8 +20,10 @@
 #include "bandgap/bandgap.h"
 #include "sqlite_int.h"
 
-#define kinds bgi_chain_kinds
-#define kind_index bgi_chain_kind_index
+/* The chained tables are chain.c's (bgi_chain_kinds); the connection keeps one statement and
+** one column order per table, and one for a run's readings after them. */
+_Static_assert(BGI_CHAIN_KINDS == BGI_CHAIN_NKINDS, "sqlite_int.h's BGI_CHAIN_KINDS is the "
+               "number of chain.c's bgi_chain_kinds");
 
 /* The columns of statement 'q' in the order of their names (insertion sort; a few dozen). */
 static void name_order(sqlite3_stmt *q, int *order, int n)
@@ -67,7 +69,7 @@ static int row_stmt(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, b
         if (n > BGI_CHAIN_MAXCOL)
             return bg_error_set(err, BG_EINTERNAL, "table %s has %d columns, more than the "
                                 "record chain encodes (%d)", which < BGI_CHAIN_KINDS ?
-                                kinds[which] : "reading", n, BGI_CHAIN_MAXCOL);
+                                bgi_chain_kinds[which] : "reading", n, BGI_CHAIN_MAXCOL);
         name_order(*q, c->chain_order[which], n);
         c->chain_ncol[which] = n;
     }
@@ -84,19 +86,20 @@ static int record_hash(bgi_conn *c, int k, long long id, const char prev[65], ch
     struct bgi_sha256 h;
     unsigned char d[32];
     int rc, s;
-    snprintf(sql, sizeof sql, "SELECT * FROM %s WHERE rowid = ?1", kinds[k]);
+    snprintf(sql, sizeof sql, "SELECT * FROM %s WHERE rowid = ?1", bgi_chain_kinds[k]);
     if ((rc = row_stmt(c, k, sql, &q, err)) != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, id);
     if ((s = sqlite3_step(q)) != SQLITE_ROW) {
         sqlite3_reset(q);
-        return s == SQLITE_DONE ? bg_error_set(err, BG_EINVAL, "%s %lld is missing", kinds[k], id)
+        return s == SQLITE_DONE ? bg_error_set(err, BG_EINVAL, "%s %lld is missing",
+                                               bgi_chain_kinds[k], id)
                                 : bgi_db_fail(c, err, "cannot read a record");
     }
-    bgi_chain_start(&h, prev, kinds[k], id);
+    bgi_chain_start(&h, prev, bgi_chain_kinds[k], id);
     put_row(&h, q, c->chain_order[k], c->chain_ncol[k]);
     sqlite3_reset(q);
-    if (strcmp(kinds[k], "run") == 0) {
+    if (strcmp(bgi_chain_kinds[k], "run") == 0) {
         if ((rc = row_stmt(c, BGI_CHAIN_KINDS, "SELECT * FROM reading WHERE run_id = ?1 "
                            "ORDER BY id", &q, err)) != BG_OK)
             return rc;
@@ -141,7 +144,7 @@ int bgi_sqlite_chain_append(bgi_conn *c, const char *kind, long long id, bg_erro
     char prev[65], hex[65];
     long long seq;
     sqlite3_stmt *q;
-    int k = kind_index(kind), rc;
+    int k = bgi_chain_kind_index(kind), rc;
     if (k < 0)
         return bg_error_set(err, BG_EINTERNAL, "no record chain for '%s'", kind);
     if ((rc = bgi_sqlite_chain_head(c, &seq, prev, err)) != BG_OK ||
@@ -150,7 +153,7 @@ int bgi_sqlite_chain_append(bgi_conn *c, const char *kind, long long id, bg_erro
                          "VALUES (?1, ?2, ?3, ?4)", &q, err)) != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, seq + 1);
-    sqlite3_bind_text(q, 2, kinds[k], -1, SQLITE_STATIC);
+    sqlite3_bind_text(q, 2, bgi_chain_kinds[k], -1, SQLITE_STATIC);
     sqlite3_bind_int64(q, 3, id);
     sqlite3_bind_text(q, 4, hex, 64, SQLITE_STATIC);
     rc = sqlite3_step(q) == SQLITE_DONE ? BG_OK : bgi_db_fail(c, err, "cannot extend the "
@@ -164,14 +167,14 @@ int bgi_sqlite_chain_check(bgi_conn *c, const char *kind, long long id, bg_error
     char prev[65], stored[65], hex[65];
     sqlite3_stmt *q = NULL;
     long long seq = 0;
-    int k = kind_index(kind), rc;
+    int k = bgi_chain_kind_index(kind), rc;
     if (k < 0)
         return bg_error_set(err, BG_EINTERNAL, "no record chain for '%s'", kind);
     if ((rc = bgi_prepare(c, "SELECT c.seq, c.hash, p.hash FROM chain c LEFT JOIN chain p ON "
                           "p.seq = c.seq - 1 WHERE c.kind = ?1 AND c.row_id = ?2", &q, err))
         != BG_OK)
         return rc;
-    sqlite3_bind_text(q, 1, kinds[k], -1, SQLITE_STATIC);
+    sqlite3_bind_text(q, 1, bgi_chain_kinds[k], -1, SQLITE_STATIC);
     sqlite3_bind_int64(q, 2, id);
     if (sqlite3_step(q) == SQLITE_ROW) {
         seq = sqlite3_column_int64(q, 0);
@@ -184,13 +187,13 @@ int bgi_sqlite_chain_check(bgi_conn *c, const char *kind, long long id, bg_error
     sqlite3_finalize(q);
     if (seq == 0)
         return bg_error_set(err, BG_EINVAL, "%s %lld is not in the record chain (added "
-                            "outside bandgap; run 'bandgap verify')", kinds[k], id);
+                            "outside bandgap; run 'bandgap verify')", bgi_chain_kinds[k], id);
     if ((rc = record_hash(c, k, id, prev, hex, err)) != BG_OK)
         return rc;
     if (strcmp(hex, stored) != 0)
         return bg_error_set(err, BG_EINVAL, "%s %lld does not match its record %lld in the "
                             "chain: changed after it was recorded (run 'bandgap verify')",
-                            kinds[k], id, seq);
+                            bgi_chain_kinds[k], id, seq);
     return BG_OK;
 }
 
@@ -205,7 +208,7 @@ int bgi_sqlite_chain_backfill(bgi_conn *c, bg_error *err)
         sqlite3_stmt *q = NULL;
         int exists = 0;
         snprintf(sql, sizeof sql, "SELECT 1 FROM sqlite_schema WHERE type = 'table' AND "
-                 "name = '%s'", kinds[k]);
+                 "name = '%s'", bgi_chain_kinds[k]);
         if ((rc = bgi_prepare(c, sql, &q, err)) != BG_OK)
             return rc;
         exists = sqlite3_step(q) == SQLITE_ROW;
@@ -213,12 +216,12 @@ int bgi_sqlite_chain_backfill(bgi_conn *c, bg_error *err)
         q = NULL;
         if (!exists)
             continue;
-        snprintf(sql, sizeof sql, "SELECT rowid FROM %s ORDER BY rowid", kinds[k]);
+        snprintf(sql, sizeof sql, "SELECT rowid FROM %s ORDER BY rowid", bgi_chain_kinds[k]);
         if ((rc = bgi_prepare(c, sql, &q, err)) != BG_OK)
             return rc;
         int s;
         while (rc == BG_OK && (s = sqlite3_step(q)) == SQLITE_ROW)
-            rc = bgi_sqlite_chain_append(c, kinds[k], sqlite3_column_int64(q, 0), err);
+            rc = bgi_sqlite_chain_append(c, bgi_chain_kinds[k], sqlite3_column_int64(q, 0), err);
         if (rc == BG_OK && s != SQLITE_DONE)
             rc = bgi_db_fail(c, err, "cannot chain the existing records");
         sqlite3_finalize(q);
@@ -251,7 +254,8 @@ static int pragma_problem(bgi_conn *c, const char *sql, int fk, char *out, size_
     return found;
 }
 
-/* Walk the chain: contiguous numbers, each hash recomputed from the one before. */
+/* Walk the chain: contiguous numbers, each hash recomputed from the one before (judged by
+** chain.c, as on the server). */
 static int walk(bgi_conn *c, bg_store_check *out, bg_error *err)
 {
     sqlite3_stmt *q = NULL;
@@ -262,37 +266,11 @@ static int walk(bgi_conn *c, bg_store_check *out, bg_error *err)
     memset(prev, '0', 64);
     prev[64] = '\0';
     while (rc == BG_OK && !out->bad && sqlite3_step(q) == SQLITE_ROW) {
-        long long seq = sqlite3_column_int64(q, 0), id = sqlite3_column_int64(q, 2);
-        const char *kind = (const char *)sqlite3_column_text(q, 1);
-        char stored[65], hex[65];
-        bg_error e2 = BG_ERROR_INIT;
-        int k = kind ? kind_index(kind) : -1;
+        char stored[65];
         bgi_copy_text(stored, sizeof stored, q, 3);
-        out->bad_seq = seq;
-        if (seq != out->records + 1) {
-            snprintf(out->problem, sizeof out->problem, "record %lld follows record %lld: "
-                     "records of the chain are missing", seq, out->records);
-            out->bad = 1;
-        } else if (k < 0) {
-            snprintf(out->problem, sizeof out->problem, "record %lld names no known table",
-                     seq);
-            out->bad = 1;
-        } else if ((rc = record_hash(c, k, id, prev, hex, &e2)) == BG_EINVAL) {
-            snprintf(out->problem, sizeof out->problem, "record %lld: %.400s (deleted after it "
-                     "was recorded)", seq, e2.msg);
-            out->bad = 1, rc = BG_OK;
-        } else if (rc != BG_OK) {
-            *err = e2;
-        } else if (strcmp(hex, stored) != 0) {
-            snprintf(out->problem, sizeof out->problem, "record %lld (%s %lld) does not match "
-                     "its hash: its content or an earlier record's was changed after it was "
-                     "recorded", seq, kinds[k], id);
-            snprintf(out->bad_kind, sizeof out->bad_kind, "%s", kinds[k]);
-            out->bad_id = id, out->bad = 1;
-        } else {
-            memcpy(prev, hex, sizeof prev);
-            out->records = seq;
-        }
+        rc = bgi_chain_judge(c, record_hash, sqlite3_column_int64(q, 0),
+                             (const char *)sqlite3_column_text(q, 1),
+                             sqlite3_column_int64(q, 2), stored, prev, out, err);
     }
     sqlite3_finalize(q);
     memcpy(out->head, prev, sizeof out->head);
@@ -306,15 +284,16 @@ static int unchained(bgi_conn *c, bg_store_check *out, bg_error *err)
         char sql[200];
         sqlite3_stmt *q = NULL;
         snprintf(sql, sizeof sql, "SELECT rowid FROM %s WHERE rowid NOT IN (SELECT row_id FROM "
-                 "chain WHERE kind = '%s') ORDER BY rowid LIMIT 1", kinds[k], kinds[k]);
+                 "chain WHERE kind = '%s') ORDER BY rowid LIMIT 1", bgi_chain_kinds[k],
+                 bgi_chain_kinds[k]);
         int rc = bgi_prepare(c, sql, &q, err);
         if (rc != BG_OK)
             return rc;
         if (sqlite3_step(q) == SQLITE_ROW) {
             out->bad_id = sqlite3_column_int64(q, 0), out->bad = 1;
-            snprintf(out->bad_kind, sizeof out->bad_kind, "%s", kinds[k]);
+            snprintf(out->bad_kind, sizeof out->bad_kind, "%s", bgi_chain_kinds[k]);
             snprintf(out->problem, sizeof out->problem, "%s %lld is not in the record chain "
-                     "(added outside bandgap)", kinds[k], out->bad_id);
+                     "(added outside bandgap)", bgi_chain_kinds[k], out->bad_id);
         }
         sqlite3_finalize(q);
     }

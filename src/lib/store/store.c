@@ -843,15 +843,25 @@ static int probe_walk_cb(const bg_probe_version *v, void *ctx)
     return 0;
 }
 
+/* The refusal seam: a backend need not offer every function of store_int.h's table; a slot it
+** leaves NULL is refused here, once for every backend, before anything is read or written:
+** BG_EUNAVAIL (exit 69) naming what is not available and the backend.  A backend never
+** carries stubs that refuse for it. */
+static int unoffered(const bg_store *st, const char *what, bg_error *err)
+{
+    return bg_error_set(err, BG_EUNAVAIL, "%s: not available on the '%s' backend", what,
+                        st->be->scheme);
+}
+#define OFFERED(st, slot, what, err) ((st)->be->slot ? BG_OK : unoffered((st), (what), (err)))
+
 /* Probe 'serial': its row id, and the walk over its versions at 'when' (NULL or "": now). */
 static int probe_version_find(bg_store *st, const char *serial, const char *when,
                               long long *pid, struct probe_walk *w, bg_error *err)
 {
     int rc;
     memset(w, 0, sizeof *w);
-    if (!st->be->probe_version_each)
-        return bg_error_set(err, BG_EDB, "the '%s' database does not keep probe versions",
-                            st->be->scheme);
+    if ((rc = OFFERED(st, probe_version_each, "probe versions", err)) != BG_OK)
+        return rc;
     if ((rc = st->be->probe_id(st->conn, serial, pid, err)) != BG_OK ||
         (rc = time_or_now(st, when, &w->at, err)) != BG_OK)
         return rc;
@@ -877,9 +887,8 @@ int bg_store_probe_versions(bg_store *st, const char *serial, bg_probe_version_c
     int rc = st->be->probe_id(st->conn, serial, &pid, err);
     if (rc != BG_OK)
         return did_you_mean(st, BGI_NAME_PROBE, serial, rc, err);
-    if (!st->be->probe_version_each)
-        return bg_error_set(err, BG_EDB, "the '%s' database does not keep probe versions",
-                            st->be->scheme);
+    if ((rc = OFFERED(st, probe_version_each, "probe versions", err)) != BG_OK)
+        return rc;
     memset(&w, 0, sizeof w);
     w.cb = cb, w.ctx = ctx;
     return st->be->probe_version_each(st->conn, pid, probe_walk_cb, &w, err);
@@ -933,6 +942,8 @@ static int probe_move_tx(bg_store *st, const bg_probe_version *pv, bg_probe_move
     int rc;
 
     snprintf(what, sizeof what, "probe '%s'", serial);
+    if ((rc = OFFERED(st, probe_version_add, "probe move", err)) != BG_OK)
+        return rc;
     if ((rc = probe_version_find(st, serial, pv->v.valid_from, &pid, &w, err)) != BG_OK ||
         (rc = check_valid_from(pv->v.valid_from, w.found.probe.created_at, w.newest_t, what,
                                err)) != BG_OK)
@@ -1912,6 +1923,8 @@ int bg_store_seq_add(bg_store *st, const bg_seq *seq, const char *idn, const cha
     bg_ref ref;
     int rc, own;
     memset(&h, 0, sizeof h);
+    if ((rc = OFFERED(st, seq_add, "calibration sequences", err)) != BG_OK)
+        return rc;
     if ((rc = check_text("sequence file name", seq->path, BG_NOTE, 1, err)) != BG_OK ||
         (rc = check_text("instrument identities", idn, BG_NOTE, 1, err)) != BG_OK ||
         (rc = check_text("criterion", criterion, BG_NOTE, 1, err)) != BG_OK)
@@ -1931,12 +1944,17 @@ int bg_store_seq_add(bg_store *st, const bg_seq *seq, const char *idn, const cha
 
 int bg_store_seq_unfinished(bg_store *st, bg_seq_head *out, int *found, bg_error *err)
 {
+    int rc = OFFERED(st, seq_unfinished, "calibration sequences", err);
+    if (rc != BG_OK)
+        return rc;
     return st->be->seq_unfinished(st->conn, out, found, err);
 }
 
 int bg_store_seq_settle(bg_store *st, long long seq_id, const bg_seq_settle *s, bg_error *err)
 {
-    int own, rc = tx_begin(st, &own, err);
+    int own, rc = OFFERED(st, seq_settle, "calibration sequences", err);
+    if (rc == BG_OK)
+        rc = tx_begin(st, &own, err);
     if (rc != BG_OK)
         return rc;
     rc = st->be->seq_settle(st->conn, seq_id, s, err);
@@ -1946,6 +1964,8 @@ int bg_store_seq_settle(bg_store *st, long long seq_id, const bg_seq_settle *s, 
 int bg_store_seq_reading(bg_store *st, long long seq_id, const bg_seq_reading *r, bg_error *err)
 {
     int own, rc;
+    if ((rc = OFFERED(st, seq_reading, "calibration sequences", err)) != BG_OK)
+        return rc;
     if ((rc = check_text("meter reply", r->meter_reply, sizeof r->meter_reply, 1, err)) !=
         BG_OK ||
         (rc = check_text("reference reply", r->ref_reply, sizeof r->ref_reply, 1, err)) !=
@@ -1962,12 +1982,18 @@ int bg_store_seq_reading(bg_store *st, long long seq_id, const bg_seq_reading *r
 int bg_store_seq_readings(bg_store *st, long long seq_id, bg_seq_reading_cb cb, void *ctx,
                           bg_error *err)
 {
+    int rc = OFFERED(st, seq_readings, "calibration sequences", err);
+    if (rc != BG_OK)
+        return rc;
     return st->be->seq_readings(st->conn, seq_id, cb, ctx, err);
 }
 
 int bg_store_seq_settles(bg_store *st, long long seq_id, bg_seq_settle_cb cb, void *ctx,
                          bg_error *err)
 {
+    int rc = OFFERED(st, seq_settles, "calibration sequences", err);
+    if (rc != BG_OK)
+        return rc;
     return st->be->seq_settles(st->conn, seq_id, cb, ctx, err);
 }
 
@@ -1975,7 +2001,9 @@ int bg_store_seq_end(bg_store *st, long long seq_id, long long first_run, long l
                      bg_error *err)
 {
     char now[BG_TIME];
-    int own, rc = tx_begin(st, &own, err);
+    int own, rc = OFFERED(st, seq_end, "calibration sequences", err);
+    if (rc == BG_OK)
+        rc = tx_begin(st, &own, err);
     if (rc != BG_OK)
         return rc;
     rc = st->be->seq_end(st->conn, seq_id, bg_store_time(st, now, sizeof now), first_run,

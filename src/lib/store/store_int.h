@@ -292,6 +292,18 @@ void bgi_chain_int(struct bgi_sha256 *h, const char *name, long long v);
 void bgi_chain_real(struct bgi_sha256 *h, const char *name, double v);
 void bgi_chain_bytes(struct bgi_sha256 *h, const char *name, int text, const void *p, size_t n);
 void bgi_chain_reading(struct bgi_sha256 *h);
+/* The verification walk's judgement of one record, the same on every backend: record 'seq'
+** (the chain's 'kind' and 'row_id', its stored hash 'stored') after the records that verified
+** (out->records of them, the last one's hash 'prev').  The numbers must run on, the kind be a
+** chained table, and 'hash' (the backend's reading of row 'id' of kind index 'k', hashed
+** after 'prev'; BG_EINVAL when the row is missing) give the stored hash; then 'prev' becomes
+** the record's hash and out->records 'seq'.  Otherwise out->bad and the problem are set
+** (BG_OK), or the error of 'hash' is returned when it could not read. */
+typedef int (*bgi_chain_hash_fn)(bgi_conn *c, int k, long long id, const char prev[65],
+                                 char hex[65], bg_error *err);
+int bgi_chain_judge(bgi_conn *c, bgi_chain_hash_fn hash, long long seq, const char *kind,
+                    long long id, const char *stored, char prev[65], bg_store_check *out,
+                    bg_error *err);
 
 /* One probe's history as a backend's lot-history read gathers it (fit_row.c): room for one
 ** more fit and its time, the buffers doubling; BG_ENOMEM when they cannot grow. */
