@@ -5,6 +5,7 @@
 ** Nothing is recomputed on the way, so ids, times, numbers, stored reports and the record
 ** chain arrive as they were; the target's counts, chain head and whole record are checked
 ** before the commit. */
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -36,12 +37,14 @@ static const struct bgi_copy_backend *copier_of(const bg_store *st)
 
 /* Rows gathered for one insert: up to BATCH rows, their text and blobs in one arena. */
 #define BATCH 128
-#define ARENA_FLUSH (4u << 20)
+#define ARENA_FLUSH ((size_t)1 << 20)
 struct batch {
     const struct bgi_copy_backend *to;
     bgi_conn *conn;
     const char *table;
     struct bgi_row rows[BATCH];
+    char names[BGI_ROW_MAXCOL][64]; /* the columns of the rows gathered (the reader's own
+                                    ** names last only as long as its read) */
     size_t n;
     char *arena;
     size_t used, cap;
@@ -69,11 +72,12 @@ static int arena_room(struct batch *b, size_t need, bg_error *err)
             return rc;
     }
     if (need > b->cap) {
-        char *p = realloc(b->arena, need);
+        size_t cap = need > 2 * ARENA_FLUSH ? need : 2 * ARENA_FLUSH;
+        char *p = realloc(b->arena, cap);
         if (!p)
             return bg_error_set(err, BG_ENOMEM, "out of memory (a stored value of %zu bytes)",
                                 need);
-        b->arena = p, b->cap = need;
+        b->arena = p, b->cap = cap;
     }
     return BG_OK;
 }
@@ -96,9 +100,13 @@ static int gather(const struct bgi_row *row, void *ctx, bg_error *err)
         return rc;
     if (b->n && b->rows[0].ncol != row->ncol)
         return bg_error_set(err, BG_EINTERNAL, "table '%s': rows of different widths", b->table);
+    if (b->n == 0)
+        for (size_t k = 0; k < row->ncol; k++)
+            snprintf(b->names[k], sizeof b->names[k], "%s", row->name[k]);
     struct bgi_row *dst = &b->rows[b->n++];
     *dst = *row;
     for (size_t k = 0; k < row->ncol; k++) {
+        dst->name[k] = b->names[k];
         struct bgi_cell *v = &dst->cell[k];
         if (v->type != BGI_CELL_TEXT && v->type != BGI_CELL_BLOB)
             continue;
@@ -109,7 +117,6 @@ static int gather(const struct bgi_row *row, void *ctx, bg_error *err)
         v->p = p;
         b->used += v->n + 1;
     }
-    /* the column names are the source's, valid through the whole read of the table */
     if (b->n == BATCH || b->used >= ARENA_FLUSH)
         return batch_flush(b, err);
     return BG_OK;
