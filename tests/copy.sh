@@ -83,7 +83,27 @@ extend() {
     "$BIN" --db "$1" probe add D-01 --lot L-2 > /dev/null &&
     "$BIN" --db "$1" import "$HERE/cli/lib/junction.csv" --probe D-01 \
         --at 2026-11-27T09:00:00Z > /dev/null &&
-    "$BIN" --db "$1" fit --probe D-01 --model vbe > /dev/null
+    "$BIN" --db "$1" fit --probe D-01 --model vbe > /dev/null &&
+    seqrows "$1"
+}
+# a calibration sequence's rows (not chained), written as 'sequence run' writes them; the
+# values INVENTED (tests/sequence.sh runs real sequences against a simulated bench)
+seqrows() {
+    sqlite3 "$1" <<'SQL'
+INSERT INTO sequence VALUES (1, 'inv''ented.ini', printf('%064d', 7), '; INVENTED
+[sequence]
+setpoints = 0 C, 40 C', 'INVENTED,BATH,0,1;INVENTED,METER,0,1', 'drift 600 mK/min', 1,
+    '2026-11-22T08:00:00Z');
+INSERT INTO sequence_settle VALUES (1, 1, 0, 273.15, 1, 0.0001, 0.0005, 273.1512, 0.6, 12.5,
+    13, '2026-11-22T08:10:00Z');
+INSERT INTO sequence_settle VALUES (2, 1, 1, 313.15, 0, NULL, NULL, NULL, 0.6, 600, 2,
+    '2026-11-22T08:30:00Z');
+INSERT INTO sequence_reading VALUES (1, 1, 0, 0, 1, '101', 273.15, 32651.25, 0.0012,
+    '2026-11-22T08:10:01Z', '+3.265125E+04', '+1.2E-03');
+INSERT INTO sequence_reading VALUES (2, 1, 0, 0, 2, '101', 273.15, 32651.5, 0.0013,
+    '2026-11-22T08:10:02Z', '+3.26515E+04', '+1.3E-03');
+INSERT INTO sequence_end VALUES (1, '2026-11-22T09:00:00Z', 1, 2);
+SQL
 }
 same_as() { # NAME SOURCE TARGET: the views of both ends are equal
     views "$2" > "$T/a.views"
@@ -103,6 +123,7 @@ ok=0
 session full.db || { ok=1; echo "# the session failed"; }
 cp full.db ext.db
 extend ext.db || { ok=1; echo "# the extension failed"; }
+src_sum=$(cat full.db ext.db | sha256sum)
 "$BIN" copy --from full.db --to c1.db > c1.out 2> c1.err || { ok=1; cat c1.err; }
 grep -q "the same on both" c1.out || ok=1
 same_rows full.db c1.db || ok=1
@@ -110,6 +131,7 @@ same_as sqlite-full full.db c1.db || ok=1
 "$BIN" copy --from ext.db --to sqlite:c2.db --json > c2.json 2> c2.err || { ok=1; cat c2.err; }
 same_rows ext.db c2.db || ok=1
 same_as sqlite-ext ext.db c2.db || ok=1
+[ "$(cat full.db ext.db | sha256sum)" = "$src_sum" ] || { ok=1; echo "# a source file changed"; }
 result sqlite-to-sqlite "$ok" "the copy is not the source"
 
 # the tables the copy knows are the schema's tables, and each count is the source's
@@ -133,7 +155,8 @@ done
 [ "$(sqlite3 ext.db "SELECT count(*) FROM reference_version")" = 1 ] &&
 [ "$(sqlite3 ext.db "SELECT count(*) FROM lot_version")" = 1 ] &&
 [ "$(sqlite3 ext.db "SELECT count(*) FROM artifact")" = 1 ] &&
-[ "$(sqlite3 ext.db "SELECT count(*) FROM exclusion")" = 1 ] ||
+[ "$(sqlite3 ext.db "SELECT count(*) FROM exclusion")" = 1 ] &&
+[ "$(sqlite3 ext.db "SELECT count(*) FROM sequence_end")" = 1 ] ||
     { ok=1; echo "# the test record lacks a kind of row"; }
 result every-table "$ok" "the copied tables are not the schema's"
 
