@@ -52,10 +52,14 @@ heavy() { [ "${RUN_ALL:-0}" = 1 ] || [ "${SAN:-0}" = "$1" ]; }
 if heavy 1; then
     sh tests/pg/server.sh sh tests/pg/check.sh "$BUILD/bandgap" > "$BUILD/pg.log" 2>&1
     tally pg "$BUILD/pg.log" $?
+    sh tests/pg/server.sh sh tests/pg/store.sh "$BUILD" > "$BUILD/pg-store.log" 2>&1
+    tally pg-store "$BUILD/pg-store.log" $?
 fi
 
 sh tests/faults.sh "$BUILD/bandgap"
 count $? faults
+sh tests/copy.sh "$BUILD/bandgap" > "$BUILD/copy.log" 2>&1
+tally copy "$BUILD/copy.log" $?
 sh tests/records.sh "$BUILD/bandgap"
 count $? records
 sh tests/exits.sh "$BUILD/bandgap"

@@ -542,6 +542,27 @@ typedef struct bg_store_check {
 ** an error only when the check itself could not run. */
 BG_API int bg_store_verify(bg_store *st, bg_store_check *out, bg_error *err);
 
+/* ---- a whole database copied to another (a file to a server and back) ---- */
+
+#define BG_COPY_NTABLES 17
+typedef struct bg_store_copy_result {
+    size_t ntables;
+    const char *table[BG_COPY_NTABLES]; /* the tables copied, parents first */
+    long long rows[BG_COPY_NTABLES];    /* the rows copied into each */
+    long long records;                  /* the record chain's length, the same on both ends */
+    char head[65];                      /* its head hash, the same on both ends */
+} bg_store_copy_result;
+/* Copy every row of 'from' into 'to' as it is stored (ids, times, numbers, stored reports
+** and the record chain kept), in one write transaction on 'to'; 'from' is only read, in
+** one snapshot.  The target must be empty (no row in any of the tables): otherwise
+** BG_ECANTCREAT naming a table that holds rows (copies never merge).  Both must be at the
+** same schema version (BG_EINVAL).  Before committing, the target's row counts and chain
+** head are compared with the source's and the target's whole record is verified
+** (bg_store_verify); any difference is BG_EINVAL and nothing is written.  A row the target
+** backend does not store yet is BG_EUNAVAIL, nothing written. */
+BG_API int bg_store_copy(bg_store *from, bg_store *to, bg_store_copy_result *res,
+                         bg_error *err);
+
 /* ---- what a part number specifies ---- */
 
 /* A part's specification: its nominal curve, an interchangeability tolerance in kelvin and

@@ -259,6 +259,7 @@ int cmd_eval(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_fit(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_demo(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_verify(int argc, char **argv, struct cli_ctx *ctx);
+int cmd_copy(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_init(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_lot(int argc, char **argv, struct cli_ctx *ctx);
 int cmd_part(int argc, char **argv, struct cli_ctx *ctx);

@@ -34,6 +34,7 @@ static const struct command commands[] = {
     { "eval",    cmd_eval,    "evaluate a model given inline: resistance to temperature and back" },
     { "curve",   cmd_curve,   "the R-T table of a stored fit or an inline model, with U" },
     { "verify",  cmd_verify,  "check the whole record: integrity and the hash chain" },
+    { "copy",    cmd_copy,    "copy a whole database into an empty one (a file to a server and back)" },
     { "sequence", cmd_sequence, "drive the bath and instruments through a calibration sequence" },
     { "demo",    cmd_demo,    "run the whole job on built-in invented data" },
 };

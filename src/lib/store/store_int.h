@@ -314,4 +314,42 @@ struct bgi_hist_buf {
 };
 int bgi_hist_buf_push(struct bgi_hist_buf *h);
 
+/* Whole-database copy (copy.c, bg_store_copy): a few functions each backend offers beside its
+** table of functions (sqlite_copy.c, pg_copy.c), found by the backend they belong to.  A row
+** is read and written as it is stored, column by column, by name: the tables are the same on
+** every backend (the migrations are numbered alike), so nothing is recomputed on the way. */
+enum bgi_cell_type { BGI_CELL_NULL, BGI_CELL_INT, BGI_CELL_REAL, BGI_CELL_TEXT, BGI_CELL_BLOB };
+struct bgi_cell {
+    int type;
+    long long i;          /* BGI_CELL_INT */
+    double d;             /* BGI_CELL_REAL */
+    const char *p;        /* TEXT (NUL-terminated) or BLOB: 'n' bytes */
+    size_t n;
+};
+#define BGI_ROW_MAXCOL 48
+struct bgi_row {
+    size_t ncol;
+    const char *name[BGI_ROW_MAXCOL];
+    struct bgi_cell cell[BGI_ROW_MAXCOL];
+};
+/* Called with each row; the values are valid during the call; nonzero stops with that status. */
+typedef int (*bgi_row_cb)(const struct bgi_row *row, void *ctx, bg_error *err);
+struct bgi_copy_backend {
+    const struct bgi_store_backend *be;
+    /* from now on the connection only reads, and every read sees one state of the database
+    ** until snapshot_end ('*own': whether a transaction was started for it) */
+    int (*snapshot_begin)(bgi_conn *c, int *own, bg_error *err);
+    void (*snapshot_end)(bgi_conn *c, int own);
+    /* every row of 'table' (one of copy.c's names) in the order of column 'key', every column */
+    int (*rows_each)(bgi_conn *c, const char *table, const char *key, bgi_row_cb cb, void *ctx,
+                     bg_error *err);
+    int (*rows_count)(bgi_conn *c, const char *table, long long *n, bg_error *err);
+    /* add 'n' rows of one table as they are (the same columns in each), inside the write
+    ** transaction; a row the backend does not store yet is BG_EUNAVAIL before anything */
+    int (*rows_insert)(bgi_conn *c, const char *table, const struct bgi_row *rows, size_t n,
+                       bg_error *err);
+};
+extern const struct bgi_copy_backend bgi_copy_sqlite; /* sqlite_copy.c */
+extern const struct bgi_copy_backend bgi_copy_pg;     /* pg_copy.c */
+
 #endif
