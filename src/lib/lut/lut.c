@@ -65,10 +65,10 @@ static int check_direction(const bg_lut_spec *s, double x_lo, double x_hi, bg_er
     bg_quantity q = bg_model_quantity(&s->model);
     if ((dir > 0 && x_hi > x_lo) || (dir < 0 && x_hi < x_lo))
         return BG_OK;
-    return bg_error_set(err, BG_EINVAL, "the model's %s %s from %.9g to %.9g %s over the range, "
-                        "but this kind's reading %s with temperature: not a curve to table",
-                        bg_quantity_column(q), x_hi > x_lo ? "rises" : "does not rise", x_lo,
-                        x_hi, bg_quantity_unit(q), dir > 0 ? "rises" : "falls");
+    return bg_error_set(err, BG_EINVAL, "over the range the model's reading (%s) %s from %.9g "
+                        "to %.9g %s, but this kind's %s with temperature: not a curve to table",
+                        bg_quantity_column(q), x_hi > x_lo ? "rises" : x_hi < x_lo ? "falls" :
+                        "stays", x_lo, x_hi, bg_quantity_unit(q), dir > 0 ? "rises" : "falls");
 }
 
 /* The temperatures at consecutive codes must all rise or all fall (strictly): a table of a
