@@ -484,8 +484,9 @@ static int front_end(struct lut_args *a)
     bg_model_name(m, name, sizeof name);
     if (q == BG_QTY_RESISTANCE) {
         if (a->junction_opt || a->device_opt)
-            return mismatch(a, "%s: model %s reads a resistance (ohms): give a divider, a "
-                            "current source or --ohms-input", a->junction_opt ?
+            return mismatch(a, "%s: model %s reads a resistance (ohms): its front end is a "
+                            "divider, a current source or --ohms-input, not this option",
+                            a->junction_opt ?
                             a->junction_opt : a->device_opt, name);
         if (a->current) {
             if (!(ci->current_a > 0.0 && ci->vref_v > 0.0))
@@ -496,8 +497,9 @@ static int front_end(struct lut_args *a)
     } else if (q == BG_QTY_VOLTAGE) {
         if (a->resist_opt || a->device_opt || a->rq.budget.fixed_tol > 0.0 ||
             a->rq.budget.excitation_v > 0.0)
-            return mismatch(a, "%s: model %s reads a junction's %s: give --vref (and --gain, "
-                            "--offset, --current for its bias)", a->resist_opt ? a->resist_opt :
+            return mismatch(a, "%s: model %s reads a junction's %s: its front end is --vref with "
+                            "--gain, --offset and --current (the bias), not this option",
+                            a->resist_opt ? a->resist_opt :
                             a->device_opt ? a->device_opt : a->rq.budget.fixed_tol > 0.0 ?
                             "--fixed-tol" : "--supply", name, what);
         if (!a->vref_set)
@@ -514,8 +516,9 @@ static int front_end(struct lut_args *a)
                           a->rq.budget.excitation_v > 0.0 ? "--supply" :
                           a->rq.budget.dissipation_w_per_k > 0.0 ? "--dissipation" : NULL;
         if (bad)
-            return mismatch(a, "%s: model %s reads an IC sensor's %s: give --device-bits "
-                            "(and --device-lsb for a reported temperature)", bad, name, what);
+            return mismatch(a, "%s: model %s reads an IC sensor's %s: its readout is "
+                            "--device-bits (and --device-lsb for a reported temperature), not "
+                            "this option", bad, name, what);
         if (!a->dbits_set)
             return mismatch(a, "model %s reads an IC sensor's %s: give --device-bits, the width "
                             "of the device's two's-complement word", name, what);

@@ -397,8 +397,10 @@ int bg_lut_build(const bg_lut_spec *s, bg_lut *out, bg_error *err)
         return bg_error_set(err, BG_EINVAL, "the range spans less than one code of this "
                             "circuit");
     if (fs > 0.0 && (lo < 1.0 || hi > fs - 1.0))
-        return bg_error_set(err, BG_EINVAL, "the range reaches the ADC's rails (codes %.0f .. "
-                            "%.0f of %.0f): change the %s or the range", lo, hi, fs,
+        return bg_error_set(err, BG_EINVAL, "the range reaches the %s (codes %.0f .. "
+                            "%.0f of %.0f): change the %s or the range",
+                            s->circuit.kind == BG_CIRCUIT_DEVICE ? "ends of the device's word" :
+                            "ADC's rails", lo, hi, fs,
                             rails_what(s->circuit.kind));
     if (hi - lo >= 16777216.0)
         return bg_error_set(err, BG_EINVAL, "the range spans %.0f codes: at most 2^24", hi - lo);
