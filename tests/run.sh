@@ -93,6 +93,8 @@ tally layout "$BUILD/layout.log" $?
 count $? xcheck_numpy
 "$PYTHON" tests/xcheck_kinds.py "$BUILD/bandgap"
 count $? xcheck_kinds
+"$PYTHON" tests/xcheck_lut_kinds.py "$BUILD/bandgap"
+count $? xcheck_lut_kinds
 "$PYTHON" tests/bench/timing_check.py > "$BUILD/timing-check.log" 2>&1
 tally timing "$BUILD/timing-check.log" $?
 

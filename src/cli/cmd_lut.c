@@ -2,6 +2,7 @@
 /* bandgap lut: a firmware lookup table (ADC code -> temperature) for a circuit, from a stored
 ** fit or an inline model, as C99, CSV or JSON, with its error measured over every code. */
 #include <errno.h>
+#include <stdarg.h>
 #include <getopt.h>
 #include <math.h>
 #include <stdio.h>
@@ -11,7 +12,7 @@
 #include "cli.h"
 
 static const char lut_usage[] =
-    "Usage: bandgap lut (--fit N | --probe SERIAL | MODEL OPTIONS) CIRCUIT --range T1:T2\n"
+    "Usage: bandgap lut (--fit N | --probe SERIAL | MODEL OPTIONS) FRONT-END --range T1:T2\n"
     "                   (--step CODES | --max-error DT [--strategy uniform|minimal|indexed])\n"
     "                   [--resolution 0.1|0.01|0.001|qN|float] [--kelvin] [--format c|csv|json|codes]\n"
     "                   [--symbol PREFIX] [-o FILE] [--report FILE.html] [--timestamp]\n"
@@ -27,13 +28,31 @@ static const char lut_usage[] =
     "Segment tables also give the fewest breakpoints a table with values on the curve\n"
     "would need; its time grows with the square of the codes, so above 16384 codes it is\n"
     "counted only with --oncurve-count (the output says when it was not).\n"
-    "Circuit:\n"
+    "Front end (CIRCUIT for a resistance sensor):\n"
     "  --fixed OHMS --sensor-side low|high   divider (low: thermistor between the ADC input\n"
     "                                        and ground), with --parallel OHMS, --series OHMS\n"
     "  --current AMPS --vref VOLTS           constant current, absolute reference (100uA,\n"
     "                                        2.5V)\n"
     "  --ohms-input [--ohms-per-code OHMS]   resistance input (default 1R per code)\n"
     "  --adc-bits N (8..24, default 12)  --full-scale pow2|pow2-1 (default pow2)\n"
+    "  --leads OHMS                          a 2-wire sensor's total lead (loop) resistance,\n"
+    "                                        in series with the sensor (PTC or platinum)\n"
+    "  --vref VOLTS [--gain G] [--offset V] [--current AMPS]   a junction (a model read in\n"
+    "                                        volts: vbe, dvbe, cheb:N) through an amplifier,\n"
+    "                                        V_adc = G V + offset (default 1 and 0V; G may be\n"
+    "                                        negative), into the ADC; --current states the\n"
+    "                                        bias (the model holds at its calibration current)\n"
+    "  --device-bits N [--device-lsb DT]     an IC sensor's readout (ic: reported degC, with\n"
+    "                                        --device-lsb the degrees per count, 0.0625C;\n"
+    "                                        ic-code: the code, its LSB the model's lsb_k):\n"
+    "                                        an N-bit two's-complement word; the table's code\n"
+    "                                        is the word + 2^(N-1) (its top bit flipped)\n"
+    "The front end must read what the model reads (ohms, volts, a reported temperature or a\n"
+    "code): the others' options are refused by name.  Over the range the reading must run\n"
+    "the kind's way (a PTC's or platinum sensor's resistance and an IC sensor's reading rise,\n"
+    "an NTC's resistance and a junction's voltage fall) and the temperature must be monotonic\n"
+    "in the code.  --param NAME=VALUE sets an inline model's held parameters (p, lsb_k, x_lo,\n"
+    "x_hi).  The C symbol defaults to ntc for an NTC thermistor, tsens otherwise.\n"
     "Values are signed integers in --resolution degC (default 0.01), qN a fixed point with N\n"
     "fractional bits (1..16), or float; K with --kelvin.  Out-of-range\n"
     "codes return named sentinels, never a clamped temperature.\n"
@@ -77,10 +96,15 @@ static int parse_range(const char *s, double *lo, double *hi, bg_error *err)
 enum { O_FIT = 1, O_PROBE, O_FIXED, O_SIDE, O_PAR, O_SER, O_BITS, O_FS, O_CUR, O_VREF,
        O_OHMSIN, O_OPC, O_RANGE, O_STEP, O_MAXERR, O_RES, O_KELVIN, O_FORMAT, O_SYMBOL,
        O_OUT, O_EXTRA, O_JSON, O_BAT, O_FTOL, O_EXC, O_DISS, O_STRAT, O_REPORT, O_SUPPLY,
-       O_STAMP, O_COVK, O_TARGET, O_OPTIMIZE, O_ONCURVE };
+       O_STAMP, O_COVK, O_TARGET, O_OPTIMIZE, O_ONCURVE, O_LEADS, O_GAIN, O_OFFSET, O_DBITS,
+       O_DLSB };
 
 static const struct option lut_opts[] = {
-    CLI_INLINE_OPTIONS,
+    CLI_INLINE_OPTIONS, CLI_INLINE_PARAM_OPTION,
+    { "leads", required_argument, NULL, O_LEADS },   { "gain", required_argument, NULL, O_GAIN },
+    { "offset", required_argument, NULL, O_OFFSET },
+    { "device-bits", required_argument, NULL, O_DBITS },
+    { "device-lsb", required_argument, NULL, O_DLSB },
     { "fit", required_argument, NULL, O_FIT },       { "probe", required_argument, NULL, O_PROBE },
     { "fixed", required_argument, NULL, O_FIXED },   { "sensor-side", required_argument, NULL, O_SIDE },
     { "parallel", required_argument, NULL, O_PAR },  { "series", required_argument, NULL, O_SER },
@@ -116,11 +140,59 @@ struct lut_args {
     const char *probe, *format, *symbol, *out_path, *report;
     long step;
     int have_range, side_set, current, ohms_in, help, format_set, optimize_set;
+    int bits_set, fs_set, dbits_set, symbol_set, cur_set, vref_set;
+    const char *junction_opt, *device_opt, *resist_opt; /* an option of that front end */
     char stamp[BG_TIME];
     double bat[16];
     bg_fit_row fit;
     struct cli_fit_used used;
 };
+
+/* An option of the other front ends and the 2-wire leads: --leads, --gain, --offset,
+** --device-bits, --device-lsb. */
+static int front_option(struct lut_args *a, int c, const char *arg)
+{
+    bg_circuit *ci = &a->rq.spec.circuit;
+    bg_error err = BG_ERROR_INIT;
+    char *end;
+    switch (c) {
+    case O_LEADS:
+        if (bg_units_parse_ohms(arg, &ci->lead_ohm, &err) != BG_OK)
+            return cli_usage_error("lut", "--leads: %s", err.msg);
+        a->resist_opt = "--leads";
+        break;
+    case O_GAIN:
+        errno = 0;
+        ci->gain = strtod(arg, &end);
+        if (end == arg || *end || errno || !isfinite(ci->gain) || ci->gain == 0.0)
+            return cli_usage_error("lut", "--gain: '%s': a number that is not 0 (V at the ADC "
+                                   "per V of the junction)", arg);
+        a->junction_opt = "--gain";
+        break;
+    case O_OFFSET: { /* signed: the magnitude in volts after an optional sign; 0V is none */
+        const char *mag = arg + (arg[0] == '-' || arg[0] == '+');
+        double v = 0.0;
+        if (strcmp(mag, "0V") != 0 && bg_units_parse_si(mag, "V", &v, &err) != BG_OK)
+            return cli_usage_error("lut", "--offset: %s (a signed voltage: -0.1V, 25mV, 0V)",
+                                   err.msg);
+        ci->offset_v = arg[0] == '-' ? -v : v;
+        a->junction_opt = "--offset";
+        break;
+    }
+    case O_DBITS:
+        ci->adc_bits = (unsigned)strtoul(arg, &end, 10);
+        if (*end || end == arg || ci->adc_bits < 8 || ci->adc_bits > 24)
+            return cli_usage_error("lut", "--device-bits: '%s': 8 .. 24", arg);
+        a->device_opt = "--device-bits", a->dbits_set = 1;
+        break;
+    default: /* O_DLSB */
+        if (bg_units_parse_tdiff(arg, &ci->device_lsb, &err) != BG_OK)
+            return cli_usage_error("lut", "--device-lsb: %s", err.msg);
+        a->device_opt = "--device-lsb";
+        break;
+    }
+    return BG_OK;
+}
 
 /* An option of the circuit (--fixed ... --ohms-input). */
 static int circuit_option(struct lut_args *a, int c, const char *arg)
@@ -135,20 +207,23 @@ static int circuit_option(struct lut_args *a, int c, const char *arg)
             return cli_usage_error("lut", "--%s: %s", c == O_FIXED ? "fixed" :
                                    c == O_PAR ? "parallel" : "series", err.msg);
         *(c == O_FIXED ? &ci->fixed_ohm : c == O_PAR ? &ci->parallel_ohm : &ci->series_ohm) = v;
+        a->resist_opt = c == O_FIXED ? "--fixed" : c == O_PAR ? "--parallel" : "--series";
         break;
     case O_SIDE:
         if (bg_circuit_side_parse(arg, &ci->kind, &err) != BG_OK)
             return cli_usage_error("lut", "--sensor-side: %s", err.msg);
-        a->side_set = 1;
+        a->side_set = 1, a->resist_opt = "--sensor-side";
         break;
     case O_BITS:
         ci->adc_bits = (unsigned)strtoul(arg, &end, 10);
         if (*end || ci->adc_bits < 8 || ci->adc_bits > 24)
             return cli_usage_error("lut", "--adc-bits: '%s': 8 .. 24", arg);
+        a->bits_set = 1;
         break;
     case O_FS:
         if (bg_circuit_full_scale_parse(arg, &ci->full_scale_pow2, &err) != BG_OK)
             return cli_usage_error("lut", "--full-scale: %s", err.msg);
+        a->fs_set = 1;
         break;
     case O_CUR: case O_VREF: case O_OPC:
         if ((c == O_OPC ? bg_units_parse_ohms(arg, &v, &err)
@@ -157,8 +232,12 @@ static int circuit_option(struct lut_args *a, int c, const char *arg)
                                    "vref" : "ohms-per-code", err.msg);
         *(c == O_CUR ? &ci->current_a : c == O_VREF ? &ci->vref_v : &ci->ohms_per_code) = v;
         a->current |= c != O_OPC;
+        a->cur_set |= c == O_CUR, a->vref_set |= c == O_VREF;
+        if (c == O_OPC)
+            a->resist_opt = "--ohms-per-code";
         break;
-    default: a->ohms_in = 1; break; /* O_OHMSIN */
+    case O_OHMSIN: a->ohms_in = 1, a->resist_opt = "--ohms-input"; break;
+    default: return front_option(a, c, arg);
     }
     return BG_OK;
 }
@@ -249,7 +328,7 @@ static int other_option(struct lut_args *a, int c, const char *arg)
                                    "one", a->format, arg);
         a->format = arg, a->format_set = 1;
         break;
-    case O_SYMBOL: a->symbol = arg; break;
+    case O_SYMBOL: a->symbol = arg, a->symbol_set = 1; break;
     case O_OUT: a->out_path = arg; break;
     case O_EXTRA: a->rq.allow_extrapolation = 1; break;
     case O_BAT:
@@ -295,17 +374,12 @@ static int check_args(struct lut_args *a)
         return cli_usage_error("lut", "--range T1:T2 is required");
     if ((a->step > 0) == isfinite(a->rq.max_err_k))
         return cli_usage_error("lut", "give --step or --max-error");
-    if (a->current + a->ohms_in + (ci->fixed_ohm > 0.0 || a->side_set) != 1)
+    if (a->current + a->ohms_in + (ci->fixed_ohm > 0.0 || a->side_set) +
+        (a->device_opt != NULL) != 1)
         return cli_usage_error("lut", "give one circuit: --fixed (divider), --current and "
-                               "--vref, or --ohms-input");
-    if (a->current) {
-        if (!(ci->current_a > 0.0 && ci->vref_v > 0.0))
-            return cli_usage_error("lut", "a current source needs --current and --vref");
-        ci->kind = BG_CIRCUIT_CURRENT;
-    } else if (a->ohms_in)
-        ci->kind = BG_CIRCUIT_OHMS;
-    if (bg_circuit_check(ci, &err) != BG_OK)
-        return cli_usage_error("lut", "%s", err.msg);
+                               "--vref (or --vref alone for a junction), --ohms-input, or "
+                               "--device-bits (an IC sensor's readout)");
+    (void)err;
     return BG_OK;
 }
 
@@ -326,10 +400,12 @@ static int lut_parse_args(int argc, char **argv, const struct cli_ctx *ctx, stru
         case 'h': a->help = 1; return BG_OK;
         case ':': return cli_usage_error("lut", "option '%s' needs a value", argv[optind - 1]);
         case CLI_IN_MODEL: case CLI_IN_COEF: case CLI_IN_R25: case CLI_IN_BETA: case CLI_IN_T0:
+        case CLI_IN_PARAM:
             rc = cli_inline_option(&a->in, c, optarg, "lut");
             break;
         case O_FIXED: case O_SIDE: case O_PAR: case O_SER: case O_BITS: case O_FS: case O_CUR:
-        case O_VREF: case O_OHMSIN: case O_OPC:
+        case O_VREF: case O_OHMSIN: case O_OPC: case O_LEADS: case O_GAIN: case O_OFFSET:
+        case O_DBITS: case O_DLSB:
             rc = circuit_option(a, c, optarg);
             break;
         case O_RANGE: case O_STEP: case O_MAXERR: case O_RES: case O_STRAT:
@@ -377,6 +453,93 @@ static int resolve_model(struct lut_args *a, struct cli_ctx *ctx)
     return BG_OK;
 }
 
+/* A front end that does not go with the model's kind: a usage error (64) for a model given
+** inline, a data error (65) for a stored fit, whose kind the data decided. */
+static int mismatch(const struct lut_args *a, const char *fmt, ...) BG_PRINTF(2, 3);
+static int mismatch(const struct lut_args *a, const char *fmt, ...)
+{
+    char msg[400];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(msg, sizeof msg, fmt, ap);
+    va_end(ap);
+    if (!a->rq.fit_id)
+        return cli_usage_error("lut", "%s", msg);
+    bg_error err = BG_ERROR_INIT;
+    bg_error_set(&err, BG_EINVAL, "fit %lld: %s", a->rq.fit_id, msg);
+    return cli_fail("lut", &err);
+}
+
+/* The front end for the model's quantity: the resistance circuits for a resistance sensor,
+** the junction front end for volts, the device readout for an IC sensor; the options of the
+** others refused by name. */
+static int front_end(struct lut_args *a)
+{
+    bg_circuit *ci = &a->rq.spec.circuit;
+    const bg_model *m = &a->rq.spec.model;
+    bg_quantity q = bg_model_quantity(m);
+    char name[24];
+    const char *what = bg_quantity_column(q);
+    bg_error err = BG_ERROR_INIT;
+    bg_model_name(m, name, sizeof name);
+    if (q == BG_QTY_RESISTANCE) {
+        if (a->junction_opt || a->device_opt)
+            return mismatch(a, "%s: model %s reads a resistance (ohms): its front end is a "
+                            "divider, a current source or --ohms-input, not this option",
+                            a->junction_opt ?
+                            a->junction_opt : a->device_opt, name);
+        if (a->current) {
+            if (!(ci->current_a > 0.0 && ci->vref_v > 0.0))
+                return cli_usage_error("lut", "a current source needs --current and --vref");
+            ci->kind = BG_CIRCUIT_CURRENT;
+        } else if (a->ohms_in)
+            ci->kind = BG_CIRCUIT_OHMS;
+    } else if (q == BG_QTY_VOLTAGE) {
+        if (a->resist_opt || a->device_opt || a->rq.budget.fixed_tol > 0.0 ||
+            a->rq.budget.excitation_v > 0.0)
+            return mismatch(a, "%s: model %s reads a junction's %s: its front end is --vref with "
+                            "--gain, --offset and --current (the bias), not this option",
+                            a->resist_opt ? a->resist_opt :
+                            a->device_opt ? a->device_opt : a->rq.budget.fixed_tol > 0.0 ?
+                            "--fixed-tol" : "--supply", name, what);
+        if (!a->vref_set)
+            return mismatch(a, "model %s reads a junction's volts: the junction front end "
+                            "needs --vref (the ADC's reference)", name);
+        ci->kind = BG_CIRCUIT_JUNCTION;
+        if (ci->gain == 0.0) /* not given (--gain refuses 0): unity, as --help says */
+            ci->gain = 1.0;
+    } else {
+        const char *bad = a->resist_opt ? a->resist_opt : a->junction_opt ? a->junction_opt :
+                          a->current ? (a->cur_set ? "--current" : "--vref") :
+                          a->bits_set ? "--adc-bits" : a->fs_set ? "--full-scale" :
+                          a->rq.budget.fixed_tol > 0.0 ? "--fixed-tol" :
+                          a->rq.budget.excitation_v > 0.0 ? "--supply" :
+                          a->rq.budget.dissipation_w_per_k > 0.0 ? "--dissipation" : NULL;
+        if (bad)
+            return mismatch(a, "%s: model %s reads an IC sensor's %s: its readout is "
+                            "--device-bits (and --device-lsb for a reported temperature), not "
+                            "this option", bad, name, what);
+        if (!a->dbits_set)
+            return mismatch(a, "model %s reads an IC sensor's %s: give --device-bits, the width "
+                            "of the device's two's-complement word", name, what);
+        if (q == BG_QTY_REPORTED_T && !(ci->device_lsb > 0.0))
+            return mismatch(a, "model %s reads a reported temperature: give --device-lsb, the "
+                            "degrees per count of the device's word (0.0625C)", name);
+        if (q == BG_QTY_CODE) {
+            if (ci->device_lsb > 0.0)
+                return mismatch(a, "--device-lsb: model %s reads the device's code and holds "
+                                "its LSB itself (--param lsb_k=...)", name);
+            ci->device_lsb = 1.0;
+        }
+        ci->kind = BG_CIRCUIT_DEVICE;
+    }
+    if (bg_circuit_check_for(ci, m, &err) != BG_OK)
+        return mismatch(a, "%s", err.msg);
+    if (!a->symbol_set) /* the default name: ntc for an NTC thermistor's table, as before */
+        a->symbol = q == BG_QTY_RESISTANCE && bg_model_direction(m) < 0 ? "ntc" : "tsens";
+    return BG_OK;
+}
+
 /* The table report (not stored): error at every code and the budget, as HTML. */
 static int write_report(const char *path, const bg_lut_result *r)
 {
@@ -404,7 +567,9 @@ static void print_codes(const bg_lut_result *r, FILE *f)
 {
     const bg_lut *t = &r->table;
     char vu[48];
-    long n = 1L << r->spec.circuit.adc_bits;
+    /* a resistance input has no converter width: its codes up to one past the range */
+    long n = r->spec.circuit.kind == BG_CIRCUIT_OHMS ? t->code_hi + 2
+                                                      : 1L << r->spec.circuit.adc_bits;
     static const char *where[] = { "in", "below", "above" };
     fprintf(f, "# generated by bandgap %s; %s table; what the emitted lookup returns for every "
                "code 0 .. %ld, in %s (status below/above: the sentinel)%s%s\n", bg_version(),
@@ -469,7 +634,7 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
         fputs(lut_usage, stdout);
         return BG_OK;
     }
-    if ((rc = resolve_model(&a, ctx)) != BG_OK)
+    if ((rc = resolve_model(&a, ctx)) != BG_OK || (rc = front_end(&a)) != BG_OK)
         return rc;
     if (a.step > 0 && a.rq.strategy > BG_LUT_UNIFORM)
         return cli_usage_error("lut", "--step is for the uniform strategy; the others take "

@@ -296,10 +296,14 @@ void lut_print_summary(const bg_lut_result *r, const char *pre, FILE *b)
         { BG_BUDGET_RESISTOR, "resistor needs --fixed-tol" },
         { BG_BUDGET_SELFHEAT, "self-heat needs --dissipation and, for a divider, --supply" },
     };
+    bg_circuit_kind kind = r->spec.circuit.kind;
+    const char *selfheat = kind == BG_CIRCUIT_DEVICE ? "self-heat is the device's own (not "
+                           "modelled for a digital readout)" : kind == BG_CIRCUIT_JUNCTION ?
+                           "self-heat needs --dissipation and the bias --current" : NULL;
     const char *sep = "";
     fputs("(not given, so left out of RSS and sum: ", b);
     for (size_t k = 0; k < 3; k++)
         if (!(r->budget_terms & need[k].bit))
-            fprintf(b, "%s%s", sep, need[k].why), sep = "; ";
+            fprintf(b, "%s%s", sep, k == 2 && selfheat ? selfheat : need[k].why), sep = "; ";
     fputs(")\n", b);
 }

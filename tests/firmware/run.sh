@@ -78,6 +78,7 @@ for st in uniform minimal indexed; do
 done
 export BANDGAP W TARGETS
 xargs -d '\n' -P "${FW_JOBS:-2}" -n 1 sh "$HERE/one.sh" < "$W/cases" > "$W/results.log" 2>&1
+sh "$HERE/kinds.sh" "$BANDGAP" "$W/kinds" >> "$W/results.log" 2>&1 # every sensor kind
 # the timer check, from one AVR run
 avr_out=$(ls "$W"/*/avr.out 2>/dev/null | head -1)
 set -- $(sed -n 's/^O:t \([0-9a-f]*\) \([0-9a-f]*\)$/\1 \2/p' "$avr_out" 2>/dev/null)

@@ -44,12 +44,60 @@ static double counts_per_k(const bg_lut_spec *s)
     }
 }
 
+/* What to change when a range reaches the rails, by front end. */
+static const char *rails_what(bg_circuit_kind k)
+{
+    switch (k) {
+    case BG_CIRCUIT_CURRENT: return "current, the reference voltage";
+    case BG_CIRCUIT_JUNCTION: return "gain, the offset, the reference voltage";
+    case BG_CIRCUIT_DEVICE: return "device word's bits";
+    default: return "fixed resistor";
+    }
+}
+
+/* The guard rail of the kind: over the range the model's reading must run the way the kind's
+** does (a PTC's resistance and an IC sensor's reading rise, a junction's voltage and an NTC's
+** resistance fall: bg_model_direction), so that a fit that turned over is refused here, not
+** tabled.  x_lo, x_hi: the readings at the range's ends. */
+static int check_direction(const bg_lut_spec *s, double x_lo, double x_hi, bg_error *err)
+{
+    int dir = bg_model_direction(&s->model);
+    bg_quantity q = bg_model_quantity(&s->model);
+    if ((dir > 0 && x_hi > x_lo) || (dir < 0 && x_hi < x_lo))
+        return BG_OK;
+    return bg_error_set(err, BG_EINVAL, "over the range the model's reading (%s) %s from %.9g "
+                        "to %.9g %s, but this kind's %s with temperature: not a curve to table",
+                        bg_quantity_column(q), x_hi > x_lo ? "rises" : x_hi < x_lo ? "falls" :
+                        "stays", x_lo, x_hi, bg_quantity_unit(q), dir > 0 ? "rises" : "falls");
+}
+
+/* The temperatures at consecutive codes must all rise or all fall (strictly): a table of a
+** curve that turns over inside the range would give one code two temperatures. */
+static int check_monotonic(const bg_lut *t, const double *tk, size_t nc, bg_error *err)
+{
+    int sign = 0;
+    for (size_t c = 0; c + 1 < nc; c++) {
+        double d = tk[c + 1] - tk[c];
+        int sc = d > 0.0 ? 1 : d < 0.0 ? -1 : 0;
+        if (sign == 0)
+            sign = sc;
+        if (sc == 0 || sc != sign)
+            return bg_error_set(err, BG_EINVAL, "the temperature %s between codes %ld and %ld "
+                                "(%.6f and %.6f K) while it %s before: the model is not "
+                                "monotonic over the range", sc == 0 ? "stands still" :
+                                sc > 0 ? "rises" : "falls", t->code_lo + (long)c,
+                                t->code_lo + (long)c + 1, tk[c], tk[c + 1],
+                                sign > 0 ? "rises" : "falls");
+    }
+    return BG_OK;
+}
+
 /* Exact temperature at a code, through the circuit and the model. */
 static int t_at(const bg_lut_spec *s, double code, double *t_k, bg_error *err)
 {
     double r;
-    int rc = bg_circuit_ohms_of(&s->circuit, code, &r, err);
-    return rc == BG_OK ? bg_model_t_from_r(&s->model, r, t_k, err) : rc;
+    int rc = bg_circuit_reading_of(&s->circuit, code, &r, err);
+    return rc == BG_OK ? bg_model_t_from_x(&s->model, r, t_k, err) : rc;
 }
 
 static int32_t uniform_eval(const bg_lut *t, uint32_t off)
@@ -336,11 +384,12 @@ int bg_lut_build(const bg_lut_spec *s, bg_lut *out, bg_error *err)
     if (!(s->t_hi_k > s->t_lo_k))
         return bg_error_set(err, BG_EINVAL, "the range must run from a lower to a higher "
                             "temperature");
-    if ((rc = bg_circuit_check(&s->circuit, err)) != BG_OK ||
-        (rc = bg_model_r_from_t(&s->model, s->t_lo_k, &r1, err)) != BG_OK ||
-        (rc = bg_model_r_from_t(&s->model, s->t_hi_k, &r2, err)) != BG_OK ||
-        (rc = bg_circuit_code_of(&s->circuit, r1, &c1, err)) != BG_OK ||
-        (rc = bg_circuit_code_of(&s->circuit, r2, &c2, err)) != BG_OK)
+    if ((rc = bg_circuit_check_for(&s->circuit, &s->model, err)) != BG_OK ||
+        (rc = bg_model_x_from_t(&s->model, s->t_lo_k, &r1, err)) != BG_OK ||
+        (rc = bg_model_x_from_t(&s->model, s->t_hi_k, &r2, err)) != BG_OK ||
+        (rc = check_direction(s, r1, r2, err)) != BG_OK ||
+        (rc = bg_circuit_code_of_reading(&s->circuit, r1, &c1, err)) != BG_OK ||
+        (rc = bg_circuit_code_of_reading(&s->circuit, r2, &c2, err)) != BG_OK)
         return rc;
     fs = bg_circuit_full_scale(&s->circuit);
     lo = ceil(fmin(c1, c2)), hi = floor(fmax(c1, c2));
@@ -348,10 +397,11 @@ int bg_lut_build(const bg_lut_spec *s, bg_lut *out, bg_error *err)
         return bg_error_set(err, BG_EINVAL, "the range spans less than one code of this "
                             "circuit");
     if (fs > 0.0 && (lo < 1.0 || hi > fs - 1.0))
-        return bg_error_set(err, BG_EINVAL, "the range reaches the ADC's rails (codes %.0f .. "
-                            "%.0f of %.0f): change the %s or the range", lo, hi, fs,
-                            s->circuit.kind == BG_CIRCUIT_CURRENT ? "current, the reference "
-                            "voltage" : "fixed resistor");
+        return bg_error_set(err, BG_EINVAL, "the range reaches the %s (codes %.0f .. "
+                            "%.0f of %.0f): change the %s or the range",
+                            s->circuit.kind == BG_CIRCUIT_DEVICE ? "ends of the device's word" :
+                            "ADC's rails", lo, hi, fs,
+                            rails_what(s->circuit.kind));
     if (hi - lo >= 16777216.0)
         return bg_error_set(err, BG_EINVAL, "the range spans %.0f codes: at most 2^24", hi - lo);
     out->strategy = s->strategy, out->format = s->format;
@@ -364,6 +414,8 @@ int bg_lut_build(const bg_lut_spec *s, bg_lut *out, bg_error *err)
     for (size_t c = 0; c < nc; c++)
         if ((rc = t_at(s, (double)out->code_lo + (double)c, &tk[c], err)) != BG_OK)
             goto fail;
+    if ((rc = check_monotonic(out, tk, nc, err)) != BG_OK)
+        goto fail;
     if (s->max_err_k > 0.0) {
         /* a bound no code of the range resolves: half an LSB is above it everywhere */
         double half_lsb = INFINITY;
@@ -454,6 +506,31 @@ int bg_lut_build_smallest(const bg_lut_spec *s, bg_lut *out, size_t bytes[3], bg
     return BG_OK;
 }
 
+/* Self-heating at reading 'x' (K): the power in the sensor over the dissipation constant.
+** A resistance sensor on a current source or a divider (with its supply): the current through
+** the sensor's arm (leads included) squared times R; a junction: its bias current times its
+** voltage.  0 where the inputs do not give it (budget_terms then shows NaN). */
+static double selfheat(const bg_circuit *c, const bg_budget_opts *o, double x)
+{
+    if (!(o->dissipation_w_per_k > 0.0) || c->kind == BG_CIRCUIT_DEVICE)
+        return 0.0;
+    if (c->kind == BG_CIRCUIT_JUNCTION)
+        return c->current_a > 0.0 ? c->current_a * fabs(x) / o->dissipation_w_per_k : 0.0;
+    double arm = x + c->lead_ohm;
+    double rb = c->series_ohm + (c->parallel_ohm > 0.0 ? arm * c->parallel_ohm /
+                                                          (arm + c->parallel_ohm) : arm);
+    double i = NAN;
+    if (c->kind == BG_CIRCUIT_CURRENT)
+        i = c->current_a;
+    else if (o->excitation_v > 0.0 && c->kind != BG_CIRCUIT_OHMS)
+        i = o->excitation_v / (rb + c->fixed_ohm);
+    if (!isfinite(i))
+        return 0.0;
+    /* the voltage across the sensor's arm (and its parallel resistor), the arm's current */
+    double ia = i * (rb - c->series_ohm) / arm;
+    return ia * ia * x / o->dissipation_w_per_k;
+}
+
 /* The budget's terms at one code (real-valued for the temperature of a row). */
 static int budget_at(const bg_lut_spec *s, const bg_lut *t, const bg_budget_opts *o, double code,
                      bg_budget_row *r, bg_error *err)
@@ -461,7 +538,7 @@ static int budget_at(const bg_lut_spec *s, const bg_lut *t, const bg_budget_opts
     double rth, tk, k_lsb;
     int rc, st;
     memset(r, 0, sizeof *r);
-    if ((rc = bg_circuit_ohms_of(&s->circuit, code, &rth, err)) != BG_OK ||
+    if ((rc = bg_circuit_reading_of(&s->circuit, code, &rth, err)) != BG_OK ||
         (rc = bg_circuit_temp_of(&s->circuit, &s->model, code, &tk, &k_lsb, err)) != BG_OK)
         return rc;
     r->t_k = tk;
@@ -481,8 +558,8 @@ static int budget_at(const bg_lut_spec *s, const bg_lut *t, const bg_budget_opts
             return rc;
         r->fit_k *= o->fit_k > 0.0 ? o->fit_k : 2.0;
     }
-    if (o->fixed_tol > 0.0 && s->circuit.kind != BG_CIRCUIT_CURRENT &&
-        s->circuit.kind != BG_CIRCUIT_OHMS) {
+    if (o->fixed_tol > 0.0 && (s->circuit.kind == BG_CIRCUIT_DIVIDER_LOW ||
+                               s->circuit.kind == BG_CIRCUIT_DIVIDER_HIGH)) {
         /* the same code read with the fixed resistor at its tolerance: what the firmware,
         ** assuming the nominal value, gets wrong */
         bg_circuit c2 = s->circuit;
@@ -492,21 +569,7 @@ static int budget_at(const bg_lut_spec *s, const bg_lut *t, const bg_budget_opts
             bg_model_t_from_r(&s->model, r2, &t2, NULL) == BG_OK)
             r->resistor_k = fabs(t2 - tk);
     }
-    if (o->dissipation_w_per_k > 0.0) {
-        const bg_circuit *c = &s->circuit;
-        double rb = c->series_ohm + (c->parallel_ohm > 0.0 ? rth * c->parallel_ohm /
-                                                              (rth + c->parallel_ohm) : rth);
-        double i = NAN;
-        if (c->kind == BG_CIRCUIT_CURRENT)
-            i = c->current_a;
-        else if (o->excitation_v > 0.0 && c->kind != BG_CIRCUIT_OHMS)
-            i = o->excitation_v / (rb + c->fixed_ohm);
-        if (isfinite(i)) {
-            /* the voltage across the thermistor (and its parallel resistor), squared over R */
-            double v = i * (rb - c->series_ohm);
-            r->selfheat_k = v * v / rth / o->dissipation_w_per_k;
-        }
-    }
+    r->selfheat_k = selfheat(&s->circuit, o, rth);
     r->rss_k = sqrt(r->table_k * r->table_k + r->adc_k * r->adc_k + r->fit_k * r->fit_k +
                     r->resistor_k * r->resistor_k + r->selfheat_k * r->selfheat_k);
     r->sum_k = r->table_k + r->adc_k + r->fit_k + r->resistor_k + r->selfheat_k;
@@ -523,8 +586,8 @@ int bg_lut_budget(const bg_lut_spec *s, const bg_lut *t, const bg_budget_opts *o
         if (at_k[k] < s->t_lo_k - 1e-9 || at_k[k] > s->t_hi_k + 1e-9)
             return bg_error_set(err, BG_EINVAL, "budget temperature %.3f degC is outside the "
                                 "table's range", at_k[k] - BG_ZERO_C_K);
-        if ((rc = bg_model_r_from_t(&s->model, at_k[k], &r, err)) != BG_OK ||
-            (rc = bg_circuit_code_of(&s->circuit, r, &code, err)) != BG_OK ||
+        if ((rc = bg_model_x_from_t(&s->model, at_k[k], &r, err)) != BG_OK ||
+            (rc = bg_circuit_code_of_reading(&s->circuit, r, &code, err)) != BG_OK ||
             (rc = budget_at(s, t, o, code, &rows[k], err)) != BG_OK)
             return rc;
         rows[k].t_k = at_k[k];

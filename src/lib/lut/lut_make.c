@@ -99,7 +99,7 @@ static void budget_terms(bg_lut_result *out)
 {
     const bg_budget_opts *o = &out->budget_opts;
     bg_circuit_kind kind = out->spec.circuit.kind;
-    int divider = kind != BG_CIRCUIT_CURRENT && kind != BG_CIRCUIT_OHMS;
+    int divider = kind == BG_CIRCUIT_DIVIDER_LOW || kind == BG_CIRCUIT_DIVIDER_HIGH;
     unsigned t = 0;
     if (o->cov)
         t |= BG_BUDGET_FIT;
@@ -108,7 +108,8 @@ static void budget_terms(bg_lut_result *out)
     else if (o->fixed_tol > 0.0)
         t |= BG_BUDGET_RESISTOR;
     if (o->dissipation_w_per_k > 0.0 &&
-        (kind == BG_CIRCUIT_CURRENT || (divider && o->excitation_v > 0.0)))
+        (kind == BG_CIRCUIT_CURRENT || (divider && o->excitation_v > 0.0) ||
+         (kind == BG_CIRCUIT_JUNCTION && out->spec.circuit.current_a > 0.0)))
         t |= BG_BUDGET_SELFHEAT;
     out->budget_terms = t;
     for (size_t i = 0; i <= out->nbudget; i++) {
