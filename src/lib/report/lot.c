@@ -198,13 +198,14 @@ static void drift_table(FILE *f, const bg_qa_lot_summary *s)
           "rate / (mK/year)</th><th>flags</th></tr>\n", f);
     for (size_t i = 0; i < s->nprobes; i++)
         drift_rows(f, &s->probes[i]);
-    static const char *const from[3] = { "from the lot's R25 tolerance", "as given",
-                                         "the part's default" };
+    static const char *const from[4] = { "from the lot's R25 tolerance", "as given",
+                                         "the part's default", "from the tolerance of the part's "
+                                         "sensor kind at its reference temperature" };
     static const char *const rfrom[3] = { "the as-found limit", "as given", "the part's default" };
     fprintf(f, "</table>\n<p class=\"meta\" id=\"limits\">As-found error: what a device still "
                "using the earlier coefficients would read, minus the true temperature, largest "
                "over five check temperatures spread over the common range. Limit %.1f mK (%s); "
-               "rate limit %.1f mK/year (%s).</p>\n", 1e3 * s->limit_k, from[s->limit_from % 3],
+               "rate limit %.1f mK/year (%s).</p>\n", 1e3 * s->limit_k, from[s->limit_from % 4],
             1e3 * s->rate_k, rfrom[s->rate_from % 3]);
 }
 
