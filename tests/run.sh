@@ -89,6 +89,8 @@ tally layout "$BUILD/layout.log" $?
 count $? xcheck_numpy
 "$PYTHON" tests/xcheck_kinds.py "$BUILD/bandgap"
 count $? xcheck_kinds
+"$PYTHON" tests/xcheck_lots.py "$BUILD/bandgap"
+count $? xcheck_lots
 "$PYTHON" tests/bench/timing_check.py > "$BUILD/timing-check.log" 2>&1
 tally timing "$BUILD/timing-check.log" $?
 

@@ -195,6 +195,12 @@ static void nominal_json(json_out *j, const bg_qa_lot *l)
         json_null(j, "spec_id");
         json_str(j, "note", "the deviation includes the beta model's shape error and is not a "
                             "verdict");
+    } else if (l->sensor != BG_PART_NTC && !l->spec.have_model) {
+        json_str(j, "curve", l->sensor == BG_PART_PRT ? "IEC 60751 with the part's R0" :
+                             l->sensor == BG_PART_IC ? "the part's nominal correction" :
+                             "linear through the part's nominal value and slope");
+        json_int(j, "spec_id", l->spec.id);
+        json_str(j, "spec_created_at", l->spec.created_at);
     } else {
         json_str(j, "curve", bg_model_name(&l->spec.model, name, sizeof name));
         json_int(j, "spec_id", l->spec.id);
