@@ -105,8 +105,8 @@ FORGERIES = [  # (name, SQL, the table the message must name or None for "missin
      "probe"),
     ("a reference's correction", "DROP TRIGGER reference_keep; UPDATE reference SET "
      "lin_c0_k = 0 WHERE id = 1", "reference"),
-    ("a part specification", "DROP TRIGGER part_spec_keep; UPDATE part_spec SET tol_k = 1.0",
-     "part_spec"),
+    ("a part specification", "DROP TRIGGER part_spec_keep; UPDATE part_spec SET tol_k = 1.0 "
+     "WHERE id = 1", "part_spec"),
     ("a run's operator", "DROP TRIGGER run_keep; UPDATE run SET operator = 'X' WHERE id = 25",
      "run"),
     ("a reading's resistance", "DROP TRIGGER reading_keep; UPDATE reading SET r_ohm = "

@@ -104,13 +104,15 @@ dump() { # every row of every table, and the schema of indexes, triggers, views 
         # 011-run-quantity.sql add, NULL in an upgraded row)
         cols=$(sqlite3 "$1" "SELECT group_concat(name, ', ') FROM pragma_table_info('$t')
                              WHERE name <> 'reference_version_id' AND name NOT LIKE 'its90_%'
-                               AND name NOT IN ('quantity', 'quantity_unit')")
+                               AND name NOT IN ('quantity', 'quantity_unit', 'sensor',
+                                                'nom_t_k', 'nom_x', 'tol_x', 'nom_s', 'tol_s',
+                                                'iec_class')")
         sqlite3 "$1" "SELECT '$t', $cols FROM $t ORDER BY rowid"
     done
     sqlite3 "$1" "SELECT type, name, tbl_name, sql FROM sqlite_schema
                   WHERE (type IN ('index', 'trigger', 'view') OR name IN ('probe', 'exclusion'))
                     AND tbl_name <> 'chain' AND name NOT IN ('lot_keep', 'lot_stay',
-                    'reading_resistance_positive',
+                    'reading_resistance_positive', 'part_spec_sensor_shape',
                     'probe_keep', 'probe_stay', 'reference_keep', 'reference_stay')
                     AND tbl_name NOT IN ('reference_version', 'lot_version', 'probe_version')
                     AND tbl_name NOT LIKE 'sequence%'
@@ -250,6 +252,13 @@ echo "records: probe move refusals leave the database as it was"
 # trigger is as it was, and it verifies.
 U="$T/v9.db"
 Bu() { "$BIN" --db "$U" "$@"; }
+# the SQL that takes a version-12 file back to version 11 (what 012-part-sensor.sql adds)
+back_to_11() {
+    echo "DROP TRIGGER part_spec_sensor_shape;"
+    for c in iec_class tol_s nom_s tol_x nom_x nom_t_k sensor; do
+        echo "ALTER TABLE part_spec DROP COLUMN $c;"
+    done
+}
 Bu init > /dev/null
 Bu lot add L --part P --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1% > /dev/null
 Bu lot add L2 --part P --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1% > /dev/null
@@ -277,6 +286,7 @@ for t in lot lot_version probe probe_version reference reference_version run rea
     [ "$(sqlite3 "$U" "SELECT count(*) FROM $t")" -gt 0 ] || bad "v9 setup: table $t is empty"
 done
 sqlite3 "$U" "PRAGMA foreign_keys = OFF; PRAGMA legacy_alter_table = ON;
+$(back_to_11)
 ALTER TABLE run DROP COLUMN quantity_unit; ALTER TABLE run DROP COLUMN quantity;
 DROP TRIGGER reading_resistance_positive;
 ALTER TABLE reading RENAME TO reading_new;
@@ -293,16 +303,19 @@ dump9() {
     for t in lot lot_version probe probe_version reference reference_version run reading \
              exclusion fit artifact part_spec chain; do
         cols=$(sqlite3 "$1" "SELECT group_concat(name, ', ') FROM pragma_table_info('$t')
-                             WHERE name NOT IN ('quantity', 'quantity_unit')")
+                             WHERE name NOT IN ('quantity', 'quantity_unit', 'sensor',
+                                                'nom_t_k', 'nom_x', 'tol_x', 'nom_s', 'tol_s',
+                                                'iec_class')")
         sqlite3 "$1" "SELECT '$t', $cols FROM $t ORDER BY rowid"
     done
     sqlite3 "$1" "SELECT type, name, tbl_name, sql FROM sqlite_schema
                   WHERE type IN ('index', 'trigger', 'view')
-                    AND name <> 'reading_resistance_positive' ORDER BY type, name"
+                    AND name NOT IN ('reading_resistance_positive', 'part_spec_sensor_shape')
+                  ORDER BY type, name"
 }
 dump9 "$U" > "$T/before9.txt"
 Bu lot list > /dev/null 2> "$T/err" || bad "the upgrade from version 9 failed: $(cat "$T/err")"
-[ "$(sqlite3 "$U" 'PRAGMA user_version')" = 11 ] || bad "the version-9 file was not upgraded"
+[ "$(sqlite3 "$U" 'PRAGMA user_version')" = 12 ] || bad "the version-9 file was not upgraded"
 dump9 "$U" > "$T/after9.txt"
 cmp -s "$T/before9.txt" "$T/after9.txt" ||
     bad "the upgrade from 9 changed rows, ids, hashes, indexes or triggers: $(diff "$T/before9.txt" "$T/after9.txt")"
@@ -319,6 +332,44 @@ out=$(sqlite3 "$U" "INSERT INTO reading (run_id, line, t_raw, t_k, r_ohm, u_t_k,
                     VALUES (1, 99, 25, 298.15, -1, 0, 0)" 2>&1)
 case $out in *"a resistance must be > 0 ohm"*) ;; *) bad "a negative resistance: $out" ;; esac
 echo "records: the run-quantity schema keeps a version-9 record, its hashes and checks"
+
+# 7b. the part-sensor schema (version 12), from a version-11 file with rows in every table,
+# part specifications among them, and its record chain: the same file taken back to version
+# 11 by hand (the seven part_spec columns and the trigger dropped) is opened again: every row,
+# id, chain hash, index and trigger is as it was, it verifies, the old specifications read as
+# NTC ones, and a junction part can be specified after the upgrade.
+cp "$U" "$T/v11.db"
+U11="$T/v11.db"
+B11() { "$BIN" --db "$U11" "$@"; }
+B11 part set P --tol 0.2K --over 0/50 --note "invented second row" > /dev/null ||
+    bad "v11 setup: a second part specification"
+B11 verify > "$T/verify11-before.txt" 2>&1 || bad "v11 setup: the file does not verify"
+sqlite3 "$U11" "PRAGMA foreign_keys = OFF; $(back_to_11) PRAGMA user_version = 11;" ||
+    bad "v11 setup: the file could not be taken back to version 11"
+[ "$(sqlite3 "$U11" "SELECT count(*) FROM pragma_table_info('part_spec') WHERE name = 'sensor'")" = 0 ] ||
+    bad "v11 setup: part_spec still has the sensor column"
+dump9 "$U11" > "$T/before11.txt"
+B11 lot list > /dev/null 2> "$T/err" || bad "the upgrade from version 11 failed: $(cat "$T/err")"
+[ "$(sqlite3 "$U11" 'PRAGMA user_version')" = 12 ] || bad "the version-11 file was not upgraded"
+dump9 "$U11" > "$T/after11.txt"
+cmp -s "$T/before11.txt" "$T/after11.txt" ||
+    bad "the upgrade from 11 changed rows, ids, hashes, indexes or triggers: $(diff "$T/before11.txt" "$T/after11.txt")"
+[ "$(sqlite3 "$U11" 'SELECT count(*) FROM part_spec WHERE sensor IS NOT NULL OR nom_x IS NOT NULL OR iec_class IS NOT NULL')" = 0 ] ||
+    bad "an upgraded part specification has a sensor kind (NULL: an NTC)"
+B11 verify > "$T/verify11-after.txt" 2>&1 || bad "the upgraded version-11 file does not verify: $(cat "$T/verify11-after.txt")"
+cmp -s "$T/verify11-before.txt" "$T/verify11-after.txt" ||
+    bad "verify says otherwise after the upgrade from 11: $(diff "$T/verify11-before.txt" "$T/verify11-after.txt")"
+[ "$(B11 part show P --json | python3 -c "import json,sys; print(' '.join(s['sensor'] for s in json.load(sys.stdin)))")" = "ntc ntc" ] ||
+    bad "the upgraded part specifications do not read as NTC ones"
+B11 part set J --sensor junction --v-ref 600mV --dvdt -2mV/K --tol-v 5mV --tol-dvdt 0.1mV/K \
+    > /dev/null 2> "$T/err" || bad "a junction part after the upgrade from 11: $(cat "$T/err")"
+B11 verify > /dev/null 2>&1 || bad "the upgraded version-11 file with a junction part does not verify"
+# the record refuses a row whose kind and values do not match, whoever writes it
+out=$(sqlite3 "$U11" "INSERT INTO part_spec (part, sensor, nom_t_k, nom_x, created_at)
+                      VALUES ('X', 'junction', 298.15, 0.6, 't')" 2>&1)
+case $out in *"sensor kind and its nominal values do not match"*) ;; *) bad "a junction row without its slope: $out" ;; esac
+[ "$(sqlite3 "$U11" 'PRAGMA integrity_check')" = ok ] || bad "integrity_check after the upgrade from 11"
+echo "records: the part-sensor schema keeps a version-11 record, its hashes and checks"
 
 # 8. readings of other quantities: import, fits of the wrong kind and bad files refused with
 # the database byte for byte as it was

@@ -95,6 +95,8 @@ count $? xcheck_numpy
 count $? xcheck_kinds
 "$PYTHON" tests/xcheck_lut_kinds.py "$BUILD/bandgap"
 count $? xcheck_lut_kinds
+"$PYTHON" tests/xcheck_lots.py "$BUILD/bandgap"
+count $? xcheck_lots
 "$PYTHON" tests/bench/timing_check.py > "$BUILD/timing-check.log" 2>&1
 tally timing "$BUILD/timing-check.log" $?
 

@@ -468,11 +468,40 @@ static void lot_summary_matches_per_probe_drift(void **state)
     bg_store_close(st);
 }
 
+/* The sensor kinds' names both ways, and the default drift limit of each kind's part. */
+static void sensor_kinds_and_limits(void **state)
+{
+    (void)state;
+    bg_part_spec sp;
+    bg_error err = BG_ERROR_INIT;
+    int k;
+    for (int i = 0; i < BG_PART_NSENSOR; i++) {
+        assert_int_equal(bg_part_sensor_parse(bg_part_sensor_name(i), &k, NULL), BG_OK);
+        assert_int_equal(k, i);
+    }
+    assert_int_equal(bg_part_sensor_parse("junctoin", &k, &err), BG_EINVAL);
+    assert_non_null(strstr(err.msg, "did you mean 'junction'"));
+    memset(&sp, 0, sizeof sp);
+    assert_true(isnan(bg_qa_spec_limit_k(&sp))); /* an NTC: the lot's R25 tolerance applies */
+    sp.sensor = BG_PART_JUNCTION, sp.nom_x = 0.6, sp.tol_x = 5e-3, sp.nom_s = -2.2e-3;
+    /* 5 mV over 2.2 mV/K = 2.2727... K (by hand) */
+    assert_true(fabs(bg_qa_spec_limit_k(&sp) - 5.0 / 2.2) < 1e-12);
+    sp.sensor = BG_PART_PTC, sp.nom_x = 1000.0, sp.tol_x = 0.01, sp.nom_s = 7.9e-3;
+    assert_true(fabs(bg_qa_spec_limit_k(&sp) - 0.01 / 7.9e-3) < 1e-12);
+    memset(&sp, 0, sizeof sp);
+    sp.sensor = BG_PART_PRT, sp.nom_x = 100.0;
+    strcpy(sp.iec_class, "A"); /* IEC 60751 class A at 0 degC: +-0.15 K */
+    assert_true(fabs(bg_qa_spec_limit_k(&sp) - 0.15) < 1e-12);
+    strcpy(sp.iec_class, "B"); /* class B at 0 degC: +-0.3 K */
+    assert_true(fabs(bg_qa_spec_limit_k(&sp) - 0.3) < 1e-12);
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(lot_statistics_against_numpy),
+        cmocka_unit_test(sensor_kinds_and_limits),
         cmocka_unit_test(lot_against_the_part_curve),
         cmocka_unit_test(part_charts_against_numpy),
         cmocka_unit_test(probe_history_keeps_all_100),

@@ -34,8 +34,9 @@ typedef struct bg_drift {
     double at_k[BG_DRIFT_MAXAT];
     double err_mk[BG_DRIFT_MAXAT]; /* as-found: T_old(R_new(T)) - T, mK */
     double max_abs_err_mk;
-    double d_r25_pct;              /* (R25_new - R25_old) / R25_old, % */
-    double d_b_k;                  /* B_new - B_old for the pair, K */
+    double d_r25_pct;              /* (R25_new - R25_old) / R25_old, %: the reading at 25 degC,
+                                      in the kind's quantity (a voltage, a code) for the others */
+    double d_b_k;                  /* B_new - B_old for the pair, K; NaN for a kind not NTC */
     double years;                  /* between the two calibrations */
     double rate_mk_per_year;       /* max |as-found| / years; NaN when years <= 0 */
 } bg_drift;

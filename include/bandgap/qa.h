@@ -33,7 +33,9 @@ typedef struct bg_qa_opts {
 /* Where a limit or a baseline came from. */
 enum { BG_QA_FROM_DEFAULT = 0, /* the built-in default (the R25 tolerance; all lots) */
        BG_QA_FROM_OPTION,      /* bg_qa_opts, as the caller gave it */
-       BG_QA_FROM_PART };      /* the part's specification (bg_store_part_spec_get) */
+       BG_QA_FROM_PART,        /* the part's specification (bg_store_part_spec_get) */
+       BG_QA_FROM_KIND };      /* the tolerance of the part's sensor kind (not an NTC) at its
+                                  reference temperature, in kelvin (bg_qa_spec_limit_k) */
 
 /* Control limits from fewer baseline subgroups (lots) than this are provisional: trial limits
 ** want 20 to 25 subgroups (D. C. Montgomery, Introduction to Statistical Quality Control,
@@ -45,6 +47,11 @@ BG_API bg_qa_opts bg_qa_default_opts(void);
 /* The temperature equivalent of the lot's R25 tolerance at 25 degC: tol R25 T0^2 / B, in K
 ** (the default drift limit). */
 BG_API double bg_qa_tol_limit_k(const bg_lot *lot);
+/* The default drift limit of a part of a sensor kind other than the NTC: its first nominal
+** value's tolerance in kelvin at its reference temperature (PTC tol_r / alpha, junction
+** tol_v / |dV/dT|, PRT the class's tolerance at 0 degC, IC the offset's tolerance); NaN for
+** an NTC (the lot's R25 tolerance applies, bg_qa_tol_limit_k). */
+BG_API double bg_qa_spec_limit_k(const bg_part_spec *spec);
 
 /* ---- a part's specification ---- */
 
@@ -159,6 +166,18 @@ typedef struct bg_qa_lot {
                                     the kelvin tolerance (judged where it does) */
     size_t nb_extrap;            /* probes whose B pair lies outside their calibrated range */
     int flagged;                 /* nout > 0, nband > 0 or an outlier */
+    /* what the two values above are, following the part's sensor kind (schema 12): for an
+    ** NTC (the default) r25_dev_pct is the R25 deviation in % and b_k the B of the lot's pair
+    ** in K, against the lot's R25 and B; for the other kinds they hold the kind's two values
+    ** against the part's nominal values (PTC: R_ref deviation %, alpha ppm/K; junction: V
+    ** deviation mV, dV/dT mV/K; PRT: R0 deviation %, alpha(0..100 degC) ppm/K; IC: offset c0
+    ** deviation mK, gain c1 %), and B_EXTRAPOLATED marks a value read outside the calibrated
+    ** range */
+    int sensor;                  /* BG_PART_* */
+    char v1_name[48], v1_unit[16], v1_key[32]; /* "R25 deviation", "%", "r25_dev_pct" */
+    char v2_name[48], v2_unit[16], v2_key[32]; /* "B25/85", "K", "b_k" */
+    double v1_tol;               /* |value 1| above it: out of tolerance (its nominal is 0) */
+    double v2_nominal, v2_tol;   /* |value 2 - nominal| above v2_tol: out of tolerance */
 } bg_qa_lot;
 #define BG_QA_LOT_INIT { 0 }
 
@@ -218,6 +237,8 @@ typedef struct bg_qa_part {
     size_t nasfound;
     size_t asfound_subgroup;
     int flagged;                    /* a run rule broken on any chart */
+    int sensor;                     /* BG_PART_*: what the charted values are (as bg_qa_lot's) */
+    char v1_name[48], v1_unit[16], v2_name[48], v2_unit[16];
 } bg_qa_part;
 #define BG_QA_PART_INIT { 0 }
 

@@ -578,8 +578,28 @@ typedef struct bg_part_spec {
                                          tol_k 0: no tolerance in kelvin */
     size_t baseline;                  /* control limits from the first 'baseline' lots; 0: none */
     double limit_k, rate_k;           /* drift limits (K, K per year); 0: none */
+    /* schema 12: the kind of sensor (BG_PART_*) and its nominal values in its own quantities
+    ** (BG_PART_NTC: none here, the lots' R25 and B are the nominal values) */
+    int sensor;
+    double nom_t_k;                   /* where the values are: PTC at R_ref, junction and IC at
+                                         T_r; PRT 273.15 K (R0) */
+    double nom_x, tol_x;              /* PTC: R_ref ohm, tolerance a fraction; junction: V at
+                                         T_r in V, tolerance V; PRT: R0 ohm (tolerance from the
+                                         class, tol_x 0); IC: offset c0 K, tolerance K */
+    double nom_s, tol_s;              /* PTC: alpha 1/K, tolerance a fraction of it; junction:
+                                         dV/dT V/K, tolerance V/K; IC: gain c1, tolerance
+                                         absolute; PRT: 0 */
+    char iec_class[4];                /* PRT: IEC 60751 class "AA", "A", "B", "C" */
     char note[BG_NOTE], created_at[BG_TIME];
 } bg_part_spec;
+
+/* The kinds of sensor a part can be, for its nominal values. */
+enum { BG_PART_NTC = 0, BG_PART_PTC, BG_PART_JUNCTION, BG_PART_PRT, BG_PART_IC };
+#define BG_PART_NSENSOR 5
+/* The name of sensor kind 's' ("ntc", "ptc", "junction", "prt", "ic"; "?" out of range), and
+** the kind named 'name' into '*s' (BG_EINVAL for another name, listing these). */
+BG_API const char *bg_part_sensor_name(int s);
+BG_API int bg_part_sensor_parse(const char *name, int *s, bg_error *err);
 
 /* Append a specification for part 'p->part' (created_at is now); fills '*id'.  BG_EINVAL for
 ** an empty or too long text, a model whose coefficients fail bg_model_set_coef's checks or

@@ -18,6 +18,9 @@ static const char demo_usage[] =
     "import and fit a calibration round, print one probe's full report and the lots, then\n"
     "import a second round of the first lot six months later (one probe has drifted; the\n"
     "second lot is off its nominal curve) and print the drift, lot and part reports.\n"
+    "A second bench then calibrates three junction sensors (read in volts) and three\n"
+    "platinum thermometers in the same bath and database: fit, lot statistics against\n"
+    "their parts' nominal values, a table for a platinum thermometer and two reports.\n"
     "The scenario and every number in it are invented.\n";
 
 #define DEMO_LOT "GH-LOT-2611"
@@ -250,24 +253,33 @@ static int demo_table(struct cli_ctx *dctx, const char *dir, const char *tfile)
     return run(dctx, cmd_lut, a_lut);
 }
 
-/* The reports: the probe's newest calibration and the recalibrated lot. */
-static int demo_reports(struct cli_ctx *dctx, const char *dir)
+/* The newest run of probe 'serial', as text into 'rid'. */
+static int demo_latest_run(struct cli_ctx *dctx, const char *serial, char rid[32])
 {
     bg_store *st = NULL;
     bg_probe pr;
     bg_error err = BG_ERROR_INIT;
     long long run_id = 0;
-    char rid[32], rfile[4200], lfile[4200];
     int rc;
     if ((rc = cli_open_store(dctx, 0, &st)) != BG_OK)
         return rc;
-    rc = bg_store_probe_get(st, DEMO_PROBE, &pr, &err);
+    rc = bg_store_probe_get(st, serial, &pr, &err);
     if (rc == BG_OK)
         rc = bg_store_run_latest(st, pr.id, &run_id, &err);
     bg_store_close(st);
     if (rc != BG_OK)
         return cli_fail("demo", &err);
-    snprintf(rid, sizeof rid, "%lld", run_id);
+    snprintf(rid, 32, "%lld", run_id);
+    return BG_OK;
+}
+
+/* The reports: the probe's newest calibration and the recalibrated lot. */
+static int demo_reports(struct cli_ctx *dctx, const char *dir)
+{
+    char rid[32], rfile[4200], lfile[4200];
+    int rc;
+    if ((rc = demo_latest_run(dctx, DEMO_PROBE, rid)) != BG_OK)
+        return rc;
     snprintf(rfile, sizeof rfile, "%s/calibration-report.html", dir);
     snprintf(lfile, sizeof lfile, "%s/lot-report.html", dir);
     const char *a_rr[] = { "report", "--run", rid, "--lab", "Lindqvist cooperative test "
@@ -279,6 +291,89 @@ static int demo_reports(struct cli_ctx *dctx, const char *dir)
     printf("\n== reports (self-contained HTML; open them in a browser or print them) ==\n\n");
     if ((rc = run(dctx, cmd_report, a_rr)) != BG_OK || (rc = run(dctx, cmd_report, a_lr)) != BG_OK)
         return rc;
+    return BG_OK;
+}
+
+/* The second bench: lot 'lot' of part 'part' (of the sensor kind 'spec' gives), its probes
+** GH-<prefix>01..03 imported from '<file>-GH-<prefix>0N.csv' beside REF-7 and fitted with
+** 'model', then its statistics against the part's nominal values. */
+static int demo_bench2_lot(struct cli_ctx *dctx, const char *dir, const char *lot,
+                           const char *part, const char *const *spec, const char *file,
+                           char prefix, const char *model)
+{
+    /* the lot table's R25 and B fields are required; a junction or platinum part's lots are
+    ** judged against the part's own nominal values instead (the output says so) */
+    const char *a_lot[] = { "lot", "add", lot, "--part", part, "--r25", "10k", "--beta",
+                            "3950K", "--tol-r25", "1%", "--tol-beta", "1%", "--note",
+                            "invented demo lot (R25 and B not used: see the part)", NULL };
+    const char *a_drift[] = { "drift", "--lot", lot, NULL };
+    char path[4200], serial[16];
+    int rc;
+    if ((rc = run(dctx, cmd_part, spec)) != BG_OK || (rc = run(dctx, cmd_lot, a_lot)) != BG_OK)
+        return rc;
+    for (int i = 1; i <= 3; i++) {
+        snprintf(serial, sizeof serial, "GH-%c%02d", prefix, i);
+        snprintf(path, sizeof path, "%s/%s-%s.csv", dir, file, serial);
+        const char *a_probe[] = { "probe", "add", serial, "--lot", lot, NULL };
+        const char *a_imp[] = { "import", path, "--probe", serial, "--ref", "REF-7",
+                                "--operator", "I. Nventa", "--medium", "stirred water-glycol",
+                                "--ambient", "21 degC", NULL };
+        if ((rc = run(dctx, cmd_probe, a_probe)) != BG_OK ||
+            (rc = run(dctx, cmd_import, a_imp)) != BG_OK)
+            return rc;
+    }
+    printf("\n== lot %s (%s), %s for every sensor ==\n\n", lot, part, model);
+    if ((rc = demo_fit(dctx, NULL, lot, model)) != BG_OK)
+        return rc;
+    printf("\n== lot %s against part %s's nominal values ==\n\n", lot, part);
+    if ((rc = run(dctx, cmd_drift, a_drift)) != BG_OK && rc != CLI_FLAGGED)
+        return rc;
+    return BG_OK;
+}
+
+/* The second bench: junction sensors and platinum thermometers beside the soil probes, a
+** table for one thermometer on a current source, and a report of each kind. */
+static int demo_bench2(struct cli_ctx *dctx, const char *dir)
+{
+    const char *p_jn[] = { "part", "set", "BENCH2-JN", "--sensor", "junction", "--v-ref",
+                           "600mV", "--dvdt", "-2.3mV/K", "--tol-v", "5mV", "--tol-dvdt",
+                           "0.1mV/K", "--note", "invented nominal values", NULL };
+    const char *p_pt[] = { "part", "set", "BENCH2-PT100", "--sensor", "prt", "--r0-nominal",
+                           "100R", "--class", "A", "--note", "invented part", NULL };
+    char cfile[4200], tfile[4200], jfile[4200], pfile[4200];
+    int rc;
+    printf("\n== INVENTED: the second bench, junction sensors and platinum thermometers in the "
+           "same bath ==\n");
+    if ((rc = demo_bench2_lot(dctx, dir, "GH-LOT-J2612", "BENCH2-JN", p_jn, "diode", 'J',
+                              "vbe")) != BG_OK ||
+        (rc = demo_bench2_lot(dctx, dir, "GH-LOT-R2612", "BENCH2-PT100", p_pt, "prt", 'R',
+                              "cvd")) != BG_OK)
+        return rc;
+    snprintf(cfile, sizeof cfile, "%s/bench2_pt100.c", dir);
+    snprintf(tfile, sizeof tfile, "%s/pt100-table-report.html", dir);
+    snprintf(jfile, sizeof jfile, "%s/junction-report.html", dir);
+    snprintf(pfile, sizeof pfile, "%s/pt100-report.html", dir);
+    const char *a_lut[] = { "lut", "--probe", "GH-R01", "--current", "1mA", "--vref", "2.5V",
+                            "--adc-bits", "16", "--range", "-15C:55C", "--max-error", "0.05C",
+                            "--symbol", "bench2_pt100", "-o", cfile, "--report", tfile, NULL };
+    printf("\n== a table for thermometer GH-R01 on a 1 mA current source, 16-bit ADC, 2.5 V: "
+           "%s ==\n\n", cfile);
+    if ((rc = run(dctx, cmd_lut, a_lut)) != BG_OK)
+        return rc;
+    /* (no table for the junctions here: the table command's front ends on this tree read a
+    ** resistance) */
+    char jrun[32], prun[32];
+    if ((rc = demo_latest_run(dctx, "GH-J01", jrun)) != BG_OK ||
+        (rc = demo_latest_run(dctx, "GH-R01", prun)) != BG_OK)
+        return rc;
+    const char *a_rj[] = { "report", "--run", jrun, "--lab", "Lindqvist cooperative test "
+                           "bench (invented)", "-o", jfile, NULL };
+    const char *a_rp[] = { "report", "--run", prun, "--lab", "Lindqvist cooperative test "
+                           "bench (invented)", "-o", pfile, NULL };
+    printf("\n== reports of junction GH-J01 and thermometer GH-R01 ==\n\n");
+    if ((rc = run(dctx, cmd_report, a_rj)) != BG_OK || (rc = run(dctx, cmd_report, a_rp)) != BG_OK)
+        return rc;
+    printf("table report: %s\n", tfile);
     return BG_OK;
 }
 
@@ -307,6 +402,8 @@ static int demo_scenario(struct cli_ctx *dctx, const char *dir, const char *db)
         (rc = demo_reports(dctx, dir)) != BG_OK)
         return rc;
     printf("table report: %s\n", tfile);
+    if ((rc = demo_bench2(dctx, dir)) != BG_OK)
+        return rc;
     printf("\ndatabase: %s  (try: bandgap --db %s list fits)\n", db, db);
     return BG_OK;
 }

@@ -44,7 +44,8 @@ enum { OUT_TEXT, OUT_CSV, OUT_JSON };
 static const char *drift_from(int from, const char *dflt)
 {
     return from == BG_QA_FROM_OPTION ? "as given" : from == BG_QA_FROM_PART ? "the part's default"
-                                                                           : dflt;
+         : from == BG_QA_FROM_KIND ? "the tolerance of the part's sensor kind at its reference "
+                                     "temperature" : dflt;
 }
 
 #define DRIFT_LIMIT_DEFAULT "the lot's R25 tolerance at 25 degC"
@@ -118,8 +119,12 @@ static void compare_text(const bg_qa_probe *p, const bg_qa_compare *c)
     char rate[64] = "drift rate n/a (same date)";
     if (isfinite(d->rate_mk_per_year))
         snprintf(rate, sizeof rate, "drift rate %.3f mK/year", d->rate_mk_per_year);
-    printf("    max |as-found| %.3f mK, R25 %+.4f %%, B %+.3f K, %s\n", d->max_abs_err_mk,
-           d->d_r25_pct, d->d_b_k, rate);
+    if (isnan(d->d_b_k)) /* not an NTC: the reading at 25 degC in its own quantity */
+        printf("    max |as-found| %.3f mK, reading at 25 degC %+.4f %%, %s\n",
+               d->max_abs_err_mk, d->d_r25_pct, rate);
+    else
+        printf("    max |as-found| %.3f mK, R25 %+.4f %%, B %+.3f K, %s\n", d->max_abs_err_mk,
+               d->d_r25_pct, d->d_b_k, rate);
     if (c->flag_limit)
         printf("    FLAG: |as-found| beyond the limit of %.1f mK\n", 1e3 * c->limit_k);
     if (c->flag_rate)
@@ -190,6 +195,12 @@ static void nominal_json(json_out *j, const bg_qa_lot *l)
         json_null(j, "spec_id");
         json_str(j, "note", "the deviation includes the beta model's shape error and is not a "
                             "verdict");
+    } else if (l->sensor != BG_PART_NTC && !l->spec.have_model) {
+        json_str(j, "curve", l->sensor == BG_PART_PRT ? "IEC 60751 with the part's R0" :
+                             l->sensor == BG_PART_IC ? "the part's nominal correction" :
+                             "linear through the part's nominal value and slope");
+        json_int(j, "spec_id", l->spec.id);
+        json_str(j, "spec_created_at", l->spec.created_at);
     } else {
         json_str(j, "curve", bg_model_name(&l->spec.model, name, sizeof name));
         json_int(j, "spec_id", l->spec.id);
@@ -208,6 +219,23 @@ static void nominal_json(json_out *j, const bg_qa_lot *l)
     json_obj_end(j);
 }
 
+/* The two values of a lot of a sensor kind other than the NTC: names, units, tolerances. */
+static void kind_json(json_out *j, const bg_qa_lot *l)
+{
+    json_obj(j, "values");
+    json_str(j, "value1", l->v1_key);
+    json_str(j, "value1_name", l->v1_name);
+    json_str(j, "value1_unit", l->v1_unit);
+    json_num(j, "value1_tol", l->v1_tol);
+    json_str(j, "value2", l->v2_key);
+    json_str(j, "value2_name", l->v2_name);
+    json_str(j, "value2_unit", l->v2_unit);
+    json_num(j, "value2_nominal", l->v2_nominal);
+    json_num(j, "value2_tol", l->v2_tol);
+    json_num(j, "t_ref_k", l->spec.nom_t_k);
+    json_obj_end(j);
+}
+
 static void stats_json(const bg_qa_lot *l)
 {
     json_out j;
@@ -215,8 +243,12 @@ static void stats_json(const bg_qa_lot *l)
     json_obj(&j, NULL);
     json_str(&j, "lot", l->lot.code);
     json_str(&j, "part", l->lot.part);
-    json_num(&j, "nominal_r25_ohm", l->lot.r25_ohm);
-    json_num(&j, "nominal_b_k", l->lot.beta_k);
+    json_str(&j, "sensor", bg_part_sensor_name(l->sensor));
+    if (l->sensor == BG_PART_NTC) {
+        json_num(&j, "nominal_r25_ohm", l->lot.r25_ohm);
+        json_num(&j, "nominal_b_k", l->lot.beta_k);
+    } else
+        kind_json(&j, l);
     nominal_json(&j, l);
     json_nums(&j, "at_k", l->at_k, l->nat);
     json_arr(&j, "probes");
@@ -224,8 +256,8 @@ static void stats_json(const bg_qa_lot *l)
         json_obj(&j, NULL);
         json_str(&j, "probe", l->serial[i]);
         json_int(&j, "fit", l->fit_id[i]);
-        json_num(&j, "r25_dev_pct", l->r25_dev_pct[i]);
-        json_num(&j, "b_k", l->b_k[i]);
+        json_num(&j, l->v1_key, l->r25_dev_pct[i]);
+        json_num(&j, l->v2_key, l->b_k[i]);
         json_bool(&j, "b_extrapolated", (l->flags[i] & BG_QA_B_EXTRAPOLATED) != 0);
         json_nums(&j, "deviation_mk", &l->dev_mk[i * l->nat], l->nat);
         json_num(&j, "tol_dev_mk", l->tol_dev_mk[i]);
@@ -235,8 +267,8 @@ static void stats_json(const bg_qa_lot *l)
         json_obj_end(&j);
     }
     json_arr_end(&j);
-    stat_json(&j, "r25_dev_pct", &l->r25_dev, l->cpk_r25);
-    stat_json(&j, "b_k", &l->b, l->cpk_b);
+    stat_json(&j, l->v1_key, &l->r25_dev, l->cpk_r25);
+    stat_json(&j, l->v2_key, &l->b, l->cpk_b);
     json_num(&j, "activation_energy_ev", l->activation_energy_ev);
     json_obj(&j, "grubbs");
     json_num(&j, "alpha", l->alpha);
@@ -259,15 +291,17 @@ static void stats_json(const bg_qa_lot *l)
 ** for every lot, so that the files of several lots stack. */
 static void stats_csv(const bg_qa_lot *l)
 {
-    printf("lot,probe,fit,r25_dev_pct,b_k,b_extrapolated,t_c,dev_mk,band_lo_mk,band_hi_mk,"
-           "nominal,out_of_tolerance,out_of_band,outlier\n");
+    printf("lot,probe,fit,%s,%s,%s,t_c,dev_mk,band_lo_mk,band_hi_mk,"
+           "nominal,out_of_tolerance,out_of_band,outlier\n", l->v1_key, l->v2_key,
+           l->sensor == BG_PART_NTC ? "b_extrapolated" : "extrapolated");
     for (size_t i = 0; i < l->n; i++)
         for (size_t k = 0; k < l->nat; k++)
             printf("%s,%s,%lld,%.17g,%.17g,%d,%.17g,%.17g,%.17g,%.17g,%s,%d,%d,%d\n",
                    l->lot.code, l->serial[i], l->fit_id[i], l->r25_dev_pct[i], l->b_k[i],
                    (l->flags[i] & BG_QA_B_EXTRAPOLATED) != 0, l->at_k[k] - BG_ZERO_C_K,
                    l->dev_mk[i * l->nat + k], l->band_lo_mk[k], l->band_hi_mk[k],
-                   l->nominal_is_beta ? "beta" : "part", (l->flags[i] & BG_QA_OUT_OF_TOL) != 0,
+                   l->nominal_is_beta ? "beta" : l->spec.have_model ? "part" :
+                   bg_part_sensor_name(l->sensor), (l->flags[i] & BG_QA_OUT_OF_TOL) != 0,
                    (l->flags[i] & BG_QA_OUT_OF_BAND) != 0, (l->flags[i] & BG_QA_OUTLIER) != 0);
 }
 
@@ -275,7 +309,17 @@ static void nominal_text(const bg_qa_lot *l)
 {
     const bg_part_spec *sp = &l->spec;
     char name[32];
-    if (l->nominal_is_beta)
+    if (l->sensor != BG_PART_NTC && !sp->have_model)
+        printf("  nominal curve: part %s's %s values (specification %lld of %s)%s\n", sp->part,
+               bg_part_sensor_name(l->sensor), sp->id, sp->created_at,
+               l->sensor == BG_PART_PRT ? ": the IEC 60751 curve with its R0" :
+               l->sensor == BG_PART_IC ? ": T = T_rep + c0 + c1 (T_rep - T_r)" :
+               ": linear through the nominal value with the nominal slope");
+    else if (l->sensor != BG_PART_NTC)
+        printf("  nominal curve: part %s's %s (specification %lld of %s; %s)\n", sp->part,
+               bg_model_name(&sp->model, name, sizeof name), sp->id, sp->created_at,
+               sp->source[0] ? sp->source : "coefficients");
+    else if (l->nominal_is_beta)
         printf("  nominal curve: the lot's R25 and B as a beta curve (part %s stores none); the "
                "deviation below\n  includes the beta model's shape error and is not a verdict "
                "(bandgap part set %s gives the part its curve)\n", l->lot.part, l->lot.part);
@@ -293,7 +337,12 @@ static void nominal_text(const bg_qa_lot *l)
 static void stats_probes_text(const bg_qa_lot *l)
 {
     int tol = l->spec.tol_k > 0.0;
-    printf("  %-20s %10s %10s %13s%s  %s\n", "probe", "R25 dev/%", "B/K", "max dev/mK",
+    char h1[64] = "R25 dev/%", h2[64] = "B/K";
+    if (l->sensor != BG_PART_NTC) {
+        snprintf(h1, sizeof h1, "%s/%s", l->v1_name, l->v1_unit);
+        snprintf(h2, sizeof h2, "%s/%s", l->v2_name, l->v2_unit);
+    }
+    printf("  %-20s %10s %10s %13s%s  %s\n", "probe", h1, h2, "max dev/mK",
            tol ? "  tol dev/mK" : "", "flags");
     for (size_t i = 0; i < l->n; i++) {
         printf("  %-20s %+10.4f %10.2f%s %13.3f", l->serial[i], l->r25_dev_pct[i], l->b_k[i],
@@ -304,13 +353,62 @@ static void stats_probes_text(const bg_qa_lot *l)
                l->flags[i] & BG_QA_OUT_OF_BAND ? "BEYOND THE KELVIN TOLERANCE " : "",
                l->flags[i] & BG_QA_OUTLIER ? "OUTLIER (Grubbs)" : "");
     }
-    if (l->nb_extrap)
+    if (l->nb_extrap && l->sensor != BG_PART_NTC)
+        printf("  * extrapolated: a value is read outside the calibrated range of %zu of %zu "
+               "probes\n", l->nb_extrap, l->n);
+    else if (l->nb_extrap)
         printf("  * B%.0f/%.0f extrapolated: the pair lies outside the calibrated range of %zu "
                "of %zu probes\n", l->lot.pair_t1_k - BG_ZERO_C_K, l->lot.pair_t2_k - BG_ZERO_C_K,
                l->nb_extrap, l->n);
 }
 
+static void stats_text_ntc(const bg_qa_lot *l);
+static void stats_text_flags(const bg_qa_lot *l);
+
+/* A lot of a sensor kind other than the NTC: its header and its two values' statistics. */
+static void kind_text_head(const bg_qa_lot *l)
+{
+    printf("lot %s (part %s, %s): %zu probes with fits%s; nominal at %.2f degC: %s 0 +-%.4g "
+           "%s, %s %.6g +-%.4g %s\n", l->lot.code, l->lot.part, bg_part_sensor_name(l->sensor),
+           l->n, l->nofit ? ", some without" : "", l->spec.nom_t_k - BG_ZERO_C_K, l->v1_name,
+           l->v1_tol, l->v1_unit, l->v2_name, l->v2_nominal, l->v2_tol, l->v2_unit);
+    printf("  (the lot's own R25 and B are not used: part %s is of kind %s)\n", l->lot.part,
+           bg_part_sensor_name(l->sensor));
+}
+
+static void kind_text_stats(const bg_qa_lot *l)
+{
+    printf("  %s: mean %+.6g %s, sd %.4g %s, min %+.6g, max %+.6g, Cpk %.2f\n", l->v1_name,
+           l->r25_dev.mean, l->v1_unit, l->r25_dev.sd, l->v1_unit, l->r25_dev.min,
+           l->r25_dev.max, l->cpk_r25);
+    printf("  %s: mean %.6g %s, sd %.4g %s, min %.6g, max %.6g, Cpk %.2f\n", l->v2_name,
+           l->b.mean, l->v2_unit, l->b.sd, l->v2_unit, l->b.min, l->b.max, l->cpk_b);
+    if (l->have_grubbs)
+        printf("  Grubbs (two-sided, alpha %.3g): G(%s) %.3f, G(%s) %.3f, critical %.3f\n",
+               l->alpha, l->v1_name, l->g_r25, l->v2_name, l->g_b, l->g_crit);
+    printf("  deviation from the nominal curve (mK) against the %s:\n",
+           l->spec.tol_k > 0.0 ? "kelvin tolerance" : l->sensor == BG_PART_PRT ?
+           "IEC 60751 class tolerance" : "band of the kind's tolerances");
+}
+
 static void stats_text(const bg_qa_lot *l)
+{
+    if (l->sensor != BG_PART_NTC) {
+        kind_text_head(l);
+        nominal_text(l);
+        stats_probes_text(l);
+        kind_text_stats(l);
+    } else {
+        stats_text_ntc(l);
+    }
+    for (size_t k = 0; k < l->nat; k++)
+        printf("    %10.3f degC  measured %+9.2f .. %+9.2f   band %+9.2f .. %+9.2f\n",
+               l->at_k[k] - BG_ZERO_C_K, l->dev_min_mk[k], l->dev_max_mk[k], l->band_lo_mk[k],
+               l->band_hi_mk[k]);
+    stats_text_flags(l);
+}
+
+static void stats_text_ntc(const bg_qa_lot *l)
 {
     const bg_lot *lot = &l->lot;
     printf("lot %s (part %s): %zu probes with fits%s; nominal R25 %.6g ohm +-%.3g %%, "
@@ -328,10 +426,10 @@ static void stats_text(const bg_qa_lot *l)
                l->alpha, l->g_r25, l->g_b, l->g_crit);
     printf("  deviation from the nominal curve (mK) against the %s:\n",
            l->spec.tol_k > 0.0 ? "kelvin tolerance" : "band of the R25 and B tolerances");
-    for (size_t k = 0; k < l->nat; k++)
-        printf("    %10.3f degC  measured %+9.2f .. %+9.2f   band %+9.2f .. %+9.2f\n",
-               l->at_k[k] - BG_ZERO_C_K, l->dev_min_mk[k], l->dev_max_mk[k], l->band_lo_mk[k],
-               l->band_hi_mk[k]);
+}
+
+static void stats_text_flags(const bg_qa_lot *l)
+{
     if (l->nuncovered)
         printf("  note: %zu probes' calibrations do not cover the whole tolerance range\n",
                l->nuncovered);
@@ -381,6 +479,13 @@ static void part_json(const bg_qa_part *p)
     json_begin(&j, stdout);
     json_obj(&j, NULL);
     json_str(&j, "part", p->part);
+    json_str(&j, "sensor", bg_part_sensor_name(p->sensor));
+    if (p->sensor != BG_PART_NTC) { /* the r25 and b keys below hold these two values */
+        json_obj(&j, "values");
+        json_str(&j, "r25_dev_name", p->v1_name), json_str(&j, "r25_dev_unit", p->v1_unit);
+        json_str(&j, "b_name", p->v2_name), json_str(&j, "b_unit", p->v2_unit);
+        json_obj_end(&j);
+    }
     json_int(&j, "baseline_lots", (long long)p->baseline);
     json_str(&j, "baseline_from", drift_from(p->baseline_from, "all lots"));
     json_bool(&j, "provisional", p->provisional);
@@ -459,14 +564,22 @@ static void part_text(const bg_qa_part *p)
     if (p->provisional)
         printf("  PROVISIONAL limits: from %zu lot(s), fewer than the customary %d (trial limits "
                "want 20 to 25 subgroups)\n", p->baseline, BG_QA_CUSTOMARY_SUBGROUPS);
-    printf("  X-bar R25 dev: centre %+.4f %%, limits %+.4f .. %+.4f;  s: centre %.4f, limits "
-           "%.4f .. %.4f\n", c[0].center, c[0].lcl, c[0].ucl, c[1].center, c[1].lcl, c[1].ucl);
-    printf("  X-bar B: centre %.2f K, limits %.2f .. %.2f;  s: centre %.3f, limits %.3f .. "
-           "%.3f\n", c[2].center, c[2].lcl, c[2].ucl, c[3].center, c[3].lcl, c[3].ucl);
+    int ntc = p->sensor == BG_PART_NTC;
+    const char *n1 = ntc ? "R25 dev" : p->v1_name, *u1 = ntc ? "%" : p->v1_unit;
+    const char *n2 = ntc ? "B" : p->v2_name, *u2 = ntc ? "K" : p->v2_unit;
+    if (!ntc)
+        printf("  sensor kind %s: the charts follow the part's nominal values\n",
+               bg_part_sensor_name(p->sensor));
+    printf("  X-bar %s: centre %+.4f %s, limits %+.4f .. %+.4f;  s: centre %.4f, limits "
+           "%.4f .. %.4f\n", n1, c[0].center, u1, c[0].lcl, c[0].ucl, c[1].center, c[1].lcl,
+           c[1].ucl);
+    printf("  X-bar %s: centre %.2f %s, limits %.2f .. %.2f;  s: centre %.3f, limits %.3f .. "
+           "%.3f\n", n2, c[2].center, u2, c[2].lcl, c[2].ucl, c[3].center, c[3].lcl, c[3].ucl);
     for (size_t i = 0; i < p->nlots; i++) {
         const bg_qa_part_lot *l = &p->lots[i];
-        printf("  %-16s n %3zu  R25 dev %+.4f %% (s %.4f)  B %.2f K%s (s %.3f)", l->code, l->n,
-               l->r25_mean_pct, l->r25_sd_pct, l->b_mean_k, l->nb_extrap ? "*" : "", l->b_sd_k);
+        printf("  %-16s n %3zu  %s %+.4f %s (s %.4f)  %s %.2f %s%s (s %.3f)", l->code, l->n,
+               n1, l->r25_mean_pct, u1, l->r25_sd_pct, n2, l->b_mean_k, u2,
+               l->nb_extrap ? "*" : "", l->b_sd_k);
         for (int k = 0; k < 4; k++)
             for (int r = 0; r < 4; r++)
                 if (l->rules[k] & (1u << r))
@@ -476,8 +589,9 @@ static void part_text(const bg_qa_part *p)
     part_asfound_text(p);
     for (size_t i = 0; i < p->nlots; i++)
         if (p->lots[i].nb_extrap) {
-            printf("  * B extrapolated: its pair lies outside the calibrated range of some "
-                   "probes\n");
+            printf(ntc ? "  * B extrapolated: its pair lies outside the calibrated range of some "
+                   "probes\n" : "  * extrapolated: a value is read outside the calibrated "
+                   "range of some probes\n");
             break;
         }
 }

@@ -13,6 +13,28 @@ static int ntc(const bg_model *m)
 }
 
 /* The reading column's heading and the slope's ("R/ohm", "dT/dR K/ohm"; "V/V", "dT/dV K/V"). */
+/* The sensitivity column: alpha = (1/R) dR/dT in %/K for a resistance; for the other
+** quantities the kind's own slope dx/dT = 1 / (dT/dx) (a junction's dV/dT in mV/K, an IC
+** sensor's reported kelvin per kelvin, a code's LSB per kelvin), as alpha is not theirs. */
+static const char *sens_head(const bg_model *m)
+{
+    switch (bg_model_quantity(m)) {
+    case BG_QTY_VOLTAGE: return "dV/dT mV/K";
+    case BG_QTY_REPORTED_T: return "dTrep/dT";
+    case BG_QTY_CODE: return "dN/dT LSB/K";
+    default: return "alpha %/K";
+    }
+}
+
+static double sens_val(const bg_model *m, const bg_curve_row *r)
+{
+    switch (bg_model_quantity(m)) {
+    case BG_QTY_VOLTAGE: return 1e3 / r->dtdr_k_per_ohm;
+    case BG_QTY_REPORTED_T: case BG_QTY_CODE: return 1.0 / r->dtdr_k_per_ohm;
+    default: return 100.0 * r->alpha_per_k;
+    }
+}
+
 static void headings(const bg_model *m, char *x, size_t xs, char *d, size_t ds)
 {
     bg_quantity q = bg_model_quantity(m);
@@ -106,7 +128,7 @@ static void curve_text(const bg_curve_src *src, const struct cli_fit_used *used,
                100.0 * c->cover.p);
     char xh[32], dh[32];
     headings(&src->model, xh, sizeof xh, dh, sizeof dh);
-    printf("%12s %14s %14s %10s %11s\n", us, xh, dh, "alpha %/K",
+    printf("%12s %14s %14s %10s %11s\n", us, xh, dh, sens_head(&src->model),
            src->has_cov ? "U/mK" : "");
     for (size_t i = 0; i < c->n; i++) {
         const bg_curve_row *r = &c->rows[i];
@@ -117,7 +139,7 @@ static void curve_text(const bg_curve_src *src, const struct cli_fit_used *used,
             snprintf(ub, sizeof ub, "-");
         printf("%12.3f %14s %14.6g %10.4f %11s%s\n", bg_units_from_k(r->t_k, unit),
                xtext(&src->model, r->r_ohm, 7, rb, sizeof rb), r->dtdr_k_per_ohm,
-               100.0 * r->alpha_per_k, ub, r->extrapolated ? "  EXTRAPOLATED" : "");
+               sens_val(&src->model, r), ub, r->extrapolated ? "  EXTRAPOLATED" : "");
     }
 }
 
@@ -182,13 +204,13 @@ void cli_print_eval(const bg_curve_src *src, const bg_curve *c, bg_temp_unit uni
     char xh[32], dh[32];
     headings(&src->model, xh, sizeof xh, dh, sizeof dh);
     printf("%12s  %12s  %13s  %9s  %9s\n", xh, bg_units_symbol(unit, 1)[0] == 'K' ?
-           "T/K" : unit == BG_UNIT_F ? "T/degF" : "T/degC", dh, "alpha %/K",
+           "T/K" : unit == BG_UNIT_F ? "T/degF" : "T/degC", dh, sens_head(&src->model),
            "beta/K");
     for (size_t i = 0; i < c->n; i++) {
         const bg_curve_row *r = &c->rows[i];
         printf("%12s  %12.3f  %13.6g  %9.4f  %9.2f\n",
                xtext(&src->model, r->r_ohm, 6, b1, sizeof b1),
-               bg_units_from_k(r->t_k, unit), r->dtdr_k_per_ohm, 100.0 * r->alpha_per_k,
+               bg_units_from_k(r->t_k, unit), r->dtdr_k_per_ohm, sens_val(&src->model, r),
                r->beta_local_k);
     }
     if (isfinite(c->b_pair_k)) {

@@ -148,7 +148,8 @@ static size_t cvd_derived(const bg_model *m, const double *cov, double t_min_k, 
     snprintf(out[0].unit, sizeof out[0].unit, "K");
     out[0].text[0] = '\0';
     snprintf(out[0].note, sizeof out[0].note, "largest |t_IEC(R(t)) - t| over the calibrated "
-             "range, at %.2f degC, against the nominal curve with R0 = %g ohm (IEC 60751)",
+             "range, at %.2f \xc2\xb0" "C, against the nominal curve with R0 = %g \xce\xa9 "
+             "(IEC 60751)",
              worst_t - BG_ZERO_C_K, r0n);
     snprintf(out[1].name, sizeof out[1].name, "IEC 60751 class");
     out[1].value = NAN, out[1].u = NAN;

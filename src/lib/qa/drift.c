@@ -65,8 +65,11 @@ int bg_drift_prepare(const bg_model *m, double pair_t1_k, double pair_t2_k, doub
     int rc;
     out->model = *m;
     out->t_unix_s = t_unix_s;
-    if ((rc = bg_model_r_from_t(m, BG_T0_DEFAULT_K, &out->r25_ohm, err)) != BG_OK)
+    if ((rc = bg_model_x_from_t(m, BG_T0_DEFAULT_K, &out->r25_ohm, err)) != BG_OK)
         return rc;
+    out->b_k = NAN; /* a B value is the NTC kinds' (1/T in ln R) only */
+    if (!(bg_model_flags(m) & BG_MODEL_INV_POLY))
+        return BG_OK;
     return bg_model_b_pair(m, pair_t1_k, pair_t2_k, &out->b_k, err);
 }
 

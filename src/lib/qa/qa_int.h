@@ -33,4 +33,16 @@ void bgi_qa_lot_versions_free(struct bgi_lot_versions *v);
 int bgi_qa_part_charts_with(bg_store *st, const char *part, const bg_qa_opts *o,
                             const bg_qa_lot_summary *have, bg_qa_part *out, bg_error *err);
 
+/* The sensor kinds other than the NTC (qa_kind.c): the names, units and tolerances of a lot's
+** two values from its part's specification (l->spec, l->lot read; an NTC's from the lot);
+** a probe's two values from its fit, and whether one was read outside the calibrated range;
+** the deviation T_nom(x(T)) - T (K) from the kind's nominal values; the half-width (K) of the
+** band the kind's tolerances allow at 't_k' (NaN for an NTC). */
+void bgi_qa_kind_setup(bg_qa_lot *l);
+int bgi_qa_kind_values(const bg_qa_lot *l, const bg_fit_row *f, double *v1, double *v2,
+                       int *extrap, bg_error *err);
+int bgi_qa_kind_dev(const bg_qa_lot *l, const bg_model *m, double t_k, double *dev_k,
+                    bg_error *err);
+double bgi_qa_kind_band_k(const bg_qa_lot *l, double t_k);
+
 #endif

@@ -87,15 +87,40 @@ static double tol_dev(const bg_qa_lot *l, const bg_fit_row *f, const bg_model *n
         return NAN;
     for (int k = 0; k <= 40; k++) {
         double t = lo + (hi - lo) * k / 40.0, r, tn;
-        if (bg_model_r_from_t(&f->model, t, &r, NULL) != BG_OK ||
-            bg_model_t_from_r(nom, r, &tn, NULL) != BG_OK)
+        if (!l->spec.have_model && l->sensor != BG_PART_NTC) {
+            if (bgi_qa_kind_dev(l, &f->model, t, &tn, NULL) != BG_OK)
+                return NAN;
+            tn += t;
+        } else if (bg_model_x_from_t(&f->model, t, &r, NULL) != BG_OK ||
+                   bg_model_t_from_x(nom, r, &tn, NULL) != BG_OK)
             return NAN;
         mx = fmax(mx, fabs(tn - t));
     }
     return 1e3 * mx;
 }
 
-/* Probe i: R25 deviation, B, deviation from the nominal curve 'nom'. */
+/* The deviation T_nom(x(T)) - T of fit 'f' at the check temperatures (mK), into row i: from
+** the part's nominal curve when it stores one ('nom'), else from the kind's nominal values. */
+static int kind_devs(bg_qa_lot *l, size_t i, const bg_fit_row *f, const bg_model *nom,
+                     bg_error *err)
+{
+    for (size_t k = 0; k < l->nat; k++) {
+        double x, t, dev;
+        int rc;
+        if (l->spec.have_model) {
+            if ((rc = bg_model_x_from_t(&f->model, l->at_k[k], &x, err)) != BG_OK ||
+                (rc = bg_model_t_from_x(nom, x, &t, err)) != BG_OK)
+                return rc;
+            dev = t - l->at_k[k];
+        } else if ((rc = bgi_qa_kind_dev(l, &f->model, l->at_k[k], &dev, err)) != BG_OK)
+            return rc;
+        l->dev_mk[i * l->nat + k] = 1e3 * dev;
+    }
+    return BG_OK;
+}
+
+/* Probe i: R25 deviation, B, deviation from the nominal curve 'nom' (an NTC), or the kind's
+** two values and deviation (the others). */
 static int one_probe(bg_qa_lot *l, size_t i, const bg_fit_row *f, const bg_model *nom,
                      bg_error *err)
 {
@@ -109,20 +134,32 @@ static int one_probe(bg_qa_lot *l, size_t i, const bg_fit_row *f, const bg_model
             return bg_error_set(err, BG_EINVAL, "check temperature %.3f degC is outside the "
                                 "calibrated range of probe '%s'", l->at_k[k] - BG_ZERO_C_K,
                                 l->serial[i]);
-    if ((rc = bg_model_r_from_t(&f->model, BG_T0_DEFAULT_K, &rr, err)) != BG_OK ||
-        (rc = bg_model_b_pair(&f->model, lot->pair_t1_k, lot->pair_t2_k, &l->b_k[i], err)) !=
-            BG_OK)
-        return rc;
-    l->r25_dev_pct[i] = 100.0 * (rr - lot->r25_ohm) / lot->r25_ohm;
-    bg_drift_at where = { l->at_k, nat, lot->pair_t1_k, lot->pair_t2_k };
-    if ((rc = bg_drift_compare(nom, &f->model, &where, 0.0, &dd, err)) != BG_OK)
-        return rc;
-    memcpy(&l->dev_mk[i * nat], dd.err_mk, nat * sizeof l->dev_mk[0]);
     l->fit_id[i] = f->id;
     l->flags[i] = 0;
-    if (lot->pair_t1_k < f->t_min_k - 1e-9 || lot->pair_t1_k > f->t_max_k + 1e-9 ||
-        lot->pair_t2_k < f->t_min_k - 1e-9 || lot->pair_t2_k > f->t_max_k + 1e-9)
-        l->flags[i] |= BG_QA_B_EXTRAPOLATED, l->nb_extrap++;
+    if (l->sensor != BG_PART_NTC) {
+        int extrap = 0;
+        if ((rc = bgi_qa_kind_values(l, f, &l->r25_dev_pct[i], &l->b_k[i], &extrap, err)) !=
+                BG_OK ||
+            (rc = kind_devs(l, i, f, nom, err)) != BG_OK) {
+            bg_error_prefix(err, "probe '%s'", l->serial[i]);
+            return rc;
+        }
+        if (extrap)
+            l->flags[i] |= BG_QA_B_EXTRAPOLATED, l->nb_extrap++;
+    } else {
+        if ((rc = bg_model_r_from_t(&f->model, BG_T0_DEFAULT_K, &rr, err)) != BG_OK ||
+            (rc = bg_model_b_pair(&f->model, lot->pair_t1_k, lot->pair_t2_k, &l->b_k[i],
+                                  err)) != BG_OK)
+            return rc;
+        l->r25_dev_pct[i] = 100.0 * (rr - lot->r25_ohm) / lot->r25_ohm;
+        bg_drift_at where = { l->at_k, nat, lot->pair_t1_k, lot->pair_t2_k };
+        if ((rc = bg_drift_compare(nom, &f->model, &where, 0.0, &dd, err)) != BG_OK)
+            return rc;
+        memcpy(&l->dev_mk[i * nat], dd.err_mk, nat * sizeof l->dev_mk[0]);
+        if (lot->pair_t1_k < f->t_min_k - 1e-9 || lot->pair_t1_k > f->t_max_k + 1e-9 ||
+            lot->pair_t2_k < f->t_min_k - 1e-9 || lot->pair_t2_k > f->t_max_k + 1e-9)
+            l->flags[i] |= BG_QA_B_EXTRAPOLATED, l->nb_extrap++;
+    }
     l->tol_dev_mk[i] = NAN;
     if (l->spec.tol_k > 0.0) {
         int partial;
@@ -130,6 +167,12 @@ static int one_probe(bg_qa_lot *l, size_t i, const bg_fit_row *f, const bg_model
         l->nuncovered += partial || isnan(l->tol_dev_mk[i]);
         if (l->tol_dev_mk[i] > 1e3 * l->spec.tol_k)
             l->flags[i] |= BG_QA_OUT_OF_BAND, l->nband++;
+    } else if (l->sensor == BG_PART_PRT) { /* the class's tolerance at each check temperature */
+        for (size_t k = 0; k < nat; k++)
+            if (fabs(l->dev_mk[i * nat + k]) > 1e3 * bgi_qa_kind_band_k(l, l->at_k[k])) {
+                l->flags[i] |= BG_QA_OUT_OF_BAND, l->nband++;
+                break;
+            }
     }
     return BG_OK;
 }
@@ -147,6 +190,11 @@ static void band(bg_qa_lot *l, const bg_model *nom)
             int in = t >= sp->tol_lo_k - 1e-9 && t <= sp->tol_hi_k + 1e-9;
             l->band_lo_mk[k] = in ? -1e3 * sp->tol_k : NAN;
             l->band_hi_mk[k] = in ? 1e3 * sp->tol_k : NAN;
+            continue;
+        }
+        if (l->sensor != BG_PART_NTC) {
+            double h = bgi_qa_kind_band_k(l, t);
+            l->band_lo_mk[k] = -1e3 * h, l->band_hi_mk[k] = 1e3 * h;
             continue;
         }
         if (bg_model_r_from_t(nom, t, &rn, NULL) != BG_OK)
@@ -167,14 +215,12 @@ static void band(bg_qa_lot *l, const bg_model *nom)
 /* Statistics, Grubbs, flags and the extremes of the deviations, from the per-probe values. */
 static void summarize(bg_qa_lot *l, double alpha)
 {
-    const bg_lot *lot = &l->lot;
     size_t n = l->n, nat = l->nat;
     bg_stats_of(l->r25_dev_pct, n, &l->r25_dev);
     bg_stats_of(l->b_k, n, &l->b);
-    l->cpk_r25 = bg_stats_cpk(&l->r25_dev, -100.0 * lot->tol_r25, 100.0 * lot->tol_r25);
-    l->cpk_b = bg_stats_cpk(&l->b, lot->beta_k * (1 - lot->tol_beta),
-                            lot->beta_k * (1 + lot->tol_beta));
-    l->activation_energy_ev = bg_activation_energy_ev(l->b.mean);
+    l->cpk_r25 = bg_stats_cpk(&l->r25_dev, -l->v1_tol, l->v1_tol);
+    l->cpk_b = bg_stats_cpk(&l->b, l->v2_nominal - l->v2_tol, l->v2_nominal + l->v2_tol);
+    l->activation_energy_ev = l->sensor == BG_PART_NTC ? bg_activation_energy_ev(l->b.mean) : NAN;
     l->alpha = alpha;
     l->g_r25 = l->g_b = l->g_crit = NAN;
     l->have_grubbs = n >= 3 && l->r25_dev.sd > 0.0 && l->b.sd > 0.0;
@@ -196,8 +242,8 @@ static void summarize(bg_qa_lot *l, double alpha)
             l->dev_max_mk[k] = fmax(l->dev_max_mk[k], v);
         }
         l->max_abs_dev_mk[i] = mx;
-        if (fabs(l->r25_dev_pct[i]) > 100.0 * lot->tol_r25 ||
-            fabs(l->b_k[i] - lot->beta_k) > lot->beta_k * lot->tol_beta)
+        if (fabs(l->r25_dev_pct[i]) > l->v1_tol ||
+            fabs(l->b_k[i] - l->v2_nominal) > l->v2_tol)
             l->flags[i] |= BG_QA_OUT_OF_TOL, l->nout++;
         if ((l->outlier_r25 && l->ioutlier_r25 == i) || (l->outlier_b && l->ioutlier_b == i))
             l->flags[i] |= BG_QA_OUTLIER;
@@ -274,6 +320,8 @@ static int tolerances_in_force(bg_store *st, bg_qa_lot *l, const bg_fit_row *fit
 {
     struct bgi_lot_versions lv;
     struct run_starts rs = { NULL, NULL, 0, 0, 0 };
+    if (l->sensor != BG_PART_NTC) /* judged against the part's values, not the lot's */
+        return BG_OK;
     int rc = bgi_qa_lot_versions_load(st, l->lot.code, &lv, err);
     if (rc == BG_OK && lv.n >= 2) {
         rc = bg_store_run_each(st, NULL, l->lot.code, keep_start, &rs, err);
@@ -304,11 +352,16 @@ static int nominal(bg_store *st, bg_qa_lot *l, bg_model *nom, bg_error *err)
     int rc = bg_store_part_spec_get(st, l->lot.part, &l->spec, err);
     if (rc != BG_OK)
         return rc;
-    l->nominal_is_beta = !l->spec.have_model;
+    bgi_qa_kind_setup(l);
+    l->nominal_is_beta = !l->spec.have_model && l->sensor == BG_PART_NTC;
     if (l->spec.have_model)
         *nom = l->spec.model;
     else
         beta_model(l->lot.r25_ohm, l->lot.beta_k, nom);
+    if (l->sensor != BG_PART_NTC) { /* no R25 or B of the lot's pair */
+        l->nominal_r25_ohm = l->nominal_b_k = NAN;
+        return BG_OK;
+    }
     if (bg_model_r_from_t(nom, BG_T0_DEFAULT_K, &l->nominal_r25_ohm, NULL) != BG_OK)
         l->nominal_r25_ohm = NAN;
     if (bg_model_b_pair(nom, l->lot.pair_t1_k, l->lot.pair_t2_k, &l->nominal_b_k, NULL) != BG_OK)

@@ -162,6 +162,11 @@ static int add_lot(bg_store *st, const char *code, const bg_qa_opts *o,
     bg_stats_of(a.v, a.n, &sa);
     pl->nasfound = a.n, pl->asfound_mean_mk = sa.mean, pl->asfound_sd_mk = sa.sd;
     pl->nb_extrap = lp->nb_extrap;
+    p->sensor = lp->sensor; /* the part's lots share its specification and so its kind */
+    memcpy(p->v1_name, lp->v1_name, sizeof p->v1_name);
+    memcpy(p->v1_unit, lp->v1_unit, sizeof p->v1_unit);
+    memcpy(p->v2_name, lp->v2_name, sizeof p->v2_name);
+    memcpy(p->v2_unit, lp->v2_unit, sizeof p->v2_unit);
 done:
     free(a.v);
     bg_qa_lot_release(&own);

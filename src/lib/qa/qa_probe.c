@@ -102,6 +102,8 @@ void bgi_qa_limits(const bg_qa_opts *o, const bg_part_spec *spec, bg_qa_probe *p
         p->limit_k = o->limit_k, p->limit_from = BG_QA_FROM_OPTION;
     else if (spec->limit_k > 0.0)
         p->limit_k = spec->limit_k, p->limit_from = BG_QA_FROM_PART;
+    else if (spec->sensor != BG_PART_NTC)
+        p->limit_k = bg_qa_spec_limit_k(spec), p->limit_from = BG_QA_FROM_KIND;
     else
         p->limit_k = bg_qa_tol_limit_k(&p->lot), p->limit_from = BG_QA_FROM_DEFAULT;
     if (o->rate_k > 0.0)

@@ -100,7 +100,11 @@ int bg_qa_lot_summarize(bg_store *st, const char *code, const bg_qa_opts *qo,
     out->flagged = out->stats.flagged;
     /* a lot without probes still says which limits it would use */
     out->limit_k = o.limit_k > 0.0 ? o.limit_k : out->stats.spec.limit_k > 0.0 ?
-                   out->stats.spec.limit_k : bg_qa_tol_limit_k(&out->stats.lot);
+                   out->stats.spec.limit_k : out->stats.sensor != BG_PART_NTC ?
+                   bg_qa_spec_limit_k(&out->stats.spec) : bg_qa_tol_limit_k(&out->stats.lot);
+    out->limit_from = o.limit_k > 0.0 ? BG_QA_FROM_OPTION : out->stats.spec.limit_k > 0.0 ?
+                      BG_QA_FROM_PART : out->stats.sensor != BG_PART_NTC ? BG_QA_FROM_KIND :
+                      BG_QA_FROM_DEFAULT;
     out->rate_k = o.rate_k > 0.0 ? o.rate_k : out->stats.spec.rate_k > 0.0 ?
                   out->stats.spec.rate_k : out->limit_k;
     if ((rc = probes(st, code, &o, out, err)) != BG_OK)

@@ -10,13 +10,51 @@
 #include "report/html_int.h"
 #include "report/report_int.h"
 
+/* The labels of a lot's two values: an NTC's R25 deviation and B, else the sensor kind's
+** (qa.h, bg_qa_lot.v1_name ...), "name / unit". */
+static void value_labels(int sensor, const char *n1, const char *u1, const char *n2,
+                         const char *u2, char l1[72], char l2[72])
+{
+    if (sensor == BG_PART_NTC) {
+        snprintf(l1, 72, "R25 deviation / %%");
+        snprintf(l2, 72, "B / K");
+        return;
+    }
+    snprintf(l1, 72, "%s / %s", n1, u1);
+    snprintf(l2, 72, "%s / %s", n2, u2);
+}
+
+static void lot_labels(const bg_qa_lot *l, char l1[72], char l2[72])
+{
+    value_labels(l->sensor, l->v1_name, l->v1_unit, l->v2_name, l->v2_unit, l1, l2);
+}
+
+/* A lot of a sensor kind other than the NTC, judged against its part's nominal values. */
+static void kind_nominal_para(FILE *f, const bg_qa_lot *l)
+{
+    const bg_part_spec *sp = &l->spec;
+    fputs("Nominal values: part ", f);
+    bgi_html_esc(f, sp->part);
+    fprintf(f, " is a %s sensor, specification %lld of ", bg_part_sensor_name(l->sensor), sp->id);
+    bgi_html_esc(f, sp->created_at);
+    fprintf(f, "; at %.2f \xc2\xb0" "C: %s 0 &#177;%.4g %s, %s %.6g &#177;%.4g %s. The "
+               "deviation below is from %s. (The lot's own R25 and B are not used.)",
+            sp->nom_t_k - BG_ZERO_C_K, l->v1_name, l->v1_tol, l->v1_unit, l->v2_name,
+            l->v2_nominal, l->v2_tol, l->v2_unit, l->sensor == BG_PART_PRT ?
+            "the IEC 60751 curve with the part's R0, against the class's tolerance" :
+            l->sensor == BG_PART_IC ? "the part's nominal correction" :
+            "the line through the nominal value with the nominal slope");
+}
+
 /* What the lot was judged against: the part's nominal curve, or the lot's beta curve. */
 static void nominal_para(FILE *f, const bg_qa_lot *l)
 {
     const bg_part_spec *sp = &l->spec;
     char name[32];
     fputs("<p id=\"nominal\">", f);
-    if (l->nominal_is_beta) {
+    if (l->sensor != BG_PART_NTC && !sp->have_model) {
+        kind_nominal_para(f, l);
+    } else if (l->nominal_is_beta) {
         fputs("Nominal curve: the lot's R25 and B as a beta curve (the part stores no nominal "
               "curve). <strong>The deviation from it includes the beta model's shape error and "
               "is not a verdict</strong>; only the R25 and B tolerances flag a probe.", f);
@@ -28,11 +66,15 @@ static void nominal_para(FILE *f, const bg_qa_lot *l)
         bgi_html_esc(f, sp->created_at);
         fputs(" (", f);
         bgi_html_esc(f, sp->source);
-        fputs("): R25 ", f);
-        bgi_html_num(f, "span", "nomr25", "%.6g", l->nominal_r25_ohm);
-        fputs(" \xce\xa9, B ", f);
-        bgi_html_num(f, "span", "nomb", "%.2f", l->nominal_b_k);
-        fputs(" K.", f);
+        if (l->sensor != BG_PART_NTC) {
+            fputs(").", f);
+        } else {
+            fputs("): R25 ", f);
+            bgi_html_num(f, "span", "nomr25", "%.6g", l->nominal_r25_ohm);
+            fputs(" \xce\xa9, B ", f);
+            bgi_html_num(f, "span", "nomb", "%.2f", l->nominal_b_k);
+            fputs(" K.", f);
+        }
     }
     if (sp->tol_k > 0.0)
         fprintf(f, " Tolerance &#177;%.1f mK from %.2f to %.2f \xc2\xb0" "C, judged over the part of it "
@@ -45,13 +87,15 @@ static void nominal_para(FILE *f, const bg_qa_lot *l)
 static void probes_table(FILE *f, const bg_qa_lot *l)
 {
     int tol = l->spec.tol_k > 0.0;
+    char l1[72], l2[72];
+    lot_labels(l, l1, l2);
     fprintf(f, "<h2>Probes (newest fit of each)</h2>\n");
     nominal_para(f, l);
     fprintf(f, "<table class=\"data\" id=\"probes\">\n"
-               "<tr><th>probe</th><th class=\"n\">fit</th><th class=\"n\">R25 deviation / %%"
-               "</th><th class=\"n\">B / K</th><th class=\"n\">max |deviation| / mK</th>%s"
-               "<th>flags</th></tr>\n", tol ? "<th class=\"n\">over the tolerance range / mK"
-                                             "</th>" : "");
+               "<tr><th>probe</th><th class=\"n\">fit</th><th class=\"n\">%s"
+               "</th><th class=\"n\">%s</th><th class=\"n\">max |deviation| / mK</th>%s"
+               "<th>flags</th></tr>\n", l1, l2, tol ? "<th class=\"n\">over the tolerance "
+                                                     "range / mK</th>" : "");
     for (size_t i = 0; i < l->n; i++) {
         unsigned fl = l->flags[i];
         int out = (fl & BG_QA_OUT_OF_TOL) != 0, outl = (fl & BG_QA_OUTLIER) != 0;
@@ -70,6 +114,23 @@ static void probes_table(FILE *f, const bg_qa_lot *l)
     }
 }
 
+static void grubbs_para(FILE *f, const bg_qa_lot *l, const char *n1, const char *n2)
+{
+    fputs("<p id=\"grubbs\">Outliers by Grubbs' test (two-sided, significance ", f);
+    bgi_html_num(f, "span", "alpha", "%.3g", l->alpha);
+    fputs("): G(", f);
+    bgi_html_esc(f, n1);
+    fputs(") ", f);
+    bgi_html_num(f, "span", "g_r25", "%.3f", l->g_r25);
+    fputs(", G(", f);
+    bgi_html_esc(f, n2);
+    fputs(") ", f);
+    bgi_html_num(f, "span", "g_b", "%.3f", l->g_b);
+    fputs(", critical value ", f);
+    bgi_html_num(f, "span", "g_crit", "%.3f", l->g_crit);
+    fputs(".</p>\n", f);
+}
+
 static void stats_table(FILE *f, const bg_qa_lot *l)
 {
     const bg_lot *lot = &l->lot;
@@ -78,7 +139,9 @@ static void stats_table(FILE *f, const bg_qa_lot *l)
                "min</th><th class=\"n\">max</th><th class=\"n\">Cpk</th></tr>\n");
     const bg_stats *st[2] = { &l->r25_dev, &l->b };
     const double cp[2] = { l->cpk_r25, l->cpk_b };
-    const char *nm[2] = { "R25 deviation / %", "B / K" }, *id[2] = { "r25_dev_pct", "b_k" };
+    char l1[72], l2[72];
+    lot_labels(l, l1, l2);
+    const char *nm[2] = { l1, l2 }, *id[2] = { l->v1_key, l->v2_key };
     for (int k = 0; k < 2; k++) {
         fprintf(f, "<tr class=\"stat\" data-key=\"%s\"><td>%s</td>", id[k], nm[k]);
         bgi_html_num(f, "td", "n mean", "%.4f", st[k]->mean);
@@ -89,6 +152,14 @@ static void stats_table(FILE *f, const bg_qa_lot *l)
         fputs("</tr>\n", f);
     }
     fputs("</table>\n", f);
+    if (l->sensor != BG_PART_NTC) {
+        if (l->nb_extrap)
+            fprintf(f, "<p id=\"bextrap\">* A value is read outside the calibrated range of "
+                       "%zu of %zu probes.</p>\n", l->nb_extrap, l->n);
+        fprintf(f, "<p id=\"energy\">%zu probe(s) out of tolerance.</p>\n", l->nout);
+        grubbs_para(f, l, l->v1_name, l->v2_name);
+        return;
+    }
     if (l->nb_extrap)
         fprintf(f, "<p id=\"bextrap\">* B%.0f/%.0f is extrapolated for %zu of %zu probes: the "
                    "pair lies outside their calibrated range, so their B, its statistics and the "
@@ -101,22 +172,18 @@ static void stats_table(FILE *f, const bg_qa_lot *l)
                "\xce\xa9 &#177;%.3g %%, B %.2f K &#177;%.3g %%. %zu probe(s) out of tolerance.</p>\n",
             lot->pair_t1_k - BG_ZERO_C_K, lot->pair_t2_k - BG_ZERO_C_K, lot->r25_ohm,
             100 * lot->tol_r25, lot->beta_k, 100 * lot->tol_beta, l->nout);
-    fputs("<p id=\"grubbs\">Outliers by Grubbs' test (two-sided, significance ", f);
-    bgi_html_num(f, "span", "alpha", "%.3g", l->alpha);
-    fputs("): G(R25) ", f);
-    bgi_html_num(f, "span", "g_r25", "%.3f", l->g_r25);
-    fputs(", G(B) ", f);
-    bgi_html_num(f, "span", "g_b", "%.3f", l->g_b);
-    fputs(", critical value ", f);
-    bgi_html_num(f, "span", "g_crit", "%.3f", l->g_crit);
-    fputs(".</p>\n", f);
+    grubbs_para(f, l, "R25", "B");
 }
 
 /* The histogram of R25 deviations; the axis spans at least the tolerance limits. */
 static void histogram(FILE *f, const bg_qa_lot *l)
 {
     enum { NBIN = 12 };
-    double tol = 100.0 * l->lot.tol_r25;
+    double tol = l->v1_tol; /* an NTC's: 100 tol_r25 */
+    char l1[72], l2[72], title[120];
+    lot_labels(l, l1, l2);
+    snprintf(title, sizeof title, "%s of the lot's probes", l->sensor == BG_PART_NTC ?
+             "R25 deviation" : l->v1_name);
     double lo = fmin(l->r25_dev.min, -tol), hi = fmax(l->r25_dev.max, tol);
     double edges[NBIN + 1];
     size_t cnt[NBIN] = { 0 }, top = 1;
@@ -130,11 +197,12 @@ static void histogram(FILE *f, const bg_qa_lot *l)
     }
     for (int k = 0; k < NBIN; k++)
         top = cnt[k] > top ? cnt[k] : top;
-    bgi_html_chart hc = { "histogram", "R25 deviation of the lot's probes", "R25 deviation / %",
-                          "probes", 0, 0, 0, 0, 0 };
+    bgi_html_chart hc = { "histogram", title, l1, "probes", 0, 0, 0, 0, 0 };
     bgi_html_chart_begin(f, &hc, lo, hi, 0.0, (double)top);
     bgi_html_chart_bars(f, &hc, edges, cnt, NBIN);
-    bgi_html_chart_end(f, &hc, "Bars: probes per bin; the axis spans at least the R25 tolerance");
+    bgi_html_chart_end(f, &hc, l->sensor == BG_PART_NTC ? "Bars: probes per bin; the axis spans "
+                       "at least the R25 tolerance" : "Bars: probes per bin; the axis spans at "
+                       "least the tolerance");
 }
 
 static void band_table(FILE *f, const bg_qa_lot *l)
@@ -155,6 +223,12 @@ static void band_table(FILE *f, const bg_qa_lot *l)
     if (l->spec.tol_k > 0.0)
         fputs("</table>\n<p class=\"meta\">The band is the part's tolerance in kelvin "
               "(&#8212;: outside its range).</p>\n", f);
+    else if (l->sensor == BG_PART_PRT && !l->spec.have_model)
+        fputs("</table>\n<p class=\"meta\">The band is the tolerance of the part's IEC 60751 "
+              "class at each temperature.</p>\n", f);
+    else if (l->sensor != BG_PART_NTC)
+        fputs("</table>\n<p class=\"meta\">The band is what the tolerances of the part's two "
+              "nominal values allow (first order).</p>\n", f);
     else if (l->nominal_is_beta)
         fputs("</table>\n<p class=\"meta\">The band is the nominal curve at the corners of the "
               "R25 and B tolerances. The measured deviation also holds the difference in shape "
@@ -191,20 +265,24 @@ static void drift_rows(FILE *f, const bg_qa_probe *p)
 
 static void drift_table(FILE *f, const bg_qa_lot_summary *s)
 {
-    fputs("<h2>Drift of each probe since its previous calibration</h2>\n<table class=\"data\" "
-          "id=\"drift\">\n<tr><th>probe</th><th class=\"n\">from fit</th><th class=\"n\">"
-          "to fit</th><th class=\"n\">years</th><th class=\"n\">max |as-found| / mK</th>"
-          "<th class=\"n\">&#916;R25 / %</th><th class=\"n\">&#916;B / K</th><th class=\"n\">"
-          "rate / (mK/year)</th><th>flags</th></tr>\n", f);
+    int ntc = s->stats.sensor == BG_PART_NTC;
+    fprintf(f, "<h2>Drift of each probe since its previous calibration</h2>\n<table "
+               "class=\"data\" id=\"drift\">\n<tr><th>probe</th><th class=\"n\">from fit</th>"
+               "<th class=\"n\">to fit</th><th class=\"n\">years</th><th class=\"n\">max "
+               "|as-found| / mK</th><th class=\"n\">%s</th><th class=\"n\">%s</th>"
+               "<th class=\"n\">rate / (mK/year)</th><th>flags</th></tr>\n",
+            ntc ? "&#916;R25 / %" : "&#916;reading at 25 \xc2\xb0" "C / %",
+            ntc ? "&#916;B / K" : "&#916;B (NTC only)");
     for (size_t i = 0; i < s->nprobes; i++)
         drift_rows(f, &s->probes[i]);
-    static const char *const from[3] = { "from the lot's R25 tolerance", "as given",
-                                         "the part's default" };
+    static const char *const from[4] = { "from the lot's R25 tolerance", "as given",
+                                         "the part's default", "from the tolerance of the part's "
+                                         "sensor kind at its reference temperature" };
     static const char *const rfrom[3] = { "the as-found limit", "as given", "the part's default" };
     fprintf(f, "</table>\n<p class=\"meta\" id=\"limits\">As-found error: what a device still "
                "using the earlier coefficients would read, minus the true temperature, largest "
                "over five check temperatures spread over the common range. Limit %.1f mK (%s); "
-               "rate limit %.1f mK/year (%s).</p>\n", 1e3 * s->limit_k, from[s->limit_from % 3],
+               "rate limit %.1f mK/year (%s).</p>\n", 1e3 * s->limit_k, from[s->limit_from % 4],
             1e3 * s->rate_k, rfrom[s->rate_from % 3]);
 }
 
@@ -237,6 +315,15 @@ static int one_chart(FILE *f, const bg_qa_part *p, int c)
                                           "sd / K", "mean as-found / mK", "sd / mK" };
     const bg_chart *ch = &p->chart[c];
     size_t n = c < 4 ? p->nlots : p->nasfound;
+    char l1[72], l2[72], kt[120], ku[80];
+    value_labels(p->sensor, p->v1_name, p->v1_unit, p->v2_name, p->v2_unit, l1, l2);
+    const char *title = titles[c], *unit = units[c];
+    if (p->sensor != BG_PART_NTC && c < 4) { /* the kind's two values */
+        snprintf(kt, sizeof kt, "%s chart of the lots' %s%s", c % 2 ? "s" : "X-bar",
+                 c % 2 ? "" : "mean ", c < 2 ? p->v1_name : p->v2_name);
+        snprintf(ku, sizeof ku, "%s%s", c % 2 ? "sd of " : "mean ", c < 2 ? l1 : l2);
+        title = kt, unit = ku;
+    }
     double *x = malloc((n + 1) * sizeof *x), *y = malloc((n + 1) * sizeof *y);
     int *fg = malloc((n + 1) * sizeof *fg);
     double lo = ch->lcl, hi = ch->ucl;
@@ -256,8 +343,7 @@ static int one_chart(FILE *f, const bg_qa_part *p, int c)
     }
     for (size_t i = 0; i < n; i++)
         names[i] = p->lots[c < 4 ? i : p->asfound[i].lot].code;
-    bgi_html_chart hc = { ids[c], titles[c], "lot (in order of creation)", units[c], 0, 0, 0,
-                          0, 0 };
+    bgi_html_chart hc = { ids[c], title, "lot (in order of creation)", unit, 0, 0, 0, 0, 0 };
     bgi_html_chart_begin_named(f, &hc, names, n, lo, hi);
     bgi_html_chart_hline(f, &hc, ch->center, "centre", 0);
     bgi_html_chart_hline(f, &hc, ch->ucl, "UCL", 1);
@@ -273,10 +359,19 @@ static void lots_table(FILE *f, const bg_qa_part *p)
 {
     static const char *const rule[4] = { "beyond 3 sigma", "2 of 3 beyond 2 sigma",
                                          "4 of 5 beyond 1 sigma", "8 on one side" };
-    static const char *const cn[4] = { "X-bar R25", "s R25", "X-bar B", "s B" };
-    fputs("<table class=\"data\" id=\"lots\"><tr><th class=\"n\">#</th><th>lot</th>"
-          "<th class=\"n\">probes</th><th class=\"n\">mean R25 dev / %</th>"
-          "<th class=\"n\">mean B / K</th><th>run rules broken</th></tr>\n", f);
+    static const char *const cn[4] = { "X-bar 1", "s 1", "X-bar 2", "s 2" };
+    static const char *const cn_ntc[4] = { "X-bar R25", "s R25", "X-bar B", "s B" };
+    char l1[72], l2[72];
+    value_labels(p->sensor, p->v1_name, p->v1_unit, p->v2_name, p->v2_unit, l1, l2);
+    if (p->sensor == BG_PART_NTC)
+        fputs("<table class=\"data\" id=\"lots\"><tr><th class=\"n\">#</th><th>lot</th>"
+              "<th class=\"n\">probes</th><th class=\"n\">mean R25 dev / %</th>"
+              "<th class=\"n\">mean B / K</th><th>run rules broken</th></tr>\n", f);
+    else
+        fprintf(f, "<table class=\"data\" id=\"lots\"><tr><th class=\"n\">#</th><th>lot</th>"
+                   "<th class=\"n\">probes</th><th class=\"n\">mean %s</th>"
+                   "<th class=\"n\">mean %s</th><th>run rules broken (1: %s, 2: %s)</th>"
+                   "</tr>\n", l1, l2, p->v1_name, p->v2_name);
     for (size_t i = 0; i < p->nlots; i++) {
         const bg_qa_part_lot *l = &p->lots[i];
         unsigned any = l->rules[0] | l->rules[1] | l->rules[2] | l->rules[3];
@@ -290,7 +385,8 @@ static void lots_table(FILE *f, const bg_qa_part *p)
         for (int c = 0; c < 4; c++)
             for (int r = 0; r < 4; r++)
                 if (l->rules[c] & (1u << r))
-                    fprintf(f, "%s: %s; ", cn[c], rule[r]);
+                    fprintf(f, "%s: %s; ", p->sensor == BG_PART_NTC ? cn_ntc[c] : cn[c],
+                            rule[r]);
         fputs("</td></tr>\n", f);
     }
     fputs("</table>\n", f);

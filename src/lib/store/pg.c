@@ -1112,6 +1112,25 @@ static void dbl_pos(struct pgp *p, double v)
         pgp_null(p);
 }
 
+/* The schema-12 columns sensor .. iec_class (all NULL for an NTC). */
+static void spec_sensor_params(struct pgp *p, const bg_part_spec *s)
+{
+    int prt = s->sensor == BG_PART_PRT, ntc = s->sensor == BG_PART_NTC;
+    if (ntc)
+        pgp_null(p);
+    else
+        pgp_text(p, bg_part_sensor_name(s->sensor));
+    pgp_dbl(p, ntc ? NAN : s->nom_t_k);
+    pgp_dbl(p, ntc ? NAN : s->nom_x);
+    pgp_dbl(p, ntc || prt ? NAN : s->tol_x);
+    pgp_dbl(p, ntc || prt ? NAN : s->nom_s);
+    pgp_dbl(p, ntc || prt ? NAN : s->tol_s);
+    if (prt)
+        pgp_text(p, s->iec_class);
+    else
+        pgp_null(p);
+}
+
 static int pg_part_spec_add(bgi_conn *c, const bg_part_spec *s, const char *now, long long *id,
                             bg_error *err)
 {
@@ -1119,7 +1138,7 @@ static int pg_part_spec_add(bgi_conn *c, const bg_part_spec *s, const char *now,
     char name[16];
     size_t n = s->have_model ? bg_model_npar(&s->model) : 0;
     int rc;
-    if (pgp_init(&p, 19) != BG_OK)
+    if (pgp_init(&p, 26) != BG_OK)
         return bg_error_set(err, BG_ENOMEM, "out of memory");
     pgp_text(&p, s->part);
     if (s->have_model) {
@@ -1139,10 +1158,13 @@ static int pg_part_spec_add(bgi_conn *c, const bg_part_spec *s, const char *now,
     dbl_pos(&p, s->rate_k);
     pgp_text0(&p, s->note);
     pgp_text(&p, now);
+    spec_sensor_params(&p, s); /* schema 12 */
     rc = insert_id(c, "INSERT INTO part_spec(id, part, model, t0_k, npar, c0, c1, c2, c3, c4, "
                    "c5, source, tol_k, tol_lo_k, tol_hi_k, baseline, limit_k, rate_k, note, "
-                   "created_at) SELECT coalesce(max(id), 0) + 1, $1, $2, $3, $4, $5, $6, $7, "
-                   "$8, $9, $10, $11, $12, $13, $14, $15, $16, $17, $18, $19 FROM part_spec "
+                   "created_at, sensor, nom_t_k, nom_x, tol_x, nom_s, tol_s, iec_class) "
+                   "SELECT coalesce(max(id), 0) + 1, $1, $2, $3, $4, $5, $6, $7, "
+                   "$8, $9, $10, $11, $12, $13, $14, $15, $16, $17, $18, $19, $20, $21, $22, "
+                   "$23, $24, $25, $26 FROM part_spec "
                    "RETURNING id", &p, id, err, "cannot add the part specification");
     pgp_free(&p);
     if (rc == BG_EINVAL && err && strstr(err->msg, "the record refuses it"))
@@ -1183,6 +1205,16 @@ static int spec_row(const PGresult *res, int r, bg_part_spec *s, bg_error *err)
     s->limit_k = or_zero(res, r, 16), s->rate_k = or_zero(res, r, 17);
     pgv_text(s->note, sizeof s->note, res, r, 18);
     pgv_text(s->created_at, sizeof s->created_at, res, r, 19);
+    if (!pgv_null(res, r, 20)) { /* schema 12 */
+        char name[16];
+        pgv_text(name, sizeof name, res, r, 20);
+        if (bg_part_sensor_parse(name, &s->sensor, err) != BG_OK)
+            return BG_EDB;
+        s->nom_t_k = or_zero(res, r, 21), s->nom_x = or_zero(res, r, 22);
+        s->tol_x = or_zero(res, r, 23), s->nom_s = or_zero(res, r, 24);
+        s->tol_s = or_zero(res, r, 25);
+        pgv_text(s->iec_class, sizeof s->iec_class, res, r, 26);
+    }
     return BG_OK;
 }
 
@@ -1193,10 +1225,12 @@ static int pg_part_spec_each(bgi_conn *c, const char *part, int newest_only, bg_
     int rc;
     PGresult *res = by_text(c, -1, newest_only ?
         "SELECT id, part, model, t0_k, npar, c0, c1, c2, c3, c4, c5, source, tol_k, tol_lo_k, "
-        "tol_hi_k, baseline, limit_k, rate_k, note, created_at FROM part_spec WHERE part = $1 "
+        "tol_hi_k, baseline, limit_k, rate_k, note, created_at, sensor, nom_t_k, nom_x, tol_x, "
+        "nom_s, tol_s, iec_class FROM part_spec WHERE part = $1 "
         "ORDER BY created_at DESC, id DESC LIMIT 1" :
         "SELECT id, part, model, t0_k, npar, c0, c1, c2, c3, c4, c5, source, tol_k, tol_lo_k, "
-        "tol_hi_k, baseline, limit_k, rate_k, note, created_at FROM part_spec WHERE part = $1 "
+        "tol_hi_k, baseline, limit_k, rate_k, note, created_at, sensor, nom_t_k, nom_x, tol_x, "
+        "nom_s, tol_s, iec_class FROM part_spec WHERE part = $1 "
         "ORDER BY created_at, id", part, &rc, err, "cannot read part specifications");
     for (int i = 0; res && i < PQntuples(res); i++)
         if ((rc = spec_row(res, i, &s, err)) != BG_OK || cb(&s, ctx))

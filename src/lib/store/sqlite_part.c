@@ -37,13 +37,33 @@ static void bind_model(sqlite3_stmt *q, int b, const bg_part_spec *p)
             sqlite3_bind_null(q, b + 3 + (int)i);
 }
 
+/* The schema-12 columns sensor .. iec_class from bind index 'b' (all NULL for an NTC). */
+static void bind_sensor(sqlite3_stmt *q, int b, const bg_part_spec *p)
+{
+    for (int i = 0; i < 7; i++)
+        sqlite3_bind_null(q, b + i);
+    if (p->sensor == BG_PART_NTC)
+        return;
+    sqlite3_bind_text(q, b, bg_part_sensor_name(p->sensor), -1, SQLITE_STATIC);
+    sqlite3_bind_double(q, b + 1, p->nom_t_k);
+    sqlite3_bind_double(q, b + 2, p->nom_x);
+    if (p->sensor == BG_PART_PRT) {
+        sqlite3_bind_text(q, b + 6, p->iec_class, -1, SQLITE_TRANSIENT);
+        return;
+    }
+    sqlite3_bind_double(q, b + 3, p->tol_x);
+    sqlite3_bind_double(q, b + 4, p->nom_s);
+    sqlite3_bind_double(q, b + 5, p->tol_s);
+}
+
 int bgi_sqlite_part_spec_add(bgi_conn *c, const bg_part_spec *p, const char *now, long long *id,
                              bg_error *err)
 {
     sqlite3_stmt *q = NULL;
     int rc = bgi_prepare(c, "INSERT INTO part_spec(part, model, t0_k, npar, c0, c1, c2, c3, c4, "
                          "c5, source, tol_k, tol_lo_k, tol_hi_k, baseline, limit_k, rate_k, "
-                         "note, created_at) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+                         "note, created_at, sensor, nom_t_k, nom_x, tol_x, nom_s, tol_s, "
+                         "iec_class) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
                          &q, err);
     if (rc != BG_OK)
         return rc;
@@ -61,6 +81,7 @@ int bgi_sqlite_part_spec_add(bgi_conn *c, const bg_part_spec *p, const char *now
     bind_pos_or_null(q, 17, p->rate_k);
     bgi_bind_text_or_null(q, 18, p->note);
     sqlite3_bind_text(q, 19, now, -1, SQLITE_TRANSIENT);
+    bind_sensor(q, 20, p);
     int s = sqlite3_step(q);
     if ((s & 0xff) == SQLITE_CONSTRAINT)
         rc = bg_error_set(err, BG_EINVAL, "part '%s': %s", p->part, sqlite3_errmsg(c->db));
@@ -104,6 +125,16 @@ static int spec_row(sqlite3_stmt *q, bg_part_spec *p, bg_error *err)
     p->limit_k = col_or_zero(q, 16), p->rate_k = col_or_zero(q, 17);
     bgi_copy_text(p->note, sizeof p->note, q, 18);
     bgi_copy_text(p->created_at, sizeof p->created_at, q, 19);
+    if (sqlite3_column_type(q, 20) != SQLITE_NULL) {
+        char name[16];
+        bgi_copy_text(name, sizeof name, q, 20);
+        if (bg_part_sensor_parse(name, &p->sensor, err) != BG_OK)
+            return BG_EDB;
+        p->nom_t_k = col_or_zero(q, 21), p->nom_x = col_or_zero(q, 22);
+        p->tol_x = col_or_zero(q, 23), p->nom_s = col_or_zero(q, 24);
+        p->tol_s = col_or_zero(q, 25);
+        bgi_copy_text(p->iec_class, sizeof p->iec_class, q, 26);
+    }
     return BG_OK;
 }
 
@@ -115,10 +146,12 @@ int bgi_sqlite_part_spec_each(bgi_conn *c, const char *part, int newest_only,
     int which = newest_only ? STMT_PART_SPEC_NEWEST : STMT_PART_SPEC;
     int s, rc = bgi_stmt(c, which, newest_only ?
         "SELECT id, part, model, t0_k, npar, c0, c1, c2, c3, c4, c5, source, tol_k, tol_lo_k, "
-        "tol_hi_k, baseline, limit_k, rate_k, note, created_at FROM part_spec WHERE part = ? "
+        "tol_hi_k, baseline, limit_k, rate_k, note, created_at, sensor, nom_t_k, nom_x, tol_x, "
+        "nom_s, tol_s, iec_class FROM part_spec WHERE part = ? "
         "ORDER BY created_at DESC, id DESC LIMIT 1" :
         "SELECT id, part, model, t0_k, npar, c0, c1, c2, c3, c4, c5, source, tol_k, tol_lo_k, "
-        "tol_hi_k, baseline, limit_k, rate_k, note, created_at FROM part_spec WHERE part = ? "
+        "tol_hi_k, baseline, limit_k, rate_k, note, created_at, sensor, nom_t_k, nom_x, tol_x, "
+        "nom_s, tol_s, iec_class FROM part_spec WHERE part = ? "
         "ORDER BY created_at, id", &q, err);
     if (rc != BG_OK)
         return rc;

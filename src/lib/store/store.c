@@ -1839,14 +1839,17 @@ static int check_part_model(const bg_part_spec *p, bg_error *err)
 {
     bg_model m = p->model;
     double lo = p->tol_k > 0.0 ? p->tol_lo_k : BG_T0_DEFAULT_K - 25.0;
-    double hi = p->tol_k > 0.0 ? p->tol_hi_k : BG_T0_DEFAULT_K + 25.0, prev = INFINITY;
+    int dir = bg_model_direction(&p->model); /* schema 12: a part of any sensor kind */
+    double hi = p->tol_k > 0.0 ? p->tol_hi_k : BG_T0_DEFAULT_K + 25.0, prev = dir < 0 ? INFINITY : -INFINITY;
     int rc = bg_model_set_coef(&m, p->model.coef, bg_model_npar(&p->model), err);
     for (int i = 0; rc == BG_OK && i <= 40; i++) {
         double r;
-        if ((rc = bg_model_r_from_t(&m, lo + (hi - lo) * i / 40.0, &r, err)) == BG_OK &&
-            !(r < prev))
-            rc = bg_error_set(err, BG_EINVAL, "its resistance does not fall with temperature "
-                              "between %.2f and %.2f degC", lo - BG_ZERO_C_K, hi - BG_ZERO_C_K);
+        if ((rc = bg_model_x_from_t(&m, lo + (hi - lo) * i / 40.0, &r, err)) == BG_OK &&
+            !(dir * (r - prev) > 0.0))
+            rc = bg_error_set(err, BG_EINVAL, "its %s does not %s with temperature between "
+                              "%.2f and %.2f degC", bg_model_quantity(&m) == BG_QTY_RESISTANCE ?
+                              "resistance" : "reading", dir < 0 ? "fall" : "rise",
+                              lo - BG_ZERO_C_K, hi - BG_ZERO_C_K);
         prev = r;
     }
     if (rc != BG_OK)
