@@ -108,6 +108,9 @@ typedef struct bg_lut {
     uint16_t *idx;
     size_t nidx;
     unsigned ishift, icmp;
+    int aligned;             /* indexed, for the AVR: segments start on the index's grid and
+                             ** span at most 256 codes, so icmp is 0 (no comparison) and the
+                             ** AVR lookup splits each slope into bytes (lut_seg.c) */
     size_t oncurve_min;      /* the fewest entries with values on the curve (0: not counted) */
     int oncurve_skipped;     /* 1: not counted because the range has more than
                              ** BG_LUT_ONCURVE_AUTO_CODES codes and it was not asked for */
