@@ -87,6 +87,12 @@ static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FI
     if (t->strategy == BG_LUT_UNIFORM)
         fprintf(f, "/*\n * ADC code -> temperature, %s, linear interpolation between\n"
                    " * breakpoints every %lu codes (uniform table).\n", vf, 1ul << t->shift);
+    else if (t->aligned)
+        fprintf(f, "/*\n * ADC code -> temperature, %s, %zu straight segments\n"
+                   " * (indexed table, aligned form: every segment starts on a grid of %lu codes\n"
+                   " * and spans at most 256, so the index alone finds it), the fewest on that\n"
+                   " * grid that keep every code within %.6g K.\n", vf, t->n, 1ul << t->ishift,
+                s->max_err_k);
     else
         fprintf(f, "/*\n * ADC code -> temperature, %s, %zu straight segments\n"
                    " * (%s table%s), the fewest that keep every code within %.6g K.\n", vf,
