@@ -144,8 +144,10 @@ awk -F '|' '
         for (e = 0; e < 3; e++) {
             em = e == 2 ? "avr-time" : e ? "avr" : "host"
             i = mean["avr|indexed|0.01|" em]; u = mean["avr|uniform|0.01|" em]
-            printf "ratio: ATmega328P, 12-bit table within 0.05 K emitted for %s: indexed %s cycles per conversion (target <= 120: %s), %.3f of Steinhart-Hart with logf at %s cycles (target <= 0.25: %s); uniform %s cycles (%s)\n",
-                em, i, i <= 120 ? "PASS" : "MISS", i / sh, sh, i / sh <= 0.25 ? "PASS" : "MISS", u, u <= 120 ? "PASS" : "MISS"
+            printf "ratio: ATmega328P, 12-bit table within 0.05 K emitted for %s: indexed %s cycles per conversion (target <= 120: %s), %.3f of Steinhart-Hart with logf at %s cycles (target <= 0.25: %s)",
+                e == 2 ? "avr --optimize time (the aligned form)" : em, i, i <= 120 ? "PASS" : "MISS", i / sh, sh, i / sh <= 0.25 ? "PASS" : "MISS"
+            if (e < 2) printf "; uniform %s cycles (%s)", u, u <= 120 ? "PASS" : "MISS"
+            printf "\n"
         }
         for (e = 0; e < 2; e++) {
             em = e ? "cortex-m0" : "host"
