@@ -4,7 +4,9 @@
 **  - minimal: the fewest straight segments that keep every code within a bound; each segment
 **    is a start code, a start value and a slope in fixed point, found by a binary search;
 **  - indexed: the same segments with a small index on the top bits of the code, so that
-**    lookup is one table read and one or two comparisons (O(1), no search).
+**    lookup is one table read and one or two comparisons (O(1), no search); for the AVR,
+**    when the cost model prefers it, the aligned form: segments on the index's grid and no
+**    comparison (bg_lut.aligned).
 ** Segment values need not lie on the curve (each segment is the line that best spreads the
 ** error), and the segmentation is the exact minimum for the bound: see lut_seg.c.
 ** bg_lut_eval / bg_lut_eval_float perform exactly the arithmetic of the emitted C, and the
@@ -40,7 +42,8 @@ typedef enum bg_lut_strategy {
 **  - avr: 8-bit AVR (avr-gcc, avr-libc): tables in flash (PROGMEM) read with pgm_read_* that
 **    keep the sign, 16-bit arithmetic where the values allow, segment slopes in int16_t at 8
 **    fractional bits where they fit (a 16 x 16 multiply and a byte move instead of a 32-bit
-**    multiply and shift);
+**    multiply and shift); indexed tables in the aligned form where it costs less by
+**    'optimize' (16-bit values, slopes split into bytes: two 8 x 8 multiplies, lut_seg.c);
 **  - cortex-m0, cortex-m4: 32-bit C with the same narrow slopes where they fit (fewer bytes;
 **    both cores have a single-instruction 32 x 32 -> 32 multiply, so the arithmetic stays). */
 typedef enum bg_lut_target {
@@ -108,6 +111,9 @@ typedef struct bg_lut {
     uint16_t *idx;
     size_t nidx;
     unsigned ishift, icmp;
+    int aligned;             /* indexed, for the AVR: segments start on the index's grid and
+                             ** span at most 256 codes, so icmp is 0 (no comparison) and the
+                             ** AVR lookup splits each slope into bytes (lut_seg.c) */
     size_t oncurve_min;      /* the fewest entries with values on the curve (0: not counted) */
     int oncurve_skipped;     /* 1: not counted because the range has more than
                              ** BG_LUT_ONCURVE_AUTO_CODES codes and it was not asked for */

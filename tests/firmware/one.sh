@@ -21,6 +21,10 @@ then
     echo "not ok firmware $name: bandgap lut failed"; sed 's/^/# /' "$d/lut.err"; exit 0
 fi
 vt=int; [ "$res" = float ] && vt=float
+# a wider ADC (--adc-bits 14 or 16 in the options): its own AVR harness, every code
+bits=12
+case $extra in *"--adc-bits 14"*) bits=14 ;; *"--adc-bits 16"*) bits=16 ;; esac
+main=avr_main_$vt; [ $bits != 12 ] && main=avr_main_int_b$bits
 case $extra in
 *"--target avr"*) targets=avr hooks="" ;;
 *"--target cortex-m0"*) targets=m0 hooks="" ;;
@@ -45,7 +49,7 @@ for tg in $targets; do
         continue
     fi
     if [ "$tg" = avr ]; then
-        $cc -Wl,--section-start=.mmcu=0x910000 "$W/avr_main_$vt.o" "$o.o" -o "$o.elf" >> "$o.log" 2>&1 &&
+        $cc -Wl,--section-start=.mmcu=0x910000 "$W/$main.o" "$o.o" -o "$o.elf" >> "$o.log" 2>&1 &&
             timeout 60 simavr -m atmega328p -f 16000000 "$o.elf" > "$o.out" 2>&1
     else
         $cc -nostartfiles -nostdlib -T "$HERE/arm.ld" "$W/arm_start_$tg.o" "$W/arm_main_${tg}_$vt.o" \

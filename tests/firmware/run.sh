@@ -8,6 +8,8 @@
 #   m3:  a Cortex-M3 under QEMU (mps2-an385),
 #   m4:  a Cortex-M4 with its single-precision FPU under QEMU (mps2-an386),
 # and compared bit for bit with the library's own values (bandgap lut --format codes).
+# The AVR also runs 14- and 16-bit tables of every strategy (every code 0 .. 2^bits - 1) and
+# the indexed table's aligned form (--optimize time).
 # Float runs on every core (the M4's FPU, libgcc's soft float on M0 and M3, avr-libc's on
 # the AVR).  Prints "ok firmware NAME TARGET" / "not ok ..." per table and target.
 # Usage: run.sh BANDGAP WORKDIR    (FW_JOBS parallel tables, default 2)
@@ -46,6 +48,11 @@ for vt in int float; do
             -fno-tree-loop-distribute-patterns -c "$HERE/arm_start.c" -o "$W/arm_start_$tg.o"
     done
 done
+# the AVR harness for the wider ADCs (14 and 16 bits: every one of their codes)
+for bits in 14 16; do
+    build avr-gcc -mmcu=atmega328p -Os -std=gnu99 -Wall -Wextra -Werror -DLOOKUP=t_lookup \
+        -DNCODES=$((1 << bits))UL -c "$HERE/avr_main.c" -o "$W/avr_main_int_b$bits.o"
+done
 # the AVR image with a do-nothing lookup: a table's flash is the difference
 build avr-gcc -mmcu=atmega328p -Os -c "$HERE/stub.c" -o "$W/avr_stub.o"
 build avr-gcc -mmcu=atmega328p -Wl,--section-start=.mmcu=0x910000 "$W/avr_main_int.o" \
@@ -75,6 +82,20 @@ for st in uniform minimal indexed; do
     echo "$st-float-for-cortex-m4:$st:float:0.05C:--target cortex-m4" >> "$W/cases"
     echo "$st-float-for-avr:$st:float:0.05C:--target avr" >> "$W/cases"
     echo "$st-high-kelvin-q8-for-avr:$st:q8:0.05C:--sensor-side=high --kelvin --target avr" >> "$W/cases"
+    # wider ADCs on the AVR: 14 and 16 bits, every code (65536 calls: a few seconds each)
+    for bits in 14 16; do
+        echo "$st-0.01-for-avr-$bits-bit:$st:0.01:0.05C:--target avr --adc-bits $bits" >> "$W/cases"
+    done
+done
+# the indexed table's aligned form for the AVR (--optimize time): every value format whose
+# values fit 16 bits takes it (q12 and 0.001 do not: the compact form then), and the wider ADCs
+for res in 0.1 0.01 q4 q8 q12 0.001; do
+    case $res in q4) b=0.0625C ;; *) b=0.05C ;; esac
+    echo "indexed-$res-for-avr-time:indexed:$res:$b:--target avr --optimize time" >> "$W/cases"
+done
+echo "indexed-high-kelvin-q4-for-avr-time:indexed:q4:0.0625C:--sensor-side=high --kelvin --target avr --optimize time" >> "$W/cases"
+for bits in 14 16; do
+    echo "indexed-0.01-for-avr-time-$bits-bit:indexed:0.01:0.05C:--target avr --optimize time --adc-bits $bits" >> "$W/cases"
 done
 export BANDGAP W TARGETS
 xargs -d '\n' -P "${FW_JOBS:-2}" -n 1 sh "$HERE/one.sh" < "$W/cases" > "$W/results.log" 2>&1

@@ -279,7 +279,9 @@ int bgi_lut_make_bands(const bg_lut *t, const double *tk, double cpk, double off
 ** codes 16 bits), otherwise the automatic bits as for the host. */
 static int target_segments(const bg_lut_spec *s, bg_lut *out, const bgi_band *b, bg_error *err)
 {
-    out->narrow = 0;
+    out->narrow = 0, out->aligned = 0;
+    if (bgi_lut_aligned_try(s, out, b))
+        return BG_OK;
     if (s->target != BG_LUT_HOST && s->frac_bits < 0 && out->code_hi + 1 <= 65535 &&
         bgi_lut_segments(out, b, 8, NULL) == BG_OK) {
         int fits = 1;
@@ -351,7 +353,7 @@ static int build_segments(const bg_lut_spec *s, const double *tk, bg_lut *out, b
     if (rc != BG_OK)
         return rc;
     size_t xb = out->code_hi + 1 <= 65535 ? 2u : 4u;
-    out->bytes = out->n * (xb + (out->narrow ? 6u : 8u)) + xb;
+    out->bytes = out->aligned ? out->n * 6u : out->n * (xb + (out->narrow ? 6u : 8u)) + xb;
     if (s->strategy == BG_LUT_INDEXED) {
         if (out->n > 65535)
             return bg_error_set(err, BG_EINVAL, "%zu segments: too many to index", out->n);

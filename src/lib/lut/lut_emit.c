@@ -87,6 +87,12 @@ static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FI
     if (t->strategy == BG_LUT_UNIFORM)
         fprintf(f, "/*\n * ADC code -> temperature, %s, linear interpolation between\n"
                    " * breakpoints every %lu codes (uniform table).\n", vf, 1ul << t->shift);
+    else if (t->aligned)
+        fprintf(f, "/*\n * ADC code -> temperature, %s, %zu straight segments\n"
+                   " * (indexed table, aligned form: every segment starts on a grid of %lu codes\n"
+                   " * and spans at most 256, so the index alone finds it), the fewest on that\n"
+                   " * grid that keep every code within %.6g K.\n", vf, t->n, 1ul << t->ishift,
+                s->max_err_k);
     else
         fprintf(f, "/*\n * ADC code -> temperature, %s, %zu straight segments\n"
                    " * (%s table%s), the fewest that keep every code within %.6g K.\n", vf,
@@ -382,6 +388,87 @@ static void segment_body_avr(const bg_lut *t, const char *sym, const char *up, F
         fprintf(f, "    return %s_VALUE_OFFSET + (int32_t)(v >> %s_FRAC);\n}\n", up, up);
 }
 
+/* The byte split of the aligned form (see lut_seg.c): the start value's whole counts from
+** VALUE_OFFSET and its 2^-8 fraction, the slope's high byte (floor(m / 256), signed) and
+** low byte, and the low byte of the first code's offset from CODE_LO. */
+static void aligned_tables(const bg_lut *t, const char *sym, const char *up, FILE *f)
+{
+    static const char *what[5] = { "int16_t %s_base", "uint8_t %s_frac", "int8_t %s_slope_hi",
+                                   "uint8_t %s_slope_lo", "uint8_t %s_first" };
+    long *v = malloc((t->n ? t->n : 1) * sizeof *v);
+    char name[96], decl[192];
+    fprintf(f, "/* per segment: the value at its first code (counts) and 2^-8 counts more;\n"
+               " * the slope in 2^-8 counts per code, high byte (signed) and low byte; the low\n"
+               " * byte of its first code less %s_CODE_LO */\n", up);
+    for (int k = 0; k < 5 && v; k++) {
+        for (size_t i = 0; i < t->n; i++) {
+            long sy = t->sy[i], sm = t->sm[i], mh = sm >= 0 ? sm / 256 : -((-sm + 255) / 256);
+            v[i] = k == 0 ? (long)t->yoff + sy / 256 : k == 1 ? sy % 256 : k == 2 ? mh
+                 : k == 3 ? sm - 256 * mh : (t->sx[i] - t->code_lo) & 255;
+        }
+        snprintf(name, sizeof name, what[k], sym);
+        snprintf(decl, sizeof decl, "static const %s[%zu] %s_ATTR", name, t->n, up);
+        longs(f, decl, t->n, v, NULL, NULL, NULL);
+    }
+    free(v);
+}
+
+/* The aligned form's lookup on the AVR: the segment straight from the index, one byte of
+** offset, two 8 x 8 multiplies and 16-bit sums (lut_seg.c shows the value is exact). */
+static void aligned_body_avr(const bg_lut *t, const char *sym, const char *up, FILE *f)
+{
+    unsigned k = t->ishift;
+    char pos[160];
+    if (t->nidx > 256 || k > 8)
+        snprintf(pos, sizeof pos, "off >> %s_INDEX_SHIFT", up);
+    else if (k == 8)
+        snprintf(pos, sizeof pos, "(uint8_t)(off >> 8)");
+    else if (k == 0)
+        snprintf(pos, sizeof pos, "(uint8_t)off");
+    else /* off < 2^(8 + k): the high byte's bits and the low byte's, in 8-bit shifts */
+        snprintf(pos, sizeof pos, "(uint8_t)((uint8_t)((uint8_t)(off >> 8) << %u) | lo)", 8 - k);
+    fprintf(f, "    uint16_t off;\n    uint8_t i, d%s;\n", pos[0] == '(' && k < 8 && k ? ", lo" : "");
+    fprintf(f, "    if (code < (uint32_t)%s_CODE_LO)\n        return %s_CODE_BELOW_RANGE;\n", up, up);
+    fprintf(f, "    if (code > (uint32_t)%s_CODE_HI)\n        return %s_CODE_ABOVE_RANGE;\n", up, up);
+    fprintf(f, "    off = (uint16_t)((uint16_t)code - (uint16_t)%s_CODE_LO);\n", up);
+    if (strstr(pos, "| lo)")) /* a byte variable: avr-gcc then shifts it in 8 bits */
+        fprintf(f, "    lo = (uint8_t)off;\n    lo = (uint8_t)(lo >> %u);\n", k);
+    fprintf(f, "    /* the segment, with no comparison: every one starts on the index's grid */\n"
+               "    i = %s_READ_U8(&%s_index[%s]);\n", up, sym, pos);
+    fprintf(f, "    d = (uint8_t)((uint8_t)off - %s_READ_U8(&%s_first[i])); /* below 256 */\n",
+            up, sym);
+    fprintf(f, "    /* base + floor((frac + slope d) / 256), the slope split in bytes: the low\n"
+               "     * byte's part lies in 0 .. 65280 and every sum fits 16 bits */\n");
+    fprintf(f, "    return (int16_t)(%s_READ_S16(&%s_base[i]) + %s_READ_S8(&%s_slope_hi[i]) * d +\n"
+               "        (uint8_t)((uint16_t)(%s_READ_U8(&%s_frac[i]) +\n"
+               "                             (uint16_t)%s_READ_U8(&%s_slope_lo[i]) * d) >> 8));\n"
+               "}\n", up, sym, up, sym, up, sym, up, sym);
+}
+
+static void emit_aligned(const bg_lut *t, const bg_lut_spec *s, const char *sym, const char *up,
+                         FILE *f)
+{
+    char vf[64], decl[160];
+    hook(f, s, up, "READ_U8", "pgm_read_byte", "");
+    hook(f, s, up, "READ_S8", "pgm_read_byte", "(int8_t)");
+    hook(f, s, up, "READ_S16", "pgm_read_word", "(int16_t)");
+    value_format(s, vf, sizeof vf);
+    fprintf(f, "\n#define %s_CODE_LO %ldL\n#define %s_CODE_HI %ldL\n#define %s_SEGMENTS %zuu\n"
+               "#define %s_COUNTS_PER_DEGREE %.0f /* %s */\n#define %s_INDEX_SHIFT %u\n", up,
+            t->code_lo, up, t->code_hi, up, t->n, up, t->counts_per_k, vf, up, t->ishift);
+    sentinels(t, up, f);
+    aligned_tables(t, sym, up, f);
+    fprintf(f, "/* the segment of the codes %s_CODE_LO + k 2^%s_INDEX_SHIFT onwards: every\n"
+               " * segment starts on this grid */\n", up, up);
+    snprintf(decl, sizeof decl, "static const uint8_t %s_index[%zu] %s_ATTR", sym, t->nidx, up);
+    longs(f, decl, t->nidx, NULL, NULL, NULL, t->idx);
+    fprintf(f, "\n/* Temperature in counts for an ADC code, or %s_CODE_BELOW_RANGE /\n"
+               " * %s_CODE_ABOVE_RANGE when the code is outside the range. */\n", up, up);
+    fprintf(f, "int32_t %s_lookup(uint32_t code);\nint32_t %s_lookup(uint32_t code)\n{\n", sym,
+            sym);
+    aligned_body_avr(t, sym, up, f);
+}
+
 static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym,
                           const char *up, FILE *f)
 {
@@ -389,6 +476,10 @@ static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym
     int idx8 = t->n <= 256;
     char decl[160], vf[64];
     const char *xt = wide_x ? "uint32_t" : "uint16_t";
+    if (t->aligned && s->target == BG_LUT_AVR && !flt && !wide_x && idx8) {
+        emit_aligned(t, s, sym, up, f);
+        return;
+    }
     hook(f, s, up, "READ_CODE", wide_x ? "pgm_read_dword" : "pgm_read_word", "");
     hook(f, s, up, flt ? "READ_F32" : "READ_S32", flt ? "pgm_read_float" : "pgm_read_dword",
          flt ? "" : "(int32_t)");

@@ -38,6 +38,13 @@ int bgi_lut_oncurve_ok(const long long *on, const bgi_band *band, size_t i, size
 ** ishift, icmp. */
 int bgi_lut_index(bg_lut *t, bg_error *err);
 
+/* For an indexed table of integer values emitted for the AVR: the aligned form (segments on
+** the index's grid of 2^ishift codes, at most 256 codes each, values and slopes in 16 bits;
+** lut_seg.c) in 't' when it can be built and costs less than the compact form by what
+** 's->optimize' minimises: 1 (t->sx, sy, sm, n, frac, yoff, narrow, aligned, ishift set),
+** otherwise 0 and 't' untouched. */
+int bgi_lut_aligned_try(const bg_lut_spec *s, bg_lut *t, const bgi_band *band);
+
 /* Whether a uniform table's interpolation fits 16-bit arithmetic (the AVR form); lut_target.c */
 int bgi_lut_uniform16(const bg_lut *t);
 

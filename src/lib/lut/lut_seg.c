@@ -239,6 +239,19 @@ static unsigned index_shift(const bg_lut *t, unsigned cmp)
 int bgi_lut_index(bg_lut *t, bg_error *err)
 {
     long ncode = t->code_hi - t->code_lo + 1;
+    if (t->aligned) { /* the grid is the index's: no comparison */
+        t->icmp = 0;
+        t->nidx = (size_t)((ncode - 1) >> t->ishift) + 1;
+        if (!(t->idx = malloc(t->nidx * sizeof *t->idx)))
+            return bg_error_set(err, BG_ENOMEM, "out of memory for the index");
+        size_t i = 0;
+        for (size_t b0 = 0; b0 < t->nidx; b0++) {
+            while (t->sx[i + 1] - t->code_lo <= (long)(b0 << t->ishift))
+                i++;
+            t->idx[b0] = (uint16_t)i;
+        }
+        return BG_OK;
+    }
     /* one comparison, or two when that halves the index or better; the smaller in bytes */
     unsigned k1 = index_shift(t, 1), k2 = index_shift(t, 2);
     size_t n1 = (size_t)((ncode - 1) >> k1) + 1, n2 = (size_t)((ncode - 1) >> k2) + 1;
@@ -257,4 +270,120 @@ int bgi_lut_index(bg_lut *t, bg_error *err)
         t->idx[b0] = (uint16_t)i;
     }
     return BG_OK;
+}
+
+/* ---- the AVR's aligned form of an indexed table ----
+** Segments that start on a grid of 2^k codes from code_lo and span at most 256 codes: the
+** index then names a code's segment with no comparison, and the code's offset into it is one
+** byte.  With the values in int16_t (less a byte of margin) and the slopes in int16_t at 8
+** fractional bits, the AVR lookup splits the slope m = 256 mh + ml (mh = floor(m / 256),
+** 0 <= ml < 256) and the start sy = 256 q + r (0 <= r < 256) and returns
+**     (yoff + q) + mh d + ((r + ml d) >> 8)
+** with two 8 x 8 multiplies the core does inline; that is exactly yoff + ((sy + sm d) >> 8)
+** (the floor of a sum whose part r + ml d lies in 0 .. 65280), the library's value. */
+
+/* The fewest segments on the grid 2^k (greedy: feasibility is hereditary, so the longest
+** run of whole buckets from the first uncovered one is optimal for the grid); 0 when a
+** bucket alone is infeasible, or out of memory. */
+static size_t aligned_segments(bg_lut *t, const bgi_band *b, unsigned k, long long yoff)
+{
+    long ncode = t->code_hi - t->code_lo + 1, grid = 1L << k, s = 0, maxj = 256 >> k;
+    size_t n = 0, cap = (size_t)((ncode + grid - 1) / grid) + 1;
+    t->sx = malloc(cap * sizeof *t->sx), t->sy = malloc(cap * sizeof *t->sy);
+    t->sm = malloc(cap * sizeof *t->sm);
+    if (!t->sx || !t->sy || !t->sm)
+        return 0;
+    while (s < ncode) {
+        long long y = 0, m = 0;
+        long left = (ncode - s + grid - 1) / grid, ok = 1, bad;
+        bad = (left < maxj ? left : maxj) + 1;
+        /* j buckets from s (the last one may be cut by the end of the range) */
+        if (!bgi_lut_feasible(b, s, s + grid - 1 < ncode - 1 ? s + grid - 1 : ncode - 1, 8,
+                              yoff, &y, &m))
+            return 0; /* a single bucket does not fit one line */
+        while (bad > ok + 1) {
+            long j = ok + (bad - ok) / 2, e = s + j * grid - 1;
+            if (bgi_lut_feasible(b, s, e < ncode - 1 ? e : ncode - 1, 8, yoff, &y, &m))
+                ok = j;
+            else
+                bad = j;
+        }
+        long e = s + ok * grid - 1 < ncode - 1 ? s + ok * grid - 1 : ncode - 1;
+        bgi_lut_feasible(b, s, e, 8, yoff, &y, &m);
+        if (m < -32768 || m > 32767)
+            return 0;
+        t->sx[n] = t->code_lo + s, t->sy[n] = (int32_t)y, t->sm[n] = (int32_t)m;
+        n++;
+        s = e + 1;
+    }
+    t->sx[n] = t->code_hi + 1;
+    return n;
+}
+
+static void drop_segments(bg_lut *t)
+{
+    free(t->sx), free(t->sy), free(t->sm), free(t->idx);
+    t->sx = NULL, t->sy = NULL, t->sm = NULL, t->idx = NULL, t->n = 0, t->nidx = 0;
+}
+
+/* The compact indexed form for the same bands (8 fractional bits, narrow slopes), in a
+** scratch table, for its cost; 0 when it cannot be built so. */
+static int compact_form(const bg_lut *t, const bgi_band *b, bg_lut *c)
+{
+    *c = (bg_lut)BG_LUT_INIT;
+    c->strategy = t->strategy, c->format = t->format, c->counts_per_k = t->counts_per_k;
+    c->code_lo = t->code_lo, c->code_hi = t->code_hi;
+    if (bgi_lut_segments(c, b, 8, NULL) != BG_OK)
+        return 0;
+    for (size_t i = 0; i < c->n; i++)
+        if (c->sm[i] < -32768 || c->sm[i] > 32767)
+            return 0;
+    c->narrow = 1;
+    if (bgi_lut_index(c, NULL) != BG_OK)
+        return 0;
+    c->bytes = c->n * 8u + 2u + c->nidx * (c->n <= 256 ? 1u : 2u);
+    return 1;
+}
+
+int bgi_lut_aligned_try(const bg_lut_spec *s, bg_lut *t, const bgi_band *b)
+{
+    long ncode = t->code_hi - t->code_lo + 1;
+    long long yoff = b[0].lo;
+    bg_lut best = BG_LUT_INIT, cand, compact;
+    if (s->target != BG_LUT_AVR || s->strategy != BG_LUT_INDEXED ||
+        s->format == BG_LUT_FLOAT || s->frac_bits >= 0 || t->code_hi + 1 > 65535)
+        return 0;
+    for (long c = 0; c < ncode; c++) {
+        if (b[c].lo > b[c].hi || b[c].lo < -32768 + 255 || b[c].hi > 32767)
+            return 0; /* a value outside int16_t, less the byte the sum may pass through */
+        yoff = b[c].lo < yoff ? b[c].lo : yoff;
+    }
+    /* every grid up to 2^8 codes; the fewest bytes (6 a segment, 1 an index entry) */
+    for (unsigned k = 0; k <= 8; k++) {
+        cand = (bg_lut)BG_LUT_INIT;
+        cand.code_lo = t->code_lo, cand.code_hi = t->code_hi;
+        cand.n = aligned_segments(&cand, b, k, yoff);
+        size_t nidx = (size_t)((ncode - 1) >> k) + 1;
+        cand.bytes = cand.n * 6u + nidx;
+        if (cand.n == 0 || cand.n > 256 || (best.n && cand.bytes >= best.bytes)) {
+            drop_segments(&cand);
+            continue;
+        }
+        drop_segments(&best);
+        best = cand, best.ishift = k;
+    }
+    if (best.n == 0)
+        return 0;
+    best.strategy = t->strategy, best.format = t->format, best.counts_per_k = t->counts_per_k;
+    best.narrow = 1, best.aligned = 1, best.frac = 8, best.yoff = (int32_t)yoff;
+    /* against the compact form, by what the user asked to minimise (lut_target.c) */
+    if (compact_form(t, b, &compact) && bgi_lut_choice_cost(s, &compact) <
+                                            bgi_lut_choice_cost(s, &best)) {
+        drop_segments(&best), drop_segments(&compact);
+        return 0;
+    }
+    drop_segments(&compact);
+    t->sx = best.sx, t->sy = best.sy, t->sm = best.sm, t->n = best.n;
+    t->frac = 8, t->yoff = best.yoff, t->narrow = 1, t->aligned = 1, t->ishift = best.ishift;
+    return 1;
 }

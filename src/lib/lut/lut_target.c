@@ -29,11 +29,15 @@ static const struct {
     const char *unit, *measured;
     cost_point narrow[3], wide[3], flt[3];
     cost_point every_code; /* uniform, a breakpoint at every code: one read */
+    cost_point aligned;    /* indexed, the AVR's aligned form (bgi_lut_aligned_try), an
+                           ** index of at most 256 entries found with 8-bit shifts */
+    cost_point aligned_long; /* the same with a longer index: a 16-bit shift */
 } costs[] = {
     [BG_LUT_AVR] = { "cycles", "avr-gcc 5.4.0 -Os, avr-libc 2.0.0, simavr 1.6 (ATmega328P)",
                      { { 108.5, 180 }, { 270.3, 250 }, { 181.0, 271 } },
                      { { 261.7, 402 }, { 366.2, 280 }, { 274.0, 295 } },
-                     { { 705.4, 1000 }, { 800.0, 1066 }, { 517.1, 1003 } }, { 42.0, 76 } },
+                     { { 705.4, 1000 }, { 800.0, 1066 }, { 517.1, 1003 } }, { 42.0, 76 },
+                     { 97.0, 163 }, { 105.0, 158 } },
     [BG_LUT_CORTEX_M0] = { "instructions", "arm-none-eabi-gcc 12.2.1 -Os, newlib 3.3.0, QEMU 7.2 "
                            "micro:bit (Cortex-M0)",
                            { { 29.4, 86 }, { 78.8, 98 }, { 34.8, 113 } },
@@ -74,6 +78,8 @@ int bg_lut_cost_on(const bg_lut *t, bg_lut_target target, bg_lut_target_cost *ou
         p = &costs[target].every_code;
     else if (t->format == BG_LUT_FLOAT)
         p = &costs[target].flt[t->strategy];
+    else if (t->aligned && target == BG_LUT_AVR)
+        p = t->nidx > 256 ? &costs[target].aligned_long : &costs[target].aligned;
     else if (t->strategy == BG_LUT_UNIFORM)
         p = target != BG_LUT_AVR || bgi_lut_uniform16(t) ? &costs[target].narrow[0]
                                                           : &costs[target].wide[0];
