@@ -243,6 +243,17 @@ static void sort_points(bg_fitter *fr, const bg_point *pts, size_t n)
         qsort(fr->sorted, n, sizeof fr->sorted[0], cmp_t);
 }
 
+int bgi_sort_hold(bg_fitter *fr, int on)
+{
+    int was = fr->sort_hold;
+    if (on && !was)
+        fr->sort_pts = NULL;
+    fr->sort_hold = on;
+    if (!on)
+        fr->sort_pts = NULL;
+    return was;
+}
+
 /* On the sorted points: a note for each reading identical (same T and R) to an earlier one,
 ** and the number of distinct temperatures, a new one starting more than 'setpoint_gap_k' above
 ** the first reading of the last. */
@@ -303,7 +314,10 @@ static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
                                     "have one", where(o, &pts[i], i, w1, sizeof w1));
     *weighted = any_u;
 
-    sort_points(fr, pts, n);
+    if (!(fr->sort_hold && fr->sort_pts == pts && fr->sort_n == n)) {
+        sort_points(fr, pts, n);
+        fr->sort_pts = fr->sort_hold ? pts : NULL, fr->sort_n = n;
+    }
     out->ndistinct = setpoints(fr, pts, n, o, out);
     size_t npar = bg_model_npar(&o->model);
     if (out->ndistinct < npar) {
@@ -904,8 +918,24 @@ static void copy_params(const bg_model *from, bg_model *to)
                                    NULL);
 }
 
+/* The fits kept by a comparison for its caller ('keep', one per row, or NULL): a row's fit is
+** kept while the row can still be chosen (BIC within 2 of the lowest so far); the others are
+** released as the lowest falls. */
+static void keep_prune(bg_fit *keep, const bg_cmp *out, double best)
+{
+    for (size_t m = 0; keep && m < out->nrows; m++)
+        if (!out->row[m].ok || !(out->row[m].bic <= best + 2.0))
+            bg_fit_release(&keep[m]);
+}
+
 int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
                    bg_cmp *out, bg_error *err)
+{
+    return bgi_fit_compare_keep(fr, pts, n, o, out, NULL, err);
+}
+
+int bgi_fit_compare_keep(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                         bg_cmp *out, bg_fit *keep, bg_error *err)
 {
     static const char *ntc[BG_CMP_MAX] = { "beta", "sh3", "poly:2", "sh4", "poly:4", "poly:5" };
     const char *names[BG_CMP_MAX];
@@ -915,6 +945,7 @@ int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
     int rc = BG_OK;
     double best = INFINITY;
 
+    int held = bgi_sort_hold(fr, 1); /* the candidates fit the same points: sorted once */
     if (ncand == 0)
         memcpy(names, ntc, sizeof ntc), ncand = BG_CMP_MAX;
     memset(out, 0, sizeof *out);
@@ -955,6 +986,11 @@ int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
         row->loo_rms_mk = 1e3 * sqrt(ss / (double)n);
         row->ok = 1;
         best = fmin(best, row->bic);
+        if (keep) { /* this row's fit to the caller: 'f' takes the slot's empty buffers */
+            bg_fit t = keep[m];
+            keep[m] = f, f = t;
+            keep_prune(keep, out, best);
+        }
     }
     for (size_t m = 0; m < out->nrows; m++) {
         const bg_cmp_row *row = &out->row[m];
@@ -984,6 +1020,7 @@ int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
                      nm, c->bic, best, c->loo_rms_mk);
     }
 done:
+    bgi_sort_hold(fr, held);
     bg_fit_release(&f);
     return rc;
 }

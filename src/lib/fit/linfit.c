@@ -22,31 +22,43 @@
 /* Long on purpose: equilibration, the pivoted Householder sweep, the condition estimate, the
 ** back substitution and (R^T R)^-1 share one set of scratch arrays and loop bounds; split into
 ** functions they would need the same eight arguments each and lose the unrolling that makes a
-** 10 x 3 fit cost about a microsecond (DEVELOPERS.md, "the least-squares core is our own"). */
+** 10 x 3 fit cost about a microsecond (DEVELOPERS.md, "the least-squares core is our own").
+** The passes over the rows are fused: each sum of the sweep (the column norms, the products
+** of the reflector with every remaining column and with b, the norms of the columns below the
+** next row) has its own accumulator, added in the order of the rows as a loop of its own would
+** add it, so the result is the same to the last bit; fused, the sums run side by side instead
+** of each waiting on its own additions, and a 1,000,000-point design is read a few times per
+** solve instead of a dozen.  A pivot exchanges the columns' pointers, not their elements. */
 BG_INLINE int qr_core(double *A, double *b, size_t n, size_t p, double min_rcond,
                       double *colscale, double *work, bg_linfit *out)
 {
     size_t perm[BG_LIN_MAXP];
     double R[BG_LIN_MAXP * BG_LIN_MAXP], Ri[BG_LIN_MAXP * BG_LIN_MAXP], z[BG_LIN_MAXP];
+    double *col[BG_LIN_MAXP], nrm[BG_LIN_MAXP], d[BG_LIN_MAXP + 1], inv[BG_LIN_MAXP];
 
     /* 'A' is column-major: column j is A[j*n .. j*n+n-1]. */
     if (p == 0 || n < p)
         return BG_ENUM;
     out->n = n, out->p = p, out->rank = 0, out->rcond = 0.0;
+    for (size_t j = 0; j < p; j++)
+        col[j] = A + j * n, d[j] = 0.0, nrm[j] = 0.0;
+    for (size_t i = 0; i < n; i++)
+        for (size_t j = 0; j < p; j++)
+            d[j] += col[j][i] * col[j][i];
     for (size_t j = 0; j < p; j++) {
-        double *col = A + j * n, s = 0.0;
-        for (size_t i = 0; i < n; i++)
-            s += col[i] * col[i];
-        s = sqrt(s);
+        double s = sqrt(d[j]);
         if (!(s > 0.0) || !isfinite(s))
             return BG_ENUM;
         colscale[j] = s;
-        double inv = 1.0 / s;
-        for (size_t i = 0; i < n; i++)
-            col[i] *= inv;
+        inv[j] = 1.0 / s;
         perm[j] = j;
         work[j] = 1.0; /* squared norm of the remaining part of column j */
     }
+    for (size_t i = 0; i < n; i++) /* equilibrate; nrm[j]: the norm^2 of the rows from 0 */
+        for (size_t j = 0; j < p; j++) {
+            col[j][i] *= inv[j];
+            nrm[j] += col[j][i] * col[j][i];
+        }
     for (size_t k = 0; k < p; k++) {
         /* Pivot: the remaining column with the largest norm below row k (norms downdated,
         ** and recomputed when cancellation makes the downdate unreliable). */
@@ -59,48 +71,48 @@ BG_INLINE int qr_core(double *A, double *b, size_t n, size_t p, double min_rcond
             perm[k] = perm[best], perm[best] = t;
             double w = work[k];
             work[k] = work[best], work[best] = w;
-            double *ck = A + k * n, *cb = A + best * n;
-            for (size_t i = 0; i < n; i++) {
-                double v = ck[i];
-                ck[i] = cb[i], cb[i] = v;
-            }
+            w = nrm[k], nrm[k] = nrm[best], nrm[best] = w;
+            double *c = col[k];
+            col[k] = col[best], col[best] = c;
         }
-        double *v = A + k * n, norm2 = 0.0;
-        for (size_t i = k; i < n; i++)
-            norm2 += v[i] * v[i];
-        double norm = sqrt(norm2);
+        double *v = col[k], norm = sqrt(nrm[k]); /* nrm[k]: rows k .. n-1 of column k */
         if (!(norm > 0.0))
             return BG_ENUM;
         double alpha = v[k] > 0.0 ? -norm : norm;
         /* v = x - alpha e1 in place; v^T v = 2 norm (norm + |x_k|) */
         v[k] -= alpha;
         double vtv = 2.0 * norm * (norm + fabs(v[k] + alpha));
-        for (size_t j = k + 1; j < p; j++) {
-            double *c = A + j * n, d = 0.0;
-            for (size_t i = k; i < n; i++)
-                d += v[i] * c[i];
-            d = 2.0 * d / vtv;
-            for (size_t i = k; i < n; i++)
-                c[i] -= d * v[i];
-            work[j] -= c[k] * c[k];
-            if (work[j] < 1e-4) { /* recompute after heavy cancellation */
-                double s2 = 0.0;
-                for (size_t i = k + 1; i < n; i++)
-                    s2 += c[i] * c[i];
-                work[j] = s2;
-            }
+        for (size_t j = k + 1; j <= p; j++)
+            d[j] = 0.0;
+        for (size_t i = k; i < n; i++) { /* d[j]: v . column j;  d[p]: v . b */
+            for (size_t j = k + 1; j < p; j++)
+                d[j] += v[i] * col[j][i];
+            d[p] += v[i] * b[i];
         }
-        double d = 0.0;
-        for (size_t i = k; i < n; i++)
-            d += v[i] * b[i];
-        d = 2.0 * d / vtv;
-        for (size_t i = k; i < n; i++)
-            b[i] -= d * v[i];
+        for (size_t j = k + 1; j <= p; j++)
+            d[j] = 2.0 * d[j] / vtv;
+        for (size_t j = k + 1; j < p; j++)
+            nrm[j] = 0.0;
+        for (size_t j = k + 1; j < p; j++)
+            col[j][k] -= d[j] * v[k];
+        b[k] -= d[p] * v[k];
+        for (size_t i = k + 1; i < n; i++) { /* the reflection, and the norms below row k */
+            for (size_t j = k + 1; j < p; j++) {
+                col[j][i] -= d[j] * v[i];
+                nrm[j] += col[j][i] * col[j][i];
+            }
+            b[i] -= d[p] * v[i];
+        }
+        for (size_t j = k + 1; j < p; j++) {
+            work[j] -= col[j][k] * col[j][k];
+            if (work[j] < 1e-4) /* recompute after heavy cancellation */
+                work[j] = nrm[j];
+        }
         v[k] = alpha;
     }
     for (size_t i = 0; i < p; i++)
         for (size_t j = 0; j < p; j++)
-            R[i * p + j] = j >= i ? A[j * n + i] : 0.0;
+            R[i * p + j] = j >= i ? col[j][i] : 0.0;
     out->rcond = fabs(R[(p - 1) * p + (p - 1)]) / fabs(R[0]);
     for (size_t k = 0; k < p; k++)
         if (R[k * p + k] != 0.0 && fabs(R[k * p + k]) >= 1e-15 * fabs(R[0]))
