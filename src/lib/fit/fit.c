@@ -382,8 +382,15 @@ static int linear_step(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb,
     return bgi_lin_qr(fr->A, fr->b, n, nb, min_rcond, scale, work, lf);
 }
 
-/* Weighted sum of squared temperature residuals at 'c'; +inf if the model leaves 1/T > 0. */
-static double t_chi2(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, const double *c)
+#if defined(__GNUC__)
+#define BG_INLINE static inline __attribute__((always_inline))
+#else
+#define BG_INLINE static inline
+#endif
+
+/* t_chi2 for 'nb' columns, inlined with 'nb' a constant so that the loop over it unrolls. */
+BG_INLINE double t_chi2_nb(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb,
+                           const double *c)
 {
     double s = 0.0;
     for (size_t i = 0; i < n; i++) {
@@ -400,8 +407,20 @@ static double t_chi2(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, co
     return s;
 }
 
-/* Build the weighted Jacobian of T_model into A and -r into b at 'c' (tm[] must be current). */
-static void jacobian(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb)
+/* Weighted sum of squared temperature residuals at 'c'; +inf if the model leaves 1/T > 0. */
+static double t_chi2(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, const double *c)
+{
+    switch (nb) {
+    case 2: return t_chi2_nb(fr, pts, n, 2, c);
+    case 3: return t_chi2_nb(fr, pts, n, 3, c);
+    case 4: return t_chi2_nb(fr, pts, n, 4, c);
+    case 5: return t_chi2_nb(fr, pts, n, 5, c);
+    case 6: return t_chi2_nb(fr, pts, n, 6, c);
+    default: return t_chi2_nb(fr, pts, n, nb, c);
+    }
+}
+
+BG_INLINE void jacobian_nb(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb)
 {
     for (size_t i = 0; i < n; i++) {
         double t2 = fr->tm[i] * fr->tm[i] / fr->u[i];
@@ -409,6 +428,19 @@ static void jacobian(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb)
         for (size_t j = 0; j < nb; j++)
             fr->A[j * n + i] = -t2 * g[j];
         fr->b[i] = -(fr->tm[i] - pts[i].t_k) / fr->u[i];
+    }
+}
+
+/* Build the weighted Jacobian of T_model into A and -r into b at 'c' (tm[] must be current). */
+static void jacobian(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb)
+{
+    switch (nb) { /* the column count as a constant, so that the loop over it unrolls */
+    case 2: jacobian_nb(fr, pts, n, 2); break;
+    case 3: jacobian_nb(fr, pts, n, 3); break;
+    case 4: jacobian_nb(fr, pts, n, 4); break;
+    case 5: jacobian_nb(fr, pts, n, 5); break;
+    case 6: jacobian_nb(fr, pts, n, 6); break;
+    default: jacobian_nb(fr, pts, n, nb);
     }
 }
 
@@ -470,7 +502,7 @@ static int refine(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, const
 
 /* The leverage w^2 g^T C g of a basis row 'g' with row weight 'w' (the diagonal element of
 ** the hat matrix A (A^T A)^-1 A^T, A the row-weighted design or Jacobian, C = (A^T A)^-1). */
-static double hat(const double *cov, const double *g, size_t nb, double w)
+BG_INLINE double hat_nb(const double *cov, const double *g, size_t nb, double w)
 {
     double h = 0.0;
     for (size_t j = 0; j < nb; j++) {
@@ -480,6 +512,16 @@ static double hat(const double *cov, const double *g, size_t nb, double w)
         h += g[j] * row;
     }
     return h * (w * w);
+}
+
+static double hat(const double *cov, const double *g, size_t nb, double w)
+{
+    switch (nb) { /* the column count as a constant, so that the loops over it unroll */
+    case 2: return hat_nb(cov, g, 2, w);
+    case 3: return hat_nb(cov, g, 3, w);
+    case 4: return hat_nb(cov, g, 4, w);
+    default: return hat_nb(cov, g, nb, w);
+    }
 }
 
 /* Leverages for the leave-one-out residuals of bg_fit_compare: of the linear fit in 1/T
