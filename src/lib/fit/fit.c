@@ -247,10 +247,10 @@ int bgi_sort_hold(bg_fitter *fr, int on)
 {
     int was = fr->sort_hold;
     if (on && !was)
-        fr->sort_pts = NULL;
+        fr->sort_pts = NULL, fr->checked.pts = NULL;
     fr->sort_hold = on;
     if (!on)
-        fr->sort_pts = NULL;
+        fr->sort_pts = NULL, fr->checked.pts = NULL;
     return was;
 }
 
@@ -279,6 +279,21 @@ static size_t setpoints(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
             nd++, start = j;
     }
     return nd;
+}
+
+/* Readings at as many distinct temperatures as the model has coefficients. */
+static int enough_setpoints(const bg_fit_opts *o, size_t n, size_t nd, bg_error *err)
+{
+    size_t npar = bg_model_npar(&o->model);
+    char name[16];
+    if (nd >= npar)
+        return BG_OK;
+    return bg_error_set(err, BG_EINVAL, "%s: %zu readings at %zu distinct temperature%s "
+                        "(readings within %g K count as one): model '%s' has %zu "
+                        "coefficients and needs readings at %zu distinct temperatures at "
+                        "least", o->source ? o->source : "points", n, nd, nd == 1 ? "" : "s",
+                        o->setpoint_gap_k, bg_model_name(&o->model, name, sizeof name), npar,
+                        npar);
 }
 
 /* Guard rails on the data: values, distinct temperatures and the NTC direction. */
@@ -319,16 +334,9 @@ static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
         fr->sort_pts = fr->sort_hold ? pts : NULL, fr->sort_n = n;
     }
     out->ndistinct = setpoints(fr, pts, n, o, out);
-    size_t npar = bg_model_npar(&o->model);
-    if (out->ndistinct < npar) {
-        char name[16];
-        return bg_error_set(err, BG_EINVAL, "%s: %zu readings at %zu distinct temperature%s "
-                            "(readings within %g K count as one): model '%s' has %zu "
-                            "coefficients and needs readings at %zu distinct temperatures at "
-                            "least", o->source ? o->source : "points", n, out->ndistinct,
-                            out->ndistinct == 1 ? "" : "s", o->setpoint_gap_k,
-                            bg_model_name(&o->model, name, sizeof name), npar, npar);
-    }
+    int rc = enough_setpoints(o, n, out->ndistinct, err);
+    if (rc != BG_OK)
+        return rc;
     /* An NTC's resistance falls as it warms (a PTC's, a platinum thermometer's rises; each
     ** kind states its direction): each point is compared with the nearest point that is
     ** colder by more than 'mono_gap_k' (closer pairs may cross within noise). */
@@ -493,7 +501,8 @@ static int refine(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, const
         prev_dmax = dmax;
         if (!taken || lambda * dmax <= o->xtol * cmax || stalled) {
             memcpy(lf->c, c, nb * sizeof c[0]);
-            t_chi2(fr, pts, n, nb, c); /* leave tm[] at the solution */
+            if (!taken) /* a step taken left tm[] at the solution already */
+                t_chi2(fr, pts, n, nb, c); /* leave tm[] at the solution */
             return BG_OK;
         }
     }
@@ -543,14 +552,18 @@ static void leverages(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, i
 ** internally studentized form, which cannot exceed sqrt(dof), this one can flag a blunder
 ** in a small calibration.  The scale s_(i) never counts as smaller than the rounding of the
 ** readings, resolution / sqrt(12) (JCGM 100:2008, F.2.2.1): otherwise the residuals of
-** noise-free readings, rounding noise of the arithmetic, would be studentized by themselves. */
+** noise-free readings, rounding noise of the arithmetic, would be studentized by themselves.
+** With 'lev', the leverages go there too (they are those of the refined fit's Jacobian that
+** 'leverages' would compute). */
 static void studentize(bg_fitter *fr, const bg_point *pts, const bg_fit_opts *o,
-                       const bg_linfit *lf, size_t nb, bg_fit *out)
+                       const bg_linfit *lf, size_t nb, bg_fit *out, double *lev)
 {
     char w1[300];
     double floor_k = o->resolution_k / sqrt(12.0);
     for (size_t i = 0; i < out->n; i++) {
         double h = hat(lf->cov, &fr->G[i * nb], nb, fr->tm[i] * fr->tm[i] / fr->u[i]);
+        if (lev)
+            lev[i] = h;
         double r = (pts[i].t_k - fr->tm[i]) / fr->u[i], s2 = NAN, fl = floor_k / fr->u[i];
         if (out->dof > 1 && 1.0 - h > 1e-10)
             s2 = fmax((out->chi2 - r * r / (1.0 - h)) / (double)(out->dof - 1), fl * fl);
@@ -747,6 +760,29 @@ static void fit_coefficients(const bg_linfit *lf, const unsigned *pw, size_t nb,
         out->model.coef[j] = 0.0;
 }
 
+/* check_points, or, while the sort is held (bgi_sort_hold), its verdict on the same points
+** with the same direction, quantity and gaps when that check passed without a remark. */
+static int check_points_held(bg_fitter *fr, const bg_point *pts, size_t n,
+                             const bg_fit_opts *o, int *weighted, bg_fit *out, bg_error *err)
+{
+    struct bgi_checked k = { pts, n, bg_model_direction(&o->model),
+                             (int)bg_model_quantity(&o->model), o->setpoint_gap_k,
+                             o->mono_gap_k, 0, 0 };
+    struct bgi_checked *c = &fr->checked;
+    if (fr->sort_hold && fr->sort_pts == pts && c->pts == pts && c->n == n && c->dir == k.dir &&
+        c->qty == k.qty && c->gap == k.gap && c->mono == k.mono) {
+        *weighted = c->weighted, out->ndistinct = c->nd;
+        return enough_setpoints(o, n, c->nd, err);
+    }
+    c->pts = NULL;
+    int rc = check_points(fr, pts, n, o, weighted, out, err);
+    if (rc == BG_OK && fr->sort_hold && out->nnotes == 0) {
+        k.weighted = *weighted, k.nd = out->ndistinct;
+        *c = k;
+    }
+    return rc;
+}
+
 int bgi_fit_check(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
                   int *weighted, bg_fit *out, bg_error *err)
 {
@@ -764,7 +800,7 @@ int bgi_fit_check(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
     if (fitter_reserve(fr, n) != BG_OK || fit_reserve(out, n) != BG_OK)
         return bg_error_set(err, BG_ENOMEM, "out of memory fitting %zu points", n);
     out->nnotes = 0;
-    return check_points(fr, pts, n, o, weighted, out, err);
+    return check_points_held(fr, pts, n, o, weighted, out, err);
 }
 
 int bgi_fit_finish(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
@@ -784,8 +820,11 @@ int bgi_fit_finish(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
     out->iterations = sol->iters, out->rcond = lf->rcond;
     fit_statistics(fr, pts, n, o, weighted, out);
     fit_coefficients(lf, pw, nb, a, out);
-    studentize(fr, pts, o, lf, nb, out);
-    if (sol->with_leverages)
+    int lev_here = sol->with_leverages && o->refine; /* the same leverages: kept once */
+    studentize(fr, pts, o, lf, nb, out, lev_here ? fr->lev : NULL);
+    if (lev_here)
+        fr->lev_one_step = 1;
+    else if (sol->with_leverages)
         leverages(fr, pts, n, nb, o->refine != 0, lf);
     if (out->dof == 0) {
         for (size_t i = 0; i < MAXB * MAXB; i++)

@@ -35,6 +35,15 @@ struct bg_fitter {
     int sort_hold;
     const bg_point *sort_pts;
     size_t sort_n;
+    /* and the guard rails' verdict on them (fit.c's check_points_held) */
+    struct bgi_checked {
+        const bg_point *pts;
+        size_t n;
+        int dir, qty;
+        double gap, mono;
+        int weighted;
+        size_t nd;
+    } checked;
 };
 
 /* Hold (on = 1) or drop (0) the sorted order of the points across the fits that follow, for
