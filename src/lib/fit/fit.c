@@ -73,7 +73,7 @@ void bg_fitter_free(bg_fitter *fr)
     if (!fr)
         return;
     free(fr->L), free(fr->u), free(fr->A), free(fr->b), free(fr->tm), free(fr->G);
-    free(fr->sorted), free(fr->lev), free(fr->batch);
+    free(fr->sorted), free(fr->lev), free(fr->batch), free(fr->tk), free(fr->rr);
     free(fr);
 }
 
@@ -98,7 +98,11 @@ static int fitter_reserve(bg_fitter *fr, size_t n)
     if (s) fr->sorted = s;
     double *lev = realloc(fr->lev, cap * sizeof *lev);
     if (lev) fr->lev = lev;
-    if (!L || !u || !A || !b || !tm || !G || !s || !lev)
+    double *tk = realloc(fr->tk, cap * sizeof *tk);
+    if (tk) fr->tk = tk;
+    double *rr = realloc(fr->rr, cap * sizeof *rr);
+    if (rr) fr->rr = rr;
+    if (!L || !u || !A || !b || !tm || !G || !s || !lev || !tk || !rr)
         return BG_ENOMEM;
     fr->cap = cap;
     return BG_OK;
@@ -396,22 +400,30 @@ static int linear_step(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb,
 #define BG_INLINE static inline
 #endif
 
-/* t_chi2 for 'nb' columns, inlined with 'nb' a constant so that the loop over it unrolls. */
+/* t_chi2 for 'nb' columns, inlined with 'nb' a constant so that the loop over it unrolls.
+** First the fitted temperatures and the squared weighted residuals of every point (a loop the
+** compiler may vectorise), then their sum in the points' order; a point with 1/T <= 0 makes
+** the sum +inf (the temperatures are then not used). */
 BG_INLINE double t_chi2_nb(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb,
                            const double *c)
 {
-    double s = 0.0;
+    const double *restrict G = fr->G, *restrict u = fr->u, *restrict tk = fr->tk;
+    double *restrict tm = fr->tm, *restrict rr = fr->rr, s = 0.0;
+    int bad = 0;
+    (void)pts;
     for (size_t i = 0; i < n; i++) {
         double f = 0.0;
-        const double *g = &fr->G[i * nb];
         for (size_t j = 0; j < nb; j++)
-            f += c[j] * g[j];
-        if (!(f > 0.0))
-            return INFINITY;
-        fr->tm[i] = 1.0 / f;
-        double r = (fr->tm[i] - pts[i].t_k) / fr->u[i];
-        s += r * r;
+            f += c[j] * G[i * nb + j];
+        bad |= !(f > 0.0);
+        tm[i] = 1.0 / f;
+        double r = (tm[i] - tk[i]) / u[i];
+        rr[i] = r * r;
     }
+    if (bad)
+        return INFINITY;
+    for (size_t i = 0; i < n; i++)
+        s += rr[i];
     return s;
 }
 
@@ -430,12 +442,15 @@ static double t_chi2(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, co
 
 BG_INLINE void jacobian_nb(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb)
 {
+    const double *restrict G = fr->G, *restrict u = fr->u, *restrict tk = fr->tk;
+    const double *restrict tm = fr->tm;
+    double *restrict A = fr->A, *restrict b = fr->b;
+    (void)pts;
     for (size_t i = 0; i < n; i++) {
-        double t2 = fr->tm[i] * fr->tm[i] / fr->u[i];
-        const double *g = &fr->G[i * nb];
+        double t2 = tm[i] * tm[i] / u[i];
         for (size_t j = 0; j < nb; j++)
-            fr->A[j * n + i] = -t2 * g[j];
-        fr->b[i] = -(fr->tm[i] - pts[i].t_k) / fr->u[i];
+            A[j * n + i] = -t2 * G[i * nb + j];
+        b[i] = -(tm[i] - tk[i]) / u[i];
     }
 }
 
@@ -665,6 +680,7 @@ static int fit_start(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_
     bg_model_name(&o->model, name, sizeof name);
     for (size_t i = 0; i < n; i++) {
         fr->L[i] = log(pts[i].r_ohm);
+        fr->tk[i] = pts[i].t_k;
         basis_row(fr->L[i], pw, nb, &fr->G[i * nb]);
         if (pts[i].u_r_ohm > 0.0)
             any_ur = 1;

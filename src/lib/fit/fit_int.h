@@ -26,6 +26,7 @@ struct bg_fitter {
     double *G;          /* basis rows L_i^k, n x nb, computed once per fit */
     struct tsort { double t, r; size_t i; } *sorted;
     double *lev;        /* leverages h_i of the last fit, for the leave-one-out residuals */
+    double *tk, *rr;    /* the points' temperatures (set with L); scratch of t_chi2 */
     int lev_one_step;   /* 1: lev[] from the Gauss-Newton Jacobian (refined fit); 0: linear */
     double *batch;      /* the batch's lanes (fit_batch.c), 'batch_cap' doubles */
     size_t batch_cap;
