@@ -1206,11 +1206,76 @@ static void sorted_or_not_same_fit(void **state)
     bg_fit_release(&fb);
 }
 
+/* 'auto' compares the models on one fitter that sorts and checks the points once and takes
+** the chosen model's fit from the comparison: every number must equal, to the last bit, a
+** fresh fitter's fit of that model and a fresh fitter's comparison (invented readings, out of
+** order; once with a repeated reading, whose note the shared check must not lose). */
+static void held_comparison_matches_fresh_fits(void **state)
+{
+    (void)state;
+    enum { N = 200 };
+    static bg_point pts[N];
+    for (int rep = 0; rep < 2; rep++) {
+        for (size_t i = 0; i < N; i++) {
+            size_t k = (i * 77) % N; /* 77 and 200 coprime: a permutation */
+            double L = log(100000.0) - 4.6 * (double)k / N;
+            memset(&pts[i], 0, sizeof pts[i]);
+            pts[i].r_ohm = exp(L);
+            pts[i].t_k = 1.0 / (1.1384e-3 + 2.3245e-4 * L + 9.4871e-8 * L * L * L) +
+                         2e-3 * (double)((k * 13) % 7) / 7.0;
+            pts[i].u_t_k = 0.002;
+            pts[i].line = i + 3;
+        }
+        if (rep)
+            pts[50] = pts[49], pts[50].line = 53;
+        bg_calib_request rq = bg_calib_default_request();
+        bg_calib_result res;
+        bg_calib_result_init(&res);
+        assert_int_equal(bg_calibrate(pts, N, "held.csv", &rq, &res, NULL), BG_OK);
+        assert_true(res.auto_chosen);
+        bg_fitter *fr = bg_fitter_new();
+        bg_cmp cmp;
+        bg_fit_opts o = bg_fit_default_opts(&res.fit.model);
+        o.source = "held.csv";
+        assert_int_equal(bg_fit_compare(fr, pts, N, &o, &cmp, NULL), BG_OK);
+        assert_int_equal(cmp.chosen, res.cmp.chosen);
+        for (size_t m = 0; m < cmp.nrows; m++) {
+            assert_int_equal(cmp.row[m].ok, res.cmp.row[m].ok);
+            assert_true(!cmp.row[m].ok || (cmp.row[m].bic == res.cmp.row[m].bic &&
+                                           cmp.row[m].loo_rms_mk == res.cmp.row[m].loo_rms_mk));
+        }
+        bg_fit f = BG_FIT_INIT;
+        bg_fitter *fresh = bg_fitter_new();
+        o.model = res.cmp.row[res.cmp.chosen].model;
+        assert_int_equal(bg_fitter_run(fresh, pts, N, &o, &f, NULL), BG_OK);
+        assert_int_equal(f.nnotes, res.fit.nnotes);
+        size_t nrep = 0;
+        for (size_t i = 0; i < res.fit.nnotes; i++)
+            nrep += res.fit.notes[i].kind == BG_NOTE_REPEATED;
+        assert_int_equal(nrep, rep); /* the repeated reading's note */
+        for (size_t i = 0; i < f.nnotes; i++)
+            assert_string_equal(f.notes[i].msg, res.fit.notes[i].msg);
+        assert_true(f.chi2 == res.fit.chi2 && f.iterations == res.fit.iterations);
+        for (size_t k = 0; k < f.npar; k++)
+            assert_true(f.model.coef[k] == res.fit.model.coef[k]);
+        for (size_t k = 0; k < f.npar * f.npar; k++)
+            assert_true(f.cov[k] == res.fit.cov[k]);
+        for (size_t i = 0; i < N; i++)
+            assert_true(f.student[i] == res.fit.student[i] &&
+                        f.resid_mk[i] == res.fit.resid_mk[i]);
+        bg_fit_release(&f);
+        bg_fitter_free(fresh);
+        bg_fitter_free(fr);
+        bg_calib_result_release(&res);
+    }
+}
+
 int main(void)
 {
     gsl_set_error_handler(test_gsl_handler);
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(sorted_or_not_same_fit),
+        cmocka_unit_test(held_comparison_matches_fresh_fits),
         cmocka_unit_test(nist_pontius),
         cmocka_unit_test(nist_filip),
         cmocka_unit_test(gum_h3_thermometer),

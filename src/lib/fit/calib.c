@@ -9,6 +9,7 @@
 
 #include "bandgap/calib.h"
 #include "bandgap/csv.h"
+#include "fit_int.h"
 
 /* Tolerance, in kelvin, of the calibrated-range test (as bg_curve's). */
 #define RANGE_TOL_K 1e-9
@@ -182,6 +183,15 @@ static int too_few(size_t n, const char *source, int is_auto, const bg_fit_opts 
                         bg_model_name(&o->model, name, sizeof name), npar, hint);
 }
 
+/* The end of fit_model: the sort released, the kept fits too; returns 'rc'. */
+static int fit_model_done(bg_fitter *fr, int held, bg_fit *keep, int rc)
+{
+    bgi_sort_hold(fr, held);
+    for (size_t m = 0; m < BG_CMP_MAX; m++)
+        bg_fit_release(&keep[m]);
+    return rc;
+}
+
 /* Compare the models (always for "auto", else when 'compare'), then fit the requested or the
 ** chosen one into 'out->fit'.  A comparison that fails on data (BG_EINVAL) with a named model
 ** only leaves 'cmp_why'. */
@@ -190,25 +200,40 @@ static int fit_model(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_
 {
     bg_fit_opts o = *base;
     bg_error cerr = BG_ERROR_INIT;
+    bg_fit keep[BG_CMP_MAX];
 
+    for (size_t m = 0; m < BG_CMP_MAX; m++)
+        bg_fit_init(&keep[m]);
     out->compared = 0, out->auto_chosen = 0, out->cmp_why[0] = '\0';
+    int held = bgi_sort_hold(fr, 1); /* the comparison and the fit sort the points once */
     if (is_auto || compare) {
-        int rc = bg_fit_compare(fr, pts, n, &o, &out->cmp, &cerr);
+        int rc = bgi_fit_compare_keep(fr, pts, n, &o, &out->cmp, is_auto ? keep : NULL, &cerr);
         out->compared = rc == BG_OK;
         memcpy(out->cmp_why, cerr.msg, sizeof out->cmp_why);
         if (rc != BG_OK && (is_auto || cerr.code != BG_EINVAL)) {
             if (err)
                 *err = cerr;
-            return rc;
+            return fit_model_done(fr, held, keep, rc);
         }
     }
     if (is_auto) {
         if (out->cmp.chosen < 0)
-            return bg_error_set(err, BG_EINTERNAL, "model comparison chose no model");
+            return fit_model_done(fr, held, keep, bg_error_set(err, BG_EINTERNAL,
+                                                               "model comparison chose no model"));
         o.model = out->cmp.row[out->cmp.chosen].model;
         out->auto_chosen = 1;
+        /* The comparison fitted the chosen model with these very options and points: a kind
+        ** with a linear basis starts from the points alone (not from the model's coefficients),
+        ** so fitting it again would give this same result; it is taken as it is. */
+        bg_fit *k = &keep[out->cmp.chosen];
+        unsigned pw[BG_MODEL_MAXPAR];
+        if (k->n == n && bg_model_basis(&o.model, pw) > 0) {
+            bg_fit t = out->fit;
+            out->fit = *k, *k = t;
+            return fit_model_done(fr, held, keep, BG_OK);
+        }
     }
-    return bg_fitter_run(fr, pts, n, &o, &out->fit, err);
+    return fit_model_done(fr, held, keep, bg_fitter_run(fr, pts, n, &o, &out->fit, err));
 }
 
 /* The request's coverage rule. */

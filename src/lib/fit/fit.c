@@ -73,7 +73,7 @@ void bg_fitter_free(bg_fitter *fr)
     if (!fr)
         return;
     free(fr->L), free(fr->u), free(fr->A), free(fr->b), free(fr->tm), free(fr->G);
-    free(fr->sorted), free(fr->lev), free(fr->batch);
+    free(fr->sorted), free(fr->lev), free(fr->batch), free(fr->tk), free(fr->rr);
     free(fr);
 }
 
@@ -98,7 +98,11 @@ static int fitter_reserve(bg_fitter *fr, size_t n)
     if (s) fr->sorted = s;
     double *lev = realloc(fr->lev, cap * sizeof *lev);
     if (lev) fr->lev = lev;
-    if (!L || !u || !A || !b || !tm || !G || !s || !lev)
+    double *tk = realloc(fr->tk, cap * sizeof *tk);
+    if (tk) fr->tk = tk;
+    double *rr = realloc(fr->rr, cap * sizeof *rr);
+    if (rr) fr->rr = rr;
+    if (!L || !u || !A || !b || !tm || !G || !s || !lev || !tk || !rr)
         return BG_ENOMEM;
     fr->cap = cap;
     return BG_OK;
@@ -243,6 +247,17 @@ static void sort_points(bg_fitter *fr, const bg_point *pts, size_t n)
         qsort(fr->sorted, n, sizeof fr->sorted[0], cmp_t);
 }
 
+int bgi_sort_hold(bg_fitter *fr, int on)
+{
+    int was = fr->sort_hold;
+    if (on && !was)
+        fr->sort_pts = NULL, fr->checked.pts = NULL;
+    fr->sort_hold = on;
+    if (!on)
+        fr->sort_pts = NULL, fr->checked.pts = NULL;
+    return was;
+}
+
 /* On the sorted points: a note for each reading identical (same T and R) to an earlier one,
 ** and the number of distinct temperatures, a new one starting more than 'setpoint_gap_k' above
 ** the first reading of the last. */
@@ -268,6 +283,21 @@ static size_t setpoints(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
             nd++, start = j;
     }
     return nd;
+}
+
+/* Readings at as many distinct temperatures as the model has coefficients. */
+static int enough_setpoints(const bg_fit_opts *o, size_t n, size_t nd, bg_error *err)
+{
+    size_t npar = bg_model_npar(&o->model);
+    char name[16];
+    if (nd >= npar)
+        return BG_OK;
+    return bg_error_set(err, BG_EINVAL, "%s: %zu readings at %zu distinct temperature%s "
+                        "(readings within %g K count as one): model '%s' has %zu "
+                        "coefficients and needs readings at %zu distinct temperatures at "
+                        "least", o->source ? o->source : "points", n, nd, nd == 1 ? "" : "s",
+                        o->setpoint_gap_k, bg_model_name(&o->model, name, sizeof name), npar,
+                        npar);
 }
 
 /* Guard rails on the data: values, distinct temperatures and the NTC direction. */
@@ -303,18 +333,14 @@ static int check_points(bg_fitter *fr, const bg_point *pts, size_t n, const bg_f
                                     "have one", where(o, &pts[i], i, w1, sizeof w1));
     *weighted = any_u;
 
-    sort_points(fr, pts, n);
-    out->ndistinct = setpoints(fr, pts, n, o, out);
-    size_t npar = bg_model_npar(&o->model);
-    if (out->ndistinct < npar) {
-        char name[16];
-        return bg_error_set(err, BG_EINVAL, "%s: %zu readings at %zu distinct temperature%s "
-                            "(readings within %g K count as one): model '%s' has %zu "
-                            "coefficients and needs readings at %zu distinct temperatures at "
-                            "least", o->source ? o->source : "points", n, out->ndistinct,
-                            out->ndistinct == 1 ? "" : "s", o->setpoint_gap_k,
-                            bg_model_name(&o->model, name, sizeof name), npar, npar);
+    if (!(fr->sort_hold && fr->sort_pts == pts && fr->sort_n == n)) {
+        sort_points(fr, pts, n);
+        fr->sort_pts = fr->sort_hold ? pts : NULL, fr->sort_n = n;
     }
+    out->ndistinct = setpoints(fr, pts, n, o, out);
+    int rc = enough_setpoints(o, n, out->ndistinct, err);
+    if (rc != BG_OK)
+        return rc;
     /* An NTC's resistance falls as it warms (a PTC's, a platinum thermometer's rises; each
     ** kind states its direction): each point is compared with the nearest point that is
     ** colder by more than 'mono_gap_k' (closer pairs may cross within noise). */
@@ -368,33 +394,76 @@ static int linear_step(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb,
     return bgi_lin_qr(fr->A, fr->b, n, nb, min_rcond, scale, work, lf);
 }
 
+#if defined(__GNUC__)
+#define BG_INLINE static inline __attribute__((always_inline))
+#else
+#define BG_INLINE static inline
+#endif
+
+/* t_chi2 for 'nb' columns, inlined with 'nb' a constant so that the loop over it unrolls.
+** First the fitted temperatures and the squared weighted residuals of every point (a loop the
+** compiler may vectorise), then their sum in the points' order; a point with 1/T <= 0 makes
+** the sum +inf (the temperatures are then not used). */
+BG_INLINE double t_chi2_nb(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb,
+                           const double *c)
+{
+    const double *restrict G = fr->G, *restrict u = fr->u, *restrict tk = fr->tk;
+    double *restrict tm = fr->tm, *restrict rr = fr->rr, s = 0.0;
+    int bad = 0;
+    (void)pts;
+    for (size_t i = 0; i < n; i++) {
+        double f = 0.0;
+        for (size_t j = 0; j < nb; j++)
+            f += c[j] * G[i * nb + j];
+        bad |= !(f > 0.0);
+        tm[i] = 1.0 / f;
+        double r = (tm[i] - tk[i]) / u[i];
+        rr[i] = r * r;
+    }
+    if (bad)
+        return INFINITY;
+    for (size_t i = 0; i < n; i++)
+        s += rr[i];
+    return s;
+}
+
 /* Weighted sum of squared temperature residuals at 'c'; +inf if the model leaves 1/T > 0. */
 static double t_chi2(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, const double *c)
 {
-    double s = 0.0;
-    for (size_t i = 0; i < n; i++) {
-        double f = 0.0;
-        const double *g = &fr->G[i * nb];
-        for (size_t j = 0; j < nb; j++)
-            f += c[j] * g[j];
-        if (!(f > 0.0))
-            return INFINITY;
-        fr->tm[i] = 1.0 / f;
-        double r = (fr->tm[i] - pts[i].t_k) / fr->u[i];
-        s += r * r;
+    switch (nb) {
+    case 2: return t_chi2_nb(fr, pts, n, 2, c);
+    case 3: return t_chi2_nb(fr, pts, n, 3, c);
+    case 4: return t_chi2_nb(fr, pts, n, 4, c);
+    case 5: return t_chi2_nb(fr, pts, n, 5, c);
+    case 6: return t_chi2_nb(fr, pts, n, 6, c);
+    default: return t_chi2_nb(fr, pts, n, nb, c);
     }
-    return s;
+}
+
+BG_INLINE void jacobian_nb(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb)
+{
+    const double *restrict G = fr->G, *restrict u = fr->u, *restrict tk = fr->tk;
+    const double *restrict tm = fr->tm;
+    double *restrict A = fr->A, *restrict b = fr->b;
+    (void)pts;
+    for (size_t i = 0; i < n; i++) {
+        double t2 = tm[i] * tm[i] / u[i];
+        for (size_t j = 0; j < nb; j++)
+            A[j * n + i] = -t2 * G[i * nb + j];
+        b[i] = -(tm[i] - tk[i]) / u[i];
+    }
 }
 
 /* Build the weighted Jacobian of T_model into A and -r into b at 'c' (tm[] must be current). */
 static void jacobian(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb)
 {
-    for (size_t i = 0; i < n; i++) {
-        double t2 = fr->tm[i] * fr->tm[i] / fr->u[i];
-        const double *g = &fr->G[i * nb];
-        for (size_t j = 0; j < nb; j++)
-            fr->A[j * n + i] = -t2 * g[j];
-        fr->b[i] = -(fr->tm[i] - pts[i].t_k) / fr->u[i];
+    switch (nb) { /* the column count as a constant, so that the loop over it unrolls */
+    case 2: jacobian_nb(fr, pts, n, 2); break;
+    case 3: jacobian_nb(fr, pts, n, 3); break;
+    case 4: jacobian_nb(fr, pts, n, 4); break;
+    case 5: jacobian_nb(fr, pts, n, 5); break;
+    case 6: jacobian_nb(fr, pts, n, 6); break;
+    default: jacobian_nb(fr, pts, n, nb);
     }
 }
 
@@ -447,7 +516,8 @@ static int refine(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, const
         prev_dmax = dmax;
         if (!taken || lambda * dmax <= o->xtol * cmax || stalled) {
             memcpy(lf->c, c, nb * sizeof c[0]);
-            t_chi2(fr, pts, n, nb, c); /* leave tm[] at the solution */
+            if (!taken) /* a step taken left tm[] at the solution already */
+                t_chi2(fr, pts, n, nb, c); /* leave tm[] at the solution */
             return BG_OK;
         }
     }
@@ -456,7 +526,7 @@ static int refine(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, const
 
 /* The leverage w^2 g^T C g of a basis row 'g' with row weight 'w' (the diagonal element of
 ** the hat matrix A (A^T A)^-1 A^T, A the row-weighted design or Jacobian, C = (A^T A)^-1). */
-static double hat(const double *cov, const double *g, size_t nb, double w)
+BG_INLINE double hat_nb(const double *cov, const double *g, size_t nb, double w)
 {
     double h = 0.0;
     for (size_t j = 0; j < nb; j++) {
@@ -466,6 +536,16 @@ static double hat(const double *cov, const double *g, size_t nb, double w)
         h += g[j] * row;
     }
     return h * (w * w);
+}
+
+static double hat(const double *cov, const double *g, size_t nb, double w)
+{
+    switch (nb) { /* the column count as a constant, so that the loops over it unroll */
+    case 2: return hat_nb(cov, g, 2, w);
+    case 3: return hat_nb(cov, g, 3, w);
+    case 4: return hat_nb(cov, g, 4, w);
+    default: return hat_nb(cov, g, nb, w);
+    }
 }
 
 /* Leverages for the leave-one-out residuals of bg_fit_compare: of the linear fit in 1/T
@@ -487,14 +567,18 @@ static void leverages(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, i
 ** internally studentized form, which cannot exceed sqrt(dof), this one can flag a blunder
 ** in a small calibration.  The scale s_(i) never counts as smaller than the rounding of the
 ** readings, resolution / sqrt(12) (JCGM 100:2008, F.2.2.1): otherwise the residuals of
-** noise-free readings, rounding noise of the arithmetic, would be studentized by themselves. */
+** noise-free readings, rounding noise of the arithmetic, would be studentized by themselves.
+** With 'lev', the leverages go there too (they are those of the refined fit's Jacobian that
+** 'leverages' would compute). */
 static void studentize(bg_fitter *fr, const bg_point *pts, const bg_fit_opts *o,
-                       const bg_linfit *lf, size_t nb, bg_fit *out)
+                       const bg_linfit *lf, size_t nb, bg_fit *out, double *lev)
 {
     char w1[300];
     double floor_k = o->resolution_k / sqrt(12.0);
     for (size_t i = 0; i < out->n; i++) {
         double h = hat(lf->cov, &fr->G[i * nb], nb, fr->tm[i] * fr->tm[i] / fr->u[i]);
+        if (lev)
+            lev[i] = h;
         double r = (pts[i].t_k - fr->tm[i]) / fr->u[i], s2 = NAN, fl = floor_k / fr->u[i];
         if (out->dof > 1 && 1.0 - h > 1e-10)
             s2 = fmax((out->chi2 - r * r / (1.0 - h)) / (double)(out->dof - 1), fl * fl);
@@ -596,6 +680,7 @@ static int fit_start(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_
     bg_model_name(&o->model, name, sizeof name);
     for (size_t i = 0; i < n; i++) {
         fr->L[i] = log(pts[i].r_ohm);
+        fr->tk[i] = pts[i].t_k;
         basis_row(fr->L[i], pw, nb, &fr->G[i * nb]);
         if (pts[i].u_r_ohm > 0.0)
             any_ur = 1;
@@ -691,6 +776,29 @@ static void fit_coefficients(const bg_linfit *lf, const unsigned *pw, size_t nb,
         out->model.coef[j] = 0.0;
 }
 
+/* check_points, or, while the sort is held (bgi_sort_hold), its verdict on the same points
+** with the same direction, quantity and gaps when that check passed without a remark. */
+static int check_points_held(bg_fitter *fr, const bg_point *pts, size_t n,
+                             const bg_fit_opts *o, int *weighted, bg_fit *out, bg_error *err)
+{
+    struct bgi_checked k = { pts, n, bg_model_direction(&o->model),
+                             (int)bg_model_quantity(&o->model), o->setpoint_gap_k,
+                             o->mono_gap_k, 0, 0 };
+    struct bgi_checked *c = &fr->checked;
+    if (fr->sort_hold && fr->sort_pts == pts && c->pts == pts && c->n == n && c->dir == k.dir &&
+        c->qty == k.qty && c->gap == k.gap && c->mono == k.mono) {
+        *weighted = c->weighted, out->ndistinct = c->nd;
+        return enough_setpoints(o, n, c->nd, err);
+    }
+    c->pts = NULL;
+    int rc = check_points(fr, pts, n, o, weighted, out, err);
+    if (rc == BG_OK && fr->sort_hold && out->nnotes == 0) {
+        k.weighted = *weighted, k.nd = out->ndistinct;
+        *c = k;
+    }
+    return rc;
+}
+
 int bgi_fit_check(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
                   int *weighted, bg_fit *out, bg_error *err)
 {
@@ -708,7 +816,7 @@ int bgi_fit_check(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opt
     if (fitter_reserve(fr, n) != BG_OK || fit_reserve(out, n) != BG_OK)
         return bg_error_set(err, BG_ENOMEM, "out of memory fitting %zu points", n);
     out->nnotes = 0;
-    return check_points(fr, pts, n, o, weighted, out, err);
+    return check_points_held(fr, pts, n, o, weighted, out, err);
 }
 
 int bgi_fit_finish(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
@@ -728,8 +836,11 @@ int bgi_fit_finish(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
     out->iterations = sol->iters, out->rcond = lf->rcond;
     fit_statistics(fr, pts, n, o, weighted, out);
     fit_coefficients(lf, pw, nb, a, out);
-    studentize(fr, pts, o, lf, nb, out);
-    if (sol->with_leverages)
+    int lev_here = sol->with_leverages && o->refine; /* the same leverages: kept once */
+    studentize(fr, pts, o, lf, nb, out, lev_here ? fr->lev : NULL);
+    if (lev_here)
+        fr->lev_one_step = 1;
+    else if (sol->with_leverages)
         leverages(fr, pts, n, nb, o->refine != 0, lf);
     if (out->dof == 0) {
         for (size_t i = 0; i < MAXB * MAXB; i++)
@@ -904,8 +1015,24 @@ static void copy_params(const bg_model *from, bg_model *to)
                                    NULL);
 }
 
+/* The fits kept by a comparison for its caller ('keep', one per row, or NULL): a row's fit is
+** kept while the row can still be chosen (BIC within 2 of the lowest so far); the others are
+** released as the lowest falls. */
+static void keep_prune(bg_fit *keep, const bg_cmp *out, double best)
+{
+    for (size_t m = 0; keep && m < out->nrows; m++)
+        if (!out->row[m].ok || !(out->row[m].bic <= best + 2.0))
+            bg_fit_release(&keep[m]);
+}
+
 int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
                    bg_cmp *out, bg_error *err)
+{
+    return bgi_fit_compare_keep(fr, pts, n, o, out, NULL, err);
+}
+
+int bgi_fit_compare_keep(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                         bg_cmp *out, bg_fit *keep, bg_error *err)
 {
     static const char *ntc[BG_CMP_MAX] = { "beta", "sh3", "poly:2", "sh4", "poly:4", "poly:5" };
     const char *names[BG_CMP_MAX];
@@ -915,6 +1042,7 @@ int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
     int rc = BG_OK;
     double best = INFINITY;
 
+    int held = bgi_sort_hold(fr, 1); /* the candidates fit the same points: sorted once */
     if (ncand == 0)
         memcpy(names, ntc, sizeof ntc), ncand = BG_CMP_MAX;
     memset(out, 0, sizeof *out);
@@ -955,6 +1083,11 @@ int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
         row->loo_rms_mk = 1e3 * sqrt(ss / (double)n);
         row->ok = 1;
         best = fmin(best, row->bic);
+        if (keep) { /* this row's fit to the caller: 'f' takes the slot's empty buffers */
+            bg_fit t = keep[m];
+            keep[m] = f, f = t;
+            keep_prune(keep, out, best);
+        }
     }
     for (size_t m = 0; m < out->nrows; m++) {
         const bg_cmp_row *row = &out->row[m];
@@ -984,6 +1117,7 @@ int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
                      nm, c->bic, best, c->loo_rms_mk);
     }
 done:
+    bgi_sort_hold(fr, held);
     bg_fit_release(&f);
     return rc;
 }

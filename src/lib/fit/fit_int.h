@@ -26,11 +26,31 @@ struct bg_fitter {
     double *G;          /* basis rows L_i^k, n x nb, computed once per fit */
     struct tsort { double t, r; size_t i; } *sorted;
     double *lev;        /* leverages h_i of the last fit, for the leave-one-out residuals */
+    double *tk, *rr;    /* the points' temperatures (set with L); scratch of t_chi2 */
     int lev_one_step;   /* 1: lev[] from the Gauss-Newton Jacobian (refined fit); 0: linear */
     double *batch;      /* the batch's lanes (fit_batch.c), 'batch_cap' doubles */
     size_t batch_cap;
     int batch_kernel;   /* the batch's kernel: BGI_KERNEL_AUTO (0, by the processor) or one */
+    /* The sort held across fits of the same points (bgi_sort_hold): while 'sort_hold' is set,
+    ** 'sorted' holds the order of 'sort_pts' ('sort_n' points) once a fit has sorted them. */
+    int sort_hold;
+    const bg_point *sort_pts;
+    size_t sort_n;
+    /* and the guard rails' verdict on them (fit.c's check_points_held) */
+    struct bgi_checked {
+        const bg_point *pts;
+        size_t n;
+        int dir, qty;
+        double gap, mono;
+        int weighted;
+        size_t nd;
+    } checked;
 };
+
+/* Hold (on = 1) or drop (0) the sorted order of the points across the fits that follow, for
+** callers that fit the same unchanged points several times (bg_fit_compare, then the chosen
+** model); returns the previous state, for nesting.  Turning it on forgets any held order. */
+int bgi_sort_hold(bg_fitter *fr, int on);
 
 /* The batch's kernels (fit_batch.c): the same code compiled as portable C11 and, where the
 ** compiler can, for AVX2; AUTO takes AVX2 when the processor runs it. */
@@ -57,6 +77,12 @@ struct bgi_solution {
 ** fr->tm (the fitted temperatures) current. */
 int bgi_fit_finish(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
                    const struct bgi_solution *sol, bg_fit *out, bg_error *err);
+
+/* bg_fit_compare, handing the fit of each row that can be chosen to the caller: keep[m] (of
+** BG_CMP_MAX, each BG_FIT_INIT or released; 'keep' may be NULL) holds row m's fit when the row
+** is ok and its BIC within 2 of the lowest, else nothing (released).  The caller releases them. */
+int bgi_fit_compare_keep(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
+                         bg_cmp *out, bg_fit *keep, bg_error *err);
 
 /* The fit of a kind that is not 1/T = sum a_i L^i (fit_gen.c), called by bg_fitter_run. */
 int bgi_fit_generic(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,

@@ -19,34 +19,135 @@
 #define BG_INLINE static inline
 #endif
 
+/* d[j]: the squared norm of each of the 'p' columns 'c' (one accumulator each, rows' order). */
+BG_INLINE void col_sums(size_t p, double *const *c, size_t n, double *d)
+{
+    double a[BG_LIN_MAXP];
+    for (size_t j = 0; j < p; j++)
+        a[j] = 0.0;
+    for (size_t i = 0; i < n; i++)
+        for (size_t j = 0; j < p; j++)
+            a[j] += c[j][i] * c[j][i];
+    for (size_t j = 0; j < p; j++)
+        d[j] = a[j];
+}
+
+/* Column j of the 'p' columns 'c' times inv[j]; nrm[j]: its squared norm after. */
+BG_INLINE void col_scale(size_t p, double *const *c, size_t n, const double *inv, double *nrm)
+{
+    double a[BG_LIN_MAXP];
+    for (size_t j = 0; j < p; j++)
+        a[j] = 0.0;
+    for (size_t i = 0; i < n; i++)
+        for (size_t j = 0; j < p; j++) {
+            c[j][i] *= inv[j];
+            a[j] += c[j][i] * c[j][i];
+        }
+    for (size_t j = 0; j < p; j++)
+        nrm[j] = a[j];
+}
+
+/* The sums of the sweep over rows k .. n-1 for the 'm' columns 'c' that follow the reflector
+** 'v': d[j] = v . c[j], and d[m] = v . b; one accumulator each, added in the rows' order.
+** Inlined with 'm' a constant, so that the accumulators stay in registers. */
+BG_INLINE void sweep_dots(size_t m, const double *v, double *const *c, const double *b,
+                          size_t k, size_t n, double *d)
+{
+    double a[BG_LIN_MAXP + 1];
+    for (size_t j = 0; j <= m; j++)
+        a[j] = 0.0;
+    for (size_t i = k; i < n; i++) {
+        for (size_t j = 0; j < m; j++)
+            a[j] += v[i] * c[j][i];
+        a[m] += v[i] * b[i];
+    }
+    for (size_t j = 0; j <= m; j++)
+        d[j] = a[j];
+}
+
+/* The reflection of the 'm' columns 'c' and of b by 'v' with the factors 'd' (as sweep_dots),
+** rows k .. n-1, and into nrm[j] the squared norm of column j below row k (rows' order). */
+BG_INLINE void sweep_apply(size_t m, const double *v, double *const *c, double *b, size_t k,
+                           size_t n, const double *d, double *nrm)
+{
+    double a[BG_LIN_MAXP];
+    for (size_t j = 0; j < m; j++) {
+        a[j] = 0.0;
+        c[j][k] -= d[j] * v[k];
+    }
+    b[k] -= d[m] * v[k];
+    for (size_t i = k + 1; i < n; i++) {
+        for (size_t j = 0; j < m; j++) {
+            c[j][i] -= d[j] * v[i];
+            a[j] += c[j][i] * c[j][i];
+        }
+        b[i] -= d[m] * v[i];
+    }
+    for (size_t j = 0; j < m; j++)
+        nrm[j] = a[j];
+}
+
+/* sweep_dots and sweep_apply with the column count as a constant. */
+BG_INLINE void sweep(size_t m, const double *v, double *const *c, double *b, size_t k,
+                     size_t n, double vtv, double *nrm)
+{
+    double d[BG_LIN_MAXP + 1];
+    switch (m) {
+    case 0: sweep_dots(0, v, c, b, k, n, d); break;
+    case 1: sweep_dots(1, v, c, b, k, n, d); break;
+    case 2: sweep_dots(2, v, c, b, k, n, d); break;
+    case 3: sweep_dots(3, v, c, b, k, n, d); break;
+    case 4: sweep_dots(4, v, c, b, k, n, d); break;
+    case 5: sweep_dots(5, v, c, b, k, n, d); break;
+    default: sweep_dots(m, v, c, b, k, n, d);
+    }
+    for (size_t j = 0; j <= m; j++)
+        d[j] = 2.0 * d[j] / vtv;
+    switch (m) {
+    case 0: sweep_apply(0, v, c, b, k, n, d, nrm); break;
+    case 1: sweep_apply(1, v, c, b, k, n, d, nrm); break;
+    case 2: sweep_apply(2, v, c, b, k, n, d, nrm); break;
+    case 3: sweep_apply(3, v, c, b, k, n, d, nrm); break;
+    case 4: sweep_apply(4, v, c, b, k, n, d, nrm); break;
+    case 5: sweep_apply(5, v, c, b, k, n, d, nrm); break;
+    default: sweep_apply(m, v, c, b, k, n, d, nrm);
+    }
+}
+
 /* Long on purpose: equilibration, the pivoted Householder sweep, the condition estimate, the
 ** back substitution and (R^T R)^-1 share one set of scratch arrays and loop bounds; split into
 ** functions they would need the same eight arguments each and lose the unrolling that makes a
-** 10 x 3 fit cost about a microsecond (DEVELOPERS.md, "the least-squares core is our own"). */
+** 10 x 3 fit cost about a microsecond (DEVELOPERS.md, "the least-squares core is our own").
+** The passes over the rows are fused: each sum of the sweep (the column norms, the products
+** of the reflector with every remaining column and with b, the norms of the columns below the
+** next row) has its own accumulator, added in the order of the rows as a loop of its own would
+** add it, so the result is the same to the last bit; fused, the sums run side by side instead
+** of each waiting on its own additions, and a 1,000,000-point design is read a few times per
+** solve instead of a dozen.  A pivot exchanges the columns' pointers, not their elements. */
 BG_INLINE int qr_core(double *A, double *b, size_t n, size_t p, double min_rcond,
                       double *colscale, double *work, bg_linfit *out)
 {
     size_t perm[BG_LIN_MAXP];
     double R[BG_LIN_MAXP * BG_LIN_MAXP], Ri[BG_LIN_MAXP * BG_LIN_MAXP], z[BG_LIN_MAXP];
+    double *col[BG_LIN_MAXP], nrm[BG_LIN_MAXP], d[BG_LIN_MAXP + 1], inv[BG_LIN_MAXP];
 
     /* 'A' is column-major: column j is A[j*n .. j*n+n-1]. */
     if (p == 0 || n < p)
         return BG_ENUM;
     out->n = n, out->p = p, out->rank = 0, out->rcond = 0.0;
+    for (size_t j = 0; j < p; j++)
+        col[j] = A + j * n;
+    col_sums(p, col, n, d);
     for (size_t j = 0; j < p; j++) {
-        double *col = A + j * n, s = 0.0;
-        for (size_t i = 0; i < n; i++)
-            s += col[i] * col[i];
-        s = sqrt(s);
+        double s = sqrt(d[j]);
         if (!(s > 0.0) || !isfinite(s))
             return BG_ENUM;
         colscale[j] = s;
-        double inv = 1.0 / s;
-        for (size_t i = 0; i < n; i++)
-            col[i] *= inv;
+        inv[j] = 1.0 / s;
         perm[j] = j;
         work[j] = 1.0; /* squared norm of the remaining part of column j */
     }
+    col_scale(p, col, n, inv, nrm); /* equilibrate; nrm[j]: the norm^2 of the rows from 0 */
     for (size_t k = 0; k < p; k++) {
         /* Pivot: the remaining column with the largest norm below row k (norms downdated,
         ** and recomputed when cancellation makes the downdate unreliable). */
@@ -59,48 +160,28 @@ BG_INLINE int qr_core(double *A, double *b, size_t n, size_t p, double min_rcond
             perm[k] = perm[best], perm[best] = t;
             double w = work[k];
             work[k] = work[best], work[best] = w;
-            double *ck = A + k * n, *cb = A + best * n;
-            for (size_t i = 0; i < n; i++) {
-                double v = ck[i];
-                ck[i] = cb[i], cb[i] = v;
-            }
+            w = nrm[k], nrm[k] = nrm[best], nrm[best] = w;
+            double *c = col[k];
+            col[k] = col[best], col[best] = c;
         }
-        double *v = A + k * n, norm2 = 0.0;
-        for (size_t i = k; i < n; i++)
-            norm2 += v[i] * v[i];
-        double norm = sqrt(norm2);
+        double *v = col[k], norm = sqrt(nrm[k]); /* nrm[k]: rows k .. n-1 of column k */
         if (!(norm > 0.0))
             return BG_ENUM;
         double alpha = v[k] > 0.0 ? -norm : norm;
         /* v = x - alpha e1 in place; v^T v = 2 norm (norm + |x_k|) */
         v[k] -= alpha;
         double vtv = 2.0 * norm * (norm + fabs(v[k] + alpha));
+        sweep(p - k - 1, v, col + k + 1, b, k, n, vtv, nrm + k + 1);
         for (size_t j = k + 1; j < p; j++) {
-            double *c = A + j * n, d = 0.0;
-            for (size_t i = k; i < n; i++)
-                d += v[i] * c[i];
-            d = 2.0 * d / vtv;
-            for (size_t i = k; i < n; i++)
-                c[i] -= d * v[i];
-            work[j] -= c[k] * c[k];
-            if (work[j] < 1e-4) { /* recompute after heavy cancellation */
-                double s2 = 0.0;
-                for (size_t i = k + 1; i < n; i++)
-                    s2 += c[i] * c[i];
-                work[j] = s2;
-            }
+            work[j] -= col[j][k] * col[j][k];
+            if (work[j] < 1e-4) /* recompute after heavy cancellation */
+                work[j] = nrm[j];
         }
-        double d = 0.0;
-        for (size_t i = k; i < n; i++)
-            d += v[i] * b[i];
-        d = 2.0 * d / vtv;
-        for (size_t i = k; i < n; i++)
-            b[i] -= d * v[i];
         v[k] = alpha;
     }
     for (size_t i = 0; i < p; i++)
         for (size_t j = 0; j < p; j++)
-            R[i * p + j] = j >= i ? A[j * n + i] : 0.0;
+            R[i * p + j] = j >= i ? col[j][i] : 0.0;
     out->rcond = fabs(R[(p - 1) * p + (p - 1)]) / fabs(R[0]);
     for (size_t k = 0; k < p; k++)
         if (R[k * p + k] != 0.0 && fabs(R[k * p + k]) >= 1e-15 * fabs(R[0]))
