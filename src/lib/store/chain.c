@@ -73,13 +73,13 @@ void bgi_chain_reading(struct bgi_sha256 *h)
     bgi_sha256_update(h, "reading\n", 8);
 }
 
-int bgi_chain_judge(bgi_conn *c, bgi_chain_hash_fn hash, long long seq, const char *kind,
-                    long long id, const char *stored, char prev[65], bg_store_check *out,
-                    bg_error *err)
+int bgi_chain_judge(bgi_conn *c, bgi_chain_hash_fn hash, const struct bgi_chain_rec *rec,
+                    char prev[65], bg_store_check *out, bg_error *err)
 {
     char hex[65];
     bg_error e2 = BG_ERROR_INIT;
-    int k = kind ? bgi_chain_kind_index(kind) : -1, rc;
+    long long seq = rec->seq, id = rec->id;
+    int k = rec->kind ? bgi_chain_kind_index(rec->kind) : -1, rc;
     out->bad_seq = seq;
     if (seq != out->records + 1) {
         snprintf(out->problem, sizeof out->problem, "record %lld follows record %lld: "
@@ -104,7 +104,7 @@ int bgi_chain_judge(bgi_conn *c, bgi_chain_hash_fn hash, long long seq, const ch
             *err = e2;
         return rc;
     }
-    if (strcmp(hex, stored) != 0) {
+    if (strcmp(hex, rec->stored) != 0) {
         snprintf(out->problem, sizeof out->problem, "record %lld (%s %lld) does not match its "
                  "hash: its content or an earlier record's was changed after it was recorded",
                  seq, bgi_chain_kinds[k], id);

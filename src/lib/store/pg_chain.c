@@ -189,9 +189,10 @@ static int walk(bgi_conn *c, bg_store_check *out, bg_error *err)
     prev[64] = '\0';
     for (int i = 0; res && rc == BG_OK && !out->bad && i < PQntuples(res); i++) {
         char stored[65];
+        struct bgi_chain_rec rec = { pgv_ll(res, i, 0), pgv_ll(res, i, 2),
+                                     PQgetvalue(res, i, 1), stored };
         pgv_text(stored, sizeof stored, res, i, 3);
-        rc = bgi_chain_judge(c, record_hash, pgv_ll(res, i, 0), PQgetvalue(res, i, 1),
-                             pgv_ll(res, i, 2), stored, prev, out, err);
+        rc = bgi_chain_judge(c, record_hash, &rec, prev, out, err);
     }
     PQclear(res);
     memcpy(out->head, prev, sizeof out->head);

@@ -267,10 +267,10 @@ static int walk(bgi_conn *c, bg_store_check *out, bg_error *err)
     prev[64] = '\0';
     while (rc == BG_OK && !out->bad && sqlite3_step(q) == SQLITE_ROW) {
         char stored[65];
+        struct bgi_chain_rec rec = { sqlite3_column_int64(q, 0), sqlite3_column_int64(q, 2),
+                                     (const char *)sqlite3_column_text(q, 1), stored };
         bgi_copy_text(stored, sizeof stored, q, 3);
-        rc = bgi_chain_judge(c, record_hash, sqlite3_column_int64(q, 0),
-                             (const char *)sqlite3_column_text(q, 1),
-                             sqlite3_column_int64(q, 2), stored, prev, out, err);
+        rc = bgi_chain_judge(c, record_hash, &rec, prev, out, err);
     }
     sqlite3_finalize(q);
     memcpy(out->head, prev, sizeof out->head);

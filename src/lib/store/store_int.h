@@ -301,9 +301,12 @@ void bgi_chain_reading(struct bgi_sha256 *h);
 ** (BG_OK), or the error of 'hash' is returned when it could not read. */
 typedef int (*bgi_chain_hash_fn)(bgi_conn *c, int k, long long id, const char prev[65],
                                  char hex[65], bg_error *err);
-int bgi_chain_judge(bgi_conn *c, bgi_chain_hash_fn hash, long long seq, const char *kind,
-                    long long id, const char *stored, char prev[65], bg_store_check *out,
-                    bg_error *err);
+struct bgi_chain_rec {
+    long long seq, id;
+    const char *kind, *stored;
+};
+int bgi_chain_judge(bgi_conn *c, bgi_chain_hash_fn hash, const struct bgi_chain_rec *rec,
+                    char prev[65], bg_store_check *out, bg_error *err);
 
 /* One probe's history as a backend's lot-history read gathers it (fit_row.c): room for one
 ** more fit and its time, the buffers doubling; BG_ENOMEM when they cannot grow. */
