@@ -142,6 +142,24 @@ dev = np.array([[1e3 * (TR + (vbe(cc)(t) - 0.600) / -2.2e-3 - t) for t in at] fo
 check("junction deviation", np.array([p["deviation_mk"] for p in j["probes"]]), dev, 1e-6, 1e-6)
 check("junction band", j["band_hi_mk"], 1e3 * (5e-3 + 1e-4 * np.abs(at - TR)) / 2.2e-3, 1e-9)
 
+# the as-found drift of a junction in temperature: J-01 recalibrated half a year later reads
+# 0.8 mV higher; T_old(V_new(T)) - T at the check temperatures by Newton on the junction model
+old = coef["J-01"]
+path = os.path.join(tmp, "J-01-recal.csv")
+with open(path, "w") as f:
+    f.write("temp_k,volts,u_volts,excite_a\n")
+    for t in Tj:
+        f.write("%r,%r,5e-06,1e-05\n" % (t, vbe(old)(t) + 0.8e-3 + rng.normal(0, 5e-6)))
+cli("import", path, "--probe", "J-01", "--at", "2027-05-21T09:00:00Z")
+cli("fit", "--probe", "J-01", "--model", "vbe")
+p = cli("drift", "--probe", "J-01", "--json", ok=(0, 1))
+d = json.loads(p.stdout)["since_previous"][0]
+new = np.array(json.loads(cli("show", "fit", str(d["to_fit"]), "--json").stdout)["coefficients"])
+at = np.array(d["at_k"])
+want = 1e3 * (newton(vbe(old), vbe(new)(at), at) - at)
+check("junction as-found drift", d["as_found_mk"], want, 1e-6, 1e-6)
+check("junction as-found near -0.8 mV / 2.2 mV/K", np.mean(want), -800 / 2.2, 0.1)
+
 # ---- silicon PTCs, model ptc, part nominal R 1000 ohm +-1 %, alpha 0.79 %/K +-2 % ---------
 ptc = lambda c: (lambda t: c[0] * (1 + c[1] * (t - TR) + c[2] * (t - TR) ** 2))
 Tp = np.linspace(233.15, 398.15, 9)
