@@ -350,10 +350,6 @@ static void fit_round_trip_is_exact(void **state)
 static void queued_fits_are_stored_exactly(void **state)
 {
     (void)state;
-    /* tests/pg/store.sh sets this when a batch of BGI_FITQ fits crashes the server backend
-    ** (found by this test; it runs again by itself once that is fixed) */
-    if (server && getenv("BG_TEST_PG_FIT_BATCH_BROKEN"))
-        skip();
     bg_store *st = fresh("q.db");
     bg_readings rs = make_readings();
     bg_run meta;

@@ -16,11 +16,6 @@ trap 'rm -rf "$T"' EXIT
 PSQL="$BG_PG_BIN/psql -X -q -At -v ON_ERROR_STOP=1"
 . "$HERE/biglot.sh"
 N=4000
-if [ -n "${BG_TEST_PG_FIT_BATCH_BROKEN:-}" ]; then
-    echo "skip pg/restart-during-lot-fit: a lot fit crashes the server backend (see" \
-         "pg/fit-batch); this check runs once that is fixed"
-    exit 0
-fi
 pgctl() { (cd "$(dirname "$BG_PG_DATA")" && $BG_PG_RUN "$BG_PG_BIN/pg_ctl" -D "$BG_PG_DATA" \
           -l "$(dirname "$BG_PG_DATA")/server.log" -w -t 60 "$@" > /dev/null 2>&1); }
 tables() { $PSQL -d faultfit -c "SELECT * FROM fit ORDER BY id" -c \

@@ -124,35 +124,6 @@ static int pgc_rows_count(bgi_conn *c, const char *table, long long *n, bg_error
     return rc;
 }
 
-static const struct bgi_cell *cell_named(const struct bgi_row *row, const char *name)
-{
-    for (size_t k = 0; k < row->ncol; k++)
-        if (strcmp(row->name[k], name) == 0)
-            return &row->cell[k];
-    return NULL;
-}
-
-/* What this backend does not store yet, refused as its own commands refuse it (pg.c's probe
-** move and sequences, pg_run.c's runs of other quantities): exit 69, nothing written.  Remove
-** each test here when the backend stores it (tests/copy.sh compares with the commands). */
-static int not_stored_yet(const char *table, const struct bgi_row *row, bg_error *err)
-{
-    const struct bgi_cell *q;
-    if (strcmp(table, "probe_version") == 0)
-        return bg_error_set(err, BG_EUNAVAIL, "the source holds probe moves, and probe move is "
-                            "not available on the PostgreSQL backend yet: nothing was copied");
-    if (strncmp(table, "sequence", 8) == 0)
-        return bg_error_set(err, BG_EUNAVAIL, "the source holds calibration sequences, which "
-                            "are not available on the PostgreSQL backend yet: nothing was "
-                            "copied");
-    if (strcmp(table, "run") == 0 && (q = cell_named(row, "quantity")) &&
-        q->type != BGI_CELL_NULL)
-        return bg_error_set(err, BG_EUNAVAIL, "the source holds runs of readings in %s, which "
-                            "are not stored on the PostgreSQL backend yet (resistances only): "
-                            "nothing was copied", q->type == BGI_CELL_TEXT ? q->p : "?");
-    return BG_OK;
-}
-
 static void put_cell(struct pgp *p, const struct bgi_cell *v)
 {
     switch (v->type) {
@@ -190,9 +161,6 @@ static int pgc_rows_insert(bgi_conn *c, const char *table, const struct bgi_row 
     int rc = BG_OK;
     if (n == 0)
         return BG_OK;
-    for (size_t r = 0; r < n; r++)
-        if ((rc = not_stored_yet(table, &rows[r], err)) != BG_OK)
-            return rc;
     snprintf(what, sizeof what, "cannot copy into table '%s'", table);
     char *sql = insert_sql(table, &rows[0], n);
     if (!sql || pgp_init(&p, (int)(n * rows[0].ncol)) != BG_OK) {

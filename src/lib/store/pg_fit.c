@@ -88,23 +88,36 @@ int bgi_pg_fit_next_id(bgi_conn *c, long long *id, bg_error *err)
 int bgi_pg_fit_insert(bgi_conn *c, struct bgi_fitrow *rows, size_t n, const char *now,
                       bg_error *err)
 {
-    char sql[512 + BGI_FITQ * 160];
+    /* Each row's text: FIT_NCOL placeholders of at most "$9999," and the id's coalesce
+     * (under 100 characters); the buffer is sized for that and each write is checked. */
+    enum { ROW_MAX = FIT_NCOL * 6 + 128 };
     struct pgp p;
     int rc = BG_OK;
     size_t per = n == BGI_FITQ ? BGI_FITQ : 1;
-    size_t len = (size_t)snprintf(sql, sizeof sql, "%s", FIT_INSERT);
-    for (size_t k = 0; k < per; k++) {
+    size_t cap = sizeof FIT_INSERT + per * ROW_MAX + 32;
+    char *sql = malloc(cap);
+    if (!sql)
+        return bg_error_set(err, BG_ENOMEM, "out of memory");
+    size_t len = (size_t)snprintf(sql, cap, "%s", FIT_INSERT);
+    for (size_t k = 0; k < per && len < cap; k++) {
         int b = (int)k * FIT_NCOL;
-        len += (size_t)snprintf(sql + len, sizeof sql - len, "%s(", k ? "," : "");
-        for (int j = 1; j <= FIT_NCOL; j++)
-            len += (size_t)snprintf(sql + len, sizeof sql - len, j < FIT_NCOL ? "$%d," :
+        len += (size_t)snprintf(sql + len, cap - len, "%s(", k ? "," : "");
+        for (int j = 1; j <= FIT_NCOL && len < cap; j++)
+            len += (size_t)snprintf(sql + len, cap - len, j < FIT_NCOL ? "$%d," :
                                     "coalesce(nullif($%d::bigint, 0), (SELECT coalesce(max(id), "
                                     "0) + 1 FROM fit)))", b + j);
     }
-    if (per == 1)
-        snprintf(sql + len, sizeof sql - len, " RETURNING id");
-    if (pgp_init(&p, (int)per * FIT_NCOL) != BG_OK)
+    if (per == 1 && len < cap)
+        len += (size_t)snprintf(sql + len, cap - len, " RETURNING id");
+    if (len >= cap) {
+        free(sql);
+        return bg_error_set(err, BG_EINTERNAL, "the statement storing fits is longer than its "
+                            "buffer (%zu bytes)", cap);
+    }
+    if (pgp_init(&p, (int)per * FIT_NCOL) != BG_OK) {
+        free(sql);
         return bg_error_set(err, BG_ENOMEM, "out of memory");
+    }
     for (size_t i = 0; i < n && rc == BG_OK; i += per) {
         p.n = 0;
         for (size_t k = 0; k < per; k++)
@@ -117,6 +130,7 @@ int bgi_pg_fit_insert(bgi_conn *c, struct bgi_fitrow *rows, size_t n, const char
         PQclear(res);
     }
     pgp_free(&p);
+    free(sql);
     return rc;
 }
 
