@@ -332,7 +332,8 @@ static int demo_bench2_lot(struct cli_ctx *dctx, const char *dir, const char *lo
 }
 
 /* The second bench: junction sensors and platinum thermometers beside the soil probes, a
-** table for one thermometer on a current source, and a report of each kind. */
+** table for one thermometer on a current source and one for a junction through an amplifier,
+** and a report of each kind. */
 static int demo_bench2(struct cli_ctx *dctx, const char *dir)
 {
     const char *p_jn[] = { "part", "set", "BENCH2-JN", "--sensor", "junction", "--v-ref",
@@ -360,8 +361,16 @@ static int demo_bench2(struct cli_ctx *dctx, const char *dir)
            "%s ==\n\n", cfile);
     if ((rc = run(dctx, cmd_lut, a_lut)) != BG_OK)
         return rc;
-    /* (no table for the junctions here: the table command's front ends on this tree read a
-    ** resistance) */
+    char dfile[4200];
+    snprintf(dfile, sizeof dfile, "%s/bench2_diode.c", dir);
+    const char *a_lj[] = { "lut", "--probe", "GH-J01", "--vref", "1.0V", "--gain", "4",
+                           "--offset", "-1.9V", "--current", "10uA", "--adc-bits", "12",
+                           "--range", "-15C:55C", "--max-error", "0.1C", "--symbol",
+                           "bench2_diode", "-o", dfile, NULL };
+    printf("\n== a table for junction GH-J01 through an amplifier (gain 4, offset -1.9 V) into a "
+           "12-bit ADC, 1.0 V: %s ==\n\n", dfile);
+    if ((rc = run(dctx, cmd_lut, a_lj)) != BG_OK)
+        return rc;
     char jrun[32], prun[32];
     if ((rc = demo_latest_run(dctx, "GH-J01", jrun)) != BG_OK ||
         (rc = demo_latest_run(dctx, "GH-R01", prun)) != BG_OK)

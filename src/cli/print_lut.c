@@ -35,7 +35,10 @@ void lut_print_csv(const bg_lut_result *r, FILE *f)
     else
         fprintf(f, "%ld + ((base + slope (c - first_code)) >> %u)", (long)t->yoff, t->frac);
     fprintf(f, " in %s", vu);
-    if (t->strategy == BG_LUT_INDEXED)
+    if (t->strategy == BG_LUT_INDEXED && t->aligned)
+        fprintf(f, "; index (aligned form): entry (c - %ld) >> %u names the segment of code c; "
+                "segments start on that grid, so no comparison follows", t->code_lo, t->ishift);
+    else if (t->strategy == BG_LUT_INDEXED)
         fprintf(f, "; index: the segment of code %ld + k 2^%u, then up to %u comparison%s",
                 t->code_lo, t->ishift, t->icmp, t->icmp > 1 ? "s" : "");
     fprintf(f, "; max error %.6f K, RMS %.6f K over codes %ld .. %ld", t->max_err_k,
