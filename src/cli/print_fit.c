@@ -557,7 +557,7 @@ static void lot_text(const bg_calib_lot *lot)
 {
     char name[16], rb[32], b1[64], b2[64];
 
-    int extra = 0;
+    int extra = 0, any_b = 0;
     printf("%-20s %6s %6s %-7s %4s %10s %10s %8s %5s %12s %10s\n", "probe", "run", "fit",
            "model", "n", "RMS/mK", "max/mK", "U/mK", "k", "R25/ohm", "B/K");
     for (size_t i = 0; i < lot->nrows; i++) {
@@ -579,6 +579,7 @@ static void lot_text(const bg_calib_lot *lot)
                : "-", bb,
                row->b_extrapolated ? " *" : "");
         extra |= row->b_extrapolated;
+        any_b |= isfinite(row->b_k);
     }
     if (extra)
         printf("* B extrapolated: the lot's pair lies outside the probe's calibrated range\n");
@@ -590,10 +591,15 @@ static void lot_text(const bg_calib_lot *lot)
     else
         printf("U = k u at the largest u, k from Student's t for each fit's degrees of freedom "
                "(coverage probability %.2f %%)\n", 100.0 * lot->rule.p);
-    printf("lot %s: %zu probes fitted, %zu without runs; B for %s / %s\n", lot->lot.code,
-           lot->nfitted, lot->nnoruns,
-           bg_units_format_temp(lot->lot.pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1),
-           bg_units_format_temp(lot->lot.pair_t2_k, BG_UNIT_C, 2, b2, sizeof b2));
+    printf("lot %s: %zu probes fitted, %zu without runs", lot->lot.code, lot->nfitted,
+           lot->nnoruns);
+    if (any_b)
+        printf("; B for %s / %s",
+               bg_units_format_temp(lot->lot.pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1),
+               bg_units_format_temp(lot->lot.pair_t2_k, BG_UNIT_C, 2, b2, sizeof b2));
+    else if (lot->nfitted)
+        printf(" (B belongs to an NTC: not computed for these fits' kinds)");
+    printf("\n");
 }
 
 int print_fit_lot(const bg_calib_lot *lot, int rc, const bg_error *err, int json)

@@ -260,6 +260,8 @@ static void derive_brief(bg_calib_result *out, const bg_point *pts, size_t n,
                                fmax(t1_k, t2_k) > f->t_max_k + RANGE_TOL_K;
     if (bg_model_b_pair(&f->model, t1_k, t2_k, &out->b_pair_k, NULL) != BG_OK)
         out->b_pair_k = NAN;
+    if (!isfinite(out->b_pair_k)) /* no B (a kind other than NTC): nothing extrapolated */
+        out->b_pair_extrapolated = 0;
     if (bg_model_quantity(&f->model) != BG_QTY_RESISTANCE ||
         bg_model_r_from_t(&f->model, BG_T0_DEFAULT_K, &out->r25_ohm, NULL) != BG_OK)
         out->r25_ohm = NAN;
