@@ -6,7 +6,9 @@
 **  - indexed: the same segments with a small index on the top bits of the code, so that
 **    lookup is one table read and one or two comparisons (O(1), no search); for the AVR,
 **    when the cost model prefers it, the aligned form: segments on the index's grid and no
-**    comparison (bg_lut.aligned).
+**    comparison (bg_lut.aligned); for a target core, when the cost model prefers it, the
+**    minimal table's chained form: continuous segments of at most 255 codes, 3 bytes each,
+**    read by a linear walk (bg_lut.chained).
 ** Segment values need not lie on the curve (each segment is the line that best spreads the
 ** error), and the segmentation is the exact minimum for the bound: see lut_seg.c.
 ** bg_lut_eval / bg_lut_eval_float perform exactly the arithmetic of the emitted C, and the
@@ -114,6 +116,11 @@ typedef struct bg_lut {
     int aligned;             /* indexed, for the AVR: segments start on the index's grid and
                              ** span at most 256 codes, so icmp is 0 (no comparison) and the
                              ** AVR lookup splits each slope into bytes (lut_seg.c) */
+    int chained;             /* minimal, for a target core: each segment starts where the
+                             ** previous one ends, at the value it reached there (sy[i + 1] =
+                             ** sy[i] + sm[i] (sx[i + 1] - sx[i]) exactly), and spans at most
+                             ** 255 codes; stored as a length byte and a slope of two bytes,
+                             ** read by a linear walk (lut_chain.c) */
     size_t oncurve_min;      /* the fewest entries with values on the curve (0: not counted) */
     int oncurve_skipped;     /* 1: not counted because the range has more than
                              ** BG_LUT_ONCURVE_AUTO_CODES codes and it was not asked for */

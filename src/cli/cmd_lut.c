@@ -639,9 +639,10 @@ int cmd_lut(int argc, char **argv, struct cli_ctx *ctx)
     if (a.step > 0 && a.rq.strategy > BG_LUT_UNIFORM)
         return cli_usage_error("lut", "--step is for the uniform strategy; the others take "
                                "--max-error");
-    if (a.optimize_set && (a.step > 0 || (a.rq.strategy >= 0 && a.rq.strategy != BG_LUT_INDEXED)))
-        return cli_usage_error("lut", "--optimize is for the automatic choice (and the indexed "
-                               "table's form): give --max-error without --strategy or --step");
+    if (a.optimize_set && (a.step > 0 || a.rq.strategy == BG_LUT_UNIFORM))
+        return cli_usage_error("lut", "--optimize is for the automatic choice (and the minimal "
+                               "and indexed tables' forms): give --max-error without --strategy "
+                               "or --step");
     if (a.optimize_set && a.rq.spec.target == BG_LUT_HOST && a.rq.spec.optimize != BG_LUT_OPT_FLASH)
         return cli_usage_error("lut", "--optimize %s needs --target avr, cortex-m0 or cortex-m4: "
                                "times are measured on those cores, not on the host",

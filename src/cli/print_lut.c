@@ -38,6 +38,9 @@ void lut_print_csv(const bg_lut_result *r, FILE *f)
     if (t->strategy == BG_LUT_INDEXED && t->aligned)
         fprintf(f, "; index (aligned form): entry (c - %ld) >> %u names the segment of code c; "
                 "segments start on that grid, so no comparison follows", t->code_lo, t->ishift);
+    else if (t->chained)
+        fprintf(f, "; chained form: each segment starts where the previous one ends, at the "
+                "value it reached there");
     else if (t->strategy == BG_LUT_INDEXED)
         fprintf(f, "; index: the segment of code %ld + k 2^%u, then up to %u comparison%s",
                 t->code_lo, t->ishift, t->icmp, t->icmp > 1 ? "s" : "");
@@ -210,8 +213,8 @@ static void summary(const bg_lut *t, const size_t *sizes, int host, const char *
         fprintf(b, "%s%zu entries every %lu codes (uniform, %zu bytes)", pre, t->n,
                 1ul << t->shift, t->bytes);
     else
-        fprintf(b, "%s%zu segments (%s, %zu bytes)", pre, t->n,
-                bg_lut_strategy_name(t->strategy), t->bytes);
+        fprintf(b, "%s%zu segments (%s%s, %zu bytes)", pre, t->n,
+                bg_lut_strategy_name(t->strategy), t->chained ? ", chained form" : "", t->bytes);
     fprintf(b, ", max error %.4f K, RMS %.4f K (table and rounding)\n", t->max_err_k,
             t->rms_err_k);
     if (t->strategy != BG_LUT_UNIFORM && t->oncurve_min)
@@ -256,8 +259,9 @@ static void target_line(const bg_lut_result *r, FILE *b)
     fprintf(b, "on %s: %zu bytes of flash (table %zu, lookup code %zu), about %.0f %s per "
                "conversion%s\n(measured on a reference table by make bench-firmware: %s)\n",
             bg_lut_target_name(r->spec.target), c.flash_bytes, c.table_bytes, c.code_bytes,
-            c.per_call, c.unit, r->table.strategy == BG_LUT_MINIMAL ? ", scaled by its search "
-            "steps" : "", c.measured);
+            c.per_call, c.unit, r->table.chained ? ", by the segments it walks"
+            : r->table.strategy == BG_LUT_MINIMAL ? ", scaled by its search steps" : "",
+            c.measured);
     if (r->chosen)
         fprintf(b, "strategy chosen for %s on %s\n", crit[r->spec.optimize],
                 bg_lut_target_name(r->spec.target));

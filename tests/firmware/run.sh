@@ -8,8 +8,9 @@
 #   m3:  a Cortex-M3 under QEMU (mps2-an385),
 #   m4:  a Cortex-M4 with its single-precision FPU under QEMU (mps2-an386),
 # and compared bit for bit with the library's own values (bandgap lut --format codes).
-# The AVR also runs 14- and 16-bit tables of every strategy (every code 0 .. 2^bits - 1) and
-# the indexed table's aligned form (--optimize time).
+# The AVR also runs 14- and 16-bit tables of every strategy (every code 0 .. 2^bits - 1),
+# the indexed table's aligned form (--optimize time) and the minimal table's chained form
+# (the default for a target, by flash) with its assembly and its C walk.
 # Float runs on every core (the M4's FPU, libgcc's soft float on M0 and M3, avr-libc's on
 # the AVR).  Prints "ok firmware NAME TARGET" / "not ok ..." per table and target.
 # Usage: run.sh BANDGAP WORKDIR    (FW_JOBS parallel tables, default 2)
@@ -96,6 +97,19 @@ done
 echo "indexed-high-kelvin-q4-for-avr-time:indexed:q4:0.0625C:--sensor-side=high --kelvin --target avr --optimize time" >> "$W/cases"
 for bits in 14 16; do
     echo "indexed-0.01-for-avr-time-$bits-bit:indexed:0.01:0.05C:--target avr --optimize time --adc-bits $bits" >> "$W/cases"
+done
+# the minimal table: for a target core by flash (the default) its chained form where the values
+# fit 16 bits (the cases above: 0.1, 0.01, q4 and q8, and the wider ADCs on the AVR), by time
+# its compact form; and on the AVR the chained form's C walk (NAME ending -portable-c: built
+# with T_PORTABLE_C, as for a core without the hardware multiplier) beside its assembly
+for res in 0.1 0.01 q8; do
+    echo "minimal-$res-for-avr-time:minimal:$res:0.05C:--target avr --optimize time" >> "$W/cases"
+done
+echo "minimal-0.01-for-cortex-m0-time:minimal:0.01:0.05C:--target cortex-m0 --optimize time" >> "$W/cases"
+echo "minimal-0.01-for-cortex-m4-time:minimal:0.01:0.05C:--target cortex-m4 --optimize time" >> "$W/cases"
+for res in 0.01 q4; do
+    case $res in q4) b=0.0625C ;; *) b=0.05C ;; esac
+    echo "minimal-$res-for-avr-portable-c:minimal:$res:$b:--target avr" >> "$W/cases"
 done
 export BANDGAP W TARGETS
 xargs -d '\n' -P "${FW_JOBS:-2}" -n 1 sh "$HERE/one.sh" < "$W/cases" > "$W/results.log" 2>&1

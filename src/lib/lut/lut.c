@@ -150,6 +150,8 @@ int32_t bg_lut_eval(const bg_lut *t, long code, int *status)
     *status = BG_LUT_OK;
     if (t->strategy == BG_LUT_UNIFORM)
         return uniform_eval(t, (uint32_t)(code - t->code_lo));
+    if (t->chained) /* the walk, as the emitted lookup does it (lut_chain.c) */
+        return bgi_lut_chain_eval(t, code);
     size_t i = segment_of(t, code);
     int32_t v = t->sy[i] + t->sm[i] * (int32_t)(code - t->sx[i]);
     return t->yoff + (int32_t)((uint32_t)v >> t->frac);
@@ -279,8 +281,8 @@ int bgi_lut_make_bands(const bg_lut *t, const double *tk, double cpk, double off
 ** codes 16 bits), otherwise the automatic bits as for the host. */
 static int target_segments(const bg_lut_spec *s, bg_lut *out, const bgi_band *b, bg_error *err)
 {
-    out->narrow = 0, out->aligned = 0;
-    if (bgi_lut_aligned_try(s, out, b))
+    out->narrow = 0, out->aligned = 0, out->chained = 0;
+    if (bgi_lut_aligned_try(s, out, b) || bgi_lut_chained_try(s, out, b))
         return BG_OK;
     if (s->target != BG_LUT_HOST && s->frac_bits < 0 && out->code_hi + 1 <= 65535 &&
         bgi_lut_segments(out, b, 8, NULL) == BG_OK) {
@@ -353,7 +355,8 @@ static int build_segments(const bg_lut_spec *s, const double *tk, bg_lut *out, b
     if (rc != BG_OK)
         return rc;
     size_t xb = out->code_hi + 1 <= 65535 ? 2u : 4u;
-    out->bytes = out->aligned ? out->n * 6u : out->n * (xb + (out->narrow ? 6u : 8u)) + xb;
+    out->bytes = out->aligned ? out->n * 6u : out->chained ? out->n * 3u
+                                                            : out->n * (xb + (out->narrow ? 6u : 8u)) + xb;
     if (s->strategy == BG_LUT_INDEXED) {
         if (out->n > 65535)
             return bg_error_set(err, BG_EINVAL, "%zu segments: too many to index", out->n);

@@ -87,6 +87,11 @@ static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FI
     if (t->strategy == BG_LUT_UNIFORM)
         fprintf(f, "/*\n * ADC code -> temperature, %s, linear interpolation between\n"
                    " * breakpoints every %lu codes (uniform table).\n", vf, 1ul << t->shift);
+    else if (t->chained)
+        fprintf(f, "/*\n * ADC code -> temperature, %s, %zu straight segments\n"
+                   " * (minimal table, chained form: each segment starts where the previous one\n"
+                   " * ends and spans at most 255 codes; read by a walk from the first), within\n"
+                   " * %.6g K at every code.\n", vf, t->n, s->max_err_k);
     else if (t->aligned)
         fprintf(f, "/*\n * ADC code -> temperature, %s, %zu straight segments\n"
                    " * (indexed table, aligned form: every segment starts on a grid of %lu codes\n"
@@ -469,6 +474,140 @@ static void emit_aligned(const bg_lut *t, const bg_lut_spec *s, const char *sym,
     aligned_body_avr(t, sym, up, f);
 }
 
+/* The chained form's walk in C (lut_chain.c): the slope's bytes, the state as whole counts and
+** a fraction byte, every sum in 32 bits (so also right with a 16-bit int). */
+static void chained_c_body(const char *sym, const char *up, FILE *f)
+{
+    fprintf(f, "    const uint8_t *p = %s_chain;\n"
+               "    uint32_t d, len, x, frac = %s_START_FRAC;\n"
+               "    int32_t y = %s_START_VALUE, mh;\n", sym, up, up);
+    fprintf(f, "    if (code - (uint32_t)%s_CODE_LO > (uint32_t)(%s_CODE_HI - %s_CODE_LO))\n"
+               "        return code < (uint32_t)%s_CODE_LO ? %s_CODE_BELOW_RANGE : "
+               "%s_CODE_ABOVE_RANGE;\n", up, up, up, up, up, up);
+    fprintf(f, "    d = code - (uint32_t)%s_CODE_LO;\n"
+               "    for (;;) { /* from the first segment: at most %s_SEGMENTS steps */\n"
+               "        len = %s_READ_U8(p);\n"
+               "        mh = (int32_t)%s_READ_U8(p + 1); /* the slope's high byte, signed */\n"
+               "        if (mh > 127)\n            mh -= 256;\n"
+               "        x = d < len ? d : len;\n"
+               "        frac += (uint32_t)%s_READ_U8(p + 2) * x; /* 0 .. 65280 */\n"
+               "        y += mh * (int32_t)x + (int32_t)(frac >> 8);\n"
+               "        if (d <= len) /* the code lies in this segment */\n"
+               "            return y;\n"
+               "        frac &= 255u; /* the next segment starts here, at this value */\n"
+               "        d -= len;\n        p += 3;\n    }\n", up, up, up, up, up);
+}
+
+/* The same walk in C for the AVR (int is 16 bits): the registers of the assembly below, 8 x 8
+** products and 16-bit sums (a partial sum lies at most 256 counts below the value, and every
+** value at least 256 above the least int16_t: lut_chain.c). */
+static void chained_c_body_avr(const char *sym, const char *up, FILE *f)
+{
+    fprintf(f, "    const uint8_t *p = %s_chain;\n    uint16_t d, q;\n"
+               "    int16_t y = (int16_t)%s_START_VALUE;\n"
+               "    uint8_t frac = %s_START_FRAC, len, x;\n", sym, up, up);
+    fprintf(f, "    if (code - (uint32_t)%s_CODE_LO > (uint32_t)(%s_CODE_HI - %s_CODE_LO))\n"
+               "        return code < (uint32_t)%s_CODE_LO ? %s_CODE_BELOW_RANGE : "
+               "%s_CODE_ABOVE_RANGE;\n", up, up, up, up, up, up);
+    fprintf(f, "    d = (uint16_t)(code - (uint32_t)%s_CODE_LO);\n"
+               "    for (;;) { /* from the first segment: at most %s_SEGMENTS steps */\n"
+               "        len = %s_READ_U8(p);\n"
+               "        x = len;\n        if (d < len)\n            x = (uint8_t)d;\n"
+               "        q = (uint16_t)(frac + (uint16_t)%s_READ_U8(p + 2) * x); /* 0 .. 65280 */\n"
+               "        y = (int16_t)(y + %s_READ_S8(p + 1) * x + (int16_t)(q >> 8));\n"
+               "        if (d <= len) /* the code lies in this segment */\n"
+               "            return y;\n"
+               "        frac = (uint8_t)q; /* the next segment starts here, at this value */\n"
+               "        d = (uint16_t)(d - len);\n        p += 3;\n    }\n", up, up, up, up, up);
+}
+
+/* The same walk in AVR assembly, for cores with the hardware multiplier: the code in r22..r25
+** (where avr-gcc passes it and returns the value), the table pointer in Z.  The value in
+** r22:r23 (y), the fraction in r20, the offset left in r26:r27; per segment the length r18
+** (then x), the slope's bytes r19 (high, signed) and r21; T set on the last segment. */
+static void chained_asm(const bg_lut *t, const char *sym, const char *up, FILE *f)
+{
+    int32_t whole;
+    unsigned frac;
+    unsigned long lo = (unsigned long)t->code_lo, nc = (unsigned long)(t->code_hi - t->code_lo + 1);
+    bgi_lut_chain_start(t, &whole, &frac);
+    unsigned long w = (unsigned long)whole & 0xffffUL;
+    fprintf(f, "#if defined(__GNUC__) && defined(__AVR_HAVE_MUL__) && !defined(%s_PORTABLE_C)\n"
+               "    /* %s_START_VALUE, %s_START_FRAC, %s_CODE_LO and %s_CODE_HI are written\n"
+               "     * into the instructions below */\n"
+               "    register uint32_t r __asm__(\"r22\") = code;\n"
+               "    const uint8_t *p = %s_chain;\n    __asm__ volatile(\n", up, up, up, up, up, sym);
+    fprintf(f, "        \"subi r22, %lu\\n\\tsbci r23, %lu\\n\\tsbci r24, %lu\\n\\tsbci r25, %lu\\n\\t\"\n"
+               "        \"brcs 2f\\n\\t\" /* below the range: C = 1 */\n"
+               "        \"mov r0, r24\\n\\tor r0, r25\\n\\tbrne 2f\\n\\t\" /* above: C = 0 */\n"
+               "        \"cpi r22, %lu\\n\\tldi r18, %lu\\n\\tcpc r23, r18\\n\\tbrcc 2f\\n\\t\"\n",
+            lo & 255, (lo >> 8) & 255, (lo >> 16) & 255, (lo >> 24) & 255, nc & 255,
+            (nc >> 8) & 255);
+    fprintf(f, "        \"movw r26, r22\\n\\tldi r22, %lu\\n\\tldi r23, %lu\\n\\tldi r20, %u\\n\\t\"\n",
+            w & 255, w >> 8, frac);
+    fprintf(f, "        \"1: lpm r18, Z+\\n\\tlpm r19, Z+\\n\\tlpm r21, Z+\\n\\t\" /* len, slope */\n"
+               "        \"sub r26, r18\\n\\tsbc r27, r1\\n\\tclt\\n\\t\" /* d -= len */\n"
+               "        \"breq 3f\\n\\tbrcc 4f\\n\\t\" /* d > len: x = len, go on */\n"
+               "        \"add r18, r26\\n\\t\" /* d < len: x = d */\n"
+               "        \"3: set\\n\\t\" /* the last segment */\n"
+               "        \"4: mul r21, r18\\n\\tadd r20, r0\\n\\tadc r22, r1\\n\\tclr r1\\n\\t\"\n"
+               "        \"adc r23, r1\\n\\t\" /* y += (frac + lo x) >> 8 */\n"
+               "        \"mulsu r19, r18\\n\\tadd r22, r0\\n\\tadc r23, r1\\n\\tclr r1\\n\\t\"\n"
+               "        \"brtc 1b\\n\\t\" /* y += hi x */\n"
+               "        \"mov r24, r23\\n\\tlsl r24\\n\\tsbc r24, r24\\n\\tmov r25, r24\\n\\t\"\n"
+               "        \"rjmp 5f\\n\\t\" /* y to 32 bits */\n"
+               "        \"2: sbc r22, r22\\n\\tcom r22\\n\\tmov r23, r22\\n\\tmovw r24, r22\\n\\t\"\n"
+               "        \"subi r25, 0x80\\n\\t\" /* C = 1: INT32_MIN, C = 0: INT32_MAX */\n"
+               "        \"5:\"\n"
+               "        : \"+r\"(r), \"+z\"(p)\n        :\n"
+               "        : \"r0\", \"r18\", \"r19\", \"r20\", \"r21\", \"r26\", \"r27\", \"cc\");\n"
+               "    return (int32_t)r;\n#else\n");
+}
+
+/* The chained form of a minimal table (lut_chain.c): one start state, then per segment a
+** length byte and the slope's two bytes; the lookup walks them from the first. */
+static void emit_chained(const bg_lut *t, const bg_lut_spec *s, const char *sym, const char *up,
+                         FILE *f)
+{
+    char vf[64];
+    int32_t whole;
+    unsigned frac;
+    bgi_lut_chain_start(t, &whole, &frac);
+    hook(f, s, up, "READ_U8", "pgm_read_byte", "");
+    if (s->target == BG_LUT_AVR)
+        hook(f, s, up, "READ_S8", "pgm_read_byte", "(int8_t)");
+    value_format(s, vf, sizeof vf);
+    fprintf(f, "\n#define %s_CODE_LO %ldL\n#define %s_CODE_HI %ldL\n#define %s_SEGMENTS %zuu\n"
+               "#define %s_COUNTS_PER_DEGREE %.0f /* %s */\n", up, t->code_lo, up, t->code_hi,
+            up, t->n, up, t->counts_per_k, vf);
+    fprintf(f, "/* the value at %s_CODE_LO: whole counts and 2^-8 counts more */\n"
+               "#define %s_START_VALUE %ldL\n#define %s_START_FRAC %uu\n", up, up, (long)whole,
+            up, frac);
+    sentinels(t, up, f);
+    fprintf(f, "/* per segment: its length in codes (it starts at the code and the value where\n"
+               " * the previous one ends), then its slope in 2^-8 counts per code as the high\n"
+               " * byte (two's complement) and the low byte */\n"
+               "static const uint8_t %s_chain[%zu] %s_ATTR = {\n", sym, t->n * 3, up);
+    for (size_t i = 0; i < t->n; i++) {
+        unsigned len, ml;
+        int mh;
+        bgi_lut_chain_bytes(t, i, &len, &mh, &ml);
+        fprintf(f, "%s%u, %u, %u%s", i % 6 == 0 ? "    " : " ", len, (unsigned)mh & 255u, ml,
+                i + 1 == t->n ? "\n" : i % 6 == 5 ? ",\n" : ",");
+    }
+    fprintf(f, "};\n\n/* Temperature in counts for an ADC code, or %s_CODE_BELOW_RANGE /\n"
+               " * %s_CODE_ABOVE_RANGE when the code is outside the range.  A linear walk: the\n"
+               " * time grows with the segments before the code's. */\n", up, up);
+    fprintf(f, "int32_t %s_lookup(uint32_t code);\nint32_t %s_lookup(uint32_t code)\n{\n", sym,
+            sym);
+    if (s->target == BG_LUT_AVR) {
+        chained_asm(t, sym, up, f);
+        chained_c_body_avr(sym, up, f);
+    } else
+        chained_c_body(sym, up, f);
+    fprintf(f, "%s}\n", s->target == BG_LUT_AVR ? "#endif\n" : "");
+}
+
 static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym,
                           const char *up, FILE *f)
 {
@@ -478,6 +617,10 @@ static void emit_segments(const bg_lut *t, const bg_lut_spec *s, const char *sym
     const char *xt = wide_x ? "uint32_t" : "uint16_t";
     if (t->aligned && s->target == BG_LUT_AVR && !flt && !wide_x && idx8) {
         emit_aligned(t, s, sym, up, f);
+        return;
+    }
+    if (t->chained) {
+        emit_chained(t, s, sym, up, f);
         return;
     }
     hook(f, s, up, "READ_CODE", wide_x ? "pgm_read_dword" : "pgm_read_word", "");

@@ -45,6 +45,24 @@ int bgi_lut_index(bg_lut *t, bg_error *err);
 ** otherwise 0 and 't' untouched. */
 int bgi_lut_aligned_try(const bg_lut_spec *s, bg_lut *t, const bgi_band *band);
 
+/* For a minimal table of integer values emitted for a target core: the chained form
+** (lut_chain.c) in 't' when it can be built and costs less than the compact form by what
+** 's->optimize' minimises: 1 (t->sx, sy, sm, n, frac 8, yoff, narrow, chained set), otherwise
+** 0 and 't' untouched. */
+int bgi_lut_chained_try(const bg_lut_spec *s, bg_lut *t, const bgi_band *band);
+
+/* The chained form's lookup at a code inside the range, with the emitted walk's arithmetic
+** (16-bit state, the slope split in bytes). */
+int32_t bgi_lut_chain_eval(const bg_lut *t, long code);
+
+/* The chained form's start state (whole counts, 2^-8 fraction) and segment i's stored bytes:
+** its length, the slope's high byte (signed) and low byte. */
+void bgi_lut_chain_start(const bg_lut *t, int32_t *whole, unsigned *frac);
+void bgi_lut_chain_bytes(const bg_lut *t, size_t i, unsigned *len, int *mh, unsigned *ml);
+
+/* The mean count of segments the chained walk visits per code of the range (lut_chain.c). */
+double bgi_lut_chain_steps(const bg_lut *t);
+
 /* Whether a uniform table's interpolation fits 16-bit arithmetic (the AVR form); lut_target.c */
 int bgi_lut_uniform16(const bg_lut *t);
 

@@ -39,7 +39,8 @@ static void target_row(FILE *f, const bg_lut_result *r)
     bgi_html_num(f, "span", "percall", "%.0f", c.per_call);
     fprintf(f, " <span class=\"unit\">%s</span> per conversion%s; measured on a reference table "
                "by make bench-firmware with <span class=\"toolchain\">", c.unit,
-            r->table.strategy == BG_LUT_MINIMAL ? " (scaled by its search steps)" : "");
+            r->table.chained ? " (by the segments it walks)"
+            : r->table.strategy == BG_LUT_MINIMAL ? " (scaled by its search steps)" : "");
     bgi_html_esc(f, c.measured);
     fputs("</span></td></tr>\n", f);
 }
