@@ -80,15 +80,22 @@ for tg in avr m0 m3 m4; do
              uniform:0.01:$tt minimal:0.01:$tt indexed:0.01:$tt indexed:q8:$tt \
              uniform:0.001:$tt minimal:0.001:$tt indexed:0.001:$tt \
              uniform:float:$tt minimal:float:$tt indexed:float:$tt \
-             $([ $tg = avr ] && echo indexed:0.01:avr-time indexed:0.1:avr-time indexed:q4:avr-time) \
+             minimal:0.01:$tt-time \
+             $([ $tg = avr ] && echo indexed:0.01:avr-time indexed:0.1:avr-time indexed:q4:avr-time minimal:0.01:avr-c) \
              sh:logf:- stub:int:-; do
         st=${c%%:*} rest=${c#*:} res=${rest%%:*} emit=${rest#*:}
-        # EMIT-time: emitted for EMIT with --optimize time (on the AVR: the aligned form)
-        opt=""; case $emit in *-time) emit=${emit%-time} opt="--optimize time" ;; esac
+        # EMIT-time: emitted for EMIT with --optimize time (on the AVR: the aligned form; a
+        # minimal table: its compact form, by flash the chained one); avr-c: the chained
+        # form's C walk instead of its assembly (T_PORTABLE_C)
+        opt=""; cdef=""; tag=""
+        case $emit in
+        *-time) emit=${emit%-time} opt="--optimize time" tag=-time ;;
+        *-c) emit=${emit%-c} cdef=-DT_PORTABLE_C tag=-c ;;
+        esac
         vt=int; [ "$res" = float ] && vt=float
         [ $tg = avr ] && [ $vt = float ] && [ "$emit" = host ] && continue
         [ "$emit" = "$tt" ] && [ $vt = float ] && [ $tg = m3 ] && continue
-        n=$W/$tg-$st-$res-$emit${opt:+-time}
+        n=$W/$tg-$st-$res-$emit$tag
         case $st in
         sh) cp "$HERE/sh_logf.c" "$n.c"; tb=0 ;;
         stub) cp "$HERE/stub.c" "$n.c"; tb=0 ;;
@@ -103,8 +110,8 @@ for tg in avr m0 m3 m4; do
            lut --strategy "$st" --resolution "$res" --target "$emit" $opt $EXTRA --format codes \
                -o "$n.codes" ;;
         esac
-        flags="-Os -std=c99 -ffp-contract=off -fstack-usage"
-        [ $tg = avr ] && flags="-Os -std=gnu99 -fstack-usage"
+        flags="-Os -std=c99 -ffp-contract=off -fstack-usage $cdef"
+        [ $tg = avr ] && flags="-Os -std=gnu99 -fstack-usage $cdef"
         [ $tg = avr ] && [ "$emit" = host ] && flags="$flags -include $HERE/avr_hooks.h"
         (cd "$W" && $cc $flags -c "$n.c" -o "$n.o")
         link $tg $vt "$n.o" "$n.elf"
@@ -112,9 +119,10 @@ for tg in avr m0 m3 m4; do
         stack=$(awk -F '\t' '$1 ~ /t_lookup$/ { print $2 }' "$n.su")
         per=$(run $tg "$n.elf" "$W/ref.codes")
         label="$st $res"; [ "$emit" != - ] && label="$label $emit"; [ -n "$opt" ] && label="$label time"
+        [ -n "$cdef" ] && label="$label C walk"
         printf '%-6s %-28s %8s %8s %7s %7s %10s %8s\n' $tg "$label" "$tb" "$(($1 - $3))" \
             "$(($2 - $4))" "$stack" "${per% *}" "${per#* }"
-        echo "$tg|$st|$res|$emit${opt:+-time}|$tb|$(($1 - $3))|$(($2 - $4))|$stack|${per% *}|${per#* }" >> "$W/cost.txt"
+        echo "$tg|$st|$res|$emit$tag|$tb|$(($1 - $3))|$(($2 - $4))|$stack|${per% *}|${per#* }" >> "$W/cost.txt"
         # on the AVR the same run gave every value: check them against the library's
         if [ $tg = avr ] && [ -f "$n.codes" ] &&
            ! "$PY" "$HERE/compare.py" "$n.codes" "$n.elf.out" "$tg $label" > "$n.cmp"; then
