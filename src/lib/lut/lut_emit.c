@@ -87,11 +87,6 @@ static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FI
     if (t->strategy == BG_LUT_UNIFORM)
         fprintf(f, "/*\n * ADC code -> temperature, %s, linear interpolation between\n"
                    " * breakpoints every %lu codes (uniform table).\n", vf, 1ul << t->shift);
-    else if (t->chained)
-        fprintf(f, "/*\n * ADC code -> temperature, %s, %zu straight segments\n"
-                   " * (minimal table, chained form: each segment starts where the previous one\n"
-                   " * ends and spans at most 255 codes; read by a walk from the first), within\n"
-                   " * %.6g K at every code.\n", vf, t->n, s->max_err_k);
     else if (t->aligned)
         fprintf(f, "/*\n * ADC code -> temperature, %s, %zu straight segments\n"
                    " * (indexed table, aligned form: every segment starts on a grid of %lu codes\n"
@@ -584,9 +579,12 @@ static void emit_chained(const bg_lut *t, const bg_lut_spec *s, const char *sym,
                "#define %s_START_VALUE %ldL\n#define %s_START_FRAC %uu\n", up, up, (long)whole,
             up, frac);
     sentinels(t, up, f);
-    fprintf(f, "/* per segment: its length in codes (it starts at the code and the value where\n"
-               " * the previous one ends), then its slope in 2^-8 counts per code as the high\n"
-               " * byte (two's complement) and the low byte */\n"
+    fprintf(f, "/* The chained form of the minimal table: each segment starts at the code and\n"
+               " * the value where the previous one ends, so the lookup walks them from the\n"
+               " * first (no binary search) and the segments are found for this arithmetic\n"
+               " * (not the fewest of any arithmetic).  Per segment: its length in codes, then\n"
+               " * its slope in 2^-8 counts per code as the high byte (two's complement) and the\n"
+               " * low byte. */\n"
                "static const uint8_t %s_chain[%zu] %s_ATTR = {\n", sym, t->n * 3, up);
     for (size_t i = 0; i < t->n; i++) {
         unsigned len, ml;
