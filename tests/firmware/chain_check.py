@@ -12,15 +12,50 @@ byte), and checks (1) the walk equals the library's value at every code and (2) 
 against the temperature computed here with numpy (the beta equation, common practice, for
 the invented 10k NTC, B 3950 K, on the 10k low-side divider: R = 10k x / (1 - x),
 x = code / 2^BITS) is within BOUND_K at every code, the values being 0.01 degC counts.
+With --least N it also computes, with scipy's linear programming (HiGHS), the fewest
+segments ANY table of straight segments of at most 256 codes each can have for these bands
+(chained or not, real start and slope: a relaxation of the integer arithmetic, so a lower
+bound; taking the longest feasible segment first is optimal because feasibility is
+hereditary), and checks that the file has no fewer (a sanity check of both) and no more
+than N above it.
 Prints an "ok" / "not ok" line.
 """
 import re
 import sys
 
 import numpy as np
+from scipy.optimize import linprog
+
+
+def feasible(lo, hi):
+    """Whether one real line a + m d lies in [lo_d, hi_d + 1] for d = 0 .. len - 1."""
+    d = np.arange(len(lo), dtype=float)
+    one = np.column_stack([np.ones_like(d), d])
+    r = linprog([0, 0], A_ub=np.vstack([one, -one]), b_ub=np.concatenate([hi + 1.0, -lo]),
+                bounds=[(None, None), (None, None)], method="highs")
+    return r.status == 0
+
+
+def least_segments(lo, hi, cap=256):
+    """The fewest segments of at most 'cap' codes (greedy longest, bisection)."""
+    s, n, nc = 0, 0, len(lo)
+    while s < nc:
+        a, b = s, min(nc - 1, s + cap - 1)
+        if not feasible(lo[s:b + 1], hi[s:b + 1]):
+            while b - a > 1:
+                m = (a + b) // 2
+                a, b = (m, b) if feasible(lo[s:m + 1], hi[s:m + 1]) else (a, m)
+            b = a
+        n, s = n + 1, b + 1
+    return n
 
 
 def main():
+    least = None
+    if "--least" in sys.argv:
+        k = sys.argv.index("--least")
+        least = int(sys.argv[k + 1])
+        del sys.argv[k:k + 2]
     name, cfile, codes, bits, bound = sys.argv[1], sys.argv[2], sys.argv[3], int(sys.argv[4]), \
         float(sys.argv[5])
     src = open(cfile, encoding="ascii").read()
@@ -65,6 +100,12 @@ def main():
         return
     print(f"ok firmware {name} numpy: {len(segs)} segments walked from the file equal the "
           f"library at all {hi - lo + 1} codes; largest error {worst:.6f} K <= {bound} K")
+    if least is not None:
+        v = 100.0 * (t_k - 273.15)
+        n = least_segments(np.ceil(v - 100.0 * bound), np.floor(v + 100.0 * bound))
+        ok = n <= len(segs) <= n + least
+        print(f"{'ok' if ok else 'not ok'} firmware {name} least: {len(segs)} segments; no "
+              f"table of segments of at most 256 codes has fewer than {n} (scipy linprog)")
 
 
 if __name__ == "__main__":

@@ -19,10 +19,12 @@
 ** current state, every slope of the three longest feasible lengths (up to 41 of them, evenly
 ** spread, when there are more) is tried and the one whose next segment then reaches
 ** furthest is kept; the start state likewise, over the band of the first code in steps of
-** 1/16 count.  A heuristic, not a proven minimum: on the reference table (12-bit 10k
-** divider, -40 .. 125 degC within 0.05 K) it gives 33 segments where the free starts of
-** the compact form give 30 of any length.  The bound itself is exact: every code is
-** checked with the walk's own arithmetic before the form is kept. */
+** 1/16 count.  A heuristic, not a proof of the least count in general: on the reference
+** table (12-bit 10k divider, -40 .. 125 degC within 0.05 K) it gives 33 segments, which is
+** the least any table of segments of at most 256 codes can have there (a linear-programming
+** bound, tests/firmware/chain_check.py), where the free starts of the compact form give 30
+** of any length.  The bound itself is exact: every code is checked with the walk's own
+** arithmetic before the form is kept. */
 #include <limits.h>
 #include <stdlib.h>
 #include <string.h>
