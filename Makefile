@@ -47,7 +47,7 @@ DEMO_CSV = $(sort $(wildcard db/demo/*.csv))
 MIGRATIONS = $(sort $(wildcard db/[0-9][0-9][0-9]-*.sql))
 PG_MIGRATIONS = $(sort $(wildcard db/pg/[0-9][0-9][0-9]-*.sql))
 
-.PHONY: all deps test check sanitize demo bench bench-firmware bench-pg install uninstall clean headers fmt fuzz \
+.PHONY: all deps test check sanitize demo bench bench-firmware bench-lots bench-pg install uninstall clean headers fmt fuzz \
         fuzz-replay install-check
 
 # The sanitizer build makes no shared library (its runtime is linked into programs only).
@@ -286,6 +286,10 @@ demo: all
 bench: all
 	@sh tests/bench/run.sh $(BUILD) $(PYTHON) $(CC) "$(CFLAGS_ALL)" "$(PKG_LIBS)"
 	@sh tests/pg/server.sh sh tests/pg/bench.sh $(BUILD)/bandgap
+
+# The lot commands' part of the bench alone (tests/bench/lots.sh; BENCH_PROBES, BENCH_DB_DIR).
+bench-lots: all
+	@sh tests/bench/lots.sh $(BUILD) $(PYTHON) $(CC) "$(CFLAGS_ALL)" "$(PKG_LIBS)"
 
 # The PostgreSQL backend's benchmark alone (a throwaway server, as the tests start it).
 bench-pg: all

@@ -80,66 +80,9 @@ run_path() {
     then echo "$2: not run (stopped at a smaller size)"
     else k=$1 l=$2; shift 2; pair --key "$k" --label "$l" "$@"; fi
 }
-# shellcheck disable=SC2086
-$CC $CFLAGS tests/bench/bench_db.c -o "$out/bench_db" "$BUILD/libbandgap.a" $LIBS
-
-# The anchors: plain scans of the same rows with the sqlite3 shell, printed to /dev/null.
-cat > "$out/fits.sql" <<'SQL'
-SELECT p.serial, r.started_at, f.* FROM lot l JOIN probe p ON p.lot_id = l.id
-  JOIN run r ON r.probe_id = p.id JOIN fit f ON f.run_id = r.id WHERE l.code = 'BENCH';
-SQL
-cat > "$out/readings.sql" <<'SQL'
-SELECT p.serial, g.id, g.t_k, g.r_ohm, g.u_t_k, g.u_r_ohm FROM lot l
-  JOIN probe p ON p.lot_id = l.id JOIN run r ON r.probe_id = p.id
-  JOIN reading g ON g.run_id = r.id WHERE l.code = 'BENCH';
-SQL
-cat > "$out/export.sql" <<'SQL'
-SELECT p.serial, r.*, g.*, x.reason, x.by_whom, x.at FROM lot l
-  JOIN probe p ON p.lot_id = l.id JOIN run r ON r.probe_id = p.id
-  JOIN reading g ON g.run_id = r.id LEFT JOIN exclusion x ON x.reading_id = g.id
-  WHERE l.code = 'BENCH';
-SQL
-cat "$out/fits.sql" >> "$out/export.sql"
-fits="sqlite3 -readonly $out/hist.db < $out/fits.sql"
-
-echo "lots of invented probes, at $probes probes: bench_db 'setup' (N probes x 10 readings, one run" \
-     "each, unfitted) and 'setup3' (N probes x 3 calibrations, every run fitted); the anchors are" \
-     "the sqlite3 shell's scan of the same rows (readings or fits of the lot) to /dev/null"
-# shellcheck disable=SC2086
-big=$(last $probes)
-for n in $probes; do
-    rm -f "$out/lot.db" "$out/hist.db"
-    "$out/bench_db" setup "$out/lot.db" "$n" 10 > /dev/null
-    "$out/bench_db" setup3 "$out/hist.db" "$n" > /dev/null
-    t3=""; [ "$n" = "$big" ] && t3="--target le:3"
-    # shellcheck disable=SC2086
-    {
-    run_path fitlot "fit --lot BENCH --model sh3, $n probes x 10 readings / sqlite3 scan of the readings" \
-        $t3 --size "$n" --setup "cp $out/lot.db $out/x.db" \
-        "$bg --db $out/x.db fit --lot BENCH --model sh3" "sqlite3 $out/x.db < $out/readings.sql"
-    run_path drift "drift --lot BENCH, $n probes x 3 fits / sqlite3 scan of the fits" \
-        $t3 --size "$n" --ok-rc 0,1 "$bg --db $out/hist.db drift --lot BENCH" "$fits"
-    run_path report "report --lot BENCH -o FILE, $n probes x 3 fits / sqlite3 scan of the fits" \
-        $t3 --size "$n" --setup "cp $out/hist.db $out/x.db; rm -f $out/lot.html" \
-        "$bg --db $out/x.db report --lot BENCH -o $out/lot.html" "sqlite3 $out/x.db < $out/fits.sql"
-    run_path export "export --lot BENCH --json, $n probes x 3 runs / sqlite3 scan of the runs, readings and fits" \
-        $t3 --size "$n" "$bg --db $out/hist.db export --lot BENCH --json" \
-        "sqlite3 -readonly $out/hist.db < $out/export.sql"
-    }
-done
-slope --key fitlot --label "fit --lot" --unit probes
-slope --key drift --label "drift --lot" --unit probes
-slope --key report --label "report --lot" --unit probes
-slope --key export --label "export --lot --json" --unit probes
-# The library paths the bench timed before the commands, at the largest size (bench_db).
-pair --label "library: the lot's readings read back (bench_db read), $big probes / sqlite3 scan of the readings" \
-    "$out/bench_db read $out/lot.db" "sqlite3 -readonly $out/lot.db < $out/readings.sql"
-pair --label "library: every probe fitted and stored in one transaction (bench_db fit), $big probes / read back" \
-    --target le:2 --setup "cp $out/lot.db $out/x.db" \
-    "$out/bench_db fit $out/x.db" "$out/bench_db read $out/x.db"
-pair --label "library: drift against previous and first with the lot statistics (bench_db drift), $big probes / sqlite3 scan of the fits" \
-    --target le:3 "$out/bench_db drift $out/hist.db $big" "$fits"
-rm -f "$out/lot.db" "$out/hist.db" "$out/x.db" "$out/lot.html"
+# (tests/bench/lots.sh: the lot commands, fit --lot, drift, report and export --lot --json,
+# at BENCH_PROBES probes; also run alone by make bench-lots)
+sh tests/bench/lots.sh "$BUILD" "$PYTHON" "$CC" "$CFLAGS" "$LIBS"
 
 # ---- fit FILE: one probe with many readings --------------------------------------------
 # gen N FILE: N invented readings of one probe (1/T = A + B L + C L^3 with invented

@@ -9,7 +9,8 @@ pair runs, each round, the figure and the anchor once, alternating which goes fi
 machine's speed drifts over seconds, so side by side means interleaved); before each
 command it runs --setup (untimed; e.g. a fresh copy of a database the command writes). It
 prints the median and the range (min..max) of the per-round ratio figure/anchor, the
-median times, the target and PASS or MISS.  Options:
+median times, the machine's 1-minute load average (smallest..largest, read before the first
+round and after each), the target and PASS or MISS.  Options:
   --label TEXT       what is measured (printed)
   --rounds N         rounds (default 5; fewer than 5 is refused)
   --setup CMD        run before every timed command, untimed
@@ -134,6 +135,7 @@ def pair(args):
     ok_rc = {int(x) for x in opt["ok-rc"].split(",")}
     timeout = float(opt["timeout"])
     tf, ta, ratios, rf, ra = [], [], [], [], []
+    loads = [os.getloadavg()[0]]
     state = "ok"
     why = ""
     try:
@@ -147,6 +149,7 @@ def pair(args):
                 times.append(dt)
                 rsss.append(kb)
             ratios.append(tf[-1] / ta[-1])
+            loads.append(os.getloadavg()[0])
     except Stopped:
         state = "stopped"
     except Failed as e:
@@ -161,14 +164,15 @@ def pair(args):
         tgt += (", " if tgt else "") + "< %g s" % float(opt["max-s"])
     if opt["max-rss-mb"]:
         tgt += (", " if tgt else "") + "peak RSS < %g MB" % float(opt["max-rss-mb"])
+    load = "load %.2f..%.2f" % (min(loads), max(loads))
     if state == "failed":
         print("%s: FAILED (%s)" % (label, why))
         return 0
     if state == "stopped" and not ratios:
         done = ta[0] if ta else None
-        print("%s: figure did not finish in %s (stopped)%s; target %s: MISS" % (
+        print("%s: figure did not finish in %s (stopped)%s; %s; target %s: MISS" % (
             label, fmt_s(timeout),
-            ", anchor %s" % fmt_s(done) if done else "",
+            ", anchor %s" % fmt_s(done) if done else "", load,
             tgt or "none"))
         record(opt, timeout, done, math.inf, "stopped")
         return 0
@@ -178,8 +182,8 @@ def pair(args):
         verdicts.append(OPS[op][1](mr, x))
     if opt["max-s"]:
         verdicts.append(mf < float(opt["max-s"]))
-    line = "%s: ratio %.3g (range %.3g..%.3g, %d rounds); figure %s, anchor %s (medians)" % (
-        label, mr, lo, hi, len(ratios), fmt_s(mf), fmt_s(ma))
+    line = "%s: ratio %.3g (range %.3g..%.3g, %d rounds); figure %s, anchor %s (medians); %s" % (
+        label, mr, lo, hi, len(ratios), fmt_s(mf), fmt_s(ma), load)
     if rss:
         kf = max(k for k in rf if k is not None) / 1024.0
         ka = max(k for k in ra if k is not None) / 1024.0

@@ -38,6 +38,11 @@ with open(log) as f:
     seq = "".join(f.read().split())
 check("pair_interleaves", seq == "SFSA" "SASF" "SFSA" "SASF" "SFSA" "SASF", seq)
 check("pair_reports_rounds", rc == 0 and "order: ratio " in text and "6 rounds" in text, text)
+# The load average beside the figure: the smallest and largest 1-minute load seen over the
+# rounds (os.getloadavg), the smaller first.
+lo_hi = text.split("; load ")[1].split(";")[0].split("..") if "; load " in text else []
+check("pair_reports_load", len(lo_hi) == 2 and 0.0 <= float(lo_hi[0]) <= float(lo_hi[1]),
+      text)
 
 # The summary: median and range of the per-round ratios (numpy's median as the check).
 tf = [1.0, 4.0, 2.5, 3.0, 9.0, 2.0]

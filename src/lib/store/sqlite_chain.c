@@ -100,8 +100,12 @@ static int record_hash(bgi_conn *c, int k, long long id, const char prev[65], ch
     put_row(&h, q, c->chain_order[k], c->chain_ncol[k]);
     sqlite3_reset(q);
     if (strcmp(bgi_chain_kinds[k], "run") == 0) {
-        if ((rc = row_stmt(c, BGI_CHAIN_KINDS, "SELECT * FROM reading WHERE run_id = ?1 "
-                           "ORDER BY id", &q, err)) != BG_OK)
+        /* the run's readings through its id range (first_reading, nreadings: the run's own
+        ** row, hashed above) rather than a scan of the whole table, which has no index on
+        ** run_id; verify's stray_readings finds a reading of the run outside that range */
+        if ((rc = row_stmt(c, BGI_CHAIN_KINDS, "SELECT g.* FROM run r JOIN reading g ON g.id "
+                           "BETWEEN r.first_reading AND r.first_reading + r.nreadings - 1 AND "
+                           "g.run_id = r.id WHERE r.id = ?1 ORDER BY g.id", &q, err)) != BG_OK)
             return rc;
         sqlite3_bind_int64(q, 1, id);
         while ((s = sqlite3_step(q)) == SQLITE_ROW) {
@@ -300,6 +304,31 @@ static int unchained(bgi_conn *c, bg_store_check *out, bg_error *err)
     return BG_OK;
 }
 
+/* Every reading lies in its run's id range, so that the run's record (which reads its
+** readings through that range) covers all of them: a reading added outside bandgap to a run
+** is found here. */
+static int stray_readings(bgi_conn *c, bg_store_check *out, bg_error *err)
+{
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "SELECT g.id, r.id FROM reading g JOIN run r ON r.id = g.run_id "
+                         "WHERE g.id NOT BETWEEN r.first_reading AND r.first_reading + "
+                         "r.nreadings - 1 ORDER BY g.id LIMIT 1", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    int s = sqlite3_step(q);
+    if (s == SQLITE_ROW) {
+        long long g = sqlite3_column_int64(q, 0), run = sqlite3_column_int64(q, 1);
+        out->bad = 1, out->bad_seq = 0, out->bad_id = run;
+        snprintf(out->bad_kind, sizeof out->bad_kind, "run");
+        snprintf(out->problem, sizeof out->problem, "reading %lld of run %lld lies outside "
+                 "the run's own readings (added outside bandgap)", g, run);
+    } else if (s != SQLITE_DONE) {
+        rc = bgi_db_fail(c, err, "cannot read the readings");
+    }
+    sqlite3_finalize(q);
+    return rc;
+}
+
 int bgi_sqlite_verify(bgi_conn *c, bg_store_check *out, bg_error *err)
 {
     int found;
@@ -315,5 +344,7 @@ int bgi_sqlite_verify(bgi_conn *c, bg_store_check *out, bg_error *err)
     int rc = walk(c, out, err);
     if (rc == BG_OK && !out->bad)
         rc = unchained(c, out, err);
+    if (rc == BG_OK && !out->bad)
+        rc = stray_readings(c, out, err);
     return rc;
 }
