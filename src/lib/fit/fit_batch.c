@@ -28,7 +28,17 @@
 
 /* One lane-wide vector: element l belongs to the probe in lane l. */
 typedef double lane[LANES];
-#define EACH(l) for (size_t l = 0; l < LANES; l++)
+/* Every lane loop touches element l of its arrays only (no lane reads another's element
+** that the loop writes), so the compiler is told that the iterations are independent: it
+** would otherwise keep a scalar copy of each loop for the arrays it cannot prove apart. */
+#if defined(__clang__)
+#define BG_LANES_INDEPENDENT _Pragma("clang loop vectorize(assume_safety)")
+#elif defined(__GNUC__)
+#define BG_LANES_INDEPENDENT _Pragma("GCC ivdep")
+#else
+#define BG_LANES_INDEPENDENT
+#endif
+#define EACH(l) BG_LANES_INDEPENDENT for (size_t l = 0; l < LANES; l++)
 
 /* The lanes' arrays in the fitter's batch area, for 'n' points and 'nb' columns. */
 struct lanes {
@@ -82,7 +92,7 @@ BG_INLINE void pivot_all(double *restrict A, struct qr_lanes *q, size_t n, size_
 ** lane has the same permutation (the usual case) it is applied as indices, without selects. */
 BG_INLINE void unpivot_lanes(const struct qr_lanes *q, size_t p, lane *c, lane *cov)
 {
-    lane cs[MAXB];
+    lane cs[MAXB] = { { 0 } };
     size_t pm[MAXB];
     int same = 1;
     for (size_t i = 0; i < p; i++) {
@@ -128,8 +138,8 @@ BG_INLINE void unpivot_lanes(const struct qr_lanes *q, size_t p, lane *c, lane *
 ** the solution goes to 'c', the unscaled covariance to 'cov', the column norms to 'scale';
 ** bad[l] becomes 1 where qr_core would return BG_ENUM. */
 BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t p,
-                        double min_rcond, struct qr_lanes *q, lane *c, lane *cov, lane *scale,
-                        double *rcond, double *bad)
+                        double min_rcond, struct qr_lanes *restrict q, lane *c, lane *cov,
+                        lane *scale, double *restrict rcond, double *restrict bad)
 {
     EACH(l) bad[l] = 0.0;
     for (size_t j = 0; j < p; j++) {
@@ -137,12 +147,11 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
         lane s = { 0 }, inv;
         for (size_t i = 0; i < n; i++)
             EACH(l) s[l] += col[i * LANES + l] * col[i * LANES + l];
-        EACH(l) {
-            s[l] = sqrt(s[l]);
-            bad[l] = (!(s[l] > 0.0) || !isfinite(s[l])) ? 1.0 : bad[l];
-            q->colscale[j][l] = s[l], inv[l] = 1.0 / s[l];
-            q->perm[j][l] = (double)j, q->work[j][l] = 1.0;
-        }
+        EACH(l) s[l] = sqrt(s[l]);
+        EACH(l) bad[l] = s[l] > 0.0 ? bad[l] : 1.0;
+        EACH(l) bad[l] = fabs(s[l]) <= DBL_MAX ? bad[l] : 1.0; /* isfinite, without a call */
+        EACH(l) q->colscale[j][l] = s[l], inv[l] = 1.0 / s[l];
+        EACH(l) q->perm[j][l] = (double)j, q->work[j][l] = 1.0;
         for (size_t i = 0; i < n; i++)
             EACH(l) col[i * LANES + l] *= inv[l];
     }
@@ -164,9 +173,10 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
         double *restrict v = A + k * n * LANES;
         for (size_t i = k; i < n; i++)
             EACH(l) norm2[l] += v[i * LANES + l] * v[i * LANES + l];
+        EACH(l) norm2[l] = sqrt(norm2[l]); /* the norm */
+        EACH(l) bad[l] = norm2[l] > 0.0 ? bad[l] : 1.0;
         EACH(l) {
-            double norm = sqrt(norm2[l]);
-            bad[l] = !(norm > 0.0) ? 1.0 : bad[l];
+            double norm = norm2[l];
             alpha[l] = v[k * LANES + l] > 0.0 ? -norm : norm;
             v[k * LANES + l] -= alpha[l];
             vtv[l] = 2.0 * norm * (norm + fabs(v[k * LANES + l] + alpha[l]));
@@ -232,13 +242,18 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
 BG_INLINE void linear_lanes(struct lanes *z, struct qr_lanes *q, double min_rcond, size_t p)
 {
     size_t n = z->n;
-    for (size_t i = 0; i < n; i++)
+    const double *restrict T = z->t, *restrict U = z->u, *restrict G = z->G;
+    double *restrict A = z->A, *restrict B = z->b;
+    for (size_t i = 0; i < n; i++) { /* one loop over the lanes per statement: vectorised */
+        lane sw;
         EACH(l) {
-            double t = z->t[i * LANES + l], sw = t * t / z->u[i * LANES + l];
-            for (size_t j = 0; j < p; j++)
-                z->A[(j * n + i) * LANES + l] = z->G[(i * p + j) * LANES + l] * sw;
-            z->b[i * LANES + l] = sw / t;
+            double t = T[i * LANES + l];
+            sw[l] = t * t / U[i * LANES + l];
+            B[i * LANES + l] = sw[l] / t;
         }
+        for (size_t j = 0; j < p; j++)
+            EACH(l) A[(j * n + i) * LANES + l] = G[(i * p + j) * LANES + l] * sw[l];
+    }
     qr_lanes(z->A, z->b, n, p, min_rcond, q, z->c, z->cov, z->scale, z->rcond, z->bad);
 }
 
@@ -248,15 +263,17 @@ BG_INLINE void chi2_lanes(struct lanes *z, const lane *c, size_t p, const double
                           double *chi2)
 {
     lane s = { 0 }, fin;
+    const double *restrict T = z->t, *restrict U = z->u, *restrict G = z->G;
+    double *restrict TM = z->tm;
     EACH(l) fin[l] = 1.0;
     for (size_t i = 0; i < z->n; i++) {
         lane f = { 0 };
         for (size_t j = 0; j < p; j++)
-            EACH(l) f[l] += c[j][l] * z->G[(i * p + j) * LANES + l];
+            EACH(l) f[l] += c[j][l] * G[(i * p + j) * LANES + l];
         EACH(l) {
-            double tm = 1.0 / f[l], r = (tm - z->t[i * LANES + l]) / z->u[i * LANES + l];
-            fin[l] = !(f[l] > 0.0) ? 0.0 : fin[l];
-            z->tm[i * LANES + l] = write[l] != 0.0 ? tm : z->tm[i * LANES + l];
+            double tm = 1.0 / f[l], r = (tm - T[i * LANES + l]) / U[i * LANES + l];
+            fin[l] = f[l] > 0.0 ? fin[l] : 0.0;
+            TM[i * LANES + l] = write[l] != 0.0 ? tm : TM[i * LANES + l];
             s[l] += r * r;
         }
     }
@@ -279,13 +296,19 @@ BG_INLINE void refine_lanes(struct lanes *z, struct qr_lanes *q, const bg_fit_op
         EACH(l) any |= z->run[l] != 0.0;
         if (!any)
             return;
-        for (size_t i = 0; i < n; i++)
+        const double *restrict T = z->t, *restrict U = z->u, *restrict G = z->G;
+        const double *restrict TM = z->tm;
+        double *restrict A = z->A, *restrict B = z->b;
+        for (size_t i = 0; i < n; i++) {
+            lane t2;
             EACH(l) {
-                double tm = z->tm[i * LANES + l], u = z->u[i * LANES + l], t2 = tm * tm / u;
-                for (size_t j = 0; j < p; j++)
-                    z->A[(j * n + i) * LANES + l] = -t2 * z->G[(i * p + j) * LANES + l];
-                z->b[i * LANES + l] = -(tm - z->t[i * LANES + l]) / u;
+                double tm = TM[i * LANES + l], u = U[i * LANES + l];
+                t2[l] = tm * tm / u;
+                B[i * LANES + l] = -(tm - T[i * LANES + l]) / u;
             }
+            for (size_t j = 0; j < p; j++)
+                EACH(l) A[(j * n + i) * LANES + l] = -t2[l] * G[(i * p + j) * LANES + l];
+        }
         lane cov[MAXB * MAXB], rcond, bad, cmax = { 0 }, dmax = { 0 }, trial[MAXB];
         qr_lanes(z->A, z->b, n, p, o->min_rcond, q, z->step, cov, z->scale, rcond, bad);
         for (size_t j = 0; j < p; j++)
@@ -334,7 +357,7 @@ BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, siz
 {
     size_t n = z->n;
     const double *restrict T = z->t, *restrict tm = z->tm, *restrict U = z->u, *restrict G = z->G;
-    double *restrict st = z->b, floor_k = o->resolution_k / sqrt(12.0);
+    double *restrict st = z->b, *restrict rs = z->A, floor_k = o->resolution_k / sqrt(12.0);
     double dd = (double)(dof - 1);
     int dof_ok = dof > 1;
     lane chi2 = { 0 }, ss = { 0 }, mx = { 0 }, tmin, tmax, lmin, lmax, wt, flag = { 0 };
@@ -371,13 +394,16 @@ BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, siz
             s2 = ((wt[l] != 0.0) & (s2 < 1.0)) ? 1.0 : s2;
             double q = s2 * (1.0 - hh);
             st[i * LANES + l] = s2 > 0.0 ? q : NAN;
-            z->A[i * LANES + l] = r;
+            rs[i * LANES + l] = r;
         }
     }
-    for (size_t k = 0; k < n * LANES; k++) {
-        double q = st[k];
-        st[k] = q == q ? z->A[k] / sqrt(q) : NAN;
-        flag[k % LANES] = fabs(st[k]) > o->student_limit ? 1.0 : flag[k % LANES];
+    double limit = o->student_limit;
+    for (size_t i = 0; i < n; i++) {
+        EACH(l) {
+            double q = st[i * LANES + l];
+            st[i * LANES + l] = q == q ? rs[i * LANES + l] / sqrt(q) : NAN;
+        }
+        EACH(l) flag[l] = fabs(st[i * LANES + l]) > limit ? 1.0 : flag[l];
     }
     EACH(l) {
         f->chi2[l] = chi2[l], f->ss[l] = ss[l], f->mx[l] = mx[l];
@@ -589,6 +615,14 @@ __attribute__((target("avx2"))) static void kernel_avx2(struct lanes *z, const b
 {
     kernel_body(z, o, mode, iters, f);
 }
+
+#define BG_HAVE_AVX512 1
+__attribute__((target("avx512f,prefer-vector-width=512"))) static void
+kernel_avx512(struct lanes *z, const bg_fit_opts *o, int *mode, unsigned *iters,
+              struct fin_lanes *f)
+{
+    kernel_body(z, o, mode, iters, f);
+}
 #endif
 
 int bgi_batch_kernel_usable(int kernel)
@@ -598,6 +632,9 @@ int bgi_batch_kernel_usable(int kernel)
     case BGI_KERNEL_PORTABLE: return 1;
 #ifdef BG_HAVE_AVX2
     case BGI_KERNEL_AVX2: __builtin_cpu_init(); return __builtin_cpu_supports("avx2") != 0;
+    case BGI_KERNEL_AVX512:
+        __builtin_cpu_init();
+        return __builtin_cpu_supports("avx512f") != 0;
 #endif
     default: return 0;
     }
@@ -609,7 +646,13 @@ static void run_kernel(const bg_fitter *fr, struct lanes *z, const bg_fit_opts *
                        unsigned *iters, struct fin_lanes *f)
 {
 #ifdef BG_HAVE_AVX2
-    int k = fr->batch_kernel == BGI_KERNEL_AUTO ? BGI_KERNEL_AVX2 : fr->batch_kernel;
+    int k = fr->batch_kernel;
+    if (k == BGI_KERNEL_AUTO)
+        k = bgi_batch_kernel_usable(BGI_KERNEL_AVX512) ? BGI_KERNEL_AVX512 : BGI_KERNEL_AVX2;
+    if (k == BGI_KERNEL_AVX512 && bgi_batch_kernel_usable(BGI_KERNEL_AVX512)) {
+        kernel_avx512(z, o, mode, iters, f);
+        return;
+    }
     if (k == BGI_KERNEL_AVX2 && bgi_batch_kernel_usable(BGI_KERNEL_AVX2)) {
         kernel_avx2(z, o, mode, iters, f);
         return;
