@@ -437,6 +437,7 @@ struct fin_job {
     const bg_fit_opts *o;
     const unsigned *pw;
     size_t npar;
+    double log_n; /* ln n, for the BIC */
 };
 
 /* Lane 'l''s results into 'out' exactly as bgi_fit_finish writes them, when it has nothing to
@@ -472,7 +473,7 @@ static int finish_lane(const struct fin_job *fj, size_t l, const bg_point *pts, 
                               : out->reduced_chi2;
     double dn = (double)n, k = (double)out->npar;
     double m2ll = weighted ? chi2 : dn * log(fmax(ss, dn * 1e-18) / dn);
-    out->aic = m2ll + 2.0 * k, out->bic = m2ll + k * log(dn);
+    out->aic = m2ll + 2.0 * k, out->bic = m2ll + k * fj->log_n;
     /* fit.c's fit_coefficients */
     memset(a, 0, sizeof a);
     for (size_t j = 0; j < nb; j++)
@@ -509,26 +510,91 @@ static int batch_reserve(bg_fitter *fr, size_t n, size_t nb)
     return BG_OK;
 }
 
-/* Fill the lanes from the probes p0 .. p0 + LANES - 1; a lane that is not fitted here carries
-** a copy of lane 'first' so that it computes on sound numbers. */
-static void load_lanes(struct lanes *z, const bg_point *pts, size_t p0, const int *mode,
-                       const int *weighted, size_t first, const unsigned *pw)
+/* The readings of the probes p0 .. p0 + m - 1 (m <= LANES) into the lanes as they are: T into
+** z->t, R into z->L, u(T) into z->u, u(R) into z->tm; a lane past 'm' carries lane 0's. */
+static void gather_lanes(struct lanes *z, const bg_point *pts, size_t p0, size_t m)
 {
-    size_t n = z->n, nb = z->nb;
+    size_t n = z->n;
+    for (size_t l = 0; l < LANES; l++) {
+        const bg_point *pp = pts + (p0 + (l < m ? l : 0)) * n;
+        for (size_t i = 0; i < n; i++) {
+            z->t[i * LANES + l] = pp[i].t_k, z->L[i * LANES + l] = pp[i].r_ohm;
+            z->u[i * LANES + l] = pp[i].u_t_k, z->tm[i * LANES + l] = pp[i].u_r_ohm;
+        }
+    }
+}
+
+/* quick_check's guard rails on every lane at once, for the shape of a calibration whose
+** answer needs no counting: every reading finite, R > 0, u(T) >= 0, no u(R), T rising from
+** above 0 K by more than both the setpoint gap and the monotonicity gap at every step (then
+** each reading is its own setpoint, ndistinct = n, and the reading a monotonicity check
+** compares with is the one before), R falling at every step, u(T) stated on every reading or
+** on none.  ok[l] = 1 where lane l passes, has_u[l] = 1 where it states u(T); a lane that does
+** not pass goes through quick_check and bgi_fit_check, which decide it as before. */
+static void check_lanes(const struct lanes *z, const bg_fit_opts *o, double *restrict ok,
+                        double *restrict has_u)
+{
+    size_t n = z->n;
+    const double *restrict T = z->t, *restrict R = z->L, *restrict UT = z->u, *restrict UR = z->tm;
+    double sg = o->setpoint_gap_k, mg = o->mono_gap_k, big = DBL_MAX;
+    lane good, all;
+    EACH(l) good[l] = T[l] > 0.0 ? 1.0 : 0.0, has_u[l] = 0.0, all[l] = 1.0;
+    for (size_t i = 0; i < n; i++) {
+        EACH(l) {
+            double t = T[i * LANES + l], r = R[i * LANES + l], ut = UT[i * LANES + l];
+            int g = (fabs(t) <= big) & (fabs(r) <= big) & (fabs(ut) <= big) & (r > 0.0) &
+                    (ut >= 0.0) & (UR[i * LANES + l] == 0.0);
+            good[l] = g ? good[l] : 0.0;
+        }
+        EACH(l) has_u[l] = UT[i * LANES + l] > 0.0 ? 1.0 : has_u[l];
+        EACH(l) all[l] = UT[i * LANES + l] > 0.0 ? all[l] : 0.0;
+    }
+    for (size_t i = 1; i < n; i++)
+        EACH(l) {
+            double d = T[i * LANES + l] - T[(i - 1) * LANES + l];
+            int g = (d > 0.0) & (d > sg) & (d > mg) & (R[i * LANES + l] < R[(i - 1) * LANES + l]);
+            good[l] = g ? good[l] : 0.0;
+        }
+    EACH(l) ok[l] = (good[l] != 0.0) & (has_u[l] == all[l]) ? 1.0 : 0.0;
+}
+
+/* The lanes gathered by gather_lanes made ready for the kernel: a lane that is not fitted here
+** takes lane 'first''s readings, so that it computes on sound numbers; then L = ln R with the C
+** library's log, as the per-probe path; w[l] = 1 where the lane is weighted. */
+static void load_lanes(struct lanes *z, const int *mode, const int *weighted, size_t first,
+                       double *w)
+{
+    size_t n = z->n;
     for (size_t l = 0; l < LANES; l++) {
         size_t src = mode[l] == LANE_BATCH ? l : first;
-        const bg_point *pp = pts + (p0 + src) * n;
-        for (size_t i = 0; i < n; i++) {
-            double L = log(pp[i].r_ohm), pows[MAXB];
-            z->t[i * LANES + l] = pp[i].t_k;
-            z->L[i * LANES + l] = L;
-            z->u[i * LANES + l] = weighted[src] ? (pp[i].u_t_k > 0.0 ? pp[i].u_t_k : 1.0) : 1.0;
-            pows[0] = 1.0;
-            for (size_t k = 1; k < MAXB; k++)
-                pows[k] = pows[k - 1] * L;
-            for (size_t j = 0; j < nb; j++)
-                z->G[(i * nb + j) * LANES + l] = pows[pw[j]];
-        }
+        w[l] = weighted[src] ? 1.0 : 0.0;
+        if (src != l)
+            for (size_t i = 0; i < n; i++) {
+                z->t[i * LANES + l] = z->t[i * LANES + src];
+                z->L[i * LANES + l] = z->L[i * LANES + src];
+                z->u[i * LANES + l] = z->u[i * LANES + src];
+            }
+    }
+    for (size_t k = 0; k < n * LANES; k++)
+        z->L[k] = log(z->L[k]);
+}
+
+/* The weights u (u(T) where the lane's probe states it, else 1 K; 1 K throughout when 'w' says
+** unweighted) and the basis rows G of the columns 'pw', as fit.c's fit_start makes them. */
+BG_INLINE void basis_lanes(struct lanes *z, const double *w, const unsigned *pw)
+{
+    size_t n = z->n, nb = z->nb;
+    double *restrict U = z->u, *restrict G = z->G;
+    const double *restrict Lr = z->L;
+    for (size_t i = 0; i < n; i++) {
+        lane pows[MAXB];
+        EACH(l) U[i * LANES + l] = (w[l] != 0.0) & (U[i * LANES + l] > 0.0) ? U[i * LANES + l]
+                                                                             : 1.0;
+        EACH(l) pows[0][l] = 1.0;
+        for (size_t k = 1; k < MAXB; k++)
+            EACH(l) pows[k][l] = pows[k - 1][l] * Lr[i * LANES + l];
+        for (size_t j = 0; j < nb; j++)
+            EACH(l) G[(i * nb + j) * LANES + l] = pows[pw[j]][l];
     }
 }
 
@@ -592,6 +658,9 @@ BG_INLINE void kernel_body(struct lanes *z, const bg_fit_opts *o, int *mode, uns
                            struct fin_lanes *f)
 {
     size_t dof = z->n - bg_model_npar(&o->model);
+    unsigned pw[MAXB];
+    bg_model_basis(&o->model, pw);
+    basis_lanes(z, f->weighted, pw);
     fit_lanes(z, o, mode, iters);
     switch (z->nb) { /* the column count as a constant, so that the loops over it unroll */
     case 2: finish_lanes(z, o, 2, dof, f); break;
@@ -741,7 +810,7 @@ static void finish_block(bg_fitter *fr, struct lanes *z, const struct batch_job 
     size_t npar = bg_model_npar(&jb->o->model), n = z->n;
     bg_fit_opts op = *jb->o;
     bg_model_basis(&op.model, pw);
-    struct fin_job fj = { fr, z, f, jb->o, pw, npar };
+    struct fin_job fj = { fr, z, f, jb->o, pw, npar, log((double)n) };
     for (size_t l = 0; l < LANES; l++) {
         size_t p = p0 + l;
         if (mode[l] != LANE_BATCH || finish_lane(&fj, l, jb->pts + p * n, iters[l], &jb->out[p]))
@@ -764,17 +833,29 @@ static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size
     bg_fit_opts op = *jb->o;
     size_t npar = bg_model_npar(&op.model);
 
+    lane ok, has_u;
+    double *v = fr->batch;
     z.n = n, z.nb = bg_model_basis(&op.model, pw);
+    z.t = v, z.u = v + n * LANES, z.L = v + 2 * n * LANES, z.tm = v + 3 * n * LANES;
+    z.b = v + 4 * n * LANES, z.G = v + 5 * n * LANES, z.A = z.G + z.nb * n * LANES;
+    gather_lanes(&z, pts, p0, m);
+    check_lanes(&z, &op, ok, has_u);
     for (size_t l = 0; l < LANES; l++) {
         size_t p = p0 + l;
         mode[l] = LANE_DONE;
         if (l >= m)
             continue;
-        op.source = jb->sources ? jb->sources[p] : jb->o->source;
         jb->errs[p].code = BG_OK, jb->errs[p].msg[0] = '\0';
-        if (!quick_check(fr, pts + p * n, n, &op, npar, &weighted[l], &jb->out[p]) &&
-            bgi_fit_check(fr, pts + p * n, n, &op, &weighted[l], &jb->out[p], &jb->errs[p]) !=
-                BG_OK)
+        bg_fit *out = &jb->out[p];
+        if (ok[l] != 0.0 && fr->cap >= n && n >= npar && out_reserve(out, n) == BG_OK) {
+            weighted[l] = has_u[l] != 0.0, out->nnotes = 0, out->ndistinct = n;
+            mode[l] = LANE_BATCH;
+            first = first == LANES ? l : first;
+            continue;
+        }
+        op.source = jb->sources ? jb->sources[p] : jb->o->source;
+        if (!quick_check(fr, pts + p * n, n, &op, npar, &weighted[l], out) &&
+            bgi_fit_check(fr, pts + p * n, n, &op, &weighted[l], out, &jb->errs[p]) != BG_OK)
             continue;
         mode[l] = LANE_BATCH;
         for (size_t i = 0; i < n && weighted[l]; i++)
@@ -784,12 +865,8 @@ static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size
             first = l;
     }
     if (first < LANES) {
-        double *v = fr->batch;
-        z.t = v, z.u = v + n * LANES, z.L = v + 2 * n * LANES, z.tm = v + 3 * n * LANES;
-        z.b = v + 4 * n * LANES, z.G = v + 5 * n * LANES, z.A = z.G + z.nb * n * LANES;
         struct fin_lanes f;
-        load_lanes(&z, pts, p0, mode, weighted, first, pw);
-        EACH(l) f.weighted[l] = weighted[mode[l] == LANE_BATCH ? l : first] ? 1.0 : 0.0;
+        load_lanes(&z, mode, weighted, first, f.weighted);
         run_kernel(fr, &z, jb->o, mode, iters, &f);
         finish_block(fr, &z, jb, p0, mode, weighted, iters, &f);
     }
