@@ -480,15 +480,18 @@ static int finish_lane(const struct fin_job *fj, size_t l, const bg_point *pts, 
         c[j] = z->c[j][l], a[fj->pw[j]] = c[j];
     for (size_t i = 0; i < nb * nb; i++)
         cv[i] = z->cov[i][l];
-    for (size_t i = 0; i < MAXB * MAXB; i++)
-        out->pcov[i] = 0.0, out->cov[i] = 0.0;
+    /* in locals: a store into out->cov could, for the compiler, change out->npar */
+    double sc = out->cov_scale, *pcov = out->pcov, *cov = out->cov;
+    size_t npar = fj->npar;
+    memset(pcov, 0, sizeof out->pcov);
+    memset(cov, 0, sizeof out->cov);
     for (size_t i = 0; i < nb; i++)
         for (size_t j = 0; j < nb; j++)
-            out->pcov[fj->pw[i] * MAXB + fj->pw[j]] = cv[i * nb + j] * out->cov_scale;
-    bg_model_from_basis(&out->model, c, cv, out->cov);
-    for (size_t i = 0; i < out->npar * out->npar; i++)
-        out->cov[i] *= out->cov_scale;
-    for (size_t j = out->npar; j < MAXB; j++)
+            pcov[fj->pw[i] * MAXB + fj->pw[j]] = cv[i * nb + j] * sc;
+    bg_model_from_basis(&out->model, c, cv, cov);
+    for (size_t i = 0; i < npar * npar; i++)
+        cov[i] *= sc;
+    for (size_t j = npar; j < MAXB; j++)
         out->model.coef[j] = 0.0;
     if (bg_model_check_finite(&out->model, out->cov, NULL) != BG_OK)
         return 0;
@@ -847,7 +850,8 @@ static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size
             continue;
         jb->errs[p].code = BG_OK, jb->errs[p].msg[0] = '\0';
         bg_fit *out = &jb->out[p];
-        if (ok[l] != 0.0 && fr->cap >= n && n >= npar && out_reserve(out, n) == BG_OK) {
+        if (ok[l] != 0.0 && fr->cap >= n && n >= npar &&
+            (n <= out->cap || out_reserve(out, n) == BG_OK)) {
             weighted[l] = has_u[l] != 0.0, out->nnotes = 0, out->ndistinct = n;
             mode[l] = LANE_BATCH;
             first = first == LANES ? l : first;
