@@ -44,6 +44,7 @@ typedef double lane[LANES];
 struct lanes {
     size_t n, nb;
     double *t, *u, *L, *tm, *G, *A, *b; /* point arrays: [i][l]; G [i][j][l]; A [j][i][l] */
+    double *r;                          /* (tm - t) / u of the fitted temperatures, [i][l] */
     lane c[MAXB], step[MAXB], scale[MAXB], cov[MAXB * MAXB];
     lane rcond, bad, chi2, prev, run, halve, keep;
 };
@@ -258,13 +259,14 @@ BG_INLINE void linear_lanes(struct lanes *z, struct qr_lanes *q, double min_rcon
 }
 
 /* fit.c's t_chi2 at the coefficients 'c' into 'chi2'; the fitted temperatures are written to
-** z->tm only in the lanes where 'write' is non-zero. */
+** z->tm, and their weighted residuals (tm - t) / u to z->r, only in the lanes where 'write' is
+** non-zero. */
 BG_INLINE void chi2_lanes(struct lanes *z, const lane *c, size_t p, const double *write,
                           double *chi2)
 {
     lane s = { 0 }, fin;
     const double *restrict T = z->t, *restrict U = z->u, *restrict G = z->G;
-    double *restrict TM = z->tm;
+    double *restrict TM = z->tm, *restrict RW = z->r;
     EACH(l) fin[l] = 1.0;
     for (size_t i = 0; i < z->n; i++) {
         lane f = { 0 };
@@ -274,6 +276,7 @@ BG_INLINE void chi2_lanes(struct lanes *z, const lane *c, size_t p, const double
             double tm = 1.0 / f[l], r = (tm - T[i * LANES + l]) / U[i * LANES + l];
             fin[l] = f[l] > 0.0 ? fin[l] : 0.0;
             TM[i * LANES + l] = write[l] != 0.0 ? tm : TM[i * LANES + l];
+            RW[i * LANES + l] = write[l] != 0.0 ? r : RW[i * LANES + l];
             s[l] += r * r;
         }
     }
@@ -360,14 +363,17 @@ BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, siz
     double *restrict st = z->b, *restrict rs = z->A, floor_k = o->resolution_k / sqrt(12.0);
     double dd = (double)(dof - 1);
     int dof_ok = dof > 1;
-    lane chi2 = { 0 }, ss = { 0 }, mx = { 0 }, tmin, tmax, lmin, lmax, wt, flag = { 0 };
+    const double *restrict RW = z->r;
+    lane chi2, ss = { 0 }, mx = { 0 }, tmin, tmax, lmin, lmax, wt, flag = { 0 };
+    /* fit_statistics' chi2 is the sum chi2_lanes made, of the same squares in the same order:
+    ** ((t - tm) / u)^2 = ((tm - t) / u)^2 exactly; a lane still here has it finite */
+    EACH(l) chi2[l] = z->chi2[l];
     EACH(l) tmin[l] = INFINITY, tmax[l] = -INFINITY, wt[l] = f->weighted[l];
     EACH(l) lmin[l] = INFINITY, lmax[l] = -INFINITY;
     for (size_t i = 0; i < n; i++)
         EACH(l) {
-            double t = T[i * LANES + l], r = t - tm[i * LANES + l], u = U[i * LANES + l];
+            double t = T[i * LANES + l], r = t - tm[i * LANES + l];
             double a = fabs(r);
-            chi2[l] += (r / u) * (r / u);
             ss[l] += r * r;
             mx[l] = a > mx[l] ? a : mx[l];
             tmin[l] = t < tmin[l] ? t : tmin[l];
@@ -388,7 +394,7 @@ BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, siz
         ** since it is a library call that stops the vectoriser. */
         EACH(l) {
             double tmi = tm[i * LANES + l], u = U[i * LANES + l], w = tmi * tmi / u;
-            double hh = h[l] * (w * w), r = (T[i * LANES + l] - tmi) / u, fl = floor_k / u;
+            double hh = h[l] * (w * w), r = -RW[i * LANES + l], fl = floor_k / u;
             double x = (chi2[l] - r * r / (1.0 - hh)) / dd, m = x > fl * fl ? x : fl * fl;
             double s2 = (dof_ok & (1.0 - hh > 1e-10)) ? m : NAN;
             s2 = ((wt[l] != 0.0) & (s2 < 1.0)) ? 1.0 : s2;
@@ -503,7 +509,7 @@ enum { LANE_BATCH, LANE_ALONE, LANE_DONE };
 /* Room for the lanes of 'n' points and 'nb' columns in the fitter's batch area. */
 static int batch_reserve(bg_fitter *fr, size_t n, size_t nb)
 {
-    size_t need = (5 + 2 * nb) * n * LANES;
+    size_t need = (6 + 2 * nb) * n * LANES;
     if (need <= fr->batch_cap)
         return BG_OK;
     double *v = realloc(fr->batch, need * sizeof *v);
@@ -841,6 +847,7 @@ static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size
     z.n = n, z.nb = bg_model_basis(&op.model, pw);
     z.t = v, z.u = v + n * LANES, z.L = v + 2 * n * LANES, z.tm = v + 3 * n * LANES;
     z.b = v + 4 * n * LANES, z.G = v + 5 * n * LANES, z.A = z.G + z.nb * n * LANES;
+    z.r = z.A + z.nb * n * LANES;
     gather_lanes(&z, pts, p0, m);
     check_lanes(&z, &op, ok, has_u);
     for (size_t l = 0; l < LANES; l++) {
