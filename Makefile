@@ -85,6 +85,14 @@ $(BUILD)/pic/lib/%.o: src/lib/%.c $(HEADERS) $(LIB_INT) | deps
 	@mkdir -p $(@D)
 	$(CC) $(CFLAGS_ALL) -fPIC -Isrc/lib -c $< -o $@
 
+# Per-file flags.  fit_batch.c's lane loops vectorise only when the compiler may evaluate both
+# sides of a select without regard to floating-point exception flags (no code of bandgap reads
+# them) and call no errno-setting sqrt: -fno-trapping-math -fno-math-errno.  Neither changes a
+# value (no contraction, no reassociation: ISO C mode keeps -ffp-contract=off), so the batch
+# still gives the per-probe path's numbers bit for bit (tests/test_fit.c, both builds).
+BATCH_FLAGS = -fno-trapping-math -fno-math-errno
+$(BUILD)/obj/lib/fit/fit_batch.o $(BUILD)/pic/lib/fit/fit_batch.o: CFLAGS_ALL += $(BATCH_FLAGS)
+
 $(BUILD)/obj/cli/%.o: src/cli/%.c $(HEADERS) src/cli/cli.h | deps
 	@mkdir -p $(@D)
 	$(CC) $(CFLAGS_ALL) -c $< -o $@

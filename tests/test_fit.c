@@ -1073,26 +1073,27 @@ static void batch_own_finish_matches(void **state)
     }
 }
 
-/* Each of the batch's kernels (portable C11, and AVX2 where this build and processor have it)
-** against the per-probe path, and the two against each other bit for bit: they do the same
-** operations in the same order on every lane. */
+/* Each of the batch's kernels (portable C11, and AVX2 and AVX-512 where this build and
+** processor have them) against the per-probe path, and each against the portable one bit for
+** bit: they do the same operations in the same order on every lane. */
 static void batch_kernels_agree(void **state)
 {
     (void)state;
     static const char *models[] = { "sh3", "beta", "sh4" };
-    static const int kernels[] = { BGI_KERNEL_PORTABLE, BGI_KERNEL_AVX2 };
+    enum { NK = 3 };
+    static const int kernels[NK] = { BGI_KERNEL_PORTABLE, BGI_KERNEL_AVX2, BGI_KERNEL_AVX512 };
     bg_point *pts = invented_lot(37, 10, 7700);
     pts[6 * 10 + 4].t_k += 0.4;                              /* a blunder: outlier note */
     for (size_t mk = 0; mk < 3; mk++)
         for (int refine = 0; refine < 2; refine++) {
-            bg_fit out[2][37];
-            bg_error errs[2][37];
+            bg_fit out[NK][37];
+            bg_error errs[NK][37];
             bg_model m;
             assert_int_equal(bg_model_parse(models[mk], &m, NULL), BG_OK);
             bg_fit_opts o = bg_fit_default_opts(&m);
             o.refine = refine;
             memset(out, 0, sizeof out);
-            for (size_t k = 0; k < 2; k++) {
+            for (size_t k = 0; k < NK; k++) {
                 bg_fitter *fr = bg_fitter_new();
                 if (!bgi_batch_kernel_usable(kernels[k])) {
                     print_message("batch kernel %d: not in this build or processor, not run\n",
@@ -1106,17 +1107,19 @@ static void batch_kernels_agree(void **state)
                                  BG_OK);
                 bg_fitter_free(fr);
             }
-            if (bgi_batch_kernel_usable(BGI_KERNEL_AVX2))
-                for (size_t p = 0; p < 37; p++) {
-                    assert_int_equal(errs[0][p].code, errs[1][p].code);
-                    assert_memory_equal(out[0][p].model.coef, out[1][p].model.coef,
+            for (size_t k = 1; k < NK; k++)
+                for (size_t p = 0; p < 37 && bgi_batch_kernel_usable(kernels[k]); p++) {
+                    assert_int_equal(errs[0][p].code, errs[k][p].code);
+                    assert_memory_equal(out[0][p].model.coef, out[k][p].model.coef,
                                         sizeof out[0][p].model.coef);
-                    assert_memory_equal(out[0][p].cov, out[1][p].cov, sizeof out[0][p].cov);
-                    assert_memory_equal(out[0][p].student, out[1][p].student,
+                    assert_memory_equal(out[0][p].cov, out[k][p].cov, sizeof out[0][p].cov);
+                    assert_memory_equal(out[0][p].student, out[k][p].student,
                                         10 * sizeof(double));
-                    assert_memory_equal(&out[0][p].chi2, &out[1][p].chi2, sizeof(double));
+                    assert_memory_equal(out[0][p].resid_mk, out[k][p].resid_mk,
+                                        10 * sizeof(double));
+                    assert_memory_equal(&out[0][p].chi2, &out[k][p].chi2, sizeof(double));
                 }
-            for (size_t k = 0; k < 2; k++)
+            for (size_t k = 0; k < NK; k++)
                 for (size_t p = 0; p < 37; p++)
                     bg_fit_release(&out[k][p]);
         }

@@ -4,8 +4,9 @@
 ** the batch gives the per-probe numbers (1e-12 relative), writes the data and the batch's
 ** results for bench_fit.py and bench_fit_np.py, and prints the times per fit.
 ** Usage: bench_fit NPROBES DATA.csv RES_FULL.txt RES_LINEAR.txt [REPS]
-** RES_*.txt: per probe the coefficients, the 9 covariance elements, chi2 and the 10
-** studentized residuals. */
+** RES_*.txt: per probe the coefficients, the 9 covariance elements, chi2, the 10
+** studentized residuals, then RMS and largest residual (mK), AIC, BIC and the 10 residuals
+** (mK), and the number of notes. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -95,7 +96,11 @@ static void write_results(const char *path, const bg_fit *f, size_t np)
         fprintf(out, "%.17g", f[p].chi2);
         for (size_t i = 0; i < NPT; i++)
             fprintf(out, " %.17g", f[p].student[i]);
-        fputc('\n', out);
+        fprintf(out, " %.17g %.17g %.17g %.17g", f[p].rms_mk, f[p].max_abs_mk, f[p].aic,
+                f[p].bic);
+        for (size_t i = 0; i < NPT; i++)
+            fprintf(out, " %.17g", f[p].resid_mk[i]);
+        fprintf(out, " %zu\n", f[p].nnotes);
     }
     fclose(out);
 }

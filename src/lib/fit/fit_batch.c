@@ -28,12 +28,23 @@
 
 /* One lane-wide vector: element l belongs to the probe in lane l. */
 typedef double lane[LANES];
-#define EACH(l) for (size_t l = 0; l < LANES; l++)
+/* Every lane loop touches element l of its arrays only (no lane reads another's element
+** that the loop writes), so the compiler is told that the iterations are independent: it
+** would otherwise keep a scalar copy of each loop for the arrays it cannot prove apart. */
+#if defined(__clang__)
+#define BG_LANES_INDEPENDENT _Pragma("clang loop vectorize(assume_safety)")
+#elif defined(__GNUC__)
+#define BG_LANES_INDEPENDENT _Pragma("GCC ivdep")
+#else
+#define BG_LANES_INDEPENDENT
+#endif
+#define EACH(l) BG_LANES_INDEPENDENT for (size_t l = 0; l < LANES; l++)
 
 /* The lanes' arrays in the fitter's batch area, for 'n' points and 'nb' columns. */
 struct lanes {
     size_t n, nb;
     double *t, *u, *L, *tm, *G, *A, *b; /* point arrays: [i][l]; G [i][j][l]; A [j][i][l] */
+    double *r;                          /* (tm - t) / u of the fitted temperatures, [i][l] */
     lane c[MAXB], step[MAXB], scale[MAXB], cov[MAXB * MAXB];
     lane rcond, bad, chi2, prev, run, halve, keep;
 };
@@ -82,7 +93,7 @@ BG_INLINE void pivot_all(double *restrict A, struct qr_lanes *q, size_t n, size_
 ** lane has the same permutation (the usual case) it is applied as indices, without selects. */
 BG_INLINE void unpivot_lanes(const struct qr_lanes *q, size_t p, lane *c, lane *cov)
 {
-    lane cs[MAXB];
+    lane cs[MAXB] = { { 0 } };
     size_t pm[MAXB];
     int same = 1;
     for (size_t i = 0; i < p; i++) {
@@ -128,8 +139,8 @@ BG_INLINE void unpivot_lanes(const struct qr_lanes *q, size_t p, lane *c, lane *
 ** the solution goes to 'c', the unscaled covariance to 'cov', the column norms to 'scale';
 ** bad[l] becomes 1 where qr_core would return BG_ENUM. */
 BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t p,
-                        double min_rcond, struct qr_lanes *q, lane *c, lane *cov, lane *scale,
-                        double *rcond, double *bad)
+                        double min_rcond, struct qr_lanes *restrict q, lane *c, lane *cov,
+                        lane *scale, double *restrict rcond, double *restrict bad)
 {
     EACH(l) bad[l] = 0.0;
     for (size_t j = 0; j < p; j++) {
@@ -137,12 +148,11 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
         lane s = { 0 }, inv;
         for (size_t i = 0; i < n; i++)
             EACH(l) s[l] += col[i * LANES + l] * col[i * LANES + l];
-        EACH(l) {
-            s[l] = sqrt(s[l]);
-            bad[l] = (!(s[l] > 0.0) || !isfinite(s[l])) ? 1.0 : bad[l];
-            q->colscale[j][l] = s[l], inv[l] = 1.0 / s[l];
-            q->perm[j][l] = (double)j, q->work[j][l] = 1.0;
-        }
+        EACH(l) s[l] = sqrt(s[l]);
+        EACH(l) bad[l] = s[l] > 0.0 ? bad[l] : 1.0;
+        EACH(l) bad[l] = fabs(s[l]) <= DBL_MAX ? bad[l] : 1.0; /* isfinite, without a call */
+        EACH(l) q->colscale[j][l] = s[l], inv[l] = 1.0 / s[l];
+        EACH(l) q->perm[j][l] = (double)j, q->work[j][l] = 1.0;
         for (size_t i = 0; i < n; i++)
             EACH(l) col[i * LANES + l] *= inv[l];
     }
@@ -164,9 +174,10 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
         double *restrict v = A + k * n * LANES;
         for (size_t i = k; i < n; i++)
             EACH(l) norm2[l] += v[i * LANES + l] * v[i * LANES + l];
+        EACH(l) norm2[l] = sqrt(norm2[l]); /* the norm */
+        EACH(l) bad[l] = norm2[l] > 0.0 ? bad[l] : 1.0;
         EACH(l) {
-            double norm = sqrt(norm2[l]);
-            bad[l] = !(norm > 0.0) ? 1.0 : bad[l];
+            double norm = norm2[l];
             alpha[l] = v[k * LANES + l] > 0.0 ? -norm : norm;
             v[k * LANES + l] -= alpha[l];
             vtv[l] = 2.0 * norm * (norm + fabs(v[k * LANES + l] + alpha[l]));
@@ -232,31 +243,40 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
 BG_INLINE void linear_lanes(struct lanes *z, struct qr_lanes *q, double min_rcond, size_t p)
 {
     size_t n = z->n;
-    for (size_t i = 0; i < n; i++)
+    const double *restrict T = z->t, *restrict U = z->u, *restrict G = z->G;
+    double *restrict A = z->A, *restrict B = z->b;
+    for (size_t i = 0; i < n; i++) { /* one loop over the lanes per statement: vectorised */
+        lane sw;
         EACH(l) {
-            double t = z->t[i * LANES + l], sw = t * t / z->u[i * LANES + l];
-            for (size_t j = 0; j < p; j++)
-                z->A[(j * n + i) * LANES + l] = z->G[(i * p + j) * LANES + l] * sw;
-            z->b[i * LANES + l] = sw / t;
+            double t = T[i * LANES + l];
+            sw[l] = t * t / U[i * LANES + l];
+            B[i * LANES + l] = sw[l] / t;
         }
+        for (size_t j = 0; j < p; j++)
+            EACH(l) A[(j * n + i) * LANES + l] = G[(i * p + j) * LANES + l] * sw[l];
+    }
     qr_lanes(z->A, z->b, n, p, min_rcond, q, z->c, z->cov, z->scale, z->rcond, z->bad);
 }
 
 /* fit.c's t_chi2 at the coefficients 'c' into 'chi2'; the fitted temperatures are written to
-** z->tm only in the lanes where 'write' is non-zero. */
+** z->tm, and their weighted residuals (tm - t) / u to z->r, only in the lanes where 'write' is
+** non-zero. */
 BG_INLINE void chi2_lanes(struct lanes *z, const lane *c, size_t p, const double *write,
                           double *chi2)
 {
     lane s = { 0 }, fin;
+    const double *restrict T = z->t, *restrict U = z->u, *restrict G = z->G;
+    double *restrict TM = z->tm, *restrict RW = z->r;
     EACH(l) fin[l] = 1.0;
     for (size_t i = 0; i < z->n; i++) {
         lane f = { 0 };
         for (size_t j = 0; j < p; j++)
-            EACH(l) f[l] += c[j][l] * z->G[(i * p + j) * LANES + l];
+            EACH(l) f[l] += c[j][l] * G[(i * p + j) * LANES + l];
         EACH(l) {
-            double tm = 1.0 / f[l], r = (tm - z->t[i * LANES + l]) / z->u[i * LANES + l];
-            fin[l] = !(f[l] > 0.0) ? 0.0 : fin[l];
-            z->tm[i * LANES + l] = write[l] != 0.0 ? tm : z->tm[i * LANES + l];
+            double tm = 1.0 / f[l], r = (tm - T[i * LANES + l]) / U[i * LANES + l];
+            fin[l] = f[l] > 0.0 ? fin[l] : 0.0;
+            TM[i * LANES + l] = write[l] != 0.0 ? tm : TM[i * LANES + l];
+            RW[i * LANES + l] = write[l] != 0.0 ? r : RW[i * LANES + l];
             s[l] += r * r;
         }
     }
@@ -279,13 +299,19 @@ BG_INLINE void refine_lanes(struct lanes *z, struct qr_lanes *q, const bg_fit_op
         EACH(l) any |= z->run[l] != 0.0;
         if (!any)
             return;
-        for (size_t i = 0; i < n; i++)
+        const double *restrict T = z->t, *restrict U = z->u, *restrict G = z->G;
+        const double *restrict TM = z->tm;
+        double *restrict A = z->A, *restrict B = z->b;
+        for (size_t i = 0; i < n; i++) {
+            lane t2;
             EACH(l) {
-                double tm = z->tm[i * LANES + l], u = z->u[i * LANES + l], t2 = tm * tm / u;
-                for (size_t j = 0; j < p; j++)
-                    z->A[(j * n + i) * LANES + l] = -t2 * z->G[(i * p + j) * LANES + l];
-                z->b[i * LANES + l] = -(tm - z->t[i * LANES + l]) / u;
+                double tm = TM[i * LANES + l], u = U[i * LANES + l];
+                t2[l] = tm * tm / u;
+                B[i * LANES + l] = -(tm - T[i * LANES + l]) / u;
             }
+            for (size_t j = 0; j < p; j++)
+                EACH(l) A[(j * n + i) * LANES + l] = -t2[l] * G[(i * p + j) * LANES + l];
+        }
         lane cov[MAXB * MAXB], rcond, bad, cmax = { 0 }, dmax = { 0 }, trial[MAXB];
         qr_lanes(z->A, z->b, n, p, o->min_rcond, q, z->step, cov, z->scale, rcond, bad);
         for (size_t j = 0; j < p; j++)
@@ -334,17 +360,20 @@ BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, siz
 {
     size_t n = z->n;
     const double *restrict T = z->t, *restrict tm = z->tm, *restrict U = z->u, *restrict G = z->G;
-    double *restrict st = z->b, floor_k = o->resolution_k / sqrt(12.0);
+    double *restrict st = z->b, *restrict rs = z->A, floor_k = o->resolution_k / sqrt(12.0);
     double dd = (double)(dof - 1);
     int dof_ok = dof > 1;
-    lane chi2 = { 0 }, ss = { 0 }, mx = { 0 }, tmin, tmax, lmin, lmax, wt, flag = { 0 };
+    const double *restrict RW = z->r;
+    lane chi2, ss = { 0 }, mx = { 0 }, tmin, tmax, lmin, lmax, wt, flag = { 0 };
+    /* fit_statistics' chi2 is the sum chi2_lanes made, of the same squares in the same order:
+    ** ((t - tm) / u)^2 = ((tm - t) / u)^2 exactly; a lane still here has it finite */
+    EACH(l) chi2[l] = z->chi2[l];
     EACH(l) tmin[l] = INFINITY, tmax[l] = -INFINITY, wt[l] = f->weighted[l];
     EACH(l) lmin[l] = INFINITY, lmax[l] = -INFINITY;
     for (size_t i = 0; i < n; i++)
         EACH(l) {
-            double t = T[i * LANES + l], r = t - tm[i * LANES + l], u = U[i * LANES + l];
+            double t = T[i * LANES + l], r = t - tm[i * LANES + l];
             double a = fabs(r);
-            chi2[l] += (r / u) * (r / u);
             ss[l] += r * r;
             mx[l] = a > mx[l] ? a : mx[l];
             tmin[l] = t < tmin[l] ? t : tmin[l];
@@ -365,19 +394,22 @@ BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, siz
         ** since it is a library call that stops the vectoriser. */
         EACH(l) {
             double tmi = tm[i * LANES + l], u = U[i * LANES + l], w = tmi * tmi / u;
-            double hh = h[l] * (w * w), r = (T[i * LANES + l] - tmi) / u, fl = floor_k / u;
+            double hh = h[l] * (w * w), r = -RW[i * LANES + l], fl = floor_k / u;
             double x = (chi2[l] - r * r / (1.0 - hh)) / dd, m = x > fl * fl ? x : fl * fl;
             double s2 = (dof_ok & (1.0 - hh > 1e-10)) ? m : NAN;
             s2 = ((wt[l] != 0.0) & (s2 < 1.0)) ? 1.0 : s2;
             double q = s2 * (1.0 - hh);
             st[i * LANES + l] = s2 > 0.0 ? q : NAN;
-            z->A[i * LANES + l] = r;
+            rs[i * LANES + l] = r;
         }
     }
-    for (size_t k = 0; k < n * LANES; k++) {
-        double q = st[k];
-        st[k] = q == q ? z->A[k] / sqrt(q) : NAN;
-        flag[k % LANES] = fabs(st[k]) > o->student_limit ? 1.0 : flag[k % LANES];
+    double limit = o->student_limit;
+    for (size_t i = 0; i < n; i++) {
+        EACH(l) {
+            double q = st[i * LANES + l];
+            st[i * LANES + l] = q == q ? rs[i * LANES + l] / sqrt(q) : NAN;
+        }
+        EACH(l) flag[l] = fabs(st[i * LANES + l]) > limit ? 1.0 : flag[l];
     }
     EACH(l) {
         f->chi2[l] = chi2[l], f->ss[l] = ss[l], f->mx[l] = mx[l];
@@ -411,6 +443,7 @@ struct fin_job {
     const bg_fit_opts *o;
     const unsigned *pw;
     size_t npar;
+    double log_n; /* ln n, for the BIC */
 };
 
 /* Lane 'l''s results into 'out' exactly as bgi_fit_finish writes them, when it has nothing to
@@ -446,22 +479,25 @@ static int finish_lane(const struct fin_job *fj, size_t l, const bg_point *pts, 
                               : out->reduced_chi2;
     double dn = (double)n, k = (double)out->npar;
     double m2ll = weighted ? chi2 : dn * log(fmax(ss, dn * 1e-18) / dn);
-    out->aic = m2ll + 2.0 * k, out->bic = m2ll + k * log(dn);
+    out->aic = m2ll + 2.0 * k, out->bic = m2ll + k * fj->log_n;
     /* fit.c's fit_coefficients */
     memset(a, 0, sizeof a);
     for (size_t j = 0; j < nb; j++)
         c[j] = z->c[j][l], a[fj->pw[j]] = c[j];
     for (size_t i = 0; i < nb * nb; i++)
         cv[i] = z->cov[i][l];
-    for (size_t i = 0; i < MAXB * MAXB; i++)
-        out->pcov[i] = 0.0, out->cov[i] = 0.0;
+    /* in locals: a store into out->cov could, for the compiler, change out->npar */
+    double sc = out->cov_scale, *pcov = out->pcov, *cov = out->cov;
+    size_t npar = fj->npar;
+    memset(pcov, 0, sizeof out->pcov);
+    memset(cov, 0, sizeof out->cov);
     for (size_t i = 0; i < nb; i++)
         for (size_t j = 0; j < nb; j++)
-            out->pcov[fj->pw[i] * MAXB + fj->pw[j]] = cv[i * nb + j] * out->cov_scale;
-    bg_model_from_basis(&out->model, c, cv, out->cov);
-    for (size_t i = 0; i < out->npar * out->npar; i++)
-        out->cov[i] *= out->cov_scale;
-    for (size_t j = out->npar; j < MAXB; j++)
+            pcov[fj->pw[i] * MAXB + fj->pw[j]] = cv[i * nb + j] * sc;
+    bg_model_from_basis(&out->model, c, cv, cov);
+    for (size_t i = 0; i < npar * npar; i++)
+        cov[i] *= sc;
+    for (size_t j = npar; j < MAXB; j++)
         out->model.coef[j] = 0.0;
     if (bg_model_check_finite(&out->model, out->cov, NULL) != BG_OK)
         return 0;
@@ -473,7 +509,7 @@ enum { LANE_BATCH, LANE_ALONE, LANE_DONE };
 /* Room for the lanes of 'n' points and 'nb' columns in the fitter's batch area. */
 static int batch_reserve(bg_fitter *fr, size_t n, size_t nb)
 {
-    size_t need = (5 + 2 * nb) * n * LANES;
+    size_t need = (6 + 2 * nb) * n * LANES;
     if (need <= fr->batch_cap)
         return BG_OK;
     double *v = realloc(fr->batch, need * sizeof *v);
@@ -483,26 +519,91 @@ static int batch_reserve(bg_fitter *fr, size_t n, size_t nb)
     return BG_OK;
 }
 
-/* Fill the lanes from the probes p0 .. p0 + LANES - 1; a lane that is not fitted here carries
-** a copy of lane 'first' so that it computes on sound numbers. */
-static void load_lanes(struct lanes *z, const bg_point *pts, size_t p0, const int *mode,
-                       const int *weighted, size_t first, const unsigned *pw)
+/* The readings of the probes p0 .. p0 + m - 1 (m <= LANES) into the lanes as they are: T into
+** z->t, R into z->L, u(T) into z->u, u(R) into z->tm; a lane past 'm' carries lane 0's. */
+static void gather_lanes(struct lanes *z, const bg_point *pts, size_t p0, size_t m)
 {
-    size_t n = z->n, nb = z->nb;
+    size_t n = z->n;
+    for (size_t l = 0; l < LANES; l++) {
+        const bg_point *pp = pts + (p0 + (l < m ? l : 0)) * n;
+        for (size_t i = 0; i < n; i++) {
+            z->t[i * LANES + l] = pp[i].t_k, z->L[i * LANES + l] = pp[i].r_ohm;
+            z->u[i * LANES + l] = pp[i].u_t_k, z->tm[i * LANES + l] = pp[i].u_r_ohm;
+        }
+    }
+}
+
+/* quick_check's guard rails on every lane at once, for the shape of a calibration whose
+** answer needs no counting: every reading finite, R > 0, u(T) >= 0, no u(R), T rising from
+** above 0 K by more than both the setpoint gap and the monotonicity gap at every step (then
+** each reading is its own setpoint, ndistinct = n, and the reading a monotonicity check
+** compares with is the one before), R falling at every step, u(T) stated on every reading or
+** on none.  ok[l] = 1 where lane l passes, has_u[l] = 1 where it states u(T); a lane that does
+** not pass goes through quick_check and bgi_fit_check, which decide it as before. */
+static void check_lanes(const struct lanes *z, const bg_fit_opts *o, double *restrict ok,
+                        double *restrict has_u)
+{
+    size_t n = z->n;
+    const double *restrict T = z->t, *restrict R = z->L, *restrict UT = z->u, *restrict UR = z->tm;
+    double sg = o->setpoint_gap_k, mg = o->mono_gap_k, big = DBL_MAX;
+    lane good, all;
+    EACH(l) good[l] = T[l] > 0.0 ? 1.0 : 0.0, has_u[l] = 0.0, all[l] = 1.0;
+    for (size_t i = 0; i < n; i++) {
+        EACH(l) {
+            double t = T[i * LANES + l], r = R[i * LANES + l], ut = UT[i * LANES + l];
+            int g = (fabs(t) <= big) & (fabs(r) <= big) & (fabs(ut) <= big) & (r > 0.0) &
+                    (ut >= 0.0) & (UR[i * LANES + l] == 0.0);
+            good[l] = g ? good[l] : 0.0;
+        }
+        EACH(l) has_u[l] = UT[i * LANES + l] > 0.0 ? 1.0 : has_u[l];
+        EACH(l) all[l] = UT[i * LANES + l] > 0.0 ? all[l] : 0.0;
+    }
+    for (size_t i = 1; i < n; i++)
+        EACH(l) {
+            double d = T[i * LANES + l] - T[(i - 1) * LANES + l];
+            int g = (d > 0.0) & (d > sg) & (d > mg) & (R[i * LANES + l] < R[(i - 1) * LANES + l]);
+            good[l] = g ? good[l] : 0.0;
+        }
+    EACH(l) ok[l] = (good[l] != 0.0) & (has_u[l] == all[l]) ? 1.0 : 0.0;
+}
+
+/* The lanes gathered by gather_lanes made ready for the kernel: a lane that is not fitted here
+** takes lane 'first''s readings, so that it computes on sound numbers; then L = ln R with the C
+** library's log, as the per-probe path; w[l] = 1 where the lane is weighted. */
+static void load_lanes(struct lanes *z, const int *mode, const int *weighted, size_t first,
+                       double *w)
+{
+    size_t n = z->n;
     for (size_t l = 0; l < LANES; l++) {
         size_t src = mode[l] == LANE_BATCH ? l : first;
-        const bg_point *pp = pts + (p0 + src) * n;
-        for (size_t i = 0; i < n; i++) {
-            double L = log(pp[i].r_ohm), pows[MAXB];
-            z->t[i * LANES + l] = pp[i].t_k;
-            z->L[i * LANES + l] = L;
-            z->u[i * LANES + l] = weighted[src] ? (pp[i].u_t_k > 0.0 ? pp[i].u_t_k : 1.0) : 1.0;
-            pows[0] = 1.0;
-            for (size_t k = 1; k < MAXB; k++)
-                pows[k] = pows[k - 1] * L;
-            for (size_t j = 0; j < nb; j++)
-                z->G[(i * nb + j) * LANES + l] = pows[pw[j]];
-        }
+        w[l] = weighted[src] ? 1.0 : 0.0;
+        if (src != l)
+            for (size_t i = 0; i < n; i++) {
+                z->t[i * LANES + l] = z->t[i * LANES + src];
+                z->L[i * LANES + l] = z->L[i * LANES + src];
+                z->u[i * LANES + l] = z->u[i * LANES + src];
+            }
+    }
+    for (size_t k = 0; k < n * LANES; k++)
+        z->L[k] = log(z->L[k]);
+}
+
+/* The weights u (u(T) where the lane's probe states it, else 1 K; 1 K throughout when 'w' says
+** unweighted) and the basis rows G of the columns 'pw', as fit.c's fit_start makes them. */
+BG_INLINE void basis_lanes(struct lanes *z, const double *w, const unsigned *pw)
+{
+    size_t n = z->n, nb = z->nb;
+    double *restrict U = z->u, *restrict G = z->G;
+    const double *restrict Lr = z->L;
+    for (size_t i = 0; i < n; i++) {
+        lane pows[MAXB];
+        EACH(l) U[i * LANES + l] = (w[l] != 0.0) & (U[i * LANES + l] > 0.0) ? U[i * LANES + l]
+                                                                             : 1.0;
+        EACH(l) pows[0][l] = 1.0;
+        for (size_t k = 1; k < MAXB; k++)
+            EACH(l) pows[k][l] = pows[k - 1][l] * Lr[i * LANES + l];
+        for (size_t j = 0; j < nb; j++)
+            EACH(l) G[(i * nb + j) * LANES + l] = pows[pw[j]][l];
     }
 }
 
@@ -566,6 +667,9 @@ BG_INLINE void kernel_body(struct lanes *z, const bg_fit_opts *o, int *mode, uns
                            struct fin_lanes *f)
 {
     size_t dof = z->n - bg_model_npar(&o->model);
+    unsigned pw[MAXB];
+    bg_model_basis(&o->model, pw);
+    basis_lanes(z, f->weighted, pw);
     fit_lanes(z, o, mode, iters);
     switch (z->nb) { /* the column count as a constant, so that the loops over it unroll */
     case 2: finish_lanes(z, o, 2, dof, f); break;
@@ -589,6 +693,14 @@ __attribute__((target("avx2"))) static void kernel_avx2(struct lanes *z, const b
 {
     kernel_body(z, o, mode, iters, f);
 }
+
+#define BG_HAVE_AVX512 1
+__attribute__((target("avx512f,prefer-vector-width=512"))) static void
+kernel_avx512(struct lanes *z, const bg_fit_opts *o, int *mode, unsigned *iters,
+              struct fin_lanes *f)
+{
+    kernel_body(z, o, mode, iters, f);
+}
 #endif
 
 int bgi_batch_kernel_usable(int kernel)
@@ -598,6 +710,9 @@ int bgi_batch_kernel_usable(int kernel)
     case BGI_KERNEL_PORTABLE: return 1;
 #ifdef BG_HAVE_AVX2
     case BGI_KERNEL_AVX2: __builtin_cpu_init(); return __builtin_cpu_supports("avx2") != 0;
+    case BGI_KERNEL_AVX512:
+        __builtin_cpu_init();
+        return __builtin_cpu_supports("avx512f") != 0;
 #endif
     default: return 0;
     }
@@ -609,7 +724,13 @@ static void run_kernel(const bg_fitter *fr, struct lanes *z, const bg_fit_opts *
                        unsigned *iters, struct fin_lanes *f)
 {
 #ifdef BG_HAVE_AVX2
-    int k = fr->batch_kernel == BGI_KERNEL_AUTO ? BGI_KERNEL_AVX2 : fr->batch_kernel;
+    int k = fr->batch_kernel;
+    if (k == BGI_KERNEL_AUTO)
+        k = bgi_batch_kernel_usable(BGI_KERNEL_AVX512) ? BGI_KERNEL_AVX512 : BGI_KERNEL_AVX2;
+    if (k == BGI_KERNEL_AVX512 && bgi_batch_kernel_usable(BGI_KERNEL_AVX512)) {
+        kernel_avx512(z, o, mode, iters, f);
+        return;
+    }
     if (k == BGI_KERNEL_AVX2 && bgi_batch_kernel_usable(BGI_KERNEL_AVX2)) {
         kernel_avx2(z, o, mode, iters, f);
         return;
@@ -698,7 +819,7 @@ static void finish_block(bg_fitter *fr, struct lanes *z, const struct batch_job 
     size_t npar = bg_model_npar(&jb->o->model), n = z->n;
     bg_fit_opts op = *jb->o;
     bg_model_basis(&op.model, pw);
-    struct fin_job fj = { fr, z, f, jb->o, pw, npar };
+    struct fin_job fj = { fr, z, f, jb->o, pw, npar, log((double)n) };
     for (size_t l = 0; l < LANES; l++) {
         size_t p = p0 + l;
         if (mode[l] != LANE_BATCH || finish_lane(&fj, l, jb->pts + p * n, iters[l], &jb->out[p]))
@@ -721,17 +842,31 @@ static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size
     bg_fit_opts op = *jb->o;
     size_t npar = bg_model_npar(&op.model);
 
+    lane ok, has_u;
+    double *v = fr->batch;
     z.n = n, z.nb = bg_model_basis(&op.model, pw);
+    z.t = v, z.u = v + n * LANES, z.L = v + 2 * n * LANES, z.tm = v + 3 * n * LANES;
+    z.b = v + 4 * n * LANES, z.G = v + 5 * n * LANES, z.A = z.G + z.nb * n * LANES;
+    z.r = z.A + z.nb * n * LANES;
+    gather_lanes(&z, pts, p0, m);
+    check_lanes(&z, &op, ok, has_u);
     for (size_t l = 0; l < LANES; l++) {
         size_t p = p0 + l;
         mode[l] = LANE_DONE;
         if (l >= m)
             continue;
-        op.source = jb->sources ? jb->sources[p] : jb->o->source;
         jb->errs[p].code = BG_OK, jb->errs[p].msg[0] = '\0';
-        if (!quick_check(fr, pts + p * n, n, &op, npar, &weighted[l], &jb->out[p]) &&
-            bgi_fit_check(fr, pts + p * n, n, &op, &weighted[l], &jb->out[p], &jb->errs[p]) !=
-                BG_OK)
+        bg_fit *out = &jb->out[p];
+        if (ok[l] != 0.0 && fr->cap >= n && n >= npar &&
+            (n <= out->cap || out_reserve(out, n) == BG_OK)) {
+            weighted[l] = has_u[l] != 0.0, out->nnotes = 0, out->ndistinct = n;
+            mode[l] = LANE_BATCH;
+            first = first == LANES ? l : first;
+            continue;
+        }
+        op.source = jb->sources ? jb->sources[p] : jb->o->source;
+        if (!quick_check(fr, pts + p * n, n, &op, npar, &weighted[l], out) &&
+            bgi_fit_check(fr, pts + p * n, n, &op, &weighted[l], out, &jb->errs[p]) != BG_OK)
             continue;
         mode[l] = LANE_BATCH;
         for (size_t i = 0; i < n && weighted[l]; i++)
@@ -741,12 +876,8 @@ static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size
             first = l;
     }
     if (first < LANES) {
-        double *v = fr->batch;
-        z.t = v, z.u = v + n * LANES, z.L = v + 2 * n * LANES, z.tm = v + 3 * n * LANES;
-        z.b = v + 4 * n * LANES, z.G = v + 5 * n * LANES, z.A = z.G + z.nb * n * LANES;
         struct fin_lanes f;
-        load_lanes(&z, pts, p0, mode, weighted, first, pw);
-        EACH(l) f.weighted[l] = weighted[mode[l] == LANE_BATCH ? l : first] ? 1.0 : 0.0;
+        load_lanes(&z, mode, weighted, first, f.weighted);
         run_kernel(fr, &z, jb->o, mode, iters, &f);
         finish_block(fr, &z, jb, p0, mode, weighted, iters, &f);
     }

@@ -54,7 +54,7 @@ int bgi_sort_hold(bg_fitter *fr, int on);
 
 /* The batch's kernels (fit_batch.c): the same code compiled as portable C11 and, where the
 ** compiler can, for AVX2; AUTO takes AVX2 when the processor runs it. */
-enum { BGI_KERNEL_AUTO, BGI_KERNEL_PORTABLE, BGI_KERNEL_AVX2 };
+enum { BGI_KERNEL_AUTO, BGI_KERNEL_PORTABLE, BGI_KERNEL_AVX2, BGI_KERNEL_AVX512 };
 
 /* 1 when this build and processor can run 'kernel'. */
 int bgi_batch_kernel_usable(int kernel);
