@@ -372,8 +372,9 @@ static void kind_text_head(const bg_qa_lot *l)
            "%s, %s %.6g +-%.4g %s\n", l->lot.code, l->lot.part, bg_part_sensor_name(l->sensor),
            l->n, l->nofit ? ", some without" : "", l->spec.nom_t_k - BG_ZERO_C_K, l->v1_name,
            l->v1_tol, l->v1_unit, l->v2_name, l->v2_nominal, l->v2_tol, l->v2_unit);
-    printf("  (the lot's own R25 and B are not used: part %s is of kind %s)\n", l->lot.part,
-           bg_part_sensor_name(l->sensor));
+    if (l->lot.sensor == BG_PART_NTC) /* a lot added before schema 13 with R25 and B */
+        printf("  (the lot's own R25 and B are not used: part %s is of kind %s)\n",
+               l->lot.part, bg_part_sensor_name(l->sensor));
 }
 
 static void kind_text_stats(const bg_qa_lot *l)
