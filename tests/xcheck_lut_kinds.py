@@ -172,8 +172,32 @@ def case(name, args, fe, x_of_t, t_of_x, t_lo_c, t_hi_c, per_degree, bound=None)
     t_codes = np.array([t_of_x(reading_of_code(fe, float(c))) for c in (lo, (lo + hi) // 2, hi)])
     if not (np.all(np.diff(t_codes) > 0) or np.all(np.diff(t_codes) < 0)):
         fail("%s: temperatures not monotonic along the codes" % name)
+    budget(name, fe, d)
     print("xcheck_lut_kinds ok %s: codes %d .. %d, max %.4f K over every code" % (name, lo, hi,
                                                                                   mx))
+
+
+def budget(name, fe, d):
+    """The fixed resistor's term applies to a divider only: elsewhere it is null, the reason
+    is given, and the RSS and the sum are those of the other terms given, recomputed here."""
+    divider = fe["kind"] in ("low", "high")
+    why = d.get("fixed_resistor_not_applicable", "missing")
+    if divider != (why is None) or (not divider and not isinstance(why, str)):
+        fail("%s: fixed_resistor_not_applicable is %r for a %s front end" % (name, why,
+                                                                             fe["kind"]))
+    for row in d["budget"]:
+        if not divider and row["fixed_resistor_k"] is not None:
+            fail("%s: the fixed resistor term is %r where no resistor exists" % (
+                name, row["fixed_resistor_k"]))
+        if "at" in row:  # the worst row: each column's own largest over the codes
+            continue
+        terms = [row[k] for k in ("table_k", "adc_k", "fit_U_k", "fixed_resistor_k",
+                                  "self_heating_k") if row[k] is not None]
+        rss, total = math.sqrt(math.fsum(v * v for v in terms)), math.fsum(terms)
+        if abs(rss - row["rss_k"]) > 1e-12 * max(1.0, rss) or \
+           abs(total - row["sum_k"]) > 1e-12 * max(1.0, total):
+            fail("%s: budget RSS %.15g sum %.15g, computed here %.15g %.15g" % (
+                name, row["rss_k"], row["sum_k"], rss, total))
 
 
 # 1. Pt100, IEC 60751 nominal, 1 mA into a 0.5 V reference, 16 bits, 0.8 ohm 2-wire loop

@@ -74,6 +74,21 @@ static void json_provenance(json_out *j, const bg_lut_result *r)
     json_obj_end(j);
 }
 
+/* Why a front end has no fixed resistor term (BG_BUDGET_NO_RESISTOR), or NULL when it has. */
+static const char *no_resistor_why(const bg_lut_result *r)
+{
+    if (!(r->budget_terms & BG_BUDGET_NO_RESISTOR))
+        return NULL;
+    switch (r->spec.circuit.kind) {
+    case BG_CIRCUIT_CURRENT: return "a current source front end has no fixed resistor";
+    case BG_CIRCUIT_OHMS: return "a reading in ohms has no fixed resistor";
+    case BG_CIRCUIT_JUNCTION: return "a junction read through an amplifier has no fixed "
+                                     "resistor";
+    case BG_CIRCUIT_DEVICE: return "a device's digital readout has no fixed resistor";
+    default: return "the front end has no fixed resistor";
+    }
+}
+
 /* The coverage factor of the budget's fit term, or null when there is no such term. */
 static void json_coverage(json_out *j, const bg_lut_result *r)
 {
@@ -182,6 +197,8 @@ void lut_print_json(const bg_lut_result *r, FILE *f)
         json_arr_end(&j);
     }
     json_coverage(&j, r);
+    /* why the fixed resistor term does not apply (its value is then null), or null */
+    json_str(&j, "fixed_resistor_not_applicable", no_resistor_why(r));
     json_arr(&j, "budget");
     for (size_t i = 0; i <= r->nbudget; i++) {
         const bg_budget_row *b = i < r->nbudget ? &r->budget[i] : &r->worst;
@@ -232,13 +249,14 @@ static void summary(const bg_lut *t, const size_t *sizes, int host, const char *
     }
 }
 
-/* A budget term in its column, "not given" when its inputs were not (it is NaN, never 0). */
-static void term(FILE *b, int width, double v)
+/* A budget term in its column, "not given" when its inputs were not and "n/a" when it does
+** not apply (it is NaN then, never 0). */
+static void term(FILE *b, int width, double v, int na)
 {
     if (isfinite(v))
         fprintf(b, " %*.4f", width, v);
     else
-        fprintf(b, " %*s", width, "not given");
+        fprintf(b, " %*s", width, na ? "n/a" : "not given");
 }
 
 /* The cost on the target the C is for, as measured there (nothing for the host). */
@@ -278,11 +296,14 @@ void lut_print_summary(const bg_lut_result *r, const char *pre, FILE *b)
         else
             snprintf(at, sizeof at, "%10s", "worst");
         fprintf(b, "                  %s %8.4f %8.4f", at, w->table_k, w->adc_k);
-        term(b, 10, w->fit_k);
-        term(b, 10, w->resistor_k);
-        term(b, 10, w->selfheat_k);
+        term(b, 10, w->fit_k, 0);
+        term(b, 10, w->resistor_k, no_resistor_why(r) != NULL);
+        term(b, 10, w->selfheat_k, 0);
         fprintf(b, " %8.4f %8.4f\n", w->rss_k, w->sum_k);
     }
+    if (no_resistor_why(r))
+        fprintf(b, "(resistor: not applicable, %s; left out of RSS and sum)\n",
+                no_resistor_why(r));
     if (r->budget_terms & BG_BUDGET_FIT) {
         if (r->fit_cover.fixed)
             fprintf(b, "(fit U = k u with k = %.2f as asked: coverage probability %.2f %%)\n",
