@@ -290,4 +290,85 @@ case("ic-code 16 bit", ["--model", "ic-code", "--coef", "0.3,0.002,1e-5", "--t0"
      lambda T: (ic_rep(T) - ZERO_C) / 0.0078125,
      lambda n: ic_t(n * 0.0078125 + ZERO_C), -40.0, 125.0, 1000.0, 0.01)
 
+
+# ---- a table rebuilt from its own header ----
+# The C and CSV headers name the model with every coefficient and held parameter (a Chebyshev
+# series' x_lo and x_hi, a junction pair's current ratio p), the circuit, the range, the
+# resolution and the strategy.  Each is parsed here, the table made again from those words
+# alone through an inline 'lut', and the two outputs must be the same bytes.
+NUM = r"[-+0-9.eE]+"
+
+
+def header_args(text, fmt):
+    """The lut arguments a header states (C: ' * ' lines; CSV: '# ' lines)."""
+    import re
+    m = re.search(r"model (\S+) \(given inline\):([^;\n]*)", text)
+    if not m:
+        return None
+    kind, words = m.group(1), m.group(2).split()
+    coefs, params, t0 = [], [], None
+    for w in words:
+        if w == "K":
+            continue
+        k, v = w.split("=")
+        if k == "T0":
+            t0 = v
+        elif k in ("x_lo", "x_hi", "p", "lsb_k"):  # the kinds' held parameters
+            params += ["--param", "%s=%s" % (k, v)]
+        else:
+            coefs.append(v)
+    args = ["--model", kind, "--coef", ",".join(coefs)] + params
+    if t0 is not None:
+        args += ["--t0", t0 + "K"]
+    c = re.search(r"V_adc = (%s) V ([+-]) (%s) V, reference (%s) V, (\d+)-bit ADC, "
+                  r"full scale 2\^N( - 1)?" % (NUM, NUM, NUM), text)
+    if not c:
+        return None
+    args += ["--gain", c.group(1), "--offset", ("-" if c.group(2) == "-" else "") + c.group(3)
+             + "V", "--vref", c.group(4) + "V", "--adc-bits", c.group(5), "--full-scale",
+             "pow2-1" if c.group(6) else "pow2"]
+    r = re.search(r"range: (%s) \.\. (%s) degC" % (NUM, NUM), text)
+    args += ["--range", "%sC:%sC" % (r.group(1), r.group(2))]
+    if fmt == "c":
+        res = re.search(r"temperature, (0\.0*1) degC per count", text)
+        u = re.search(r"every (\d+) codes \(uniform table\)", text)
+        seg = re.search(r"\((minimal|indexed) table.*?within (%s) K" % NUM, text, re.S)
+    else:
+        res = re.search(r"in (0\.0*1) degC", text)
+        u = re.search(r"uniform: breakpoints every (\d+) codes", text)
+        seg = None  # (the CSV cases here are uniform tables)
+    args += ["--resolution", res.group(1)]
+    if u:
+        args += ["--step", u.group(1)]
+    elif fmt == "c":
+        args += ["--strategy", seg.group(1), "--max-error", seg.group(2) + "K"]
+    return args
+
+
+def rebuilt(name, args, fmt, extra=()):
+    first = run(args + ["--format", fmt] + list(extra))
+    if first is None:
+        return
+    again_args = header_args(first, fmt)
+    if again_args is None:
+        fail("%s: the %s header does not name the model and circuit" % (name, fmt))
+        return
+    again = run(again_args + ["--format", fmt] + list(extra))
+    if again != first:
+        fail("%s: the table rebuilt from its %s header differs (%s)" % (name, fmt,
+                                                                        " ".join(again_args)))
+        return
+    print("xcheck_lut_kinds ok %s: rebuilt byte for byte from its %s header" % (name, fmt))
+
+
+CHEB = ["--model", "cheb:3", "--coef", "315,-85,1,0.3", "--param", "x_lo=0.4", "--param",
+        "x_hi=0.75", "--vref", "1V", "--range", "-20C:100C"]
+rebuilt("cheb3 indexed", CHEB + ["--max-error", "0.1C", "--strategy", "indexed"], "c")
+rebuilt("cheb3 uniform", CHEB + ["--step", "64"], "csv")
+rebuilt("cheb3 uniform", CHEB + ["--step", "64"], "c")
+DVBE = ["--model", "dvbe", "--coef", "1.02,1e-4", "--param", "p=8", "--vref", "3.3V", "--gain",
+        "30", "--offset", "0.1V", "--adc-bits", "16", "--range", "-40C:125C", "--step", "1024"]
+rebuilt("dvbe p8", DVBE, "c")
+rebuilt("dvbe p8", DVBE, "csv")
+
 sys.exit(1 if failures else 0)

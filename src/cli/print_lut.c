@@ -5,6 +5,24 @@
 
 #include "cli.h"
 
+/* The CSV table's second comment line: the model with every coefficient and held parameter
+** (and T0), the circuit and the range, all the table is rebuilt from, as the C header says. */
+static void csv_model_line(const bg_lut_spec *s, FILE *f)
+{
+    char name[16], cd[256];
+    bg_model_name(&s->model, name, sizeof name);
+    fprintf(f, "# model %s (%s):", name, s->source ? s->source : "given inline");
+    for (size_t i = 0; i < bg_model_npar(&s->model); i++)
+        fprintf(f, " %s=%.17g", bg_model_coef_name(&s->model, i), s->model.coef[i]);
+    if (bg_model_flags(&s->model) & BG_MODEL_HAS_T0)
+        fprintf(f, " T0=%.17g K", s->model.t0_k);
+    for (size_t i = 0; i < bg_model_nparam(&s->model); i++)
+        fprintf(f, " %s=%.17g", bg_model_param_name(&s->model, i), bg_model_param(&s->model, i));
+    fprintf(f, "; circuit: %s; range: %.3f .. %.3f degC\n",
+            bg_circuit_describe(&s->circuit, cd, sizeof cd), s->t_lo_k - BG_ZERO_C_K,
+            s->t_hi_k - BG_ZERO_C_K);
+}
+
 void lut_print_csv(const bg_lut_result *r, FILE *f)
 {
     const bg_lut *t = &r->table;
@@ -18,6 +36,7 @@ void lut_print_csv(const bg_lut_result *r, FILE *f)
                 bg_version(), 1ul << t->shift, t->code_lo, vu, t->max_err_k, t->rms_err_k,
                 t->code_lo, t->code_hi, s->stamp ? "; generated at " : "",
                 s->stamp ? s->stamp : "");
+        csv_model_line(s, f);
         fprintf(f, "index,code,value\n");
         for (size_t i = 0; i < t->n; i++) {
             fprintf(f, "%zu,%ld,", i, t->code_lo + (long)(i << t->shift));
@@ -44,6 +63,7 @@ void lut_print_csv(const bg_lut_result *r, FILE *f)
     fprintf(f, "; max error %.6f K, RMS %.6f K over codes %ld .. %ld", t->max_err_k,
             t->rms_err_k, t->code_lo, t->code_hi);
     fprintf(f, "%s%s\n", s->stamp ? "; generated at " : "", s->stamp ? s->stamp : "");
+    csv_model_line(s, f);
     fprintf(f, "segment,first_code,last_code,base,slope,value_at_first\n");
     for (size_t i = 0; i < t->n; i++) {
         fprintf(f, "%zu,%ld,%ld,", i, t->sx[i], t->sx[i + 1] - 1);
