@@ -390,6 +390,9 @@ static void kind_text_stats(const bg_qa_lot *l)
     printf("  deviation from the nominal curve (mK) against the %s:\n",
            l->spec.tol_k > 0.0 ? "kelvin tolerance" : l->sensor == BG_PART_PRT ?
            "IEC 60751 class tolerance" : "band of the kind's tolerances");
+    if (l->sensor == BG_PART_PRT && !(l->spec.tol_k > 0.0))
+        printf("  (the class limits are from memory, not checked against a copy of IEC 60751: "
+               "check them against the standard before a certificate relies on them)\n");
 }
 
 static void stats_text(const bg_qa_lot *l)
