@@ -252,8 +252,27 @@ echo "records: probe move refusals leave the database as it was"
 # trigger is as it was, and it verifies.
 U="$T/v9.db"
 Bu() { "$BIN" --db "$U" "$@"; }
+# the SQL that takes a version-13 file of NTC lots only back to version 12 (what
+# 013-lot-sensor.sql changes: 'lot' and 'lot_version' made again as 006-finite.sql and
+# 008-versions.sql made them, without the sensor column, with their index and triggers)
+back_to_12() {
+    echo "PRAGMA legacy_alter_table = ON;"
+    echo "ALTER TABLE lot RENAME TO lot_new; ALTER TABLE lot_version RENAME TO lot_version_new;"
+    sed -n '/^CREATE TABLE lot (/,/^) STRICT;/p' "$HERE/../db/006-finite.sql"
+    sed -n '/^CREATE TABLE lot_version (/,/^) STRICT;/p' "$HERE/../db/008-versions.sql"
+    echo "INSERT INTO lot SELECT id, code, part, r25_ohm, beta_k, pair_t1_k, pair_t2_k, tol_r25,
+              tol_beta, note, created_at FROM lot_new ORDER BY id;
+          INSERT INTO lot_version SELECT * FROM lot_version_new ORDER BY id;
+          DROP TABLE lot_version_new; DROP TABLE lot_new;" # (legacy_alter_table stays on)
+    sed -n '/^CREATE INDEX lot_version_of/p' "$HERE/../db/008-versions.sql"
+    sed -n '/^CREATE TRIGGER lot_keep/,/END;/p;/^CREATE TRIGGER lot_stay/,/END;/p' \
+        "$HERE/../db/007-record-chain.sql"
+    sed -n '/^CREATE TRIGGER lot_version_keep/,/END;/p;/^CREATE TRIGGER lot_version_stay/,/END;/p' \
+        "$HERE/../db/008-versions.sql"
+}
 # the SQL that takes a version-12 file back to version 11 (what 012-part-sensor.sql adds)
 back_to_11() {
+    back_to_12
     echo "DROP TRIGGER part_spec_sensor_shape;"
     for c in iec_class tol_s nom_s tol_x nom_x nom_t_k sensor; do
         echo "ALTER TABLE part_spec DROP COLUMN $c;"
@@ -310,12 +329,13 @@ dump9() {
     done
     sqlite3 "$1" "SELECT type, name, tbl_name, sql FROM sqlite_schema
                   WHERE type IN ('index', 'trigger', 'view')
-                    AND name NOT IN ('reading_resistance_positive', 'part_spec_sensor_shape')
+                    AND name NOT IN ('reading_resistance_positive', 'part_spec_sensor_shape',
+                                     'lot_version_sensor_shape')
                   ORDER BY type, name"
 }
 dump9 "$U" > "$T/before9.txt"
 Bu lot list > /dev/null 2> "$T/err" || bad "the upgrade from version 9 failed: $(cat "$T/err")"
-[ "$(sqlite3 "$U" 'PRAGMA user_version')" = 12 ] || bad "the version-9 file was not upgraded"
+[ "$(sqlite3 "$U" 'PRAGMA user_version')" = 13 ] || bad "the version-9 file was not upgraded"
 dump9 "$U" > "$T/after9.txt"
 cmp -s "$T/before9.txt" "$T/after9.txt" ||
     bad "the upgrade from 9 changed rows, ids, hashes, indexes or triggers: $(diff "$T/before9.txt" "$T/after9.txt")"
@@ -350,7 +370,7 @@ sqlite3 "$U11" "PRAGMA foreign_keys = OFF; $(back_to_11) PRAGMA user_version = 1
     bad "v11 setup: part_spec still has the sensor column"
 dump9 "$U11" > "$T/before11.txt"
 B11 lot list > /dev/null 2> "$T/err" || bad "the upgrade from version 11 failed: $(cat "$T/err")"
-[ "$(sqlite3 "$U11" 'PRAGMA user_version')" = 12 ] || bad "the version-11 file was not upgraded"
+[ "$(sqlite3 "$U11" 'PRAGMA user_version')" = 13 ] || bad "the version-11 file was not upgraded"
 dump9 "$U11" > "$T/after11.txt"
 cmp -s "$T/before11.txt" "$T/after11.txt" ||
     bad "the upgrade from 11 changed rows, ids, hashes, indexes or triggers: $(diff "$T/before11.txt" "$T/after11.txt")"
@@ -370,6 +390,85 @@ out=$(sqlite3 "$U11" "INSERT INTO part_spec (part, sensor, nom_t_k, nom_x, creat
 case $out in *"sensor kind and its nominal values do not match"*) ;; *) bad "a junction row without its slope: $out" ;; esac
 [ "$(sqlite3 "$U11" 'PRAGMA integrity_check')" = ok ] || bad "integrity_check after the upgrade from 11"
 echo "records: the part-sensor schema keeps a version-11 record, its hashes and checks"
+
+# 7c. the lot-sensor schema (version 13), from a version-12 file with rows in every table,
+# lot versions among them, and its record chain: the same file taken back to version 12 by
+# hand ('lot' and 'lot_version' made again without the sensor column and with their NOT NULL
+# values) is opened again: every row, id, chain hash, index and trigger is as it was, it
+# verifies, and the old lots read as NTC lots.  Then a junction lot is added, and the lot
+# refusals (the wrong kind's option, a kind the part does not have, a tolerance of a junction
+# lot) leave the file byte for byte as it was.
+cp "$U11" "$T/v12.db"
+U12="$T/v12.db"
+B12() { "$BIN" --db "$U12" "$@"; }
+B12 verify > "$T/verify12-before.txt" 2>&1 || bad "v12 setup: the file does not verify"
+[ "$(sqlite3 "$U12" "SELECT count(*) FROM lot_version")" -gt 0 ] || bad "v12 setup: no lot versions"
+sqlite3 "$U12" "PRAGMA foreign_keys = OFF; $(back_to_12) PRAGMA user_version = 12;" ||
+    bad "v12 setup: the file could not be taken back to version 12"
+[ "$(sqlite3 "$U12" "SELECT count(*) FROM pragma_table_info('lot') WHERE name = 'sensor'")" = 0 ] ||
+    bad "v12 setup: lot still has the sensor column"
+[ "$(sqlite3 "$U12" "SELECT \"notnull\" FROM pragma_table_info('lot') WHERE name = 'r25_ohm'")" = 1 ] ||
+    bad "v12 setup: lot.r25_ohm is not NOT NULL as in version 12"
+dump9 "$U12" > "$T/before12.txt"
+sqlite3 "$U12" "SELECT sql FROM sqlite_schema WHERE name = 'lot'" > "$T/lot12.sql"
+B12 lot list > /dev/null 2> "$T/err" || bad "the upgrade from version 12 failed: $(cat "$T/err")"
+[ "$(sqlite3 "$U12" 'PRAGMA user_version')" = 13 ] || bad "the version-12 file was not upgraded"
+dump9 "$U12" > "$T/after12.txt"
+cmp -s "$T/before12.txt" "$T/after12.txt" ||
+    bad "the upgrade from 12 changed rows, ids, hashes, indexes or triggers: $(diff "$T/before12.txt" "$T/after12.txt")"
+sqlite3 "$U12" "SELECT sql FROM sqlite_schema WHERE name = 'lot'" | cmp -s - "$T/lot12.sql" &&
+    bad "the upgrade from 12 did not make the lot table again"
+[ "$(sqlite3 "$U12" 'SELECT count(*) FROM lot WHERE sensor IS NOT NULL')" = 0 ] ||
+    bad "an upgraded lot has a sensor kind (NULL: an NTC lot)"
+B12 verify > "$T/verify12-after.txt" 2>&1 || bad "the upgraded version-12 file does not verify: $(cat "$T/verify12-after.txt")"
+cmp -s "$T/verify12-before.txt" "$T/verify12-after.txt" ||
+    bad "verify says otherwise after the upgrade from 12: $(diff "$T/verify12-before.txt" "$T/verify12-after.txt")"
+[ "$(sqlite3 "$U12" 'PRAGMA integrity_check')" = ok ] || bad "integrity_check after the upgrade from 12"
+[ -z "$(sqlite3 "$U12" 'PRAGMA foreign_key_check')" ] || bad "foreign_key_check after the upgrade from 12"
+[ "$(B12 lot list --json | python3 -c "import json,sys; print(' '.join(l['sensor'] for l in json.load(sys.stdin)))")" = "ntc ntc" ] ||
+    bad "the upgraded lots do not read as NTC lots"
+B12 drift --lot L > /dev/null 2> "$T/err"; [ $? -le 1 ] || bad "drift --lot after the upgrade from 12: $(cat "$T/err")"
+# refusals, each leaving the file as it was (J is the junction part of section 7b)
+sum12=$(sha256sum < "$U12")
+refused() { # expected status, then the arguments
+    want=$1; shift
+    B12 "$@" > /dev/null 2> "$T/err"; got=$?
+    [ "$got" = "$want" ] || bad "'$*' exited $got, not $want: $(cat "$T/err")"
+    [ "$(sha256sum < "$U12")" = "$sum12" ] || bad "'$*' changed the file"
+}
+refused 64 lot add LJ --part J --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1%
+refused 64 lot add LJ --part J --pair 0/50
+refused 64 lot add LJ --part J --sensor junction --tol-r25 1%
+refused 65 lot add LJ --part J --sensor ptc
+refused 65 lot add LJ --part J --sensor ntc --r25 10k --beta 3950K --tol-r25 1% --tol-beta 1%
+refused 64 lot add LN --part NEW-NTC
+refused 64 lot add LJ --part J --sensor diode
+refused 64 lot set L --sensor junction --why "invented"
+B12 lot add LJ --part J --note "invented" > "$T/out" 2>&1 || bad "a junction lot after the upgrade from 12: $(cat "$T/out")"
+grep -q "added junction lot LJ" "$T/out" || bad "the junction lot's kind is not said: $(cat "$T/out")"
+[ "$(sqlite3 "$U12" "SELECT sensor, r25_ohm IS NULL, tol_beta IS NULL FROM lot WHERE code = 'LJ'")" = "junction|1|1" ] ||
+    bad "the junction lot is not stored as a junction lot without R25 and B"
+sum12=$(sha256sum < "$U12")
+refused 64 lot set LJ --tol-r25 0.5% --why "invented"
+refused 65 lot set LJ --note "invented" --why "invented" --by "A. Tester"
+B12 lot set LJ --note "invented: rack 3" --why "invented" --by "A. Tester" > /dev/null 2>&1 ||
+    bad "a note version of a junction lot"
+[ "$(sqlite3 "$U12" "SELECT tol_r25 IS NULL AND tol_beta IS NULL FROM lot_version ORDER BY id DESC LIMIT 1")" = 1 ] ||
+    bad "the junction lot's version holds tolerances"
+B12 verify > /dev/null 2>&1 || bad "the version-13 file with a junction lot does not verify"
+# the record refuses rows whose kind and values do not match, whoever writes them
+out=$(sqlite3 "$U12" "INSERT INTO lot (code, part, r25_ohm, created_at, sensor)
+                      VALUES ('X', 'J', 10000, 't', 'junction')" 2>&1)
+case $out in *lot_sensor_shape*) ;; *) bad "a junction lot with an R25: $out" ;; esac
+out=$(sqlite3 "$U12" "INSERT INTO lot (code, part, created_at) VALUES ('X', 'N', 't')" 2>&1)
+case $out in *lot_sensor_shape*) ;; *) bad "an NTC lot without R25: $out" ;; esac
+out=$(sqlite3 "$U12" "INSERT INTO lot_version (lot_id, valid_from, tol_r25, tol_beta, why, by_whom, created_at)
+                      SELECT id, '2030-01-01T00:00:00Z', 0.01, 0.01, 'w', 'b', 't' FROM lot WHERE code = 'LJ'" 2>&1)
+case $out in *"tolerances and its lot's sensor kind do not match"*) ;; *) bad "a junction lot's version with tolerances: $out" ;; esac
+out=$(sqlite3 "$U12" "INSERT INTO lot_version (lot_id, valid_from, note, why, by_whom, created_at)
+                      SELECT id, '2030-01-01T00:00:00Z', 'n', 'w', 'b', 't' FROM lot WHERE code = 'L'" 2>&1)
+case $out in *"tolerances and its lot's sensor kind do not match"*) ;; *) bad "an NTC lot's version without tolerances: $out" ;; esac
+echo "records: the lot-sensor schema keeps a version-12 record, its hashes and checks; lots of other kinds"
 
 # 8. readings of other quantities: import, fits of the wrong kind and bad files refused with
 # the database byte for byte as it was

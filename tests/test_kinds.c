@@ -117,6 +117,10 @@ static void iec60751_classes(void **state)
     assert_close(dev, 0.05 / (100.0 * 3.9083e-3), 1e-3, 0);
     assert_int_equal(bg_model_derived(&m, NULL, 263.15, 283.15, d, 4), 2);
     assert_string_equal(d[1].text, "A");
+    /* the limits are from memory: every verdict says they must be checked against the
+    ** standard before a certificate relies on them */
+    assert_non_null(strstr(d[1].note, "Limits from memory: check them against IEC 60751 "
+                                      "before a certificate relies on them"));
     c[0] = 100.02; /* 0.051 K: AA */
     assert_int_equal(bg_model_set_coef(&m, c, 4, NULL), BG_OK);
     assert_int_equal(bg_model_derived(&m, NULL, 263.15, 283.15, d, 4), 2);

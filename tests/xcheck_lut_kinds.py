@@ -172,8 +172,32 @@ def case(name, args, fe, x_of_t, t_of_x, t_lo_c, t_hi_c, per_degree, bound=None)
     t_codes = np.array([t_of_x(reading_of_code(fe, float(c))) for c in (lo, (lo + hi) // 2, hi)])
     if not (np.all(np.diff(t_codes) > 0) or np.all(np.diff(t_codes) < 0)):
         fail("%s: temperatures not monotonic along the codes" % name)
+    budget(name, fe, d)
     print("xcheck_lut_kinds ok %s: codes %d .. %d, max %.4f K over every code" % (name, lo, hi,
                                                                                   mx))
+
+
+def budget(name, fe, d):
+    """The fixed resistor's term applies to a divider only: elsewhere it is null, the reason
+    is given, and the RSS and the sum are those of the other terms given, recomputed here."""
+    divider = fe["kind"] in ("low", "high")
+    why = d.get("fixed_resistor_not_applicable", "missing")
+    if divider != (why is None) or (not divider and not isinstance(why, str)):
+        fail("%s: fixed_resistor_not_applicable is %r for a %s front end" % (name, why,
+                                                                             fe["kind"]))
+    for row in d["budget"]:
+        if not divider and row["fixed_resistor_k"] is not None:
+            fail("%s: the fixed resistor term is %r where no resistor exists" % (
+                name, row["fixed_resistor_k"]))
+        if "at" in row:  # the worst row: each column's own largest over the codes
+            continue
+        terms = [row[k] for k in ("table_k", "adc_k", "fit_U_k", "fixed_resistor_k",
+                                  "self_heating_k") if row[k] is not None]
+        rss, total = math.sqrt(math.fsum(v * v for v in terms)), math.fsum(terms)
+        if abs(rss - row["rss_k"]) > 1e-12 * max(1.0, rss) or \
+           abs(total - row["sum_k"]) > 1e-12 * max(1.0, total):
+            fail("%s: budget RSS %.15g sum %.15g, computed here %.15g %.15g" % (
+                name, row["rss_k"], row["sum_k"], rss, total))
 
 
 # 1. Pt100, IEC 60751 nominal, 1 mA into a 0.5 V reference, 16 bits, 0.8 ohm 2-wire loop
@@ -265,5 +289,86 @@ case("ic-code 16 bit", ["--model", "ic-code", "--coef", "0.3,0.002,1e-5", "--t0"
      {"kind": "device", "bits": 16, "lsb": 1.0},
      lambda T: (ic_rep(T) - ZERO_C) / 0.0078125,
      lambda n: ic_t(n * 0.0078125 + ZERO_C), -40.0, 125.0, 1000.0, 0.01)
+
+
+# ---- a table rebuilt from its own header ----
+# The C and CSV headers name the model with every coefficient and held parameter (a Chebyshev
+# series' x_lo and x_hi, a junction pair's current ratio p), the circuit, the range, the
+# resolution and the strategy.  Each is parsed here, the table made again from those words
+# alone through an inline 'lut', and the two outputs must be the same bytes.
+NUM = r"[-+0-9.eE]+"
+
+
+def header_args(text, fmt):
+    """The lut arguments a header states (C: ' * ' lines; CSV: '# ' lines)."""
+    import re
+    m = re.search(r"model (\S+) \(given inline\):([^;\n]*)", text)
+    if not m:
+        return None
+    kind, words = m.group(1), m.group(2).split()
+    coefs, params, t0 = [], [], None
+    for w in words:
+        if w == "K":
+            continue
+        k, v = w.split("=")
+        if k == "T0":
+            t0 = v
+        elif k in ("x_lo", "x_hi", "p", "lsb_k"):  # the kinds' held parameters
+            params += ["--param", "%s=%s" % (k, v)]
+        else:
+            coefs.append(v)
+    args = ["--model", kind, "--coef", ",".join(coefs)] + params
+    if t0 is not None:
+        args += ["--t0", t0 + "K"]
+    c = re.search(r"V_adc = (%s) V ([+-]) (%s) V, reference (%s) V, (\d+)-bit ADC, "
+                  r"full scale 2\^N( - 1)?" % (NUM, NUM, NUM), text)
+    if not c:
+        return None
+    args += ["--gain", c.group(1), "--offset", ("-" if c.group(2) == "-" else "") + c.group(3)
+             + "V", "--vref", c.group(4) + "V", "--adc-bits", c.group(5), "--full-scale",
+             "pow2-1" if c.group(6) else "pow2"]
+    r = re.search(r"range: (%s) \.\. (%s) degC" % (NUM, NUM), text)
+    args += ["--range", "%sC:%sC" % (r.group(1), r.group(2))]
+    if fmt == "c":
+        res = re.search(r"temperature, (0\.0*1) degC per count", text)
+        u = re.search(r"every (\d+) codes \(uniform table\)", text)
+        seg = re.search(r"\((minimal|indexed) table.*?within (%s) K" % NUM, text, re.S)
+    else:
+        res = re.search(r"in (0\.0*1) degC", text)
+        u = re.search(r"uniform: breakpoints every (\d+) codes", text)
+        seg = None  # (the CSV cases here are uniform tables)
+    args += ["--resolution", res.group(1)]
+    if u:
+        args += ["--step", u.group(1)]
+    elif fmt == "c":
+        args += ["--strategy", seg.group(1), "--max-error", seg.group(2) + "K"]
+    return args
+
+
+def rebuilt(name, args, fmt, extra=()):
+    first = run(args + ["--format", fmt] + list(extra))
+    if first is None:
+        return
+    again_args = header_args(first, fmt)
+    if again_args is None:
+        fail("%s: the %s header does not name the model and circuit" % (name, fmt))
+        return
+    again = run(again_args + ["--format", fmt] + list(extra))
+    if again != first:
+        fail("%s: the table rebuilt from its %s header differs (%s)" % (name, fmt,
+                                                                        " ".join(again_args)))
+        return
+    print("xcheck_lut_kinds ok %s: rebuilt byte for byte from its %s header" % (name, fmt))
+
+
+CHEB = ["--model", "cheb:3", "--coef", "315,-85,1,0.3", "--param", "x_lo=0.4", "--param",
+        "x_hi=0.75", "--vref", "1V", "--range", "-20C:100C"]
+rebuilt("cheb3 indexed", CHEB + ["--max-error", "0.1C", "--strategy", "indexed"], "c")
+rebuilt("cheb3 uniform", CHEB + ["--step", "64"], "csv")
+rebuilt("cheb3 uniform", CHEB + ["--step", "64"], "c")
+DVBE = ["--model", "dvbe", "--coef", "1.02,1e-4", "--param", "p=8", "--vref", "3.3V", "--gain",
+        "30", "--offset", "0.1V", "--adc-bits", "16", "--range", "-40C:125C", "--step", "1024"]
+rebuilt("dvbe p8", DVBE, "c")
+rebuilt("dvbe p8", DVBE, "csv")
 
 sys.exit(1 if failures else 0)

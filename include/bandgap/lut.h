@@ -251,7 +251,8 @@ typedef struct bg_lut_request {
 
 /* The budget's terms that bg_lut_make computed (bg_lut_result.budget_terms).  A term whose
 ** inputs were not given is NaN in the rows, never 0, and the RSS and sum leave it out;
-** BG_BUDGET_NO_RESISTOR: the circuit has no fixed resistor (its term is 0 by nature). */
+** BG_BUDGET_NO_RESISTOR: the circuit has no fixed resistor (a current source, a reading in
+** ohms, a junction's amplifier, a device's word): the term does not apply, and is NaN too. */
 enum { BG_BUDGET_FIT = 1 << 0, BG_BUDGET_RESISTOR = 1 << 1, BG_BUDGET_SELFHEAT = 1 << 2,
        BG_BUDGET_NO_RESISTOR = 1 << 3 };
 

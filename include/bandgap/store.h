@@ -79,9 +79,13 @@ BG_API void bg_store_rollback(bg_store *st);
 typedef struct bg_lot {
     long long id;
     char code[BG_TEXT], part[BG_TEXT];
-    double r25_ohm, beta_k, pair_t1_k, pair_t2_k, tol_r25, tol_beta; /* tolerances: fractions */
+    double r25_ohm, beta_k, pair_t1_k, pair_t2_k, tol_r25, tol_beta; /* tolerances: fractions;
+                                      NaN (all six) for a lot of another kind than NTC, whose
+                                      nominal values and tolerances are its part's */
     char note[BG_NOTE], created_at[BG_TIME];
     long long nprobes;
+    int sensor; /* schema 13: the lot's sensor kind (BG_PART_NTC, BG_PART_JUNCTION, ...; below:
+                ** the kinds a part can be); every lot added before schema 13 is an NTC lot */
 } bg_lot;
 
 typedef struct bg_probe {

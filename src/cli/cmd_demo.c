@@ -301,11 +301,10 @@ static int demo_bench2_lot(struct cli_ctx *dctx, const char *dir, const char *lo
                            const char *part, const char *const *spec, const char *file,
                            char prefix, const char *model)
 {
-    /* the lot table's R25 and B fields are required; a junction or platinum part's lots are
-    ** judged against the part's own nominal values instead (the output says so) */
-    const char *a_lot[] = { "lot", "add", lot, "--part", part, "--r25", "10k", "--beta",
-                            "3950K", "--tol-r25", "1%", "--tol-beta", "1%", "--note",
-                            "invented demo lot (R25 and B not used: see the part)", NULL };
+    /* a junction or platinum lot holds no nominal values of its own: it takes its kind from
+    ** the part's specification (the output says so) and is judged against the part's */
+    const char *a_lot[] = { "lot", "add", lot, "--part", part, "--note", "invented demo lot",
+                            NULL };
     const char *a_drift[] = { "drift", "--lot", lot, NULL };
     char path[4200], serial[16];
     int rc;

@@ -372,8 +372,9 @@ static void kind_text_head(const bg_qa_lot *l)
            "%s, %s %.6g +-%.4g %s\n", l->lot.code, l->lot.part, bg_part_sensor_name(l->sensor),
            l->n, l->nofit ? ", some without" : "", l->spec.nom_t_k - BG_ZERO_C_K, l->v1_name,
            l->v1_tol, l->v1_unit, l->v2_name, l->v2_nominal, l->v2_tol, l->v2_unit);
-    printf("  (the lot's own R25 and B are not used: part %s is of kind %s)\n", l->lot.part,
-           bg_part_sensor_name(l->sensor));
+    if (l->lot.sensor == BG_PART_NTC) /* a lot added before schema 13 with R25 and B */
+        printf("  (the lot's own R25 and B are not used: part %s is of kind %s)\n",
+               l->lot.part, bg_part_sensor_name(l->sensor));
 }
 
 static void kind_text_stats(const bg_qa_lot *l)
@@ -389,6 +390,9 @@ static void kind_text_stats(const bg_qa_lot *l)
     printf("  deviation from the nominal curve (mK) against the %s:\n",
            l->spec.tol_k > 0.0 ? "kelvin tolerance" : l->sensor == BG_PART_PRT ?
            "IEC 60751 class tolerance" : "band of the kind's tolerances");
+    if (l->sensor == BG_PART_PRT && !(l->spec.tol_k > 0.0))
+        printf("  (the class limits are from memory, not checked against a copy of IEC 60751: "
+               "check them against the standard before a certificate relies on them)\n");
 }
 
 static void stats_text(const bg_qa_lot *l)

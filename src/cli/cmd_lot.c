@@ -2,6 +2,7 @@
 /* bandgap lot add|set|list|show: production lots with their nominal curve and tolerances,
 ** and their versions (a corrected tolerance adds one). */
 #include <getopt.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -11,6 +12,7 @@
 static const char lot_usage[] =
     "Usage: bandgap lot add CODE --part P --r25 OHMS --beta B [--pair T1/T2]\n"
     "                   --tol-r25 REL --tol-beta REL [--note TEXT]\n"
+    "       bandgap lot add CODE --part P --sensor ptc|junction|prt|ic [--note TEXT]\n"
     "       bandgap lot set CODE [--tol-r25 REL] [--tol-beta REL] [--note TEXT] --why TEXT\n"
     "                   [--by NAME] [--from TIME]\n"
     "       bandgap lot list [--json]\n"
@@ -18,6 +20,9 @@ static const char lot_usage[] =
     "A production lot: part number, nominal R25 (10k, 4k7, 470R, 3000ohm) and B in kelvin\n"
     "(3950K) for the pair (default 25/85, in degC), and their tolerances with their unit\n"
     "(1%, 0.5% or 5000ppm; a bare number is refused).  Codes are stored exactly as given.\n"
+    "A lot of another kind (--sensor, or the kind of the part's specification in force)\n"
+    "holds no R25, B or tolerances: its nominal values and tolerances are the part's\n"
+    "(bandgap part set P --sensor KIND ...), and the NTC options are refused for it.\n"
     "set corrects the tolerances or the note as a new version (what is not given is kept),\n"
     "valid from TIME (ISO 8601; default now), with the reason and who (default $USER, else\n"
     "the login name of the user id): each calibration is judged against the tolerances in\n"
@@ -25,7 +30,7 @@ static const char lot_usage[] =
 
 struct lot_args {
     bg_lot lot;
-    int have_r25, have_beta, have_tr, have_tb;
+    int have_r25, have_beta, have_tr, have_tb, have_pair, have_sensor;
     const char *why, *by, *from;
 };
 
@@ -33,7 +38,7 @@ struct lot_args {
 static int lot_parse(int argc, char **argv, struct lot_args *a, struct cli_ctx *ctx)
 {
     enum { O_PART = 1, O_R25, O_BETA, O_PAIR, O_TOLR, O_TOLB, O_NOTE, O_JSON, O_WHY, O_BY,
-           O_FROM };
+           O_FROM, O_SENSOR };
     static const struct option opts[] = {
         { "part", required_argument, NULL, O_PART }, { "r25", required_argument, NULL, O_R25 },
         { "beta", required_argument, NULL, O_BETA }, { "pair", required_argument, NULL, O_PAIR },
@@ -42,6 +47,7 @@ static int lot_parse(int argc, char **argv, struct lot_args *a, struct cli_ctx *
         { "note", required_argument, NULL, O_NOTE }, { "json", no_argument, NULL, O_JSON },
         { "why", required_argument, NULL, O_WHY },   { "by", required_argument, NULL, O_BY },
         { "from", required_argument, NULL, O_FROM },
+        { "sensor", required_argument, NULL, O_SENSOR },
         { "help", no_argument, NULL, 'h' },          { NULL, 0, NULL, 0 },
     };
     bg_error err = BG_ERROR_INIT;
@@ -66,6 +72,12 @@ static int lot_parse(int argc, char **argv, struct lot_args *a, struct cli_ctx *
         case O_PAIR:
             if (bg_model_parse_pair(optarg, &lot->pair_t1_k, &lot->pair_t2_k, &err) != BG_OK)
                 return cli_usage_error("lot", "--pair: %s", err.msg);
+            a->have_pair = 1;
+            break;
+        case O_SENSOR:
+            if (bg_part_sensor_parse(optarg, &lot->sensor, &err) != BG_OK)
+                return cli_usage_error("lot", "--sensor: %s", err.msg);
+            a->have_sensor = 1;
             break;
         case O_TOLR: case O_TOLB:
             if (bg_units_parse_fraction(optarg, c == O_TOLR ? &lot->tol_r25 : &lot->tol_beta,
@@ -97,10 +109,57 @@ static int lot_parse(int argc, char **argv, struct lot_args *a, struct cli_ctx *
     return BG_OK;
 }
 
+/* The first NTC option given ("--r25", ...), or NULL. */
+static const char *lot_ntc_option(const struct lot_args *a)
+{
+    return a->have_r25 ? "--r25" : a->have_beta ? "--beta" : a->have_pair ? "--pair" :
+           a->have_tr ? "--tol-r25" : a->have_tb ? "--tol-beta" : NULL;
+}
+
+/* The lot's kind: --sensor, else the kind of its part's specification in force (said), else
+** an NTC lot; a lot of another kind takes none of the NTC options.  '*said' is set to what
+** the output says about where the kind came from. */
+static int lot_kind(struct lot_args *a, bg_store *st, const char **said)
+{
+    bg_error err = BG_ERROR_INIT;
+    bg_part_spec spec;
+    bg_lot *lot = &a->lot;
+    const char *opt = lot_ntc_option(a);
+    int rc;
+
+    *said = a->have_sensor ? "--sensor" : "no specification of another kind: an NTC lot";
+    if (!a->have_sensor) {
+        if ((rc = bg_store_part_spec_get(st, lot->part, &spec, &err)) != BG_OK) {
+            cli_fail("lot add", &err);
+            return rc;
+        }
+        lot->sensor = spec.id ? spec.sensor : BG_PART_NTC;
+        if (spec.id && spec.sensor != BG_PART_NTC)
+            *said = "the part's specification in force";
+    }
+    if (lot->sensor == BG_PART_NTC) {
+        if (!a->have_r25 || !a->have_beta || !a->have_tr || !a->have_tb)
+            return cli_usage_error("lot", "an NTC lot needs --r25, --beta, --tol-r25 and "
+                                   "--tol-beta (part %s has %s; --sensor KIND for a lot of "
+                                   "another kind)", lot->part, a->have_sensor ? "--sensor ntc"
+                                   : "no specification of another kind");
+        return BG_OK;
+    }
+    if (opt)
+        return cli_usage_error("lot", "%s is an NTC lot's option; lot %s is a %s lot (%s), "
+                               "whose nominal values and tolerances are part %s's (bandgap "
+                               "part show %s)", opt, lot->code,
+                               bg_part_sensor_name(lot->sensor), *said, lot->part, lot->part);
+    lot->r25_ohm = lot->beta_k = lot->pair_t1_k = lot->pair_t2_k = NAN;
+    lot->tol_r25 = lot->tol_beta = NAN;
+    return BG_OK;
+}
+
 static int lot_add(struct lot_args *a, const char *code, struct cli_ctx *ctx)
 {
     bg_error err = BG_ERROR_INIT;
     bg_store *st = NULL;
+    const char *said;
     long long id;
     int rc;
 
@@ -108,11 +167,23 @@ static int lot_add(struct lot_args *a, const char *code, struct cli_ctx *ctx)
         return cli_usage_error("lot", "lot code is longer than %zu bytes",
                                sizeof a->lot.code - 1);
     snprintf(a->lot.code, sizeof a->lot.code, "%s", code);
-    if (!a->lot.part[0] || !a->have_r25 || !a->have_beta || !a->have_tr || !a->have_tb)
-        return cli_usage_error("lot", "add needs --part, --r25, --beta, --tol-r25 and "
+    if (!a->lot.part[0])
+        return cli_usage_error("lot", "add needs --part");
+    if (a->have_sensor && a->lot.sensor == BG_PART_NTC &&
+        (!a->have_r25 || !a->have_beta || !a->have_tr || !a->have_tb))
+        return cli_usage_error("lot", "an NTC lot needs --r25, --beta, --tol-r25 and "
                                "--tol-beta");
+    if (a->have_sensor && a->lot.sensor != BG_PART_NTC && lot_ntc_option(a))
+        return cli_usage_error("lot", "%s is an NTC lot's option, not a %s lot's (whose "
+                               "nominal values and tolerances are its part's: bandgap part "
+                               "show %s)", lot_ntc_option(a), bg_part_sensor_name(a->lot.sensor),
+                               a->lot.part);
     if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
         return rc;
+    if ((rc = lot_kind(a, st, &said)) != BG_OK) {
+        bg_store_close(st);
+        return rc;
+    }
     rc = bg_store_lot_add(st, &a->lot, &id, &err);
     if (rc == BG_OK && ctx->json) {
         json_out j;
@@ -120,8 +191,15 @@ static int lot_add(struct lot_args *a, const char *code, struct cli_ctx *ctx)
         json_obj(&j, NULL);
         json_int(&j, "id", id);
         json_str(&j, "code", a->lot.code);
+        json_str(&j, "sensor", bg_part_sensor_name(a->lot.sensor));
+        json_str(&j, "sensor_from", a->have_sensor ? "option" : a->lot.sensor != BG_PART_NTC
+                                    ? "part" : "default");
         json_obj_end(&j);
         json_end(&j);
+    } else if (rc == BG_OK && a->lot.sensor != BG_PART_NTC) {
+        printf("added %s lot %s (id %lld; kind from %s); its nominal values and tolerances "
+               "are part %s's\n", bg_part_sensor_name(a->lot.sensor), a->lot.code, id, said,
+               a->lot.part);
     } else if (rc == BG_OK)
         printf("added lot %s (id %lld)\n", a->lot.code, id);
     else
@@ -138,9 +216,9 @@ static int lot_set(struct lot_args *a, const char *code, struct cli_ctx *ctx)
     long long id;
     int rc;
 
-    if (a->lot.part[0] || a->have_r25 || a->have_beta)
+    if (a->lot.part[0] || a->have_r25 || a->have_beta || a->have_pair || a->have_sensor)
         return cli_usage_error("lot", "set changes --tol-r25, --tol-beta and --note only (the "
-                               "nominal curve of a lot is not changed)");
+                               "nominal curve and the kind of a lot are not changed)");
     if (!a->why || !*a->why)
         return cli_usage_error("lot", "set needs --why TEXT (the reason for the new version)");
     char who[BG_TEXT], how[128];
@@ -159,6 +237,15 @@ static int lot_set(struct lot_args *a, const char *code, struct cli_ctx *ctx)
     snprintf(lv.v.by, sizeof lv.v.by, "%s", a->by);
     if ((rc = cli_open_store(ctx, 0, &st)) != BG_OK)
         return rc;
+    bg_lot now;
+    if ((a->have_tr || a->have_tb) && bg_store_lot_get(st, code, &now, &err) == BG_OK &&
+        now.sensor != BG_PART_NTC) { /* (an unknown lot: bg_store_lot_set says so) */
+        bg_store_close(st);
+        return cli_usage_error("lot", "%s is an NTC lot's option; lot %s is a %s lot, whose "
+                               "tolerances are part %s's (bandgap part set %s ...)",
+                               a->have_tr ? "--tol-r25" : "--tol-beta", now.code,
+                               bg_part_sensor_name(now.sensor), now.part, now.part);
+    }
     if (a->from)
         snprintf(lv.v.valid_from, sizeof lv.v.valid_from, "%s", a->from);
     else /* valid from now: the time is said below */
@@ -188,6 +275,12 @@ static int print_lot_version(const bg_lot_version *lv, void *ctx)
     json_out *j = ctx;
     if (lv->v.id == 0)
         return 0;
+    if (!j && isnan(lv->lot.tol_r25)) { /* a lot of another kind: a note only */
+        printf("  version %lld, valid from %s: note: %s\n    recorded %s by %s: %s\n",
+               lv->v.id, lv->v.valid_from, lv->lot.note, lv->v.created_at, lv->v.by,
+               lv->v.why);
+        return 0;
+    }
     if (!j) {
         printf("  version %lld, valid from %s: tolerance R25 %.4g %%, B %.4g %%%s%s\n"
                "    recorded %s by %s: %s\n", lv->v.id, lv->v.valid_from,

@@ -5,6 +5,24 @@
 
 #include "cli.h"
 
+/* The CSV table's second comment line: the model with every coefficient and held parameter
+** (and T0), the circuit and the range, all the table is rebuilt from, as the C header says. */
+static void csv_model_line(const bg_lut_spec *s, FILE *f)
+{
+    char name[16], cd[256];
+    bg_model_name(&s->model, name, sizeof name);
+    fprintf(f, "# model %s (%s):", name, s->source ? s->source : "given inline");
+    for (size_t i = 0; i < bg_model_npar(&s->model); i++)
+        fprintf(f, " %s=%.17g", bg_model_coef_name(&s->model, i), s->model.coef[i]);
+    if (bg_model_flags(&s->model) & BG_MODEL_HAS_T0)
+        fprintf(f, " T0=%.17g K", s->model.t0_k);
+    for (size_t i = 0; i < bg_model_nparam(&s->model); i++)
+        fprintf(f, " %s=%.17g", bg_model_param_name(&s->model, i), bg_model_param(&s->model, i));
+    fprintf(f, "; circuit: %s; range: %.3f .. %.3f degC\n",
+            bg_circuit_describe(&s->circuit, cd, sizeof cd), s->t_lo_k - BG_ZERO_C_K,
+            s->t_hi_k - BG_ZERO_C_K);
+}
+
 void lut_print_csv(const bg_lut_result *r, FILE *f)
 {
     const bg_lut *t = &r->table;
@@ -18,6 +36,7 @@ void lut_print_csv(const bg_lut_result *r, FILE *f)
                 bg_version(), 1ul << t->shift, t->code_lo, vu, t->max_err_k, t->rms_err_k,
                 t->code_lo, t->code_hi, s->stamp ? "; generated at " : "",
                 s->stamp ? s->stamp : "");
+        csv_model_line(s, f);
         fprintf(f, "index,code,value\n");
         for (size_t i = 0; i < t->n; i++) {
             fprintf(f, "%zu,%ld,", i, t->code_lo + (long)(i << t->shift));
@@ -47,6 +66,7 @@ void lut_print_csv(const bg_lut_result *r, FILE *f)
     fprintf(f, "; max error %.6f K, RMS %.6f K over codes %ld .. %ld", t->max_err_k,
             t->rms_err_k, t->code_lo, t->code_hi);
     fprintf(f, "%s%s\n", s->stamp ? "; generated at " : "", s->stamp ? s->stamp : "");
+    csv_model_line(s, f);
     fprintf(f, "segment,first_code,last_code,base,slope,value_at_first\n");
     for (size_t i = 0; i < t->n; i++) {
         fprintf(f, "%zu,%ld,%ld,", i, t->sx[i], t->sx[i + 1] - 1);
@@ -75,6 +95,21 @@ static void json_provenance(json_out *j, const bg_lut_result *r)
         json_null(j, "run_started_at");
     json_bool(j, "current", r->fit_current);
     json_obj_end(j);
+}
+
+/* Why a front end has no fixed resistor term (BG_BUDGET_NO_RESISTOR), or NULL when it has. */
+static const char *no_resistor_why(const bg_lut_result *r)
+{
+    if (!(r->budget_terms & BG_BUDGET_NO_RESISTOR))
+        return NULL;
+    switch (r->spec.circuit.kind) {
+    case BG_CIRCUIT_CURRENT: return "a current source front end has no fixed resistor";
+    case BG_CIRCUIT_OHMS: return "a reading in ohms has no fixed resistor";
+    case BG_CIRCUIT_JUNCTION: return "a junction read through an amplifier has no fixed "
+                                     "resistor";
+    case BG_CIRCUIT_DEVICE: return "a device's digital readout has no fixed resistor";
+    default: return "the front end has no fixed resistor";
+    }
 }
 
 /* The coverage factor of the budget's fit term, or null when there is no such term. */
@@ -185,6 +220,8 @@ void lut_print_json(const bg_lut_result *r, FILE *f)
         json_arr_end(&j);
     }
     json_coverage(&j, r);
+    /* why the fixed resistor term does not apply (its value is then null), or null */
+    json_str(&j, "fixed_resistor_not_applicable", no_resistor_why(r));
     json_arr(&j, "budget");
     for (size_t i = 0; i <= r->nbudget; i++) {
         const bg_budget_row *b = i < r->nbudget ? &r->budget[i] : &r->worst;
@@ -235,13 +272,14 @@ static void summary(const bg_lut *t, const size_t *sizes, int host, const char *
     }
 }
 
-/* A budget term in its column, "not given" when its inputs were not (it is NaN, never 0). */
-static void term(FILE *b, int width, double v)
+/* A budget term in its column, "not given" when its inputs were not and "n/a" when it does
+** not apply (it is NaN then, never 0). */
+static void term(FILE *b, int width, double v, int na)
 {
     if (isfinite(v))
         fprintf(b, " %*.4f", width, v);
     else
-        fprintf(b, " %*s", width, "not given");
+        fprintf(b, " %*s", width, na ? "n/a" : "not given");
 }
 
 /* The cost on the target the C is for, as measured there (nothing for the host). */
@@ -282,11 +320,14 @@ void lut_print_summary(const bg_lut_result *r, const char *pre, FILE *b)
         else
             snprintf(at, sizeof at, "%10s", "worst");
         fprintf(b, "                  %s %8.4f %8.4f", at, w->table_k, w->adc_k);
-        term(b, 10, w->fit_k);
-        term(b, 10, w->resistor_k);
-        term(b, 10, w->selfheat_k);
+        term(b, 10, w->fit_k, 0);
+        term(b, 10, w->resistor_k, no_resistor_why(r) != NULL);
+        term(b, 10, w->selfheat_k, 0);
         fprintf(b, " %8.4f %8.4f\n", w->rss_k, w->sum_k);
     }
+    if (no_resistor_why(r))
+        fprintf(b, "(resistor: not applicable, %s; left out of RSS and sum)\n",
+                no_resistor_why(r));
     if (r->budget_terms & BG_BUDGET_FIT) {
         if (r->fit_cover.fixed)
             fprintf(b, "(fit U = k u with k = %.2f as asked: coverage probability %.2f %%)\n",

@@ -124,7 +124,13 @@ void cli_print_lot(json_out *j, const char *key, const bg_lot *l)
         json_str(j, "note", l->note[0] ? l->note : NULL);
         json_str(j, "created_at", l->created_at);
         json_int(j, "probes", l->nprobes);
+        json_str(j, "sensor", bg_part_sensor_name(l->sensor));
         json_obj_end(j);
+        return;
+    }
+    if (l->sensor != BG_PART_NTC) { /* schema 13: its nominal values are its part's */
+        printf("%-16s part %s, %s lot (nominal values and tolerances: the part's), %lld "
+               "probes\n", l->code, l->part, bg_part_sensor_name(l->sensor), l->nprobes);
         return;
     }
     bg_units_format_temp(l->pair_t1_k, BG_UNIT_C, 2, b1, sizeof b1);

@@ -10,6 +10,7 @@
 #   migrations    two clients initialising one database at once apply each migration once;
 #                 a schema newer than the program is refused (exit 65); a database with
 #                 tables of its own is not taken over
+#   upgrade-13    the lot-sensor schema from a version-12 database with rows (upgrade13.sh)
 #   all-or-nothing  a bad line (checked before writing) and a failure inside the write
 #                 transaction (the server refuses the readings' insert) leave every table
 #                 as it was; 8 imports killed with SIGKILL at random moments leave whole runs
@@ -406,6 +407,12 @@ done
   "voltage/V reported_temperature/degC code/LSB -/-" ] ||
     { ok=1; echo "# the server's run.quantity columns are not as written"; }
 result run-quantities "$ok" "runs of volts, reported temperatures or codes differ between backends"
+
+# ---- the lot-sensor schema (13) from a version-12 database with rows ----
+sh "$HERE/upgrade13.sh" "$BIN" > "$T/up13.log" 2>&1
+ok=$?
+grep '^not ok' "$T/up13.log" | head -5
+result upgrade-13 "$ok" "the upgrade from schema 12 on the server"
 
 # ---- calibration sequences into the server (tests/sequence.sh's record parts) ----
 BG_SEQ_BACKEND=pg sh "$HERE/../sequence.sh" "$BIN" > "$T/seq.log" 2>&1

@@ -106,6 +106,10 @@ static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FI
         fprintf(f, " %s=%.17g", bg_model_coef_name(&s->model, i), s->model.coef[i]);
     if (bg_model_flags(&s->model) & BG_MODEL_HAS_T0)
         fprintf(f, " T0=%.17g K", s->model.t0_k);
+    /* the kind's held parameters (a Chebyshev series' x_lo and x_hi, a junction pair's current
+    ** ratio p, an IC code's lsb_k): with the coefficients, all the table is rebuilt from */
+    for (size_t i = 0; i < bg_model_nparam(&s->model); i++)
+        fprintf(f, " %s=%.17g", bg_model_param_name(&s->model, i), bg_model_param(&s->model, i));
     char cd[256];
     fprintf(f, "\n * circuit: %s", bg_circuit_describe(c, cd, sizeof cd));
     fprintf(f, "\n * range: %.3f .. %.3f degC, codes %ld .. %ld\n", s->t_lo_k - BG_ZERO_C_K,

@@ -116,8 +116,9 @@ static void budget_terms(bg_lut_result *out)
         bg_budget_row *w = i < out->nbudget ? &out->budget[i] : &out->worst;
         if (!(t & BG_BUDGET_FIT))
             w->fit_k = NAN;
-        if (!(t & BG_BUDGET_RESISTOR))
-            w->resistor_k = NAN;
+        if (!(t & BG_BUDGET_RESISTOR) || (t & BG_BUDGET_NO_RESISTOR))
+            w->resistor_k = NAN; /* not given, or not applicable (no fixed resistor: its 0
+                                 ** was in RSS and sum, which are so unchanged without it) */
         if (!(t & BG_BUDGET_SELFHEAT))
             w->selfheat_k = NAN;
     }

@@ -161,9 +161,11 @@ static size_t cvd_derived(const bg_model *m, const double *cov, double t_min_k, 
             out[1].value = ratio[c];
             break;
         }
-    snprintf(out[1].note, sizeof out[1].note, "the fitted curve's deviation within the class "
-             "limit over the calibrated range (value: the largest fraction of the limit used; "
-             "U not added, the class's range not checked)");
+    /* the limits are from memory (REFERENCES.md section 8): the verdict says so each time */
+    snprintf(out[1].note, sizeof out[1].note, "within the class limit over the calibrated range "
+             "(largest fraction of the limit used; U not added, class range not checked). "
+             "Limits from memory: check them against IEC 60751 before a certificate relies on "
+             "them");
     return 2;
 }
 

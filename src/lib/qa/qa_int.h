@@ -39,6 +39,10 @@ int bgi_qa_part_charts_with(bg_store *st, const char *part, const bg_qa_opts *o,
 ** the deviation T_nom(x(T)) - T (K) from the kind's nominal values; the half-width (K) of the
 ** band the kind's tolerances allow at 't_k' (NaN for an NTC). */
 void bgi_qa_kind_setup(bg_qa_lot *l);
+/* A lot of another kind than NTC (schema 13) is judged against its part's specification of
+** that kind: BG_EINVAL, saying how to give it one, when the part's specification in force is
+** missing or of another kind. */
+int bgi_qa_lot_kind_check(const bg_lot *lot, const bg_part_spec *spec, bg_error *err);
 int bgi_qa_kind_values(const bg_qa_lot *l, const bg_fit_row *f, double *v1, double *v2,
                        int *extrap, bg_error *err);
 int bgi_qa_kind_dev(const bg_qa_lot *l, const bg_model *m, double t_k, double *dev_k,

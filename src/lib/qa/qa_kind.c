@@ -35,6 +35,21 @@ static void set_names(bg_qa_lot *l, const char *n1, const char *u1, const char *
     snprintf(l->v2_key, sizeof l->v2_key, "%s", k2);
 }
 
+int bgi_qa_lot_kind_check(const bg_lot *lot, const bg_part_spec *spec, bg_error *err)
+{
+    if (lot->sensor == BG_PART_NTC || (spec->id && spec->sensor == lot->sensor))
+        return BG_OK;
+    if (lot->sensor < 0 || lot->sensor >= BG_PART_NSENSOR)
+        return bg_error_set(err, BG_EINVAL, "lot '%s': the stored sensor kind is not one this "
+                            "program knows (a damaged record)", lot->code);
+    return bg_error_set(err, BG_EINVAL, "lot '%s' is a %s lot, judged against its part's "
+                        "nominal values, but part '%s' has %s%s in force (bandgap part set %s "
+                        "--sensor %s ...)", lot->code, bg_part_sensor_name(lot->sensor),
+                        lot->part, spec->id ? "a specification of kind " : "no specification",
+                        spec->id ? bg_part_sensor_name(spec->sensor) : "", lot->part,
+                        bg_part_sensor_name(lot->sensor));
+}
+
 void bgi_qa_kind_setup(bg_qa_lot *l)
 {
     const bg_part_spec *p = &l->spec;

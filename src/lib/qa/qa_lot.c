@@ -350,7 +350,7 @@ static int tolerances_in_force(bg_store *st, bg_qa_lot *l, const bg_fit_row *fit
 static int nominal(bg_store *st, bg_qa_lot *l, bg_model *nom, bg_error *err)
 {
     int rc = bg_store_part_spec_get(st, l->lot.part, &l->spec, err);
-    if (rc != BG_OK)
+    if (rc != BG_OK || (rc = bgi_qa_lot_kind_check(&l->lot, &l->spec, err)) != BG_OK)
         return rc;
     bgi_qa_kind_setup(l);
     l->nominal_is_beta = !l->spec.have_model && l->sensor == BG_PART_NTC;
@@ -373,6 +373,8 @@ static int nominal(bg_store *st, bg_qa_lot *l, bg_model *nom, bg_error *err)
 ** with: a row the program could not have written (a damaged or edited file) is refused. */
 static int lot_check(const bg_lot *lot, bg_error *err)
 {
+    if (lot->sensor != BG_PART_NTC) /* schema 13: it holds none (bgi_qa_lot_kind_check) */
+        return BG_OK;
     if (!(lot->r25_ohm > 0.0 && isfinite(lot->r25_ohm) && lot->beta_k > 0.0 &&
           isfinite(lot->beta_k) && lot->tol_r25 >= 0.0 && lot->tol_r25 < 1.0 &&
           lot->tol_beta >= 0.0 && lot->tol_beta < 1.0 && lot->pair_t1_k > 0.0 &&

@@ -178,7 +178,8 @@ int bg_qa_probe_drift(bg_store *st, const char *serial, const bg_qa_opts *o, bg_
     if (hc.oom)
         return bg_error_set(err, BG_ENOMEM, "out of memory reading the %zu calibrations of "
                             "probe '%s'", out->n, serial);
-    if ((rc = bg_store_part_spec_get(st, out->lot.part, &spec, err)) != BG_OK)
+    if ((rc = bg_store_part_spec_get(st, out->lot.part, &spec, err)) != BG_OK ||
+        (rc = bgi_qa_lot_kind_check(&out->lot, &spec, err)) != BG_OK)
         return rc;
     bgi_qa_limits(o, &spec, out);
     out->have_history = 1;

@@ -236,7 +236,10 @@ static void item_and_reference(FILE *f, const bg_calib_report *r)
              "%.3g %%)", bg_units_format_ohms(r->lot.r25_ohm, 6, b1, sizeof b1),
              100.0 * r->lot.tol_r25, cdeg(r->lot.pair_t1_k), cdeg(r->lot.pair_t2_k),
              r->lot.beta_k, 100.0 * r->lot.tol_beta);
-    if (r->run.quantity != BG_QTY_RESISTANCE) /* the lot's values are a resistance's */
+    if (r->lot.sensor != BG_PART_NTC) /* schema 13: a lot of another kind holds none */
+        snprintf(buf, sizeof buf, "those of the part's specification (a %s lot holds no "
+                 "nominal values of its own)", bg_part_sensor_name(r->lot.sensor));
+    else if (r->run.quantity != BG_QTY_RESISTANCE) /* the lot's values are a resistance's */
         snprintf(buf, sizeof buf, "not stated for this sensor (the lot's R25 and B are a "
                  "thermistor's and do not apply to readings in %s)",
                  page_unit((bg_quantity)r->run.quantity));

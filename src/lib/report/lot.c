@@ -38,12 +38,15 @@ static void kind_nominal_para(FILE *f, const bg_qa_lot *l)
     fprintf(f, " is a %s sensor, specification %lld of ", bg_part_sensor_name(l->sensor), sp->id);
     bgi_html_esc(f, sp->created_at);
     fprintf(f, "; at %.2f \xc2\xb0" "C: %s 0 &#177;%.4g %s, %s %.6g &#177;%.4g %s. The "
-               "deviation below is from %s. (The lot's own R25 and B are not used.)",
+               "deviation below is from %s.%s",
             sp->nom_t_k - BG_ZERO_C_K, l->v1_name, l->v1_tol, l->v1_unit, l->v2_name,
             l->v2_nominal, l->v2_tol, l->v2_unit, l->sensor == BG_PART_PRT ?
-            "the IEC 60751 curve with the part's R0, against the class's tolerance" :
+            "the IEC 60751 curve with the part's R0, against the class's tolerance (the "
+            "class limits are from memory, not checked against a copy of IEC 60751: check "
+            "them against the standard before a certificate relies on them)" :
             l->sensor == BG_PART_IC ? "the part's nominal correction" :
-            "the line through the nominal value with the nominal slope");
+            "the line through the nominal value with the nominal slope",
+            l->lot.sensor == BG_PART_NTC ? " (The lot's own R25 and B are not used.)" : "");
 }
 
 /* What the lot was judged against: the part's nominal curve, or the lot's beta curve. */

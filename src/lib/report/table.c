@@ -111,7 +111,8 @@ static void budget_inputs(FILE *f, const bg_lut_result *r)
                 "; self-heating at the circuit's current,", 1e3 * bo->dissipation_w_per_k);
     }
     if (t & BG_BUDGET_NO_RESISTOR)
-        fputs("; the circuit has no fixed resistor (its term is 0)", f);
+        fputs("; the fixed resistor term does not apply: the front end has none (left out "
+              "of the RSS and the sum)", f);
     fputs(".</p>\n", f);
 }
 
@@ -138,7 +139,10 @@ static void budget(FILE *f, const bg_lut_result *r)
         bgi_html_num(f, "td", "n table", "%.4f", w->table_k);
         bgi_html_num(f, "td", "n adc", "%.4f", w->adc_k);
         term(f, "fit", w->fit_k, t & BG_BUDGET_FIT);
-        term(f, "resistor", w->resistor_k, t & BG_BUDGET_RESISTOR);
+        if (t & BG_BUDGET_NO_RESISTOR)
+            fputs("<td class=\"n resistor na\">not applicable</td>", f);
+        else
+            term(f, "resistor", w->resistor_k, t & BG_BUDGET_RESISTOR);
         term(f, "selfheat", w->selfheat_k, t & BG_BUDGET_SELFHEAT);
         bgi_html_num(f, "td", "n rss", "%.4f", w->rss_k);
         bgi_html_num(f, "td", "n sum", "%.4f", w->sum_k);

@@ -562,7 +562,7 @@ static int pg_lot_add(bgi_conn *c, const bg_lot *lot, const char *now, long long
 {
     struct pgp p;
     int rc;
-    if (pgp_init(&p, 10) != BG_OK)
+    if (pgp_init(&p, 11) != BG_OK)
         return bg_error_set(err, BG_ENOMEM, "out of memory");
     pgp_text(&p, lot->code);
     pgp_text(&p, lot->part);
@@ -574,9 +574,13 @@ static int pg_lot_add(bgi_conn *c, const bg_lot *lot, const char *now, long long
     pgp_dbl(&p, lot->tol_beta);
     pgp_text0(&p, lot->note);
     pgp_text(&p, now);
+    /* schema 13: NULL for an NTC lot; a lot of another kind holds no R25 .. tol_beta (NaN:
+    ** NULL above) */
+    pgp_text0(&p, lot->sensor == BG_PART_NTC ? NULL : bg_part_sensor_name(lot->sensor));
     rc = insert_id(c, "INSERT INTO lot(id, code, part, r25_ohm, beta_k, pair_t1_k, pair_t2_k, "
-                   "tol_r25, tol_beta, note, created_at) SELECT coalesce(max(id), 0) + 1, $1, "
-                   "$2, $3, $4, $5, $6, $7, $8, $9, $10 FROM lot RETURNING id", &p, id, err,
+                   "tol_r25, tol_beta, note, created_at, sensor) SELECT coalesce(max(id), 0) + "
+                   "1, $1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11 FROM lot RETURNING id", &p,
+                   id, err,
                    "cannot add the lot");
     pgp_free(&p);
     if (rc == BG_EINVAL && is_unique(err))
@@ -586,22 +590,34 @@ static int pg_lot_add(bgi_conn *c, const bg_lot *lot, const char *now, long long
 
 #define LOT_COLS "l.id, l.code, l.part, l.r25_ohm, l.beta_k, l.pair_t1_k, l.pair_t2_k, " \
                  "l.tol_r25, l.tol_beta, l.note, l.created_at, " \
-                 "(SELECT count(*) FROM probe p WHERE " BGI_PG_PROBE_NOW_IN("p", "l.id") ")"
+                 "(SELECT count(*) FROM probe p WHERE " BGI_PG_PROBE_NOW_IN("p", "l.id") "), " \
+                 "l.sensor"
+
+/* A lot's double, NaN for NULL (schema 13: what a lot of another kind than NTC does not
+** hold). */
+static double lot_dbl(const PGresult *res, int r, int k)
+{
+    return pgv_null(res, r, k) ? NAN : pgv_dbl(res, r, k);
+}
 
 static void lot_row(const PGresult *res, int r, bg_lot *l)
 {
     l->id = pgv_ll(res, r, 0);
     pgv_text(l->code, sizeof l->code, res, r, 1);
     pgv_text(l->part, sizeof l->part, res, r, 2);
-    l->r25_ohm = pgv_dbl(res, r, 3);
-    l->beta_k = pgv_dbl(res, r, 4);
-    l->pair_t1_k = pgv_dbl(res, r, 5);
-    l->pair_t2_k = pgv_dbl(res, r, 6);
-    l->tol_r25 = pgv_dbl(res, r, 7);
-    l->tol_beta = pgv_dbl(res, r, 8);
+    l->r25_ohm = lot_dbl(res, r, 3);
+    l->beta_k = lot_dbl(res, r, 4);
+    l->pair_t1_k = lot_dbl(res, r, 5);
+    l->pair_t2_k = lot_dbl(res, r, 6);
+    l->tol_r25 = lot_dbl(res, r, 7);
+    l->tol_beta = lot_dbl(res, r, 8);
     pgv_text(l->note, sizeof l->note, res, r, 9);
     pgv_text(l->created_at, sizeof l->created_at, res, r, 10);
     l->nprobes = pgv_ll(res, r, 11);
+    l->sensor = BG_PART_NTC; /* NULL (schema 13): an NTC lot; the CHECK allows only the names */
+    if (!pgv_null(res, r, 12) &&
+        bg_part_sensor_parse(PQgetvalue(res, r, 12), &l->sensor, NULL) != BG_OK)
+        l->sensor = -1;
 }
 
 /* 's' is well-formed UTF-8 (RFC 3629: no overlong forms, surrogates or values past
@@ -1035,8 +1051,8 @@ static int pg_lot_version_each(bgi_conn *c, long long lot_id, bg_lot_version_cb 
         memset(&lv, 0, sizeof lv);
         lv.v.id = pgv_ll(res, i, 0);
         pgv_text(lv.v.valid_from, sizeof lv.v.valid_from, res, i, 1);
-        lv.lot.tol_r25 = pgv_dbl(res, i, 2);
-        lv.lot.tol_beta = pgv_dbl(res, i, 3);
+        lv.lot.tol_r25 = lot_dbl(res, i, 2);
+        lv.lot.tol_beta = lot_dbl(res, i, 3);
         pgv_text(lv.lot.note, sizeof lv.lot.note, res, i, 4);
         pgv_text(lv.v.why, sizeof lv.v.why, res, i, 5);
         pgv_text(lv.v.by, sizeof lv.v.by, res, i, 6);

@@ -5,6 +5,7 @@
 ** connection sets foreign keys, defensive mode and a busy timeout (SQLite documentation:
 ** pragma.html, lang_transaction.html). */
 #include <errno.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -128,6 +129,19 @@ void bgi_bind_text_or_null(sqlite3_stmt *stmt, int i, const char *s)
         sqlite3_bind_text(stmt, i, s, -1, SQLITE_TRANSIENT);
     else
         sqlite3_bind_null(stmt, i);
+}
+
+void bgi_bind_double_or_null(sqlite3_stmt *stmt, int i, double v)
+{
+    if (isnan(v))
+        sqlite3_bind_null(stmt, i);
+    else
+        sqlite3_bind_double(stmt, i, v);
+}
+
+double bgi_column_double_or_nan(sqlite3_stmt *stmt, int col)
+{
+    return sqlite3_column_type(stmt, col) == SQLITE_NULL ? NAN : sqlite3_column_double(stmt, col);
 }
 
 int bgi_cached(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, bg_error *err)
@@ -467,19 +481,20 @@ static int sq_lot_add(bgi_conn *c, const bg_lot *lot, const char *now, long long
 {
     sqlite3_stmt *q = NULL;
     int rc = bgi_prepare(c, "INSERT INTO lot(code, part, r25_ohm, beta_k, pair_t1_k, pair_t2_k, "
-                     "tol_r25, tol_beta, note, created_at) VALUES (?,?,?,?,?,?,?,?,?,?)",
+                     "tol_r25, tol_beta, note, created_at, sensor) VALUES (?,?,?,?,?,?,?,?,?,?,?)",
                      &q, err);
     if (rc == BG_OK) {
         sqlite3_bind_text(q, 1, lot->code, -1, SQLITE_TRANSIENT);
         sqlite3_bind_text(q, 2, lot->part, -1, SQLITE_TRANSIENT);
-        sqlite3_bind_double(q, 3, lot->r25_ohm);
-        sqlite3_bind_double(q, 4, lot->beta_k);
-        sqlite3_bind_double(q, 5, lot->pair_t1_k);
-        sqlite3_bind_double(q, 6, lot->pair_t2_k);
-        sqlite3_bind_double(q, 7, lot->tol_r25);
-        sqlite3_bind_double(q, 8, lot->tol_beta);
+        /* schema 13: a lot of a kind other than NTC holds none of these (NaN: NULL) */
+        const double v[6] = { lot->r25_ohm, lot->beta_k, lot->pair_t1_k, lot->pair_t2_k,
+                              lot->tol_r25, lot->tol_beta };
+        for (int k = 0; k < 6; k++)
+            bgi_bind_double_or_null(q, 3 + k, v[k]);
         bgi_bind_text_or_null(q, 9, lot->note);
         sqlite3_bind_text(q, 10, now, -1, SQLITE_TRANSIENT);
+        bgi_bind_text_or_null(q, 11, lot->sensor == BG_PART_NTC ? NULL
+                                                               : bg_part_sensor_name(lot->sensor));
         int s = sqlite3_step(q);
         if (s == SQLITE_CONSTRAINT_UNIQUE)
             rc = bg_error_set(err, BG_EINVAL, "lot '%s' already exists", lot->code);
@@ -496,22 +511,27 @@ static int sq_lot_add(bgi_conn *c, const bg_lot *lot, const char *now, long long
 
 #define LOT_COLS "l.id, l.code, l.part, l.r25_ohm, l.beta_k, l.pair_t1_k, l.pair_t2_k, " \
                  "l.tol_r25, l.tol_beta, l.note, l.created_at, " \
-                 "(SELECT count(*) FROM probe p WHERE " BGI_PROBE_NOW_IN("p", "l.id") ")"
+                 "(SELECT count(*) FROM probe p WHERE " BGI_PROBE_NOW_IN("p", "l.id") "), " \
+                 "l.sensor"
 
 static void lot_row(sqlite3_stmt *q, bg_lot *l)
 {
     l->id = sqlite3_column_int64(q, 0);
     bgi_copy_text(l->code, sizeof l->code, q, 1);
     bgi_copy_text(l->part, sizeof l->part, q, 2);
-    l->r25_ohm = sqlite3_column_double(q, 3);
-    l->beta_k = sqlite3_column_double(q, 4);
-    l->pair_t1_k = sqlite3_column_double(q, 5);
-    l->pair_t2_k = sqlite3_column_double(q, 6);
-    l->tol_r25 = sqlite3_column_double(q, 7);
-    l->tol_beta = sqlite3_column_double(q, 8);
+    l->r25_ohm = bgi_column_double_or_nan(q, 3);
+    l->beta_k = bgi_column_double_or_nan(q, 4);
+    l->pair_t1_k = bgi_column_double_or_nan(q, 5);
+    l->pair_t2_k = bgi_column_double_or_nan(q, 6);
+    l->tol_r25 = bgi_column_double_or_nan(q, 7);
+    l->tol_beta = bgi_column_double_or_nan(q, 8);
     bgi_copy_text(l->note, sizeof l->note, q, 9);
     bgi_copy_text(l->created_at, sizeof l->created_at, q, 10);
     l->nprobes = sqlite3_column_int64(q, 11);
+    l->sensor = BG_PART_NTC; /* NULL (schema 13): an NTC lot; the CHECK allows only the names */
+    if (sqlite3_column_type(q, 12) != SQLITE_NULL &&
+        bg_part_sensor_parse((const char *)sqlite3_column_text(q, 12), &l->sensor, NULL) != BG_OK)
+        l->sensor = -1;
 }
 
 int bgi_sqlite_lot_get(bgi_conn *c, const char *code, bg_lot *out, bg_error *err)

@@ -65,6 +65,10 @@ void bgi_copy_text(char *dst, size_t size, sqlite3_stmt *stmt, int col);
 void bgi_bind_its90(sqlite3_stmt *q, int first, const bg_ref *ref);
 void bgi_ref_correction_row(sqlite3_stmt *q, int kcol, int first, bg_ref *r);
 void bgi_bind_text_or_null(sqlite3_stmt *stmt, int i, const char *s);
+/* A double bound as NULL when it is NaN, and a NULL column read as NaN (schema 13: the values
+** a lot of another kind than NTC does not hold). */
+void bgi_bind_double_or_null(sqlite3_stmt *stmt, int i, double v);
+double bgi_column_double_or_nan(sqlite3_stmt *stmt, int col);
 
 /* The backend's functions shared between its files (the table is in sqlite.c). */
 int bgi_sqlite_ref_version_add(bgi_conn *c, long long ref_id, const bg_ref_version *rv,

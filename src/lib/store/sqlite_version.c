@@ -100,8 +100,8 @@ int bgi_sqlite_lot_version_add(bgi_conn *c, long long lot_id, const bg_lot_versi
         return rc;
     sqlite3_bind_int64(q, 1, lot_id);
     sqlite3_bind_text(q, 2, lv->v.valid_from, -1, SQLITE_TRANSIENT);
-    sqlite3_bind_double(q, 3, lv->lot.tol_r25);
-    sqlite3_bind_double(q, 4, lv->lot.tol_beta);
+    bgi_bind_double_or_null(q, 3, lv->lot.tol_r25); /* NaN: none (a lot of another kind) */
+    bgi_bind_double_or_null(q, 4, lv->lot.tol_beta);
     bgi_bind_text_or_null(q, 5, lv->lot.note);
     sqlite3_bind_text(q, 6, lv->v.why, -1, SQLITE_TRANSIENT);
     sqlite3_bind_text(q, 7, lv->v.by, -1, SQLITE_TRANSIENT);
@@ -128,8 +128,8 @@ int bgi_sqlite_lot_version_each(bgi_conn *c, long long lot_id, bg_lot_version_cb
         memset(&lv, 0, sizeof lv);
         lv.v.id = sqlite3_column_int64(q, 0);
         bgi_copy_text(lv.v.valid_from, sizeof lv.v.valid_from, q, 1);
-        lv.lot.tol_r25 = sqlite3_column_double(q, 2);
-        lv.lot.tol_beta = sqlite3_column_double(q, 3);
+        lv.lot.tol_r25 = bgi_column_double_or_nan(q, 2);
+        lv.lot.tol_beta = bgi_column_double_or_nan(q, 3);
         bgi_copy_text(lv.lot.note, sizeof lv.lot.note, q, 4);
         bgi_copy_text(lv.v.why, sizeof lv.v.why, q, 5);
         bgi_copy_text(lv.v.by, sizeof lv.v.by, q, 6);

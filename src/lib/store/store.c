@@ -286,6 +286,34 @@ void bg_store_rollback(bg_store *st)
 
 /* ---- lots, probes, references ---- */
 
+/* A lot's nominal values: an NTC lot's R25 and B > 0, its pair and its tolerances in [0, 1);
+** a lot of another kind none of them (NaN: its part's specification holds them). */
+static int lot_values_check(const bg_lot *lot, bg_error *err)
+{
+    if (lot->sensor < 0 || lot->sensor >= BG_PART_NSENSOR)
+        return bg_error_set(err, BG_EINVAL, "lot '%s': unknown sensor kind %d", lot->code,
+                            lot->sensor);
+    if (lot->sensor != BG_PART_NTC) {
+        if (!isnan(lot->r25_ohm) || !isnan(lot->beta_k) || !isnan(lot->pair_t1_k) ||
+            !isnan(lot->pair_t2_k) || !isnan(lot->tol_r25) || !isnan(lot->tol_beta))
+            return bg_error_set(err, BG_EINVAL, "lot '%s' is a %s lot: it holds no R25, B, "
+                                "pair or tolerances (its part's specification holds its "
+                                "nominal values)", lot->code, bg_part_sensor_name(lot->sensor));
+        return BG_OK;
+    }
+    if (!(lot->r25_ohm > 0.0) || !(lot->beta_k > 0.0) || !isfinite(lot->r25_ohm) ||
+        !isfinite(lot->beta_k))
+        return bg_error_set(err, BG_EINVAL, "lot '%s': nominal R25 and B must be > 0",
+                            lot->code);
+    if (!(lot->tol_r25 >= 0.0 && lot->tol_r25 < 1.0 && lot->tol_beta >= 0.0 &&
+          lot->tol_beta < 1.0))
+        return bg_error_set(err, BG_EINVAL, "lot '%s': tolerances must be between 0 and 100 %%",
+                            lot->code);
+    return BG_OK;
+}
+
+static int part_spec_copy(const bg_part_spec *p, void *ctx);
+
 int bg_store_lot_add(bg_store *st, const bg_lot *lot, long long *id, bg_error *err)
 {
     char now[BG_TIME];
@@ -295,18 +323,21 @@ int bg_store_lot_add(bg_store *st, const bg_lot *lot, long long *id, bg_error *e
         (rc = check_text("part", lot->part, BG_TEXT, 1, err)) != BG_OK ||
         (rc = check_text("note", lot->note, BG_NOTE, 0, err)) != BG_OK)
         return rc;
-    if (!(lot->r25_ohm > 0.0) || !(lot->beta_k > 0.0) || !isfinite(lot->r25_ohm) ||
-        !isfinite(lot->beta_k))
-        return bg_error_set(err, BG_EINVAL, "lot '%s': nominal R25 and B must be > 0",
-                            lot->code);
-    if (!(lot->tol_r25 >= 0.0 && lot->tol_r25 < 1.0 && lot->tol_beta >= 0.0 &&
-          lot->tol_beta < 1.0))
-        return bg_error_set(err, BG_EINVAL, "lot '%s': tolerances must be between 0 and 100 %%",
-                            lot->code);
+    if ((rc = lot_values_check(lot, err)) != BG_OK)
+        return rc;
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
     long long row = 0;
-    rc = st->be->lot_add(st->conn, lot, bg_store_time(st, now, sizeof now), &row, err);
+    bg_part_spec spec;
+    memset(&spec, 0, sizeof spec);
+    rc = st->be->part_spec_each(st->conn, lot->part, 1, part_spec_copy, &spec, err);
+    if (rc == BG_OK && spec.id && spec.sensor != lot->sensor)
+        rc = bg_error_set(err, BG_EINVAL, "lot '%s' would be of kind %s, but part '%s' is "
+                          "specified as %s (bandgap part show %s)", lot->code,
+                          bg_part_sensor_name(lot->sensor), lot->part,
+                          bg_part_sensor_name(spec.sensor), lot->part);
+    if (rc == BG_OK)
+        rc = st->be->lot_add(st->conn, lot, bg_store_time(st, now, sizeof now), &row, err);
     rc = chained(st, "lot", row, rc, err);
     if (rc == BG_OK && id)
         *id = row;
@@ -716,6 +747,19 @@ int bg_store_lot_versions(bg_store *st, const char *code, bg_lot_version_cb cb, 
     return st->be->lot_version_each(st->conn, row.id, lot_walk_cb, &w, err);
 }
 
+/* A version of a lot of another kind than NTC ('row'): it holds no tolerances (NaN), so it
+** can change only the note. */
+static int lot_set_other(bg_lot_version *add, const bg_lot *row, const char *what,
+                         bg_error *err)
+{
+    if (add->lot.tol_r25 >= 0.0 || add->lot.tol_beta >= 0.0)
+        return bg_error_set(err, BG_EINVAL, "%s is a %s lot: it has no R25 or B tolerances "
+                            "(its part's specification holds its tolerances: bandgap part "
+                            "set %s)", what, bg_part_sensor_name(row->sensor), row->part);
+    add->lot.tol_r25 = add->lot.tol_beta = NAN;
+    return BG_OK;
+}
+
 int bg_store_lot_set(bg_store *st, const bg_lot_version *lv, long long *id, bg_error *err)
 {
     char now[BG_TIME], what[BG_TEXT + 16];
@@ -728,8 +772,7 @@ int bg_store_lot_set(bg_store *st, const bg_lot_version *lv, long long *id, bg_e
     if ((rc = check_why_by(&lv->v, err)) != BG_OK ||
         (rc = check_text("note", lv->lot.note, BG_NOTE, 0, err)) != BG_OK)
         return rc;
-    if (!(lv->lot.tol_r25 < 1.0 && lv->lot.tol_beta < 1.0) || isnan(lv->lot.tol_r25) ||
-        isnan(lv->lot.tol_beta))
+    if (!(lv->lot.tol_r25 < 1.0 && lv->lot.tol_beta < 1.0))
         return bg_error_set(err, BG_EINVAL, "lot '%s': tolerances must be between 0 and 100 %%",
                             lv->lot.code);
     if (!add.v.valid_from[0])
@@ -742,16 +785,22 @@ int bg_store_lot_set(bg_store *st, const bg_lot_version *lv, long long *id, bg_e
         (rc = lot_version_find(st, &row, add.v.valid_from, &w, err)) == BG_OK &&
         (rc = check_valid_from(add.v.valid_from, row.created_at, w.newest, what, err)) == BG_OK) {
         const bg_lot *was = &w.found.lot;
-        if (add.lot.tol_r25 < 0.0)
+        if (row.sensor != BG_PART_NTC) /* schema 13: its tolerances are its part's */
+            rc = lot_set_other(&add, &row, what, err);
+        else if (add.lot.tol_r25 < 0.0)
             add.lot.tol_r25 = was->tol_r25;
         if (add.lot.tol_beta < 0.0)
             add.lot.tol_beta = was->tol_beta;
         if (!add.lot.note[0])
             memcpy(add.lot.note, was->note, sizeof add.lot.note);
-        if (add.lot.tol_r25 == was->tol_r25 && add.lot.tol_beta == was->tol_beta &&
-            strcmp(add.lot.note, was->note) == 0)
-            rc = bg_error_set(err, BG_EINVAL, "%s: the version changes nothing (give "
-                              "--tol-r25, --tol-beta or --note)", what);
+        if (rc != BG_OK)
+            ;
+        else if ((add.lot.tol_r25 == was->tol_r25 || isnan(was->tol_r25)) &&
+                 (add.lot.tol_beta == was->tol_beta || isnan(was->tol_beta)) &&
+                 strcmp(add.lot.note, was->note) == 0)
+            rc = bg_error_set(err, BG_EINVAL, "%s: the version changes nothing (give %s)",
+                              what, row.sensor == BG_PART_NTC ? "--tol-r25, --tol-beta or "
+                              "--note" : "--note");
         else
             rc = st->be->lot_version_add(st->conn, row.id, &add,
                                          bg_store_time(st, now, sizeof now), &row_id, err);
