@@ -32,6 +32,9 @@ typedef double lane[LANES];
 ** that the loop writes), so the compiler is told that the iterations are independent: it
 ** would otherwise keep a scalar copy of each loop for the arrays it cannot prove apart. */
 #if defined(__clang__)
+/* clang reports each lane loop it leaves scalar (at -O1, as in the fuzz build) as a warning;
+** the loops are correct either way */
+#pragma clang diagnostic ignored "-Wpass-failed"
 #define BG_LANES_INDEPENDENT _Pragma("clang loop vectorize(assume_safety)")
 #elif defined(__GNUC__)
 #define BG_LANES_INDEPENDENT _Pragma("GCC ivdep")
@@ -564,7 +567,7 @@ static void check_lanes(const struct lanes *z, const bg_fit_opts *o, double *res
             int g = (d > 0.0) & (d > sg) & (d > mg) & (R[i * LANES + l] < R[(i - 1) * LANES + l]);
             good[l] = g ? good[l] : 0.0;
         }
-    EACH(l) ok[l] = (good[l] != 0.0) & (has_u[l] == all[l]) ? 1.0 : 0.0;
+    EACH(l) ok[l] = ((good[l] != 0.0) & (has_u[l] == all[l])) ? 1.0 : 0.0;
 }
 
 /* The lanes gathered by gather_lanes made ready for the kernel: a lane that is not fitted here
@@ -597,7 +600,7 @@ BG_INLINE void basis_lanes(struct lanes *z, const double *w, const unsigned *pw)
     const double *restrict Lr = z->L;
     for (size_t i = 0; i < n; i++) {
         lane pows[MAXB];
-        EACH(l) U[i * LANES + l] = (w[l] != 0.0) & (U[i * LANES + l] > 0.0) ? U[i * LANES + l]
+        EACH(l) U[i * LANES + l] = ((w[l] != 0.0) & (U[i * LANES + l] > 0.0)) ? U[i * LANES + l]
                                                                              : 1.0;
         EACH(l) pows[0][l] = 1.0;
         for (size_t k = 1; k < MAXB; k++)
@@ -695,7 +698,12 @@ __attribute__((target("avx2"))) static void kernel_avx2(struct lanes *z, const b
 }
 
 #define BG_HAVE_AVX512 1
-__attribute__((target("avx512f,prefer-vector-width=512"))) static void
+#if defined(__clang__) /* clang takes no vector width in the target attribute */
+#define BG_AVX512_TARGET "avx512f"
+#else
+#define BG_AVX512_TARGET "avx512f,prefer-vector-width=512"
+#endif
+__attribute__((target(BG_AVX512_TARGET))) static void
 kernel_avx512(struct lanes *z, const bg_fit_opts *o, int *mode, unsigned *iters,
               struct fin_lanes *f)
 {

@@ -87,6 +87,11 @@ static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FI
     if (t->strategy == BG_LUT_UNIFORM)
         fprintf(f, "/*\n * ADC code -> temperature, %s, linear interpolation between\n"
                    " * breakpoints every %lu codes (uniform table).\n", vf, 1ul << t->shift);
+    else if (t->chained)
+        fprintf(f, "/*\n * ADC code -> temperature, %s, %zu straight segments\n"
+                   " * (minimal table, chained form: each segment starts where the previous one\n"
+                   " * ends and spans at most 255 codes; read by a walk from the first), within\n"
+                   " * %.6g K at every code.\n", vf, t->n, s->max_err_k);
     else if (t->aligned)
         fprintf(f, "/*\n * ADC code -> temperature, %s, %zu straight segments\n"
                    " * (indexed table, aligned form: every segment starts on a grid of %lu codes\n"
