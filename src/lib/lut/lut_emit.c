@@ -78,6 +78,15 @@ static void sentinel_doc(const bg_lut *t, const bg_lut_spec *s, const char *up, 
             falling ? "colder" : "hotter", falling ? cold_c : hot_c);
 }
 
+/* The range test of the indexed and chained lookups: one unsigned comparison, then which
+** sentinel. */
+static void range_test(const char *up, FILE *f)
+{
+    fprintf(f, "    if (code - (uint32_t)%s_CODE_LO > (uint32_t)(%s_CODE_HI - %s_CODE_LO))\n"
+               "        return code < (uint32_t)%s_CODE_LO ? %s_CODE_BELOW_RANGE : "
+               "%s_CODE_ABOVE_RANGE;\n", up, up, up, up, up, up);
+}
+
 static void provenance(const bg_lut *t, const bg_lut_spec *s, const char *up, FILE *f)
 {
     char name[16], vf[64];
@@ -302,9 +311,7 @@ static void segment_body(const bg_lut *t, const char *sym, const char *up, const
         at = "s";
         fprintf(f, "    const %s *s;\n    uint32_t i;\n", xt);
         fprintf(f, flt ? "    float w, p;\n" : "    int32_t v;\n");
-        fprintf(f, "    if (code - (uint32_t)%s_CODE_LO > (uint32_t)(%s_CODE_HI - %s_CODE_LO))\n"
-                   "        return code < (uint32_t)%s_CODE_LO ? %s_CODE_BELOW_RANGE : "
-                   "%s_CODE_ABOVE_RANGE;\n", up, up, up, up, up, up);
+        range_test(up, f);
         fprintf(f, "    /* the start of the bucket's first segment, then of the code's */\n"
                    "    s = &%s_start[%s_READ_INDEX(&%s_index[(code - (uint32_t)%s_CODE_LO) >> "
                    "%s_INDEX_SHIFT])];\n", sym, up, sym, up, up);
@@ -485,9 +492,7 @@ static void chained_c_body(const char *sym, const char *up, FILE *f)
     fprintf(f, "    const uint8_t *p = %s_chain;\n"
                "    uint32_t d, len, x, frac = %s_START_FRAC;\n"
                "    int32_t y = %s_START_VALUE, mh;\n", sym, up, up);
-    fprintf(f, "    if (code - (uint32_t)%s_CODE_LO > (uint32_t)(%s_CODE_HI - %s_CODE_LO))\n"
-               "        return code < (uint32_t)%s_CODE_LO ? %s_CODE_BELOW_RANGE : "
-               "%s_CODE_ABOVE_RANGE;\n", up, up, up, up, up, up);
+    range_test(up, f);
     fprintf(f, "    d = code - (uint32_t)%s_CODE_LO;\n"
                "    for (;;) { /* from the first segment: at most %s_SEGMENTS steps */\n"
                "        len = %s_READ_U8(p);\n"
@@ -510,9 +515,7 @@ static void chained_c_body_avr(const char *sym, const char *up, FILE *f)
     fprintf(f, "    const uint8_t *p = %s_chain;\n    uint16_t d, q;\n"
                "    int16_t y = (int16_t)%s_START_VALUE;\n"
                "    uint8_t frac = %s_START_FRAC, len, x;\n", sym, up, up);
-    fprintf(f, "    if (code - (uint32_t)%s_CODE_LO > (uint32_t)(%s_CODE_HI - %s_CODE_LO))\n"
-               "        return code < (uint32_t)%s_CODE_LO ? %s_CODE_BELOW_RANGE : "
-               "%s_CODE_ABOVE_RANGE;\n", up, up, up, up, up, up);
+    range_test(up, f);
     fprintf(f, "    d = (uint16_t)(code - (uint32_t)%s_CODE_LO);\n"
                "    for (;;) { /* from the first segment: at most %s_SEGMENTS steps */\n"
                "        len = %s_READ_U8(p);\n"
