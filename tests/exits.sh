@@ -170,12 +170,16 @@ expect "constraint" 65 "cannot record the exclusion: .*invented rule: no exclusi
 # 6. A damaged database file: 74 (EX_IOERR) naming the file, whatever the command, and the file
 # left as it was.  The bytes are not the database that was written (a failing disk, a truncated
 # copy, another program writing into it): a storage failure like an i/o error, not input the
-# user can correct (65), and not a fault of the program (70).  Pages 3 to 6 overwritten with an
-# invented pattern make SQLite report SQLITE_CORRUPT; a header overwritten, SQLITE_NOTADB.
+# user can correct (65), and not a fault of the program (70).  The root pages of the tables
+# the commands read (lot, probe, run, fit) overwritten with an invented pattern make SQLite
+# report SQLITE_CORRUPT; a header overwritten, SQLITE_NOTADB.
 D="$T/damaged.db"
 cp "$S" "$D"
 PS=$(sqlite3 "$S" "PRAGMA page_size")
-head -c $((PS * 4)) /dev/zero | tr '\0' 'X' | dd of="$D" bs="$PS" seek=2 conv=notrunc 2>/dev/null
+for pg in $(sqlite3 "$S" "SELECT rootpage FROM sqlite_schema WHERE type = 'table' AND
+                          name IN ('lot', 'probe', 'run', 'fit')"); do
+    head -c "$PS" /dev/zero | tr '\0' 'X' | dd of="$D" bs="$PS" seek=$((pg - 1)) conv=notrunc 2>/dev/null
+done
 for args in "lot list" "list runs" "drift --lot L" "probe move P-1 --lot L --why invented"; do
     # shellcheck disable=SC2086 # the words of the command
     expect "damaged file: $args" 74 "the database file '.*damaged\.db' is damaged \(database disk image is malformed\)" "$D" $args

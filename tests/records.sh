@@ -113,12 +113,14 @@ dump() { # every row of every table, and the schema of indexes, triggers, views 
                   WHERE (type IN ('index', 'trigger', 'view') OR name IN ('probe', 'exclusion'))
                     AND tbl_name <> 'chain' AND name NOT IN ('lot_keep', 'lot_stay',
                     'reading_resistance_positive', 'part_spec_sensor_shape',
-                    'probe_keep', 'probe_stay', 'reference_keep', 'reference_stay')
+                    'probe_keep', 'probe_stay', 'reference_keep', 'reference_stay',
+                    'probe_lot', 'probe_lot_serial')
                     AND tbl_name NOT IN ('reference_version', 'lot_version', 'probe_version')
                     AND tbl_name NOT LIKE 'sequence%'
                   ORDER BY type, name" # (leaving out what 007-record-chain.sql,
-                                       # 008-versions.sql, 010-sequence.sql and
-                                       # 011-run-quantity.sql add)
+                                       # 008-versions.sql, 010-sequence.sql,
+                                       # 011-run-quantity.sql and 014-probe-lot-serial.sql
+                                       # add or change)
 }
 dump "$V5" > "$T/before.txt"
 cp "$V5" "$T/inf.db"
@@ -252,10 +254,17 @@ echo "records: probe move refusals leave the database as it was"
 # trigger is as it was, and it verifies.
 U="$T/v9.db"
 Bu() { "$BIN" --db "$U" "$@"; }
+# the SQL that takes a version-14 file back to version 13 (what 014-probe-lot-serial.sql
+# changes: the probes' index by lot alone in place of the one by lot and serial)
+back_to_13() {
+    echo "DROP INDEX probe_lot_serial;"
+    sed -n '/^CREATE INDEX probe_lot /p' "$HERE/../db/001-initial.sql"
+}
 # the SQL that takes a version-13 file of NTC lots only back to version 12 (what
 # 013-lot-sensor.sql changes: 'lot' and 'lot_version' made again as 006-finite.sql and
 # 008-versions.sql made them, without the sensor column, with their index and triggers)
 back_to_12() {
+    back_to_13
     echo "PRAGMA legacy_alter_table = ON;"
     echo "ALTER TABLE lot RENAME TO lot_new; ALTER TABLE lot_version RENAME TO lot_version_new;"
     sed -n '/^CREATE TABLE lot (/,/^) STRICT;/p' "$HERE/../db/006-finite.sql"
@@ -330,12 +339,12 @@ dump9() {
     sqlite3 "$1" "SELECT type, name, tbl_name, sql FROM sqlite_schema
                   WHERE type IN ('index', 'trigger', 'view')
                     AND name NOT IN ('reading_resistance_positive', 'part_spec_sensor_shape',
-                                     'lot_version_sensor_shape')
+                                     'lot_version_sensor_shape', 'probe_lot', 'probe_lot_serial')
                   ORDER BY type, name"
 }
 dump9 "$U" > "$T/before9.txt"
 Bu lot list > /dev/null 2> "$T/err" || bad "the upgrade from version 9 failed: $(cat "$T/err")"
-[ "$(sqlite3 "$U" 'PRAGMA user_version')" = 13 ] || bad "the version-9 file was not upgraded"
+[ "$(sqlite3 "$U" 'PRAGMA user_version')" = 14 ] || bad "the version-9 file was not upgraded"
 dump9 "$U" > "$T/after9.txt"
 cmp -s "$T/before9.txt" "$T/after9.txt" ||
     bad "the upgrade from 9 changed rows, ids, hashes, indexes or triggers: $(diff "$T/before9.txt" "$T/after9.txt")"
@@ -370,7 +379,7 @@ sqlite3 "$U11" "PRAGMA foreign_keys = OFF; $(back_to_11) PRAGMA user_version = 1
     bad "v11 setup: part_spec still has the sensor column"
 dump9 "$U11" > "$T/before11.txt"
 B11 lot list > /dev/null 2> "$T/err" || bad "the upgrade from version 11 failed: $(cat "$T/err")"
-[ "$(sqlite3 "$U11" 'PRAGMA user_version')" = 13 ] || bad "the version-11 file was not upgraded"
+[ "$(sqlite3 "$U11" 'PRAGMA user_version')" = 14 ] || bad "the version-11 file was not upgraded"
 dump9 "$U11" > "$T/after11.txt"
 cmp -s "$T/before11.txt" "$T/after11.txt" ||
     bad "the upgrade from 11 changed rows, ids, hashes, indexes or triggers: $(diff "$T/before11.txt" "$T/after11.txt")"
@@ -412,7 +421,7 @@ sqlite3 "$U12" "PRAGMA foreign_keys = OFF; $(back_to_12) PRAGMA user_version = 1
 dump9 "$U12" > "$T/before12.txt"
 sqlite3 "$U12" "SELECT sql FROM sqlite_schema WHERE name = 'lot'" > "$T/lot12.sql"
 B12 lot list > /dev/null 2> "$T/err" || bad "the upgrade from version 12 failed: $(cat "$T/err")"
-[ "$(sqlite3 "$U12" 'PRAGMA user_version')" = 13 ] || bad "the version-12 file was not upgraded"
+[ "$(sqlite3 "$U12" 'PRAGMA user_version')" = 14 ] || bad "the version-12 file was not upgraded"
 dump9 "$U12" > "$T/after12.txt"
 cmp -s "$T/before12.txt" "$T/after12.txt" ||
     bad "the upgrade from 12 changed rows, ids, hashes, indexes or triggers: $(diff "$T/before12.txt" "$T/after12.txt")"
@@ -456,6 +465,12 @@ B12 lot set LJ --note "invented: rack 3" --why "invented" --by "A. Tester" > /de
 [ "$(sqlite3 "$U12" "SELECT tol_r25 IS NULL AND tol_beta IS NULL FROM lot_version ORDER BY id DESC LIMIT 1")" = 1 ] ||
     bad "the junction lot's version holds tolerances"
 B12 verify > /dev/null 2>&1 || bad "the version-13 file with a junction lot does not verify"
+# schema 14: the lot's probes by serial (db/014-probe-lot-serial.sql), for every upgraded file
+for f in "$V5" "$U" "$U11" "$U12"; do
+    [ "$(sqlite3 "$f" "SELECT group_concat(name, ' ') FROM (SELECT name FROM sqlite_schema
+                         WHERE type = 'index' AND name LIKE 'probe_lot%' ORDER BY name)")" = probe_lot_serial ] ||
+        bad "$f: the upgrade did not index the probes by lot and serial in place of probe_lot"
+done
 # the record refuses rows whose kind and values do not match, whoever writes them
 out=$(sqlite3 "$U12" "INSERT INTO lot (code, part, r25_ohm, created_at, sensor)
                       VALUES ('X', 'J', 10000, 't', 'junction')" 2>&1)

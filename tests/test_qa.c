@@ -410,6 +410,80 @@ static void same_as_probe_drift(bg_store *st, const bg_qa_probe *p, const bg_qa_
     bg_qa_probe_release(&q);
 }
 
+/* What bg_qa_lot_summarize_each handed out, against the summary that keeps every probe. */
+struct streamed {
+    const bg_qa_lot_summary *kept;
+    size_t ready, n;
+};
+
+static void streamed_ready(const bg_qa_lot_summary *s, void *ctx)
+{
+    struct streamed *t = ctx;
+    assert_int_equal(t->n, 0); /* before any probe, with the statistics in place */
+    assert_int_equal(s->stats.n, t->kept->stats.n);
+    t->ready++;
+}
+
+static void streamed_probe(const bg_qa_lot_summary *s, const bg_qa_probe *p, void *ctx)
+{
+    struct streamed *t = ctx;
+    assert_null(s->probes);
+    assert_true(t->n < t->kept->nprobes);
+    const bg_qa_probe *k = &t->kept->probes[t->n++];
+    assert_string_equal(p->serial, k->serial);
+    assert_int_equal(p->n, k->n);
+    assert_int_equal(p->unfitted, k->unfitted);
+    for (size_t i = 0; i < p->n; i++)
+        assert_memory_equal(&p->fits[i], &k->fits[i], sizeof p->fits[i]);
+    assert_int_equal(p->nprev, k->nprev);
+    if (p->nprev)
+        assert_memory_equal(p->since_previous, k->since_previous,
+                            p->nprev * sizeof p->since_previous[0]);
+    assert_true(p->limit_k == k->limit_k && p->rate_k == k->rate_k);
+    assert_int_equal(p->flagged, k->flagged);
+}
+
+/* The lot streamed (bg_qa_lot_summarize_each) gives the same summary as the one that keeps its
+** probes: each probe in the same order with the same comparisons, the same limits, flags and
+** control charts; and the lot report written while it streams is the same page, byte for
+** byte, as the one written from the kept summary. */
+static void same_when_streamed(bg_store *st, const char *code, const bg_qa_opts *o,
+                               const bg_qa_lot_summary *kept)
+{
+    bg_qa_lot_summary s = BG_QA_LOT_SUMMARY_INIT;
+    struct streamed t = { kept, 0, 0 };
+    bg_qa_lot_sink sink = { streamed_ready, streamed_probe, &t };
+    assert_int_equal(bg_qa_lot_summarize_each(st, code, o, &sink, &s, NULL), BG_OK);
+    assert_int_equal(t.ready, 1);
+    assert_int_equal(t.n, kept->nprobes);
+    assert_int_equal(s.nprobes, kept->nprobes);
+    assert_true(s.limit_k == kept->limit_k && s.rate_k == kept->rate_k);
+    assert_int_equal(s.flagged, kept->flagged);
+    assert_int_equal(s.part_rc, kept->part_rc);
+    assert_int_equal(s.part.nlots, kept->part.nlots);
+    for (size_t i = 0; i < s.part.nlots; i++)
+        assert_memory_equal(&s.part.lots[i], &kept->part.lots[i], sizeof s.part.lots[i]);
+    bg_qa_lot_summary_release(&s);
+
+    bg_lot_report a, b;
+    memset(&a, 0, sizeof a);
+    assert_int_equal(bg_store_lot_get(st, code, &a.lot, NULL), BG_OK);
+    b = a;
+    a.summary = kept;
+    b.st = st, b.qa = o;
+    bg_report_head h = { 3, "2026-03-02T10:00:00Z", "Invented lab", NULL, 0, NULL, NULL };
+    char *pa = NULL, *pb = NULL;
+    size_t la = 0, lb = 0;
+    const bg_report_kind *kind = bg_report_kind_find("lot");
+    assert_int_equal(bg_report_render(kind, &a, &h, &pa, &la, NULL), BG_OK);
+    assert_int_equal(bg_report_render(kind, &b, &h, &pb, &lb, NULL), BG_OK);
+    assert_int_equal(la, lb);
+    assert_memory_equal(pa, pb, la);
+    assert_non_null(strstr(pa, "id=\"drift\""));
+    free(pa);
+    free(pb);
+}
+
 /* The lot report's content: each probe's drift read for the whole lot in one query gives what
 ** the per-probe reads give (several probes, three calibrations each, one calibrated once, one
 ** never), with and without a baseline date and a limit; the number of statements run does not
@@ -450,6 +524,7 @@ static void lot_summary_matches_per_probe_drift(void **state)
                 assert_true(strcmp(s.probes[i - 1].serial, s.probes[i].serial) < 0);
             for (size_t i = 0; i < s.nprobes; i++)
                 same_as_probe_drift(st, &s.probes[i], &o);
+            same_when_streamed(st, "L1", &o, &s);
             if (k == 1 && v == 0) {
                 /* P7 (lot_r25[0]): R25 ratio 1.0006 / 1.0003 between its last two fits:
                 ** d_r25 = 100 (1.0006 / 1.0003 - 1) % (definition) */

@@ -6,6 +6,7 @@
 #include <float.h>
 
 #include "testutil.h"
+#include "../src/lib/report/html_int.h"
 
 static const char *hostile = "<img src=x onerror=1>";
 static const char *hostile_esc = "&lt;img src=x onerror=1&gt;";
@@ -345,6 +346,51 @@ static void chain_head_escaped(void **state)
     bg_calib_report_release(&r);
 }
 
+/* Numbers as the reports show them: the shown text is exactly what printf writes with the
+** same format (the C library is the reference, for "%.Nf" and "%+.Nf" which the report module
+** writes without printf where it can be sure, and for the others), -0.000 and ties included,
+** and data-v reads back to the same double. */
+static void numbers_as_printf(void **state)
+{
+    (void)state;
+    static const char *const fmts[] = { "%.0f", "%.1f", "%.2f", "%.3f", "%.4f", "%.6f",
+                                        "%.9f", "%+.2f", "%+.3f", "%+.4f", "%.3g", "%.9e" };
+    static const double fixed_cases[] = { 0.0, -0.0, -0.0004, 0.0004, 0.0005, 0.0015, 0.0025,
+                                          2.5, 3.5, -2.5, 0.125, 0.375, 1.0005, 123456.78949,
+                                          -1e-300, 5e-324, 1e12, 1e13, 1099511627776.0, 1e300,
+                                          0.1, 0.7, 2.675, 1.005, 9.9995, 99.995, -99.9995 };
+    size_t nfixed = sizeof fixed_cases / sizeof fixed_cases[0], bad = 0;
+    uint64_t x = 0x9e3779b97f4a7c15u; /* xorshift64 (G. Marsaglia, J. Stat. Softw. 8(14), 2003) */
+    for (size_t i = 0; i < nfixed + 200000; i++) {
+        double v;
+        if (i < nfixed)
+            v = fixed_cases[i];
+        else {
+            x ^= x << 13, x ^= x >> 7, x ^= x << 17;
+            double u = (double)(x >> 11) / 9007199254740992.0;
+            /* magnitudes over 1e-8 .. 1e8, and every other one a decimal tie k/2 10^-d */
+            v = i % 2 ? (u - 0.5) * pow(10.0, (double)(x % 17) - 8.0)
+                      : ((double)(x % 2000001) - 1e6 + 0.5) / pow(10.0, (double)(x % 6));
+        }
+        const char *fmt = fmts[i % (sizeof fmts / sizeof fmts[0])];
+        char want[512], *got = NULL, tag[540]; /* %f of 1e300 has 301 digits */
+        size_t len = 0;
+        snprintf(want, sizeof want, fmt, v);
+        FILE *f = open_memstream(&got, &len);
+        assert_non_null(f);
+        bgi_html_num(f, "td", "n", fmt, v);
+        assert_int_equal(fclose(f), 0);
+        double back = strtod(strstr(got, "data-v=\"") + 8, NULL);
+        snprintf(tag, sizeof tag, "\">%s</td>", want);
+        if (strstr(got, tag) == NULL || memcmp(&back, &v, sizeof v) != 0) {
+            if (bad++ < 5)
+                print_message("%s of %.17g: %s, printf %s\n", fmt, v, got, want);
+        }
+        free(got);
+    }
+    assert_int_equal(bad, 0);
+}
+
 static void lot_report(void **state)
 {
     (void)state;
@@ -534,6 +580,7 @@ int main(void)
         cmocka_unit_test(calibration_report_huge_reading),
         cmocka_unit_test(calibration_report_absurd_range),
         cmocka_unit_test(chain_head_escaped),
+        cmocka_unit_test(numbers_as_printf),
         cmocka_unit_test(lot_report),
         cmocka_unit_test(table_report),
         cmocka_unit_test(table_report_24_bits),

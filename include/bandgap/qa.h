@@ -281,6 +281,24 @@ typedef struct bg_qa_lot_summary {
 ** case. */
 BG_API int bg_qa_lot_summarize(bg_store *st, const char *code, const bg_qa_opts *o,
                                bg_qa_lot_summary *out, bg_error *err);
+
+/* Where bg_qa_lot_summarize_each hands what it reads: 'ready' once the lot's statistics and
+** limits are in the summary (before the first probe), then 'probe' with each probe, in the
+** summary's order, once it is compared; the probe is released after the call (copy what you
+** keep).  Either may be NULL. */
+typedef struct bg_qa_lot_sink {
+    void (*ready)(const bg_qa_lot_summary *s, void *ctx);
+    void (*probe)(const bg_qa_lot_summary *s, const bg_qa_probe *p, void *ctx);
+    void *ctx;
+} bg_qa_lot_sink;
+
+/* bg_qa_lot_summarize for a lot of any size: the same summary, except that the probes are
+** handed to 'sink' one at a time and not kept (out->probes stays NULL; out->nprobes counts
+** them), so that the memory it takes does not grow with the lot.  Errors and release as
+** bg_qa_lot_summarize's. */
+BG_API int bg_qa_lot_summarize_each(bg_store *st, const char *code, const bg_qa_opts *o,
+                                    const bg_qa_lot_sink *sink, bg_qa_lot_summary *out,
+                                    bg_error *err);
 BG_API void bg_qa_lot_summary_release(bg_qa_lot_summary *s);
 
 #endif

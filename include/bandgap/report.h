@@ -117,10 +117,14 @@ BG_API int bg_calib_report_load(bg_store *st, long long run_id, long long fit_id
 /* ---- the lot report ---- */
 
 /* What the lot report shows: the lot, and its statistics, drift and the part's control charts
-** (bg_qa_lot_summarize); the report is flagged when the summary is. */
+** (bg_qa_lot_summarize); the report is flagged when the summary is.  With 'summary' NULL, the
+** page is written while the lot is read from 'st' with the options 'qa'
+** (bg_qa_lot_summarize_each: the same page, whose probes are never all held in memory). */
 typedef struct bg_lot_report {
     bg_lot lot;
     const bg_qa_lot_summary *summary;
+    bg_store *st;
+    const bg_qa_opts *qa;
 } bg_lot_report;
 
 /* ---- the table report: a firmware table's error at every code and its budget ---- */

@@ -497,7 +497,10 @@ typedef int (*bg_artifact_gen)(long long id, const char *created_at, const bg_ch
                                void *ctx, char **content, size_t *len, bg_error *err);
 /* What to issue: 'kind' ("report-calibration", ...), the 'subject' it is about, the fit it
 ** shows (0: none), 'spec' as JSON whose "subject" is 'subject', the artifact it replaces (0:
-** none), the program's 'version', and 'gen' with its 'ctx' to make the content. */
+** none), the program's 'version', and 'gen' with its 'ctx' to make the content; 'issued',
+** when not NULL, receives the row as stored (its content the very bytes hashed into the
+** record chain, NUL-terminated; all zero after an error), so that the caller need not read a
+** large report back; release it with bg_artifact_release. */
 typedef struct bg_artifact_req {
     const char *kind, *subject;
     long long fit_id;
@@ -506,6 +509,7 @@ typedef struct bg_artifact_req {
     const char *version;
     bg_artifact_gen gen;
     void *ctx;
+    bg_artifact *issued;
 } bg_artifact_req;
 /* Issue an artifact in one write transaction: the identifier is the next id, 'req->gen' makes
 ** the content with it, and the row is stored; '*id' is its id.  A subject that already has an

@@ -27,11 +27,22 @@ int bgi_qa_lot_versions_load(bg_store *st, const char *code, struct bgi_lot_vers
 const bg_lot *bgi_qa_lot_version_at(const struct bgi_lot_versions *v, const char *when);
 void bgi_qa_lot_versions_free(struct bgi_lot_versions *v);
 
-/* bg_qa_part_charts with one lot's summary made already ('have': its statistics by the same
-** options and its histories since the same 'since'; NULL: none): that lot is charted from
-** it, not read and computed a second time. */
+/* One lot's charted values made already: its statistics by the same options, and the
+** as-found values of its probes from their histories since the same 'since', in probe id
+** order (the order bg_store_lot_history gives, so that the sums are made in that order). */
+struct bgi_qa_have {
+    const bg_qa_lot *stats;
+    const double *asf;
+    size_t nasf;
+};
+/* bg_qa_part_charts with one lot's values made already ('have'; NULL: none): that lot is
+** charted from them, not read and computed a second time. */
 int bgi_qa_part_charts_with(bg_store *st, const char *part, const bg_qa_opts *o,
-                            const bg_qa_lot_summary *have, bg_qa_part *out, bg_error *err);
+                            const struct bgi_qa_have *have, bg_qa_part *out, bg_error *err);
+/* The as-found drift (mK, signed) of a probe whose n calibrations are 'f' started at 'when'
+** (oldest first), between its two newest at the middle of their common range: 1 and '*mk',
+** or 0 when it has none (fewer than two, or ranges that do not overlap). */
+int bgi_qa_asfound(const bg_fit_row *f, char (*when)[BG_TIME], size_t n, double *mk);
 
 /* The sensor kinds other than the NTC (qa_kind.c): the names, units and tolerances of a lot's
 ** two values from its part's specification (l->spec, l->lot read; an NTC's from the lot);

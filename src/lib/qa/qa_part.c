@@ -40,14 +40,11 @@ struct asf {
     int oom;
 };
 
-static int asf_cb(const char *serial, const bg_fit_row *f, char (*when)[BG_TIME], size_t n,
-                  void *ctx)
+int bgi_qa_asfound(const bg_fit_row *f, char (*when)[BG_TIME], size_t n, double *mk)
 {
-    struct asf *a = ctx;
     bg_drift_cal c0, c1;
     bg_drift d;
     double t0, t1, at;
-    (void)serial;
     if (n < 2)
         return 0;
     /* a pair whose ranges do not overlap has no as-found value at a common temperature */
@@ -59,16 +56,28 @@ static int asf_cb(const char *serial, const bg_fit_row *f, char (*when)[BG_TIME]
                               f[n - 1].t_max_k, 1, &at, NULL) != BG_OK ||
         bg_drift_compare_cal(&c0, &c1, &at, 1, &d, NULL) != BG_OK)
         return 0;
+    *mk = d.err_mk[0];
+    return 1;
+}
+
+static int asf_cb(const char *serial, const bg_fit_row *f, char (*when)[BG_TIME], size_t n,
+                  void *ctx)
+{
+    struct asf *a = ctx;
+    double v;
+    (void)serial;
+    if (!bgi_qa_asfound(f, when, n, &v))
+        return 0;
     if (a->n == a->cap) {
         size_t cap = a->cap ? 2 * a->cap : 64;
-        double *v = realloc(a->v, cap * sizeof *v);
-        if (!v) {
+        double *nv = realloc(a->v, cap * sizeof *nv);
+        if (!nv) {
             a->oom = 1;
             return 1;
         }
-        a->v = v, a->cap = cap;
+        a->v = nv, a->cap = cap;
     }
-    a->v[a->n++] = d.err_mk[0];
+    a->v[a->n++] = v;
     return 0;
 }
 
@@ -88,42 +97,16 @@ static int push_skip(bg_qa_part *p, const char *code, const char *why, bg_error 
     return BG_OK;
 }
 
-static int by_probe_id(const void *a, const void *b)
-{
-    long long x = (*(const bg_qa_probe *const *)a)->fits[0].probe_id;
-    long long y = (*(const bg_qa_probe *const *)b)->fits[0].probe_id;
-    return (x > y) - (x < y);
-}
-
-/* The as-found values of a lot from the histories of its summary (the same calibrations as
-** bg_store_lot_history gives, by the same 'since'), taken in probe id order as that read gives
-** them, so the sums are made in the same order. */
-static int asf_of_summary(const bg_qa_lot_summary *s, struct asf *a)
-{
-    size_t k = 0;
-    const bg_qa_probe **ps = malloc((s->nprobes + 1) * sizeof *ps);
-    if (!ps)
-        return a->oom = 1;
-    for (size_t i = 0; i < s->nprobes; i++)
-        if (s->probes[i].n >= 2)
-            ps[k++] = &s->probes[i];
-    qsort(ps, k, sizeof *ps, by_probe_id);
-    for (size_t i = 0; i < k && !a->oom; i++)
-        asf_cb(ps[i]->serial, ps[i]->fits, ps[i]->started_at, ps[i]->n, a);
-    free(ps);
-    return a->oom;
-}
-
 /* Lot 'code' onto the charts, or into the skipped list when it cannot be charted; its
-** statistics and histories from 'have' when it is this lot's summary, else read here. */
+** statistics and as-found values from 'have' when it is that lot, else read here. */
 static int add_lot(bg_store *st, const char *code, const bg_qa_opts *o,
-                   const bg_qa_lot_summary *have, bg_qa_part *p, bg_error *err)
+                   const struct bgi_qa_have *have, bg_qa_part *p, bg_error *err)
 {
     bg_qa_lot own = BG_QA_LOT_INIT;
     bg_error e2 = BG_ERROR_INIT;
     struct asf a = { NULL, 0, 0, 0 };
-    int mine = !(have && strcmp(have->stats.lot.code, code) == 0);
-    const bg_qa_lot *lp = mine ? &own : &have->stats;
+    int mine = !(have && strcmp(have->stats->lot.code, code) == 0);
+    const bg_qa_lot *lp = mine ? &own : have->stats;
     int rc = mine ? bg_qa_lot_stats(st, code, o, &own, &e2) : BG_OK;
     if (rc == BG_EINVAL || (rc == BG_OK && lp->n < 2)) {
         bg_qa_lot_release(&own);
@@ -134,9 +117,7 @@ static int add_lot(bg_store *st, const char *code, const bg_qa_opts *o,
             *err = e2;
         goto done;
     }
-    if (!mine)
-        asf_of_summary(have, &a);
-    else if ((rc = bg_store_lot_history(st, code, o->since, asf_cb, &a, err)) != BG_OK)
+    if (mine && (rc = bg_store_lot_history(st, code, o->since, asf_cb, &a, err)) != BG_OK)
         goto done;
     if (a.oom) {
         rc = bg_error_set(err, BG_ENOMEM, "out of memory reading the history of lot '%s'", code);
@@ -159,8 +140,9 @@ static int add_lot(bg_store *st, const char *code, const bg_qa_opts *o,
     pl->n = lp->n;
     pl->r25_mean_pct = lp->r25_dev.mean, pl->r25_sd_pct = lp->r25_dev.sd;
     pl->b_mean_k = lp->b.mean, pl->b_sd_k = lp->b.sd;
-    bg_stats_of(a.v, a.n, &sa);
-    pl->nasfound = a.n, pl->asfound_mean_mk = sa.mean, pl->asfound_sd_mk = sa.sd;
+    size_t na = mine ? a.n : have->nasf;
+    bg_stats_of(mine ? a.v : have->asf, na, &sa);
+    pl->nasfound = na, pl->asfound_mean_mk = sa.mean, pl->asfound_sd_mk = sa.sd;
     pl->nb_extrap = lp->nb_extrap;
     p->sensor = lp->sensor; /* the part's lots share its specification and so its kind */
     memcpy(p->v1_name, lp->v1_name, sizeof p->v1_name);
@@ -274,7 +256,7 @@ int bg_qa_part_charts(bg_store *st, const char *part, const bg_qa_opts *o, bg_qa
 }
 
 int bgi_qa_part_charts_with(bg_store *st, const char *part, const bg_qa_opts *o,
-                            const bg_qa_lot_summary *have, bg_qa_part *out, bg_error *err)
+                            const struct bgi_qa_have *have, bg_qa_part *out, bg_error *err)
 {
     struct codes c = { NULL, 0, 0, 0 };
     int rc;

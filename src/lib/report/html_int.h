@@ -15,6 +15,9 @@ void bgi_html_cautions(FILE *f);
 ** the cautions and 'note' (plain text, may be NULL). */
 void bgi_html_closing_begin(FILE *f);
 void bgi_html_closing_end(FILE *f, const char *note);
+/* <tag class="cls" data-v="FULL">SHOWN</tag>: FULL the shortest decimal that reads back to
+** 'v' (bg_num_shortest), SHOWN 'v' as printf's 'fmt' (one conversion) writes it, or an em
+** dash when 'v' is not finite. */
 void bgi_html_num(FILE *f, const char *tag, const char *cls, const char *fmt,
                   double v);
 /* Escaped text with "degC" and "ohm" written as the degree Celsius and ohm signs. */

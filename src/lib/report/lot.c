@@ -266,7 +266,7 @@ static void drift_rows(FILE *f, const bg_qa_probe *p)
     }
 }
 
-static void drift_table(FILE *f, const bg_qa_lot_summary *s)
+static void drift_head(FILE *f, const bg_qa_lot_summary *s)
 {
     int ntc = s->stats.sensor == BG_PART_NTC;
     fprintf(f, "<h2>Drift of each probe since its previous calibration</h2>\n<table "
@@ -276,8 +276,10 @@ static void drift_table(FILE *f, const bg_qa_lot_summary *s)
                "<th class=\"n\">rate / (mK/year)</th><th>flags</th></tr>\n",
             ntc ? "&#916;R25 / %" : "&#916;reading at 25 \xc2\xb0" "C / %",
             ntc ? "&#916;B / K" : "&#916;B (NTC only)");
-    for (size_t i = 0; i < s->nprobes; i++)
-        drift_rows(f, &s->probes[i]);
+}
+
+static void drift_tail(FILE *f, const bg_qa_lot_summary *s)
+{
     static const char *const from[4] = { "from the lot's R25 tolerance", "as given",
                                          "the part's default", "from the tolerance of the part's "
                                          "sensor kind at its reference temperature" };
@@ -435,18 +437,59 @@ static int part_charts(FILE *f, const bg_qa_lot_summary *s)
     return rc;
 }
 
-static int lot_sections(FILE *f, const bg_qa_lot_summary *s, bg_error *err)
+/* The sections before the drift table's rows: the lot's probes and statistics. */
+static void first_sections(FILE *f, const bg_qa_lot_summary *s)
 {
     probes_table(f, &s->stats);
     stats_table(f, &s->stats);
     histogram(f, &s->stats);
     band_table(f, &s->stats);
-    drift_table(f, s);
+    drift_head(f, s);
+}
+
+/* The sections after the drift table's rows: its limits and the part's control charts. */
+static int last_sections(FILE *f, const bg_qa_lot_summary *s, bg_error *err)
+{
+    drift_tail(f, s);
     if (part_charts(f, s) != BG_OK)
         return bg_error_set(err, BG_ENOMEM, "out of memory drawing the control charts");
     if (ferror(f))
         return bg_error_set(err, BG_EIO, "cannot write the lot report");
     return BG_OK;
+}
+
+static void stream_ready(const bg_qa_lot_summary *s, void *ctx)
+{
+    first_sections(ctx, s);
+}
+
+static void stream_probe(const bg_qa_lot_summary *s, const bg_qa_probe *p, void *ctx)
+{
+    (void)s;
+    drift_rows(ctx, p);
+}
+
+/* The sections of the page, from the summary made already or while the lot is read. */
+static int lot_sections(FILE *f, const bg_lot_report *r, int *flagged, bg_error *err)
+{
+    if (r->summary) {
+        first_sections(f, r->summary);
+        for (size_t i = 0; i < r->summary->nprobes; i++)
+            drift_rows(f, &r->summary->probes[i]);
+        *flagged = r->summary->flagged;
+        return last_sections(f, r->summary, err);
+    }
+    if (!r->st)
+        return bg_error_set(err, BG_EINVAL, "the lot report has no lot summary");
+    bg_qa_lot_summary s = BG_QA_LOT_SUMMARY_INIT;
+    bg_qa_lot_sink sink = { stream_ready, stream_probe, f };
+    int rc = bg_qa_lot_summarize_each(r->st, r->lot.code, r->qa, &sink, &s, err);
+    if (rc == BG_OK) {
+        *flagged = s.flagged;
+        rc = last_sections(f, &s, err);
+    }
+    bg_qa_lot_summary_release(&s);
+    return rc;
 }
 
 /* The page: the identity, the lot, the sections, the verdict, the cautions. */
@@ -460,11 +503,7 @@ static int lot_generate(const void *result, const bg_report_head *h, FILE *f, bg
     bgi_report_kv(f, "Lot", r->lot.code);
     bgi_report_kv(f, "Part", r->lot.part);
     fputs("</table>\n", f);
-    if (r->summary) {
-        rc = lot_sections(f, r->summary, err);
-        flagged = r->summary->flagged;
-    } else
-        rc = bg_error_set(err, BG_EINVAL, "the lot report has no lot summary");
+    rc = lot_sections(f, r, &flagged, err);
     /* the verdict, the cautions and the note stay together on the last printed page */
     bgi_html_closing_begin(f);
     fprintf(f, "<p id=\"verdict\" data-flagged=\"%d\"><strong>%s</strong></p>\n", flagged,

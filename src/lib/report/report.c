@@ -134,7 +134,7 @@ static int issue_gen(long long id, const char *issued, const bg_chain_head *chai
     return bg_report_render(c->kind, c->result, &h, content, len, err);
 }
 
-/* Generate and store one report, then read the stored row back into '*out'. */
+/* Generate and store one report; '*out' is the stored row. */
 static int issue(bg_store *st, struct issue_ctx *c, const char *subject, long long fit_id,
                  const char *spec, bg_artifact *out, bg_error *err)
 {
@@ -148,10 +148,11 @@ static int issue(bg_store *st, struct issue_ctx *c, const char *subject, long lo
         if (rc != BG_OK)
             return rc;
     }
+    /* the stored row comes back from the issue itself: its content is the bytes the store
+    ** hashed into the record chain (read back from the table for the hash), not read again */
     bg_artifact_req req = { c->kind->artifact_kind, subject, fit_id, spec, c->o->replaces,
-                            bg_version(), issue_gen, c };
-    int rc = bg_store_artifact_issue(st, &req, &id, err);
-    return rc == BG_OK ? bg_store_artifact_get(st, id, out, err) : rc;
+                            bg_version(), issue_gen, c, out };
+    return bg_store_artifact_issue(st, &req, &id, err);
 }
 
 int bg_report_issue_run(bg_store *st, long long run_id, long long fit_id,
@@ -176,21 +177,19 @@ int bg_report_issue_lot(bg_store *st, const char *code, const bg_report_opts *o,
                         bg_artifact *out, bg_error *err)
 {
     bg_lot_report r;
-    bg_qa_lot_summary qs = BG_QA_LOT_SUMMARY_INIT;
     char subject[BG_TEXT + 8];
     memset(out, 0, sizeof *out);
     memset(&r, 0, sizeof r);
     int rc = bg_store_lot_get(st, code, &r.lot, err);
-    if (rc == BG_OK)
-        rc = bg_qa_lot_summarize(st, code, o->qa, &qs, err);
     if (rc == BG_OK) {
-        r.summary = &qs;
+        /* the page is written while the lot is read, inside the issue's transaction: a lot
+        ** of any size is never held whole */
+        r.st = st, r.qa = o->qa;
         snprintf(subject, sizeof subject, "lot %s", code);
         char *spec = report_spec(subject, code, 0, 0, NULL);
         struct issue_ctx c = { &bgi_report_lot, &r, o };
         rc = issue(st, &c, subject, 0, spec, out, err);
         free(spec);
     }
-    bg_qa_lot_summary_release(&qs);
     return rc;
 }

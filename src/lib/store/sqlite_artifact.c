@@ -41,7 +41,9 @@ int bgi_sqlite_artifact_insert(bgi_conn *c, const struct bgi_artifact_row *row, 
     else
         sqlite3_bind_null(q, 3);
     sqlite3_bind_text(q, 4, req->spec, -1, SQLITE_TRANSIENT);
-    sqlite3_bind_blob64(q, 5, row->content, (sqlite3_uint64)row->len, SQLITE_TRANSIENT);
+    /* the content outlives the statement's step: bound without a copy (a report can be
+    ** a hundred megabytes) */
+    sqlite3_bind_blob64(q, 5, row->content, (sqlite3_uint64)row->len, SQLITE_STATIC);
     if (req->replaces_id)
         sqlite3_bind_int64(q, 6, req->replaces_id);
     else

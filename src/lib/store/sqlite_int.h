@@ -137,7 +137,7 @@ int bgi_sqlite_lot_history(bgi_conn *c, long long lot_id, const char *since,
 ** the two times compared as instants by bgi_time(), registered on each connection; else the
 ** row's lot).  BGI_PROBE_NOW_IN(p, LOT): probe p is in lot LOT (an SQL expression) now;
 ** BGI_PROBE_OF(p, LOT): p is in LOT now or has a run that counts toward it.  Both find the
-** candidates by index (probe_lot, probe_version_lot) before they look at moves. */
+** candidates by index (probe_lot_serial, probe_version_lot) before they look at moves. */
 #define BGI_LOT_NOW(p) "coalesce((SELECT pv.lot_id FROM probe_version pv WHERE pv.probe_id = " \
     p ".id ORDER BY pv.id DESC LIMIT 1), " p ".lot_id)"
 #define BGI_LOT_AT_RUN(r, p) "coalesce((SELECT pv.lot_id FROM probe_version pv WHERE " \
@@ -152,7 +152,7 @@ int bgi_sqlite_lot_history(bgi_conn *c, long long lot_id, const char *since,
     BGI_LOT_AT_RUN("rr", p) " = " lot ")))"
 /* The same three over a lot that no move concerns (bgi_sqlite_lot_moved says 0): no probe of
 ** it has a version, and no version names it, so every run of a probe of its row counts toward
-** it and no other run does; the plain probe.lot_id gives the same rows by the probe_lot index,
+** it and no other run does; the plain probe.lot_id gives the same rows by the probe_lot_serial index,
 ** without a subquery per row.  A lot-wide read picks one set per command. */
 #define BGI_PLAIN_AT_RUN(r, p) p ".lot_id"
 #define BGI_PLAIN_WAS_IN(p, lot) "(" p ".lot_id = " lot ")"

@@ -1823,6 +1823,30 @@ void bg_artifact_release(bg_artifact *a)
     memset(a, 0, sizeof *a);
 }
 
+/* The row just stored, into 'a' (req->issued): what bg_store_artifact_get would read back,
+** the content taken over (made NUL-terminated; a large block grows in place). */
+static int issued_row(const bg_artifact_req *req, long long id, const char *now, char *content,
+                      size_t len, bg_artifact *a, bg_error *err)
+{
+    char *c = realloc(content, len + 1);
+    memset(a, 0, sizeof *a);
+    if (!c) {
+        free(content);
+        return bg_error_set(err, BG_ENOMEM, "out of memory for report %lld", id);
+    }
+    c[len] = '\0';
+    a->id = id, a->fit_id = req->fit_id, a->replaces_id = req->replaces_id;
+    snprintf(a->kind, sizeof a->kind, "%s", req->kind);
+    snprintf(a->version, sizeof a->version, "%s", req->version);
+    snprintf(a->created_at, sizeof a->created_at, "%s", now);
+    a->content = c, a->len = len;
+    if (!(a->spec = strdup(req->spec ? req->spec : ""))) {
+        bg_artifact_release(a);
+        return bg_error_set(err, BG_ENOMEM, "out of memory for report %lld", id);
+    }
+    return BG_OK;
+}
+
 /* Inside the issue's transaction: the identifier and the chain, the content, the row. */
 static int issue(bg_store *st, const bg_artifact_req *req, long long *id, bg_error *err)
 {
@@ -1848,6 +1872,8 @@ static int issue(bg_store *st, const bg_artifact_req *req, long long *id, bg_err
         return rc;
     row.id = *id, row.req = req, row.content = content, row.len = len, row.now = now;
     rc = chained(st, "artifact", *id, st->be->artifact_insert(st->conn, &row, err), err);
+    if (rc == BG_OK && req->issued)
+        return issued_row(req, *id, now, content, len, req->issued, err);
     free(content);
     return rc;
 }
@@ -1858,11 +1884,15 @@ int bg_store_artifact_issue(bg_store *st, const bg_artifact_req *req, long long 
     long long id = 0;
     int rc, own;
 
+    if (req->issued)
+        memset(req->issued, 0, sizeof *req->issued);
     if ((rc = tx_begin(st, &own, err)) != BG_OK)
         return rc;
     rc = tx_end(st, own, issue(st, req, &id, err), err);
     if (rc == BG_OK && id_out)
         *id_out = id;
+    if (rc != BG_OK && req->issued) /* rolled back: nothing was issued */
+        bg_artifact_release(req->issued);
     return rc;
 }
 
