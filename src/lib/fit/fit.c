@@ -10,6 +10,7 @@
 **    in two or three steps; GSL's trust-region solver is used in the tests as a cross-check. */
 #include <math.h>
 #include <stdarg.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -211,18 +212,54 @@ static void basis_row(double L, const unsigned *pw, size_t nb, double *g)
         g[j] = pows[pw[j]];
 }
 
-/* By temperature, equal temperatures in the order of the readings (a total order, so the
-** result does not depend on the qsort at hand). */
-static int cmp_t(const void *a, const void *b)
+/* The bits of a temperature as an unsigned key: for positive finite doubles (check_points
+** has refused every other) the keys order as the values do (IEEE 754-2008, 3.4). */
+static uint64_t t_key(double t)
 {
-    const struct tsort *x = a, *y = b;
-    if (x->t != y->t)
-        return (x->t > y->t) - (x->t < y->t);
-    return (x->i > y->i) - (x->i < y->i);
+    uint64_t k;
+    memcpy(&k, &t, sizeof k);
+    return k;
+}
+
+_Static_assert(MAXB * sizeof(double) >= sizeof(struct tsort),
+               "the fitter's design matrix holds the sort's scratch");
+
+/* Stable least-significant-digit radix sort of 'v' by temperature, 8 bits a pass, skipping
+** the passes whose digit every key shares (Knuth, TAOCP vol. 3, 5.2.5); 'tmp' holds 'n'.
+** Linear in n where a comparison sort is n log n.  Stable from the readings' order, it gives
+** equal temperatures in the order of the readings: a total order, so the result depends on
+** nothing but the points. */
+static void radix_sort_t(struct tsort *v, struct tsort *tmp, size_t n)
+{
+    size_t count[8][256];
+    struct tsort *src = v, *dst = tmp;
+
+    memset(count, 0, sizeof count);
+    for (size_t i = 0; i < n; i++) {
+        uint64_t k = t_key(v[i].t);
+        for (unsigned d = 0; d < 8; d++)
+            count[d][(k >> (8 * d)) & 255]++;
+    }
+    for (unsigned d = 0; d < 8; d++) {
+        size_t *c = count[d], sum = 0;
+        if (c[(t_key(v[0].t) >> (8 * d)) & 255] == n) /* one digit for all: nothing to do */
+            continue;
+        for (size_t b = 0; b < 256; b++) {
+            size_t x = c[b];
+            c[b] = sum, sum += x;
+        }
+        for (size_t i = 0; i < n; i++)
+            dst[c[(t_key(src[i].t) >> (8 * d)) & 255]++] = src[i];
+        struct tsort *t = src;
+        src = dst, dst = t;
+    }
+    if (src != v)
+        memcpy(v, src, n * sizeof *v);
 }
 
 /* Sort the points by temperature into fr->sorted (readings already in rising temperature,
-** as a slow ramp gives them, are left as they are in O(n)). */
+** as a slow ramp gives them, are left as they are in O(n)); fr->A, not yet in use (the fit
+** starts after the checks), is the radix sort's scratch. */
 static void sort_points(bg_fitter *fr, const bg_point *pts, size_t n)
 {
     size_t rising = 1;
@@ -244,7 +281,7 @@ static void sort_points(bg_fitter *fr, const bg_point *pts, size_t n)
             fr->sorted[j] = v;
         }
     } else
-        qsort(fr->sorted, n, sizeof fr->sorted[0], cmp_t);
+        radix_sort_t(fr->sorted, (struct tsort *)(void *)fr->A, n);
 }
 
 int bgi_sort_hold(bg_fitter *fr, int on)
@@ -1017,12 +1054,18 @@ static void copy_params(const bg_model *from, bg_model *to)
 
 /* The fits kept by a comparison for its caller ('keep', one per row, or NULL): a row's fit is
 ** kept while the row can still be chosen (BIC within 2 of the lowest so far); the others are
-** released as the lowest falls. */
-static void keep_prune(bg_fit *keep, const bg_cmp *out, double best)
+** released as the lowest falls, the first of them into 'spare' when it holds no buffers (the
+** next row's fit reuses them: no memory given back and taken again, page by page). */
+static void keep_prune(bg_fit *keep, const bg_cmp *out, double best, bg_fit *spare)
 {
     for (size_t m = 0; keep && m < out->nrows; m++)
-        if (!out->row[m].ok || !(out->row[m].bic <= best + 2.0))
+        if (!out->row[m].ok || !(out->row[m].bic <= best + 2.0)) {
+            if (spare->cap == 0 && keep[m].cap > 0) {
+                bg_fit t = *spare;
+                *spare = keep[m], keep[m] = t;
+            }
             bg_fit_release(&keep[m]);
+        }
 }
 
 int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
@@ -1083,10 +1126,12 @@ int bgi_fit_compare_keep(bg_fitter *fr, const bg_point *pts, size_t n, const bg_
         row->loo_rms_mk = 1e3 * sqrt(ss / (double)n);
         row->ok = 1;
         best = fmin(best, row->bic);
-        if (keep) { /* this row's fit to the caller: 'f' takes the slot's empty buffers */
+        /* this row's fit to the caller when it can be chosen: 'f' takes the slot's empty
+        ** buffers (a row above the lowest BIC + 2 would be released at once: 'f' keeps it) */
+        if (keep && row->bic <= best + 2.0) {
             bg_fit t = keep[m];
             keep[m] = f, f = t;
-            keep_prune(keep, out, best);
+            keep_prune(keep, out, best, &f);
         }
     }
     for (size_t m = 0; m < out->nrows; m++) {
