@@ -10,6 +10,7 @@
 #include "bandgap/calib.h"
 #include "bandgap/csv.h"
 #include "fit_int.h"
+#include "../core/mem_int.h"
 
 /* Tolerance, in kelvin, of the calibrated-range test (as bg_curve's). */
 #define RANGE_TOL_K 1e-9
@@ -423,13 +424,19 @@ static int read_points(const char *path, struct file_points *fp, bg_error *err)
     has_excite = bg_csv_reader_shape(rd)->has_excite;
     while ((rc = bg_csv_reader_next(rd, &r, err)) == BG_OK && r) {
         if (fp->n == fp->cap) {
+            /* not realloc: a mapping split by the hint cannot be moved, and realloc would
+            ** copy into pages that fault one by one */
             size_t cap = fp->cap ? 2 * fp->cap : 64;
-            bg_point *p = cap > SIZE_MAX / sizeof *p ? NULL : realloc(fp->pts, cap * sizeof *p);
+            bg_point *p = cap > SIZE_MAX / sizeof *p ? NULL : malloc(cap * sizeof *p);
             if (!p) {
                 rc = bg_error_set(err, BG_ENOMEM, "out of memory reading '%s'",
                                   bg_csv_reader_name(rd));
                 break;
             }
+            bgi_mem_hint_huge(p, cap * sizeof *p);
+            if (fp->n)
+                memcpy(p, fp->pts, fp->n * sizeof *p);
+            free(fp->pts);
             fp->pts = p, fp->cap = cap;
         }
         if (fp->n == 0)
