@@ -1209,6 +1209,56 @@ static void sorted_or_not_same_fit(void **state)
     bg_fit_release(&fb);
 }
 
+/* The reference order of the sort: by temperature, equal temperatures in the readings' order
+** (a total order; common practice), here through the C library's qsort. */
+struct ref_key { double t; size_t i; };
+static int ref_cmp(const void *a, const void *b)
+{
+    const struct ref_key *x = a, *y = b;
+    if (x->t != y->t)
+        return (x->t > y->t) - (x->t < y->t);
+    return (x->i > y->i) - (x->i < y->i);
+}
+
+/* Many readings out of order (more than the insertion sort takes) are sorted by the radix sort
+** into exactly the order of qsort with the total order above: temperatures from 200 K to 420 K
+** (on both sides of 256 K, where the exponent's bits change), on a 0.1 K grid so that many are
+** equal, shuffled by a fixed permutation.  Invented readings (beta 3950 K, R25 10 kohm). */
+static void radix_sort_matches_qsort(void **state)
+{
+    (void)state;
+    enum { N = 6007 };
+    bg_point *pts = calloc(N, sizeof *pts);
+    struct ref_key *ref = calloc(N, sizeof *ref);
+    bg_fitter *fr = bg_fitter_new();
+    bg_fit f = BG_FIT_INIT;
+    bg_model m;
+    int weighted = 0;
+    assert_non_null(pts), assert_non_null(ref), assert_non_null(fr);
+    bg_model_parse("beta", &m, NULL);
+    bg_fit_opts o = bg_fit_default_opts(&m);
+    for (size_t i = 0; i < N; i++) {
+        size_t k = (i * 4099) % N;                  /* 4099 and 6007 coprime: a permutation */
+        double t = 200.0 + 0.1 * (double)((k * 7) % 2200);   /* 200 .. 419.9 K, repeated */
+        pts[i].t_k = t;
+        pts[i].r_ohm = 10000.0 * exp(3950.0 * (1.0 / t - 1.0 / 298.15));
+        pts[i].line = i + 2;
+        ref[i].t = t, ref[i].i = i;
+    }
+    qsort(ref, N, sizeof *ref, ref_cmp);
+    assert_int_equal(bgi_fit_check(fr, pts, N, &o, &weighted, &f, NULL), BG_OK);
+    for (size_t j = 0; j < N; j++) {
+        assert_int_equal(fr->sorted[j].i, ref[j].i);
+        assert_true(fr->sorted[j].t == ref[j].t);
+        assert_true(fr->sorted[j].r == pts[ref[j].i].r_ohm);
+    }
+    assert_int_equal(f.ndistinct, 2200); /* each grid value a setpoint: 0.1 K > the 0.05 K gap */
+    bg_fit_release(&f);
+    bg_fitter_free(fr);
+    free(ref);
+    free(pts);
+}
+
 /* 'auto' compares the models on one fitter that sorts and checks the points once and takes
 ** the chosen model's fit from the comparison: every number must equal, to the last bit, a
 ** fresh fitter's fit of that model and a fresh fitter's comparison (invented readings, out of
@@ -1278,6 +1328,7 @@ int main(void)
     gsl_set_error_handler(test_gsl_handler);
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(sorted_or_not_same_fit),
+        cmocka_unit_test(radix_sort_matches_qsort),
         cmocka_unit_test(held_comparison_matches_fresh_fits),
         cmocka_unit_test(nist_pontius),
         cmocka_unit_test(nist_filip),

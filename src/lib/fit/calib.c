@@ -10,6 +10,7 @@
 #include "bandgap/calib.h"
 #include "bandgap/csv.h"
 #include "fit_int.h"
+#include "../core/mem_int.h"
 
 /* Tolerance, in kelvin, of the calibrated-range test (as bg_curve's). */
 #define RANGE_TOL_K 1e-9
@@ -349,21 +350,20 @@ static int result_reset(bg_calib_result *out, const char *source, const char *mo
     return BG_OK;
 }
 
-int bg_calibrate(const bg_point *pts, size_t n, const char *source, const bg_calib_request *rq,
-                 bg_calib_result *out, bg_error *err)
+/* bg_calibrate on points in '*pts' (n of them, from malloc), which 'out' takes as its own:
+** '*pts' is then NULL (and out->pts's earlier buffer freed); left as it is on an error before. */
+static int calibrate_owned(bg_point **pts, size_t n, const char *source,
+                           const bg_calib_request *rq, bg_calib_result *out, bg_error *err)
 {
     bg_fitter *fr = NULL;
     bg_fit_opts o;
     int is_auto, rc;
 
-    if (!source)
-        source = "points";
     if ((rc = request_opts(rq, &o, &is_auto, err)) != BG_OK ||
         (rc = result_reset(out, source, rq->model, err)) != BG_OK)
         return rc;
-    GROW(out->pts, n, err);
-    if (n)
-        memcpy(out->pts, pts, n * sizeof *pts);
+    free(out->pts);
+    out->pts = *pts, *pts = NULL;
     out->npts = n;
     apply_default_u(out->pts, n, rq->u_t_default_k);
     if (!(fr = bg_fitter_new()))
@@ -380,77 +380,141 @@ int bg_calibrate(const bg_point *pts, size_t n, const char *source, const bg_cal
     return rc;
 }
 
+int bg_calibrate(const bg_point *pts, size_t n, const char *source, const bg_calib_request *rq,
+                 bg_calib_result *out, bg_error *err)
+{
+    bg_point *copy = grow(NULL, n, sizeof *copy);
+    int rc;
+
+    if (!copy)
+        return bg_error_set(err, BG_ENOMEM, "out of memory: %zu elements", n);
+    if (n)
+        memcpy(copy, pts, n * sizeof *pts);
+    rc = calibrate_owned(&copy, n, source ? source : "points", rq, out, err);
+    free(copy);
+    return rc;
+}
+
+/* A readings file as points: the readings streamed from the file (the rows, with their time
+** and note, are never all held in memory), and what the callers check on the whole file. */
+struct file_points {
+    bg_point *pts;       /* 'n' points, room for 'cap' */
+    size_t n, cap;
+    int quantity;        /* the file's quantity (bg_readings.quantity) */
+    int ref_ohms;        /* the reference is a resistance (bg_readings.ref_ohms) */
+    double excite0_a;    /* the first reading's excitation current, and its line */
+    size_t line0;
+    double bad_a;        /* the first reading whose current differs, and its line (0: none) */
+    size_t bad_line;
+};
+
+/* Read 'path' into 'fp' (released by the caller with free(fp->pts) whatever the outcome): every
+** reading is parsed and checked as bg_csv_read_file does, with its messages. */
+static int read_points(const char *path, struct file_points *fp, bg_error *err)
+{
+    bg_csv_reader *rd = NULL;
+    const bg_reading *r;
+    int rc, has_excite;
+
+    memset(fp, 0, sizeof *fp);
+    if ((rc = bg_csv_reader_open(path, 0, &rd, err)) != BG_OK)
+        return rc;
+    fp->quantity = bg_csv_reader_shape(rd)->quantity;
+    fp->ref_ohms = bg_csv_reader_shape(rd)->ref_ohms;
+    has_excite = bg_csv_reader_shape(rd)->has_excite;
+    while ((rc = bg_csv_reader_next(rd, &r, err)) == BG_OK && r) {
+        if (fp->n == fp->cap) {
+            /* not realloc: a mapping split by the hint cannot be moved, and realloc would
+            ** copy into pages that fault one by one */
+            size_t cap = fp->cap ? 2 * fp->cap : 64;
+            bg_point *p = cap > SIZE_MAX / sizeof *p ? NULL : malloc(cap * sizeof *p);
+            if (!p) {
+                rc = bg_error_set(err, BG_ENOMEM, "out of memory reading '%s'",
+                                  bg_csv_reader_name(rd));
+                break;
+            }
+            bgi_mem_hint_huge(p, cap * sizeof *p);
+            if (fp->n)
+                memcpy(p, fp->pts, fp->n * sizeof *p);
+            free(fp->pts);
+            fp->pts = p, fp->cap = cap;
+        }
+        if (fp->n == 0)
+            fp->excite0_a = r->excite_a, fp->line0 = r->pt.line;
+        else if (has_excite && !fp->bad_line &&
+                 fabs(r->excite_a - fp->excite0_a) > 1e-6 * fp->excite0_a)
+            fp->bad_a = r->excite_a, fp->bad_line = r->pt.line;
+        fp->pts[fp->n++] = r->pt;
+    }
+    bg_csv_reader_free(rd);
+    return rc;
+}
+
 /* A junction is calibrated at one constant current: an excitation current that changes from
 ** reading to reading (by more than 1e-6 relative) is refused, naming the line. */
-static int same_excitation(const bg_readings *rs, const char *path, bg_error *err)
+static int same_excitation(const struct file_points *fp, const char *path, bg_error *err)
 {
-    for (size_t i = 1; rs->has_excite && i < rs->n; i++)
-        if (fabs(rs->v[i].excite_a - rs->v[0].excite_a) > 1e-6 * rs->v[0].excite_a)
-            return bg_error_set(err, BG_EINVAL, "%s:%zu: field 'excite_a': %g A, but line %zu "
-                                "has %g A: a junction's model holds at one constant current; "
-                                "calibrate each current apart", path, rs->v[i].pt.line,
-                                rs->v[i].excite_a, rs->v[0].pt.line, rs->v[0].excite_a);
+    if (fp->bad_line)
+        return bg_error_set(err, BG_EINVAL, "%s:%zu: field 'excite_a': %g A, but line %zu "
+                            "has %g A: a junction's model holds at one constant current; "
+                            "calibrate each current apart", path, fp->bad_line, fp->bad_a,
+                            fp->line0, fp->excite0_a);
     return BG_OK;
 }
 
 int bg_calibrate_file(const char *path, const bg_calib_request *rq, bg_calib_result *out,
                       bg_error *err)
 {
-    bg_readings rs = BG_READINGS_INIT;
-    bg_point *pts = NULL;
+    struct file_points fp;
     int rc;
 
-    if ((rc = bg_csv_read_file(path, &rs, err)) != BG_OK)
-        return rc;
-    if (rs.ref_ohms)
+    if ((rc = read_points(path, &fp, err)) != BG_OK)
+        ;
+    else if (fp.ref_ohms)
         rc = bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs the reference "
                           "thermometer's Callendar-Van Dusen or ITS-90 coefficients: import the file with "
                           "'bandgap import FILE --probe SERIAL --ref ID'", path);
-    else if (!(pts = grow(NULL, rs.n, sizeof *pts)))
-        rc = bg_error_set(err, BG_ENOMEM, "out of memory");
-    else if ((rc = same_excitation(&rs, path, err)) == BG_OK) {
+    else if ((rc = same_excitation(&fp, path, err)) == BG_OK) {
         bg_calib_request q = *rq;
-        q.quantity = rs.quantity;
-        bg_readings_points(&rs, pts);
-        rc = bg_calibrate(pts, rs.n, strcmp(path, "-") == 0 ? "<stdin>" : path, &q, out, err);
+        q.quantity = fp.quantity;
+        rc = calibrate_owned(&fp.pts, fp.n, strcmp(path, "-") == 0 ? "<stdin>" : path, &q, out,
+                             err);
     }
-    free(pts);
-    bg_readings_release(&rs);
+    free(fp.pts);
     return rc;
 }
 
 int bg_calibrate_file_split(const char *path, const bg_calib_request *rq, double bound_k,
                             bg_fit_ranges *out, bg_error *err)
 {
-    bg_readings rs = BG_READINGS_INIT;
+    struct file_points fp;
     bg_calib_request q = *rq;
-    bg_point *pts = NULL;
     bg_fitter *fr = NULL;
     bg_fit_opts o;
     int rc, is_auto = 0;
 
     memset(out, 0, sizeof *out);
-    if ((rc = bg_csv_read_file(path, &rs, err)) != BG_OK)
+    if ((rc = read_points(path, &fp, err)) != BG_OK) {
+        free(fp.pts);
         return rc;
-    q.quantity = rs.quantity;
-    if (rs.ref_ohms)
+    }
+    q.quantity = fp.quantity;
+    if (fp.ref_ohms)
         rc = bg_error_set(err, BG_EINVAL, "%s: column 'ref_ohms' needs the reference "
                           "thermometer's coefficients: import the file first", path);
-    else if ((rc = same_excitation(&rs, path, err)) == BG_OK &&
+    else if ((rc = same_excitation(&fp, path, err)) == BG_OK &&
              (rc = request_opts(&q, &o, &is_auto, err)) == BG_OK && is_auto)
         rc = bg_error_set(err, BG_EINVAL, "fitting in ranges needs a named model (e.g. "
                           "cheb:5), not 'auto'");
-    if (rc == BG_OK && (!(pts = grow(NULL, rs.n, sizeof *pts)) || !(fr = bg_fitter_new())))
+    if (rc == BG_OK && !(fr = bg_fitter_new()))
         rc = bg_error_set(err, BG_ENOMEM, "out of memory");
     if (rc == BG_OK) {
-        bg_readings_points(&rs, pts);
-        apply_default_u(pts, rs.n, q.u_t_default_k);
+        apply_default_u(fp.pts, fp.n, q.u_t_default_k);
         o.source = strcmp(path, "-") == 0 ? "<stdin>" : path;
-        rc = bg_fit_split(fr, pts, rs.n, &o, bound_k, out, err);
+        rc = bg_fit_split(fr, fp.pts, fp.n, &o, bound_k, out, err);
     }
     bg_fitter_free(fr);
-    free(pts);
-    bg_readings_release(&rs);
+    free(fp.pts);
     return rc;
 }
 

@@ -10,6 +10,7 @@
 **    in two or three steps; GSL's trust-region solver is used in the tests as a cross-check. */
 #include <math.h>
 #include <stdarg.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -18,6 +19,7 @@
 
 #include "bandgap/fit.h"
 #include "fit_int.h"
+#include "../core/mem_int.h"
 
 #define MAXB BG_MODEL_MAXPAR
 
@@ -105,6 +107,12 @@ static int fitter_reserve(bg_fitter *fr, size_t n)
     if (!L || !u || !A || !b || !tm || !G || !s || !lev || !tk || !rr)
         return BG_ENOMEM;
     fr->cap = cap;
+    bgi_mem_hint_huge(fr->A, cap * MAXB * sizeof *A);
+    bgi_mem_hint_huge(fr->G, cap * MAXB * sizeof *G);
+    bgi_mem_hint_huge(fr->sorted, cap * sizeof *s);
+    double *col[] = { fr->L, fr->u, fr->b, fr->tm, fr->lev, fr->tk, fr->rr };
+    for (size_t k = 0; k < sizeof col / sizeof col[0]; k++)
+        bgi_mem_hint_huge(col[k], cap * sizeof *col[k]);
     return BG_OK;
 }
 
@@ -123,6 +131,10 @@ static int fit_reserve(bg_fit *f, size_t n)
     if (!r || !s || !u || !l)
         return BG_ENOMEM;
     f->cap = n;
+    bgi_mem_hint_huge(f->resid_mk, n * sizeof *r);
+    bgi_mem_hint_huge(f->student, n * sizeof *s);
+    bgi_mem_hint_huge(f->u_k, n * sizeof *u);
+    bgi_mem_hint_huge(f->line, n * sizeof *l);
     return BG_OK;
 }
 
@@ -211,18 +223,54 @@ static void basis_row(double L, const unsigned *pw, size_t nb, double *g)
         g[j] = pows[pw[j]];
 }
 
-/* By temperature, equal temperatures in the order of the readings (a total order, so the
-** result does not depend on the qsort at hand). */
-static int cmp_t(const void *a, const void *b)
+/* The bits of a temperature as an unsigned key: for positive finite doubles (check_points
+** has refused every other) the keys order as the values do (IEEE 754-2008, 3.4). */
+static uint64_t t_key(double t)
 {
-    const struct tsort *x = a, *y = b;
-    if (x->t != y->t)
-        return (x->t > y->t) - (x->t < y->t);
-    return (x->i > y->i) - (x->i < y->i);
+    uint64_t k;
+    memcpy(&k, &t, sizeof k);
+    return k;
+}
+
+_Static_assert(MAXB * sizeof(double) >= sizeof(struct tsort),
+               "the fitter's design matrix holds the sort's scratch");
+
+/* Stable least-significant-digit radix sort of 'v' by temperature, 8 bits a pass, skipping
+** the passes whose digit every key shares (Knuth, TAOCP vol. 3, 5.2.5); 'tmp' holds 'n'.
+** Linear in n where a comparison sort is n log n.  Stable from the readings' order, it gives
+** equal temperatures in the order of the readings: a total order, so the result depends on
+** nothing but the points. */
+static void radix_sort_t(struct tsort *v, struct tsort *tmp, size_t n)
+{
+    size_t count[8][256];
+    struct tsort *src = v, *dst = tmp;
+
+    memset(count, 0, sizeof count);
+    for (size_t i = 0; i < n; i++) {
+        uint64_t k = t_key(v[i].t);
+        for (unsigned d = 0; d < 8; d++)
+            count[d][(k >> (8 * d)) & 255]++;
+    }
+    for (unsigned d = 0; d < 8; d++) {
+        size_t *c = count[d], sum = 0;
+        if (c[(t_key(v[0].t) >> (8 * d)) & 255] == n) /* one digit for all: nothing to do */
+            continue;
+        for (size_t b = 0; b < 256; b++) {
+            size_t x = c[b];
+            c[b] = sum, sum += x;
+        }
+        for (size_t i = 0; i < n; i++)
+            dst[c[(t_key(src[i].t) >> (8 * d)) & 255]++] = src[i];
+        struct tsort *t = src;
+        src = dst, dst = t;
+    }
+    if (src != v)
+        memcpy(v, src, n * sizeof *v);
 }
 
 /* Sort the points by temperature into fr->sorted (readings already in rising temperature,
-** as a slow ramp gives them, are left as they are in O(n)). */
+** as a slow ramp gives them, are left as they are in O(n)); fr->A, not yet in use (the fit
+** starts after the checks), is the radix sort's scratch. */
 static void sort_points(bg_fitter *fr, const bg_point *pts, size_t n)
 {
     size_t rising = 1;
@@ -244,7 +292,7 @@ static void sort_points(bg_fitter *fr, const bg_point *pts, size_t n)
             fr->sorted[j] = v;
         }
     } else
-        qsort(fr->sorted, n, sizeof fr->sorted[0], cmp_t);
+        radix_sort_t(fr->sorted, (struct tsort *)(void *)fr->A, n);
 }
 
 int bgi_sort_hold(bg_fitter *fr, int on)
@@ -554,9 +602,11 @@ static double hat(const double *cov, const double *g, size_t nb, double w)
 static void leverages(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, int refined,
                       const bg_linfit *lf)
 {
+    double cov[MAXB * MAXB]; /* a local copy: the stores to lev[] could alias lf->cov */
+    memcpy(cov, lf->cov, nb * nb * sizeof cov[0]);
     for (size_t i = 0; i < n; i++) {
         double t = refined ? fr->tm[i] : pts[i].t_k;
-        fr->lev[i] = hat(lf->cov, &fr->G[i * nb], nb, t * t / fr->u[i]);
+        fr->lev[i] = hat(cov, &fr->G[i * nb], nb, t * t / fr->u[i]);
     }
     fr->lev_one_step = refined;
 }
@@ -569,29 +619,39 @@ static void leverages(bg_fitter *fr, const bg_point *pts, size_t n, size_t nb, i
 ** readings, resolution / sqrt(12) (JCGM 100:2008, F.2.2.1): otherwise the residuals of
 ** noise-free readings, rounding noise of the arithmetic, would be studentized by themselves.
 ** With 'lev', the leverages go there too (they are those of the refined fit's Jacobian that
-** 'leverages' would compute). */
+** 'leverages' would compute).  In the same pass the residuals, weights and lines go to 'out'. */
 static void studentize(bg_fitter *fr, const bg_point *pts, const bg_fit_opts *o,
                        const bg_linfit *lf, size_t nb, bg_fit *out, double *lev)
 {
     char w1[300];
-    double floor_k = o->resolution_k / sqrt(12.0);
-    for (size_t i = 0; i < out->n; i++) {
-        double h = hat(lf->cov, &fr->G[i * nb], nb, fr->tm[i] * fr->tm[i] / fr->u[i]);
+    double floor_k = o->resolution_k / sqrt(12.0), cov[MAXB * MAXB];
+    /* what the loop reads of 'out' and 'lf', in locals: through the pointers the compiler
+    ** would load them again after every store to the arrays */
+    const size_t n = out->n, dof = out->dof;
+    const double chi2 = out->chi2, limit = o->student_limit;
+    const int weighted = out->weighted;
+    double *const student = out->student, *const resid = out->resid_mk, *const uk = out->u_k;
+    size_t *const line = out->line;
+    memcpy(cov, lf->cov, nb * nb * sizeof cov[0]);
+    for (size_t i = 0; i < n; i++) {
+        resid[i] = 1e3 * (pts[i].t_k - fr->tm[i]);
+        uk[i] = fr->u[i];
+        line[i] = pts[i].line;
+        double h = hat(cov, &fr->G[i * nb], nb, fr->tm[i] * fr->tm[i] / fr->u[i]);
         if (lev)
             lev[i] = h;
         double r = (pts[i].t_k - fr->tm[i]) / fr->u[i], s2 = NAN, fl = floor_k / fr->u[i];
-        if (out->dof > 1 && 1.0 - h > 1e-10)
-            s2 = fmax((out->chi2 - r * r / (1.0 - h)) / (double)(out->dof - 1), fl * fl);
+        if (dof > 1 && 1.0 - h > 1e-10)
+            s2 = fmax((chi2 - r * r / (1.0 - h)) / (double)(dof - 1), fl * fl);
         /* With stated uncertainties the scale never counts as smaller than they are, as for
         ** the covariance: a reading far inside its own uncertainty is no outlier. */
-        if (out->weighted && s2 < 1.0)
+        if (weighted && s2 < 1.0)
             s2 = 1.0;
-        out->student[i] = (s2 > 0.0) ? r / sqrt(s2 * (1.0 - h)) : NAN;
-        if (fabs(out->student[i]) > o->student_limit)
+        student[i] = (s2 > 0.0) ? r / sqrt(s2 * (1.0 - h)) : NAN;
+        if (fabs(student[i]) > limit)
             add_note(out, BG_NOTE_OUTLIER, pts[i].line, "%s: studentized residual %.2f "
                      "exceeds %g (residual %.2f mK): check this reading",
-                     where(o, &pts[i], i, w1, sizeof w1), out->student[i], o->student_limit,
-                     out->resid_mk[i]);
+                     where(o, &pts[i], i, w1, sizeof w1), student[i], limit, resid[i]);
     }
 }
 
@@ -714,28 +774,25 @@ static int fit_start(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_
     return BG_OK;
 }
 
-/* Residuals, chi2, RMS, range, degrees of freedom, covariance scale and information criteria
-** from the fitted temperatures fr->tm and the weights fr->u. */
+/* Chi2, RMS, range, degrees of freedom, covariance scale and information criteria from the
+** fitted temperatures fr->tm and the weights fr->u (the residuals themselves are written by
+** studentize, in its pass over the readings). */
 static void fit_statistics(const bg_fitter *fr, const bg_point *pts, size_t n,
                            const bg_fit_opts *o, int weighted, bg_fit *out)
 {
-    double ss = 0.0, mx = 0.0;
-    out->chi2 = 0.0;
-    out->t_min_k = INFINITY, out->t_max_k = -INFINITY;
+    double ss = 0.0, mx = 0.0, chi2 = 0.0, tmin = INFINITY, tmax = -INFINITY;
     for (size_t i = 0; i < n; i++) {
         double r = pts[i].t_k - fr->tm[i];
-        out->resid_mk[i] = 1e3 * r;
-        out->u_k[i] = fr->u[i];
-        out->line[i] = pts[i].line;
-        out->chi2 += (r / fr->u[i]) * (r / fr->u[i]);
+        chi2 += (r / fr->u[i]) * (r / fr->u[i]);
         ss += r * r;
         if (fabs(r) > mx)
             mx = fabs(r);
-        if (pts[i].t_k < out->t_min_k)
-            out->t_min_k = pts[i].t_k;
-        if (pts[i].t_k > out->t_max_k)
-            out->t_max_k = pts[i].t_k;
+        if (pts[i].t_k < tmin)
+            tmin = pts[i].t_k;
+        if (pts[i].t_k > tmax)
+            tmax = pts[i].t_k;
     }
+    out->chi2 = chi2, out->t_min_k = tmin, out->t_max_k = tmax;
     out->rms_mk = 1e3 * sqrt(ss / (double)n);
     out->max_abs_mk = 1e3 * mx;
     if (out->dof > 0) {
@@ -837,11 +894,16 @@ int bgi_fit_finish(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_op
     fit_statistics(fr, pts, n, o, weighted, out);
     fit_coefficients(lf, pw, nb, a, out);
     int lev_here = sol->with_leverages && o->refine; /* the same leverages: kept once */
-    studentize(fr, pts, o, lf, nb, out, lev_here ? fr->lev : NULL);
-    if (lev_here)
-        fr->lev_one_step = 1;
-    else if (sol->with_leverages)
-        leverages(fr, pts, n, nb, o->refine != 0, lf);
+    if (fr->summary_on && !(out->bic <= fr->summary_bic)) { /* a row that cannot be chosen */
+        if (sol->with_leverages)
+            leverages(fr, pts, n, nb, o->refine != 0, lf);
+    } else {
+        studentize(fr, pts, o, lf, nb, out, lev_here ? fr->lev : NULL);
+        if (lev_here)
+            fr->lev_one_step = 1;
+        else if (sol->with_leverages)
+            leverages(fr, pts, n, nb, o->refine != 0, lf);
+    }
     if (out->dof == 0) {
         for (size_t i = 0; i < MAXB * MAXB; i++)
             out->cov[i] = NAN, out->pcov[i] = NAN;
@@ -1017,12 +1079,18 @@ static void copy_params(const bg_model *from, bg_model *to)
 
 /* The fits kept by a comparison for its caller ('keep', one per row, or NULL): a row's fit is
 ** kept while the row can still be chosen (BIC within 2 of the lowest so far); the others are
-** released as the lowest falls. */
-static void keep_prune(bg_fit *keep, const bg_cmp *out, double best)
+** released as the lowest falls, the first of them into 'spare' when it holds no buffers (the
+** next row's fit reuses them: no memory given back and taken again, page by page). */
+static void keep_prune(bg_fit *keep, const bg_cmp *out, double best, bg_fit *spare)
 {
     for (size_t m = 0; keep && m < out->nrows; m++)
-        if (!out->row[m].ok || !(out->row[m].bic <= best + 2.0))
+        if (!out->row[m].ok || !(out->row[m].bic <= best + 2.0)) {
+            if (spare->cap == 0 && keep[m].cap > 0) {
+                bg_fit t = *spare;
+                *spare = keep[m], keep[m] = t;
+            }
             bg_fit_release(&keep[m]);
+        }
 }
 
 int bg_fit_compare(bg_fitter *fr, const bg_point *pts, size_t n, const bg_fit_opts *o,
@@ -1060,6 +1128,8 @@ int bgi_fit_compare_keep(bg_fitter *fr, const bg_point *pts, size_t n, const bg_
             snprintf(row->why, sizeof row->why, "needs at least %zu points", row->npar + 2);
             continue;
         }
+        /* a row above the lowest BIC so far + 2 cannot be chosen: its summary will do */
+        fr->summary_on = 1, fr->summary_bic = best + 2.0;
         if (bg_fitter_run(fr, pts, n, &oo, &f, &e2) != BG_OK) {
             /* Bad data fail every model alike; a design too ill-conditioned for one model
             ** (many coefficients on a narrow range) leaves that model out of the choice. */
@@ -1083,10 +1153,12 @@ int bgi_fit_compare_keep(bg_fitter *fr, const bg_point *pts, size_t n, const bg_
         row->loo_rms_mk = 1e3 * sqrt(ss / (double)n);
         row->ok = 1;
         best = fmin(best, row->bic);
-        if (keep) { /* this row's fit to the caller: 'f' takes the slot's empty buffers */
+        /* this row's fit to the caller when it can be chosen: 'f' takes the slot's empty
+        ** buffers (a row above the lowest BIC + 2 would be released at once: 'f' keeps it) */
+        if (keep && row->bic <= best + 2.0) {
             bg_fit t = keep[m];
             keep[m] = f, f = t;
-            keep_prune(keep, out, best);
+            keep_prune(keep, out, best, &f);
         }
     }
     for (size_t m = 0; m < out->nrows; m++) {
@@ -1117,6 +1189,7 @@ int bgi_fit_compare_keep(bg_fitter *fr, const bg_point *pts, size_t n, const bg_
                      nm, c->bic, best, c->loo_rms_mk);
     }
 done:
+    fr->summary_on = 0;
     bgi_sort_hold(fr, held);
     bg_fit_release(&f);
     return rc;

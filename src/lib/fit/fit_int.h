@@ -28,6 +28,12 @@ struct bg_fitter {
     double *lev;        /* leverages h_i of the last fit, for the leave-one-out residuals */
     double *tk, *rr;    /* the points' temperatures (set with L); scratch of t_chi2 */
     int lev_one_step;   /* 1: lev[] from the Gauss-Newton Jacobian (refined fit); 0: linear */
+    /* While a comparison runs (bgi_fit_compare_keep, 'summary_on' set): a fit whose BIC is not
+    ** within 'summary_bic' (the lowest so far + 2) can no longer be chosen, and
+    ** bgi_fit_finish gives it its summary and the leverages only, leaving the residuals,
+    ** weights, lines and studentized residuals of 'out' unwritten. */
+    int summary_on;
+    double summary_bic;
     double *batch;      /* the batch's lanes (fit_batch.c), 'batch_cap' doubles */
     size_t batch_cap;
     int batch_kernel;   /* the batch's kernel: BGI_KERNEL_AUTO (0, by the processor) or one */
