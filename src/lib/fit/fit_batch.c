@@ -58,10 +58,10 @@ struct qr_lanes {
 };
 
 /* Swap columns 'k' and 'j' of the lanes where best == j (qr_core's pivot swap). */
-BG_INLINE void pivot_swap(double *restrict A, struct qr_lanes *q, const double *best, size_t n,
+BG_INLINE void pivot_swap(double *const *col, struct qr_lanes *q, const double *best, size_t n,
                           size_t k, size_t j)
 {
-    double *restrict ck = A + k * n * LANES, *restrict cj = A + j * n * LANES;
+    double *restrict ck = col[k], *restrict cj = col[j];
     EACH(l) {
         int m = best[l] == (double)j;
         double pk = q->perm[k][l], pj = q->perm[j][l], wk = q->work[k][l], wj = q->work[j][l];
@@ -76,18 +76,16 @@ BG_INLINE void pivot_swap(double *restrict A, struct qr_lanes *q, const double *
         }
 }
 
-/* pivot_swap when every lane takes column 'j'. */
-BG_INLINE void pivot_all(double *restrict A, struct qr_lanes *q, size_t n, size_t k, size_t j)
+/* pivot_swap when every lane takes column 'j': the columns' pointers are exchanged, as
+** qr_core does, not their elements. */
+BG_INLINE void pivot_all(double **col, struct qr_lanes *q, size_t k, size_t j)
 {
-    double *restrict ck = A + k * n * LANES, *restrict cj = A + j * n * LANES;
+    double *c = col[k];
+    col[k] = col[j], col[j] = c;
     EACH(l) {
         double pk = q->perm[k][l], wk = q->work[k][l];
         q->perm[k][l] = q->perm[j][l], q->perm[j][l] = pk;
         q->work[k][l] = q->work[j][l], q->work[j][l] = wk;
-    }
-    for (size_t i = 0; i < n * LANES; i++) {
-        double vk = ck[i];
-        ck[i] = cj[i], cj[i] = vk;
     }
 }
 
@@ -96,7 +94,7 @@ BG_INLINE void pivot_all(double *restrict A, struct qr_lanes *q, size_t n, size_
 ** lane has the same permutation (the usual case) it is applied as indices, without selects. */
 BG_INLINE void unpivot_lanes(const struct qr_lanes *q, size_t p, lane *c, lane *cov)
 {
-    lane cs[MAXB] = { { 0 } };
+    lane cs[MAXB]; /* each set in full below: no zeroing of the array (a string store) */
     size_t pm[MAXB];
     int same = 1;
     for (size_t i = 0; i < p; i++) {
@@ -104,8 +102,12 @@ BG_INLINE void unpivot_lanes(const struct qr_lanes *q, size_t p, lane *c, lane *
         pm[i] = (size_t)q->perm[i][0];
     }
     for (size_t i = 0; i < p; i++)
-        for (size_t col = 0; col < p; col++)
-            EACH(l) cs[i][l] = q->perm[i][l] == (double)col ? q->colscale[col][l] : cs[i][l];
+        EACH(l) {
+            double v = 0.0;
+            for (size_t col = 0; col < p; col++)
+                v = q->perm[i][l] == (double)col ? q->colscale[col][l] : v;
+            cs[i][l] = v;
+        }
     for (size_t i = 0; i < p; i++) {
         lane v;
         EACH(l) v[l] = q->z[i][l] / cs[i][l];
@@ -145,19 +147,22 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
                         double min_rcond, struct qr_lanes *restrict q, lane *c, lane *cov,
                         lane *scale, double *restrict rcond, double *restrict bad)
 {
+    double *col[MAXB]; /* column j of the design: the pivots exchange these */
     EACH(l) bad[l] = 0.0;
+    for (size_t j = 0; j < p; j++)
+        col[j] = A + j * n * LANES;
     for (size_t j = 0; j < p; j++) {
-        double *restrict col = A + j * n * LANES;
+        double *restrict cl = col[j];
         lane s = { 0 }, inv;
         for (size_t i = 0; i < n; i++)
-            EACH(l) s[l] += col[i * LANES + l] * col[i * LANES + l];
+            EACH(l) s[l] += cl[i * LANES + l] * cl[i * LANES + l];
         EACH(l) s[l] = sqrt(s[l]);
         EACH(l) bad[l] = s[l] > 0.0 ? bad[l] : 1.0;
         EACH(l) bad[l] = fabs(s[l]) <= DBL_MAX ? bad[l] : 1.0; /* isfinite, without a call */
         EACH(l) q->colscale[j][l] = s[l], inv[l] = 1.0 / s[l];
         EACH(l) q->perm[j][l] = (double)j, q->work[j][l] = 1.0;
         for (size_t i = 0; i < n; i++)
-            EACH(l) col[i * LANES + l] *= inv[l];
+            EACH(l) cl[i * LANES + l] *= inv[l];
     }
     for (size_t k = 0; k < p; k++) {
         lane best, bw, norm2 = { 0 }, alpha, vtv;
@@ -171,10 +176,10 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
         EACH(l) same &= best[l] == best[0];
         if (!same)
             for (size_t j = k + 1; j < p; j++)
-                pivot_swap(A, q, best, n, k, j);
+                pivot_swap(col, q, best, n, k, j);
         else if ((size_t)best[0] != k) /* every lane pivots alike, the usual case: no selects */
-            pivot_all(A, q, n, k, (size_t)best[0]);
-        double *restrict v = A + k * n * LANES;
+            pivot_all(col, q, k, (size_t)best[0]);
+        double *restrict v = col[k];
         for (size_t i = k; i < n; i++)
             EACH(l) norm2[l] += v[i * LANES + l] * v[i * LANES + l];
         EACH(l) norm2[l] = sqrt(norm2[l]); /* the norm */
@@ -186,7 +191,7 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
             vtv[l] = 2.0 * norm * (norm + fabs(v[k * LANES + l] + alpha[l]));
         }
         for (size_t j = k + 1; j < p; j++) {
-            double *restrict cj = A + j * n * LANES;
+            double *restrict cj = col[j];
             lane d = { 0 }, s2 = { 0 };
             for (size_t i = k; i < n; i++)
                 EACH(l) d[l] += v[i * LANES + l] * cj[i * LANES + l];
@@ -208,7 +213,7 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
     }
     for (size_t i = 0; i < p; i++)
         for (size_t j = 0; j < p; j++)
-            EACH(l) q->R[i * p + j][l] = j >= i ? A[(j * n + i) * LANES + l] : 0.0;
+            EACH(l) q->R[i * p + j][l] = j >= i ? col[j][i * LANES + l] : 0.0;
     EACH(l) {
         double r00 = q->R[0][l];
         rcond[l] = fabs(q->R[(p - 1) * p + (p - 1)][l]) / fabs(r00);
@@ -388,9 +393,14 @@ struct block {
 BG_INLINE void monotonic_lanes(const struct lanes *z, const bg_fit_opts *o, size_t p,
                                const unsigned *pw, struct fin_lanes *f)
 {
-    lane a[MAXB] = { { 0 } }, mono;
-    for (size_t j = 0; j < p; j++)
-        EACH(l) a[pw[j]][l] = z->c[j][l];
+    lane a[MAXB], mono; /* each set in full: no zeroing of the array (a string store) */
+    for (size_t kk = 0; kk < MAXB; kk++)
+        EACH(l) {
+            double v = 0.0;
+            for (size_t j = 0; j < p; j++)
+                v = pw[j] == kk ? z->c[j][l] : v;
+            a[kk][l] = v;
+        }
     int steps = (bg_model_flags(&o->model) & BG_MODEL_SLOPE_MONOTONIC) ? 1 : 64;
     EACH(l) mono[l] = 1.0;
     for (int s = 0; s <= steps; s++)
