@@ -394,23 +394,31 @@ BG_INLINE void monotonic_lanes(const struct lanes *z, const bg_fit_opts *o, size
                                const unsigned *pw, struct fin_lanes *f)
 {
     lane a[MAXB], mono; /* each set in full: no zeroing of the array (a string store) */
-    for (size_t kk = 0; kk < MAXB; kk++)
+    for (size_t kk = 0; kk < MAXB; kk++) {
+        size_t jj = p; /* the column of power kk, or none */
+        for (size_t j = 0; j < p; j++)
+            jj = pw[j] == kk ? j : jj;
+        const double *restrict cj = z->c[jj < p ? jj : 0];
+        double keep = jj < p ? 1.0 : 0.0;
         EACH(l) {
-            double v = 0.0;
-            for (size_t j = 0; j < p; j++)
-                v = pw[j] == kk ? z->c[j][l] : v;
-            a[kk][l] = v;
+            double x = cj[l];
+            a[kk][l] = keep != 0.0 ? x : 0.0;
         }
+    }
     int steps = (bg_model_flags(&o->model) & BG_MODEL_SLOPE_MONOTONIC) ? 1 : 64;
     EACH(l) mono[l] = 1.0;
-    for (int s = 0; s <= steps; s++)
+    for (int s = 0; s <= steps; s++) {
+        lane L, d, pwr;
         EACH(l) {
-            double L = f->lmin[l] + (f->lmax[l] - f->lmin[l]) * s / (double)steps, d = 0.0;
-            double pwr = 1.0;
-            for (size_t k = 1; k < MAXB; k++, pwr *= L)
-                d += (double)k * a[k][l] * pwr;
-            mono[l] = d > 0.0 ? mono[l] : 0.0;
+            L[l] = f->lmin[l] + (f->lmax[l] - f->lmin[l]) * s / (double)steps;
+            d[l] = 0.0, pwr[l] = 1.0;
         }
+        for (size_t k = 1; k < MAXB; k++) {
+            EACH(l) d[l] += (double)k * a[k][l] * pwr[l];
+            EACH(l) pwr[l] *= L[l];
+        }
+        EACH(l) mono[l] = d[l] > 0.0 ? mono[l] : 0.0;
+    }
     EACH(l) f->mono[l] = mono[l];
 }
 
