@@ -384,6 +384,7 @@ struct block {
     unsigned iters[LANES];
     unsigned pw[MAXB];   /* the basis' powers */
     int ident;           /* 1: the model's coefficients are the basis' (BG_MODEL_BASIS_COEF) */
+    int kernel;          /* the kernel that runs (kernel_of) */
     struct fin_lanes f;
 };
 
@@ -609,15 +610,17 @@ static int batch_reserve(bg_fitter *fr, size_t n, size_t nb)
 
 /* The readings of the probes p0 .. p0 + m - 1 (m <= LANES) into the lanes as they are: T into
 ** z->t, R into z->L, u(T) into z->u, u(R) into z->tm; a lane past 'm' carries lane 0's. */
-static void gather_lanes(struct lanes *z, const bg_point *pts, size_t p0, size_t m)
+BG_INLINE void gather_lanes(struct lanes *z, const bg_point *pts, size_t p0, size_t m)
 {
     size_t n = z->n;
-    for (size_t l = 0; l < LANES; l++) {
-        const bg_point *pp = pts + (p0 + (l < m ? l : 0)) * n;
-        for (size_t i = 0; i < n; i++) {
-            z->t[i * LANES + l] = pp[i].t_k, z->L[i * LANES + l] = pp[i].r_ohm;
-            z->u[i * LANES + l] = pp[i].u_t_k, z->tm[i * LANES + l] = pp[i].u_r_ohm;
-        }
+    const bg_point *pp[LANES];
+    for (size_t l = 0; l < LANES; l++)
+        pp[l] = pts + (p0 + (l < m ? l : 0)) * n;
+    for (size_t i = 0; i < n; i++) { /* each lane vector stored whole: check_lanes loads them */
+        EACH(l) z->t[i * LANES + l] = pp[l][i].t_k;
+        EACH(l) z->L[i * LANES + l] = pp[l][i].r_ohm;
+        EACH(l) z->u[i * LANES + l] = pp[l][i].u_t_k;
+        EACH(l) z->tm[i * LANES + l] = pp[l][i].u_r_ohm;
     }
 }
 
@@ -628,8 +631,8 @@ static void gather_lanes(struct lanes *z, const bg_point *pts, size_t p0, size_t
 ** compares with is the one before), R falling at every step, u(T) stated on every reading or
 ** on none.  ok[l] = 1 where lane l passes, has_u[l] = 1 where it states u(T); a lane that does
 ** not pass goes through quick_check and bgi_fit_check, which decide it as before. */
-static void check_lanes(const struct lanes *z, const bg_fit_opts *o, double *restrict ok,
-                        double *restrict has_u)
+BG_INLINE void check_lanes(const struct lanes *z, const bg_fit_opts *o, double *restrict ok,
+                       double *restrict has_u)
 {
     size_t n = z->n;
     const double *restrict T = z->t, *restrict R = z->L, *restrict UT = z->u, *restrict UR = z->tm;
@@ -812,6 +815,33 @@ __attribute__((target(BG_AVX512_TARGET))) static void kernel_avx512(struct lanes
 }
 #endif
 
+/* gather_lanes and check_lanes, compiled for each target as the kernels are. */
+static void intake_portable(struct lanes *z, const bg_point *pts, size_t p0, size_t m,
+                            const bg_fit_opts *o, double *ok, double *has_u)
+{
+    gather_lanes(z, pts, p0, m);
+    check_lanes(z, o, ok, has_u);
+}
+
+#ifdef BG_HAVE_AVX2
+__attribute__((target("avx2"))) static void intake_avx2(struct lanes *z, const bg_point *pts,
+                                                        size_t p0, size_t m,
+                                                        const bg_fit_opts *o, double *ok,
+                                                        double *has_u)
+{
+    gather_lanes(z, pts, p0, m);
+    check_lanes(z, o, ok, has_u);
+}
+
+__attribute__((target(BG_AVX512_TARGET))) static void
+intake_avx512(struct lanes *z, const bg_point *pts, size_t p0, size_t m, const bg_fit_opts *o,
+              double *ok, double *has_u)
+{
+    gather_lanes(z, pts, p0, m);
+    check_lanes(z, o, ok, has_u);
+}
+#endif
+
 int bgi_batch_kernel_usable(int kernel)
 {
     switch (kernel) {
@@ -827,24 +857,32 @@ int bgi_batch_kernel_usable(int kernel)
     }
 }
 
-/* The kernel 'k->fr->batch_kernel' asks for, or by the processor when BGI_KERNEL_AUTO (one
-** the processor cannot run counts as BGI_KERNEL_PORTABLE). */
-static void run_kernel(struct lanes *z, struct block *k)
+/* The kernel 'fr->batch_kernel' asks for, or by the processor when BGI_KERNEL_AUTO (one the
+** processor cannot run counts as BGI_KERNEL_PORTABLE). */
+static int kernel_of(const bg_fitter *fr)
 {
 #ifdef BG_HAVE_AVX2
-    int kn = k->fr->batch_kernel;
+    int kn = fr->batch_kernel;
     if (kn == BGI_KERNEL_AUTO)
         kn = bgi_batch_kernel_usable(BGI_KERNEL_AVX512) ? BGI_KERNEL_AVX512 : BGI_KERNEL_AVX2;
-    if (kn == BGI_KERNEL_AVX512 && bgi_batch_kernel_usable(BGI_KERNEL_AVX512)) {
-        kernel_avx512(z, k);
-        return;
-    }
-    if (kn == BGI_KERNEL_AVX2 && bgi_batch_kernel_usable(BGI_KERNEL_AVX2)) {
-        kernel_avx2(z, k);
-        return;
-    }
+    if ((kn == BGI_KERNEL_AVX512 || kn == BGI_KERNEL_AVX2) && bgi_batch_kernel_usable(kn))
+        return kn;
+#else
+    (void)fr;
 #endif
-    kernel_portable(z, k);
+    return BGI_KERNEL_PORTABLE;
+}
+
+/* The kernel k->kernel (kernel_of). */
+static void run_kernel(struct lanes *z, struct block *k)
+{
+    switch (k->kernel) {
+#ifdef BG_HAVE_AVX2
+    case BGI_KERNEL_AVX512: kernel_avx512(z, k); break;
+    case BGI_KERNEL_AVX2: kernel_avx2(z, k); break;
+#endif
+    default: kernel_portable(z, k);
+    }
 }
 
 /* Room for 'n' points in 'f' (as fit.c's fit_reserve: the result's arrays grow, never shrink). */
@@ -948,14 +986,19 @@ static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size
     lane ok, has_u;
     double *v = fr->batch;
     k.fr = fr, k.o = jb->o, k.pts = pts + p0 * n, k.out = jb->out + p0, k.npar = npar;
-    k.log_n = log((double)n);
+    k.log_n = log((double)n), k.kernel = kernel_of(fr);
     z.n = n, z.nb = bg_model_basis(&op.model, k.pw);
     k.ident = (bg_model_flags(&op.model) & BG_MODEL_BASIS_COEF) && npar == z.nb;
     z.t = v, z.u = v + n * LANES, z.L = v + 2 * n * LANES, z.tm = v + 3 * n * LANES;
     z.b = v + 4 * n * LANES, z.G = v + 5 * n * LANES, z.A = z.G + z.nb * n * LANES;
     z.r = z.A + z.nb * n * LANES;
-    gather_lanes(&z, pts, p0, m);
-    check_lanes(&z, &op, ok, has_u);
+    switch (k.kernel) {
+#ifdef BG_HAVE_AVX2
+    case BGI_KERNEL_AVX512: intake_avx512(&z, pts, p0, m, &op, ok, has_u); break;
+    case BGI_KERNEL_AVX2: intake_avx2(&z, pts, p0, m, &op, ok, has_u); break;
+#endif
+    default: intake_portable(&z, pts, p0, m, &op, ok, has_u);
+    }
     for (size_t l = 0; l < LANES; l++) {
         size_t p = p0 + l;
         mode[l] = LANE_DONE;
