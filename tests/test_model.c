@@ -276,6 +276,33 @@ static void model_table_each_kind_once(void **state)
     assert_string_equal(bg_model_type_name(bg_model_type_of(&z)), "sh3");
 }
 
+/* BG_MODEL_BASIS_COEF says that bg_model_from_basis copies (the batched fit then writes the
+** basis' coefficients and covariance as the model's without the call): checked on every kind
+** of the table, with invented basis values; beta, whose coefficients are R0 and B, has it not
+** (derived: its R0 = exp((1/T0 - a0) / a1) differs from a0). */
+static void model_basis_coef_flag(void **state)
+{
+    (void)state;
+    const double c[BG_MODEL_MAXPAR] = { 1.1e-3, 2.3e-4, -7.0e-7, 1.2e-7, -2.1e-9, 4.9e-11 };
+    double cv[BG_MODEL_MAXPAR * BG_MODEL_MAXPAR], cov[BG_MODEL_MAXPAR * BG_MODEL_MAXPAR];
+    for (size_t i = 0; i < BG_MODEL_MAXPAR * BG_MODEL_MAXPAR; i++)
+        cv[i] = 1e-12 * (double)(i + 1);
+    for (size_t k = 0; k < NKINDS; k++) {
+        bg_model m = kind_model(&KINDS[k]);
+        size_t np = bg_model_npar(&m);
+        int copies = 1;
+        for (size_t i = 0; i < np * np; i++)
+            cov[i] = NAN;
+        bg_model_from_basis(&m, c, cv, cov);
+        for (size_t j = 0; j < np; j++)
+            copies &= m.coef[j] == c[j];
+        for (size_t i = 0; i < np * np; i++)
+            copies &= cov[i] == cv[i];
+        assert_int_equal((bg_model_flags(&m) & BG_MODEL_BASIS_COEF) != 0, copies);
+        assert_int_equal(copies, strcmp(KINDS[k].name, "beta") != 0);
+    }
+}
+
 static void model_types_round_trip(void **state)
 {
     (void)state;
@@ -408,6 +435,7 @@ int main(void)
         cmocka_unit_test(model_errors),          cmocka_unit_test(platinum_reference_iec60751),
         cmocka_unit_test(model_table_each_kind_once), cmocka_unit_test(model_types_round_trip),
         cmocka_unit_test(model_types_derivatives), cmocka_unit_test(model_non_finite),
+        cmocka_unit_test(model_basis_coef_flag),
     };
     return cmocka_run_group_tests_name("model", tests, NULL, NULL);
 }

@@ -54,6 +54,9 @@ typedef enum bg_quantity {
 #define BG_MODEL_INV_POLY (1u << 3) /* the kind is 1/T = sum a_i L^i in L = ln(R / 1 ohm) (the NTC
                                      ** kinds): bg_model_inv_poly, _basis, _beta_local and
                                      ** _b_pair apply */
+#define BG_MODEL_BASIS_COEF (1u << 4) /* the coefficients are those of the fit's linear basis:
+                                     ** bg_model_from_basis copies them and their covariance
+                                     ** (every kind but beta) */
 
 /* Number of kinds in the table, and kind 'i' (NULL when 'i' is out of range). */
 BG_API size_t bg_model_type_count(void);

@@ -58,10 +58,10 @@ struct qr_lanes {
 };
 
 /* Swap columns 'k' and 'j' of the lanes where best == j (qr_core's pivot swap). */
-BG_INLINE void pivot_swap(double *restrict A, struct qr_lanes *q, const double *best, size_t n,
+BG_INLINE void pivot_swap(double *const *col, struct qr_lanes *q, const double *best, size_t n,
                           size_t k, size_t j)
 {
-    double *restrict ck = A + k * n * LANES, *restrict cj = A + j * n * LANES;
+    double *restrict ck = col[k], *restrict cj = col[j];
     EACH(l) {
         int m = best[l] == (double)j;
         double pk = q->perm[k][l], pj = q->perm[j][l], wk = q->work[k][l], wj = q->work[j][l];
@@ -76,18 +76,16 @@ BG_INLINE void pivot_swap(double *restrict A, struct qr_lanes *q, const double *
         }
 }
 
-/* pivot_swap when every lane takes column 'j'. */
-BG_INLINE void pivot_all(double *restrict A, struct qr_lanes *q, size_t n, size_t k, size_t j)
+/* pivot_swap when every lane takes column 'j': the columns' pointers are exchanged, as
+** qr_core does, not their elements. */
+BG_INLINE void pivot_all(double **col, struct qr_lanes *q, size_t k, size_t j)
 {
-    double *restrict ck = A + k * n * LANES, *restrict cj = A + j * n * LANES;
+    double *c = col[k];
+    col[k] = col[j], col[j] = c;
     EACH(l) {
         double pk = q->perm[k][l], wk = q->work[k][l];
         q->perm[k][l] = q->perm[j][l], q->perm[j][l] = pk;
         q->work[k][l] = q->work[j][l], q->work[j][l] = wk;
-    }
-    for (size_t i = 0; i < n * LANES; i++) {
-        double vk = ck[i];
-        ck[i] = cj[i], cj[i] = vk;
     }
 }
 
@@ -96,7 +94,7 @@ BG_INLINE void pivot_all(double *restrict A, struct qr_lanes *q, size_t n, size_
 ** lane has the same permutation (the usual case) it is applied as indices, without selects. */
 BG_INLINE void unpivot_lanes(const struct qr_lanes *q, size_t p, lane *c, lane *cov)
 {
-    lane cs[MAXB] = { { 0 } };
+    lane cs[MAXB]; /* each set in full below: no zeroing of the array (a string store) */
     size_t pm[MAXB];
     int same = 1;
     for (size_t i = 0; i < p; i++) {
@@ -104,8 +102,12 @@ BG_INLINE void unpivot_lanes(const struct qr_lanes *q, size_t p, lane *c, lane *
         pm[i] = (size_t)q->perm[i][0];
     }
     for (size_t i = 0; i < p; i++)
-        for (size_t col = 0; col < p; col++)
-            EACH(l) cs[i][l] = q->perm[i][l] == (double)col ? q->colscale[col][l] : cs[i][l];
+        EACH(l) {
+            double v = 0.0;
+            for (size_t col = 0; col < p; col++)
+                v = q->perm[i][l] == (double)col ? q->colscale[col][l] : v;
+            cs[i][l] = v;
+        }
     for (size_t i = 0; i < p; i++) {
         lane v;
         EACH(l) v[l] = q->z[i][l] / cs[i][l];
@@ -145,19 +147,22 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
                         double min_rcond, struct qr_lanes *restrict q, lane *c, lane *cov,
                         lane *scale, double *restrict rcond, double *restrict bad)
 {
+    double *col[MAXB]; /* column j of the design: the pivots exchange these */
     EACH(l) bad[l] = 0.0;
+    for (size_t j = 0; j < p; j++)
+        col[j] = A + j * n * LANES;
     for (size_t j = 0; j < p; j++) {
-        double *restrict col = A + j * n * LANES;
+        double *restrict cl = col[j];
         lane s = { 0 }, inv;
         for (size_t i = 0; i < n; i++)
-            EACH(l) s[l] += col[i * LANES + l] * col[i * LANES + l];
+            EACH(l) s[l] += cl[i * LANES + l] * cl[i * LANES + l];
         EACH(l) s[l] = sqrt(s[l]);
         EACH(l) bad[l] = s[l] > 0.0 ? bad[l] : 1.0;
         EACH(l) bad[l] = fabs(s[l]) <= DBL_MAX ? bad[l] : 1.0; /* isfinite, without a call */
         EACH(l) q->colscale[j][l] = s[l], inv[l] = 1.0 / s[l];
         EACH(l) q->perm[j][l] = (double)j, q->work[j][l] = 1.0;
         for (size_t i = 0; i < n; i++)
-            EACH(l) col[i * LANES + l] *= inv[l];
+            EACH(l) cl[i * LANES + l] *= inv[l];
     }
     for (size_t k = 0; k < p; k++) {
         lane best, bw, norm2 = { 0 }, alpha, vtv;
@@ -171,10 +176,10 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
         EACH(l) same &= best[l] == best[0];
         if (!same)
             for (size_t j = k + 1; j < p; j++)
-                pivot_swap(A, q, best, n, k, j);
+                pivot_swap(col, q, best, n, k, j);
         else if ((size_t)best[0] != k) /* every lane pivots alike, the usual case: no selects */
-            pivot_all(A, q, n, k, (size_t)best[0]);
-        double *restrict v = A + k * n * LANES;
+            pivot_all(col, q, k, (size_t)best[0]);
+        double *restrict v = col[k];
         for (size_t i = k; i < n; i++)
             EACH(l) norm2[l] += v[i * LANES + l] * v[i * LANES + l];
         EACH(l) norm2[l] = sqrt(norm2[l]); /* the norm */
@@ -186,7 +191,7 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
             vtv[l] = 2.0 * norm * (norm + fabs(v[k * LANES + l] + alpha[l]));
         }
         for (size_t j = k + 1; j < p; j++) {
-            double *restrict cj = A + j * n * LANES;
+            double *restrict cj = col[j];
             lane d = { 0 }, s2 = { 0 };
             for (size_t i = k; i < n; i++)
                 EACH(l) d[l] += v[i * LANES + l] * cj[i * LANES + l];
@@ -208,7 +213,7 @@ BG_INLINE void qr_lanes(double *restrict A, double *restrict b, size_t n, size_t
     }
     for (size_t i = 0; i < p; i++)
         for (size_t j = 0; j < p; j++)
-            EACH(l) q->R[i * p + j][l] = j >= i ? A[(j * n + i) * LANES + l] : 0.0;
+            EACH(l) q->R[i * p + j][l] = j >= i ? col[j][i * LANES + l] : 0.0;
     EACH(l) {
         double r00 = q->R[0][l];
         rcond[l] = fabs(q->R[(p - 1) * p + (p - 1)][l]) / fabs(r00);
@@ -351,15 +356,79 @@ BG_INLINE void refine_lanes(struct lanes *z, struct qr_lanes *q, const bg_fit_op
 }
 
 
-/* fit.c's fit_statistics and studentize across the lanes: the sums in the same order, the
-** studentized residuals into z->b ([i][l], free once the solve is done); flag[l] becomes 1
-** where a residual exceeds the outlier limit (a note is due: bgi_fit_finish writes it). */
+/* What the finish works out across the lanes (finish_lanes, monotonic_lanes, verdict_lanes)
+** for the per-lane writing (finish_lane). */
 struct fin_lanes {
     lane chi2, ss, mx, tmin, tmax, lmin, lmax, flag, weighted;
+    lane rms;  /* fit_statistics' 1e3 sqrt(ss / n) */
+    lane mono; /* 1 where monotonic_note's test passes (the curve's slope stays positive) */
+    lane red, sc;           /* reduced chi2 and the covariance scale (fit_statistics) */
+    lane scv[MAXB * MAXB];  /* the basis' covariance times sc (fit_coefficients' pcov) */
+    lane fin;               /* 1 where the coefficients and scv are finite */
+    lane ok;                /* 1 where the lane has nothing to remark (verdict_lanes) */
 };
 
+enum { LANE_BATCH, LANE_ALONE, LANE_DONE };
+
+/* A block of LANES probes as the kernel sees it: where their points and results are, what
+** each lane does, and what the kernel leaves for the per-lane finish. */
+struct block {
+    bg_fitter *fr;
+    const bg_fit_opts *o;
+    const bg_point *pts; /* lane l's points: pts[l * n .. l * n + n - 1] */
+    bg_fit *out;         /* lane l's result: out[l] */
+    size_t npar;
+    double log_n;        /* ln n, for the BIC */
+    int mode[LANES];     /* LANE_BATCH, LANE_ALONE or LANE_DONE */
+    int done[LANES];     /* 1 where finish_lane wrote the lane's result */
+    unsigned iters[LANES];
+    unsigned pw[MAXB];   /* the basis' powers */
+    int ident;           /* 1: the model's coefficients are the basis' (BG_MODEL_BASIS_COEF) */
+    int kernel;          /* the kernel that runs (kernel_of) */
+    struct fin_lanes f;
+};
+
+/* fit.c's monotonic_note's test on every lane, with the basis coefficients z->c in power
+** slots: f->mono[l] = 1 when the slope stays positive over the lane's calibrated range (the
+** same points, the same sums in the same order as monotonic_note). */
+BG_INLINE void monotonic_lanes(const struct lanes *z, const bg_fit_opts *o, size_t p,
+                               const unsigned *pw, struct fin_lanes *f)
+{
+    lane a[MAXB], mono; /* each set in full: no zeroing of the array (a string store) */
+    for (size_t kk = 0; kk < MAXB; kk++) {
+        size_t jj = p; /* the column of power kk, or none */
+        for (size_t j = 0; j < p; j++)
+            jj = pw[j] == kk ? j : jj;
+        const double *restrict cj = z->c[jj < p ? jj : 0];
+        double keep = jj < p ? 1.0 : 0.0;
+        EACH(l) {
+            double x = cj[l];
+            a[kk][l] = keep != 0.0 ? x : 0.0;
+        }
+    }
+    int steps = (bg_model_flags(&o->model) & BG_MODEL_SLOPE_MONOTONIC) ? 1 : 64;
+    EACH(l) mono[l] = 1.0;
+    for (int s = 0; s <= steps; s++) {
+        lane L, d, pwr;
+        EACH(l) {
+            L[l] = f->lmin[l] + (f->lmax[l] - f->lmin[l]) * s / (double)steps;
+            d[l] = 0.0, pwr[l] = 1.0;
+        }
+        for (size_t k = 1; k < MAXB; k++) {
+            EACH(l) d[l] += (double)k * a[k][l] * pwr[l];
+            EACH(l) pwr[l] *= L[l];
+        }
+        EACH(l) mono[l] = d[l] > 0.0 ? mono[l] : 0.0;
+    }
+    EACH(l) f->mono[l] = mono[l];
+}
+
+/* fit.c's fit_statistics and studentize across the lanes: the sums in the same order, the
+** studentized residuals into z->b ([i][l], free once the solve is done), then the residuals in
+** mK into z->A; flag[l] becomes 1 where a residual exceeds the outlier limit (a note is due:
+** bgi_fit_finish writes it); and monotonic_lanes. */
 BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, size_t dof,
-                            struct fin_lanes *f)
+                            const unsigned *pw, struct fin_lanes *f)
 {
     size_t n = z->n;
     const double *restrict T = z->t, *restrict tm = z->tm, *restrict U = z->u, *restrict G = z->G;
@@ -413,101 +482,118 @@ BG_INLINE void finish_lanes(struct lanes *z, const bg_fit_opts *o, size_t p, siz
             st[i * LANES + l] = q == q ? rs[i * LANES + l] / sqrt(q) : NAN;
         }
         EACH(l) flag[l] = fabs(st[i * LANES + l]) > limit ? 1.0 : flag[l];
+        /* the residuals in mK as fit_statistics writes them, over the weighted ones (used) */
+        EACH(l) rs[i * LANES + l] = 1e3 * (T[i * LANES + l] - tm[i * LANES + l]);
     }
     EACH(l) {
         f->chi2[l] = chi2[l], f->ss[l] = ss[l], f->mx[l] = mx[l];
         f->tmin[l] = tmin[l], f->tmax[l] = tmax[l], f->flag[l] = flag[l];
         f->lmin[l] = lmin[l], f->lmax[l] = lmax[l];
+        f->rms[l] = 1e3 * sqrt(ss[l] / (double)n);
     }
+    monotonic_lanes(z, o, p, pw, f);
 }
 
-/* fit.c's monotonic_note's test on lane 'l' with the basis coefficients 'a' in power slots:
-** 1 when the slope stays positive over the calibrated range. */
-static int monotonic_lane(const struct fin_lanes *f, size_t l, const bg_fit_opts *o,
-                          const double *a)
+/* What finish_lane decides, across the lanes (after finish_lanes): fit_statistics' reduced chi2
+** and covariance scale (fmax(1, red) as a select: the same for every red, NaN too), the scaled
+** covariance of fit_coefficients, bg_model_check_finite's test on the basis' coefficients and
+** scaled covariance (|x| <= DBL_MAX), and whether a note is due (none: ok[l] = 1): no degrees
+** of freedom, an outlier, a curve not monotonic, chi2 beyond either limit or a limit not yet
+** known (bgi_fit_finish's chi2_notes). */
+BG_INLINE void verdict_lanes(const struct lanes *z, struct block *k, size_t p)
 {
-    double lmin = f->lmin[l], lmax = f->lmax[l];
-    int steps = (bg_model_flags(&o->model) & BG_MODEL_SLOPE_MONOTONIC) ? 1 : 64;
-    for (int s = 0; s <= steps; s++) {
-        double L = lmin + (lmax - lmin) * s / (double)steps, d = 0.0, pwr = 1.0;
-        for (size_t k = 1; k < MAXB; k++, pwr *= L)
-            d += (double)k * a[k] * pwr;
-        if (!(d > 0.0))
+    struct fin_lanes *f = &k->f;
+    const bg_fitter *fr = k->fr;
+    size_t dof = z->n - k->npar;
+    double dd = (double)dof, hi = dof < NCRIT ? fr->crit[dof] : 0.0;
+    double lo = dof < NCRIT ? fr->crit_lo[dof] : 0.0, big = DBL_MAX;
+    int known = dof > 0 && hi != 0.0 && lo != 0.0, dof_ok = dof > 0, inflate = k->o->inflate;
+    lane fin;
+    EACH(l) {
+        double chi2 = f->chi2[l], red = chi2 / dd;
+        int wt = f->weighted[l] != 0.0;
+        f->red[l] = red;
+        f->sc[l] = wt ? (inflate ? (red > 1.0 ? red : 1.0) : 1.0) : red;
+        int lim = (!wt) | (known & !(chi2 > hi) & !(chi2 < lo));
+        f->ok[l] = (dof_ok & (f->flag[l] == 0.0) & (f->mono[l] != 0.0) & lim) ? 1.0 : 0.0;
+        fin[l] = 1.0;
+    }
+    for (size_t j = 0; j < p; j++)
+        EACH(l) fin[l] = fabs(z->c[j][l]) <= big ? fin[l] : 0.0;
+    for (size_t i = 0; i < p * p; i++)
+        EACH(l) {
+            double v = z->cov[i][l] * f->sc[l];
+            f->scv[i][l] = v;
+            fin[l] = fabs(v) <= big ? fin[l] : 0.0;
+        }
+    EACH(l) f->fin[l] = fin[l];
+}
+
+/* Lane 'l''s results into 'out' exactly as bgi_fit_finish writes them, when it has nothing to
+** remark (verdict_lanes), with 'nb' (the basis' size) a constant where inlined, so that its
+** loops unroll.  Inside the kernel (compiled for each target), so that the covariances' zeroing
+** memsets become vector stores where the target has them; the result is written in the order
+** of its fields from the lanes and never read back (loads just after a store of other width
+** wait for it).  Returns 0 when a note or an error is due: then bgi_fit_finish does the lane
+** over and says so. */
+BG_INLINE int finish_lane(const struct lanes *z, const struct block *k, size_t l, size_t nb)
+{
+    const struct fin_lanes *f = &k->f;
+    size_t n = z->n, npar = k->npar, dof = n - npar, np2 = npar * npar;
+    if (f->ok[l] == 0.0 || (k->ident && f->fin[l] == 0.0))
+        return 0;
+    bg_fit *out = &k->out[l];
+    double chi2 = f->chi2[l], sc = f->sc[l];
+    out->model = k->o->model;
+    if (k->ident) { /* npar = nb: fit_coefficients' copy, then the scale */
+        for (size_t j = 0; j < nb; j++)
+            out->model.coef[j] = z->c[j][l];
+        memset(out->cov, 0, sizeof out->cov);
+        for (size_t i = 0; i < nb * nb; i++)
+            out->cov[i] = f->scv[i][l];
+    } else { /* bg_model_from_basis, then the scale and bg_model_check_finite's test */
+        double c[MAXB], cv[MAXB * MAXB], cm[MAXB * MAXB];
+        int finite = 1;
+        for (size_t j = 0; j < nb; j++)
+            c[j] = z->c[j][l];
+        for (size_t i = 0; i < nb * nb; i++)
+            cv[i] = z->cov[i][l];
+        bg_model_from_basis(&out->model, c, cv, cm); /* coef[0 .. npar), cm[0 .. npar^2) */
+        for (size_t i = 0; i < np2; i++) {
+            cm[i] *= sc;
+            finite &= fabs(cm[i]) <= DBL_MAX;
+        }
+        for (size_t j = 0; j < npar; j++)
+            finite &= fabs(out->model.coef[j]) <= DBL_MAX;
+        if (!finite)
             return 0;
+        for (size_t i = 0; i < MAXB * MAXB; i++)
+            out->cov[i] = i < np2 ? cm[i] : 0.0;
+    }
+    for (size_t j = npar; j < MAXB; j++)
+        out->model.coef[j] = 0.0;
+    out->n = n, out->npar = npar, out->dof = dof, out->weighted = f->weighted[l] != 0.0;
+    memset(out->pcov, 0, sizeof out->pcov);
+    for (size_t a = 0; a < nb; a++)
+        for (size_t b = 0; b < nb; b++)
+            out->pcov[k->pw[a] * MAXB + k->pw[b]] = f->scv[a * nb + b][l]; /* cv sc */
+    double dn = (double)n, kp = (double)npar, ss = f->ss[l];
+    double m2ll = out->weighted ? chi2 : dn * log(fmax(ss, dn * 1e-18) / dn);
+    out->chi2 = chi2, out->reduced_chi2 = f->red[l], out->p_value = NAN, out->cov_scale = sc;
+    out->rms_mk = f->rms[l], out->max_abs_mk = 1e3 * f->mx[l];
+    out->aic = m2ll + 2.0 * kp, out->bic = m2ll + kp * k->log_n;
+    out->rcond = z->rcond[l];
+    out->t_min_k = f->tmin[l], out->t_max_k = f->tmax[l];
+    out->iterations = k->iters[l];
+    const bg_point *pts = k->pts + l * n;
+    double *restrict rm = out->resid_mk, *restrict st = out->student, *restrict uk = out->u_k;
+    size_t *restrict ln = out->line;
+    for (size_t i = 0; i < n; i++) {
+        rm[i] = z->A[i * LANES + l], st[i] = z->b[i * LANES + l];
+        uk[i] = z->u[i * LANES + l], ln[i] = pts[i].line;
     }
     return 1;
 }
-
-/* What finish_lane needs besides the lane. */
-struct fin_job {
-    bg_fitter *fr;
-    const struct lanes *z;
-    const struct fin_lanes *f;
-    const bg_fit_opts *o;
-    const unsigned *pw;
-    size_t npar;
-    double log_n; /* ln n, for the BIC */
-};
-
-/* Lane 'l''s results into 'out' exactly as bgi_fit_finish writes them, when it has nothing to
-** remark.  Returns 0 when a note or an error is due (no degrees of freedom, an outlier, chi2
-** beyond a limit or a limit not yet known, a non-finite result, a curve not monotonic): then
-** bgi_fit_finish does the lane over and says so. */
-static int finish_lane(const struct fin_job *fj, size_t l, const bg_point *pts, unsigned iters,
-                       bg_fit *out)
-{
-    const struct lanes *z = fj->z;
-    const bg_fitter *fr = fj->fr;
-    const bg_fit_opts *o = fj->o;
-    size_t n = z->n, nb = z->nb, dof = n - fj->npar;
-    double chi2 = fj->f->chi2[l], ss = fj->f->ss[l], c[MAXB], cv[MAXB * MAXB], a[MAXB];
-    int weighted = fj->f->weighted[l] != 0.0;
-    if (dof == 0 || fj->f->flag[l] != 0.0)
-        return 0;
-    if (weighted && (dof >= NCRIT || fr->crit[dof] == 0.0 || fr->crit_lo[dof] == 0.0 ||
-                     chi2 > fr->crit[dof] || chi2 < fr->crit_lo[dof]))
-        return 0;
-    out->model = o->model;
-    out->n = n, out->npar = fj->npar, out->dof = dof, out->weighted = weighted;
-    out->iterations = iters, out->rcond = z->rcond[l];
-    for (size_t i = 0; i < n; i++) {
-        out->resid_mk[i] = 1e3 * (pts[i].t_k - z->tm[i * LANES + l]);
-        out->u_k[i] = z->u[i * LANES + l], out->line[i] = pts[i].line;
-        out->student[i] = z->b[i * LANES + l];
-    }
-    out->chi2 = chi2, out->t_min_k = fj->f->tmin[l], out->t_max_k = fj->f->tmax[l];
-    out->rms_mk = 1e3 * sqrt(ss / (double)n), out->max_abs_mk = 1e3 * fj->f->mx[l];
-    out->reduced_chi2 = chi2 / (double)dof, out->p_value = NAN;
-    out->cov_scale = weighted ? (o->inflate ? fmax(1.0, out->reduced_chi2) : 1.0)
-                              : out->reduced_chi2;
-    double dn = (double)n, k = (double)out->npar;
-    double m2ll = weighted ? chi2 : dn * log(fmax(ss, dn * 1e-18) / dn);
-    out->aic = m2ll + 2.0 * k, out->bic = m2ll + k * fj->log_n;
-    /* fit.c's fit_coefficients */
-    memset(a, 0, sizeof a);
-    for (size_t j = 0; j < nb; j++)
-        c[j] = z->c[j][l], a[fj->pw[j]] = c[j];
-    for (size_t i = 0; i < nb * nb; i++)
-        cv[i] = z->cov[i][l];
-    /* in locals: a store into out->cov could, for the compiler, change out->npar */
-    double sc = out->cov_scale, *pcov = out->pcov, *cov = out->cov;
-    size_t npar = fj->npar;
-    memset(pcov, 0, sizeof out->pcov);
-    memset(cov, 0, sizeof out->cov);
-    for (size_t i = 0; i < nb; i++)
-        for (size_t j = 0; j < nb; j++)
-            pcov[fj->pw[i] * MAXB + fj->pw[j]] = cv[i * nb + j] * sc;
-    bg_model_from_basis(&out->model, c, cv, cov);
-    for (size_t i = 0; i < npar * npar; i++)
-        cov[i] *= sc;
-    for (size_t j = npar; j < MAXB; j++)
-        out->model.coef[j] = 0.0;
-    if (bg_model_check_finite(&out->model, out->cov, NULL) != BG_OK)
-        return 0;
-    return monotonic_lane(fj->f, l, o, a);
-}
-
-enum { LANE_BATCH, LANE_ALONE, LANE_DONE };
 
 /* Room for the lanes of 'n' points and 'nb' columns in the fitter's batch area. */
 static int batch_reserve(bg_fitter *fr, size_t n, size_t nb)
@@ -524,15 +610,17 @@ static int batch_reserve(bg_fitter *fr, size_t n, size_t nb)
 
 /* The readings of the probes p0 .. p0 + m - 1 (m <= LANES) into the lanes as they are: T into
 ** z->t, R into z->L, u(T) into z->u, u(R) into z->tm; a lane past 'm' carries lane 0's. */
-static void gather_lanes(struct lanes *z, const bg_point *pts, size_t p0, size_t m)
+BG_INLINE void gather_lanes(struct lanes *z, const bg_point *pts, size_t p0, size_t m)
 {
     size_t n = z->n;
-    for (size_t l = 0; l < LANES; l++) {
-        const bg_point *pp = pts + (p0 + (l < m ? l : 0)) * n;
-        for (size_t i = 0; i < n; i++) {
-            z->t[i * LANES + l] = pp[i].t_k, z->L[i * LANES + l] = pp[i].r_ohm;
-            z->u[i * LANES + l] = pp[i].u_t_k, z->tm[i * LANES + l] = pp[i].u_r_ohm;
-        }
+    const bg_point *pp[LANES];
+    for (size_t l = 0; l < LANES; l++)
+        pp[l] = pts + (p0 + (l < m ? l : 0)) * n;
+    for (size_t i = 0; i < n; i++) { /* each lane vector stored whole: check_lanes loads them */
+        EACH(l) z->t[i * LANES + l] = pp[l][i].t_k;
+        EACH(l) z->L[i * LANES + l] = pp[l][i].r_ohm;
+        EACH(l) z->u[i * LANES + l] = pp[l][i].u_t_k;
+        EACH(l) z->tm[i * LANES + l] = pp[l][i].u_r_ohm;
     }
 }
 
@@ -543,8 +631,8 @@ static void gather_lanes(struct lanes *z, const bg_point *pts, size_t p0, size_t
 ** compares with is the one before), R falling at every step, u(T) stated on every reading or
 ** on none.  ok[l] = 1 where lane l passes, has_u[l] = 1 where it states u(T); a lane that does
 ** not pass goes through quick_check and bgi_fit_check, which decide it as before. */
-static void check_lanes(const struct lanes *z, const bg_fit_opts *o, double *restrict ok,
-                        double *restrict has_u)
+BG_INLINE void check_lanes(const struct lanes *z, const bg_fit_opts *o, double *restrict ok,
+                       double *restrict has_u)
 {
     size_t n = z->n;
     const double *restrict T = z->t, *restrict R = z->L, *restrict UT = z->u, *restrict UR = z->tm;
@@ -661,40 +749,57 @@ BG_INLINE void fit_lanes(struct lanes *z, const bg_fit_opts *o, int *mode, unsig
             mode[l] = LANE_ALONE;
 }
 
-/* The numerical work of a block: fit_lanes, then finish_lanes on the lanes.  Compiled twice:
-** as portable C11, and, where GCC or Clang target x86, once more for AVX2 (4 lanes to a vector
-** instead of SSE2's 2), chosen at run time by what the processor runs.  Both do the same
-** operations in the same order on each lane (AVX2 does not bring FMA, and ISO C mode does
-** not contract), so they give the same numbers; the tests run both. */
-BG_INLINE void kernel_body(struct lanes *z, const bg_fit_opts *o, int *mode, unsigned *iters,
-                           struct fin_lanes *f)
+/* finish_lane on every lane the batch fitted, into k->done. */
+BG_INLINE void finish_each(const struct lanes *z, struct block *k, size_t nb)
 {
-    size_t dof = z->n - bg_model_npar(&o->model);
-    unsigned pw[MAXB];
-    bg_model_basis(&o->model, pw);
-    basis_lanes(z, f->weighted, pw);
-    fit_lanes(z, o, mode, iters);
+    for (size_t l = 0; l < LANES; l++)
+        k->done[l] = k->mode[l] == LANE_BATCH && finish_lane(z, k, l, nb);
+}
+
+/* The numerical work of a block: fit_lanes, then finish_lanes on the lanes, and the results of
+** the lanes with nothing to remark written.  Compiled three times: as portable C11, and, where
+** GCC or Clang target x86, once more for AVX2 and once for AVX-512 (4 or 8 lanes to a vector
+** instead of SSE2's 2), chosen at run time by what the processor runs.  All do the same
+** operations in the same order on each lane (neither brings FMA into use: ISO C mode does not
+** contract), so they give the same numbers; the tests run each. */
+BG_INLINE void kernel_body(struct lanes *z, struct block *k)
+{
+    size_t dof = z->n - k->npar;
+    basis_lanes(z, k->f.weighted, k->pw);
+    fit_lanes(z, k->o, k->mode, k->iters);
     switch (z->nb) { /* the column count as a constant, so that the loops over it unroll */
-    case 2: finish_lanes(z, o, 2, dof, f); break;
-    case 3: finish_lanes(z, o, 3, dof, f); break;
-    case 4: finish_lanes(z, o, 4, dof, f); break;
-    default: finish_lanes(z, o, z->nb, dof, f);
+    case 2:
+        finish_lanes(z, k->o, 2, dof, k->pw, &k->f);
+        verdict_lanes(z, k, 2);
+        finish_each(z, k, 2);
+        break;
+    case 3:
+        finish_lanes(z, k->o, 3, dof, k->pw, &k->f);
+        verdict_lanes(z, k, 3);
+        finish_each(z, k, 3);
+        break;
+    case 4:
+        finish_lanes(z, k->o, 4, dof, k->pw, &k->f);
+        verdict_lanes(z, k, 4);
+        finish_each(z, k, 4);
+        break;
+    default:
+        finish_lanes(z, k->o, z->nb, dof, k->pw, &k->f);
+        verdict_lanes(z, k, z->nb);
+        finish_each(z, k, z->nb);
     }
 }
 
-static void kernel_portable(struct lanes *z, const bg_fit_opts *o, int *mode, unsigned *iters,
-                            struct fin_lanes *f)
+static void kernel_portable(struct lanes *z, struct block *k)
 {
-    kernel_body(z, o, mode, iters, f);
+    kernel_body(z, k);
 }
 
 #if defined(__GNUC__) && (defined(__x86_64__) || defined(__i386__))
 #define BG_HAVE_AVX2 1
-__attribute__((target("avx2"))) static void kernel_avx2(struct lanes *z, const bg_fit_opts *o,
-                                                        int *mode, unsigned *iters,
-                                                        struct fin_lanes *f)
+__attribute__((target("avx2"))) static void kernel_avx2(struct lanes *z, struct block *k)
 {
-    kernel_body(z, o, mode, iters, f);
+    kernel_body(z, k);
 }
 
 #define BG_HAVE_AVX512 1
@@ -703,11 +808,37 @@ __attribute__((target("avx2"))) static void kernel_avx2(struct lanes *z, const b
 #else
 #define BG_AVX512_TARGET "avx512f,prefer-vector-width=512"
 #endif
-__attribute__((target(BG_AVX512_TARGET))) static void
-kernel_avx512(struct lanes *z, const bg_fit_opts *o, int *mode, unsigned *iters,
-              struct fin_lanes *f)
+__attribute__((target(BG_AVX512_TARGET))) static void kernel_avx512(struct lanes *z,
+                                                                    struct block *k)
 {
-    kernel_body(z, o, mode, iters, f);
+    kernel_body(z, k);
+}
+#endif
+
+/* gather_lanes and check_lanes, compiled for each target as the kernels are. */
+static void intake_portable(struct lanes *z, const bg_point *pts, size_t p0, size_t m,
+                            const bg_fit_opts *o, double *ok, double *has_u)
+{
+    gather_lanes(z, pts, p0, m);
+    check_lanes(z, o, ok, has_u);
+}
+
+#ifdef BG_HAVE_AVX2
+__attribute__((target("avx2"))) static void intake_avx2(struct lanes *z, const bg_point *pts,
+                                                        size_t p0, size_t m,
+                                                        const bg_fit_opts *o, double *ok,
+                                                        double *has_u)
+{
+    gather_lanes(z, pts, p0, m);
+    check_lanes(z, o, ok, has_u);
+}
+
+__attribute__((target(BG_AVX512_TARGET))) static void
+intake_avx512(struct lanes *z, const bg_point *pts, size_t p0, size_t m, const bg_fit_opts *o,
+              double *ok, double *has_u)
+{
+    gather_lanes(z, pts, p0, m);
+    check_lanes(z, o, ok, has_u);
 }
 #endif
 
@@ -728,25 +859,30 @@ int bgi_batch_kernel_usable(int kernel)
 
 /* The kernel 'fr->batch_kernel' asks for, or by the processor when BGI_KERNEL_AUTO (one the
 ** processor cannot run counts as BGI_KERNEL_PORTABLE). */
-static void run_kernel(const bg_fitter *fr, struct lanes *z, const bg_fit_opts *o, int *mode,
-                       unsigned *iters, struct fin_lanes *f)
+static int kernel_of(const bg_fitter *fr)
 {
 #ifdef BG_HAVE_AVX2
-    int k = fr->batch_kernel;
-    if (k == BGI_KERNEL_AUTO)
-        k = bgi_batch_kernel_usable(BGI_KERNEL_AVX512) ? BGI_KERNEL_AVX512 : BGI_KERNEL_AVX2;
-    if (k == BGI_KERNEL_AVX512 && bgi_batch_kernel_usable(BGI_KERNEL_AVX512)) {
-        kernel_avx512(z, o, mode, iters, f);
-        return;
-    }
-    if (k == BGI_KERNEL_AVX2 && bgi_batch_kernel_usable(BGI_KERNEL_AVX2)) {
-        kernel_avx2(z, o, mode, iters, f);
-        return;
-    }
+    int kn = fr->batch_kernel;
+    if (kn == BGI_KERNEL_AUTO)
+        kn = bgi_batch_kernel_usable(BGI_KERNEL_AVX512) ? BGI_KERNEL_AVX512 : BGI_KERNEL_AVX2;
+    if ((kn == BGI_KERNEL_AVX512 || kn == BGI_KERNEL_AVX2) && bgi_batch_kernel_usable(kn))
+        return kn;
 #else
     (void)fr;
 #endif
-    kernel_portable(z, o, mode, iters, f);
+    return BGI_KERNEL_PORTABLE;
+}
+
+/* The kernel k->kernel (kernel_of). */
+static void run_kernel(struct lanes *z, struct block *k)
+{
+    switch (k->kernel) {
+#ifdef BG_HAVE_AVX2
+    case BGI_KERNEL_AVX512: kernel_avx512(z, k); break;
+    case BGI_KERNEL_AVX2: kernel_avx2(z, k); break;
+#endif
+    default: kernel_portable(z, k);
+    }
 }
 
 /* Room for 'n' points in 'f' (as fit.c's fit_reserve: the result's arrays grow, never shrink). */
@@ -817,25 +953,21 @@ struct batch_job {
     bg_error *errs;
 };
 
-/* The finish of the lanes fitted here (fit_lanes done): across the lanes, then per lane into
-** its result; a lane with something to remark goes through bgi_fit_finish. */
-static void finish_block(bg_fitter *fr, struct lanes *z, const struct batch_job *jb, size_t p0,
-                         const int *mode, const int *weighted, const unsigned *iters,
-                         const struct fin_lanes *f)
+/* The lanes fitted here that the kernel did not finish (something to remark): through
+** bgi_fit_finish, which writes the notes. */
+static void finish_block(struct lanes *z, const struct block *k, const struct batch_job *jb,
+                         size_t p0, const int *weighted)
 {
-    unsigned pw[MAXB];
-    size_t npar = bg_model_npar(&jb->o->model), n = z->n;
+    size_t n = z->n;
     bg_fit_opts op = *jb->o;
-    bg_model_basis(&op.model, pw);
-    struct fin_job fj = { fr, z, f, jb->o, pw, npar, log((double)n) };
     for (size_t l = 0; l < LANES; l++) {
         size_t p = p0 + l;
-        if (mode[l] != LANE_BATCH || finish_lane(&fj, l, jb->pts + p * n, iters[l], &jb->out[p]))
+        if (k->mode[l] != LANE_BATCH || k->done[l])
             continue;
-        struct bgi_solution sol = { .iters = iters[l], .weighted = weighted[l] };
+        struct bgi_solution sol = { .iters = k->iters[l], .weighted = weighted[l] };
         op.source = jb->sources ? jb->sources[p] : jb->o->source;
-        unload_lane(fr, z, l, &sol.lf);
-        bgi_fit_finish(fr, jb->pts + p * n, n, &op, &sol, &jb->out[p], &jb->errs[p]);
+        unload_lane(k->fr, z, l, &sol.lf);
+        bgi_fit_finish(k->fr, jb->pts + p * n, n, &op, &sol, &jb->out[p], &jb->errs[p]);
     }
 }
 
@@ -843,21 +975,30 @@ static void finish_block(bg_fitter *fr, struct lanes *z, const struct batch_job 
 static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size_t m)
 {
     struct lanes z;
-    unsigned pw[MAXB], iters[LANES];
-    int mode[LANES], weighted[LANES] = { 0 };
+    struct block k;
+    int weighted[LANES] = { 0 };
     size_t first = LANES, n = jb->n;
     const bg_point *pts = jb->pts;
     bg_fit_opts op = *jb->o;
     size_t npar = bg_model_npar(&op.model);
+    int *mode = k.mode;
 
     lane ok, has_u;
     double *v = fr->batch;
-    z.n = n, z.nb = bg_model_basis(&op.model, pw);
+    k.fr = fr, k.o = jb->o, k.pts = pts + p0 * n, k.out = jb->out + p0, k.npar = npar;
+    k.log_n = log((double)n), k.kernel = kernel_of(fr);
+    z.n = n, z.nb = bg_model_basis(&op.model, k.pw);
+    k.ident = (bg_model_flags(&op.model) & BG_MODEL_BASIS_COEF) && npar == z.nb;
     z.t = v, z.u = v + n * LANES, z.L = v + 2 * n * LANES, z.tm = v + 3 * n * LANES;
     z.b = v + 4 * n * LANES, z.G = v + 5 * n * LANES, z.A = z.G + z.nb * n * LANES;
     z.r = z.A + z.nb * n * LANES;
-    gather_lanes(&z, pts, p0, m);
-    check_lanes(&z, &op, ok, has_u);
+    switch (k.kernel) {
+#ifdef BG_HAVE_AVX2
+    case BGI_KERNEL_AVX512: intake_avx512(&z, pts, p0, m, &op, ok, has_u); break;
+    case BGI_KERNEL_AVX2: intake_avx2(&z, pts, p0, m, &op, ok, has_u); break;
+#endif
+    default: intake_portable(&z, pts, p0, m, &op, ok, has_u);
+    }
     for (size_t l = 0; l < LANES; l++) {
         size_t p = p0 + l;
         mode[l] = LANE_DONE;
@@ -884,10 +1025,9 @@ static void fit_block(bg_fitter *fr, const struct batch_job *jb, size_t p0, size
             first = l;
     }
     if (first < LANES) {
-        struct fin_lanes f;
-        load_lanes(&z, mode, weighted, first, f.weighted);
-        run_kernel(fr, &z, jb->o, mode, iters, &f);
-        finish_block(fr, &z, jb, p0, mode, weighted, iters, &f);
+        load_lanes(&z, mode, weighted, first, k.f.weighted);
+        run_kernel(&z, &k);
+        finish_block(&z, &k, jb, p0, weighted);
     }
     for (size_t l = 0; l < m; l++) {
         size_t p = p0 + l;

@@ -64,7 +64,8 @@ const char *bg_model_formula(const bg_model *m)
 unsigned bg_model_flags(const bg_model *m)
 {
     const bg_model_type *t = type_of(m);
-    return t->flags | (t->inv_poly ? BG_MODEL_INV_POLY : 0u);
+    return t->flags | (t->inv_poly ? BG_MODEL_INV_POLY : 0u) |
+           (t->from_basis ? 0u : BG_MODEL_BASIS_COEF);
 }
 
 int bg_model_parse(const char *name, bg_model *m, bg_error *err)
