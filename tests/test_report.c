@@ -7,6 +7,7 @@
 
 #include "testutil.h"
 #include "../src/lib/report/html_int.h"
+#include "../src/lib/report/report_int.h"
 
 static const char *hostile = "<img src=x onerror=1>";
 static const char *hostile_esc = "&lt;img src=x onerror=1&gt;";
@@ -391,6 +392,36 @@ static void numbers_as_printf(void **state)
     assert_int_equal(bad, 0);
 }
 
+/* The page a report is written into keeps every byte in order as it grows past the sizes at
+** which it changes how it grows (64 KiB, the 4 MiB of the huge-page path): 24 MB written in
+** pieces of varying length, read back whole and NUL-terminated. */
+static void page_grows_whole(void **state)
+{
+    (void)state;
+    struct bgi_page page;
+    FILE *f = bgi_page_open(&page);
+    assert_non_null(f);
+    size_t want = 0, piece = 1;
+    while (want < ((size_t)24 << 20)) {
+        for (size_t i = 0; i < piece; i++)
+            fputc('a' + (int)((want + i) % 26), f);
+        want += piece;
+        piece = piece * 7 % 100003 + 1;
+    }
+    fprintf(f, "%s", "end");
+    want += 3;
+    assert_int_equal(fclose(f), 0);
+    assert_false(page.oom);
+    assert_int_equal(page.len, want);
+    assert_int_equal(page.buf[page.len], '\0');
+    size_t bad = 0;
+    for (size_t i = 0; i + 3 < want; i++)
+        bad += page.buf[i] != 'a' + (int)(i % 26);
+    assert_int_equal(bad, 0);
+    assert_memory_equal(page.buf + want - 3, "end", 3);
+    free(page.buf);
+}
+
 static void lot_report(void **state)
 {
     (void)state;
@@ -581,6 +612,7 @@ int main(void)
         cmocka_unit_test(calibration_report_absurd_range),
         cmocka_unit_test(chain_head_escaped),
         cmocka_unit_test(numbers_as_printf),
+        cmocka_unit_test(page_grows_whole),
         cmocka_unit_test(lot_report),
         cmocka_unit_test(table_report),
         cmocka_unit_test(table_report_24_bits),

@@ -6,6 +6,8 @@
 #include <sys/mman.h>
 #endif
 #include <stdint.h>
+#include <stdlib.h>
+#include <string.h>
 #include <unistd.h>
 
 #include "mem_int.h"
@@ -27,4 +29,22 @@ void bgi_mem_hint_huge(void *p, size_t bytes)
 #else
     (void)p, (void)bytes;
 #endif
+}
+
+void *bgi_mem_grow(void *p, size_t used, size_t bytes)
+{
+#if defined(__linux__) && defined(MADV_HUGEPAGE)
+    if (bytes >= HINT_MIN_BYTES) {
+        void *n = malloc(bytes);
+        if (!n)
+            return NULL;
+        bgi_mem_hint_huge(n, bytes);
+        if (p && used)
+            memcpy(n, p, used);
+        free(p);
+        return n;
+    }
+#endif
+    (void)used;
+    return realloc(p, bytes);
 }

@@ -9,6 +9,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "../core/mem_int.h"
 #include "qa_int.h"
 
 /* The newest fit of each probe, collected in buffers that grow. */
@@ -23,10 +24,11 @@ static int grow(struct latest *d)
 {
     bg_qa_lot *l = d->l;
     size_t cap = d->cap ? 2 * d->cap : 64;
-    char (*s)[BG_TEXT] = realloc(l->serial, cap * sizeof *s);
+    /* a lot of 100,000 probes holds some 100 MB here: in huge pages where the system can */
+    char (*s)[BG_TEXT] = bgi_mem_grow(l->serial, l->n * sizeof *s, cap * sizeof *s);
     if (s)
         l->serial = s;
-    bg_fit_row *f = realloc(d->fit, cap * sizeof *f);
+    bg_fit_row *f = bgi_mem_grow(d->fit, l->n * sizeof *f, cap * sizeof *f);
     if (f)
         d->fit = f;
     if (!s || !f)

@@ -32,17 +32,19 @@ const bg_report_kind *bg_report_kind_find(const char *name)
 int bg_report_render(const bg_report_kind *kind, const void *result, const bg_report_head *head,
                      char **html, size_t *len, bg_error *err)
 {
+    struct bgi_page page;
     *html = NULL, *len = 0;
-    FILE *f = open_memstream(html, len);
+    FILE *f = bgi_page_open(&page);
     if (!f)
         return bg_error_set(err, BG_ENOMEM, "out of memory for the report");
     int rc = kind->generate(result, head, f, err);
-    if (fclose(f) != 0 && rc == BG_OK)
+    if ((fclose(f) != 0 || page.oom) && rc == BG_OK)
         rc = bg_error_set(err, BG_ENOMEM, "out of memory for the report");
     if (rc != BG_OK) {
-        free(*html);
-        *html = NULL, *len = 0;
+        free(page.buf);
+        return rc;
     }
+    *html = page.buf, *len = page.len;
     return rc;
 }
 

@@ -20,4 +20,14 @@ void bgi_report_kv(FILE *f, const char *k, const char *v);
 void bgi_report_begin(FILE *f, const bg_report_kind *k, const bg_report_head *h, char *rid,
                       size_t rid_size);
 
+/* The page a report is written into (page.c): bgi_page_open gives a FILE that writes into
+** '*p' (set up by the call); after fclose, p->buf holds p->len bytes and a NUL (the caller
+** frees it; NULL when the page could not be opened), and p->oom says the memory ran out. */
+struct bgi_page {
+    char *buf;
+    size_t len, cap;
+    int oom;
+};
+FILE *bgi_page_open(struct bgi_page *p);
+
 #endif
