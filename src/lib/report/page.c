@@ -1,9 +1,9 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later (see LICENSE) */
 /* The page a report is written into: a FILE whose bytes grow in one block.  With the GNU C
 ** library the block is the module's own (fopencookie): it doubles, in huge pages where the
-** system gives them (bgi_mem_grow).  Elsewhere it is open_memstream, whose growth copies the page into a
-** new block each time and touches every new 4 KiB page once more: for the report of a lot of
-** 100,000 probes, about 100 MB, that was some 80,000 page faults. */
+** system gives them (bgi_mem_grow).  Elsewhere it is open_memstream, whose growth copies the
+** page into a new block each time and touches every new 4 KiB page once more: for the report
+** of a lot of 100,000 probes, about 100 MB, that was some 80,000 page faults. */
 #define _GNU_SOURCE 1 /* fopencookie is a GNU extension, not POSIX */
 #include <stdint.h>
 #include <stdio.h>

@@ -57,12 +57,17 @@ void bgi_chain_real(struct bgi_sha256 *h, const char *name, double v)
     bgi_sha256_update(h, buf, (size_t)len);
 }
 
-void bgi_chain_bytes(struct bgi_sha256 *h, const char *name, int text, const void *p, size_t n)
+void bgi_chain_bytes_head(struct bgi_sha256 *h, const char *name, int text, size_t n)
 {
     char buf[40];
     int len = snprintf(buf, sizeof buf, "%c%zu:", text ? 't' : 'b', n);
     bgi_sha256_update(h, name, strlen(name) + 1);
     bgi_sha256_update(h, buf, (size_t)len);
+}
+
+void bgi_chain_bytes(struct bgi_sha256 *h, const char *name, int text, const void *p, size_t n)
+{
+    bgi_chain_bytes_head(h, name, text, n);
     if (n > 0)
         bgi_sha256_update(h, p, n);
     bgi_sha256_update(h, "\n", 1);

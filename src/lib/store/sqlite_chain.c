@@ -38,8 +38,54 @@ static void name_order(sqlite3_stmt *q, int *order, int n)
     }
 }
 
-/* The current row of 'q', canonically encoded, into the hash (chain.c). */
-static void put_row(struct bgi_sha256 *h, sqlite3_stmt *q, const int *order, int n)
+/* A column hashed from the table rather than from the statement: an issued report's content,
+** which can be a hundred megabytes.  The statement selects typeof(content) in its place
+** (SQLite does not load a value for typeof), and the bytes are read in pieces through the
+** incremental blob interface, so hashing a report never holds it whole. */
+struct streamed {
+    sqlite3 *db;
+    const char *table, *column;
+    long long rowid;
+};
+
+static int hash_streamed(struct bgi_sha256 *h, const struct streamed *sc, const char *type,
+                         bg_error *err)
+{
+    if (strcmp(type, "blob") != 0 && strcmp(type, "text") != 0)
+        return bg_error_set(err, BG_EINVAL, "%s %lld: its %s is of type %s, which the schema "
+                            "does not allow", sc->table, sc->rowid, sc->column, type);
+    sqlite3_blob *b = NULL;
+    if (sqlite3_blob_open(sc->db, "main", sc->table, sc->column, sc->rowid, 0, &b) != SQLITE_OK) {
+        sqlite3_blob_close(b);
+        return bg_error_set(err, BG_EIO, "cannot read %s %lld's %s: %s", sc->table, sc->rowid,
+                            sc->column, sqlite3_errmsg(sc->db));
+    }
+    int n = sqlite3_blob_bytes(b), rc = BG_OK;
+    enum { PIECE = 1 << 18 };
+    unsigned char *buf = malloc(PIECE);
+    if (!buf)
+        rc = bg_error_set(err, BG_ENOMEM, "out of memory reading %s %lld", sc->table, sc->rowid);
+    else
+        bgi_chain_bytes_head(h, sc->column, strcmp(type, "text") == 0, (size_t)n);
+    for (int at = 0; rc == BG_OK && at < n; at += PIECE) {
+        int len = n - at < PIECE ? n - at : PIECE;
+        if (sqlite3_blob_read(b, buf, len, at) != SQLITE_OK)
+            rc = bg_error_set(err, BG_EIO, "cannot read %s %lld's %s: %s", sc->table,
+                              sc->rowid, sc->column, sqlite3_errmsg(sc->db));
+        else
+            bgi_sha256_update(h, buf, (size_t)len);
+    }
+    if (rc == BG_OK)
+        bgi_sha256_update(h, "\n", 1);
+    free(buf);
+    sqlite3_blob_close(b);
+    return rc;
+}
+
+/* The current row of 'q', canonically encoded, into the hash (chain.c); the column named
+** sc->column (sc not NULL) from the table (hash_streamed). */
+static int put_row(struct bgi_sha256 *h, sqlite3_stmt *q, const int *order, int n,
+                   const struct streamed *sc, bg_error *err)
 {
     for (int k = 0; k < n; k++) {
         int i = order[k];
@@ -47,7 +93,13 @@ static void put_row(struct bgi_sha256 *h, sqlite3_stmt *q, const int *order, int
         if (type == SQLITE_NULL)
             continue;
         const char *name = sqlite3_column_name(q, i);
-        if (type == SQLITE_INTEGER)
+        if (sc && strcmp(name, sc->column) == 0) {
+            const char *t = (const char *)sqlite3_column_text(q, i);
+            int rc = strcmp(t ? t : "null", "null") == 0 ? BG_OK
+                                                         : hash_streamed(h, sc, t, err);
+            if (rc != BG_OK)
+                return rc;
+        } else if (type == SQLITE_INTEGER)
             bgi_chain_int(h, name, (long long)sqlite3_column_int64(q, i));
         else if (type == SQLITE_FLOAT)
             bgi_chain_real(h, name, sqlite3_column_double(q, i));
@@ -58,6 +110,31 @@ static void put_row(struct bgi_sha256 *h, sqlite3_stmt *q, const int *order, int
             bgi_chain_bytes(h, name, type == SQLITE_TEXT, p, (size_t)nb);
         }
     }
+    return BG_OK;
+}
+
+/* The statement over one row of table 'k' (its SQL into 'sql'): every column, except that an
+** artifact's content is typeof(content) under the same name (hash_streamed reads it). */
+static int row_sql(bgi_conn *c, int k, char *sql, size_t size, bg_error *err)
+{
+    const char *table = bgi_chain_kinds[k];
+    if (strcmp(table, "artifact") != 0 || c->chain_ncol[k] != 0) { /* prepared already */
+        snprintf(sql, size, "SELECT * FROM %s WHERE rowid = ?1", table);
+        return BG_OK;
+    }
+    sqlite3_stmt *q = NULL;
+    int rc = bgi_prepare(c, "SELECT group_concat(CASE WHEN name = 'content' THEN "
+                         "'typeof(content) AS content' ELSE '\"' || name || '\"' END, ', ') "
+                         "FROM pragma_table_info('artifact')", &q, err);
+    if (rc != BG_OK)
+        return rc;
+    const char *cols = sqlite3_step(q) == SQLITE_ROW ? (const char *)sqlite3_column_text(q, 0)
+                                                     : NULL;
+    if (!cols || (size_t)snprintf(sql, size, "SELECT %s FROM artifact WHERE rowid = ?1", cols)
+        >= size)
+        rc = bg_error_set(err, BG_EINTERNAL, "cannot list the columns of the artifact table");
+    sqlite3_finalize(q);
+    return rc;
 }
 
 /* A statement over one table's rows, its columns in name order (kept on the connection). */
@@ -81,13 +158,13 @@ static int row_stmt(bgi_conn *c, int which, const char *sql, sqlite3_stmt **q, b
 static int record_hash(bgi_conn *c, int k, long long id, const char prev[65], char hex[65],
                        bg_error *err)
 {
-    char sql[96];
+    char sql[1024];
     sqlite3_stmt *q;
     struct bgi_sha256 h;
     unsigned char d[32];
     int rc, s;
-    snprintf(sql, sizeof sql, "SELECT * FROM %s WHERE rowid = ?1", bgi_chain_kinds[k]);
-    if ((rc = row_stmt(c, k, sql, &q, err)) != BG_OK)
+    if ((rc = row_sql(c, k, sql, sizeof sql, err)) != BG_OK ||
+        (rc = row_stmt(c, k, sql, &q, err)) != BG_OK)
         return rc;
     sqlite3_bind_int64(q, 1, id);
     if ((s = sqlite3_step(q)) != SQLITE_ROW) {
@@ -97,8 +174,12 @@ static int record_hash(bgi_conn *c, int k, long long id, const char prev[65], ch
                                 : bgi_db_fail(c, err, "cannot read a record");
     }
     bgi_chain_start(&h, prev, bgi_chain_kinds[k], id);
-    put_row(&h, q, c->chain_order[k], c->chain_ncol[k]);
+    struct streamed sc = { c->db, bgi_chain_kinds[k], "content", id };
+    rc = put_row(&h, q, c->chain_order[k], c->chain_ncol[k],
+                 strcmp(bgi_chain_kinds[k], "artifact") == 0 ? &sc : NULL, err);
     sqlite3_reset(q);
+    if (rc != BG_OK)
+        return rc;
     if (strcmp(bgi_chain_kinds[k], "run") == 0) {
         /* the run's readings through its id range (first_reading, nreadings: the run's own
         ** row, hashed above) rather than a scan of the whole table, which has no index on
@@ -110,7 +191,9 @@ static int record_hash(bgi_conn *c, int k, long long id, const char prev[65], ch
         sqlite3_bind_int64(q, 1, id);
         while ((s = sqlite3_step(q)) == SQLITE_ROW) {
             bgi_chain_reading(&h);
-            put_row(&h, q, c->chain_order[BGI_CHAIN_KINDS], c->chain_ncol[BGI_CHAIN_KINDS]);
+            /* no streamed column: cannot fail */
+            (void)put_row(&h, q, c->chain_order[BGI_CHAIN_KINDS],
+                          c->chain_ncol[BGI_CHAIN_KINDS], NULL, NULL);
         }
         sqlite3_reset(q);
         if (s != SQLITE_DONE)

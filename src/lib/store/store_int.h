@@ -291,6 +291,9 @@ void bgi_chain_start(struct bgi_sha256 *h, const char prev[65], const char *kind
 void bgi_chain_int(struct bgi_sha256 *h, const char *name, long long v);
 void bgi_chain_real(struct bgi_sha256 *h, const char *name, double v);
 void bgi_chain_bytes(struct bgi_sha256 *h, const char *name, int text, const void *p, size_t n);
+/* The same encoding of 'n' bytes given in pieces: the head, then the bytes (bgi_sha256_update),
+** then "\n". */
+void bgi_chain_bytes_head(struct bgi_sha256 *h, const char *name, int text, size_t n);
 void bgi_chain_reading(struct bgi_sha256 *h);
 /* The verification walk's judgement of one record, the same on every backend: record 'seq'
 ** (the chain's 'kind' and 'row_id', its stored hash 'stored') after the records that verified
